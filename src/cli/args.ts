@@ -1,0 +1,88 @@
+import { InputError } from '../common/errors.ts';
+
+/** One option of a subcommand. Names are written without the leading dashes. */
+export interface OptionSpec {
+  name: string;
+  kind: 'number' | 'string' | 'flag';
+  help: string;
+  /** Shown in help; the command applies its own defaults. */
+  defaultText?: string;
+}
+
+export interface ParsedArgs {
+  positionals: string[];
+  options: Map<string, string | boolean>;
+}
+
+/** Options every subcommand takes. */
+export const COMMON_OPTIONS: OptionSpec[] = [
+  { name: 'json', kind: 'flag', help: 'print one JSON document instead of a table' },
+  { name: 'csv', kind: 'string', help: 'also write a CSV summary (one row per image) to this file' },
+  { name: 'help', kind: 'flag', help: 'show this help' },
+];
+
+/**
+ * Parses `--name value`, `--name=value` and `--flag`. Anything unknown is an InputError naming it,
+ * so a typo never silently falls back to a default.
+ */
+export function parseArgs(argv: string[], specs: OptionSpec[]): ParsedArgs {
+  const byName = new Map(specs.map((s) => [s.name, s]));
+  const positionals: string[] = [];
+  const options = new Map<string, string | boolean>();
+  for (let i = 0; i < argv.length; i++) {
+    const arg = argv[i];
+    if (!arg.startsWith('--') || arg === '--') {
+      positionals.push(arg);
+      continue;
+    }
+    const eq = arg.indexOf('=');
+    const name = eq > 0 ? arg.slice(2, eq) : arg.slice(2);
+    const spec = byName.get(name);
+    if (!spec) {
+      throw new InputError(`unknown option --${name}`, 'Run the subcommand with --help to see its options');
+    }
+    if (spec.kind === 'flag') {
+      if (eq > 0) throw new InputError(`option --${name} takes no value`);
+      options.set(name, true);
+      continue;
+    }
+    let value: string | undefined;
+    if (eq > 0) value = arg.slice(eq + 1);
+    else {
+      value = argv[i + 1];
+      i++;
+    }
+    if (value === undefined || (value.startsWith('--') && spec.kind !== 'number')) {
+      throw new InputError(`option --${name} needs a value`);
+    }
+    if (spec.kind === 'number' && !Number.isFinite(Number(value))) {
+      throw new InputError(`option --${name} needs a number, got "${value}"`);
+    }
+    options.set(name, value);
+  }
+  return { positionals, options };
+}
+
+export function numberOpt(a: ParsedArgs, name: string): number | undefined {
+  const v = a.options.get(name);
+  return typeof v === 'string' ? Number(v) : undefined;
+}
+
+export function stringOpt(a: ParsedArgs, name: string): string | undefined {
+  const v = a.options.get(name);
+  return typeof v === 'string' ? v : undefined;
+}
+
+export function flagOpt(a: ParsedArgs, name: string): boolean {
+  return a.options.get(name) === true;
+}
+
+/** Parses a comma-separated list of numbers such as "0,22.5,45,67.5". */
+export function numberList(text: string, what: string): number[] {
+  const parts = text.split(',').map((s) => s.trim());
+  const nums = parts.map(Number);
+  if (parts.length === 0 || nums.some((n, i) => parts[i] === '' || !Number.isFinite(n))) {
+    throw new InputError(`${what} must be numbers separated by commas, got "${text}"`);
+  }
+  return nums;
+}

@@ -1,0 +1,81 @@
+import { writeFile } from 'node:fs/promises';
+import { isInputError } from '../common/errors.ts';
+import { COMMON_OPTIONS, parseArgs, flagOpt, stringOpt } from './args.ts';
+import type { Command } from './command.ts';
+import { COMMANDS } from './commands/index.ts';
+import { toCsv } from '../report/csv.ts';
+
+/** Exit status: 0 success, 2 bad input or options, 1 internal fault (conventions.md). */
+export async function main(argv: string[], out = process.stdout, err = process.stderr): Promise<number> {
+  const [name, ...rest] = argv;
+  if (!name || name === '--help' || name === 'help' || name === '-h') {
+    out.write(topHelp());
+    return name ? 0 : 2;
+  }
+  if (name === '--version') {
+    out.write('retarda 0.1.0\n');
+    return 0;
+  }
+  const cmd = COMMANDS.find((c) => c.name === name);
+  if (!cmd) {
+    err.write(`retarda: unknown subcommand "${name}". Run "retarda --help" for the list.\n`);
+    return 2;
+  }
+  try {
+    const args = parseArgs(rest, [...cmd.options, ...COMMON_OPTIONS]);
+    if (flagOpt(args, 'help')) {
+      out.write(commandHelp(cmd));
+      return 0;
+    }
+    const result = await cmd.run(args);
+    const csvPath = stringOpt(args, 'csv');
+    if (csvPath) await writeFile(csvPath, toCsv(result.csvRows ?? []));
+    if (flagOpt(args, 'json')) out.write(JSON.stringify(result.json, null, 2) + '\n');
+    else {
+      out.write(result.table + '\n');
+      for (const w of result.warnings ?? []) err.write(`warning: ${w}\n`);
+    }
+    return 0;
+  } catch (e) {
+    if (isInputError(e)) {
+      err.write(`retarda ${name}: ${oneLine((e as Error).message)}\n`);
+      return 2;
+    }
+    err.write(`retarda ${name}: internal fault: ${oneLine(e instanceof Error ? e.message : String(e))}\n`);
+    if (process.env.RETARDA_DEBUG && e instanceof Error) err.write(`${e.stack}\n`);
+    return 1;
+  }
+}
+
+const oneLine = (s: string) => s.replace(/\s*\n\s*/g, ' ');
+
+function topHelp(): string {
+  const w = Math.max(...COMMANDS.map((c) => c.name.length));
+  return [
+    'retarda: alignment numbers from polarised-light microscope images',
+    '',
+    'usage: retarda SUBCOMMAND [options]   (retarda SUBCOMMAND --help for its options)',
+    '',
+    ...COMMANDS.map((c) => `  ${c.name.padEnd(w)}  ${c.summary}`),
+    '',
+    'Every subcommand prints a table, or one JSON document with --json. Exit status 0 ok, 2 bad input, 1 fault.',
+    '',
+  ].join('\n');
+}
+
+function commandHelp(cmd: Command): string {
+  const opts = [...cmd.options, ...COMMON_OPTIONS];
+  const w = Math.max(...opts.map((o) => o.name.length + (o.kind === 'flag' ? 0 : 4)));
+  return [
+    `usage: retarda ${cmd.name} ${cmd.usage}`,
+    '',
+    cmd.summary,
+    '',
+    ...opts.map((o) => {
+      const head = o.kind === 'flag' ? `--${o.name}` : `--${o.name} ${o.kind === 'number' ? 'N' : 'S'}`;
+      const def = o.defaultText ? ` (default ${o.defaultText})` : '';
+      return `  ${head.padEnd(w + 2)}  ${o.help}${def}`;
+    }),
+    '',
+  ].join('\n');
+}

@@ -1,0 +1,4 @@
+export { InputError, isInputError, checkNumber } from './errors.ts';
+export { DEG, degToRad, radToDeg, wrapAxialDeg, wrapAxialRad, axialDiffDeg } from './angles.ts';
+export type { Plane } from './plane.ts';
+export { makePlane } from './plane.ts';
