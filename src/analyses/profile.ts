@@ -1,0 +1,52 @@
+import { toGrey, type Image } from '../image/types.ts';
+import { InputError } from '../common/errors.ts';
+import type { OrientationField } from '../orientation/index.ts';
+import { channelProfile, findWalls, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
+import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
+
+export interface ProfileRequest extends ProfileOptions {
+  /** Walls given by the user; omit with autoWalls = true to find them. */
+  channel?: Channel;
+  autoWalls?: boolean;
+}
+
+export interface ProfileResult extends ResultHead, Omit<ChannelProfile, 'warnings' | 'options'> {
+  analysis: 'profile';
+  /** Which reader made the orientation field: texture, plate, plate-pair, four-angle. */
+  fieldMethod: OrientationField['method'];
+  walls: Channel['walls'];
+  wallsFound: boolean;
+  options: Record<string, unknown>;
+}
+
+/** Walls from the request, or found in the image; an InputError when neither is possible. */
+export async function resolveChannel(img: Image, req: ProfileRequest): Promise<{ channel: Channel; found: boolean }> {
+  if (req.channel && req.autoWalls) throw new InputError('give walls or ask for them to be found, not both');
+  if (req.channel) return { channel: req.channel, found: false };
+  if (req.autoWalls) return { channel: (await findWalls(toGrey(img))).channel, found: true };
+  throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
+}
+
+/** S across a channel from any orientation field (texture, plate, plate pair, four-angle). */
+export async function analyseProfile(img: Image, field: OrientationField, req: ProfileRequest, fieldOptions: Record<string, unknown> = {}): Promise<ProfileResult> {
+  const { channel, found } = await resolveChannel(img, req);
+  const p = channelProfile(field, channel, req);
+  const { warnings, options, ...rest } = p;
+  return {
+    schemaVersion: SCHEMA_VERSION, analysis: 'profile', source: img.source.name, width: img.width, height: img.height,
+    pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
+    ...rest, fieldMethod: field.method, walls: channel.walls, wallsFound: found,
+    options: { ...fieldOptions, ...field.options, ...options },
+    warnings: [...warnings, ...ambiguityWarning(field, p.axisDeg)],
+  };
+}
+
+/** Plate fields cannot tell theta from its mirror about the compensator axis; say what that means here. */
+function ambiguityWarning(f: OrientationField, axisDeg: number): string[] {
+  if (f.ambiguity === 'mod-90') return ['the four-angle field cannot tell an axis from the one at 90 deg to it; S_axis signs assume the stated resolution'];
+  if (f.ambiguity === 'mirror-about-compensator' && f.ambiguityAxisDeg !== undefined) {
+    const d = Math.abs(((axisDeg - f.ambiguityAxisDeg + 90) % 180 + 180) % 180 - 90);
+    if (d > 1 && d < 89) return [`one plate image fixes orientation only up to a mirror about the compensator axis (${f.ambiguityAxisDeg} deg); the reference axis is ${d.toFixed(0)} deg from it, so S_axis rests on the assumption stated in the field options`];
+  }
+  return [];
+}

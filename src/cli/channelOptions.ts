@@ -1,0 +1,76 @@
+import type { Image } from '../image/types.ts';
+import type { OrientationField } from '../orientation/index.ts';
+import { parseWalls } from '../channel/index.ts';
+import { analyseProfile, type ProfileRequest, type ProfileResult } from '../analyses/index.ts';
+import { checkWeighting } from '../order/index.ts';
+import { flagOpt, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from './args.ts';
+import { formatTable, formatPairs } from './format.ts';
+
+/** Channel options shared by every command that can give an S profile across a channel. */
+export const CHANNEL_OPTIONS: OptionSpec[] = [
+  { name: 'walls', kind: 'string', help: 'two wall segments in pixels: "x1,y1,x2,y2;x3,y3,x4,y4" (s = -1 at the first)' },
+  { name: 'auto-walls', kind: 'flag', help: 'find the walls as the two strongest long straight edges' },
+  { name: 'bins', kind: 'number', help: 'bins across the width', defaultText: '20' },
+  { name: 'stations', kind: 'number', help: 'stations along the channel', defaultText: '1' },
+  { name: 'axis-deg', kind: 'number', help: 'reference axis for S, degrees CCW from +x', defaultText: 'the channel axis' },
+  { name: 'core-max', kind: 'number', help: 'core band |s| < this', defaultText: '0.5' },
+  { name: 'skin-min', kind: 'number', help: 'skin band |s| > this', defaultText: '0.8' },
+  { name: 'weighting', kind: 'string', help: 'pixel weights: none, confidence, energy, energy-confidence', defaultText: 'confidence' },
+  { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '3 x sigma' },
+];
+
+/** The profile request the options describe, or null when no channel was asked for. */
+export function profileRequestFrom(a: ParsedArgs): ProfileRequest | null {
+  const walls = stringOpt(a, 'walls');
+  const auto = flagOpt(a, 'auto-walls');
+  if (!walls && !auto) return null;
+  const weighting = stringOpt(a, 'weighting');
+  return {
+    channel: walls ? parseWalls(walls) : undefined,
+    autoWalls: auto,
+    bins: numberOpt(a, 'bins'),
+    stations: numberOpt(a, 'stations'),
+    axisDeg: numberOpt(a, 'axis-deg'),
+    coreMax: numberOpt(a, 'core-max'),
+    skinMin: numberOpt(a, 'skin-min'),
+    weighting: weighting ? checkWeighting(weighting) : undefined,
+    blockPx: numberOpt(a, 'block-px'),
+  };
+}
+
+/** Runs the channel profile when the options ask for one; null otherwise. */
+export async function channelProfileOutput(img: Image, field: OrientationField, a: ParsedArgs, fieldOptions: Record<string, unknown> = {}): Promise<ProfileResult | null> {
+  const req = profileRequestFrom(a);
+  return req ? analyseProfile(img, field, req, fieldOptions) : null;
+}
+
+const ci = (lo: number, hi: number) => `${lo.toFixed(3)}..${hi.toFixed(3)}`;
+
+export function profileTable(r: ProfileResult): string {
+  const head = formatPairs([
+    ['image', r.source],
+    ['field', r.fieldMethod],
+    ['walls', `${r.wallsFound ? 'found' : 'given'}: ${r.walls.map((w) => [w.x1, w.y1, w.x2, w.y2].map((v) => v.toFixed(1)).join(',')).join(';')}`],
+    ['axis deg', r.axisDeg],
+    ['taper deg', r.taperDeg],
+    ['core S (95% CI)', `${r.core.order.toFixed(3)} (${ci(r.core.ciLow, r.core.ciHigh)}) n=${r.core.n}`],
+    ['skin S (95% CI)', `${r.skin.order.toFixed(3)} (${ci(r.skin.ciLow, r.skin.ciHigh)}) n=${r.skin.n}`],
+    ['core/skin', `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])})`],
+  ]);
+  const rows = r.bins.map((b) => [b.s, b.order, b.ciLow, b.ciHigh, b.n, b.directorDeg]);
+  const stationLines = r.stations.length > 1
+    ? '\n\n' + formatTable(['station', 'from px', 'to px', 'width px', 'core S', 'skin S', 'core/skin'],
+      r.stations.map((s) => [s.station, s.alongFromPx, s.alongToPx, s.widthPx, s.core.order, s.skin.order, s.coreSkinRatio]))
+    : '';
+  return `${head}\n\n${formatTable(['s', 'S_axis', 'ci low', 'ci high', 'n', 'director deg'], rows)}${stationLines}`;
+}
+
+export function profileCsvRow(r: ProfileResult): Record<string, string | number | null> {
+  return {
+    image: r.source, field: r.fieldMethod, axisDeg: r.axisDeg, taperDeg: r.taperDeg,
+    coreOrder: r.core.order, coreCiLow: r.core.ciLow, coreCiHigh: r.core.ciHigh, coreN: r.core.n,
+    skinOrder: r.skin.order, skinCiLow: r.skin.ciLow, skinCiHigh: r.skin.ciHigh, skinN: r.skin.n,
+    coreSkinRatio: r.coreSkinRatio, coreSkinRatioCiLow: r.coreSkinRatioCi[0], coreSkinRatioCiHigh: r.coreSkinRatioCi[1],
+    coreMax: r.options.coreMax as number, skinMin: r.options.skinMin as number, weighting: String(r.options.weighting),
+  };
+}

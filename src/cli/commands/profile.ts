@@ -1,0 +1,37 @@
+import { analyseOrientation, type ProfileResult } from '../../analyses/index.ts';
+import { InputError } from '../../common/errors.ts';
+import { stringOpt } from '../args.ts';
+import type { Command } from '../command.ts';
+import { loadImageFiles } from '../io.ts';
+import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
+import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileTable } from '../channelOptions.ts';
+import { TEXTURE_OPTIONS, textureOptionsFrom } from './orient.ts';
+
+export const profileCommand: Command = {
+  name: 'profile',
+  summary: 'order parameter S across a channel or fibre (bins, stations, core and skin) from the texture field',
+  usage: 'IMAGE... (--walls "x1,y1,x2,y2;x3,y3,x4,y4" | --auto-walls) [--bins 20] [--stations 1] [--axis-deg A] [--json]',
+  options: [...CHANNEL_OPTIONS, ...TEXTURE_OPTIONS],
+  async run(a) {
+    if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
+    if (!stringOpt(a, 'walls') && !a.options.has('auto-walls')) {
+      throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
+    }
+    const images = await loadImageFiles(a.positionals);
+    const texture = textureOptionsFrom(a);
+    const fieldOut = stringOpt(a, 'field-out');
+    const results: ProfileResult[] = [];
+    for (const img of images) {
+      const { field } = await analyseOrientation(img, texture);
+      if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda profile ${img.source.name}`);
+      const r = await channelProfileOutput(img, field, a);
+      if (r) results.push(r);
+    }
+    return {
+      json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'profile', results },
+      table: results.map(profileTable).join('\n\n'),
+      csvRows: results.map(profileCsvRow),
+      warnings: results.flatMap((r) => r.warnings.map((w) => `${r.source}: ${w}`)),
+    };
+  },
+};

@@ -1,0 +1,7 @@
+export type { Weighting } from './accumulate.ts';
+export { accumulateBlocks, pixelWeight, WEIGHTINGS } from './accumulate.ts';
+export type { BlockSums, Moments, BootstrapOptions } from './blocks.ts';
+export { axisOrderOf, freeOrderOf, totalMoments, bootstrapReplicates, percentileInterval, liveBlocks } from './blocks.ts';
+export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';
+export { orderParameters, statFromBlocks, defaultBlockPx, checkWeighting } from './orderParameters.ts';
+export { seededRandom } from './random.ts';

@@ -1,0 +1,107 @@
+import { InputError, checkNumber } from '../common/errors.ts';
+import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
+import type { OrientationField } from '../orientation/types.ts';
+import { accumulateBlocks, WEIGHTINGS, type Weighting } from './accumulate.ts';
+import {
+  axisOrderOf, bootstrapReplicates, freeOrderOf, liveBlocks, percentileInterval, totalMoments,
+  type BlockSums, type BootstrapOptions,
+} from './blocks.ts';
+
+/** An average with its 95 % interval and the number of pixels behind it. */
+export interface OrderStat {
+  order: number;
+  ciLow: number;
+  ciHigh: number;
+  n: number;
+}
+
+export interface OrderOptions extends BootstrapOptions {
+  /** Weight per pixel; default 'confidence' (coherency for texture fields). */
+  weighting?: Weighting;
+  /** Reference axis for S_axis in degrees (CCW on screen). Omit for the free order only. */
+  axisDeg?: number;
+  /** Bootstrap block side in px; default 3 x the field's integration sigma (at least 4 px). */
+  blockPx?: number;
+  /** Extra region mask (1 = inside); default the whole field. */
+  region?: Uint8Array;
+}
+
+export interface OrderSummary {
+  /** S_2D = |<exp 2i theta>|, in [0, 1]. */
+  order2D: OrderStat;
+  /** Director 1/2 arg <exp 2i theta>, degrees in (-90, 90]. */
+  directorDeg: number;
+  /** S_axis = <cos 2(theta - axis)> when an axis was given. */
+  axisOrder: OrderStat | null;
+  axisDeg: number | null;
+  /** Mean coherency (confidence) over the usable pixels, unweighted. */
+  coherencyMean: number;
+  /** Expected S_2D of the same number of independent isotropic samples, sqrt(pi / 4 nEff) (domain.md §5). */
+  isotropicBias: number;
+  n: number;
+  blocks: number;
+  blockPx: number;
+  weighting: Weighting;
+}
+
+export function defaultBlockPx(f: OrientationField): number {
+  const sigma = typeof f.options.sigmaPx === 'number' ? f.options.sigmaPx : 2;
+  return Math.max(4, Math.round(3 * sigma));
+}
+
+export function checkWeighting(w: string): Weighting {
+  if (!(WEIGHTINGS as string[]).includes(w)) {
+    throw new InputError(`weighting "${w}" is not known`, `Use one of ${WEIGHTINGS.join(', ')}`);
+  }
+  return w as Weighting;
+}
+
+/** Statistic and block-bootstrap interval from block sums. */
+export function statFromBlocks(b: BlockSums, stat: (m: ReturnType<typeof totalMoments>) => number, o: BootstrapOptions): OrderStat {
+  const m = totalMoments(b);
+  const [lo, hi] = percentileInterval(bootstrapReplicates(b, stat, o));
+  return { order: stat(m), ciLow: lo, ciHigh: hi, n: m.n };
+}
+
+/**
+ * Order parameters of a whole field (or region): free 2D order and director, and axis-referenced
+ * order if an axis is given (conventions.md, Order parameters).
+ */
+export function orderParameters(f: OrientationField, options: OrderOptions = {}): OrderSummary {
+  const weighting = checkWeighting(options.weighting ?? 'confidence');
+  const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(f), 1, 4096, 'px');
+  if (options.axisDeg !== undefined) checkNumber('axis angle', options.axisDeg, -360, 360, 'deg');
+  const n = f.width * f.height;
+  if (options.region && options.region.length !== n) throw new InputError('region mask size does not match the field');
+  const groups = new Int32Array(n);
+  let cohSum = 0, cohN = 0;
+  for (let i = 0; i < n; i++) {
+    const inside = f.mask[i] && (!options.region || options.region[i]);
+    groups[i] = inside ? 0 : -1;
+    if (inside) { cohSum += f.confidence[i]; cohN++; }
+  }
+  const [free] = accumulateBlocks(f, { groups, groupCount: 1, refRad: 0, blockPx, weighting });
+  const m = totalMoments(free);
+  const order2D = statFromBlocks(free, freeOrderOf, options);
+  const directorDeg = m.w > 0 ? wrapAxialDeg(radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN;
+  let axisOrder: OrderStat | null = null;
+  if (options.axisDeg !== undefined) {
+    const [ref] = accumulateBlocks(f, { groups, groupCount: 1, refRad: degToRad(options.axisDeg), blockPx, weighting });
+    axisOrder = statFromBlocks(ref, axisOrderOf, options);
+  }
+  const blocks = liveBlocks(free);
+  const nEff = Math.max(1, effectiveSamples(free));
+  return {
+    order2D, directorDeg, axisOrder, axisDeg: options.axisDeg ?? null,
+    coherencyMean: cohN > 0 ? cohSum / cohN : NaN,
+    isotropicBias: Math.sqrt(Math.PI / (4 * nEff)),
+    n: m.n, blocks, blockPx, weighting,
+  };
+}
+
+/** Kish effective sample size of the block weights (each block counted as one correlated unit). */
+function effectiveSamples(b: BlockSums): number {
+  let s = 0, s2 = 0;
+  for (let i = 0; i < b.w.length; i++) { s += b.w[i]; s2 += b.w[i] * b.w[i]; }
+  return s2 > 0 ? (s * s) / s2 : 0;
+}

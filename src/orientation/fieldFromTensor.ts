@@ -1,0 +1,73 @@
+import { checkNumber } from '../common/errors.ts';
+import type { TensorField } from './structureTensor.ts';
+import type { OrientationField } from './types.ts';
+
+export interface MaskOptions {
+  /**
+   * Pixels whose tensor energy (Jxx + Jyy) is below this fraction of the 99th-percentile energy are
+   * masked as background. Default 0.02; 0 keeps every pixel with any gradient.
+   */
+  energyFloor?: number;
+  /** Pixels with coherency below this are masked. Default 0 (keep; coherency still weights averages). */
+  coherencyMin?: number;
+}
+
+/** Largest float32 not above pi/2: float32(pi/2) itself rounds up to just over 90 deg. */
+export const HALF_PI_F32 = 1.5707962513;
+
+export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
+
+/**
+ * Orientation along the structure, theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen
+ * from +x with y = row (the stripe direction, 90 deg from the gradient); coherency
+ * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
+ * tutorial); energy = Jxx + Jyy. `intensityScale` is the largest |I| of the image, for the absolute
+ * energy floor.
+ */
+export function fieldFromTensor(
+  t: TensorField, options: MaskOptions = {}, extraOptions: Record<string, unknown> = {}, intensityScale = 1,
+): OrientationField {
+  const o = { ...MASK_DEFAULTS, ...options };
+  checkNumber('energy floor', o.energyFloor, 0, 1);
+  checkNumber('minimum coherency', o.coherencyMin, 0, 1);
+  const n = t.width * t.height;
+  const angleRad = new Float32Array(n), confidence = new Float32Array(n), energy = new Float32Array(n);
+  const mask = new Uint8Array(n);
+  for (let i = 0; i < n; i++) {
+    const a = t.jxx[i], b = t.jxy[i], c = t.jyy[i];
+    const e = a + c;
+    const d = c - a;
+    energy[i] = e;
+    // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
+    const half = 0.5 * Math.atan2(2 * b, d);
+    angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
+    confidence[i] = e > 0 ? Math.min(1, Math.sqrt(d * d + 4 * b * b) / e) : 0;
+  }
+  // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
+  const floor = Math.max(o.energyFloor * quantile(energy, 0.99), (1e-5 * intensityScale) ** 2);
+  let masked = 0;
+  for (let i = 0; i < n; i++) {
+    const ok = energy[i] > floor && energy[i] > 0 && confidence[i] >= o.coherencyMin;
+    mask[i] = ok ? 1 : 0;
+    if (!ok) masked++;
+  }
+  const warnings: string[] = [];
+  if (masked === n) warnings.push('every pixel was masked: the image has no texture above the energy floor');
+  else if (masked > 0.9 * n) warnings.push(`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or low energy`);
+  return {
+    width: t.width, height: t.height, angleRad, confidence, mask, energy,
+    method: 'texture', ambiguity: 'none',
+    options: { ...extraOptions, energyFloor: o.energyFloor, coherencyMin: o.coherencyMin },
+    warnings,
+  };
+}
+
+/** Quantile from a strided sample (at most ~1e5 values), enough for a threshold. */
+export function quantile(v: Float32Array, q: number): number {
+  const step = Math.max(1, Math.floor(v.length / 100_000));
+  const s: number[] = [];
+  for (let i = 0; i < v.length; i += step) if (Number.isFinite(v[i])) s.push(v[i]);
+  if (s.length === 0) return 0;
+  s.sort((x, y) => x - y);
+  return s[Math.min(s.length - 1, Math.floor(q * (s.length - 1)))];
+}

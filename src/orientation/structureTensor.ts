@@ -1,0 +1,121 @@
+import { InputError, checkNumber } from '../common/errors.ts';
+import type { Plane } from '../common/plane.ts';
+import { loadCv, cvError, type CV } from '../cv/opencv.ts';
+import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
+
+/** The three smoothed components of the gradient structure tensor, per pixel. */
+export interface TensorField {
+  width: number;
+  height: number;
+  jxx: Float32Array;
+  jxy: Float32Array;
+  jyy: Float32Array;
+}
+
+export interface StructureTensorOptions {
+  /** Integration (outer) scale in px: the Gaussian window the gradient products are averaged over. Default 2. */
+  sigmaPx?: number;
+  /** Derivative (inner) scale in px for Gaussian derivatives. Default 1. */
+  sigmaDerivPx?: number;
+  /**
+   * 'gaussian' (default): derivatives of a Gaussian of sigmaDerivPx, which are isotropic enough for
+   * sub-degree work. 'sobel': the unnormalised 3x3 Sobel pair, as scikit-image's structure_tensor uses.
+   */
+  derivative?: 'gaussian' | 'sobel';
+  /** Images with more pixels than this are processed in overlapping tiles (bounded WASM memory). */
+  tilePixels?: number;
+}
+
+export const STRUCTURE_TENSOR_DEFAULTS = { sigmaPx: 2, sigmaDerivPx: 1, derivative: 'gaussian', tilePixels: 4_194_304 } as const;
+
+export function resolveTensorOptions(o: StructureTensorOptions = {}): Required<StructureTensorOptions> {
+  const r = { ...STRUCTURE_TENSOR_DEFAULTS, ...o };
+  checkNumber('sigma (integration scale)', r.sigmaPx, 0.3, 200, 'px');
+  checkNumber('derivative sigma', r.sigmaDerivPx, 0.3, 50, 'px');
+  if (r.derivative !== 'gaussian' && r.derivative !== 'sobel') {
+    throw new InputError(`derivative must be "gaussian" or "sobel", got "${String(r.derivative)}"`);
+  }
+  return r as Required<StructureTensorOptions>;
+}
+
+/** Halo a tile needs so its inner part equals the whole-image result (both kernels' radii). */
+export function tensorHaloPx(o: Required<StructureTensorOptions>): number {
+  const deriv = o.derivative === 'sobel' ? 1 : gaussianRadius(o.sigmaDerivPx);
+  return deriv + gaussianRadius(o.sigmaPx) + 1;
+}
+
+/**
+ * Gradient structure tensor J = G_sigma * (grad I grad I^T) (Bigun & Granlund 1987; OpenCV tutorial
+ * "Anisotropic image segmentation by a gradient structure tensor"). Borders are mirrored with the edge
+ * pixel repeated (scipy 'reflect' = OpenCV BORDER_REFLECT). y is the row index, downwards.
+ */
+export async function structureTensor(plane: Plane, options: StructureTensorOptions = {}): Promise<TensorField> {
+  const o = resolveTensorOptions(options);
+  const cv = await loadCv();
+  const { width, height } = plane;
+  if (width * height <= o.tilePixels) return tensorOnce(cv, plane, o);
+
+  // Large image: square tiles with a halo; only each tile's inner part is kept.
+  const out: TensorField = {
+    width, height,
+    jxx: new Float32Array(width * height), jxy: new Float32Array(width * height), jyy: new Float32Array(width * height),
+  };
+  const halo = tensorHaloPx(o);
+  const inner = Math.max(64, Math.floor(Math.sqrt(o.tilePixels)) - 2 * halo);
+  for (let y0 = 0; y0 < height; y0 += inner) {
+    for (let x0 = 0; x0 < width; x0 += inner) {
+      const x1 = Math.min(width, x0 + inner), y1 = Math.min(height, y0 + inner);
+      const tx0 = Math.max(0, x0 - halo), ty0 = Math.max(0, y0 - halo);
+      const tx1 = Math.min(width, x1 + halo), ty1 = Math.min(height, y1 + halo);
+      const tw = tx1 - tx0, th = ty1 - ty0;
+      const tile = new Float32Array(tw * th);
+      for (let y = 0; y < th; y++) tile.set(plane.data.subarray((ty0 + y) * width + tx0, (ty0 + y) * width + tx1), y * tw);
+      const t = tensorOnce(cv, { width: tw, height: th, data: tile }, o);
+      for (let y = y0; y < y1; y++) {
+        const src = (y - ty0) * tw + (x0 - tx0), dst = y * width + x0, n = x1 - x0;
+        out.jxx.set(t.jxx.subarray(src, src + n), dst);
+        out.jxy.set(t.jxy.subarray(src, src + n), dst);
+        out.jyy.set(t.jyy.subarray(src, src + n), dst);
+      }
+    }
+  }
+  return out;
+}
+
+function tensorOnce(cv: CV, plane: Plane, o: Required<StructureTensorOptions>): TensorField {
+  const { width, height } = plane;
+  const mats: { delete(): void }[] = [];
+  const keep = <T extends { delete(): void }>(m: T): T => (mats.push(m), m);
+  try {
+    const src = keep(new cv.Mat(height, width, cv.CV_32F));
+    src.data32F.set(plane.data);
+    const ix = keep(new cv.Mat()), iy = keep(new cv.Mat());
+    const border = cv.BORDER_REFLECT;
+    const anchor = new cv.Point(-1, -1);
+    if (o.derivative === 'sobel') {
+      cv.Sobel(src, ix, cv.CV_32F, 1, 0, 3, 1, 0, border);
+      cv.Sobel(src, iy, cv.CV_32F, 0, 1, 3, 1, 0, border);
+    } else {
+      const g = gaussianKernel(o.sigmaDerivPx), dg = gaussianDerivativeKernel(o.sigmaDerivPx);
+      const gM = keep(cv.matFromArray(g.length, 1, cv.CV_32F, Array.from(g)));
+      const dgM = keep(cv.matFromArray(dg.length, 1, cv.CV_32F, Array.from(dg)));
+      cv.sepFilter2D(src, ix, cv.CV_32F, dgM, gM, anchor, 0, border);
+      cv.sepFilter2D(src, iy, cv.CV_32F, gM, dgM, anchor, 0, border);
+    }
+    const xx = keep(new cv.Mat()), xy = keep(new cv.Mat()), yy = keep(new cv.Mat());
+    cv.multiply(ix, ix, xx);
+    cv.multiply(ix, iy, xy);
+    cv.multiply(iy, iy, yy);
+    const k = gaussianKernel(o.sigmaPx);
+    const kM = keep(cv.matFromArray(k.length, 1, cv.CV_32F, Array.from(k)));
+    // In-place separable smoothing of each product.
+    cv.sepFilter2D(xx, xx, cv.CV_32F, kM, kM, anchor, 0, border);
+    cv.sepFilter2D(xy, xy, cv.CV_32F, kM, kM, anchor, 0, border);
+    cv.sepFilter2D(yy, yy, cv.CV_32F, kM, kM, anchor, 0, border);
+    return { width, height, jxx: xx.data32F.slice(), jxy: xy.data32F.slice(), jyy: yy.data32F.slice() };
+  } catch (e) {
+    throw cvError(cv, e);
+  } finally {
+    for (const m of mats) m.delete();
+  }
+}

@@ -1,0 +1,31 @@
+/**
+ * A per-pixel orientation field: the shared result of every orientation reader (structure tensor,
+ * compensator plate, plate pair, four-angle set), so all of them feed the same order parameters,
+ * channel profiles and exports.
+ */
+export interface OrientationField {
+  width: number;
+  height: number;
+  /** Direction along the structure (the slow axis for optical readers), CCW as displayed, (-pi/2, pi/2]. */
+  angleRad: Float32Array;
+  /** Coherency for texture, match quality for plate, fit quality for four-angle; in [0, 1]. */
+  confidence: Float32Array;
+  /** 1 = usable pixel. */
+  mask: Uint8Array;
+  /** Optical readers: retardance per pixel in nm. */
+  retardanceNm?: Float32Array;
+  /** Texture reader: tensor energy Jxx + Jyy (used for masking and as weight). */
+  energy?: Float32Array;
+  method: 'texture' | 'plate' | 'plate-pair' | 'four-angle';
+  /**
+   * What the reader cannot tell apart: 'mirror-about-compensator' = theta vs (2*compensatorAxis - theta);
+   * 'mod-90' = theta vs theta + 90 deg.
+   */
+  ambiguity: 'none' | 'mirror-about-compensator' | 'mod-90';
+  /** Compensator slow-axis angle in degrees, for 'mirror-about-compensator'. */
+  ambiguityAxisDeg?: number;
+  pixelSizeUmPerPx?: number;
+  /** The options that produced the field, so the result can be re-run. */
+  options: Record<string, unknown>;
+  warnings: string[];
+}

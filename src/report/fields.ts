@@ -1,0 +1,22 @@
+import { radToDeg } from '../common/angles.ts';
+import type { OrientationField } from '../orientation/types.ts';
+
+export interface FieldPage { width: number; height: number; data: Float32Array; name: string }
+
+/**
+ * The quantities of a field as float pages for TIFF export: angleDeg (NaN where masked), confidence,
+ * and retardanceNm / energy when present, then the mask as 0/1.
+ */
+export function fieldPages(f: OrientationField): FieldPage[] {
+  const { width, height } = f;
+  const angle = new Float32Array(width * height);
+  for (let i = 0; i < angle.length; i++) angle[i] = f.mask[i] ? radToDeg(f.angleRad[i]) : NaN;
+  const pages: FieldPage[] = [
+    { width, height, data: angle, name: 'angleDeg' },
+    { width, height, data: f.confidence, name: f.method === 'texture' ? 'coherency' : 'confidence' },
+  ];
+  if (f.retardanceNm) pages.push({ width, height, data: f.retardanceNm, name: 'retardanceNm' });
+  if (f.energy) pages.push({ width, height, data: f.energy, name: 'energy' });
+  pages.push({ width, height, data: Float32Array.from(f.mask), name: 'mask' });
+  return pages;
+}

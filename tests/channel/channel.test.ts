@@ -1,0 +1,148 @@
+import { describe, it, expect } from 'vitest';
+import { channelFrame, channelProfile, findWalls, parseWalls, transverse, type Channel } from '../../src/channel/index.ts';
+import { InputError } from '../../src/common/errors.ts';
+import { fieldOf } from '../support/fields.ts';
+import { addNoise } from '../support/synthetic.ts';
+
+/** Rotates a point about (cx, cy) by a degrees counter-clockwise on screen (y down). */
+function rot(x: number, y: number, a: number, cx: number, cy: number): [number, number] {
+  const r = (a * Math.PI) / 180, dx = x - cx, dy = y - cy;
+  return [cx + dx * Math.cos(r) + dy * Math.sin(r), cy - dx * Math.sin(r) + dy * Math.cos(r)];
+}
+
+function rotatedChannel(a: number, cx: number, cy: number, halfWidth: number, halfLength: number): Channel {
+  const w = (s: number) => {
+    const [x1, y1] = rot(cx - halfLength, cy + s * halfWidth, a, cx, cy);
+    const [x2, y2] = rot(cx + halfLength, cy + s * halfWidth, a, cx, cy);
+    return { x1, y1, x2, y2 };
+  };
+  return { walls: [w(-1), w(1)] };
+}
+
+describe('channel geometry', () => {
+  it('parses walls and rejects malformed text with the expected format in the message', () => {
+    expect(parseWalls('0,10,100,10; 0,50,100,50').walls[1]).toEqual({ x1: 0, y1: 50, x2: 100, y2: 50 });
+    expect(() => parseWalls('0,10,100')).toThrow(/x1,y1,x2,y2;x3,y3,x4,y4/);
+    expect(() => parseWalls('a,b,c,d;1,2,3,4')).toThrow(InputError);
+  });
+
+  it('puts s = -1 on the first wall, +1 on the second and 0 midway, whichever way the walls are drawn', () => {
+    for (const ch of [parseWalls('0,10,100,10;0,50,100,50'), parseWalls('100,10,0,10;0,50,100,50')]) {
+      const f = channelFrame(ch);
+      expect(transverse(f, ch, 40, 10).s).toBeCloseTo(-1, 12);
+      expect(transverse(f, ch, 40, 50).s).toBeCloseTo(1, 12);
+      expect(transverse(f, ch, 70, 30).s).toBeCloseTo(0, 12);
+      expect(transverse(f, ch, 70, 30).width).toBeCloseTo(40, 12);
+      expect(f.axisDeg).toBeCloseTo(0, 12);
+    }
+  });
+
+  it('reports the axis angle counter-clockwise on screen (a channel rising to the right is positive)', () => {
+    const ch = rotatedChannel(30, 200, 200, 20, 80);
+    expect(channelFrame(ch).axisDeg).toBeCloseTo(30, 9);
+    expect(channelFrame(rotatedChannel(-50, 200, 200, 20, 80)).axisDeg).toBeCloseTo(-50, 9);
+  });
+
+  it('normalises s by the local width in a tapered channel (axis = wall bisector)', () => {
+    // Walls y = 10 + 0.1 x and y = 90 - 0.1 x: the bisector is horizontal; at x = 50 the walls are at
+    // y = 15 and 85 across the axis, so y = 50 is s = 0 and y = 32.5 is s = -0.5 (geometry).
+    const ch = parseWalls('0,10,100,20;0,90,100,80');
+    const f = channelFrame(ch);
+    expect(f.axisDeg).toBeCloseTo(0, 9);
+    expect(f.taperDeg).toBeCloseTo(2 * (Math.atan(0.1) * 180) / Math.PI, 9);
+    expect(transverse(f, ch, 50, 50).s).toBeCloseTo(0, 9);
+    expect(transverse(f, ch, 50, 32.5).s).toBeCloseTo(-0.5, 9);
+    expect(transverse(f, ch, 50, 32.5).width).toBeCloseTo(70, 9);
+  });
+
+  it('refuses walls that cannot bound one channel', () => {
+    expect(() => channelFrame(parseWalls('0,0,100,0;0,0,0,100'))).toThrow(/meet at 90 deg/);
+    expect(() => channelFrame(parseWalls('0,0,100,0;200,40,300,40'))).toThrow(/do not overlap/);
+    expect(() => channelFrame(parseWalls('0,0,1,0;0,40,100,40'))).toThrow(/shorter than 2 px/);
+  });
+});
+
+describe('channelProfile', () => {
+  // Field with phi(s) = 0 in |s| < 0.5 and 30 deg off the axis for |s| > 0.8, 15 deg between:
+  // S_axis = cos 2 phi, so core = 1, skin = cos 60 = 0.5, ratio 2 (trigonometry).
+  function skinCoreField(a: number) {
+    const ch = rotatedChannel(a, 150, 150, 50, 120);
+    const frame = channelFrame(ch);
+    const f = fieldOf(300, 300, (x, y) => {
+      const s = transverse(frame, ch, x, y).s;
+      const phi = Math.abs(s) < 0.5 ? 0 : Math.abs(s) > 0.8 ? 30 * Math.sign(s) : 15;
+      return a + phi;
+    });
+    return { f, ch };
+  }
+
+  for (const a of [0, 25, -70]) {
+    it(`gives core 1, skin 0.5 and ratio 2 for a channel at ${a} deg`, () => {
+      const { f, ch } = skinCoreField(a);
+      const p = channelProfile(f, ch, { bins: 20, replicates: 100 });
+      expect(p.axisDeg).toBeCloseTo(a, 6);
+      expect(p.core.order).toBeCloseTo(1, 5);
+      expect(p.skin.order).toBeCloseTo(0.5, 5);
+      expect(p.coreSkinRatio).toBeCloseTo(2, 4);
+      expect(p.bins).toHaveLength(20);
+      expect(p.bins[0].order).toBeCloseTo(0.5, 5);
+      expect(p.bins[10].order).toBeCloseTo(1, 5);
+      expect(p.bins[0].directorDeg).toBeCloseTo(((a - 30 + 90) % 180 + 180) % 180 - 90, 3);
+      for (const b of p.bins) {
+        expect(b.ciLow).toBeLessThanOrEqual(b.order + 1e-9);
+        expect(b.ciHigh).toBeGreaterThanOrEqual(b.order - 1e-9);
+        expect(b.n).toBeGreaterThan(0);
+      }
+    });
+  }
+
+  it('splits the channel into equal stations and reports each one', () => {
+    const { f, ch } = skinCoreField(0);
+    const p = channelProfile(f, ch, { bins: 10, stations: 4, replicates: 50 });
+    expect(p.stations).toHaveLength(4);
+    const lengths = p.stations.map((s) => s.alongToPx - s.alongFromPx);
+    expect(Math.max(...lengths) - Math.min(...lengths)).toBeLessThan(1e-9);
+    for (const s of p.stations) {
+      expect(s.widthPx).toBeCloseTo(100, 6);
+      expect(s.core.order).toBeCloseTo(1, 5);
+    }
+    expect(p.stations.reduce((t, s) => t + s.core.n, 0)).toBe(p.core.n);
+  });
+
+  it('rejects nonsense settings with a message naming them', () => {
+    const { f, ch } = skinCoreField(0);
+    expect(() => channelProfile(f, ch, { bins: 0 })).toThrow(/bins/);
+    expect(() => channelProfile(f, ch, { bins: 2.5 })).toThrow(/whole numbers/);
+    expect(() => channelProfile(f, ch, { coreMax: 0.9, skinMin: 0.8 })).toThrow(/overlaps/);
+  });
+});
+
+describe('findWalls', () => {
+  it('finds two tilted, slightly tapered walls to within a pixel and a fraction of a degree', async () => {
+    // Rendered scene: bright textured channel between dark walls; wall lines are the construction's
+    // ground truth (y = 120 + tan(8 deg) x - 0.02 x and y = 260 + tan(8 deg) x + 0.02 x in a y-up frame).
+    const W = 640, H = 480, t = Math.tan((8 * Math.PI) / 180);
+    const top = (x: number) => 120 + (t - 0.02) * x, bot = (x: number) => 300 + (t + 0.02) * x;
+    const data = new Float32Array(W * H);
+    for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) {
+      const yy = H - 1 - y; // y up for the construction, so the channel rises to the right on screen
+      const inside = yy > top(x) && yy < bot(x);
+      data[y * W + x] = inside ? 0.6 + 0.25 * Math.sin((2 * Math.PI * (x * 0.3 + yy)) / 5) : 0.15;
+    }
+    const found = await findWalls(addNoise({ width: W, height: H, data }, 0.05, 4));
+    const [w0, w1] = found.channel.walls;
+    const lineY = (s: typeof w0, x: number) => H - 1 - (s.y1 + ((s.y2 - s.y1) * (x - s.x1)) / (s.x2 - s.x1));
+    // The first wall in reading order is the upper one on screen, i.e. the larger y-up line.
+    for (const x of [100, 320, 540]) {
+      expect(Math.abs(lineY(w0, x) - bot(x))).toBeLessThan(1.5);
+      expect(Math.abs(lineY(w1, x) - top(x))).toBeLessThan(1.5);
+    }
+    const frame = channelFrame(found.channel);
+    expect(Math.abs(frame.axisDeg - (Math.atan(t) * 180) / Math.PI)).toBeLessThan(0.3);
+  });
+
+  it('says when there is no channel to find', async () => {
+    const flat = { width: 100, height: 80, data: new Float32Array(8000).fill(0.3) };
+    await expect(findWalls(flat)).rejects.toThrow(/flat/);
+  });
+});

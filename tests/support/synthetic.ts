@@ -1,0 +1,63 @@
+/**
+ * Analytic test images (not data): gratings, rings and seeded noise whose orientation is known by
+ * construction, as in the check tables of shared/domain.md §4.
+ */
+import type { Plane } from '../../src/common/plane.ts';
+
+/** Mulberry32; seeded so every run sees the same pixels. */
+export function rng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Standard normal samples (Box-Muller). */
+export function gaussian(rand: () => number): () => number {
+  return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
+}
+
+/** I(c, r) = sin(2 pi (c sin psi + r cos psi) / period): stripes running at psi CCW on screen. */
+export function grating(width: number, height: number, psiDeg: number, periodPx: number): Plane {
+  const p = (psiDeg * Math.PI) / 180;
+  const data = new Float32Array(width * height);
+  for (let r = 0; r < height; r++) {
+    for (let c = 0; c < width; c++) data[r * width + c] = Math.sin((2 * Math.PI * (c * Math.sin(p) + r * Math.cos(p))) / periodPx);
+  }
+  return { width, height, data };
+}
+
+export function rings(width: number, height: number, cx: number, cy: number, periodPx: number): Plane {
+  const data = new Float32Array(width * height);
+  for (let r = 0; r < height; r++) {
+    for (let c = 0; c < width; c++) data[r * width + c] = Math.cos((2 * Math.PI * Math.hypot(c - cx, r - cy)) / periodPx);
+  }
+  return { width, height, data };
+}
+
+export function addNoise(p: Plane, sd: number, seed: number): Plane {
+  const g = gaussian(rng(seed));
+  return { ...p, data: p.data.map((v) => v + sd * g()) };
+}
+
+export function noise(width: number, height: number, seed: number): Plane {
+  const g = gaussian(rng(seed));
+  return { width, height, data: Float32Array.from({ length: width * height }, g) };
+}
+
+export function median(v: number[]): number {
+  const s = [...v].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
+}
+
+/** Values of a per-pixel array in the central half of the image (domain.md's "central 128 x 128"). */
+export function central(a: ArrayLike<number>, width: number, height: number): number[] {
+  const out: number[] = [];
+  for (let r = height / 4; r < (3 * height) / 4; r++) for (let c = width / 4; c < (3 * width) / 4; c++) out.push(a[r * width + c]);
+  return out;
+}
