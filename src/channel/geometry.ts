@@ -76,6 +76,22 @@ function hitAlongNormal(f: ChannelFrame, s: Segment, px: number, py: number): nu
   return ((s.x1 - px) * dy - (s.y1 - py) * dx) / den;
 }
 
+/** A linear function of pixel position: value = c + cx x + cy y. */
+export interface Linear { c: number; cx: number; cy: number }
+
+/**
+ * The distances t0, t1 along the normal to each wall and the along-axis coordinate are linear in
+ * (x, y): returned as coefficients so per-pixel loops need only additions.
+ */
+export function transverseLinear(f: ChannelFrame, ch: Channel): { t0: Linear; t1: Linear; along: Linear } {
+  const lin = (s: Segment): Linear => {
+    const dx = s.x2 - s.x1, dy = s.y2 - s.y1;
+    const den = f.nx * dy - f.ny * dx;
+    return { c: (s.x1 * dy - s.y1 * dx) / den, cx: -dy / den, cy: dx / den };
+  };
+  return { t0: lin(ch.walls[0]), t1: lin(ch.walls[1]), along: { c: -(f.ox * f.ux + f.oy * f.uy), cx: f.ux, cy: f.uy } };
+}
+
 /**
  * Transverse coordinate of a point: the line through it along the normal meets wall 0 at t0 and
  * wall 1 at t1; s = -1 + 2 (0 - t0) / (t1 - t0). Also returns the local width in px.

@@ -5,7 +5,7 @@ import {
   accumulateBlocks, axisOrderOf, bootstrapReplicates, checkWeighting, defaultBlockPx, percentileInterval,
   statFromBlocks, totalMoments, type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
-import { channelFrame, transverse, type Channel, type ChannelFrame } from './geometry.ts';
+import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
 
 export interface ProfileOptions {
   /** Bins across the width, s from -1 to 1. Default 20. */
@@ -84,16 +84,19 @@ export function channelProfile(f: OrientationField, ch: Channel, options: Profil
   const binGroups = new Int32Array(width * height).fill(-1);
   const bandGroups = new Int32Array(width * height).fill(-1);
   const span = frame.alongMax - frame.alongMin;
+  const L = transverseLinear(frame, ch);
+  const sBins = bins / 2, sStations = stations / span;
   for (let y = 0; y < height; y++) {
-    for (let x = 0; x < width; x++) {
+    let t0 = L.t0.c + L.t0.cy * y, t1 = L.t1.c + L.t1.cy * y, al = L.along.c + L.along.cy * y;
+    for (let x = 0; x < width; x++, t0 += L.t0.cx, t1 += L.t1.cx, al += L.along.cx) {
       const i = y * width + x;
       if (!f.mask[i]) continue;
-      const t = transverse(frame, ch, x, y);
-      if (!(t.s >= -1 && t.s <= 1) || t.along < frame.alongMin || t.along > frame.alongMax) continue;
-      const st = Math.min(stations - 1, Math.floor(((t.along - frame.alongMin) / span) * stations));
-      const b = Math.min(bins - 1, Math.floor(((t.s + 1) / 2) * bins));
+      const s = -1 - (2 * t0) / (t1 - t0);
+      if (!(s >= -1 && s <= 1) || al < frame.alongMin || al > frame.alongMax) continue;
+      const st = Math.min(stations - 1, Math.floor((al - frame.alongMin) * sStations));
+      const b = Math.min(bins - 1, Math.floor((s + 1) * sBins));
       binGroups[i] = st * bins + b;
-      const a = Math.abs(t.s);
+      const a = Math.abs(s);
       bandGroups[i] = a < coreMax ? st * 2 : a > skinMin ? st * 2 + 1 : -1;
     }
   }
@@ -144,15 +147,17 @@ function bandStats(
       directorDeg: m.w > 0 ? wrapAxialDeg(axisDeg + radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN,
     };
   });
-  const coreStat = statFromBlocks(core, axisOrderOf, boot);
-  const skinStat = statFromBlocks(skin, axisOrderOf, boot);
-  const rc = bootstrapReplicates(core, axisOrderOf, { ...boot, seed: (boot.seed ?? 1) + 101 });
-  const rs = bootstrapReplicates(skin, axisOrderOf, { ...boot, seed: (boot.seed ?? 1) + 202 });
-  const ratio = rc.map((c, i) => c / rs[i]);
+  const band = (b: BlockSums, seed: number) => {
+    const m = totalMoments(b);
+    const rep = bootstrapReplicates(b, axisOrderOf, { ...boot, seed });
+    const [lo, hi] = percentileInterval(rep);
+    return { stat: { order: axisOrderOf(m), ciLow: lo, ciHigh: hi, n: m.n }, rep };
+  };
+  const c = band(core, (boot.seed ?? 1) + 101), s = band(skin, (boot.seed ?? 1) + 202);
   return {
-    bins: list, core: coreStat, skin: skinStat,
-    coreSkinRatio: coreStat.order / skinStat.order,
-    coreSkinRatioCi: percentileInterval(ratio),
+    bins: list, core: c.stat, skin: s.stat,
+    coreSkinRatio: c.stat.order / s.stat.order,
+    coreSkinRatioCi: percentileInterval(c.rep.map((v, i) => v / s.rep[i])),
   };
 }
 

@@ -40,6 +40,10 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const sn = new Uint32Array(cols * G);
   const lists = Array.from({ length: G }, () => ({ w: [] as number[], wc: [] as number[], ws: [] as number[], n: [] as number[] }));
   const cr = Math.cos(2 * o.refRad), sr = Math.sin(2 * o.refRad);
+  const c2 = f.cos2, s2 = f.sin2;
+  // Same rule as pixelWeight, with the per-pixel switch taken out of the loop.
+  const wConf = o.weighting === 'confidence' || o.weighting === 'energy-confidence' ? f.confidence : null;
+  const wEnergy = (o.weighting === 'energy' || o.weighting === 'energy-confidence') && f.energy ? f.energy : null;
   for (let by = 0; by < height; by += B) {
     const yEnd = Math.min(height, by + B);
     for (let y = by; y < yEnd; y++) {
@@ -48,10 +52,10 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
         const i = row + x;
         const g = o.groups[i];
         if (g < 0 || !f.mask[i]) continue;
-        const w = pixelWeight(f, i, o.weighting);
+        const w = (wConf ? wConf[i] : 1) * (wEnergy ? wEnergy[i] : 1);
         if (!(w > 0)) continue;
-        const t = 2 * f.angleRad[i];
-        const c = Math.cos(t), s = Math.sin(t);
+        let c: number, s: number;
+        if (c2) { c = c2[i]; s = s2![i]; } else { const t = 2 * f.angleRad[i]; c = Math.cos(t); s = Math.sin(t); }
         const k = g * cols + ((x / B) | 0);
         sw[k] += w;
         sc[k] += w * (c * cr + s * sr);

@@ -33,6 +33,8 @@ export interface BootstrapOptions {
   /** Resamples. Default 400. */
   replicates?: number;
   seed?: number;
+  /** Above this many blocks, neighbouring blocks are joined into larger units. Default 2000. */
+  maxBlocks?: number;
 }
 
 /**
@@ -43,14 +45,35 @@ export interface BootstrapOptions {
 export function bootstrapReplicates(b: BlockSums, stat: (m: Moments) => number, o: BootstrapOptions = {}): Float64Array {
   const R = o.replicates ?? 400;
   const rand = seededRandom(o.seed ?? 20261202);
+  const units = coarsen(b, o.maxBlocks ?? 2000);
+  const m = units.w.length;
+  const out = new Float64Array(R);
+  if (m === 0) return out.fill(NaN);
+  for (let r = 0; r < R; r++) {
+    let w = 0, wc = 0, ws = 0, n = 0;
+    for (let k = 0; k < m; k++) {
+      const i = Math.floor(rand() * m);
+      w += units.w[i]; wc += units.wc[i]; ws += units.ws[i]; n += units.n[i];
+    }
+    out[r] = stat({ w, wc, ws, n });
+  }
+  return out;
+}
+
+/**
+ * Joins runs of consecutive blocks into larger units when there are more than maxBlocks. Blocks are
+ * listed band by band, left to right, so a run is a horizontal strip of neighbours: a coarser block,
+ * still longer than the correlation length, which keeps the bootstrap valid and its cost bounded.
+ */
+function coarsen(b: BlockSums, maxBlocks: number): BlockSums {
   const live: number[] = [];
   for (let i = 0; i < b.w.length; i++) if (b.n[i] > 0) live.push(i);
-  const out = new Float64Array(R);
-  if (live.length === 0) return out.fill(NaN);
-  const pick = new Uint32Array(live.length);
-  for (let r = 0; r < R; r++) {
-    for (let k = 0; k < live.length; k++) pick[k] = live[Math.floor(rand() * live.length)];
-    out[r] = stat(totalMoments(b, pick));
+  const k = Math.max(1, Math.ceil(live.length / maxBlocks));
+  const m = Math.ceil(live.length / k);
+  const out: BlockSums = { w: new Float64Array(m), wc: new Float64Array(m), ws: new Float64Array(m), n: new Uint32Array(m) };
+  for (let j = 0; j < live.length; j++) {
+    const u = Math.floor(j / k), i = live[j];
+    out.w[u] += b.w[i]; out.wc[u] += b.wc[i]; out.ws[u] += b.ws[i]; out.n[u] += b.n[i];
   }
   return out;
 }

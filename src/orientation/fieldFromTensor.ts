@@ -32,22 +32,26 @@ export function fieldFromTensor(
   checkNumber('minimum coherency', o.coherencyMin, 0, 1);
   const n = t.width * t.height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), energy = new Float32Array(n);
+  const cos2 = new Float32Array(n), sin2 = new Float32Array(n);
   const mask = new Uint8Array(n);
+  const { jxx, jxy, jyy } = t;
   for (let i = 0; i < n; i++) {
-    const a = t.jxx[i], b = t.jxy[i], c = t.jyy[i];
-    const e = a + c;
-    const d = c - a;
+    const a = jxx[i], b2 = 2 * jxy[i], c = jyy[i];
+    const e = a + c, d = c - a;
+    const root = Math.sqrt(d * d + b2 * b2);
     energy[i] = e;
+    // (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root: no trigonometry needed for order parameters.
+    if (root > 0) { cos2[i] = d / root; sin2[i] = b2 / root; } else { cos2[i] = 1; sin2[i] = 0; }
     // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
-    const half = 0.5 * Math.atan2(2 * b, d);
+    const half = 0.5 * Math.atan2(b2, d);
     angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
-    confidence[i] = e > 0 ? Math.min(1, Math.sqrt(d * d + 4 * b * b) / e) : 0;
+    confidence[i] = e > 0 ? Math.min(1, root / e) : 0;
   }
   // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
   const floor = Math.max(o.energyFloor * quantile(energy, 0.99), (1e-5 * intensityScale) ** 2);
   let masked = 0;
   for (let i = 0; i < n; i++) {
-    const ok = energy[i] > floor && energy[i] > 0 && confidence[i] >= o.coherencyMin;
+    const ok = energy[i] > floor && confidence[i] >= o.coherencyMin;
     mask[i] = ok ? 1 : 0;
     if (!ok) masked++;
   }
@@ -55,19 +59,20 @@ export function fieldFromTensor(
   if (masked === n) warnings.push('every pixel was masked: the image has no texture above the energy floor');
   else if (masked > 0.9 * n) warnings.push(`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or low energy`);
   return {
-    width: t.width, height: t.height, angleRad, confidence, mask, energy,
+    width: t.width, height: t.height, angleRad, confidence, mask, energy, cos2, sin2,
     method: 'texture', ambiguity: 'none',
     options: { ...extraOptions, energyFloor: o.energyFloor, coherencyMin: o.coherencyMin },
     warnings,
   };
 }
 
-/** Quantile from a strided sample (at most ~1e5 values), enough for a threshold. */
+/** Quantile from a strided sample (at most ~20 000 values), enough for a threshold. */
 export function quantile(v: Float32Array, q: number): number {
-  const step = Math.max(1, Math.floor(v.length / 100_000));
-  const s: number[] = [];
-  for (let i = 0; i < v.length; i += step) if (Number.isFinite(v[i])) s.push(v[i]);
-  if (s.length === 0) return 0;
-  s.sort((x, y) => x - y);
-  return s[Math.min(s.length - 1, Math.floor(q * (s.length - 1)))];
+  const step = Math.max(1, Math.floor(v.length / 20_000));
+  const s = new Float32Array(Math.ceil(v.length / step));
+  let k = 0;
+  for (let i = 0; i < v.length; i += step) if (Number.isFinite(v[i])) s[k++] = v[i];
+  if (k === 0) return 0;
+  const t = s.subarray(0, k).sort();
+  return t[Math.min(k - 1, Math.floor(q * (k - 1)))];
 }

@@ -14,6 +14,12 @@ export interface OrientationField {
   mask: Uint8Array;
   /** Optical readers: retardance per pixel in nm. */
   retardanceNm?: Float32Array;
+  /**
+   * cos 2 theta and sin 2 theta, when the reader gets them without trigonometry (the structure tensor
+   * does): order parameters then need no per-pixel angle.
+   */
+  cos2?: Float32Array;
+  sin2?: Float32Array;
   /** Texture reader: tensor energy Jxx + Jyy (used for masking and as weight). */
   energy?: Float32Array;
   method: 'texture' | 'plate' | 'plate-pair' | 'four-angle';

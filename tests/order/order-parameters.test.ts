@@ -88,7 +88,8 @@ describe('orderParameters: sampling behaviour', () => {
     const rand = rng(8);
     const cells = Array.from({ length: 32 * 32 }, () => 60 * (rand() - 0.5));
     const f = fieldOf(256, 256, (x, y) => cells[(y >> 3) * 32 + (x >> 3)]);
-    const naive = orderParameters(f, { axisDeg: 0, blockPx: 1, weighting: 'none', replicates: 400 }).axisOrder!;
+    // maxBlocks: Infinity keeps single pixels as units, i.e. the naive independent-pixel interval.
+    const naive = orderParameters(f, { axisDeg: 0, blockPx: 1, weighting: 'none', replicates: 400, maxBlocks: Infinity }).axisOrder!;
     const blocked = orderParameters(f, { axisDeg: 0, blockPx: 8, weighting: 'none', replicates: 400 }).axisOrder!;
     const ratio = (blocked.ciHigh - blocked.ciLow) / (naive.ciHigh - naive.ciLow);
     expect(ratio).toBeGreaterThan(6);
