@@ -15,21 +15,13 @@ export interface AccumulateOptions {
   weighting: Weighting;
 }
 
-/** Per-pixel weight of an orientation sample under a weighting rule; 0 for masked pixels. */
-export function pixelWeight(f: OrientationField, i: number, weighting: Weighting): number {
-  if (!f.mask[i]) return 0;
-  switch (weighting) {
-    case 'none': return 1;
-    case 'confidence': return f.confidence[i];
-    case 'energy': return f.energy ? f.energy[i] : 1;
-    case 'energy-confidence': return (f.energy ? f.energy[i] : 1) * f.confidence[i];
-  }
-}
-
 /**
  * Sums w, w cos 2(theta - ref), w sin 2(theta - ref) over square blocks of blockPx, separately for
- * each group. Works a band of block rows at a time with a dense scratch table, so memory stays at
- * (blocks per row x groups) whatever the image size.
+ * each group. Weights: 'none' 1, 'confidence' the field's confidence, 'energy' the tensor energy,
+ * 'energy-confidence' their product; masked pixels never count. Works a band of block rows at a time
+ * with a dense scratch table, so memory stays at (blocks per row x groups) whatever the image size.
+ * Runs of pixels in one group and block are summed in locals, and the rotation to the reference axis
+ * is applied per block (it is linear), so the per-pixel work is a few additions.
  */
 export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): BlockSums[] {
   const { width, height } = f;
@@ -40,33 +32,40 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const sn = new Uint32Array(cols * G);
   const lists = Array.from({ length: G }, () => ({ w: [] as number[], wc: [] as number[], ws: [] as number[], n: [] as number[] }));
   const cr = Math.cos(2 * o.refRad), sr = Math.sin(2 * o.refRad);
-  const c2 = f.cos2, s2 = f.sin2;
-  // Same rule as pixelWeight, with the per-pixel switch taken out of the loop.
+  const c2 = f.cos2, s2 = f.sin2, mask = f.mask, groups = o.groups, angle = f.angleRad;
   const wConf = o.weighting === 'confidence' || o.weighting === 'energy-confidence' ? f.confidence : null;
   const wEnergy = (o.weighting === 'energy' || o.weighting === 'energy-confidence') && f.energy ? f.energy : null;
   for (let by = 0; by < height; by += B) {
     const yEnd = Math.min(height, by + B);
     for (let y = by; y < yEnd; y++) {
       const row = y * width;
-      for (let x = 0; x < width; x++) {
-        const i = row + x;
-        const g = o.groups[i];
-        if (g < 0 || !f.mask[i]) continue;
-        const w = (wConf ? wConf[i] : 1) * (wEnergy ? wEnergy[i] : 1);
-        if (!(w > 0)) continue;
-        let c: number, s: number;
-        if (c2) { c = c2[i]; s = s2![i]; } else { const t = 2 * f.angleRad[i]; c = Math.cos(t); s = Math.sin(t); }
-        const k = g * cols + ((x / B) | 0);
-        sw[k] += w;
-        sc[k] += w * (c * cr + s * sr);
-        ss[k] += w * (s * cr - c * sr);
-        sn[k]++;
+      for (let bx = 0; bx < cols; bx++) {
+        const xEnd = Math.min(width, (bx + 1) * B);
+        let g = -1, w = 0, wc = 0, ws = 0, n = 0;
+        for (let x = bx * B; x <= xEnd; x++) {
+          const i = row + x;
+          const gi = x < xEnd && mask[i] ? groups[i] : -1;
+          if (gi !== g) {
+            if (g >= 0 && n > 0) {
+              const k = g * cols + bx;
+              sw[k] += w; sc[k] += wc; ss[k] += ws; sn[k] += n;
+            }
+            g = gi; w = wc = ws = 0; n = 0;
+          }
+          if (gi < 0) continue;
+          const wi = (wConf ? wConf[i] : 1) * (wEnergy ? wEnergy[i] : 1);
+          if (!(wi > 0)) continue;
+          let c: number, s: number;
+          if (c2) { c = c2[i]; s = s2![i]; } else { const t = 2 * angle[i]; c = Math.cos(t); s = Math.sin(t); }
+          w += wi; wc += wi * c; ws += wi * s; n++;
+        }
       }
     }
     for (let k = 0; k < sn.length; k++) {
       if (sn[k] === 0) continue;
       const L = lists[(k / cols) | 0];
-      L.w.push(sw[k]); L.wc.push(sc[k]); L.ws.push(ss[k]); L.n.push(sn[k]);
+      // Rotate the block's doubled-angle sums to the reference axis.
+      L.w.push(sw[k]); L.wc.push(sc[k] * cr + ss[k] * sr); L.ws.push(ss[k] * cr - sc[k] * sr); L.n.push(sn[k]);
       sw[k] = sc[k] = ss[k] = 0;
       sn[k] = 0;
     }

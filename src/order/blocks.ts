@@ -33,7 +33,7 @@ export interface BootstrapOptions {
   /** Resamples. Default 400. */
   replicates?: number;
   seed?: number;
-  /** Above this many blocks, neighbouring blocks are joined into larger units. Default 2000. */
+  /** Above this many blocks, neighbouring blocks are joined into larger units. Default 1000. */
   maxBlocks?: number;
 }
 
@@ -45,7 +45,7 @@ export interface BootstrapOptions {
 export function bootstrapReplicates(b: BlockSums, stat: (m: Moments) => number, o: BootstrapOptions = {}): Float64Array {
   const R = o.replicates ?? 400;
   const rand = seededRandom(o.seed ?? 20261202);
-  const units = coarsen(b, o.maxBlocks ?? 2000);
+  const units = coarsen(b, o.maxBlocks ?? 1000);
   const m = units.w.length;
   const out = new Float64Array(R);
   if (m === 0) return out.fill(NaN);

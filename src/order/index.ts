@@ -1,5 +1,5 @@
 export type { Weighting } from './accumulate.ts';
-export { accumulateBlocks, pixelWeight, WEIGHTINGS } from './accumulate.ts';
+export { accumulateBlocks, WEIGHTINGS } from './accumulate.ts';
 export type { BlockSums, Moments, BootstrapOptions } from './blocks.ts';
 export { axisOrderOf, freeOrderOf, totalMoments, bootstrapReplicates, percentileInterval, liveBlocks } from './blocks.ts';
 export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';

@@ -1,4 +1,5 @@
 import { checkNumber } from '../common/errors.ts';
+import { fastAtan2 } from '../common/fastAtan2.ts';
 import type { TensorField } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
 
@@ -43,7 +44,7 @@ export function fieldFromTensor(
     // (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root: no trigonometry needed for order parameters.
     if (root > 0) { cos2[i] = d / root; sin2[i] = b2 / root; } else { cos2[i] = 1; sin2[i] = 0; }
     // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
-    const half = 0.5 * Math.atan2(b2, d);
+    const half = 0.5 * fastAtan2(b2, d);
     angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
     confidence[i] = e > 0 ? Math.min(1, root / e) : 0;
   }
