@@ -6,5 +6,5 @@ import { resolve } from 'node:path';
 
 register();
 const [entry, ...rest] = process.argv.slice(2);
-process.argv = [process.argv[0], entry, ...rest];
+process.argv = [process.argv[0], resolve(entry), ...rest];
 await import(pathToFileURL(resolve(entry)).href);

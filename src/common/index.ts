@@ -2,3 +2,5 @@ export { InputError, isInputError, checkNumber } from './errors.ts';
 export { DEG, degToRad, radToDeg, wrapAxialDeg, wrapAxialRad, axialDiffDeg } from './angles.ts';
 export type { Plane } from './plane.ts';
 export { makePlane } from './plane.ts';
+export { withDefaults } from './options.ts';
+export { fastAtan2 } from './fastAtan2.ts';

@@ -1,5 +1,6 @@
 import { checkNumber } from '../common/errors.ts';
 import { fastAtan2 } from '../common/fastAtan2.ts';
+import { withDefaults } from '../common/options.ts';
 import type { TensorField } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
 
@@ -28,7 +29,7 @@ export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
 export function fieldFromTensor(
   t: TensorField, options: MaskOptions = {}, extraOptions: Record<string, unknown> = {}, intensityScale = 1,
 ): OrientationField {
-  const o = { ...MASK_DEFAULTS, ...options };
+  const o = withDefaults<Required<MaskOptions>>({ ...MASK_DEFAULTS }, options);
   checkNumber('energy floor', o.energyFloor, 0, 1);
   checkNumber('minimum coherency', o.coherencyMin, 0, 1);
   const n = t.width * t.height;

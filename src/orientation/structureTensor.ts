@@ -1,4 +1,5 @@
 import { InputError, checkNumber } from '../common/errors.ts';
+import { withDefaults } from '../common/options.ts';
 import type { Plane } from '../common/plane.ts';
 import { loadCv, cvError, type CV } from '../cv/opencv.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
@@ -29,13 +30,13 @@ export interface StructureTensorOptions {
 export const STRUCTURE_TENSOR_DEFAULTS = { sigmaPx: 2, sigmaDerivPx: 1, derivative: 'gaussian', tilePixels: 4_194_304 } as const;
 
 export function resolveTensorOptions(o: StructureTensorOptions = {}): Required<StructureTensorOptions> {
-  const r = { ...STRUCTURE_TENSOR_DEFAULTS, ...o };
+  const r = withDefaults<Required<StructureTensorOptions>>({ ...STRUCTURE_TENSOR_DEFAULTS }, o);
   checkNumber('sigma (integration scale)', r.sigmaPx, 0.3, 200, 'px');
   checkNumber('derivative sigma', r.sigmaDerivPx, 0.3, 50, 'px');
   if (r.derivative !== 'gaussian' && r.derivative !== 'sobel') {
     throw new InputError(`derivative must be "gaussian" or "sobel", got "${String(r.derivative)}"`);
   }
-  return r as Required<StructureTensorOptions>;
+  return r;
 }
 
 /** Halo a tile needs so its inner part equals the whole-image result (both kernels' radii). */
