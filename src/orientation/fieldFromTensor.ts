@@ -1,7 +1,7 @@
 import { checkNumber } from '../common/errors.ts';
 import { fastAtan2 } from '../common/fastAtan2.ts';
 import { withDefaults } from '../common/options.ts';
-import type { TensorField } from './structureTensor.ts';
+import type { TensorField, TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
 
 export interface MaskOptions {
@@ -29,26 +29,55 @@ export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
 export function fieldFromTensor(
   t: TensorField, options: MaskOptions = {}, extraOptions: Record<string, unknown> = {}, intensityScale = 1,
 ): OrientationField {
+  const f = emptyTextureField(t.width, t.height);
+  writeTensorPixels(f, t, { x0: 0, y0: 0, x1: t.width, y1: t.height }, { x: 0, y: 0 });
+  return finishTextureField(f, options, extraOptions, intensityScale);
+}
+
+/** A texture field with all arrays allocated, ready for writeTensorPixels and finishTextureField. */
+export function emptyTextureField(width: number, height: number): OrientationField {
+  const n = width * height;
+  return {
+    width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n), mask: new Uint8Array(n),
+    energy: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
+    method: 'texture', ambiguity: 'none', options: {}, warnings: [],
+  };
+}
+
+/** Angle, coherency, energy and doubled-angle components of the pixels in `r` from a (tile's) tensor. */
+export function writeTensorPixels(f: OrientationField, t: TensorField, r: TileRect, origin: { x: number; y: number }): void {
+  const { angleRad, confidence } = f;
+  const energy = f.energy!, cos2 = f.cos2!, sin2 = f.sin2!;
+  const { jxx, jxy, jyy } = t;
+  for (let y = r.y0; y < r.y1; y++) {
+    let j = (y - origin.y) * t.width + (r.x0 - origin.x);
+    for (let i = y * f.width + r.x0, end = y * f.width + r.x1; i < end; i++, j++) {
+      const a = jxx[j], b2 = 2 * jxy[j], c = jyy[j];
+      const e = a + c, d = c - a;
+      const root = Math.sqrt(d * d + b2 * b2);
+      energy[i] = e;
+      // (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root: no trigonometry needed for order parameters.
+      if (root > 0) { cos2[i] = d / root; sin2[i] = b2 / root; } else { cos2[i] = 1; sin2[i] = 0; }
+      // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
+      const half = 0.5 * fastAtan2(b2, d);
+      angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
+      confidence[i] = e > 0 ? Math.min(1, root / e) : 0;
+    }
+  }
+}
+
+export function resolveMaskOptions(options: MaskOptions = {}): Required<MaskOptions> {
   const o = withDefaults<Required<MaskOptions>>({ ...MASK_DEFAULTS }, options);
   checkNumber('energy floor', o.energyFloor, 0, 1);
   checkNumber('minimum coherency', o.coherencyMin, 0, 1);
-  const n = t.width * t.height;
-  const angleRad = new Float32Array(n), confidence = new Float32Array(n), energy = new Float32Array(n);
-  const cos2 = new Float32Array(n), sin2 = new Float32Array(n);
-  const mask = new Uint8Array(n);
-  const { jxx, jxy, jyy } = t;
-  for (let i = 0; i < n; i++) {
-    const a = jxx[i], b2 = 2 * jxy[i], c = jyy[i];
-    const e = a + c, d = c - a;
-    const root = Math.sqrt(d * d + b2 * b2);
-    energy[i] = e;
-    // (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root: no trigonometry needed for order parameters.
-    if (root > 0) { cos2[i] = d / root; sin2[i] = b2 / root; } else { cos2[i] = 1; sin2[i] = 0; }
-    // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
-    const half = 0.5 * fastAtan2(b2, d);
-    angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
-    confidence[i] = e > 0 ? Math.min(1, root / e) : 0;
-  }
+  return o;
+}
+
+/** Masks background and low-energy pixels once every pixel is written, and records options and warnings. */
+export function finishTextureField(f: OrientationField, options: MaskOptions, extraOptions: Record<string, unknown>, intensityScale: number): OrientationField {
+  const o = resolveMaskOptions(options);
+  const n = f.width * f.height;
+  const energy = f.energy!, confidence = f.confidence, mask = f.mask;
   // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
   const floor = Math.max(o.energyFloor * quantile(energy, 0.99), (1e-5 * intensityScale) ** 2);
   let masked = 0;
@@ -60,12 +89,9 @@ export function fieldFromTensor(
   const warnings: string[] = [];
   if (masked === n) warnings.push('every pixel was masked: the image has no texture above the energy floor');
   else if (masked > 0.9 * n) warnings.push(`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or low energy`);
-  return {
-    width: t.width, height: t.height, angleRad, confidence, mask, energy, cos2, sin2,
-    method: 'texture', ambiguity: 'none',
-    options: { ...extraOptions, energyFloor: o.energyFloor, coherencyMin: o.coherencyMin },
-    warnings,
-  };
+  f.options = { ...extraOptions, energyFloor: o.energyFloor, coherencyMin: o.coherencyMin };
+  f.warnings = warnings;
+  return f;
 }
 
 /** Quantile from a strided sample (at most ~20 000 values), enough for a threshold. */

@@ -1,7 +1,8 @@
 export type { OrientationField } from './types.ts';
 export type { TensorField, StructureTensorOptions } from './structureTensor.ts';
-export { structureTensor, resolveTensorOptions, tensorHaloPx, STRUCTURE_TENSOR_DEFAULTS } from './structureTensor.ts';
+export type { TileRect } from './structureTensor.ts';
+export { structureTensor, forEachTensorTile, resolveTensorOptions, tensorHaloPx, STRUCTURE_TENSOR_DEFAULTS } from './structureTensor.ts';
 export type { MaskOptions } from './fieldFromTensor.ts';
-export { fieldFromTensor, MASK_DEFAULTS, quantile } from './fieldFromTensor.ts';
+export { fieldFromTensor, emptyTextureField, writeTensorPixels, finishTextureField, resolveMaskOptions, MASK_DEFAULTS, HALF_PI_F32, quantile } from './fieldFromTensor.ts';
 export { orientationField } from './orientationField.ts';
 export type { OrientationFieldOptions } from './orientationField.ts';

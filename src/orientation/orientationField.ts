@@ -1,15 +1,20 @@
 import type { Plane } from '../common/plane.ts';
-import { structureTensor, resolveTensorOptions, type StructureTensorOptions } from './structureTensor.ts';
-import { fieldFromTensor, type MaskOptions } from './fieldFromTensor.ts';
+import { forEachTensorTile, resolveTensorOptions, type StructureTensorOptions } from './structureTensor.ts';
+import { emptyTextureField, finishTextureField, resolveMaskOptions, writeTensorPixels, type MaskOptions } from './fieldFromTensor.ts';
 import type { OrientationField } from './types.ts';
 
 export type OrientationFieldOptions = StructureTensorOptions & MaskOptions;
 
-/** Texture orientation field of a grey plane: structure tensor, then angle, coherency, energy and mask. */
+/**
+ * Texture orientation field of a grey plane: structure tensor, then angle, coherency, energy and mask.
+ * Tiles are turned into field pixels as they come, so no full-size tensor is ever held.
+ */
 export async function orientationField(plane: Plane, options: OrientationFieldOptions = {}): Promise<OrientationField> {
   const t = resolveTensorOptions(options);
-  const tensor = await structureTensor(plane, t);
+  resolveMaskOptions(options);
+  const f = emptyTextureField(plane.width, plane.height);
+  await forEachTensorTile(plane, t, (tensor, inner, origin) => writeTensorPixels(f, tensor, inner, origin));
   let scale = 0;
   for (const v of plane.data) if (Math.abs(v) > scale) scale = Math.abs(v);
-  return fieldFromTensor(tensor, options, { sigmaPx: t.sigmaPx, sigmaDerivPx: t.sigmaDerivPx, derivative: t.derivative }, scale);
+  return finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx: t.sigmaDerivPx, derivative: t.derivative }, scale);
 }

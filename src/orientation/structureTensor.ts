@@ -45,22 +45,25 @@ export function tensorHaloPx(o: Required<StructureTensorOptions>): number {
   return deriv + gaussianRadius(o.sigmaPx) + 1;
 }
 
+/** The part of the image a tile's result is kept for (pixel coordinates, end exclusive). */
+export interface TileRect { x0: number; y0: number; x1: number; y1: number }
+
 /**
- * Gradient structure tensor J = G_sigma * (grad I grad I^T) (Bigun & Granlund 1987; OpenCV tutorial
- * "Anisotropic image segmentation by a gradient structure tensor"). Borders are mirrored with the edge
- * pixel repeated (scipy 'reflect' = OpenCV BORDER_REFLECT). y is the row index, downwards.
+ * Runs the tensor over the image in square tiles with a halo wide enough that each tile's inner part
+ * equals the whole-image result, handing every tile's tensor and inner rectangle to `use`. Peak WASM
+ * memory is then one tile's pipeline, whatever the image size. `origin` is the tile's top-left pixel.
  */
-export async function structureTensor(plane: Plane, options: StructureTensorOptions = {}): Promise<TensorField> {
+export async function forEachTensorTile(
+  plane: Plane, options: StructureTensorOptions,
+  use: (t: TensorField, inner: TileRect, origin: { x: number; y: number }) => void,
+): Promise<void> {
   const o = resolveTensorOptions(options);
   const cv = await loadCv();
   const { width, height } = plane;
-  if (width * height <= o.tilePixels) return tensorOnce(cv, plane, o);
-
-  // Large image: square tiles with a halo; only each tile's inner part is kept.
-  const out: TensorField = {
-    width, height,
-    jxx: new Float32Array(width * height), jxy: new Float32Array(width * height), jyy: new Float32Array(width * height),
-  };
+  if (width * height <= o.tilePixels) {
+    use(tensorOnce(cv, plane, o), { x0: 0, y0: 0, x1: width, y1: height }, { x: 0, y: 0 });
+    return;
+  }
   const halo = tensorHaloPx(o);
   const inner = Math.max(64, Math.floor(Math.sqrt(o.tilePixels)) - 2 * halo);
   for (let y0 = 0; y0 < height; y0 += inner) {
@@ -71,15 +74,28 @@ export async function structureTensor(plane: Plane, options: StructureTensorOpti
       const tw = tx1 - tx0, th = ty1 - ty0;
       const tile = new Float32Array(tw * th);
       for (let y = 0; y < th; y++) tile.set(plane.data.subarray((ty0 + y) * width + tx0, (ty0 + y) * width + tx1), y * tw);
-      const t = tensorOnce(cv, { width: tw, height: th, data: tile }, o);
-      for (let y = y0; y < y1; y++) {
-        const src = (y - ty0) * tw + (x0 - tx0), dst = y * width + x0, n = x1 - x0;
-        out.jxx.set(t.jxx.subarray(src, src + n), dst);
-        out.jxy.set(t.jxy.subarray(src, src + n), dst);
-        out.jyy.set(t.jyy.subarray(src, src + n), dst);
-      }
+      use(tensorOnce(cv, { width: tw, height: th, data: tile }, o), { x0, y0, x1, y1 }, { x: tx0, y: ty0 });
     }
   }
+}
+
+/**
+ * Gradient structure tensor J = G_sigma * (grad I grad I^T) (Bigun & Granlund 1987; OpenCV tutorial
+ * "Anisotropic image segmentation by a gradient structure tensor"). Borders are mirrored with the edge
+ * pixel repeated (scipy 'reflect' = OpenCV BORDER_REFLECT). y is the row index, downwards.
+ */
+export async function structureTensor(plane: Plane, options: StructureTensorOptions = {}): Promise<TensorField> {
+  const { width, height } = plane;
+  const n = width * height;
+  const out: TensorField = { width, height, jxx: new Float32Array(n), jxy: new Float32Array(n), jyy: new Float32Array(n) };
+  await forEachTensorTile(plane, options, (t, r, origin) => {
+    for (let y = r.y0; y < r.y1; y++) {
+      const src = (y - origin.y) * t.width + (r.x0 - origin.x), dst = y * width + r.x0, len = r.x1 - r.x0;
+      out.jxx.set(t.jxx.subarray(src, src + len), dst);
+      out.jxy.set(t.jxy.subarray(src, src + len), dst);
+      out.jyy.set(t.jyy.subarray(src, src + len), dst);
+    }
+  });
   return out;
 }
 

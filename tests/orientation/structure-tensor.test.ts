@@ -104,3 +104,17 @@ describe('structureTensor mechanics', () => {
     expect(f.warnings.join(' ')).toMatch(/every pixel was masked/);
   });
 });
+
+describe('orientationField in tiles', () => {
+  it('gives the same field whole and tile by tile', async () => {
+    const p = addNoise(rings(300, 220, 140, 100, 11), 0.2, 3);
+    const whole = await orientationField(p, { sigmaPx: 2.5 });
+    const tiled = await orientationField(p, { sigmaPx: 2.5, tilePixels: 90 * 90 });
+    let worst = 0;
+    for (let i = 0; i < whole.angleRad.length; i++) {
+      worst = Math.max(worst, Math.abs(whole.confidence[i] - tiled.confidence[i]), axialDiffDeg(deg(whole.angleRad[i]), deg(tiled.angleRad[i])) / 90);
+    }
+    expect(worst).toBeLessThan(1e-4);
+    expect(tiled.mask).toEqual(whole.mask);
+  });
+});
