@@ -7,7 +7,7 @@ import { execFileSync } from 'node:child_process';
 import { existsSync, mkdtempSync, writeFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { structureTensor, fieldFromTensor } from '../../src/orientation/index.ts';
+import { orientationField } from '../../src/orientation/index.ts';
 import { channelProfile, parseWalls } from '../../src/channel/index.ts';
 import { loadCv } from '../../src/cv/opencv.ts';
 import { benchOptics } from './benchOptics.ts';
@@ -34,7 +34,7 @@ async function jsPipeline(width: number, height: number, data: Float32Array) {
   let bestT = Infinity, bestP = Infinity, heap = 0;
   for (let r = 0; r < REPEATS; r++) {
     const t0 = performance.now();
-    const field = fieldFromTensor(await structureTensor(plane, { sigmaPx: SIGMA, sigmaDerivPx: SIGMA_D }), {}, { sigmaPx: SIGMA });
+    const field = await orientationField(plane, { sigmaPx: SIGMA, sigmaDerivPx: SIGMA_D });
     const t1 = performance.now();
     channelProfile(field, walls, { bins: 20, replicates: 200 });
     const t2 = performance.now();
@@ -42,7 +42,7 @@ async function jsPipeline(width: number, height: number, data: Float32Array) {
     bestP = Math.min(bestP, (t2 - t1) / 1000);
     heap = Math.max(heap, process.memoryUsage().rss);
   }
-  return { tensorS: bestT, profileS: bestP, rssMiB: heap / 2 ** 20 };
+  return { tensorS: bestT, profileS: bestP, rssMiB: heap / 2 ** 20, wasmMiB: await wasmHeapMiB() };
 }
 
 function nativePipeline(width: number, height: number, data: Float32Array): { tensorS: number; profileS: number } | null {
@@ -67,6 +67,12 @@ function nativePipeline(width: number, height: number, data: Float32Array): { te
   }
 }
 
+/** Size of opencv.js's WASM heap: it grows to the largest tile pipeline and never shrinks. */
+async function wasmHeapMiB(): Promise<number> {
+  const cv = (await loadCv()) as unknown as { HEAP8: Int8Array };
+  return cv.HEAP8.length / 2 ** 20;
+}
+
 const fmt = (s: number) => (s < 1 ? `${(s * 1000).toFixed(1)} ms` : `${s.toFixed(2)} s`);
 
 async function main() {
@@ -74,12 +80,14 @@ async function main() {
   await loadCv();
   console.log(`opencv.js start-up: ${fmt((performance.now() - t0) / 1000)}`);
   console.log('texture pipeline: structure tensor (sigma 2, Gaussian derivatives sigma 1) + orientation + coherency, then a 20-bin channel profile');
-  for (const [w, h] of [[4000, 3000], [1280, 720]]) {
+  // RETARDA_BENCH_BIG=1 adds a 100-megapixel image: tiles keep the WASM heap at the size of one tile.
+  const sizes = [[4000, 3000], [1280, 720], ...(process.env.RETARDA_BENCH_BIG ? [[10000, 10000]] : [])];
+  for (const [w, h] of sizes) {
     const data = scene(w, h);
     const js = await jsPipeline(w, h, data);
     const nat = nativePipeline(w, h, data);
     console.log(`\n${w}x${h} (${((w * h) / 1e6).toFixed(1)} MP)`);
-    console.log(`  retarda  field ${fmt(js.tensorS)}  profile ${fmt(js.profileS)}  total ${fmt(js.tensorS + js.profileS)}  peak RSS ${js.rssMiB.toFixed(0)} MiB`);
+    console.log(`  retarda  field ${fmt(js.tensorS)}  profile ${fmt(js.profileS)}  total ${fmt(js.tensorS + js.profileS)}  peak RSS ${js.rssMiB.toFixed(0)} MiB  WASM heap ${js.wasmMiB.toFixed(0)} MiB`);
     if (nat) {
       console.log(`  native   field ${fmt(nat.tensorS)}  profile ${fmt(nat.profileS)}  total ${fmt(nat.tensorS + nat.profileS)}  (python3-opencv, 1 thread)`);
       console.log(`  ratio    field ${(js.tensorS / nat.tensorS).toFixed(2)}x  total ${((js.tensorS + js.profileS) / (nat.tensorS + nat.profileS)).toFixed(2)}x`);

@@ -1,0 +1,70 @@
+import { readFile, stat, writeFile } from 'node:fs/promises';
+import { InputError } from '../common/errors.ts';
+import { decodeImage, decodeImagePages, type Image } from '../image/index.ts';
+
+/** Node's readFile refuses files over 2 GiB; a 250 MP 16-bit RGB TIFF is 1.5 GB. */
+const MAX_FILE_BYTES = 2 ** 31 - 1;
+
+function fsProblem(path: string, e: unknown, doing: string): InputError {
+  const code = (e as NodeJS.ErrnoException)?.code;
+  const reason: Record<string, string> = {
+    ENOENT: 'no such file or folder', EACCES: 'permission denied', EPERM: 'permission denied',
+    EISDIR: 'it is a folder, not a file', ENOTDIR: 'a part of the path is not a folder', EROFS: 'the disk is read-only',
+    ENOSPC: 'the disk is full',
+  };
+  const why = (code && reason[code]) ?? (e instanceof Error ? e.message : String(e));
+  return new InputError(`${path}: cannot ${doing} (${why})`, 'Check the path and its permissions');
+}
+
+/** Reads a whole file, with file-system problems as InputError naming the path. */
+async function readImageBytes(path: string): Promise<Uint8Array> {
+  let info;
+  try {
+    info = await stat(path);
+  } catch (e) {
+    throw fsProblem(path, e, 'read the image');
+  }
+  if (info.isDirectory()) {
+    throw new InputError(`${path}: is a folder, not an image file`, 'Give the path of an image file inside it');
+  }
+  if (info.size > MAX_FILE_BYTES) {
+    throw new InputError(`${path}: the file is ${(info.size / 2 ** 30).toFixed(1)} GiB, too large to load`,
+      'Crop or bin the image, or split the stack into smaller files');
+  }
+  try {
+    const buf = await readFile(path);
+    return new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength);
+  } catch (e) {
+    throw fsProblem(path, e, 'read the image');
+  }
+}
+
+/**
+ * Loads the first page of each image file (PNG, JPEG, TIFF; see decodeImage), in the order given.
+ * @throws InputError naming the path for a missing, unreadable, folder, corrupt or unsupported file
+ */
+export async function loadImageFiles(paths: string[]): Promise<Image[]> {
+  const images: Image[] = [];
+  for (const path of paths) images.push(decodeImage(await readImageBytes(path), path, 0));
+  return images;
+}
+
+/**
+ * Loads every page of one image file (all TIFF pages; one for PNG/JPEG; see decodeImagePages).
+ * @throws InputError as loadImageFiles
+ */
+export async function loadImagePages(path: string): Promise<Image[]> {
+  return decodeImagePages(await readImageBytes(path), path);
+}
+
+/**
+ * Writes bytes to a file, replacing it.
+ * @throws InputError naming the path when the folder is missing, not writable, or the disk is full
+ */
+export async function writeBytes(path: string, bytes: Uint8Array): Promise<void> {
+  try {
+    await writeFile(path, bytes);
+  } catch (e) {
+    throw fsProblem(path, e, 'write the file');
+  }
+}

@@ -1,0 +1,125 @@
+import jpeg from 'jpeg-js';
+import { checkHeaderSize, decodeFailure, unsupported } from './checks.ts';
+import { toPlanes } from './samples.ts';
+import { makeImage, type Image } from './types.ts';
+
+const FORMAT = 'JPEG';
+
+/** ITU-T T.81 frame markers: 0xC0 baseline, 0xC1 extended, 0xC2 progressive (all Huffman coded). */
+const DECODABLE_SOF = new Set([0xc0, 0xc1, 0xc2]);
+/** Other frame markers: lossless, hierarchical, arithmetic coded (T.81 Table B.1). 0xC4/C8/CC are not frames. */
+const OTHER_SOF = new Set([0xc3, 0xc5, 0xc6, 0xc7, 0xc9, 0xca, 0xcb, 0xcd, 0xce, 0xcf]);
+/** Markers without a length field (T.81 B.1.1.3): TEM, RST0-7, SOI, EOI. */
+const STANDALONE = (m: number) => m === 0x01 || (m >= 0xd0 && m <= 0xd9);
+
+export interface JpegHeader {
+  width: number;
+  height: number;
+  components: number;
+  /** Whether the three components are stored as RGB rather than YCbCr (decides jpeg-js colorTransform). */
+  storedAsRgb: boolean;
+}
+
+/**
+ * Walks the marker segments up to the frame header (SOF) and reads precision, size and component
+ * count; refuses sizes over MAX_PIXELS and kinds jpeg-js cannot decode or the analysis does not take.
+ */
+export function readJpegHeader(bytes: Uint8Array, what: string): JpegHeader {
+  let jfif = false;
+  let adobeTransform: number | undefined;
+  let pos = 2;
+  while (pos + 4 <= bytes.length) {
+    if (bytes[pos] !== 0xff) {
+      throw decodeFailure(what, FORMAT, new Error(`no marker at byte ${pos}`), 'the segment structure is broken');
+    }
+    const marker = bytes[pos + 1];
+    if (marker === 0xff) { pos += 1; continue; } // fill byte
+    if (STANDALONE(marker)) { pos += 2; continue; }
+    const length = (bytes[pos + 2] << 8) | bytes[pos + 3];
+    const body = pos + 4;
+    if (length < 2 || pos + 2 + length > bytes.length) break;
+    if (marker === 0xe0 && ascii(bytes, body, 5) === 'JFIF\0') jfif = true;
+    if (marker === 0xee && ascii(bytes, body, 5) === 'Adobe' && length >= 14) adobeTransform = bytes[body + 11];
+    if (DECODABLE_SOF.has(marker) || OTHER_SOF.has(marker)) {
+      if (length < 8) break;
+      const precision = bytes[body];
+      const height = (bytes[body + 1] << 8) | bytes[body + 2];
+      const width = (bytes[body + 3] << 8) | bytes[body + 4];
+      const components = bytes[body + 5];
+      if (height === 0) {
+        throw unsupported(what, FORMAT, 'the height given later in the file (DNL marker)', 'Re-save it as a plain baseline JPEG');
+      }
+      checkHeaderSize(what, FORMAT, width, height);
+      if (OTHER_SOF.has(marker)) {
+        throw unsupported(what, FORMAT, 'lossless, hierarchical or arithmetic coding',
+          'Save it as a baseline or progressive JPEG, or better as PNG or TIFF');
+      }
+      if (precision !== 8) {
+        throw unsupported(what, FORMAT, `${precision}-bit samples`, 'Save it as 16-bit TIFF or PNG instead');
+      }
+      if (components === 4) {
+        throw unsupported(what, FORMAT, '4 colour components (CMYK)', 'Convert it to RGB or grey');
+      }
+      if (components !== 1 && components !== 3) {
+        throw unsupported(what, FORMAT, `${components} colour components`, 'Convert it to RGB or grey');
+      }
+      const ids = components === 3 ? ascii(bytes, body + 6, 1) + ascii(bytes, body + 9, 1) + ascii(bytes, body + 12, 1) : '';
+      // libjpeg's rule (jdapimin.c default_decompress_parms, from memory): JFIF means YCbCr, an Adobe
+      // marker's transform flag decides, otherwise component ids "RGB" mean RGB.
+      const storedAsRgb = components === 3 && !jfif && (adobeTransform !== undefined ? adobeTransform === 0 : ids === 'RGB');
+      return { width, height, components, storedAsRgb };
+    }
+    if (marker === 0xda) break; // scan data before any frame header
+    pos += 2 + length;
+  }
+  throw decodeFailure(what, FORMAT, new Error('no frame header (SOF) found'),
+    'the file ends or the scan starts before the image size is given');
+}
+
+function ascii(bytes: Uint8Array, start: number, length: number): string {
+  return String.fromCharCode(...bytes.subarray(start, start + length));
+}
+
+/** Whether the last marker of the file is EOI (0xFFD9), allowing trailing zero padding. */
+function endsWithEoi(bytes: Uint8Array): boolean {
+  let end = bytes.length;
+  while (end > 2 && bytes[end - 1] === 0) end--;
+  return bytes[end - 2] === 0xff && bytes[end - 1] === 0xd9;
+}
+
+/**
+ * Decodes a baseline or progressive 8-bit JPEG (grey or colour) with jpeg-js, strict mode (missing
+ * data is an error, not grey blocks). Codes 0..255 become [0, 1]; encoding 'srgb'; no pixel size
+ * (JFIF density is almost always a screen placeholder). EXIF orientation is not applied.
+ */
+export function decodeJpeg(bytes: Uint8Array, name: string): Image {
+  const header = readJpegHeader(bytes, name);
+  const pixels = header.width * header.height;
+  let rgb: Uint8Array;
+  try {
+    const decoded = jpeg.decode(bytes, {
+      useTArray: true,
+      formatAsRGBA: false,
+      tolerantDecoding: false,
+      colorTransform: header.components === 3 ? !header.storedAsRgb : undefined,
+      // Our own size check already ran; these only stop jpeg-js refusing images inside MAX_PIXELS.
+      maxResolutionInMP: Math.ceil(pixels / 1e6) + 1,
+      maxMemoryUsageInMB: Math.ceil((pixels * (8 * header.components + 6)) / 2 ** 20) + 64,
+    });
+    if (decoded.width !== header.width || decoded.height !== header.height) throw new Error('size differs from SOF');
+    rgb = decoded.data;
+  } catch (e) {
+    throw decodeFailure(name, FORMAT, e, endsWithEoi(bytes) ? '' : 'the file does not end with an EOI marker, so it was probably cut short');
+  }
+  const channels = header.components === 1 ? 1 : 3;
+  return makeImage({
+    width: header.width,
+    height: header.height,
+    channels,
+    // jpeg-js returns three samples per pixel even for grey (all equal); keep the first.
+    planes: toPlanes(rgb, pixels, 3, channels, 255),
+    bitDepth: 8,
+    encoding: 'srgb',
+    source: { name },
+  });
+}
