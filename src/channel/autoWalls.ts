@@ -22,7 +22,7 @@ const WORK_SIDE = 512;
 /**
  * The channel's walls as the two strongest long straight step edges. The image is reduced to about
  * 512 px and smoothed wider than the texture inside the channel, then every pixel votes with its
- * gradient magnitude for the lines through it whose normal is near its gradient direction (a
+ * squared gradient magnitude (so steps outvote what is left of the texture) for the lines through it whose normal is near its gradient direction (a
  * gradient-weighted Hough transform). The strongest line is the first wall; the strongest line within
  * the taper limit and far enough from it is the second. Each wall is cut to where its edge is present.
  */
@@ -56,7 +56,7 @@ export async function findWalls(plane: Plane, options: AutoWallOptions = {}): Pr
         // Wrapping past pi flips the normal, so rho changes sign there.
         const flip = k0 + dk >= nPhi || k0 + dk < 0 ? -1 : 1;
         const rho = flip * (x * cosT[k] + y * sinT[k]);
-        acc[k * nRho + Math.round(rho) + rhoMax] += m;
+        acc[k * nRho + Math.round(rho) + rhoMax] += m * m;
       }
     }
   }
@@ -97,7 +97,7 @@ async function smoothedGradient(plane: Plane): Promise<Gradient> {
     const w = Math.max(8, Math.round(plane.width / scale)), h = Math.max(8, Math.round(plane.height / scale));
     const small = keep(new cv.Mat());
     cv.resize(src, small, new cv.Size(w, h), 0, 0, cv.INTER_AREA);
-    const smooth = Math.max(2, Math.min(w, h) / 100);
+    const smooth = Math.max(3, Math.min(w, h) / 60);
     cv.GaussianBlur(small, small, new cv.Size(0, 0), smooth, smooth, cv.BORDER_REFLECT);
     const gx = keep(new cv.Mat()), gy = keep(new cv.Mat());
     cv.Sobel(small, gx, cv.CV_32F, 1, 0, 3, 1, 0, cv.BORDER_REFLECT);
