@@ -77,14 +77,20 @@ export async function findWalls(plane: Plane, options: AutoWallOptions = {}): Pr
   const k2 = Math.floor(second / nRho), r2 = (second % nRho) - rhoMax;
   const lineA = { phi: k1 * dPhi, rho: r1 }, lineB = { phi: k2 * dPhi, rho: r2 };
   const a = edgeStretch(lineA, g), b = edgeStretch(lineB, g);
-  const toFull = (s: Segment): Segment => ({ x1: s.x1 * scale, y1: s.y1 * scale, x2: s.x2 * scale, y2: s.y2 * scale });
-  const walls = orderWalls(toFull(a.seg), toFull(b.seg));
+  // Pixel centres: full = (work + 0.5) * scale - 0.5 for an area-averaged reduction.
+  const f = (v: number) => (v + 0.5) * scale - 0.5;
+  const toFull = (s: Segment): Segment => ({ x1: f(s.x1), y1: f(s.y1), x2: f(s.x2), y2: f(s.y2) });
+  // The heavy smoothing that silences texture also pulls the edge towards the darker side: refine each
+  // wall on the full-resolution image, lightly smoothed, within a few coarse smoothing widths.
+  const fine = await lightlySmoothed(plane);
+  const reach = 3 * g.smooth * scale;
+  const walls = orderWalls(refineWall(fine, toFull(a.seg), reach), refineWall(fine, toFull(b.seg), reach));
   const top = Math.max(a.strength, b.strength);
   const strengths: [number, number] = walls[0] === undefined ? [1, 1] : [a.strength / top, b.strength / top];
   return { channel: { walls }, strength: strengths };
 }
 
-interface Gradient { w: number; h: number; gx: Float32Array; gy: Float32Array; scale: number }
+interface Gradient { w: number; h: number; gx: Float32Array; gy: Float32Array; scale: number; smooth: number }
 
 async function smoothedGradient(plane: Plane): Promise<Gradient> {
   const cv = await loadCv();
@@ -103,12 +109,69 @@ async function smoothedGradient(plane: Plane): Promise<Gradient> {
     cv.Sobel(small, gx, cv.CV_32F, 1, 0, 3, 1, 0, cv.BORDER_REFLECT);
     cv.Sobel(small, gy, cv.CV_32F, 0, 1, 3, 1, 0, cv.BORDER_REFLECT);
     // Step from the working grid back to full-resolution pixels (centres line up to within a pixel).
-    return { w, h, gx: gx.data32F.slice(), gy: gy.data32F.slice(), scale: plane.width / w };
+    return { w, h, gx: gx.data32F.slice(), gy: gy.data32F.slice(), scale: plane.width / w, smooth };
   } catch (e) {
     throw cvError(cv, e);
   } finally {
     for (const m of mats) m.delete();
   }
+}
+
+/** The full-resolution image smoothed by sigma 1.5 px: enough to steady the gradient, too little to move an edge. */
+async function lightlySmoothed(plane: Plane): Promise<Plane> {
+  const cv = await loadCv();
+  const src = new cv.Mat(plane.height, plane.width, cv.CV_32F), dst = new cv.Mat();
+  try {
+    src.data32F.set(plane.data);
+    cv.GaussianBlur(src, dst, new cv.Size(0, 0), 1.5, 1.5, cv.BORDER_REFLECT);
+    return { width: plane.width, height: plane.height, data: dst.data32F.slice() };
+  } catch (e) {
+    throw cvError(cv, e);
+  } finally {
+    src.delete(); dst.delete();
+  }
+}
+
+function bilinear(p: Plane, x: number, y: number): number {
+  const x0 = Math.max(0, Math.min(p.width - 2, Math.floor(x))), y0 = Math.max(0, Math.min(p.height - 2, Math.floor(y)));
+  const fx = Math.min(1, Math.max(0, x - x0)), fy = Math.min(1, Math.max(0, y - y0));
+  const i = y0 * p.width + x0;
+  return (1 - fy) * ((1 - fx) * p.data[i] + fx * p.data[i + 1]) + fy * ((1 - fx) * p.data[i + p.width] + fx * p.data[i + p.width + 1]);
+}
+
+/**
+ * Moves a coarse wall onto the full-resolution edge: at points every 2 px along it, the steepest step
+ * of the profile across it within +-reach px (same polarity as the step at the coarse position's
+ * side-to-side contrast), sub-pixel by a parabola; then a total-least-squares line through them.
+ */
+function refineWall(p: Plane, seg: Segment, reach: number): Segment {
+  const len = Math.hypot(seg.x2 - seg.x1, seg.y2 - seg.y1);
+  const ux = (seg.x2 - seg.x1) / len, uy = (seg.y2 - seg.y1) / len, nx = -uy, ny = ux;
+  const step = 0.5, m = Math.ceil(reach / step);
+  const xs: number[] = [], ys: number[] = [];
+  const prof = new Float64Array(2 * m + 1), der = new Float64Array(2 * m + 1);
+  // Polarity of the wall: which side is brighter, from wide samples either side of the coarse line.
+  let side = 0;
+  for (let t = 0; t <= len; t += 8) {
+    const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
+    side += bilinear(p, cx + reach * nx, cy + reach * ny) - bilinear(p, cx - reach * nx, cy - reach * ny);
+  }
+  const sign = side >= 0 ? 1 : -1;
+  for (let t = 0; t <= len; t += 2) {
+    const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
+    for (let k = -m; k <= m; k++) prof[k + m] = bilinear(p, cx + k * step * nx, cy + k * step * ny);
+    let best = -1, bestV = 0;
+    for (let k = 1; k < 2 * m; k++) {
+      der[k] = (sign * (prof[k + 1] - prof[k - 1])) / (2 * step);
+      if (der[k] > bestV) { bestV = der[k]; best = k; }
+    }
+    if (best < 2 || best > 2 * m - 2) continue;
+    const den = der[best - 1] - 2 * der[best] + der[best + 1];
+    const off = den < 0 ? (0.5 * (der[best - 1] - der[best + 1])) / den : 0;
+    const d = (best + off - m) * step;
+    xs.push(cx + d * nx); ys.push(cy + d * ny);
+  }
+  return fitSegment(xs, ys) ?? seg;
 }
 
 function argmax(a: Float32Array, ok: (i: number) => boolean): number {
