@@ -30,7 +30,7 @@ export async function renderPlateImages(scene: ReturnType<typeof channelScene>, 
     const img = renderSampleImage(N, N, (X, Y) => {
       const s = samples[Y * N + X];
       return { angleRad: s.angleRad + turn * DEG, retardanceNm: s.retardanceNm };
-    }, model, { noiseSd: 0.01, seed, name });
+    }, model, { noiseSd: 0.01, seed, name, camera: { gains: [1, 1, 1], exposure: 0.8 } });
     writePng(join(dir, name), N, N, img.planes, 8);
   }
 }

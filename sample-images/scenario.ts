@@ -22,8 +22,8 @@ export const FIBRES = {
   height: 768,
   list: [
     { x0: 120, y0: -20, angleDeg: -78, diameterUm: 18.0, taperUmPerMm: 0 },
-    { x0: 520, y0: -20, angleDeg: -63, diameterUm: 24.5, taperUmPerMm: 6 },
-    { x0: 900, y0: -20, angleDeg: -100, diameterUm: 12.0, taperUmPerMm: 0 },
+    { x0: 440, y0: -20, angleDeg: -66, diameterUm: 24.5, taperUmPerMm: 6 },
+    { x0: 940, y0: -20, angleDeg: -95, diameterUm: 12.0, taperUmPerMm: 0 },
   ],
 };
 

@@ -6,7 +6,10 @@ import { COMMANDS } from './commands/index.ts';
 import { toCsv } from '../report/csv.ts';
 
 /** Exit status: 0 success, 2 bad input or options, 1 internal fault (conventions.md). */
-export async function main(argv: string[], out = process.stdout, err = process.stderr): Promise<number> {
+/** Where the CLI prints: process.stdout / stderr, or a capture in tests. */
+export interface Sink { write(s: string): unknown }
+
+export async function main(argv: string[], out: Sink = process.stdout, err: Sink = process.stderr): Promise<number> {
   const [name, ...rest] = argv;
   if (!name || name === '--help' || name === 'help' || name === '-h') {
     out.write(topHelp());

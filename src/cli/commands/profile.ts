@@ -1,4 +1,4 @@
-import { analyseOrientation, type ProfileResult } from '../../analyses/index.ts';
+import type { ProfileResult } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -6,23 +6,40 @@ import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileTable } from '../channelOptions.ts';
 import { TEXTURE_OPTIONS, textureOptionsFrom } from './orient.ts';
+import { MATCH_OPTION, PLATE_OPTIONS, readPlateFrom } from './plate.ts';
+import { analyseOrientation as textureField } from '../../analyses/index.ts';
+import type { Image } from '../../image/types.ts';
+import type { ParsedArgs } from '../args.ts';
+
+/** The orientation field `--source` names: the texture (structure tensor) or one compensator image. */
+async function fieldFor(img: Image, a: ParsedArgs) {
+  const source = stringOpt(a, 'source') ?? 'texture';
+  if (source === 'texture') return (await textureField(img, textureOptionsFrom(a))).field;
+  if (source === 'plate') return readPlateFrom(img, a).field;
+  throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate2 or quad with --walls for the other readers');
+}
 
 export const profileCommand: Command = {
   name: 'profile',
   summary: 'order parameter S across a channel or fibre (bins, stations, core and skin) from the texture field',
   usage: 'IMAGE... (--walls "x1,y1,x2,y2;x3,y3,x4,y4" | --auto-walls) [--bins 20] [--stations 1] [--axis-deg A] [--json]',
-  options: [...CHANNEL_OPTIONS, ...TEXTURE_OPTIONS],
+  options: [
+    ...CHANNEL_OPTIONS,
+    { name: 'source', kind: 'string', help: 'orientation from: texture (structure tensor) or plate (compensator colour image)', defaultText: 'texture' },
+    ...TEXTURE_OPTIONS,
+    ...PLATE_OPTIONS.filter((o) => o.name !== 'field-out'),
+    MATCH_OPTION,
+  ],
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
     if (!stringOpt(a, 'walls') && !a.options.has('auto-walls')) {
       throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
     }
     const images = await loadImageFiles(a.positionals);
-    const texture = textureOptionsFrom(a);
     const fieldOut = stringOpt(a, 'field-out');
     const results: ProfileResult[] = [];
     for (const img of images) {
-      const { field } = await analyseOrientation(img, texture);
+      const field = await fieldFor(img, a);
       if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda profile ${img.source.name}`);
       const r = await channelProfileOutput(img, field, a);
       if (r) results.push(r);

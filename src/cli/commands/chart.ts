@@ -1,0 +1,50 @@
+import { interferenceChart, renderChart, parseIlluminant, fullWavePlate, illuminantLabel } from '../../optics/index.ts';
+import { encodePng } from '../../report/png.ts';
+import { numberOpt, stringOpt } from '../args.ts';
+import type { Command } from '../command.ts';
+import { formatTable } from '../format.ts';
+import { writeBytes } from '../io.ts';
+import { SCHEMA_VERSION } from '../../analyses/index.ts';
+
+export const chartCommand: Command = {
+  name: 'chart',
+  summary: 'interference colour chart (0-2000 nm, with and without the compensator) as a table, CSV and PNG',
+  usage: '[--compensator-nm N] [--illuminant 3200K|D65] [--out chart.png] [--csv chart.csv]',
+  options: [
+    { name: 'compensator-nm', kind: 'number', help: 'full-wave compensator retardance, nm', defaultText: '550' },
+    { name: 'illuminant', kind: 'string', help: 'lamp: a colour temperature such as 3200K, or D65, or A', defaultText: '3200K' },
+    { name: 'max-nm', kind: 'number', help: 'largest retardance on the chart, nm', defaultText: '2000' },
+    { name: 'step-nm', kind: 'number', help: 'retardance step of the table, nm', defaultText: '5' },
+    { name: 'width-px', kind: 'number', help: 'width of the PNG, px', defaultText: '1000' },
+    { name: 'out', kind: 'string', help: 'write the chart picture as a PNG' },
+  ],
+  async run(a) {
+    const ill = stringOpt(a, 'illuminant');
+    const illuminant = ill ? parseIlluminant(ill) : { kind: 'blackbody' as const, temperatureK: 3200 };
+    const compensatorNm = numberOpt(a, 'compensator-nm') ?? 550;
+    const rows = interferenceChart({ illuminant, compensator: fullWavePlate(compensatorNm) }, { maxNm: numberOpt(a, 'max-nm'), stepNm: numberOpt(a, 'step-nm') });
+    const out = stringOpt(a, 'out');
+    if (out) {
+      const img = renderChart(rows, numberOpt(a, 'width-px') ?? 1000);
+      await writeBytes(out, encodePng(img));
+    }
+    const hex = (c: number[]) => '#' + c.map((v) => v.toString(16).padStart(2, '0')).join('');
+    const every = Math.max(1, Math.round(50 / (rows[1]?.retardanceNm ?? 50)));
+    return {
+      json: {
+        schemaVersion: SCHEMA_VERSION, analysis: 'chart', illuminant: illuminantLabel(illuminant), compensatorNm, picture: out ?? null,
+        rows: rows.map((r) => ({ retardanceNm: r.retardanceNm, order: r.band.label, band: r.band.name, lab: r.plain.lab, srgb8: r.plain.srgb8, labWithCompensator: r.withCompensator.lab, srgb8WithCompensator: r.withCompensator.srgb8 })),
+        warnings: [],
+      },
+      table: formatTable(['retardance nm', 'order', 'band', 'colour', 'with compensator'],
+        rows.filter((_, i) => i % every === 0).map((r) => [r.retardanceNm, r.band.label, r.band.name, hex(r.plain.srgb8), hex(r.withCompensator.srgb8)])),
+      csvRows: rows.map((r) => ({
+        retardanceNm: r.retardanceNm, order: r.band.label, band: r.band.name,
+        L: r.plain.lab[0], a: r.plain.lab[1], b: r.plain.lab[2], R: r.plain.srgb8[0], G: r.plain.srgb8[1], B: r.plain.srgb8[2],
+        compensatorL: r.withCompensator.lab[0], compensatorA: r.withCompensator.lab[1], compensatorB: r.withCompensator.lab[2],
+        compensatorR: r.withCompensator.srgb8[0], compensatorG: r.withCompensator.srgb8[1], compensatorB8: r.withCompensator.srgb8[2],
+      })),
+      warnings: [],
+    };
+  },
+};

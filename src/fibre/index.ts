@@ -1,0 +1,15 @@
+/** Public surface of the fibre folder: diameters from images, edge models, fibre numbers. */
+export { measureFibreDiameters, DIAMETER_DEFAULTS, DROP_REASON_TEXT } from './diameter.ts';
+export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
+export type { DropReason, DroppedStation } from './stations.ts';
+export { erf, erfc, normalCdf } from './erf.ts';
+export { fitErfEdge, fitErfBar, parabolaEdgeIndex } from './edgeFit.ts';
+export type { ErfEdgeFit, ErfEdgeStart, ErfBarFit } from './edgeFit.ts';
+export { stationStats, studentTQuantile, studentTCdf } from './stats.ts';
+export type { StationStats } from './stats.ts';
+export {
+  roundAreaUm2, texFromArea, texFromDiameter, diameterUmFromTex, texToDtex, dtexToTex, texToDenier, denierToTex,
+  packingFraction, gpaFromNPerTex, nPerTexFromGpa, cnPerDtexToNPerTex, nPerTexToCnPerDtex, gfPerDenToNPerTex,
+  nPerTexToGfPerDen, birefringence, orientationFactor, vibroscopeLinearDensity, offNormalWidth, fibreNumbers,
+} from './numbers.ts';
+export type { PackingFraction, OrientationFactor, VibroscopeResult, FibreNumbersInput, FibreNumbers } from './numbers.ts';

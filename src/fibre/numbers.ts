@@ -1,0 +1,260 @@
+/**
+ * Fibre numbers (domain.md §7, Units): linear density, packing fraction, specific stress,
+ * birefringence and orientation factor, vibroscope linear density.
+ *
+ * Definitions: tex = g per 1000 m, dtex = g per 10 000 m, denier = g per 9000 m, so 1 tex = 10 dtex =
+ * 9 den. A solid fibre of cross-section A [um^2] and density rho [g/cm^3] has
+ * tex = rho * A * 1e-3 (A * 1e-8 cm^2 times 1e5 cm per km). Specific stress: 1 N/tex = 1 GPa / (g/cm^3).
+ */
+import { InputError } from '../common/errors.ts';
+
+/** Standard gravity (exact by definition, CGPM 1901), for gram-force. */
+const STANDARD_GRAVITY_M_PER_S2 = 9.80665;
+
+function positive(name: string, value: number, unit: string, max = 1e12): number {
+  if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0 || value > max) {
+    throw new InputError(`${name} must be a positive number${unit ? ` in ${unit}` : ''}, got ${String(value)}`,
+      `Give ${name} a value above 0`);
+  }
+  return value;
+}
+
+/** Cross-section of a round fibre, A = pi D^2 / 4, in um^2 from D in um. */
+export function roundAreaUm2(diameterUm: number): number {
+  positive('diameter', diameterUm, 'um', 1e6);
+  return (Math.PI * diameterUm * diameterUm) / 4;
+}
+
+/** Linear density in tex of a solid fibre of cross-section `areaUm2` and density `densityGPerCm3`: rho A 1e-3. */
+export function texFromArea(areaUm2: number, densityGPerCm3: number): number {
+  positive('cross-section area', areaUm2, 'um^2');
+  positive('density', densityGPerCm3, 'g/cm3', 100);
+  return densityGPerCm3 * areaUm2 * 1e-3;
+}
+
+/** Linear density in tex of a solid round fibre: tex = rho pi D^2 / 4 * 1e-3 (D in um, rho in g/cm^3). */
+export function texFromDiameter(diameterUm: number, densityGPerCm3: number): number {
+  return texFromArea(roundAreaUm2(diameterUm), densityGPerCm3);
+}
+
+/** Diameter in um of a solid round fibre of linear density `tex`: D = sqrt(4 tex 1e3 / (pi rho)). */
+export function diameterUmFromTex(tex: number, densityGPerCm3: number): number {
+  positive('linear density', tex, 'tex');
+  positive('density', densityGPerCm3, 'g/cm3', 100);
+  return Math.sqrt((4 * tex * 1e3) / (Math.PI * densityGPerCm3));
+}
+
+/** tex -> dtex (x 10). */
+export const texToDtex = (tex: number): number => tex * 10;
+/** dtex -> tex (/ 10). */
+export const dtexToTex = (dtex: number): number => dtex / 10;
+/** tex -> denier (x 9: denier is g per 9000 m). */
+export const texToDenier = (tex: number): number => tex * 9;
+/** denier -> tex (/ 9). */
+export const denierToTex = (denier: number): number => denier / 9;
+
+export interface PackingFraction {
+  /** Measured tex / tex of a solid round fibre of the measured diameter (1 = fully dense). */
+  packingFraction: number;
+  solidTex: number;
+  warnings: string[];
+}
+
+/**
+ * Packing fraction (fill factor) of a porous or multi-filament fibre: measured linear density over the
+ * linear density a solid round fibre of the imaged diameter would have. A value above 1 is
+ * physically impossible for a dense material; it is returned with a warning (wrong density, a
+ * non-round cross-section seen edge-on, or a diameter under-estimate) rather than clipped.
+ */
+export function packingFraction(measuredTex: number, diameterUm: number, densityGPerCm3: number): PackingFraction {
+  positive('measured linear density', measuredTex, 'tex');
+  const solidTex = texFromDiameter(diameterUm, densityGPerCm3);
+  const phi = measuredTex / solidTex;
+  const warnings: string[] = [];
+  if (phi > 1) {
+    warnings.push(`packing fraction ${phi.toFixed(3)} is above 1: the measured linear density is more than a solid ` +
+      'fibre of this diameter and density can have; check the density, the diameter and the cross-section shape');
+  }
+  return { packingFraction: phi, solidTex, warnings };
+}
+
+/** Stress in GPa from specific stress in N/tex at density rho: sigma = tenacity * rho (1 N/tex = 1 GPa/(g/cm^3)). */
+export function gpaFromNPerTex(nPerTex: number, densityGPerCm3: number): number {
+  positive('specific stress', nPerTex, 'N/tex', 1e3);
+  positive('density', densityGPerCm3, 'g/cm3', 100);
+  return nPerTex * densityGPerCm3;
+}
+
+/** Specific stress in N/tex from stress in GPa at density rho: tenacity = sigma / rho. */
+export function nPerTexFromGpa(gpa: number, densityGPerCm3: number): number {
+  positive('stress', gpa, 'GPa', 1e4);
+  positive('density', densityGPerCm3, 'g/cm3', 100);
+  return gpa / densityGPerCm3;
+}
+
+/** cN/dtex -> N/tex: 1 cN/dtex = 0.01 N / 0.1 tex = 0.1 N/tex. */
+export const cnPerDtexToNPerTex = (cnPerDtex: number): number => cnPerDtex * 0.1;
+/** N/tex -> cN/dtex. */
+export const nPerTexToCnPerDtex = (nPerTex: number): number => nPerTex * 10;
+/** gf/den -> N/tex: 9.80665e-3 N / (1/9 tex) = 0.0882599 N/tex per gf/den. */
+export const gfPerDenToNPerTex = (gfPerDen: number): number => gfPerDen * STANDARD_GRAVITY_M_PER_S2 * 1e-3 * 9;
+/** N/tex -> gf/den. */
+export const nPerTexToGfPerDen = (nPerTex: number): number => nPerTex / (STANDARD_GRAVITY_M_PER_S2 * 1e-3 * 9);
+
+/**
+ * Birefringence Delta n = retardance / thickness (dimensionless), retardance in nm, thickness in um
+ * (so Delta n = retardanceNm / (thicknessUm * 1000)). For a round fibre viewed side-on the path through
+ * its centre is the diameter.
+ */
+export function birefringence(retardanceNm: number, thicknessUm: number): number {
+  if (typeof retardanceNm !== 'number' || !Number.isFinite(retardanceNm) || retardanceNm < 0) {
+    throw new InputError(`retardance must be a number of nm >= 0, got ${String(retardanceNm)}`);
+  }
+  positive('thickness', thicknessUm, 'um', 1e6);
+  return retardanceNm / (thicknessUm * 1000);
+}
+
+export interface OrientationFactor {
+  /** Delta n / Delta n_intrinsic (Hermans-type orientation factor from birefringence). */
+  orientationFactor: number;
+  warnings: string[];
+}
+
+/**
+ * Orientation factor f = Delta n / Delta n0, with Delta n0 the intrinsic birefringence of the perfectly
+ * aligned material (signed: a negative Delta n0 material has negative Delta n when aligned). f outside
+ * [-0.5, 1] (the range of <P2>) is returned with a warning.
+ */
+export function orientationFactor(birefringenceValue: number, intrinsicBirefringence: number): OrientationFactor {
+  if (!Number.isFinite(birefringenceValue)) {
+    throw new InputError(`birefringence must be a finite number, got ${String(birefringenceValue)}`);
+  }
+  if (!Number.isFinite(intrinsicBirefringence) || intrinsicBirefringence === 0 || Math.abs(intrinsicBirefringence) > 5) {
+    throw new InputError(`intrinsic birefringence must be a non-zero number (|value| <= 5), got ${String(intrinsicBirefringence)}`);
+  }
+  const f = birefringenceValue / intrinsicBirefringence;
+  const warnings = f > 1 || f < -0.5
+    ? [`orientation factor ${f.toFixed(3)} is outside [-0.5, 1]: check the retardance order, thickness and intrinsic birefringence`]
+    : [];
+  return { orientationFactor: f, warnings };
+}
+
+export interface VibroscopeResult {
+  linearDensityKgPerM: number;
+  tex: number;
+  dtex: number;
+  denier: number;
+}
+
+/**
+ * Vibroscope linear density (ASTM D1577 option C; ideal string of length L under tension T vibrating at
+ * its fundamental f = (1/(2L)) sqrt(T/m)): m = T / (4 L^2 f^2) in kg/m; 1 tex = 1e-6 kg/m.
+ * Bending stiffness is neglected (the ideal-string model), which over-estimates m for stiff fibres.
+ */
+export function vibroscopeLinearDensity(tensionN: number, lengthM: number, frequencyHz: number): VibroscopeResult {
+  positive('tension', tensionN, 'N', 1e3);
+  positive('vibrating length', lengthM, 'm', 10);
+  positive('frequency', frequencyHz, 'Hz', 1e9);
+  const m = tensionN / (4 * lengthM * lengthM * frequencyHz * frequencyHz);
+  const tex = m * 1e6;
+  return { linearDensityKgPerM: m, tex, dtex: texToDtex(tex), denier: texToDenier(tex) };
+}
+
+/** Apparent width of a fibre of width D measured psi degrees off its normal: D / cos(psi). */
+export function offNormalWidth(widthTrue: number, psiDeg: number): number {
+  if (!Number.isFinite(psiDeg) || Math.abs(psiDeg) >= 90) {
+    throw new InputError(`angle off the normal must be a number of degrees in (-90, 90), got ${String(psiDeg)}`);
+  }
+  positive('width', widthTrue, '');
+  return widthTrue / Math.cos((psiDeg * Math.PI) / 180);
+}
+
+export interface FibreNumbersInput {
+  diameterUm: number;
+  densityGPerCm3: number;
+  /** Measured linear density, for the packing fraction. */
+  linearDensityTex?: number;
+  tenacityNPerTex?: number;
+  strengthGPa?: number;
+  retardanceNm?: number;
+  /** Optical path for the birefringence; default the diameter. */
+  thicknessUm?: number;
+  intrinsicBirefringence?: number;
+}
+
+export interface FibreNumbers {
+  diameterUm: number;
+  densityGPerCm3: number;
+  areaUm2: number;
+  solidTex: number;
+  solidDtex: number;
+  solidDenier: number;
+  linearDensityTex: number | null;
+  linearDensityDtex: number | null;
+  linearDensityDenier: number | null;
+  packingFraction: number | null;
+  tenacityNPerTex: number | null;
+  tenacityCnPerDtex: number | null;
+  tenacityGfPerDen: number | null;
+  /** Stress on the solid cross-section at the given density (tenacity x density). */
+  strengthGPa: number | null;
+  retardanceNm: number | null;
+  thicknessUm: number | null;
+  birefringence: number | null;
+  intrinsicBirefringence: number | null;
+  orientationFactor: number | null;
+  warnings: string[];
+}
+
+/**
+ * Every fibre number the inputs allow, in one record (the `retarda fibre` output). Tenacity and
+ * strength are alternatives: give one and the other follows at the given density.
+ */
+export function fibreNumbers(input: FibreNumbersInput): FibreNumbers {
+  const { diameterUm, densityGPerCm3 } = input;
+  const areaUm2 = roundAreaUm2(diameterUm);
+  const solidTex = texFromDiameter(diameterUm, densityGPerCm3);
+  const warnings: string[] = [];
+  let pf: number | null = null;
+  const measured = input.linearDensityTex ?? null;
+  if (measured !== null) {
+    const p = packingFraction(measured, diameterUm, densityGPerCm3);
+    pf = p.packingFraction;
+    warnings.push(...p.warnings);
+  }
+  if (input.tenacityNPerTex !== undefined && input.strengthGPa !== undefined) {
+    throw new InputError('give either the tenacity (N/tex) or the strength (GPa), not both');
+  }
+  let tenacity: number | null = null;
+  let strength: number | null = null;
+  if (input.tenacityNPerTex !== undefined) {
+    tenacity = input.tenacityNPerTex;
+    strength = gpaFromNPerTex(tenacity, densityGPerCm3);
+  } else if (input.strengthGPa !== undefined) {
+    strength = input.strengthGPa;
+    tenacity = nPerTexFromGpa(strength, densityGPerCm3);
+  }
+  let dn: number | null = null;
+  let thickness: number | null = null;
+  let f: number | null = null;
+  if (input.retardanceNm !== undefined) {
+    thickness = input.thicknessUm ?? diameterUm;
+    dn = birefringence(input.retardanceNm, thickness);
+    if (input.intrinsicBirefringence !== undefined) {
+      const o = orientationFactor(dn, input.intrinsicBirefringence);
+      f = o.orientationFactor;
+      warnings.push(...o.warnings);
+    }
+  } else if (input.intrinsicBirefringence !== undefined) {
+    warnings.push('intrinsic birefringence given without a retardance: no orientation factor computed');
+  }
+  return {
+    diameterUm, densityGPerCm3, areaUm2, solidTex, solidDtex: texToDtex(solidTex), solidDenier: texToDenier(solidTex),
+    linearDensityTex: measured, linearDensityDtex: measured === null ? null : texToDtex(measured),
+    linearDensityDenier: measured === null ? null : texToDenier(measured), packingFraction: pf,
+    tenacityNPerTex: tenacity, tenacityCnPerDtex: tenacity === null ? null : nPerTexToCnPerDtex(tenacity),
+    tenacityGfPerDen: tenacity === null ? null : nPerTexToGfPerDen(tenacity), strengthGPa: strength,
+    retardanceNm: input.retardanceNm ?? null, thicknessUm: thickness, birefringence: dn,
+    intrinsicBirefringence: input.intrinsicBirefringence ?? null, orientationFactor: f, warnings,
+  };
+}

@@ -1,0 +1,164 @@
+/**
+ * Station statistics: mean, SD, CV, min, max and a 95 % interval on the mean that allows for the
+ * correlation of neighbouring stations (real diameter variation is smooth along a fibre, so adjacent
+ * stations are not independent).
+ */
+
+/** Natural log of the gamma function (Lanczos, g = 7, n = 9; about 15 digits for x > 0). */
+function lnGamma(x: number): number {
+  const c = [0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313,
+    -176.61502916214059, 12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6,
+    1.5056327351493116e-7];
+  if (x < 0.5) return Math.log(Math.PI / Math.sin(Math.PI * x)) - lnGamma(1 - x);
+  const z = x - 1;
+  let a = c[0];
+  const t = z + 7.5;
+  for (let i = 1; i < 9; i++) a += c[i] / (z + i);
+  return 0.5 * Math.log(2 * Math.PI) + (z + 0.5) * Math.log(t) - t + Math.log(a);
+}
+
+/** Continued fraction of the regularised incomplete beta function (Numerical Recipes `betacf`). */
+function betaCf(a: number, b: number, x: number): number {
+  const tiny = 1e-300;
+  let c = 1;
+  let d = 1 - ((a + b) * x) / (a + 1);
+  d = Math.abs(d) < tiny ? tiny : d;
+  d = 1 / d;
+  let h = d;
+  for (let m = 1; m <= 500; m++) {
+    const m2 = 2 * m;
+    let aa = (m * (b - m) * x) / ((a + m2 - 1) * (a + m2));
+    d = 1 + aa * d;
+    d = Math.abs(d) < tiny ? tiny : d;
+    c = 1 + aa / c;
+    c = Math.abs(c) < tiny ? tiny : c;
+    d = 1 / d;
+    h *= d * c;
+    aa = (-(a + m) * (a + b + m) * x) / ((a + m2) * (a + m2 + 1));
+    d = 1 + aa * d;
+    d = Math.abs(d) < tiny ? tiny : d;
+    c = 1 + aa / c;
+    c = Math.abs(c) < tiny ? tiny : c;
+    d = 1 / d;
+    const del = d * c;
+    h *= del;
+    if (Math.abs(del - 1) < 1e-15) break;
+  }
+  return h;
+}
+
+/** Regularised incomplete beta I_x(a, b). */
+function incompleteBeta(a: number, b: number, x: number): number {
+  if (x <= 0) return 0;
+  if (x >= 1) return 1;
+  const front = Math.exp(lnGamma(a + b) - lnGamma(a) - lnGamma(b) + a * Math.log(x) + b * Math.log(1 - x));
+  return x < (a + 1) / (a + b + 2) ? (front * betaCf(a, b, x)) / a : 1 - (front * betaCf(b, a, 1 - x)) / b;
+}
+
+/** Student-t cumulative distribution P(T <= t) for `df` degrees of freedom (df may be fractional). */
+export function studentTCdf(t: number, df: number): number {
+  const tail = 0.5 * incompleteBeta(df / 2, 0.5, df / (df + t * t));
+  return t >= 0 ? 1 - tail : tail;
+}
+
+/** Student-t quantile: the t with P(T <= t) = p, by bisection on the CDF (p in (0.5, 1)). */
+export function studentTQuantile(p: number, df: number): number {
+  let lo = 0;
+  let hi = 1;
+  while (studentTCdf(hi, df) < p) hi *= 2;
+  for (let i = 0; i < 200 && hi - lo > 1e-12 * hi; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (studentTCdf(mid, df) < p) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+export interface StationStats {
+  n: number;
+  mean: number | null;
+  sd: number | null;
+  cv: number | null;
+  min: number | null;
+  max: number | null;
+  ciLow: number | null;
+  ciHigh: number | null;
+  /** Lag-1 autocorrelation of the station values (within each fibre), clipped to >= 0 when used. */
+  lag1Correlation: number | null;
+  /** n (1 - r1) / (1 + r1): the number of independent stations the interval is based on. */
+  nEffective: number | null;
+}
+
+/**
+ * Statistics of station values given as runs (one run per fibre, stations in order along it).
+ * Mean, SD (n - 1), CV, min and max are over all stations.
+ *
+ * 95 % interval, one fibre (or `unit` 'station'): mean +- t(0.975, nEff - 1) * SD / sqrt(nEff), with
+ * nEff = n (1 - r1)/(1 + r1) for a first-order autoregressive sequence of lag-1 correlation r1 >= 0 (the
+ * usual variance-inflation rule for correlated series; r1 is taken within each run about the run's own
+ * mean, and r1 < 0 is taken as 0, which keeps the interval conservative).
+ *
+ * With `unit` 'run' and two or more non-empty runs, the fibres are the sampling unit (stations of one
+ * fibre are not independent draws from the sample): mean +- t(0.975, k - 1) * SD(run means) / sqrt(k),
+ * nEffective = k.
+ */
+export function stationStats(runs: number[][], unit: 'station' | 'run' = 'station'): StationStats {
+  const all = runs.flat();
+  const n = all.length;
+  const empty: StationStats = { n, mean: null, sd: null, cv: null, min: null, max: null, ciLow: null, ciHigh: null,
+    lag1Correlation: null, nEffective: null };
+  if (n === 0) return empty;
+  const mean = all.reduce((a, b) => a + b, 0) / n;
+  let min = Infinity;
+  let max = -Infinity;
+  for (const v of all) {
+    if (v < min) min = v;
+    if (v > max) max = v;
+  }
+  if (n < 2) return { ...empty, mean, min, max };
+  let ss = 0;
+  for (const v of all) ss += (v - mean) ** 2;
+  const sd = Math.sqrt(ss / (n - 1));
+  let lagSum = 0;
+  let lagCount = 0;
+  let withinSs = 0;
+  let withinCount = 0;
+  for (const run of runs) {
+    if (run.length === 0) continue;
+    const m = run.reduce((a, b) => a + b, 0) / run.length;
+    for (let i = 0; i < run.length; i++) {
+      withinSs += (run[i] - m) ** 2;
+      withinCount++;
+      if (i > 0) {
+        lagSum += (run[i] - m) * (run[i - 1] - m);
+        lagCount++;
+      }
+    }
+  }
+  const r1 = lagCount > 0 && withinSs > 0 ? (lagSum / lagCount) / (withinSs / withinCount) : null;
+  const stats = { n, mean, sd, cv: mean !== 0 ? sd / mean : null, min, max, lag1Correlation: r1 };
+  const runMeans = runs.filter((r) => r.length > 0).map((r) => r.reduce((a, b) => a + b, 0) / r.length);
+  if (unit === 'run' && runMeans.length >= 2) {
+    const k = runMeans.length;
+    const mm = runMeans.reduce((a, b) => a + b, 0) / k;
+    const sdMeans = Math.sqrt(runMeans.reduce((a, b) => a + (b - mm) ** 2, 0) / (k - 1));
+    const half = (studentTQuantile(0.975, k - 1) * sdMeans) / Math.sqrt(k);
+    return { ...stats, ciLow: mean - half, ciHigh: mean + half, nEffective: k };
+  }
+  const rUsed = Math.min(Math.max(r1 ?? 0, 0), 0.99);
+  const nEff = Math.max(2, (n * (1 - rUsed)) / (1 + rUsed));
+  const half = (studentTQuantile(0.975, nEff - 1) * sd) / Math.sqrt(nEff);
+  return { ...stats, ciLow: mean - half, ciHigh: mean + half, nEffective: nEff };
+}
+
+export function median(values: ArrayLike<number>): number {
+  const a = Float64Array.from(values).sort();
+  const m = a.length >> 1;
+  return a.length % 2 ? a[m] : 0.5 * (a[m - 1] + a[m]);
+}
+
+/** Median absolute deviation scaled by 1.4826 to estimate a Gaussian SD. */
+export function robustSd(values: ArrayLike<number>): number {
+  const med = median(values);
+  return 1.4826 * median(Float64Array.from(values, (v) => Math.abs(v - med)));
+}

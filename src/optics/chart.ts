@@ -1,0 +1,135 @@
+import { checkNumber } from '../common/errors.ts';
+import { DEG } from '../common/angles.ts';
+import { colourModel, interferenceColour } from './colourModel.ts';
+import { wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
+import type { Vec3 } from './colorimetry.ts';
+import { resolveTrain, fullWavePlate, type OpticalTrain } from './train.ts';
+
+/** Coarse order band of a retardance (classical Michel-Levy scale, names as in mineralogy texts). */
+export interface OrderBand {
+  /** 1-4 for first to fourth order, 5 for higher orders. */
+  order: number;
+  /** Roman numeral label: I, II, III, IV, or "high". */
+  label: string;
+  /** Colour family inside the band. */
+  name: string;
+}
+
+/**
+ * Coarse bands for labels: first order 0-550 nm (black/grey 0-200, white 200-280, yellow 280-450,
+ * orange/red 450-550); sensitive tint 550-575; second order 575-1100 (blue 575-700, green 700-820,
+ * yellow 820-920, orange/red 920-1100); third 1100-1650; fourth 1650-2200; high-order white above.
+ */
+export function orderBand(retardanceNm: number): OrderBand {
+  const g = retardanceNm;
+  if (g < 550) {
+    const name = g < 200 ? 'black/grey' : g < 280 ? 'white' : g < 450 ? 'yellow' : 'orange/red';
+    return { order: 1, label: 'I', name };
+  }
+  if (g < 575) return { order: 1, label: 'I/II', name: 'sensitive tint' };
+  if (g < 1100) {
+    const name = g < 700 ? 'blue' : g < 820 ? 'green' : g < 920 ? 'yellow' : 'orange/red';
+    return { order: 2, label: 'II', name };
+  }
+  if (g < 1650) return { order: 3, label: 'III', name: 'third order' };
+  if (g < 2200) return { order: 4, label: 'IV', name: 'fourth order' };
+  return { order: 5, label: 'high', name: g > 2500 ? 'high-order white' : 'pale high order' };
+}
+
+export interface ChartRow {
+  retardanceNm: number;
+  band: OrderBand;
+  /** Sample at 45 deg between the train's polars, no compensator. */
+  plain: { xyz: Vec3; lab: Vec3; srgb8: Vec3 };
+  /** Same with the compensator (the train's, or a 550-nm full-wave plate at +45 if it has none), sample parallel to it. */
+  withCompensator: { xyz: Vec3; lab: Vec3; srgb8: Vec3 };
+}
+
+export interface ChartOptions {
+  maxNm?: number;
+  stepNm?: number;
+  /** Spectral integration grid (default 380-780 nm, 5 nm). */
+  grid?: WavelengthGrid;
+}
+
+/** Interference colour chart data, retardance 0..maxNm (default 0-2000 nm, 5-nm steps), at the train's lamp. */
+export function interferenceChart(train: Partial<OpticalTrain> = {}, options: ChartOptions = {}): ChartRow[] {
+  const maxNm = checkNumber('chart maximum retardance', options.maxNm ?? 2000, 10, 20000, 'nm');
+  const stepNm = checkNumber('chart step', options.stepNm ?? 5, 0.1, 500, 'nm');
+  const t = resolveTrain(train);
+  const comp = t.compensator ?? fullWavePlate();
+  const grid = options.grid ?? wavelengthGrid();
+  const plainModel = colourModel({ ...t, compensator: null }, grid);
+  const plateModel = colourModel({ ...t, compensator: comp }, grid);
+  const sampleAxis = (t.polariserDeg + 45) * DEG;
+  const rows: ChartRow[] = [];
+  for (let g = 0; g <= maxNm + 1e-9; g += stepNm) {
+    const a = interferenceColour(plainModel, { angleRad: sampleAxis, retardanceNm: g });
+    const b = interferenceColour(plateModel, { angleRad: comp.axisDeg * DEG, retardanceNm: g });
+    rows.push({
+      retardanceNm: g, band: orderBand(g),
+      plain: { xyz: a.xyz, lab: a.lab, srgb8: a.srgb8 },
+      withCompensator: { xyz: b.xyz, lab: b.lab, srgb8: b.srgb8 },
+    });
+  }
+  return rows;
+}
+
+/** An RGB pixel buffer (row-major, 3 bytes per pixel), ready for a PNG encoder. */
+export interface RgbBuffer {
+  width: number;
+  height: number;
+  channels: 3;
+  data: Uint8Array;
+}
+
+// 3x5 glyphs for the order labels (I, V) and a slash; rows top to bottom, 3 bits each.
+const GLYPHS: Record<string, number[]> = { I: [7, 2, 2, 2, 7], V: [5, 5, 5, 5, 2], '/': [1, 1, 2, 4, 4] };
+
+/**
+ * Renders the chart as an RGB picture: top strip without compensator, bottom strip with it, retardance
+ * increasing to the right; tick marks every 100 nm (long ones at the order boundaries 550, 1100, 1650 nm)
+ * and the order numerals I-IV in the label band between the strips.
+ */
+export function renderChart(rows: ChartRow[], widthPx = 1000, stripPx = 60): RgbBuffer {
+  checkNumber('chart width', widthPx, 50, 20000, 'px');
+  checkNumber('chart strip height', stripPx, 10, 2000, 'px');
+  const labelPx = 16, tickPx = 8;
+  const width = Math.round(widthPx), height = 2 * Math.round(stripPx) + labelPx + tickPx;
+  const data = new Uint8Array(width * height * 3).fill(255);
+  const maxNm = rows[rows.length - 1].retardanceNm;
+  const strip = Math.round(stripPx);
+  const set = (x: number, y: number, c: Vec3) => { const i = 3 * (y * width + x); data[i] = c[0]; data[i + 1] = c[1]; data[i + 2] = c[2]; };
+  for (let x = 0; x < width; x++) {
+    const g = (x / (width - 1)) * maxNm;
+    const row = rows[Math.min(rows.length - 1, Math.round((g / maxNm) * (rows.length - 1)))];
+    for (let y = 0; y < strip; y++) {
+      set(x, y, row.plain.srgb8);
+      set(x, y + strip + labelPx + tickPx, row.withCompensator.srgb8);
+    }
+  }
+  const black: Vec3 = [0, 0, 0];
+  const tick = (g: number, lengthPx: number) => {
+    const x = Math.min(width - 1, Math.round((g / maxNm) * (width - 1)));
+    for (let y = strip; y < strip + lengthPx; y++) set(x, y, black);
+  };
+  for (let g = 0; g <= maxNm; g += 100) tick(g, tickPx / 2);
+  for (const g of [550, 1100, 1650]) if (g <= maxNm) tick(g, tickPx + labelPx);
+  const labels: [number, string][] = [[275, 'I'], [825, 'II'], [1375, 'III'], [1925, 'IV']];
+  for (const [g, text] of labels) {
+    if (g > maxNm) continue;
+    const scale = 2, glyphW = 4 * scale;
+    const x0 = Math.round((g / maxNm) * (width - 1) - (text.length * glyphW) / 2);
+    text.split('').forEach((ch, k) => {
+      const rowsBits = GLYPHS[ch];
+      for (let r = 0; r < 5; r++) for (let c = 0; c < 3; c++) {
+        if (!(rowsBits[r] & (4 >> c))) continue;
+        for (let dy = 0; dy < scale; dy++) for (let dx = 0; dx < scale; dx++) {
+          const x = x0 + k * glyphW + c * scale + dx, y = strip + tickPx + 2 + r * scale + dy;
+          if (x >= 0 && x < width) set(x, y, black);
+        }
+      }
+    });
+  }
+  return { width, height, channels: 3, data };
+}

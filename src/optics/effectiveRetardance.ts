@@ -1,0 +1,53 @@
+import { DEG } from '../common/angles.ts';
+import type { Image } from '../image/types.ts';
+import { colourModel, interferenceColour, matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
+import { cameraToModel, type CameraCalibration } from './camera.ts';
+import { cellLinearRgb, quantiseToCells } from './pixels.ts';
+import type { Vec3 } from './colorimetry.ts';
+
+/**
+ * First-order plate reading, Gamma_eff = Gamma_p + Gamma cos 2(theta - axis): the nearest colour (CIELAB) in the
+ * sequence of one retarder at 45 deg between the train's polars, for Gamma_eff from loNm to hiNm.
+ */
+export class EffectiveRetardanceReader {
+  private readonly labs: Float32Array;
+  constructor(model: ColourModel, private readonly loNm: number, hiNm: number, private readonly stepNm = 1) {
+    const t = model.train;
+    const plain = colourModel({ ...t, compensator: null });
+    const n = Math.floor((hiNm - loNm) / stepNm) + 1;
+    this.labs = new Float32Array(3 * n);
+    for (let k = 0; k < n; k++) {
+      const c = interferenceColour(plain, { angleRad: (t.polariserDeg + 45) * DEG, retardanceNm: loNm + k * stepNm });
+      this.labs.set(matchLabOfLinearRgb(c.linearRgb), 3 * k);
+    }
+  }
+
+  read(lab: Vec3): number {
+    const L = this.labs;
+    let best = 0, bestD = Infinity;
+    for (let k = 0; k < L.length / 3; k++) {
+      const a = L[3 * k] - lab[0], b = L[3 * k + 1] - lab[1], c = L[3 * k + 2] - lab[2];
+      const d = a * a + b * b + c * c;
+      if (d < bestD) { bestD = d; best = k; }
+    }
+    return this.loNm + best * this.stepNm;
+  }
+}
+
+/** Per colour-cube cell of an image: Lab (camera calibration removed) and, optionally, the effective retardance. */
+export function readCells(img: Image, camera: CameraCalibration, bits: number, reader?: EffectiveRetardanceReader) {
+  const { cells, saturated, invalid } = quantiseToCells(img, bits);
+  const nCells = 1 << (3 * bits);
+  const lab = new Float32Array(3 * nCells), eff = new Float32Array(nCells), done = new Uint8Array(nCells);
+  const used: number[] = [];
+  for (let i = 0; i < cells.length; i++) {
+    const c = cells[i];
+    if (c < 0 || done[c]) continue;
+    const l = matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(c, bits)));
+    lab.set(l, 3 * c);
+    if (reader) eff[c] = reader.read(l);
+    done[c] = 1;
+    used.push(c);
+  }
+  return { cells, lab, eff, saturated, invalid, used };
+}

@@ -1,0 +1,256 @@
+import { checkNumber, InputError } from '../common/errors.ts';
+import { DEG } from '../common/angles.ts';
+import type { Image } from '../image/types.ts';
+import type { OrientationField } from '../orientation/types.ts';
+import { srgbDecode } from './colorimetry.ts';
+import { calibrateFromBackground } from './calibration.ts';
+import { colourModel } from './colourModel.ts';
+import { NEUTRAL_CAMERA } from './camera.ts';
+import { readCells } from './effectiveRetardance.ts';
+import { buildPlateLookup } from './lookupTable.ts';
+import { checkColourImage, type Rect } from './pixels.ts';
+import { resolveTrain, type OpticalTrain } from './train.ts';
+import type { CameraCalibration } from './camera.ts';
+
+/** How the compensator image of a four-angle set was taken. */
+export interface PlateSignOptions {
+  train?: Partial<OpticalTrain>;
+  background?: Rect;
+  camera?: CameraCalibration;
+  retardanceMaxNm?: number;
+  /** The two candidates must differ by at least this much (Delta E76, default 3) for the plate to decide. */
+  marginDeltaE?: number;
+}
+
+/**
+ * For a compensator image: decides between theta and theta + 90 per pixel by the exact forward model. For each
+ * candidate the best retardance along that lookup row is found; the candidate whose best colour is nearer wins.
+ * Results are cached per (colour cell, angle row). Returns +1 (keep), -1 (add 90 deg) or 0 (undecided).
+ */
+function plateOrientationChooser(img: Image, o: PlateSignOptions) {
+  checkColourImage(img, 'resolving the 90-deg choice with a compensator image');
+  const train = resolveTrain(o.train);
+  if (!train.compensator) throw new InputError('the compensator image needs a compensator in its train', 'Give the compensator retardance and angle');
+  const cal = o.background ? calibrateFromBackground(img, o.background, train, { camera: o.camera }) : null;
+  if (cal) train.compensator = { ...train.compensator, retardanceNm: cal.compensatorNm };
+  const lut = buildPlateLookup(colourModel(train), { retardanceMaxNm: o.retardanceMaxNm, fullRange: true });
+  const margin = checkNumber('plate margin', o.marginDeltaE ?? 3, 0, 100);
+  const r = readCells(img, cal?.camera ?? o.camera ?? NEUTRAL_CAMERA, 6);
+  const nA = lut.anglesDeg.length, nR = lut.retardancesNm.length, step = lut.anglesDeg[1] - lut.anglesDeg[0], C = lut.coords;
+  const rowBest = new Map<number, number>();
+  const bestOnRow = (cell: number, j: number) => {
+    const key = cell * nA + j;
+    const hit = rowBest.get(key);
+    if (hit !== undefined) return hit;
+    const l0 = r.lab[3 * cell], l1 = r.lab[3 * cell + 1], l2 = r.lab[3 * cell + 2];
+    let best = Infinity;
+    for (let k = 0; k < nR; k++) {
+      const o3 = 3 * (j * nR + k), a = C[o3] - l0, b = C[o3 + 1] - l1, c = C[o3 + 2] - l2;
+      const d = a * a + b * b + c * c;
+      if (d < best) best = d;
+    }
+    const d = Math.sqrt(best);
+    rowBest.set(key, d);
+    return d;
+  };
+  const rowOf = (thetaRad: number) => ((Math.round((thetaRad / DEG - lut.anglesDeg[0]) / step) % nA) + nA) % nA;
+  return {
+    choose(i: number, thetaRad: number): number {
+      const cell = r.cells[i];
+      if (cell < 0) return 0;
+      const keep = bestOnRow(cell, rowOf(thetaRad)), flip = bestOnRow(cell, rowOf(thetaRad + Math.PI / 2));
+      if (Math.abs(keep - flip) < margin) return 0;
+      return keep < flip ? 1 : -1;
+    },
+    usable: (i: number) => r.cells[i] >= 0,
+  };
+}
+
+/** Per-pixel Fourier coefficients of I(alpha) = a0 + a4c cos 4 alpha + a4s sin 4 alpha. */
+export interface FourierFit {
+  a0: number; a4c: number; a4s: number;
+  /** theta = 1/4 atan2(-a4s, -a4c), degrees in [0, 90). */
+  angleDeg: number;
+  /** A = 2 sqrt(a4c^2 + a4s^2). */
+  amplitude: number;
+  /** b = a0 - A/2. */
+  background: number;
+  /** RMS of the fit residual (0 for 3 angles). */
+  residual: number;
+}
+
+/** Normal-equation solver for the design [1, cos 4a, sin 4a] at the given angles (radians). */
+function designPseudoInverse(anglesRad: number[]): number[][] {
+  const rows = anglesRad.map((a) => [1, Math.cos(4 * a), Math.sin(4 * a)]);
+  const M = [[0, 0, 0], [0, 0, 0], [0, 0, 0]];
+  for (const r of rows) for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) M[i][j] += r[i] * r[j];
+  const [a, b, c] = M[0], [d, e, f] = M[1], [g, h, k] = M[2];
+  const det = a * (e * k - f * h) - b * (d * k - f * g) + c * (d * h - e * g);
+  if (Math.abs(det) < 1e-9 * rows.length ** 3) {
+    throw new InputError('these polariser angles cannot separate orientation (the cos 4a / sin 4a fit is singular)', 'Use at least 3 angles spread over 90 deg, e.g. 0, 22.5, 45, 67.5');
+  }
+  const inv = [
+    [(e * k - f * h) / det, -(b * k - c * h) / det, (b * f - c * e) / det],
+    [-(d * k - f * g) / det, (a * k - c * g) / det, -(a * f - c * d) / det],
+    [(d * h - e * g) / det, -(a * h - b * g) / det, (a * e - b * d) / det],
+  ];
+  // P = M^-1 X^T: coefficient i = sum_k P[i][k] I_k.
+  return [0, 1, 2].map((i) => rows.map((r) => inv[i][0] * r[0] + inv[i][1] * r[1] + inv[i][2] * r[2]));
+}
+
+/**
+ * Least-squares fit of I(alpha) = b + A sin^2 2(theta - alpha) = a0 + a4c cos 4 alpha + a4s sin 4 alpha over any
+ * set of at least 3 angles (degrees): a4c = -(A/2) cos 4 theta, a4s = -(A/2) sin 4 theta (domain.md section 6).
+ */
+export function fitFourAngle(intensities: number[], anglesDeg: number[]): FourierFit {
+  const P = designPseudoInverse(anglesDeg.map((a) => a * DEG));
+  return fitWith(P, intensities, anglesDeg.map((a) => a * DEG));
+}
+
+function fitWith(P: number[][], I: ArrayLike<number>, anglesRad: number[]): FourierFit {
+  let a0 = 0, a4c = 0, a4s = 0;
+  for (let k = 0; k < I.length; k++) { a0 += P[0][k] * I[k]; a4c += P[1][k] * I[k]; a4s += P[2][k] * I[k]; }
+  const amplitude = 2 * Math.hypot(a4c, a4s);
+  let angleDeg = (0.25 * Math.atan2(-a4s, -a4c)) / DEG;
+  if (angleDeg < 0) angleDeg += 90;
+  if (angleDeg >= 90) angleDeg -= 90;
+  let ss = 0;
+  for (let k = 0; k < I.length; k++) {
+    const r = I[k] - (a0 + a4c * Math.cos(4 * anglesRad[k]) + a4s * Math.sin(4 * anglesRad[k]));
+    ss += r * r;
+  }
+  const dof = I.length - 3;
+  return { a0, a4c, a4s, angleDeg, amplitude, background: a0 - amplitude / 2, residual: dof > 0 ? Math.sqrt(ss / dof) : 0 };
+}
+
+export interface FourAngleOptions {
+  /** Angles of the crossed pair (or of the sample, negated), degrees. Default 0, 22.5, 45, 67.5. */
+  anglesDeg?: number[];
+  /** Open-beam or blank-slide image for flat-field division (same size). */
+  flatField?: Image;
+  /** Dark/background image subtracted before the flat-field division (same size). */
+  dark?: Image;
+  /** Pixels whose amplitude is below this fraction of the 99th-percentile amplitude are masked (default 0.02). */
+  amplitudeFloor?: number;
+  /** Compensator image resolving the 90-deg ambiguity, with its reading options. */
+  plate?: Image;
+  plateOptions?: PlateSignOptions;
+}
+
+export interface FourAngleResult {
+  field: OrientationField;
+  amplitude: Float32Array;
+  background: Float32Array;
+  residual: Float32Array;
+  /** Fraction of usable pixels whose 90-deg choice the plate image decided (0 without a plate). */
+  resolvedFraction: number;
+}
+
+/** Linear intensity plane of an image: luminance of linear RGB, or the grey channel, decoded when sRGB. */
+function linearIntensity(img: Image): Float32Array {
+  const n = img.width * img.height, out = new Float32Array(n);
+  // sRGB decoding through a 65536-entry table (exact for 8- and 16-bit data).
+  const table = img.encoding === 'srgb' ? Float32Array.from({ length: 65536 }, (_, k) => srgbDecode(k / 65535)) : null;
+  const dec = table ? (v: number) => table[Math.round(Math.min(1, Math.max(0, v)) * 65535)] : (v: number) => v;
+  if (img.channels === 1) for (let i = 0; i < n; i++) out[i] = dec(img.planes[0][i]);
+  else {
+    const [r, g, b] = img.planes;
+    for (let i = 0; i < n; i++) out[i] = 0.2126 * dec(r[i]) + 0.7152 * dec(g[i]) + 0.0722 * dec(b[i]);
+  }
+  return out;
+}
+
+/**
+ * Four-angle (or any-angle) crossed-polariser analysis: per-pixel Fourier fit for orientation mod 90 deg
+ * (slow or fast axis), relative retardance amplitude, background and residual, after optional dark
+ * subtraction and flat-field division. With a compensator image, the plate's effective retardance tells
+ * addition from subtraction and so picks theta or theta + 90.
+ */
+export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {}): FourAngleResult {
+  const angles = options.anglesDeg ?? [0, 22.5, 45, 67.5];
+  if (images.length < 3) throw new InputError(`the angle analysis needs at least 3 images, got ${images.length}`, 'Give one image per polariser angle');
+  if (angles.length !== images.length) {
+    throw new InputError(`${images.length} images but ${angles.length} angles`, 'Give one angle per image with --angles');
+  }
+  angles.forEach((a) => checkNumber('polariser angle', a, -360, 360, 'deg'));
+  const { width, height } = images[0];
+  for (const im of [...images, options.flatField, options.dark, options.plate]) {
+    if (im && (im.width !== width || im.height !== height)) {
+      throw new InputError(`${im.source.name} is ${im.width}x${im.height}, the first image is ${width}x${height}`, 'All images of one analysis must have the same size');
+    }
+  }
+  const floor = checkNumber('amplitude floor', options.amplitudeFloor ?? 0.02, 0, 1);
+  const anglesRad = angles.map((a) => a * DEG);
+  const P = designPseudoInverse(anglesRad);
+  const planes = images.map(linearIntensity);
+  const dark = options.dark ? linearIntensity(options.dark) : null;
+  const flat = options.flatField ? linearIntensity(options.flatField) : null;
+  let flatMean = 1;
+  if (flat) {
+    let s = 0;
+    for (let i = 0; i < flat.length; i++) s += flat[i] - (dark ? dark[i] : 0);
+    flatMean = s / flat.length;
+  }
+  const n = width * height;
+  const angleRad = new Float32Array(n), confidence = new Float32Array(n), mask = new Uint8Array(n);
+  const amplitude = new Float32Array(n), background = new Float32Array(n), residual = new Float32Array(n);
+  const nImg = images.length, I = new Float64Array(nImg), [P0, P1, P2] = P;
+  const cos4 = anglesRad.map((a) => Math.cos(4 * a)), sin4 = anglesRad.map((a) => Math.sin(4 * a));
+  let flatBad = 0;
+  for (let i = 0; i < n; i++) {
+    let f = 1;
+    if (flat) {
+      const v = flat[i] - (dark ? dark[i] : 0);
+      if (!(v > 1e-6)) { flatBad++; continue; }
+      f = flatMean / v;
+    }
+    let a0 = 0, a4c = 0, a4s = 0;
+    for (let k = 0; k < nImg; k++) {
+      const v = (planes[k][i] - (dark ? dark[i] : 0)) * f;
+      I[k] = v;
+      a0 += P0[k] * v; a4c += P1[k] * v; a4s += P2[k] * v;
+    }
+    let ss = 0;
+    for (let k = 0; k < nImg; k++) { const r = I[k] - (a0 + a4c * cos4[k] + a4s * sin4[k]); ss += r * r; }
+    const amp = 2 * Math.hypot(a4c, a4s), res = nImg > 3 ? Math.sqrt(ss / (nImg - 3)) : 0;
+    let th = 0.25 * Math.atan2(-a4s, -a4c);
+    if (th < 0) th += Math.PI / 2;
+    if (th >= Math.PI / 2) th -= Math.PI / 2;
+    angleRad[i] = th;
+    amplitude[i] = amp; background[i] = a0 - amp / 2; residual[i] = res;
+    confidence[i] = amp / (amp + 3 * res + 1e-12);
+    mask[i] = 1;
+  }
+  const sorted = Float32Array.from(amplitude).sort();
+  const ampRef = sorted[Math.min(n - 1, Math.floor(0.99 * (n - 1)))];
+  let lowAmp = 0;
+  for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
+  const warnings: string[] = [];
+  if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
+  if (lowAmp) warnings.push(`${lowAmp} pixels with no measurable anisotropy (amplitude below ${floor} of the 99th percentile) were masked`);
+  let ambiguity: OrientationField['ambiguity'] = 'mod-90';
+  let resolvedFraction = 0;
+  if (options.plate) {
+    const plate = plateOrientationChooser(options.plate, options.plateOptions ?? {});
+    let usable = 0, resolved = 0;
+    for (let i = 0; i < n; i++) {
+      if (!mask[i] || !plate.usable(i)) continue;
+      usable++;
+      const c = plate.choose(i, angleRad[i]);
+      if (c === 0) continue;
+      if (c < 0) angleRad[i] += 90 * DEG;
+      resolved++;
+    }
+    resolvedFraction = usable ? resolved / usable : 0;
+    if (usable > 0 && resolved === usable) ambiguity = 'none';
+    warnings.push(`the plate image decided the 90-deg choice in ${(100 * resolvedFraction).toFixed(1)} % of pixels; the rest (slow axis near the polars, or too little retardance) keep the fit's value in [0, 90)`);
+  }
+  for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
+  const field: OrientationField = {
+    width, height, angleRad, confidence, mask, method: 'four-angle', ambiguity,
+    pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
+    options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate },
+    warnings,
+  };
+  return { field, amplitude, background, residual, resolvedFraction };
+}

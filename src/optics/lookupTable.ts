@@ -1,0 +1,286 @@
+import { checkNumber, InputError } from '../common/errors.ts';
+import { DEG, axialDiffDeg } from '../common/angles.ts';
+import { mulMat3, type Vec3 } from './colorimetry.ts';
+import { matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
+
+/** Colour space of the match: CIELAB, or brightness-independent chroma (a*, b*) / (L* + 16). */
+export type MatchSpace = 'lab' | 'chroma';
+
+/**
+ * Forward-model colours over a grid of (structure angle, retardance): the lookup the plate reader searches.
+ * Angles cover [axis - 90, axis] when the train is mirror-symmetric about the compensator axis (the other
+ * half repeats it), else [-90, 90).
+ */
+export interface PlateLookup {
+  anglesDeg: Float64Array;
+  retardancesNm: Float64Array;
+  /** Match coordinates per entry (3 for 'lab', 2 for 'chroma'), index (angle * nRet + ret) * dims. */
+  coords: Float32Array;
+  dims: 2 | 3;
+  space: MatchSpace;
+  /** Camera linear sRGB of every entry (model white balance), for rendering test images. */
+  linearRgb: Float32Array;
+  mirrorAxisDeg: number | null;
+  birefringenceSign: 1 | -1;
+}
+
+export interface LookupOptions {
+  retardanceMaxNm?: number;
+  angleStepDeg?: number;
+  retardanceStepNm?: number;
+  space?: MatchSpace;
+  birefringenceSign?: 1 | -1;
+  /** Cover [-90, 90) even when the train is mirror-symmetric (for combining two images). */
+  fullRange?: boolean;
+}
+
+export const LOOKUP_DEFAULTS = { retardanceMaxNm: 800, angleStepDeg: 1, retardanceStepNm: 2, space: 'lab' as MatchSpace, birefringenceSign: 1 as 1 | -1 };
+
+/** Drops undefined entries so they do not override defaults. */
+export function definedOnly<T extends object>(o: T): Partial<T> {
+  return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined)) as Partial<T>;
+}
+
+/** Match coordinates of a Lab colour in the chosen space. */
+export function matchCoords(lab: Vec3, space: MatchSpace): number[] {
+  if (space === 'lab') return lab;
+  const d = Math.max(1, lab[0] + 16);
+  return [(100 * lab[1]) / d, (100 * lab[2]) / d];
+}
+
+/** True when polariser, compensator and analyser make theta and 2*axis - theta give the same colour. */
+export function isMirrorSymmetric(model: ColourModel): boolean {
+  const t = model.train;
+  if (!t.compensator) return false;
+  const rel = axialDiffDeg(t.compensator.axisDeg - t.polariserDeg, 45);
+  const crossedOrParallel = axialDiffDeg(t.analyserDeg - t.polariserDeg, 90) < 1e-9 || axialDiffDeg(t.analyserDeg, t.polariserDeg) < 1e-9;
+  return rel < 1e-9 && crossedOrParallel;
+}
+
+/** Builds the lookup from the spectral Jones model (one pass over wavelengths per entry). */
+export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}): PlateLookup {
+  const o = { ...LOOKUP_DEFAULTS, ...definedOnly(options) };
+  checkNumber('maximum retardance', o.retardanceMaxNm, 10, 5000, 'nm');
+  checkNumber('angle step', o.angleStepDeg, 0.05, 15, 'deg');
+  checkNumber('retardance step', o.retardanceStepNm, 0.1, 100, 'nm');
+  if (o.space !== 'lab' && o.space !== 'chroma') throw new InputError(`match space "${String(o.space)}" is not known`, 'Use lab or chroma');
+  const t = model.train;
+  const symmetric = isMirrorSymmetric(model) ? t.compensator!.axisDeg : null;
+  const mirror = o.fullRange ? null : symmetric;
+  const a0 = mirror !== null ? mirror - 90 : -90;
+  const nA = Math.round((mirror !== null ? 90 : 180 - o.angleStepDeg) / o.angleStepDeg) + 1;
+  const anglesDeg = Float64Array.from({ length: nA }, (_, j) => a0 + j * o.angleStepDeg);
+  const nR = Math.floor(o.retardanceMaxNm / o.retardanceStepNm + 1e-9) + 1;
+  const retardancesNm = Float64Array.from({ length: nR }, (_, k) => k * o.retardanceStepNm);
+  const lam = model.wavelengthsNm, nL = lam.length;
+  // Half-phase cos/sin of every (retardance, wavelength) pair and of the compensator.
+  const ch = new Float64Array(nR * nL), sh = new Float64Array(nR * nL);
+  for (let k = 0; k < nR; k++) for (let i = 0; i < nL; i++) {
+    const h = (Math.PI * retardancesNm[k]) / lam[i];
+    ch[k * nL + i] = Math.cos(h); sh[k * nL + i] = Math.sin(h);
+  }
+  const comp = t.compensator;
+  const cpH = new Float64Array(nL).fill(1), spH = new Float64Array(nL);
+  if (comp) for (let i = 0; i < nL; i++) { const h = (Math.PI * comp.retardanceNm) / lam[i]; cpH[i] = Math.cos(h); spH[i] = Math.sin(h); }
+  const cC = comp ? Math.cos(comp.axisDeg * DEG) : 1, sC = comp ? Math.sin(comp.axisDeg * DEG) : 0;
+  const px = Math.cos(t.polariserDeg * DEG), py = Math.sin(t.polariserDeg * DEG);
+  const ax = Math.cos(t.analyserDeg * DEG), ay = Math.sin(t.analyserDeg * DEG);
+  const dims = o.space === 'lab' ? 3 : 2;
+  const coords = new Float32Array(nA * nR * dims), linearRgb = new Float32Array(nA * nR * 3);
+  const slowOffset = o.birefringenceSign === -1 ? 90 : 0;
+  const mono = t.monochromeNm !== undefined;
+  for (let j = 0; j < nA; j++) {
+    const th = (anglesDeg[j] + slowOffset) * DEG;
+    const c = Math.cos(th), s = Math.sin(th);
+    const e1 = c * px + s * py, e2 = -s * px + c * py; // polarised light in the sample's axes (real)
+    for (let k = 0; k < nR; k++) {
+      let X = 0, Y = 0, Z = 0;
+      for (let i = 0; i < nL; i++) {
+        const hc = ch[k * nL + i], hs = sh[k * nL + i];
+        // Sample: axis 1 * (hc + i hs), axis 2 * (hc - i hs), back to x/y.
+        const p1r = e1 * hc, p1i = e1 * hs, p2r = e2 * hc, p2i = -e2 * hs;
+        let xr = c * p1r - s * p2r, xi = c * p1i - s * p2i, yr = s * p1r + c * p2r, yi = s * p1i + c * p2i;
+        if (comp) {
+          const r1 = cC * xr + sC * yr, i1 = cC * xi + sC * yi, r2 = -sC * xr + cC * yr, i2 = -sC * xi + cC * yi;
+          const pc = cpH[i], ps = spH[i];
+          const q1r = r1 * pc - i1 * ps, q1i = r1 * ps + i1 * pc, q2r = r2 * pc + i2 * ps, q2i = i2 * pc - r2 * ps;
+          xr = cC * q1r - sC * q2r; xi = cC * q1i - sC * q2i; yr = sC * q1r + cC * q2r; yi = sC * q1i + cC * q2i;
+        }
+        const re = ax * xr + ay * yr, im = ax * xi + ay * yi;
+        const tr = re * re + im * im;
+        if (mono) { X = model.whiteXyz[0] * tr; Y = model.whiteXyz[1] * tr; Z = model.whiteXyz[2] * tr; }
+        else { X += model.wx[i] * tr; Y += model.wy[i] * tr; Z += model.wz[i] * tr; }
+      }
+      const rgb = mulMat3(model.xyzToCamera, [X, Y, Z]);
+      const idx = j * nR + k;
+      linearRgb[3 * idx] = rgb[0]; linearRgb[3 * idx + 1] = rgb[1]; linearRgb[3 * idx + 2] = rgb[2];
+      const m = matchCoords(matchLabOfLinearRgb(rgb), o.space);
+      for (let d = 0; d < dims; d++) coords[idx * dims + d] = m[d];
+    }
+  }
+  return { anglesDeg, retardancesNm, coords, dims, space: o.space, linearRgb, mirrorAxisDeg: symmetric, birefringenceSign: o.birefringenceSign };
+}
+
+/** Result of matching one colour. */
+export interface LookupMatch {
+  angleDeg: number;
+  retardanceNm: number;
+  /** Distance to the best entry (Delta E76 in 'lab'; chroma units in 'chroma'). */
+  distance: number;
+  /** Distance to the best entry that differs by more than the distinctness thresholds. */
+  alternativeDistance: number;
+  /** Lookup entries of the best match and of the best distinct alternative (-1 when there is none). */
+  bestIndex: number;
+  alternativeIndex: number;
+  /** The best entry just outside the distinctness radius (the nearest alternative in the winner's own valley). */
+  nearAlternativeIndex: number;
+}
+
+export interface SearchOptions {
+  /** Entries count as distinct alternatives when they differ by more than this angle (default 1.5 deg, below the 2-deg accuracy aim) ... */
+  distinctDeg?: number;
+  /** ... or by more than this retardance (default 20 nm). */
+  distinctNm?: number;
+}
+
+/**
+ * Coarse-to-fine nearest entry: a coarse pass over every `stride`-th entry (about 3 deg x 8 nm), then a
+ * full-resolution window around the coarse winner; the same for the best distinct alternative.
+ */
+export class LookupSearcher {
+  private readonly nA: number;
+  private readonly nR: number;
+  private readonly strideA: number;
+  private readonly strideR: number;
+  private readonly coarse: Int32Array;
+  private readonly coarseJ: Int32Array;
+  private readonly coarseK: Int32Array;
+  private readonly coarseDist: Float64Array;
+  private readonly nRc: number;
+  private readonly distinctJ: number;
+  private readonly distinctK: number;
+  private readonly periodJ: number;
+  private readonly c: Float32Array;
+  private readonly dims: number;
+
+  constructor(readonly lut: PlateLookup, options: SearchOptions = {}) {
+    this.nA = lut.anglesDeg.length;
+    this.nR = lut.retardancesNm.length;
+    const aStep = this.nA > 1 ? lut.anglesDeg[1] - lut.anglesDeg[0] : 1;
+    const rStep = this.nR > 1 ? lut.retardancesNm[1] - lut.retardancesNm[0] : 1;
+    this.strideA = Math.max(1, Math.round(3 / aStep));
+    this.strideR = Math.max(1, Math.round(8 / rStep));
+    const idx: number[] = [], js: number[] = [], ks: number[] = [];
+    for (let j = 0; j < this.nA; j += this.strideA) for (let k = 0; k < this.nR; k += this.strideR) { idx.push(j * this.nR + k); js.push(j); ks.push(k); }
+    this.coarse = Int32Array.from(idx);
+    this.coarseJ = Int32Array.from(js);
+    this.coarseK = Int32Array.from(ks);
+    this.coarseDist = new Float64Array(idx.length);
+    this.nRc = Math.ceil(this.nR / this.strideR);
+    this.distinctJ = (options.distinctDeg ?? 1.5) / aStep;
+    this.distinctK = (options.distinctNm ?? 20) / rStep;
+    this.periodJ = 180 / aStep;
+    this.c = lut.coords;
+    this.dims = lut.dims;
+  }
+
+  private distinct(ja: number, ka: number, jb: number, kb: number): boolean {
+    let dj = Math.abs(ja - jb);
+    if (dj > this.periodJ / 2) dj = this.periodJ - dj;
+    return dj > this.distinctJ || Math.abs(ka - kb) > this.distinctK;
+  }
+
+  private dist(idx: number, q0: number, q1: number, q2: number): number {
+    const c = this.c;
+    if (this.dims === 3) {
+      const o = 3 * idx, a = c[o] - q0, b = c[o + 1] - q1, d = c[o + 2] - q2;
+      return a * a + b * b + d * d;
+    }
+    const o = 2 * idx, a = c[o] - q0, b = c[o + 1] - q1;
+    return a * a + b * b;
+  }
+
+  /** Best full-resolution entry in the window around (j0, k0); with avoidJ >= 0 only entries distinct from it. */
+  private refine(j0: number, k0: number, q0: number, q1: number, q2: number, avoidJ: number, avoidK: number, widen = 0): [number, number] {
+    let best = -1, bestD = Infinity;
+    const wa = this.strideA + Math.ceil(widen * this.distinctJ), wr = this.strideR + Math.ceil(widen * this.distinctK);
+    const jLo = Math.max(0, j0 - wa), jHi = Math.min(this.nA - 1, j0 + wa);
+    const kLo = Math.max(0, k0 - wr), kHi = Math.min(this.nR - 1, k0 + wr);
+    for (let j = jLo; j <= jHi; j++) {
+      for (let k = kLo; k <= kHi; k++) {
+        if (avoidJ >= 0 && !this.distinct(j, k, avoidJ, avoidK)) continue;
+        const idx = j * this.nR + k;
+        const d = this.dist(idx, q0, q1, q2);
+        if (d < bestD) { bestD = d; best = idx; }
+      }
+    }
+    return [best, bestD];
+  }
+
+  /** Matches one colour given in match coordinates. */
+  match(q: number[]): LookupMatch {
+    const q0 = q[0], q1 = q[1], q2 = this.dims === 3 ? q[2] : 0;
+    const n = this.coarse.length, co = this.coarse;
+    const c = this.c;
+    // Coarse pass over every coarse entry.
+    const cd = this.coarseDist;
+    let cbD = Infinity;
+    for (let m = 0; m < n; m++) {
+      let d: number;
+      if (this.dims === 3) {
+        const o = 3 * co[m], a = c[o] - q0, b = c[o + 1] - q1, e = c[o + 2] - q2;
+        d = a * a + b * b + e * e;
+      } else {
+        const o = 2 * co[m], a = c[o] - q0, b = c[o + 1] - q1;
+        d = a * a + b * b;
+      }
+      cd[m] = d;
+      if (d < cbD) cbD = d;
+    }
+    // Valleys: coarse local minima within 6 units of the best (narrow valleys can fall between coarse samples).
+    const limit = (Math.sqrt(cbD) + 6) ** 2, nc = this.nRc, na = n / nc;
+    const minima: number[] = [];
+    for (let m = 0; m < n; m++) {
+      const d = cd[m];
+      if (d > limit) continue;
+      const jc = Math.floor(m / nc), kc = m - jc * nc;
+      let isMin = true;
+      for (let dj = -1; dj <= 1 && isMin; dj++) for (let dk = -1; dk <= 1; dk++) {
+        const j2 = jc + dj, k2 = kc + dk;
+        if ((dj === 0 && dk === 0) || j2 < 0 || j2 >= na || k2 < 0 || k2 >= nc) continue;
+        if (cd[j2 * nc + k2] < d) { isMin = false; break; }
+      }
+      if (isMin) minima.push(m);
+    }
+    minima.sort((a, b) => cd[a] - cd[b]);
+    const top = minima.slice(0, 4);
+    // Refine each valley; the overall winner is the best refined entry.
+    let best = -1, bestD = Infinity;
+    const refined: [number, number][] = top.map((m) => [this.coarseJ[m], this.coarseK[m]]);
+    for (const [j, k] of refined) {
+      const [idx, d] = this.refine(j, k, q0, q1, q2, -1, -1);
+      if (d < bestD) { bestD = d; best = idx; }
+    }
+    const bj = Math.floor(best / this.nR), bk = best - bj * this.nR;
+    // Best distinct alternative: refined around each candidate valley, avoiding the winner's neighbourhood.
+    let altD = Infinity, altI = -1;
+    for (const [j, k] of refined) {
+      const [idx, d] = this.refine(j, k, q0, q1, q2, bj, bk);
+      if (idx >= 0 && d < altD) { altD = d; altI = idx; }
+    }
+    // Just outside the distinctness radius around the winner: the nearest alternatives of all.
+    const [near, nearD] = this.refine(bj, bk, q0, q1, q2, bj, bk, 1);
+    return {
+      angleDeg: this.lut.anglesDeg[bj], retardanceNm: this.lut.retardancesNm[bk], distance: Math.sqrt(bestD),
+      alternativeDistance: Math.sqrt(near >= 0 ? Math.min(altD, nearD) : altD),
+      bestIndex: best, alternativeIndex: altI, nearAlternativeIndex: near,
+    };
+  }
+}
+
+/** Confidence from match error and margin: (1 - exp(-margin / 4)) * exp(-error / 15), in [0, 1]. */
+export function matchConfidence(m: LookupMatch, marginScale = 4, errorScale = 15): number {
+  const margin = Math.max(0, m.alternativeDistance - m.distance);
+  if (!Number.isFinite(margin)) return Math.exp(-m.distance / errorScale);
+  return (1 - Math.exp(-margin / marginScale)) * Math.exp(-m.distance / errorScale);
+}

@@ -1,0 +1,79 @@
+import { InputError } from '../common/errors.ts';
+import type { Image } from '../image/types.ts';
+import { srgbDecode, srgbEncode, type Vec3 } from './colorimetry.ts';
+
+/** A pixel rectangle: x, y of the top-left pixel, width and height in px. */
+export interface Rect { x: number; y: number; width: number; height: number }
+
+/** Parses "x,y,w,h" (whole pixels). */
+export function parseRect(text: string): Rect {
+  const parts = text.split(',').map((s) => Number(s.trim()));
+  if (parts.length !== 4 || parts.some((v) => !Number.isInteger(v)) || parts[2] < 1 || parts[3] < 1 || parts[0] < 0 || parts[1] < 0) {
+    throw new InputError(`rectangle "${text}" is not "x,y,w,h" in whole pixels`, 'Give the top-left corner and the size, e.g. --background "10,10,50,40"');
+  }
+  return { x: parts[0], y: parts[1], width: parts[2], height: parts[3] };
+}
+
+export function checkRectInside(r: Rect, width: number, height: number, what = 'rectangle'): void {
+  if (r.x + r.width > width || r.y + r.height > height) {
+    throw new InputError(`${what} ${r.x},${r.y},${r.width},${r.height} reaches outside the ${width}x${height} image`, 'Pick a region inside the image');
+  }
+}
+
+/** Requires an RGB image. */
+export function checkColourImage(img: Image, what: string): void {
+  if (img.channels !== 3) {
+    throw new InputError(`${img.source.name}: ${what} needs a colour (RGB) image, this one is grey`, 'Use the colour camera image');
+  }
+}
+
+/** Linear value of a stored channel value. */
+export function toLinear(v: number, encoding: Image['encoding']): number {
+  return encoding === 'srgb' ? srgbDecode(v) : v;
+}
+
+/** Median linear RGB of a rectangle (robust to dust and a few sample pixels). */
+export function medianLinearRgb(img: Image, r: Rect): Vec3 {
+  checkRectInside(r, img.width, img.height, 'background rectangle');
+  const out: number[] = [];
+  for (let c = 0; c < 3; c++) {
+    const vals: number[] = [];
+    const p = img.planes[c];
+    for (let y = r.y; y < r.y + r.height; y++) for (let x = r.x; x < r.x + r.width; x++) vals.push(p[y * img.width + x]);
+    vals.sort((a, b) => a - b);
+    out.push(toLinear(vals[vals.length >> 1], img.encoding));
+  }
+  return out as Vec3;
+}
+
+/**
+ * Maps stored channel values to colour-cube cells of `bits` per channel, on the sRGB-encoded scale (a roughly
+ * perceptual spacing). Returns the cell index per pixel and -1 for pixels that are not finite or are saturated.
+ */
+export function quantiseToCells(img: Image, bits: number): { cells: Int32Array; saturated: number; invalid: number } {
+  const n = img.width * img.height, levels = (1 << bits) - 1;
+  const cells = new Int32Array(n);
+  const [r, g, b] = img.planes;
+  let saturated = 0, invalid = 0;
+  // Linear data: a 4096-entry table from linear value to encoded level.
+  const table = img.encoding === 'linear' ? Int32Array.from({ length: 4097 }, (_, i) => Math.round(levels * srgbEncode(i / 4096))) : null;
+  const sat = 0.999, s2 = 2 * bits;
+  for (let i = 0; i < n; i++) {
+    const vr = r[i], vg = g[i], vb = b[i];
+    if (!(vr >= 0 && vg >= 0 && vb >= 0 && vr < sat && vg < sat && vb < sat)) {
+      if (vr >= sat || vg >= sat || vb >= sat) saturated++; else invalid++;
+      cells[i] = -1;
+      continue;
+    }
+    if (table) cells[i] = (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0];
+    else cells[i] = (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
+  }
+  return { cells, saturated, invalid };
+}
+
+/** Linear RGB at the centre of a colour-cube cell. */
+export function cellLinearRgb(cell: number, bits: number): Vec3 {
+  const levels = (1 << bits) - 1, mask = levels;
+  return [srgbDecode(((cell >> (2 * bits)) & mask) / levels), srgbDecode(((cell >> bits) & mask) / levels), srgbDecode((cell & mask) / levels)];
+}
+

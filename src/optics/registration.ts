@@ -1,0 +1,122 @@
+import type { Plane } from '../common/plane.ts';
+import { InputError } from '../common/errors.ts';
+
+/** In-place radix-2 complex FFT (inverse when `inverse`), length a power of two. */
+function fft(re: Float64Array, im: Float64Array, inverse: boolean): void {
+  const n = re.length;
+  for (let i = 1, j = 0; i < n; i++) {
+    let bit = n >> 1;
+    for (; j & bit; bit >>= 1) j ^= bit;
+    j ^= bit;
+    if (i < j) { [re[i], re[j]] = [re[j], re[i]]; [im[i], im[j]] = [im[j], im[i]]; }
+  }
+  for (let len = 2; len <= n; len <<= 1) {
+    const ang = ((inverse ? 2 : -2) * Math.PI) / len;
+    const wr = Math.cos(ang), wi = Math.sin(ang);
+    for (let i = 0; i < n; i += len) {
+      let cr = 1, ci = 0;
+      for (let k = 0; k < len / 2; k++) {
+        const a = i + k, b = a + len / 2;
+        const tr = re[b] * cr - im[b] * ci, ti = re[b] * ci + im[b] * cr;
+        re[b] = re[a] - tr; im[b] = im[a] - ti; re[a] += tr; im[a] += ti;
+        const ncr = cr * wr - ci * wi; ci = cr * wi + ci * wr; cr = ncr;
+      }
+    }
+  }
+}
+
+function fft2(re: Float64Array, im: Float64Array, n: number, inverse: boolean): void {
+  const rr = new Float64Array(n), ri = new Float64Array(n);
+  for (let y = 0; y < n; y++) {
+    rr.set(re.subarray(y * n, y * n + n)); ri.set(im.subarray(y * n, y * n + n));
+    fft(rr, ri, inverse);
+    re.set(rr, y * n); im.set(ri, y * n);
+  }
+  for (let x = 0; x < n; x++) {
+    for (let y = 0; y < n; y++) { rr[y] = re[y * n + x]; ri[y] = im[y * n + x]; }
+    fft(rr, ri, inverse);
+    for (let y = 0; y < n; y++) { re[y * n + x] = rr[y]; im[y * n + x] = ri[y]; }
+  }
+}
+
+/** Result of the registration check: how far image B is shifted against image A, px. */
+export interface RegistrationCheck {
+  dxPx: number;
+  dyPx: number;
+  shiftPx: number;
+  /** Height of the normalised correlation peak (1 = identical up to the shift). */
+  peak: number;
+  windowPx: number;
+}
+
+/**
+ * Phase correlation (Kuglin & Hines 1975) of the central square (largest power of two up to 512 px, Hann
+ * window) of two grey planes, the whitened cross-power spectrum low-passed by a Gaussian (sigma n/6); sub-pixel
+ * peak by a 3-point parabola per axis. Positive dx: B is shifted right.
+ */
+export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
+  if (a.width !== b.width || a.height !== b.height) {
+    throw new InputError(`the two images differ in size (${a.width}x${a.height} and ${b.width}x${b.height})`, 'Use two images from the same camera set-up');
+  }
+  let n = 1;
+  while (n * 2 <= Math.min(a.width, a.height, 512)) n *= 2;
+  if (n < 16) throw new InputError('images smaller than 16 px cannot be checked for registration', 'Use larger images');
+  const x0 = Math.floor((a.width - n) / 2), y0 = Math.floor((a.height - n) / 2);
+  const load = (p: Plane) => {
+    const re = new Float64Array(n * n);
+    let mean = 0;
+    for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) mean += p.data[(y + y0) * p.width + x + x0];
+    mean /= n * n;
+    for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) {
+      const w = (0.5 - 0.5 * Math.cos((2 * Math.PI * (x + 0.5)) / n)) * (0.5 - 0.5 * Math.cos((2 * Math.PI * (y + 0.5)) / n));
+      re[y * n + x] = (p.data[(y + y0) * p.width + x + x0] - mean) * w;
+    }
+    return re;
+  };
+  const ar = load(a), ai = new Float64Array(n * n), br = load(b), bi = new Float64Array(n * n);
+  fft2(ar, ai, n, false);
+  fft2(br, bi, n, false);
+  // Cross-power spectrum B * conj(A) / |.|: its inverse peaks at the shift of B against A.
+  // A Gaussian low-pass on the whitened spectrum keeps sensor noise at high frequencies from burying the peak.
+  const sf2 = 2 * (n / 6) ** 2;
+  for (let i = 0; i < n * n; i++) {
+    const r = br[i] * ar[i] + bi[i] * ai[i], im = bi[i] * ar[i] - br[i] * ai[i];
+    const m = Math.hypot(r, im) || 1;
+    const fy = Math.floor(i / n), fx = i - fy * n, u = fx > n / 2 ? fx - n : fx, v = fy > n / 2 ? fy - n : fy;
+    const w = Math.exp(-(u * u + v * v) / sf2);
+    ar[i] = (w * r) / m; ai[i] = (w * im) / m;
+  }
+  fft2(ar, ai, n, true);
+  let best = 0;
+  for (let i = 1; i < n * n; i++) if (ar[i] > ar[best]) best = i;
+  const by = Math.floor(best / n), bx = best - by * n;
+  const at = (x: number, y: number) => ar[(((y % n) + n) % n) * n + (((x % n) + n) % n)];
+  const sub = (m: number, c: number, p: number) => { const d = m - 2 * c + p; return d < 0 ? (0.5 * (m - p)) / d : 0; };
+  let dx = bx + sub(at(bx - 1, by), at(bx, by), at(bx + 1, by));
+  let dy = by + sub(at(bx, by - 1), at(bx, by), at(bx, by + 1));
+  if (dx > n / 2) dx -= n;
+  if (dy > n / 2) dy -= n;
+  let wsum = 0;
+  for (let i = 0; i < n * n; i++) { const fy = Math.floor(i / n), fx = i - fy * n, u = fx > n / 2 ? fx - n : fx, v = fy > n / 2 ? fy - n : fy; wsum += Math.exp(-(u * u + v * v) / sf2); }
+  return { dxPx: dx, dyPx: dy, shiftPx: Math.hypot(dx, dy), peak: ar[best] / wsum, windowPx: n };
+}
+
+/**
+ * Gradient magnitude (central differences) of a grey plane: edges line up between two plate images even
+ * where their colours, and so their grey levels, differ.
+ */
+export function gradientMagnitude(p: Plane): Plane {
+  const { width: w, height: h } = p;
+  const out = new Float32Array(w * h);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+    const gx = p.data[y * w + Math.min(w - 1, x + 1)] - p.data[y * w + Math.max(0, x - 1)];
+    const gy = p.data[Math.min(h - 1, y + 1) * w + x] - p.data[Math.max(0, y - 1) * w + x];
+    out[y * w + x] = Math.hypot(gx, gy);
+  }
+  return { width: w, height: h, data: out };
+}
+
+/** Registration check of two colour or grey images: phase correlation of their grey gradient magnitudes. */
+export function registrationCheck(a: Plane, b: Plane): RegistrationCheck {
+  return phaseCorrelation(gradientMagnitude(a), gradientMagnitude(b));
+}

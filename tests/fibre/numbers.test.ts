@@ -1,0 +1,124 @@
+import { describe, expect, it } from 'vitest';
+import {
+  birefringence, cnPerDtexToNPerTex, denierToTex, diameterUmFromTex, dtexToTex, fibreNumbers, gfPerDenToNPerTex,
+  gpaFromNPerTex, nPerTexFromGpa, nPerTexToGfPerDen, offNormalWidth, orientationFactor, packingFraction, roundAreaUm2,
+  texFromDiameter, texToDenier, texToDtex, vibroscopeLinearDensity,
+} from '../../src/fibre/index.ts';
+
+describe('linear-density units', () => {
+  it('follow the definitions tex = g/km, dtex = g/10 km, denier = g/9 km', () => {
+    // Definitions (domain.md §7 Units [M, definitions]): 1 tex = 10 dtex = 9 den; 1 den = 1/9 tex = 1.1111 dtex
+    expect(texToDtex(1)).toBe(10);
+    expect(texToDenier(1)).toBe(9);
+    expect(texToDtex(denierToTex(1))).toBeCloseTo(1.1111, 4);
+    // 1 dtex = 0.9 den
+    expect(texToDenier(dtexToTex(1))).toBeCloseTo(0.9, 12);
+    // 1 g over 9000 m is 1 den, i.e. 1000/9000 g per km = 0.11111 tex
+    expect(denierToTex(1)).toBeCloseTo(1000 / 9000, 12);
+  });
+});
+
+describe('solid round fibre: tex = rho * pi D^2 / 4 * 1e-3', () => {
+  it('carbon fibre 7.0 um at 1.80 g/cm3', () => {
+    // domain.md §7 [C]: A = 38.4845 um^2; 0.069272 tex = 0.69272 dtex = 0.62345 den (tol 1e-5)
+    expect(roundAreaUm2(7)).toBeCloseTo(38.4845, 4);
+    const tex = texFromDiameter(7, 1.8);
+    expect(Math.abs(tex - 0.069272)).toBeLessThan(1e-5);
+    expect(Math.abs(texToDtex(tex) - 0.69272)).toBeLessThan(1e-5);
+    expect(Math.abs(texToDenier(tex) - 0.62345)).toBeLessThan(1e-5);
+  });
+  it('PET 12 um at 1.38 g/cm3', () => {
+    // domain.md §7 [C]: 0.15607 tex = 1.5607 dtex = 1.4047 den (tol 1e-4)
+    const tex = texFromDiameter(12, 1.38);
+    expect(Math.abs(tex - 0.15607)).toBeLessThan(1e-4);
+    expect(Math.abs(texToDtex(tex) - 1.5607)).toBeLessThan(1e-4);
+    expect(Math.abs(texToDenier(tex) - 1.4047)).toBeLessThan(1e-4);
+  });
+  it('inverse: PET diameters of 1 dtex and 1 den', () => {
+    // domain.md §7 [C]: 1.0 dtex, rho 1.38 -> 9.605 um; 1 den -> 10.125 um (tol 1e-3)
+    expect(Math.abs(diameterUmFromTex(dtexToTex(1), 1.38) - 9.605)).toBeLessThan(1e-3);
+    expect(Math.abs(diameterUmFromTex(denierToTex(1), 1.38) - 10.125)).toBeLessThan(1e-3);
+    // Round trip (algebraic identity)
+    expect(texFromDiameter(diameterUmFromTex(0.3, 1.5), 1.5)).toBeCloseTo(0.3, 12);
+  });
+});
+
+describe('specific stress: 1 N/tex = 1 GPa/(g/cm3)', () => {
+  it('4.9 GPa at 1.80 g/cm3 is 2.7222 N/tex', () => {
+    // domain.md §7 [D]: 2.7222 N/tex (tol 1e-4)
+    expect(Math.abs(nPerTexFromGpa(4.9, 1.8) - 2.7222)).toBeLessThan(1e-4);
+    expect(gpaFromNPerTex(nPerTexFromGpa(4.9, 1.8), 1.8)).toBeCloseTo(4.9, 12);
+  });
+  it('1 cN/dtex = 0.1 N/tex and 1 gf/den = 0.0882599 N/tex', () => {
+    // domain.md §7 [D]; gf uses standard gravity 9.80665 m/s^2 (CGPM definition)
+    expect(cnPerDtexToNPerTex(1)).toBeCloseTo(0.1, 12);
+    expect(Math.abs(gfPerDenToNPerTex(1) - 0.0882599)).toBeLessThan(1e-7);
+    expect(nPerTexToGfPerDen(gfPerDenToNPerTex(3.2))).toBeCloseTo(3.2, 12);
+  });
+});
+
+describe('packing fraction = measured tex / solid tex of the measured diameter', () => {
+  it('is 0.5 for half the solid linear density, and warns above 1', () => {
+    const solid = texFromDiameter(10, 1.5);
+    const half = packingFraction(solid / 2, 10, 1.5);
+    expect(half.packingFraction).toBeCloseTo(0.5, 12);
+    expect(half.warnings).toEqual([]);
+    const over = packingFraction(solid * 1.2, 10, 1.5);
+    expect(over.packingFraction).toBeCloseTo(1.2, 12);
+    expect(over.warnings.join(' ')).toMatch(/above 1/);
+  });
+});
+
+describe('birefringence and orientation factor', () => {
+  it('dn = retardance / thickness: 550 nm over 10 um is 0.055', () => {
+    // Definition Gamma = d * dn (domain.md global conventions): 550 nm / 10 000 nm = 0.055
+    expect(birefringence(550, 10)).toBeCloseTo(0.055, 12);
+  });
+  it('f = dn / dn0 with a warning outside [-0.5, 1]', () => {
+    expect(orientationFactor(0.055, 0.11).orientationFactor).toBeCloseTo(0.5, 12);
+    expect(orientationFactor(0.055, 0.11).warnings).toEqual([]);
+    expect(orientationFactor(0.2, 0.11).warnings.join(' ')).toMatch(/outside/);
+  });
+});
+
+describe('vibroscope (ASTM D1577 option C, ideal string): m = T / (4 L^2 f^2)', () => {
+  it('T = 1.000 mN, L = 20.0 mm, f = 2041.2 Hz gives 1.500e-7 kg/m = 1.500 dtex', () => {
+    // domain.md §7 [D]: m = 1.500e-7 kg/m = 1.500 dtex (tol 1e-3)
+    const r = vibroscopeLinearDensity(1e-3, 0.02, 2041.2);
+    expect(Math.abs(r.linearDensityKgPerM / 1.5e-7 - 1)).toBeLessThan(1e-3);
+    expect(Math.abs(r.dtex - 1.5)).toBeLessThan(1e-3);
+  });
+});
+
+describe('width measured off the normal', () => {
+  it('reads D / cos psi: 20 um at 30 deg is 23.094 um', () => {
+    // domain.md §7 [D]: 23.094 um (tol 1e-3)
+    expect(Math.abs(offNormalWidth(20, 30) - 23.094)).toBeLessThan(1e-3);
+  });
+});
+
+describe('fibreNumbers (the record behind `retarda fibre`)', () => {
+  it('combines the numbers consistently', () => {
+    const r = fibreNumbers({ diameterUm: 7, densityGPerCm3: 1.8, linearDensityTex: 0.06, tenacityNPerTex: 2.7222,
+      retardanceNm: 700, intrinsicBirefringence: 0.2 });
+    expect(Math.abs(r.solidTex - 0.069272)).toBeLessThan(1e-5); // domain.md §7 [C]
+    expect(r.packingFraction).toBeCloseTo(0.06 / r.solidTex, 12);
+    expect(Math.abs((r.strengthGPa as number) - 4.9)).toBeLessThan(1e-3); // domain.md §7 [D], inverse of the 4.9 GPa row
+    expect(r.tenacityCnPerDtex).toBeCloseTo(27.222, 9);
+    expect(r.thicknessUm).toBe(7);
+    expect(r.birefringence).toBeCloseTo(0.1, 12);
+    expect(r.orientationFactor).toBeCloseTo(0.5, 12);
+  });
+  it('throws InputError on negative, zero or NaN inputs and on tenacity and strength together', () => {
+    expect(() => fibreNumbers({ diameterUm: -1, densityGPerCm3: 1.8 })).toThrow(/diameter/);
+    expect(() => fibreNumbers({ diameterUm: 7, densityGPerCm3: 0 })).toThrow(/density/);
+    expect(() => fibreNumbers({ diameterUm: NaN, densityGPerCm3: 1.8 })).toThrow(/diameter/);
+    expect(() => fibreNumbers({ diameterUm: 7, densityGPerCm3: 1.8, linearDensityTex: -0.1 })).toThrow(/linear density/);
+    expect(() => fibreNumbers({ diameterUm: 7, densityGPerCm3: 1.8, tenacityNPerTex: 1, strengthGPa: 2 }))
+      .toThrow(/not both/);
+    expect(() => birefringence(-5, 10)).toThrow(/retardance/);
+    expect(() => orientationFactor(0.1, 0)).toThrow(/intrinsic/);
+    expect(() => vibroscopeLinearDensity(1e-3, 0, 2000)).toThrow(/length/);
+    expect(() => offNormalWidth(20, 90)).toThrow(/angle/);
+  });
+});

@@ -1,0 +1,107 @@
+import { describe, expect, it } from 'vitest';
+import { fitFourAngle, fourAngleAnalysis, renderSampleImage, type CameraCalibration } from '../../src/optics/index.ts';
+import { DEG, axialDiffDeg } from '../../src/common/angles.ts';
+import { InputError } from '../../src/common/errors.ts';
+import { makeImage, type Image } from '../../src/image/types.ts';
+
+const QUAD = [0, 22.5, 45, 67.5];
+
+describe('fitFourAngle (domain.md §6 check values)', () => {
+  it('theta = 30, A = 1, b = 0', () => {
+    // domain.md §6 [C]: I = 0.75, 0.066987, 0.25, 0.933013; a0 = 0.5, a4c = 0.25, a4s = -0.433013; theta = 30.000; A = 1 (1e-6).
+    const I = QUAD.map((a) => Math.sin(2 * (30 - a) * DEG) ** 2);
+    [0.75, 0.066987, 0.25, 0.933013].forEach((v, k) => expect(Math.abs(I[k] - v)).toBeLessThan(1e-6));
+    const f = fitFourAngle(I, QUAD);
+    expect(f.a0).toBeCloseTo(0.5, 6);
+    expect(f.a4c).toBeCloseTo(0.25, 6);
+    expect(f.a4s).toBeCloseTo(-0.433013, 6);
+    expect(f.angleDeg).toBeCloseTo(30, 6);
+    expect(f.amplitude).toBeCloseTo(1, 6);
+    expect(f.background).toBeCloseTo(0, 6);
+  });
+
+  it('theta = 0, -20 (returns 70, mod 90) and 80', () => {
+    // domain.md §6 [C]: I = 0, 0.5, 1, 0.5 -> 0 (1e-9); -20 -> 70 (1e-6); I = 0.116978, 0.821394, 0.883022, 0.178606 -> 80 (1e-5).
+    expect(Math.abs(fitFourAngle([0, 0.5, 1, 0.5], QUAD).angleDeg)).toBeLessThan(1e-9);
+    const m20 = QUAD.map((a) => Math.sin(2 * (-20 - a) * DEG) ** 2);
+    expect(Math.abs(fitFourAngle(m20, QUAD).angleDeg - 70)).toBeLessThan(1e-6);
+    expect(Math.abs(fitFourAngle([0.116978, 0.821394, 0.883022, 0.178606], QUAD).angleDeg - 80)).toBeLessThan(1e-5);
+  });
+
+  it('any set of angles: six angles with background and residual', () => {
+    // I(alpha) = b + A sin^2 2(theta - alpha) [D]; extra angles give a residual of 0 for exact data.
+    const angles = [0, 15, 30, 45, 60, 75];
+    const I = angles.map((a) => 0.2 + 0.6 * Math.sin(2 * (-35 - a) * DEG) ** 2);
+    const f = fitFourAngle(I, angles);
+    expect(f.angleDeg).toBeCloseTo(55, 9);
+    expect(f.amplitude).toBeCloseTo(0.6, 9);
+    expect(f.background).toBeCloseTo(0.2, 9);
+    expect(f.residual).toBeLessThan(1e-12);
+    I[2] += 0.1;
+    expect(fitFourAngle(I, angles).residual).toBeGreaterThan(0.01);
+  });
+
+  it('rejects angle sets that cannot separate orientation', () => {
+    expect(() => fitFourAngle([1, 2, 3], [0, 90, 180])).toThrow(InputError);
+  });
+});
+
+describe('fourAngleAnalysis on rendered images', () => {
+  const angles = [-80, -60, -30, -10, 0, 10, 30, 45, 60, 80, 90];
+  const rets = [20, 50, 100, 200, 300, 450, 600];
+  const B = 6, W = angles.length * B, H = rets.length * B;
+  const at = (x: number, y: number) => ({ angleRad: angles[Math.floor(x / B)] * DEG, retardanceNm: rets[Math.floor(y / B)] });
+  const cam: CameraCalibration = { gains: [1, 1, 1], exposure: 0.75 };
+  // The crossed pair turned by alpha (polariser alpha, analyser alpha + 90), white light, no compensator.
+  const quads = QUAD.map((a, k) => renderSampleImage(W, H, at, { polariserDeg: a, analyserDeg: a + 90, compensator: null }, { noiseSd: 0.003, seed: 10 + k, camera: cam }));
+  const plate = renderSampleImage(W, H, at, {}, { noiseSd: 0.003, seed: 20, camera: cam });
+
+  it('orientation mod 90 within 1 deg wherever the retardance is >= 50 nm', () => {
+    const r = fourAngleAnalysis(quads);
+    expect(r.field.method).toBe('four-angle');
+    expect(r.field.ambiguity).toBe('mod-90');
+    for (let k = 0; k < W * H; k++) {
+      const i = Math.floor((k % W) / B), j = Math.floor(Math.floor(k / W) / B);
+      if (rets[j] < 50) continue;
+      const d = axialDiffDeg(r.field.angleRad[k] / DEG, angles[i]);
+      expect(Math.min(d, 90 - d)).toBeLessThanOrEqual(1);
+    }
+  });
+
+  it('the plate image resolves the 90-deg choice except with the axis along the polars', () => {
+    // domain.md §6: Gamma_eff ~ Gamma_p + Gamma sin 2theta gives the sign of sin 2theta; at theta = 0 / 90 it is 0.
+    const r = fourAngleAnalysis(quads, { plate, plateOptions: { camera: cam } });
+    let resolvedWrong = 0, checked = 0;
+    for (let k = 0; k < W * H; k++) {
+      const i = Math.floor((k % W) / B), j = Math.floor(Math.floor(k / W) / B);
+      if (rets[j] < 100 || axialDiffDeg(angles[i], 0) < 15 || axialDiffDeg(angles[i], 90) < 15) continue;
+      checked++;
+      if (axialDiffDeg(r.field.angleRad[k] / DEG, angles[i]) > 1) resolvedWrong++;
+    }
+    expect(checked).toBeGreaterThan(0);
+    expect(resolvedWrong).toBe(0);
+    expect(r.resolvedFraction).toBeGreaterThan(0.5);
+    expect(r.resolvedFraction).toBeLessThan(1);
+  });
+
+  it('flat-field division removes uneven illumination from the amplitude', () => {
+    const shade = (img: Image) => makeImage({ ...img, encoding: 'linear', planes: img.planes.map((p) => p.map((v, k) => ((v + 0.055) / 1.055) ** 2.4 * (0.5 + (0.5 * (k % W)) / W))) });
+    const flatPlanes = [0, 1, 2].map(() => Float32Array.from({ length: W * H }, (_, k) => 0.5 + (0.5 * (k % W)) / W));
+    const flat = makeImage({ width: W, height: H, channels: 3, planes: flatPlanes, bitDepth: 32, encoding: 'linear', source: { name: 'flat' } });
+    const even = fourAngleAnalysis(quads).amplitude;
+    const corrected = fourAngleAnalysis(quads.map(shade), { flatField: flat }).amplitude;
+    let mean = 0;
+    for (let k = 0; k < W; k++) mean += flatPlanes[0][k];
+    mean /= W;
+    // Rows of one retardance at 45 deg: corrected amplitude equals the even one times the flat's mean.
+    const y = rets.indexOf(300) * B + 2, x0 = angles.indexOf(-60) * B + 2, x1 = angles.indexOf(60) * B + 2;
+    for (const x of [x0, x1]) expect(corrected[y * W + x]).toBeCloseTo(even[y * W + x] * mean, 3);
+  });
+
+  it('rejects too few images, mismatched angles and mismatched sizes', () => {
+    expect(() => fourAngleAnalysis(quads.slice(0, 2))).toThrow(InputError);
+    expect(() => fourAngleAnalysis(quads, { anglesDeg: [0, 45, 90] })).toThrow(InputError);
+    const small = renderSampleImage(4, 4, () => ({ angleRad: 0, retardanceNm: 0 }));
+    expect(() => fourAngleAnalysis([...quads.slice(0, 3), small])).toThrow(InputError);
+  });
+});
