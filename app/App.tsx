@@ -1,0 +1,556 @@
+/**
+ * The bench app: bring images in, look at them, run the orientation and channel-profile analyses in
+ * the worker, see and export the numbers, and keep everything in sessions on the device.
+ */
+import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
+import type { Channel } from '../src/channel/index.ts';
+import { AnalysisClient, CancelledError, type ImageSource } from './worker/client.ts';
+import type { DecodeSummary, Glyph, Picture } from './worker/protocol.ts';
+import {
+  BackupError, browserKeyValue, createSaver, createSessionStore, exportBackup, importBackup,
+  type AnalysisSettings, type SessionRecord, type SessionSummary,
+} from './storage/index.ts';
+import { sessionReducer, orientIsStale, profileIsStale, type SessionAction } from './state/session.ts';
+import { Viewer, type Layer, type OverlayMode, type ViewerHandle } from './components/Viewer.tsx';
+import { LegendWheel } from './components/LegendWheel.tsx';
+import { ProfilePlot } from './components/ProfilePlot.tsx';
+import { OrientTable, ProfileTable } from './components/Results.tsx';
+import { SessionsPanel } from './components/SessionsPanel.tsx';
+import { LampCaution, ResultCaution, SampleCaution } from './components/Cautions.tsx';
+import {
+  download, orientCommandLine, orientCsv, profileBinsCsv, profileCommandLine, profileCsv, wallsText,
+} from './export/rows.ts';
+
+interface Message { id: number; kind: 'error' | 'info'; text: string }
+interface Busy { stage: string; fraction: number; what: string }
+interface Shown { imageId: string; summary: DecodeSummary; image: Layer; colour: Layer | null; coherency: Layer | null; glyphs: Glyph[] }
+interface DemoEntry { file: string; title: string; about: string }
+
+const ACCEPT = '.png,.jpg,.jpeg,.tif,.tiff,image/png,image/jpeg,image/tiff';
+const LARGE_FILE = 20 * 1024 * 1024;
+
+/** The worker sends ready-made bitmaps; the page only wraps them. */
+const layerOf = async (p: Picture): Promise<Layer> => ({ levels: p.levels, width: p.width, height: p.height, scale: p.scale });
+
+/** Reads a file with progress (large files take a moment from slow storage). */
+function readFile(file: Blob, onProgress: (f: number) => void): Promise<ArrayBuffer> {
+  if (file.size < LARGE_FILE) return file.arrayBuffer();
+  return new Promise((resolve, reject) => {
+    const r = new FileReader();
+    r.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total); };
+    r.onload = () => resolve(r.result as ArrayBuffer);
+    r.onerror = () => reject(new Error(`could not read the file: ${r.error?.message ?? 'unknown reason'}`));
+    r.readAsArrayBuffer(file);
+  });
+}
+
+const newId = () => crypto.randomUUID();
+const sessionName = () => `Session ${new Date().toLocaleString(undefined, { dateStyle: 'medium', timeStyle: 'short' })}`;
+
+export function App() {
+  const store = useMemo(() => createSessionStore(browserKeyValue()), []);
+  const client = useMemo(() => new AnalysisClient(() => new Worker(new URL('./worker/analysis.worker.ts', import.meta.url), { type: 'module', name: 'analysis' })), []);
+  const [session, setSession] = useState<SessionRecord | null>(null);
+  const sessionRef = useRef<SessionRecord | null>(null);
+  const [listing, setListing] = useState<{ sessions: SessionSummary[]; asideCount: number }>({ sessions: [], asideCount: 0 });
+  const [showSessions, setShowSessions] = useState(false);
+  const [messages, setMessages] = useState<Message[]>([]);
+  const [busy, setBusy] = useState<Busy | null>(null);
+  const [shown, setShown] = useState<Shown | null>(null);
+  const [mode, setMode] = useState<OverlayMode>('colour');
+  const [opacity, setOpacity] = useState(0.7);
+  const [drawing, setDrawing] = useState(false);
+  const [saveState, setSaveState] = useState<'saved' | 'waiting' | 'failed'>('saved');
+  const [engine, setEngine] = useState<'starting' | 'ready' | 'failed'>('starting');
+  const [demos, setDemos] = useState<DemoEntry[]>([]);
+  const [update, setUpdate] = useState<null | (() => void)>(null);
+  const [dragOver, setDragOver] = useState(false);
+  const [help, setHelp] = useState(false);
+  const blobs = useRef(new Map<string, Blob>());
+  /** Summaries of images just brought in, so showing them does not decode them twice. */
+  const decoded = useRef(new Map<string, DecodeSummary>());
+  const fileInput = useRef<HTMLInputElement>(null);
+  const viewer = useRef<ViewerHandle>(null);
+  const msgId = useRef(0);
+
+  // Free the bitmaps of pictures no longer shown (large images hold tens of MB each).
+  const lastShown = useRef<Shown | null>(null);
+  useEffect(() => {
+    const before = lastShown.current;
+    lastShown.current = shown;
+    if (!before) return;
+    const keep = new Set([shown?.image, shown?.colour, shown?.coherency]);
+    for (const l of [before.image, before.colour, before.coherency]) if (l && !keep.has(l)) l.levels.forEach((b) => b.close());
+  }, [shown]);
+
+  const say = useCallback((kind: Message['kind'], text: string) => {
+    const id = ++msgId.current;
+    // One short-lived note at a time; errors stay until dismissed (the last four are kept).
+    setMessages((m) => [...m.filter((x) => x.kind === 'error').slice(-3), ...m.filter((x) => x.kind === 'info' && kind === 'error'), { id, kind, text }]);
+    if (kind === 'info') setTimeout(() => setMessages((m) => m.filter((x) => x.id !== id)), 5000);
+  }, []);
+
+  const saver = useMemo(() => createSaver<SessionRecord>((s) => store.save(s), {
+    delayMs: 400,
+    onSaved: () => setSaveState('saved'),
+    onError: (e) => { setSaveState('failed'); say('error', `Your changes could not be saved on this device (${(e as Error).message}). Keep the page open and save a backup from the session list.`); },
+  }), [store, say]);
+
+  const change = useCallback((a: SessionAction) => {
+    const cur = sessionRef.current;
+    if (!cur) return;
+    const next = sessionReducer(cur, a);
+    if (next === cur) return;
+    sessionRef.current = next;
+    setSession(next);
+    setSaveState('waiting');
+    saver.schedule(next);
+    // Dragging wall ends and typing settings change the session many times a second: those wait for
+    // the debounce. Everything else (images, results, names) is written at once, so a reload right
+    // after it loses nothing.
+    if (a.type !== 'walls' && a.type !== 'settings') void saver.flush();
+  }, [saver]);
+
+  const refreshList = useCallback(async () => {
+    try {
+      const l = await store.list();
+      setListing({ sessions: l.sessions, asideCount: l.asideCount });
+      for (const m of l.setAside) say('error', `A stored record could not be read (${m.reason}); it was kept aside unchanged and is included in backups.`);
+      return l;
+    } catch (e) {
+      say('error', `The saved sessions could not be read: ${(e as Error).message}. Private browsing or full storage can cause this.`);
+      return null;
+    }
+  }, [store, say]);
+
+  const openSession = useCallback(async (id: string) => {
+    await saver.flush();
+    const s = await store.load(id).catch((e: Error) => { say('error', e.message); return null; });
+    if (!s) { say('error', 'That session could not be opened; it may have been deleted in another tab.'); return; }
+    sessionRef.current = s;
+    setSession(s);
+    setShown(null);
+    setShowSessions(false);
+  }, [store, saver, say]);
+
+  // Start: engine, saved sessions (open the latest), demo list, flush on pagehide.
+  useEffect(() => {
+    client.ready().then(() => setEngine('ready'), (e: Error) => { setEngine('failed'); say('error', e.message); });
+    void refreshList().then((l) => { if (l?.sessions[0] && !sessionRef.current) void openSession(l.sessions[0].id); });
+    fetch('./demo/index.json').then((r) => (r.ok ? r.json() : [])).then((d) => setDemos(Array.isArray(d) ? d : [])).catch(() => setDemos([]));
+    const flush = () => { void saver.flush(); };
+    const hidden = () => { if (document.visibilityState === 'hidden') flush(); };
+    window.addEventListener('pagehide', flush);
+    document.addEventListener('visibilitychange', hidden);
+    void navigator.storage?.persist?.().catch(() => undefined);
+    return () => { window.removeEventListener('pagehide', flush); document.removeEventListener('visibilitychange', hidden); };
+  }, []); // eslint-disable-line react-hooks/exhaustive-deps
+
+  // Service worker: offer updates, and apply them only after the work is saved.
+  useEffect(() => {
+    if (!import.meta.env.PROD || !('serviceWorker' in navigator)) return;
+    let cancelled = false;
+    void import('workbox-window').then(({ Workbox }) => {
+      if (cancelled) return;
+      const wb = new Workbox('./sw.js');
+      wb.addEventListener('waiting', () => setUpdate(() => async () => {
+        await saver.flush();
+        wb.addEventListener('controlling', () => window.location.reload());
+        wb.messageSkipWaiting();
+      }));
+      wb.register().catch((e: Error) => say('error', `Offline use is not available: ${e.message}`));
+    });
+    return () => { cancelled = true; };
+  }, [saver, say]);
+
+  const progress = useCallback((what: string) => (stage: string, fraction: number) => setBusy({ what, stage, fraction }), []);
+
+  const sourceOf = useCallback((id: string): ImageSource | null => {
+    const meta = sessionRef.current?.images.find((i) => i.id === id);
+    if (!meta) return null;
+    return {
+      key: id, name: meta.name, page: meta.page,
+      bytes: async () => {
+        let b = blobs.current.get(id);
+        if (!b) {
+          const rec = await store.image(id);
+          if (!rec) throw new Error(`the stored copy of ${meta.name} is missing or unreadable; add the file again`);
+          b = rec.blob;
+          blobs.current.set(id, b);
+        }
+        return b.arrayBuffer();
+      },
+    };
+  }, [store]);
+
+  const report = useCallback((e: unknown, what: string) => {
+    if (e instanceof CancelledError) { say('info', `${what} stopped.`); return; }
+    const err = e as Error & { hint?: string };
+    say('error', `${what}: ${err.message}`);
+  }, [say]);
+
+  const settings = session?.settings;
+  const active = session?.images.find((i) => i.id === session.activeImageId) ?? null;
+  const work = active ? session?.work[active.id] ?? null : null;
+
+  const runOrient = useCallback(async (quiet = false) => {
+    const s = sessionRef.current;
+    const id = s?.activeImageId;
+    const src = id ? sourceOf(id) : null;
+    if (!s || !id || !src) return;
+    try {
+      await client.ensure(src, progress('Opening the image'));
+      const o = s.settings;
+      const reply = await client.call('orient', { key: id, options: { sigmaPx: o.sigmaPx, weighting: o.weighting, axisDeg: o.axisDeg ?? undefined } }, progress('Orientation'));
+      const [colour, coherency] = await Promise.all([layerOf(reply.colour), layerOf(reply.coherency)]);
+      setShown((sh) => (sh && sh.imageId === id ? { ...sh, colour, coherency, glyphs: reply.glyphs } : sh));
+      change({ type: 'orient', id, result: reply.result });
+      setMode((m) => (m === 'none' ? 'colour' : m));
+      if (!quiet) say('info', 'Orientation analysis done.');
+    } catch (e) { report(e, 'Orientation analysis'); } finally { setBusy(null); }
+  }, [client, sourceOf, progress, change, say, report]);
+
+  const runProfile = useCallback(async () => {
+    const s = sessionRef.current;
+    const id = s?.activeImageId;
+    const src = id ? sourceOf(id) : null;
+    if (!s || !id || !src) return;
+    const w = s.work[id];
+    if (!w?.walls) { say('error', 'A profile needs the two channel walls: draw them (W) or let the app find them (F) first.'); return; }
+    const o = s.settings;
+    try {
+      await client.ensure(src, progress('Opening the image'));
+      const result = await client.call('profile', {
+        key: id, texture: { sigmaPx: o.sigmaPx },
+        request: { ...(w.wallsFound ? { autoWalls: true } : { channel: w.walls }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin, weighting: o.weighting },
+      }, progress('Profile'));
+      change({ type: 'profile', id, result });
+      say('info', 'Profile done.');
+    } catch (e) { report(e, 'Profile'); } finally { setBusy(null); }
+  }, [client, sourceOf, progress, change, say, report]);
+
+  const runFindWalls = useCallback(async () => {
+    const s = sessionRef.current;
+    const id = s?.activeImageId;
+    const src = id ? sourceOf(id) : null;
+    if (!s || !id || !src) return;
+    try {
+      await client.ensure(src, progress('Opening the image'));
+      const found = await client.call('findWalls', { key: id }, progress('Walls'));
+      change({ type: 'walls', id, channel: found.channel, found: true });
+      say('info', `Walls found (second wall ${(100 * found.strength[1]).toFixed(0)} % as strong as the first). Check them on the image; drag the ends to correct them.`);
+    } catch (e) { report(e, 'Finding the walls'); } finally { setBusy(null); }
+  }, [client, sourceOf, progress, change, say, report]);
+
+  // Show the active image when it changes (and redraw its orientation map if it had one).
+  useEffect(() => {
+    const id = session?.activeImageId;
+    if (!id) { setShown(null); return; }
+    if (shown?.imageId === id) return;
+    const src = sourceOf(id);
+    if (!src) return;
+    let stop = false;
+    (async () => {
+      try {
+        const ready = decoded.current.get(id);
+        decoded.current.clear();
+        const summary = ready && client.holds(id) ? ready : await client.decode(src, progress('Opening the image'));
+        const image = await layerOf(summary.picture);
+        if (stop) return;
+        setShown({ imageId: id, summary, image, colour: null, coherency: null, glyphs: [] });
+        setBusy(null);
+        if (sessionRef.current?.work[id]?.orient) await runOrient(true);
+      } catch (e) { setBusy(null); report(e, 'Opening the image'); }
+    })();
+    return () => { stop = true; };
+  }, [session?.activeImageId]); // eslint-disable-line react-hooks/exhaustive-deps
+
+  const addFiles = useCallback(async (files: File[]) => {
+    if (!files.length) return;
+    let s = sessionRef.current;
+    if (!s) {
+      try { s = await store.create(sessionName()); } catch (e) { say('error', (e as Error).message); return; }
+      sessionRef.current = s;
+      setSession(s);
+    }
+    const added = [];
+    for (const file of files) {
+      const id = newId();
+      try {
+        setBusy({ what: `Bringing in ${file.name}`, stage: 'reading the file', fraction: 0 });
+        const bytes = await readFile(file, (f) => setBusy({ what: `Bringing in ${file.name}`, stage: 'reading the file', fraction: f * 0.3 }));
+        // Decode first: a file the analysis cannot read is not added to the session.
+        const summary = await client.decode({ key: id, name: file.name, bytes: async () => bytes.slice(0) }, progress(`Bringing in ${file.name}`));
+        decoded.current.set(id, summary);
+        const blob = new Blob([bytes], { type: file.type });
+        blobs.current.set(id, blob);
+        added.push(await store.addImage({ id, name: file.name, type: file.type, blob }));
+      } catch (e) {
+        report(e, `${file.name} was not added`);
+      }
+    }
+    setBusy(null);
+    if (added.length) {
+      change({ type: 'addImages', images: added });
+      say('info', `${added.length} image(s) added to "${sessionRef.current?.name}".`);
+    }
+  }, [store, client, progress, change, say, report]);
+
+  const openDemo = useCallback(async (d: DemoEntry) => {
+    try {
+      const r = await fetch(`./demo/${d.file}`);
+      if (!r.ok) throw new Error(`the demo image could not be loaded (${r.status})`);
+      const b = await r.blob();
+      await addFiles([new File([b], d.file, { type: b.type })]);
+    } catch (e) { report(e, 'Demo'); }
+  }, [addFiles, report]);
+
+  // Paste and drop anywhere on the page.
+  useEffect(() => {
+    const onPaste = (e: ClipboardEvent) => {
+      const files = [...(e.clipboardData?.files ?? [])];
+      if (files.length) { e.preventDefault(); void addFiles(files); }
+    };
+    window.addEventListener('paste', onPaste);
+    return () => window.removeEventListener('paste', onPaste);
+  }, [addFiles]);
+
+  // Keyboard shortcuts.
+  useEffect(() => {
+    const onKey = (e: KeyboardEvent) => {
+      const t = e.target as HTMLElement;
+      if (t.closest('input, textarea, select, [contenteditable]') || e.ctrlKey || e.metaKey || e.altKey) return;
+      const k = e.key;
+      if (k === 'Escape') { if (busy) client.cancel(); setDrawing(false); setShowSessions(false); setHelp(false); return; }
+      if (busy) return;
+      const actions: Record<string, () => void> = {
+        o: () => void runOrient(), w: () => setDrawing((d) => !d), f: () => void runFindWalls(), p: () => void runProfile(),
+        i: () => fileInput.current?.click(), s: () => { setShowSessions((v) => !v); void refreshList(); }, '?': () => setHelp((h) => !h),
+        '1': () => setMode('none'), '2': () => setMode('colour'), '3': () => setMode('coherency'), '4': () => setMode('glyphs'),
+        '+': () => viewer.current?.zoomBy(1.25), '=': () => viewer.current?.zoomBy(1.25), '-': () => viewer.current?.zoomBy(0.8), '0': () => viewer.current?.fit(),
+      };
+      const a = actions[k.toLowerCase()] ?? actions[k];
+      if (a && (active || 'is?'.includes(k))) { e.preventDefault(); a(); }
+    };
+    window.addEventListener('keydown', onKey);
+    return () => window.removeEventListener('keydown', onKey);
+  }, [busy, client, runOrient, runFindWalls, runProfile, refreshList, active]);
+
+  const setSetting = (c: Partial<AnalysisSettings>) => change({ type: 'settings', change: c });
+  const numberField = (label: string, key: 'sigmaPx' | 'bins' | 'stations' | 'coreMax' | 'skinMin', min: number, max: number, step: number, unit = '') => (
+    <label className="field">
+      <span>{label}</span>
+      <input type="number" min={min} max={max} step={step} value={settings?.[key] ?? ''}
+        onChange={(e) => { const v = Number(e.target.value); if (e.target.value !== '' && Number.isFinite(v) && v >= min && v <= max) setSetting({ [key]: v }); }} />
+      {unit && <span className="unit">{unit}</span>}
+    </label>
+  );
+
+  const orient = work?.orient ?? null;
+  const profile = work?.profile ?? null;
+  const walls: Channel | null = work?.walls ?? null;
+  const base = active ? active.name.replace(/\.[^.]+$/, '') : 'result';
+
+  const dropHandlers = {
+    onDragOver: (e: React.DragEvent) => { if ([...e.dataTransfer.types].includes('Files')) { e.preventDefault(); setDragOver(true); } },
+    onDragLeave: (e: React.DragEvent) => { if (e.currentTarget === e.target) setDragOver(false); },
+    onDrop: (e: React.DragEvent) => { e.preventDefault(); setDragOver(false); void addFiles([...e.dataTransfer.files]); },
+  };
+
+  const doBackup = async () => {
+    try {
+      await saver.flush();
+      download(`retarda-backup-${new Date().toISOString().slice(0, 10)}.json`, await exportBackup(store), 'application/json');
+    } catch (e) { say('error', `The backup could not be made: ${(e as Error).message}`); }
+  };
+  const doRestore = async (file: File) => {
+    try {
+      const r = await importBackup(store, await file.text());
+      say('info', `Restored ${r.sessions} session(s) with ${r.images} image(s)${r.setAside ? `; ${r.setAside} record(s) kept aside` : ''}.${r.notes.length ? ' ' + r.notes.join('; ') : ''}`);
+      await refreshList();
+    } catch (e) { say('error', e instanceof BackupError ? `${file.name}: ${e.message}.` : `${file.name} could not be restored: ${(e as Error).message}`); }
+  };
+
+  return (
+    <div className={`app${dragOver ? ' drag-over' : ''}`} {...dropHandlers}>
+      <header className="top">
+        <h1>Retarda</h1>
+        <span className="session-title" data-testid="session-name">{session ? session.name : 'No session yet'}</span>
+        <span className={`save-state ${saveState}`} data-testid="save-state">{session ? (saveState === 'saved' ? 'Saved on this device' : saveState === 'waiting' ? 'Saving…' : 'Not saved!') : ''}</span>
+        <span className="spacer" />
+        <span className={`engine ${engine}`}>{engine === 'starting' ? 'Analysis engine starting…' : engine === 'ready' ? 'Works offline' : 'Analysis engine failed'}</span>
+        <button onClick={() => fileInput.current?.click()} title="Shortcut: I">Add images…</button>
+        <button onClick={() => { setShowSessions(true); void refreshList(); }} title="Shortcut: S">Sessions</button>
+        <button className="quiet" onClick={() => setHelp((h) => !h)} aria-label="Keyboard shortcuts" title="Shortcut: ?">?</button>
+        <input ref={fileInput} type="file" accept={ACCEPT} multiple hidden data-testid="file-input"
+          onChange={(e) => { void addFiles([...(e.target.files ?? [])]); e.target.value = ''; }} />
+      </header>
+
+      {update && <div className="banner">A new version of the app is ready. <button onClick={update}>Save my work and reload</button></div>}
+      <div className="messages" aria-live="polite">
+        {messages.map((m) => (
+          <div key={m.id} className={`message ${m.kind}`} role={m.kind === 'error' ? 'alert' : 'status'}>
+            <span>{m.text}</span>
+            <button className="quiet" aria-label="Dismiss" onClick={() => setMessages((l) => l.filter((x) => x.id !== m.id))}>×</button>
+          </div>
+        ))}
+      </div>
+
+      {showSessions && (
+        <SessionsPanel
+          sessions={listing.sessions} currentId={session?.id ?? null} asideCount={listing.asideCount}
+          onOpen={(id) => void openSession(id)}
+          onNew={async () => { await saver.flush(); const s = await store.create(sessionName()); sessionRef.current = s; setSession(s); setShown(null); setShowSessions(false); void refreshList(); }}
+          onRename={async (id, name) => { if (id === session?.id) change({ type: 'rename', name }); else await store.rename(id, name); await saver.flush(); void refreshList(); }}
+          onDuplicate={async (id) => { await saver.flush(); await store.duplicate(id); void refreshList(); }}
+          onDelete={async (id) => { await store.remove(id); if (id === session?.id) { sessionRef.current = null; setSession(null); setShown(null); } void refreshList(); }}
+          onBackup={() => void doBackup()} onRestore={(f) => void doRestore(f)} onClose={() => setShowSessions(false)}
+        />
+      )}
+
+      {help && (
+        <section className="help" aria-label="Keyboard shortcuts">
+          <h2>Keyboard shortcuts</h2>
+          <dl>
+            <dt>I</dt><dd>add images</dd><dt>O</dt><dd>orientation analysis</dd><dt>W</dt><dd>draw the two walls</dd><dt>F</dt><dd>find the walls</dd>
+            <dt>P</dt><dd>profile across the channel</dd><dt>1 2 3 4</dt><dd>show: image only, orientation colours, coherency, line glyphs</dd>
+            <dt>+ − 0</dt><dd>zoom in, out, fit</dd><dt>S</dt><dd>saved sessions</dd><dt>Esc</dt><dd>stop the running analysis, close panels</dd><dt>Ctrl+V</dt><dd>paste an image</dd>
+          </dl>
+        </section>
+      )}
+
+      {!active ? (
+        <main className="welcome">
+          <section className="drop-target">
+            <h2>Bring in a microscope image</h2>
+            <p>Drop PNG, JPEG or TIFF files here (8/16-bit, 32-bit float TIFF), <button onClick={() => fileInput.current?.click()}>choose files…</button> or paste one with Ctrl+V.</p>
+            <p className="note">Everything stays on this device. The analyses run here, without a network.</p>
+            {demos.length > 0 && (
+              <div className="demos">
+                <h3>Or try a demo image</h3>
+                <ul>{demos.map((d) => <li key={d.file}><button onClick={() => void openDemo(d)}>{d.title}</button> <span className="note">{d.about}</span></li>)}</ul>
+              </div>
+            )}
+          </section>
+          <LampCaution />
+          <SampleCaution />
+        </main>
+      ) : (
+        <main className="work">
+          <aside className="images" aria-label="Images in this session">
+            <h2>Images</h2>
+            <ul>
+              {session!.images.map((m) => (
+                <li key={m.id} className={m.id === active.id ? 'current' : ''}>
+                  <button onClick={() => change({ type: 'select', id: m.id })} title={m.name}>{m.name}</button>
+                  <span className="marks">{session!.work[m.id]?.orient ? 'O' : ''}{session!.work[m.id]?.profile ? 'P' : ''}</span>
+                  <button className="quiet small" aria-label={`Remove ${m.name} from the session`} onClick={() => { change({ type: 'removeImage', id: m.id }); void store.removeImage(m.id); client.call('forget', { key: m.id }).catch(() => undefined); }}>×</button>
+                </li>
+              ))}
+            </ul>
+            <button onClick={() => fileInput.current?.click()}>Add images…</button>
+            <LampCaution />
+          </aside>
+
+          <section className="stage">
+            <div className="toolbar" role="toolbar" aria-label="View">
+              <span className="group">
+                Show:
+                {(['none', 'colour', 'coherency', 'glyphs'] as OverlayMode[]).map((m, i) => (
+                  <button key={m} className={mode === m ? 'on' : ''} aria-pressed={mode === m} onClick={() => setMode(m)} title={`Shortcut: ${i + 1}`}>
+                    {m === 'none' ? 'image' : m === 'colour' ? 'orientation' : m === 'coherency' ? 'coherency' : 'lines'}
+                  </button>
+                ))}
+              </span>
+              <label className="group">opacity <input type="range" min={0} max={1} step={0.05} value={opacity} onChange={(e) => setOpacity(Number(e.target.value))} /></label>
+              <span className="group">
+                <button onClick={() => viewer.current?.zoomBy(0.8)} aria-label="Zoom out">−</button>
+                <button onClick={() => viewer.current?.fit()}>Fit</button>
+                <button onClick={() => viewer.current?.zoomBy(1.25)} aria-label="Zoom in">+</button>
+              </span>
+            </div>
+            {shown && shown.imageId === active.id ? (
+              <Viewer
+                handle={viewer} image={shown.image} imageWidth={shown.summary.width} imageHeight={shown.summary.height}
+                colour={shown.colour} coherency={shown.coherency} glyphs={shown.glyphs} mode={mode} opacity={opacity}
+                walls={walls} drawing={drawing}
+                onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}
+                onDrawingDone={() => setDrawing(false)}
+              />
+            ) : <div className="viewer placeholder">Opening {active.name}…</div>}
+            {shown && shown.imageId === active.id && (
+              <p className="image-facts" data-testid="image-facts">
+                {shown.summary.width} × {shown.summary.height} px, {shown.summary.channels === 1 ? 'grey' : 'RGB'}, {shown.summary.bitDepth}-bit
+                {shown.summary.pixelSizeUmPerPx ? `, ${shown.summary.pixelSizeUmPerPx} µm/px from the file` : ', not calibrated (lengths in px)'}
+                {shown.summary.displayNote ? `; ${shown.summary.displayNote}` : ''}
+              </p>
+            )}
+          </section>
+
+          <aside className="panel" aria-label="Analysis">
+            <section>
+              <h2>Orientation</h2>
+              {numberField('Texture scale σ', 'sigmaPx', 0.5, 30, 0.5, 'px')}
+              <label className="field">
+                <span>Pixel weights</span>
+                <select value={settings!.weighting} onChange={(e) => setSetting({ weighting: e.target.value as AnalysisSettings['weighting'] })}>
+                  <option value="confidence">coherency</option><option value="none">equal</option><option value="energy">texture strength</option><option value="energy-confidence">strength × coherency</option>
+                </select>
+              </label>
+              <label className="field">
+                <span>Reference axis</span>
+                <input type="number" step={1} min={-90} max={180} placeholder="none" value={settings!.axisDeg ?? ''}
+                  onChange={(e) => setSetting({ axisDeg: e.target.value === '' ? null : Number(e.target.value) })} />
+                <span className="unit">deg</span>
+              </label>
+              <button className="primary" disabled={!!busy || engine === 'failed'} onClick={() => void runOrient()} title="Shortcut: O">Analyse orientation</button>
+              {mode !== 'none' && orient && <LegendWheel />}
+              {orient && <OrientTable r={orient} stale={orientIsStale(orient, settings!)} />}
+              {orient && <p className="cli" title="Run this to get the same numbers from the command line"><code>{orientCommandLine(active.name, settings!)}</code></p>}
+              {orient && (
+                <p className="exports">
+                  Save: <button onClick={() => download(`${base}-orient.json`, JSON.stringify(orient, null, 2), 'application/json')}>JSON</button>
+                  <button onClick={() => download(`${base}-orient.csv`, orientCsv(orient), 'text/csv')}>CSV</button>
+                </p>
+              )}
+            </section>
+
+            <section>
+              <h2>Across the channel</h2>
+              <p className="buttons">
+                <button className={drawing ? 'on' : ''} aria-pressed={drawing} disabled={!shown} onClick={() => setDrawing((d) => !d)} title="Shortcut: W">{drawing ? 'Cancel drawing' : 'Draw walls'}</button>
+                <button disabled={!!busy || !shown} onClick={() => void runFindWalls()} title="Shortcut: F">Find walls</button>
+                {walls && <button className="quiet" onClick={() => change({ type: 'walls', id: active.id, channel: null, found: false })}>Clear walls</button>}
+              </p>
+              {walls && <p className="note">Walls ({work?.wallsFound ? 'found' : 'drawn'}): {wallsText(walls.walls)} px</p>}
+              {numberField('Bins across', 'bins', 2, 200, 1)}
+              {numberField('Stations along', 'stations', 1, 100, 1)}
+              {numberField('Core: |s| below', 'coreMax', 0.05, 1, 0.05)}
+              {numberField('Skin: |s| above', 'skinMin', 0, 0.99, 0.05)}
+              <button className="primary" disabled={!!busy || !walls} onClick={() => void runProfile()} title="Shortcut: P">Profile across the channel</button>
+              {profile && <ProfilePlot r={profile} />}
+              {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings!)} />}
+              {profile && walls && <p className="cli"><code>{profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls))}</code></p>}
+              {profile && (
+                <p className="exports">
+                  Save: <button onClick={() => download(`${base}-profile.json`, JSON.stringify(profile, null, 2), 'application/json')}>JSON</button>
+                  <button onClick={() => download(`${base}-profile.csv`, profileCsv(profile), 'text/csv')}>CSV (summary)</button>
+                  <button onClick={() => download(`${base}-profile-bins.csv`, profileBinsCsv(profile), 'text/csv')}>CSV (bins)</button>
+                </p>
+              )}
+            </section>
+            <ResultCaution />
+          </aside>
+        </main>
+      )}
+
+      {busy && (
+        <div className="busy" role="status" aria-live="polite" data-testid="busy">
+          <span>{busy.what}: {busy.stage}</span>
+          <progress max={1} value={busy.fraction} />
+          <button onClick={() => client.cancel()}>Stop (Esc)</button>
+        </div>
+      )}
+    </div>
+  );
+}

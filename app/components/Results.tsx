@@ -1,0 +1,61 @@
+/** The numbers of the current image, formatted exactly as the command line's table prints them. */
+import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import { formatCell } from '../../src/cli/format.ts';
+
+const f = (v: number | null | undefined) => formatCell(v ?? null);
+const ci = (lo: number, hi: number) => `${f(lo)} – ${f(hi)}`;
+
+export function OrientTable({ r, stale }: { r: OrientResult; stale: boolean }) {
+  return (
+    <div>
+      {stale && <p className="note">Settings changed since this result: run the analysis again to update it.</p>}
+      <table className="results" data-testid="orient-results">
+        <tbody>
+          <tr><th scope="row">Director</th><td data-testid="director">{f(r.directorDeg)}</td><td>deg, CCW from +x</td></tr>
+          <tr><th scope="row">Order S_2D</th><td data-testid="order2d">{f(r.order2D)}</td><td>95 %: {ci(r.order2DCi[0], r.order2DCi[1])}</td></tr>
+          {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? ci(r.axisOrderCi[0], r.axisOrderCi[1]) : '–'}</td></tr>}
+          <tr><th scope="row">Mean coherency</th><td data-testid="coherency">{f(r.coherencyMean)}</td><td>0 = no texture, 1 = straight lines</td></tr>
+          <tr><th scope="row">Pixels used</th><td data-testid="n">{f(r.n)}</td><td>{f(r.blocks)} blocks for the interval; weights: {String(r.options.weighting)}</td></tr>
+          <tr><th scope="row">Isotropic bias</th><td>{f(r.isotropicBias)}</td><td>S_2D expected from noise alone</td></tr>
+        </tbody>
+      </table>
+      <Warnings list={r.warnings} />
+    </div>
+  );
+}
+
+export function ProfileTable({ r, stale }: { r: ProfileResult; stale: boolean }) {
+  return (
+    <div>
+      {stale && <p className="note">Settings changed since this profile: run it again to update it.</p>}
+      <table className="results" data-testid="profile-results">
+        <tbody>
+          <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><td data-testid="core">{f(r.core.order)}</td><td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td></tr>
+          <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><td data-testid="skin">{f(r.skin.order)}</td><td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td></tr>
+          <tr><th scope="row">Core / skin</th><td data-testid="ratio">{f(r.coreSkinRatio)}</td><td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td></tr>
+          <tr><th scope="row">Reference axis</th><td>{f(r.axisDeg)}</td><td>deg; channel axis {f(r.channelAxisDeg)}, taper {f(r.taperDeg)}</td></tr>
+          <tr><th scope="row">Walls</th><td colSpan={2}>{r.wallsFound ? 'found in the image' : 'drawn by hand'}</td></tr>
+        </tbody>
+      </table>
+      {r.stations.length > 1 && (
+        <table className="results compact">
+          <thead><tr><th>station</th><th>width px</th><th>core S</th><th>skin S</th><th>core/skin</th></tr></thead>
+          <tbody>{r.stations.map((s) => <tr key={s.station}><td>{s.station}</td><td>{f(s.widthPx)}</td><td>{f(s.core.order)}</td><td>{f(s.skin.order)}</td><td>{f(s.coreSkinRatio)}</td></tr>)}</tbody>
+        </table>
+      )}
+      <details>
+        <summary>S in each bin ({r.bins.length})</summary>
+        <table className="results compact">
+          <thead><tr><th>s</th><th>S_axis</th><th>95 % low</th><th>95 % high</th><th>n</th><th>director deg</th></tr></thead>
+          <tbody>{r.bins.map((b) => <tr key={b.s}><td>{f(b.s)}</td><td>{f(b.order)}</td><td>{f(b.ciLow)}</td><td>{f(b.ciHigh)}</td><td>{f(b.n)}</td><td>{f(b.directorDeg)}</td></tr>)}</tbody>
+        </table>
+      </details>
+      <Warnings list={r.warnings} />
+    </div>
+  );
+}
+
+function Warnings({ list }: { list: string[] }) {
+  if (!list.length) return null;
+  return <ul className="warnings">{list.map((w) => <li key={w}>{w}</li>)}</ul>;
+}

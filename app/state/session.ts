@@ -1,0 +1,66 @@
+/**
+ * Changes to the open session, as a pure reducer: every change the user makes goes through here, and
+ * the result is what gets saved. Pictures and progress are not part of it (they are remade).
+ */
+import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import type { Channel } from '../../src/channel/index.ts';
+import { EMPTY_WORK, type AnalysisSettings, type ImageMeta, type ImageWork, type SessionRecord } from '../storage/records.ts';
+
+export type SessionAction =
+  | { type: 'replace'; session: SessionRecord }
+  | { type: 'rename'; name: string }
+  | { type: 'addImages'; images: ImageMeta[] }
+  | { type: 'removeImage'; id: string }
+  | { type: 'select'; id: string }
+  | { type: 'settings'; change: Partial<AnalysisSettings> }
+  | { type: 'walls'; id: string; channel: Channel | null; found: boolean }
+  | { type: 'orient'; id: string; result: OrientResult }
+  | { type: 'profile'; id: string; result: ProfileResult };
+
+function withWork(s: SessionRecord, id: string, change: Partial<ImageWork>): SessionRecord {
+  if (!s.images.some((i) => i.id === id)) return s;
+  return { ...s, work: { ...s.work, [id]: { ...(s.work[id] ?? EMPTY_WORK), ...change } } };
+}
+
+function apply(s: SessionRecord, a: SessionAction): SessionRecord {
+  switch (a.type) {
+    case 'replace': return a.session;
+    case 'rename': return a.name.trim() ? { ...s, name: a.name.trim() } : s;
+    case 'addImages': {
+      if (a.images.length === 0) return s;
+      const work = { ...s.work };
+      for (const m of a.images) work[m.id] = { ...EMPTY_WORK };
+      return { ...s, images: [...s.images, ...a.images], work, activeImageId: a.images[0].id };
+    }
+    case 'removeImage': {
+      const images = s.images.filter((i) => i.id !== a.id);
+      const { [a.id]: _gone, ...work } = s.work;
+      void _gone;
+      const active = s.activeImageId === a.id ? images[0]?.id ?? null : s.activeImageId;
+      return { ...s, images, work, activeImageId: active };
+    }
+    case 'select': return s.images.some((i) => i.id === a.id) ? { ...s, activeImageId: a.id } : s;
+    case 'settings': return { ...s, settings: { ...s.settings, ...a.change } };
+    // New walls make the old profile describe other walls: it is dropped, the orientation result stays.
+    case 'walls': return withWork(s, a.id, { walls: a.channel, wallsFound: a.found, profile: null });
+    case 'orient': return withWork(s, a.id, { orient: a.result });
+    case 'profile': return withWork(s, a.id, { profile: a.result, walls: { walls: a.result.walls }, wallsFound: a.result.wallsFound });
+  }
+}
+
+/** Applies the change and stamps updatedAt when anything changed. */
+export function sessionReducer(s: SessionRecord, a: SessionAction, now: () => Date = () => new Date()): SessionRecord {
+  const next = apply(s, a);
+  return next === s || a.type === 'replace' ? next : { ...next, updatedAt: now().toISOString() };
+}
+
+/** Whether a stored orientation result was made with other settings than the current ones. */
+export function orientIsStale(r: OrientResult, s: AnalysisSettings): boolean {
+  const o = r.options as { sigmaPx?: number; weighting?: string };
+  return o.sigmaPx !== s.sigmaPx || o.weighting !== s.weighting || (r.axisDeg ?? null) !== s.axisDeg;
+}
+
+export function profileIsStale(r: ProfileResult, s: AnalysisSettings): boolean {
+  const o = r.options as { sigmaPx?: number; weighting?: string; bins?: number; stations?: number; coreMax?: number; skinMin?: number };
+  return o.sigmaPx !== s.sigmaPx || o.weighting !== s.weighting || o.bins !== s.bins || o.stations !== s.stations || o.coreMax !== s.coreMax || o.skinMin !== s.skinMin;
+}

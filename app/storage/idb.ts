@@ -1,0 +1,14 @@
+/** The app's one connection to IndexedDB (through idb-keyval), in its own database. */
+import { createStore, del, entries, get, keys, set } from 'idb-keyval';
+import type { KeyValue } from './store.ts';
+
+export function browserKeyValue(): KeyValue {
+  const db = createStore('retarda', 'records');
+  return {
+    get: (k) => get(k, db),
+    set: (k, v) => set(k, v, db),
+    del: (k) => del(k, db),
+    keys: () => keys(db),
+    entries: () => entries(db),
+  };
+}

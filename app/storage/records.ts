@@ -1,0 +1,171 @@
+/**
+ * What the app keeps on the device, and the restore step every stored record passes through when
+ * read back: records from older versions are upgraded, damaged parts are left out (and the original
+ * kept aside by the store), records from a newer version are kept aside untouched.
+ */
+import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import type { Channel, Segment } from '../../src/channel/index.ts';
+import type { Weighting } from '../../src/order/index.ts';
+
+/** Version of every stored record; bump when a field changes meaning and add the upgrade in restore. */
+export const STORAGE_SCHEMA_VERSION = 1;
+
+/** The settings of the texture orientation and profile analyses (the CLI's option names, camelCase). */
+export interface AnalysisSettings {
+  sigmaPx: number;
+  weighting: Weighting;
+  /** Reference axis for S_axis in the orientation analysis; null = free director only. */
+  axisDeg: number | null;
+  bins: number;
+  stations: number;
+  coreMax: number;
+  skinMin: number;
+}
+
+/** The CLI's defaults (retarda orient / profile). */
+export const DEFAULT_SETTINGS: AnalysisSettings = { sigmaPx: 2, weighting: 'confidence', axisDeg: null, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
+
+export interface ImageMeta { id: string; name: string; type: string; size: number; page: number; addedAt: string }
+
+export interface ImageRecord extends ImageMeta { schemaVersion: number; kind: 'image'; blob: Blob }
+
+/** What was done on one image of a session. */
+export interface ImageWork {
+  walls: Channel | null;
+  wallsFound: boolean;
+  orient: OrientResult | null;
+  profile: ProfileResult | null;
+}
+
+export interface SessionRecord {
+  schemaVersion: number;
+  kind: 'session';
+  id: string;
+  name: string;
+  createdAt: string;
+  updatedAt: string;
+  images: ImageMeta[];
+  activeImageId: string | null;
+  settings: AnalysisSettings;
+  work: Record<string, ImageWork>;
+}
+
+export const EMPTY_WORK: ImageWork = { walls: null, wallsFound: false, orient: null, profile: null };
+
+export type Restored<T> =
+  | { ok: true; value: T; /** What had to be left out or upgraded; the store keeps the original aside when any was left out. */ notes: string[]; lossy: boolean }
+  | { ok: false; reason: string };
+
+const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
+const str = (v: unknown, d: string) => (typeof v === 'string' ? v : d);
+const num = (v: unknown) => typeof v === 'number' && Number.isFinite(v);
+
+function versionCheck(raw: Record<string, unknown>): string | null {
+  const v = raw.schemaVersion;
+  if (v === undefined) return null;
+  if (!num(v)) return 'its schemaVersion is not a number';
+  if ((v as number) > STORAGE_SCHEMA_VERSION) return `it was written by a newer version of the app (schemaVersion ${v})`;
+  return null;
+}
+
+function restoreSettings(raw: unknown, notes: string[]): AnalysisSettings {
+  const s = { ...DEFAULT_SETTINGS };
+  if (!isObj(raw)) { if (raw !== undefined) notes.push('settings were unreadable; defaults used'); return s; }
+  const pos = (k: 'sigmaPx' | 'bins' | 'stations', min: number, max: number) => {
+    if (raw[k] === undefined) return;
+    if (num(raw[k]) && (raw[k] as number) >= min && (raw[k] as number) <= max) s[k] = raw[k] as number;
+    else notes.push(`setting ${k} was out of range; default used`);
+  };
+  pos('sigmaPx', 0.3, 50); pos('bins', 2, 200); pos('stations', 1, 100);
+  if (num(raw.coreMax) && (raw.coreMax as number) > 0 && (raw.coreMax as number) <= 1) s.coreMax = raw.coreMax as number;
+  if (num(raw.skinMin) && (raw.skinMin as number) >= 0 && (raw.skinMin as number) < 1) s.skinMin = raw.skinMin as number;
+  if (raw.axisDeg === null || num(raw.axisDeg)) s.axisDeg = (raw.axisDeg as number | null) ?? null;
+  if (raw.weighting === 'none' || raw.weighting === 'confidence' || raw.weighting === 'energy' || raw.weighting === 'energy-confidence') s.weighting = raw.weighting;
+  return s;
+}
+
+function restoreSegment(v: unknown): Segment | null {
+  if (!isObj(v) || ![v.x1, v.y1, v.x2, v.y2].every(num)) return null;
+  return { x1: v.x1 as number, y1: v.y1 as number, x2: v.x2 as number, y2: v.y2 as number };
+}
+
+function restoreChannel(v: unknown): Channel | null {
+  if (!isObj(v) || !Array.isArray(v.walls) || v.walls.length !== 2) return null;
+  const a = restoreSegment(v.walls[0]), b = restoreSegment(v.walls[1]);
+  return a && b ? { walls: [a, b] } : null;
+}
+
+function restoreResult<T>(v: unknown, analysis: string): T | null {
+  return isObj(v) && num(v.schemaVersion) && v.analysis === analysis ? (v as T) : null;
+}
+
+function restoreImageMeta(v: unknown): ImageMeta | null {
+  if (!isObj(v) || typeof v.id !== 'string' || !v.id) return null;
+  return {
+    id: v.id, name: str(v.name, 'image'), type: str(v.type, ''), size: num(v.size) ? (v.size as number) : 0,
+    page: num(v.page) ? (v.page as number) : 0, addedAt: str(v.addedAt, new Date(0).toISOString()),
+  };
+}
+
+/**
+ * Restores a stored session record. Version 0 (no schemaVersion) is read with defaults filled in;
+ * image entries, walls or results that cannot be read are left out and named in `notes`.
+ */
+export function restoreSession(raw: unknown): Restored<SessionRecord> {
+  if (!isObj(raw)) return { ok: false, reason: 'it is not a session record' };
+  const bad = versionCheck(raw);
+  if (bad) return { ok: false, reason: bad };
+  if (raw.kind !== undefined && raw.kind !== 'session') return { ok: false, reason: `it is a ${String(raw.kind)} record, not a session` };
+  if (typeof raw.id !== 'string' || !raw.id) return { ok: false, reason: 'it has no session id' };
+  const notes: string[] = [];
+  let lossy = false;
+  if (raw.schemaVersion === undefined) notes.push('upgraded from an early record without a version');
+  const images: ImageMeta[] = [];
+  for (const m of Array.isArray(raw.images) ? raw.images : []) {
+    const meta = restoreImageMeta(m);
+    if (meta) images.push(meta); else { notes.push('an image entry was unreadable'); lossy = true; }
+  }
+  const work: Record<string, ImageWork> = {};
+  const rawWork = isObj(raw.work) ? raw.work : {};
+  for (const img of images) {
+    const w = rawWork[img.id];
+    if (!isObj(w)) { work[img.id] = { ...EMPTY_WORK }; continue; }
+    const walls = w.walls == null ? null : restoreChannel(w.walls);
+    const orient = w.orient == null ? null : restoreResult<OrientResult>(w.orient, 'orient');
+    const profile = w.profile == null ? null : restoreResult<ProfileResult>(w.profile, 'profile');
+    if ((w.walls != null && !walls) || (w.orient != null && !orient) || (w.profile != null && !profile)) {
+      notes.push(`part of the work on ${img.name} was unreadable`);
+      lossy = true;
+    }
+    work[img.id] = { walls, wallsFound: w.wallsFound === true, orient, profile };
+  }
+  const active = typeof raw.activeImageId === 'string' && images.some((i) => i.id === raw.activeImageId) ? raw.activeImageId : images[0]?.id ?? null;
+  const now = new Date().toISOString();
+  return {
+    ok: true, notes, lossy,
+    value: {
+      schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
+      createdAt: str(raw.createdAt, now), updatedAt: str(raw.updatedAt, now), images, activeImageId: active,
+      settings: restoreSettings(raw.settings, notes), work,
+    },
+  };
+}
+
+/** Restores a stored image record: it must hold the image bytes as a Blob. */
+export function restoreImage(raw: unknown): Restored<ImageRecord> {
+  if (!isObj(raw)) return { ok: false, reason: 'it is not an image record' };
+  const bad = versionCheck(raw);
+  if (bad) return { ok: false, reason: bad };
+  const meta = restoreImageMeta(raw);
+  if (!meta) return { ok: false, reason: 'it has no image id' };
+  if (!(raw.blob instanceof Blob)) return { ok: false, reason: 'its image bytes are missing' };
+  return { ok: true, notes: [], lossy: false, value: { ...meta, schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'image', blob: raw.blob } };
+}
+
+export function newSession(id: string, name: string, now = new Date()): SessionRecord {
+  const t = now.toISOString();
+  return {
+    schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id, name, createdAt: t, updatedAt: t,
+    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {},
+  };
+}

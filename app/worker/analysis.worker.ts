@@ -1,0 +1,120 @@
+/**
+ * The analysis worker: the only place the app runs analyses. It routes typed commands to src/ and
+ * sends results back, transferring pixel buffers. Decoded images and the last texture field of each
+ * image are kept here, so a profile after an orientation run does not redo the field.
+ */
+/// <reference lib="webworker" />
+import { analyseOrientation, analyseProfile, type OrientOptions } from '../../src/analyses/index.ts';
+import { findWalls } from '../../src/channel/index.ts';
+import { isInputError } from '../../src/common/errors.ts';
+import { loadCv } from '../../src/cv/opencv.ts';
+import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
+import type { OrientationField } from '../../src/orientation/index.ts';
+import { fieldGlyphs, fieldPictures, imagePicture } from './pictures.ts';
+import type { CommandName, CommandTable, ErrorInfo, Reply, Request } from './protocol.ts';
+
+const scope = self as unknown as DedicatedWorkerGlobalScope;
+const images = new Map<string, Image>();
+const fields = new Map<string, { optionsKey: string; field: OrientationField }>();
+
+function post(reply: Reply, transfer: Transferable[] = []): void {
+  scope.postMessage(reply, transfer);
+}
+
+type Progress = (stage: string, fraction: number) => void;
+type Handler<K extends CommandName> = (args: CommandTable[K]['args'], progress: Progress) => Promise<{ value: CommandTable[K]['reply']; transfer: Transferable[] }>;
+
+function imageOf(key: string): Image {
+  const img = images.get(key);
+  if (!img) throw Object.assign(new Error('the worker no longer holds this image; it will be sent again'), { name: 'ImageMissing' });
+  return img;
+}
+
+/** The texture field for these options, reused when the same image was analysed with the same options. */
+async function textureField(key: string, options: OrientOptions, progress: Progress): Promise<OrientationField> {
+  const optionsKey = JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined });
+  const cached = fields.get(key);
+  if (cached && cached.optionsKey === optionsKey) return cached.field;
+  progress('structure tensor', 0.2);
+  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined, replicates: 1 });
+  fields.set(key, { optionsKey, field });
+  return field;
+}
+
+const handlers: { [K in CommandName]: Handler<K> } = {
+  async decode({ key, name, bytes, page }, progress) {
+    progress('reading the file', 0.1);
+    const img = decodeImage(new Uint8Array(bytes), name, page ?? 0);
+    images.set(key, img);
+    fields.delete(key);
+    progress('making the picture', 0.8);
+    const { picture, note } = await imagePicture(img);
+    return {
+      value: {
+        name, width: img.width, height: img.height, channels: img.channels, bitDepth: img.bitDepth, encoding: img.encoding,
+        pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null, page: page ?? 0, displayNote: note, picture,
+      },
+      transfer: picture.levels,
+    };
+  },
+
+  async orient({ key, options }, progress) {
+    const img = imageOf(key);
+    progress('structure tensor and order', 0.1);
+    // Exactly what `retarda orient` runs, so the numbers shown equal the command line's.
+    const { result, field } = await analyseOrientation(img, options);
+    fields.set(key, { optionsKey: JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined }), field });
+    progress('drawing the orientation map', 0.85);
+    const { colour, coherency } = await fieldPictures(field);
+    const glyphs = fieldGlyphs(field);
+    return { value: { result, colour, coherency, glyphs }, transfer: [...colour.levels, ...coherency.levels] };
+  },
+
+  async profile({ key, texture, request }, progress) {
+    const img = imageOf(key);
+    const field = await textureField(key, texture, progress);
+    progress(request.autoWalls ? 'finding walls and the profile' : 'profile across the channel', 0.6);
+    // Same calls as `retarda profile`: the texture field, then analyseProfile.
+    return { value: await analyseProfile(img, field, request), transfer: [] };
+  },
+
+  async findWalls({ key }, progress) {
+    progress('looking for the two walls', 0.2);
+    const found = await findWalls(toGrey(imageOf(key)));
+    return { value: found, transfer: [] };
+  },
+
+  async forget({ key }) {
+    const had = images.delete(key);
+    fields.delete(key);
+    return { value: { forgotten: had }, transfer: [] };
+  },
+};
+
+function errorInfo(e: unknown): ErrorInfo {
+  if (isInputError(e)) return { name: 'InputError', message: e.message, hint: (e as { hint?: string }).hint ?? '' };
+  if (e instanceof Error) return { name: e.name, message: e.message, hint: '' };
+  if (typeof e === 'number') return { name: 'Error', message: `opencv.js fault ${e} (often: out of memory; try a smaller image or region)`, hint: '' };
+  return { name: 'Error', message: String(e), hint: '' };
+}
+
+scope.onmessage = async (ev: MessageEvent<Request>) => {
+  const { id, command, args } = ev.data;
+  const handler = handlers[command] as Handler<CommandName> | undefined;
+  if (!handler) {
+    post({ id, type: 'error', error: { name: 'Error', message: `unknown command "${String(command)}"`, hint: '' } });
+    return;
+  }
+  try {
+    const { value, transfer } = await handler(args, (stage, fraction) => post({ id, type: 'progress', stage, fraction }));
+    post({ id, type: 'done', value }, transfer);
+  } catch (e) {
+    post({ id, type: 'error', error: errorInfo(e) });
+  }
+};
+
+// Start opencv.js now, so the first analysis does not wait for it, and say whether it started.
+loadCv().then(
+  () => post({ id: -1, type: 'ready' }),
+  (e) => post({ id: -1, type: 'startFailed', error: errorInfo(e) }),
+);

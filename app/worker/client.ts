@@ -1,0 +1,126 @@
+/**
+ * The page's side of the analysis worker: typed calls that return promises, progress callbacks,
+ * and cancel (the worker is stopped and a fresh one started; pending calls reject with CancelledError).
+ * Decoded images live in the worker; the client sends an image's bytes again after a restart.
+ */
+import type { CommandName, CommandTable, ErrorInfo, Reply, Request } from './protocol.ts';
+
+export class AnalysisError extends Error {
+  readonly hint: string;
+  readonly kind: string;
+  constructor(info: ErrorInfo) {
+    super(info.message);
+    this.name = info.name === 'InputError' ? 'InputError' : 'AnalysisError';
+    this.kind = info.name;
+    this.hint = info.hint;
+  }
+}
+
+export class CancelledError extends Error {
+  constructor() { super('stopped'); this.name = 'CancelledError'; }
+}
+
+export type ProgressFn = (stage: string, fraction: number) => void;
+
+interface Pending { resolve(v: unknown): void; reject(e: Error): void; progress?: ProgressFn }
+
+/** Source of the bytes of an image, so the client can send it again to a fresh worker. */
+export interface ImageSource { key: string; name: string; page?: number; bytes(): Promise<ArrayBuffer> }
+
+export class AnalysisClient {
+  private worker: Worker | null = null;
+  private readyPromise: Promise<void> | null = null;
+  private nextId = 1;
+  private pending = new Map<number, Pending>();
+  private loaded = new Set<string>();
+  constructor(private readonly makeWorker: () => Worker) {}
+
+  /** Resolves when the worker's opencv.js runtime has started; rejects with a readable message if it cannot. */
+  ready(): Promise<void> {
+    this.start();
+    return this.readyPromise!;
+  }
+
+  private start(): Worker {
+    if (this.worker) return this.worker;
+    const w = this.makeWorker();
+    this.worker = w;
+    this.readyPromise = new Promise<void>((resolve, reject) => {
+      w.onmessage = (ev: MessageEvent<Reply>) => {
+        const r = ev.data;
+        if (r.type === 'ready') { resolve(); return; }
+        if (r.type === 'startFailed') { reject(new AnalysisError({ ...r.error, message: `the analysis engine could not start: ${r.error.message}` })); return; }
+        this.settle(r);
+      };
+      w.onerror = (ev: ErrorEvent) => {
+        ev.preventDefault();
+        const message = `the analysis engine could not start or stopped unexpectedly (${ev.message || 'no details from the browser'}); reload the page`;
+        const err = new AnalysisError({ name: 'WorkerFailed', message, hint: '' });
+        reject(err);
+        this.failAll(err);
+        this.worker?.terminate();
+        this.worker = null;
+        this.loaded.clear();
+      };
+    });
+    this.readyPromise.catch(() => undefined);
+    return w;
+  }
+
+  private settle(r: Reply): void {
+    const p = this.pending.get(r.id);
+    if (!p) return;
+    if (r.type === 'progress') { p.progress?.(r.stage, r.fraction); return; }
+    this.pending.delete(r.id);
+    if (r.type === 'done') p.resolve(r.value);
+    else if (r.type === 'error') p.reject(new AnalysisError(r.error));
+  }
+
+  private failAll(e: Error): void {
+    for (const p of this.pending.values()) p.reject(e);
+    this.pending.clear();
+  }
+
+  /** Sends one command; `transfer` hands buffers over without copying. */
+  call<K extends CommandName>(command: K, args: CommandTable[K]['args'], progress?: ProgressFn, transfer: Transferable[] = []): Promise<CommandTable[K]['reply']> {
+    const w = this.start();
+    const id = this.nextId++;
+    return new Promise((resolve, reject) => {
+      this.pending.set(id, { resolve: resolve as (v: unknown) => void, reject, progress });
+      const req: Request<K> = { id, command, args };
+      w.postMessage(req, transfer);
+    });
+  }
+
+  /** Decodes an image in the worker (bytes transferred) and keeps it there under its key. */
+  async decode(src: ImageSource, progress?: ProgressFn): Promise<CommandTable['decode']['reply']> {
+    progress?.('reading the file', 0);
+    const bytes = await src.bytes();
+    const summary = await this.call('decode', { key: src.key, name: src.name, bytes, page: src.page }, progress, [bytes]);
+    this.loaded.add(src.key);
+    return summary;
+  }
+
+  /** Makes sure the worker holds the image (after a restart it has to be sent again). */
+  async ensure(src: ImageSource, progress?: ProgressFn): Promise<void> {
+    if (!this.loaded.has(src.key)) await this.decode(src, progress);
+  }
+
+  /** Whether the running worker holds this image. */
+  holds(key: string): boolean {
+    return this.loaded.has(key);
+  }
+
+  /** Stops whatever is running: the worker is ended and a new one starts on the next call. */
+  cancel(): void {
+    if (!this.worker) return;
+    this.worker.terminate();
+    this.worker = null;
+    this.loaded.clear();
+    this.failAll(new CancelledError());
+  }
+
+  dispose(): void {
+    this.cancel();
+  }
+}

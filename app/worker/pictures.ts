@@ -1,0 +1,104 @@
+/**
+ * Pictures the page draws, made in the worker so the page's thread stays free: the image itself,
+ * the orientation colour picture and the coherency picture. Large images are reduced by an integer
+ * step so a canvas can hold them; the numbers are always computed on the full image.
+ */
+import type { Image } from '../../src/image/index.ts';
+import type { OrientationField } from '../../src/orientation/index.ts';
+import { orientationRgba } from '../../src/report/colourMap.ts';
+import type { Glyph, Picture } from './protocol.ts';
+
+/** Longest side of a picture; a browser canvas holds this comfortably on a tablet. */
+const MAX_SIDE = 4096;
+
+export const pictureStep = (width: number, height: number): number => Math.max(1, Math.ceil(Math.max(width, height) / MAX_SIDE));
+
+/** Side below which no further half-size level is made. */
+const SMALLEST_LEVEL_SIDE = 1024;
+
+/** Bitmaps of an RGBA buffer: full size, then halves while the picture is large (drawing zoomed out stays cheap). */
+async function bitmapLevels(rgba: Uint8ClampedArray<ArrayBuffer>, w: number, h: number): Promise<ImageBitmap[]> {
+  const base = await createImageBitmap(new ImageData(rgba, w, h));
+  const levels = [base];
+  for (let f = 2; Math.max(w, h) / f >= SMALLEST_LEVEL_SIDE / 2 && Math.max(w, h) > SMALLEST_LEVEL_SIDE; f *= 2) {
+    levels.push(await createImageBitmap(base, { resizeWidth: Math.ceil(w / f), resizeHeight: Math.ceil(h / f), resizeQuality: 'medium' }));
+  }
+  return levels;
+}
+
+async function sampled(width: number, height: number, step: number, pixel: (i: number, o: number, out: Uint8ClampedArray) => void): Promise<Picture> {
+  const w = Math.ceil(width / step), h = Math.ceil(height / step);
+  const out = new Uint8ClampedArray(w * h * 4);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) pixel(y * step * width + x * step, 4 * (y * w + x), out);
+  return { width: w, height: h, scale: step, levels: await bitmapLevels(out, w, h) };
+}
+
+/** Robust display range: 0.1 and 99.9 percentiles of a strided sample of the values. */
+function displayRange(planes: Float32Array[]): [number, number] {
+  const sample: number[] = [];
+  const n = planes[0].length, stride = Math.max(1, Math.floor(n / 200_000));
+  for (const p of planes) for (let i = 0; i < n; i += stride) if (Number.isFinite(p[i])) sample.push(p[i]);
+  sample.sort((a, b) => a - b);
+  if (sample.length === 0) return [0, 1];
+  const lo = sample[Math.floor(0.001 * (sample.length - 1))], hi = sample[Math.ceil(0.999 * (sample.length - 1))];
+  return hi > lo ? [lo, hi] : [lo, lo + 1];
+}
+
+/**
+ * The image as the user sees it: 8-bit camera images as stored; 16-bit and float images stretched
+ * between their 0.1 and 99.9 percentiles (said in `note`, since it changes how the image looks only).
+ */
+export async function imagePicture(img: Image): Promise<{ picture: Picture; note: string }> {
+  const step = pictureStep(img.width, img.height);
+  const stretch = img.bitDepth !== 8;
+  const [lo, hi] = stretch ? displayRange(img.planes) : [0, 1];
+  const k = 255 / (hi - lo);
+  const [r, g, b] = img.channels === 3 ? img.planes : [img.planes[0], img.planes[0], img.planes[0]];
+  const picture = await sampled(img.width, img.height, step, (i, o, out) => {
+    out[o] = (r[i] - lo) * k; out[o + 1] = (g[i] - lo) * k; out[o + 2] = (b[i] - lo) * k; out[o + 3] = 255;
+  });
+  const notes = [];
+  if (stretch) notes.push(`shown stretched from ${lo.toPrecision(3)} to ${hi.toPrecision(3)} (display only)`);
+  if (step > 1) notes.push(`shown at 1/${step} size (analysis uses every pixel)`);
+  return { picture, note: notes.join('; ') };
+}
+
+/** Orientation colour (opacity = coherency) and coherency grey pictures of a field. */
+export async function fieldPictures(f: OrientationField): Promise<{ colour: Picture; coherency: Picture }> {
+  const step = pictureStep(f.width, f.height);
+  const full = orientationRgba(f.angleRad, f.confidence, f.mask);
+  const colour = await sampled(f.width, f.height, step, (i, o, out) => {
+    out[o] = full[4 * i]; out[o + 1] = full[4 * i + 1]; out[o + 2] = full[4 * i + 2]; out[o + 3] = full[4 * i + 3];
+  });
+  const coherency = await sampled(f.width, f.height, step, (i, o, out) => {
+    const v = f.mask[i] ? 255 * f.confidence[i] : 0;
+    out[o] = v; out[o + 1] = v; out[o + 2] = v; out[o + 3] = f.mask[i] ? 255 : 0;
+  });
+  return { colour, coherency };
+}
+
+/**
+ * Line glyphs on a grid of about `across` cells over the longer side: each is the free director of
+ * its cell (half the argument of the confidence-weighted mean of exp(2i theta)) and that mean's length.
+ */
+export function fieldGlyphs(f: OrientationField, across = 40): Glyph[] {
+  const cell = Math.max(4, Math.round(Math.max(f.width, f.height) / across));
+  const glyphs: Glyph[] = [];
+  for (let y0 = 0; y0 + cell <= f.height; y0 += cell) {
+    for (let x0 = 0; x0 + cell <= f.width; x0 += cell) {
+      let c = 0, s = 0, w = 0;
+      for (let y = y0; y < y0 + cell; y++) for (let x = x0; x < x0 + cell; x++) {
+        const i = y * f.width + x;
+        if (!f.mask[i]) continue;
+        const wi = f.confidence[i];
+        // The texture reader gives cos 2theta and sin 2theta directly; other readers only the angle.
+        c += wi * (f.cos2 ? f.cos2[i] : Math.cos(2 * f.angleRad[i]));
+        s += wi * (f.sin2 ? f.sin2[i] : Math.sin(2 * f.angleRad[i]));
+        w += wi;
+      }
+      if (w <= 0) continue;
+      glyphs.push({ x: x0 + cell / 2 - 0.5, y: y0 + cell / 2 - 0.5, angleDeg: (Math.atan2(s, c) / 2) * (180 / Math.PI), coherency: Math.hypot(c, s) / w });
+    }
+  }
+  return glyphs;
+}

@@ -1,0 +1,56 @@
+/**
+ * Messages between the page and the analysis worker. The page sends one command at a time per id;
+ * the worker answers with progress messages and then exactly one 'done' or 'error'.
+ */
+import type { OrientOptions, OrientResult, ProfileRequest, ProfileResult } from '../../src/analyses/index.ts';
+import type { Channel } from '../../src/channel/index.ts';
+
+/** Which decoded image a command works on: the worker keeps decoded images by key. */
+export interface ImageRef { key: string }
+
+/**
+ * A picture the page can draw as is, made into bitmaps in the worker so the page's thread only draws:
+ * `levels[0]` full size, each further level half the one before; `scale` image pixels per picture pixel.
+ */
+export interface Picture { width: number; height: number; scale: number; levels: ImageBitmap[] }
+
+/** A short line glyph for the glyph view: centre in image pixels, angle CCW from +x, coherency. */
+export interface Glyph { x: number; y: number; angleDeg: number; coherency: number }
+
+export interface DecodeSummary {
+  name: string; width: number; height: number; channels: 1 | 3; bitDepth: 8 | 16 | 32;
+  encoding: 'srgb' | 'linear'; pixelSizeUmPerPx: number | null; page: number;
+  /** How the picture was made from the stored values (shown to the user). */
+  displayNote: string;
+  picture: Picture;
+}
+
+export interface OrientReply {
+  result: OrientResult;
+  /** Colour from the angle (cyclic map), opacity from the coherency. */
+  colour: Picture;
+  /** Coherency as grey (black 0, white 1). */
+  coherency: Picture;
+  glyphs: Glyph[];
+}
+
+export interface CommandTable {
+  decode: { args: { key: string; name: string; bytes: ArrayBuffer; page?: number }; reply: DecodeSummary };
+  orient: { args: ImageRef & { options: OrientOptions }; reply: OrientReply };
+  profile: { args: ImageRef & { texture: OrientOptions; request: ProfileRequest }; reply: ProfileResult };
+  findWalls: { args: ImageRef; reply: { channel: Channel; strength: [number, number] } };
+  forget: { args: ImageRef; reply: { forgotten: boolean } };
+}
+
+export type CommandName = keyof CommandTable;
+
+export interface Request<K extends CommandName = CommandName> { id: number; command: K; args: CommandTable[K]['args'] }
+
+export interface ErrorInfo { name: string; message: string; hint: string }
+
+export type Reply =
+  | { id: number; type: 'progress'; stage: string; fraction: number }
+  | { id: number; type: 'done'; value: unknown }
+  | { id: number; type: 'error'; error: ErrorInfo }
+  | { id: -1; type: 'ready' }
+  | { id: -1; type: 'startFailed'; error: ErrorInfo };

@@ -1,0 +1,41 @@
+import { describe, expect, it } from 'vitest';
+import { orientCommandLine, orientCsv, profileCsvRow, profileCommandLine, wallsText } from '../../app/export/rows.ts';
+import { profileCsvRow as cliProfileCsvRow } from '../../src/cli/channelOptions.ts';
+import { parseWalls } from '../../src/channel/index.ts';
+import { analyseOrientation, analyseProfile, type OrientResult } from '../../src/analyses/index.ts';
+import { makeImage } from '../../src/image/index.ts';
+import { grating } from '../support/synthetic.ts';
+
+describe('app exports match the command line', () => {
+  it('profileCsvRow gives the same columns and values as the CLI\'s profile CSV row', async () => {
+    // a 30 deg grating between two horizontal walls (hand-checkable: S_axis = cos 60 deg = 0.5 against the x axis)
+    const g = grating(96, 64, 30, 6);
+    const img = makeImage({ width: 96, height: 64, channels: 1, planes: [g.data], bitDepth: 32, encoding: 'linear', source: { name: 'g.tif' } });
+    const { field } = await analyseOrientation(img, { sigmaPx: 2 });
+    const r = await analyseProfile(img, field, { channel: parseWalls('4,8,92,8;4,56,92,56'), bins: 8 });
+    expect(profileCsvRow(r)).toEqual(cliProfileCsvRow(r));
+    // domain.md §5 [D]: S_axis = <cos 2(theta - axis)>; a uniform 30 deg field against a 0 deg axis gives cos 60 deg = 0.5
+    expect(r.core.order).toBeCloseTo(0.5, 1);
+  });
+
+  it('orientCsv writes one RFC 4180 header row and one data row with the CLI\'s column names', () => {
+    const r = {
+      source: 'a, b.png', directorDeg: 12.5, order2D: 0.8, order2DCi: [0.7, 0.9], axisDeg: null, axisOrder: null,
+      coherencyMean: 0.6, n: 100, options: { sigmaPx: 2, weighting: 'confidence' },
+    } as unknown as OrientResult;
+    const lines = orientCsv(r).split('\r\n');
+    expect(lines[0]).toBe('image,directorDeg,order2D,order2DCiLow,order2DCiHigh,axisDeg,axisOrder,coherencyMean,n,sigmaPx,weighting');
+    // RFC 4180 §2.6: a field with a comma is quoted
+    expect(lines[1]).toBe('"a, b.png",12.5,0.8,0.7,0.9,,,0.6,100,2,confidence');
+    expect(lines[2]).toBe('');
+  });
+
+  it('the command lines shown use the CLI\'s option names and parse back to the same walls', () => {
+    expect(orientCommandLine('run 1.png', { sigmaPx: 2, weighting: 'confidence', axisDeg: 15 })).toBe('retarda orient "run 1.png" --sigma 2 --weighting confidence --axis-deg 15');
+    const walls = parseWalls('1.25,2,300,2.04;1,150,300,150');
+    const text = wallsText(walls.walls);
+    expect(parseWalls(text).walls[0].x1).toBeCloseTo(1.3, 5);
+    expect(profileCommandLine('a.png', { sigmaPx: 3, weighting: 'none', bins: 10, stations: 2, coreMax: 0.5, skinMin: 0.8 }, text))
+      .toBe(`retarda profile a.png --walls "${text}" --sigma 3 --weighting none --bins 10 --stations 2 --core-max 0.5 --skin-min 0.8`);
+  });
+});

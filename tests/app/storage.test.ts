@@ -1,0 +1,234 @@
+import { describe, expect, it } from 'vitest';
+import {
+  createSessionStore, type KeyValue,
+} from '../../app/storage/store.ts';
+import { DEFAULT_SETTINGS, restoreSession, STORAGE_SCHEMA_VERSION } from '../../app/storage/records.ts';
+import { createSaver } from '../../app/storage/saver.ts';
+import { base64ToBytes, bytesToBase64, exportBackup, importBackup } from '../../app/storage/backup.ts';
+
+/** In-memory stand-in for idb-keyval's get/set/del/keys/entries (insertion order, like a Map). */
+function memoryKv(): KeyValue & { map: Map<string, unknown>; failNext?: boolean } {
+  const map = new Map<string, unknown>();
+  const kv = {
+    map,
+    failNext: false,
+    async get(k: string) { return map.get(k); },
+    async set(k: string, v: unknown) {
+      if (kv.failNext) { kv.failNext = false; throw new Error('QuotaExceededError: the disk is full'); }
+      map.set(k, v);
+    },
+    async del(k: string) { map.delete(k); },
+    async keys() { return [...map.keys()]; },
+    async entries() { return [...map.entries()] as [IDBValidKey, unknown][]; },
+  };
+  return kv;
+}
+
+function counter() {
+  let n = 0;
+  return () => `id${++n}`;
+}
+
+const png = (bytes: number[]) => new Blob([Uint8Array.from(bytes)], { type: 'image/png' });
+
+describe('createSessionStore: sessions on the device', () => {
+  it('create + addImage + save + load returns the same session, with schemaVersion on every record', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const s = await store.create('Channel run 3');
+    const meta = await store.addImage({ name: 'a.png', type: 'image/png', blob: png([1, 2, 3]) });
+    await store.save({ ...s, images: [meta], activeImageId: meta.id });
+    const back = await store.load(s.id);
+    expect(back?.name).toBe('Channel run 3');
+    expect(back?.images.map((i) => i.name)).toEqual(['a.png']);
+    expect(back?.activeImageId).toBe(meta.id);
+    for (const v of kv.map.values()) expect((v as { schemaVersion: number }).schemaVersion).toBe(STORAGE_SCHEMA_VERSION);
+    const img = await store.image(meta.id);
+    expect([...new Uint8Array(await img!.blob.arrayBuffer())]).toEqual([1, 2, 3]);
+  });
+
+  it('list puts unreadable records aside instead of deleting them, and names the reason', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    await store.create('good');
+    kv.map.set('session:broken', 'not an object');
+    kv.map.set('session:future', { schemaVersion: 99, kind: 'session', id: 'future' });
+    const listing = await store.list();
+    expect(listing.sessions.map((s) => s.name)).toEqual(['good']);
+    expect(listing.setAside.map((m) => m.key).sort()).toEqual(['session:broken', 'session:future']);
+    expect(listing.setAside.find((m) => m.key === 'session:future')?.reason).toMatch(/newer version/);
+    expect(kv.map.has('session:broken')).toBe(false);
+    const aside = await store.aside();
+    expect(aside.map((a) => a.value)).toContainEqual('not an object');
+    expect(aside.map((a) => a.value)).toContainEqual({ schemaVersion: 99, kind: 'session', id: 'future' });
+    expect(listing.asideCount).toBe(2);
+  });
+
+  it('a record with a damaged part keeps the readable rest in place and the original aside', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const raw = {
+      schemaVersion: 1, kind: 'session', id: 'x', name: 'half', images: [{ id: 'i1', name: 'a.png' }, { nonsense: true }],
+      work: { i1: { walls: { walls: [{ x1: 0, y1: 0, x2: 10, y2: 0 }, { x1: 'a' }] }, orient: null, profile: null } },
+    };
+    kv.map.set('session:x', raw);
+    const s = await store.load('x');
+    expect(s?.images.map((i) => i.id)).toEqual(['i1']);
+    expect(s?.work.i1.walls).toBeNull();
+    const aside = await store.aside();
+    expect(aside).toHaveLength(1);
+    expect(aside[0].value).toEqual(raw);
+    expect(aside[0].reason).toMatch(/unreadable/);
+  });
+
+  it('rename, duplicate (with its own copy of the images) and delete', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const s = await store.create('first');
+    const meta = await store.addImage({ name: 'a.png', type: 'image/png', blob: png([9]) });
+    await store.save({ ...s, images: [meta], activeImageId: meta.id, work: { [meta.id]: { walls: null, wallsFound: false, orient: null, profile: null } } });
+    expect((await store.rename(s.id, '  renamed '))?.name).toBe('renamed');
+    const copy = await store.duplicate(s.id);
+    expect(copy?.name).toBe('renamed (copy)');
+    expect(copy?.images[0].id).not.toBe(meta.id);
+    expect(Object.keys(copy!.work)).toEqual([copy!.images[0].id]);
+    await store.remove(s.id);
+    expect(await store.load(s.id)).toBeNull();
+    expect(await store.image(meta.id)).toBeNull();
+    const img = await store.image(copy!.images[0].id);
+    expect([...new Uint8Array(await img!.blob.arrayBuffer())]).toEqual([9]);
+    expect((await store.list()).sessions.map((x) => x.name)).toEqual(['renamed (copy)']);
+  });
+
+  it('a failing write rejects with a message saying what was being saved', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const s = await store.create('x');
+    kv.failNext = true;
+    await expect(store.save(s)).rejects.toThrow(/could not save "x": QuotaExceededError/);
+  });
+});
+
+describe('restoreSession: old and odd records', () => {
+  it('reads a record without schemaVersion (version 0) with the CLI default settings filled in', () => {
+    const r = restoreSession({ id: 'old', name: 'before versions', images: [] });
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.value.schemaVersion).toBe(STORAGE_SCHEMA_VERSION);
+    // retarda orient/profile defaults: sigma 2 px, confidence weighting, 20 bins, core |s|<0.5, skin |s|>0.8 (conventions.md)
+    expect(r.value.settings).toEqual(DEFAULT_SETTINGS);
+    expect(DEFAULT_SETTINGS).toMatchObject({ sigmaPx: 2, bins: 20, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    expect(r.notes.join(' ')).toMatch(/upgraded/);
+  });
+
+  it('replaces an out-of-range setting by its default and says so', () => {
+    const r = restoreSession({ schemaVersion: 1, id: 'a', settings: { sigmaPx: -3, bins: 10 } });
+    expect(r.ok && r.value.settings.sigmaPx).toBe(2);
+    expect(r.ok && r.value.settings.bins).toBe(10);
+    expect(r.ok && r.notes.join(' ')).toMatch(/sigmaPx/);
+  });
+
+  it('refuses a record of another kind', () => {
+    const r = restoreSession({ schemaVersion: 1, kind: 'image', id: 'a' });
+    expect(r.ok).toBe(false);
+  });
+});
+
+describe('createSaver: debounced writes', () => {
+  function manualTimers() {
+    const timers = new Map<number, () => void>();
+    let n = 0;
+    return {
+      setTimer: (fn: () => void) => { timers.set(++n, fn); return n; },
+      clearTimer: (h: unknown) => { timers.delete(h as number); },
+      fire: () => { const fns = [...timers.values()]; timers.clear(); fns.forEach((f) => f()); },
+      count: () => timers.size,
+    };
+  }
+
+  it('writes only the last of several quick changes', async () => {
+    const t = manualTimers();
+    const written: number[] = [];
+    const saver = createSaver<number>(async (v) => { written.push(v); }, t);
+    saver.schedule(1); saver.schedule(2); saver.schedule(3);
+    expect(t.count()).toBe(1);
+    expect(saver.dirty()).toBe(true);
+    t.fire();
+    await saver.flush();
+    expect(written).toEqual([3]);
+    expect(saver.dirty()).toBe(false);
+  });
+
+  it('flush writes at once (as on pagehide) without waiting for the timer', async () => {
+    const t = manualTimers();
+    const written: string[] = [];
+    const saver = createSaver<string>(async (v) => { written.push(v); }, t);
+    saver.schedule('last change');
+    await saver.flush();
+    expect(written).toEqual(['last change']);
+    expect(t.count()).toBe(0);
+  });
+
+  it('reports a failed write and keeps the change to try again', async () => {
+    const t = manualTimers();
+    const errors: string[] = [];
+    let fail = true;
+    const written: number[] = [];
+    const saver = createSaver<number>(async (v) => { if (fail) throw new Error('disk full'); written.push(v); }, { ...t, onError: (e) => errors.push((e as Error).message) });
+    saver.schedule(7);
+    await saver.flush();
+    expect(errors).toEqual(['disk full']);
+    expect(saver.dirty()).toBe(true);
+    fail = false;
+    await saver.flush();
+    expect(written).toEqual([7]);
+  });
+});
+
+describe('backup: export and import everything', () => {
+  it('base64 round trip of all byte values', () => {
+    const bytes = Uint8Array.from({ length: 256 }, (_, i) => i);
+    expect([...base64ToBytes(bytesToBase64(bytes))]).toEqual([...bytes]);
+    // RFC 4648 §10 test vector: "foobar" -> "Zm9vYmFy"
+    expect(bytesToBase64(new TextEncoder().encode('foobar'))).toBe('Zm9vYmFy');
+  });
+
+  it('a backup re-imported into an empty store gives the same sessions, images and set-aside records', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const s = await store.create('run A');
+    const meta = await store.addImage({ name: 'a.png', type: 'image/png', blob: png([5, 6, 7]) });
+    await store.save({ ...s, images: [meta], activeImageId: meta.id, work: { [meta.id]: { walls: { walls: [{ x1: 0, y1: 1, x2: 50, y2: 1 }, { x1: 0, y1: 40, x2: 50, y2: 40 }] }, wallsFound: false, orient: null, profile: null } } });
+    kv.map.set('session:bad', 42);
+    await store.list();
+    const text = await exportBackup(store);
+
+    const kv2 = memoryKv();
+    const store2 = createSessionStore(kv2, counter());
+    const report = await importBackup(store2, text, (() => { let n = 0; return () => `new${++n}`; })());
+    expect(report).toMatchObject({ sessions: 1, images: 1, setAside: 1 });
+    const list = await store2.list();
+    expect(list.sessions.map((x) => x.name)).toEqual(['run A']);
+    const back = await store2.load(list.sessions[0].id);
+    expect(back?.work[back.images[0].id].walls?.walls[1].y1).toBe(40);
+    const img = await store2.image(back!.images[0].id);
+    expect([...new Uint8Array(await img!.blob.arrayBuffer())]).toEqual([5, 6, 7]);
+    expect((await store2.aside()).map((a) => a.value)).toContainEqual(42);
+  });
+
+  it('importing twice adds a second copy instead of overwriting', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    await store.create('only');
+    const text = await exportBackup(store);
+    await importBackup(store, text, (() => { let n = 0; return () => `imp${++n}`; })());
+    expect((await store.list()).sessions).toHaveLength(2);
+  });
+
+  it('refuses a file that is not a backup with a message saying what to choose', async () => {
+    const store = createSessionStore(memoryKv(), counter());
+    await expect(importBackup(store, '{"hello": 1}')).rejects.toThrow(/not a Retarda backup/);
+    await expect(importBackup(store, '\u0089PNG garbage')).rejects.toThrow(/not JSON/);
+    await expect(importBackup(store, JSON.stringify({ kind: 'retarda-backup', schemaVersion: 9, records: [] }))).rejects.toThrow(/newer version/);
+  });
+});

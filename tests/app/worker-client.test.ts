@@ -1,0 +1,88 @@
+import { describe, expect, it } from 'vitest';
+import { AnalysisClient, AnalysisError, CancelledError } from '../../app/worker/client.ts';
+import type { Reply, Request } from '../../app/worker/protocol.ts';
+
+/** A stand-in for a Worker: records what the page posts and lets the test answer as the worker would. */
+class FakeWorker {
+  onmessage: ((ev: MessageEvent<Reply>) => void) | null = null;
+  onerror: ((ev: ErrorEvent) => void) | null = null;
+  posted: { msg: Request; transfer: Transferable[] }[] = [];
+  terminated = false;
+  postMessage(msg: Request, transfer: Transferable[] = []) { this.posted.push({ msg, transfer }); }
+  terminate() { this.terminated = true; }
+  reply(r: Reply) { this.onmessage?.({ data: r } as MessageEvent<Reply>); }
+  fail(message: string) { this.onerror?.({ message, preventDefault() {} } as ErrorEvent); }
+}
+
+function setup() {
+  const workers: FakeWorker[] = [];
+  const client = new AnalysisClient(() => { const w = new FakeWorker(); workers.push(w); return w as unknown as Worker; });
+  return { client, workers };
+}
+
+describe('AnalysisClient', () => {
+  it('routes progress to the caller and resolves with the worker\'s value', async () => {
+    const { client, workers } = setup();
+    const stages: string[] = [];
+    const p = client.call('forget', { key: 'a' }, (s) => stages.push(s));
+    const { id } = workers[0].posted[0].msg;
+    workers[0].reply({ id, type: 'progress', stage: 'working', fraction: 0.5 });
+    workers[0].reply({ id, type: 'done', value: { forgotten: true } });
+    await expect(p).resolves.toEqual({ forgotten: true });
+    expect(stages).toEqual(['working']);
+  });
+
+  it('turns a worker error into an AnalysisError carrying the message and hint', async () => {
+    const { client, workers } = setup();
+    const p = client.call('forget', { key: 'a' });
+    const { id } = workers[0].posted[0].msg;
+    workers[0].reply({ id, type: 'error', error: { name: 'InputError', message: 'x.png: truncated', hint: 'export it again' } });
+    const e = await p.catch((x) => x);
+    expect(e).toBeInstanceOf(AnalysisError);
+    expect(e.name).toBe('InputError');
+    expect(e.message).toBe('x.png: truncated');
+    expect(e.hint).toBe('export it again');
+  });
+
+  it('decode transfers the bytes (no copy) and later calls do not send them again', async () => {
+    const { client, workers } = setup();
+    const bytes = new ArrayBuffer(8);
+    const p = client.decode({ key: 'k', name: 'a.png', bytes: async () => bytes });
+    await new Promise((r) => setTimeout(r, 0));
+    const sent = workers[0].posted[0];
+    expect(sent.msg.command).toBe('decode');
+    expect(sent.transfer).toEqual([bytes]);
+    workers[0].reply({ id: sent.msg.id, type: 'done', value: { name: 'a.png' } });
+    await p;
+    expect(client.holds('k')).toBe(true);
+    await client.ensure({ key: 'k', name: 'a.png', bytes: async () => new ArrayBuffer(1) });
+    expect(workers[0].posted).toHaveLength(1);
+  });
+
+  it('cancel stops the worker, rejects what was running with CancelledError, and the next call starts a fresh worker', async () => {
+    const { client, workers } = setup();
+    const p = client.call('forget', { key: 'a' });
+    client.cancel();
+    await expect(p).rejects.toBeInstanceOf(CancelledError);
+    expect(workers[0].terminated).toBe(true);
+    expect(client.holds('a')).toBe(false);
+    void client.call('forget', { key: 'b' }).catch(() => undefined);
+    expect(workers).toHaveLength(2);
+  });
+
+  it('ready() rejects with a readable message when the worker script fails (worker.onerror)', async () => {
+    const { client, workers } = setup();
+    const ready = client.ready();
+    const running = client.call('forget', { key: 'a' });
+    workers[0].fail('SyntaxError: Unexpected token');
+    await expect(ready).rejects.toThrow(/analysis engine could not start.*SyntaxError: Unexpected token.*reload/);
+    await expect(running).rejects.toThrow(/could not start/);
+  });
+
+  it('ready() rejects when opencv.js reports that it failed to start', async () => {
+    const { client, workers } = setup();
+    const ready = client.ready();
+    workers[0].reply({ id: -1, type: 'startFailed', error: { name: 'Error', message: 'opencv.js did not start within 60 s', hint: '' } });
+    await expect(ready).rejects.toThrow('the analysis engine could not start: opencv.js did not start within 60 s');
+  });
+});

@@ -1,0 +1,311 @@
+/**
+ * End-to-end: builds the app, serves the build with vite preview on a free localhost port and drives
+ * Debian's chromium. The numbers the page shows are compared with the same analysis functions run
+ * here in Node on the same file (what `retarda orient` / `retarda profile` call), printed the same way.
+ *
+ * Without /usr/bin/chromium the checks cannot run: in CI (process.env.CI) that is a failure, elsewhere
+ * the file reports it loudly and runs only the check that says so.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
+import { createServer } from 'node:net';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { encode } from 'fast-png';
+import type { BrowserContext, Page } from 'playwright-core';
+import { analyseOrientation, analyseProfile } from '../../src/analyses/index.ts';
+import { decodeImage } from '../../src/image/index.ts';
+import { formatCell } from '../../src/cli/format.ts';
+import { parseWalls } from '../../src/channel/index.ts';
+import { demoEntries } from '../../app/build/demoImages.ts';
+
+const CHROMIUM = '/usr/bin/chromium';
+const ROOT = resolve(import.meta.dirname, '../..');
+const OUT = join(ROOT, 'test-output');
+const SHOTS = join(OUT, 'screenshots');
+const haveBrowser = existsSync(CHROMIUM);
+
+if (!haveBrowser) {
+  const msg = `\n${'!'.repeat(78)}\n!! END-TO-END TESTS NOT RUN: ${CHROMIUM} is missing (apt-get install -y chromium).\n!! In CI this fails the run.\n${'!'.repeat(78)}\n`;
+  if (process.env.CI) throw new Error(msg);
+  console.warn(msg);
+}
+
+/** A free TCP port on 127.0.0.1 (asked from the OS, then released for the preview server). */
+function freePort(): Promise<number> {
+  return new Promise((res, rej) => {
+    const s = createServer();
+    s.once('error', rej);
+    s.listen(0, '127.0.0.1', () => { const p = (s.address() as { port: number }).port; s.close(() => res(p)); });
+  });
+}
+
+/**
+ * A channel test picture (8-bit grey PNG): dark walls above y = 40 and below y = 160, between them
+ * stripes along +x near the walls turning to 35 deg in the middle, with seeded noise.
+ */
+function channelPng(): Uint8Array {
+  const w = 320, h = 200, data = new Uint8Array(w * h);
+  let seed = 12345;
+  const rand = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+    let v: number;
+    if (y < 40 || y >= 160) v = 30 + 10 * rand();
+    else {
+      const s = (y - 100) / 60; // -1..1 across the channel
+      const a = (30 * (1 - s * s) * Math.PI) / 180;
+      // Stripes along direction a (CCW on screen, y down); the phase is taken about the image centre so
+      // the angle changing with y bends the stripes only gently.
+      const across = -(x - w / 2) * Math.sin(a) - (y - 100) * Math.cos(a);
+      v = 150 + 70 * Math.sin((2 * Math.PI * across) / 7) + 20 * (rand() - 0.5);
+    }
+    data[y * w + x] = Math.max(0, Math.min(255, Math.round(v)));
+  }
+  return encode({ width: w, height: h, data, channels: 1, depth: 8 });
+}
+
+describe.runIf(!haveBrowser)('end-to-end (no browser)', () => {
+  it('is allowed to be left out only outside CI', () => {
+    expect(process.env.CI, 'chromium is required in CI').toBeFalsy();
+  });
+});
+
+describe.runIf(haveBrowser)('the app in chromium', () => {
+  let context: BrowserContext;
+  let page: Page;
+  let server: { close(): Promise<void> } | null = null;
+  let url = '';
+  let profileDir = '';
+  const imagePath = join(OUT, 'e2e-channel.png');
+  const brokenPath = join(OUT, 'broken-image.png');
+  const badBackupPath = join(OUT, 'not-a-backup.json');
+  const consoleErrors: string[] = [];
+
+  const shot = async (name: string) => { await page.screenshot({ path: join(SHOTS, `${name}.png`) }); };
+  const text = async (testId: string) => (await page.getByTestId(testId).first().textContent())?.trim();
+
+  beforeAll(async () => {
+    mkdirSync(SHOTS, { recursive: true });
+    writeFileSync(imagePath, channelPng());
+    writeFileSync(brokenPath, new TextEncoder().encode('this is a text file pretending to be an image'));
+    writeFileSync(badBackupPath, '{"sessions": "nope"}');
+    const { build, preview } = await import('vite');
+    const outDir = join(OUT, 'e2e-dist');
+    // Vitest sets NODE_ENV=test, which would make Vite produce a development build (no service worker).
+    const nodeEnv = process.env.NODE_ENV;
+    process.env.NODE_ENV = 'production';
+    try {
+      await build({ configFile: join(ROOT, 'vite.config.ts'), mode: 'production', logLevel: 'warn', build: { outDir, emptyOutDir: true } });
+    } finally {
+      process.env.NODE_ENV = nodeEnv;
+    }
+    const port = await freePort();
+    const p = await preview({ configFile: join(ROOT, 'vite.config.ts'), logLevel: 'warn', build: { outDir }, preview: { port, strictPort: true, host: '127.0.0.1', open: false } });
+    server = { close: () => p.close() };
+    url = `http://127.0.0.1:${port}/`;
+    const { chromium } = await import('playwright-core');
+    profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-'));
+    context = await chromium.launchPersistentContext(profileDir, {
+      executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 860 },
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    });
+    page = context.pages()[0] ?? await context.newPage();
+    page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
+    page.on('pageerror', (e) => consoleErrors.push(String(e)));
+  }, 180_000);
+
+  afterAll(async () => {
+    await context?.close();
+    await server?.close().catch(() => undefined);
+    if (profileDir) rmSync(profileDir, { recursive: true, force: true });
+  });
+
+  it('opens with a place to bring images in and the safety notes', async () => {
+    await page.goto(url);
+    await expect.poll(() => page.getByText('Bring in a microscope image').count(), { timeout: 20_000 }).toBe(1);
+    await expect.poll(() => page.getByText('Works offline').count(), { timeout: 30_000 }).toBe(1);
+    expect(await page.getByText('Your lab\'s safety rules come first').count()).toBe(1);
+    await shot('01-empty-app');
+  }, 60_000);
+
+  it('shows the same director, order and coherency as analyseOrientation in Node', async () => {
+    await page.getByTestId('file-input').setInputFiles(imagePath);
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    expect(await text('image-facts')).toContain('320 × 200 px, grey, 8-bit');
+    await page.getByRole('button', { name: 'Analyse orientation' }).click();
+    await page.getByTestId('director').waitFor({ timeout: 60_000 });
+    await shot('02-orientation-map');
+
+    const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
+    // The CLI's defaults, as the app's default settings: sigma 2 px, coherency (confidence) weights.
+    const { result } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'confidence' });
+    expect(await text('director')).toBe(formatCell(result.directorDeg));
+    expect(await text('order2d')).toBe(formatCell(result.order2D));
+    expect(await text('coherency')).toBe(formatCell(result.coherencyMean));
+    expect(await text('n')).toBe(formatCell(result.n));
+    // the stripes run between 0 and 30 deg, so the director lies between them
+    expect(result.directorDeg).toBeGreaterThan(0);
+    expect(result.directorDeg).toBeLessThan(30);
+
+    await page.getByRole('button', { name: 'lines', exact: true }).click();
+    await shot('03-line-glyphs');
+    await page.getByRole('button', { name: 'coherency', exact: true }).click();
+    await shot('04-coherency');
+    await page.getByRole('button', { name: 'orientation', exact: true }).click();
+  }, 120_000);
+
+  it('finds the walls and shows the same core, skin and ratio as analyseProfile in Node', async () => {
+    await page.getByRole('button', { name: 'Find walls' }).click();
+    await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
+    await page.getByRole('button', { name: 'Profile across the channel' }).click();
+    await page.getByTestId('core').waitFor({ timeout: 60_000 });
+    await shot('05-profile');
+
+    const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
+    const { field } = await analyseOrientation(img, { sigmaPx: 2 });
+    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    expect(await text('core')).toBe(formatCell(r.core.order));
+    expect(await text('skin')).toBe(formatCell(r.skin.order));
+    expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
+    // walls were rendered at y = 40 and y = 160: the found ones lie within 3 px of them
+    const ys = r.walls.map((s) => (s.y1 + s.y2) / 2).sort((a, b) => a - b);
+    expect(Math.abs(ys[0] - 39.5)).toBeLessThan(3);
+    expect(Math.abs(ys[1] - 159.5)).toBeLessThan(3);
+    // the stripes follow the walls near them and turn by up to 30 deg in the middle: skin more aligned
+    expect(r.skin.order).toBeGreaterThan(r.core.order);
+  }, 120_000);
+
+  it('walls drawn by dragging land where they were drawn and give the CLI\'s profile for those walls', async () => {
+    // Image-to-screen mapping of a fitted view (Viewer.fit): 96 % of the canvas, centred.
+    const box = (await page.locator('.viewer canvas').boundingBox())!;
+    const k = Math.min(box.width / 320, box.height / 200) * 0.96;
+    const ox = box.x + (box.width - 320 * k) / 2, oy = box.y + (box.height - 200 * k) / 2;
+    const at = (x: number, y: number) => [ox + (x + 0.5) * k, oy + (y + 0.5) * k] as const;
+    const drag = async (a: readonly [number, number], b: readonly [number, number]) => {
+      await page.mouse.move(...a); await page.mouse.down(); await page.mouse.move(...b, { steps: 8 }); await page.mouse.up();
+    };
+    await page.keyboard.press('w');
+    await page.getByText('Drag along the first wall').waitFor({ timeout: 5_000 });
+    await drag(at(10, 40), at(310, 40));
+    await page.getByText('Now drag along the second wall').waitFor({ timeout: 5_000 });
+    await drag(at(10, 160), at(310, 160));
+    const wallsLine = page.getByText(/^Walls \(drawn\)/);
+    await wallsLine.waitFor({ timeout: 5_000 });
+    const wallsText = ((await wallsLine.textContent()) ?? '').replace(/^Walls \(drawn\): /, '').replace(/ px$/, '');
+    const v = wallsText.split(/[;,]/).map(Number);
+    // each drawn end lies within one screen pixel (1/k image px, plus rounding to 0.1 px) of where it was put
+    [[10, 40], [310, 40], [10, 160], [310, 160]].forEach(([x, y], i) => {
+      expect(Math.abs(v[2 * i] - x)).toBeLessThan(1 / k + 0.1);
+      expect(Math.abs(v[2 * i + 1] - y)).toBeLessThan(1 / k + 0.1);
+    });
+    await page.keyboard.press('p');
+    await page.getByTestId('profile-results').getByText('drawn by hand').waitFor({ timeout: 60_000 });
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 });
+    await shot('05b-drawn-walls-profile');
+    const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
+    const { field } = await analyseOrientation(img, { sigmaPx: 2 });
+    const r = await analyseProfile(img, field, { channel: parseWalls(wallsText), bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    expect(await text('core')).toBe(formatCell(r.core.order));
+    expect(await text('skin')).toBe(formatCell(r.skin.order));
+    expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
+  }, 90_000);
+
+  it('after a reload the session is there with its image and numbers', async () => {
+    const director = await text('director');
+    const core = await text('core');
+    await expect.poll(() => text('save-state'), { timeout: 10_000 }).toBe('Saved on this device');
+    await page.reload();
+    await page.getByTestId('director').waitFor({ timeout: 30_000 });
+    expect(await text('director')).toBe(director);
+    expect(await text('core')).toBe(core);
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await page.getByRole('button', { name: 'Sessions' }).click();
+    expect(await page.locator('.session-list li').count()).toBe(1);
+    expect(await page.locator('.session-meta').first().textContent()).toContain('1 image(s), 1 analysed');
+    await shot('06-sessions');
+    await page.getByRole('button', { name: 'Close the session list' }).click();
+  }, 60_000);
+
+  it('says clearly why an unreadable file was not added', async () => {
+    await page.getByTestId('file-input').setInputFiles(brokenPath);
+    const alert = page.getByRole('alert').filter({ hasText: 'broken-image.png was not added' });
+    await alert.waitFor({ timeout: 20_000 });
+    const msg = (await alert.textContent()) ?? '';
+    expect(msg).toMatch(/PNG|JPEG|TIFF/);
+    await shot('07-unreadable-file');
+    await page.getByRole('button', { name: 'Sessions' }).click();
+    await page.getByTestId('restore-input').setInputFiles(badBackupPath);
+    await page.getByRole('alert').filter({ hasText: 'not a Retarda backup' }).waitFor({ timeout: 10_000 });
+    await shot('08-not-a-backup');
+    await page.getByRole('button', { name: 'Close the session list' }).click();
+  }, 60_000);
+
+  it('takes a set of 16-bit and float TIFF files at once', async () => {
+    const fixtures = join(ROOT, 'tests', 'fixtures', 'images');
+    await page.getByTestId('file-input').setInputFiles([join(fixtures, 'grey16.tif'), join(fixtures, 'float32.tif')]);
+    await page.locator('.images li', { hasText: 'float32.tif' }).waitFor({ timeout: 20_000 });
+    expect(await page.locator('.images li').count()).toBe(3);
+    await expect.poll(() => text('image-facts'), { timeout: 20_000 }).toMatch(/16-bit.*shown stretched/);
+    await page.locator('.images li button', { hasText: 'float32.tif' }).click();
+    await expect.poll(() => text('image-facts'), { timeout: 20_000 }).toMatch(/32-bit/);
+    await shot('08b-float-tiff');
+    await page.locator('.images li button', { hasText: 'e2e-channel.png' }).click();
+    await page.getByTestId('director').waitFor({ timeout: 30_000 });
+  }, 60_000);
+
+  it('works offline: with the network off and the server stopped, a reload still analyses', async () => {
+    await page.waitForFunction(() => navigator.serviceWorker?.controller !== null, undefined, { timeout: 30_000 });
+    const director = await text('director');
+    await context.setOffline(true);
+    await server?.close();
+    server = null;
+    await page.reload();
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 });
+    const dismiss = page.getByRole('button', { name: 'Dismiss' });
+    while (await dismiss.count()) await dismiss.first().click();
+    await page.getByRole('button', { name: 'Analyse orientation' }).click();
+    await page.getByText('Orientation analysis done.').waitFor({ timeout: 60_000 });
+    expect(await text('director')).toBe(director);
+    await shot('09-offline');
+  }, 120_000);
+
+  it('takes an image dropped on the page (still offline) and fits a tablet screen', async () => {
+    const b64 = readFileSync(imagePath).toString('base64');
+    await page.evaluate((data) => {
+      const bytes = Uint8Array.from(atob(data), (c) => c.charCodeAt(0));
+      const dt = new DataTransfer();
+      dt.items.add(new File([bytes], 'dropped.png', { type: 'image/png' }));
+      document.querySelector('.app')!.dispatchEvent(new DragEvent('drop', { dataTransfer: dt, bubbles: true, cancelable: true }));
+    }, b64);
+    await page.locator('.images li', { hasText: 'dropped.png' }).waitFor({ timeout: 20_000 });
+    expect(await page.locator('.images li').count()).toBe(4);
+    await page.setViewportSize({ width: 1024, height: 768 });
+    await page.getByTestId('image-facts').waitFor({ timeout: 20_000 });
+    await shot('10-tablet');
+    // every control of the analysis panel stays reachable: the panel scrolls instead of overflowing the page
+    const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+    expect(overflow).toBeLessThanOrEqual(0);
+    await page.setViewportSize({ width: 1366, height: 860 });
+  }, 60_000);
+
+  it('offers the demo images from an empty session, and they work offline', async () => {
+    // The demo list the build emitted (app/build/demoImages.ts reads sample-images/README.md).
+    const demos: { file: string; title: string }[] = demoEntries(join(ROOT, 'sample-images'), ['orient', 'profile']);
+    expect(demos.length).toBeGreaterThan(0);
+    await page.getByRole('button', { name: 'Sessions' }).click();
+    await page.getByRole('button', { name: 'New session' }).click();
+    await page.getByText('Bring in a microscope image').waitFor({ timeout: 10_000 });
+    await shot('11-empty-session-with-demo');
+    await page.getByRole('button', { name: demos[0].title }).click();
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await page.getByRole('button', { name: 'Analyse orientation' }).click();
+    await page.getByTestId('director').waitFor({ timeout: 60_000 });
+    const img = decodeImage(new Uint8Array(readFileSync(join(ROOT, 'sample-images', demos[0].file))), demos[0].file);
+    const { result } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'confidence' });
+    expect(await text('director')).toBe(formatCell(result.directorDeg));
+    expect(await text('order2d')).toBe(formatCell(result.order2D));
+    await shot('12-demo-orientation');
+    expect(consoleErrors.filter((e) => !/Failed to load resource|ERR_INTERNET_DISCONNECTED/.test(e))).toEqual([]);
+  }, 120_000);
+});
