@@ -1,6 +1,7 @@
 import { InputError, checkNumber } from '../common/errors.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
+import { foldMod90 } from '../orientation/fold.ts';
 import {
   accumulateBlocks, axisOrderOf, bootstrapReplicates, checkWeighting, defaultBlockPx, percentileInterval,
   statFromBlocks, totalMoments, type BlockSums, type OrderStat, type Weighting,
@@ -67,7 +68,7 @@ export interface ChannelProfile extends BandStats {
  * stations along the channel, with core and skin bands and their ratio (conventions.md). Intervals
  * are block-bootstrap 95 % intervals (blocks of about 3 integration sigmas).
  */
-export function channelProfile(f: OrientationField, ch: Channel, options: ProfileOptions = {}): ChannelProfile {
+export function channelProfile(field: OrientationField, ch: Channel, options: ProfileOptions = {}): ChannelProfile {
   const bins = checkNumber('bins', options.bins ?? PROFILE_DEFAULTS.bins, 2, 200);
   const stations = checkNumber('stations', options.stations ?? PROFILE_DEFAULTS.stations, 1, 100);
   if (!Number.isInteger(bins) || !Number.isInteger(stations)) throw new InputError('bins and stations must be whole numbers');
@@ -75,10 +76,12 @@ export function channelProfile(f: OrientationField, ch: Channel, options: Profil
   const skinMin = checkNumber('skin band limit', options.skinMin ?? PROFILE_DEFAULTS.skinMin, 0, 0.99);
   if (skinMin < coreMax) throw new InputError(`skin band (|s| > ${skinMin}) overlaps the core band (|s| < ${coreMax})`, 'Set the skin limit at or above the core limit');
   const weighting = checkWeighting(options.weighting ?? PROFILE_DEFAULTS.weighting);
-  const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(f), 1, 4096, 'px');
+  const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(field), 1, 4096, 'px');
   const frame = channelFrame(ch);
   const axisDeg = options.axisDeg !== undefined ? wrapAxialDeg(checkNumber('axis angle', options.axisDeg, -360, 360, 'deg')) : frame.axisDeg;
   const boot = { replicates: options.replicates, seed: options.seed };
+  // A field known only modulo 90 deg is read under the assumption that rods lie within 45 deg of the axis.
+  const f = foldMod90(field, axisDeg);
 
   const { width, height } = f;
   const binGroups = new Int32Array(width * height).fill(-1);

@@ -2,6 +2,7 @@ import { checkNumber, InputError } from '../common/errors.ts';
 import { DEG } from '../common/angles.ts';
 import type { Image } from '../image/types.ts';
 import type { OrientationField } from '../orientation/types.ts';
+import { foldMod90, mod90Axis } from '../orientation/index.ts';
 import { srgbDecode } from './colorimetry.ts';
 import { calibrateFromBackground } from './calibration.ts';
 import { colourModel } from './colourModel.ts';
@@ -135,6 +136,8 @@ export interface FourAngleOptions {
   /** Compensator image resolving the 90-deg ambiguity, with its reading options. */
   plate?: Image;
   plateOptions?: PlateSignOptions;
+  /** Without a plate: take orientations within 45 deg of this axis (default: the axis the field concentrates about). */
+  referenceAxisDeg?: number;
 }
 
 export interface FourAngleResult {
@@ -230,9 +233,11 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   if (lowAmp) warnings.push(`${lowAmp} pixels with no measurable anisotropy (amplitude below ${floor} of the 99th percentile) were masked`);
   let ambiguity: OrientationField['ambiguity'] = 'mod-90';
   let resolvedFraction = 0;
+  let ambiguous: Uint8Array | undefined;
   if (options.plate) {
     const plate = plateOrientationChooser(options.plate, options.plateOptions ?? {});
     let usable = 0, resolved = 0;
+    ambiguous = new Uint8Array(n).fill(1);
     for (let i = 0; i < n; i++) {
       if (!mask[i] || !plate.usable(i)) continue;
       usable++;
@@ -240,17 +245,21 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
       if (c === 0) continue;
       if (c < 0) angleRad[i] += 90 * DEG;
       resolved++;
+      ambiguous[i] = 0;
     }
     resolvedFraction = usable ? resolved / usable : 0;
     if (usable > 0 && resolved === usable) ambiguity = 'none';
     warnings.push(`the plate image decided the 90-deg choice in ${(100 * resolvedFraction).toFixed(1)} % of pixels; the rest (slow axis near the polars, or too little retardance) keep the fit's value in [0, 90)`);
   }
   for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
-  const field: OrientationField = {
-    width, height, angleRad, confidence, mask, method: 'four-angle', ambiguity,
+  let field: OrientationField = {
+    width, height, angleRad, confidence, mask, method: 'four-angle', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
     pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
     options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate },
     warnings,
   };
+  // Unresolved pixels: show them within 45 deg of the axis the field is concentrated about, so the
+  // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning).
+  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90Axis(field));
   return { field, amplitude, background, residual, resolvedFraction };
 }

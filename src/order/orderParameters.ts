@@ -1,6 +1,7 @@
 import { InputError, checkNumber } from '../common/errors.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
+import { foldMod90 } from '../orientation/fold.ts';
 import { accumulateBlocks, WEIGHTINGS, type Weighting } from './accumulate.ts';
 import {
   axisOrderOf, bootstrapReplicates, freeOrderOf, liveBlocks, percentileInterval, totalMoments,
@@ -86,7 +87,8 @@ export function orderParameters(f: OrientationField, options: OrderOptions = {})
   const directorDeg = m.w > 0 ? wrapAxialDeg(radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN;
   let axisOrder: OrderStat | null = null;
   if (options.axisDeg !== undefined) {
-    const [ref] = accumulateBlocks(f, { groups, groupCount: 1, refRad: degToRad(options.axisDeg), blockPx, weighting });
+    // Mod-90 fields: S_axis under the assumption that orientations lie within 45 deg of the axis.
+    const [ref] = accumulateBlocks(foldMod90(f, options.axisDeg), { groups, groupCount: 1, refRad: degToRad(options.axisDeg), blockPx, weighting });
     axisOrder = statFromBlocks(ref, axisOrderOf, options);
   }
   const blocks = liveBlocks(free);

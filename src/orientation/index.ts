@@ -6,3 +6,4 @@ export type { MaskOptions } from './fieldFromTensor.ts';
 export { fieldFromTensor, emptyTextureField, writeTensorPixels, finishTextureField, resolveMaskOptions, MASK_DEFAULTS, HALF_PI_F32, quantile } from './fieldFromTensor.ts';
 export { orientationField } from './orientationField.ts';
 export type { OrientationFieldOptions } from './orientationField.ts';
+export { foldMod90, mod90Axis } from './fold.ts';

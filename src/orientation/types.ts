@@ -28,6 +28,11 @@ export interface OrientationField {
    * 'mod-90' = theta vs theta + 90 deg.
    */
   ambiguity: 'none' | 'mirror-about-compensator' | 'mod-90';
+  /**
+   * Where the ambiguity was resolved for some pixels only (e.g. by a compensator image): 1 = this
+   * pixel is still ambiguous. Absent = every pixel carries the field's ambiguity.
+   */
+  ambiguous?: Uint8Array;
   /** Compensator slow-axis angle in degrees, for 'mirror-about-compensator'. */
   ambiguityAxisDeg?: number;
   pixelSizeUmPerPx?: number;

@@ -1,0 +1,34 @@
+import { describe, it, expect } from 'vitest';
+import { foldMod90, mod90Axis } from '../../src/orientation/index.ts';
+import { orderParameters } from '../../src/order/index.ts';
+import { fieldOf } from '../support/fields.ts';
+
+describe('foldMod90', () => {
+  // Angles uniform on +-30 deg about 20 deg, every other one reported 90 deg away (as crossed polars
+  // alone would): folding about 20 deg restores S_axis = sin(60 deg)/(pi/3) = 0.82699 (domain.md §5 [D]).
+  const N = 20000;
+  const truth = (k: number) => 20 - 30 + (60 * (k + 0.5)) / N;
+  const f = { ...fieldOf(200, 100, (x, y) => truth(y * 200 + x) + ((y * 200 + x) % 2 ? 90 : 0)), ambiguity: 'mod-90' as const };
+
+  it('restores the distribution within 45 deg of the axis', () => {
+    expect(orderParameters({ ...f, ambiguity: 'none' }, { axisDeg: 20, replicates: 20 }).axisOrder!.order).toBeLessThan(0.01);
+    const folded = foldMod90(f, 20);
+    expect(Math.abs(orderParameters(folded, { axisDeg: 20, replicates: 20 }).axisOrder!.order - 0.82699)).toBeLessThan(1e-4);
+    expect(folded.warnings.join(' ')).toMatch(/modulo 90/);
+  });
+
+  it('is applied by orderParameters itself for mod-90 fields, and finds the concentration axis', () => {
+    expect(Math.abs(orderParameters(f, { axisDeg: 20, replicates: 20 }).axisOrder!.order - 0.82699)).toBeLessThan(1e-4);
+    expect(Math.abs(mod90Axis(f) - 20)).toBeLessThan(1e-3);
+  });
+
+  it('leaves resolved pixels and unambiguous fields alone', () => {
+    const ambiguous = new Uint8Array(f.angleRad.length);
+    ambiguous[1] = 1;
+    const folded = foldMod90({ ...f, ambiguous }, 20);
+    expect(folded.angleRad[3]).toBe(f.angleRad[3]);
+    expect(Math.abs((folded.angleRad[1] * 180) / Math.PI - truth(1))).toBeLessThan(1e-4);
+    const plain = { ...f, ambiguity: 'none' as const };
+    expect(foldMod90(plain, 20)).toBe(plain);
+  });
+});
