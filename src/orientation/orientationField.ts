@@ -15,6 +15,7 @@ export async function orientationField(plane: Plane, options: OrientationFieldOp
   const f = emptyTextureField(plane.width, plane.height);
   await forEachTensorTile(plane, t, (tensor, inner, origin) => writeTensorPixels(f, tensor, inner, origin));
   let scale = 0;
-  for (const v of plane.data) if (Math.abs(v) > scale) scale = Math.abs(v);
+  const d = plane.data;
+  for (let i = 0; i < d.length; i++) { const a = Math.abs(d[i]); if (a > scale) scale = a; }
   return finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx: t.sigmaDerivPx, derivative: t.derivative }, scale);
 }
