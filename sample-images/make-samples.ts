@@ -5,7 +5,8 @@
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { CHANNEL, FIBRES, MICROMETER, PIXEL_SIZE_UM } from './scenario.ts';
-import { blur, lic, normal, seeded, smoothNoise, writePng } from './render.ts';
+import { blur, lic, smoothNoise, writePng } from './render.ts';
+import { normalRandom as normal, seededRandom as seeded } from '../src/order/index.ts';
 import { renderPlateImages } from './plateScene.ts';
 
 const here = dirname(fileURLToPath(import.meta.url));

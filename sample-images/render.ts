@@ -2,23 +2,9 @@
  * Rendering helpers for the demo images: seeded noise, smoothed random fields, line-integral
  * convolution for rod textures, and PNG writing.
  */
+import { seededRandom, normalRandom } from '../src/order/index.ts';
 import { encode } from 'fast-png';
 import { writeFileSync } from 'node:fs';
-
-export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-export function normal(rand: () => number): () => number {
-  return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
-}
 
 /** Separable Gaussian blur (reflecting borders), in place. */
 export function blur(data: Float32Array, width: number, height: number, sigma: number): Float32Array {
@@ -43,7 +29,7 @@ export function blur(data: Float32Array, width: number, height: number, sigma: n
 
 /** Zero-mean, unit-variance random field with correlation length sigma (smoothed white noise). */
 export function smoothNoise(width: number, height: number, sigma: number, seed: number): Float32Array {
-  const g = normal(seeded(seed));
+  const g = normalRandom(seededRandom(seed));
   const d = Float32Array.from({ length: width * height }, g);
   blur(d, width, height, sigma);
   let m = 0, v = 0;
@@ -59,7 +45,7 @@ export function smoothNoise(width: number, height: number, sigma: number, seed: 
  * over +-halfLength px, giving streaks that follow the orientation field.
  */
 export function lic(angle: Float32Array, width: number, height: number, halfLength: number, seed: number): Float32Array {
-  const rand = seeded(seed);
+  const rand = seededRandom(seed);
   const noise = Float32Array.from({ length: width * height }, () => rand());
   const out = new Float32Array(width * height);
   for (let y = 0; y < height; y++) for (let x = 0; x < width; x++) {

@@ -4,4 +4,4 @@ export type { BlockSums, Moments, BootstrapOptions } from './blocks.ts';
 export { axisOrderOf, freeOrderOf, totalMoments, bootstrapReplicates, percentileInterval, liveBlocks } from './blocks.ts';
 export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';
 export { orderParameters, statFromBlocks, defaultBlockPx, checkWeighting } from './orderParameters.ts';
-export { seededRandom } from './random.ts';
+export { seededRandom, normalRandom } from './random.ts';

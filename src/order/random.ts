@@ -9,3 +9,8 @@ export function seededRandom(seed: number): () => number {
     return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
   };
 }
+
+/** Standard normal samples from a uniform generator (Box-Muller). */
+export function normalRandom(rand: () => number): () => number {
+  return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
+}

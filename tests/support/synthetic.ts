@@ -2,24 +2,14 @@
  * Analytic test images (not data): gratings, rings and seeded noise whose orientation is known by
  * construction, as in the check tables of shared/domain.md §4.
  */
+import { seededRandom, normalRandom } from '../../src/order/index.ts';
 import type { Plane } from '../../src/common/plane.ts';
 
-/** Mulberry32; seeded so every run sees the same pixels. */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** Seeded uniform generator, so every run sees the same pixels. */
+export const rng = seededRandom;
 
 /** Standard normal samples (Box-Muller). */
-export function gaussian(rand: () => number): () => number {
-  return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
-}
+export const gaussian = normalRandom;
 
 /** I(c, r) = sin(2 pi (c sin psi + r cos psi) / period): stripes running at psi CCW on screen. */
 export function grating(width: number, height: number, psiDeg: number, periodPx: number): Plane {
