@@ -17,7 +17,7 @@ export interface ParsedArgs {
 /** Options every subcommand takes. */
 export const COMMON_OPTIONS: OptionSpec[] = [
   { name: 'json', kind: 'flag', help: 'print one JSON document instead of a table' },
-  { name: 'csv', kind: 'string', help: 'also write a CSV summary (one row per image) to this file' },
+  { name: 'csv', kind: 'string', help: 'also write the results as CSV to this file (one row per image for image commands)' },
   { name: 'help', kind: 'flag', help: 'show this help' },
 ];
 
