@@ -5,3 +5,4 @@ export { axisOrderOf, freeOrderOf, totalMoments, bootstrapReplicates, percentile
 export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';
 export { orderParameters, statFromBlocks, defaultBlockPx, checkWeighting } from './orderParameters.ts';
 export { seededRandom, normalRandom } from './random.ts';
+export { correlationLengthPx } from './correlation.ts';

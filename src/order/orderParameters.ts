@@ -2,6 +2,7 @@ import { InputError, checkNumber } from '../common/errors.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
+import { correlationLengthPx } from './correlation.ts';
 import { accumulateBlocks, WEIGHTINGS, type Weighting } from './accumulate.ts';
 import {
   axisOrderOf, bootstrapReplicates, freeOrderOf, liveBlocks, percentileInterval, totalMoments,
@@ -21,7 +22,7 @@ export interface OrderOptions extends BootstrapOptions {
   weighting?: Weighting;
   /** Reference axis for S_axis in degrees (CCW on screen). Omit for the free order only. */
   axisDeg?: number;
-  /** Bootstrap block side in px; default 3 x the field's integration sigma (at least 4 px). */
+  /** Bootstrap block side in px; default six correlation lengths of the field (defaultBlockPx). */
   blockPx?: number;
   /** Extra region mask (1 = inside); default the whole field. */
   region?: Uint8Array;
@@ -45,9 +46,15 @@ export interface OrderSummary {
   weighting: Weighting;
 }
 
+/**
+ * Bootstrap block side: six correlation lengths of the orientation signal (at least 4 px, at most a
+ * quarter of the shorter side). Blocks much longer than the correlation length are nearly independent,
+ * which is what the block bootstrap needs; six lengths gave 91-100 % coverage of nominal 95 % intervals
+ * on simulated textures (tests/order/coverage.test.ts).
+ */
 export function defaultBlockPx(f: OrientationField): number {
-  const sigma = typeof f.options.sigmaPx === 'number' ? f.options.sigmaPx : 2;
-  return Math.max(4, Math.round(3 * sigma));
+  const cap = Math.max(4, Math.floor(Math.min(f.width, f.height) / 4));
+  return Math.min(cap, Math.max(4, Math.round(6 * correlationLengthPx(f))));
 }
 
 export function checkWeighting(w: string): Weighting {

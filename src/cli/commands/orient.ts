@@ -41,7 +41,7 @@ export const orientCommand: Command = {
     { name: 'axis-deg', kind: 'number', help: 'also give S_axis against this axis, degrees CCW from +x' },
     { name: 'region', kind: 'string', help: 'only pixels in this rectangle "x,y,w,h" count' },
     { name: 'weighting', kind: 'string', help: 'pixel weights: none, confidence, energy, energy-confidence', defaultText: 'confidence' },
-    { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '3 x sigma' },
+    { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '6 correlation lengths' },
   ],
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
