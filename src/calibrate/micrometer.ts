@@ -71,7 +71,12 @@ export function calibrateFromMicrometer(grey: Plane, options: MicrometerOptions)
   return {
     umPerPx, relativeUncertainty: rel, uncertaintyUmPerPx: umPerPx * rel, periodPx: fit.periodPx,
     periodStdErrPx: fit.periodStdErrPx, divisions: fit.divisions, lines: fit.centresPx.length,
-    rejectedLines: fit.rejectedLines, rmsResidualPx: fit.rmsResidualPx, linesDeg: wrapAxialDeg(acrossDeg + 90),
+    rejectedLines: fit.rejectedLines, rmsResidualPx: fit.rmsResidualPx, linesDeg: snapToNinety(wrapAxialDeg(acrossDeg + 90)),
     polarity: fit.polarity, divisionUm, warnings,
   };
+}
+
+/** Angles within 1e-3 deg of -90 print as -90.000, outside (-90, 90]: report them as +90. */
+function snapToNinety(deg: number): number {
+  return deg < -90 + 1e-3 ? 90 : deg;
 }

@@ -77,20 +77,19 @@ export async function findWalls(plane: Plane, options: AutoWallOptions = {}): Pr
   const k2 = Math.floor(second / nRho), r2 = (second % nRho) - rhoMax;
   const lineA = { phi: k1 * dPhi, rho: r1 }, lineB = { phi: k2 * dPhi, rho: r2 };
   const a = edgeStretch(lineA, g), b = edgeStretch(lineB, g);
-  // Pixel centres: full = (work + 0.5) * scale - 0.5 for an area-averaged reduction.
-  const f = (v: number) => (v + 0.5) * scale - 0.5;
-  const toFull = (s: Segment): Segment => ({ x1: f(s.x1), y1: f(s.y1), x2: f(s.x2), y2: f(s.y2) });
+  // Pixel centres: full = (work + 0.5) * scale - 0.5 for an area-averaged reduction, per axis.
+  const fx = (v: number) => (v + 0.5) * scale - 0.5, fy = (v: number) => (v + 0.5) * g.scaleY - 0.5;
+  const toFull = (s: Segment): Segment => ({ x1: fx(s.x1), y1: fy(s.y1), x2: fx(s.x2), y2: fy(s.y2) });
   // The heavy smoothing that silences texture also pulls the edge towards the darker side: refine each
   // wall on the full-resolution image, lightly smoothed, within a few coarse smoothing widths.
   const fine = await lightlySmoothed(plane);
   const reach = 3 * g.smooth * scale;
   const walls = orderWalls(refineWall(fine, toFull(a.seg), reach), refineWall(fine, toFull(b.seg), reach));
   const top = Math.max(a.strength, b.strength);
-  const strengths: [number, number] = walls[0] === undefined ? [1, 1] : [a.strength / top, b.strength / top];
-  return { channel: { walls }, strength: strengths };
+  return { channel: { walls }, strength: [a.strength / top, b.strength / top] };
 }
 
-interface Gradient { w: number; h: number; gx: Float32Array; gy: Float32Array; scale: number; smooth: number }
+interface Gradient { w: number; h: number; gx: Float32Array; gy: Float32Array; scale: number; scaleY: number; smooth: number }
 
 async function smoothedGradient(plane: Plane): Promise<Gradient> {
   const cv = await loadCv();
@@ -109,7 +108,7 @@ async function smoothedGradient(plane: Plane): Promise<Gradient> {
     cv.Sobel(small, gx, cv.CV_32F, 1, 0, 3, 1, 0, cv.BORDER_REFLECT);
     cv.Sobel(small, gy, cv.CV_32F, 0, 1, 3, 1, 0, cv.BORDER_REFLECT);
     // Step from the working grid back to full-resolution pixels (centres line up to within a pixel).
-    return { w, h, gx: gx.data32F.slice(), gy: gy.data32F.slice(), scale: plane.width / w, smooth };
+    return { w, h, gx: gx.data32F.slice(), gy: gy.data32F.slice(), scale: plane.width / w, scaleY: plane.height / h, smooth };
   } catch (e) {
     throw cvError(cv, e);
   } finally {

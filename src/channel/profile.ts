@@ -124,8 +124,14 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
     merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + 1])),
     bins, axisDeg, boot,
   );
+  if (pooled.core.n === 0 && pooled.skin.n === 0 && pooled.bins.every((b) => b.n === 0)) {
+    throw new InputError('no usable pixel lies between the walls', 'Check that the walls are inside the image and that the channel has texture or colour to read');
+  }
   const warnings = [...f.warnings];
   if (pooled.core.n === 0) warnings.push('no usable pixels in the core band: check the walls and the mask');
+  if (pooled.skin.n > 0 && pooled.skin.ciLow <= 0 && pooled.skin.ciHigh >= 0) {
+    warnings.push('the skin order is not distinguishable from 0, so the core/skin ratio and its interval mean little');
+  }
   if (pooled.skin.n === 0) warnings.push('no usable pixels in the skin band: check the walls and the mask');
   if (Math.abs(wrapAxialDeg(axisDeg - frame.axisDeg)) > 1e-9 && options.axisDeg !== undefined) {
     warnings.push(`S is referenced to ${axisDeg.toFixed(1)} deg, not to the channel axis at ${frame.axisDeg.toFixed(1)} deg`);

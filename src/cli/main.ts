@@ -1,14 +1,14 @@
-import { writeFile } from 'node:fs/promises';
 import { isInputError } from '../common/errors.ts';
 import { COMMON_OPTIONS, parseArgs, flagOpt, stringOpt } from './args.ts';
 import type { Command } from './command.ts';
 import { COMMANDS } from './commands/index.ts';
 import { toCsv } from '../report/csv.ts';
+import { writeBytes } from './io.ts';
 
-/** Exit status: 0 success, 2 bad input or options, 1 internal fault (conventions.md). */
 /** Where the CLI prints: process.stdout / stderr, or a capture in tests. */
 export interface Sink { write(s: string): unknown }
 
+/** Runs one subcommand. Exit status: 0 success, 2 bad input or options, 1 internal fault (conventions.md). */
 export async function main(argv: string[], out: Sink = process.stdout, err: Sink = process.stderr): Promise<number> {
   const [name, ...rest] = argv;
   if (!name || name === '--help' || name === 'help' || name === '-h') {
@@ -32,7 +32,7 @@ export async function main(argv: string[], out: Sink = process.stdout, err: Sink
     }
     const result = await cmd.run(args);
     const csvPath = stringOpt(args, 'csv');
-    if (csvPath) await writeFile(csvPath, toCsv(result.csvRows ?? []));
+    if (csvPath) await writeBytes(csvPath, new TextEncoder().encode(toCsv(result.csvRows ?? [])));
     if (flagOpt(args, 'json')) out.write(JSON.stringify(result.json, null, 2) + '\n');
     else {
       out.write(result.table + '\n');

@@ -104,7 +104,8 @@ export const nPerTexToGfPerDen = (nPerTex: number): number => nPerTex / (STANDAR
 /**
  * Birefringence Delta n = retardance / thickness (dimensionless), retardance in nm, thickness in um
  * (so Delta n = retardanceNm / (thicknessUm * 1000)). For a round fibre viewed side-on the path through
- * its centre is the diameter.
+ * its centre is the diameter, so use the centre-line retardance: Gamma(x) = 2 Delta n sqrt(R^2 - x^2)
+ * (domain.md §1) makes a median over the whole width about 0.87 of it.
  */
 export function birefringence(retardanceNm: number, thicknessUm: number): number {
   if (typeof retardanceNm !== 'number' || !Number.isFinite(retardanceNm) || retardanceNm < 0) {
@@ -241,7 +242,9 @@ export function fibreNumbers(input: FibreNumbersInput): FibreNumbers {
     thickness = input.thicknessUm ?? diameterUm;
     dn = birefringence(input.retardanceNm, thickness);
     if (input.intrinsicBirefringence !== undefined) {
-      const o = orientationFactor(dn, input.intrinsicBirefringence);
+      // A retardance is a magnitude: it gives |Delta n|, so compare with |Delta n0| (the compensator's
+      // addition or subtraction colour, not this number, tells length-slow from length-fast).
+      const o = orientationFactor(dn, Math.abs(input.intrinsicBirefringence));
       f = o.orientationFactor;
       warnings.push(...o.warnings);
     }

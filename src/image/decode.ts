@@ -15,7 +15,8 @@ function checkBytes(bytes: Uint8Array, name: string): void {
  * Every page of an image file: all pages of a TIFF (in file order), the single image of a PNG or
  * JPEG. The format comes from the first bytes, not the file name.
  *
- * Values: 8/16-bit integer samples divided by 255 / 65535 into [0, 1] (encoding 'srgb'); 32-bit float
+ * Values: 8/16-bit integer samples divided by 255 / 65535 into [0, 1] (encoding 'srgb' for 8-bit, 'linear'
+ * for 16-bit: scientific cameras store 16-bit data linearly); 32-bit float
  * TIFF samples kept as stored (encoding 'linear'). Alpha is dropped; palette images become RGB.
  * `pixelSizeUmPerPx` is set from TIFF XResolution/YResolution + ResolutionUnit (inch or cm; ImageJ
  * `unit=` descriptions) or PNG pHYs (metre), except the 72/96 dpi placeholders and non-square pixels.

@@ -57,7 +57,8 @@ const endsWithIend = (bytes: Uint8Array) => IEND.every((b, i) => bytes[bytes.len
 
 /**
  * Decodes a PNG with fast-png: grey, grey + alpha, RGB, RGBA (8/16-bit) and palette (1-8 bit
- * indices). Alpha is dropped; integer codes become [0, 1]; encoding 'srgb'; pixel size from pHYs.
+ * indices). Alpha is dropped; integer codes become [0, 1]; encoding 'srgb' for 8-bit, 'linear' for 16-bit
+ * (scientific cameras store 16-bit data linearly: common practice, no source); pixel size from pHYs.
  */
 export function decodePng(bytes: Uint8Array, name: string): Image {
   const header = readPngHeader(bytes, name);
@@ -90,7 +91,7 @@ export function decodePng(bytes: Uint8Array, name: string): Image {
     channels: colourChannels,
     planes: toPlanes(samples, png.width * png.height, samplesPerPixel, colourChannels, sixteen ? 65535 : 255),
     bitDepth: sixteen ? 16 : 8,
-    encoding: 'srgb',
+    encoding: sixteen ? 'linear' : 'srgb',
     ...(pixelSizeUmPerPx !== undefined ? { pixelSizeUmPerPx } : {}),
     source: { name },
   });

@@ -14,7 +14,7 @@ const pageLabel = (name: string, index: number) => (index === 0 ? name : `${name
 /**
  * Decodes TIFF pages with the `tiff` library after our own header checks (tiffHeader.ts).
  * `pages` undefined decodes every page; otherwise the listed page indices (0-based).
- * 8/16-bit unsigned samples become [0, 1] with encoding 'srgb'; 32-bit float samples are kept as
+ * 8/16-bit unsigned samples become [0, 1] (encoding 'srgb' for 8-bit, 'linear' for 16-bit); 32-bit float samples are kept as
  * stored with encoding 'linear'; palette pages become RGB; alpha and other extra samples are dropped.
  */
 export function decodeTiffPages(bytes: Uint8Array, name: string, pages?: number[]): Image[] {
@@ -82,7 +82,8 @@ function pageToImage(ifd: TiffIfd, header: TiffPageHeader, name: string, stackDe
     channels: header.palette ? 3 : header.colourChannels,
     planes,
     bitDepth,
-    encoding: float ? 'linear' : 'srgb',
+    // 8-bit files are display images (sRGB); 16-bit and float are linear camera data (common practice, no source).
+    encoding: bitDepth === 8 ? 'srgb' : 'linear',
     ...(pixelSizeUmPerPx !== undefined ? { pixelSizeUmPerPx } : {}),
     source: { name, page: header.index },
   });

@@ -199,7 +199,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   const amplitude = new Float32Array(n), background = new Float32Array(n), residual = new Float32Array(n);
   const nImg = images.length, I = new Float64Array(nImg), [P0, P1, P2] = P;
   const cos4 = anglesRad.map((a) => Math.cos(4 * a)), sin4 = anglesRad.map((a) => Math.sin(4 * a));
-  let flatBad = 0;
+  let flatBad = 0, nonFinite = 0;
   for (let i = 0; i < n; i++) {
     let f = 1;
     if (flat) {
@@ -213,6 +213,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
       I[k] = v;
       a0 += P0[k] * v; a4c += P1[k] * v; a4s += P2[k] * v;
     }
+    if (!Number.isFinite(a0 + a4c + a4s)) { nonFinite++; continue; }
     let ss = 0;
     for (let k = 0; k < nImg; k++) { const r = I[k] - (a0 + a4c * cos4[k] + a4s * sin4[k]); ss += r * r; }
     const amp = 2 * Math.hypot(a4c, a4s), res = nImg > 3 ? Math.sqrt(ss / (nImg - 3)) : 0;
@@ -224,12 +225,13 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     confidence[i] = amp / (amp + 3 * res + 1e-12);
     mask[i] = 1;
   }
-  const sorted = Float32Array.from(amplitude).sort();
-  const ampRef = sorted[Math.min(n - 1, Math.floor(0.99 * (n - 1)))];
+  const usableAmp = amplitude.filter((_, i) => mask[i] === 1).sort();
+  const ampRef = usableAmp.length ? usableAmp[Math.min(usableAmp.length - 1, Math.floor(0.99 * (usableAmp.length - 1)))] : 0;
   let lowAmp = 0;
   for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
+  if (nonFinite) warnings.push(`${nonFinite} pixels with a non-finite value (NaN or infinity) in an image were masked`);
   if (lowAmp) warnings.push(`${lowAmp} pixels with no measurable anisotropy (amplitude below ${floor} of the 99th percentile) were masked`);
   let ambiguity: OrientationField['ambiguity'] = 'mod-90';
   let resolvedFraction = 0;

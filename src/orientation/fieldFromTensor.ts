@@ -19,21 +19,6 @@ export const HALF_PI_F32 = 1.5707962513;
 
 export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
 
-/**
- * Orientation along the structure, theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen
- * from +x with y = row (the stripe direction, 90 deg from the gradient); coherency
- * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
- * tutorial); energy = Jxx + Jyy. `intensityScale` is the largest |I| of the image, for the absolute
- * energy floor.
- */
-export function fieldFromTensor(
-  t: TensorField, options: MaskOptions = {}, extraOptions: Record<string, unknown> = {}, intensityScale = 1,
-): OrientationField {
-  const f = emptyTextureField(t.width, t.height);
-  writeTensorPixels(f, t, { x0: 0, y0: 0, x1: t.width, y1: t.height }, { x: 0, y: 0 });
-  return finishTextureField(f, options, extraOptions, intensityScale);
-}
-
 /** A texture field with all arrays allocated, ready for writeTensorPixels and finishTextureField. */
 export function emptyTextureField(width: number, height: number): OrientationField {
   const n = width * height;
@@ -44,7 +29,13 @@ export function emptyTextureField(width: number, height: number): OrientationFie
   };
 }
 
-/** Angle, coherency, energy and doubled-angle components of the pixels in `r` from a (tile's) tensor. */
+/**
+ * Angle, coherency, energy and doubled-angle components of the pixels in `r` from a (tile's) tensor:
+ * orientation along the structure theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen
+ * from +x with y = row (the stripe direction, 90 deg from the gradient); coherency
+ * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
+ * tutorial); energy = Jxx + Jyy.
+ */
 export function writeTensorPixels(f: OrientationField, t: TensorField, r: TileRect, origin: { x: number; y: number }): void {
   const { angleRad, confidence } = f;
   const energy = f.energy!, cos2 = f.cos2!, sin2 = f.sin2!;
@@ -73,7 +64,10 @@ export function resolveMaskOptions(options: MaskOptions = {}): Required<MaskOpti
   return o;
 }
 
-/** Masks background and low-energy pixels once every pixel is written, and records options and warnings. */
+/**
+ * Masks background and low-energy pixels once every pixel is written, and records options and warnings.
+ * `intensityScale` is the largest |I| of the image, for the absolute energy floor.
+ */
 export function finishTextureField(f: OrientationField, options: MaskOptions, extraOptions: Record<string, unknown>, intensityScale: number): OrientationField {
   const o = resolveMaskOptions(options);
   const n = f.width * f.height;

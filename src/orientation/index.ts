@@ -3,7 +3,7 @@ export type { TensorField, StructureTensorOptions } from './structureTensor.ts';
 export type { TileRect } from './structureTensor.ts';
 export { structureTensor, forEachTensorTile, resolveTensorOptions, tensorHaloPx, STRUCTURE_TENSOR_DEFAULTS } from './structureTensor.ts';
 export type { MaskOptions } from './fieldFromTensor.ts';
-export { fieldFromTensor, emptyTextureField, writeTensorPixels, finishTextureField, resolveMaskOptions, MASK_DEFAULTS, HALF_PI_F32, quantile } from './fieldFromTensor.ts';
+export { resolveMaskOptions, MASK_DEFAULTS } from './fieldFromTensor.ts';
 export { orientationField } from './orientationField.ts';
 export type { OrientationFieldOptions } from './orientationField.ts';
 export { foldMod90, mod90Axis } from './fold.ts';

@@ -1,5 +1,6 @@
 import type { Plane } from '../common/plane.ts';
-import { forEachTensorTile, resolveTensorOptions, type StructureTensorOptions } from './structureTensor.ts';
+import { forEachTensorTile, resolveTensorOptions, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
+import { dilate, fillNonFinite } from './nonFinite.ts';
 import { emptyTextureField, finishTextureField, resolveMaskOptions, writeTensorPixels, type MaskOptions } from './fieldFromTensor.ts';
 import type { OrientationField } from './types.ts';
 
@@ -9,13 +10,23 @@ export type OrientationFieldOptions = StructureTensorOptions & MaskOptions;
  * Texture orientation field of a grey plane: structure tensor, then angle, coherency, energy and mask.
  * Tiles are turned into field pixels as they come, so no full-size tensor is ever held.
  */
-export async function orientationField(plane: Plane, options: OrientationFieldOptions = {}): Promise<OrientationField> {
+export async function orientationField(input: Plane, options: OrientationFieldOptions = {}): Promise<OrientationField> {
   const t = resolveTensorOptions(options);
   resolveMaskOptions(options);
-  const f = emptyTextureField(plane.width, plane.height);
-  await forEachTensorTile(plane, t, (tensor, inner, origin) => writeTensorPixels(f, tensor, inner, origin));
+  const { plane: clean, bad, count } = fillNonFinite(input);
+  const f = emptyTextureField(clean.width, clean.height);
+  await forEachTensorTile(clean, t, (tensor, inner, origin) => writeTensorPixels(f, tensor, inner, origin));
   let scale = 0;
-  const d = plane.data;
+  const d = clean.data;
   for (let i = 0; i < d.length; i++) { const a = Math.abs(d[i]); if (a > scale) scale = a; }
-  return finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx: t.sigmaDerivPx, derivative: t.derivative }, scale);
+  const sigmaDerivPx = t.derivative === 'sobel' ? null : t.sigmaDerivPx;
+  finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx, derivative: t.derivative }, scale);
+  if (bad) {
+    // The filled pixels and everything the filters carried them to are not measurements.
+    const reach = dilate(bad, f.width, f.height, tensorHaloPx(t));
+    let lost = 0;
+    for (let i = 0; i < reach.length; i++) if (reach[i] && f.mask[i]) { f.mask[i] = 0; lost++; }
+    f.warnings.push(`${count} pixels were not finite numbers (NaN or infinity); they and ${lost} pixels within the filter reach were masked`);
+  }
+  return f;
 }

@@ -1,5 +1,6 @@
 import { InputError, checkNumber } from '../common/errors.ts';
 import { withDefaults } from '../common/options.ts';
+import { cropPlane, planTiles } from '../image/tiles.ts';
 import type { Plane } from '../common/plane.ts';
 import { loadCv, cvError, type CV } from '../cv/opencv.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
@@ -33,6 +34,7 @@ export function resolveTensorOptions(o: StructureTensorOptions = {}): Required<S
   const r = withDefaults<Required<StructureTensorOptions>>({ ...STRUCTURE_TENSOR_DEFAULTS }, o);
   checkNumber('sigma (integration scale)', r.sigmaPx, 0.3, 200, 'px');
   checkNumber('derivative sigma', r.sigmaDerivPx, 0.3, 50, 'px');
+  checkNumber('tile size', r.tilePixels, 1024, 1e9, 'pixels');
   if (r.derivative !== 'gaussian' && r.derivative !== 'sobel') {
     throw new InputError(`derivative must be "gaussian" or "sobel", got "${String(r.derivative)}"`);
   }
@@ -66,16 +68,8 @@ export async function forEachTensorTile(
   }
   const halo = tensorHaloPx(o);
   const inner = Math.max(64, Math.floor(Math.sqrt(o.tilePixels)) - 2 * halo);
-  for (let y0 = 0; y0 < height; y0 += inner) {
-    for (let x0 = 0; x0 < width; x0 += inner) {
-      const x1 = Math.min(width, x0 + inner), y1 = Math.min(height, y0 + inner);
-      const tx0 = Math.max(0, x0 - halo), ty0 = Math.max(0, y0 - halo);
-      const tx1 = Math.min(width, x1 + halo), ty1 = Math.min(height, y1 + halo);
-      const tw = tx1 - tx0, th = ty1 - ty0;
-      const tile = new Float32Array(tw * th);
-      for (let y = 0; y < th; y++) tile.set(plane.data.subarray((ty0 + y) * width + tx0, (ty0 + y) * width + tx1), y * tw);
-      use(tensorOnce(cv, { width: tw, height: th, data: tile }, o), { x0, y0, x1, y1 }, { x: tx0, y: ty0 });
-    }
+  for (const t of planTiles(width, height, inner, halo)) {
+    use(tensorOnce(cv, cropPlane(plane, t), o), { x0: t.innerX, y0: t.innerY, x1: t.innerX + t.innerW, y1: t.innerY + t.innerH }, { x: t.x, y: t.y });
   }
 }
 

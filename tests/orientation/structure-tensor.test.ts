@@ -118,3 +118,24 @@ describe('orientationField in tiles', () => {
     expect(tiled.mask).toEqual(whole.mask);
   });
 });
+
+describe('orientationField with non-finite pixels', () => {
+  it('masks NaN and infinite pixels and their filter reach, keeps the rest exact, and says how many', async () => {
+    const clean = grating(96, 96, 30, 8);
+    const data = Float32Array.from(clean.data);
+    data[40 * 96 + 40] = Number.NaN;
+    data[70 * 96 + 20] = Number.POSITIVE_INFINITY;
+    const f = await orientationField({ width: 96, height: 96, data }, { sigmaPx: 2 });
+    const ref = await orientationField(clean, { sigmaPx: 2 });
+    expect(f.mask[40 * 96 + 40]).toBe(0);
+    expect(f.mask[70 * 96 + 20]).toBe(0);
+    expect(f.warnings.join(' ')).toMatch(/2 pixels were not finite/);
+    // Far from the bad pixels the field equals the clean one (the grating's construction).
+    const far = 10 * 96 + 85;
+    expect(f.mask[far]).toBe(1);
+    expect(f.angleRad[far]).toBeCloseTo(ref.angleRad[far], 6);
+    let usable = 0;
+    for (let i = 0; i < f.mask.length; i++) usable += f.mask[i];
+    expect(usable).toBeGreaterThan(0.7 * f.mask.length);
+  });
+});
