@@ -7,10 +7,9 @@
  * the file reports it loudly and runs only the check that says so.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
-import { createServer } from 'node:net';
+import { mkdirSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import { encode } from 'fast-png';
 import type { BrowserContext, Page } from 'playwright-core';
 import { analyseOrientation, analyseProfile } from '../../src/analyses/index.ts';
@@ -18,26 +17,13 @@ import { decodeImage } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { parseWalls } from '../../src/channel/index.ts';
 import { demoEntries } from '../../app/build/demoImages.ts';
+import { CHROMIUM, OUT, ROOT, SHOTS, freePort, haveBrowser } from './support.ts';
 
-const CHROMIUM = '/usr/bin/chromium';
-const ROOT = resolve(import.meta.dirname, '../..');
-const OUT = join(ROOT, 'test-output');
-const SHOTS = join(OUT, 'screenshots');
-const haveBrowser = existsSync(CHROMIUM);
 
 if (!haveBrowser) {
   const msg = `\n${'!'.repeat(78)}\n!! END-TO-END TESTS NOT RUN: ${CHROMIUM} is missing (apt-get install -y chromium).\n!! In CI this fails the run.\n${'!'.repeat(78)}\n`;
   if (process.env.CI) throw new Error(msg);
   console.warn(msg);
-}
-
-/** A free TCP port on 127.0.0.1 (asked from the OS, then released for the preview server). */
-function freePort(): Promise<number> {
-  return new Promise((res, rej) => {
-    const s = createServer();
-    s.once('error', rej);
-    s.listen(0, '127.0.0.1', () => { const p = (s.address() as { port: number }).port; s.close(() => res(p)); });
-  });
 }
 
 /**

@@ -37,3 +37,19 @@ describe('structureTensor against scikit-image', () => {
     for (let i = 0; i < 25; i++) expect(Math.abs(t.jxx[i] - acc[i])).toBeLessThan(0.02 * 4 + 0.01);
   });
 });
+
+describe('structureTensor (default Gaussian derivatives) against scipy.ndimage', () => {
+  // Outside reference: scipy.ndimage.gaussian_filter with order=1 for the derivatives (sigma 1), then
+  // gaussian_filter(sigma_i) of the products, mode 'reflect', truncate 4 (domain.md §13 recipe).
+  for (const c of fx.gaussianCases) {
+    it(`matches Jxx, Jxy, Jyy at sigma_i ${c.sigma}`, async () => {
+      const t = await structureTensor({ width: fx.width, height: fx.height, data: Float32Array.from(fx.image) }, { sigmaPx: c.sigma, sigmaDerivPx: c.sigmaDeriv });
+      const scale = Math.max(...c.Jxx.map(Math.abs), ...c.Jyy.map(Math.abs));
+      let worst = 0;
+      for (let i = 0; i < t.jxx.length; i++) {
+        worst = Math.max(worst, Math.abs(t.jxx[i] - c.Jxx[i]), Math.abs(t.jxy[i] - c.Jxy[i]), Math.abs(t.jyy[i] - c.Jyy[i]));
+      }
+      expect(worst / scale).toBeLessThan(1e-5);
+    });
+  }
+});

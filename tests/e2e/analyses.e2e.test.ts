@@ -1,0 +1,255 @@
+/**
+ * End-to-end: the optical, fibre and calibration panels in Debian's chromium, on the demo images. Every
+ * number the page shows is compared with the same analysis function run here in Node on the same file
+ * (what `retarda plate`, `plate2`, `quad`, `diameter`, `calibrate`, `fibre` call), printed the same way
+ * (formatCell, the CLI's number format). Screenshots go to test-output/screenshots/.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { BrowserContext, Page } from 'playwright-core';
+import {
+  analyseDiameter, analyseFourAngle, analyseMicrometer, analysePlate, analysePlatePair, analyseProfile, fibreNumbersResult, readPlateField,
+} from '../../src/analyses/index.ts';
+import { decodeImage, type Image } from '../../src/image/index.ts';
+import { formatCell } from '../../src/cli/format.ts';
+import { demoEntries } from '../../app/build/demoImages.ts';
+import { DEMO_ANALYSES } from '../../vite.config.ts';
+import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
+
+const SAMPLES = join(ROOT, 'sample-images');
+const load = (file: string): Image => decodeImage(new Uint8Array(readFileSync(join(SAMPLES, file))), file);
+
+describe.runIf(!haveBrowser)('analysis panels end-to-end (no browser)', () => {
+  it('is allowed to be left out only outside CI', () => {
+    expect(process.env.CI, `${CHROMIUM} is required in CI`).toBeFalsy();
+  });
+});
+
+describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
+  let context: BrowserContext;
+  let page: Page;
+  let server: { close(): Promise<void> } | null = null;
+  let url = '';
+  let profileDir = '';
+  const consoleErrors: string[] = [];
+  const shot = async (name: string) => { await page.screenshot({ path: join(SHOTS, `analyses-${name}.png`) }); };
+  const text = async (testId: string) => (await page.getByTestId(testId).first().textContent())?.trim();
+  const idle = () => page.getByTestId('busy').waitFor({ state: 'detached', timeout: 120_000 });
+  const tab = (name: string) => page.getByRole('tab', { name }).click();
+  const fill = async (testId: string, value: string) => { await page.getByTestId(testId).fill(value); };
+  const newSession = async () => {
+    await page.getByRole('button', { name: 'Sessions' }).click();
+    await page.getByRole('button', { name: 'New session' }).click();
+    await page.getByText('Bring in a microscope image').waitFor({ timeout: 10_000 });
+  };
+  const addSample = async (file: string) => {
+    await page.getByTestId('file-input').setInputFiles(join(SAMPLES, file));
+    await page.locator('.images li', { hasText: file }).waitFor({ timeout: 30_000 });
+    await page.locator('.images li button', { hasText: file }).click();
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await idle();
+  };
+
+  beforeAll(async () => {
+    mkdirSync(SHOTS, { recursive: true });
+    const s = await buildAndServe(join(OUT, 'e2e-analyses-dist'));
+    server = s;
+    url = s.url;
+    const { chromium } = await import('playwright-core');
+    profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-analyses-'));
+    context = await chromium.launchPersistentContext(profileDir, { executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 900 }, args: CHROMIUM_ARGS });
+    page = context.pages()[0] ?? await context.newPage();
+    page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
+    page.on('pageerror', (e) => consoleErrors.push(String(e)));
+  }, 240_000);
+
+  afterAll(async () => {
+    await context?.close();
+    await server?.close().catch(() => undefined);
+    if (profileDir) rmSync(profileDir, { recursive: true, force: true });
+  });
+
+  it('offers every sample image with the analysis it is for', async () => {
+    await page.goto(url);
+    await page.getByText('Bring in a microscope image').waitFor({ timeout: 20_000 });
+    await expect.poll(() => page.getByText('Works offline').count(), { timeout: 30_000 }).toBe(1);
+    const pngs = readdirSync(SAMPLES).filter((f) => f.endsWith('.png'));
+    const offered = demoEntries(SAMPLES, DEMO_ANALYSES);
+    // every image file in sample-images/ is offered once
+    expect(offered.map((d) => d.file).sort()).toEqual(pngs.sort());
+    for (const d of offered) expect(await page.getByRole('button', { name: d.title, exact: true }).count()).toBe(1);
+    await shot('20-demo-list-all-analyses');
+  }, 60_000);
+
+  it('reads the compensator demo image: the numbers are analysePlate\'s, with the advice and the mirror ambiguity', async () => {
+    const file = 'kestrel-channel-plate.png';
+    const demo = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === file)!;
+    await page.getByRole('button', { name: demo.title, exact: true }).click();
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await idle();
+    await tab('Polarised colours');
+    // the advice is where the reading is chosen, before anything runs
+    expect(await text('plate-advice')).toContain('Lay the channel or fibre axis along that slow axis');
+    await page.locator('summary', { hasText: 'Optical train and reading settings' }).click();
+    await fill('plate-background', '0,0,60,60');
+    await fill('optics-axis', '10');
+    // 10 deg is 35 deg from the compensator's slow axis: the form warns before the run
+    await page.getByText('is 35° from the compensator\'s slow axis').waitFor({ timeout: 5_000 });
+    await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
+    await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot('21-plate-orientation-map');
+
+    const options = { background: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 10, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const, profile: null };
+    const { result } = await analysePlate(load(file), options);
+    expect(await text('optics-director')).toBe(formatCell(result.directorDeg));
+    expect(await text('optics-order2d')).toBe(formatCell(result.order2D));
+    expect(await text('optics-axis-order')).toBe(formatCell(result.axisOrder));
+    expect(await text('optics-retardance')).toBe(formatCell(result.retardanceNmMedian));
+    expect(await text('optics-confidence')).toBe(formatCell(result.confidence.mean));
+    expect(await text('optics-n')).toBe(formatCell(result.n));
+    expect(await text('optics-mirror-mattered')).toBe(formatCell(result.extra.mirrorChoiceMatteredFraction as number));
+    expect(await text('optics-ambiguity')).toContain('mirror image about the compensator axis');
+    expect(await text('optics-cli')).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 10`);
+
+    await page.getByRole('button', { name: 'retardance', exact: true }).click();
+    await page.getByLabel(/Retardance colour scale/).waitFor({ timeout: 5_000 });
+    await shot('22-plate-retardance-map');
+    await page.getByRole('button', { name: 'confidence', exact: true }).click();
+    await shot('23-plate-confidence');
+    await page.getByRole('button', { name: 'orientation', exact: true }).click();
+  }, 180_000);
+
+  it('profiles the channel on the compensator field, as `retarda profile --source plate` does', async () => {
+    const file = 'kestrel-channel-plate.png';
+    expect(await text('profile-field')).toContain('compensator colour');
+    await page.getByRole('button', { name: 'Find walls' }).click();
+    await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
+    await idle();
+    await page.getByRole('button', { name: 'Profile across the channel' }).click();
+    await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot('24-plate-profile');
+    const img = load(file);
+    const reading = { background: { x: 0, y: 0, width: 60, height: 60 }, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
+    const { field } = readPlateField(img, { ...reading, axisDeg: undefined });
+    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' }, field.options);
+    expect(r.fieldMethod).toBe('plate');
+    expect(await text('core')).toBe(formatCell(r.core.order));
+    expect(await text('skin')).toBe(formatCell(r.skin.order));
+    expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
+    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --weighting confidence --background 0,0,60,60`);
+  }, 180_000);
+
+  it('the two-image reading picks the turned image and shows the registration', async () => {
+    await newSession();
+    const turned = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-channel-plate-turned.png')!;
+    await page.getByRole('button', { name: `Open these ${turned.set!.length} together` }).first().click();
+    await page.locator('.images li', { hasText: turned.file }).waitFor({ timeout: 30_000 });
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await idle();
+    await tab('Polarised colours');
+    await page.getByLabel('two compensator images, optics turned 45°').check();
+    const b = page.getByTestId('plate2-image-b');
+    expect(await b.locator('option:checked').textContent()).toBe(turned.file);
+    await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
+    await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot('25-plate-pair');
+    const { result } = await analysePlatePair(load(turned.set![0]), load(turned.file), { compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', turnDeg: 45, profile: null });
+    expect(await text('optics-director')).toBe(formatCell(result.directorDeg));
+    expect(await text('optics-order2d')).toBe(formatCell(result.order2D));
+    expect(await text('optics-retardance')).toBe(formatCell(result.retardanceNmMedian));
+    expect(await text('optics-shift')).toBe(formatCell((result.extra.registration as { shiftPx: number }).shiftPx));
+    expect(await text('optics-ambiguity')).toContain('full orientation');
+    expect(await text('optics-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file}`);
+  }, 180_000);
+
+  it('the four-angle set takes four images and their angles', async () => {
+    await newSession();
+    const last = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-quad-675.png')!;
+    await page.getByRole('button', { name: `Open these ${last.set!.length} together` }).click();
+    await page.locator('.images li', { hasText: last.file }).waitFor({ timeout: 30_000 });
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await idle();
+    await tab('Polarised colours');
+    await page.getByLabel('crossed polars at several angles').check();
+    for (let k = 0; k < 4; k++) expect(await page.getByTestId(`quad-image-${k}`).locator('option:checked').textContent()).toBe(last.set![k]);
+    await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
+    await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot('26-four-angle');
+    const r = await analyseFourAngle(last.set!.map(load), { anglesDeg: [0, 22.5, 45, 67.5], compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', profile: null });
+    expect(await text('optics-director')).toBe(formatCell(r.result.directorDeg));
+    expect(await text('optics-order2d')).toBe(formatCell(r.result.order2D));
+    expect(await text('optics-n')).toBe(formatCell(r.result.n));
+    expect(await text('optics-ambiguity')).toContain('the one at 90° to it');
+    expect(await text('optics-cli')).toBe(`retarda quad ${last.set!.join(' ')}`);
+  }, 180_000);
+
+  let umPerPx = 0;
+  it('calibrates from the micrometer image and offers its pixel size to the session', async () => {
+    await newSession();
+    const file = 'kestrel-micrometer.png';
+    await addSample(file);
+    await tab('Micrometer');
+    await fill('division-um', '10');
+    await page.getByRole('button', { name: 'Measure the pixel size' }).click();
+    await page.getByTestId('micrometer-results').waitFor({ timeout: 60_000 });
+    await idle();
+    await shot('27-micrometer');
+    const c = analyseMicrometer(load(file), { divisionUm: 10, polarity: 'auto' });
+    expect(await text('um-per-px')).toBe(formatCell(c.umPerPx));
+    expect(await text('um-per-px-u')).toBe(formatCell(c.uncertaintyUmPerPx));
+    expect(await text('period-px')).toBe(formatCell(c.periodPx));
+    expect(await text('micrometer-cli')).toBe(`retarda calibrate ${file} --division-um 10`);
+    // README: the demo was rendered at 0.65 um per pixel (fact of the rendering); the reading is within 1 %
+    expect(Math.abs(c.umPerPx / 0.65 - 1)).toBeLessThan(0.01);
+    await page.getByTestId('use-pixel-size').click();
+    expect(await text('session-pixel-size')).toContain(c.umPerPx.toPrecision(5));
+    umPerPx = c.umPerPx;
+  }, 120_000);
+
+  it('measures the fibre diameters with the session\'s pixel size, edges drawn, as analyseDiameter does', async () => {
+    const file = 'kestrel-fibres.png';
+    await addSample(file);
+    await tab('Fibre diameter');
+    await page.getByRole('button', { name: 'Measure fibre diameters' }).click();
+    await page.getByTestId('diameter-table').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot('28-fibre-diameter');
+    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, stepPx: 10, averagePx: 5, polarity: 'auto', backgroundDegree: 2 });
+    expect(d.fibres.length).toBe(3); // README: three dried fibres
+    for (const fb of d.fibres) expect(await text(`diameter-mean-${fb.index}`)).toBe(formatCell(fb.meanUm));
+    expect(await text('diameter-mean-all')).toBe(formatCell(d.meanUm));
+    expect(await text('diameter-cli')).toBe(`retarda diameter ${file} --um-per-px ${umPerPx}`);
+    if (d.dropped > 0) expect(await page.getByTestId('diameter-dropped').locator('summary').textContent()).toContain(`${d.dropped} station(s) left out`);
+    expect(await page.getByRole('img', { name: /histogram of \d+ values/ }).count()).toBe(1);
+  }, 180_000);
+
+  it('works out the fibre numbers from the measured diameter, as `retarda fibre` does', async () => {
+    await tab('Fibre numbers');
+    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx });
+    await page.getByRole('button', { name: /use the measured mean/ }).click();
+    // The mean is carried over to 6 significant digits. (The browser's engine and Node's may differ in the last few
+    // of the 17 digits, seen: 2e-13 relative, never in the shown ones.)
+    const diameterUm = Number(await page.getByTestId('fibre-diameter').inputValue());
+    expect(diameterUm).toBe(Number(d.meanUm!.toPrecision(6)));
+    await fill('fibre-density', '1.8');
+    await fill('fibre-linear-density', '0.5');
+    await page.getByLabel('Linear density unit').selectOption('dtex');
+    await fill('fibre-retardance', '300');
+    await page.getByRole('button', { name: 'Work out the fibre numbers' }).click();
+    await page.getByTestId('fibre-results').waitFor({ timeout: 30_000 });
+    await idle();
+    await shot('29-fibre-numbers');
+    const r = fibreNumbersResult({ diameterUm, densityGPerCm3: 1.8, linearDensity: { value: 0.5, unit: 'dtex' }, retardanceNm: 300 });
+    for (const key of ['areaUm2', 'solidTex', 'solidDtex', 'solidDenier', 'linearDensityTex', 'packingFraction', 'birefringence'] as const) {
+      expect(await text(`fibre-${key}`)).toBe(formatCell(r[key]));
+    }
+    expect(await text('fibre-cli')).toBe(`retarda fibre --diameter-um ${diameterUm} --density 1.8 --linear-density-dtex 0.5 --retardance-nm 300`);
+    expect(consoleErrors).toEqual([]);
+  }, 60_000);
+});
