@@ -16,6 +16,8 @@
  * at half their size). Lightness still dominates, and every step has the same weighted difference.
  */
 
+import { D65_WHITE, labToXyz, srgbEncode, xyzToLinearSrgb } from '../optics/colorimetry.ts';
+
 export type Lab = [number, number, number];
 
 /** Cyclic control points (L*, a*, b*), domain.md §9 [S8]; the path returns to the first point. */
@@ -31,37 +33,16 @@ export const STEP_WEIGHTS: Lab = [1, 0.25, 0.25];
 const SIGMA_PER_256 = 7;
 const ITERATIONS = 3;
 
-/** D65 reference white, Y = 1 (IEC 61966-2-1). */
-const WHITE: Lab = [0.95047, 1, 1.08883];
-
-/** CIELAB (D65) to XYZ, CIE 15 inverse of f(t). */
-export function labToXyz([L, a, b]: Lab): Lab {
-  const fy = (L + 16) / 116, fx = fy + a / 500, fz = fy - b / 200;
-  const d = 6 / 29;
-  const inv = (f: number) => (f > d ? f ** 3 : 3 * d * d * (f - 4 / 29));
-  return [WHITE[0] * inv(fx), WHITE[1] * inv(fy), WHITE[2] * inv(fz)];
-}
-
 /** CIELAB (D65) to linear sRGB (IEC 61966-2-1 matrix), not clipped. */
 export function labToLinearSrgb(lab: Lab): Lab {
-  const [X, Y, Z] = labToXyz(lab);
-  return [
-    3.2406 * X - 1.5372 * Y - 0.4986 * Z,
-    -0.9689 * X + 1.8758 * Y + 0.0415 * Z,
-    0.0557 * X - 0.2040 * Y + 1.0570 * Z,
-  ];
-}
-
-/** sRGB transfer function (IEC 61966-2-1) of a linear value clipped to [0, 1]. */
-export function srgbEncode(linear: number): number {
-  const v = Math.min(1, Math.max(0, linear));
-  return v <= 0.0031308 ? 12.92 * v : 1.055 * v ** (1 / 2.4) - 0.055;
+  return xyzToLinearSrgb(labToXyz(lab, D65_WHITE));
 }
 
 /** CIELAB to 8-bit sRGB, clipping linear values to the gamut. */
 export function labToSrgb8(lab: Lab): [number, number, number] {
   const [r, g, b] = labToLinearSrgb(lab);
-  return [Math.round(255 * srgbEncode(r)), Math.round(255 * srgbEncode(g)), Math.round(255 * srgbEncode(b))];
+  const enc = (v: number) => Math.round(255 * srgbEncode(Math.min(1, Math.max(0, v))));
+  return [enc(r), enc(g), enc(b)];
 }
 
 /** Linear interpolation of y(x) at xi; x increasing. */
