@@ -13,7 +13,11 @@ import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlatePairOptions {
   train?: Partial<OpticalTrain>;
-  /** How far the polariser-compensator-analyser assembly was turned for image B, deg (default +45; the sample turned by -45 is the same). */
+  /**
+   * How far the polariser-compensator-analyser assembly was turned for image B, deg (default +45). The
+   * sample turned by -45 deg is optically the same, but a turned stage also turns the picture: image B
+   * must then be turned back (registered) before this pixel-by-pixel reading.
+   */
   turnDeg?: number;
   retardanceMaxNm?: number;
   birefringenceSign?: 1 | -1;
