@@ -82,9 +82,8 @@ export async function findWalls(plane: Plane, options: AutoWallOptions = {}): Pr
   const toFull = (s: Segment): Segment => ({ x1: fx(s.x1), y1: fy(s.y1), x2: fx(s.x2), y2: fy(s.y2) });
   // The heavy smoothing that silences texture also pulls the edge towards the darker side: refine each
   // wall on the full-resolution image, lightly smoothed, within a few coarse smoothing widths.
-  const fine = await lightlySmoothed(plane);
   const reach = 3 * g.smooth * scale;
-  const walls = orderWalls(refineWall(fine, toFull(a.seg), reach), refineWall(fine, toFull(b.seg), reach));
+  const walls = orderWalls(refineWall(plane, toFull(a.seg), reach), refineWall(plane, toFull(b.seg), reach));
   const top = Math.max(a.strength, b.strength);
   return { channel: { walls }, strength: [a.strength / top, b.strength / top] };
 }
@@ -96,8 +95,10 @@ async function smoothedGradient(plane: Plane): Promise<Gradient> {
   const mats: { delete(): void }[] = [];
   const keep = <T extends { delete(): void }>(m: T): T => (mats.push(m), m);
   try {
-    const src = keep(new cv.Mat(plane.height, plane.width, cv.CV_32F));
-    src.data32F.set(plane.data);
+    // Big images are first block-averaged in plain JS, so the WASM heap never holds a full-size copy.
+    const pre = blockAverage(plane, Math.max(1, Math.floor(Math.max(plane.width, plane.height) / (2 * WORK_SIDE))));
+    const src = keep(new cv.Mat(pre.height, pre.width, cv.CV_32F));
+    src.data32F.set(pre.data);
     const scale = Math.max(1, Math.max(plane.width, plane.height) / WORK_SIDE);
     const w = Math.max(8, Math.round(plane.width / scale)), h = Math.max(8, Math.round(plane.height / scale));
     const small = keep(new cv.Mat());
@@ -116,19 +117,16 @@ async function smoothedGradient(plane: Plane): Promise<Gradient> {
   }
 }
 
-/** The full-resolution image smoothed by sigma 1.5 px: enough to steady the gradient, too little to move an edge. */
-async function lightlySmoothed(plane: Plane): Promise<Plane> {
-  const cv = await loadCv();
-  const src = new cv.Mat(plane.height, plane.width, cv.CV_32F), dst = new cv.Mat();
-  try {
-    src.data32F.set(plane.data);
-    cv.GaussianBlur(src, dst, new cv.Size(0, 0), 1.5, 1.5, cv.BORDER_REFLECT);
-    return { width: plane.width, height: plane.height, data: dst.data32F.slice() };
-  } catch (e) {
-    throw cvError(cv, e);
-  } finally {
-    src.delete(); dst.delete();
+/** Mean of k x k blocks (the last partial blocks averaged over what they hold). */
+function blockAverage(p: Plane, k: number): Plane {
+  if (k <= 1) return p;
+  const w = Math.ceil(p.width / k), h = Math.ceil(p.height / k);
+  const sum = new Float64Array(w * h), cnt = new Uint32Array(w * h);
+  for (let y = 0; y < p.height; y++) {
+    const row = ((y / k) | 0) * w;
+    for (let x = 0; x < p.width; x++) { const j = row + ((x / k) | 0); sum[j] += p.data[y * p.width + x]; cnt[j]++; }
   }
+  return { width: w, height: h, data: Float32Array.from(sum, (v, j) => v / cnt[j]) };
 }
 
 function bilinear(p: Plane, x: number, y: number): number {
@@ -139,16 +137,19 @@ function bilinear(p: Plane, x: number, y: number): number {
 }
 
 /**
- * Moves a coarse wall onto the full-resolution edge: at points every 2 px along it, the steepest step
- * of the profile across it within +-reach px (same polarity as the step at the coarse position's
- * side-to-side contrast), sub-pixel by a parabola; then a total-least-squares line through them.
+ * Moves a coarse wall onto the full-resolution edge: at points every 2 px along it, the profile across
+ * it (averaged over 5 px along the wall and smoothed across by sigma 1.5 px, enough to steady the
+ * gradient and too little to move an edge), its steepest step within +-reach px (same polarity as the
+ * wall's side-to-side contrast), sub-pixel by a parabola; then a total-least-squares line through them.
  */
 function refineWall(p: Plane, seg: Segment, reach: number): Segment {
   const len = Math.hypot(seg.x2 - seg.x1, seg.y2 - seg.y1);
   const ux = (seg.x2 - seg.x1) / len, uy = (seg.y2 - seg.y1) / len, nx = -uy, ny = ux;
   const step = 0.5, m = Math.ceil(reach / step);
   const xs: number[] = [], ys: number[] = [];
-  const prof = new Float64Array(2 * m + 1), der = new Float64Array(2 * m + 1);
+  const prof = new Float64Array(2 * m + 1), der = new Float64Array(2 * m + 1), raw = new Float64Array(2 * m + 1);
+  // Gaussian of sigma 1.5 px in steps of 0.5 px (3 samples), truncated at 2 sigma.
+  const gk = Float64Array.from({ length: 13 }, (_, i) => Math.exp(-0.5 * ((i - 6) / 3) ** 2));
   // Polarity of the wall: which side is brighter, from wide samples either side of the coarse line.
   let side = 0;
   for (let t = 0; t <= len; t += 8) {
@@ -158,7 +159,21 @@ function refineWall(p: Plane, seg: Segment, reach: number): Segment {
   const sign = side >= 0 ? 1 : -1;
   for (let t = 0; t <= len; t += 2) {
     const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
-    for (let k = -m; k <= m; k++) prof[k + m] = bilinear(p, cx + k * step * nx, cy + k * step * ny);
+    for (let k = -m; k <= m; k++) {
+      let v = 0;
+      for (let j = -2; j <= 2; j++) v += bilinear(p, cx + k * step * nx + j * ux, cy + k * step * ny + j * uy);
+      raw[k + m] = v / 5;
+    }
+    for (let k = 0; k <= 2 * m; k++) {
+      let v = 0, ws = 0;
+      for (let j = -6; j <= 6; j++) {
+        const q = k + j;
+        if (q < 0 || q > 2 * m) continue;
+        const w = gk[j + 6];
+        v += w * raw[q]; ws += w;
+      }
+      prof[k] = v / ws;
+    }
     let best = -1, bestV = 0;
     for (let k = 1; k < 2 * m; k++) {
       der[k] = (sign * (prof[k + 1] - prof[k - 1])) / (2 * step);
