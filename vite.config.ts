@@ -6,6 +6,9 @@ import { demoImages } from './app/build/demoImages.ts';
 
 const here = (p: string) => fileURLToPath(new URL(p, import.meta.url));
 
+/** The analysis names of sample-images/README.md that the app offers (the `retarda` subcommand names). */
+export const DEMO_ANALYSES = ['orient', 'profile', 'plate', 'plate2', 'quad', 'diameter', 'calibrate'];
+
 /**
  * Content security policy for the built page. The page itself needs no eval; the analysis worker
  * (opencv.js) does, and a worker served from its own URL takes its policy from its own response, so
@@ -39,8 +42,8 @@ export default defineConfig({
   plugins: [
     react(),
     pagePolicy(),
-    // Analyses the app offers today; demo images for others stay in sample-images/ for the CLI.
-    demoImages(here('./sample-images'), ['orient', 'profile']),
+    // Analyses the app offers: every sample image in sample-images/ is offered with the one it is for.
+    demoImages(here('./sample-images'), DEMO_ANALYSES),
     VitePWA({
       strategies: 'generateSW',
       injectRegister: false,

@@ -7,7 +7,7 @@ import type { Channel } from '../src/channel/index.ts';
 import { AnalysisClient, CancelledError, type ImageSource } from './worker/client.ts';
 import type { DecodeSummary, Glyph, Picture } from './worker/protocol.ts';
 import {
-  BackupError, browserKeyValue, createSaver, createSessionStore, exportBackup, importBackup,
+  BackupError, browserKeyValue, createSaver, createSessionStore, createSetupStore, exportBackup, importBackup,
   type AnalysisSettings, type SessionRecord, type SessionSummary,
 } from './storage/index.ts';
 import { sessionReducer, orientIsStale, profileIsStale, type SessionAction } from './state/session.ts';
@@ -17,6 +17,18 @@ import { ProfilePlot } from './components/ProfilePlot.tsx';
 import { OrientTable, ProfileTable } from './components/Results.tsx';
 import { SessionsPanel } from './components/SessionsPanel.tsx';
 import { LampCaution, ResultCaution, SampleCaution } from './components/Cautions.tsx';
+import { MoreAnalyses, type OpticalField } from './components/MoreAnalyses.tsx';
+import type { Mark } from './components/Viewer.tsx';
+import type { ProgressFn } from './worker/client.ts';
+import { CameraView } from './camera/CameraView.tsx';
+import { SetupsPanel } from './setups/SetupsPanel.tsx';
+import { CompareView } from './compare/CompareView.tsx';
+import { ViewExports } from './export/ViewExports.tsx';
+import { ReportView } from './export/ReportView.tsx';
+import { reportContent, type ReportContent } from './export/reportContent.ts';
+import { requestFieldTiff } from './export/fieldTiff.ts';
+import { viewPicturePng, type ViewPictureInput } from './export/viewPicture.ts';
+import { applied, effectivePixelSize } from './setups/setup.ts';
 import {
   download, orientCommandLine, orientCsv, profileBinsCsv, profileCommandLine, profileCsv, wallsText,
 } from './export/rows.ts';
@@ -24,7 +36,7 @@ import {
 interface Message { id: number; kind: 'error' | 'info'; text: string }
 interface Busy { stage: string; fraction: number; what: string }
 interface Shown { imageId: string; summary: DecodeSummary; image: Layer; colour: Layer | null; coherency: Layer | null; glyphs: Glyph[] }
-interface DemoEntry { file: string; title: string; about: string }
+interface DemoEntry { file: string; title: string; about: string; set?: string[] }
 
 const ACCEPT = '.png,.jpg,.jpeg,.tif,.tiff,image/png,image/jpeg,image/tiff';
 const LARGE_FILE = 20 * 1024 * 1024;
@@ -49,11 +61,14 @@ const sessionName = () => `Session ${new Date().toLocaleString(undefined, { date
 
 export function App() {
   const store = useMemo(() => createSessionStore(browserKeyValue()), []);
+  const setupStore = useMemo(() => createSetupStore(browserKeyValue()), []);
   const client = useMemo(() => new AnalysisClient(() => new Worker(new URL('./worker/analysis.worker.ts', import.meta.url), { type: 'module', name: 'analysis' })), []);
   const [session, setSession] = useState<SessionRecord | null>(null);
   const sessionRef = useRef<SessionRecord | null>(null);
   const [listing, setListing] = useState<{ sessions: SessionSummary[]; asideCount: number }>({ sessions: [], asideCount: 0 });
   const [showSessions, setShowSessions] = useState(false);
+  const [showSetups, setShowSetups] = useState(false);
+  const [printable, setPrintable] = useState<{ content: ReportContent; view: { imageId: string; url: string } | null } | null>(null);
   const [messages, setMessages] = useState<Message[]>([]);
   const [busy, setBusy] = useState<Busy | null>(null);
   const [shown, setShown] = useState<Shown | null>(null);
@@ -66,6 +81,15 @@ export function App() {
   const [update, setUpdate] = useState<null | (() => void)>(null);
   const [dragOver, setDragOver] = useState(false);
   const [help, setHelp] = useState(false);
+  /** The last optical field (compensator / angle-series reading) and the diameter marks, for the image they belong to. */
+  const [optical, setOptical] = useState<OpticalField | null>(null);
+  const [marks, setMarks] = useState<{ imageId: string; marks: Mark[] } | null>(null);
+  /** Which field the viewer shows and the channel profile uses: the texture field or the optical one. */
+  const [fieldChoice, setFieldChoice] = useState<'texture' | 'optical'>('texture');
+  /** Command lines of profiles made on an optical field (the stored result does not say which reading made it). */
+  const [profileCli, setProfileCli] = useState<Record<string, string>>({});
+  /** Which screen fills the page: the images of the session, the camera, or the compare view. */
+  const [screen, setScreen] = useState<'images' | 'camera' | 'compare'>('images');
   const blobs = useRef(new Map<string, Blob>());
   /** Summaries of images just brought in, so showing them does not decode them twice. */
   const decoded = useRef(new Map<string, DecodeSummary>());
@@ -189,8 +213,23 @@ export function App() {
     say('error', `${what}: ${err.message}`);
   }, [say]);
 
+  /** Runs a panel's job with the progress bar and Stop; errors are shown and give null. */
+  const runJob = useCallback(async <T,>(what: string, job: (p: ProgressFn) => Promise<T>): Promise<T | null> => {
+    try { return await job(progress(what)); } catch (e) { report(e, what); return null; } finally { setBusy(null); }
+  }, [progress, report]);
+
+  // Free the bitmaps of an optical field that was replaced.
+  const lastOptical = useRef<OpticalField | null>(null);
+  useEffect(() => {
+    const before = lastOptical.current;
+    lastOptical.current = optical;
+    if (before && before !== optical) for (const l of [before.colour, before.confidence, before.retardance]) l?.levels.forEach((b) => b.close());
+  }, [optical]);
+
   const settings = session?.settings;
   const active = session?.images.find((i) => i.id === session.activeImageId) ?? null;
+  const opticalHere = optical && active && optical.imageId === active.id ? optical : null;
+  const showOptical = fieldChoice === 'optical' && opticalHere !== null;
   const work = active ? session?.work[active.id] ?? null : null;
 
   const runOrient = useCallback(async (quiet = false) => {
@@ -206,7 +245,7 @@ export function App() {
       setShown((sh) => (sh && sh.imageId === id ? { ...sh, colour, coherency, glyphs: reply.glyphs } : sh));
       change({ type: 'orient', id, result: reply.result });
       setMode((m) => (m === 'none' ? 'colour' : m));
-      if (!quiet) say('info', 'Orientation analysis done.');
+      if (!quiet) { setFieldChoice('texture'); say('info', 'Orientation analysis done.'); }
     } catch (e) { report(e, 'Orientation analysis'); } finally { setBusy(null); }
   }, [client, sourceOf, progress, change, say, report]);
 
@@ -220,14 +259,17 @@ export function App() {
     const o = s.settings;
     try {
       await client.ensure(src, progress('Opening the image'));
-      const result = await client.call('profile', {
-        key: id, texture: { sigmaPx: o.sigmaPx },
-        request: { ...(w.wallsFound ? { autoWalls: true } : { channel: w.walls }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin, weighting: o.weighting },
-      }, progress('Profile'));
+      const request = { ...(w.wallsFound ? { autoWalls: true } : { channel: w.walls }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin, weighting: o.weighting };
+      // On the current field: the texture one, or the optical reading's (same command as its `retarda` line with the channel options).
+      const opt = fieldChoice === 'optical' && optical?.imageId === id ? optical : null;
+      const result = opt
+        ? await opt.profile.run(request, progress('Profile'))
+        : await client.call('profile', { key: id, texture: { sigmaPx: o.sigmaPx }, request }, progress('Profile'));
+      if (opt) setProfileCli((c) => ({ ...c, [id]: opt.profile.commandLine(request, w.wallsFound ? null : wallsText(w.walls!.walls)) }));
       change({ type: 'profile', id, result });
       say('info', 'Profile done.');
     } catch (e) { report(e, 'Profile'); } finally { setBusy(null); }
-  }, [client, sourceOf, progress, change, say, report]);
+  }, [client, sourceOf, progress, change, say, report, fieldChoice, optical]);
 
   const runFindWalls = useCallback(async () => {
     const s = sessionRef.current;
@@ -296,12 +338,16 @@ export function App() {
     }
   }, [store, client, progress, change, say, report]);
 
-  const openDemo = useCallback(async (d: DemoEntry) => {
+  const openDemo = useCallback(async (d: DemoEntry, whole = false) => {
     try {
-      const r = await fetch(`./demo/${d.file}`);
-      if (!r.ok) throw new Error(`the demo image could not be loaded (${r.status})`);
-      const b = await r.blob();
-      await addFiles([new File([b], d.file, { type: b.type })]);
+      const files = [];
+      for (const name of whole && d.set ? d.set : [d.file]) {
+        const r = await fetch(`./demo/${name}`);
+        if (!r.ok) throw new Error(`the demo image could not be loaded (${r.status})`);
+        const b = await r.blob();
+        files.push(new File([b], name, { type: b.type }));
+      }
+      await addFiles(files);
     } catch (e) { report(e, 'Demo'); }
   }, [addFiles, report]);
 
@@ -321,8 +367,8 @@ export function App() {
       const t = e.target as HTMLElement;
       if (t.closest('input, textarea, select, [contenteditable]') || e.ctrlKey || e.metaKey || e.altKey) return;
       const k = e.key;
-      if (k === 'Escape') { if (busy) client.cancel(); setDrawing(false); setShowSessions(false); setHelp(false); return; }
-      if (busy) return;
+      if (k === 'Escape') { if (busy) client.cancel(); setDrawing(false); setShowSessions(false); setShowSetups(false); setPrintable(null); setHelp(false); return; }
+      if (busy || screen !== 'images') return;
       const actions: Record<string, () => void> = {
         o: () => void runOrient(), w: () => setDrawing((d) => !d), f: () => void runFindWalls(), p: () => void runProfile(),
         i: () => fileInput.current?.click(), s: () => { setShowSessions((v) => !v); void refreshList(); }, '?': () => setHelp((h) => !h),
@@ -334,7 +380,7 @@ export function App() {
     };
     window.addEventListener('keydown', onKey);
     return () => window.removeEventListener('keydown', onKey);
-  }, [busy, client, runOrient, runFindWalls, runProfile, refreshList, active]);
+  }, [busy, client, runOrient, runFindWalls, runProfile, refreshList, active, screen]);
 
   const setSetting = (c: Partial<AnalysisSettings>) => change({ type: 'settings', change: c });
   const numberField = (label: string, key: 'sigmaPx' | 'bins' | 'stations' | 'coreMax' | 'skinMin', min: number, max: number, step: number, unit = '') => (
@@ -350,6 +396,37 @@ export function App() {
   const profile = work?.profile ?? null;
   const walls: Channel | null = work?.walls ?? null;
   const base = active ? active.name.replace(/\.[^.]+$/, '') : 'result';
+
+  /** The current view as the PNG export draws it (image, shown overlay, walls, scale bar, legend). */
+  const viewPicture = (): ViewPictureInput | null => {
+    if (!shown || !active || shown.imageId !== active.id) return null;
+    const overlay = mode === 'colour' ? (showOptical ? opticalHere!.colour : shown.colour) : mode === 'coherency' ? (showOptical ? opticalHere!.confidence : shown.coherency) : null;
+    const what = overlay ? (mode === 'colour' ? `orientation${showOptical ? ` (${opticalHere!.label})` : `, σ ${settings?.sigmaPx} px`}` : showOptical ? 'confidence' : 'coherency') : 'image';
+    return {
+      image: shown.image, overlay, overlayKind: overlay ? (mode === 'colour' ? 'orientation' : 'coherency') : null, opacity,
+      imageWidth: shown.summary.width, imageHeight: shown.summary.height,
+      pixelSizeUmPerPx: effectivePixelSize(session?.setup ?? null, shown.summary.pixelSizeUmPerPx).umPerPx,
+      walls: walls?.walls ?? null, caption: `${active.name}: ${what}`,
+    };
+  };
+
+  /** A displayable copy of a stored image for the report (browsers show PNG and JPEG, not TIFF). */
+  const pictureOf = useCallback(async (id: string): Promise<string | null> => {
+    const rec = await store.image(id);
+    return rec && /png|jpe?g/i.test(rec.type || rec.name) ? URL.createObjectURL(rec.blob) : null;
+  }, [store]);
+
+  const openReport = async () => {
+    const s = sessionRef.current;
+    if (!s) return;
+    await saver.flush();
+    const pic = viewPicture();
+    let view: { imageId: string; url: string } | null = null;
+    if (pic && active) {
+      try { view = { imageId: active.id, url: URL.createObjectURL(await viewPicturePng(pic)) }; } catch { view = null; }
+    }
+    setPrintable({ content: reportContent(s), view });
+  };
 
   const dropHandlers = {
     onDragOver: (e: React.DragEvent) => { if ([...e.dataTransfer.types].includes('Files')) { e.preventDefault(); setDragOver(true); } },
@@ -380,6 +457,9 @@ export function App() {
         <span className="spacer" />
         <span className={`engine ${engine}`}>{engine === 'starting' ? 'Analysis engine starting…' : engine === 'ready' ? 'Works offline' : 'Analysis engine failed'}</span>
         <button onClick={() => fileInput.current?.click()} title="Shortcut: I">Add images…</button>
+        <button className={screen === 'camera' ? 'on' : ''} aria-pressed={screen === 'camera'} onClick={() => setScreen((v) => (v === 'camera' ? 'images' : 'camera'))}>Camera</button>
+        <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void saver.flush(); setScreen((v) => (v === 'compare' ? 'images' : 'compare')); }}>Compare</button>
+        <button onClick={() => setShowSetups((v) => !v)} data-testid="setup-button" title="The microscope's optical train, pixel size and sample sign">Set-up: {session?.setup?.name ?? 'none'}</button>
         <button onClick={() => { setShowSessions(true); void refreshList(); }} title="Shortcut: S">Sessions</button>
         <button className="quiet" onClick={() => setHelp((h) => !h)} aria-label="Keyboard shortcuts" title="Shortcut: ?">?</button>
         <input ref={fileInput} type="file" accept={ACCEPT} multiple hidden data-testid="file-input"
@@ -408,6 +488,17 @@ export function App() {
         />
       )}
 
+      {printable && (
+        <ReportView content={printable.content} view={printable.view} onClose={() => { if (printable.view) URL.revokeObjectURL(printable.view.url); setPrintable(null); }}
+          picture={pictureOf} />
+      )}
+
+      {showSetups && (
+        <SetupsPanel store={setupStore} applied={session?.setup ?? null} canApply={!!session}
+          onApply={(s) => { change({ type: 'applySetup', setup: s ? applied(s) : null }); say('info', s ? `Set-up "${s.name}" applied to every image of this session.` : 'The set-up was removed from this session.'); }}
+          onError={(m) => say('error', m)} onClose={() => setShowSetups(false)} />
+      )}
+
       {help && (
         <section className="help" aria-label="Keyboard shortcuts">
           <h2>Keyboard shortcuts</h2>
@@ -419,7 +510,12 @@ export function App() {
         </section>
       )}
 
-      {!active ? (
+      {screen === 'compare' ? (
+        <CompareView store={store} current={session} onError={(m) => say('error', m)} onClose={() => setScreen('images')} />
+      ) : screen === 'camera' ? (
+        <CameraView sigmaPx={settings?.sigmaPx ?? 2} weighting={settings?.weighting ?? 'confidence'}
+          onKeep={(file) => addFiles([file])} onClose={() => setScreen('images')} />
+      ) : !active ? (
         <main className="welcome">
           <section className="drop-target">
             <h2>Bring in a microscope image</h2>
@@ -428,7 +524,11 @@ export function App() {
             {demos.length > 0 && (
               <div className="demos">
                 <h3>Or try a demo image</h3>
-                <ul>{demos.map((d) => <li key={d.file}><button onClick={() => void openDemo(d)}>{d.title}</button> <span className="note">{d.about}</span></li>)}</ul>
+                <ul>{demos.map((d) => (
+                  <li key={d.file}><button onClick={() => void openDemo(d)}>{d.title}</button> <span className="note">{d.about}</span>
+                    {d.set && d.set[d.set.length - 1] === d.file && <> <button className="small" onClick={() => void openDemo(d, true)}>Open these {d.set.length} together</button></>}
+                  </li>
+                ))}</ul>
               </div>
             )}
           </section>
@@ -456,23 +556,41 @@ export function App() {
             <div className="toolbar" role="toolbar" aria-label="View">
               <span className="group">
                 Show:
-                {(['none', 'colour', 'coherency', 'glyphs'] as OverlayMode[]).map((m, i) => (
-                  <button key={m} className={mode === m ? 'on' : ''} aria-pressed={mode === m} onClick={() => setMode(m)} title={`Shortcut: ${i + 1}`}>
-                    {m === 'none' ? 'image' : m === 'colour' ? 'orientation' : m === 'coherency' ? 'coherency' : 'lines'}
+                {(['none', 'colour', 'coherency', 'glyphs', ...(showOptical && opticalHere!.retardance ? ['retardance'] : [])] as OverlayMode[]).map((m, i) => (
+                  <button key={m} className={mode === m ? 'on' : ''} aria-pressed={mode === m} onClick={() => setMode(m)} title={m === 'retardance' ? 'Retardance map (colour bar in the reading panel)' : `Shortcut: ${i + 1}`}>
+                    {m === 'none' ? 'image' : m === 'colour' ? 'orientation' : m === 'coherency' ? (showOptical ? 'confidence' : 'coherency') : m === 'retardance' ? 'retardance' : 'lines'}
                   </button>
                 ))}
               </span>
+              {opticalHere && (
+                <span className="group" role="group" aria-label="Field shown and used for the profile">
+                  Field:
+                  <button className={!showOptical ? 'on' : ''} aria-pressed={!showOptical} onClick={() => { setFieldChoice('texture'); if (mode === 'retardance') setMode('colour'); }}>texture</button>
+                  <button className={showOptical ? 'on' : ''} aria-pressed={showOptical} onClick={() => setFieldChoice('optical')}>{opticalHere.label}</button>
+                </span>
+              )}
               <label className="group">opacity <input type="range" min={0} max={1} step={0.05} value={opacity} onChange={(e) => setOpacity(Number(e.target.value))} /></label>
               <span className="group">
                 <button onClick={() => viewer.current?.zoomBy(0.8)} aria-label="Zoom out">−</button>
                 <button onClick={() => viewer.current?.fit()}>Fit</button>
                 <button onClick={() => viewer.current?.zoomBy(1.25)} aria-label="Zoom in">+</button>
               </span>
+              <ViewExports picture={viewPicture()} baseName={base} onError={(m) => say('error', m)}
+                onReport={() => void openReport()}
+                fieldTiff={orient && !showOptical ? async () => {
+                  const src = sourceOf(active.id);
+                  if (!src) throw new Error('the image is no longer in the session');
+                  await client.ensure(src);
+                  // Same description as `retarda orient NAME --field-out FILE.tif`, so the bytes match.
+                  return requestFieldTiff(client, { key: active.id, options: { sigmaPx: Number(orient.options.sigmaPx) }, description: `retarda orient ${active.name}` });
+                } : undefined} />
             </div>
             {shown && shown.imageId === active.id ? (
               <Viewer
                 handle={viewer} image={shown.image} imageWidth={shown.summary.width} imageHeight={shown.summary.height}
-                colour={shown.colour} coherency={shown.coherency} glyphs={shown.glyphs} mode={mode} opacity={opacity}
+                colour={showOptical ? opticalHere!.colour : shown.colour} coherency={showOptical ? opticalHere!.confidence : shown.coherency}
+                glyphs={showOptical ? opticalHere!.glyphs : shown.glyphs} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
+                marks={marks && marks.imageId === active.id ? marks.marks : undefined}
                 walls={walls} drawing={drawing}
                 onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}
                 onDrawingDone={() => setDrawing(false)}
@@ -481,7 +599,10 @@ export function App() {
             {shown && shown.imageId === active.id && (
               <p className="image-facts" data-testid="image-facts">
                 {shown.summary.width} × {shown.summary.height} px, {shown.summary.channels === 1 ? 'grey' : 'RGB'}, {shown.summary.bitDepth}-bit
-                {shown.summary.pixelSizeUmPerPx ? `, ${shown.summary.pixelSizeUmPerPx} µm/px from the file` : ', not calibrated (lengths in px)'}
+                {(() => {
+                  const px = effectivePixelSize(session?.setup ?? null, shown.summary.pixelSizeUmPerPx);
+                  return px.from === 'set-up' ? `, ${Number(px.umPerPx!.toPrecision(4))} µm/px from the set-up "${session!.setup!.name}"` : px.from === 'file' ? `, ${px.umPerPx} µm/px from the file` : ', not calibrated (lengths in px)';
+                })()}
                 {shown.summary.displayNote ? `; ${shown.summary.displayNote}` : ''}
               </p>
             )}
@@ -515,8 +636,15 @@ export function App() {
               )}
             </section>
 
+            <MoreAnalyses
+              ctx={{ client, images: session!.images, activeId: active.id, sourceOf, runJob, disabled: !!busy || engine === 'failed' }}
+              onField={(f) => { setOptical(f); setFieldChoice('optical'); setMode((m) => (m === 'none' || m === 'glyphs' ? 'colour' : m)); }}
+              onMarks={(imageId, m) => setMarks({ imageId, marks: m })}
+            />
+
             <section>
               <h2>Across the channel</h2>
+              <p className="note" data-testid="profile-field">Field: {showOptical ? `${opticalHere!.label} (the reading above)` : 'texture (structure tensor)'}{opticalHere ? '; switch with “Field” above the image.' : ''}</p>
               <p className="buttons">
                 <button className={drawing ? 'on' : ''} aria-pressed={drawing} disabled={!shown} onClick={() => setDrawing((d) => !d)} title="Shortcut: W">{drawing ? 'Cancel drawing' : 'Draw walls'}</button>
                 <button disabled={!!busy || !shown} onClick={() => void runFindWalls()} title="Shortcut: F">Find walls</button>
@@ -530,7 +658,7 @@ export function App() {
               <button className="primary" disabled={!!busy || !walls} onClick={() => void runProfile()} title="Shortcut: P">Profile across the channel</button>
               {profile && <ProfilePlot r={profile} />}
               {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings!)} />}
-              {profile && walls && <p className="cli"><code>{profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls))}</code></p>}
+              {profile && walls && <p className="cli"><code data-testid="profile-cli">{profile.fieldMethod === 'texture' ? profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls)) : profileCli[active.id] ?? `retarda ${profile.fieldMethod === 'plate' ? 'profile --source plate' : profile.fieldMethod === 'plate-pair' ? 'plate2' : 'quad'} … with the reading's options`}</code></p>}
               {profile && (
                 <p className="exports">
                   Save: <button onClick={() => download(`${base}-profile.json`, JSON.stringify(profile, null, 2), 'application/json')}>JSON</button>

@@ -4,11 +4,22 @@
  * and the service worker precaches them. Which images are offered comes from the table in
  * sample-images/README.md (file, what it shows, analysis).
  */
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Plugin } from 'vite';
 
-export interface DemoEntry { file: string; title: string; about: string; analyses: string[] }
+/**
+ * One offered demo image. `set` lists the images that go together for its analysis (the four angles of a
+ * crossed-polariser series; a turned compensator image with the unturned one before it), in order.
+ */
+export interface DemoEntry { file: string; title: string; about: string; analyses: string[]; set?: string[] }
+
+/** Where each analysis is in the app, in the words of its screens. */
+const WHERE: Record<string, string> = {
+  orient: 'Analyse orientation', profile: 'Across the channel', plate: 'More analyses › Polarised colours (one compensator image)',
+  plate2: 'Polarised colours (two compensator images)', quad: 'Polarised colours (crossed polars at several angles)',
+  diameter: 'More analyses › Fibre diameter', calibrate: 'More analyses › Micrometer',
+};
 
 /** The README table's rows whose analysis column names one the app offers. */
 export function demoEntries(sampleDir: string, offered: string[]): DemoEntry[] {
@@ -17,14 +28,32 @@ export function demoEntries(sampleDir: string, offered: string[]): DemoEntry[] {
   const out: DemoEntry[] = [];
   for (const row of rows) {
     const [fileCell, what, analysis] = row.split('|').slice(1).map((c) => c.trim());
-    const files = [...fileCell.matchAll(/`([^`]+)`/g)].map((m) => m[1]).filter((f) => existsSync(join(sampleDir, f)));
-    const analyses = offered.filter((a) => analysis.includes(a));
+    const files = rowFiles(sampleDir, fileCell);
+    // Whole words only: "plate" must not match "plate2".
+    const analyses = offered.filter((a) => new RegExp(`(^|[^\\w-])${a}($|[^\\w-])`).test(analysis));
     if (analyses.length === 0) continue;
+    const title = what.charAt(0).toUpperCase() + what.slice(1);
+    const about = `invented demo scene; try ${analyses.map((a) => WHERE[a] ?? a).join('; ')} (retarda ${analyses.join(', ')})`;
+    // A two-image reading needs the unturned image of the row before; a series needs all its files.
+    const set = analyses.includes('plate2') && out.length ? [out[out.length - 1].file, ...files] : files.length > 1 ? files : undefined;
     for (const file of files) {
-      out.push({ file, title: what.charAt(0).toUpperCase() + what.slice(1), about: `invented demo scene; try: ${analyses.join(', ')}`, analyses });
+      out.push({ file, title: files.length > 1 ? `${title}: ${file}` : title, about, analyses, ...(set ? { set } : {}) });
     }
   }
   return out;
+}
+
+/**
+ * The files a README row names: each `name` that exists; a row written as `first.png` ... `-last.png`
+ * stands for every file of the folder that shares the first one's name up to its last "-" and its extension.
+ */
+function rowFiles(sampleDir: string, cell: string): string[] {
+  const named = [...cell.matchAll(/`([^`]+)`/g)].map((m) => m[1]);
+  if (cell.includes('...') && named.length > 0) {
+    const first = named[0], stem = first.slice(0, first.lastIndexOf('-') + 1), ext = first.slice(first.lastIndexOf('.'));
+    if (stem) return readdirSync(sampleDir).filter((f) => f.startsWith(stem) && f.endsWith(ext)).sort();
+  }
+  return named.filter((f) => existsSync(join(sampleDir, f)));
 }
 
 export function demoImages(sampleDir: string, offered: string[]): Plugin {

@@ -6,7 +6,8 @@
 import { useEffect, useRef } from 'react';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
 
-export function LegendWheel({ size = 132 }: { size?: number }) {
+/** `faint` says what a faint colour means on the map it explains (default: low coherency); null when colours are never faint. */
+export function LegendWheel({ size = 132, faint = 'low coherency' }: { size?: number; faint?: string | null }) {
   const ref = useRef<HTMLCanvasElement>(null);
   useEffect(() => {
     const c = ref.current!;
@@ -56,7 +57,7 @@ export function LegendWheel({ size = 132 }: { size?: number }) {
     <figure className="legend">
       <canvas ref={ref} style={{ width: size, height: size }} role="img"
         aria-label="Colour key: orientation angle from 0 degrees along +x, counter-clockwise positive, period 180 degrees" />
-      <figcaption>Angle from +x (to the right), counter-clockwise positive (arrow); the bar shows 30°. Opposite sides share a colour: 0° = 180°. Faint = low coherency.</figcaption>
+      <figcaption>Angle from +x (to the right), counter-clockwise positive (arrow); the bar shows 30°. Opposite sides share a colour: 0° = 180°.{faint ? ` Faint = ${faint}.` : ''}</figcaption>
     </figure>
   );
 }

@@ -15,7 +15,10 @@ import { orientationColourTable, angleIndex } from '../../src/report/colourMap.t
  */
 export interface Layer { levels: ImageBitmap[]; width: number; height: number; scale: number }
 
-export type OverlayMode = 'none' | 'colour' | 'coherency' | 'glyphs';
+export type OverlayMode = 'none' | 'colour' | 'coherency' | 'glyphs' | 'retardance';
+
+/** A line drawn over the image in image pixels (found fibre edges, station widths), with its colour. */
+export interface Mark { x1: number; y1: number; x2: number; y2: number; colour: string }
 
 export interface ViewerHandle { zoomBy(f: number): void; fit(): void }
 
@@ -25,7 +28,11 @@ interface Props {
   imageHeight: number;
   colour: Layer | null;
   coherency: Layer | null;
+  /** Retardance picture of an optical field, for mode 'retardance'. */
+  retardance?: Layer | null;
   glyphs: Glyph[];
+  /** Lines over the image, drawn in every mode. */
+  marks?: Mark[];
   mode: OverlayMode;
   opacity: number;
   walls: Channel | null;
@@ -101,6 +108,7 @@ export function Viewer(p: Props) {
     drawLayer(p.image, 1);
     if (p.mode === 'colour') drawLayer(p.colour, p.opacity);
     if (p.mode === 'coherency') drawLayer(p.coherency, p.opacity);
+    if (p.mode === 'retardance') drawLayer(p.retardance ?? null, p.opacity);
     if (p.mode === 'glyphs' && p.glyphs.length) {
       const table = orientationColourTable();
       const cell = p.glyphs.length > 1 ? Math.hypot(p.glyphs[1].x - p.glyphs[0].x, p.glyphs[1].y - p.glyphs[0].y) || 8 : 8;
@@ -116,6 +124,14 @@ export function Viewer(p: Props) {
         g.beginPath(); g.moveTo(c0.x - dx, c0.y - dy); g.lineTo(c0.x + dx, c0.y + dy); g.stroke();
       }
     }
+    if (p.marks?.length) {
+      g.lineCap = 'round';
+      for (const m of p.marks) {
+        const a = toScreen(m.x1, m.y1), b = toScreen(m.x2, m.y2);
+        g.strokeStyle = 'rgba(0,0,0,0.7)'; g.lineWidth = 3.5; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(b.x, b.y); g.stroke();
+        g.strokeStyle = m.colour; g.lineWidth = 1.75; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(b.x, b.y); g.stroke();
+      }
+    }
     const segs = p.drawing ? draft : p.walls?.walls ?? [];
     segs.forEach((s, i) => {
       const a = toScreen(s.x1, s.y1), b = toScreen(s.x2, s.y2);
@@ -129,7 +145,7 @@ export function Viewer(p: Props) {
       g.fillStyle = 'rgba(0,0,0,0.8)'; g.fillRect(m.x - tw / 2 - 5, m.y - 24, tw + 10, 19);
       g.fillStyle = WALL_COLOURS[i]; g.fillText(label, m.x - tw / 2, m.y - 10);
     });
-  }, [size, view, p.image, p.colour, p.coherency, p.glyphs, p.mode, p.opacity, p.walls, p.drawing, draft]);
+  }, [size, view, p.image, p.colour, p.coherency, p.retardance, p.glyphs, p.marks, p.mode, p.opacity, p.walls, p.drawing, draft]);
 
   const local = (e: React.PointerEvent | React.WheelEvent) => {
     const r = canvas.current!.getBoundingClientRect();

@@ -5,6 +5,8 @@
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { Channel } from '../../src/channel/index.ts';
 import { EMPTY_WORK, type AnalysisSettings, type ImageMeta, type ImageWork, type SessionRecord } from '../storage/records.ts';
+import type { AppliedSetup } from '../setups/setup.ts';
+import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 
 export type SessionAction =
   | { type: 'replace'; session: SessionRecord }
@@ -15,7 +17,11 @@ export type SessionAction =
   | { type: 'settings'; change: Partial<AnalysisSettings> }
   | { type: 'walls'; id: string; channel: Channel | null; found: boolean }
   | { type: 'orient'; id: string; result: OrientResult }
-  | { type: 'profile'; id: string; result: ProfileResult };
+  | { type: 'profile'; id: string; result: ProfileResult }
+  /** Applies a set-up (optical train, pixel size, sign) to every image of the session; null removes it. */
+  | { type: 'applySetup'; setup: AppliedSetup | null }
+  /** Keeps an image's fibre diameters with the session (shown in the compare view). */
+  | { type: 'diameter'; id: string; result: DiameterDocument | null };
 
 function withWork(s: SessionRecord, id: string, change: Partial<ImageWork>): SessionRecord {
   if (!s.images.some((i) => i.id === id)) return s;
@@ -45,6 +51,8 @@ function apply(s: SessionRecord, a: SessionAction): SessionRecord {
     case 'walls': return withWork(s, a.id, { walls: a.channel, wallsFound: a.found, profile: null });
     case 'orient': return withWork(s, a.id, { orient: a.result });
     case 'profile': return withWork(s, a.id, { profile: a.result, walls: { walls: a.result.walls }, wallsFound: a.result.wallsFound });
+    case 'applySetup': return { ...s, setup: a.setup };
+    case 'diameter': return withWork(s, a.id, { diameter: a.result });
   }
 }
 

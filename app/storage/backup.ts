@@ -4,6 +4,8 @@
  */
 import { restoreImage, restoreSession, STORAGE_SCHEMA_VERSION } from './records.ts';
 import { ASIDE_PREFIX, IMAGE_PREFIX, SESSION_PREFIX, type SessionStore } from './store.ts';
+import { SETUP_PREFIX } from './setups.ts';
+import { restoreSetup } from '../setups/setup.ts';
 
 export const BACKUP_KIND = 'retarda-backup';
 
@@ -47,7 +49,7 @@ export async function exportBackup(store: SessionStore, now = new Date()): Promi
   const records: { key: string; value: unknown }[] = [];
   for (const [k, v] of await store.kv.entries()) {
     const key = String(k);
-    if (key.startsWith(SESSION_PREFIX) || key.startsWith(IMAGE_PREFIX) || key.startsWith(ASIDE_PREFIX)) records.push({ key, value: await toJsonSafe(v) });
+    if (key.startsWith(SESSION_PREFIX) || key.startsWith(IMAGE_PREFIX) || key.startsWith(ASIDE_PREFIX) || key.startsWith(SETUP_PREFIX)) records.push({ key, value: await toJsonSafe(v) });
   }
   return JSON.stringify({ schemaVersion: STORAGE_SCHEMA_VERSION, kind: BACKUP_KIND, exportedAt: now.toISOString(), records });
 }
@@ -56,7 +58,7 @@ export class BackupError extends Error {
   constructor(message: string) { super(message); this.name = 'BackupError'; }
 }
 
-export interface ImportReport { sessions: number; images: number; setAside: number; notes: string[] }
+export interface ImportReport { sessions: number; images: number; setups: number; setAside: number; notes: string[] }
 
 /**
  * Adds a backup's contents: sessions and images get new ids (so nothing present is replaced),
@@ -74,7 +76,7 @@ export async function importBackup(store: SessionStore, text: string, makeId: ()
   if (typeof d.schemaVersion !== 'number' || d.schemaVersion > STORAGE_SCHEMA_VERSION) {
     throw new BackupError(`this backup was made by a newer version of the app (schemaVersion ${String(d.schemaVersion)}). Update the app, then import it`);
   }
-  const report: ImportReport = { sessions: 0, images: 0, setAside: 0, notes: [] };
+  const report: ImportReport = { sessions: 0, images: 0, setups: 0, setAside: 0, notes: [] };
   const imageIds = new Map<string, string>();
   const entries = (d.records as { key?: unknown; value?: unknown }[]).filter((r) => typeof r?.key === 'string');
   const kv = store.kv;
@@ -98,6 +100,16 @@ export async function importBackup(store: SessionStore, text: string, makeId: ()
     const key = r.key as string;
     const value = fromJsonSafe(r.value);
     if (key.startsWith(ASIDE_PREFIX)) { await kv.set(`${key}:imported:${stamp}`, value); report.setAside++; continue; }
+    if (key.startsWith(SETUP_PREFIX)) {
+      const su = restoreSetup(value);
+      if (!su.ok) { await aside(key, value, su.reason); continue; }
+      // A set-up already here under the same id is kept; the backup's copy comes in under a new id.
+      const taken = (await kv.get(SETUP_PREFIX + su.value.id)) !== undefined;
+      const id = taken ? makeId() : su.value.id;
+      await kv.set(SETUP_PREFIX + id, { ...su.value, id, name: taken ? `${su.value.name} (restored)` : su.value.name });
+      report.setups++;
+      continue;
+    }
     if (!key.startsWith(SESSION_PREFIX)) continue;
     const s = restoreSession(value);
     if (!s.ok) { await aside(key, value, s.reason); continue; }

@@ -3,3 +3,4 @@ export { createSessionStore, StorageError, type KeyValue, type SessionStore, typ
 export { createSaver, type Saver, type SaverOptions } from './saver.ts';
 export { exportBackup, importBackup, BackupError, bytesToBase64, base64ToBytes, type ImportReport } from './backup.ts';
 export { browserKeyValue } from './idb.ts';
+export { createSetupStore, SETUP_PREFIX, type SetupStore, type SetupListing } from './setups.ts';

@@ -4,8 +4,10 @@
  * kept aside by the store), records from a newer version are kept aside untouched.
  */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
+import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
 
 /** Version of every stored record; bump when a field changes meaning and add the upgrade in restore. */
 export const STORAGE_SCHEMA_VERSION = 1;
@@ -35,6 +37,8 @@ export interface ImageWork {
   wallsFound: boolean;
   orient: OrientResult | null;
   profile: ProfileResult | null;
+  /** Fibre diameters measured on the image (`retarda diameter`'s document); absent in older records. */
+  diameter?: DiameterDocument | null;
 }
 
 export interface SessionRecord {
@@ -48,6 +52,8 @@ export interface SessionRecord {
   activeImageId: string | null;
   settings: AnalysisSettings;
   work: Record<string, ImageWork>;
+  /** The set-up applied to the session's images (a copy of its values when applied); null = none. */
+  setup: AppliedSetup | null;
 }
 
 export const EMPTY_WORK: ImageWork = { walls: null, wallsFound: false, orient: null, profile: null };
@@ -133,20 +139,23 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
     const walls = w.walls == null ? null : restoreChannel(w.walls);
     const orient = w.orient == null ? null : restoreResult<OrientResult>(w.orient, 'orient');
     const profile = w.profile == null ? null : restoreResult<ProfileResult>(w.profile, 'profile');
-    if ((w.walls != null && !walls) || (w.orient != null && !orient) || (w.profile != null && !profile)) {
+    const diameter = w.diameter == null ? null : restoreResult<DiameterDocument>(w.diameter, 'diameter');
+    if ((w.walls != null && !walls) || (w.orient != null && !orient) || (w.profile != null && !profile) || (w.diameter != null && !diameter)) {
       notes.push(`part of the work on ${img.name} was unreadable`);
       lossy = true;
     }
-    work[img.id] = { walls, wallsFound: w.wallsFound === true, orient, profile };
+    work[img.id] = { walls, wallsFound: w.wallsFound === true, orient, profile, ...(diameter ? { diameter } : {}) };
   }
   const active = typeof raw.activeImageId === 'string' && images.some((i) => i.id === raw.activeImageId) ? raw.activeImageId : images[0]?.id ?? null;
+  const setup = raw.setup == null ? null : restoreApplied(raw.setup);
+  if (raw.setup != null && !setup) { notes.push('the applied set-up was unreadable'); lossy = true; }
   const now = new Date().toISOString();
   return {
     ok: true, notes, lossy,
     value: {
       schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
       createdAt: str(raw.createdAt, now), updatedAt: str(raw.updatedAt, now), images, activeImageId: active,
-      settings: restoreSettings(raw.settings, notes), work,
+      settings: restoreSettings(raw.settings, notes), work, setup,
     },
   };
 }
@@ -166,6 +175,6 @@ export function newSession(id: string, name: string, now = new Date()): SessionR
   const t = now.toISOString();
   return {
     schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id, name, createdAt: t, updatedAt: t,
-    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {},
+    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {}, setup: null,
   };
 }

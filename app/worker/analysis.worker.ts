@@ -4,18 +4,24 @@
  * image are kept here, so a profile after an orientation run does not redo the field.
  */
 /// <reference lib="webworker" />
-import { analyseOrientation, analyseProfile, type OrientOptions } from '../../src/analyses/index.ts';
+import {
+  analyseOrientation, analyseProfile, analysePlate, analysePlatePair, analyseFourAngle, analyseDiameter, analyseMicrometer,
+  fibreNumbersResult, readPlateField, type OrientOptions, type OpticsAnalysis,
+} from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
 import { isInputError } from '../../src/common/errors.ts';
 import { loadCv } from '../../src/cv/opencv.ts';
 import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
 import type { OrientationField } from '../../src/orientation/index.ts';
-import { fieldGlyphs, fieldPictures, imagePicture } from './pictures.ts';
-import type { CommandName, CommandTable, ErrorInfo, Reply, Request } from './protocol.ts';
+import { fieldGlyphs, fieldPictures, imagePicture, retardancePicture } from './pictures.ts';
+import { retardanceRange } from './retardanceColours.ts';
+import type { CommandName, CommandTable, ErrorInfo, OpticsReply, ProfileSource, Reply, Request } from './protocol.ts';
 
 const scope = self as unknown as DedicatedWorkerGlobalScope;
 const images = new Map<string, Image>();
 const fields = new Map<string, { optionsKey: string; field: OrientationField }>();
+/** The last compensator field read for a channel profile, per image (`profile --source plate`). */
+const plateFields = new Map<string, { optionsKey: string; field: OrientationField }>();
 
 function post(reply: Reply, transfer: Transferable[] = []): void {
   scope.postMessage(reply, transfer);
@@ -41,12 +47,37 @@ async function textureField(key: string, options: OrientOptions, progress: Progr
   return field;
 }
 
+/** The plate field `retarda profile --source plate` reads: the plate options plus the profile's axis for the mirror choice. */
+function plateFieldFor(key: string, source: Extract<ProfileSource, { kind: 'plate' }>, axisDeg: number | undefined, progress: Progress): OrientationField {
+  const optionsKey = JSON.stringify({ ...source.options, axisDeg });
+  const cached = plateFields.get(key);
+  if (cached && cached.optionsKey === optionsKey) return cached.field;
+  progress('reading the compensator colours', 0.2);
+  const { field } = readPlateField(imageOf(key), { ...source.options, axisDeg });
+  plateFields.set(key, { optionsKey, field });
+  return field;
+}
+
+/** Pictures of an optical field to go with its result; the bitmaps are transferred. */
+async function opticsReply(a: OpticsAnalysis, progress: Progress): Promise<{ value: OpticsReply; transfer: Transferable[] }> {
+  progress('drawing the maps', 0.85);
+  const { colour, coherency: confidence } = await fieldPictures(a.field, 'full');
+  const range = a.field.retardanceNm ? retardanceRange(a.field.retardanceNm, a.field.mask) : null;
+  const retardance = range ? await retardancePicture(a.field, range) : null;
+  const glyphs = fieldGlyphs(a.field);
+  return {
+    value: { result: a.result, colour, confidence, retardance, retardanceRangeNm: range, glyphs },
+    transfer: [...colour.levels, ...confidence.levels, ...(retardance?.levels ?? [])],
+  };
+}
+
 const handlers: { [K in CommandName]: Handler<K> } = {
   async decode({ key, name, bytes, page }, progress) {
     progress('reading the file', 0.1);
     const img = decodeImage(new Uint8Array(bytes), name, page ?? 0);
     images.set(key, img);
     fields.delete(key);
+    plateFields.delete(key);
     progress('making the picture', 0.8);
     const { picture, note } = await imagePicture(img);
     return {
@@ -70,12 +101,44 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     return { value: { result, colour, coherency, glyphs }, transfer: [...colour.levels, ...coherency.levels] };
   },
 
-  async profile({ key, texture, request }, progress) {
+  async profile({ key, texture, request, source }, progress) {
     const img = imageOf(key);
-    const field = await textureField(key, texture, progress);
+    // Same fields as `retarda profile --source texture|plate`.
+    const field = source?.kind === 'plate' ? plateFieldFor(key, source, request.axisDeg, progress) : await textureField(key, texture, progress);
     progress(request.autoWalls ? 'finding walls and the profile' : 'profile across the channel', 0.6);
     // Same calls as `retarda profile`: the texture field, then analyseProfile.
     return { value: await analyseProfile(img, field, request), transfer: [] };
+  },
+
+  // Each optical command runs exactly the analysis its `retarda` subcommand runs.
+  async plate({ key, options }, progress) {
+    progress(options.resolveMirror ? 'reading the colours and the texture' : 'reading the compensator colours', 0.1);
+    return opticsReply(await analysePlate(imageOf(key), options), progress);
+  },
+
+  async plate2({ key, keyB, options }, progress) {
+    progress('reading both compensator images', 0.1);
+    return opticsReply(await analysePlatePair(imageOf(key), imageOf(keyB), options), progress);
+  },
+
+  async quad({ keys, plateKey, options }, progress) {
+    progress('fitting the angle series', 0.1);
+    const a = await analyseFourAngle(keys.map(imageOf), { ...options, plate: plateKey ? imageOf(plateKey) : undefined });
+    return opticsReply(a, progress);
+  },
+
+  async diameter({ key, options }, progress) {
+    progress('finding the fibres and their edges', 0.1);
+    return { value: analyseDiameter(imageOf(key), options), transfer: [] };
+  },
+
+  async micrometer({ key, options }, progress) {
+    progress('measuring the ruler period', 0.1);
+    return { value: analyseMicrometer(imageOf(key), options), transfer: [] };
+  },
+
+  async fibreNumbers({ request }) {
+    return { value: fibreNumbersResult(request), transfer: [] };
   },
 
   async findWalls({ key }, progress) {
@@ -87,6 +150,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   async forget({ key }) {
     const had = images.delete(key);
     fields.delete(key);
+    plateFields.delete(key);
     return { value: { forgotten: had }, transfer: [] };
   },
 };

@@ -7,6 +7,7 @@ import type { Image } from '../../src/image/index.ts';
 import type { OrientationField } from '../../src/orientation/index.ts';
 import { orientationRgba } from '../../src/report/colourMap.ts';
 import type { Glyph, Picture } from './protocol.ts';
+import { retardanceColourTable, retardanceIndex } from './retardanceColours.ts';
 
 /** Longest side of a picture; a browser canvas holds this comfortably on a tablet. */
 const MAX_SIDE = 4096;
@@ -63,10 +64,14 @@ export async function imagePicture(img: Image): Promise<{ picture: Picture; note
   return { picture, note: notes.join('; ') };
 }
 
-/** Orientation colour (opacity = coherency) and coherency grey pictures of a field. */
-export async function fieldPictures(f: OrientationField): Promise<{ colour: Picture; coherency: Picture }> {
+/**
+ * Orientation colour and coherency (confidence) grey pictures of a field. The colour's opacity follows the
+ * confidence (`opacity: 'confidence'`, texture fields) or is full on every usable pixel (`'full'`: optical
+ * readings, whose match confidence is shown on its own picture).
+ */
+export async function fieldPictures(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<{ colour: Picture; coherency: Picture }> {
   const step = pictureStep(f.width, f.height);
-  const full = orientationRgba(f.angleRad, f.confidence, f.mask);
+  const full = orientationRgba(f.angleRad, opacity === 'full' ? new Float32Array(f.mask.length).fill(1) : f.confidence, f.mask);
   const colour = await sampled(f.width, f.height, step, (i, o, out) => {
     out[o] = full[4 * i]; out[o + 1] = full[4 * i + 1]; out[o + 2] = full[4 * i + 2]; out[o + 3] = full[4 * i + 3];
   });
@@ -101,4 +106,15 @@ export function fieldGlyphs(f: OrientationField, across = 40): Glyph[] {
     }
   }
   return glyphs;
+}
+
+/** Retardance picture of an optical field over a colour-bar range (masked pixels transparent). */
+export async function retardancePicture(f: OrientationField, rangeNm: [number, number]): Promise<Picture | null> {
+  const r = f.retardanceNm;
+  if (!r) return null;
+  const table = retardanceColourTable();
+  return sampled(f.width, f.height, pictureStep(f.width, f.height), (i, o, out) => {
+    const k = 3 * retardanceIndex(r[i], rangeNm);
+    out[o] = table[k]; out[o + 1] = table[k + 1]; out[o + 2] = table[k + 2]; out[o + 3] = f.mask[i] ? 255 : 0;
+  });
 }

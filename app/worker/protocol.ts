@@ -2,7 +2,12 @@
  * Messages between the page and the analysis worker. The page sends one command at a time per id;
  * the worker answers with progress messages and then exactly one 'done' or 'error'.
  */
-import type { OrientOptions, OrientResult, ProfileRequest, ProfileResult } from '../../src/analyses/index.ts';
+import type {
+  OrientOptions, OrientResult, ProfileRequest, ProfileResult, PlateOptions, PlatePairAnalysisOptions, FourAngleAnalysisOptions,
+  OpticsResult, DiameterAnalysisOptions, DiameterDocument, MicrometerAnalysisOptions, MicrometerDocument, FibreNumbersRequest,
+  FibreNumbersResult, PlateReadingOptions,
+} from '../../src/analyses/index.ts';
+import type { MatchSpace } from '../../src/optics/index.ts';
 import type { Channel } from '../../src/channel/index.ts';
 
 /** Which decoded image a command works on: the worker keeps decoded images by key. */
@@ -34,10 +39,38 @@ export interface OrientReply {
   glyphs: Glyph[];
 }
 
+/** An optical reading (plate, plate pair, four-angle set) with the pictures of its field. */
+export interface OpticsReply {
+  result: OpticsResult;
+  /** Orientation colour (cyclic map), opacity from the confidence. */
+  colour: Picture;
+  /** Confidence as grey (black 0, white 1). */
+  confidence: Picture;
+  /** Retardance colour picture (retardanceColourTable over rangeNm), when the reader gives retardance. */
+  retardance: Picture | null;
+  /** Colour-bar range of the retardance picture, nm. */
+  retardanceRangeNm: [number, number] | null;
+  glyphs: Glyph[];
+}
+
+/** Which orientation field a channel profile uses: the texture field, or one compensator image (`profile --source plate`). */
+export type ProfileSource =
+  | { kind: 'texture' }
+  | { kind: 'plate'; options: PlateReadingOptions & { match?: MatchSpace } };
+
+/** Settings of an optical reading without the images (those are named by key). */
+export type FourAngleSettings = Omit<FourAngleAnalysisOptions, 'plate' | 'flatField' | 'dark'>;
+
 export interface CommandTable {
   decode: { args: { key: string; name: string; bytes: ArrayBuffer; page?: number }; reply: DecodeSummary };
   orient: { args: ImageRef & { options: OrientOptions }; reply: OrientReply };
-  profile: { args: ImageRef & { texture: OrientOptions; request: ProfileRequest }; reply: ProfileResult };
+  profile: { args: ImageRef & { texture: OrientOptions; request: ProfileRequest; source?: ProfileSource }; reply: ProfileResult };
+  plate: { args: ImageRef & { options: PlateOptions }; reply: OpticsReply };
+  plate2: { args: ImageRef & { keyB: string; options: PlatePairAnalysisOptions }; reply: OpticsReply };
+  quad: { args: { keys: string[]; plateKey?: string; options: FourAngleSettings }; reply: OpticsReply };
+  diameter: { args: ImageRef & { options: DiameterAnalysisOptions }; reply: DiameterDocument };
+  micrometer: { args: ImageRef & { options: MicrometerAnalysisOptions }; reply: MicrometerDocument };
+  fibreNumbers: { args: { request: FibreNumbersRequest }; reply: FibreNumbersResult };
   findWalls: { args: ImageRef; reply: { channel: Channel; strength: [number, number] } };
   forget: { args: ImageRef; reply: { forgotten: boolean } };
 }

@@ -6,3 +6,17 @@ export type { OrientOptions, OrientResult } from './orient.ts';
 export { analyseOrientation, orientResult } from './orient.ts';
 export type { ProfileRequest, ProfileResult } from './profile.ts';
 export { analyseProfile, resolveChannel } from './profile.ts';
+export type {
+  TrainOptions, PlateReadingOptions, OpticsSummaryOptions, PlateOptions, PlatePairAnalysisOptions, FourAngleAnalysisOptions,
+  ConfidenceStats, OpticsResult, OpticsAnalysis,
+} from './optics.ts';
+export {
+  analysePlate, analysePlatePair, analyseFourAngle, readPlateField, opticsResult, confidenceStats, retardanceMedian,
+  calibrationJson, trainOf, DEFAULT_ANGLES_DEG,
+} from './optics.ts';
+export type { DiameterAnalysisOptions, DiameterDocument } from './diameter.ts';
+export { analyseDiameter } from './diameter.ts';
+export type { SamplingCheck, MicrometerAnalysisOptions, MicrometerDocument, OpticsCalibrationDocument } from './micrometer.ts';
+export { analyseMicrometer, analyseOpticsCalibration } from './micrometer.ts';
+export type { FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, TenacityUnit } from './fibreNumbers.ts';
+export { fibreNumbersResult } from './fibreNumbers.ts';

@@ -143,7 +143,9 @@ export function stationStats(runs: number[][], unit: 'station' | 'run' = 'statio
     const mm = runMeans.reduce((a, b) => a + b, 0) / k;
     const sdMeans = Math.sqrt(runMeans.reduce((a, b) => a + (b - mm) ** 2, 0) / (k - 1));
     const half = (studentTQuantile(0.975, k - 1) * sdMeans) / Math.sqrt(k);
-    return { ...stats, ciLow: mean - half, ciHigh: mean + half, nEffective: k };
+    // Each fibre counts once (as each measured fibre does in the projection-microscope standards), so
+    // the mean and its interval are those of the fibre means.
+    return { ...stats, mean: mm, cv: mm !== 0 ? sd / mm : null, ciLow: mm - half, ciHigh: mm + half, nEffective: k };
   }
   const rUsed = Math.min(Math.max(r1 ?? 0, 0), 0.99);
   const nEff = Math.max(2, (n * (1 - rUsed)) / (1 + rUsed));

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { defaultStep, framePng, planReadout, RateMeter, readoutHaloPx, sizeSteps } from '../../app/camera/frames.ts';
+import { defaultStep, frameTiff, planReadout, RateMeter, readoutHaloPx, sizeSteps } from '../../app/camera/frames.ts';
 import { LiveReadout, type ReadoutEngine } from '../../app/camera/liveReadout.ts';
 import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
-import { decodeImage } from '../../src/image/index.ts';
+import { decodeImage, makeImage, toGrey } from '../../src/image/index.ts';
 import type { OrientResult } from '../../src/analyses/index.ts';
 
 describe('planReadout', () => {
@@ -53,20 +53,21 @@ describe('readout sizes', () => {
   });
 });
 
-describe('framePng', () => {
-  it('gives a PNG (RFC 2083 signature) that the image decoder reads back to the same grey values / 255', () => {
+describe('frameTiff', () => {
+  it('gives a float TIFF whose grey plane equals toGrey of the same pixels as an 8-bit RGB image', () => {
     const w = 5, h = 3, rgba = new Uint8ClampedArray(w * h * 4);
-    for (let i = 0; i < w * h; i++) rgba.set([i * 10, i * 10, i * 10, 255], 4 * i);
-    const png = framePng(rgba, w, h);
-    // PNG signature, RFC 2083 §3.1
-    expect([...png.subarray(0, 8)]).toEqual([137, 80, 78, 71, 13, 10, 26, 10]);
-    const img = decodeImage(png, 'frame.png');
-    expect([img.width, img.height, img.channels, img.bitDepth]).toEqual([5, 3, 3, 8]);
-    expect(img.planes[1][7]).toBeCloseTo(70 / 255, 6);
+    for (let i = 0; i < w * h; i++) rgba.set([i * 10, 255 - i * 7, (i * 37) % 256, 255], 4 * i);
+    const img = decodeImage(frameTiff(rgba, w, h), 'frame.tif');
+    expect([img.width, img.height, img.channels, img.bitDepth]).toEqual([5, 3, 1, 32]);
+    const planes = [0, 1, 2].map((c) => Float32Array.from({ length: w * h }, (_, i) => rgba[4 * i + c] / 255));
+    const rgb = makeImage({ width: w, height: h, channels: 3, planes, bitDepth: 8, encoding: 'srgb', source: { name: 'rgb' } });
+    // Rec. 709 luma, ITU-R BT.709 item 3.2: 0.2126 R + 0.7152 G + 0.0722 B
+    expect(Array.from(img.planes[0])).toEqual(Array.from(toGrey(rgb).data));
+    expect(img.planes[0][1]).toBeCloseTo(0.2126 * 10 / 255 + 0.7152 * 248 / 255 + 0.0722 * 37 / 255, 6);
   });
 
   it('refuses pixels that do not match the size', () => {
-    expect(() => framePng(new Uint8ClampedArray(10), 2, 2)).toThrow(/needs 16/);
+    expect(() => frameTiff(new Uint8ClampedArray(10), 2, 2)).toThrow(/needs 16/);
   });
 });
 
@@ -104,13 +105,14 @@ describe('LiveReadout', () => {
     const advance = async (ms: number) => {
       const end = clock + ms;
       while (true) {
+        // let every loop run up to its next wait (grabs, decodes and calls are all promises)
+        await new Promise((r) => setImmediate(r));
         waiters.sort((a, b) => a.at - b.at);
         const next = waiters[0];
         if (!next || next.at > end) break;
         waiters.shift();
         clock = next.at;
         next.resolve();
-        for (let i = 0; i < 5; i++) await Promise.resolve();
       }
       clock = end;
     };
@@ -140,7 +142,7 @@ describe('LiveReadout', () => {
     const plan = { source: { x: 0, y: 0, w: 2, h: 2 }, width: 2, height: 2, step: 1, region: null };
     const live = new LiveReadout({
       engines: f.engines,
-      grab: () => { f.nextFrame(); return { rgba: new Uint8ClampedArray(16), width: 2, height: 2, plan }; },
+      grab: async () => { f.nextFrame(); return { rgba: new Uint8ClampedArray(16), width: 2, height: 2, plan }; },
       settings: () => ({ sigmaPx: 2, weighting: 'confidence', replicates: 10 }),
       onReading: (r) => shown.push({ worker: r.worker, grabbedAt: r.grabbedAt }),
       onError: (m) => { throw new Error(m); },

@@ -121,7 +121,7 @@ describe('reportContent', () => {
 
   it('states the calibration: not calibrated, from the file, or from the applied set-up', async () => {
     const { s } = await session();
-    expect(reportContent(s).images[0].calibration).toBe('not calibrated: lengths in pixels');
+    expect(reportContent(s).images[0].calibration).toBe('not calibrated (lengths in pixels)');
     expect(reportContent(s).images[1].calibration).toBe('0.5 µm/px from the file\'s resolution tags');
     expect(reportContent(s).setup).toBeNull();
     const su = { ...newSetup('x', 'Bench 2', at), pixelSize: { source: 'typed' as const, pixelSizeUmPerPx: 0.345 } };

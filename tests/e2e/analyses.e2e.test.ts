@@ -154,6 +154,11 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByLabel('two compensator images, optics turned 45°').check();
     const b = page.getByTestId('plate2-image-b');
     expect(await b.locator('option:checked').textContent()).toBe(turned.file);
+    // Stop works: the worker is ended, the page says so, and the next run starts a fresh one.
+    await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
+    await page.getByRole('button', { name: 'Stop (Esc)' }).click();
+    await page.getByText('Two-image reading stopped.').waitFor({ timeout: 10_000 });
+    expect(await page.getByTestId('optics-results').count()).toBe(0);
     await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
     await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
     await idle();
@@ -165,7 +170,24 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('optics-shift')).toBe(formatCell((result.extra.registration as { shiftPx: number }).shiftPx));
     expect(await text('optics-ambiguity')).toContain('full orientation');
     expect(await text('optics-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file}`);
-  }, 180_000);
+
+    // The channel profile on this field is the one `retarda plate2 A B --auto-walls ...` prints.
+    expect(await text('profile-field')).toContain('two compensator images');
+    await page.getByRole('button', { name: 'Find walls' }).click();
+    await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
+    await idle();
+    await page.getByRole('button', { name: 'Profile across the channel' }).click();
+    await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot('25b-plate-pair-profile');
+    const request = { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' as const };
+    const withProfile = await analysePlatePair(load(turned.set![0]), load(turned.file), { compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', turnDeg: 45, profile: request });
+    const p = withProfile.result.profile!;
+    expect(p.fieldMethod).toBe('plate-pair');
+    expect(await text('core')).toBe(formatCell(p.core.order));
+    expect(await text('skin')).toBe(formatCell(p.skin.order));
+    expect(await text('profile-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file} --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --weighting confidence`);
+  }, 240_000);
 
   it('the four-angle set takes four images and their angles', async () => {
     await newSession();

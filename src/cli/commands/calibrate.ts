@@ -1,35 +1,26 @@
-import { SCHEMA_VERSION } from '../../analyses/index.ts';
-import { calibrateFromMicrometer, rayleighResolutionUm, umPerPxFromOptics } from '../../calibrate/index.ts';
+import { SCHEMA_VERSION, analyseMicrometer, analyseOpticsCalibration } from '../../analyses/index.ts';
+import { umPerPxFromOptics, type OpticsInput } from '../../calibrate/index.ts';
 import { InputError } from '../../common/errors.ts';
-import { toGrey } from '../../image/index.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatPairs, formatTable } from '../format.ts';
 import { loadImageFiles } from '../io.ts';
 
-const UNCERTAINTY_KIND = 'relative standard uncertainty (k = 1) of umPerPx from the least-squares line fit';
-
-function opticsFrom(a: ParsedArgs): number | null {
+function opticsInputFrom(a: ParsedArgs): OpticsInput | null {
   const pixel = numberOpt(a, 'camera-pixel-um');
   const objective = numberOpt(a, 'objective-mag');
   if (pixel === undefined && objective === undefined) return null;
   if (pixel === undefined || objective === undefined) {
     throw new InputError('the optics need both --camera-pixel-um and --objective-mag');
   }
-  return umPerPxFromOptics({
+  return {
     cameraPixelUm: pixel, objectiveMagnification: objective, intermediateMagnification: numberOpt(a, 'adapter-mag'),
     binning: numberOpt(a, 'binning'),
-  });
+  };
 }
 
-/** Sampling advice: a pixel larger than half the Rayleigh resolution under-samples the optics. */
-function samplingWarning(a: ParsedArgs, umPerPx: number): string[] {
-  const na = numberOpt(a, 'na');
-  if (na === undefined) return [];
-  const r = rayleighResolutionUm(numberOpt(a, 'wavelength-nm') ?? 550, na);
-  return umPerPx > r / 2
-    ? [`pixel ${umPerPx.toPrecision(4)} um is larger than half the Rayleigh resolution (${(r / 2).toPrecision(4)} um): the image is under-sampled`]
-    : [];
+function samplingFrom(a: ParsedArgs) {
+  return { na: numberOpt(a, 'na'), wavelengthNm: numberOpt(a, 'wavelength-nm') };
 }
 
 export const calibrateCommand: Command = {
@@ -47,7 +38,8 @@ export const calibrateCommand: Command = {
     { name: 'wavelength-nm', kind: 'number', help: 'wavelength for the sampling check, nm', defaultText: '550' },
   ],
   async run(a) {
-    const optics = opticsFrom(a);
+    const opticsInput = opticsInputFrom(a);
+    const optics = opticsInput ? umPerPxFromOptics(opticsInput) : null;
     const polarity = stringOpt(a, 'polarity');
     if (polarity !== undefined && polarity !== 'auto' && polarity !== 'dark' && polarity !== 'bright') {
       throw new InputError(`--polarity must be auto, dark or bright, got "${polarity}"`);
@@ -57,9 +49,8 @@ export const calibrateCommand: Command = {
         throw new InputError('no micrometer image and no optics given',
           'Give IMAGE --division-um D, or --camera-pixel-um P --objective-mag M');
       }
-      const warnings = samplingWarning(a, optics);
-      const doc = { schemaVersion: SCHEMA_VERSION, analysis: 'calibrate', method: 'optics', umPerPx: optics,
-        uncertainty: null, uncertaintyUmPerPx: null, periodPx: null, divisions: null, warnings };
+      const doc = analyseOpticsCalibration({ ...opticsInput!, ...samplingFrom(a) });
+      const warnings = doc.warnings;
       return {
         json: doc, table: formatPairs([['method', 'optics'], ['um per px', optics]]),
         csvRows: [{ method: 'optics', umPerPx: optics }], warnings,
@@ -70,31 +61,14 @@ export const calibrateCommand: Command = {
       throw new InputError('--division-um is needed with a micrometer image', 'Give the division spacing, e.g. --division-um 10');
     }
     const images = await loadImageFiles(a.positionals);
+    const options = { divisionUm, polarity: polarity as 'auto' | 'dark' | 'bright' | undefined, opticsUmPerPx: optics, ...samplingFrom(a) };
     const docs = images.map((img) => {
-      let c;
       try {
-        c = calibrateFromMicrometer(toGrey(img), { divisionUm, polarity: polarity as 'auto' | 'dark' | 'bright' | undefined });
+        return analyseMicrometer(img, options);
       } catch (e) {
         if (e instanceof InputError && images.length > 1) throw new InputError(`${img.source.name}: ${e.message}`);
         throw e;
       }
-      const warnings = [...c.warnings, ...samplingWarning(a, c.umPerPx)];
-      let opticsRatio: number | null = null;
-      if (optics !== null) {
-        opticsRatio = c.umPerPx / optics;
-        if (Math.abs(opticsRatio - 1) > 0.02) {
-          warnings.push(`the micrometer gives ${c.umPerPx.toPrecision(5)} um/px but the optics give ${optics.toPrecision(5)} ` +
-            `(${((opticsRatio - 1) * 100).toFixed(1)} %): check the objective, adapter and binning`);
-        }
-      }
-      return {
-        schemaVersion: SCHEMA_VERSION, analysis: 'calibrate', method: 'micrometer', source: img.source.name,
-        width: img.width, height: img.height, umPerPx: c.umPerPx, uncertainty: c.relativeUncertainty,
-        uncertaintyKind: UNCERTAINTY_KIND, uncertaintyUmPerPx: c.uncertaintyUmPerPx, periodPx: c.periodPx,
-        periodStdErrPx: c.periodStdErrPx, divisions: c.divisions, lines: c.lines, rejectedLines: c.rejectedLines,
-        rmsResidualPx: c.rmsResidualPx, linesDeg: c.linesDeg, polarity: c.polarity, divisionUm: c.divisionUm,
-        opticsUmPerPx: optics, opticsRatio, warnings,
-      };
     });
     const table = formatTable(
       ['image', 'um/px', 'u(um/px)', 'rel u', 'period px', 'divisions', 'lines deg'],

@@ -1,7 +1,5 @@
-import { SCHEMA_VERSION } from '../../analyses/index.ts';
+import { SCHEMA_VERSION, analyseDiameter } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
-import { measureFibreDiameters, type DiameterResult } from '../../fibre/index.ts';
-import { toGrey } from '../../image/index.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
@@ -15,35 +13,6 @@ function polarityFrom(a: ParsedArgs): Polarity | undefined {
     throw new InputError(`--polarity must be auto, dark or bright, got "${p}"`);
   }
   return p;
-}
-
-/** One image's JSON document: the pooled summary first, then each fibre. */
-function documentFor(source: string, width: number, height: number, pixelSizeFrom: string | null, r: DiameterResult) {
-  const station = (s: DiameterResult['stations'][number]) => ({
-    alongPx: s.alongPx, diameterPx: s.diameterPx, diameterUm: s.diameterUm, fibre: s.fibre, xPx: s.xPx, yPx: s.yPx,
-    edgeSigmaPx: s.edgeSigmaPx, edgeStdErrPx: s.edgeStdErrPx,
-  });
-  const summary = (f: DiameterResult | DiameterResult['fibres'][number]) => ({
-    meanPx: f.meanPx, meanUm: f.meanUm, sdPx: f.sdPx, sdUm: f.sdUm, cv: f.cv, n: f.n,
-    ciLowPx: f.ciLowPx, ciHighPx: f.ciHighPx, ciLowUm: f.ciLowUm, ciHighUm: f.ciHighUm,
-    minPx: f.minPx, maxPx: f.maxPx, minUm: f.minUm, maxUm: f.maxUm,
-    lag1Correlation: f.lag1Correlation, nEffective: f.nEffective, dropped: f.dropped, droppedByReason: f.droppedByReason,
-  });
-  return {
-    schemaVersion: SCHEMA_VERSION, analysis: 'diameter', source, width, height,
-    pixelSizeUmPerPx: r.pixelSizeUmPerPx, pixelSizeFrom, warnings: r.warnings,
-    ...summary(r),
-    stations: r.stations.map(station),
-    fibres: r.fibres.map((f) => ({
-      index: f.index, axisDeg: f.axisDeg, startXPx: f.startXPx, startYPx: f.startYPx, lengthPx: f.lengthPx, ...summary(f),
-      stations: f.stations.map(station), droppedStations: f.droppedStations,
-    })),
-    polarity: r.polarity, contrast: r.contrast, noiseSd: r.noiseSd, backgroundDegree: r.backgroundDegree,
-    ignoredObjects: r.ignoredObjects, options: r.options,
-    interval: r.fibres.filter((f) => f.n > 0).length > 1
-      ? '95 % t interval with the fibres as the sampling unit (t(0.975, k - 1) SD(fibre means) / sqrt k); per fibre: station interval'
-      : '95 % t interval on the station mean, n reduced to nEffective = n (1 - r1)/(1 + r1) for lag-1 correlation r1',
-  };
 }
 
 export const diameterCommand: Command = {
@@ -64,24 +33,17 @@ export const diameterCommand: Command = {
       throw new InputError(`--um-per-px must be above 0, got ${umPerPxOption}`);
     }
     const images = await loadImageFiles(a.positionals);
+    const options = {
+      pixelSizeUmPerPx: umPerPxOption, stepPx: numberOpt(a, 'step-px'), averagePx: numberOpt(a, 'average-px'),
+      polarity: polarityFrom(a), backgroundDegree: numberOpt(a, 'background-degree'),
+    };
     const docs = images.map((img) => {
-      const pixelSize = umPerPxOption ?? img.pixelSizeUmPerPx;
-      const pixelSizeFrom = umPerPxOption !== undefined ? 'option' : img.pixelSizeUmPerPx !== undefined ? 'file' : null;
-      let r: DiameterResult;
       try {
-        r = measureFibreDiameters(toGrey(img), {
-          pixelSizeUmPerPx: pixelSize, stepPx: numberOpt(a, 'step-px'), averageLengthPx: numberOpt(a, 'average-px'),
-          polarity: polarityFrom(a), backgroundDegree: numberOpt(a, 'background-degree'),
-        });
+        return analyseDiameter(img, options);
       } catch (e) {
         if (e instanceof InputError && images.length > 1) throw new InputError(`${img.source.name}: ${e.message}`);
         throw e;
       }
-      if (pixelSizeFrom === null) {
-        r.warnings = r.warnings.map((w) => (w.startsWith('no pixel size')
-          ? 'no pixel size (no --um-per-px and none in the file): diameters are in px only, um fields are null' : w));
-      }
-      return documentFor(img.source.name, img.width, img.height, pixelSizeFrom, r);
     });
     const calibrated = docs.every((d) => d.pixelSizeUmPerPx !== null);
     const unit = calibrated ? 'um' : 'px';

@@ -1,22 +1,19 @@
-import { SCHEMA_VERSION } from '../../analyses/index.ts';
+import { fibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
-import { cnPerDtexToNPerTex, denierToTex, dtexToTex, fibreNumbers, gfPerDenToNPerTex } from '../../fibre/index.ts';
 import { numberOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatPairs } from '../format.ts';
 
-/** At most one of several spellings of the same quantity, converted to the first one's unit. */
-function oneOf(a: ParsedArgs, what: string, choices: [string, (v: number) => number][]): number | undefined {
+/** At most one of several spellings of the same quantity, with the unit it was given in. */
+function oneOf<U extends string>(a: ParsedArgs, what: string, choices: [string, U][]): { value: number; unit: U } | undefined {
   const given = choices.filter(([name]) => numberOpt(a, name) !== undefined);
   if (given.length > 1) {
     throw new InputError(`give the ${what} once: ${given.map(([n]) => `--${n}`).join(' and ')} were both given`);
   }
   if (given.length === 0) return undefined;
-  const [name, convert] = given[0];
-  return convert(numberOpt(a, name) as number);
+  const [name, unit] = given[0];
+  return { value: numberOpt(a, name) as number, unit };
 }
-
-const same = (v: number) => v;
 
 export const fibreCommand: Command = {
   name: 'fibre',
@@ -45,15 +42,16 @@ export const fibreCommand: Command = {
     if (diameterUm === undefined || density === undefined) {
       throw new InputError('--diameter-um and --density are both needed', 'e.g. retarda fibre --diameter-um 7 --density 1.8');
     }
-    const tex = oneOf(a, 'linear density', [['linear-density-tex', same], ['linear-density-dtex', dtexToTex],
-      ['linear-density-den', denierToTex]]);
-    const tenacity = oneOf(a, 'tenacity', [['tenacity-n-per-tex', same], ['tenacity-cn-per-dtex', cnPerDtexToNPerTex],
-      ['tenacity-gf-per-den', gfPerDenToNPerTex]]);
-    const r = fibreNumbers({
-      diameterUm, densityGPerCm3: density, linearDensityTex: tex, tenacityNPerTex: tenacity,
+    const r = fibreNumbersResult({
+      diameterUm, densityGPerCm3: density,
+      linearDensity: oneOf<LinearDensityUnit>(a, 'linear density', [['linear-density-tex', 'tex'], ['linear-density-dtex', 'dtex'], ['linear-density-den', 'den']]),
+      tenacity: oneOf<TenacityUnit>(a, 'tenacity', [['tenacity-n-per-tex', 'N/tex'], ['tenacity-cn-per-dtex', 'cN/dtex'], ['tenacity-gf-per-den', 'gf/den']]),
       strengthGPa: numberOpt(a, 'strength-gpa'), retardanceNm: numberOpt(a, 'retardance-nm'),
       thicknessUm: numberOpt(a, 'thickness-um'), intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence'),
     });
+    // The CSV row holds the numbers only, as before the document gained its head.
+    const { schemaVersion: _version, analysis: _analysis, ...numbers } = r;
+    void _version; void _analysis;
     const pairs: [string, number | null][] = [
       ['diameter um', r.diameterUm], ['density g/cm3', r.densityGPerCm3], ['area um2', r.areaUm2],
       ['solid tex', r.solidTex], ['solid dtex', r.solidDtex], ['solid denier', r.solidDenier],
@@ -63,9 +61,9 @@ export const fibreCommand: Command = {
       ['orientation factor', r.orientationFactor],
     ];
     return {
-      json: { schemaVersion: SCHEMA_VERSION, analysis: 'fibre', ...r },
+      json: r,
       table: formatPairs(pairs.filter(([, v]) => v !== null)),
-      csvRows: [{ ...r, warnings: r.warnings.join('; ') }],
+      csvRows: [{ ...numbers, warnings: r.warnings.join('; ') }],
       warnings: r.warnings,
     };
   },

@@ -1,19 +1,16 @@
-import { orientResult, type OrientResult, type ProfileResult } from '../../analyses/index.ts';
-import { orientationField } from '../../orientation/index.ts';
-import type { OrientationField } from '../../orientation/types.ts';
-import { orderParameters, checkWeighting } from '../../order/index.ts';
-import { toGrey, type Image } from '../../image/types.ts';
-import { InputError } from '../../common/errors.ts';
 import {
-  readPlate, parseIlluminant, parseRect, fullWavePlate, mirrorChoiceStats, compensatorAxisAdvice, resolveMirrorWithTexture,
-  whiteReference, type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration,
-} from '../../optics/index.ts';
+  analysePlate, readPlateField, type OpticsResult, type OpticsSummaryOptions, type PlateOptions, type PlateReadingOptions, type TrainOptions,
+} from '../../analyses/index.ts';
+import { checkWeighting } from '../../order/index.ts';
+import type { Image } from '../../image/types.ts';
+import { InputError } from '../../common/errors.ts';
+import { parseRect, type MatchSpace } from '../../optics/index.ts';
 import { flagOpt, numberList, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command, CommandOutput } from '../command.ts';
 import { formatPairs } from '../format.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
-import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileTable } from '../channelOptions.ts';
+import { CHANNEL_OPTIONS, profileCsvRow, profileRequestFrom, profileTable } from '../channelOptions.ts';
 
 /** The optical train, shared by plate, plate2, quad (its --plate image) and chart. */
 export const TRAIN_OPTIONS: OptionSpec[] = [
@@ -33,75 +30,50 @@ export const PLATE_OPTIONS: OptionSpec[] = [
   { name: 'field-out', kind: 'string', help: 'write the field as a float TIFF (angleDeg, confidence, retardanceNm, mask)' },
 ];
 
-export function trainFrom(a: ParsedArgs): Partial<OpticalTrain> {
-  const pol = numberOpt(a, 'polariser-deg') ?? 0;
-  const ill = stringOpt(a, 'illuminant');
+/** The optical train options as the analyses take them. */
+export function trainOptionsFrom(a: ParsedArgs): TrainOptions {
   return {
-    polariserDeg: pol, analyserDeg: pol + 90,
-    compensator: fullWavePlate(numberOpt(a, 'compensator-nm') ?? 550, numberOpt(a, 'compensator-deg') ?? pol + 45),
-    illuminant: ill ? parseIlluminant(ill) : undefined,
+    compensatorNm: numberOpt(a, 'compensator-nm'), compensatorDeg: numberOpt(a, 'compensator-deg'),
+    polariserDeg: numberOpt(a, 'polariser-deg'), illuminant: stringOpt(a, 'illuminant'),
   };
 }
 
-export function signFrom(a: ParsedArgs): 1 | -1 {
-  const s = stringOpt(a, 'sign') ?? 'positive';
-  if (s !== 'positive' && s !== 'negative') throw new InputError(`--sign must be positive or negative, got "${s}"`);
-  return s === 'positive' ? 1 : -1;
-}
-
-/** Camera white balance from --white-rgb, or undefined. */
-export function whiteFrom(a: ParsedArgs): CameraCalibration | undefined {
+/** Camera white balance from --white-rgb "R,G,B", or undefined. */
+function whiteFrom(a: ParsedArgs): [number, number, number] | undefined {
   const t = stringOpt(a, 'white-rgb');
   if (!t) return undefined;
   const v = numberList(t, '--white-rgb');
   if (v.length !== 3 || v.some((x) => x < 0 || x > 255)) throw new InputError(`--white-rgb needs three 8-bit codes "R,G,B", got "${t}"`);
-  return whiteReference([v[0] / 255, v[1] / 255, v[2] / 255], 'srgb');
+  return [v[0], v[1], v[2]];
 }
 
-/** Calibration fits the compensator only when --compensator-nm was not given. */
-export function calibrationFrom(a: ParsedArgs) {
-  return { fitCompensator: numberOpt(a, 'compensator-nm') === undefined };
+function signFrom(a: ParsedArgs): 'positive' | 'negative' | undefined {
+  const s = stringOpt(a, 'sign');
+  if (s !== undefined && s !== 'positive' && s !== 'negative') throw new InputError(`--sign must be positive or negative, got "${s}"`);
+  return s;
 }
 
-/** Distribution of a field's confidence over its usable pixels. */
-export function confidenceStats(f: OrientationField) {
-  const v: number[] = [];
-  for (let i = 0; i < f.confidence.length; i++) if (f.mask[i]) v.push(f.confidence[i]);
-  v.sort((x, y) => x - y);
-  const q = (p: number) => (v.length ? v[Math.min(v.length - 1, Math.floor(p * (v.length - 1)))] : null);
+/** The options of PLATE_OPTIONS, as the analyses take them. */
+export function plateReadingFrom(a: ParsedArgs): PlateReadingOptions {
+  const bg = stringOpt(a, 'background');
   return {
-    mean: v.length ? v.reduce((s, x) => s + x, 0) / v.length : null, median: q(0.5), p10: q(0.1), p90: q(0.9),
-    fractionAbove05: v.length ? v.filter((x) => x >= 0.5).length / v.length : null, n: v.length,
+    ...trainOptionsFrom(a), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), background: bg ? parseRect(bg) : undefined,
+    whiteRgb: whiteFrom(a), sign: signFrom(a),
   };
 }
 
-/** Median retardance over usable pixels with confidence >= 0.5 (all usable pixels when none is). */
-export function retardanceMedian(f: OrientationField): number | null {
-  if (!f.retardanceNm) return null;
-  const good: number[] = [], all: number[] = [];
-  for (let i = 0; i < f.mask.length; i++) if (f.mask[i]) { all.push(f.retardanceNm[i]); if (f.confidence[i] >= 0.5) good.push(f.retardanceNm[i]); }
-  const v = (good.length ? good : all).sort((x, y) => x - y);
-  return v.length ? v[v.length >> 1] : null;
+function matchFrom(a: ParsedArgs): MatchSpace {
+  const match = stringOpt(a, 'match') ?? 'lab';
+  if (match !== 'lab' && match !== 'chroma') throw new InputError(`--match must be lab or chroma, got "${match}"`);
+  return match;
 }
 
-export interface OpticsResult extends Omit<OrientResult, 'analysis'> {
-  analysis: string;
-  retardanceNmMedian: number | null;
-  confidence: ReturnType<typeof confidenceStats>;
-  ambiguity: OrientationField['ambiguity'];
-  extra: Record<string, unknown>;
-  profile: ProfileResult | null;
-}
-
-/** The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. */
-export async function opticsResult(analysis: string, img: Image, field: OrientationField, a: ParsedArgs, extra: Record<string, unknown>): Promise<OpticsResult> {
+/** Whole-field order options and the channel profile request (CHANNEL_OPTIONS). */
+export function summaryFrom(a: ParsedArgs): OpticsSummaryOptions {
   const weighting = stringOpt(a, 'weighting');
-  const s = orderParameters(field, { weighting: weighting ? checkWeighting(weighting) : undefined, axisDeg: numberOpt(a, 'axis-deg'), blockPx: numberOpt(a, 'block-px') });
-  const base = orientResult(img, field, s, {});
-  const profile = await channelProfileOutput(img, field, a, field.options);
   return {
-    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence: confidenceStats(field), ambiguity: field.ambiguity, extra, profile,
-    warnings: [...base.warnings, ...(profile?.warnings ?? [])],
+    axisDeg: numberOpt(a, 'axis-deg'), weighting: weighting ? checkWeighting(weighting) : undefined, blockPx: numberOpt(a, 'block-px'),
+    profile: profileRequestFrom(a),
   };
 }
 
@@ -140,22 +112,9 @@ export function opticsOutput(analysis: string, results: OpticsResult[]): Command
   };
 }
 
-export function calibrationJson(c: PlateCalibration | null) {
-  return c && {
-    compensatorNm: c.compensatorNm, gains: c.camera.gains, exposure: c.camera.exposure, whiteBalanceTilt: c.whiteBalanceTilt,
-    residualDeltaE00: c.residualDeltaE00, fitted: c.fitted,
-  };
-}
-
 /** One plate image read with the options given on the command line (shared with `profile --source plate`). */
 export function readPlateFrom(img: Image, a: ParsedArgs) {
-  const match = stringOpt(a, 'match') ?? 'lab';
-  if (match !== 'lab' && match !== 'chroma') throw new InputError(`--match must be lab or chroma, got "${match}"`);
-  const bg = stringOpt(a, 'background');
-  return readPlate(img, {
-    train: trainFrom(a), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), match: match as MatchSpace, birefringenceSign: signFrom(a),
-    background: bg ? parseRect(bg) : undefined, calibration: calibrationFrom(a), referenceAxisDeg: numberOpt(a, 'axis-deg'), camera: whiteFrom(a),
-  });
+  return readPlateField(img, { ...plateReadingFrom(a), match: matchFrom(a), axisDeg: numberOpt(a, 'axis-deg') });
 }
 
 export const MATCH_OPTION: OptionSpec = { name: 'match', kind: 'string', help: 'lab, or chroma (brightness-independent, for uneven illumination)', defaultText: 'lab' };
@@ -172,31 +131,14 @@ export const plateCommand: Command = {
   ],
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more compensator images');
-    const axisDeg = numberOpt(a, 'axis-deg');
-    const train = trainFrom(a);
+    const options: PlateOptions = { ...plateReadingFrom(a), ...summaryFrom(a), match: matchFrom(a), resolveMirror: flagOpt(a, 'resolve-mirror') };
     const images = await loadImageFiles(a.positionals);
     const fieldOut = stringOpt(a, 'field-out');
     const results: OpticsResult[] = [];
     for (const img of images) {
-      const reading = readPlateFrom(img, a);
-      let field = reading.field;
-      let resolvedFraction: number | null = null;
-      if (flagOpt(a, 'resolve-mirror')) {
-        const texture = await orientationField(toGrey(img));
-        const r = resolveMirrorWithTexture(field, texture);
-        field = r.field;
-        resolvedFraction = r.resolvedFraction;
-      }
-      const compDeg = train.compensator!.axisDeg;
-      const advice = compensatorAxisAdvice(axisDeg ?? compDeg, compDeg);
-      const mirror = axisDeg !== undefined ? mirrorChoiceStats(field, axisDeg) : null;
-      if (axisDeg !== undefined && !advice.exact && field.ambiguity !== 'none') field.warnings.push(advice.text);
+      const { result, field } = await analysePlate(img, options);
       if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda plate ${img.source.name}`);
-      results.push(await opticsResult('plate', img, field, a, {
-        calibration: calibrationJson(reading.calibration), mirrorAssumption: field.options.mirrorAssumption,
-        mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
-        colourCellsSearched: reading.cellsMatched,
-      }));
+      results.push(result);
     }
     return opticsOutput('plate', results);
   },

@@ -1,11 +1,11 @@
 import { InputError } from '../../common/errors.ts';
-import { readPlatePair, parseRect } from '../../optics/index.ts';
+import { analysePlatePair } from '../../analyses/index.ts';
 import { numberOpt, stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
 import { loadImageFiles } from '../io.ts';
 import { writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS } from '../channelOptions.ts';
-import { PLATE_OPTIONS, calibrationFrom, calibrationJson, opticsOutput, opticsResult, signFrom, trainFrom, whiteFrom } from './plate.ts';
+import { PLATE_OPTIONS, opticsOutput, plateReadingFrom, summaryFrom } from './plate.ts';
 
 export const plate2Command: Command = {
   name: 'plate2',
@@ -21,18 +21,11 @@ export const plate2Command: Command = {
     if (a.positionals.length !== 2) {
       throw new InputError(`plate2 needs exactly two images, got ${a.positionals.length}`, 'Give the image with the assembly as set and the one turned by 45 deg');
     }
+    const options = { ...plateReadingFrom(a), ...summaryFrom(a), turnDeg: numberOpt(a, 'turn-deg'), maxShiftPx: numberOpt(a, 'max-shift-px') };
     const [imgA, imgB] = await loadImageFiles(a.positionals);
-    const bg = stringOpt(a, 'background');
-    const r = readPlatePair(imgA, imgB, {
-      train: trainFrom(a), turnDeg: numberOpt(a, 'turn-deg'), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), birefringenceSign: signFrom(a),
-      background: bg ? parseRect(bg) : undefined, calibration: calibrationFrom(a), maxShiftPx: numberOpt(a, 'max-shift-px'), camera: whiteFrom(a),
-    });
+    const { result, field } = await analysePlatePair(imgA, imgB, options);
     const fieldOut = stringOpt(a, 'field-out');
-    if (fieldOut) await writeFieldTiff(fieldOut, r.field, `retarda plate2 ${imgA.source.name} ${imgB.source.name}`);
-    const result = await opticsResult('plate2', imgA, r.field, a, {
-      imageB: imgB.source.name, calibrationA: calibrationJson(r.calibrationA), calibrationB: calibrationJson(r.calibrationB),
-      registration: r.registration,
-    });
+    if (fieldOut) await writeFieldTiff(fieldOut, field, `retarda plate2 ${imgA.source.name} ${imgB.source.name}`);
     return opticsOutput('plate2', [result]);
   },
 };

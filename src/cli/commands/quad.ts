@@ -1,11 +1,12 @@
 import { InputError } from '../../common/errors.ts';
-import { fourAngleAnalysis, parseRect } from '../../optics/index.ts';
+import { analyseFourAngle, DEFAULT_ANGLES_DEG } from '../../analyses/index.ts';
+import { parseRect } from '../../optics/index.ts';
 import { numberList, numberOpt, stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
 import { loadImageFiles } from '../io.ts';
 import { writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS } from '../channelOptions.ts';
-import { TRAIN_OPTIONS, opticsOutput, opticsResult, trainFrom } from './plate.ts';
+import { TRAIN_OPTIONS, opticsOutput, summaryFrom, trainOptionsFrom } from './plate.ts';
 
 export const quadCommand: Command = {
   name: 'quad',
@@ -24,27 +25,19 @@ export const quadCommand: Command = {
   ],
   async run(a) {
     const anglesText = stringOpt(a, 'angles');
-    const anglesDeg = anglesText ? numberList(anglesText, '--angles') : [0, 22.5, 45, 67.5];
+    const anglesDeg = anglesText ? numberList(anglesText, '--angles') : DEFAULT_ANGLES_DEG;
     if (a.positionals.length !== anglesDeg.length) {
       throw new InputError(`${a.positionals.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
     }
+    const bg = stringOpt(a, 'plate-background');
+    const options = { ...trainOptionsFrom(a), ...summaryFrom(a), anglesDeg, amplitudeFloor: numberOpt(a, 'amplitude-floor'), plateBackground: bg ? parseRect(bg) : undefined };
     const images = await loadImageFiles(a.positionals);
     const one = async (name: string | undefined) => (name ? (await loadImageFiles([name]))[0] : undefined);
-    const plate = await one(stringOpt(a, 'plate'));
-    const bg = stringOpt(a, 'plate-background');
-    const r = fourAngleAnalysis(images, {
-      anglesDeg, flatField: await one(stringOpt(a, 'flat')), dark: await one(stringOpt(a, 'dark')),
-      amplitudeFloor: numberOpt(a, 'amplitude-floor'),
-      plate, plateOptions: { train: trainFrom(a), background: bg ? parseRect(bg) : undefined },
+    const { result, field } = await analyseFourAngle(images, {
+      ...options, plate: await one(stringOpt(a, 'plate')), flatField: await one(stringOpt(a, 'flat')), dark: await one(stringOpt(a, 'dark')),
     });
     const fieldOut = stringOpt(a, 'field-out');
-    if (fieldOut) await writeFieldTiff(fieldOut, r.field, `retarda quad ${images.map((i) => i.source.name).join(' ')}`);
-    const amp: number[] = [], res: number[] = [];
-    for (let i = 0; i < r.amplitude.length; i++) if (r.field.mask[i]) { amp.push(r.amplitude[i]); res.push(r.residual[i]); }
-    const med = (v: number[]) => (v.length ? v.sort((x, y) => x - y)[v.length >> 1] : null);
-    const result = await opticsResult('quad', images[0], r.field, a, {
-      anglesDeg, amplitudeMedian: med(amp), residualMedian: med(res), plateResolvedFraction: plate ? r.resolvedFraction : null,
-    });
+    if (fieldOut) await writeFieldTiff(fieldOut, field, `retarda quad ${images.map((i) => i.source.name).join(' ')}`);
     return opticsOutput('quad', [result]);
   },
 };

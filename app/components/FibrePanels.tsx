@@ -1,0 +1,281 @@
+/**
+ * Fibre diameter, micrometer calibration and the fibre-numbers calculator. The numbers are the worker's
+ * `diameter` / `micrometer` / `fibreNumbers` results: what `retarda diameter`, `retarda calibrate` and
+ * `retarda fibre` print for the same file and settings (the command line is shown with them).
+ */
+import { useState } from 'react';
+import type { DiameterDocument, FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, MicrometerDocument, TenacityUnit } from '../../src/analyses/index.ts';
+import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
+import { formatCell } from '../../src/cli/format.ts';
+import type { Mark } from './Viewer.tsx';
+import type { PanelContext } from './OpticalPanel.tsx';
+import { Histogram } from './Histogram.tsx';
+import { commandLine, fibreArgs } from './commandLines.ts';
+
+const f = (v: number | null | undefined) => formatCell(v ?? null);
+
+/** A pixel size the user chose for the session's images, and where it came from. */
+export interface SessionPixelSize { umPerPx: number; from: string }
+
+function num(text: string, what: string): number | undefined {
+  if (text.trim() === '') return undefined;
+  const v = Number(text);
+  if (!Number.isFinite(v)) throw new Error(`${what}: "${text}" is not a number`);
+  return v;
+}
+
+/** Edges and station widths drawn on the image: each kept station's width across the fibre axis, and the two edge lines. */
+export function diameterMarks(d: DiameterDocument): Mark[] {
+  const marks: Mark[] = [];
+  for (const fb of d.fibres) {
+    const a = (fb.axisDeg * Math.PI) / 180;
+    // Across the axis (image y down, angles CCW on screen): the normal to (cos a, -sin a) is (sin a, cos a).
+    const nx = Math.sin(a), ny = Math.cos(a);
+    const ends = fb.stations.map((s) => ({ s, h: s.diameterPx / 2 }));
+    for (const { s, h } of ends) marks.push({ x1: s.xPx - h * nx, y1: s.yPx - h * ny, x2: s.xPx + h * nx, y2: s.yPx + h * ny, colour: '#ffd23f' });
+    for (let k = 1; k < ends.length; k++) {
+      const p = ends[k - 1], q = ends[k];
+      // Only join neighbouring stations (a dropped station leaves a gap in the drawn edge).
+      if (q.s.alongPx - p.s.alongPx > 1.5 * (d.options.stepPx as number)) continue;
+      for (const side of [-1, 1]) {
+        marks.push({ x1: p.s.xPx + side * p.h * nx, y1: p.s.yPx + side * p.h * ny, x2: q.s.xPx + side * q.h * nx, y2: q.s.yPx + side * q.h * ny, colour: '#36d67a' });
+      }
+    }
+    for (const s of fb.droppedStations) marks.push({ x1: s.xPx - 3, y1: s.yPx - 3, x2: s.xPx + 3, y2: s.yPx + 3, colour: '#ff5a5a' }, { x1: s.xPx - 3, y1: s.yPx + 3, x2: s.xPx + 3, y2: s.yPx - 3, colour: '#ff5a5a' });
+  }
+  return marks;
+}
+
+interface DiameterProps { ctx: PanelContext; pixelSize: SessionPixelSize | null; onMarks(imageId: string, marks: Mark[]): void; onResult?(d: DiameterDocument): void }
+
+export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterProps) {
+  const [s, setS] = useState({ umPerPx: '', stepPx: '10', averagePx: '5', polarity: 'auto', backgroundDegree: '2' });
+  const [shown, setShown] = useState<{ imageId: string; doc: DiameterDocument; cli: string } | null>(null);
+  const [formError, setFormError] = useState<string | null>(null);
+  const active = ctx.images.find((i) => i.id === ctx.activeId);
+
+  async function run() {
+    setFormError(null);
+    if (!active) return;
+    let options;
+    try {
+      const typed = num(s.umPerPx, 'Pixel size');
+      options = {
+        pixelSizeUmPerPx: typed ?? pixelSize?.umPerPx, stepPx: num(s.stepPx, 'Station step'), averagePx: num(s.averagePx, 'Averaged length'),
+        polarity: s.polarity as 'auto' | 'dark' | 'bright', backgroundDegree: num(s.backgroundDegree, 'Background degree'),
+      };
+    } catch (e) { setFormError((e as Error).message); return; }
+    const args = [
+      ...(options.pixelSizeUmPerPx !== undefined ? [`--um-per-px ${options.pixelSizeUmPerPx}`] : []),
+      ...(options.stepPx !== undefined && options.stepPx !== 10 ? [`--step-px ${options.stepPx}`] : []),
+      ...(options.averagePx !== undefined && options.averagePx !== 5 ? [`--average-px ${options.averagePx}`] : []),
+      ...(options.polarity !== 'auto' ? [`--polarity ${options.polarity}`] : []),
+      ...(options.backgroundDegree !== undefined && options.backgroundDegree !== 2 ? [`--background-degree ${options.backgroundDegree}`] : []),
+    ];
+    const id = active.id;
+    const doc = await ctx.runJob('Fibre diameter', async (p) => {
+      const src = ctx.sourceOf(id);
+      if (!src) throw new Error('the image is no longer in the session');
+      await ctx.client.ensure(src, p);
+      return ctx.client.call('diameter', { key: id, options }, p);
+    });
+    if (!doc) return;
+    setShown({ imageId: id, doc, cli: commandLine('diameter', [active.name], args) });
+    onMarks(id, diameterMarks(doc));
+    onResult?.(doc);
+  }
+
+  const d = shown && shown.imageId === ctx.activeId ? shown.doc : null;
+  const um = d ? d.pixelSizeUmPerPx !== null : false;
+  const unit = um ? 'µm' : 'px';
+  const pick = (x: { meanPx: number | null; meanUm: number | null; sdPx: number | null; sdUm: number | null; ciLowPx: number | null; ciLowUm: number | null; ciHighPx: number | null; ciHighUm: number | null }) =>
+    (um ? [x.meanUm, x.sdUm, x.ciLowUm, x.ciHighUm] : [x.meanPx, x.sdPx, x.ciLowPx, x.ciHighPx]);
+  const dropped = d ? d.fibres.flatMap((fb) => fb.droppedStations.map((s) => ({ ...s, fibre: fb.index }))) : [];
+  const byReason = new Map<DropReason, number>();
+  for (const s of dropped) byReason.set(s.reason, (byReason.get(s.reason) ?? 0) + 1);
+  return (
+    <div>
+      <label className="field">
+        <span>Pixel size</span>
+        <input value={s.umPerPx} placeholder={pixelSize ? 'the session\'s (below)' : 'from the file, else px only'} onChange={(e) => setS({ ...s, umPerPx: e.target.value })} data-testid="diameter-um-per-px" />
+        <span className="unit">µm/px</span>
+      </label>
+      {pixelSize && s.umPerPx.trim() === '' && <p className="note">Using {pixelSize.umPerPx.toPrecision(5)} µm/px from the {pixelSize.from}; type a value to use another.</p>}
+      <label className="field"><span>Station step</span><input value={s.stepPx} onChange={(e) => setS({ ...s, stepPx: e.target.value })} /><span className="unit">px</span></label>
+      <label className="field"><span>Averaged along</span><input value={s.averagePx} onChange={(e) => setS({ ...s, averagePx: e.target.value })} /><span className="unit">px</span></label>
+      <label className="field"><span>Fibre is</span>
+        <select value={s.polarity} onChange={(e) => setS({ ...s, polarity: e.target.value })}>
+          <option value="auto">found from the image</option><option value="dark">darker than the background</option><option value="bright">brighter than the background</option>
+        </select><span /></label>
+      <label className="field"><span>Uneven lamp removal</span>
+        <select value={s.backgroundDegree} onChange={(e) => setS({ ...s, backgroundDegree: e.target.value })}>
+          {[0, 1, 2, 3, 4].map((k) => <option key={k} value={String(k)}>{k === 0 ? 'none (flat level)' : `surface of degree ${k}`}</option>)}
+        </select><span /></label>
+      {formError && <p className="note warn" role="alert">{formError}</p>}
+      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Measure fibre diameters</button>
+      {d && (
+        <div>
+          <p className="note">On the image: yellow = the width measured at each station, green = the edges joined between stations, red × = stations left out.</p>
+          <div className="scroll-x"><table className="results compact" data-testid="diameter-table">
+            <thead><tr><th>fibre</th><th>axis °</th><th>n</th><th>left out</th><th>mean {unit}</th><th>SD {unit}</th><th>95 % interval</th><th>CV</th></tr></thead>
+            <tbody>
+              {d.fibres.map((fb) => { const [m, sd, lo, hi] = pick(fb); return (
+                <tr key={fb.index}><td>{fb.index}</td><td>{f(fb.axisDeg)}</td><td>{f(fb.n)}</td><td>{f(fb.dropped)}</td><td data-testid={`diameter-mean-${fb.index}`}>{f(m)}</td><td>{f(sd)}</td><td>{f(lo)} – {f(hi)}</td><td>{f(fb.cv)}</td></tr>
+              ); })}
+              {d.fibres.length > 1 && (() => { const [m, sd, lo, hi] = pick(d); return (
+                <tr className="total"><td>all</td><td>–</td><td>{f(d.n)}</td><td>{f(d.dropped)}</td><td data-testid="diameter-mean-all">{f(m)}</td><td>{f(sd)}</td><td>{f(lo)} – {f(hi)}</td><td>{f(d.cv)}</td></tr>
+              ); })()}
+            </tbody>
+          </table></div>
+          <p className="note">{d.interval}. Pixel size: {d.pixelSizeUmPerPx === null ? 'none (lengths in px)' : `${f(d.pixelSizeUmPerPx)} µm/px (${d.pixelSizeFrom === 'file' ? 'from the file' : 'as set'})`}.</p>
+          <Histogram values={d.stations.map((st) => (um ? st.diameterUm! : st.diameterPx))} unit={unit} label="diameter at each station" />
+          {dropped.length > 0 && (
+            <details data-testid="diameter-dropped">
+              <summary>{dropped.length} station(s) left out, and why</summary>
+              <ul className="reasons">{[...byReason].map(([reason, n]) => <li key={reason}><strong>{n}</strong> × {DROP_REASON_TEXT[reason]}</li>)}</ul>
+              <table className="results compact">
+                <thead><tr><th>fibre</th><th>along px</th><th>x px</th><th>y px</th><th>reason</th></tr></thead>
+                <tbody>{dropped.map((s, k) => <tr key={k}><td>{s.fibre}</td><td>{f(s.alongPx)}</td><td>{f(s.xPx)}</td><td>{f(s.yPx)}</td><td>{s.reason}</td></tr>)}</tbody>
+              </table>
+            </details>
+          )}
+          {d.warnings.length > 0 && <ul className="warnings">{d.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+          <p className="cli"><code data-testid="diameter-cli">{shown!.cli}</code></p>
+        </div>
+      )}
+    </div>
+  );
+}
+
+interface MicrometerProps { ctx: PanelContext; pixelSize: SessionPixelSize | null; onUse(p: SessionPixelSize | null): void }
+
+export function MicrometerPanel({ ctx, pixelSize, onUse }: MicrometerProps) {
+  const [s, setS] = useState({ divisionUm: '10', polarity: 'auto', na: '' });
+  const [shown, setShown] = useState<{ imageId: string; name: string; doc: MicrometerDocument; cli: string } | null>(null);
+  const [formError, setFormError] = useState<string | null>(null);
+  const active = ctx.images.find((i) => i.id === ctx.activeId);
+
+  async function run() {
+    setFormError(null);
+    if (!active) return;
+    let options;
+    try {
+      const divisionUm = num(s.divisionUm, 'Division spacing');
+      if (divisionUm === undefined) throw new Error('Give the spacing of one micrometer division (10 µm for 1 mm in 100)');
+      options = { divisionUm, polarity: s.polarity as 'auto' | 'dark' | 'bright', na: num(s.na, 'Numerical aperture') };
+    } catch (e) { setFormError((e as Error).message); return; }
+    const args = [`--division-um ${options.divisionUm}`, ...(options.polarity !== 'auto' ? [`--polarity ${options.polarity}`] : []), ...(options.na !== undefined ? [`--na ${options.na}`] : [])];
+    const id = active.id;
+    const doc = await ctx.runJob('Micrometer calibration', async (p) => {
+      const src = ctx.sourceOf(id);
+      if (!src) throw new Error('the image is no longer in the session');
+      await ctx.client.ensure(src, p);
+      return ctx.client.call('micrometer', { key: id, options }, p);
+    });
+    if (doc) setShown({ imageId: id, name: active.name, doc, cli: commandLine('calibrate', [active.name], args) });
+  }
+
+  const c = shown && shown.imageId === ctx.activeId ? shown.doc : null;
+  return (
+    <div>
+      <label className="field"><span>One division</span><input value={s.divisionUm} onChange={(e) => setS({ ...s, divisionUm: e.target.value })} data-testid="division-um" /><span className="unit">µm</span></label>
+      <label className="field"><span>Ruler lines</span>
+        <select value={s.polarity} onChange={(e) => setS({ ...s, polarity: e.target.value })}>
+          <option value="auto">found from the image</option><option value="dark">dark on bright</option><option value="bright">bright on dark</option>
+        </select><span /></label>
+      <label className="field"><span>Objective NA</span><input value={s.na} placeholder="optional: sampling check" onChange={(e) => setS({ ...s, na: e.target.value })} /><span /></label>
+      {formError && <p className="note warn" role="alert">{formError}</p>}
+      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Measure the pixel size</button>
+      {c && (
+        <div>
+          <table className="results" data-testid="micrometer-results">
+            <tbody>
+              <tr><th scope="row">Pixel size</th><td data-testid="um-per-px">{f(c.umPerPx)}</td><td>µm/px, ± <span data-testid="um-per-px-u">{f(c.uncertaintyUmPerPx)}</span> (standard uncertainty, k = 1; {(100 * c.uncertainty).toPrecision(2)} %)</td></tr>
+              <tr><th scope="row">Ruler period</th><td data-testid="period-px">{f(c.periodPx)}</td><td>px ± {f(c.periodStdErrPx)}, over {f(c.divisions)} divisions</td></tr>
+              <tr><th scope="row">Lines used</th><td>{f(c.lines)}</td><td>{f(c.rejectedLines)} left out; fit residual {f(c.rmsResidualPx)} px rms</td></tr>
+              <tr><th scope="row">Line direction</th><td>{f(c.linesDeg)}</td><td>deg CCW from +x; {c.polarity} lines</td></tr>
+            </tbody>
+          </table>
+          {c.warnings.length > 0 && <ul className="warnings">{c.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+          <p className="cli"><code data-testid="micrometer-cli">{shown!.cli}</code></p>
+          <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${shown!.name}` })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
+        </div>
+      )}
+      {pixelSize && (
+        <p className="note" data-testid="session-pixel-size">Lengths in this session use {pixelSize.umPerPx.toPrecision(5)} µm/px ({pixelSize.from}). <button className="quiet small" onClick={() => onUse(null)}>Stop using it</button></p>
+      )}
+      <p className="note">Calibrate once per objective, camera adapter and binning; measure over 20 divisions or more.</p>
+    </div>
+  );
+}
+
+interface NumbersProps { ctx: PanelContext; measuredDiameterUm: number | null; measuredRetardanceNm: number | null }
+
+export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceNm }: NumbersProps) {
+  const [s, setS] = useState({
+    diameterUm: '', density: '', linearDensity: '', linearDensityUnit: 'tex' as LinearDensityUnit, tenacity: '', tenacityUnit: 'N/tex' as TenacityUnit,
+    strengthGPa: '', retardanceNm: '', thicknessUm: '', intrinsic: '',
+  });
+  const [shown, setShown] = useState<{ r: FibreNumbersResult; cli: string } | null>(null);
+  const [formError, setFormError] = useState<string | null>(null);
+  const set = (c: Partial<typeof s>) => setS((o) => ({ ...o, ...c }));
+
+  async function run() {
+    setFormError(null);
+    let request: FibreNumbersRequest;
+    try {
+      const diameterUm = num(s.diameterUm, 'Diameter'), density = num(s.density, 'Density');
+      if (diameterUm === undefined || density === undefined) throw new Error('Give at least the diameter and the density of the solid material');
+      const ld = num(s.linearDensity, 'Linear density'), ten = num(s.tenacity, 'Specific stress');
+      request = {
+        diameterUm, densityGPerCm3: density,
+        linearDensity: ld === undefined ? undefined : { value: ld, unit: s.linearDensityUnit },
+        tenacity: ten === undefined ? undefined : { value: ten, unit: s.tenacityUnit },
+        strengthGPa: num(s.strengthGPa, 'Strength'), retardanceNm: num(s.retardanceNm, 'Retardance'),
+        thicknessUm: num(s.thicknessUm, 'Optical path'), intrinsicBirefringence: num(s.intrinsic, 'Intrinsic birefringence'),
+      };
+    } catch (e) { setFormError((e as Error).message); return; }
+    const r = await ctx.runJob('Fibre numbers', (p) => ctx.client.call('fibreNumbers', { request }, p));
+    if (r) setShown({ r, cli: commandLine('fibre', [], fibreArgs(request)) });
+  }
+
+  const input = (label: string, key: keyof typeof s, unit: string, placeholder = '', testId?: string) => (
+    <label className="field"><span>{label}</span><input value={s[key] as string} placeholder={placeholder} data-testid={testId} onChange={(e) => set({ [key]: e.target.value })} /><span className="unit">{unit}</span></label>
+  );
+  const r = shown?.r;
+  // Keyed by the `retarda fibre --json` key each row shows.
+  const rows: [keyof FibreNumbersResult, string, number | null, string][] = r ? [
+    ['areaUm2', 'Cross-section', r.areaUm2, 'µm², round fibre'], ['solidTex', 'Solid linear density', r.solidTex, 'tex'], ['solidDtex', '', r.solidDtex, 'dtex'],
+    ['solidDenier', '', r.solidDenier, 'denier'], ['linearDensityTex', 'Measured linear density', r.linearDensityTex, 'tex'],
+    ['packingFraction', 'Packing fraction', r.packingFraction, 'measured / solid'], ['tenacityNPerTex', 'Specific stress', r.tenacityNPerTex, 'N/tex'],
+    ['tenacityCnPerDtex', '', r.tenacityCnPerDtex, 'cN/dtex'], ['tenacityGfPerDen', '', r.tenacityGfPerDen, 'gf/den'], ['strengthGPa', 'Stress', r.strengthGPa, 'GPa at this density'],
+    ['birefringence', 'Birefringence', r.birefringence, `retardance / ${f(r.thicknessUm)} µm`], ['orientationFactor', 'Orientation factor', r.orientationFactor, 'birefringence / intrinsic'],
+  ] : [];
+  return (
+    <div className="numbers-form">
+      {input('Diameter', 'diameterUm', 'µm', '', 'fibre-diameter')}
+      {measuredDiameterUm !== null && <button className="quiet small" onClick={() => set({ diameterUm: String(Number(measuredDiameterUm.toPrecision(6))) })}>use the measured mean ({f(measuredDiameterUm)} µm)</button>}
+      {input('Density of the solid', 'density', 'g/cm³', 'e.g. 1.8', 'fibre-density')}
+      <label className="field"><span>Linear density</span><input value={s.linearDensity} placeholder="measured, optional" data-testid="fibre-linear-density" onChange={(e) => set({ linearDensity: e.target.value })} />
+        <select aria-label="Linear density unit" value={s.linearDensityUnit} onChange={(e) => set({ linearDensityUnit: e.target.value as LinearDensityUnit })}><option value="tex">tex</option><option value="dtex">dtex</option><option value="den">denier</option></select></label>
+      <label className="field"><span>Specific stress</span><input value={s.tenacity} placeholder="tenacity, optional" onChange={(e) => set({ tenacity: e.target.value })} />
+        <select aria-label="Specific stress unit" value={s.tenacityUnit} onChange={(e) => set({ tenacityUnit: e.target.value as TenacityUnit })}><option value="N/tex">N/tex</option><option value="cN/dtex">cN/dtex</option><option value="gf/den">gf/den</option></select></label>
+      {input('or stress', 'strengthGPa', 'GPa', 'instead of the specific stress')}
+      {input('Retardance', 'retardanceNm', 'nm', 'for the birefringence', 'fibre-retardance')}
+      {measuredRetardanceNm !== null && <button className="quiet small" onClick={() => set({ retardanceNm: String(Number(measuredRetardanceNm.toPrecision(6))) })}>use the compensator reading ({f(measuredRetardanceNm)} nm)</button>}
+      {input('Optical path', 'thicknessUm', 'µm', 'default: the diameter')}
+      {input('Intrinsic birefringence', 'intrinsic', '', 'perfectly aligned material')}
+      {formError && <p className="note warn" role="alert">{formError}</p>}
+      <button className="primary" disabled={ctx.disabled} onClick={() => void run()}>Work out the fibre numbers</button>
+      {r && (
+        <div>
+          <table className="results" data-testid="fibre-results">
+            <tbody>{rows.filter(([, , v]) => v !== null).map(([key, label, v, unit]) => <tr key={key}><th scope="row">{label}</th><td data-testid={`fibre-${key}`}>{f(v)}</td><td>{unit}</td></tr>)}</tbody>
+          </table>
+          {r.warnings.length > 0 && <ul className="warnings">{r.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+          <p className="cli"><code data-testid="fibre-cli">{shown!.cli}</code></p>
+        </div>
+      )}
+    </div>
+  );
+}

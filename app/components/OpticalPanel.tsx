@@ -1,0 +1,335 @@
+/**
+ * Orientation and retardance read from polarised-light colours: one compensator image, two compensator
+ * images with the optics turned by 45 deg, or a set of crossed-polariser images at several angles.
+ * The numbers are the worker's `plate` / `plate2` / `quad` results, which are what the `retarda`
+ * subcommands of the same names print; the command line is shown with them.
+ */
+import { useState } from 'react';
+import type { OpticsResult, PlateReadingOptions, ProfileRequest, ProfileResult, TrainOptions } from '../../src/analyses/index.ts';
+import type { MatchSpace, Rect } from '../../src/optics/index.ts';
+import { formatCell } from '../../src/cli/format.ts';
+import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
+import type { Glyph, OpticsReply, Picture } from '../worker/protocol.ts';
+import type { Layer } from './Viewer.tsx';
+import { LegendWheel } from './LegendWheel.tsx';
+import { RetardanceBar } from './RetardanceBar.tsx';
+import { channelArgs, commandLine, plateReadingArgs, quote, trainArgs } from './commandLines.ts';
+
+const f = (v: number | null | undefined) => formatCell(v ?? null);
+
+export type ReadingKind = 'plate' | 'plate2' | 'quad';
+
+/** An optical field the viewer can show and the channel profile can use ("the current field"). */
+export interface OpticalField {
+  imageId: string;
+  /** What made it, in plain words. */
+  label: string;
+  colour: Layer;
+  confidence: Layer;
+  retardance: Layer | null;
+  retardanceRangeNm: [number, number] | null;
+  glyphs: Glyph[];
+  /** The channel profile on this field: the command line and the run, so the profile panel needs to know nothing else. */
+  profile: { commandLine(req: ProfileRequest, wallsText: string | null): string; run(req: ProfileRequest, progress: ProgressFn): Promise<ProfileResult> };
+}
+
+export interface PanelContext {
+  client: AnalysisClient;
+  images: { id: string; name: string }[];
+  activeId: string;
+  sourceOf(id: string): ImageSource | null;
+  /** Runs a job with the app's progress bar and Stop button; errors are shown to the user and give null. */
+  runJob<T>(what: string, job: (progress: ProgressFn) => Promise<T>): Promise<T | null>;
+  disabled: boolean;
+}
+
+interface Settings {
+  compensatorNm: string; compensatorDeg: string; polariserDeg: string; illuminant: string; retardanceMaxNm: string;
+  background: string; sign: 'positive' | 'negative'; match: MatchSpace; axisDeg: string; resolveMirror: boolean;
+  imageB: string; turnDeg: string; quadImages: string[]; quadAngles: string[]; quadPlate: string; quadPlateBackground: string;
+}
+
+const DEFAULTS: Settings = {
+  compensatorNm: '', compensatorDeg: '45', polariserDeg: '0', illuminant: '3200K', retardanceMaxNm: '800', background: '',
+  sign: 'positive', match: 'lab', axisDeg: '', resolveMirror: false, imageB: '', turnDeg: '45',
+  quadImages: ['', '', '', ''], quadAngles: ['0', '22.5', '45', '67.5'], quadPlate: '', quadPlateBackground: '',
+};
+
+/** Numbers typed in the form: blank = the command line's default (undefined); otherwise a finite number or an error. */
+function num(text: string, what: string): number | undefined {
+  if (text.trim() === '') return undefined;
+  const v = Number(text);
+  if (!Number.isFinite(v)) throw new Error(`${what}: "${text}" is not a number`);
+  return v;
+}
+
+function rectOf(text: string, what: string): Rect | undefined {
+  if (text.trim() === '') return undefined;
+  const v = text.split(',').map((s) => Number(s.trim()));
+  if (v.length !== 4 || v.some((x) => !Number.isInteger(x) || x < 0) || v[2] < 1 || v[3] < 1) {
+    throw new Error(`${what}: write it as x,y,w,h in whole pixels (top-left corner, then width and height)`);
+  }
+  return { x: v[0], y: v[1], width: v[2], height: v[3] };
+}
+
+const trainOf = (s: Settings): TrainOptions => ({
+  compensatorNm: num(s.compensatorNm, 'Compensator retardance'), compensatorDeg: num(s.compensatorDeg, 'Compensator slow axis'),
+  polariserDeg: num(s.polariserDeg, 'Polariser'), illuminant: s.illuminant || undefined,
+});
+
+const readingOf = (s: Settings): PlateReadingOptions => ({
+  ...trainOf(s), retardanceMaxNm: num(s.retardanceMaxNm, 'Largest retardance'), background: rectOf(s.background, 'Sample-free area'),
+  sign: s.sign,
+});
+
+/** Degrees between two axes (0..90). */
+const axisGap = (a: number, b: number) => Math.abs((((a - b) % 180) + 270) % 180 - 90);
+
+const layerOf = (p: Picture): Layer => ({ levels: p.levels, width: p.width, height: p.height, scale: p.scale });
+
+interface Shown { imageId: string; kind: ReadingKind; result: OpticsResult; commandLine: string; rangeNm: [number, number] | null }
+
+export function OpticalPanel({ ctx, onField, onResult }: { ctx: PanelContext; onField(f: OpticalField): void; onResult?(r: OpticsResult): void }) {
+  const [kind, setKind] = useState<ReadingKind>('plate');
+  const [s, setS] = useState<Settings>(DEFAULTS);
+  const [shown, setShown] = useState<Shown | null>(null);
+  const [formError, setFormError] = useState<string | null>(null);
+  const set = (c: Partial<Settings>) => setS((o) => ({ ...o, ...c }));
+  const active = ctx.images.find((i) => i.id === ctx.activeId);
+  const nameOf = (id: string) => ctx.images.find((i) => i.id === id)?.name ?? '';
+  const others = ctx.images.filter((i) => i.id !== ctx.activeId);
+  // Until chosen: the images after this one in the session's list (how a set brought in together is ordered).
+  const after = ctx.images.slice(ctx.images.findIndex((i) => i.id === ctx.activeId) + 1);
+  const imageB = s.imageB || after[0]?.id || '';
+  const quadKeys = s.quadImages.map((id, k) => id || (k === 0 ? ctx.activeId : after[k - 1]?.id ?? ''));
+
+  const compDeg = Number(s.compensatorDeg || 45);
+  const axis = s.axisDeg.trim() === '' ? null : Number(s.axisDeg);
+  const gap = axis === null || !Number.isFinite(axis) ? null : axisGap(axis, compDeg);
+
+  async function ensure(ids: string[], progress: ProgressFn) {
+    for (const id of ids) {
+      const src = ctx.sourceOf(id);
+      if (!src) throw new Error('an image of this reading is no longer in the session');
+      await ctx.client.ensure(src, progress);
+    }
+  }
+
+  async function run() {
+    setFormError(null);
+    if (!active) return;
+    let job: (p: ProgressFn) => Promise<OpticsReply>;
+    let cli: string;
+    let profile: OpticalField['profile'];
+    try {
+      const summary = { axisDeg: num(s.axisDeg, 'Reference axis') };
+      if (kind === 'plate') {
+        const options = { ...readingOf(s), ...summary, match: s.match, resolveMirror: s.resolveMirror };
+        const args = [...plateReadingArgs(options), ...(s.match !== 'lab' ? [`--match ${s.match}`] : [])];
+        cli = commandLine('plate', [active.name], [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : []), ...(s.resolveMirror ? ['--resolve-mirror'] : [])]);
+        job = async (p) => { await ensure([active.id], p); return ctx.client.call('plate', { key: active.id, options: { ...options, profile: null } }, p); };
+        // `retarda profile --source plate` reads the same image with the same options (its --axis-deg also sets the mirror choice).
+        const source = { kind: 'plate' as const, options: { ...readingOf(s), match: s.match } };
+        profile = {
+          commandLine: (req, walls) => commandLine('profile', [active.name], ['--source plate', ...channelArgs(req, walls), ...args]),
+          run: async (req, p) => { await ensure([active.id], p); return ctx.client.call('profile', { key: active.id, texture: {}, request: req, source }, p); },
+        };
+      } else if (kind === 'plate2') {
+        if (!imageB) throw new Error('Choose the second image (the one taken with the optics turned by 45°)');
+        const options = { ...readingOf(s), ...summary, turnDeg: num(s.turnDeg, 'Turn') };
+        const args = [...plateReadingArgs(options), ...(options.turnDeg !== undefined && options.turnDeg !== 45 ? [`--turn-deg ${options.turnDeg}`] : [])];
+        const files = [active.name, nameOf(imageB)];
+        cli = commandLine('plate2', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
+        const keyB = imageB;
+        job = async (p) => { await ensure([active.id, keyB], p); return ctx.client.call('plate2', { key: active.id, keyB, options: { ...options, profile: null } }, p); };
+        profile = {
+          commandLine: (req, walls) => commandLine('plate2', files, [...args, ...channelArgs(req, walls)]),
+          run: async (req, p) => {
+            await ensure([active.id, keyB], p);
+            const r = await ctx.client.call('plate2', { key: active.id, keyB, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
+            return r.result.profile!;
+          },
+        };
+      } else {
+        const keys = quadKeys;
+        if (keys.some((k) => !k)) throw new Error('Choose an image for every angle');
+        const anglesDeg = s.quadAngles.map((a, k) => num(a, `Angle ${k + 1}`) ?? NaN);
+        if (anglesDeg.some((a) => !Number.isFinite(a))) throw new Error('Give an angle for every image');
+        const options = { ...trainOf(s), ...summary, anglesDeg, plateBackground: rectOf(s.quadPlateBackground, 'Sample-free area of the compensator image') };
+        const plateKey = s.quadPlate || undefined;
+        const isDefault = anglesDeg.join(',') === '0,22.5,45,67.5';
+        const args = [
+          ...(isDefault ? [] : [`--angles ${anglesDeg.join(',')}`]), ...(plateKey ? [`--plate ${quote(nameOf(plateKey))}`] : []),
+          ...(options.plateBackground ? [`--plate-background ${[options.plateBackground.x, options.plateBackground.y, options.plateBackground.width, options.plateBackground.height].join(',')}`] : []),
+          ...trainArgs(options),
+        ];
+        const files = keys.map(nameOf);
+        cli = commandLine('quad', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
+        const all = plateKey ? [...keys, plateKey] : keys;
+        job = async (p) => { await ensure(all, p); return ctx.client.call('quad', { keys, plateKey, options: { ...options, profile: null } }, p); };
+        profile = {
+          commandLine: (req, walls) => commandLine('quad', files, [...args, ...channelArgs(req, walls)]),
+          run: async (req, p) => {
+            await ensure(all, p);
+            const r = await ctx.client.call('quad', { keys, plateKey, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
+            return r.result.profile!;
+          },
+        };
+      }
+    } catch (e) { setFormError((e as Error).message); return; }
+    const what = kind === 'plate' ? 'Compensator reading' : kind === 'plate2' ? 'Two-image reading' : 'Angle-series reading';
+    const reply = await ctx.runJob(what, job);
+    if (!reply) return;
+    const imageId = active.id;
+    setShown({ imageId, kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm });
+    onResult?.(reply.result);
+    onField({
+      imageId, label: kind === 'plate' ? 'compensator colour' : kind === 'plate2' ? 'two compensator images' : 'crossed polars, several angles',
+      colour: layerOf(reply.colour), confidence: layerOf(reply.confidence), retardance: reply.retardance ? layerOf(reply.retardance) : null,
+      retardanceRangeNm: reply.retardanceRangeNm, glyphs: reply.glyphs, profile,
+    });
+  }
+
+  const field = (label: string, key: keyof Settings, unit = '', placeholder = '', testId?: string) => (
+    <label className="field">
+      <span>{label}</span>
+      <input value={s[key] as string} placeholder={placeholder} data-testid={testId} onChange={(e) => set({ [key]: e.target.value } as Partial<Settings>)} />
+      {unit && <span className="unit">{unit}</span>}
+    </label>
+  );
+  const imageSelect = (label: string, value: string, onChange: (v: string) => void, list: { id: string; name: string }[], none: string, testId?: string) => (
+    <label className="field">
+      <span>{label}</span>
+      <select value={value} onChange={(e) => onChange(e.target.value)} data-testid={testId}>
+        <option value="">{none}</option>
+        {list.map((i) => <option key={i.id} value={i.id}>{i.name}</option>)}
+      </select>
+      <span />
+    </label>
+  );
+
+  const r = shown && shown.imageId === ctx.activeId ? shown : null;
+  return (
+    <div className="optical">
+      <fieldset className="choice" aria-label="Which reading">
+        <label><input type="radio" name="reading" checked={kind === 'plate'} onChange={() => setKind('plate')} /> one compensator image</label>
+        <label><input type="radio" name="reading" checked={kind === 'plate2'} onChange={() => setKind('plate2')} /> two compensator images, optics turned 45°</label>
+        <label><input type="radio" name="reading" checked={kind === 'quad'} onChange={() => setKind('quad')} /> crossed polars at several angles</label>
+      </fieldset>
+
+      {kind === 'plate' && (
+        <div className="advice" role="note" data-testid="plate-advice">
+          <strong>Set-up advice.</strong> One compensator image cannot tell a direction from its mirror image about the compensator's
+          slow axis (now {f(compDeg)}°): both give the same colour. Lay the channel or fibre axis along that slow axis (or across it):
+          then S along the axis is exact. For other directions take a second image with the optics turned by 45° (two-image reading).
+          {gap !== null && gap > 10 && (
+            <p className="note warn">Your reference axis ({f(axis)}°) is {f(gap)}° from the compensator's slow axis: S against it rests on the
+              mirror assumption shown with the result. {s.resolveMirror ? '' : 'Tick "use the texture" to settle the choice where the image has texture.'}</p>
+          )}
+        </div>
+      )}
+      {kind === 'quad' && (
+        <p className="note">Crossed polars alone give the orientation only up to 90°: a compensator image (optional below) decides which of the two it is.</p>
+      )}
+
+      {kind === 'plate2' && (
+        <>
+          <p className="note">This image ({active?.name}) is the first; choose the one taken with the polariser, compensator and analyser turned by 45° (or the stage turned the other way).</p>
+          {imageSelect('Second image', imageB, (v) => set({ imageB: v }), others, others.length ? 'choose…' : 'add the second image first', 'plate2-image-b')}
+          {field('Turned by', 'turnDeg', 'deg')}
+        </>
+      )}
+      {kind === 'quad' && (
+        <>
+          {s.quadAngles.map((a, k) => (
+            <div className="quad-row" key={k}>
+              <select aria-label={`Image ${k + 1}`} value={quadKeys[k]} data-testid={`quad-image-${k}`}
+                onChange={(e) => set({ quadImages: s.quadImages.map((v, j) => (j === k ? e.target.value : v)) })}>
+                <option value="">image {k + 1}…</option>
+                {ctx.images.map((i) => <option key={i.id} value={i.id}>{i.name}</option>)}
+              </select>
+              <input aria-label={`Angle of image ${k + 1}`} value={a} onChange={(e) => set({ quadAngles: s.quadAngles.map((v, j) => (j === k ? e.target.value : v)) })} />
+              <span className="unit">deg</span>
+            </div>
+          ))}
+          {imageSelect('Compensator image', s.quadPlate, (v) => set({ quadPlate: v }), ctx.images, 'none')}
+          {s.quadPlate && field('Its sample-free area', 'quadPlateBackground', 'px', 'x,y,w,h')}
+        </>
+      )}
+
+      <details className="settings">
+        <summary>Optical train and reading settings</summary>
+        {field('Compensator retardance', 'compensatorNm', 'nm', kind === 'quad' ? '550' : 'fit from the sample-free area, else 550')}
+        {field('Compensator slow axis', 'compensatorDeg', 'deg')}
+        {field('Polariser', 'polariserDeg', 'deg')}
+        <label className="field">
+          <span>Lamp</span>
+          <select value={s.illuminant} onChange={(e) => set({ illuminant: e.target.value })}>
+            <option value="3200K">halogen, 3200 K</option><option value="3000K">halogen, 3000 K</option><option value="D65">daylight (D65)</option><option value="A">tungsten (A, 2856 K)</option>
+          </select>
+          <span />
+        </label>
+        {kind !== 'quad' && field('Largest retardance', 'retardanceMaxNm', 'nm')}
+        {kind !== 'quad' && field('Sample-free area', 'background', 'px', 'x,y,w,h (calibrates colours)', 'plate-background')}
+        {kind !== 'quad' && (
+          <label className="field"><span>Birefringence</span>
+            <select value={s.sign} onChange={(e) => set({ sign: e.target.value as Settings['sign'] })}>
+              <option value="positive">positive (length-slow)</option><option value="negative">negative (length-fast)</option>
+            </select><span /></label>
+        )}
+        {kind === 'plate' && (
+          <label className="field"><span>Colour match</span>
+            <select value={s.match} onChange={(e) => set({ match: e.target.value as MatchSpace })}>
+              <option value="lab">colour and brightness</option><option value="chroma">colour only (uneven lamp)</option>
+            </select><span /></label>
+        )}
+      </details>
+      {field('Reference axis', 'axisDeg', 'deg', 'none', 'optics-axis')}
+      {kind === 'plate' && (
+        <label className="check"><input type="checkbox" checked={s.resolveMirror} onChange={(e) => set({ resolveMirror: e.target.checked })} /> use the texture to settle the mirror choice</label>
+      )}
+      {formError && <p className="note warn" role="alert">{formError}</p>}
+      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Read orientation and retardance</button>
+
+      {r && <OpticsTable r={r.result} rangeNm={r.rangeNm} />}
+      {r && <p className="cli" title="Run this to get the same numbers from the command line"><code data-testid="optics-cli">{r.commandLine}</code></p>}
+    </div>
+  );
+}
+
+function OpticsTable({ r, rangeNm }: { r: OpticsResult; rangeNm: [number, number] | null }) {
+  const c = r.confidence;
+  const x = r.extra as Record<string, unknown>;
+  const reg = x.registration as { shiftPx?: number; dxPx?: number; dyPx?: number } | undefined;
+  const cal = (x.calibration ?? x.calibrationA) as { compensatorNm?: number; fitted?: unknown } | null | undefined;
+  return (
+    <div>
+      <table className="results" data-testid="optics-results">
+        <tbody>
+          <tr><th scope="row">Director</th><td data-testid="optics-director">{f(r.directorDeg)}</td><td>deg, CCW from +x</td></tr>
+          <tr><th scope="row">Order S_2D</th><td data-testid="optics-order2d">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
+          {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="optics-axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? `${f(r.axisOrderCi[0])} – ${f(r.axisOrderCi[1])}` : '–'}</td></tr>}
+          {r.retardanceNmMedian !== null
+            ? <tr><th scope="row">Retardance</th><td data-testid="optics-retardance">{f(r.retardanceNmMedian)}</td><td>nm, median of the confident pixels</td></tr>
+            : typeof x.amplitudeMedian === 'number' && <tr><th scope="row">Anisotropy</th><td data-testid="optics-amplitude">{f(x.amplitudeMedian)}</td><td>median amplitude of the angle fit (relative, not nm); residual {f(x.residualMedian as number)}</td></tr>}
+          <tr><th scope="row">Confidence</th><td data-testid="optics-confidence">{f(c.mean)}</td><td>mean; median {f(c.median)}; {c.fractionAbove05 === null ? '–' : `${(100 * c.fractionAbove05).toFixed(1)} %`} of pixels ≥ 0.5</td></tr>
+          <tr><th scope="row">Pixels used</th><td data-testid="optics-n">{f(r.n)}</td><td>weights: {String(r.options.weighting)}</td></tr>
+          <tr><th scope="row">Cannot tell apart</th><td colSpan={2} className="wide" data-testid="optics-ambiguity">{r.ambiguity === 'none' ? 'nothing: full orientation over 180°' : r.ambiguity === 'mod-90' ? 'a direction from the one at 90° to it' : `a direction from its mirror image about the compensator axis (${String(r.options.compensatorDeg ?? '')}°)`}</td></tr>
+          {typeof x.mirrorAssumption === 'string' && <tr><th scope="row">Assumed</th><td colSpan={2} className="wide">{x.mirrorAssumption}</td></tr>}
+          {typeof x.mirrorChoiceMatteredFraction === 'number' && <tr><th scope="row">Choice mattered</th><td data-testid="optics-mirror-mattered">{f(x.mirrorChoiceMatteredFraction)}</td><td>of the pixels, for S against {f(r.axisDeg)}°</td></tr>}
+          {typeof x.mirrorResolvedFraction === 'number' && <tr><th scope="row">Settled by texture</th><td>{f(x.mirrorResolvedFraction)}</td><td>of the pixels</td></tr>}
+          {typeof x.plateResolvedFraction === 'number' && <tr><th scope="row">Settled by compensator</th><td>{f(x.plateResolvedFraction)}</td><td>of the pixels</td></tr>}
+          {reg && <tr className={(reg.shiftPx ?? 0) > 1 ? 'warn' : ''}><th scope="row">Image shift</th><td data-testid="optics-shift">{f(reg.shiftPx)}</td><td>px between the two images{(reg.shiftPx ?? 0) > 1 ? ': more than 1 px, so the two readings do not describe the same spots; align the images (or the stage) and take them again' : ' (registered)'}</td></tr>}
+          {cal && <tr><th scope="row">Compensator</th><td>{f(cal.compensatorNm)}</td><td>nm{cal.fitted ? ', fitted to the sample-free area' : ''}</td></tr>}
+        </tbody>
+      </table>
+      {typeof x.advice === 'string' && !r.warnings.includes(x.advice) && <p className="note">{x.advice}</p>}
+      <p className="note">Map colours are at full strength on every usable pixel; “confidence” above the image shows how well each pixel's colour matched.</p>
+      <div className="legends">
+        <LegendWheel size={110} faint={null} />
+        {rangeNm && <RetardanceBar rangeNm={rangeNm} />}
+      </div>
+      {r.warnings.length > 0 && <ul className="warnings" data-testid="optics-warnings">{r.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+    </div>
+  );
+}

@@ -1,0 +1,50 @@
+/**
+ * The `retarda` command lines that give the same numbers as the optical, fibre and calibration panels,
+ * built from the same settings the panels send to the worker (only options that differ from the
+ * command line's defaults are written out, except where being explicit helps the reader).
+ */
+import type { FibreNumbersRequest, PlateReadingOptions, TrainOptions } from '../../src/analyses/index.ts';
+import type { ProfileRequest } from '../../src/analyses/index.ts';
+import type { Rect } from '../../src/optics/index.ts';
+
+/** A file name as a shell word. */
+export const quote = (s: string) => (/^[\w.\-/]+$/.test(s) ? s : `"${s.replace(/"/g, '\\"')}"`);
+const rect = (r: Rect) => `${r.x},${r.y},${r.width},${r.height}`;
+const opt = (name: string, v: number | string | undefined | null) => (v === undefined || v === null || v === '' ? [] : [`--${name} ${typeof v === 'string' ? quote(v) : v}`]);
+
+/** The train options; values equal to the command line's defaults (polariser 0, compensator at +45 from it, 3200 K) are left out. */
+export function trainArgs(o: TrainOptions): string[] {
+  const pol = o.polariserDeg ?? 0;
+  return [
+    ...opt('compensator-nm', o.compensatorNm), ...(o.compensatorDeg !== undefined && o.compensatorDeg !== pol + 45 ? opt('compensator-deg', o.compensatorDeg) : []),
+    ...(pol !== 0 ? opt('polariser-deg', pol) : []), ...(o.illuminant && o.illuminant !== '3200K' ? opt('illuminant', o.illuminant) : []),
+  ];
+}
+
+export function plateReadingArgs(o: PlateReadingOptions): string[] {
+  return [
+    ...trainArgs(o), ...(o.retardanceMaxNm !== undefined && o.retardanceMaxNm !== 800 ? opt('retardance-max-nm', o.retardanceMaxNm) : []),
+    ...(o.background ? [`--background ${rect(o.background)}`] : []),
+    ...(o.whiteRgb ? [`--white-rgb ${o.whiteRgb.join(',')}`] : []), ...(o.sign && o.sign !== 'positive' ? [`--sign ${o.sign}`] : []),
+  ];
+}
+
+/** Channel options of a profile request (walls as "x1,y1,x2,y2;x3,y3,x4,y4" text, or found). */
+export function channelArgs(r: ProfileRequest, wallsText: string | null): string[] {
+  return [
+    wallsText ? `--walls "${wallsText}"` : '--auto-walls', ...opt('bins', r.bins), ...opt('stations', r.stations), ...opt('axis-deg', r.axisDeg),
+    ...opt('core-max', r.coreMax), ...opt('skin-min', r.skinMin), ...opt('weighting', r.weighting),
+  ];
+}
+
+export const commandLine = (name: string, files: string[], args: string[]) => ['retarda', name, ...files.map(quote), ...args].join(' ');
+
+export function fibreArgs(r: FibreNumbersRequest): string[] {
+  const ld = r.linearDensity ? [`--linear-density-${r.linearDensity.unit} ${r.linearDensity.value}`] : [];
+  const tenacityName = { 'N/tex': 'n-per-tex', 'cN/dtex': 'cn-per-dtex', 'gf/den': 'gf-per-den' } as const;
+  const ten = r.tenacity ? [`--tenacity-${tenacityName[r.tenacity.unit]} ${r.tenacity.value}`] : [];
+  return [
+    `--diameter-um ${r.diameterUm}`, `--density ${r.densityGPerCm3}`, ...ld, ...ten, ...opt('strength-gpa', r.strengthGPa),
+    ...opt('retardance-nm', r.retardanceNm), ...opt('thickness-um', r.thicknessUm), ...opt('intrinsic-birefringence', r.intrinsicBirefringence),
+  ];
+}

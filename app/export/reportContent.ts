@@ -1,0 +1,131 @@
+/**
+ * What the printable report says, assembled from the session record alone: for each analysed image
+ * the numbers with their 95 % intervals and n, the settings that made them, the equivalent command
+ * lines and the calibration state; the applied set-up; and the note on what the numbers are.
+ * Pure, so the content is unit-tested; ReportView only lays it out.
+ */
+import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import type { DiameterDocument } from '../../src/analyses/diameter.ts';
+import type { SessionRecord } from '../storage/records.ts';
+import { effectivePixelSize, setupCommandOptions, setupSummary } from '../setups/setup.ts';
+import { orientCommandLine, profileCommandLine, wallsText } from './rows.ts';
+
+export interface ReportNumber {
+  label: string;
+  value: number | null;
+  /** 95 % interval, when the analysis gives one. */
+  ci: [number, number] | null;
+  n: number | null;
+  unit: string;
+}
+
+export interface ReportImage {
+  id: string;
+  name: string;
+  /** Size and pixel size the numbers were made with. */
+  facts: string;
+  calibration: string;
+  sections: { title: string; numbers: ReportNumber[]; settings: string[]; commandLine: string | null; warnings: string[] }[];
+}
+
+export interface ReportContent {
+  title: string;
+  madeAt: string;
+  setup: { name: string; summary: string; commandOptions: string[] } | null;
+  images: ReportImage[];
+  /** Images of the session with nothing analysed, named so the reader knows they were left out. */
+  notAnalysed: string[];
+  note: string;
+}
+
+/** Always printed: what these numbers are and are not. */
+export const REPORT_NOTE = 'These are measurements made from microscope images, with the settings, calibration state and 95 % intervals stated here. They are not a safety or quality certification of any material or product.';
+
+const num = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null);
+
+function orientSection(r: OrientResult, name: string): ReportImage['sections'][number] {
+  const o = r.options as { sigmaPx?: number; weighting?: string; blockPx?: number; method?: string };
+  const numbers: ReportNumber[] = [
+    { label: 'Order S_2D', value: num(r.order2D), ci: [r.order2DCi[0], r.order2DCi[1]], n: r.n, unit: '' },
+    { label: 'Director', value: num(r.directorDeg), ci: null, n: r.n, unit: 'deg CCW from +x' },
+  ];
+  if (r.axisDeg !== null) numbers.push({ label: `S_axis against ${r.axisDeg}°`, value: num(r.axisOrder), ci: r.axisOrderCi, n: r.n, unit: '' });
+  numbers.push({ label: 'Mean coherency', value: num(r.coherencyMean), ci: null, n: r.n, unit: '' });
+  return {
+    title: 'Orientation (structure tensor)', numbers,
+    settings: [`texture scale σ ${o.sigmaPx ?? '?'} px`, `pixel weights: ${o.weighting ?? '?'}`, `interval blocks ${o.blockPx ?? '?'} px (${r.blocks} blocks)`],
+    commandLine: orientCommandLine(name, { sigmaPx: Number(o.sigmaPx), weighting: String(o.weighting), axisDeg: r.axisDeg }),
+    warnings: r.warnings,
+  };
+}
+
+function profileSection(r: ProfileResult, name: string): ReportImage['sections'][number] {
+  const o = r.options as { sigmaPx?: number; weighting?: string; bins?: number; stations?: number; coreMax?: number; skinMin?: number };
+  const texture = r.fieldMethod === 'texture';
+  return {
+    title: `Across the channel (${texture ? 'structure tensor' : `${r.fieldMethod} reading`})`,
+    numbers: [
+      { label: `Core S (|s| < ${o.coreMax})`, value: num(r.core.order), ci: [r.core.ciLow, r.core.ciHigh], n: r.core.n, unit: '' },
+      { label: `Skin S (|s| > ${o.skinMin})`, value: num(r.skin.order), ci: [r.skin.ciLow, r.skin.ciHigh], n: r.skin.n, unit: '' },
+      { label: 'Core / skin', value: num(r.coreSkinRatio), ci: [r.coreSkinRatioCi[0], r.coreSkinRatioCi[1]], n: null, unit: '' },
+      { label: 'Reference axis', value: num(r.axisDeg), ci: null, n: null, unit: 'deg' },
+    ],
+    settings: [
+      `walls ${r.wallsFound ? 'found in the image' : `drawn by hand: ${wallsText(r.walls)} px`}`, `${o.bins} bins across, ${o.stations} station(s)`,
+      `texture scale σ ${o.sigmaPx} px`, `pixel weights: ${o.weighting}`,
+    ],
+    // The command line reproduces texture profiles; optical ones are made by the reader named in the title.
+    commandLine: texture ? profileCommandLine(name, {
+      sigmaPx: Number(o.sigmaPx), weighting: String(o.weighting), bins: Number(o.bins), stations: Number(o.stations), coreMax: Number(o.coreMax), skinMin: Number(o.skinMin),
+    }, r.wallsFound ? null : wallsText(r.walls)) : null,
+    warnings: r.warnings,
+  };
+}
+
+function diameterSection(d: DiameterDocument, name: string): ReportImage['sections'][number] {
+  const um = num(d.meanUm) !== null;
+  const o = d.options as { stepPx?: number; polarity?: string };
+  const args = ['retarda diameter', /^[\w.\-/]+$/.test(name) ? name : `"${name.replace(/"/g, '\\"')}"`];
+  if (d.pixelSizeFrom === 'option' && d.pixelSizeUmPerPx) args.push(`--um-per-px ${d.pixelSizeUmPerPx}`);
+  if (o.stepPx !== undefined) args.push(`--step-px ${o.stepPx}`);
+  if (o.polarity !== undefined) args.push(`--polarity ${o.polarity}`);
+  return {
+    title: 'Fibre diameter',
+    numbers: [{
+      label: 'Mean diameter', value: num(um ? d.meanUm : d.meanPx),
+      ci: um ? (num(d.ciLowUm) !== null ? [d.ciLowUm as number, d.ciHighUm as number] : null) : (num(d.ciLowPx) !== null ? [d.ciLowPx as number, d.ciHighPx as number] : null),
+      n: num(d.n), unit: um ? 'µm' : 'px',
+    }],
+    settings: [`${d.fibres.length} fibre(s), ${d.dropped} station(s) dropped`, `pixel size ${d.pixelSizeUmPerPx ? `${d.pixelSizeUmPerPx} µm/px (${d.pixelSizeFrom === 'option' ? 'given' : 'from the file'})` : 'unknown: lengths in px'}`, d.interval],
+    commandLine: args.join(' '),
+    warnings: d.warnings,
+  };
+}
+
+/** Assembles the report of a session. */
+export function reportContent(s: SessionRecord, now = new Date()): ReportContent {
+  const images: ReportImage[] = [];
+  const notAnalysed: string[] = [];
+  for (const img of s.images) {
+    const w = s.work[img.id];
+    const sections = [
+      ...(w?.orient ? [orientSection(w.orient, img.name)] : []),
+      ...(w?.profile ? [profileSection(w.profile, img.name)] : []),
+      ...(w?.diameter ? [diameterSection(w.diameter, img.name)] : []),
+    ];
+    if (!sections.length) { notAnalysed.push(img.name); continue; }
+    const any = w!.orient ?? w!.profile ?? w!.diameter!;
+    const filePx = num(any.pixelSizeUmPerPx);
+    const px = effectivePixelSize(s.setup, filePx);
+    const calibration = px.from === 'set-up'
+      ? `${Number(px.umPerPx!.toPrecision(4))} µm/px from the set-up "${s.setup!.name}"${filePx ? ` (the file says ${filePx} µm/px)` : ''}`
+      : px.from === 'file' ? `${px.umPerPx} µm/px from the file's resolution tags` : 'not calibrated (lengths in pixels)';
+    images.push({ id: img.id, name: img.name, facts: `${any.width} × ${any.height} px`, calibration, sections });
+  }
+  return {
+    title: `Retarda report: ${s.name}`,
+    madeAt: now.toISOString(),
+    setup: s.setup ? { name: s.setup.name, summary: setupSummary(s.setup), commandOptions: [...setupCommandOptions(s.setup).train, ...setupCommandOptions(s.setup).lengths] } : null,
+    images, notAnalysed, note: REPORT_NOTE,
+  };
+}

@@ -1,0 +1,54 @@
+/**
+ * The fibre-numbers calculator as an analysis: plain numbers in (with the linear density and the
+ * tenacity in the unit the user has them), the `retarda fibre --json` document out.
+ */
+import { cnPerDtexToNPerTex, denierToTex, dtexToTex, fibreNumbers, gfPerDenToNPerTex, type FibreNumbers } from '../fibre/index.ts';
+import { InputError } from '../common/errors.ts';
+import { SCHEMA_VERSION } from './schema.ts';
+
+export type LinearDensityUnit = 'tex' | 'dtex' | 'den';
+export type TenacityUnit = 'N/tex' | 'cN/dtex' | 'gf/den';
+
+export interface FibreNumbersRequest {
+  diameterUm: number;
+  densityGPerCm3: number;
+  /** Measured linear density (for the packing fraction) in tex, dtex or denier. */
+  linearDensity?: { value: number; unit: LinearDensityUnit };
+  /** Specific stress (tenacity) in N/tex, cN/dtex or gf/den; an alternative to strengthGPa. */
+  tenacity?: { value: number; unit: TenacityUnit };
+  strengthGPa?: number;
+  retardanceNm?: number;
+  /** Optical path for the birefringence, um (default the diameter). */
+  thicknessUm?: number;
+  intrinsicBirefringence?: number;
+}
+
+export interface FibreNumbersResult extends FibreNumbers { schemaVersion: number; analysis: 'fibre' }
+
+/** 1 dtex = 0.1 tex; 1 den = 1/9 tex (tex = g/km, denier = g/9 km). */
+const TEX_FROM: Record<LinearDensityUnit, (v: number) => number> = { tex: (v) => v, dtex: dtexToTex, den: denierToTex };
+/** 1 cN/dtex = 0.1 N/tex; 1 gf/den = 0.0882598 N/tex (standard gravity). */
+const N_PER_TEX_FROM: Record<TenacityUnit, (v: number) => number> = { 'N/tex': (v) => v, 'cN/dtex': cnPerDtexToNPerTex, 'gf/den': gfPerDenToNPerTex };
+
+/**
+ * Linear density of the solid round fibre (tex = area um2 x density g/cm3 x 1e-3), dtex and denier; the
+ * packing fraction (measured / solid tex); tenacity <-> strength (GPa = N/tex x g/cm3); birefringence
+ * (retardance / thickness) and the orientation factor (birefringence / intrinsic birefringence). See fibreNumbers.
+ * @throws InputError for a missing or non-positive diameter or density, an unknown unit, or both tenacity and strength
+ */
+export function fibreNumbersResult(o: FibreNumbersRequest): FibreNumbersResult {
+  if (o.diameterUm === undefined || o.densityGPerCm3 === undefined) {
+    throw new InputError('the diameter and the density are both needed', 'e.g. retarda fibre --diameter-um 7 --density 1.8');
+  }
+  const unitOf = <U extends string>(table: Record<U, unknown>, unit: string, what: string): U => {
+    if (!(unit in table)) throw new InputError(`unknown ${what} unit "${unit}"`, `Use one of ${Object.keys(table).join(', ')}`);
+    return unit as U;
+  };
+  const tex = o.linearDensity ? TEX_FROM[unitOf(TEX_FROM, o.linearDensity.unit, 'linear density')](o.linearDensity.value) : undefined;
+  const tenacity = o.tenacity ? N_PER_TEX_FROM[unitOf(N_PER_TEX_FROM, o.tenacity.unit, 'tenacity')](o.tenacity.value) : undefined;
+  const r = fibreNumbers({
+    diameterUm: o.diameterUm, densityGPerCm3: o.densityGPerCm3, linearDensityTex: tex, tenacityNPerTex: tenacity,
+    strengthGPa: o.strengthGPa, retardanceNm: o.retardanceNm, thicknessUm: o.thicknessUm, intrinsicBirefringence: o.intrinsicBirefringence,
+  });
+  return { schemaVersion: SCHEMA_VERSION, analysis: 'fibre', ...r };
+}

@@ -1,0 +1,242 @@
+/**
+ * The optical readings (one compensator image, a pair turned by 45 deg, a four-angle crossed-polariser
+ * set) as analyses: Image(s) + plain options -> the orientation field and a JSON-ready result like
+ * `orient`'s, plus the median retardance, confidence statistics and the reader's ambiguity.
+ * `retarda plate`, `plate2`, `quad` and the app's worker call exactly these.
+ */
+import { InputError } from '../common/errors.ts';
+import { toGrey, type Image } from '../image/types.ts';
+import { orientationField, type OrientationField } from '../orientation/index.ts';
+import { orderParameters, type Weighting } from '../order/index.ts';
+import {
+  readPlate, readPlatePair, fourAngleAnalysis, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
+  compensatorAxisAdvice, resolveMirrorWithTexture,
+  type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type Rect as PixelRect, type PlateReading,
+} from '../optics/index.ts';
+import { orientResult, type OrientResult } from './orient.ts';
+import { analyseProfile, type ProfileRequest, type ProfileResult } from './profile.ts';
+
+/** The optical train as the command line describes it (crossed polars, full-wave compensator). */
+export interface TrainOptions {
+  /** Full-wave compensator retardance, nm. Default 550; when not given it is fitted from `background`. */
+  compensatorNm?: number;
+  /** Compensator slow-axis angle, degrees CCW from +x. Default polariserDeg + 45. */
+  compensatorDeg?: number;
+  /** Polariser angle, degrees CCW from +x (analyser crossed at +90). Default 0. */
+  polariserDeg?: number;
+  /** Lamp: a colour temperature such as "3200K", or "D65", or "A". Default 3200 K blackbody. */
+  illuminant?: string;
+}
+
+/** Options of the compensator-image readers (plate and plate pair). */
+export interface PlateReadingOptions extends TrainOptions {
+  /** Largest sample retardance searched, nm (default 800). */
+  retardanceMaxNm?: number;
+  /** Sample-free rectangle: fits compensator retardance, white balance and exposure. */
+  background?: PixelRect;
+  /** White reference: 8-bit codes (as stored) of a sample-free area with parallel polars. */
+  whiteRgb?: [number, number, number];
+  /** Birefringence of the structure: positive (length-slow, default) or negative (length-fast). */
+  sign?: 'positive' | 'negative';
+}
+
+/** How the field is summarised: whole-field order parameters, and a channel profile when asked. */
+export interface OpticsSummaryOptions {
+  /** Reference axis for S_axis, degrees CCW from +x. */
+  axisDeg?: number;
+  weighting?: Weighting;
+  blockPx?: number;
+  /** A channel profile of the field (walls given or found); null or absent for none. */
+  profile?: ProfileRequest | null;
+}
+
+export interface PlateOptions extends PlateReadingOptions, OpticsSummaryOptions {
+  /** 'lab' (default) or 'chroma' (brightness-independent, for uneven illumination). */
+  match?: MatchSpace;
+  /** Resolve theta vs its mirror about the compensator axis with the texture direction of the same image. */
+  resolveMirror?: boolean;
+}
+
+export interface PlatePairAnalysisOptions extends PlateReadingOptions, OpticsSummaryOptions {
+  /** Turn of the polariser-compensator-analyser assembly for image B, degrees (default 45). */
+  turnDeg?: number;
+  /** Warn when the images are shifted against each other by more than this, px (default 1). */
+  maxShiftPx?: number;
+}
+
+export interface FourAngleAnalysisOptions extends TrainOptions, OpticsSummaryOptions {
+  /** Angles of the crossed pair for the images, degrees (default 0, 22.5, 45, 67.5). */
+  anglesDeg?: number[];
+  /** Compensator image that decides the 90-deg choice (read with the train options). */
+  plate?: Image;
+  /** Sample-free rectangle of the compensator image. */
+  plateBackground?: PixelRect;
+  flatField?: Image;
+  dark?: Image;
+  /** Mask pixels below this fraction of the 99th-percentile amplitude (default 0.02). */
+  amplitudeFloor?: number;
+}
+
+/** Distribution of a field's confidence over its usable pixels (quantiles by the floor rank). */
+export interface ConfidenceStats {
+  mean: number | null; median: number | null; p10: number | null; p90: number | null;
+  fractionAbove05: number | null; n: number;
+}
+
+export interface OpticsResult extends Omit<OrientResult, 'analysis'> {
+  analysis: string;
+  retardanceNmMedian: number | null;
+  confidence: ConfidenceStats;
+  ambiguity: OrientationField['ambiguity'];
+  /** Reader-specific facts (calibration, mirror assumption, registration, ...). */
+  extra: Record<string, unknown>;
+  profile: ProfileResult | null;
+}
+
+export interface OpticsAnalysis { result: OpticsResult; field: OrientationField }
+
+export const DEFAULT_ANGLES_DEG = [0, 22.5, 45, 67.5];
+
+/** The train: polariser (default 0), crossed analyser, full-wave compensator (550 nm at polariser + 45 deg). */
+export function trainOf(o: TrainOptions): Partial<OpticalTrain> {
+  const pol = o.polariserDeg ?? 0;
+  return {
+    polariserDeg: pol, analyserDeg: pol + 90,
+    compensator: fullWavePlate(o.compensatorNm ?? 550, o.compensatorDeg ?? pol + 45),
+    illuminant: o.illuminant ? parseIlluminant(o.illuminant) : undefined,
+  };
+}
+
+function signOf(s: string | undefined): 1 | -1 {
+  const v = s ?? 'positive';
+  if (v !== 'positive' && v !== 'negative') throw new InputError(`the birefringence sign must be positive or negative, got "${v}"`);
+  return v === 'positive' ? 1 : -1;
+}
+
+/** Camera white balance from an 8-bit white reference, or undefined. */
+function cameraOf(white: [number, number, number] | undefined): CameraCalibration | undefined {
+  if (!white) return undefined;
+  if (white.length !== 3 || white.some((x) => !Number.isFinite(x) || x < 0 || x > 255)) {
+    throw new InputError(`the white reference needs three 8-bit codes "R,G,B", got "${white.join(',')}"`);
+  }
+  return whiteReference([white[0] / 255, white[1] / 255, white[2] / 255], 'srgb');
+}
+
+/** Calibration fits the compensator only when its retardance was not given. */
+const calibrationOf = (o: TrainOptions) => ({ fitCompensator: o.compensatorNm === undefined });
+
+/** Distribution of a field's confidence over its usable pixels. */
+export function confidenceStats(f: OrientationField): ConfidenceStats {
+  const v: number[] = [];
+  for (let i = 0; i < f.confidence.length; i++) if (f.mask[i]) v.push(f.confidence[i]);
+  v.sort((x, y) => x - y);
+  const q = (p: number) => (v.length ? v[Math.min(v.length - 1, Math.floor(p * (v.length - 1)))] : null);
+  return {
+    mean: v.length ? v.reduce((s, x) => s + x, 0) / v.length : null, median: q(0.5), p10: q(0.1), p90: q(0.9),
+    fractionAbove05: v.length ? v.filter((x) => x >= 0.5).length / v.length : null, n: v.length,
+  };
+}
+
+/** Median retardance over usable pixels with confidence >= 0.5 (all usable pixels when none is), nm. */
+export function retardanceMedian(f: OrientationField): number | null {
+  if (!f.retardanceNm) return null;
+  const good: number[] = [], all: number[] = [];
+  for (let i = 0; i < f.mask.length; i++) if (f.mask[i]) { all.push(f.retardanceNm[i]); if (f.confidence[i] >= 0.5) good.push(f.retardanceNm[i]); }
+  const v = (good.length ? good : all).sort((x, y) => x - y);
+  return v.length ? v[v.length >> 1] : null;
+}
+
+/** The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. */
+export async function opticsResult(analysis: string, img: Image, field: OrientationField, o: OpticsSummaryOptions, extra: Record<string, unknown>): Promise<OpticsResult> {
+  const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx });
+  const base = orientResult(img, field, s, {});
+  const profile = o.profile ? await analyseProfile(img, field, o.profile, field.options) : null;
+  return {
+    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence: confidenceStats(field), ambiguity: field.ambiguity, extra, profile,
+    warnings: [...base.warnings, ...(profile?.warnings ?? [])],
+  };
+}
+
+/** Calibration facts of a plate reading, as the JSON shows them. */
+export function calibrationJson(c: PlateCalibration | null) {
+  return c && {
+    compensatorNm: c.compensatorNm, gains: c.camera.gains, exposure: c.camera.exposure, whiteBalanceTilt: c.whiteBalanceTilt,
+    residualDeltaE00: c.residualDeltaE00, fitted: c.fitted,
+  };
+}
+
+/**
+ * One compensator image read into a field (what `plate` and `profile --source plate` use). The mirror
+ * choice reports, of theta and its mirror about the compensator axis, the one nearer `axisDeg`
+ * (default: compensator axis - 45 deg).
+ */
+export function readPlateField(img: Image, o: PlateReadingOptions & { match?: MatchSpace; axisDeg?: number }): PlateReading {
+  const match = o.match ?? 'lab';
+  if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
+  return readPlate(img, {
+    train: trainOf(o), retardanceMaxNm: o.retardanceMaxNm, match, birefringenceSign: signOf(o.sign),
+    background: o.background, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
+  });
+}
+
+/**
+ * Orientation (up to the mirror about the compensator axis) and retardance from one full-wave-plate image.
+ * With `axisDeg` away from the compensator axis, the advice to align the channel with the slow axis is
+ * added to the warnings and `extra.mirrorChoiceMatteredFraction` says for how many pixels the choice mattered.
+ */
+export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<OpticsAnalysis> {
+  const reading = readPlateField(img, o);
+  let field = reading.field;
+  let resolvedFraction: number | null = null;
+  if (o.resolveMirror) {
+    const texture = await orientationField(toGrey(img));
+    const r = resolveMirrorWithTexture(field, texture);
+    field = r.field;
+    resolvedFraction = r.resolvedFraction;
+  }
+  const compDeg = trainOf(o).compensator!.axisDeg;
+  const advice = compensatorAxisAdvice(o.axisDeg ?? compDeg, compDeg);
+  const mirror = o.axisDeg !== undefined ? mirrorChoiceStats(field, o.axisDeg) : null;
+  if (o.axisDeg !== undefined && !advice.exact && field.ambiguity !== 'none') field.warnings.push(advice.text);
+  const result = await opticsResult('plate', img, field, o, {
+    calibration: calibrationJson(reading.calibration), mirrorAssumption: field.options.mirrorAssumption,
+    mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
+    colourCellsSearched: reading.cellsMatched,
+  });
+  return { result, field };
+}
+
+/** Full orientation (0-180 deg) and retardance from two compensator images, B with the optics turned by turnDeg. */
+export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAnalysisOptions = {}): Promise<OpticsAnalysis> {
+  const r = readPlatePair(imgA, imgB, {
+    train: trainOf(o), turnDeg: o.turnDeg, retardanceMaxNm: o.retardanceMaxNm, birefringenceSign: signOf(o.sign),
+    background: o.background, calibration: calibrationOf(o), maxShiftPx: o.maxShiftPx, camera: cameraOf(o.whiteRgb),
+  });
+  const result = await opticsResult('plate2', imgA, r.field, o, {
+    imageB: imgB.source.name, calibrationA: calibrationJson(r.calibrationA), calibrationB: calibrationJson(r.calibrationB),
+    registration: r.registration,
+  });
+  return { result, field: r.field };
+}
+
+/**
+ * Four-angle crossed-polariser set: orientation mod 90 deg, amplitude and fit residual per pixel; a compensator
+ * image (`plate`) decides the 90-deg choice. Medians of amplitude and residual over the usable pixels go to `extra`.
+ */
+export async function analyseFourAngle(images: Image[], o: FourAngleAnalysisOptions = {}): Promise<OpticsAnalysis & { amplitude: Float32Array; residual: Float32Array }> {
+  const anglesDeg = o.anglesDeg ?? DEFAULT_ANGLES_DEG;
+  if (images.length !== anglesDeg.length) {
+    throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
+  }
+  const r = fourAngleAnalysis(images, {
+    anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: o.amplitudeFloor,
+    plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateBackground },
+  });
+  const amp: number[] = [], res: number[] = [];
+  for (let i = 0; i < r.amplitude.length; i++) if (r.field.mask[i]) { amp.push(r.amplitude[i]); res.push(r.residual[i]); }
+  const med = (v: number[]) => (v.length ? v.sort((x, y) => x - y)[v.length >> 1] : null);
+  const result = await opticsResult('quad', images[0], r.field, o, {
+    anglesDeg, amplitudeMedian: med(amp), residualMedian: med(res), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
+  });
+  return { result, field: r.field, amplitude: r.amplitude, residual: r.residual };
+}

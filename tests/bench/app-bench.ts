@@ -1,0 +1,168 @@
+/**
+ * Browser benchmark of the bench app (prints figures, asserts nothing):
+ *   node bin/run-ts.mjs tests/bench/app-bench.ts
+ *
+ * Builds the app, serves the build with vite preview on a free localhost port and drives Debian's
+ * chromium (/usr/bin/chromium) through playwright-core, then prints:
+ *   1. time to bring in and to analyse a 12-megapixel image in the browser (orientation analysis),
+ *   2. long tasks (> 50 ms) on the page's main thread during that analysis (PerformanceObserver 'longtask'),
+ *   3. live readout readings per second and latency at 1280 x 720 from chromium's fake camera
+ *      (at the default 1/2 readout size and at full size),
+ *   4. cold start of the installed app with the network off: a fresh browser on the same profile,
+ *      server stopped, to the first interactive screen and to the analysis engine being ready.
+ */
+import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { createServer } from 'node:net';
+import { loadavg, tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { encode } from 'fast-png';
+import type { BrowserContext, Page } from 'playwright-core';
+
+const CHROMIUM = '/usr/bin/chromium';
+const ROOT = resolve(import.meta.dirname, '../..');
+const OUT = join(ROOT, 'test-output', 'app-bench');
+const ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update',
+  '--disable-sync', '--use-fake-device-for-media-stream', '--use-fake-ui-for-media-stream'];
+
+function freePort(): Promise<number> {
+  return new Promise((res, rej) => {
+    const s = createServer();
+    s.once('error', rej);
+    s.listen(0, '127.0.0.1', () => { const p = (s.address() as { port: number }).port; s.close(() => res(p)); });
+  });
+}
+
+/** A 4000 x 3000 (12 MP) grey texture: stripes whose direction drifts slowly across the picture, plus noise. */
+function twelveMegapixelPng(): Uint8Array {
+  const w = 4000, h = 3000, data = new Uint8Array(w * h);
+  let seed = 99;
+  const rand = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+    const a = 0.4 * Math.sin(x / 900) + 0.3 * Math.cos(y / 700);
+    const across = -x * Math.sin(a) + y * Math.cos(a);
+    data[y * w + x] = Math.max(0, Math.min(255, Math.round(128 + 80 * Math.sin(across / 1.3) + 30 * (rand() - 0.5))));
+  }
+  return encode({ width: w, height: h, data, channels: 1, depth: 8 });
+}
+
+const LONG_TASK_OBSERVER = () => {
+  const w = window as unknown as { __longTasks: { start: number; duration: number }[] };
+  w.__longTasks = [];
+  try {
+    new PerformanceObserver((list) => { for (const e of list.getEntries()) w.__longTasks.push({ start: e.startTime, duration: e.duration }); })
+      .observe({ type: 'longtask', buffered: true });
+  } catch { /* longtask timing not supported */ }
+};
+
+const ms = (v: number) => `${v.toFixed(0)} ms`;
+
+async function launch(profileDir: string): Promise<{ context: BrowserContext; page: Page }> {
+  const { chromium } = await import('playwright-core');
+  const context = await chromium.launchPersistentContext(profileDir, { executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 860 }, args: ARGS });
+  await context.addInitScript(LONG_TASK_OBSERVER);
+  const page = context.pages()[0] ?? await context.newPage();
+  return { context, page };
+}
+
+async function main(): Promise<void> {
+  if (!existsSync(CHROMIUM)) { console.log(`app-bench: ${CHROMIUM} is missing (apt-get install -y chromium); nothing measured.`); return; }
+  mkdirSync(OUT, { recursive: true });
+  const imagePath = join(OUT, 'texture-12mp.png');
+  if (!existsSync(imagePath)) { process.stdout.write('making a 12 MP test image… '); writeFileSync(imagePath, twelveMegapixelPng()); console.log('done'); }
+
+  const { build, preview } = await import('vite');
+  const outDir = join(OUT, 'dist');
+  const nodeEnv = process.env.NODE_ENV;
+  process.env.NODE_ENV = 'production';
+  const tb = performance.now();
+  await build({ configFile: join(ROOT, 'vite.config.ts'), mode: 'production', logLevel: 'error', build: { outDir, emptyOutDir: true } });
+  process.env.NODE_ENV = nodeEnv;
+  console.log(`vite build: ${ms(performance.now() - tb)}; load average now ${loadavg().map((v) => v.toFixed(1)).join(' ')} on ${(await import('node:os')).cpus().length} cores (other work on the machine slows every figure)`);
+  const port = await freePort();
+  const server = await preview({ configFile: join(ROOT, 'vite.config.ts'), logLevel: 'error', build: { outDir }, preview: { port, strictPort: true, host: '127.0.0.1', open: false } });
+  const url = `http://127.0.0.1:${port}/`;
+  const profileDir = mkdtempSync(join(tmpdir(), 'retarda-app-bench-'));
+  let serverOpen = true;
+  try {
+    let { context, page } = await launch(profileDir);
+    await page.goto(url);
+    await page.getByText('Works offline').waitFor({ timeout: 60_000 });
+
+    // 3. Live readout at 1280 x 720 from the fake camera.
+    await page.getByRole('button', { name: 'Camera', exact: true }).click();
+    await page.getByLabel('Resolution').selectOption({ label: '1280 × 720' });
+    await page.getByTestId('live-order').waitFor({ timeout: 60_000 });
+    const camera = (await page.getByTestId('camera-size').textContent())?.trim();
+    const measure = async (label: string) => {
+      await page.waitForTimeout(2500);
+      const c0 = Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
+      const a = Date.now();
+      const liveStart = await page.evaluate(() => performance.now());
+      await page.waitForTimeout(6000);
+      const c1 = Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
+      const rate = ((c1 - c0) * 1000) / (Date.now() - a);
+      const lat = (await page.getByTestId('live-latency').textContent())?.trim();
+      const basis = (await page.getByTestId('live-basis').textContent())?.match(/Analysed at [^:;]+/)?.[0];
+      const lt = await page.evaluate((from) => (window as unknown as { __longTasks: { start: number }[] }).__longTasks.filter((t) => t.start >= from).length, liveStart);
+      console.log(`  ${label}: ${rate.toFixed(1)} readings/s, latency ${lat} ms (${basis}); main-thread long tasks in 6 s: ${lt}`);
+    };
+    console.log(`\nLive readout (${camera}; two workers taking frames in turn):`);
+    await measure('readout at 1/2 size (default)');
+    await page.getByLabel('Readout size').selectOption({ index: 0 });
+    await measure('readout at full size         ');
+    await page.getByRole('button', { name: 'Close the camera' }).click();
+
+    // 1-2. A 12 MP image: bring it in, then the orientation analysis, watching the main thread.
+    await page.getByRole('button', { name: 'Sessions' }).click();
+    await page.getByRole('button', { name: 'New session' }).click();
+    const t0 = Date.now();
+    await page.getByTestId('file-input').setInputFiles(imagePath);
+    await page.getByTestId('image-facts').waitFor({ timeout: 120_000 });
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 120_000 });
+    const broughtIn = Date.now() - t0;
+    const startMark = await page.evaluate(() => performance.now());
+    const t1 = Date.now();
+    await page.getByRole('button', { name: 'Analyse orientation' }).click();
+    await page.getByTestId('director').waitFor({ timeout: 180_000 });
+    const analysed = Date.now() - t1;
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
+    const shownAll = Date.now() - t1;
+    const tasks = await page.evaluate((from) => (window as unknown as { __longTasks: { start: number; duration: number }[] }).__longTasks.filter((t) => t.start >= from), startMark);
+    console.log('\n12-megapixel image (4000 x 3000, 8-bit grey PNG):');
+    console.log(`  bring in (read, decode in the worker, picture): ${ms(broughtIn)}`);
+    console.log(`  orientation analysis, click to numbers shown:   ${ms(analysed)} (to the map drawn and progress gone: ${ms(shownAll)})`);
+    console.log(`  main-thread long tasks (> 50 ms) during it:      ${tasks.length}${tasks.length ? `, longest ${ms(Math.max(...tasks.map((t) => t.duration)))}, total ${ms(tasks.reduce((s, t) => s + t.duration, 0))}` : ''}`);
+
+    // 4. Cold start offline: an empty session opens, then a fresh browser with the network off.
+    await page.getByRole('button', { name: 'Sessions' }).click();
+    await page.getByRole('button', { name: 'New session' }).click();
+    // The service worker takes control of pages loaded after it installed.
+    await page.reload();
+    await page.getByText('Works offline').waitFor({ timeout: 60_000 });
+    await page.waitForFunction(() => navigator.serviceWorker?.controller !== null, undefined, { timeout: 30_000 });
+    await page.waitForTimeout(500);
+    await context.close();
+    await server.close();
+    serverOpen = false;
+    const cold: { interactive: number; engine: number }[] = [];
+    for (let i = 0; i < 3; i++) {
+      ({ context, page } = await launch(profileDir));
+      await context.setOffline(true);
+      const tStart = Date.now();
+      await page.goto(url);
+      await page.getByRole('button', { name: 'Add images…' }).first().waitFor({ timeout: 30_000 });
+      const interactive = Date.now() - tStart;
+      await page.getByText('Works offline').waitFor({ timeout: 60_000 });
+      cold.push({ interactive, engine: Date.now() - tStart });
+      await context.close();
+    }
+    console.log('\nCold start of the installed app, offline (fresh browser on the same profile, server stopped), 3 runs:');
+    console.log(`  to an interactive screen (buttons drawn):  ${cold.map((c) => ms(c.interactive)).join(', ')}`);
+    console.log(`  to the analysis engine ready:              ${cold.map((c) => ms(c.engine)).join(', ')}`);
+  } finally {
+    if (serverOpen) await server.close().catch(() => undefined);
+    rmSync(profileDir, { recursive: true, force: true });
+  }
+}
+
+await main();
