@@ -32,6 +32,8 @@ export interface TrainOptions {
 export interface PlateReadingOptions extends TrainOptions {
   /** Largest sample retardance searched, nm (default 800). */
   retardanceMaxNm?: number;
+  /** One image: pixels read below this retardance are masked as sample-free (default 20 nm). */
+  retardanceMinNm?: number;
   /** Sample-free rectangle: fits compensator retardance, white balance and exposure. */
   background?: PixelRect;
   /** White reference: 8-bit codes (as stored) of a sample-free area with parallel polars. */
@@ -174,7 +176,7 @@ export function readPlateField(img: Image, o: PlateReadingOptions & { match?: Ma
   const match = o.match ?? 'lab';
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
   return readPlate(img, {
-    train: trainOf(o), retardanceMaxNm: o.retardanceMaxNm, match, birefringenceSign: signOf(o.sign),
+    train: trainOf(o), retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, match, birefringenceSign: signOf(o.sign),
     background: o.background, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
   });
 }

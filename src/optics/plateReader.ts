@@ -30,6 +30,11 @@ export interface PlateReadOptions extends SearchOptions {
   referenceAxisDeg?: number;
   /** Colour-cube search resolution, bits per channel (default 6; confidence and branch use one bit more). */
   cacheBits?: number;
+  /**
+   * Pixels read below this retardance show no measurable sample (background, isotropic regions): their
+   * orientation is undefined, so they are masked and counted. Default 20 nm; 0 keeps every pixel.
+   */
+  retardanceMinNm?: number;
 }
 
 export interface PlateReading {
@@ -53,6 +58,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   if (!train.compensator) throw new InputError('reading orientation from one colour image needs a compensator in the train', 'Give the compensator retardance and angle');
   if (train.monochromeNm !== undefined) throw new InputError('a compensator image is read in white light, not through a narrow-band filter', 'Remove the filter wavelength');
   const bits = checkNumber('cache bits', options.cacheBits ?? 6, 4, 7);
+  const floorNm = checkNumber('smallest retardance read', options.retardanceMinNm ?? 20, 0, 500, 'nm');
   const sign = options.birefringenceSign ?? 1;
   const space = options.match ?? 'lab';
   let calibration: PlateCalibration | null = null;
@@ -103,7 +109,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     for (let k = 0; k < dims; k++) d += (C[idx * dims + k] - q[k]) ** 2;
     return Math.sqrt(d);
   };
-  let matched = 0;
+  let matched = 0, belowFloor = 0;
   for (let i = 0; i < n; i++) {
     const sub = subCells[i];
     if (sub < 0) continue;
@@ -128,8 +134,10 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     angleRad[i] = rowAngleRad[j];
     retardanceNm[i] = lookup.retardancesNm[e - j * nR];
     confidence[i] = sConf[sub];
+    if (retardanceNm[i] < floorNm) { belowFloor++; continue; }
     mask[i] = 1;
   }
+  if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   if (saturated > 0) warnings.push(`${saturated} saturated pixels were masked (${((100 * saturated) / n).toFixed(2)} %)`);
   if (invalid > 0) warnings.push(`${invalid} pixels with values outside [0, 1] were masked`);
   const field: OrientationField = {
@@ -141,7 +149,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     options: {
       polariserDeg: train.polariserDeg, analyserDeg: train.analyserDeg, compensatorNm: train.compensator.retardanceNm,
       compensatorDeg: axis, illuminant: train.illuminant, retardanceMaxNm: lookup.retardancesNm[lookup.retardancesNm.length - 1],
-      match: space, birefringenceSign: sign, referenceAxisDeg: ref, cacheBits: bits,
+      match: space, birefringenceSign: sign, referenceAxisDeg: ref, cacheBits: bits, retardanceMinNm: floorNm,
       mirrorAssumption: mirror !== null ? `orientation taken within 45 deg of ${wrapAxialDeg(ref)} deg (of theta and ${2 * mirror} - theta, the nearer)` : 'none',
     },
     warnings,

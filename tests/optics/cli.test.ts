@@ -53,7 +53,9 @@ describe('retarda plate', () => {
     expect(j.ambiguity).toBe('mirror-about-compensator');
     expect(j.extra.calibration.compensatorNm).toBe(550);
     expect(j.extra.calibration.exposure).toBeCloseTo(0.75, 1);
-    expect(j.confidence.n).toBe(W * H);
+    // Sample pixels all stay; the 12-px sample-free strip reads near 0 nm and is mostly masked (20 nm floor).
+    expect(j.confidence.n).toBeGreaterThanOrEqual((W - 12) * H);
+    expect(j.confidence.n).toBeLessThanOrEqual((W - 12) * H + 0.5 * 12 * H);
     expect(typeof j.retardanceNmMedian).toBe('number');
     expect(readFileSync(join(dir, 'p.tif')).length).toBeGreaterThan(W * H * 4);
     expect(out.table).toContain('retardance nm (median)');
@@ -80,7 +82,9 @@ describe('retarda plate', () => {
     // An open beam recorded at exposure 0.75 with a neutral camera: sRGB code of 0.75 on every channel.
     const code = Math.round(255 * (1.055 * 0.75 ** (1 / 2.4) - 0.055));
     const j = (await run(plateCommand, [plateA, '--white-rgb', `${code},${code},${code}`])).json as Record<string, any>;
-    expect(j.confidence.n).toBe(W * H);
+    // Sample pixels all stay; the 12-px sample-free strip reads near 0 nm and is mostly masked (20 nm floor).
+    expect(j.confidence.n).toBeGreaterThanOrEqual((W - 12) * H);
+    expect(j.confidence.n).toBeLessThanOrEqual((W - 12) * H + 0.5 * 12 * H);
     expect(j.warnings.join(' ')).not.toContain('no background rectangle');
   });
 });

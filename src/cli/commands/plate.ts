@@ -24,6 +24,7 @@ export const TRAIN_OPTIONS: OptionSpec[] = [
 export const PLATE_OPTIONS: OptionSpec[] = [
   ...TRAIN_OPTIONS,
   { name: 'retardance-max-nm', kind: 'number', help: 'largest sample retardance searched, nm', defaultText: '800' },
+  { name: 'retardance-min-nm', kind: 'number', help: 'one image: mask pixels read below this retardance as sample-free, nm', defaultText: '20' },
   { name: 'background', kind: 'string', help: 'sample-free rectangle "x,y,w,h": fits compensator retardance, white balance and exposure' },
   { name: 'white-rgb', kind: 'string', help: 'white reference "R,G,B" (8-bit codes as stored) of a sample-free area with parallel polars: sets the white balance' },
   { name: 'sign', kind: 'string', help: 'birefringence of the structure: positive (length-slow) or negative (length-fast)', defaultText: 'positive' },
@@ -57,7 +58,7 @@ function signFrom(a: ParsedArgs): 'positive' | 'negative' | undefined {
 export function plateReadingFrom(a: ParsedArgs): PlateReadingOptions {
   const bg = stringOpt(a, 'background');
   return {
-    ...trainOptionsFrom(a), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), background: bg ? parseRect(bg) : undefined,
+    ...trainOptionsFrom(a), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), retardanceMinNm: numberOpt(a, 'retardance-min-nm'), background: bg ? parseRect(bg) : undefined,
     whiteRgb: whiteFrom(a), sign: signFrom(a),
   };
 }
