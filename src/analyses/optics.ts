@@ -153,9 +153,15 @@ export async function opticsResult(analysis: string, img: Image, field: Orientat
   const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx });
   const base = orientResult(img, field, s, {});
   const profile = o.profile ? await analyseProfile(img, field, o.profile, field.options) : null;
+  const confidence = confidenceStats(field);
+  // Say it plainly when the colours do not pin the readings down, rather than let the averages look sure.
+  const unsure = confidence.fractionAbove05 !== null && confidence.fractionAbove05 < 0.2
+    ? [`only ${(100 * confidence.fractionAbove05).toFixed(1)} % of pixels are read with confidence 0.5 or more: the colours fit several (angle, retardance) pairs, so these orientation numbers are not reliable. ${
+      field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate2)' : 'Check the calibration (--background) and the optical train'}`]
+    : [];
   return {
-    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence: confidenceStats(field), ambiguity: field.ambiguity, extra, profile,
-    warnings: [...base.warnings, ...(profile?.warnings ?? [])],
+    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence, ambiguity: field.ambiguity, extra, profile,
+    warnings: [...base.warnings, ...unsure, ...(profile?.warnings ?? [])],
   };
 }
 

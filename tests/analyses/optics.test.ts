@@ -58,6 +58,19 @@ describe('analysePlate', () => {
     expect(result.extra.mirrorChoiceMatteredFraction as number).toBeGreaterThan(0.6);
   });
 
+  it('says the numbers are not reliable when the colours fit several (angle, retardance) pairs', async () => {
+    // To first order one plate image measures only Gamma sin 2 theta (domain.md §2 [D]): -20 deg / 200 nm is
+    // readable, while +15 deg / 100 nm lies on a curve of look-alikes (the same Gamma sin 2 theta = 50 nm as
+    // +30 deg / 58 nm), so its pixels get low confidence and the result must say so.
+    const clear = renderSampleImage(W, H, uniform(-20, 200), resolveTrain(), { noiseSd: 0.002, seed: 8, camera: cam });
+    const murky = renderSampleImage(W, H, uniform(15, 100), resolveTrain(), { noiseSd: 0.002, seed: 9, camera: cam });
+    const a = (await analysePlate(clear, { background, compensatorNm: 550, ...sampleOnly })).result;
+    const b = (await analysePlate(murky, { background, compensatorNm: 550, ...sampleOnly })).result;
+    expect(a.confidence.fractionAbove05!).toBeGreaterThan(b.confidence.fractionAbove05!);
+    expect(a.warnings.join(' ')).not.toMatch(/not reliable/);
+    expect(b.warnings.join(' ')).toMatch(/not reliable/);
+  });
+
   it('gives a channel profile of the plate field when walls are asked for', async () => {
     const walls: Channel = { walls: [{ x1: 10, y1: 1, x2: 39, y2: 1 }, { x1: 10, y1: 22, x2: 39, y2: 22 }] };
     const { result } = await analysePlate(img, { background, compensatorNm: 550, profile: { channel: walls, bins: 4, axisDeg: 45 } });
