@@ -68,6 +68,7 @@ export function App() {
   const [listing, setListing] = useState<{ sessions: SessionSummary[]; asideCount: number }>({ sessions: [], asideCount: 0 });
   const [showSessions, setShowSessions] = useState(false);
   const [showSetups, setShowSetups] = useState(false);
+  /** Whether the analysis worker can hand over a field as a float TIFF (asked once it has started). */
   const [printable, setPrintable] = useState<{ content: ReportContent; view: { imageId: string; url: string } | null } | null>(null);
   const [messages, setMessages] = useState<Message[]>([]);
   const [busy, setBusy] = useState<Busy | null>(null);
@@ -640,6 +641,7 @@ export function App() {
               ctx={{ client, images: session!.images, activeId: active.id, sourceOf, runJob, disabled: !!busy || engine === 'failed' }}
               onField={(f) => { setOptical(f); setFieldChoice('optical'); setMode((m) => (m === 'none' || m === 'glyphs' ? 'colour' : m)); }}
               onMarks={(imageId, m) => setMarks({ imageId, marks: m })}
+              onDiameter={(id, d) => change({ type: 'diameter', id, result: d })}
             />
 
             <section>

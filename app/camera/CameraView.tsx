@@ -171,7 +171,8 @@ export function CameraView(p: Props) {
     const c = overlay.current, v = video.current;
     if (!c || !v) return;
     const cw = c.clientWidth, ch = c.clientHeight, dpr = window.devicePixelRatio || 1;
-    c.width = Math.round(cw * dpr); c.height = Math.round(ch * dpr);
+    // Resizing a canvas reallocates it: only when the layout changed.
+    if (c.width !== Math.round(cw * dpr) || c.height !== Math.round(ch * dpr)) { c.width = Math.round(cw * dpr); c.height = Math.round(ch * dpr); }
     const g = c.getContext('2d')!;
     g.setTransform(dpr, 0, 0, dpr, 0, 0);
     g.clearRect(0, 0, cw, ch);

@@ -46,7 +46,7 @@ export function diameterMarks(d: DiameterDocument): Mark[] {
   return marks;
 }
 
-interface DiameterProps { ctx: PanelContext; pixelSize: SessionPixelSize | null; onMarks(imageId: string, marks: Mark[]): void; onResult?(d: DiameterDocument): void }
+interface DiameterProps { ctx: PanelContext; pixelSize: SessionPixelSize | null; onMarks(imageId: string, marks: Mark[]): void; onResult?(imageId: string, d: DiameterDocument): void }
 
 export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterProps) {
   const [s, setS] = useState({ umPerPx: '', stepPx: '10', averagePx: '5', polarity: 'auto', backgroundDegree: '2' });
@@ -82,7 +82,7 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
     if (!doc) return;
     setShown({ imageId: id, doc, cli: commandLine('diameter', [active.name], args) });
     onMarks(id, diameterMarks(doc));
-    onResult?.(doc);
+    onResult?.(id, doc);
   }
 
   const d = shown && shown.imageId === ctx.activeId ? shown.doc : null;

@@ -8,6 +8,7 @@ import { useState } from 'react';
 import { OpticalPanel, type OpticalField, type PanelContext } from './OpticalPanel.tsx';
 import { DiameterPanel, FibreNumbersPanel, MicrometerPanel, type SessionPixelSize } from './FibrePanels.tsx';
 import type { Mark } from './Viewer.tsx';
+import type { DiameterDocument } from '../../src/analyses/index.ts';
 
 export type { OpticalField, PanelContext } from './OpticalPanel.tsx';
 
@@ -18,9 +19,11 @@ interface Props {
   ctx: PanelContext;
   onField(f: OpticalField): void;
   onMarks(imageId: string, marks: Mark[]): void;
+  /** A diameter result for an image, kept with the session (Compare shows it). */
+  onDiameter(imageId: string, d: DiameterDocument): void;
 }
 
-export function MoreAnalyses({ ctx, onField, onMarks }: Props) {
+export function MoreAnalyses({ ctx, onField, onMarks, onDiameter }: Props) {
   const [tab, setTab] = useState<Tab>('optical');
   const [pixelSize, setPixelSize] = useState<SessionPixelSize | null>(null);
   const [diameterUm, setDiameterUm] = useState<number | null>(null);
@@ -35,7 +38,7 @@ export function MoreAnalyses({ ctx, onField, onMarks }: Props) {
       </div>
       {/* Panels stay mounted so their settings and results survive switching tabs. */}
       <div hidden={tab !== 'optical'}><OpticalPanel ctx={ctx} onField={onField} onResult={(r) => setRetardanceNm(r.retardanceNmMedian)} /></div>
-      <div hidden={tab !== 'diameter'}><DiameterPanel ctx={ctx} pixelSize={pixelSize} onMarks={onMarks} onResult={(d) => setDiameterUm(d.meanUm)} /></div>
+      <div hidden={tab !== 'diameter'}><DiameterPanel ctx={ctx} pixelSize={pixelSize} onMarks={onMarks} onResult={(id, d) => { setDiameterUm(d.meanUm); onDiameter(id, d); }} /></div>
       <div hidden={tab !== 'micrometer'}><MicrometerPanel ctx={ctx} pixelSize={pixelSize} onUse={setPixelSize} /></div>
       <div hidden={tab !== 'numbers'}><FibreNumbersPanel ctx={ctx} measuredDiameterUm={diameterUm} measuredRetardanceNm={retardanceNm} /></div>
     </section>

@@ -63,19 +63,23 @@ function drawScaleBar(g: CanvasRenderingContext2D, widthCanvas: number, heightCa
 
 /** Composes the picture and encodes it as PNG. */
 export async function viewPicturePng(v: ViewPictureInput): Promise<Blob> {
-  // The picture's own resolution (large images are already reduced for display by the worker).
-  const pw = v.image.width, ph = v.image.height, k = pw / v.imageWidth;
+  // The picture's own resolution (large images are already reduced for display by the worker);
+  // small pictures are enlarged by a whole factor (pixels kept sharp) so the labels stay readable.
+  const up = Math.max(1, Math.round(960 / v.image.width));
+  const pw = v.image.width * up, ph = v.image.height * up, k = pw / v.imageWidth;
   const captionH = Math.max(28, Math.round(pw * 0.03));
   const c = document.createElement('canvas');
   c.width = pw; c.height = ph + captionH;
   const g = c.getContext('2d')!;
   g.fillStyle = '#fff'; g.fillRect(0, 0, c.width, c.height);
+  g.imageSmoothingEnabled = false;
   g.drawImage(v.image.levels[0], 0, 0, pw, ph);
   if (v.overlay) {
     g.globalAlpha = v.opacity;
     g.drawImage(v.overlay.levels[0], 0, 0, pw, ph);
     g.globalAlpha = 1;
   }
+  g.imageSmoothingEnabled = true;
   for (const [i, s] of (v.walls ?? []).entries()) {
     g.strokeStyle = '#000'; g.lineWidth = Math.max(3, pw / 300);
     g.beginPath(); g.moveTo((s.x1 + 0.5) * k, (s.y1 + 0.5) * k); g.lineTo((s.x2 + 0.5) * k, (s.y2 + 0.5) * k); g.stroke();

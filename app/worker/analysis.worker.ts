@@ -9,6 +9,7 @@ import {
   fibreNumbersResult, readPlateField, type OrientOptions, type OpticsAnalysis,
 } from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
+import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
 import { isInputError } from '../../src/common/errors.ts';
 import { loadCv } from '../../src/cv/opencv.ts';
 import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
@@ -141,6 +142,10 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     return { value: fibreNumbersResult(request), transfer: [] };
   },
 
+  async fieldTiff({ key, options, description }, progress) {
+    const bytes = fieldTiffBytes(await textureField(key, options, progress), description);
+    return { value: { bytes: bytes.buffer as ArrayBuffer }, transfer: [bytes.buffer as ArrayBuffer] };
+  },
   async findWalls({ key }, progress) {
     progress('looking for the two walls', 0.2);
     const found = await findWalls(toGrey(imageOf(key)));

@@ -72,6 +72,8 @@ export interface CommandTable {
   micrometer: { args: ImageRef & { options: MicrometerAnalysisOptions }; reply: MicrometerDocument };
   fibreNumbers: { args: { request: FibreNumbersRequest }; reply: FibreNumbersResult };
   findWalls: { args: ImageRef; reply: { channel: Channel; strength: [number, number] } };
+  /** The texture field of the image (the cached one when the options match) as the bytes --field-out writes. */
+  fieldTiff: { args: ImageRef & { options: OrientOptions; description: string }; reply: { bytes: ArrayBuffer } };
   forget: { args: ImageRef; reply: { forgotten: boolean } };
 }
 

@@ -1,6 +1,5 @@
 import type { OrientationField } from '../orientation/index.ts';
-import { fieldPages } from '../report/fields.ts';
-import { encodeFloatTiff } from '../report/tiff.ts';
+import { fieldTiffBytes } from '../report/fieldTiff.ts';
 import { writeBytes } from './io.ts';
 
 /** FILE.tif for one image; FILE-<image>.tif for each of several. */
@@ -13,5 +12,5 @@ export function fieldOutPath(template: string, imageName: string, count: number)
 
 /** Writes the field as a float TIFF, one quantity per page (angles in degrees). */
 export async function writeFieldTiff(path: string, field: OrientationField, description: string): Promise<void> {
-  await writeBytes(path, encodeFloatTiff(fieldPages(field), { pixelSizeUmPerPx: field.pixelSizeUmPerPx, description }));
+  await writeBytes(path, fieldTiffBytes(field, description));
 }

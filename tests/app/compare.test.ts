@@ -114,3 +114,17 @@ describe('profile series for the overlay plot', () => {
     expect(mixedBands(compareRows([sessionWith('s', 'S', [{ id: 'a', name: 'a.png', profile: a }, { id: 'b', name: 'b.png', profile: a }])]))).toBe(false);
   });
 });
+
+describe('diameters kept with the session', () => {
+  it('restoreSession keeps a diameter document and leaves out (and names) one that is not', async () => {
+    const { restoreSession } = await import('../../app/storage/records.ts');
+    const s = sessionWith('s', 'Fibres', [{ id: 'a', name: 'f.png', diameter: { meanPx: 25, n: 40 } }]);
+    const back = restoreSession(JSON.parse(JSON.stringify(s)));
+    expect(back.ok && back.value.work.a.diameter?.meanPx).toBe(25);
+    const broken = JSON.parse(JSON.stringify(s));
+    broken.work.a.diameter = { analysis: 'orient' };
+    const r = restoreSession(broken);
+    expect(r.ok && r.value.work.a.diameter).toBeUndefined();
+    expect(r.ok && r.lossy).toBe(true);
+  });
+});
