@@ -4,6 +4,7 @@
  * least-squares fit c = P m + c0. Unlike the argmax of a spectrum this cannot lock onto a harmonic:
  * narrow lines have harmonics as strong as the fundamental, and the spectral peak then reads P/2.
  */
+import { median } from '../common/sampling.ts';
 import { InputError } from '../common/errors.ts';
 
 export interface LineFit {
@@ -102,12 +103,6 @@ function halfHeightCentre(v: Float64Array, peak: Peak): number {
   const xl = l + (level - v[l]) / (v[l + 1] - v[l]);
   const xr = r - (level - v[r]) / (v[r - 1] - v[r]);
   return 0.5 * (xl + xr);
-}
-
-function median(a: number[]): number {
-  const s = Float64Array.from(a).sort();
-  const m = s.length >> 1;
-  return s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
 }
 
 /**

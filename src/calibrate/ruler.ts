@@ -3,6 +3,7 @@
  * gradient structure tensor of the whole image (the lines dominate it), refined by maximising the
  * contrast of the profile; the profile is the mean of bilinear samples along each line.
  */
+import { bilinear } from '../common/sampling.ts';
 import type { Plane } from '../common/plane.ts';
 
 export interface RulerProfile {
@@ -14,19 +15,6 @@ export interface RulerProfile {
   acrossY: number;
   /** Coherency of the summed structure tensor, 0 (no direction) .. 1 (pure lines). */
   coherency: number;
-}
-
-function bilinear(p: Plane, x: number, y: number): number {
-  if (!(x >= 0 && y >= 0 && x <= p.width - 1 && y <= p.height - 1)) return NaN;
-  const x0 = Math.min(Math.floor(x), Math.max(0, p.width - 2));
-  const y0 = Math.min(Math.floor(y), Math.max(0, p.height - 2));
-  const fx = x - x0;
-  const fy = y - y0;
-  const i = y0 * p.width + x0;
-  const dx = p.width > 1 ? 1 : 0;
-  const dy = p.height > 1 ? p.width : 0;
-  const d = p.data;
-  return (d[i] * (1 - fx) + d[i + dx] * fx) * (1 - fy) + (d[i + dy] * (1 - fx) + d[i + dy + dx] * fx) * fy;
 }
 
 /** Angle (radians, image coordinates) of the mean gradient direction and the tensor's coherency. */

@@ -1,3 +1,4 @@
+import { clampedBilinear } from '../common/sampling.ts';
 import { InputError } from '../common/errors.ts';
 import type { Plane } from '../common/plane.ts';
 import { loadCv, cvError } from '../cv/opencv.ts';
@@ -129,13 +130,6 @@ function blockAverage(p: Plane, k: number): Plane {
   return { width: w, height: h, data: Float32Array.from(sum, (v, j) => v / cnt[j]) };
 }
 
-function bilinear(p: Plane, x: number, y: number): number {
-  const x0 = Math.max(0, Math.min(p.width - 2, Math.floor(x))), y0 = Math.max(0, Math.min(p.height - 2, Math.floor(y)));
-  const fx = Math.min(1, Math.max(0, x - x0)), fy = Math.min(1, Math.max(0, y - y0));
-  const i = y0 * p.width + x0;
-  return (1 - fy) * ((1 - fx) * p.data[i] + fx * p.data[i + 1]) + fy * ((1 - fx) * p.data[i + p.width] + fx * p.data[i + p.width + 1]);
-}
-
 /**
  * Moves a coarse wall onto the full-resolution edge: at points every 2 px along it, the profile across
  * it (averaged over 5 px along the wall and smoothed across by sigma 1.5 px, enough to steady the
@@ -154,14 +148,14 @@ function refineWall(p: Plane, seg: Segment, reach: number): Segment {
   let side = 0;
   for (let t = 0; t <= len; t += 8) {
     const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
-    side += bilinear(p, cx + reach * nx, cy + reach * ny) - bilinear(p, cx - reach * nx, cy - reach * ny);
+    side += clampedBilinear(p, cx + reach * nx, cy + reach * ny) - clampedBilinear(p, cx - reach * nx, cy - reach * ny);
   }
   const sign = side >= 0 ? 1 : -1;
   for (let t = 0; t <= len; t += 2) {
     const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
     for (let k = -m; k <= m; k++) {
       let v = 0;
-      for (let j = -2; j <= 2; j++) v += bilinear(p, cx + k * step * nx + j * ux, cy + k * step * ny + j * uy);
+      for (let j = -2; j <= 2; j++) v += clampedBilinear(p, cx + k * step * nx + j * ux, cy + k * step * ny + j * uy);
       raw[k + m] = v / 5;
     }
     for (let k = 0; k <= 2 * m; k++) {

@@ -135,8 +135,9 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
   const stepPx = checkNumber('stepPx', options.stepPx ?? DIAMETER_DEFAULTS.stepPx, 1, 1e5, 'px');
   const averageLengthPx = checkNumber('averageLengthPx', options.averageLengthPx ?? DIAMETER_DEFAULTS.averageLengthPx,
     1, 1e4, 'px');
+  // Profiles sampled at 0.5 px or finer (domain.md §7: step <= 0.5 px).
   const profileStepPx = checkNumber('profileStepPx', options.profileStepPx ?? DIAMETER_DEFAULTS.profileStepPx,
-    0.05, 1, 'px');
+    0.05, 0.5, 'px');
   const backgroundDegree = checkNumber('backgroundDegree', options.backgroundDegree ?? DIAMETER_DEFAULTS.backgroundDegree,
     0, 4);
   if (!Number.isInteger(backgroundDegree)) throw new InputError('backgroundDegree must be a whole number from 0 to 4');

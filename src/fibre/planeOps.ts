@@ -54,22 +54,3 @@ export function dilateMask(mask: Uint8Array, width: number, height: number, radi
   return out;
 }
 
-/**
- * Bilinear sample at (x, y) in pixel coordinates (pixel centres at integers). NaN outside the
- * convex hull of pixel centres or when a contributing pixel is NaN, so the caller can count it.
- */
-export function sampleBilinear(data: Float32Array, width: number, height: number, x: number, y: number): number {
-  if (!(x >= 0 && y >= 0 && x <= width - 1 && y <= height - 1)) return NaN;
-  const x0 = Math.min(Math.floor(x), width - 2 < 0 ? 0 : width - 2);
-  const y0 = Math.min(Math.floor(y), height - 2 < 0 ? 0 : height - 2);
-  const fx = x - x0;
-  const fy = y - y0;
-  const i = y0 * width + x0;
-  const x1 = width > 1 ? 1 : 0;
-  const y1 = height > 1 ? width : 0;
-  const a = data[i];
-  const b = data[i + x1];
-  const c = data[i + y1];
-  const d = data[i + y1 + x1];
-  return (a * (1 - fx) + b * fx) * (1 - fy) + (c * (1 - fx) + d * fx) * fy;
-}

@@ -6,10 +6,10 @@
  * quadratic centre line fitted to the first pass's midpoints, so the profiles are normal to the
  * fibre even where the mask's principal axis is slightly off (ends cut by the border, taper, bend).
  */
+import { bilinear } from '../common/sampling.ts';
 import type { FibreObject } from './detect.ts';
 import { fitErfBar, fitErfEdge, parabolaEdgeIndex } from './edgeFit.ts';
 import { solveLinear } from './linalg.ts';
-import { sampleBilinear } from './planeOps.ts';
 import { median, robustSd } from './stats.ts';
 
 export type DropReason = 'border' | 'no-fibre-at-station' | 'edge-missing' | 'edge-fit' | 'not-two-edges'
@@ -163,7 +163,7 @@ function measureOne(
     let sum = 0;
     for (let a = 0; a < avgCount; a++) {
       const along = a - (avgCount - 1) / 2;
-      sum += sampleBilinear(flat, width, height, p.x + along * p.ux + s * nx, p.y + along * p.uy + s * ny);
+      sum += bilinear({ width, height, data: flat }, p.x + along * p.ux + s * nx, p.y + along * p.uy + s * ny);
     }
     q[j] = sum / avgCount;
   }

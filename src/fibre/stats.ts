@@ -1,3 +1,4 @@
+import { median } from '../common/sampling.ts';
 /**
  * Station statistics: mean, SD, CV, min, max and a 95 % interval on the mean that allows for the
  * correlation of neighbouring stations (real diameter variation is smooth along a fibre, so adjacent
@@ -153,11 +154,7 @@ export function stationStats(runs: number[][], unit: 'station' | 'run' = 'statio
   return { ...stats, ciLow: mean - half, ciHigh: mean + half, nEffective: nEff };
 }
 
-export function median(values: ArrayLike<number>): number {
-  const a = Float64Array.from(values).sort();
-  const m = a.length >> 1;
-  return a.length % 2 ? a[m] : 0.5 * (a[m - 1] + a[m]);
-}
+export { median };
 
 /** Median absolute deviation scaled by 1.4826 to estimate a Gaussian SD. */
 export function robustSd(values: ArrayLike<number>): number {

@@ -1,0 +1,29 @@
+import type { Plane } from './plane.ts';
+
+/**
+ * Bilinear sample of a plane at (x, y) in pixel coordinates (pixel centres at integers). NaN outside the
+ * hull of pixel centres or when a contributing pixel is NaN, so callers can count what they could not
+ * measure; `clampedBilinear` instead holds the edge value (for searches that may step just outside).
+ */
+export function bilinear(p: Plane, x: number, y: number): number {
+  if (!(x >= 0 && y >= 0 && x <= p.width - 1 && y <= p.height - 1)) return NaN;
+  const x0 = Math.min(Math.floor(x), Math.max(0, p.width - 2));
+  const y0 = Math.min(Math.floor(y), Math.max(0, p.height - 2));
+  const fx = x - x0, fy = y - y0;
+  const i = y0 * p.width + x0;
+  const dx = p.width > 1 ? 1 : 0, dy = p.height > 1 ? p.width : 0;
+  const d = p.data;
+  return (d[i] * (1 - fx) + d[i + dx] * fx) * (1 - fy) + (d[i + dy] * (1 - fx) + d[i + dy + dx] * fx) * fy;
+}
+
+export function clampedBilinear(p: Plane, x: number, y: number): number {
+  return bilinear(p, Math.min(p.width - 1, Math.max(0, x)), Math.min(p.height - 1, Math.max(0, y)));
+}
+
+/** Median of the values (NaN for none). */
+export function median(values: ArrayLike<number>): number {
+  if (values.length === 0) return NaN;
+  const a = Float64Array.from(values).sort();
+  const m = a.length >> 1;
+  return a.length % 2 ? a[m] : 0.5 * (a[m - 1] + a[m]);
+}
