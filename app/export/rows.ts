@@ -3,30 +3,10 @@
  * with the same columns as `retarda orient --csv` / `retarda profile --csv`, through src/report/csv.ts.
  */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
-import { toCsv, type CsvValue } from '../../src/report/csv.ts';
+import { toCsv } from '../../src/report/csv.ts';
+import { orientCsvRow, profileCsvRow, profileBinRows } from '../../src/report/rows.ts';
 
-export function orientCsvRow(r: OrientResult): Record<string, CsvValue> {
-  return {
-    image: r.source, directorDeg: r.directorDeg, order2D: r.order2D, order2DCiLow: r.order2DCi[0], order2DCiHigh: r.order2DCi[1],
-    axisDeg: r.axisDeg, axisOrder: r.axisOrder, coherencyMean: r.coherencyMean, n: r.n,
-    sigmaPx: r.options.sigmaPx as number, weighting: String(r.options.weighting),
-  };
-}
-
-export function profileCsvRow(r: ProfileResult): Record<string, CsvValue> {
-  return {
-    image: r.source, field: r.fieldMethod, axisDeg: r.axisDeg, taperDeg: r.taperDeg,
-    coreOrder: r.core.order, coreCiLow: r.core.ciLow, coreCiHigh: r.core.ciHigh, coreN: r.core.n,
-    skinOrder: r.skin.order, skinCiLow: r.skin.ciLow, skinCiHigh: r.skin.ciHigh, skinN: r.skin.n,
-    coreSkinRatio: r.coreSkinRatio, coreSkinRatioCiLow: r.coreSkinRatioCi[0], coreSkinRatioCiHigh: r.coreSkinRatioCi[1],
-    coreMax: r.options.coreMax as number, skinMin: r.options.skinMin as number, weighting: String(r.options.weighting),
-  };
-}
-
-/** Per-bin rows of a profile: the S curve itself. */
-export function profileBinRows(r: ProfileResult): Record<string, CsvValue>[] {
-  return r.bins.map((b) => ({ image: r.source, s: b.s, sLow: b.sLow, sHigh: b.sHigh, order: b.order, ciLow: b.ciLow, ciHigh: b.ciHigh, n: b.n, order2D: b.order2D, directorDeg: b.directorDeg }));
-}
+export { orientCsvRow, profileCsvRow, profileBinRows } from '../../src/report/rows.ts';
 
 export const orientCsv = (r: OrientResult) => toCsv([orientCsvRow(r)]);
 export const profileCsv = (r: ProfileResult) => toCsv([profileCsvRow(r)]);

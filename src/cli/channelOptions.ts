@@ -5,6 +5,7 @@ import { analyseProfile, type ProfileRequest, type ProfileResult } from '../anal
 import { checkWeighting } from '../order/index.ts';
 import { flagOpt, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from './args.ts';
 import { formatTable, formatPairs } from './format.ts';
+export { profileCsvRow } from '../report/rows.ts';
 
 /** Channel options shared by every command that can give an S profile across a channel. */
 export const CHANNEL_OPTIONS: OptionSpec[] = [
@@ -65,12 +66,3 @@ export function profileTable(r: ProfileResult): string {
   return `${head}\n\n${formatTable(['s', 'S_axis', 'ci low', 'ci high', 'n', 'director deg'], rows)}${stationLines}`;
 }
 
-export function profileCsvRow(r: ProfileResult): Record<string, string | number | null> {
-  return {
-    image: r.source, field: r.fieldMethod, axisDeg: r.axisDeg, taperDeg: r.taperDeg,
-    coreOrder: r.core.order, coreCiLow: r.core.ciLow, coreCiHigh: r.core.ciHigh, coreN: r.core.n,
-    skinOrder: r.skin.order, skinCiLow: r.skin.ciLow, skinCiHigh: r.skin.ciHigh, skinN: r.skin.n,
-    coreSkinRatio: r.coreSkinRatio, coreSkinRatioCiLow: r.coreSkinRatioCi[0], coreSkinRatioCiHigh: r.coreSkinRatioCi[1],
-    coreMax: r.options.coreMax as number, skinMin: r.options.skinMin as number, weighting: String(r.options.weighting),
-  };
-}

@@ -1,10 +1,11 @@
 import type { OptionSpec, ParsedArgs } from './args.ts';
+import type { CsvValue } from '../report/csv.ts';
 
 /** What a subcommand hands back: main prints `table` or `json`, and writes `csvRows` with --csv. */
 export interface CommandOutput {
   json: unknown;
   table: string;
-  csvRows?: Record<string, string | number | boolean | null>[];
+  csvRows?: Record<string, CsvValue>[];
   /** Plain-word warnings, printed to stderr in table mode (they are inside `json` too). */
   warnings?: string[];
 }

@@ -3,6 +3,7 @@ import { checkWeighting } from '../../order/index.ts';
 import { numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
+import { orientCsvRow } from '../../report/rows.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import type { OrientOptions } from '../../analyses/orient.ts';
@@ -70,11 +71,7 @@ export const orientCommand: Command = {
     return {
       json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'orient', results },
       table,
-      csvRows: results.map((r) => ({
-        image: r.source, directorDeg: r.directorDeg, order2D: r.order2D, order2DCiLow: r.order2DCi[0], order2DCiHigh: r.order2DCi[1],
-        axisDeg: r.axisDeg, axisOrder: r.axisOrder, coherencyMean: r.coherencyMean, n: r.n,
-        sigmaPx: r.options.sigmaPx as number, weighting: String(r.options.weighting),
-      })),
+      csvRows: results.map(orientCsvRow),
       warnings: results.flatMap((r) => r.warnings.map((w) => `${r.source}: ${w}`)),
     };
   },
