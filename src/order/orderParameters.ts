@@ -103,7 +103,7 @@ export function orderParameters(f: OrientationField, options: OrderOptions = {})
   return {
     order2D, directorDeg, axisOrder, axisDeg: options.axisDeg ?? null,
     coherencyMean: cohN > 0 ? cohSum / cohN : NaN,
-    isotropicBias: Math.sqrt(Math.PI / (4 * nEff)),
+    isotropicBias: m.n > 0 ? Math.sqrt(Math.PI / (4 * nEff)) : NaN,
     n: m.n, blocks, blockPx, weighting,
   };
 }
