@@ -146,3 +146,30 @@ describe('findWalls', () => {
     await expect(findWalls(flat)).rejects.toThrow(/flat/);
   });
 });
+
+describe('channelProfile on a field with scatter', () => {
+  it('gives the closed-form order in core and skin, with intervals that contain it', async () => {
+    // Angles uniform on +-40 deg about the axis in the core (|s| < 0.5) and +-15 deg in the skin (|s| > 0.8):
+    // S_axis = sin(2D)/(2D) = 0.70531 and 0.95493 (domain.md §5 [D]); seeded, independent pixels.
+    const { rng } = await import('../support/synthetic.ts');
+    const rand = rng(77);
+    const ch = rotatedChannel(20, 200, 200, 80, 160);
+    const frame = channelFrame(ch);
+    const f = fieldOf(400, 400, (x, y) => {
+      const s = Math.abs(transverse(frame, ch, x, y).s);
+      const half = s < 0.5 ? 40 : s > 0.8 ? 15 : 25;
+      return 20 + half * (2 * rand() - 1);
+    });
+    const p = channelProfile(f, ch, { bins: 10, replicates: 300, blockPx: 2 });
+    const core = 0.70531, skin = 0.95493;
+    expect(Math.abs(p.core.order - core)).toBeLessThan(0.01);
+    expect(Math.abs(p.skin.order - skin)).toBeLessThan(0.005);
+    expect(p.core.ciLow).toBeLessThan(core);
+    expect(p.core.ciHigh).toBeGreaterThan(core);
+    expect(p.skin.ciLow).toBeLessThan(skin);
+    expect(p.skin.ciHigh).toBeGreaterThan(skin);
+    expect(Math.abs(p.coreSkinRatio - core / skin)).toBeLessThan(0.015);
+    expect(p.bins[0].order).toBeCloseTo(skin, 1);
+    expect(p.bins[5].order).toBeCloseTo(core, 1);
+  });
+});
