@@ -32,7 +32,7 @@ export interface TrainOptions {
 export interface PlateReadingOptions extends TrainOptions {
   /** Largest sample retardance searched, nm (default 800). */
   retardanceMaxNm?: number;
-  /** One image: pixels read below this retardance are masked as sample-free (default 20 nm). */
+  /** Pixels read below this retardance are masked as sample-free (default 20 nm). */
   retardanceMinNm?: number;
   /** Sample-free rectangle: fits compensator retardance, white balance and exposure. */
   background?: PixelRect;
@@ -52,7 +52,15 @@ export interface OpticsSummaryOptions {
   profile?: ProfileRequest | null;
 }
 
-export interface PlateOptions extends PlateReadingOptions, OpticsSummaryOptions {
+/** A one-image reading constrained to a known sample retardance (a uniform film; thickness x birefringence). */
+export interface KnownRetardanceOptions {
+  /** Known sample retardance, nm: the lookup is restricted to this band, so each colour fixes the angle (up to the mirror). */
+  sampleRetardanceNm?: number;
+  /** Half-width of the band, nm (default 10 % of sampleRetardanceNm). */
+  sampleRetardanceToleranceNm?: number;
+}
+
+export interface PlateOptions extends PlateReadingOptions, KnownRetardanceOptions, OpticsSummaryOptions {
   /** 'lab' (default) or 'chroma' (brightness-independent, for uneven illumination). */
   match?: MatchSpace;
   /** Resolve theta vs its mirror about the compensator axis with the texture direction of the same image. */
@@ -155,7 +163,9 @@ export async function opticsResult(analysis: string, img: Image, field: Orientat
   const profile = o.profile ? await analyseProfile(img, field, o.profile, field.options) : null;
   const confidence = confidenceStats(field);
   // Say it plainly when the colours do not pin the readings down, rather than let the averages look sure.
-  const unsure = confidence.fractionAbove05 !== null && confidence.fractionAbove05 < 0.2
+  // With the sample retardance given, each colour fixes the angle and the confidence measures something else.
+  const constrained = field.options.sampleRetardanceNm !== undefined && field.options.sampleRetardanceNm !== null;
+  const unsure = !constrained && confidence.fractionAbove05 !== null && confidence.fractionAbove05 < 0.2
     ? [`only ${(100 * confidence.fractionAbove05).toFixed(1)} % of pixels are read with confidence 0.5 or more: the colours fit several (angle, retardance) pairs, so these orientation numbers are not reliable. ${
       field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate2)' : 'Check the calibration (--background) and the optical train'}`]
     : [];
@@ -176,14 +186,15 @@ export function calibrationJson(c: PlateCalibration | null) {
 /**
  * One compensator image read into a field (what `plate` and `profile --source plate` use). The mirror
  * choice reports, of theta and its mirror about the compensator axis, the one nearer `axisDeg`
- * (default: compensator axis - 45 deg).
+ * (default: compensator axis - 45 deg). With `sampleRetardanceNm` the lookup holds only that retardance band.
  */
-export function readPlateField(img: Image, o: PlateReadingOptions & { match?: MatchSpace; axisDeg?: number }): PlateReading {
+export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetardanceOptions & { match?: MatchSpace; axisDeg?: number }): PlateReading {
   const match = o.match ?? 'lab';
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
   return readPlate(img, {
     train: trainOf(o), retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, match, birefringenceSign: signOf(o.sign),
     background: o.background, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
+    sampleRetardanceNm: o.sampleRetardanceNm, sampleRetardanceToleranceNm: o.sampleRetardanceToleranceNm,
   });
 }
 
@@ -217,7 +228,7 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
 /** Full orientation (0-180 deg) and retardance from two compensator images, B with the optics turned by turnDeg. */
 export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAnalysisOptions = {}): Promise<OpticsAnalysis> {
   const r = readPlatePair(imgA, imgB, {
-    train: trainOf(o), turnDeg: o.turnDeg, retardanceMaxNm: o.retardanceMaxNm, birefringenceSign: signOf(o.sign),
+    train: trainOf(o), turnDeg: o.turnDeg, retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, birefringenceSign: signOf(o.sign),
     background: o.background, calibration: calibrationOf(o), maxShiftPx: o.maxShiftPx, camera: cameraOf(o.whiteRgb),
   });
   const result = await opticsResult('plate2', imgA, r.field, o, {

@@ -3,7 +3,7 @@ import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
 import {
-  accumulateBlocks, axisOrderOf, bootstrapReplicates, checkWeighting, defaultBlockPx, percentileInterval,
+  accumulateBlocks, axisOrderOf, bootstrapReplicates, checkWeighting, defaultBlockPx, defaultWeighting, percentileInterval,
   statFromBlocks, totalMoments, type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
 import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
@@ -25,7 +25,7 @@ export interface ProfileOptions {
   seed?: number;
 }
 
-export const PROFILE_DEFAULTS = { bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' as Weighting };
+export const PROFILE_DEFAULTS = { bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
 
 export interface ProfileBin extends OrderStat {
   /** Bin centre and edges in s. */
@@ -75,7 +75,7 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   const coreMax = checkNumber('core band limit', options.coreMax ?? PROFILE_DEFAULTS.coreMax, 0.05, 1);
   const skinMin = checkNumber('skin band limit', options.skinMin ?? PROFILE_DEFAULTS.skinMin, 0, 0.99);
   if (skinMin < coreMax) throw new InputError(`skin band (|s| > ${skinMin}) overlaps the core band (|s| < ${coreMax})`, 'Set the skin limit at or above the core limit');
-  const weighting = checkWeighting(options.weighting ?? PROFILE_DEFAULTS.weighting);
+  const weighting = checkWeighting(options.weighting ?? defaultWeighting(field));
   const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(field), 1, 4096, 'px');
   const frame = channelFrame(ch);
   const axisDeg = options.axisDeg !== undefined ? wrapAxialDeg(checkNumber('axis angle', options.axisDeg, -360, 360, 'deg')) : frame.axisDeg;

@@ -16,7 +16,7 @@ export const CHANNEL_OPTIONS: OptionSpec[] = [
   { name: 'axis-deg', kind: 'number', help: 'reference axis for S, degrees CCW from +x', defaultText: 'the channel axis' },
   { name: 'core-max', kind: 'number', help: 'core band |s| < this', defaultText: '0.5' },
   { name: 'skin-min', kind: 'number', help: 'skin band |s| > this', defaultText: '0.8' },
-  { name: 'weighting', kind: 'string', help: 'pixel weights: none, confidence, energy, energy-confidence', defaultText: 'confidence' },
+  { name: 'weighting', kind: 'string', help: 'pixel weights: none, confidence, energy, energy-confidence', defaultText: 'confidence for texture, none for optical readings' },
   { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '6 correlation lengths' },
 ];
 

@@ -1,9 +1,10 @@
 import { checkNumber } from '../common/errors.ts';
 import { DEG } from '../common/angles.ts';
 import { colourModel, interferenceColour } from './colourModel.ts';
-import { wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
+import { illuminantLabel, wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
 import type { Vec3 } from './colorimetry.ts';
 import { resolveTrain, fullWavePlate, type OpticalTrain } from './train.ts';
+import { drawText, textHeightPx, textWidthPx } from './pixelFont.ts';
 
 /** Coarse order band of a retardance (classical Michel-Levy scale, names as in mineralogy texts). */
 export interface OrderBand {
@@ -83,53 +84,62 @@ export interface RgbBuffer {
   data: Uint8Array;
 }
 
-// 3x5 glyphs for the order labels (I, V) and a slash; rows top to bottom, 3 bits each.
-const GLYPHS: Record<string, number[]> = { I: [7, 2, 2, 2, 7], V: [5, 5, 5, 5, 2], '/': [1, 1, 2, 4, 4] };
+/**
+ * The title line of the chart picture for a train: which strip is which (the compensator as `interferenceChart`
+ * uses it: the train's, or a 550-nm full-wave plate) and the lamp, e.g.
+ * "TOP: NO COMPENSATOR. BOTTOM: 550 NM COMPENSATOR, SLOW AXES PARALLEL. LAMP 3200K. RETARDANCE IN NM".
+ */
+export function chartTitle(train: Partial<OpticalTrain> = {}): string {
+  const t = resolveTrain(train);
+  const comp = t.compensator ?? fullWavePlate();
+  return `TOP: NO COMPENSATOR. BOTTOM: ${Math.round(comp.retardanceNm * 10) / 10} NM COMPENSATOR, SLOW AXES PARALLEL. LAMP ${illuminantLabel(t.illuminant).toUpperCase()}. RETARDANCE IN NM`;
+}
 
 /**
- * Renders the chart as an RGB picture: top strip without compensator, bottom strip with it, retardance
- * increasing to the right; tick marks every 100 nm (long ones at the order boundaries 550, 1100, 1650 nm)
- * and the order numerals I-IV in the label band between the strips.
+ * Renders the chart as an RGB picture, retardance increasing to the right: a title line (which strip is with
+ * and without the compensator, and the lamp, when `title` is given), the top strip without compensator, a
+ * band with tick marks every 100 nm (long ones at the order boundaries 550, 1100, 1650 nm) and the order
+ * numerals I-IV, the bottom strip with the compensator, and a retardance axis under it: ticks every 100 nm,
+ * longer every 500 nm, labelled in nm every 500 nm (every 1000 nm when the picture is too narrow for that).
  */
-export function renderChart(rows: ChartRow[], widthPx = 1000, stripPx = 60): RgbBuffer {
+export function renderChart(rows: ChartRow[], widthPx = 1000, stripPx = 60, title?: string): RgbBuffer {
   checkNumber('chart width', widthPx, 50, 20000, 'px');
   checkNumber('chart strip height', stripPx, 10, 2000, 'px');
-  const labelPx = 16, tickPx = 8;
-  const width = Math.round(widthPx), height = 2 * Math.round(stripPx) + labelPx + tickPx;
+  const width = Math.round(widthPx), strip = Math.round(stripPx), maxNm = rows[rows.length - 1].retardanceNm;
+  // Text at scale 2 (6x10-px glyphs) unless the title would not fit, then scale 1.
+  const scale = title && textWidthPx(title, 2) > width - 8 ? 1 : 2;
+  const titlePx = title ? textHeightPx(scale) + 6 : 0;
+  const labelPx = 16, tickPx = 8, axisTickPx = 6, axisPx = axisTickPx + 2 + textHeightPx(2) + 2;
+  const topY = titlePx, bandY = topY + strip, bottomY = bandY + tickPx + labelPx, axisY = bottomY + strip;
+  const height = axisY + axisPx;
   const data = new Uint8Array(width * height * 3).fill(255);
-  const maxNm = rows[rows.length - 1].retardanceNm;
-  const strip = Math.round(stripPx);
   const set = (x: number, y: number, c: Vec3) => { const i = 3 * (y * width + x); data[i] = c[0]; data[i + 1] = c[1]; data[i + 2] = c[2]; };
+  const xOf = (g: number) => Math.min(width - 1, Math.round((g / maxNm) * (width - 1)));
   for (let x = 0; x < width; x++) {
     const g = (x / (width - 1)) * maxNm;
     const row = rows[Math.min(rows.length - 1, Math.round((g / maxNm) * (rows.length - 1)))];
     for (let y = 0; y < strip; y++) {
-      set(x, y, row.plain.srgb8);
-      set(x, y + strip + labelPx + tickPx, row.withCompensator.srgb8);
+      set(x, topY + y, row.plain.srgb8);
+      set(x, bottomY + y, row.withCompensator.srgb8);
     }
   }
   const black: Vec3 = [0, 0, 0];
-  const tick = (g: number, lengthPx: number) => {
-    const x = Math.min(width - 1, Math.round((g / maxNm) * (width - 1)));
-    for (let y = strip; y < strip + lengthPx; y++) set(x, y, black);
-  };
-  for (let g = 0; g <= maxNm; g += 100) tick(g, tickPx / 2);
-  for (const g of [550, 1100, 1650]) if (g <= maxNm) tick(g, tickPx + labelPx);
-  const labels: [number, string][] = [[275, 'I'], [825, 'II'], [1375, 'III'], [1925, 'IV']];
-  for (const [g, text] of labels) {
-    if (g > maxNm) continue;
-    const scale = 2, glyphW = 4 * scale;
-    const x0 = Math.round((g / maxNm) * (width - 1) - (text.length * glyphW) / 2);
-    text.split('').forEach((ch, k) => {
-      const rowsBits = GLYPHS[ch];
-      for (let r = 0; r < 5; r++) for (let c = 0; c < 3; c++) {
-        if (!(rowsBits[r] & (4 >> c))) continue;
-        for (let dy = 0; dy < scale; dy++) for (let dx = 0; dx < scale; dx++) {
-          const x = x0 + k * glyphW + c * scale + dx, y = strip + tickPx + 2 + r * scale + dy;
-          if (x >= 0 && x < width) set(x, y, black);
-        }
-      }
-    });
+  const tick = (g: number, y0: number, lengthPx: number) => { const x = xOf(g); for (let y = y0; y < y0 + lengthPx; y++) set(x, y, black); };
+  for (let g = 0; g <= maxNm + 1e-9; g += 100) {
+    tick(g, bandY, tickPx / 2);
+    tick(g, axisY, Math.round(g) % 500 === 0 ? axisTickPx : axisTickPx / 2);
   }
+  for (const g of [550, 1100, 1650]) if (g <= maxNm) tick(g, bandY, tickPx + labelPx);
+  const centred = (g: number, text: string, y: number, sc: number) => {
+    const w = textWidthPx(text, sc);
+    const x0 = Math.max(0, Math.min(width - w, Math.round(xOf(g) - w / 2)));
+    drawText(data, width, height, x0, y, text, sc, black);
+  };
+  for (const [g, text] of [[275, 'I'], [825, 'II'], [1375, 'III'], [1925, 'IV']] as const) if (g <= maxNm) centred(g, text, bandY + tickPx + 2, 2);
+  // Numbers every 500 nm if they keep at least two glyph widths apart, else every 1000 nm.
+  const widest = textWidthPx(String(Math.round(maxNm)), 2);
+  const labelEveryNm = (500 / maxNm) * (width - 1) >= widest + 16 ? 500 : 1000;
+  for (let g = 0; g <= maxNm + 1e-9; g += labelEveryNm) centred(g, g === 0 ? '0 NM' : String(Math.round(g)), axisY + axisTickPx + 2, 2);
+  if (title) drawText(data, width, height, 4, 3, title, scale, black);
   return { width, height, channels: 3, data };
 }

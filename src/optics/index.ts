@@ -22,7 +22,7 @@ export { colourModel, transmission, xyzOfTransmission, interferenceColour, match
 export type { CameraCalibration } from './camera.ts';
 export { whiteReference, cameraToModel, modelToCamera, NEUTRAL_CAMERA } from './camera.ts';
 export type { OrderBand, ChartRow, ChartOptions, RgbBuffer } from './chart.ts';
-export { orderBand, interferenceChart, renderChart } from './chart.ts';
+export { orderBand, interferenceChart, renderChart, chartTitle } from './chart.ts';
 export type { Rect } from './pixels.ts';
 export { parseRect, medianLinearRgb } from './pixels.ts';
 export type { MatchSpace, PlateLookup, LookupOptions, LookupMatch, SearchOptions } from './lookupTable.ts';
@@ -30,7 +30,7 @@ export { buildPlateLookup, LookupSearcher, matchConfidence, matchCoords, isMirro
 export type { PlateCalibration, CalibrationOptions } from './calibration.ts';
 export { calibrateFromBackground, calibrateFromColour } from './calibration.ts';
 export type { PlateReadOptions, PlateReading } from './plateReader.ts';
-export { readPlate } from './plateReader.ts';
+export { readPlate, sampleRetardanceBand } from './plateReader.ts';
 export type { MirrorChoiceStats, MirrorResolution, AxisAdvice } from './mirror.ts';
 export { mirrorChoiceStats, resolveMirrorWithTexture, compensatorAxisAdvice } from './mirror.ts';
 export type { RegistrationCheck } from './registration.ts';

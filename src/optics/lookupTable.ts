@@ -26,6 +26,11 @@ export interface PlateLookup {
 
 export interface LookupOptions {
   retardanceMaxNm?: number;
+  /**
+   * Retardance band [low, high] of the grid, nm, instead of [0, retardanceMaxNm]: for a sample of known
+   * retardance. Spaced evenly at no more than `retardanceStepNm`; a single value when low = high.
+   */
+  retardanceRangeNm?: [number, number];
   angleStepDeg?: number;
   retardanceStepNm?: number;
   space?: MatchSpace;
@@ -57,6 +62,19 @@ export function isMirrorSymmetric(model: ColourModel): boolean {
   return rel < 1e-9 && crossedOrParallel;
 }
 
+/** Retardances of the lookup: k * step up to the maximum, or a band spaced evenly at no more than step. */
+function retardanceGrid(maxNm: number, stepNm: number, range: [number, number] | undefined): Float64Array {
+  if (!range) {
+    const nR = Math.floor(maxNm / stepNm + 1e-9) + 1;
+    return Float64Array.from({ length: nR }, (_, k) => k * stepNm);
+  }
+  const [lo, hi] = range;
+  checkNumber('lowest retardance of the band', lo, 0, 5000, 'nm');
+  checkNumber('highest retardance of the band', hi, lo, 5000, 'nm');
+  const nR = hi > lo ? Math.ceil((hi - lo) / stepNm - 1e-9) + 1 : 1;
+  return Float64Array.from({ length: nR }, (_, k) => (nR > 1 ? lo + ((hi - lo) * k) / (nR - 1) : lo));
+}
+
 /** Builds the lookup from the spectral Jones model (one pass over wavelengths per entry). */
 export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}): PlateLookup {
   const o = { ...LOOKUP_DEFAULTS, ...definedOnly(options) };
@@ -70,8 +88,8 @@ export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}
   const a0 = mirror !== null ? mirror - 90 : -90;
   const nA = Math.round((mirror !== null ? 90 : 180 - o.angleStepDeg) / o.angleStepDeg) + 1;
   const anglesDeg = Float64Array.from({ length: nA }, (_, j) => a0 + j * o.angleStepDeg);
-  const nR = Math.floor(o.retardanceMaxNm / o.retardanceStepNm + 1e-9) + 1;
-  const retardancesNm = Float64Array.from({ length: nR }, (_, k) => k * o.retardanceStepNm);
+  const retardancesNm = retardanceGrid(o.retardanceMaxNm, o.retardanceStepNm, options.retardanceRangeNm);
+  const nR = retardancesNm.length;
   const lam = model.wavelengthsNm, nL = lam.length;
   // Half-phase cos/sin of every (retardance, wavelength) pair and of the compensator.
   const ch = new Float64Array(nR * nL), sh = new Float64Array(nR * nL);

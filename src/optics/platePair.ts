@@ -29,6 +29,11 @@ export interface PlatePairOptions {
   /** Warn when the images are shifted by more than this, px (default 1). */
   maxShiftPx?: number;
   cacheBits?: number;
+  /**
+   * Pixels read below this retardance show no measurable sample (background): their angle is undefined
+   * (confidence ~0), so they are masked and counted rather than averaged in. Default 20 nm; 0 keeps every pixel.
+   */
+  retardanceMinNm?: number;
 }
 
 export interface PlatePairReading {
@@ -78,6 +83,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   }
   const gmax = checkNumber('maximum retardance', options.retardanceMaxNm ?? 800, 10, 3000, 'nm');
   const bits = checkNumber('cache bits', options.cacheBits ?? 6, 4, 7);
+  const floorNm = checkNumber('smallest retardance read', options.retardanceMinNm ?? 20, 0, 500, 'nm');
   const sign = options.birefringenceSign ?? 1;
   const trainA = resolveTrain(options.train);
   if (!trainA.compensator) throw new InputError('the two-image reading needs a compensator in the train', 'Give the compensator retardance and angle');
@@ -102,7 +108,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n);
   const axis = trainA.compensator.axisDeg;
   const nR = lutA.retardancesNm.length, aStep = lutA.anglesDeg[1] - lutA.anglesDeg[0], rStep = lutA.retardancesNm[1] - lutA.retardancesNm[0];
-  let masked = 0;
+  let masked = 0, belowFloor = 0;
   // Pixels with the same pair of colour cells get the same reading.
   const pairCache = new Map<number, number>();
   const pAngle: number[] = [], pRet: number[] = [], pConf: number[] = [];
@@ -111,7 +117,8 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     if (ca < 0 || cb < 0) { masked++; continue; }
     const key = ca * 2 ** 21 + cb, hit = pairCache.get(key);
     if (hit !== undefined) {
-      angleRad[i] = pAngle[hit]; retardanceNm[i] = pRet[hit]; confidence[i] = pConf[hit]; mask[i] = 1;
+      angleRad[i] = pAngle[hit]; retardanceNm[i] = pRet[hit]; confidence[i] = pConf[hit];
+      if (pRet[hit] < floorNm) belowFloor++; else mask[i] = 1;
       continue;
     }
     const la = A.lab.subarray(3 * ca, 3 * ca + 3), lb = B.lab.subarray(3 * cb, 3 * cb + 3);
@@ -148,11 +155,12 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     retardanceNm[i] = ret;
     // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
     confidence[i] = Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400);
-    mask[i] = 1;
+    if (ret < floorNm) belowFloor++; else mask[i] = 1;
     pairCache.set(key, pAngle.length);
     pAngle.push(angleRad[i]); pRet.push(ret); pConf.push(confidence[i]);
   }
   if (masked > 0) warnings.push(`${masked} pixels saturated or invalid in one of the images were masked`);
+  if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   const registration = registrationCheck(toGrey(imgA), toGrey(imgB));
   const maxShift = options.maxShiftPx ?? 1;
   if (registration.shiftPx > maxShift) {
@@ -163,7 +171,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     method: 'plate-pair', ambiguity: 'none', pixelSizeUmPerPx: imgA.pixelSizeUmPerPx,
     options: {
       polariserDeg: trainA.polariserDeg, analyserDeg: trainA.analyserDeg, compensatorDeg: axis, compensatorNmA: gpA, compensatorNmB: gpB,
-      turnDeg: turn, illuminant: trainA.illuminant, retardanceMaxNm: gmax, birefringenceSign: sign, cacheBits: bits,
+      turnDeg: turn, illuminant: trainA.illuminant, retardanceMaxNm: gmax, birefringenceSign: sign, cacheBits: bits, retardanceMinNm: floorNm,
     },
     warnings,
   };

@@ -35,6 +35,34 @@ export interface PlateReadOptions extends SearchOptions {
    * orientation is undefined, so they are masked and counted. Default 20 nm; 0 keeps every pixel.
    */
   retardanceMinNm?: number;
+  /**
+   * Known sample retardance, nm (a uniform film; thickness x birefringence): the lookup is restricted to
+   * the band sampleRetardanceNm +- sampleRetardanceToleranceNm, so each colour fixes the angle (up to the
+   * mirror about the compensator axis). Pixels whose colour the sample-free colour explains at least as well
+   * (no sample, or the slow axis along a polariser) are then masked and counted instead of the retardance
+   * floor (unless retardanceMinNm is 0); with a background rectangle also those within its 99th-percentile
+   * colour distance of the sample-free colour (sensor noise).
+   */
+  sampleRetardanceNm?: number;
+  /**
+   * Half-width of the known-retardance band, nm (default 10 % of sampleRetardanceNm). Inside the band angle trades
+   * against retardance (first order, only Gamma sin 2 theta is seen), most near the compensator axis: keep it no wider
+   * than the sample's real spread. Measured: a 10 % band reads S_axis against the axis about 0.03 low for uniform 45 +- 30 deg.
+   */
+  sampleRetardanceToleranceNm?: number;
+}
+
+/** The retardance band of a constrained reading, nm, or null without one. */
+export function sampleRetardanceBand(options: Pick<PlateReadOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'>): [number, number] | null {
+  if (options.sampleRetardanceNm === undefined) {
+    if (options.sampleRetardanceToleranceNm !== undefined) {
+      throw new InputError('a retardance tolerance was given without the sample retardance', 'Give the sample retardance too, or drop the tolerance');
+    }
+    return null;
+  }
+  const r = checkNumber('sample retardance', options.sampleRetardanceNm, 1, 5000, 'nm');
+  const t = checkNumber('sample retardance tolerance', options.sampleRetardanceToleranceNm ?? 0.1 * r, 0, r, 'nm');
+  return [r - t, r + t];
 }
 
 export interface PlateReading {
@@ -74,12 +102,17 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   } else if (!options.camera && space === 'lab') {
     warnings.push('no background rectangle: exposure and white balance were taken as they are; give --background for a calibrated reading');
   }
+  const band = sampleRetardanceBand(options);
   const model = colourModel(train);
   const lookup = buildPlateLookup(model, {
     retardanceMaxNm: options.retardanceMaxNm, angleStepDeg: options.angleStepDeg, retardanceStepNm: options.retardanceStepNm,
-    space, birefringenceSign: sign,
+    space, birefringenceSign: sign, retardanceRangeNm: band ?? undefined,
   });
-  const searcher = new LookupSearcher(lookup, options);
+  // With a known retardance the sample-free colour (any angle, 0 nm) is the look-alike the band cannot hold:
+  // a pixel that matches it as well as the band is sample-free or has its slow axis along a polariser.
+  const zeroCoords = band ? Array.from(buildPlateLookup(model, { retardanceRangeNm: [0, 0], angleStepDeg: 15, space, birefringenceSign: sign }).coords.subarray(0, lookup.dims)) : null;
+  // Inside a known-retardance band only the angle is asked: entries count as distinct by angle alone.
+  const searcher = new LookupSearcher(lookup, band ? { ...options, distinctNm: options.distinctNm ?? band[1] - band[0] + 1 } : options);
   // Sub-cells one bit finer than the search cells: each search cell is searched once; each sub-cell then picks
   // among its parent's best and alternative entries with its own colour and gets its own confidence.
   const subBits = bits + 1;
@@ -88,7 +121,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   const subMask = (1 << subBits) - 1;
   const nCells = 1 << (3 * bits), nSub = 1 << (3 * subBits);
   const cBest = new Int32Array(nCells).fill(-1), cAlt = new Int32Array(nCells), cNear = new Int32Array(nCells);
-  const sEntry = new Int32Array(nSub).fill(-1), sConf = new Float32Array(nSub);
+  const sEntry = new Int32Array(nSub).fill(-1), sConf = new Float32Array(nSub), sFree = new Uint8Array(nSub);
   const n = img.width * img.height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n);
   const axis = train.compensator.axisDeg;
@@ -109,6 +142,19 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     for (let k = 0; k < dims; k++) d += (C[idx * dims + k] - q[k]) ** 2;
     return Math.sqrt(d);
   };
+  const distanceToZero = (q: number[]) => (zeroCoords ? Math.sqrt(zeroCoords.reduce((acc, v, k) => acc + (v - q[k]) ** 2, 0)) : Infinity);
+  // Sensor noise spreads sample-free pixels around the sample-free colour, and some then fit the band better:
+  // with a background rectangle, colours within its 99th-percentile distance of that colour count as sample-free too.
+  let freeRadius = 0;
+  if (zeroCoords && options.background && floorNm > 0) {
+    const r = options.background, dz: number[] = [];
+    for (let y = r.y; y < r.y + r.height; y++) for (let x = r.x; x < r.x + r.width; x++) {
+      const sub = subCells[y * img.width + x];
+      if (sub >= 0) dz.push(distanceToZero(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space)));
+    }
+    dz.sort((a, b) => a - b);
+    if (dz.length) freeRadius = dz[Math.min(dz.length - 1, Math.floor(0.99 * dz.length))];
+  }
   let matched = 0, belowFloor = 0;
   for (let i = 0; i < n; i++) {
     const sub = subCells[i];
@@ -127,17 +173,22 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
       if (d[1] < d[pick]) pick = 1;
       if (d[2] < d[pick]) pick = 2;
       const others = d.filter((_, k) => k !== pick);
+      const dZero = distanceToZero(q);
       sEntry[sub] = cand[pick];
-      sConf[sub] = matchConfidence({ distance: d[pick], alternativeDistance: Math.min(...others) } as LookupMatch);
+      sConf[sub] = matchConfidence({ distance: d[pick], alternativeDistance: Math.min(dZero, ...others) } as LookupMatch);
+      sFree[sub] = dZero <= Math.max(d[pick], freeRadius) ? 1 : 0;
     }
     const e = sEntry[sub], j = Math.floor(e / nR);
     angleRad[i] = rowAngleRad[j];
     retardanceNm[i] = lookup.retardancesNm[e - j * nR];
     confidence[i] = sConf[sub];
-    if (retardanceNm[i] < floorNm) { belowFloor++; continue; }
+    if (band ? floorNm > 0 && sFree[sub] : retardanceNm[i] < floorNm) { belowFloor++; continue; }
     mask[i] = 1;
   }
-  if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
+  if (belowFloor > 0) {
+    const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
+    warnings.push(`${belowFloor} pixels ${why} were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
+  }
   if (saturated > 0) warnings.push(`${saturated} saturated pixels were masked (${((100 * saturated) / n).toFixed(2)} %)`);
   if (invalid > 0) warnings.push(`${invalid} pixels with values outside [0, 1] were masked`);
   const field: OrientationField = {
@@ -150,6 +201,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
       polariserDeg: train.polariserDeg, analyserDeg: train.analyserDeg, compensatorNm: train.compensator.retardanceNm,
       compensatorDeg: axis, illuminant: train.illuminant, retardanceMaxNm: lookup.retardancesNm[lookup.retardancesNm.length - 1],
       match: space, birefringenceSign: sign, referenceAxisDeg: ref, cacheBits: bits, retardanceMinNm: floorNm,
+      ...(band ? { sampleRetardanceNm: options.sampleRetardanceNm, sampleRetardanceToleranceNm: (band[1] - band[0]) / 2 } : {}),
       mirrorAssumption: mirror !== null ? `orientation taken within 45 deg of ${wrapAxialDeg(ref)} deg (of theta and ${2 * mirror} - theta, the nearer)` : 'none',
     },
     warnings,

@@ -18,7 +18,7 @@ export interface OrderStat {
 }
 
 export interface OrderOptions extends BootstrapOptions {
-  /** Weight per pixel; default 'confidence' (coherency for texture fields). */
+  /** Weight per pixel; default: coherency for texture fields, none for optical readings (defaultWeighting). */
   weighting?: Weighting;
   /** Reference axis for S_axis in degrees (CCW on screen). Omit for the free order only. */
   axisDeg?: number;
@@ -57,6 +57,15 @@ export function defaultBlockPx(f: OrientationField): number {
   return Math.min(cap, Math.max(4, Math.round(6 * correlationLengthPx(f))));
 }
 
+/**
+ * Default pixel weights: coherency for texture fields (a pixel with no clear direction says little); none
+ * for optical readings, whose confidence is lowest for rods along the compensator axis, exactly where
+ * cos 2(theta - axis) is least sensitive to an angle error, so weighting by it would bias S downwards.
+ */
+export function defaultWeighting(f: OrientationField): Weighting {
+  return f.method === 'texture' ? 'confidence' : 'none';
+}
+
 export function checkWeighting(w: string): Weighting {
   if (!(WEIGHTINGS as string[]).includes(w)) {
     throw new InputError(`weighting "${w}" is not known`, `Use one of ${WEIGHTINGS.join(', ')}`);
@@ -76,7 +85,7 @@ export function statFromBlocks(b: BlockSums, stat: (m: ReturnType<typeof totalMo
  * order if an axis is given (conventions.md, Order parameters).
  */
 export function orderParameters(f: OrientationField, options: OrderOptions = {}): OrderSummary {
-  const weighting = checkWeighting(options.weighting ?? 'confidence');
+  const weighting = checkWeighting(options.weighting ?? defaultWeighting(f));
   const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(f), 1, 4096, 'px');
   if (options.axisDeg !== undefined) checkNumber('axis angle', options.axisDeg, -360, 360, 'deg');
   const n = f.width * f.height;

@@ -146,3 +146,28 @@ describe('confidenceStats', () => {
     expect(c.fractionAbove05!).toBeCloseTo(5 / 9, 6);
   });
 });
+
+describe('analysePlate with a known sample retardance', () => {
+  // Angles evenly spaced over [45 - D, 45 + D] across the columns right of a 10-px sample-free strip; retardance 150 nm.
+  const spread = (halfDeg: number) => {
+    const cols = 80, w = 10 + cols, h = 21;
+    return renderSampleImage(w, h, (x) => (x < 10
+      ? { angleRad: 0, retardanceNm: 0 }
+      : { angleRad: (45 - halfDeg + (2 * halfDeg * (x - 10 + 0.5)) / cols) * DEG, retardanceNm: 150 }), resolveTrain(), { noiseSd: 0.002, seed: 9, camera: cam, name: `spread${halfDeg}.png` });
+  };
+
+  it('S_axis against the compensator axis matches the closed form of the angle distribution', async () => {
+    // domain.md §5 [D]: theta uniform on [theta0 - D, theta0 + D] gives S = sin 2D / (2D): D = 30 -> 0.82699, D = 10 -> 0.97982.
+    // Unweighted: the confidence is the angle's, lowest near the compensator axis, so weighting by it would favour the tails.
+    // Retardance known exactly (tolerance 0): a band lets angle trade against retardance near the axis (S biased low).
+    for (const [half, expected] of [[30, 0.82699], [10, 0.97982]] as const) {
+      const img = spread(half);
+      const { result } = await analysePlate(img, { background: { x: 0, y: 0, width: 10, height: img.height }, compensatorNm: 550, axisDeg: 45, weighting: 'none', sampleRetardanceNm: 150, sampleRetardanceToleranceNm: 0, ...sampleOnly });
+      expect(Math.abs(result.axisOrder! - expected), `D = ${half}`).toBeLessThanOrEqual(0.02);
+      expect(result.options.sampleRetardanceNm).toBe(150);
+      expect(result.options.sampleRetardanceToleranceNm).toBe(0);
+      // The sample-free strip is masked and counted, every sample pixel kept (the band has no sample-free colour in it).
+      expect(result.confidence.n).toBe(80 * img.height);
+    }
+  });
+});

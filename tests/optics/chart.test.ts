@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
-  interferenceChart, renderChart, orderBand, colourModel, interferenceColour, wavelengthGrid, chromaticity, deltaE2000, fullWavePlate,
+  interferenceChart, renderChart, chartTitle, orderBand, colourModel, interferenceColour, wavelengthGrid, chromaticity, deltaE2000, fullWavePlate,
   type Vec3,
 } from '../../src/optics/index.ts';
 import { DEG } from '../../src/common/angles.ts';
@@ -148,19 +148,54 @@ describe('interferenceChart', () => {
 });
 
 describe('renderChart', () => {
+  const rows = interferenceChart(D65, { maxNm: 2000, stepNm: 5 });
+  const dark = (img: ReturnType<typeof renderChart>, x0: number, x1: number, y0: number, y1: number) => {
+    let n = 0;
+    for (let y = y0; y < y1; y++) for (let x = x0; x < x1; x++) {
+      const i = 3 * (y * img.width + x);
+      if (img.data[i] + img.data[i + 1] + img.data[i + 2] === 0) n++;
+    }
+    return n;
+  };
+
   it('paints both strips with the chart colours and marks the order boundaries', () => {
-    const rows = interferenceChart(D65, { maxNm: 2000, stepNm: 5 });
     const img = renderChart(rows, 401, 20);
+    // No title: strip 20 + band (8 ticks + 16 numerals) + strip 20 + axis (6 ticks + 2 + 10 digits + 2).
     expect(img.width).toBe(401);
-    expect(img.height).toBe(2 * 20 + 24);
+    expect(img.height).toBe(2 * 20 + 24 + 20);
     expect(img.data.length).toBe(img.width * img.height * 3);
     const px = (x: number, y: number) => Array.from(img.data.subarray(3 * (y * img.width + x), 3 * (y * img.width + x) + 3));
     // x = 130 is 650 nm (2000 nm over 400 px): the top strip shows the plain colour, the bottom strip the compensator colour.
     expect(px(130, 5)).toEqual(rows[130].plain.srgb8);
-    expect(px(130, img.height - 5)).toEqual(rows[130].withCompensator.srgb8);
+    expect(px(130, 20 + 24 + 5)).toEqual(rows[130].withCompensator.srgb8);
     // Long tick at 550 nm (x = 110) reaches through the label band; none at 575 nm.
     expect(px(110, 20 + 12)).toEqual([0, 0, 0]);
     expect(px(115, 20 + 1)).toEqual([255, 255, 255]);
     expect(() => renderChart(rows, 10, 20)).toThrow(InputError);
+  });
+
+  it('labels the retardance axis in nm and carries a title line saying which strip is which and the lamp', () => {
+    const title = chartTitle(D65);
+    // The chart's own set-up: no compensator on top, a 550-nm full-wave plate below (interferenceChart's default), D65 lamp.
+    expect(title).toContain('TOP: NO COMPENSATOR');
+    expect(title).toContain('BOTTOM: 550 NM COMPENSATOR');
+    expect(title).toContain('LAMP D65');
+    const img = renderChart(rows, 1001, 30, title);
+    // Title line 16 px (10-px glyphs + 6), strips 30 + 30, band 24, axis 20.
+    expect(img.width).toBe(1001);
+    expect(img.height).toBe(16 + 2 * 30 + 24 + 20);
+    // Title text (4 * length - 1 columns of 2 px from x = 4) is drawn: dark pixels in the title band, none past its end.
+    expect(dark(img, 0, 200, 0, 16)).toBeGreaterThan(100);
+    expect(dark(img, 4 + (4 * title.length - 1) * 2 + 1, 1001, 0, 16)).toBe(0);
+    // Axis: x = g / 2 for g in nm. Labels 0, 500, 1000, 1500, 2000 centred under their ticks; nothing under 250 or 750 nm.
+    const axisY = 16 + 30 + 24 + 30, textY0 = axisY + 8, textY1 = axisY + 18;
+    for (const g of [500, 1000, 1500]) expect(dark(img, g / 2 - 12, g / 2 + 12, textY0, textY1), `${g} nm`).toBeGreaterThan(20);
+    expect(dark(img, 0, 30, textY0, textY1)).toBeGreaterThan(20);
+    expect(dark(img, 970, 1001, textY0, textY1)).toBeGreaterThan(20);
+    for (const g of [250, 750, 1250]) expect(dark(img, g / 2 - 10, g / 2 + 10, textY0, textY1), `${g} nm`).toBe(0);
+    // Ticks every 100 nm on the axis (x = 50 is 100 nm), longer at 500-nm steps.
+    expect(dark(img, 50, 51, axisY, axisY + 3)).toBe(3);
+    expect(dark(img, 50, 51, axisY + 3, axisY + 6)).toBe(0);
+    expect(dark(img, 250, 251, axisY, axisY + 6)).toBe(6);
   });
 });

@@ -195,3 +195,72 @@ describe('mirror choice', () => {
     expect(compensatorAxisAdvice(50, 45).text).not.toContain('from the compensator axis, so');
   });
 });
+
+describe('readPlate with a known sample retardance (sampleRetardanceNm)', () => {
+  // Mirror-reduced angles over the full half-turn; 6-px blocks, two rows of blocks, sensor noise 0.005.
+  const angles = [-88, -80, -70, -60, -50, -45, -40, -35, -30, -20, -10, -5, 0, 5, 10, 20, 30, 35, 40, 45, 50, 60, 70, 80, 88];
+  const B = 6, W = angles.length * B;
+  const blocks = (R: number, tol: number | undefined, seed: number) => {
+    const img = renderSampleImage(W, 2 * B, (x) => ({ angleRad: angles[Math.floor(x / B)] * DEG, retardanceNm: R }), {}, { noiseSd: 0.005, seed, camera: CAMERA });
+    const field = readPlate(img, { camera: CAMERA, sampleRetardanceNm: R, sampleRetardanceToleranceNm: tol }).field;
+    return angles.map((a, i) => {
+      let n = 0, masked = 0, worst = 0, worstHigh = 0, high = 0, conf = 0;
+      for (let y = 0; y < 2 * B; y++) for (let x = i * B; x < (i + 1) * B; x++) {
+        const k = y * W + x;
+        if (!field.mask[k]) { masked++; continue; }
+        const e = axialDiffDeg(field.angleRad[k] / DEG, mirrorReduced(a));
+        n++; conf += field.confidence[k]; worst = Math.max(worst, e);
+        if (field.confidence[k] >= 0.5) { high++; worstHigh = Math.max(worstHigh, e); }
+      }
+      return { angle: a, n, masked, worst, worstHigh, high, meanConf: n ? conf / n : 0, field };
+    });
+  };
+  const cases = [150, 300].flatMap((R) => [0, undefined].map((tol) => ({ R, tol, stats: blocks(R, tol, R + (tol ?? 7)) })));
+  // domain.md §2 [D]: Gamma_eff ~ Gamma_p + Gamma_s sin 2 theta with the plate at +45. With Gamma_s known the colour fixes
+  // sin 2 theta; d(sin 2 theta)/d theta = 2 cos 2 theta, so the angle is sharp where |cos 2 theta| is large and undefined at
+  // theta = +-45 (theta and its mirror 90 - theta meet). At theta = 0/90 the sample drops out (closed form: I = sin^2(delta_p/2),
+  // the background's colour).
+  const cos2 = (a: number) => Math.abs(Math.cos(2 * a * DEG));
+
+  it('reads every pixel within 2 deg (mirror-reduced) where the angle is defined: exact band, and the default 10 % band', () => {
+    // Issue 3 round-trip requirement: within 2 deg where the physics allows (1e-4: Float32 storage of the angle). Known exactly:
+    // wherever |cos 2 theta| >= 0.5. A band of +-t Gamma itself leaves sin 2 theta uncertain by t sin 2 theta, i.e. the angle by
+    // (t / 2) |tan 2 theta| rad (first order, domain.md §2): required only where that is at most 2 deg.
+    for (const { tol, R, stats } of cases) for (const b of stats) {
+      const t = (tol ?? 0.1 * R) / R;
+      const bandSpreadDeg = ((t / 2) * Math.abs(Math.tan(2 * b.angle * DEG))) / DEG;
+      if (cos2(b.angle) >= 0.5 && bandSpreadDeg <= 2) expect(b.worst, `${R} nm +- ${t * R}, ${b.angle} deg`).toBeLessThanOrEqual(2 + 1e-4);
+      // Confident pixels are within 2 deg everywhere.
+      expect(b.worstHigh).toBeLessThanOrEqual(2 + 1e-4);
+    }
+  });
+
+  it('gives high confidence where the colour is angle-sensitive, low near the compensator axis and at extinction', () => {
+    for (const { tol, stats } of cases) for (const b of stats) {
+      const fromPolars = Math.min(axialDiffDeg(b.angle, 0), axialDiffDeg(b.angle, 90));
+      const fromPlate = Math.min(axialDiffDeg(b.angle, 45), axialDiffDeg(b.angle, -45));
+      // Known exactly: 5-20 deg from the polars (|cos 2 theta| >= 0.77, clear of the background colour) reads with confidence.
+      if (tol === 0 && fromPolars >= 5 && fromPolars <= 20) expect(b.meanConf, `${b.angle} deg`).toBeGreaterThanOrEqual(0.45);
+      // Within 5 deg of the compensator axis or its normal: |cos 2 theta| <= 0.17, no pixel is confident.
+      if (fromPlate <= 5) { expect(b.high, `${b.angle} deg`).toBe(0); expect(b.meanConf).toBeLessThan(0.2); }
+      // Slow axis along a polariser: the background's colour; masked as sample-free or read with low confidence.
+      if (fromPolars === 0) { expect(b.masked).toBeGreaterThan(0); expect(b.high).toBe(0); }
+    }
+  });
+
+  it('keeps the retardance in the band and states the constraint in the options', () => {
+    const { stats } = cases.find((c) => c.R === 300 && c.tol === undefined)!;
+    const f = stats[0].field;
+    for (let k = 0; k < f.mask.length; k++) if (f.mask[k]) { expect(f.retardanceNm![k]).toBeGreaterThanOrEqual(270); expect(f.retardanceNm![k]).toBeLessThanOrEqual(330); }
+    expect(f.options.sampleRetardanceNm).toBe(300);
+    expect(f.options.sampleRetardanceToleranceNm).toBeCloseTo(30, 9); // default: 10 % of the retardance
+    expect(f.ambiguity).toBe('mirror-about-compensator');
+  });
+
+  it('rejects a nonsense band', () => {
+    const img = gridImage([20], [150], 4, 1);
+    expect(() => readPlate(img, { camera: CAMERA, sampleRetardanceNm: -5 })).toThrow(InputError);
+    expect(() => readPlate(img, { camera: CAMERA, sampleRetardanceNm: 100, sampleRetardanceToleranceNm: 150 })).toThrow(InputError);
+    expect(() => readPlate(img, { camera: CAMERA, sampleRetardanceToleranceNm: 10 })).toThrow(InputError);
+  });
+});

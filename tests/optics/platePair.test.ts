@@ -108,3 +108,26 @@ describe('phaseCorrelation', () => {
     expect(r.dyPx).toBeCloseTo(2, 1);
   });
 });
+
+describe('readPlatePair sample-free pixels', () => {
+  // A 10-px sample-free strip (0 nm, rendered so) beside a retarder of 150 nm at 30 deg. Gamma -> 0 leaves the angle
+  // undefined (domain.md §2: u = v = 0), so those pixels are masked and counted, not averaged into the confidence.
+  const W = 32, H = 16;
+  const at = (x: number) => (x < 10 ? { angleRad: 0, retardanceNm: 0 } : { angleRad: 30 * DEG, retardanceNm: 150 });
+  const trainA = resolveTrain();
+  const imgA = renderSampleImage(W, H, at, trainA, { noiseSd: 0.003, seed: 5, camera: CAMERA });
+  const imgB = renderSampleImage(W, H, at, turnedTrain(trainA, 45), { noiseSd: 0.003, seed: 6, camera: CAMERA });
+
+  it('masks pixels read below the floor (default 20 nm) and says how many; 0 keeps every pixel', () => {
+    const r = readPlatePair(imgA, imgB, { camera: CAMERA });
+    let kept = 0, keptFree = 0;
+    for (let i = 0; i < W * H; i++) if (r.field.mask[i]) { kept++; if (i % W < 10) keptFree++; }
+    expect(keptFree).toBe(0);
+    expect(kept).toBe((W - 10) * H);
+    expect(r.field.warnings.join(' ')).toContain(`${10 * H} pixels read below 20 nm`);
+    expect(r.field.options.retardanceMinNm).toBe(20);
+    const all = readPlatePair(imgA, imgB, { camera: CAMERA, retardanceMinNm: 0 });
+    expect(all.field.mask.every((m) => m === 1)).toBe(true);
+    expect(() => readPlatePair(imgA, imgB, { camera: CAMERA, retardanceMinNm: -1 })).toThrow(InputError);
+  });
+});

@@ -1,4 +1,4 @@
-import { interferenceChart, renderChart, parseIlluminant, fullWavePlate, illuminantLabel } from '../../optics/index.ts';
+import { interferenceChart, renderChart, chartTitle, parseIlluminant, fullWavePlate, illuminantLabel } from '../../optics/index.ts';
 import { encodePng } from '../../report/png.ts';
 import { numberOpt, stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -22,10 +22,11 @@ export const chartCommand: Command = {
     const ill = stringOpt(a, 'illuminant');
     const illuminant = ill ? parseIlluminant(ill) : { kind: 'blackbody' as const, temperatureK: 3200 };
     const compensatorNm = numberOpt(a, 'compensator-nm') ?? 550;
-    const rows = interferenceChart({ illuminant, compensator: fullWavePlate(compensatorNm) }, { maxNm: numberOpt(a, 'max-nm'), stepNm: numberOpt(a, 'step-nm') });
+    const train = { illuminant, compensator: fullWavePlate(compensatorNm) };
+    const rows = interferenceChart(train, { maxNm: numberOpt(a, 'max-nm'), stepNm: numberOpt(a, 'step-nm') });
     const out = stringOpt(a, 'out');
     if (out) {
-      const img = renderChart(rows, numberOpt(a, 'width-px') ?? 1000);
+      const img = renderChart(rows, numberOpt(a, 'width-px') ?? 1000, 60, chartTitle(train));
       await writeBytes(out, encodePng(img));
     }
     const hex = (c: number[]) => '#' + c.map((v) => v.toString(16).padStart(2, '0')).join('');

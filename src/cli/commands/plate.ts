@@ -20,16 +20,28 @@ export const TRAIN_OPTIONS: OptionSpec[] = [
   { name: 'illuminant', kind: 'string', help: 'lamp: a colour temperature such as 3200K, or D65, or A', defaultText: '3200K' },
 ];
 
-/** Options of the compensator-image readers. */
+/** One image of a sample of known retardance (plate, profile --source plate): the reading keeps to that band. */
+export const KNOWN_RETARDANCE_OPTIONS: OptionSpec[] = [
+  { name: 'sample-retardance-nm', kind: 'number', help: 'one image: known sample retardance (e.g. thickness x birefringence), nm; each colour then fixes the angle' },
+  { name: 'sample-retardance-tolerance-nm', kind: 'number', help: 'one image: half-width of the known-retardance band, nm', defaultText: '10 % of the retardance' },
+];
+
+/** Options of the compensator-image readers (the known-retardance ones are for one image: plate2 leaves them out). */
 export const PLATE_OPTIONS: OptionSpec[] = [
   ...TRAIN_OPTIONS,
   { name: 'retardance-max-nm', kind: 'number', help: 'largest sample retardance searched, nm', defaultText: '800' },
-  { name: 'retardance-min-nm', kind: 'number', help: 'one image: mask pixels read below this retardance as sample-free, nm', defaultText: '20' },
+  { name: 'retardance-min-nm', kind: 'number', help: 'mask pixels read below this retardance as sample-free, nm', defaultText: '20' },
   { name: 'background', kind: 'string', help: 'sample-free rectangle "x,y,w,h": fits compensator retardance, white balance and exposure' },
   { name: 'white-rgb', kind: 'string', help: 'white reference "R,G,B" (8-bit codes as stored) of a sample-free area with parallel polars: sets the white balance' },
   { name: 'sign', kind: 'string', help: 'birefringence of the structure: positive (length-slow) or negative (length-fast)', defaultText: 'positive' },
   { name: 'field-out', kind: 'string', help: 'write the field as a float TIFF (angleDeg, confidence, retardanceNm, mask)' },
+  ...KNOWN_RETARDANCE_OPTIONS,
 ];
+
+/** The known-retardance options as the analyses take them. */
+export function knownRetardanceFrom(a: ParsedArgs): Pick<PlateOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'> {
+  return { sampleRetardanceNm: numberOpt(a, 'sample-retardance-nm'), sampleRetardanceToleranceNm: numberOpt(a, 'sample-retardance-tolerance-nm') };
+}
 
 /** The optical train options as the analyses take them. */
 export function trainOptionsFrom(a: ParsedArgs): TrainOptions {
@@ -115,7 +127,7 @@ export function opticsOutput(analysis: string, results: OpticsResult[]): Command
 
 /** One plate image read with the options given on the command line (shared with `profile --source plate`). */
 export function readPlateFrom(img: Image, a: ParsedArgs) {
-  return readPlateField(img, { ...plateReadingFrom(a), match: matchFrom(a), axisDeg: numberOpt(a, 'axis-deg') });
+  return readPlateField(img, { ...plateReadingFrom(a), ...knownRetardanceFrom(a), match: matchFrom(a), axisDeg: numberOpt(a, 'axis-deg') });
 }
 
 export const MATCH_OPTION: OptionSpec = { name: 'match', kind: 'string', help: 'lab, or chroma (brightness-independent, for uneven illumination)', defaultText: 'lab' };
@@ -123,7 +135,7 @@ export const MATCH_OPTION: OptionSpec = { name: 'match', kind: 'string', help: '
 export const plateCommand: Command = {
   name: 'plate',
   summary: 'orientation and retardance from one compensator (full-wave plate) colour image',
-  usage: 'IMAGE... [--compensator-nm 550] [--compensator-deg 45] [--polariser-deg 0] [--illuminant 3200K|D65] [--retardance-max-nm 800] [--background "x,y,w,h"] [--field-out FILE.tif] [--json]',
+  usage: 'IMAGE... [--compensator-nm 550] [--compensator-deg 45] [--polariser-deg 0] [--illuminant 3200K|D65] [--retardance-max-nm 800] [--sample-retardance-nm R [--sample-retardance-tolerance-nm T]] [--background "x,y,w,h"] [--field-out FILE.tif] [--json]',
   options: [
     ...PLATE_OPTIONS,
     MATCH_OPTION,
@@ -132,7 +144,7 @@ export const plateCommand: Command = {
   ],
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more compensator images');
-    const options: PlateOptions = { ...plateReadingFrom(a), ...summaryFrom(a), match: matchFrom(a), resolveMirror: flagOpt(a, 'resolve-mirror') };
+    const options: PlateOptions = { ...plateReadingFrom(a), ...knownRetardanceFrom(a), ...summaryFrom(a), match: matchFrom(a), resolveMirror: flagOpt(a, 'resolve-mirror') };
     const images = await loadImageFiles(a.positionals);
     const fieldOut = stringOpt(a, 'field-out');
     const results: OpticsResult[] = [];

@@ -5,14 +5,15 @@ import type { Command } from '../command.ts';
 import { loadImageFiles } from '../io.ts';
 import { writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS } from '../channelOptions.ts';
-import { PLATE_OPTIONS, opticsOutput, plateReadingFrom, summaryFrom } from './plate.ts';
+import { KNOWN_RETARDANCE_OPTIONS, PLATE_OPTIONS, opticsOutput, plateReadingFrom, summaryFrom } from './plate.ts';
 
 export const plate2Command: Command = {
   name: 'plate2',
   summary: 'full orientation (0-180 deg) and retardance from two compensator images turned by 45 deg',
   usage: 'IMAGE_A IMAGE_B [--turn-deg 45] [--compensator-nm 550] [--background "x,y,w,h"] [--field-out FILE.tif] [--json]',
   options: [
-    ...PLATE_OPTIONS,
+    // Two images give the retardance themselves: the one-image known-retardance band does not apply.
+    ...PLATE_OPTIONS.filter((o) => !KNOWN_RETARDANCE_OPTIONS.includes(o)),
     { name: 'turn-deg', kind: 'number', help: 'turn of the polariser-compensator-analyser assembly for image B (sample turned the other way)', defaultText: '45' },
     { name: 'max-shift-px', kind: 'number', help: 'warn when the images are shifted against each other by more than this', defaultText: '1' },
     ...CHANNEL_OPTIONS,
