@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
 import {
   cmf1931, d65Spd, illuminantASpd, blackbodySpd, wavelengthGrid, chromaticity, srgbEncode, srgbDecode, srgbToLab,
   xyzToLinearSrgb, linearSrgbToXyz, xyzToLab, labToXyz, D65_WHITE, deltaE2000, deltaE76, bradfordMatrix, mulMat3,
@@ -146,6 +147,17 @@ describe('colour differences', () => {
   it.each(pairs)('deltaE2000(%j, %j) = %f in both orders', (a, b, e) => {
     expect(Math.abs(deltaE2000(a, b) - e)).toBeLessThan(1e-4);
     expect(Math.abs(deltaE2000(b, a) - e)).toBeLessThan(1e-4);
+  });
+
+  it('reproduces all 34 published test pairs of Sharma, Wu & Dalal (2005) to 1e-4, both orders', () => {
+    // tests/fixtures/reference/ciede2000-sharma.tsv: the paper's supplementary test data (source in the file).
+    const rows = readFileSync(new URL('../fixtures/reference/ciede2000-sharma.tsv', import.meta.url), 'utf8')
+      .split('\n').filter((l) => l.trim() && !l.startsWith('#')).map((l) => l.trim().split(/\s+/).map(Number));
+    expect(rows).toHaveLength(34);
+    for (const [L1, a1, b1, L2, a2, b2, e] of rows) {
+      expect(Math.abs(deltaE2000([L1, a1, b1], [L2, a2, b2]) - e)).toBeLessThan(1e-4);
+      expect(Math.abs(deltaE2000([L2, a2, b2], [L1, a1, b1]) - e)).toBeLessThan(1e-4);
+    }
   });
 
   it('deltaE76 is the Lab distance', () => {
