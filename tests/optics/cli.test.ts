@@ -123,8 +123,9 @@ describe('retarda chart', () => {
     expect(out.csvRows!.length).toBe(401);
     // domain.md §1 [C]: 550/551 nm under D65 is the sensitive tint, sRGB8 near (104, 0, 179).
     const row = out.csvRows!.find((r) => r.retardanceNm === 550)!;
-    expect(Math.abs(Number(row.R) - 104)).toBeLessThanOrEqual(3);
-    expect(Number(row.G)).toBe(0);
+    expect(Math.abs(Number(row.srgbR8) - 104)).toBeLessThanOrEqual(3);
+    expect(Math.abs(Number(row.srgbB8) - 179)).toBeLessThanOrEqual(3);
+    expect(Number(row.srgbG8)).toBe(0);
     expect(out.table).toContain('sensitive tint');
   });
 });

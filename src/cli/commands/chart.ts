@@ -41,9 +41,9 @@ export const chartCommand: Command = {
         rows.filter((_, i) => i % every === 0).map((r) => [r.retardanceNm, r.band.label, r.band.name, hex(r.plain.srgb8), hex(r.withCompensator.srgb8)])),
       csvRows: rows.map((r) => ({
         retardanceNm: r.retardanceNm, order: r.band.label, band: r.band.name,
-        L: r.plain.lab[0], a: r.plain.lab[1], b: r.plain.lab[2], R: r.plain.srgb8[0], G: r.plain.srgb8[1], B: r.plain.srgb8[2],
-        compensatorL: r.withCompensator.lab[0], compensatorA: r.withCompensator.lab[1], compensatorB: r.withCompensator.lab[2],
-        compensatorR: r.withCompensator.srgb8[0], compensatorG: r.withCompensator.srgb8[1], compensatorB8: r.withCompensator.srgb8[2],
+        labL: r.plain.lab[0], labA: r.plain.lab[1], labB: r.plain.lab[2], srgbR8: r.plain.srgb8[0], srgbG8: r.plain.srgb8[1], srgbB8: r.plain.srgb8[2],
+        compensatorLabL: r.withCompensator.lab[0], compensatorLabA: r.withCompensator.lab[1], compensatorLabB: r.withCompensator.lab[2],
+        compensatorSrgbR8: r.withCompensator.srgb8[0], compensatorSrgbG8: r.withCompensator.srgb8[1], compensatorSrgbB8: r.withCompensator.srgb8[2],
       })),
       warnings: [],
     };
