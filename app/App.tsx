@@ -5,7 +5,7 @@
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Channel } from '../src/channel/index.ts';
 import { AnalysisClient, CancelledError, type ImageSource } from './worker/client.ts';
-import type { DecodeSummary, Glyph, Picture } from './worker/protocol.ts';
+import type { DecodeSummary, Glyph, Picture, StepTimes } from './worker/protocol.ts';
 import {
   BackupError, browserKeyValue, createSaver, createSessionStore, createSetupStore, exportBackup, importBackup,
   type AnalysisSettings, type SessionRecord, type SessionSummary,
@@ -19,6 +19,7 @@ import { SessionsPanel } from './components/SessionsPanel.tsx';
 import { LampCaution, ResultCaution, SampleCaution } from './components/Cautions.tsx';
 import { MoreAnalyses, type OpticalField } from './components/MoreAnalyses.tsx';
 import type { Mark } from './components/Viewer.tsx';
+import { stationDrawing } from './components/stationMarks.ts';
 import type { ProgressFn } from './worker/client.ts';
 import { CameraView } from './camera/CameraView.tsx';
 import { SetupsPanel } from './setups/SetupsPanel.tsx';
@@ -35,7 +36,14 @@ import {
 
 interface Message { id: number; kind: 'error' | 'info'; text: string }
 interface Busy { stage: string; fraction: number; what: string }
-interface Shown { imageId: string; summary: DecodeSummary; image: Layer; colour: Layer | null; coherency: Layer | null; glyphs: Glyph[] }
+/**
+ * What the viewer shows for the active image. The coherency picture and the glyphs are made when first
+ * shown (null until then), from the texture field of `fieldOptions` (the options the colour map was made with).
+ */
+interface Shown {
+  imageId: string; summary: DecodeSummary; image: Layer; colour: Layer | null; coherency: Layer | null; glyphs: Glyph[] | null;
+  fieldOptions: { sigmaPx: number } | null;
+}
 interface DemoEntry { file: string; title: string; about: string; set?: string[] }
 
 const ACCEPT = '.png,.jpg,.jpeg,.tif,.tiff,image/png,image/jpeg,image/tiff';
@@ -73,6 +81,10 @@ export function App() {
   const [messages, setMessages] = useState<Message[]>([]);
   const [busy, setBusy] = useState<Busy | null>(null);
   const [shown, setShown] = useState<Shown | null>(null);
+  /** Milliseconds of each step of the last orientation run in the worker (read by the browser benchmark). */
+  const [workerTimes, setWorkerTimes] = useState<StepTimes>({});
+  /** Coherency pictures and glyph sets being made, so one is asked for only once. */
+  const making = useRef(new Set<string>());
   const [mode, setMode] = useState<OverlayMode>('colour');
   const [opacity, setOpacity] = useState(0.7);
   const [drawing, setDrawing] = useState(false);
@@ -241,10 +253,17 @@ export function App() {
     try {
       await client.ensure(src, progress('Opening the image'));
       const o = s.settings;
-      const reply = await client.call('orient', { key: id, options: { sigmaPx: o.sigmaPx, weighting: o.weighting, axisDeg: o.axisDeg ?? undefined } }, progress('Orientation'));
-      const [colour, coherency] = await Promise.all([layerOf(reply.colour), layerOf(reply.coherency)]);
-      setShown((sh) => (sh && sh.imageId === id ? { ...sh, colour, coherency, glyphs: reply.glyphs } : sh));
-      change({ type: 'orient', id, result: reply.result });
+      const options = { sigmaPx: o.sigmaPx, weighting: o.weighting, axisDeg: o.axisDeg ?? undefined };
+      // The numbers come first (shown and saved at once), the colour map after them.
+      const reply = await client.callInParts('orient', { key: id, options }, (early) => {
+        change({ type: 'orient', id, result: early.result });
+        setWorkerTimes(early.timesMs);
+      }, progress('Orientation'));
+      const colour = await layerOf(reply.colour);
+      const fieldOptions = { sigmaPx: o.sigmaPx };
+      // A new map: the coherency picture and glyphs of the old one are remade when shown.
+      setShown((sh) => (sh && sh.imageId === id ? { ...sh, colour, coherency: null, glyphs: null, fieldOptions } : sh));
+      setWorkerTimes(reply.timesMs);
       setMode((m) => (m === 'none' ? 'colour' : m));
       if (!quiet) { setFieldChoice('texture'); say('info', 'Orientation analysis done.'); }
     } catch (e) { report(e, 'Orientation analysis'); } finally { setBusy(null); }
@@ -300,13 +319,39 @@ export function App() {
         const summary = ready && client.holds(id) ? ready : await client.decode(src, progress('Opening the image'));
         const image = await layerOf(summary.picture);
         if (stop) return;
-        setShown({ imageId: id, summary, image, colour: null, coherency: null, glyphs: [] });
+        setShown({ imageId: id, summary, image, colour: null, coherency: null, glyphs: null, fieldOptions: null });
         setBusy(null);
         if (sessionRef.current?.work[id]?.orient) await runOrient(true);
       } catch (e) { setBusy(null); report(e, 'Opening the image'); }
     })();
     return () => { stop = true; };
   }, [session?.activeImageId]); // eslint-disable-line react-hooks/exhaustive-deps
+
+  // The coherency picture and the line glyphs are made the first time they are shown.
+  useEffect(() => {
+    if (!shown?.colour || !shown.fieldOptions || showOptical) return;
+    const what = mode === 'coherency' && !shown.coherency ? 'coherency' : mode === 'glyphs' && !shown.glyphs ? 'glyphs' : null;
+    const src = what ? sourceOf(shown.imageId) : null;
+    if (!what || !src) return;
+    const { imageId, fieldOptions } = shown;
+    const job = `${what}:${imageId}:${fieldOptions.sigmaPx}`;
+    if (making.current.has(job)) return;
+    making.current.add(job);
+    const same = (sh: Shown | null): sh is Shown => !!sh && sh.imageId === imageId && sh.fieldOptions === fieldOptions;
+    (async () => {
+      try {
+        await client.ensure(src, progress('Opening the image'));
+        if (what === 'coherency') {
+          const r = await client.call('coherencyPicture', { key: imageId, options: fieldOptions }, progress('Coherency picture'));
+          const coherency = await layerOf(r.picture);
+          setShown((sh) => { if (same(sh)) return { ...sh, coherency }; coherency.levels.forEach((b) => b.close()); return sh; });
+        } else {
+          const r = await client.call('glyphs', { key: imageId, options: fieldOptions }, progress('Line glyphs'));
+          setShown((sh) => (same(sh) ? { ...sh, glyphs: r.glyphs } : sh));
+        }
+      } catch (e) { report(e, what === 'coherency' ? 'Coherency picture' : 'Line glyphs'); } finally { making.current.delete(job); setBusy(null); }
+    })();
+  }, [mode, shown, showOptical, client, sourceOf, progress, report]);
 
   const addFiles = useCallback(async (files: File[]) => {
     if (!files.length) return;
@@ -397,6 +442,11 @@ export function App() {
   const profile = work?.profile ?? null;
   const walls: Channel | null = work?.walls ?? null;
   const base = active ? active.name.replace(/\.[^.]+$/, '') : 'result';
+  // The stations of a profile along the channel, drawn on the image to match the station table.
+  const stationLines = useMemo(() => {
+    // The profile was made with these walls, so they passed channelFrame's checks already.
+    return profile && profile.stations.length > 1 ? stationDrawing(profile) : null;
+  }, [profile]);
 
   /** The current view as the PNG export draws it (image, shown overlay, walls, scale bar, legend). */
   const viewPicture = (): ViewPictureInput | null => {
@@ -590,9 +640,9 @@ export function App() {
               <Viewer
                 handle={viewer} image={shown.image} imageWidth={shown.summary.width} imageHeight={shown.summary.height}
                 colour={showOptical ? opticalHere!.colour : shown.colour} coherency={showOptical ? opticalHere!.confidence : shown.coherency}
-                glyphs={showOptical ? opticalHere!.glyphs : shown.glyphs} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
+                glyphs={showOptical ? opticalHere!.glyphs : shown.glyphs ?? []} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
                 marks={marks && marks.imageId === active.id ? marks.marks : undefined}
-                walls={walls} drawing={drawing}
+                walls={walls} stations={stationLines} drawing={drawing}
                 onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}
                 onDrawingDone={() => setDrawing(false)}
               />
@@ -610,7 +660,7 @@ export function App() {
           </section>
 
           <aside className="panel" aria-label="Analysis">
-            <section>
+            <section data-testid="orient-section" data-worker-ms={JSON.stringify(workerTimes)}>
               <h2>Orientation</h2>
               {numberField('Texture scale σ', 'sigmaPx', 0.5, 30, 0.5, 'px')}
               <label className="field">
@@ -639,9 +689,13 @@ export function App() {
 
             <MoreAnalyses
               ctx={{ client, images: session!.images, activeId: active.id, sourceOf, runJob, disabled: !!busy || engine === 'failed' }}
+              work={work} pixelSize={session?.pixelSize ?? null} opticalMapShown={opticalHere !== null}
               onField={(f) => { setOptical(f); setFieldChoice('optical'); setMode((m) => (m === 'none' || m === 'glyphs' ? 'colour' : m)); }}
               onMarks={(imageId, m) => setMarks({ imageId, marks: m })}
               onDiameter={(id, d) => change({ type: 'diameter', id, result: d })}
+              onOptics={(id, reading) => change({ type: 'optics', id, reading })}
+              onMicrometer={(id, calibration) => change({ type: 'micrometer', id, calibration })}
+              onPixelSize={(pixelSize) => change({ type: 'pixelSize', pixelSize })}
             />
 
             <section>

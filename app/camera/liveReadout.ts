@@ -98,7 +98,6 @@ export class LiveReadout {
         const reply = await engine.call('orient', {
           key, options: { sigmaPx: s.sigmaPx, weighting: s.weighting, replicates: s.replicates, ...(frame.plan.region ? { region: frame.plan.region } : {}) },
         });
-        reply.coherency.levels.forEach((b) => b.close?.());
         const at = now();
         if (!this.running || grabbedAt <= this.shownGrab) { reply.colour.levels.forEach((b) => b.close?.()); continue; }
         this.shownGrab = grabbedAt;

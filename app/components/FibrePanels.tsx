@@ -4,18 +4,18 @@
  * `retarda fibre` print for the same file and settings (the command line is shown with them).
  */
 import { useState } from 'react';
-import type { DiameterDocument, FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, MicrometerDocument, TenacityUnit } from '../../src/analyses/index.ts';
+import type { DiameterDocument, FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, TenacityUnit } from '../../src/analyses/index.ts';
 import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { Mark } from './Viewer.tsx';
 import type { PanelContext } from './OpticalPanel.tsx';
 import { Histogram } from './Histogram.tsx';
 import { commandLine, fibreArgs } from './commandLines.ts';
+import type { SessionPixelSize, StoredMicrometer } from '../storage/records.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
-/** A pixel size the user chose for the session's images, and where it came from. */
-export interface SessionPixelSize { umPerPx: number; from: string }
+export type { SessionPixelSize } from '../storage/records.ts';
 
 function num(text: string, what: string): number | undefined {
   if (text.trim() === '') return undefined;
@@ -147,11 +147,19 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
   );
 }
 
-interface MicrometerProps { ctx: PanelContext; pixelSize: SessionPixelSize | null; onUse(p: SessionPixelSize | null): void }
+interface MicrometerProps {
+  ctx: PanelContext;
+  /** The session's chosen pixel size (kept with the session). */
+  pixelSize: SessionPixelSize | null;
+  /** The calibration kept with the session for the image shown. */
+  stored: StoredMicrometer | null;
+  onUse(p: SessionPixelSize | null): void;
+  /** A new calibration of an image, to keep with the session. */
+  onCalibration(imageId: string, c: StoredMicrometer): void;
+}
 
-export function MicrometerPanel({ ctx, pixelSize, onUse }: MicrometerProps) {
+export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration }: MicrometerProps) {
   const [s, setS] = useState({ divisionUm: '10', polarity: 'auto', na: '' });
-  const [shown, setShown] = useState<{ imageId: string; name: string; doc: MicrometerDocument; cli: string } | null>(null);
   const [formError, setFormError] = useState<string | null>(null);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
 
@@ -172,10 +180,10 @@ export function MicrometerPanel({ ctx, pixelSize, onUse }: MicrometerProps) {
       await ctx.client.ensure(src, p);
       return ctx.client.call('micrometer', { key: id, options }, p);
     });
-    if (doc) setShown({ imageId: id, name: active.name, doc, cli: commandLine('calibrate', [active.name], args) });
+    if (doc) onCalibration(id, { doc, commandLine: commandLine('calibrate', [active.name], args) });
   }
 
-  const c = shown && shown.imageId === ctx.activeId ? shown.doc : null;
+  const c = stored?.doc ?? null;
   return (
     <div>
       <label className="field"><span>One division</span><input value={s.divisionUm} onChange={(e) => setS({ ...s, divisionUm: e.target.value })} data-testid="division-um" /><span className="unit">µm</span></label>
@@ -197,8 +205,8 @@ export function MicrometerPanel({ ctx, pixelSize, onUse }: MicrometerProps) {
             </tbody>
           </table>
           {c.warnings.length > 0 && <ul className="warnings">{c.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
-          <p className="cli"><code data-testid="micrometer-cli">{shown!.cli}</code></p>
-          <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${shown!.name}` })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
+          <p className="cli"><code data-testid="micrometer-cli">{stored!.commandLine}</code></p>
+          <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${active?.name ?? c.source}` })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
         </div>
       )}
       {pixelSize && (

@@ -6,9 +6,10 @@
  */
 import { useState } from 'react';
 import { OpticalPanel, type OpticalField, type PanelContext } from './OpticalPanel.tsx';
-import { DiameterPanel, FibreNumbersPanel, MicrometerPanel, type SessionPixelSize } from './FibrePanels.tsx';
+import { DiameterPanel, FibreNumbersPanel, MicrometerPanel } from './FibrePanels.tsx';
 import type { Mark } from './Viewer.tsx';
 import type { DiameterDocument } from '../../src/analyses/index.ts';
+import type { ImageWork, SessionPixelSize, StoredMicrometer, StoredOptics } from '../storage/records.ts';
 
 export type { OpticalField, PanelContext } from './OpticalPanel.tsx';
 
@@ -17,17 +18,26 @@ const TABS: [Tab, string][] = [['optical', 'Polarised colours'], ['diameter', 'F
 
 interface Props {
   ctx: PanelContext;
+  /** What the session keeps for the image shown (its optical reading and micrometer calibration). */
+  work: ImageWork | null;
+  /** The session's chosen pixel size. */
+  pixelSize: SessionPixelSize | null;
+  /** Whether the viewer holds the optical reading's maps for the image shown. */
+  opticalMapShown: boolean;
   onField(f: OpticalField): void;
   onMarks(imageId: string, marks: Mark[]): void;
   /** A diameter result for an image, kept with the session (Compare shows it). */
   onDiameter(imageId: string, d: DiameterDocument): void;
+  onOptics(imageId: string, reading: StoredOptics): void;
+  onMicrometer(imageId: string, c: StoredMicrometer): void;
+  onPixelSize(p: SessionPixelSize | null): void;
 }
 
-export function MoreAnalyses({ ctx, onField, onMarks, onDiameter }: Props) {
+export function MoreAnalyses({ ctx, work, pixelSize, opticalMapShown, onField, onMarks, onDiameter, onOptics, onMicrometer, onPixelSize }: Props) {
   const [tab, setTab] = useState<Tab>('optical');
-  const [pixelSize, setPixelSize] = useState<SessionPixelSize | null>(null);
   const [diameterUm, setDiameterUm] = useState<number | null>(null);
   const [retardanceNm, setRetardanceNm] = useState<number | null>(null);
+  const optics = work?.optics ?? null;
   return (
     <section aria-label="More analyses">
       <h2>More analyses</h2>
@@ -36,11 +46,16 @@ export function MoreAnalyses({ ctx, onField, onMarks, onDiameter }: Props) {
           <button key={t} role="tab" aria-selected={tab === t} className={tab === t ? 'on' : ''} onClick={() => setTab(t)}>{label}</button>
         ))}
       </div>
-      {/* Panels stay mounted so their settings and results survive switching tabs. */}
-      <div hidden={tab !== 'optical'}><OpticalPanel ctx={ctx} onField={onField} onResult={(r) => setRetardanceNm(r.retardanceNmMedian)} /></div>
+      {/* Panels stay mounted so their settings survive switching tabs; results are kept with the session. */}
+      <div hidden={tab !== 'optical'}>
+        <OpticalPanel ctx={ctx} stored={optics} mapShown={opticalMapShown} onField={onField}
+          onReading={(id, r) => { setRetardanceNm(r.result.retardanceNmMedian); onOptics(id, r); }} />
+      </div>
       <div hidden={tab !== 'diameter'}><DiameterPanel ctx={ctx} pixelSize={pixelSize} onMarks={onMarks} onResult={(id, d) => { setDiameterUm(d.meanUm); onDiameter(id, d); }} /></div>
-      <div hidden={tab !== 'micrometer'}><MicrometerPanel ctx={ctx} pixelSize={pixelSize} onUse={setPixelSize} /></div>
-      <div hidden={tab !== 'numbers'}><FibreNumbersPanel ctx={ctx} measuredDiameterUm={diameterUm} measuredRetardanceNm={retardanceNm} /></div>
+      <div hidden={tab !== 'micrometer'}><MicrometerPanel ctx={ctx} pixelSize={pixelSize} stored={work?.micrometer ?? null} onUse={onPixelSize} onCalibration={onMicrometer} /></div>
+      <div hidden={tab !== 'numbers'}>
+        <FibreNumbersPanel ctx={ctx} measuredDiameterUm={diameterUm ?? work?.diameter?.meanUm ?? null} measuredRetardanceNm={retardanceNm ?? optics?.result.retardanceNmMedian ?? null} />
+      </div>
     </section>
   );
 }

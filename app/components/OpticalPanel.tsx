@@ -11,13 +11,16 @@ import { formatCell } from '../../src/cli/format.ts';
 import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
 import type { Glyph, OpticsReply, Picture } from '../worker/protocol.ts';
 import type { Layer } from './Viewer.tsx';
+import type { OpticsKind, StoredOptics } from '../storage/records.ts';
 import { LegendWheel } from './LegendWheel.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
 import { channelArgs, commandLine, plateReadingArgs, quote, trainArgs } from './commandLines.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
-export type ReadingKind = 'plate' | 'plate2' | 'quad';
+export type ReadingKind = OpticsKind;
+
+const READING_NAMES: Record<ReadingKind, string> = { plate: 'compensator reading', plate2: 'two-image reading', quad: 'angle-series reading' };
 
 /** An optical field the viewer can show and the channel profile can use ("the current field"). */
 export interface OpticalField {
@@ -87,12 +90,20 @@ const axisGap = (a: number, b: number) => Math.abs((((a - b) % 180) + 270) % 180
 
 const layerOf = (p: Picture): Layer => ({ levels: p.levels, width: p.width, height: p.height, scale: p.scale });
 
-interface Shown { imageId: string; kind: ReadingKind; result: OpticsResult; commandLine: string; rangeNm: [number, number] | null }
+interface OpticalPanelProps {
+  ctx: PanelContext;
+  /** The reading kept with the session for the image shown (made with it first), shown after a reload too. */
+  stored: StoredOptics | null;
+  /** Whether the viewer has this reading's maps (they are remade by reading again, not kept). */
+  mapShown: boolean;
+  onField(f: OpticalField): void;
+  /** A new reading for an image, to keep with the session. */
+  onReading(imageId: string, reading: StoredOptics): void;
+}
 
-export function OpticalPanel({ ctx, onField, onResult }: { ctx: PanelContext; onField(f: OpticalField): void; onResult?(r: OpticsResult): void }) {
+export function OpticalPanel({ ctx, stored, mapShown, onField, onReading }: OpticalPanelProps) {
   const [kind, setKind] = useState<ReadingKind>('plate');
   const [s, setS] = useState<Settings>(DEFAULTS);
-  const [shown, setShown] = useState<Shown | null>(null);
   const [formError, setFormError] = useState<string | null>(null);
   const set = (c: Partial<Settings>) => setS((o) => ({ ...o, ...c }));
   const active = ctx.images.find((i) => i.id === ctx.activeId);
@@ -181,8 +192,7 @@ export function OpticalPanel({ ctx, onField, onResult }: { ctx: PanelContext; on
     const reply = await ctx.runJob(what, job);
     if (!reply) return;
     const imageId = active.id;
-    setShown({ imageId, kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm });
-    onResult?.(reply.result);
+    onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm });
     onField({
       imageId, label: kind === 'plate' ? 'compensator colour' : kind === 'plate2' ? 'two compensator images' : 'crossed polars, several angles',
       colour: layerOf(reply.colour), confidence: layerOf(reply.confidence), retardance: reply.retardance ? layerOf(reply.retardance) : null,
@@ -208,7 +218,7 @@ export function OpticalPanel({ ctx, onField, onResult }: { ctx: PanelContext; on
     </label>
   );
 
-  const r = shown && shown.imageId === ctx.activeId ? shown : null;
+  const r = stored;
   return (
     <div className="optical">
       <fieldset className="choice" aria-label="Which reading">
@@ -291,6 +301,7 @@ export function OpticalPanel({ ctx, onField, onResult }: { ctx: PanelContext; on
       {formError && <p className="note warn" role="alert">{formError}</p>}
       <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Read orientation and retardance</button>
 
+      {r && !mapShown && <p className="note" data-testid="optics-kept">Kept from an earlier {READING_NAMES[r.kind]}: its numbers are below; read again to see its maps on the image.</p>}
       {r && <OpticsTable r={r.result} rangeNm={r.rangeNm} />}
       {r && <p className="cli" title="Run this to get the same numbers from the command line"><code data-testid="optics-cli">{r.commandLine}</code></p>}
     </div>

@@ -38,7 +38,7 @@ export function ProfileTable({ r, stale }: { r: ProfileResult; stale: boolean })
         </tbody>
       </table>
       {r.stations.length > 1 && (
-        <table className="results compact">
+        <table className="results compact" data-testid="station-table">
           <thead><tr><th>station</th><th>width px</th><th>core S</th><th>skin S</th><th>core/skin</th></tr></thead>
           <tbody>{r.stations.map((s) => <tr key={s.station}><td>{s.station}</td><td>{f(s.widthPx)}</td><td>{f(s.core.order)}</td><td>{f(s.skin.order)}</td><td>{f(s.coreSkinRatio)}</td></tr>)}</tbody>
         </table>

@@ -8,6 +8,7 @@ import { useCallback, useEffect, useImperativeHandle, useRef, useState, type Ref
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Glyph } from '../worker/protocol.ts';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
+import type { StationDrawing } from './stationMarks.ts';
 
 /**
  * A picture to draw: `levels[0]` at full picture size, each further level half the one before (so
@@ -36,6 +37,8 @@ interface Props {
   mode: OverlayMode;
   opacity: number;
   walls: Channel | null;
+  /** A profile's station boundaries and numbers (drawn when the profile has more than one station). */
+  stations?: StationDrawing | null;
   drawing: boolean;
   onWalls(channel: Channel): void;
   onDrawingDone(): void;
@@ -45,6 +48,7 @@ interface Props {
 interface View { scale: number; tx: number; ty: number }
 
 const WALL_COLOURS = ['#f2f2f2', '#ffd23f'];
+const STATION_COLOUR = '#7fd8ff';
 
 export function Viewer(p: Props) {
   const wrap = useRef<HTMLDivElement>(null);
@@ -132,6 +136,22 @@ export function Viewer(p: Props) {
         g.strokeStyle = m.colour; g.lineWidth = 1.75; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(b.x, b.y); g.stroke();
       }
     }
+    if (p.stations && !p.drawing) {
+      g.lineCap = 'butt';
+      g.setLineDash([10, 5]);
+      for (const b of p.stations.boundaries) {
+        const a = toScreen(b.x1, b.y1), c = toScreen(b.x2, b.y2);
+        g.strokeStyle = 'rgba(0,0,0,0.75)'; g.lineWidth = 4.5; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(c.x, c.y); g.stroke();
+        g.strokeStyle = STATION_COLOUR; g.lineWidth = 2.5; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(c.x, c.y); g.stroke();
+      }
+      g.setLineDash([]);
+      g.font = '600 13px system-ui, sans-serif';
+      for (const l of p.stations.labels) {
+        const q = toScreen(l.x, l.y), text = `station ${l.text}`, tw = g.measureText(text).width;
+        g.fillStyle = 'rgba(0,0,0,0.8)'; g.fillRect(q.x - tw / 2 - 5, q.y - 10, tw + 10, 19);
+        g.fillStyle = STATION_COLOUR; g.fillText(text, q.x - tw / 2, q.y + 4);
+      }
+    }
     const segs = p.drawing ? draft : p.walls?.walls ?? [];
     segs.forEach((s, i) => {
       const a = toScreen(s.x1, s.y1), b = toScreen(s.x2, s.y2);
@@ -145,7 +165,10 @@ export function Viewer(p: Props) {
       g.fillStyle = 'rgba(0,0,0,0.8)'; g.fillRect(m.x - tw / 2 - 5, m.y - 24, tw + 10, 19);
       g.fillStyle = WALL_COLOURS[i]; g.fillText(label, m.x - tw / 2, m.y - 10);
     });
-  }, [size, view, p.image, p.colour, p.coherency, p.retardance, p.glyphs, p.marks, p.mode, p.opacity, p.walls, p.drawing, draft]);
+  }, [size, view, p.image, p.colour, p.coherency, p.retardance, p.glyphs, p.marks, p.mode, p.opacity, p.walls, p.stations, p.drawing, draft]);
+
+  // Whether what the mode shows has arrived (pictures and glyphs can follow the numbers).
+  const overlayReady = p.mode === 'none' || (p.mode === 'colour' ? !!p.colour : p.mode === 'coherency' ? !!p.coherency : p.mode === 'retardance' ? !!p.retardance : p.glyphs.length > 0);
 
   const local = (e: React.PointerEvent | React.WheelEvent) => {
     const r = canvas.current!.getBoundingClientRect();
@@ -220,7 +243,7 @@ export function Viewer(p: Props) {
   };
 
   return (
-    <div className="viewer" ref={wrap}>
+    <div className="viewer" ref={wrap} data-overlay={overlayReady ? p.mode : 'waiting'}>
       <canvas
         ref={canvas}
         style={{ width: size.w, height: size.h, cursor: p.drawing ? 'crosshair' : 'grab', touchAction: 'none' }}

@@ -4,7 +4,9 @@
  */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { Channel } from '../../src/channel/index.ts';
-import { EMPTY_WORK, type AnalysisSettings, type ImageMeta, type ImageWork, type SessionRecord } from '../storage/records.ts';
+import {
+  EMPTY_WORK, type AnalysisSettings, type ImageMeta, type ImageWork, type SessionPixelSize, type SessionRecord, type StoredMicrometer, type StoredOptics,
+} from '../storage/records.ts';
 import type { AppliedSetup } from '../setups/setup.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 
@@ -21,7 +23,13 @@ export type SessionAction =
   /** Applies a set-up (optical train, pixel size, sign) to every image of the session; null removes it. */
   | { type: 'applySetup'; setup: AppliedSetup | null }
   /** Keeps an image's fibre diameters with the session (shown in the compare view). */
-  | { type: 'diameter'; id: string; result: DiameterDocument | null };
+  | { type: 'diameter'; id: string; result: DiameterDocument | null }
+  /** Keeps the optical reading made with this image first (its numbers are shown again after a reload). */
+  | { type: 'optics'; id: string; reading: StoredOptics | null }
+  /** Keeps the micrometer calibration made on this image. */
+  | { type: 'micrometer'; id: string; calibration: StoredMicrometer | null }
+  /** The pixel size the session's lengths use (chosen from a micrometer calibration); null = none. */
+  | { type: 'pixelSize'; pixelSize: SessionPixelSize | null };
 
 function withWork(s: SessionRecord, id: string, change: Partial<ImageWork>): SessionRecord {
   if (!s.images.some((i) => i.id === id)) return s;
@@ -53,6 +61,9 @@ function apply(s: SessionRecord, a: SessionAction): SessionRecord {
     case 'profile': return withWork(s, a.id, { profile: a.result, walls: { walls: a.result.walls }, wallsFound: a.result.wallsFound });
     case 'applySetup': return { ...s, setup: a.setup };
     case 'diameter': return withWork(s, a.id, { diameter: a.result });
+    case 'optics': return withWork(s, a.id, { optics: a.reading });
+    case 'micrometer': return withWork(s, a.id, { micrometer: a.calibration });
+    case 'pixelSize': return { ...s, pixelSize: a.pixelSize };
   }
 }
 

@@ -3,7 +3,7 @@
  * read back: records from older versions are upgraded, damaged parts are left out (and the original
  * kept aside by the store), records from a newer version are kept aside untouched.
  */
-import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
@@ -39,7 +39,23 @@ export interface ImageWork {
   profile: ProfileResult | null;
   /** Fibre diameters measured on the image (`retarda diameter`'s document); absent in older records. */
   diameter?: DiameterDocument | null;
+  /** The last optical reading made with this image first (plate, plate2 or quad); absent in older records. */
+  optics?: StoredOptics | null;
+  /** The micrometer calibration made on this image (`retarda calibrate`'s document); absent in older records. */
+  micrometer?: StoredMicrometer | null;
 }
+
+/** Which optical reading made a result: the `retarda` subcommand of the same name. */
+export type OpticsKind = 'plate' | 'plate2' | 'quad';
+
+/** An optical reading as shown: its result, the equivalent command line and the retardance colour-bar range. */
+export interface StoredOptics { kind: OpticsKind; result: OpticsResult; commandLine: string; rangeNm: [number, number] | null }
+
+/** A micrometer calibration as shown: the document and the equivalent command line. */
+export interface StoredMicrometer { doc: MicrometerDocument; commandLine: string }
+
+/** A pixel size the user chose for the session's lengths (from a micrometer image), and where it came from. */
+export interface SessionPixelSize { umPerPx: number; from: string }
 
 export interface SessionRecord {
   schemaVersion: number;
@@ -54,6 +70,8 @@ export interface SessionRecord {
   work: Record<string, ImageWork>;
   /** The set-up applied to the session's images (a copy of its values when applied); null = none. */
   setup: AppliedSetup | null;
+  /** The pixel size chosen from a micrometer calibration for this session's lengths; absent in older records. */
+  pixelSize?: SessionPixelSize | null;
 }
 
 export const EMPTY_WORK: ImageWork = { walls: null, wallsFound: false, orient: null, profile: null };
@@ -105,6 +123,32 @@ function restoreResult<T>(v: unknown, analysis: string): T | null {
   return isObj(v) && num(v.schemaVersion) && v.analysis === analysis ? (v as T) : null;
 }
 
+const OPTICS_KINDS: readonly string[] = ['plate', 'plate2', 'quad'];
+
+/** A stored optical reading: a known kind, a result of that analysis and its command line. */
+function restoreOptics(v: unknown): StoredOptics | null {
+  if (!isObj(v) || typeof v.kind !== 'string' || !OPTICS_KINDS.includes(v.kind) || typeof v.commandLine !== 'string') return null;
+  const result = restoreResult<OpticsResult>(v.result, v.kind);
+  if (!result) return null;
+  const r = v.rangeNm;
+  const rangeNm = Array.isArray(r) && r.length === 2 && r.every(num) ? [r[0] as number, r[1] as number] as [number, number] : null;
+  return { kind: v.kind as OpticsKind, result, commandLine: v.commandLine, rangeNm };
+}
+
+/** A stored micrometer calibration: a `calibrate` document with a usable pixel size, and its command line. */
+function restoreMicrometer(v: unknown): StoredMicrometer | null {
+  if (!isObj(v) || typeof v.commandLine !== 'string') return null;
+  const doc = restoreResult<MicrometerDocument>(v.doc, 'calibrate');
+  if (!doc || doc.method !== 'micrometer' || !num(doc.umPerPx) || doc.umPerPx <= 0) return null;
+  return { doc, commandLine: v.commandLine };
+}
+
+/** The session's chosen pixel size: a positive finite number of um per pixel and where it came from. */
+function restorePixelSize(v: unknown): SessionPixelSize | null {
+  if (!isObj(v) || !num(v.umPerPx) || (v.umPerPx as number) <= 0) return null;
+  return { umPerPx: v.umPerPx as number, from: str(v.from, 'a micrometer image') };
+}
+
 function restoreImageMeta(v: unknown): ImageMeta | null {
   if (!isObj(v) || typeof v.id !== 'string' || !v.id) return null;
   return {
@@ -140,22 +184,30 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
     const orient = w.orient == null ? null : restoreResult<OrientResult>(w.orient, 'orient');
     const profile = w.profile == null ? null : restoreResult<ProfileResult>(w.profile, 'profile');
     const diameter = w.diameter == null ? null : restoreResult<DiameterDocument>(w.diameter, 'diameter');
-    if ((w.walls != null && !walls) || (w.orient != null && !orient) || (w.profile != null && !profile) || (w.diameter != null && !diameter)) {
+    const optics = w.optics == null ? null : restoreOptics(w.optics);
+    const micrometer = w.micrometer == null ? null : restoreMicrometer(w.micrometer);
+    if ((w.walls != null && !walls) || (w.orient != null && !orient) || (w.profile != null && !profile) || (w.diameter != null && !diameter)
+      || (w.optics != null && !optics) || (w.micrometer != null && !micrometer)) {
       notes.push(`part of the work on ${img.name} was unreadable`);
       lossy = true;
     }
-    work[img.id] = { walls, wallsFound: w.wallsFound === true, orient, profile, ...(diameter ? { diameter } : {}) };
+    work[img.id] = {
+      walls, wallsFound: w.wallsFound === true, orient, profile,
+      ...(diameter ? { diameter } : {}), ...(optics ? { optics } : {}), ...(micrometer ? { micrometer } : {}),
+    };
   }
   const active = typeof raw.activeImageId === 'string' && images.some((i) => i.id === raw.activeImageId) ? raw.activeImageId : images[0]?.id ?? null;
   const setup = raw.setup == null ? null : restoreApplied(raw.setup);
   if (raw.setup != null && !setup) { notes.push('the applied set-up was unreadable'); lossy = true; }
+  const pixelSize = raw.pixelSize == null ? null : restorePixelSize(raw.pixelSize);
+  if (raw.pixelSize != null && !pixelSize) { notes.push('the session\'s pixel size was unreadable'); lossy = true; }
   const now = new Date().toISOString();
   return {
     ok: true, notes, lossy,
     value: {
       schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
       createdAt: str(raw.createdAt, now), updatedAt: str(raw.updatedAt, now), images, activeImageId: active,
-      settings: restoreSettings(raw.settings, notes), work, setup,
+      settings: restoreSettings(raw.settings, notes), work, setup, pixelSize,
     },
   };
 }
@@ -175,6 +227,6 @@ export function newSession(id: string, name: string, now = new Date()): SessionR
   const t = now.toISOString();
   return {
     schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id, name, createdAt: t, updatedAt: t,
-    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {}, setup: null,
+    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {}, setup: null, pixelSize: null,
   };
 }

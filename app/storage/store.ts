@@ -64,7 +64,7 @@ export function createSessionStore(kv: KeyValue, makeId: () => string = randomId
 
   const summary = (s: SessionRecord): SessionSummary => ({
     id: s.id, name: s.name, createdAt: s.createdAt, updatedAt: s.updatedAt, imageCount: s.images.length,
-    analysed: Object.values(s.work).filter((w) => w.orient || w.profile).length,
+    analysed: Object.values(s.work).filter((w) => w.orient || w.profile || w.optics || w.micrometer || w.diameter).length,
   });
 
   return {

@@ -14,9 +14,9 @@ import { isInputError } from '../../src/common/errors.ts';
 import { loadCv } from '../../src/cv/opencv.ts';
 import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
 import type { OrientationField } from '../../src/orientation/index.ts';
-import { fieldGlyphs, fieldPictures, imagePicture, retardancePicture } from './pictures.ts';
+import { coherencyPicture, fieldGlyphs, fieldPictures, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
 import { retardanceRange } from './retardanceColours.ts';
-import type { CommandName, CommandTable, ErrorInfo, OpticsReply, ProfileSource, Reply, Request } from './protocol.ts';
+import type { CommandName, CommandTable, ErrorInfo, OpticsReply, ProfileSource, Reply, Request, StepTimes } from './protocol.ts';
 
 const scope = self as unknown as DedicatedWorkerGlobalScope;
 const images = new Map<string, Image>();
@@ -29,7 +29,16 @@ function post(reply: Reply, transfer: Transferable[] = []): void {
 }
 
 type Progress = (stage: string, fraction: number) => void;
-type Handler<K extends CommandName> = (args: CommandTable[K]['args'], progress: Progress) => Promise<{ value: CommandTable[K]['reply']; transfer: Transferable[] }>;
+/** Sends the early part of a command's answer (see PartialCommand); 'done' follows with the whole. */
+type Partial = (value: unknown, transfer?: Transferable[]) => void;
+type Handler<K extends CommandName> = (args: CommandTable[K]['args'], progress: Progress, partial: Partial) => Promise<{ value: CommandTable[K]['reply']; transfer: Transferable[] }>;
+
+/** Step timer: `lap(name)` records the milliseconds since the previous lap under that name. */
+function stepTimer(): { lap(name: string): void; times: StepTimes } {
+  const times: StepTimes = {};
+  let last = performance.now();
+  return { times, lap(name) { const t = performance.now(); times[name] = Math.round(t - last); last = t; } };
+}
 
 function imageOf(key: string): Image {
   const img = images.get(key);
@@ -37,9 +46,12 @@ function imageOf(key: string): Image {
   return img;
 }
 
+/** What the texture field depends on: the order options (region, axis, weights, blocks) do not change it. */
+const textureKey = (options: OrientOptions) => JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined, replicates: undefined, seed: undefined });
+
 /** The texture field for these options, reused when the same image was analysed with the same options. */
 async function textureField(key: string, options: OrientOptions, progress: Progress): Promise<OrientationField> {
-  const optionsKey = JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined });
+  const optionsKey = textureKey(options);
   const cached = fields.get(key);
   if (cached && cached.optionsKey === optionsKey) return cached.field;
   progress('structure tensor', 0.2);
@@ -90,16 +102,39 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     };
   },
 
-  async orient({ key, options }, progress) {
+  async orient({ key, options }, progress, partial) {
     const img = imageOf(key);
+    const timer = stepTimer();
     progress('structure tensor and order', 0.1);
     // Exactly what `retarda orient` runs, so the numbers shown equal the command line's.
     const { result, field } = await analyseOrientation(img, options);
-    fields.set(key, { optionsKey: JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined }), field });
+    timer.lap('structure tensor and order');
+    fields.set(key, { optionsKey: textureKey(options), field });
+    // The numbers go to the page now; the picture follows.
+    partial({ result, timesMs: { ...timer.times } });
     progress('drawing the orientation map', 0.85);
-    const { colour, coherency } = await fieldPictures(field);
+    const colour = await orientationPicture(field);
+    timer.lap('orientation picture');
+    return { value: { result, colour, timesMs: timer.times }, transfer: colour.levels };
+  },
+
+  // Made only when the user asks to see them, from the field the orientation run left here.
+  async coherencyPicture({ key, options }, progress) {
+    const field = await textureField(key, options, progress);
+    const timer = stepTimer();
+    progress('drawing the coherency', 0.8);
+    const picture = await coherencyPicture(field);
+    timer.lap('coherency picture');
+    return { value: { picture, timesMs: timer.times }, transfer: picture.levels };
+  },
+
+  async glyphs({ key, options }, progress) {
+    const field = await textureField(key, options, progress);
+    const timer = stepTimer();
+    progress('drawing the line glyphs', 0.8);
     const glyphs = fieldGlyphs(field);
-    return { value: { result, colour, coherency, glyphs }, transfer: [...colour.levels, ...coherency.levels] };
+    timer.lap('line glyphs');
+    return { value: { glyphs, timesMs: timer.times }, transfer: [] };
   },
 
   async profile({ key, texture, request, source }, progress) {
@@ -175,7 +210,7 @@ scope.onmessage = async (ev: MessageEvent<Request>) => {
     return;
   }
   try {
-    const { value, transfer } = await handler(args, (stage, fraction) => post({ id, type: 'progress', stage, fraction }));
+    const { value, transfer } = await handler(args, (stage, fraction) => post({ id, type: 'progress', stage, fraction }), (v, t = []) => post({ id, type: 'partial', value: v }, t));
     post({ id, type: 'done', value }, transfer);
   } catch (e) {
     post({ id, type: 'error', error: errorInfo(e) });

@@ -3,7 +3,7 @@
  * and cancel (the worker is stopped and a fresh one started; pending calls reject with CancelledError).
  * Decoded images live in the worker; the client sends an image's bytes again after a restart.
  */
-import type { CommandName, CommandTable, ErrorInfo, Reply, Request } from './protocol.ts';
+import type { CommandName, CommandTable, ErrorInfo, PartialCommand, PartialOf, Reply, Request } from './protocol.ts';
 
 export class AnalysisError extends Error {
   readonly hint: string;
@@ -22,7 +22,7 @@ export class CancelledError extends Error {
 
 export type ProgressFn = (stage: string, fraction: number) => void;
 
-interface Pending { resolve(v: unknown): void; reject(e: Error): void; progress?: ProgressFn }
+interface Pending { resolve(v: unknown): void; reject(e: Error): void; progress?: ProgressFn; partial?: (v: unknown) => void }
 
 /** Source of the bytes of an image, so the client can send it again to a fresh worker. */
 export interface ImageSource { key: string; name: string; page?: number; bytes(): Promise<ArrayBuffer> }
@@ -71,6 +71,7 @@ export class AnalysisClient {
     const p = this.pending.get(r.id);
     if (!p) return;
     if (r.type === 'progress') { p.progress?.(r.stage, r.fraction); return; }
+    if (r.type === 'partial') { p.partial?.(r.value); return; }
     this.pending.delete(r.id);
     if (r.type === 'done') p.resolve(r.value);
     else if (r.type === 'error') p.reject(new AnalysisError(r.error));
@@ -89,6 +90,20 @@ export class AnalysisClient {
       this.pending.set(id, { resolve: resolve as (v: unknown) => void, reject, progress });
       const req: Request<K> = { id, command, args };
       w.postMessage(req, transfer);
+    });
+  }
+
+  /**
+   * Sends a command whose answer comes in parts: `onPartial` gets the early part (e.g. the numbers) as
+   * soon as the worker has it; the promise resolves with the whole answer.
+   */
+  callInParts<K extends PartialCommand>(command: K, args: CommandTable[K]['args'], onPartial: (v: PartialOf<K>) => void, progress?: ProgressFn): Promise<CommandTable[K]['reply']> {
+    const w = this.start();
+    const id = this.nextId++;
+    return new Promise((resolve, reject) => {
+      this.pending.set(id, { resolve: resolve as (v: unknown) => void, reject, progress, partial: onPartial as (v: unknown) => void });
+      const req: Request<K> = { id, command, args };
+      w.postMessage(req);
     });
   }
 

@@ -17,12 +17,15 @@ export const pictureStep = (width: number, height: number): number => Math.max(1
 /** Side below which no further half-size level is made. */
 const SMALLEST_LEVEL_SIDE = 1024;
 
-/** Bitmaps of an RGBA buffer: full size, then halves while the picture is large (drawing zoomed out stays cheap). */
+/**
+ * Bitmaps of an RGBA buffer: full size, then halves while the picture is large (drawing zoomed out stays
+ * cheap). Each half is made from the level before it, so every level reads only twice its own pixels.
+ */
 async function bitmapLevels(rgba: Uint8ClampedArray<ArrayBuffer>, w: number, h: number): Promise<ImageBitmap[]> {
   const base = await createImageBitmap(new ImageData(rgba, w, h));
   const levels = [base];
   for (let f = 2; Math.max(w, h) / f >= SMALLEST_LEVEL_SIDE / 2 && Math.max(w, h) > SMALLEST_LEVEL_SIDE; f *= 2) {
-    levels.push(await createImageBitmap(base, { resizeWidth: Math.ceil(w / f), resizeHeight: Math.ceil(h / f), resizeQuality: 'medium' }));
+    levels.push(await createImageBitmap(levels[levels.length - 1], { resizeWidth: Math.ceil(w / f), resizeHeight: Math.ceil(h / f), resizeQuality: 'medium' }));
   }
   return levels;
 }
@@ -32,6 +35,14 @@ async function sampled(width: number, height: number, step: number, pixel: (i: n
   const out = new Uint8ClampedArray(w * h * 4);
   for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) pixel(y * step * width + x * step, 4 * (y * w + x), out);
   return { width: w, height: h, scale: step, levels: await bitmapLevels(out, w, h) };
+}
+
+/** Every step-th pixel of each row and column of a plane (the plane itself when step is 1). */
+function subsample<T extends Float32Array | Uint8Array>(v: T, width: number, height: number, step: number, make: (n: number) => T): T {
+  if (step === 1) return v;
+  const w = Math.ceil(width / step), h = Math.ceil(height / step), out = make(w * h);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) out[y * w + x] = v[y * step * width + x * step];
+  return out;
 }
 
 /** Robust display range: 0.1 and 99.9 percentiles of a strided sample of the values. */
@@ -65,21 +76,32 @@ export async function imagePicture(img: Image): Promise<{ picture: Picture; note
 }
 
 /**
- * Orientation colour and coherency (confidence) grey pictures of a field. The colour's opacity follows the
- * confidence (`opacity: 'confidence'`, texture fields) or is full on every usable pixel (`'full'`: optical
- * readings, whose match confidence is shown on its own picture).
+ * Orientation colour picture of a field (the report's cyclic colour map, `orientationRgba`). The colour's
+ * opacity follows the confidence (`opacity: 'confidence'`, texture fields) or is full on every usable pixel
+ * (`'full'`: optical readings, whose match confidence is shown on its own picture). Only the pixels shown
+ * are coloured: a field larger than a canvas is subsampled first.
  */
-export async function fieldPictures(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<{ colour: Picture; coherency: Picture }> {
+export async function orientationPicture(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<Picture> {
   const step = pictureStep(f.width, f.height);
-  const full = orientationRgba(f.angleRad, opacity === 'full' ? new Float32Array(f.mask.length).fill(1) : f.confidence, f.mask);
-  const colour = await sampled(f.width, f.height, step, (i, o, out) => {
-    out[o] = full[4 * i]; out[o + 1] = full[4 * i + 1]; out[o + 2] = full[4 * i + 2]; out[o + 3] = full[4 * i + 3];
-  });
-  const coherency = await sampled(f.width, f.height, step, (i, o, out) => {
+  const w = Math.ceil(f.width / step), h = Math.ceil(f.height / step);
+  const angle = subsample(f.angleRad, f.width, f.height, step, (n) => new Float32Array(n));
+  const mask = subsample(f.mask, f.width, f.height, step, (n) => new Uint8Array(n));
+  const confidence = opacity === 'full' ? new Float32Array(w * h).fill(1) : subsample(f.confidence, f.width, f.height, step, (n) => new Float32Array(n));
+  const rgba = orientationRgba(angle, confidence, mask) as Uint8ClampedArray<ArrayBuffer>;
+  return { width: w, height: h, scale: step, levels: await bitmapLevels(rgba, w, h) };
+}
+
+/** Coherency (confidence) as grey, black 0 to white 1; masked pixels transparent. */
+export function coherencyPicture(f: OrientationField): Promise<Picture> {
+  return sampled(f.width, f.height, pictureStep(f.width, f.height), (i, o, out) => {
     const v = f.mask[i] ? 255 * f.confidence[i] : 0;
     out[o] = v; out[o + 1] = v; out[o + 2] = v; out[o + 3] = f.mask[i] ? 255 : 0;
   });
-  return { colour, coherency };
+}
+
+/** Both pictures of a field (optical readings show both at once). */
+export async function fieldPictures(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<{ colour: Picture; coherency: Picture }> {
+  return { colour: await orientationPicture(f, opacity), coherency: await coherencyPicture(f) };
 }
 
 /**

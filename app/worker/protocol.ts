@@ -30,13 +30,19 @@ export interface DecodeSummary {
   picture: Picture;
 }
 
-export interface OrientReply {
-  result: OrientResult;
+/** Milliseconds each step of a command took in the worker (performance.now() marks), for the benchmark. */
+export type StepTimes = Record<string, number>;
+
+/**
+ * The orientation analysis arrives in two parts: first the numbers (as soon as the order parameters are
+ * done), then the colour picture. The coherency picture and the line glyphs are made only when asked for
+ * (`coherencyPicture`, `glyphs`), from the texture field the worker keeps.
+ */
+export interface OrientNumbers { result: OrientResult; timesMs: StepTimes }
+
+export interface OrientReply extends OrientNumbers {
   /** Colour from the angle (cyclic map), opacity from the coherency. */
   colour: Picture;
-  /** Coherency as grey (black 0, white 1). */
-  coherency: Picture;
-  glyphs: Glyph[];
 }
 
 /** An optical reading (plate, plate pair, four-angle set) with the pictures of its field. */
@@ -63,7 +69,11 @@ export type FourAngleSettings = Omit<FourAngleAnalysisOptions, 'plate' | 'flatFi
 
 export interface CommandTable {
   decode: { args: { key: string; name: string; bytes: ArrayBuffer; page?: number }; reply: DecodeSummary };
-  orient: { args: ImageRef & { options: OrientOptions }; reply: OrientReply };
+  orient: { args: ImageRef & { options: OrientOptions }; reply: OrientReply; partial: OrientNumbers };
+  /** Coherency as grey (black 0, white 1) of the texture field for these options (remade if the worker lost it). */
+  coherencyPicture: { args: ImageRef & { options: OrientOptions }; reply: { picture: Picture; timesMs: StepTimes } };
+  /** Line glyphs of the texture field for these options. */
+  glyphs: { args: ImageRef & { options: OrientOptions }; reply: { glyphs: Glyph[]; timesMs: StepTimes } };
   profile: { args: ImageRef & { texture: OrientOptions; request: ProfileRequest; source?: ProfileSource }; reply: ProfileResult };
   plate: { args: ImageRef & { options: PlateOptions }; reply: OpticsReply };
   plate2: { args: ImageRef & { keyB: string; options: PlatePairAnalysisOptions }; reply: OpticsReply };
@@ -79,12 +89,18 @@ export interface CommandTable {
 
 export type CommandName = keyof CommandTable;
 
+/** Commands that send an early part of their answer before the whole. */
+export type PartialCommand = { [K in CommandName]: CommandTable[K] extends { partial: unknown } ? K : never }[CommandName];
+export type PartialOf<K extends PartialCommand> = CommandTable[K] extends { partial: infer P } ? P : never;
+
 export interface Request<K extends CommandName = CommandName> { id: number; command: K; args: CommandTable[K]['args'] }
 
 export interface ErrorInfo { name: string; message: string; hint: string }
 
 export type Reply =
   | { id: number; type: 'progress'; stage: string; fraction: number }
+  /** An early part of the answer (e.g. the numbers before the pictures); 'done' follows. */
+  | { id: number; type: 'partial'; value: unknown }
   | { id: number; type: 'done'; value: unknown }
   | { id: number; type: 'error'; error: ErrorInfo }
   | { id: -1; type: 'ready' }

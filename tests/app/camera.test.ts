@@ -128,7 +128,7 @@ describe('LiveReadout', () => {
           calls.push({ engine: e, frame: frameNo });
           await wait(d[k++ % d.length]);
           void args;
-          return { result: { order2D: 0.5 } as OrientResult, colour: { levels: [] }, coherency: { levels: [] }, glyphs: [] };
+          return { result: { order2D: 0.5 } as OrientResult, colour: { levels: [] }, timesMs: {} };
         }) as unknown as ReadoutEngine['call'],
       };
     });

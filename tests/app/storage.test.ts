@@ -2,7 +2,15 @@ import { describe, expect, it } from 'vitest';
 import {
   createSessionStore, type KeyValue,
 } from '../../app/storage/store.ts';
-import { DEFAULT_SETTINGS, restoreSession, STORAGE_SCHEMA_VERSION } from '../../app/storage/records.ts';
+import {
+  DEFAULT_SETTINGS, EMPTY_WORK, restoreSession, STORAGE_SCHEMA_VERSION, type StoredMicrometer, type StoredOptics,
+} from '../../app/storage/records.ts';
+import { sessionReducer } from '../../app/state/session.ts';
+import { analyseFourAngle, analyseMicrometer } from '../../src/analyses/index.ts';
+import { makeImage } from '../../src/image/types.ts';
+import { renderSampleImage } from '../../src/optics/index.ts';
+import { DEG } from '../../src/common/angles.ts';
+import { renderRuler } from '../calibrate/render.ts';
 import { createSaver } from '../../app/storage/saver.ts';
 import { base64ToBytes, bytesToBase64, exportBackup, importBackup } from '../../app/storage/backup.ts';
 
@@ -230,5 +238,91 @@ describe('backup: export and import everything', () => {
     await expect(importBackup(store, '{"hello": 1}')).rejects.toThrow(/not a Retarda backup/);
     await expect(importBackup(store, '\u0089PNG garbage')).rejects.toThrow(/not JSON/);
     await expect(importBackup(store, JSON.stringify({ kind: 'retarda-backup', schemaVersion: 9, records: [] }))).rejects.toThrow(/newer version/);
+  });
+});
+
+describe('optical readings, micrometer calibrations and the session pixel size are kept', () => {
+  // Real documents from the analyses the worker runs, on images whose truth is their construction.
+  const ruler = makeImage({
+    width: 300, height: 200, channels: 1, bitDepth: 16, encoding: 'linear', source: { name: 'ruler.png' },
+    planes: [renderRuler({ width: 300, height: 200, periodPx: 16, linesDeg: 90, contrast: -0.4, noiseSd: 0.01 }).data],
+  });
+  const micrometer: StoredMicrometer = { doc: analyseMicrometer(ruler, { divisionUm: 10 }), commandLine: 'retarda calibrate ruler.png --division-um 10' };
+  const quadImages = [0, 22.5, 45, 67.5].map((p, k) => renderSampleImage(24, 16, () => ({ angleRad: 30 * DEG, retardanceNm: 150 }),
+    { polariserDeg: p, analyserDeg: p + 90, compensator: null }, { noiseSd: 0.001, seed: 11 + k, camera: { gains: [1, 1, 1], exposure: 0.75 }, name: `q${k}.png` }));
+
+  async function sessionWithReadings() {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const s = await store.create('readings');
+    const a = await store.addImage({ name: 'ruler.png', type: 'image/png', blob: png([1]) });
+    const b = await store.addImage({ name: 'q0.png', type: 'image/png', blob: png([2]) });
+    const { result } = await analyseFourAngle(quadImages, { profile: null });
+    const optics: StoredOptics = { kind: 'quad', result, commandLine: 'retarda quad q0.png q1.png q2.png q3.png', rangeNm: null };
+    let next = sessionReducer({ ...s, images: [a, b], activeImageId: a.id, work: { [a.id]: { ...EMPTY_WORK }, [b.id]: { ...EMPTY_WORK } } },
+      { type: 'micrometer', id: a.id, calibration: micrometer });
+    next = sessionReducer(next, { type: 'pixelSize', pixelSize: { umPerPx: micrometer.doc.umPerPx, from: 'micrometer ruler.png' } });
+    next = sessionReducer(next, { type: 'optics', id: b.id, reading: optics });
+    await store.save(next);
+    return { kv, store, s: next, a, b, optics };
+  }
+
+  it('a saved session gives back the same reading, calibration and pixel size', async () => {
+    const { store, s, a, b, optics } = await sessionWithReadings();
+    // Rendered ruler period 16 px with 10 um divisions: 10 / 16 = 0.625 um/px (fact of the rendering); domain.md §8 target 0.2 %
+    expect(Math.abs(micrometer.doc.umPerPx / 0.625 - 1)).toBeLessThan(0.002);
+    const back = await store.load(s.id);
+    expect(back?.work[a.id].micrometer).toEqual(micrometer);
+    expect(back?.pixelSize).toEqual({ umPerPx: micrometer.doc.umPerPx, from: 'micrometer ruler.png' });
+    expect(back?.work[b.id].optics).toEqual(optics);
+    expect(back?.work[b.id].optics?.result.analysis).toBe('quad');
+    // nothing was set aside: the record was whole
+    expect(await store.aside()).toEqual([]);
+  });
+
+  it('a backup carries them into another store', async () => {
+    const { store, optics } = await sessionWithReadings();
+    const store2 = createSessionStore(memoryKv(), counter());
+    await importBackup(store2, await exportBackup(store), (() => { let n = 0; return () => `b${++n}`; })());
+    const id = (await store2.list()).sessions[0].id;
+    const back = (await store2.load(id))!;
+    const byName = (n: string) => back.work[back.images.find((i) => i.name === n)!.id];
+    expect(byName('ruler.png').micrometer).toEqual(micrometer);
+    expect(byName('q0.png').optics).toEqual(optics);
+    expect(back.pixelSize?.umPerPx).toBe(micrometer.doc.umPerPx);
+  });
+
+  it('an older record without them is read whole, with none of them', () => {
+    // A version-1 record as the app wrote it before these were kept (no optics, micrometer or pixelSize keys).
+    const r = restoreSession({
+      schemaVersion: 1, kind: 'session', id: 'old', name: 'before readings were kept', images: [{ id: 'i1', name: 'a.png' }],
+      work: { i1: { walls: null, wallsFound: false, orient: null, profile: null } }, setup: null,
+    });
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.lossy).toBe(false);
+    expect(r.value.pixelSize).toBeNull();
+    expect(r.value.work.i1.optics).toBeUndefined();
+    expect(r.value.work.i1.micrometer).toBeUndefined();
+  });
+
+  it('an unreadable reading or pixel size is left out and the original kept aside', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const raw = {
+      schemaVersion: 1, kind: 'session', id: 'x', name: 'damaged', images: [{ id: 'i1', name: 'a.png' }],
+      work: { i1: { walls: null, orient: null, profile: null, optics: { kind: 'plate', result: { analysis: 'plate' }, commandLine: 'retarda plate a.png' }, micrometer },
+      },
+      pixelSize: { umPerPx: -2, from: 'typed wrong' },
+    };
+    kv.map.set('session:x', raw);
+    const s = await store.load('x');
+    expect(s?.work.i1.optics).toBeUndefined();
+    expect(s?.work.i1.micrometer).toEqual(micrometer);
+    expect(s?.pixelSize).toBeNull();
+    const aside = await store.aside();
+    expect(aside).toHaveLength(1);
+    expect(aside[0].value).toEqual(raw);
+    expect(aside[0].reason).toMatch(/pixel size was unreadable/);
   });
 });

@@ -32,6 +32,22 @@ describe('AnalysisClient', () => {
     expect(stages).toEqual(['working']);
   });
 
+  it('callInParts hands the early part over before the whole answer arrives', async () => {
+    const { client, workers } = setup();
+    const early: unknown[] = [];
+    let settled = false;
+    const p = client.callInParts('orient', { key: 'a', options: {} }, (v) => early.push(v));
+    void p.then(() => { settled = true; });
+    const { id } = workers[0].posted[0].msg;
+    workers[0].reply({ id, type: 'partial', value: { result: { directorDeg: 12 }, timesMs: {} } });
+    await new Promise((r) => setTimeout(r, 0));
+    expect(early).toEqual([{ result: { directorDeg: 12 }, timesMs: {} }]);
+    expect(settled).toBe(false);
+    workers[0].reply({ id, type: 'done', value: { result: { directorDeg: 12 }, colour: null, timesMs: {} } });
+    await expect(p).resolves.toMatchObject({ result: { directorDeg: 12 } });
+    expect(early).toHaveLength(1);
+  });
+
   it('turns a worker error into an AnalysisError carrying the message and hint', async () => {
     const { client, workers } = setup();
     const p = client.call('forget', { key: 'a' });

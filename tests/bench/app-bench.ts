@@ -4,7 +4,9 @@
  *
  * Builds the app, serves the build with vite preview on a free localhost port and drives Debian's
  * chromium (/usr/bin/chromium) through playwright-core, then prints:
- *   1. time to bring in and to analyse a 12-megapixel image in the browser (orientation analysis),
+ *   1. time to bring in and to analyse a 12-megapixel image in the browser (orientation analysis): click to
+ *      numbers, click to the colour map, the worker's own step times, and the first view of the coherency
+ *      picture and the line glyphs (made only when asked for),
  *   2. long tasks (> 50 ms) on the page's main thread during that analysis (PerformanceObserver 'longtask'),
  *   3. live readout readings per second and latency at 1280 x 720 from chromium's fake camera
  *      (at the default 1/2 readout size and at full size),
@@ -125,12 +127,26 @@ async function main(): Promise<void> {
     await page.getByRole('button', { name: 'Analyse orientation' }).click();
     await page.getByTestId('director').waitFor({ timeout: 180_000 });
     const analysed = Date.now() - t1;
+    await page.locator('.viewer[data-overlay="colour"]').waitFor({ timeout: 60_000 });
     await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
     const shownAll = Date.now() - t1;
     const tasks = await page.evaluate((from) => (window as unknown as { __longTasks: { start: number; duration: number }[] }).__longTasks.filter((t) => t.start >= from), startMark);
+    // Steps inside the worker (performance.now() marks sent back with the reply).
+    const steps = Object.entries(JSON.parse((await page.getByTestId('orient-section').getAttribute('data-worker-ms')) ?? '{}') as Record<string, number>);
+    // The coherency picture and the glyphs are made when first shown.
+    const lazy: string[] = [];
+    for (const [button, overlay] of [['coherency', 'coherency'], ['lines', 'glyphs']]) {
+      const t = Date.now();
+      await page.getByRole('button', { name: button, exact: true }).click();
+      await page.locator(`.viewer[data-overlay="${overlay}"]`).waitFor({ timeout: 60_000 });
+      lazy.push(`${button} ${ms(Date.now() - t)}`);
+    }
+    await page.getByRole('button', { name: 'orientation', exact: true }).click();
     console.log('\n12-megapixel image (4000 x 3000, 8-bit grey PNG):');
     console.log(`  bring in (read, decode in the worker, picture): ${ms(broughtIn)}`);
     console.log(`  orientation analysis, click to numbers shown:   ${ms(analysed)} (to the map drawn and progress gone: ${ms(shownAll)})`);
+    console.log(`  in the worker:                                  ${steps.map(([k, v]) => `${k} ${ms(v)}`).join('; ')}`);
+    console.log(`  first view of, click to drawn:                  ${lazy.join('; ')}`);
     console.log(`  main-thread long tasks (> 50 ms) during it:      ${tasks.length}${tasks.length ? `, longest ${ms(Math.max(...tasks.map((t) => t.duration)))}, total ${ms(tasks.reduce((s, t) => s + t.duration, 0))}` : ''}`);
 
     // 4. Cold start offline: an empty session opens, then a fresh browser with the network off.

@@ -133,9 +133,12 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     expect(result.directorDeg).toBeGreaterThan(0);
     expect(result.directorDeg).toBeLessThan(30);
 
+    // The glyphs and the coherency picture are made when first shown.
     await page.getByRole('button', { name: 'lines', exact: true }).click();
+    await page.locator('.viewer[data-overlay="glyphs"]').waitFor({ timeout: 30_000 });
     await shot('03-line-glyphs');
     await page.getByRole('button', { name: 'coherency', exact: true }).click();
+    await page.locator('.viewer[data-overlay="coherency"]').waitFor({ timeout: 30_000 });
     await shot('04-coherency');
     await page.getByRole('button', { name: 'orientation', exact: true }).click();
   }, 120_000);
@@ -194,6 +197,26 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     expect(await text('core')).toBe(formatCell(r.core.order));
     expect(await text('skin')).toBe(formatCell(r.skin.order));
     expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
+  }, 90_000);
+
+  it('draws the stations of a profile across the channel, numbered as in the station table', async () => {
+    const wallsText = ((await page.getByText(/^Walls \(drawn\)/).textContent()) ?? '').replace(/^Walls \(drawn\): /, '').replace(/ px$/, '');
+    await page.getByLabel('Stations along').fill('3');
+    await page.getByRole('button', { name: 'Profile across the channel' }).click();
+    await page.getByTestId('station-table').waitFor({ timeout: 60_000 });
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 });
+    await shot('05c-stations-on-image');
+    const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
+    const { field } = await analyseOrientation(img, { sigmaPx: 2 });
+    const r = await analyseProfile(img, field, { channel: parseWalls(wallsText), bins: 20, stations: 3, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const rows = await page.getByTestId('station-table').locator('tbody tr').allTextContents();
+    expect(rows).toHaveLength(3);
+    const cells = await page.getByTestId('station-table').locator('tbody tr').evaluateAll((trs) => trs.map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent)));
+    r.stations.forEach((st, k) => {
+      expect(cells[k][0]).toBe(String(st.station));
+      expect(cells[k][2]).toBe(formatCell(st.core.order));
+      expect(cells[k][3]).toBe(formatCell(st.skin.order));
+    });
   }, 90_000);
 
   it('after a reload the session is there with its image and numbers', async () => {
