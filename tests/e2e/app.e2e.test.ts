@@ -17,7 +17,7 @@ import { decodeImage } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { parseWalls } from '../../src/channel/index.ts';
 import { demoEntries } from '../../app/build/demoImages.ts';
-import { CHROMIUM, OUT, ROOT, SHOTS, freePort, haveBrowser } from './support.ts';
+import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
 
 
 if (!haveBrowser) {
@@ -75,25 +75,14 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     writeFileSync(imagePath, channelPng());
     writeFileSync(brokenPath, new TextEncoder().encode('this is a text file pretending to be an image'));
     writeFileSync(badBackupPath, '{"sessions": "nope"}');
-    const { build, preview } = await import('vite');
-    const outDir = join(OUT, 'e2e-dist');
-    // Vitest sets NODE_ENV=test, which would make Vite produce a development build (no service worker).
-    const nodeEnv = process.env.NODE_ENV;
-    process.env.NODE_ENV = 'production';
-    try {
-      await build({ configFile: join(ROOT, 'vite.config.ts'), mode: 'production', logLevel: 'warn', build: { outDir, emptyOutDir: true } });
-    } finally {
-      process.env.NODE_ENV = nodeEnv;
-    }
-    const port = await freePort();
-    const p = await preview({ configFile: join(ROOT, 'vite.config.ts'), logLevel: 'warn', build: { outDir }, preview: { port, strictPort: true, host: '127.0.0.1', open: false } });
-    server = { close: () => p.close() };
-    url = `http://127.0.0.1:${port}/`;
+    const served = await buildAndServe(join(OUT, 'e2e-dist'));
+    server = served;
+    url = served.url;
     const { chromium } = await import('playwright-core');
     profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-'));
     context = await chromium.launchPersistentContext(profileDir, {
       executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 860 },
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+      args: CHROMIUM_ARGS,
     });
     page = context.pages()[0] ?? await context.newPage();
     page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });

@@ -5,10 +5,9 @@
  * loudly elsewhere.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { createServer } from 'node:net';
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import type { BrowserContext, Download, Page } from 'playwright-core';
 import { decode as decodePng, encode } from 'fast-png';
 import { analyseOrientation, analyseProfile } from '../../src/analyses/index.ts';
@@ -16,25 +15,13 @@ import { decodeImage } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { chooseScaleBar } from '../../src/report/scaleBar.ts';
 import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
+import { CHROMIUM, CHROMIUM_ARGS, OUT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
 
-const CHROMIUM = '/usr/bin/chromium';
-const ROOT = resolve(import.meta.dirname, '../..');
-const OUT = join(ROOT, 'test-output');
-const SHOTS = join(OUT, 'screenshots');
-const haveBrowser = existsSync(CHROMIUM);
 
 if (!haveBrowser) {
   const msg = `\n${'!'.repeat(78)}\n!! BENCH-TOOLS END-TO-END TESTS NOT RUN: ${CHROMIUM} is missing (apt-get install -y chromium).\n!! In CI this fails the run.\n${'!'.repeat(78)}\n`;
   if (process.env.CI) throw new Error(msg);
   console.warn(msg);
-}
-
-function freePort(): Promise<number> {
-  return new Promise((res, rej) => {
-    const s = createServer();
-    s.once('error', rej);
-    s.listen(0, '127.0.0.1', () => { const p = (s.address() as { port: number }).port; s.close(() => res(p)); });
-  });
 }
 
 /**
@@ -84,25 +71,14 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
 
   beforeAll(async () => {
     mkdirSync(SHOTS, { recursive: true });
-    const { build, preview } = await import('vite');
-    const outDir = join(OUT, 'e2e-bench-tools-dist');
-    const nodeEnv = process.env.NODE_ENV;
-    process.env.NODE_ENV = 'production';
-    try {
-      await build({ configFile: join(ROOT, 'vite.config.ts'), mode: 'production', logLevel: 'warn', build: { outDir, emptyOutDir: true } });
-    } finally {
-      process.env.NODE_ENV = nodeEnv;
-    }
-    const port = await freePort();
-    const p = await preview({ configFile: join(ROOT, 'vite.config.ts'), logLevel: 'warn', build: { outDir }, preview: { port, strictPort: true, host: '127.0.0.1', open: false } });
-    server = { close: () => p.close() };
-    url = `http://127.0.0.1:${port}/`;
+    const served = await buildAndServe(join(OUT, 'e2e-bench-tools-dist'));
+    server = served;
+    url = served.url;
     const { chromium } = await import('playwright-core');
     profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-tools-'));
     context = await chromium.launchPersistentContext(profileDir, {
       executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 860 }, acceptDownloads: true,
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync',
-        '--use-fake-device-for-media-stream', '--use-fake-ui-for-media-stream'],
+      args: [...CHROMIUM_ARGS, '--use-fake-device-for-media-stream', '--use-fake-ui-for-media-stream'],
     });
     page = context.pages()[0] ?? await context.newPage();
     page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
