@@ -279,9 +279,11 @@ export function App() {
     const o = s.settings;
     try {
       await client.ensure(src, progress('Opening the image'));
-      const request = { ...(w.wallsFound ? { autoWalls: true } : { channel: w.walls }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin, weighting: o.weighting };
       // On the current field: the texture one, or the optical reading's (same command as its `retarda` line with the channel options).
       const opt = fieldChoice === 'optical' && optical?.imageId === id ? optical : null;
+      // Optical readings are unweighted by default, as on the command line (their confidence would bias S);
+      // the pixel-weights setting belongs to the texture field.
+      const request = { ...(w.wallsFound ? { autoWalls: true } : { channel: w.walls }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin, weighting: opt ? undefined : o.weighting };
       const result = opt
         ? await opt.profile.run(request, progress('Profile'))
         : await client.call('profile', { key: id, texture: { sigmaPx: o.sigmaPx }, request }, progress('Profile'));

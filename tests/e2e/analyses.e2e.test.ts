@@ -135,12 +135,13 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     const img = load(file);
     const reading = { background: { x: 0, y: 0, width: 60, height: 60 }, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
     const { field } = readPlateField(img, { ...reading, axisDeg: undefined });
-    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' }, field.options);
+    // Optical fields are profiled unweighted by default, in the app as on the command line.
+    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 }, field.options);
     expect(r.fieldMethod).toBe('plate');
     expect(await text('core')).toBe(formatCell(r.core.order));
     expect(await text('skin')).toBe(formatCell(r.skin.order));
     expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
-    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --weighting confidence --background 0,0,60,60`);
+    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --background 0,0,60,60`);
   }, 180_000);
 
   it('the two-image reading picks the turned image and shows the registration', async () => {
@@ -180,13 +181,13 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });
     await idle();
     await shot('25b-plate-pair-profile');
-    const request = { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' as const };
+    const request = { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
     const withProfile = await analysePlatePair(load(turned.set![0]), load(turned.file), { compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', turnDeg: 45, profile: request });
     const p = withProfile.result.profile!;
     expect(p.fieldMethod).toBe('plate-pair');
     expect(await text('core')).toBe(formatCell(p.core.order));
     expect(await text('skin')).toBe(formatCell(p.skin.order));
-    expect(await text('profile-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file} --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --weighting confidence`);
+    expect(await text('profile-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file} --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8`);
   }, 240_000);
 
   it('the four-angle set takes four images and their angles', async () => {
