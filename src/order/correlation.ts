@@ -11,13 +11,14 @@ export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
   const { width, height, mask } = f;
   const c2 = f.cos2, s2 = f.sin2;
   // Doubled-angle components (the director cancels in the autocorrelation of the complex signal).
-  const val = (i: number): [number, number] => (c2 ? [c2[i], s2![i]] : [Math.cos(2 * f.angleRad[i]), Math.sin(2 * f.angleRad[i])]);
+  const cv = c2 ? (i: number) => c2[i] : (i: number) => Math.cos(2 * f.angleRad[i]);
+  const sv = s2 ? (i: number) => s2[i] : (i: number) => Math.sin(2 * f.angleRad[i]);
   let mc = 0, ms = 0, m = 0;
   const step = Math.max(1, Math.floor(Math.sqrt((width * height) / 40_000)));
   for (let y = 0; y < height; y += step) for (let x = 0; x < width; x += step) {
     const i = y * width + x;
     if (!mask[i]) continue;
-    const [c, s] = val(i); mc += c; ms += s; m++;
+    mc += cv(i); ms += sv(i); m++;
   }
   if (m < 16) return 1;
   mc /= m; ms /= m;
@@ -26,17 +27,15 @@ export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
   for (const dx of [1, 0]) {
     const num = new Float64Array(L + 1), cnt = new Float64Array(L + 1);
     const lines = dx ? height : width, len = dx ? width : height;
-    const lineStep = Math.max(1, Math.floor(lines / 64));
+    const lineStep = Math.max(1, Math.floor(lines / 32));
     for (let a = 0; a < lines; a += lineStep) {
-      for (let b = 0; b + L < len; b += Math.max(1, Math.floor(len / 256))) {
+      for (let b = 0; b + L < len; b += Math.max(1, Math.floor(len / 128))) {
         const i0 = dx ? a * width + b : b * width + a;
         if (!mask[i0]) continue;
-        const [c0, s0] = val(i0);
-        for (let k = 0; k <= L; k++) {
-          const i = i0 + k * (dx ? 1 : width);
+        const c0 = cv(i0) - mc, s0 = sv(i0) - ms, stride = dx ? 1 : width;
+        for (let k = 0, i = i0; k <= L; k++, i += stride) {
           if (!mask[i]) continue;
-          const [c, s] = val(i);
-          num[k] += (c0 - mc) * (c - mc) + (s0 - ms) * (s - ms); cnt[k]++;
+          num[k] += c0 * (cv(i) - mc) + s0 * (sv(i) - ms); cnt[k]++;
         }
       }
     }
