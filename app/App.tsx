@@ -17,7 +17,8 @@ import { ProfilePlot } from './components/ProfilePlot.tsx';
 import { OrientTable, ProfileTable } from './components/Results.tsx';
 import { SessionsPanel } from './components/SessionsPanel.tsx';
 import { LampCaution, ResultCaution, SampleCaution } from './components/Cautions.tsx';
-import { MoreAnalyses, type OpticalField } from './components/MoreAnalyses.tsx';
+import { MoreAnalyses, type MoreAnalysesHandle, type OpticalField } from './components/MoreAnalyses.tsx';
+import { diameterMarks } from './components/FibrePanels.tsx';
 import type { Mark } from './components/Viewer.tsx';
 import { stationDrawing } from './components/stationMarks.ts';
 import type { ProgressFn } from './worker/client.ts';
@@ -108,6 +109,7 @@ export function App() {
   const decoded = useRef(new Map<string, DecodeSummary>());
   const fileInput = useRef<HTMLInputElement>(null);
   const viewer = useRef<ViewerHandle>(null);
+  const more = useRef<MoreAnalysesHandle>(null);
   const msgId = useRef(0);
 
   // Free the bitmaps of pictures no longer shown (large images hold tens of MB each).
@@ -244,6 +246,9 @@ export function App() {
   const opticalHere = optical && active && optical.imageId === active.id ? optical : null;
   const showOptical = fieldChoice === 'optical' && opticalHere !== null;
   const work = active ? session?.work[active.id] ?? null : null;
+  // The kept diameters' edges are drawn again after a reload (until a new run sets the marks).
+  const keptDiameter = work?.diameter ?? null;
+  const keptMarks = useMemo(() => (keptDiameter ? diameterMarks(keptDiameter) : undefined), [keptDiameter]);
 
   const runOrient = useCallback(async (quiet = false) => {
     const s = sessionRef.current;
@@ -421,6 +426,7 @@ export function App() {
         o: () => void runOrient(), w: () => setDrawing((d) => !d), f: () => void runFindWalls(), p: () => void runProfile(),
         i: () => fileInput.current?.click(), s: () => { setShowSessions((v) => !v); void refreshList(); }, '?': () => setHelp((h) => !h),
         '1': () => setMode('none'), '2': () => setMode('colour'), '3': () => setMode('coherency'), '4': () => setMode('glyphs'),
+        m: () => more.current?.stepTab(e.shiftKey ? -1 : 1), r: () => more.current?.runShown(),
         '+': () => viewer.current?.zoomBy(1.25), '=': () => viewer.current?.zoomBy(1.25), '-': () => viewer.current?.zoomBy(0.8), '0': () => viewer.current?.fit(),
       };
       const a = actions[k.toLowerCase()] ?? actions[k];
@@ -459,7 +465,7 @@ export function App() {
       image: shown.image, overlay, overlayKind: overlay ? (mode === 'colour' ? 'orientation' : 'coherency') : null, opacity,
       imageWidth: shown.summary.width, imageHeight: shown.summary.height,
       pixelSizeUmPerPx: effectivePixelSize(session?.setup ?? null, shown.summary.pixelSizeUmPerPx).umPerPx,
-      walls: walls?.walls ?? null, caption: `${active.name}: ${what}`,
+      walls: walls?.walls ?? null, stations: drawing ? null : stationLines, caption: `${active.name}: ${what}`,
     };
   };
 
@@ -557,7 +563,8 @@ export function App() {
           <h2>Keyboard shortcuts</h2>
           <dl>
             <dt>I</dt><dd>add images</dd><dt>O</dt><dd>orientation analysis</dd><dt>W</dt><dd>draw the two walls</dd><dt>F</dt><dd>find the walls</dd>
-            <dt>P</dt><dd>profile across the channel</dd><dt>1 2 3 4</dt><dd>show: image only, orientation colours, coherency, line glyphs</dd>
+            <dt>P</dt><dd>profile across the channel</dd>
+            <dt>M</dt><dd>next tab of “More analyses” (Shift+M: the previous one)</dd><dt>R</dt><dd>run the analysis of the tab shown in “More analyses”, with its settings</dd><dt>1 2 3 4</dt><dd>show: image only, orientation colours, coherency, line glyphs</dd>
             <dt>+ − 0</dt><dd>zoom in, out, fit</dd><dt>S</dt><dd>saved sessions</dd><dt>Esc</dt><dd>stop the running analysis, close panels</dd><dt>Ctrl+V</dt><dd>paste an image</dd>
           </dl>
         </section>
@@ -643,7 +650,7 @@ export function App() {
                 handle={viewer} image={shown.image} imageWidth={shown.summary.width} imageHeight={shown.summary.height}
                 colour={showOptical ? opticalHere!.colour : shown.colour} coherency={showOptical ? opticalHere!.confidence : shown.coherency}
                 glyphs={showOptical ? opticalHere!.glyphs : shown.glyphs ?? []} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
-                marks={marks && marks.imageId === active.id ? marks.marks : undefined}
+                marks={marks && marks.imageId === active.id ? marks.marks : keptMarks}
                 walls={walls} stations={stationLines} drawing={drawing}
                 onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}
                 onDrawingDone={() => setDrawing(false)}
@@ -690,11 +697,12 @@ export function App() {
             </section>
 
             <MoreAnalyses
+              handle={more}
               ctx={{ client, images: session!.images, activeId: active.id, sourceOf, runJob, disabled: !!busy || engine === 'failed' }}
               work={work} pixelSize={session?.pixelSize ?? null} opticalMapShown={opticalHere !== null}
               onField={(f) => { setOptical(f); setFieldChoice('optical'); setMode((m) => (m === 'none' || m === 'glyphs' ? 'colour' : m)); }}
               onMarks={(imageId, m) => setMarks({ imageId, marks: m })}
-              onDiameter={(id, d) => change({ type: 'diameter', id, result: d })}
+              onDiameter={(id, d, run) => change({ type: 'diameter', id, result: d, run })}
               onOptics={(id, reading) => change({ type: 'optics', id, reading })}
               onMicrometer={(id, calibration) => change({ type: 'micrometer', id, calibration })}
               onPixelSize={(pixelSize) => change({ type: 'pixelSize', pixelSize })}

@@ -3,15 +3,15 @@
  * `diameter` / `micrometer` / `fibreNumbers` results: what `retarda diameter`, `retarda calibrate` and
  * `retarda fibre` print for the same file and settings (the command line is shown with them).
  */
-import { useState } from 'react';
+import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
 import type { DiameterDocument, FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, TenacityUnit } from '../../src/analyses/index.ts';
 import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { Mark } from './Viewer.tsx';
-import type { PanelContext } from './OpticalPanel.tsx';
+import type { PanelContext, PanelHandle } from './OpticalPanel.tsx';
 import { Histogram } from './Histogram.tsx';
 import { commandLine, fibreArgs } from './commandLines.ts';
-import type { SessionPixelSize, StoredMicrometer } from '../storage/records.ts';
+import { DEFAULT_DIAMETER_FORM, type DiameterForm, type SessionPixelSize, type StoredDiameterRun, type StoredMicrometer } from '../storage/records.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
@@ -46,13 +46,24 @@ export function diameterMarks(d: DiameterDocument): Mark[] {
   return marks;
 }
 
-interface DiameterProps { ctx: PanelContext; pixelSize: SessionPixelSize | null; onMarks(imageId: string, marks: Mark[]): void; onResult?(imageId: string, d: DiameterDocument): void }
+interface DiameterProps {
+  ctx: PanelContext;
+  pixelSize: SessionPixelSize | null;
+  /** The diameters kept with the session for the image shown, and the form and command line that made them (shown after a reload too). */
+  stored: { doc: DiameterDocument; run: StoredDiameterRun | null } | null;
+  onMarks(imageId: string, marks: Mark[]): void;
+  /** A new result for an image, to keep with the session. */
+  onResult(imageId: string, d: DiameterDocument, run: StoredDiameterRun): void;
+  handle?: Ref<PanelHandle>;
+}
 
-export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterProps) {
-  const [s, setS] = useState({ umPerPx: '', stepPx: '10', averagePx: '5', polarity: 'auto', backgroundDegree: '2' });
-  const [shown, setShown] = useState<{ imageId: string; doc: DiameterDocument; cli: string } | null>(null);
+export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handle }: DiameterProps) {
+  const [s, setS] = useState<DiameterForm>(DEFAULT_DIAMETER_FORM);
   const [formError, setFormError] = useState<string | null>(null);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
+  const storedRun = stored?.run ?? null;
+  // A kept result brings back the form that made it (after a reload, or on going back to its image).
+  useEffect(() => { if (storedRun) setS(storedRun.form); }, [storedRun]);
 
   async function run() {
     setFormError(null);
@@ -62,7 +73,7 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
       const typed = num(s.umPerPx, 'Pixel size');
       options = {
         pixelSizeUmPerPx: typed ?? pixelSize?.umPerPx, stepPx: num(s.stepPx, 'Station step'), averagePx: num(s.averagePx, 'Averaged length'),
-        polarity: s.polarity as 'auto' | 'dark' | 'bright', backgroundDegree: num(s.backgroundDegree, 'Background degree'),
+        polarity: s.polarity, backgroundDegree: num(s.backgroundDegree, 'Background degree'),
       };
     } catch (e) { setFormError((e as Error).message); return; }
     const args = [
@@ -80,12 +91,13 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
       return ctx.client.call('diameter', { key: id, options }, p);
     });
     if (!doc) return;
-    setShown({ imageId: id, doc, cli: commandLine('diameter', [active.name], args) });
     onMarks(id, diameterMarks(doc));
-    onResult?.(id, doc);
+    onResult(id, doc, { form: s, commandLine: commandLine('diameter', [active.name], args) });
   }
 
-  const d = shown && shown.imageId === ctx.activeId ? shown.doc : null;
+  // Without deps: the handle always runs this render's form, as the button does.
+  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); } }));
+  const d = stored?.doc ?? null;
   const um = d ? d.pixelSizeUmPerPx !== null : false;
   const unit = um ? 'µm' : 'px';
   const pick = (x: { meanPx: number | null; meanUm: number | null; sdPx: number | null; sdUm: number | null; ciLowPx: number | null; ciLowUm: number | null; ciHighPx: number | null; ciHighUm: number | null }) =>
@@ -101,10 +113,10 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
         <span className="unit">µm/px</span>
       </label>
       {pixelSize && s.umPerPx.trim() === '' && <p className="note">Using {pixelSize.umPerPx.toPrecision(5)} µm/px from the {pixelSize.from}; type a value to use another.</p>}
-      <label className="field"><span>Station step</span><input value={s.stepPx} onChange={(e) => setS({ ...s, stepPx: e.target.value })} /><span className="unit">px</span></label>
+      <label className="field"><span>Station step</span><input value={s.stepPx} data-testid="diameter-step-px" onChange={(e) => setS({ ...s, stepPx: e.target.value })} /><span className="unit">px</span></label>
       <label className="field"><span>Averaged along</span><input value={s.averagePx} onChange={(e) => setS({ ...s, averagePx: e.target.value })} /><span className="unit">px</span></label>
       <label className="field"><span>Fibre is</span>
-        <select value={s.polarity} onChange={(e) => setS({ ...s, polarity: e.target.value })}>
+        <select value={s.polarity} onChange={(e) => setS({ ...s, polarity: e.target.value as DiameterForm['polarity'] })}>
           <option value="auto">found from the image</option><option value="dark">darker than the background</option><option value="bright">brighter than the background</option>
         </select><span /></label>
       <label className="field"><span>Uneven lamp removal</span>
@@ -112,7 +124,7 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
           {[0, 1, 2, 3, 4].map((k) => <option key={k} value={String(k)}>{k === 0 ? 'none (flat level)' : `surface of degree ${k}`}</option>)}
         </select><span /></label>
       {formError && <p className="note warn" role="alert">{formError}</p>}
-      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Measure fibre diameters</button>
+      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Measure fibre diameters</button>
       {d && (
         <div>
           <p className="note">On the image: yellow = the width measured at each station, green = the edges joined between stations, red × = stations left out.</p>
@@ -140,7 +152,7 @@ export function DiameterPanel({ ctx, pixelSize, onMarks, onResult }: DiameterPro
             </details>
           )}
           {d.warnings.length > 0 && <ul className="warnings">{d.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
-          <p className="cli"><code data-testid="diameter-cli">{shown!.cli}</code></p>
+          {storedRun && <p className="cli"><code data-testid="diameter-cli">{storedRun.commandLine}</code></p>}
         </div>
       )}
     </div>
@@ -156,9 +168,10 @@ interface MicrometerProps {
   onUse(p: SessionPixelSize | null): void;
   /** A new calibration of an image, to keep with the session. */
   onCalibration(imageId: string, c: StoredMicrometer): void;
+  handle?: Ref<PanelHandle>;
 }
 
-export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration }: MicrometerProps) {
+export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, handle }: MicrometerProps) {
   const [s, setS] = useState({ divisionUm: '10', polarity: 'auto', na: '' });
   const [formError, setFormError] = useState<string | null>(null);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
@@ -183,6 +196,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration }
     if (doc) onCalibration(id, { doc, commandLine: commandLine('calibrate', [active.name], args) });
   }
 
+  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); } }));
   const c = stored?.doc ?? null;
   return (
     <div>
@@ -193,7 +207,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration }
         </select><span /></label>
       <label className="field"><span>Objective NA</span><input value={s.na} placeholder="optional: sampling check" onChange={(e) => setS({ ...s, na: e.target.value })} /><span /></label>
       {formError && <p className="note warn" role="alert">{formError}</p>}
-      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Measure the pixel size</button>
+      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Measure the pixel size</button>
       {c && (
         <div>
           <table className="results" data-testid="micrometer-results">
@@ -217,9 +231,9 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration }
   );
 }
 
-interface NumbersProps { ctx: PanelContext; measuredDiameterUm: number | null; measuredRetardanceNm: number | null }
+interface NumbersProps { ctx: PanelContext; measuredDiameterUm: number | null; measuredRetardanceNm: number | null; handle?: Ref<PanelHandle> }
 
-export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceNm }: NumbersProps) {
+export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceNm, handle }: NumbersProps) {
   const [s, setS] = useState({
     diameterUm: '', density: '', linearDensity: '', linearDensityUnit: 'tex' as LinearDensityUnit, tenacity: '', tenacityUnit: 'N/tex' as TenacityUnit,
     strengthGPa: '', retardanceNm: '', thicknessUm: '', intrinsic: '',
@@ -247,6 +261,7 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceN
     if (r) setShown({ r, cli: commandLine('fibre', [], fibreArgs(request)) });
   }
 
+  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled) void run(); } }));
   const input = (label: string, key: keyof typeof s, unit: string, placeholder = '', testId?: string) => (
     <label className="field"><span>{label}</span><input value={s[key] as string} placeholder={placeholder} data-testid={testId} onChange={(e) => set({ [key]: e.target.value })} /><span className="unit">{unit}</span></label>
   );
@@ -274,7 +289,7 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceN
       {input('Optical path', 'thicknessUm', 'µm', 'default: the diameter')}
       {input('Intrinsic birefringence', 'intrinsic', '', 'perfectly aligned material')}
       {formError && <p className="note warn" role="alert">{formError}</p>}
-      <button className="primary" disabled={ctx.disabled} onClick={() => void run()}>Work out the fibre numbers</button>
+      <button className="primary" disabled={ctx.disabled} onClick={() => void run()} title="Shortcut: R">Work out the fibre numbers</button>
       {r && (
         <div>
           <table className="results" data-testid="fibre-results">

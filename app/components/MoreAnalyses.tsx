@@ -4,17 +4,20 @@
  * belong: the micrometer's pixel size to the diameters, the mean diameter and the median retardance
  * to the fibre numbers.
  */
-import { useState } from 'react';
-import { OpticalPanel, type OpticalField, type PanelContext } from './OpticalPanel.tsx';
+import { useImperativeHandle, useMemo, useRef, useState, type Ref } from 'react';
+import { OpticalPanel, type OpticalField, type PanelContext, type PanelHandle } from './OpticalPanel.tsx';
 import { DiameterPanel, FibreNumbersPanel, MicrometerPanel } from './FibrePanels.tsx';
 import type { Mark } from './Viewer.tsx';
 import type { DiameterDocument } from '../../src/analyses/index.ts';
-import type { ImageWork, SessionPixelSize, StoredMicrometer, StoredOptics } from '../storage/records.ts';
+import type { ImageWork, SessionPixelSize, StoredDiameterRun, StoredMicrometer, StoredOptics } from '../storage/records.ts';
 
 export type { OpticalField, PanelContext } from './OpticalPanel.tsx';
 
 type Tab = 'optical' | 'diameter' | 'micrometer' | 'numbers';
 const TABS: [Tab, string][] = [['optical', 'Polarised colours'], ['diameter', 'Fibre diameter'], ['micrometer', 'Micrometer'], ['numbers', 'Fibre numbers']];
+
+/** What the keyboard shortcuts do here: go to the next (or previous) tab, and run the shown tab's analysis. */
+export interface MoreAnalysesHandle { stepTab(by: 1 | -1): void; runShown(): void }
 
 interface Props {
   ctx: PanelContext;
@@ -27,34 +30,48 @@ interface Props {
   onField(f: OpticalField): void;
   onMarks(imageId: string, marks: Mark[]): void;
   /** A diameter result for an image, kept with the session (Compare shows it). */
-  onDiameter(imageId: string, d: DiameterDocument): void;
+  onDiameter(imageId: string, d: DiameterDocument, run: StoredDiameterRun): void;
   onOptics(imageId: string, reading: StoredOptics): void;
   onMicrometer(imageId: string, c: StoredMicrometer): void;
   onPixelSize(p: SessionPixelSize | null): void;
+  handle?: Ref<MoreAnalysesHandle>;
 }
 
-export function MoreAnalyses({ ctx, work, pixelSize, opticalMapShown, onField, onMarks, onDiameter, onOptics, onMicrometer, onPixelSize }: Props) {
+export function MoreAnalyses({ ctx, work, pixelSize, opticalMapShown, onField, onMarks, onDiameter, onOptics, onMicrometer, onPixelSize, handle }: Props) {
   const [tab, setTab] = useState<Tab>('optical');
+  const panels = { optical: useRef<PanelHandle>(null), diameter: useRef<PanelHandle>(null), micrometer: useRef<PanelHandle>(null), numbers: useRef<PanelHandle>(null) };
+  const tabButtons = useRef(new Map<Tab, HTMLButtonElement>());
+  useImperativeHandle(handle, () => ({
+    stepTab: (by) => {
+      const next = TABS[(TABS.findIndex(([t]) => t === tab) + by + TABS.length) % TABS.length][0];
+      setTab(next);
+      // Focus moves to the tab, so the panel scrolls into view and Tab / Enter carry on from there.
+      tabButtons.current.get(next)?.focus();
+    },
+    runShown: () => panels[tab].current?.run(),
+  }));
   const [diameterUm, setDiameterUm] = useState<number | null>(null);
   const [retardanceNm, setRetardanceNm] = useState<number | null>(null);
   const optics = work?.optics ?? null;
+  const diameterDoc = work?.diameter ?? null, diameterRun = work?.diameterRun ?? null;
+  const diameterStored = useMemo(() => (diameterDoc ? { doc: diameterDoc, run: diameterRun } : null), [diameterDoc, diameterRun]);
   return (
     <section aria-label="More analyses">
       <h2>More analyses</h2>
       <div className="tabs" role="tablist">
         {TABS.map(([t, label]) => (
-          <button key={t} role="tab" aria-selected={tab === t} className={tab === t ? 'on' : ''} onClick={() => setTab(t)}>{label}</button>
+          <button key={t} role="tab" ref={(b) => { if (b) tabButtons.current.set(t, b); else tabButtons.current.delete(t); }} title="Shortcut: M (next), Shift+M (previous)" aria-selected={tab === t} className={tab === t ? 'on' : ''} onClick={() => setTab(t)}>{label}</button>
         ))}
       </div>
       {/* Panels stay mounted so their settings survive switching tabs; results are kept with the session. */}
       <div hidden={tab !== 'optical'}>
-        <OpticalPanel ctx={ctx} stored={optics} mapShown={opticalMapShown} onField={onField}
+        <OpticalPanel handle={panels.optical} ctx={ctx} stored={optics} mapShown={opticalMapShown} onField={onField}
           onReading={(id, r) => { setRetardanceNm(r.result.retardanceNmMedian); onOptics(id, r); }} />
       </div>
-      <div hidden={tab !== 'diameter'}><DiameterPanel ctx={ctx} pixelSize={pixelSize} onMarks={onMarks} onResult={(id, d) => { setDiameterUm(d.meanUm); onDiameter(id, d); }} /></div>
-      <div hidden={tab !== 'micrometer'}><MicrometerPanel ctx={ctx} pixelSize={pixelSize} stored={work?.micrometer ?? null} onUse={onPixelSize} onCalibration={onMicrometer} /></div>
+      <div hidden={tab !== 'diameter'}><DiameterPanel handle={panels.diameter} ctx={ctx} pixelSize={pixelSize} stored={diameterStored} onMarks={onMarks} onResult={(id, d, run) => { setDiameterUm(d.meanUm); onDiameter(id, d, run); }} /></div>
+      <div hidden={tab !== 'micrometer'}><MicrometerPanel handle={panels.micrometer} ctx={ctx} pixelSize={pixelSize} stored={work?.micrometer ?? null} onUse={onPixelSize} onCalibration={onMicrometer} /></div>
       <div hidden={tab !== 'numbers'}>
-        <FibreNumbersPanel ctx={ctx} measuredDiameterUm={diameterUm ?? work?.diameter?.meanUm ?? null} measuredRetardanceNm={retardanceNm ?? optics?.result.retardanceNmMedian ?? null} />
+        <FibreNumbersPanel handle={panels.numbers} ctx={ctx} measuredDiameterUm={diameterUm ?? work?.diameter?.meanUm ?? null} measuredRetardanceNm={retardanceNm ?? optics?.result.retardanceNmMedian ?? null} />
       </div>
     </section>
   );

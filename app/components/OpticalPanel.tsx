@@ -4,14 +4,14 @@
  * The numbers are the worker's `plate` / `plate2` / `quad` results, which are what the `retarda`
  * subcommands of the same names print; the command line is shown with them.
  */
-import { useState } from 'react';
+import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
 import type { OpticsResult, PlateReadingOptions, ProfileRequest, ProfileResult, TrainOptions } from '../../src/analyses/index.ts';
 import type { MatchSpace, Rect } from '../../src/optics/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
 import type { Glyph, OpticsReply, Picture } from '../worker/protocol.ts';
 import type { Layer } from './Viewer.tsx';
-import type { OpticsKind, StoredOptics } from '../storage/records.ts';
+import { DEFAULT_OPTICAL_FORM, type OpticalForm, type OpticsKind, type StoredOptics } from '../storage/records.ts';
 import { LegendWheel } from './LegendWheel.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
 import { channelArgs, commandLine, plateReadingArgs, quote, trainArgs } from './commandLines.ts';
@@ -36,6 +36,9 @@ export interface OpticalField {
   profile: { commandLine(req: ProfileRequest, wallsText: string | null): string; run(req: ProfileRequest, progress: ProgressFn): Promise<ProfileResult> };
 }
 
+/** What the keyboard can do with a panel: run its analysis with the settings in its form, as its button does. */
+export interface PanelHandle { run(): void }
+
 export interface PanelContext {
   client: AnalysisClient;
   images: { id: string; name: string }[];
@@ -46,17 +49,10 @@ export interface PanelContext {
   disabled: boolean;
 }
 
-interface Settings {
-  compensatorNm: string; compensatorDeg: string; polariserDeg: string; illuminant: string; retardanceMaxNm: string;
-  background: string; sign: 'positive' | 'negative'; match: MatchSpace; axisDeg: string; resolveMirror: boolean;
-  imageB: string; turnDeg: string; quadImages: string[]; quadAngles: string[]; quadPlate: string; quadPlateBackground: string;
-}
+/** The form as typed; kept with the reading it made (records.ts), so it comes back after a reload. */
+type Settings = OpticalForm;
 
-const DEFAULTS: Settings = {
-  compensatorNm: '', compensatorDeg: '45', polariserDeg: '0', illuminant: '3200K', retardanceMaxNm: '800', background: '',
-  sign: 'positive', match: 'lab', axisDeg: '', resolveMirror: false, imageB: '', turnDeg: '45',
-  quadImages: ['', '', '', ''], quadAngles: ['0', '22.5', '45', '67.5'], quadPlate: '', quadPlateBackground: '',
-};
+const DEFAULTS: Settings = DEFAULT_OPTICAL_FORM;
 
 /** Numbers typed in the form: blank = the command line's default (undefined); otherwise a finite number or an error. */
 function num(text: string, what: string): number | undefined {
@@ -99,13 +95,18 @@ interface OpticalPanelProps {
   onField(f: OpticalField): void;
   /** A new reading for an image, to keep with the session. */
   onReading(imageId: string, reading: StoredOptics): void;
+  handle?: Ref<PanelHandle>;
 }
 
-export function OpticalPanel({ ctx, stored, mapShown, onField, onReading }: OpticalPanelProps) {
+export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle }: OpticalPanelProps) {
   const [kind, setKind] = useState<ReadingKind>('plate');
   const [s, setS] = useState<Settings>(DEFAULTS);
   const [formError, setFormError] = useState<string | null>(null);
   const set = (c: Partial<Settings>) => setS((o) => ({ ...o, ...c }));
+  // A kept reading brings back the form that made it (after a reload, or on going back to its image).
+  useEffect(() => {
+    if (stored?.form) { setKind(stored.kind); setS(stored.form); }
+  }, [stored]);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
   const nameOf = (id: string) => ctx.images.find((i) => i.id === id)?.name ?? '';
   const others = ctx.images.filter((i) => i.id !== ctx.activeId);
@@ -192,13 +193,16 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading }: Opti
     const reply = await ctx.runJob(what, job);
     if (!reply) return;
     const imageId = active.id;
-    onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm });
+    onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm, form: s });
     onField({
       imageId, label: kind === 'plate' ? 'compensator colour' : kind === 'plate2' ? 'two compensator images' : 'crossed polars, several angles',
       colour: layerOf(reply.colour), confidence: layerOf(reply.confidence), retardance: reply.retardance ? layerOf(reply.retardance) : null,
       retardanceRangeNm: reply.retardanceRangeNm, glyphs: reply.glyphs, profile,
     });
   }
+
+  // Without deps: the handle always runs this render's form, as the button does.
+  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); } }));
 
   const field = (label: string, key: keyof Settings, unit = '', placeholder = '', testId?: string) => (
     <label className="field">
@@ -299,7 +303,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading }: Opti
         <label className="check"><input type="checkbox" checked={s.resolveMirror} onChange={(e) => set({ resolveMirror: e.target.checked })} /> use the texture to settle the mirror choice</label>
       )}
       {formError && <p className="note warn" role="alert">{formError}</p>}
-      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()}>Read orientation and retardance</button>
+      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Read orientation and retardance</button>
 
       {r && !mapShown && <p className="note" data-testid="optics-kept">Kept from an earlier {READING_NAMES[r.kind]}: its numbers are below; read again to see its maps on the image.</p>}
       {r && <OpticsTable r={r.result} rangeNm={r.rangeNm} />}

@@ -8,7 +8,7 @@ import { useCallback, useEffect, useImperativeHandle, useRef, useState, type Ref
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Glyph } from '../worker/protocol.ts';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
-import type { StationDrawing } from './stationMarks.ts';
+import { STATION_COLOUR, type StationDrawing } from './stationMarks.ts';
 
 /**
  * A picture to draw: `levels[0]` at full picture size, each further level half the one before (so
@@ -48,7 +48,6 @@ interface Props {
 interface View { scale: number; tx: number; ty: number }
 
 const WALL_COLOURS = ['#f2f2f2', '#ffd23f'];
-const STATION_COLOUR = '#7fd8ff';
 
 export function Viewer(p: Props) {
   const wrap = useRef<HTMLDivElement>(null);

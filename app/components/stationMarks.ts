@@ -8,6 +8,9 @@
 import { channelFrame, transverse, type Segment } from '../../src/channel/geometry.ts';
 import type { ProfileResult } from '../../src/analyses/index.ts';
 
+/** The colour of the station lines and labels, in the viewer and in the exported picture. */
+export const STATION_COLOUR = '#7fd8ff';
+
 export interface StationLabel { x: number; y: number; text: string }
 export interface StationDrawing { boundaries: Segment[]; labels: StationLabel[] }
 

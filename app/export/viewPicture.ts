@@ -1,6 +1,6 @@
 /**
  * The current view as a PNG picture: the image with the shown overlay (orientation colours or
- * coherency), the channel walls, a scale bar (um when calibrated, px otherwise) and, with
+ * coherency), the channel walls, the profile's station lines and numbers as the viewer draws them, a scale bar (um when calibrated, px otherwise) and, with
  * orientation colours, the legend wheel. Composed on a canvas at the picture's own resolution and
  * encoded with canvas.toBlob.
  */
@@ -8,6 +8,7 @@ import type { Segment } from '../../src/channel/index.ts';
 import { angleIndex, orientationColourTable } from '../../src/report/colourMap.ts';
 import { chooseScaleBar } from '../../src/report/scaleBar.ts';
 import type { Layer } from '../components/Viewer.tsx';
+import { STATION_COLOUR, type StationDrawing } from '../components/stationMarks.ts';
 
 export interface ViewPictureInput {
   image: Layer;
@@ -19,6 +20,8 @@ export interface ViewPictureInput {
   imageHeight: number;
   pixelSizeUmPerPx: number | null;
   walls: Segment[] | null;
+  /** The stations of the channel profile as the viewer draws them (image px), or null when there is one station or none. */
+  stations?: StationDrawing | null;
   /** Printed under the picture: image name, analysis, settings. */
   caption: string;
 }
@@ -61,6 +64,31 @@ function drawScaleBar(g: CanvasRenderingContext2D, widthCanvas: number, heightCa
   g.fillText(bar.unit === 'px' ? `${bar.label} (not calibrated)` : bar.label, x, y - 4);
 }
 
+/**
+ * Draws the station boundaries (dashed, dark-edged) and the station numbers as the viewer does, at `k` canvas px
+ * per image px; line widths and the dash grow with the picture width so they read the same at any size.
+ */
+function drawStations(g: CanvasRenderingContext2D, st: StationDrawing, k: number, widthCanvas: number): void {
+  const w = Math.max(2.5, widthCanvas / 400), dash = 4 * w;
+  const at = (x: number, y: number) => ({ x: (x + 0.5) * k, y: (y + 0.5) * k });
+  g.lineCap = 'butt';
+  g.setLineDash([dash, dash / 2]);
+  for (const b of st.boundaries) {
+    const a = at(b.x1, b.y1), c = at(b.x2, b.y2);
+    g.strokeStyle = 'rgba(0,0,0,0.75)'; g.lineWidth = 1.8 * w; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(c.x, c.y); g.stroke();
+    g.strokeStyle = STATION_COLOUR; g.lineWidth = w; g.beginPath(); g.moveTo(a.x, a.y); g.lineTo(c.x, c.y); g.stroke();
+  }
+  g.setLineDash([]);
+  const font = Math.max(13, Math.round(widthCanvas * 0.016));
+  g.font = `600 ${font}px system-ui, sans-serif`;
+  g.textAlign = 'left'; g.textBaseline = 'middle';
+  for (const l of st.labels) {
+    const q = at(l.x, l.y), text = `station ${l.text}`, tw = g.measureText(text).width;
+    g.fillStyle = 'rgba(0,0,0,0.8)'; g.fillRect(q.x - tw / 2 - 5, q.y - font * 0.75, tw + 10, font * 1.5);
+    g.fillStyle = STATION_COLOUR; g.fillText(text, q.x - tw / 2, q.y);
+  }
+}
+
 /** Composes the picture and encodes it as PNG. */
 export async function viewPicturePng(v: ViewPictureInput): Promise<Blob> {
   // The picture's own resolution (large images are already reduced for display by the worker);
@@ -86,6 +114,7 @@ export async function viewPicturePng(v: ViewPictureInput): Promise<Blob> {
     g.strokeStyle = i === 0 ? '#f2f2f2' : '#ffd23f'; g.lineWidth = Math.max(1.5, pw / 600);
     g.stroke();
   }
+  if (v.stations) drawStations(g, v.stations, k, pw);
   drawScaleBar(g, pw, ph, k, v.imageWidth, v.pixelSizeUmPerPx);
   if (v.overlayKind === 'orientation') {
     // The wheel with its labels (at 1.32 r plus the text) inside a dark box of side 4.4 r in the top-right corner.

@@ -5,7 +5,7 @@
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { Channel } from '../../src/channel/index.ts';
 import {
-  EMPTY_WORK, type AnalysisSettings, type ImageMeta, type ImageWork, type SessionPixelSize, type SessionRecord, type StoredMicrometer, type StoredOptics,
+  EMPTY_WORK, type AnalysisSettings, type ImageMeta, type StoredDiameterRun, type ImageWork, type SessionPixelSize, type SessionRecord, type StoredMicrometer, type StoredOptics,
 } from '../storage/records.ts';
 import type { AppliedSetup } from '../setups/setup.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
@@ -22,8 +22,8 @@ export type SessionAction =
   | { type: 'profile'; id: string; result: ProfileResult }
   /** Applies a set-up (optical train, pixel size, sign) to every image of the session; null removes it. */
   | { type: 'applySetup'; setup: AppliedSetup | null }
-  /** Keeps an image's fibre diameters with the session (shown in the compare view). */
-  | { type: 'diameter'; id: string; result: DiameterDocument | null }
+  /** Keeps an image's fibre diameters with the session (shown in the compare view), with the form and command line that made them. */
+  | { type: 'diameter'; id: string; result: DiameterDocument | null; run?: StoredDiameterRun | null }
   /** Keeps the optical reading made with this image first (its numbers are shown again after a reload). */
   | { type: 'optics'; id: string; reading: StoredOptics | null }
   /** Keeps the micrometer calibration made on this image. */
@@ -60,7 +60,7 @@ function apply(s: SessionRecord, a: SessionAction): SessionRecord {
     case 'orient': return withWork(s, a.id, { orient: a.result });
     case 'profile': return withWork(s, a.id, { profile: a.result, walls: { walls: a.result.walls }, wallsFound: a.result.wallsFound });
     case 'applySetup': return { ...s, setup: a.setup };
-    case 'diameter': return withWork(s, a.id, { diameter: a.result });
+    case 'diameter': return withWork(s, a.id, { diameter: a.result, diameterRun: a.result ? a.run ?? null : null });
     case 'optics': return withWork(s, a.id, { optics: a.reading });
     case 'micrometer': return withWork(s, a.id, { micrometer: a.calibration });
     case 'pixelSize': return { ...s, pixelSize: a.pixelSize };

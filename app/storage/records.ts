@@ -39,6 +39,8 @@ export interface ImageWork {
   profile: ProfileResult | null;
   /** Fibre diameters measured on the image (`retarda diameter`'s document); absent in older records. */
   diameter?: DiameterDocument | null;
+  /** The form settings and command line that made `diameter`; absent in older records. */
+  diameterRun?: StoredDiameterRun | null;
   /** The last optical reading made with this image first (plate, plate2 or quad); absent in older records. */
   optics?: StoredOptics | null;
   /** The micrometer calibration made on this image (`retarda calibrate`'s document); absent in older records. */
@@ -48,8 +50,34 @@ export interface ImageWork {
 /** Which optical reading made a result: the `retarda` subcommand of the same name. */
 export type OpticsKind = 'plate' | 'plate2' | 'quad';
 
-/** An optical reading as shown: its result, the equivalent command line and the retardance colour-bar range. */
-export interface StoredOptics { kind: OpticsKind; result: OpticsResult; commandLine: string; rangeNm: [number, number] | null }
+/**
+ * The optical panel's form as typed (text, blank = the command line's default), kept with the reading it made
+ * so the form comes back after a reload. Images are named by their ids in the session.
+ */
+export interface OpticalForm {
+  compensatorNm: string; compensatorDeg: string; polariserDeg: string; illuminant: string; retardanceMaxNm: string;
+  background: string; sign: 'positive' | 'negative'; match: 'lab' | 'chroma'; axisDeg: string; resolveMirror: boolean;
+  imageB: string; turnDeg: string; quadImages: string[]; quadAngles: string[]; quadPlate: string; quadPlateBackground: string;
+}
+
+/** The optical form before anything is typed: the `retarda plate` / `plate2` / `quad` defaults. */
+export const DEFAULT_OPTICAL_FORM: OpticalForm = {
+  compensatorNm: '', compensatorDeg: '45', polariserDeg: '0', illuminant: '3200K', retardanceMaxNm: '800', background: '',
+  sign: 'positive', match: 'lab', axisDeg: '', resolveMirror: false, imageB: '', turnDeg: '45',
+  quadImages: ['', '', '', ''], quadAngles: ['0', '22.5', '45', '67.5'], quadPlate: '', quadPlateBackground: '',
+};
+
+/** An optical reading as shown: its result, the equivalent command line, the retardance colour-bar range and the form that made it. */
+export interface StoredOptics { kind: OpticsKind; result: OpticsResult; commandLine: string; rangeNm: [number, number] | null; form?: OpticalForm }
+
+/** The diameter panel's form as typed (text, blank = the command line's default). */
+export interface DiameterForm { umPerPx: string; stepPx: string; averagePx: string; polarity: 'auto' | 'dark' | 'bright'; backgroundDegree: string }
+
+/** The `retarda diameter` defaults, as the form shows them. */
+export const DEFAULT_DIAMETER_FORM: DiameterForm = { umPerPx: '', stepPx: '10', averagePx: '5', polarity: 'auto', backgroundDegree: '2' };
+
+/** How a stored diameter result was made: the form and the equivalent command line. */
+export interface StoredDiameterRun { form: DiameterForm; commandLine: string }
 
 /** A micrometer calibration as shown: the document and the equivalent command line. */
 export interface StoredMicrometer { doc: MicrometerDocument; commandLine: string }
@@ -125,14 +153,45 @@ function restoreResult<T>(v: unknown, analysis: string): T | null {
 
 const OPTICS_KINDS: readonly string[] = ['plate', 'plate2', 'quad'];
 
-/** A stored optical reading: a known kind, a result of that analysis and its command line. */
+const strings4 = (v: unknown): string[] | null => (Array.isArray(v) && v.length === 4 && v.every((x) => typeof x === 'string') ? [...v] : null);
+
+/** A stored optical form: every field must have its type and, for the choices, a known value; else the whole form is unreadable. */
+function restoreOpticalForm(v: unknown): OpticalForm | null {
+  if (!isObj(v)) return null;
+  const d = DEFAULT_OPTICAL_FORM;
+  const texts = (Object.keys(d) as (keyof OpticalForm)[]).filter((k) => typeof d[k] === 'string');
+  if (texts.some((k) => typeof v[k] !== 'string')) return null;
+  if (v.sign !== 'positive' && v.sign !== 'negative') return null;
+  if (v.match !== 'lab' && v.match !== 'chroma') return null;
+  if (typeof v.resolveMirror !== 'boolean') return null;
+  const quadImages = strings4(v.quadImages), quadAngles = strings4(v.quadAngles);
+  if (!quadImages || !quadAngles) return null;
+  const form = { ...d, quadImages, quadAngles, resolveMirror: v.resolveMirror, sign: v.sign, match: v.match } as OpticalForm;
+  for (const k of texts) (form as unknown as Record<string, unknown>)[k] = v[k];
+  return form;
+}
+
+/** A stored optical reading: a known kind, a result of that analysis and its command line; an unreadable form is left out. */
 function restoreOptics(v: unknown): StoredOptics | null {
   if (!isObj(v) || typeof v.kind !== 'string' || !OPTICS_KINDS.includes(v.kind) || typeof v.commandLine !== 'string') return null;
   const result = restoreResult<OpticsResult>(v.result, v.kind);
   if (!result) return null;
   const r = v.rangeNm;
   const rangeNm = Array.isArray(r) && r.length === 2 && r.every(num) ? [r[0] as number, r[1] as number] as [number, number] : null;
-  return { kind: v.kind as OpticsKind, result, commandLine: v.commandLine, rangeNm };
+  const form = v.form == null ? null : restoreOpticalForm(v.form);
+  return { kind: v.kind as OpticsKind, result, commandLine: v.commandLine, rangeNm, ...(form ? { form } : {}) };
+}
+
+/** How a stored diameter result was made: the form (all text, a known polarity) and its command line. */
+function restoreDiameterRun(v: unknown): StoredDiameterRun | null {
+  if (!isObj(v) || typeof v.commandLine !== 'string' || !isObj(v.form)) return null;
+  const f = v.form;
+  if (![f.umPerPx, f.stepPx, f.averagePx, f.backgroundDegree].every((x) => typeof x === 'string')) return null;
+  if (f.polarity !== 'auto' && f.polarity !== 'dark' && f.polarity !== 'bright') return null;
+  return {
+    commandLine: v.commandLine,
+    form: { umPerPx: f.umPerPx as string, stepPx: f.stepPx as string, averagePx: f.averagePx as string, polarity: f.polarity, backgroundDegree: f.backgroundDegree as string },
+  };
 }
 
 /** A stored micrometer calibration: a `calibrate` document with a usable pixel size, and its command line. */
@@ -184,16 +243,18 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
     const orient = w.orient == null ? null : restoreResult<OrientResult>(w.orient, 'orient');
     const profile = w.profile == null ? null : restoreResult<ProfileResult>(w.profile, 'profile');
     const diameter = w.diameter == null ? null : restoreResult<DiameterDocument>(w.diameter, 'diameter');
+    const diameterRun = diameter && w.diameterRun != null ? restoreDiameterRun(w.diameterRun) : null;
     const optics = w.optics == null ? null : restoreOptics(w.optics);
     const micrometer = w.micrometer == null ? null : restoreMicrometer(w.micrometer);
     if ((w.walls != null && !walls) || (w.orient != null && !orient) || (w.profile != null && !profile) || (w.diameter != null && !diameter)
+      || (diameter && w.diameterRun != null && !diameterRun) || (optics && isObj(w.optics) && w.optics.form != null && !optics.form)
       || (w.optics != null && !optics) || (w.micrometer != null && !micrometer)) {
       notes.push(`part of the work on ${img.name} was unreadable`);
       lossy = true;
     }
     work[img.id] = {
       walls, wallsFound: w.wallsFound === true, orient, profile,
-      ...(diameter ? { diameter } : {}), ...(optics ? { optics } : {}), ...(micrometer ? { micrometer } : {}),
+      ...(diameter ? { diameter } : {}), ...(diameterRun ? { diameterRun } : {}), ...(optics ? { optics } : {}), ...(micrometer ? { micrometer } : {}),
     };
   }
   const active = typeof raw.activeImageId === 'string' && images.some((i) => i.id === raw.activeImageId) ? raw.activeImageId : images[0]?.id ?? null;

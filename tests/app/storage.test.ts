@@ -3,10 +3,11 @@ import {
   createSessionStore, type KeyValue,
 } from '../../app/storage/store.ts';
 import {
-  DEFAULT_SETTINGS, EMPTY_WORK, restoreSession, STORAGE_SCHEMA_VERSION, type StoredMicrometer, type StoredOptics,
+  DEFAULT_DIAMETER_FORM, DEFAULT_OPTICAL_FORM, DEFAULT_SETTINGS, EMPTY_WORK, restoreSession, STORAGE_SCHEMA_VERSION, type StoredMicrometer, type StoredOptics,
 } from '../../app/storage/records.ts';
 import { sessionReducer } from '../../app/state/session.ts';
-import { analyseFourAngle, analyseMicrometer } from '../../src/analyses/index.ts';
+import { analyseDiameter, analyseFourAngle, analyseMicrometer } from '../../src/analyses/index.ts';
+import { renderFibres } from '../fibre/render.ts';
 import { makeImage } from '../../src/image/types.ts';
 import { renderSampleImage } from '../../src/optics/index.ts';
 import { DEG } from '../../src/common/angles.ts';
@@ -324,5 +325,53 @@ describe('optical readings, micrometer calibrations and the session pixel size a
     expect(aside).toHaveLength(1);
     expect(aside[0].value).toEqual(raw);
     expect(aside[0].reason).toMatch(/pixel size was unreadable/);
+  });
+});
+
+describe('the settings that made an optical reading or a diameter result are kept with it', () => {
+  const quadImages = [0, 22.5, 45, 67.5].map((p, k) => renderSampleImage(24, 16, () => ({ angleRad: 30 * DEG, retardanceNm: 150 }),
+    { polariserDeg: p, analyserDeg: p + 90, compensator: null }, { noiseSd: 0.001, seed: 21 + k, camera: { gains: [1, 1, 1], exposure: 0.75 }, name: `q${k}.png` }));
+
+  it('a saved session gives back the optical form and the diameter form with the results they made', async () => {
+    const store = createSessionStore(memoryKv(), counter());
+    const s = await store.create('forms');
+    const a = await store.addImage({ name: 'q0.png', type: 'image/png', blob: png([1]) });
+    const { result } = await analyseFourAngle(quadImages, { anglesDeg: [0, 22.5, 45, 67.5], axisDeg: 30, profile: null });
+    const form = { ...DEFAULT_OPTICAL_FORM, axisDeg: '30', compensatorDeg: '40', quadImages: [a.id, 'b', 'c', 'd'], quadPlateBackground: '0,0,8,8' };
+    const optics: StoredOptics = { kind: 'quad', result, commandLine: 'retarda quad q0.png q1.png q2.png q3.png --axis-deg 30', rangeNm: null, form };
+    // One dark fibre 24 px wide (its width is a fact of the rendering, tests/fibre/render.ts).
+    const plane = renderFibres({ width: 160, height: 120, fibres: [{ cx: 80, cy: 60, angleDeg: 90, widthPx: 24, contrast: -0.4 }], base: 0.7, noiseSd: 0.005 });
+    const fibreImage = makeImage({ width: 160, height: 120, channels: 1, bitDepth: 16, encoding: 'linear', source: { name: 'f.png' }, planes: [plane.data] });
+    const doc = analyseDiameter(fibreImage, { pixelSizeUmPerPx: 0.5, stepPx: 8 });
+    expect(Math.abs(doc.meanPx! / 24 - 1)).toBeLessThan(0.05);
+    const run = { form: { ...DEFAULT_DIAMETER_FORM, umPerPx: '0.5', stepPx: '8', polarity: 'dark' as const }, commandLine: 'retarda diameter f.png --um-per-px 0.5 --step-px 8' };
+    let next = sessionReducer({ ...s, images: [a], activeImageId: a.id, work: { [a.id]: { ...EMPTY_WORK } } }, { type: 'optics', id: a.id, reading: optics });
+    next = sessionReducer(next, { type: 'diameter', id: a.id, result: doc, run });
+    await store.save(next);
+    const back = (await store.load(s.id))!;
+    expect(back.work[a.id].optics?.form).toEqual(form);
+    expect(back.work[a.id].diameter).toEqual(doc);
+    expect(back.work[a.id].diameterRun).toEqual(run);
+    expect(await store.aside()).toEqual([]);
+    // Clearing the diameters clears the settings that made them.
+    expect(sessionReducer(back, { type: 'diameter', id: a.id, result: null }).work[a.id].diameterRun).toBeNull();
+  });
+
+  it('an unreadable form is left out, the result kept, and the original set aside', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const { result } = await analyseFourAngle(quadImages, { profile: null });
+    const raw = {
+      schemaVersion: 1, kind: 'session', id: 'y', name: 'bad forms', images: [{ id: 'i1', name: 'a.png' }],
+      work: { i1: { walls: null, orient: null, profile: null,
+        optics: { kind: 'quad', result, commandLine: 'retarda quad a.png b.png c.png d.png', rangeNm: null, form: { ...DEFAULT_OPTICAL_FORM, sign: 'sideways' } } } },
+    };
+    kv.map.set('session:y', raw);
+    const s = (await store.load('y'))!;
+    expect(s.work.i1.optics?.result).toEqual(result);
+    expect(s.work.i1.optics?.form).toBeUndefined();
+    const aside = await store.aside();
+    expect(aside).toHaveLength(1);
+    expect(aside[0].value).toEqual(raw);
   });
 });

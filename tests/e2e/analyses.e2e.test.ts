@@ -239,22 +239,23 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     const file = 'kestrel-fibres.png';
     await addSample(file);
     await tab('Fibre diameter');
+    await fill('diameter-step-px', '8');
     await page.getByRole('button', { name: 'Measure fibre diameters' }).click();
     await page.getByTestId('diameter-table').waitFor({ timeout: 120_000 });
     await idle();
     await shot('28-fibre-diameter');
-    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, stepPx: 10, averagePx: 5, polarity: 'auto', backgroundDegree: 2 });
+    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, stepPx: 8, averagePx: 5, polarity: 'auto', backgroundDegree: 2 });
     expect(d.fibres.length).toBe(3); // README: three dried fibres
     for (const fb of d.fibres) expect(await text(`diameter-mean-${fb.index}`)).toBe(formatCell(fb.meanUm));
     expect(await text('diameter-mean-all')).toBe(formatCell(d.meanUm));
-    expect(await text('diameter-cli')).toBe(`retarda diameter ${file} --um-per-px ${umPerPx}`);
+    expect(await text('diameter-cli')).toBe(`retarda diameter ${file} --um-per-px ${umPerPx} --step-px 8`);
     if (d.dropped > 0) expect(await page.getByTestId('diameter-dropped').locator('summary').textContent()).toContain(`${d.dropped} station(s) left out`);
     expect(await page.getByRole('img', { name: /histogram of \d+ values/ }).count()).toBe(1);
   }, 180_000);
 
   it('works out the fibre numbers from the measured diameter, as `retarda fibre` does', async () => {
     await tab('Fibre numbers');
-    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx });
+    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx, stepPx: 8 });
     await page.getByRole('button', { name: /use the measured mean/ }).click();
     // The mean is carried over to 6 significant digits. (The browser's engine and Node's may differ in the last few
     // of the 17 digits, seen: 2e-13 relative, never in the shown ones.)
@@ -275,7 +276,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('fibre-cli')).toBe(`retarda fibre --diameter-um ${diameterUm} --density 1.8 --linear-density-dtex 0.5 --retardance-nm 300`);
   }, 60_000);
 
-  it('after a reload the micrometer calibration, the session pixel size and the compensator reading are shown again', async () => {
+  it('after a reload the micrometer calibration, the session pixel size, the diameters and the compensator reading are shown again, with their settings', async () => {
     await expect.poll(() => text('save-state'), { timeout: 10_000 }).toBe('Saved on this device');
     await page.reload();
     // The newest session opens: the micrometer and fibre images.
@@ -290,6 +291,19 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('micrometer-cli')).toBe('retarda calibrate kestrel-micrometer.png --division-um 10');
     expect(await text('session-pixel-size')).toContain(umPerPx.toPrecision(5));
     await shot('30-micrometer-after-reload');
+
+    // The fibre image's diameters come back with the station step that made them.
+    await page.locator('.images li button', { hasText: 'kestrel-fibres.png' }).click();
+    await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
+    await idle();
+    await tab('Fibre diameter');
+    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx, stepPx: 8 });
+    await page.getByTestId('diameter-table').waitFor({ timeout: 10_000 });
+    for (const fb of d.fibres) expect(await text(`diameter-mean-${fb.index}`)).toBe(formatCell(fb.meanUm));
+    expect(await text('diameter-mean-all')).toBe(formatCell(d.meanUm));
+    expect(await text('diameter-cli')).toBe(`retarda diameter kestrel-fibres.png --um-per-px ${umPerPx} --step-px 8`);
+    expect(await page.getByTestId('diameter-step-px').inputValue()).toBe('8');
+    await shot('30b-diameter-after-reload');
 
     // The first session (listed last: the list is newest change first) holds the compensator reading.
     await page.getByRole('button', { name: 'Sessions' }).click();
@@ -307,7 +321,49 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('optics-n')).toBe(formatCell(result.n));
     expect(await text('optics-cli')).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 10`);
     expect(await text('optics-kept')).toContain('read again to see its maps');
+    // The form that made the reading is back: the reference axis and the sample-free area typed before the reload.
+    expect(await page.getByTestId('optics-axis').inputValue()).toBe('10');
+    expect(await page.getByTestId('plate-background').inputValue()).toBe('0,0,60,60');
+    expect(await page.getByLabel('one compensator image').isChecked()).toBe(true);
     await shot('31-plate-reading-after-reload');
     expect(consoleErrors).toEqual([]);
   }, 120_000);
+
+  it('the keys the help lists for "More analyses" switch its tabs and run the shown tab with its settings', async () => {
+    // Still on the compensator image, "Polarised colours" shown, its form restored.
+    const selected = () => page.getByRole('tab', { selected: true }).textContent();
+    await page.keyboard.press('?');
+    const help = page.getByRole('region', { name: 'Keyboard shortcuts' });
+    await help.waitFor({ timeout: 5_000 });
+    const listed = await help.locator('dt').evaluateAll((dts) => dts.map((dt) => [dt.textContent ?? '', dt.nextElementSibling?.textContent ?? '']));
+    const keyFor = (what: string) => listed.find(([, does]) => does.includes(what))?.[0];
+    const nextKey = keyFor('next tab of “More analyses”'), runKey = keyFor('run the analysis of the tab shown');
+    expect(nextKey).toBe('M');
+    expect(runKey).toBe('R');
+    await shot('32-shortcuts-help');
+    await page.keyboard.press('?');
+    await help.waitFor({ state: 'detached', timeout: 5_000 });
+
+    expect(await selected()).toBe('Polarised colours');
+    await page.keyboard.press(nextKey!.toLowerCase());
+    expect(await selected()).toBe('Fibre diameter');
+    await page.keyboard.press(nextKey!.toLowerCase());
+    expect(await selected()).toBe('Micrometer');
+    await page.keyboard.press(`Shift+${nextKey!}`);
+    await page.keyboard.press(`Shift+${nextKey!}`);
+    expect(await selected()).toBe('Polarised colours');
+
+    // A new reference axis in the form, then the run key: the reading is made again with it.
+    await fill('optics-axis', '45');
+    await page.evaluate(() => (document.activeElement as HTMLElement | null)?.blur());
+    await page.keyboard.press(runKey!.toLowerCase());
+    const file = 'kestrel-channel-plate.png';
+    await expect.poll(() => text('optics-cli'), { timeout: 120_000 }).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 45`);
+    await idle();
+    const { result } = await analysePlate(load(file), { background: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 45, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', match: 'lab', profile: null });
+    expect(await text('optics-axis-order')).toBe(formatCell(result.axisOrder));
+    expect(await text('optics-director')).toBe(formatCell(result.directorDeg));
+    await shot('33-run-key-plate-reading');
+    expect(consoleErrors).toEqual([]);
+  }, 180_000);
 });

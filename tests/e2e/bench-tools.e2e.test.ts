@@ -15,6 +15,7 @@ import { decodeImage } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { chooseScaleBar } from '../../src/report/scaleBar.ts';
 import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
+import { STATION_COLOUR, stationDrawing } from '../../app/components/stationMarks.ts';
 import { CHROMIUM, CHROMIUM_ARGS, OUT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
 
 
@@ -279,6 +280,51 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     await page.getByRole('button', { name: 'Close the report' }).click();
     expect(consoleErrors.filter((e) => !/Failed to load resource/.test(e))).toEqual([]);
   }, 120_000);
+
+  it('the exported view shows the profile\'s station lines where the stations lie', async () => {
+    // The same export as above, now with three stations along the channel.
+    await page.getByLabel('Stations along').fill('3');
+    await page.getByRole('button', { name: 'Profile across the channel' }).click();
+    await page.getByTestId('station-table').waitFor({ timeout: 60_000 });
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 });
+    const [pngDownload] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'picture', exact: true }).click()]);
+    const pngBytes = readFileSync((await pngDownload.path())!);
+    writeFileSync(join(SHOTS, '29b-exported-view-stations.png'), pngBytes);
+    const rgb = [1, 3, 5].map((i) => parseInt(STATION_COLOUR.slice(i, i + 2), 16));
+    const stationPixel = (p: ReturnType<typeof decodePng>) => (x: number, y: number) =>
+      x >= 0 && y >= 0 && x < p.width && y < p.height && [0, 1, 2].every((c) => p.data[(y * p.width + x) * p.channels + c] === rgb[c]);
+    const countStationPixels = (p: ReturnType<typeof decodePng>) => {
+      const at = stationPixel(p);
+      let n = 0;
+      for (let y = 0; y < p.height; y++) for (let x = 0; x < p.width; x++) if (at(x, y)) n++;
+      return n;
+    };
+    // The export made with one station (the test above) has no pixel of the station colour: the image and its overlay never give it.
+    expect(countStationPixels(decodePng(readFileSync(join(SHOTS, '29-exported-view.png'))))).toBe(0);
+    const png = decodePng(pngBytes);
+    const up = png.width / 320;
+    const at = stationPixel(png);
+    // Where the stations lie: the profile `retarda profile --auto-walls --stations 3` gives, through the viewer's geometry.
+    const img = decodeImage(new Uint8Array(readFileSync(turned)), 'compare-turned.png');
+    const { field } = await analyseOrientation(img, { sigmaPx: 2 });
+    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 3, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const { boundaries } = stationDrawing(r);
+    expect(boundaries).toHaveLength(4);
+    for (const b of boundaries) {
+      // Points along each boundary (inside the picture): a dashed line 2/3 drawn, so most points have the colour within 2 picture px.
+      let near = 0, tried = 0;
+      for (let t = 0.1; t <= 0.9; t += 0.02) {
+        const x = Math.round((b.x1 + t * (b.x2 - b.x1) + 0.5) * up), y = Math.round((b.y1 + t * (b.y2 - b.y1) + 0.5) * up);
+        if (x < 0 || y < 0 || x >= png.width || y >= 200 * up) continue;
+        tried++;
+        let hit = false;
+        for (let dy = -2; dy <= 2 && !hit; dy++) for (let dx = -2; dx <= 2 && !hit; dx++) hit = at(x + dx, y + dy);
+        if (hit) near++;
+      }
+      expect(tried).toBeGreaterThan(10);
+      expect(near / tried).toBeGreaterThan(0.5);
+    }
+  }, 90_000);
 
   it('the camera, compare and set-up screens fit a tablet screen without sideways scrolling', async () => {
     await page.setViewportSize({ width: 1024, height: 768 });
