@@ -5,10 +5,9 @@
  * (formatCell, the CLI's number format). Screenshots go to test-output/screenshots/.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { BrowserContext, Page } from 'playwright-core';
+import type { Page } from 'playwright-core';
 import {
   analyseDiameter, analyseFourAngle, analyseMicrometer, analysePlate, analysePlatePair, analyseProfile, fibreNumbersResult, readPlateField,
 } from '../../src/analyses/index.ts';
@@ -16,7 +15,7 @@ import { decodeImage, type Image } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { demoEntries } from '../../app/build/demoImages.ts';
 import { DEMO_ANALYSES } from '../../vite.config.ts';
-import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
+import { CHROMIUM, OUT, ROOT, SHOTS, buildAndServe, haveBrowser, openBrowser } from './support.ts';
 
 const SAMPLES = join(ROOT, 'sample-images');
 const load = (file: string): Image => decodeImage(new Uint8Array(readFileSync(join(SAMPLES, file))), file);
@@ -28,11 +27,11 @@ describe.runIf(!haveBrowser)('analysis panels end-to-end (no browser)', () => {
 });
 
 describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
-  let context: BrowserContext;
+
   let page: Page;
   let server: { close(): Promise<void> } | null = null;
   let url = '';
-  let profileDir = '';
+  let browser: Awaited<ReturnType<typeof openBrowser>> | null = null;
   const consoleErrors: string[] = [];
   const shot = async (name: string) => { await page.screenshot({ path: join(SHOTS, `analyses-${name}.png`) }); };
   const text = async (testId: string) => (await page.getByTestId(testId).first().textContent())?.trim();
@@ -57,18 +56,13 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     const s = await buildAndServe(join(OUT, 'e2e-analyses-dist'));
     server = s;
     url = s.url;
-    const { chromium } = await import('playwright-core');
-    profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-analyses-'));
-    context = await chromium.launchPersistentContext(profileDir, { executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 900 }, args: CHROMIUM_ARGS });
-    page = context.pages()[0] ?? await context.newPage();
-    page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
-    page.on('pageerror', (e) => consoleErrors.push(String(e)));
+    browser = await openBrowser({ profilePrefix: 'retarda-e2e-analyses-', height: 900 }, consoleErrors);
+    page = browser.page;
   }, 240_000);
 
   afterAll(async () => {
-    await context?.close();
+    await browser?.close();
     await server?.close().catch(() => undefined);
-    if (profileDir) rmSync(profileDir, { recursive: true, force: true });
   });
 
   it('offers every sample image with the analysis it is for', async () => {

@@ -7,8 +7,7 @@
  * the file reports it loudly and runs only the check that says so.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdirSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, writeFileSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { encode } from 'fast-png';
 import type { BrowserContext, Page } from 'playwright-core';
@@ -17,7 +16,7 @@ import { decodeImage } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { parseWalls } from '../../src/channel/index.ts';
 import { demoEntries } from '../../app/build/demoImages.ts';
-import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
+import { CHROMIUM, OUT, ROOT, SHOTS, buildAndServe, haveBrowser, openBrowser } from './support.ts';
 
 
 if (!haveBrowser) {
@@ -61,7 +60,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
   let page: Page;
   let server: { close(): Promise<void> } | null = null;
   let url = '';
-  let profileDir = '';
+  let browser: Awaited<ReturnType<typeof openBrowser>> | null = null;
   const imagePath = join(OUT, 'e2e-channel.png');
   const brokenPath = join(OUT, 'broken-image.png');
   const badBackupPath = join(OUT, 'not-a-backup.json');
@@ -78,21 +77,14 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     const served = await buildAndServe(join(OUT, 'e2e-dist'));
     server = served;
     url = served.url;
-    const { chromium } = await import('playwright-core');
-    profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-'));
-    context = await chromium.launchPersistentContext(profileDir, {
-      executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 860 },
-      args: CHROMIUM_ARGS,
-    });
-    page = context.pages()[0] ?? await context.newPage();
-    page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
-    page.on('pageerror', (e) => consoleErrors.push(String(e)));
+    browser = await openBrowser({ profilePrefix: 'retarda-e2e-' }, consoleErrors);
+    context = browser.context;
+    page = browser.page;
   }, 180_000);
 
   afterAll(async () => {
-    await context?.close();
+    await browser?.close();
     await server?.close().catch(() => undefined);
-    if (profileDir) rmSync(profileDir, { recursive: true, force: true });
   });
 
   it('opens with a place to bring images in and the safety notes', async () => {

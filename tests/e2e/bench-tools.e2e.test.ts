@@ -5,10 +5,9 @@
  * loudly elsewhere.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { BrowserContext, Download, Page } from 'playwright-core';
+import type { Download, Page } from 'playwright-core';
 import { decode as decodePng, encode } from 'fast-png';
 import { analyseOrientation, analyseProfile } from '../../src/analyses/index.ts';
 import { decodeImage } from '../../src/image/index.ts';
@@ -16,7 +15,7 @@ import { formatCell } from '../../src/cli/format.ts';
 import { chooseScaleBar } from '../../src/report/scaleBar.ts';
 import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
 import { STATION_COLOUR, stationDrawing } from '../../app/components/stationMarks.ts';
-import { CHROMIUM, CHROMIUM_ARGS, OUT, SHOTS, buildAndServe, haveBrowser } from './support.ts';
+import { CHROMIUM, OUT, SHOTS, buildAndServe, haveBrowser, openBrowser } from './support.ts';
 
 
 if (!haveBrowser) {
@@ -61,11 +60,11 @@ describe.runIf(!haveBrowser)('bench tools end-to-end (no browser)', () => {
 });
 
 describe.runIf(haveBrowser)('the bench tools in chromium', () => {
-  let context: BrowserContext;
+
   let page: Page;
   let server: { close(): Promise<void> } | null = null;
   let url = '';
-  let profileDir = '';
+  let browser: Awaited<ReturnType<typeof openBrowser>> | null = null;
   const consoleErrors: string[] = [];
   const shot = async (name: string) => { await page.screenshot({ path: join(SHOTS, `${name}.png`) }); };
   const text = async (testId: string) => (await page.getByTestId(testId).first().textContent())?.trim() ?? '';
@@ -75,23 +74,15 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     const served = await buildAndServe(join(OUT, 'e2e-bench-tools-dist'));
     server = served;
     url = served.url;
-    const { chromium } = await import('playwright-core');
-    profileDir = mkdtempSync(join(tmpdir(), 'retarda-e2e-tools-'));
-    context = await chromium.launchPersistentContext(profileDir, {
-      executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: 860 }, acceptDownloads: true,
-      args: [...CHROMIUM_ARGS, '--use-fake-device-for-media-stream', '--use-fake-ui-for-media-stream'],
-    });
-    page = context.pages()[0] ?? await context.newPage();
-    page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
-    page.on('pageerror', (e) => consoleErrors.push(String(e)));
+    browser = await openBrowser({ profilePrefix: 'retarda-e2e-tools-', acceptDownloads: true, extraArgs: ['--use-fake-device-for-media-stream', '--use-fake-ui-for-media-stream'] }, consoleErrors);
+    page = browser.page;
     await page.goto(url);
     await page.getByText('Works offline').waitFor({ timeout: 30_000 });
   }, 180_000);
 
   afterAll(async () => {
-    await context?.close();
+    await browser?.close();
     await server?.close().catch(() => undefined);
-    if (profileDir) rmSync(profileDir, { recursive: true, force: true });
   });
 
   it('the fake camera gives live readouts of order and director that keep updating', async () => {

@@ -41,3 +41,22 @@ export async function buildAndServe(outDir: string): Promise<{ url: string; clos
   const p = await preview({ configFile: join(ROOT, 'vite.config.ts'), logLevel: 'warn', build: { outDir }, preview: { port, strictPort: true, host: '127.0.0.1', open: false } });
   return { url: `http://127.0.0.1:${port}/`, close: () => p.close() };
 }
+
+/** A fresh chromium profile with one page, its console errors collected into `consoleErrors`; `close` removes everything. */
+export async function openBrowser(o: { height?: number; extraArgs?: string[]; acceptDownloads?: boolean; profilePrefix: string }, consoleErrors: string[] = []) {
+  const { chromium } = await import('playwright-core');
+  const { mkdtempSync, rmSync } = await import('node:fs');
+  const { tmpdir } = await import('node:os');
+  const profileDir = mkdtempSync(join(tmpdir(), o.profilePrefix));
+  const context = await chromium.launchPersistentContext(profileDir, {
+    executablePath: CHROMIUM, headless: true, viewport: { width: 1366, height: o.height ?? 860 }, acceptDownloads: o.acceptDownloads ?? false,
+    args: [...CHROMIUM_ARGS, ...(o.extraArgs ?? [])],
+  });
+  const page = context.pages()[0] ?? await context.newPage();
+  page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()); });
+  page.on('pageerror', (e) => consoleErrors.push(String(e)));
+  return {
+    context, page, consoleErrors,
+    close: async () => { await context.close(); rmSync(profileDir, { recursive: true, force: true }); },
+  };
+}
