@@ -222,6 +222,14 @@ export function App() {
     };
   }, [store]);
 
+  /** The session, its active image and that image's bytes source, or null when there is nothing to analyse. */
+  const activeTarget = useCallback(() => {
+    const s = sessionRef.current;
+    const id = s?.activeImageId;
+    const src = id ? sourceOf(id) : null;
+    return s && id && src ? { s, id, src } : null;
+  }, [sourceOf]);
+
   const report = useCallback((e: unknown, what: string) => {
     if (e instanceof CancelledError) { say('info', `${what} stopped.`); return; }
     const err = e as Error & { hint?: string };
@@ -251,10 +259,9 @@ export function App() {
   const keptMarks = useMemo(() => (keptDiameter ? diameterMarks(keptDiameter) : undefined), [keptDiameter]);
 
   const runOrient = useCallback(async (quiet = false) => {
-    const s = sessionRef.current;
-    const id = s?.activeImageId;
-    const src = id ? sourceOf(id) : null;
-    if (!s || !id || !src) return;
+    const target = activeTarget();
+    if (!target) return;
+    const { s, id, src } = target;
     try {
       await client.ensure(src, progress('Opening the image'));
       const o = s.settings;
@@ -272,13 +279,12 @@ export function App() {
       setMode((m) => (m === 'none' ? 'colour' : m));
       if (!quiet) { setFieldChoice('texture'); say('info', 'Orientation analysis done.'); }
     } catch (e) { report(e, 'Orientation analysis'); } finally { setBusy(null); }
-  }, [client, sourceOf, progress, change, say, report]);
+  }, [client, activeTarget, progress, change, say, report]);
 
   const runProfile = useCallback(async () => {
-    const s = sessionRef.current;
-    const id = s?.activeImageId;
-    const src = id ? sourceOf(id) : null;
-    if (!s || !id || !src) return;
+    const target = activeTarget();
+    if (!target) return;
+    const { s, id, src } = target;
     const w = s.work[id];
     if (!w?.walls) { say('error', 'A profile needs the two channel walls: draw them (W) or let the app find them (F) first.'); return; }
     const o = s.settings;
@@ -296,20 +302,19 @@ export function App() {
       change({ type: 'profile', id, result });
       say('info', 'Profile done.');
     } catch (e) { report(e, 'Profile'); } finally { setBusy(null); }
-  }, [client, sourceOf, progress, change, say, report, fieldChoice, optical]);
+  }, [client, activeTarget, progress, change, say, report, fieldChoice, optical]);
 
   const runFindWalls = useCallback(async () => {
-    const s = sessionRef.current;
-    const id = s?.activeImageId;
-    const src = id ? sourceOf(id) : null;
-    if (!s || !id || !src) return;
+    const target = activeTarget();
+    if (!target) return;
+    const { id, src } = target;
     try {
       await client.ensure(src, progress('Opening the image'));
       const found = await client.call('findWalls', { key: id }, progress('Walls'));
       change({ type: 'walls', id, channel: found.channel, found: true });
       say('info', `Walls found (second wall ${(100 * found.strength[1]).toFixed(0)} % as strong as the first). Check them on the image; drag the ends to correct them.`);
     } catch (e) { report(e, 'Finding the walls'); } finally { setBusy(null); }
-  }, [client, sourceOf, progress, change, say, report]);
+  }, [client, activeTarget, progress, change, say, report]);
 
   // Show the active image when it changes (and redraw its orientation map if it had one).
   useEffect(() => {

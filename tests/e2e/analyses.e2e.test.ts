@@ -43,6 +43,16 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByRole('button', { name: 'New session' }).click();
     await page.getByText('Bring in a microscope image').waitFor({ timeout: 10_000 });
   };
+  /** Finds the walls, profiles the channel on the current field, and keeps a screenshot. */
+  const profileWithFoundWalls = async (shotName: string) => {
+    await page.getByRole('button', { name: 'Find walls' }).click();
+    await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
+    await idle();
+    await page.getByRole('button', { name: 'Profile across the channel' }).click();
+    await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });
+    await idle();
+    await shot(shotName);
+  };
   const addSample = async (file: string) => {
     await page.getByTestId('file-input').setInputFiles(join(SAMPLES, file));
     await page.locator('.images li', { hasText: file }).waitFor({ timeout: 30_000 });
@@ -119,13 +129,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
   it('profiles the channel on the compensator field, as `retarda profile --source plate` does', async () => {
     const file = 'kestrel-channel-plate.png';
     expect(await text('profile-field')).toContain('compensator colour');
-    await page.getByRole('button', { name: 'Find walls' }).click();
-    await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
-    await idle();
-    await page.getByRole('button', { name: 'Profile across the channel' }).click();
-    await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });
-    await idle();
-    await shot('24-plate-profile');
+    await profileWithFoundWalls('24-plate-profile');
     const img = load(file);
     const reading = { background: { x: 0, y: 0, width: 60, height: 60 }, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
     const { field } = readPlateField(img, { ...reading, axisDeg: undefined });
@@ -168,13 +172,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
 
     // The channel profile on this field is the one `retarda plate2 A B --auto-walls ...` prints.
     expect(await text('profile-field')).toContain('two compensator images');
-    await page.getByRole('button', { name: 'Find walls' }).click();
-    await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
-    await idle();
-    await page.getByRole('button', { name: 'Profile across the channel' }).click();
-    await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });
-    await idle();
-    await shot('25b-plate-pair-profile');
+    await profileWithFoundWalls('25b-plate-pair-profile');
     const request = { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
     const withProfile = await analysePlatePair(load(turned.set![0]), load(turned.file), { compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', turnDeg: 45, profile: request });
     const p = withProfile.result.profile!;
