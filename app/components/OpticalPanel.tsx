@@ -248,7 +248,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
 
       {kind === 'plate2' && (
         <>
-          <p className="note">This image ({active?.name}) is the first; choose the one taken with the polariser, compensator and analyser turned by 45° (or the stage turned the other way).</p>
+          <p className="note">This image ({active?.name}) is the first; choose the one taken with the polariser, compensator and analyser turned together by 45° (if the stage was turned instead, the picture turned too: turn it back first).</p>
           {imageSelect('Second image', imageB, (v) => set({ imageB: v }), others, others.length ? 'choose…' : 'add the second image first', 'plate2-image-b')}
           {field('Turned by', 'turnDeg', 'deg')}
         </>
