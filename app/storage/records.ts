@@ -2,6 +2,11 @@
  * What the app keeps on the device, and the restore step every stored record passes through when
  * read back: records from older versions are upgraded, damaged parts are left out (and the original
  * kept aside by the store), records from a newer version are kept aside untouched.
+ *
+ * Restore keeps every key it does not know, as it was, on a session, its settings, its image entries and
+ * its work entries, so a copy of the app that is not yet up to date never drops a newer copy's optional
+ * field when it saves. New optional fields are therefore added without bumping the version (list them in
+ * the key sets below, and keep them JSON values or Blobs so backups carry them).
  */
 import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
@@ -9,7 +14,11 @@ import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
 
-/** Version of every stored record; bump when a field changes meaning and add the upgrade in restore. */
+/**
+ * Version of every stored record. Adding an optional field needs no bump (older copies keep keys they do not
+ * know); bump only when a field changes meaning, and add the upgrade in restore: older copies then keep the
+ * newer records aside untouched instead of misreading them.
+ */
 export const STORAGE_SCHEMA_VERSION = 1;
 
 /** The settings of the texture orientation and profile analyses (the CLI's option names, camelCase). */
@@ -102,6 +111,21 @@ export interface SessionRecord {
   pixelSize?: SessionPixelSize | null;
 }
 
+/** Every key of T, listed once; the Record type makes the compiler name a key added to T but missing here. */
+const keySet = <T>(keys: Record<keyof T, true>): ReadonlySet<string> => new Set(Object.keys(keys));
+
+/** The keys this version reads on each level of a session record; restore keeps any other key as it was. */
+const SESSION_KEYS = keySet<SessionRecord>({
+  schemaVersion: true, kind: true, id: true, name: true, createdAt: true, updatedAt: true, images: true, activeImageId: true,
+  settings: true, work: true, setup: true, pixelSize: true,
+});
+const SETTINGS_KEYS = keySet<AnalysisSettings>({ sigmaPx: true, weighting: true, axisDeg: true, bins: true, stations: true, coreMax: true, skinMin: true });
+const IMAGE_META_KEYS = keySet<ImageMeta>({ id: true, name: true, type: true, size: true, page: true, addedAt: true });
+const IMAGE_RECORD_KEYS = keySet<ImageRecord>({ id: true, name: true, type: true, size: true, page: true, addedAt: true, schemaVersion: true, kind: true, blob: true });
+const WORK_KEYS = keySet<ImageWork>({
+  walls: true, wallsFound: true, orient: true, profile: true, diameter: true, diameterRun: true, optics: true, micrometer: true,
+});
+
 export const EMPTY_WORK: ImageWork = { walls: null, wallsFound: false, orient: null, profile: null };
 
 export type Restored<T> =
@@ -112,6 +136,11 @@ const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object
 const str = (v: unknown, d: string) => (typeof v === 'string' ? v : d);
 const num = (v: unknown) => typeof v === 'number' && Number.isFinite(v);
 
+/** The entries of `raw` whose keys this version does not know, values as they were (spread them before the known fields). */
+function unknownKeys(raw: Record<string, unknown>, known: ReadonlySet<string>): Record<string, unknown> {
+  return Object.fromEntries(Object.entries(raw).filter(([k]) => !known.has(k)));
+}
+
 function versionCheck(raw: Record<string, unknown>): string | null {
   const v = raw.schemaVersion;
   if (v === undefined) return null;
@@ -121,8 +150,8 @@ function versionCheck(raw: Record<string, unknown>): string | null {
 }
 
 function restoreSettings(raw: unknown, notes: string[]): AnalysisSettings {
-  const s = { ...DEFAULT_SETTINGS };
-  if (!isObj(raw)) { if (raw !== undefined) notes.push('settings were unreadable; defaults used'); return s; }
+  if (!isObj(raw)) { if (raw !== undefined) notes.push('settings were unreadable; defaults used'); return { ...DEFAULT_SETTINGS }; }
+  const s = { ...unknownKeys(raw, SETTINGS_KEYS), ...DEFAULT_SETTINGS };
   const pos = (k: 'sigmaPx' | 'bins' | 'stations', min: number, max: number) => {
     if (raw[k] === undefined) return;
     if (num(raw[k]) && (raw[k] as number) >= min && (raw[k] as number) <= max) s[k] = raw[k] as number;
@@ -232,7 +261,7 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
   const images: ImageMeta[] = [];
   for (const m of Array.isArray(raw.images) ? raw.images : []) {
     const meta = restoreImageMeta(m);
-    if (meta) images.push(meta); else { notes.push('an image entry was unreadable'); lossy = true; }
+    if (meta) images.push({ ...unknownKeys(m as Record<string, unknown>, IMAGE_META_KEYS), ...meta }); else { notes.push('an image entry was unreadable'); lossy = true; }
   }
   const work: Record<string, ImageWork> = {};
   const rawWork = isObj(raw.work) ? raw.work : {};
@@ -253,7 +282,7 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
       lossy = true;
     }
     work[img.id] = {
-      walls, wallsFound: w.wallsFound === true, orient, profile,
+      ...unknownKeys(w, WORK_KEYS), walls, wallsFound: w.wallsFound === true, orient, profile,
       ...(diameter ? { diameter } : {}), ...(diameterRun ? { diameterRun } : {}), ...(optics ? { optics } : {}), ...(micrometer ? { micrometer } : {}),
     };
   }
@@ -266,7 +295,7 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
   return {
     ok: true, notes, lossy,
     value: {
-      schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
+      ...unknownKeys(raw, SESSION_KEYS), schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
       createdAt: str(raw.createdAt, now), updatedAt: str(raw.updatedAt, now), images, activeImageId: active,
       settings: restoreSettings(raw.settings, notes), work, setup, pixelSize,
     },
@@ -281,7 +310,7 @@ export function restoreImage(raw: unknown): Restored<ImageRecord> {
   const meta = restoreImageMeta(raw);
   if (!meta) return { ok: false, reason: 'it has no image id' };
   if (!(raw.blob instanceof Blob)) return { ok: false, reason: 'its image bytes are missing' };
-  return { ok: true, notes: [], lossy: false, value: { ...meta, schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'image', blob: raw.blob } };
+  return { ok: true, notes: [], lossy: false, value: { ...unknownKeys(raw, IMAGE_RECORD_KEYS), ...meta, schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'image', blob: raw.blob } };
 }
 
 export function newSession(id: string, name: string, now = new Date()): SessionRecord {

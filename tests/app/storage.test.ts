@@ -3,10 +3,11 @@ import {
   createSessionStore, type KeyValue,
 } from '../../app/storage/store.ts';
 import {
-  DEFAULT_DIAMETER_FORM, DEFAULT_OPTICAL_FORM, DEFAULT_SETTINGS, EMPTY_WORK, restoreSession, STORAGE_SCHEMA_VERSION, type StoredMicrometer, type StoredOptics,
+  DEFAULT_DIAMETER_FORM, DEFAULT_OPTICAL_FORM, DEFAULT_SETTINGS, EMPTY_WORK, restoreSession, STORAGE_SCHEMA_VERSION, type SessionRecord, type StoredMicrometer, type StoredOptics,
 } from '../../app/storage/records.ts';
 import { sessionReducer } from '../../app/state/session.ts';
-import { analyseDiameter, analyseFourAngle, analyseMicrometer } from '../../src/analyses/index.ts';
+import { analyseDiameter, analyseFourAngle, analyseMicrometer, type OrientResult } from '../../src/analyses/index.ts';
+import type { Segment } from '../../src/channel/index.ts';
 import { renderFibres } from '../fibre/render.ts';
 import { makeImage } from '../../src/image/types.ts';
 import { renderSampleImage } from '../../src/optics/index.ts';
@@ -373,5 +374,130 @@ describe('the settings that made an optical reading or a diameter result are kep
     const aside = await store.aside();
     expect(aside).toHaveLength(1);
     expect(aside[0].value).toEqual(raw);
+  });
+});
+
+describe('fields written by a newer copy of the app are kept by this one', () => {
+  // Optional fields this copy does not know, at each level a later copy may add them (behaviour of our own storage).
+  const extra = {
+    top: { futureNote: 'kept as written', futureList: [1, { deep: null }] },
+    settings: { futureSmoothing: { kind: 'gaussian', widthPx: 3 } },
+    image: { futureLens: { magnification: 10, na: 0.25 } },
+    work: { futureMarks: [{ x: 3, y: 4, label: 'kink' }] },
+  };
+
+  /** A version-1 session record as a later copy would write it, on images already in the store. */
+  async function futureSession(kv: ReturnType<typeof memoryKv>, store: ReturnType<typeof createSessionStore>, more: Record<string, unknown> = {}) {
+    const a = await store.addImage({ name: 'a.png', type: 'image/png', blob: png([1]) });
+    const b = await store.addImage({ name: 'b.png', type: 'image/png', blob: png([2]) });
+    const raw = {
+      schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: 'f', name: 'from a newer copy', createdAt: '2026-01-01T00:00:00.000Z', updatedAt: '2026-01-01T00:00:00.000Z',
+      images: [a, b].map((m) => ({ ...m, ...extra.image })), activeImageId: a.id, settings: { ...DEFAULT_SETTINGS, ...extra.settings },
+      work: { [a.id]: { ...EMPTY_WORK, ...extra.work }, [b.id]: { ...EMPTY_WORK, ...extra.work } }, setup: null, pixelSize: null, ...extra.top, ...more,
+    };
+    kv.map.set('session:f', raw);
+    return { raw, a, b };
+  }
+
+  function expectExtras(s: SessionRecord) {
+    expect(s).toMatchObject(extra.top);
+    expect(s.settings).toMatchObject(extra.settings);
+    expect(s.images).toHaveLength(2);
+    for (const m of s.images) expect(m).toMatchObject(extra.image);
+    expect(Object.keys(s.work).sort()).toEqual(s.images.map((m) => m.id).sort());
+    for (const w of Object.values(s.work)) expect(w).toMatchObject(extra.work);
+  }
+
+  it('restore, edits in the reducer, save and load keep them at every level, and nothing is set aside', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const seen = new Date('2026-02-03T04:05:06Z');
+    const { a, b } = await futureSession(kv, store, { futureSeen: seen });
+    const loaded = (await store.load('f'))!;
+    expectExtras(loaded);
+    // A structured-cloneable value that is not JSON comes back as it was.
+    expect((loaded as unknown as { futureSeen: unknown }).futureSeen).toEqual(seen);
+    expect(await store.aside()).toEqual([]);
+    const walls = { walls: [{ x1: 0, y1: 2, x2: 60, y2: 2 }, { x1: 0, y1: 30, x2: 60, y2: 30 }] as [Segment, Segment] };
+    const orient = { schemaVersion: 1, analysis: 'orient' } as OrientResult;
+    let s = sessionReducer(loaded, { type: 'rename', name: 'renamed here' });
+    s = sessionReducer(s, { type: 'settings', change: { sigmaPx: 3 } });
+    s = sessionReducer(s, { type: 'walls', id: a.id, channel: walls, found: true });
+    s = sessionReducer(s, { type: 'orient', id: b.id, result: orient });
+    s = sessionReducer(s, { type: 'select', id: b.id });
+    await store.save(s);
+    const back = (await store.load('f'))!;
+    expectExtras(back);
+    expect(back).toMatchObject({ name: 'renamed here', activeImageId: b.id, settings: { sigmaPx: 3 } });
+    expect(back.work[a.id].walls).toEqual(walls);
+    expect(back.work[b.id].orient).toEqual(orient);
+    // The store's own rename reads and writes the record too.
+    expectExtras((await store.rename('f', 'renamed in the list'))!);
+    expectExtras((await store.load('f'))!);
+    expect(await store.aside()).toEqual([]);
+  });
+
+  it('duplicate keeps them, with the work entries under the new image ids', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const { a, b } = await futureSession(kv, store);
+    const copy = (await store.duplicate('f'))!;
+    expect(copy.images.map((m) => m.id)).not.toContain(a.id);
+    expect(copy.images.map((m) => m.id)).not.toContain(b.id);
+    expectExtras(copy);
+    expectExtras((await store.load(copy.id))!);
+  });
+
+  it('an image record keeps them when read back and when its session is duplicated', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    const meta = await store.addImage({ name: 'a.png', type: 'image/png', blob: new Blob([new Uint8Array([1, 2, 3])]) });
+    const key = `image:${meta.id}`;
+    kv.map.set(key, { ...(kv.map.get(key) as object), futureThumbnailVersion: 3 });
+    expect((await store.image(meta.id)) as unknown as { futureThumbnailVersion?: number }).toMatchObject({ futureThumbnailVersion: 3 });
+    const s = await store.create('s');
+    await store.save({ ...s, images: [meta], work: { [meta.id]: { ...EMPTY_WORK } } });
+    const copy = (await store.duplicate(s.id))!;
+    const copied = await store.image(copy.images[0].id);
+    expect(copied && copied.id).not.toBe(meta.id);
+    expect(copied as unknown as { futureThumbnailVersion?: number }).toMatchObject({ futureThumbnailVersion: 3 });
+  });
+
+  it('a backup exported and imported into another store keeps them', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    await futureSession(kv, store);
+    const store2 = createSessionStore(memoryKv(), counter());
+    const report = await importBackup(store2, await exportBackup(store), (() => { let n = 0; return () => `bk${++n}`; })());
+    expect(report).toMatchObject({ sessions: 1, images: 2, setAside: 0 });
+    const back = (await store2.load((await store2.list()).sessions[0].id))!;
+    expect(back.images.map((m) => m.id).sort()).toEqual(['bk1', 'bk2']);
+    expectExtras(back);
+  });
+
+  it('they do not hide a damaged known field: it is still left out, named and the record marked lossy', () => {
+    const raw = {
+      schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: 'd', name: 'damaged', ...extra.top,
+      images: [{ id: 'i1', name: 'a.png', size: 'large', ...extra.image }], settings: { ...DEFAULT_SETTINGS, sigmaPx: -1, ...extra.settings },
+      work: { i1: { ...EMPTY_WORK, diameter: { analysis: 'diameter' }, optics: { kind: 'sideways' }, ...extra.work } },
+      pixelSize: { umPerPx: 'small' },
+    };
+    const r = restoreSession(raw);
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.lossy).toBe(true);
+    expect(r.notes.join('; ')).toMatch(/work on a\.png was unreadable/);
+    expect(r.notes.join('; ')).toMatch(/pixel size was unreadable/);
+    expect(r.notes.join('; ')).toMatch(/sigmaPx/);
+    // The damaged known fields are replaced or left out, not carried along with the unknown ones.
+    expect(r.value.work.i1).not.toHaveProperty('diameter');
+    expect(r.value.work.i1).not.toHaveProperty('optics');
+    expect(r.value.pixelSize).toBeNull();
+    expect(r.value.settings.sigmaPx).toBe(DEFAULT_SETTINGS.sigmaPx);
+    expect(r.value.images[0].size).toBe(0);
+    expect(r.value).toMatchObject(extra.top);
+    expect(r.value.settings).toMatchObject(extra.settings);
+    expect(r.value.images[0]).toMatchObject(extra.image);
+    expect(r.value.work.i1).toMatchObject(extra.work);
   });
 });
