@@ -71,7 +71,9 @@ const sessionName = () => `Session ${new Date().toLocaleString(undefined, { date
 export function App() {
   const store = useMemo(() => createSessionStore(browserKeyValue()), []);
   const setupStore = useMemo(() => createSetupStore(browserKeyValue()), []);
-  const client = useMemo(() => new AnalysisClient(() => new Worker(new URL('./worker/analysis.worker.ts', import.meta.url), { type: 'module', name: 'analysis' })), []);
+  // One helper per spare core (at most three) shares the tiles of large images; each holds its own opencv.js.
+  const client = useMemo(() => new AnalysisClient(() => new Worker(new URL('./worker/analysis.worker.ts', import.meta.url), { type: 'module', name: 'analysis' }),
+    { tileHelpers: Math.max(0, Math.min(3, (navigator.hardwareConcurrency || 2) - 1)) }), []);
   const [session, setSession] = useState<SessionRecord | null>(null);
   const sessionRef = useRef<SessionRecord | null>(null);
   const [listing, setListing] = useState<{ sessions: SessionSummary[]; asideCount: number }>({ sessions: [], asideCount: 0 });
@@ -84,6 +86,9 @@ export function App() {
   const [shown, setShown] = useState<Shown | null>(null);
   /** Milliseconds of each step of the last orientation run in the worker (read by the browser benchmark). */
   const [workerTimes, setWorkerTimes] = useState<StepTimes>({});
+  const [helperTiles, setHelperTiles] = useState(0);
+  /** Helper workers sharing the tiles of large images (0 until they have started). */
+  const [helperCount, setHelperCount] = useState(0);
   /** Coherency pictures and glyph sets being made, so one is asked for only once. */
   const making = useRef(new Set<string>());
   const [mode, setMode] = useState<OverlayMode>('colour');
@@ -175,6 +180,7 @@ export function App() {
   // Start: engine, saved sessions (open the latest), demo list, flush on pagehide.
   useEffect(() => {
     client.ready().then(() => setEngine('ready'), (e: Error) => { setEngine('failed'); say('error', e.message); });
+    void client.helpersLinked.then(setHelperCount);
     void refreshList().then((l) => { if (l?.sessions[0] && !sessionRef.current) void openSession(l.sessions[0].id); });
     fetch('./demo/index.json').then((r) => (r.ok ? r.json() : [])).then((d) => setDemos(Array.isArray(d) ? d : [])).catch(() => setDemos([]));
     const flush = () => { void saver.flush(); };
@@ -270,6 +276,7 @@ export function App() {
       const reply = await client.callInParts('orient', { key: id, options }, (early) => {
         change({ type: 'orient', id, result: early.result });
         setWorkerTimes(early.timesMs);
+        setHelperTiles(early.helperTiles);
       }, progress('Orientation'));
       const colour = await layerOf(reply.colour);
       const fieldOptions = { sigmaPx: o.sigmaPx };
@@ -519,7 +526,9 @@ export function App() {
         <span className="session-title" data-testid="session-name">{session ? session.name : 'No session yet'}</span>
         <span className={`save-state ${saveState}`} data-testid="save-state">{session ? (saveState === 'saved' ? 'Saved on this device' : saveState === 'waiting' ? 'Saving…' : 'Not saved!') : ''}</span>
         <span className="spacer" />
-        <span className={`engine ${engine}`}>{engine === 'starting' ? 'Analysis engine starting…' : engine === 'ready' ? 'Works offline' : 'Analysis engine failed'}</span>
+        <span className={`engine ${engine}`} data-helpers={helperCount}
+          title={helperCount ? `Large images are shared between ${helperCount + 1} analysis workers (the numbers are the same as with one).` : undefined}>
+          {engine === 'starting' ? 'Analysis engine starting…' : engine === 'ready' ? 'Works offline' : 'Analysis engine failed'}</span>
         <button onClick={() => fileInput.current?.click()} title="Shortcut: I">Add images…</button>
         <button className={screen === 'camera' ? 'on' : ''} aria-pressed={screen === 'camera'} onClick={() => setScreen((v) => (v === 'camera' ? 'images' : 'camera'))}>Camera</button>
         <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void saver.flush(); setScreen((v) => (v === 'compare' ? 'images' : 'compare')); }}>Compare</button>
@@ -674,7 +683,7 @@ export function App() {
           </section>
 
           <aside className="panel" aria-label="Analysis">
-            <section data-testid="orient-section" data-worker-ms={JSON.stringify(workerTimes)}>
+            <section data-testid="orient-section" data-worker-ms={JSON.stringify(workerTimes)} data-helper-tiles={helperTiles}>
               <h2>Orientation</h2>
               {numberField('Texture scale σ', 'sigmaPx', 0.5, 30, 0.5, 'px')}
               <label className="field">

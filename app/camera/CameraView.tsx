@@ -43,7 +43,6 @@ function fitOf(vw: number, vh: number, cw: number, ch: number) {
 export function CameraView(p: Props) {
   const video = useRef<HTMLVideoElement>(null);
   const overlay = useRef<HTMLCanvasElement>(null);
-  const grabCanvas = useRef<HTMLCanvasElement | null>(null);
   const [devices, setDevices] = useState<MediaDeviceInfo[]>([]);
   const [deviceId, setDeviceId] = useState('');
   const [resolution, setResolution] = useState(1);
@@ -121,8 +120,8 @@ export function CameraView(p: Props) {
     };
   }, [stream]);
 
-  // The newest frame at the planned size. The browser scales it off the page's thread
-  // (createImageBitmap); the page only copies the small result out of a canvas.
+  // The newest frame, whole: the worker crops, scales and reads it, so the page's thread does no pixel work
+  // (a VideoFrame only wraps the camera's buffer; browsers without VideoFrame give a bitmap).
   const grab = useCallback(async (): Promise<GrabbedFrame | null> => {
     const v = video.current;
     if (!v || v.readyState < 2 || !v.videoWidth) return null;
@@ -132,15 +131,8 @@ export function CameraView(p: Props) {
     const { step: s, rect: r } = planInputs.current;
     let plan;
     try { plan = planReadout(v.videoWidth, v.videoHeight, s, r, readoutHaloPx(settingsRef.current.sigmaPx)); } catch (e) { setReadoutError((e as Error).message); return null; }
-    const bitmap = await createImageBitmap(v, plan.source.x, plan.source.y, plan.source.w, plan.source.h,
-      plan.step > 1 ? { resizeWidth: plan.width, resizeHeight: plan.height, resizeQuality: 'medium' } : {});
-    try {
-      const c = (grabCanvas.current ??= document.createElement('canvas'));
-      if (c.width !== plan.width || c.height !== plan.height) { c.width = plan.width; c.height = plan.height; }
-      const g = c.getContext('2d', { willReadFrequently: true })!;
-      g.drawImage(bitmap, 0, 0);
-      return { rgba: g.getImageData(0, 0, plan.width, plan.height).data, width: plan.width, height: plan.height, plan };
-    } finally { bitmap.close(); }
+    const source = typeof VideoFrame === 'function' ? new VideoFrame(v) : await createImageBitmap(v);
+    return { source, plan };
   }, []);
 
   const readout = useMemo(() => new LiveReadout({

@@ -1,9 +1,9 @@
 /**
  * Pure helpers of the live readout: which part of a camera frame is analysed and at what size, the
- * frame as PNG bytes for the analysis worker, and the frame-rate / latency meter. No DOM here, so
+ * frame's pixels as the image the analyses read, and the frame-rate / latency meter. No DOM here, so
  * the logic is unit-tested in Node.
  */
-import { encodeFloatTiff } from '../../src/report/tiff.ts';
+import type { Image } from '../../src/image/types.ts';
 // kernels.ts only: the orientation folder's index pulls in opencv.js, which must stay in the worker.
 import { gaussianRadius } from '../../src/orientation/kernels.ts';
 import type { Rect } from '../../src/analyses/index.ts';
@@ -70,21 +70,20 @@ export function readoutHaloPx(sigmaPx: number): number {
   return gaussianRadius(SIGMA_DERIV_PX) + gaussianRadius(sigmaPx) + 1;
 }
 
-/**
- * RGBA pixels (as from a canvas) to the bytes the worker decodes: a one-page 32-bit float TIFF of
- * the grey plane, Rec. 709 luma of the stored codes / 255 (0.2126 R + 0.7152 G + 0.0722 B, what
- * toGrey computes for an 8-bit RGB image). So the numbers equal those of the texture analysis on
- * the frame saved as an RGB file, and writing it costs the page's thread about 2 ms at 640 x 360
- * (an uncompressed PNG of the same frame takes several times longer).
- */
 /** code / 255 as the image decoder stores it (float32), so the luma matches toGrey exactly. */
 const CODE = Float32Array.from({ length: 256 }, (_, c) => c / 255);
 
-export function frameTiff(rgba: Uint8Array | Uint8ClampedArray, width: number, height: number): Uint8Array {
+/**
+ * RGBA pixels of a camera frame (as a canvas gives them) as the image the analyses read: the grey
+ * plane is Rec. 709 luma of the stored codes / 255 (0.2126 R + 0.7152 G + 0.0722 B, what toGrey
+ * computes for an 8-bit RGB image), so the numbers equal those of the texture analysis on the frame
+ * saved as an RGB file.
+ */
+export function frameImage(rgba: Uint8Array | Uint8ClampedArray, width: number, height: number): Image {
   if (rgba.length !== width * height * 4) throw new Error(`frame has ${rgba.length} bytes, ${width}x${height} RGBA needs ${width * height * 4}`);
   const grey = new Float32Array(width * height);
   for (let i = 0, o = 0; i < grey.length; i++, o += 4) grey[i] = 0.2126 * CODE[rgba[o]] + 0.7152 * CODE[rgba[o + 1]] + 0.0722 * CODE[rgba[o + 2]];
-  return encodeFloatTiff([{ width, height, data: grey }]);
+  return { width, height, channels: 1, planes: [grey], bitDepth: 32, encoding: 'linear', source: { name: 'camera frame' } };
 }
 
 /** Size steps offered for a frame: full size, then halves while the analysed picture stays usable. */

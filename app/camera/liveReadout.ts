@@ -1,20 +1,21 @@
 /**
  * The live readout loop: several analysis workers take camera frames in turn. Each worker grabs the
- * newest frame as soon as it is free, decodes it and runs the same `orient` command as the
- * orientation analysis; a reading is shown only if its frame is newer than the one shown before,
- * so readings never go back in time when two workers finish out of order.
+ * newest frame as soon as it is free; the frame goes to the worker as it is (a VideoFrame or bitmap,
+ * transferred), which crops, scales and reads its pixels and runs the orientation analysis on them,
+ * so the page's thread does no pixel work. A reading is shown only if its frame is newer than the one
+ * shown before, so readings never go back in time when two workers finish out of order.
  */
 import type { OrientResult } from '../../src/analyses/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import type { AnalysisClient } from '../worker/client.ts';
 import type { OrientReply } from '../worker/protocol.ts';
-import { frameTiff, RateMeter, type ReadoutPlan } from './frames.ts';
+import { RateMeter, type ReadoutPlan } from './frames.ts';
 
 /** The part of an analysis client the loop uses (a fake in unit tests). */
-export type ReadoutEngine = Pick<AnalysisClient, 'ready' | 'decode' | 'call' | 'dispose'>;
+export type ReadoutEngine = Pick<AnalysisClient, 'ready' | 'call' | 'dispose'>;
 
-/** One grabbed frame: RGBA pixels at the plan's size. */
-export interface GrabbedFrame { rgba: Uint8ClampedArray | Uint8Array; width: number; height: number; plan: ReadoutPlan }
+/** One grabbed frame, whole as the camera gave it, and the plan of what part of it to analyse at what size. */
+export interface GrabbedFrame { source: VideoFrame | ImageBitmap; plan: ReadoutPlan }
 
 export interface LiveReading {
   result: OrientResult;
@@ -83,21 +84,19 @@ export class LiveReadout {
   private async loop(engine: ReadoutEngine, index: number): Promise<void> {
     const now = this.o.now ?? (() => performance.now());
     const sleep = this.o.sleep ?? ((ms: number) => new Promise<void>((r) => setTimeout(r, ms)));
-    const key = `live-frame-${index}`;
     while (this.running) {
       const grabbedAt = now();
       let frame: GrabbedFrame | null;
       try { frame = await this.o.grab(); } catch (e) { frame = null; this.report((e as Error).message); }
       if (!frame) { await sleep(8); continue; }
+      // A camera holds only a few frames: one not sent on must be let go at once.
+      if (!this.running) { frame.source.close(); break; }
       try {
-        const bytes = frameTiff(frame.rgba, frame.width, frame.height);
-        const buffer = bytes.buffer.byteLength === bytes.length ? bytes.buffer as ArrayBuffer : bytes.slice().buffer as ArrayBuffer;
-        const summary = await engine.decode({ key, name: 'camera frame', bytes: async () => buffer });
-        summary.picture.levels.forEach((b) => b.close?.());
         const s = this.o.settings();
-        const reply = await engine.call('orient', {
-          key, options: { sigmaPx: s.sigmaPx, weighting: s.weighting, replicates: s.replicates, ...(frame.plan.region ? { region: frame.plan.region } : {}) },
-        });
+        const reply = await engine.call('orientFrame', {
+          frame: frame.source, plan: frame.plan,
+          options: { sigmaPx: s.sigmaPx, weighting: s.weighting, replicates: s.replicates, ...(frame.plan.region ? { region: frame.plan.region } : {}) },
+        }, undefined, [frame.source]);
         const at = now();
         if (!this.running || grabbedAt <= this.shownGrab) { reply.colour.levels.forEach((b) => b.close?.()); continue; }
         this.shownGrab = grabbedAt;

@@ -13,9 +13,11 @@ import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
 import { isInputError } from '../../src/common/errors.ts';
 import { loadCv } from '../../src/cv/opencv.ts';
 import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
-import type { OrientationField } from '../../src/orientation/index.ts';
+import type { OrientationField, TileHelper } from '../../src/orientation/index.ts';
+import { helperOverPort, serveTilesOn } from './tilePort.ts';
 import { coherencyPicture, fieldGlyphs, fieldPictures, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
 import { retardanceRange } from './retardanceColours.ts';
+import { frameImage, type ReadoutPlan } from '../camera/frames.ts';
 import type { CommandName, CommandTable, ErrorInfo, OpticsReply, ProfileSource, Reply, Request, StepTimes } from './protocol.ts';
 
 const scope = self as unknown as DedicatedWorkerGlobalScope;
@@ -23,6 +25,8 @@ const images = new Map<string, Image>();
 const fields = new Map<string, { optionsKey: string; field: OrientationField }>();
 /** The last compensator field read for a channel profile, per image (`profile --source plate`). */
 const plateFields = new Map<string, { optionsKey: string; field: OrientationField }>();
+/** Other workers that compute tiles of this worker's texture fields (set by the page with `linkHelper`). */
+let tileHelpers: TileHelper[] = [];
 
 function post(reply: Reply, transfer: Transferable[] = []): void {
   scope.postMessage(reply, transfer);
@@ -40,6 +44,23 @@ function stepTimer(): { lap(name: string): void; times: StepTimes } {
   return { times, lap(name) { const t = performance.now(); times[name] = Math.round(t - last); last = t; } };
 }
 
+let frameCanvas: OffscreenCanvas | null = null;
+
+/** The planned part of a camera frame at the planned size, as RGBA; the frame is closed (the camera needs it back). */
+function framePixels(frame: VideoFrame | ImageBitmap, plan: ReadoutPlan): Uint8ClampedArray {
+  const { width, height, source: s } = plan;
+  try {
+    const c = (frameCanvas ??= new OffscreenCanvas(width, height));
+    if (c.width !== width || c.height !== height) { c.width = width; c.height = height; }
+    const g = c.getContext('2d', { willReadFrequently: true })!;
+    g.imageSmoothingQuality = 'medium';
+    g.drawImage(frame, s.x, s.y, s.w, s.h, 0, 0, width, height);
+    return g.getImageData(0, 0, width, height).data;
+  } finally {
+    frame.close();
+  }
+}
+
 function imageOf(key: string): Image {
   const img = images.get(key);
   if (!img) throw Object.assign(new Error('the worker no longer holds this image; it will be sent again'), { name: 'ImageMissing' });
@@ -55,7 +76,7 @@ async function textureField(key: string, options: OrientOptions, progress: Progr
   const cached = fields.get(key);
   if (cached && cached.optionsKey === optionsKey) return cached.field;
   progress('structure tensor', 0.2);
-  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined, replicates: 1 });
+  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined, replicates: 1 }, tileHelpers);
   fields.set(key, { optionsKey, field });
   return field;
 }
@@ -106,16 +127,29 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     const img = imageOf(key);
     const timer = stepTimer();
     progress('structure tensor and order', 0.1);
-    // Exactly what `retarda orient` runs, so the numbers shown equal the command line's.
-    const { result, field } = await analyseOrientation(img, options);
+    // Exactly what `retarda orient` runs, so the numbers shown equal the command line's (helpers change no bit).
+    let helperTiles = 0;
+    const counted = tileHelpers.map((h): TileHelper => (job) => h(job).then((px) => { helperTiles++; return px; }));
+    const { result, field } = await analyseOrientation(img, options, counted);
     timer.lap('structure tensor and order');
     fields.set(key, { optionsKey: textureKey(options), field });
     // The numbers go to the page now; the picture follows.
-    partial({ result, timesMs: { ...timer.times } });
+    partial({ result, timesMs: { ...timer.times }, helperTiles });
     progress('drawing the orientation map', 0.85);
     const colour = await orientationPicture(field);
     timer.lap('orientation picture');
-    return { value: { result, colour, timesMs: timer.times }, transfer: colour.levels };
+    return { value: { result, colour, timesMs: timer.times, helperTiles }, transfer: colour.levels };
+  },
+
+  async orientFrame({ frame, plan, options }) {
+    const timer = stepTimer();
+    const img = frameImage(framePixels(frame, plan), plan.width, plan.height);
+    timer.lap('frame pixels');
+    const { result, field } = await analyseOrientation(img, options);
+    timer.lap('structure tensor and order');
+    const colour = await orientationPicture(field);
+    timer.lap('orientation picture');
+    return { value: { result, colour, timesMs: timer.times, helperTiles: 0 }, transfer: colour.levels };
   },
 
   // Made only when the user asks to see them, from the field the orientation run left here.
@@ -187,6 +221,16 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     return { value: found, transfer: [] };
   },
 
+  async linkHelper({ port }) {
+    tileHelpers = [...tileHelpers, helperOverPort(port)];
+    return { value: { helpers: tileHelpers.length }, transfer: [] };
+  },
+
+  async serveTiles({ port }) {
+    serveTilesOn(port);
+    return { value: { serving: true }, transfer: [] };
+  },
+
   async forget({ key }) {
     const had = images.delete(key);
     fields.delete(key);
@@ -217,8 +261,24 @@ scope.onmessage = async (ev: MessageEvent<Request>) => {
   }
 };
 
+/**
+ * Runs the texture analysis and its picture once on a small made-up image, so the JavaScript engine has
+ * compiled the per-pixel loops before the user's first image: a cold first run is about twice as slow.
+ */
+async function warmUp(): Promise<void> {
+  const w = 384, h = 384, data = new Float32Array(w * h);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) data[y * w + x] = 0.5 + 0.4 * Math.sin((0.8 * x + 0.6 * y) / 2 + 0.002 * x * y);
+  const img: Image = { width: w, height: h, channels: 1, planes: [data], bitDepth: 32, encoding: 'linear', source: { name: 'warm-up' } };
+  // A few rounds: the engine's optimising compiler takes the hot loops only after they have run a few times.
+  for (let round = 0; round < 4; round++) {
+    const { field } = await analyseOrientation(img, { axisDeg: 0 });
+    const picture = await orientationPicture(field);
+    for (const b of picture.levels) b.close();
+  }
+}
+
 // Start opencv.js now, so the first analysis does not wait for it, and say whether it started.
 loadCv().then(
-  () => post({ id: -1, type: 'ready' }),
+  () => { post({ id: -1, type: 'ready' }); return warmUp().catch(() => undefined); },
   (e) => post({ id: -1, type: 'startFailed', error: errorInfo(e) }),
 );

@@ -27,13 +27,25 @@ interface Pending { resolve(v: unknown): void; reject(e: Error): void; progress?
 /** Source of the bytes of an image, so the client can send it again to a fresh worker. */
 export interface ImageSource { key: string; name: string; page?: number; bytes(): Promise<ArrayBuffer> }
 
+export interface ClientOptions {
+  /**
+   * Helper workers that compute tiles of large texture fields beside the analysing worker (one per
+   * spare core is enough). They start once the analysing worker is ready; the numbers are the same
+   * with or without them. Default 0.
+   */
+  tileHelpers?: number;
+}
+
 export class AnalysisClient {
   private worker: Worker | null = null;
   private readyPromise: Promise<void> | null = null;
   private nextId = 1;
   private pending = new Map<number, Pending>();
   private loaded = new Set<string>();
-  constructor(private readonly makeWorker: () => Worker) {}
+  private helpers: AnalysisClient[] = [];
+  /** Resolves with how many helpers the running worker has once they are linked (0 if none could start). */
+  helpersLinked: Promise<number> = Promise.resolve(0);
+  constructor(private readonly makeWorker: () => Worker, private readonly options: ClientOptions = {}) {}
 
   /** Resolves when the worker's opencv.js runtime has started; rejects with a readable message if it cannot. */
   ready(): Promise<void> {
@@ -61,10 +73,37 @@ export class AnalysisClient {
         this.worker?.terminate();
         this.worker = null;
         this.loaded.clear();
+        for (const h of this.helpers) h.dispose();
+        this.helpers = [];
       };
     });
     this.readyPromise.catch(() => undefined);
+    if (this.options.tileHelpers) this.helpersLinked = this.startHelpers(this.readyPromise, this.options.tileHelpers);
     return w;
+  }
+
+  /** Starts the helpers after the analysing worker (so they do not slow its start) and links each to it. */
+  private async startHelpers(ready: Promise<void>, count: number): Promise<number> {
+    try { await ready; } catch { return 0; }
+    const helpers = Array.from({ length: count }, () => new AnalysisClient(this.makeWorker));
+    this.helpers = helpers;
+    let linked = 0;
+    for (const h of helpers) {
+      try {
+        await h.ready();
+        // Stopped (cancel) while this helper was starting: it belongs to a worker that is gone.
+        if (this.helpers !== helpers) { h.dispose(); continue; }
+        const channel = new MessageChannel();
+        await h.call('serveTiles', { port: channel.port2 }, undefined, [channel.port2]);
+        await this.call('linkHelper', { port: channel.port1 }, undefined, [channel.port1]);
+        linked++;
+      } catch (e) {
+        // The analysis runs without this helper, only slower.
+        h.dispose();
+        console.warn(`a helper worker could not start: ${e instanceof Error ? e.message : String(e)}`);
+      }
+    }
+    return linked;
   }
 
   private settle(r: Reply): void {
@@ -129,6 +168,9 @@ export class AnalysisClient {
   /** Stops whatever is running: the worker is ended and a new one starts on the next call. */
   cancel(): void {
     if (!this.worker) return;
+    // Helpers may be in the middle of a tile of the stopped analysis: they go too, and start again with the next worker.
+    for (const h of this.helpers) h.dispose();
+    this.helpers = [];
     this.worker.terminate();
     this.worker = null;
     this.loaded.clear();

@@ -9,6 +9,7 @@ import type {
 } from '../../src/analyses/index.ts';
 import type { MatchSpace } from '../../src/optics/index.ts';
 import type { Channel } from '../../src/channel/index.ts';
+import type { ReadoutPlan } from '../camera/frames.ts';
 
 /** Which decoded image a command works on: the worker keeps decoded images by key. */
 export interface ImageRef { key: string }
@@ -38,7 +39,11 @@ export type StepTimes = Record<string, number>;
  * done), then the colour picture. The coherency picture and the line glyphs are made only when asked for
  * (`coherencyPicture`, `glyphs`), from the texture field the worker keeps.
  */
-export interface OrientNumbers { result: OrientResult; timesMs: StepTimes }
+export interface OrientNumbers {
+  result: OrientResult; timesMs: StepTimes;
+  /** Tiles of the field computed by helper workers (0 when the image was done by one worker). */
+  helperTiles: number;
+}
 
 export interface OrientReply extends OrientNumbers {
   /** Colour from the angle (cyclic map), opacity from the coherency. */
@@ -70,6 +75,11 @@ export type FourAngleSettings = Omit<FourAngleAnalysisOptions, 'plate' | 'flatFi
 export interface CommandTable {
   decode: { args: { key: string; name: string; bytes: ArrayBuffer; page?: number }; reply: DecodeSummary };
   orient: { args: ImageRef & { options: OrientOptions }; reply: OrientReply; partial: OrientNumbers };
+  /**
+   * The live readout: the orientation analysis of one camera frame (closed here once read), cropped and
+   * scaled as `plan` says, its pixels read as `frameImage` reads them. The frame is not kept.
+   */
+  orientFrame: { args: { frame: VideoFrame | ImageBitmap; plan: ReadoutPlan; options: OrientOptions }; reply: OrientReply };
   /** Coherency as grey (black 0, white 1) of the texture field for these options (remade if the worker lost it). */
   coherencyPicture: { args: ImageRef & { options: OrientOptions }; reply: { picture: Picture; timesMs: StepTimes } };
   /** Line glyphs of the texture field for these options. */
@@ -85,6 +95,10 @@ export interface CommandTable {
   /** The texture field of the image (the cached one when the options match) as the bytes --field-out writes. */
   fieldTiff: { args: ImageRef & { options: OrientOptions; description: string }; reply: { bytes: ArrayBuffer } };
   forget: { args: ImageRef; reply: { forgotten: boolean } };
+  /** Hands this worker one end of a channel to a helper worker that computes tiles of its texture fields. */
+  linkHelper: { args: { port: MessagePort }; reply: { helpers: number } };
+  /** Makes this worker a helper: it computes the tiles sent over the port (the other end went to `linkHelper`). */
+  serveTiles: { args: { port: MessagePort }; reply: { serving: boolean } };
 }
 
 export type CommandName = keyof CommandTable;

@@ -1,5 +1,5 @@
 import { toGrey, type Image } from '../image/types.ts';
-import { orientationField, type OrientationField, type OrientationFieldOptions } from '../orientation/index.ts';
+import { orientationField, type OrientationField, type OrientationFieldOptions, type TileHelper } from '../orientation/index.ts';
 import { orderParameters, type OrderOptions, type OrderSummary } from '../order/index.ts';
 import { rectMask, type Rect } from './region.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
@@ -25,9 +25,12 @@ export interface OrientResult extends ResultHead {
   options: Record<string, unknown>;
 }
 
-/** Texture orientation of one image: structure-tensor field, then whole-image (or region) order. */
-export async function analyseOrientation(img: Image, o: OrientOptions = {}): Promise<{ result: OrientResult; field: OrientationField }> {
-  const field = await orientationField(toGrey(img), o);
+/**
+ * Texture orientation of one image: structure-tensor field, then whole-image (or region) order.
+ * `helpers` (other workers) may share the field's tiles; the result is the same with or without them.
+ */
+export async function analyseOrientation(img: Image, o: OrientOptions = {}, helpers: readonly TileHelper[] = []): Promise<{ result: OrientResult; field: OrientationField }> {
+  const field = await orientationField(toGrey(img), o, helpers);
   field.pixelSizeUmPerPx = img.pixelSizeUmPerPx;
   const region = o.region ? rectMask(o.region, img.width, img.height) : undefined;
   const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx, replicates: o.replicates, seed: o.seed, region });

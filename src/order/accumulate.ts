@@ -5,14 +5,22 @@ export type Weighting = 'none' | 'confidence' | 'energy' | 'energy-confidence';
 export const WEIGHTINGS: Weighting[] = ['none', 'confidence', 'energy', 'energy-confidence'];
 
 export interface AccumulateOptions {
-  /** Per-pixel group (e.g. channel bin) or -1 to leave the pixel out. Length width*height. */
-  groups: Int32Array;
+  /**
+   * Per-pixel group (e.g. channel bin) or -1 to leave the pixel out. Length width*height. A region mask
+   * (1 = in group 0, 0 = out) or null (every pixel in group 0) is the one-group case without the table.
+   */
+  groups: Int32Array | { region: Uint8Array | null };
   groupCount: number;
   /** Reference axis in radians (CCW on screen): c, s are taken relative to it. */
   refRad: number;
   /** Side of the square blocks in px. */
   blockPx: number;
   weighting: Weighting;
+  /**
+   * One-group case only: filled with the number of usable pixels (mask and region) and the sum of their
+   * unweighted confidence, counted in the same pass (a 12 MP field is then read once, not twice).
+   */
+  tally?: { usable: number; confidenceSum: number };
 }
 
 /**
@@ -32,13 +40,35 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const sn = new Uint32Array(cols * G);
   const lists = Array.from({ length: G }, () => ({ w: [] as number[], wc: [] as number[], ws: [] as number[], n: [] as number[] }));
   const cr = Math.cos(2 * o.refRad), sr = Math.sin(2 * o.refRad);
-  const c2 = f.cos2, s2 = f.sin2, mask = f.mask, groups = o.groups, angle = f.angleRad;
+  const c2 = f.cos2, s2 = f.sin2, mask = f.mask, angle = f.angleRad;
+  const groups = o.groups instanceof Int32Array ? o.groups : null;
+  const region = o.groups instanceof Int32Array ? null : o.groups.region;
+  if (!groups && G !== 1) throw new Error('a region mask makes one group');
+  const confidence = f.confidence;
+  let usable = 0, confidenceSum = 0;
   const wConf = o.weighting === 'confidence' || o.weighting === 'energy-confidence' ? f.confidence : null;
   const wEnergy = (o.weighting === 'energy' || o.weighting === 'energy-confidence') && f.energy ? f.energy : null;
   for (let by = 0; by < height; by += B) {
     const yEnd = Math.min(height, by + B);
     for (let y = by; y < yEnd; y++) {
       const row = y * width;
+      if (!groups) {
+        // One group: no runs to track, only the mask (and region) to skip.
+        for (let bx = 0; bx < cols; bx++) {
+          let w = 0, wc = 0, ws = 0, n = 0;
+          for (let i = row + bx * B, end = row + Math.min(width, (bx + 1) * B); i < end; i++) {
+            if (!mask[i] || (region && !region[i])) continue;
+            usable++; confidenceSum += confidence[i];
+            const wi = (wConf ? wConf[i] : 1) * (wEnergy ? wEnergy[i] : 1);
+            if (!(wi > 0)) continue;
+            let c: number, s: number;
+            if (c2) { c = c2[i]; s = s2![i]; } else { const t = 2 * angle[i]; c = Math.cos(t); s = Math.sin(t); }
+            w += wi; wc += wi * c; ws += wi * s; n++;
+          }
+          if (n > 0) { sw[bx] += w; sc[bx] += wc; ss[bx] += ws; sn[bx] += n; }
+        }
+        continue;
+      }
       for (let bx = 0; bx < cols; bx++) {
         const xEnd = Math.min(width, (bx + 1) * B);
         let g = -1, w = 0, wc = 0, ws = 0, n = 0;
@@ -70,6 +100,7 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
       sn[k] = 0;
     }
   }
+  if (o.tally) { o.tally.usable = usable; o.tally.confidenceSum = confidenceSum; }
   return lists.map((L) => ({
     w: Float64Array.from(L.w), wc: Float64Array.from(L.wc), ws: Float64Array.from(L.ws), n: Uint32Array.from(L.n),
   }));

@@ -90,14 +90,9 @@ export function orderParameters(f: OrientationField, options: OrderOptions = {})
   if (options.axisDeg !== undefined) checkNumber('axis angle', options.axisDeg, -360, 360, 'deg');
   const n = f.width * f.height;
   if (options.region && options.region.length !== n) throw new InputError('region mask size does not match the field');
-  const groups = new Int32Array(n);
-  let cohSum = 0, cohN = 0;
-  for (let i = 0; i < n; i++) {
-    const inside = f.mask[i] && (!options.region || options.region[i]);
-    groups[i] = inside ? 0 : -1;
-    if (inside) { cohSum += f.confidence[i]; cohN++; }
-  }
-  const [free] = accumulateBlocks(f, { groups, groupCount: 1, refRad: 0, blockPx, weighting });
+  const groups = { region: options.region ?? null };
+  const tally = { usable: 0, confidenceSum: 0 };
+  const [free] = accumulateBlocks(f, { groups, groupCount: 1, refRad: 0, blockPx, weighting, tally });
   const m = totalMoments(free);
   const order2D = statFromBlocks(free, freeOrderOf, options);
   const directorDeg = m.w > 0 ? wrapAxialDeg(radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN;
@@ -111,7 +106,7 @@ export function orderParameters(f: OrientationField, options: OrderOptions = {})
   const nEff = Math.max(1, effectiveSamples(free));
   return {
     order2D, directorDeg, axisOrder, axisDeg: options.axisDeg ?? null,
-    coherencyMean: cohN > 0 ? cohSum / cohN : NaN,
+    coherencyMean: tally.usable > 0 ? tally.confidenceSum / tally.usable : NaN,
     isotropicBias: m.n > 0 ? Math.sqrt(Math.PI / (4 * nEff)) : NaN,
     n: m.n, blocks, blockPx, weighting,
   };

@@ -19,8 +19,14 @@ export const HALF_PI_F32 = 1.5707962513;
 
 export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
 
+/** The per-pixel arrays the structure tensor fills, on a grid `width` pixels wide. */
+export interface FieldPixels {
+  width: number;
+  angleRad: Float32Array; confidence: Float32Array; energy: Float32Array; cos2: Float32Array; sin2: Float32Array;
+}
+
 /** A texture field with all arrays allocated, ready for writeTensorPixels and finishTextureField. */
-export function emptyTextureField(width: number, height: number): OrientationField {
+export function emptyTextureField(width: number, height: number): OrientationField & FieldPixels {
   const n = width * height;
   return {
     width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n), mask: new Uint8Array(n),
@@ -36,9 +42,8 @@ export function emptyTextureField(width: number, height: number): OrientationFie
  * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
  * tutorial); energy = Jxx + Jyy.
  */
-export function writeTensorPixels(f: OrientationField, t: TensorField, r: TileRect, origin: { x: number; y: number }): void {
-  const { angleRad, confidence } = f;
-  const energy = f.energy!, cos2 = f.cos2!, sin2 = f.sin2!;
+export function writeTensorPixels(f: FieldPixels, t: TensorField, r: TileRect, origin: { x: number; y: number }): void {
+  const { angleRad, confidence, energy, cos2, sin2 } = f;
   const { jxx, jxy, jyy } = t;
   for (let y = r.y0; y < r.y1; y++) {
     let j = (y - origin.y) * t.width + (r.x0 - origin.x);
@@ -48,7 +53,7 @@ export function writeTensorPixels(f: OrientationField, t: TensorField, r: TileRe
       const root = Math.sqrt(d * d + b2 * b2);
       energy[i] = e;
       // (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root: no trigonometry needed for order parameters.
-      if (root > 0) { cos2[i] = d / root; sin2[i] = b2 / root; } else { cos2[i] = 1; sin2[i] = 0; }
+      if (root > 0) { const inv = 1 / root; cos2[i] = d * inv; sin2[i] = b2 * inv; } else { cos2[i] = 1; sin2[i] = 0; }
       // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
       const half = 0.5 * fastAtan2(b2, d);
       angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
@@ -74,9 +79,10 @@ export function finishTextureField(f: OrientationField, options: MaskOptions, ex
   const energy = f.energy!, confidence = f.confidence, mask = f.mask;
   // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
   const floor = Math.max(o.energyFloor * quantile(energy, 0.99), (1e-5 * intensityScale) ** 2);
+  const coherencyMin = o.coherencyMin;
   let masked = 0;
   for (let i = 0; i < n; i++) {
-    const ok = energy[i] > floor && confidence[i] >= o.coherencyMin;
+    const ok = energy[i] > floor && confidence[i] >= coherencyMin;
     mask[i] = ok ? 1 : 0;
     if (!ok) masked++;
   }

@@ -7,3 +7,5 @@ export { resolveMaskOptions, MASK_DEFAULTS } from './fieldFromTensor.ts';
 export { orientationField } from './orientationField.ts';
 export type { OrientationFieldOptions } from './orientationField.ts';
 export { foldMod90, mod90Axis } from './fold.ts';
+export { tilePixels, writeTexturePixels } from './tileShare.ts';
+export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';

@@ -3,20 +3,27 @@ import type { Plane } from '../common/plane.ts';
 /**
  * NaN and infinite pixels (float TIFFs can hold them) would spread through every filter. They are
  * replaced by the mean of the finite pixels before filtering; the caller masks them and everything
- * within the filters' reach afterwards (`dilate`). Returns the plane unchanged when all are finite.
+ * within the filters' reach afterwards (`dilate`). Returns the plane unchanged when all are finite,
+ * and the largest |value| of the finite pixels (the image's intensity scale) found in the same pass.
  */
-export function fillNonFinite(p: Plane): { plane: Plane; bad: Uint8Array | null; count: number } {
+export function fillNonFinite(p: Plane): { plane: Plane; bad: Uint8Array | null; count: number; largest: number } {
   const d = p.data;
-  let count = 0, sum = 0;
-  for (let i = 0; i < d.length; i++) if (Number.isFinite(d[i])) sum += d[i]; else count++;
-  if (count === 0) return { plane: p, bad: null, count: 0 };
+  let count = 0, largest = 0;
+  for (let i = 0; i < d.length; i++) {
+    const a = Math.abs(d[i]);
+    // NaN fails both tests; infinity only the first.
+    if (a < Infinity) { if (a > largest) largest = a; } else count++;
+  }
+  if (count === 0) return { plane: p, bad: null, count: 0, largest };
+  let sum = 0;
+  for (let i = 0; i < d.length; i++) if (Number.isFinite(d[i])) sum += d[i];
   const fill = count < d.length ? sum / (d.length - count) : 0;
   const bad = new Uint8Array(d.length), data = new Float32Array(d.length);
   for (let i = 0; i < d.length; i++) {
     if (Number.isFinite(d[i])) data[i] = d[i];
     else { data[i] = fill; bad[i] = 1; }
   }
-  return { plane: { width: p.width, height: p.height, data }, bad, count };
+  return { plane: { width: p.width, height: p.height, data }, bad, count, largest };
 }
 
 /** Marks every pixel within a square of half-side r around a marked pixel (two sweeps per axis). */

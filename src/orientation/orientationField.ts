@@ -1,26 +1,25 @@
 import type { Plane } from '../common/plane.ts';
-import { forEachTensorTile, resolveTensorOptions, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
+import { resolveTensorOptions, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
+import { writeTexturePixels, type TileHelper } from './tileShare.ts';
 import { dilate, fillNonFinite } from './nonFinite.ts';
-import { emptyTextureField, finishTextureField, resolveMaskOptions, writeTensorPixels, type MaskOptions } from './fieldFromTensor.ts';
+import { emptyTextureField, finishTextureField, resolveMaskOptions, type MaskOptions } from './fieldFromTensor.ts';
 import type { OrientationField } from './types.ts';
 
 export type OrientationFieldOptions = StructureTensorOptions & MaskOptions;
 
 /**
  * Texture orientation field of a grey plane: structure tensor, then angle, coherency, energy and mask.
- * Tiles are turned into field pixels as they come, so no full-size tensor is ever held.
+ * Tiles are turned into field pixels as they come, so no full-size tensor is ever held. `helpers`
+ * (other workers) may compute some of the tiles; the field is the same with or without them.
  */
-export async function orientationField(input: Plane, options: OrientationFieldOptions = {}): Promise<OrientationField> {
+export async function orientationField(input: Plane, options: OrientationFieldOptions = {}, helpers: readonly TileHelper[] = []): Promise<OrientationField> {
   const t = resolveTensorOptions(options);
   resolveMaskOptions(options);
-  const { plane: clean, bad, count } = fillNonFinite(input);
+  const { plane: clean, bad, count, largest } = fillNonFinite(input);
   const f = emptyTextureField(clean.width, clean.height);
-  await forEachTensorTile(clean, t, (tensor, inner, origin) => writeTensorPixels(f, tensor, inner, origin));
-  let scale = 0;
-  const d = clean.data;
-  for (let i = 0; i < d.length; i++) { const a = Math.abs(d[i]); if (a > scale) scale = a; }
+  await writeTexturePixels(clean, t, f, helpers);
   const sigmaDerivPx = t.derivative === 'sobel' ? null : t.sigmaDerivPx;
-  finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx, derivative: t.derivative }, scale);
+  finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx, derivative: t.derivative }, largest);
   if (bad) {
     // The filled pixels and everything the filters carried them to are not measurements.
     const reach = dilate(bad, f.width, f.height, tensorHaloPx(t));

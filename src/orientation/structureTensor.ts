@@ -1,6 +1,6 @@
 import { InputError, checkNumber } from '../common/errors.ts';
 import { withDefaults } from '../common/options.ts';
-import { cropPlane, planTiles } from '../image/tiles.ts';
+import { cropPlane, planTiles, type Tile } from '../image/tiles.ts';
 import type { Plane } from '../common/plane.ts';
 import { loadCv, cvError, type CV } from '../cv/opencv.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
@@ -61,16 +61,32 @@ export async function forEachTensorTile(
 ): Promise<void> {
   const o = resolveTensorOptions(options);
   const cv = await loadCv();
-  const { width, height } = plane;
-  if (width * height <= o.tilePixels) {
-    use(tensorOnce(cv, plane, o), { x0: 0, y0: 0, x1: width, y1: height }, { x: 0, y: 0 });
+  const tiles = tensorTiles(plane.width, plane.height, o);
+  if (tiles.length === 1) {
+    use(tensorOnce(cv, plane, o), innerRect(tiles[0]), { x: 0, y: 0 });
     return;
   }
+  for (const t of tiles) use(tensorOnce(cv, cropPlane(plane, t), o), innerRect(t), { x: t.x, y: t.y });
+}
+
+/**
+ * The tiles forEachTensorTile visits: one for an image of at most tilePixels, else square tiles with the
+ * tensor's halo. Whoever computes a tile from its crop gets the same numbers, which is what lets the
+ * tiles of one image be shared between workers (orientationField's helpers).
+ */
+export function tensorTiles(width: number, height: number, o: Required<StructureTensorOptions>): Tile[] {
+  if (width * height <= o.tilePixels) return [{ x: 0, y: 0, w: width, h: height, innerX: 0, innerY: 0, innerW: width, innerH: height }];
   const halo = tensorHaloPx(o);
   const inner = Math.max(64, Math.floor(Math.sqrt(o.tilePixels)) - 2 * halo);
-  for (const t of planTiles(width, height, inner, halo)) {
-    use(tensorOnce(cv, cropPlane(plane, t), o), { x0: t.innerX, y0: t.innerY, x1: t.innerX + t.innerW, y1: t.innerY + t.innerH }, { x: t.x, y: t.y });
-  }
+  return planTiles(width, height, inner, halo);
+}
+
+/** A tile's inner part in image pixels. */
+export const innerRect = (t: Tile): TileRect => ({ x0: t.innerX, y0: t.innerY, x1: t.innerX + t.innerW, y1: t.innerY + t.innerH });
+
+/** The tensor of one plane (a tile's crop, or a whole image that needs no tiles). */
+export async function tensorOfPlane(plane: Plane, o: Required<StructureTensorOptions>): Promise<TensorField> {
+  return tensorOnce(await loadCv(), plane, o);
 }
 
 /**

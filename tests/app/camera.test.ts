@@ -1,8 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { defaultStep, frameTiff, planReadout, RateMeter, readoutHaloPx, sizeSteps } from '../../app/camera/frames.ts';
+import { defaultStep, frameImage, planReadout, RateMeter, readoutHaloPx, sizeSteps } from '../../app/camera/frames.ts';
 import { LiveReadout, type ReadoutEngine } from '../../app/camera/liveReadout.ts';
 import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
-import { decodeImage, makeImage, toGrey } from '../../src/image/index.ts';
+import { encode } from 'fast-png';
+import { decodeImage, toGrey } from '../../src/image/index.ts';
 import type { OrientResult } from '../../src/analyses/index.ts';
 
 describe('planReadout', () => {
@@ -53,21 +54,22 @@ describe('readout sizes', () => {
   });
 });
 
-describe('frameTiff', () => {
-  it('gives a float TIFF whose grey plane equals toGrey of the same pixels as an 8-bit RGB image', () => {
+describe('frameImage', () => {
+  it('gives a grey plane equal to toGrey of the same pixels read as an 8-bit RGB PNG', () => {
     const w = 5, h = 3, rgba = new Uint8ClampedArray(w * h * 4);
     for (let i = 0; i < w * h; i++) rgba.set([i * 10, 255 - i * 7, (i * 37) % 256, 255], 4 * i);
-    const img = decodeImage(frameTiff(rgba, w, h), 'frame.tif');
-    expect([img.width, img.height, img.channels, img.bitDepth]).toEqual([5, 3, 1, 32]);
-    const planes = [0, 1, 2].map((c) => Float32Array.from({ length: w * h }, (_, i) => rgba[4 * i + c] / 255));
-    const rgb = makeImage({ width: w, height: h, channels: 3, planes, bitDepth: 8, encoding: 'srgb', source: { name: 'rgb' } });
+    const img = frameImage(rgba, w, h);
+    expect([img.width, img.height, img.channels]).toEqual([5, 3, 1]);
+    // The frame saved as a PNG (fast-png) and read by the app's decoder: what the command line reads.
+    const rgb = Uint8Array.from({ length: w * h * 3 }, (_, k) => rgba[4 * Math.floor(k / 3) + (k % 3)]);
+    const png = decodeImage(encode({ width: w, height: h, data: rgb, channels: 3, depth: 8 }), 'frame.png');
+    expect(Array.from(img.planes[0])).toEqual(Array.from(toGrey(png).data));
     // Rec. 709 luma, ITU-R BT.709 item 3.2: 0.2126 R + 0.7152 G + 0.0722 B
-    expect(Array.from(img.planes[0])).toEqual(Array.from(toGrey(rgb).data));
     expect(img.planes[0][1]).toBeCloseTo(0.2126 * 10 / 255 + 0.7152 * 248 / 255 + 0.0722 * 37 / 255, 6);
   });
 
   it('refuses pixels that do not match the size', () => {
-    expect(() => frameTiff(new Uint8ClampedArray(10), 2, 2)).toThrow(/needs 16/);
+    expect(() => frameImage(new Uint8ClampedArray(10), 2, 2)).toThrow(/needs 16/);
   });
 });
 
@@ -123,7 +125,6 @@ describe('LiveReadout', () => {
       return {
         ready: async () => undefined,
         dispose: () => undefined,
-        decode: (async () => ({ picture: { levels: [] } })) as unknown as ReadoutEngine['decode'],
         call: (async (_cmd: string, args: { key: string }) => {
           calls.push({ engine: e, frame: frameNo });
           await wait(d[k++ % d.length]);
@@ -142,7 +143,7 @@ describe('LiveReadout', () => {
     const plan = { source: { x: 0, y: 0, w: 2, h: 2 }, width: 2, height: 2, step: 1, region: null };
     const live = new LiveReadout({
       engines: f.engines,
-      grab: async () => { f.nextFrame(); return { rgba: new Uint8ClampedArray(16), width: 2, height: 2, plan }; },
+      grab: async () => { f.nextFrame(); return { source: { close: () => undefined } as unknown as VideoFrame, plan }; },
       settings: () => ({ sigmaPx: 2, weighting: 'confidence', replicates: 10 }),
       onReading: (r) => shown.push({ worker: r.worker, grabbedAt: r.grabbedAt }),
       onError: (m) => { throw new Error(m); },

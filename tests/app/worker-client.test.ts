@@ -102,3 +102,64 @@ describe('AnalysisClient', () => {
     await expect(ready).rejects.toThrow('the analysis engine could not start: opencv.js did not start within 60 s');
   });
 });
+
+describe('AnalysisClient with tile helpers', () => {
+  function setupWithHelpers(n: number) {
+    const workers: FakeWorker[] = [];
+    const client = new AnalysisClient(() => { const w = new FakeWorker(); workers.push(w); return w as unknown as Worker; }, { tileHelpers: n });
+    return { client, workers };
+  }
+  /** Answers the newest posted request of worker w as done. */
+  const answer = (w: FakeWorker, value: unknown) => { const { id } = w.posted[w.posted.length - 1].msg; w.reply({ id, type: 'done', value }); };
+  const tick = () => new Promise((r) => setTimeout(r, 0));
+
+  it('starts the helpers only once the analysing worker is ready, then links each with its own channel', async () => {
+    const { client, workers } = setupWithHelpers(1);
+    void client.ready();
+    await tick();
+    expect(workers).toHaveLength(1);
+    workers[0].reply({ id: -1, type: 'ready' });
+    await tick();
+    expect(workers).toHaveLength(2);
+    workers[1].reply({ id: -1, type: 'ready' });
+    await tick();
+    const serve = workers[1].posted[0];
+    expect(serve.msg.command).toBe('serveTiles');
+    expect(serve.transfer).toHaveLength(1);
+    answer(workers[1], { serving: true });
+    await tick();
+    const link = workers[0].posted[0];
+    expect(link.msg.command).toBe('linkHelper');
+    // The two ends of one channel: the helper's port is not the analysing worker's.
+    expect(link.transfer[0]).not.toBe(serve.transfer[0]);
+    answer(workers[0], { helpers: 1 });
+    await expect(client.helpersLinked).resolves.toBe(1);
+    for (const t of [...serve.transfer, ...link.transfer]) (t as MessagePort).close();
+  });
+
+  it('a helper that cannot start leaves the analysis to run alone', async () => {
+    const { client, workers } = setupWithHelpers(1);
+    void client.ready();
+    workers[0].reply({ id: -1, type: 'ready' });
+    await tick();
+    workers[1].reply({ id: -1, type: 'startFailed', error: { name: 'Error', message: 'no memory', hint: '' } });
+    await expect(client.helpersLinked).resolves.toBe(0);
+    expect(workers[1].terminated).toBe(true);
+    expect(workers[0].posted).toHaveLength(0);
+  });
+
+  it('cancel stops the helpers with the analysing worker', async () => {
+    const { client, workers } = setupWithHelpers(1);
+    void client.ready();
+    workers[0].reply({ id: -1, type: 'ready' });
+    await tick();
+    workers[1].reply({ id: -1, type: 'ready' });
+    await tick();
+    answer(workers[1], { serving: true });
+    await tick();
+    answer(workers[0], { helpers: 1 });
+    await client.helpersLinked;
+    client.cancel();
+    expect(workers[0].terminated && workers[1].terminated).toBe(true);
+  });
+});

@@ -5,7 +5,7 @@
  * Builds the app, serves the build with vite preview on a free localhost port and drives Debian's
  * chromium (/usr/bin/chromium) through playwright-core, then prints:
  *   1. time to bring in and to analyse a 12-megapixel image in the browser (orientation analysis): click to
- *      numbers, click to the colour map, the worker's own step times, and the first view of the coherency
+ *      numbers (timed in the page, click event to the frame after they appear), click to the colour map, the worker's own step times, and the first view of the coherency
  *      picture and the line glyphs (made only when asked for),
  *   2. long tasks (> 50 ms) on the page's main thread during that analysis (PerformanceObserver 'longtask'),
  *   3. live readout readings per second and latency at 1280 x 720 from chromium's fake camera
@@ -54,6 +54,23 @@ const LONG_TASK_OBSERVER = () => {
     new PerformanceObserver((list) => { for (const e of list.getEntries()) w.__longTasks.push({ start: e.startTime, duration: e.duration }); })
       .observe({ type: 'longtask', buffered: true });
   } catch { /* longtask timing not supported */ }
+};
+
+/**
+ * In the page: time from the next click to the first frame drawn after `selector` appears, in
+ * window.__shownMs (click event and animation-frame times on the page's own clock).
+ */
+const WATCH_FOR_NUMBERS = (selector: string) => {
+  const w = window as unknown as { __shownMs?: number };
+  delete w.__shownMs;
+  let clickAt = 0;
+  document.addEventListener('click', () => { clickAt = performance.now(); }, { capture: true, once: true });
+  const seen = new MutationObserver(() => {
+    if (!clickAt || !document.querySelector(selector)) return;
+    seen.disconnect();
+    requestAnimationFrame(() => { w.__shownMs = performance.now() - clickAt; });
+  });
+  seen.observe(document.body, { childList: true, subtree: true, characterData: true });
 };
 
 const ms = (v: number) => `${v.toFixed(0)} ms`;
@@ -123,10 +140,13 @@ async function main(): Promise<void> {
     await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 120_000 });
     const broughtIn = Date.now() - t0;
     const startMark = await page.evaluate(() => performance.now());
+    await page.evaluate(WATCH_FOR_NUMBERS, '[data-testid="director"]');
     const t1 = Date.now();
     await page.getByRole('button', { name: 'Analyse orientation' }).click();
     await page.getByTestId('director').waitFor({ timeout: 180_000 });
-    const analysed = Date.now() - t1;
+    const seenByDriver = Date.now() - t1;
+    // Timed in the page: the driver notices a change only when it next polls, often hundreds of ms late.
+    const analysed = await page.waitForFunction(() => (window as unknown as { __shownMs?: number }).__shownMs, undefined, { timeout: 10_000 }).then((h) => h.jsonValue() as Promise<number>);
     await page.locator('.viewer[data-overlay="colour"]').waitFor({ timeout: 60_000 });
     await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
     const shownAll = Date.now() - t1;
@@ -144,7 +164,8 @@ async function main(): Promise<void> {
     await page.getByRole('button', { name: 'orientation', exact: true }).click();
     console.log('\n12-megapixel image (4000 x 3000, 8-bit grey PNG):');
     console.log(`  bring in (read, decode in the worker, picture): ${ms(broughtIn)}`);
-    console.log(`  orientation analysis, click to numbers shown:   ${ms(analysed)} (to the map drawn and progress gone: ${ms(shownAll)})`);
+    console.log(`  orientation analysis, click to numbers shown:   ${ms(analysed)} (timed in the page, to the next frame; the test driver saw them after ${ms(seenByDriver)})`);
+    console.log(`  click to the map drawn and progress gone:       ${ms(shownAll)} (as the test driver saw it)`);
     console.log(`  in the worker:                                  ${steps.map(([k, v]) => `${k} ${ms(v)}`).join('; ')}`);
     console.log(`  first view of, click to drawn:                  ${lazy.join('; ')}`);
     console.log(`  main-thread long tasks (> 50 ms) during it:      ${tasks.length}${tasks.length ? `, longest ${ms(Math.max(...tasks.map((t) => t.duration)))}, total ${ms(tasks.reduce((s, t) => s + t.duration, 0))}` : ''}`);

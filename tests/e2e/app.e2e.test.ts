@@ -243,6 +243,31 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     await page.getByTestId('director').waitFor({ timeout: 30_000 });
   }, 60_000);
 
+  it('an image large enough to be shared between the workers shows the same numbers as analyseOrientation in Node', async () => {
+    // 1.5 MP: above the size from which tiles go to the helper worker (SHARE_MIN_PIXELS).
+    const w = 1500, h = 1000, data = new Uint8Array(w * h);
+    for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+      const a = 0.5 + 0.3 * Math.sin(x / 400), across = -x * Math.sin(a) + y * Math.cos(a);
+      data[y * w + x] = Math.round(128 + 90 * Math.sin(across / 1.4) + 20 * Math.sin(x * 7.1 + y * 3.3));
+    }
+    const largePath = join(OUT, 'e2e-large.png');
+    writeFileSync(largePath, encode({ width: w, height: h, data, channels: 1, depth: 8 }));
+    await expect.poll(() => page.locator('.engine').getAttribute('data-helpers'), { timeout: 30_000 }).not.toBe('0');
+    await page.getByTestId('file-input').setInputFiles(largePath);
+    await expect.poll(() => text('image-facts'), { timeout: 30_000 }).toContain('1500 × 1000 px');
+    await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 });
+    await page.getByRole('button', { name: 'Analyse orientation' }).click();
+    await page.getByText('Orientation analysis done.').waitFor({ timeout: 60_000 });
+    expect(Number(await page.getByTestId('orient-section').getAttribute('data-helper-tiles'))).toBeGreaterThan(0);
+    const { result } = await analyseOrientation(decodeImage(new Uint8Array(readFileSync(largePath)), 'e2e-large.png'), { sigmaPx: 2, weighting: 'confidence' });
+    expect(await text('director')).toBe(formatCell(result.directorDeg));
+    expect(await text('order2d')).toBe(formatCell(result.order2D));
+    expect(await text('coherency')).toBe(formatCell(result.coherencyMean));
+    expect(await text('n')).toBe(formatCell(result.n));
+    await page.locator('.images li button', { hasText: 'e2e-channel.png' }).click();
+    await page.getByTestId('director').waitFor({ timeout: 30_000 });
+  }, 120_000);
+
   it('works offline: with the network off and the server stopped, a reload still analyses', async () => {
     await page.waitForFunction(() => navigator.serviceWorker?.controller !== null, undefined, { timeout: 30_000 });
     const director = await text('director');
@@ -269,7 +294,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
       document.querySelector('.app')!.dispatchEvent(new DragEvent('drop', { dataTransfer: dt, bubbles: true, cancelable: true }));
     }, b64);
     await page.locator('.images li', { hasText: 'dropped.png' }).waitFor({ timeout: 20_000 });
-    expect(await page.locator('.images li').count()).toBe(4);
+    expect(await page.locator('.images li').count()).toBe(5);
     await page.setViewportSize({ width: 1024, height: 768 });
     await page.getByTestId('image-facts').waitFor({ timeout: 20_000 });
     await shot('10-tablet');

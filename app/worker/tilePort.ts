@@ -1,0 +1,47 @@
+/**
+ * Tiles of a texture field shared between two analysis workers over a MessagePort the page set up:
+ * the worker running the analysis sends tile jobs, a helper worker computes them (src/orientation's
+ * tilePixels, the same code) and sends the pixels back. Buffers are transferred, not copied.
+ */
+import { tilePixels, type TileHelper, type TileJob, type TilePixels } from '../../src/orientation/index.ts';
+
+type TileRequest = { id: number; job: TileJob };
+type TileAnswer = { id: number; pixels: TilePixels } | { id: number; error: string };
+
+/** A tile takes well under a second; an answer this late means the helper is gone, and its tile is done here. */
+const ANSWER_WITHIN_MS = 20_000;
+
+const buffersOf = (px: TilePixels): ArrayBuffer[] => [px.angleRad, px.confidence, px.energy, px.cos2, px.sin2].map((a) => a.buffer as ArrayBuffer);
+
+/** The analysing worker's side: a TileHelper that sends each job over the port. */
+export function helperOverPort(port: MessagePort): TileHelper {
+  let nextId = 1;
+  const pending = new Map<number, { resolve(px: TilePixels): void; reject(e: Error): void; timer: ReturnType<typeof setTimeout> }>();
+  port.onmessage = (ev: MessageEvent<TileAnswer>) => {
+    const p = pending.get(ev.data.id);
+    if (!p) return;
+    pending.delete(ev.data.id);
+    clearTimeout(p.timer);
+    if ('pixels' in ev.data) p.resolve(ev.data.pixels); else p.reject(new Error(ev.data.error));
+  };
+  return (job) => new Promise<TilePixels>((resolve, reject) => {
+    const id = nextId++;
+    const timer = setTimeout(() => { pending.delete(id); reject(new Error('the helper worker did not answer')); }, ANSWER_WITHIN_MS);
+    pending.set(id, { resolve, reject, timer });
+    const request: TileRequest = { id, job };
+    port.postMessage(request, [job.crop.data.buffer as ArrayBuffer]);
+  });
+}
+
+/** The helper worker's side: computes every job that comes over the port, one at a time, in order. */
+export function serveTilesOn(port: MessagePort): void {
+  port.onmessage = async (ev: MessageEvent<TileRequest>) => {
+    const { id, job } = ev.data;
+    try {
+      const pixels = await tilePixels(job);
+      port.postMessage({ id, pixels } satisfies TileAnswer, buffersOf(pixels));
+    } catch (e) {
+      port.postMessage({ id, error: e instanceof Error ? e.message : String(e) } satisfies TileAnswer);
+    }
+  };
+}

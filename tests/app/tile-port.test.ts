@@ -1,0 +1,29 @@
+import { describe, expect, it } from 'vitest';
+import { MessageChannel as NodeChannel } from 'node:worker_threads';
+import { helperOverPort, serveTilesOn } from '../../app/worker/tilePort.ts';
+import { orientationField } from '../../src/orientation/index.ts';
+import { addNoise, rings } from '../support/synthetic.ts';
+
+// The two ends of the app's tile channel, over a real message channel (structured cloning and transfer as
+// between workers): the field must be the same, bit for bit, as computing every tile in one place.
+describe('tile sharing over a message port', () => {
+  it('gives the field computed without a helper, and the jobs did go through the port', async () => {
+    const channel = new NodeChannel();
+    let served = 0;
+    const counting = channel.port2 as unknown as MessagePort;
+    serveTilesOn(counting);
+    const serve = counting.onmessage!;
+    (counting as unknown as { onmessage: unknown }).onmessage = (ev: MessageEvent) => { served++; return serve.call(counting, ev); };
+    const plane = addNoise(rings(1100, 960, 500, 430, 8), 0.2, 5);
+    const options = { sigmaPx: 2 };
+    try {
+      const shared = await orientationField(plane, options, [helperOverPort(channel.port1 as unknown as MessagePort)]);
+      const alone = await orientationField(plane, options);
+      expect(served).toBeGreaterThan(0);
+      for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
+    } finally {
+      channel.port1.close();
+      channel.port2.close();
+    }
+  });
+});
