@@ -5,7 +5,7 @@
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Channel } from '../src/channel/index.ts';
 import { AnalysisClient, CancelledError, type ImageSource } from './worker/client.ts';
-import type { DecodeSummary, Glyph, Picture, StepTimes } from './worker/protocol.ts';
+import type { DecodeSummary, Glyph, OpticalViewName, Picture, StepTimes } from './worker/protocol.ts';
 import {
   BackupError, browserKeyValue, createSaver, createSessionStore, createSetupStore, exportBackup, importBackup,
   type AnalysisSettings, type SessionRecord, type SessionSummary,
@@ -252,7 +252,9 @@ export function App() {
   useEffect(() => {
     const before = lastOptical.current;
     lastOptical.current = optical;
-    if (before && before !== optical) for (const l of [before.colour, before.confidence, before.retardance]) l?.levels.forEach((b) => b.close());
+    // A view made later gives a new object with the same pictures: only pictures no longer shown are closed.
+    const kept = [optical?.colour, optical?.confidence, optical?.retardance];
+    if (before && before !== optical) for (const l of [before.colour, before.confidence, before.retardance]) if (l && !kept.includes(l)) l.levels.forEach((b) => b.close());
   }, [optical]);
 
   const settings = session?.settings;
@@ -345,6 +347,29 @@ export function App() {
     })();
     return () => { stop = true; };
   }, [session?.activeImageId]); // eslint-disable-line react-hooks/exhaustive-deps
+
+  // An optical reading's confidence, retardance and line glyphs are made the first time they are shown.
+  useEffect(() => {
+    const o = showOptical ? opticalHere : null;
+    if (!o) return;
+    const view: OpticalViewName | null = mode === 'coherency' && !o.confidence ? 'confidence' : mode === 'glyphs' && !o.glyphs ? 'glyphs'
+      : mode === 'retardance' && !o.retardance && o.retardanceRangeNm ? 'retardance' : null;
+    if (!view) return;
+    const job = `optical:${view}:${o.viewKey}`;
+    if (making.current.has(job)) return;
+    making.current.add(job);
+    (async () => {
+      try {
+        const r = await client.call('opticalView', { key: o.viewKey, view }, progress(view === 'glyphs' ? 'Line glyphs' : `${view[0].toUpperCase()}${view.slice(1)} picture`));
+        const layer = r.picture ? await layerOf(r.picture) : null;
+        // Still the same reading (a new one has other colour bitmaps)?
+        setOptical((cur) => {
+          if (!cur || cur.colour !== o.colour) { layer?.levels.forEach((b) => b.close()); return cur; }
+          return view === 'glyphs' ? { ...cur, glyphs: r.glyphs } : view === 'confidence' ? { ...cur, confidence: layer } : { ...cur, retardance: layer };
+        });
+      } catch (e) { report(e, view === 'glyphs' ? 'Line glyphs' : `${view} picture`); } finally { making.current.delete(job); setBusy(null); }
+    })();
+  }, [mode, showOptical, opticalHere, client, progress, report]);
 
   // The coherency picture and the line glyphs are made the first time they are shown.
   useEffect(() => {
@@ -630,7 +655,7 @@ export function App() {
             <div className="toolbar" role="toolbar" aria-label="View">
               <span className="group">
                 Show:
-                {(['none', 'colour', 'coherency', 'glyphs', ...(showOptical && opticalHere!.retardance ? ['retardance'] : [])] as OverlayMode[]).map((m, i) => (
+                {(['none', 'colour', 'coherency', 'glyphs', ...(showOptical && opticalHere!.retardanceRangeNm ? ['retardance'] : [])] as OverlayMode[]).map((m, i) => (
                   <button key={m} className={mode === m ? 'on' : ''} aria-pressed={mode === m} onClick={() => setMode(m)} title={m === 'retardance' ? 'Retardance map (colour bar in the reading panel)' : `Shortcut: ${i + 1}`}>
                     {m === 'none' ? 'image' : m === 'colour' ? 'orientation' : m === 'coherency' ? (showOptical ? 'confidence' : 'coherency') : m === 'retardance' ? 'retardance' : 'lines'}
                   </button>
@@ -663,7 +688,7 @@ export function App() {
               <Viewer
                 handle={viewer} image={shown.image} imageWidth={shown.summary.width} imageHeight={shown.summary.height}
                 colour={showOptical ? opticalHere!.colour : shown.colour} coherency={showOptical ? opticalHere!.confidence : shown.coherency}
-                glyphs={showOptical ? opticalHere!.glyphs : shown.glyphs ?? []} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
+                glyphs={(showOptical ? opticalHere!.glyphs : shown.glyphs) ?? []} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
                 marks={marks && marks.imageId === active.id ? marks.marks : keptMarks}
                 walls={walls} stations={stationLines} drawing={drawing}
                 onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}

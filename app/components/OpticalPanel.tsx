@@ -27,11 +27,15 @@ export interface OpticalField {
   imageId: string;
   /** What made it, in plain words. */
   label: string;
+  /** The worker key its field is kept under (the reading's first image), for `opticalView`. */
+  viewKey: string;
   colour: Layer;
-  confidence: Layer;
+  /** Made when first shown (the worker's `opticalView`); null until then. */
+  confidence: Layer | null;
   retardance: Layer | null;
+  /** Null when the reading gives no retardance. */
   retardanceRangeNm: [number, number] | null;
-  glyphs: Glyph[];
+  glyphs: Glyph[] | null;
   /** The channel profile on this field: the command line and the run, so the profile panel needs to know nothing else. */
   profile: { commandLine(req: ProfileRequest, wallsText: string | null): string; run(req: ProfileRequest, progress: ProgressFn): Promise<ProfileResult> };
 }
@@ -133,6 +137,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
     let job: (p: ProgressFn) => Promise<OpticsReply>;
     let cli: string;
     let profile: OpticalField['profile'];
+    let viewKey = active.id;
     try {
       const summary = { axisDeg: num(s.axisDeg, 'Reference axis') };
       if (kind === 'plate') {
@@ -165,6 +170,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
       } else {
         const keys = quadKeys;
         if (keys.some((k) => !k)) throw new Error('Choose an image for every angle');
+        viewKey = keys[0];
         const anglesDeg = s.quadAngles.map((a, k) => num(a, `Angle ${k + 1}`) ?? NaN);
         if (anglesDeg.some((a) => !Number.isFinite(a))) throw new Error('Give an angle for every image');
         const options = { ...trainOf(s), ...summary, anglesDeg, plateBackground: rectOf(s.quadPlateBackground, 'Sample-free area of the compensator image') };
@@ -196,8 +202,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
     onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm, form: s });
     onField({
       imageId, label: kind === 'plate' ? 'compensator colour' : kind === 'plate2' ? 'two compensator images' : 'crossed polars, several angles',
-      colour: layerOf(reply.colour), confidence: layerOf(reply.confidence), retardance: reply.retardance ? layerOf(reply.retardance) : null,
-      retardanceRangeNm: reply.retardanceRangeNm, glyphs: reply.glyphs, profile,
+      viewKey, colour: layerOf(reply.colour), confidence: null, retardance: null, retardanceRangeNm: reply.retardanceRangeNm, glyphs: null, profile,
     });
   }
 

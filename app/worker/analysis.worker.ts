@@ -15,7 +15,7 @@ import { loadCv } from '../../src/cv/opencv.ts';
 import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
 import type { OrientationField, TileHelper } from '../../src/orientation/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
-import { coherencyPicture, fieldGlyphs, fieldPictures, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
+import { coherencyPicture, fieldGlyphs, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
 import { retardanceRange } from './retardanceColours.ts';
 import { frameImage, type ReadoutPlan } from '../camera/frames.ts';
 import type { CommandName, CommandTable, ErrorInfo, OpticsReply, ProfileSource, Reply, Request, StepTimes } from './protocol.ts';
@@ -25,6 +25,8 @@ const images = new Map<string, Image>();
 const fields = new Map<string, { optionsKey: string; field: OrientationField }>();
 /** The last compensator field read for a channel profile, per image (`profile --source plate`). */
 const plateFields = new Map<string, { optionsKey: string; field: OrientationField }>();
+/** The last optical reading's field, under the key of its first image (for the views made on demand). */
+const opticalFields = new Map<string, OrientationField>();
 /** Other workers that compute tiles of this worker's texture fields (set by the page with `linkHelper`). */
 let tileHelpers: TileHelper[] = [];
 
@@ -92,18 +94,18 @@ function plateFieldFor(key: string, source: Extract<ProfileSource, { kind: 'plat
   return field;
 }
 
-/** Pictures of an optical field to go with its result; the bitmaps are transferred. */
-async function opticsReply(a: OpticsAnalysis, progress: Progress): Promise<{ value: OpticsReply; transfer: Transferable[] }> {
-  progress('drawing the maps', 0.85);
-  const { colour, coherency: confidence } = await fieldPictures(a.field, 'full');
-  const range = a.field.retardanceNm ? retardanceRange(a.field.retardanceNm, a.field.mask) : null;
-  const retardance = range ? await retardancePicture(a.field, range) : null;
-  const glyphs = fieldGlyphs(a.field);
-  return {
-    value: { result: a.result, colour, confidence, retardance, retardanceRangeNm: range, glyphs },
-    transfer: [...colour.levels, ...confidence.levels, ...(retardance?.levels ?? [])],
-  };
+/**
+ * An optical reading's result with its orientation picture (bitmaps transferred). The field is kept under
+ * the key of the reading's first image, so its other views are made only when asked for (`opticalView`).
+ */
+async function opticsReply(key: string, a: OpticsAnalysis, progress: Progress): Promise<{ value: OpticsReply; transfer: Transferable[] }> {
+  opticalFields.set(key, a.field);
+  progress('drawing the map', 0.85);
+  const colour = await orientationPicture(a.field, 'full');
+  return { value: { result: a.result, colour, retardanceRangeNm: retardanceRangeOf(a.field) }, transfer: colour.levels };
 }
+
+const retardanceRangeOf = (f: OrientationField) => (f.retardanceNm ? retardanceRange(f.retardanceNm, f.mask) : null);
 
 const handlers: { [K in CommandName]: Handler<K> } = {
   async decode({ key, name, bytes, page }, progress) {
@@ -112,6 +114,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     images.set(key, img);
     fields.delete(key);
     plateFields.delete(key);
+    opticalFields.delete(key);
     progress('making the picture', 0.8);
     const { picture, note } = await imagePicture(img);
     return {
@@ -183,18 +186,35 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   // Each optical command runs exactly the analysis its `retarda` subcommand runs.
   async plate({ key, options }, progress) {
     progress(options.resolveMirror ? 'reading the colours and the texture' : 'reading the compensator colours', 0.1);
-    return opticsReply(await analysePlate(imageOf(key), options), progress);
+    return opticsReply(key, await analysePlate(imageOf(key), options), progress);
   },
 
   async plate2({ key, keyB, options }, progress) {
     progress('reading both compensator images', 0.1);
-    return opticsReply(await analysePlatePair(imageOf(key), imageOf(keyB), options), progress);
+    return opticsReply(key, await analysePlatePair(imageOf(key), imageOf(keyB), options), progress);
   },
 
   async quad({ keys, plateKey, options }, progress) {
     progress('fitting the angle series', 0.1);
     const a = await analyseFourAngle(keys.map(imageOf), { ...options, plate: plateKey ? imageOf(plateKey) : undefined });
-    return opticsReply(a, progress);
+    return opticsReply(keys[0], a, progress);
+  },
+
+  async opticalView({ key, view }, progress) {
+    const field = opticalFields.get(key);
+    if (!field) throw Object.assign(new Error('the reading\'s field is no longer held (the analysis engine was restarted): run the reading again'), { name: 'FieldMissing' });
+    const timer = stepTimer();
+    progress(`drawing the ${view === 'glyphs' ? 'line glyphs' : view}`, 0.5);
+    if (view === 'glyphs') {
+      const glyphs = fieldGlyphs(field);
+      timer.lap('line glyphs');
+      return { value: { picture: null, glyphs, timesMs: timer.times }, transfer: [] };
+    }
+    const range = retardanceRangeOf(field);
+    const picture = view === 'confidence' ? await coherencyPicture(field) : range ? await retardancePicture(field, range) : null;
+    if (!picture) throw new Error('this reading gives no retardance');
+    timer.lap(`${view} picture`);
+    return { value: { picture, glyphs: null, timesMs: timer.times }, transfer: picture.levels };
   },
 
   async diameter({ key, options }, progress) {
@@ -235,6 +255,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     const had = images.delete(key);
     fields.delete(key);
     plateFields.delete(key);
+    opticalFields.delete(key);
     return { value: { forgotten: had }, transfer: [] };
   },
 };

@@ -107,23 +107,26 @@ export async function fieldPictures(f: OrientationField, opacity: 'confidence' |
 /**
  * Line glyphs on a grid of about `across` cells over the longer side: each is the free director of
  * its cell (half the argument of the confidence-weighted mean of exp(2i theta)) and that mean's length.
+ * A cell drawn needs at least `minUsable` of its pixels usable: a few stray pixels in a masked area
+ * (sample-free background, say) would otherwise draw a confident-looking line there.
  */
-export function fieldGlyphs(f: OrientationField, across = 40): Glyph[] {
+export function fieldGlyphs(f: OrientationField, across = 40, minUsable = 0.25): Glyph[] {
   const cell = Math.max(4, Math.round(Math.max(f.width, f.height) / across));
   const glyphs: Glyph[] = [];
   for (let y0 = 0; y0 + cell <= f.height; y0 += cell) {
     for (let x0 = 0; x0 + cell <= f.width; x0 += cell) {
-      let c = 0, s = 0, w = 0;
+      let c = 0, s = 0, w = 0, usable = 0;
       for (let y = y0; y < y0 + cell; y++) for (let x = x0; x < x0 + cell; x++) {
         const i = y * f.width + x;
         if (!f.mask[i]) continue;
+        usable++;
         const wi = f.confidence[i];
         // The texture reader gives cos 2theta and sin 2theta directly; other readers only the angle.
         c += wi * (f.cos2 ? f.cos2[i] : Math.cos(2 * f.angleRad[i]));
         s += wi * (f.sin2 ? f.sin2[i] : Math.sin(2 * f.angleRad[i]));
         w += wi;
       }
-      if (w <= 0) continue;
+      if (w <= 0 || usable < minUsable * cell * cell) continue;
       glyphs.push({ x: x0 + cell / 2 - 0.5, y: y0 + cell / 2 - 0.5, angleDeg: (Math.atan2(s, c) / 2) * (180 / Math.PI), coherency: Math.hypot(c, s) / w });
     }
   }

@@ -50,19 +50,20 @@ export interface OrientReply extends OrientNumbers {
   colour: Picture;
 }
 
-/** An optical reading (plate, plate pair, four-angle set) with the pictures of its field. */
+/**
+ * An optical reading (plate, plate pair, four-angle set) with the orientation picture of its field; its
+ * confidence, retardance and line glyphs are made when first shown (`opticalView`).
+ */
 export interface OpticsReply {
   result: OpticsResult;
-  /** Orientation colour (cyclic map), opacity from the confidence. */
+  /** Orientation colour (cyclic map), opacity full on every usable pixel. */
   colour: Picture;
-  /** Confidence as grey (black 0, white 1). */
-  confidence: Picture;
-  /** Retardance colour picture (retardanceColourTable over rangeNm), when the reader gives retardance. */
-  retardance: Picture | null;
-  /** Colour-bar range of the retardance picture, nm. */
+  /** Colour-bar range of the retardance picture, nm; null when the reader gives no retardance. */
   retardanceRangeNm: [number, number] | null;
-  glyphs: Glyph[];
 }
+
+/** The views of an optical field made on demand. */
+export type OpticalViewName = 'confidence' | 'retardance' | 'glyphs';
 
 /** Which orientation field a channel profile uses: the texture field, or one compensator image (`profile --source plate`). */
 export type ProfileSource =
@@ -88,6 +89,11 @@ export interface CommandTable {
   plate: { args: ImageRef & { options: PlateOptions }; reply: OpticsReply };
   plate2: { args: ImageRef & { keyB: string; options: PlatePairAnalysisOptions }; reply: OpticsReply };
   quad: { args: { keys: string[]; plateKey?: string; options: FourAngleSettings }; reply: OpticsReply };
+  /**
+   * A view of the last optical reading made with this image first: confidence as grey (black 0, white 1),
+   * retardance colours (retardanceColourTable over its range), or line glyphs.
+   */
+  opticalView: { args: ImageRef & { view: OpticalViewName }; reply: { picture: Picture | null; glyphs: Glyph[] | null; timesMs: StepTimes } };
   diameter: { args: ImageRef & { options: DiameterAnalysisOptions }; reply: DiameterDocument };
   micrometer: { args: ImageRef & { options: MicrometerAnalysisOptions }; reply: MicrometerDocument };
   fibreNumbers: { args: { request: FibreNumbersRequest }; reply: FibreNumbersResult };

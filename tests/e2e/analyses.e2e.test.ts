@@ -118,11 +118,17 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('optics-ambiguity')).toContain('mirror image about the compensator axis');
     expect(await text('optics-cli')).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 10`);
 
+    // The retardance, confidence and line views of the reading are made when first shown.
     await page.getByRole('button', { name: 'retardance', exact: true }).click();
     await page.getByLabel(/Retardance colour scale/).waitFor({ timeout: 5_000 });
+    await page.locator('.viewer[data-overlay="retardance"]').waitFor({ timeout: 30_000 });
     await shot('22-plate-retardance-map');
     await page.getByRole('button', { name: 'confidence', exact: true }).click();
+    await page.locator('.viewer[data-overlay="coherency"]').waitFor({ timeout: 30_000 });
     await shot('23-plate-confidence');
+    await page.getByRole('button', { name: 'lines', exact: true }).click();
+    await page.locator('.viewer[data-overlay="glyphs"]').waitFor({ timeout: 30_000 });
+    await shot('23b-plate-lines');
     await page.getByRole('button', { name: 'orientation', exact: true }).click();
   }, 180_000);
 
