@@ -78,23 +78,25 @@ export class AnalysisClient {
       };
     });
     this.readyPromise.catch(() => undefined);
-    if (this.options.tileHelpers) this.helpersLinked = this.startHelpers(this.readyPromise, this.options.tileHelpers);
+    if (this.options.tileHelpers) this.helpersLinked = this.startHelpers(w, this.readyPromise, this.options.tileHelpers);
     return w;
   }
 
-  /** Starts the helpers after the analysing worker (so they do not slow its start) and links each to it. */
-  private async startHelpers(ready: Promise<void>, count: number): Promise<number> {
+  /** Starts the helpers after the analysing worker `w` (so they do not slow its start) and links each to it. */
+  private async startHelpers(w: Worker, ready: Promise<void>, count: number): Promise<number> {
     try { await ready; } catch { return 0; }
     const helpers = Array.from({ length: count }, () => new AnalysisClient(this.makeWorker));
     this.helpers = helpers;
+    // Stopped (cancel) while the helpers were starting: they belong to a worker that is gone.
+    const gone = () => this.worker !== w;
     let linked = 0;
     for (const h of helpers) {
       try {
         await h.ready();
-        // Stopped (cancel) while this helper was starting: it belongs to a worker that is gone.
-        if (this.helpers !== helpers) { h.dispose(); continue; }
+        if (gone()) { h.dispose(); continue; }
         const channel = new MessageChannel();
         await h.call('serveTiles', { port: channel.port2 }, undefined, [channel.port2]);
+        if (gone()) { h.dispose(); continue; }
         await this.call('linkHelper', { port: channel.port1 }, undefined, [channel.port1]);
         linked++;
       } catch (e) {

@@ -163,3 +163,24 @@ describe('AnalysisClient with tile helpers', () => {
     expect(workers[0].terminated && workers[1].terminated).toBe(true);
   });
 });
+
+describe('AnalysisClient: a stop while a helper is being linked', () => {
+  it('does not link the stopped worker\'s helper to the next worker', async () => {
+    const workers: FakeWorker[] = [];
+    const client = new AnalysisClient(() => { const w = new FakeWorker(); workers.push(w); return w as unknown as Worker; }, { tileHelpers: 1 });
+    const tick = () => new Promise((r) => setTimeout(r, 0));
+    void client.ready();
+    workers[0].reply({ id: -1, type: 'ready' });
+    await tick();
+    workers[1].reply({ id: -1, type: 'ready' });
+    await tick();
+    // The helper was asked to serve tiles; the user stops before it answers.
+    client.cancel();
+    const { id } = workers[1].posted[0].msg;
+    workers[1].reply({ id, type: 'done', value: { serving: true } });
+    await expect(client.helpersLinked).resolves.toBe(0);
+    // No new worker was started to take the old helper's port.
+    expect(workers).toHaveLength(2);
+    expect(workers[0].posted.filter((p) => p.msg.command === 'linkHelper')).toHaveLength(0);
+  });
+});
