@@ -4,7 +4,7 @@
  */
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Channel } from '../src/channel/index.ts';
-import { AnalysisClient, CancelledError, type ImageSource } from './worker/client.ts';
+import { AnalysisClient, tileHelperCount, CancelledError, type ImageSource } from './worker/client.ts';
 import type { DecodeSummary, Glyph, OpticalViewName, Picture, StepTimes } from './worker/protocol.ts';
 import {
   BackupError, browserKeyValue, createSaver, createSessionStore, createSetupStore, exportBackup, importBackup,
@@ -71,9 +71,9 @@ const sessionName = () => `Session ${new Date().toLocaleString(undefined, { date
 export function App() {
   const store = useMemo(() => createSessionStore(browserKeyValue()), []);
   const setupStore = useMemo(() => createSetupStore(browserKeyValue()), []);
-  // One helper per spare core (at most three) shares the tiles of large images; each holds its own opencv.js.
+  // Helpers (one per spare core, or as `?workers=N` says) share the tiles of large images; each holds its own opencv.js.
   const client = useMemo(() => new AnalysisClient(() => new Worker(new URL('./worker/analysis.worker.ts', import.meta.url), { type: 'module', name: 'analysis' }),
-    { tileHelpers: Math.max(0, Math.min(3, (navigator.hardwareConcurrency || 2) - 1)) }), []);
+    { tileHelpers: tileHelperCount(location.search, navigator.hardwareConcurrency || 2) }), []);
   const [session, setSession] = useState<SessionRecord | null>(null);
   const sessionRef = useRef<SessionRecord | null>(null);
   const [listing, setListing] = useState<{ sessions: SessionSummary[]; asideCount: number }>({ sessions: [], asideCount: 0 });

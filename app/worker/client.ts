@@ -36,6 +36,21 @@ export interface ClientOptions {
   tileHelpers?: number;
 }
 
+/** Most analysis workers one image is shared between (each holds its own opencv.js heap). */
+export const MAX_WORKERS = 4;
+
+/**
+ * Helper workers for this device: one per spare core, at most MAX_WORKERS - 1; the page address can set the
+ * total with `?workers=N` (1 to MAX_WORKERS), e.g. `?workers=1` on a tablet short of memory. Anything else
+ * there is ignored.
+ */
+export function tileHelperCount(search: string, cores: number): number {
+  const asked = new URLSearchParams(search).get('workers');
+  const n = asked !== null && /^\d+$/.test(asked) ? Number(asked) : NaN;
+  const workers = n >= 1 && n <= MAX_WORKERS ? n : Math.min(MAX_WORKERS, Math.max(1, Math.floor(cores) || 1));
+  return workers - 1;
+}
+
 export class AnalysisClient {
   private worker: Worker | null = null;
   private readyPromise: Promise<void> | null = null;

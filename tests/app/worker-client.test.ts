@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { AnalysisClient, AnalysisError, CancelledError } from '../../app/worker/client.ts';
+import { AnalysisClient, AnalysisError, CancelledError, tileHelperCount } from '../../app/worker/client.ts';
 import type { Reply, Request } from '../../app/worker/protocol.ts';
 
 /** A stand-in for a Worker: records what the page posts and lets the test answer as the worker would. */
@@ -182,5 +182,17 @@ describe('AnalysisClient: a stop while a helper is being linked', () => {
     // No new worker was started to take the old helper's port.
     expect(workers).toHaveLength(2);
     expect(workers[0].posted.filter((p) => p.msg.command === 'linkHelper')).toHaveLength(0);
+  });
+});
+
+describe('tileHelperCount', () => {
+  it('gives one helper per spare core, at most three, and follows ?workers=N from 1 to 4', () => {
+    expect(tileHelperCount('', 2)).toBe(1);
+    expect(tileHelperCount('', 1)).toBe(0);
+    expect(tileHelperCount('', 16)).toBe(3);
+    expect(tileHelperCount('?workers=1', 8)).toBe(0);
+    expect(tileHelperCount('?demo=1&workers=3', 2)).toBe(2);
+    // nonsense is ignored, not obeyed
+    for (const q of ['?workers=0', '?workers=9', '?workers=two', '?workers=1.5', '?workers=-1']) expect(tileHelperCount(q, 2)).toBe(1);
   });
 });
