@@ -115,10 +115,13 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     await page.getByText('Live readout of the rectangle').waitFor({ timeout: 5_000 });
     const before = Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
     await expect.poll(async () => Number(await page.getByTestId('live-readout').getAttribute('data-readings')), { timeout: 20_000 }).toBeGreaterThan(before + 2);
-    // The analysed picture is the rectangle plus the tensor's halo: smaller than the whole frame.
-    const [w, h] = (await text('live-basis')).match(/Analysed at (\d+) × (\d+)/)!.slice(1).map(Number);
+    // The analysed picture is the rectangle plus the tensor's halo: smaller than the whole frame (readings of
+    // frames grabbed before the rectangle was drawn may still be arriving, so wait for the first of the new ones).
     const [fw, fh] = (await text('camera-size')).match(/(\d+) × (\d+)/)!.slice(1).map(Number);
-    expect(w * h).toBeLessThan((fw * fh) / 4);
+    await expect.poll(async () => {
+      const [w, h] = (await text('live-basis')).match(/Analysed at (\d+) × (\d+)/)!.slice(1).map(Number);
+      return w * h;
+    }, { timeout: 20_000 }).toBeLessThan((fw * fh) / 4);
     await page.getByLabel('orientation colours').check();
     await page.waitForTimeout(600);
     await shot('21-camera-rectangle');
