@@ -6,8 +6,8 @@ export const WEIGHTINGS: Weighting[] = ['none', 'confidence', 'energy', 'energy-
 
 export interface AccumulateOptions {
   /**
-   * Per-pixel group (e.g. channel bin) or -1 to leave the pixel out. Length width*height. A region mask
-   * (1 = in group 0, 0 = out) or null (every pixel in group 0) is the one-group case without the table.
+   * Per-pixel group (e.g. channel bin) or -1 to leave the pixel out. Length width*height. `{ region }` is the
+   * one-group case without the table: group 0 is every pixel, or those where the region mask is 1.
    */
   groups: Int32Array | { region: Uint8Array | null };
   groupCount: number;

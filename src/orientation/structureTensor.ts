@@ -61,13 +61,11 @@ export async function forEachTensorTile(
 ): Promise<void> {
   const o = resolveTensorOptions(options);
   const cv = await loadCv();
-  const tiles = tensorTiles(plane.width, plane.height, o);
-  if (tiles.length === 1) {
-    use(tensorOnce(cv, plane, o), innerRect(tiles[0]), { x: 0, y: 0 });
-    return;
-  }
-  for (const t of tiles) use(tensorOnce(cv, cropPlane(plane, t), o), innerRect(t), { x: t.x, y: t.y });
+  for (const t of tensorTiles(plane.width, plane.height, o)) use(tensorOnce(cv, tileCrop(plane, t), o), innerRect(t), { x: t.x, y: t.y });
 }
+
+/** The pixels a tile's tensor is computed from; an image that fits in one tile is its own crop. */
+export const tileCrop = (plane: Plane, t: Tile): Plane => (t.w === plane.width && t.h === plane.height ? plane : cropPlane(plane, t));
 
 /**
  * The tiles forEachTensorTile visits: one for an image of at most tilePixels, else square tiles with the

@@ -1,6 +1,6 @@
 import type { Plane } from '../common/plane.ts';
 import { cropPlane } from '../image/tiles.ts';
-import { innerRect, tensorOfPlane, tensorTiles, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
+import { innerRect, tensorOfPlane, tensorTiles, tileCrop, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
 import { writeTensorPixels, type FieldPixels } from './fieldFromTensor.ts';
 
 /**
@@ -54,9 +54,7 @@ export async function writeTexturePixels(
   const queue = tensorTiles(plane.width, plane.height, plan).sort((a, b) => b.innerW * b.innerH - a.innerW * a.innerH);
   const here = async () => {
     for (let tile = queue.shift(); tile; tile = queue.shift()) {
-      // An image that fits in one tile is its own crop.
-      const crop = tile.w === plane.width && tile.h === plane.height ? plane : cropPlane(plane, tile);
-      writeTensorPixels(f, await tensorOfPlane(crop, o), innerRect(tile), { x: tile.x, y: tile.y });
+      writeTensorPixels(f, await tensorOfPlane(tileCrop(plane, tile), o), innerRect(tile), { x: tile.x, y: tile.y });
       // Lets helper replies in, so their next tiles go out before this thread starts another.
       if (sharing) await nextTurn();
     }
