@@ -23,6 +23,7 @@ import type { Mark } from './components/Viewer.tsx';
 import { stationDrawing } from './components/stationMarks.ts';
 import type { ProgressFn } from './worker/client.ts';
 import { CameraView } from './camera/CameraView.tsx';
+import { ScreenGuard } from './components/ScreenGuard.tsx';
 import { SetupsPanel } from './setups/SetupsPanel.tsx';
 import { CompareView } from './compare/CompareView.tsx';
 import { ViewExports } from './export/ViewExports.tsx';
@@ -610,10 +611,14 @@ export function App() {
       )}
 
       {screen === 'compare' ? (
-        <CompareView store={store} current={session} onError={(m) => say('error', m)} onClose={() => setScreen('images')} />
+        <ScreenGuard key="compare" screen="comparison" onBack={() => setScreen('images')}>
+          <CompareView store={store} current={session} onError={(m) => say('error', m)} onClose={() => setScreen('images')} />
+        </ScreenGuard>
       ) : screen === 'camera' ? (
-        <CameraView sigmaPx={settings?.sigmaPx ?? 2} weighting={settings?.weighting ?? 'confidence'}
-          onKeep={(file) => addFiles([file])} onClose={() => setScreen('images')} />
+        <ScreenGuard key="camera" screen="camera" onBack={() => setScreen('images')}>
+          <CameraView sigmaPx={settings?.sigmaPx ?? 2} weighting={settings?.weighting ?? 'confidence'}
+            onKeep={(file) => addFiles([file])} onClose={() => setScreen('images')} />
+        </ScreenGuard>
       ) : !active ? (
         <main className="welcome">
           <section className="drop-target">
@@ -635,6 +640,7 @@ export function App() {
           <SampleCaution />
         </main>
       ) : (
+        <ScreenGuard key="images" screen="images">
         <main className="work">
           <aside className="images" aria-label="Images in this session">
             <h2>Images</h2>
@@ -775,6 +781,7 @@ export function App() {
             <ResultCaution />
           </aside>
         </main>
+        </ScreenGuard>
       )}
 
       {busy && (

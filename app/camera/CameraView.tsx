@@ -65,6 +65,8 @@ export function CameraView(p: Props) {
   settingsRef.current = { sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES };
   const planInputs = useRef({ step, rect });
   planInputs.current = { step, rect };
+  /** Readings replaced by a newer one, whose pictures are closed once the newer one is on screen. */
+  const retired = useRef<LiveReading[]>([]);
   const lastReading = useRef<LiveReading | null>(null);
   /** Counts frames the camera delivered, so the same frame is never analysed twice. */
   const frameSerial = useRef({ delivered: 0, grabbed: -1 });
@@ -140,9 +142,9 @@ export function CameraView(p: Props) {
     grab,
     settings: () => settingsRef.current,
     onReading: (r) => {
-      const before = lastReading.current;
+      // The replaced reading may still be the one React is about to draw: it is closed after the next draw.
+      if (lastReading.current) retired.current.push(lastReading.current);
       lastReading.current = r;
-      before?.colour.levels.forEach((b) => b.close());
       setReading(r);
       setReadingCount((n) => n + 1);
       setReadoutError('');
@@ -150,7 +152,11 @@ export function CameraView(p: Props) {
     onError: (m) => setReadoutError(m),
   }), [grab]);
 
-  useEffect(() => () => { readout.dispose(); lastReading.current?.colour.levels.forEach((b) => b.close()); }, [readout]);
+  useEffect(() => () => {
+    readout.dispose();
+    for (const x of [...retired.current, lastReading.current]) x?.colour.levels.forEach((b) => b.close());
+    retired.current = [];
+  }, [readout]);
 
   useEffect(() => {
     if (!stream || !live || frozen) { void readout.stop(); return; }
@@ -160,6 +166,9 @@ export function CameraView(p: Props) {
 
   // Overlay: the chosen rectangle, the director as a bar, and optionally the orientation colours.
   useEffect(() => {
+    const r = reading;
+    // Pictures of readings older than the one drawn now are no longer needed.
+    retired.current = retired.current.filter((x) => { if (x === r) return true; x.colour.levels.forEach((b) => b.close()); return false; });
     const c = overlay.current, v = video.current;
     if (!c || !v) return;
     const cw = c.clientWidth, ch = c.clientHeight, dpr = window.devicePixelRatio || 1;
@@ -170,8 +179,7 @@ export function CameraView(p: Props) {
     g.clearRect(0, 0, cw, ch);
     if (!frameSize.w || frozen) return;
     const { k, ox, oy } = fitOf(frameSize.w, frameSize.h, cw, ch);
-    const r = reading;
-    if (r && showColours && r.colour.levels[0]) {
+    if (r && showColours && r.colour.levels[0]?.width) {
       g.globalAlpha = 0.65;
       const s = r.plan.source;
       g.drawImage(r.colour.levels[0], ox + s.x * k, oy + s.y * k, s.w * k, s.h * k);

@@ -100,11 +100,13 @@ export function Viewer(p: Props) {
     g.fillStyle = '#1d1f22'; g.fillRect(0, 0, size.w, size.h);
     const drawLayer = (l: Layer | null, alpha: number) => {
       if (!l) return;
-      g.globalAlpha = alpha;
-      g.imageSmoothingEnabled = view.scale < 1;
       // Coarsest level that still has at least one picture pixel per device pixel.
       const devicePerPicture = view.scale * l.scale * dpr;
       const level = Math.max(0, Math.min(l.levels.length - 1, Math.floor(Math.log2(1 / devicePerPicture))));
+      // A picture replaced a moment ago may already be closed (width 0): skip it until the new one is drawn.
+      if (!l.levels[level].width) return;
+      g.globalAlpha = alpha;
+      g.imageSmoothingEnabled = view.scale < 1;
       g.drawImage(l.levels[level], view.tx, view.ty, l.width * l.scale * view.scale, l.height * l.scale * view.scale);
       g.globalAlpha = 1;
     };
