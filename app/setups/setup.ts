@@ -6,6 +6,7 @@ import { isInputError } from '../../src/common/errors.ts';
 import { umPerPxFromOptics } from '../../src/calibrate/optics.ts';
 import { resolveTrain, type OpticalTrain } from '../../src/optics/train.ts';
 import { parseIlluminant } from '../../src/optics/spectrum.ts';
+import { keySet, withUnknown } from '../storage/unknownKeys.ts';
 
 /** Version of stored set-up records; bump when a field changes meaning and add the upgrade in restoreSetup. */
 export const SETUP_SCHEMA_VERSION = 1;
@@ -132,6 +133,16 @@ export type RestoredSetup = { ok: true; value: SetupRecord; notes: string[] } | 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const num = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
+// The keys this version reads at each level; restore keeps any other key as it was (app/storage/unknownKeys.ts).
+const SETUP_KEYS = keySet<SetupRecord>({
+  schemaVersion: true, kind: true, id: true, name: true, createdAt: true, updatedAt: true, train: true, pixelSize: true, sampleSign: true, notes: true,
+});
+const TRAIN_KEYS = keySet<TrainSettings>({ polariserDeg: true, analyserDeg: true, compensator: true, illuminant: true });
+const COMPENSATOR_KEYS = keySet<NonNullable<TrainSettings['compensator']>>({ kind: true, retardanceNm: true, axisDeg: true });
+/** Every key of every kind of pixel-size source. */
+const PIXEL_SIZE_KEYS: ReadonlySet<string> = new Set(['source', 'cameraPixelUm', 'objectiveMagnification', 'intermediateMagnification', 'binning', 'pixelSizeUmPerPx', 'from']);
+const APPLIED_KEYS = keySet<AppliedSetup>({ setupId: true, name: true, appliedAt: true, train: true, pixelSize: true, sampleSign: true });
+
 function restoreTrain(raw: unknown, notes: string[]): TrainSettings {
   const t = structuredClone(DEFAULT_TRAIN_SETTINGS);
   if (!isObj(raw)) { notes.push('the optical train was unreadable; defaults used'); return t; }
@@ -144,24 +155,24 @@ function restoreTrain(raw: unknown, notes: string[]): TrainSettings {
   else if (isObj(raw.compensator)) {
     const c = raw.compensator;
     if ((c.kind === 'full-wave' || c.kind === 'quarter-wave') && num(c.retardanceNm) && c.retardanceNm >= 1 && c.retardanceNm <= 5000 && num(c.axisDeg) && Math.abs(c.axisDeg) <= 360) {
-      t.compensator = { kind: c.kind, retardanceNm: c.retardanceNm, axisDeg: c.axisDeg };
+      t.compensator = withUnknown<NonNullable<TrainSettings['compensator']>>(c, COMPENSATOR_KEYS, { kind: c.kind, retardanceNm: c.retardanceNm, axisDeg: c.axisDeg });
     } else notes.push('the compensator was unreadable; the default full-wave plate was used');
   }
   if (typeof raw.illuminant === 'string') {
     try { parseIlluminant(raw.illuminant); t.illuminant = raw.illuminant; } catch { notes.push(`illuminant "${raw.illuminant}" is not known; 3200K used`); }
   }
-  return t;
+  return withUnknown(raw, TRAIN_KEYS, t);
 }
 
 function restorePixelSize(raw: unknown, notes: string[]): PixelSizeSource {
-  if (!isObj(raw) || raw.source === 'none' || raw.source === undefined) return { source: 'none' };
+  if (!isObj(raw) || raw.source === 'none' || raw.source === undefined) return withUnknown<PixelSizeSource>(raw, PIXEL_SIZE_KEYS, { source: 'none' });
   let p: PixelSizeSource | null = null;
   if (raw.source === 'optics' && num(raw.cameraPixelUm) && num(raw.objectiveMagnification)) {
     p = { source: 'optics', cameraPixelUm: raw.cameraPixelUm, objectiveMagnification: raw.objectiveMagnification, intermediateMagnification: num(raw.intermediateMagnification) ? raw.intermediateMagnification : 1, binning: num(raw.binning) ? raw.binning : 1 };
   } else if (raw.source === 'typed' && num(raw.pixelSizeUmPerPx)) p = { source: 'typed', pixelSizeUmPerPx: raw.pixelSizeUmPerPx };
   else if (raw.source === 'measured' && num(raw.pixelSizeUmPerPx)) p = { source: 'measured', pixelSizeUmPerPx: raw.pixelSizeUmPerPx, from: typeof raw.from === 'string' ? raw.from : '' };
   if (p) {
-    try { setupPixelSizeUmPerPx(p); return p; } catch { /* reported below */ }
+    try { setupPixelSizeUmPerPx(p); return withUnknown(raw, PIXEL_SIZE_KEYS, p); } catch { /* reported below */ }
   }
   notes.push('the pixel size was unreadable or out of range; it was left unset');
   return { source: 'none' };
@@ -186,6 +197,7 @@ export function restoreSetup(raw: unknown): RestoredSetup {
   return {
     ok: true, notes,
     value: {
+      ...withUnknown(raw, SETUP_KEYS, {}),
       schemaVersion: SETUP_SCHEMA_VERSION, kind: 'setup', id: raw.id,
       name: (typeof raw.name === 'string' && raw.name.trim() ? raw.name.trim() : 'Unnamed set-up').slice(0, 120),
       createdAt: typeof raw.createdAt === 'string' ? raw.createdAt : now, updatedAt: typeof raw.updatedAt === 'string' ? raw.updatedAt : now,
@@ -217,7 +229,7 @@ export function restoreApplied(raw: unknown): AppliedSetup | null {
   if (!isObj(raw) || typeof raw.setupId !== 'string') return null;
   const r = restoreSetup({ ...raw, id: raw.setupId, kind: 'setup', schemaVersion: SETUP_SCHEMA_VERSION });
   if (!r.ok || r.notes.length) return null;
-  return { setupId: raw.setupId, name: r.value.name, appliedAt: typeof raw.appliedAt === 'string' ? raw.appliedAt : r.value.updatedAt, train: r.value.train, pixelSize: r.value.pixelSize, sampleSign: r.value.sampleSign };
+  return withUnknown(raw, APPLIED_KEYS, { setupId: raw.setupId, name: r.value.name, appliedAt: typeof raw.appliedAt === 'string' ? raw.appliedAt : r.value.updatedAt, train: r.value.train, pixelSize: r.value.pixelSize, sampleSign: r.value.sampleSign });
 }
 
 /**

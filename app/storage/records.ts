@@ -3,9 +3,10 @@
  * read back: records from older versions are upgraded, damaged parts are left out (and the original
  * kept aside by the store), records from a newer version are kept aside untouched.
  *
- * Restore keeps every key it does not know, as it was, on a session, its settings, its image entries and
- * its work entries, so a copy of the app that is not yet up to date never drops a newer copy's optional
- * field when it saves. New optional fields are therefore added without bumping the version (list them in
+ * Restore keeps every key it does not know, as it was, on a session and on every object inside it (settings,
+ * image entries, work entries, walls, optical readings and forms, diameter runs, calibrations, the applied
+ * set-up), so a copy of the app that is not yet up to date never drops a newer copy's optional field when
+ * it saves. Results of the analyses are kept whole. New optional fields are therefore added without bumping the version (list them in
  * the key sets below, and keep them JSON values or Blobs so backups carry them).
  */
 import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
@@ -13,6 +14,7 @@ import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
+import { keySet, unknownKeys, withUnknown } from './unknownKeys.ts';
 
 /**
  * Version of every stored record. Adding an optional field needs no bump (older copies keep keys they do not
@@ -111,9 +113,6 @@ export interface SessionRecord {
   pixelSize?: SessionPixelSize | null;
 }
 
-/** Every key of T, listed once; the Record type makes the compiler name a key added to T but missing here. */
-const keySet = <T>(keys: Record<keyof T, true>): ReadonlySet<string> => new Set(Object.keys(keys));
-
 /** The keys this version reads on each level of a session record; restore keeps any other key as it was. */
 const SESSION_KEYS = keySet<SessionRecord>({
   schemaVersion: true, kind: true, id: true, name: true, createdAt: true, updatedAt: true, images: true, activeImageId: true,
@@ -125,6 +124,14 @@ const IMAGE_RECORD_KEYS = keySet<ImageRecord>({ id: true, name: true, type: true
 const WORK_KEYS = keySet<ImageWork>({
   walls: true, wallsFound: true, orient: true, profile: true, diameter: true, diameterRun: true, optics: true, micrometer: true,
 });
+const SEGMENT_KEYS = keySet<Segment>({ x1: true, y1: true, x2: true, y2: true });
+const CHANNEL_KEYS = keySet<Channel>({ walls: true });
+const OPTICS_KEYS = keySet<StoredOptics>({ kind: true, result: true, commandLine: true, rangeNm: true, form: true });
+const OPTICAL_FORM_KEYS = keySet<OpticalForm>(Object.fromEntries(Object.keys(DEFAULT_OPTICAL_FORM).map((k) => [k, true])) as Record<keyof OpticalForm, true>);
+const DIAMETER_RUN_KEYS = keySet<StoredDiameterRun>({ form: true, commandLine: true });
+const DIAMETER_FORM_KEYS = keySet<DiameterForm>({ umPerPx: true, stepPx: true, averagePx: true, polarity: true, backgroundDegree: true });
+const MICROMETER_KEYS = keySet<StoredMicrometer>({ doc: true, commandLine: true });
+const PIXEL_SIZE_KEYS = keySet<SessionPixelSize>({ umPerPx: true, from: true });
 
 export const EMPTY_WORK: ImageWork = { walls: null, wallsFound: false, orient: null, profile: null };
 
@@ -135,11 +142,6 @@ export type Restored<T> =
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const str = (v: unknown, d: string) => (typeof v === 'string' ? v : d);
 const num = (v: unknown) => typeof v === 'number' && Number.isFinite(v);
-
-/** The entries of `raw` whose keys this version does not know, values as they were (spread them before the known fields). */
-function unknownKeys(raw: Record<string, unknown>, known: ReadonlySet<string>): Record<string, unknown> {
-  return Object.fromEntries(Object.entries(raw).filter(([k]) => !known.has(k)));
-}
 
 function versionCheck(raw: Record<string, unknown>): string | null {
   const v = raw.schemaVersion;
@@ -167,13 +169,13 @@ function restoreSettings(raw: unknown, notes: string[]): AnalysisSettings {
 
 function restoreSegment(v: unknown): Segment | null {
   if (!isObj(v) || ![v.x1, v.y1, v.x2, v.y2].every(num)) return null;
-  return { x1: v.x1 as number, y1: v.y1 as number, x2: v.x2 as number, y2: v.y2 as number };
+  return withUnknown(v, SEGMENT_KEYS, { x1: v.x1 as number, y1: v.y1 as number, x2: v.x2 as number, y2: v.y2 as number });
 }
 
 function restoreChannel(v: unknown): Channel | null {
   if (!isObj(v) || !Array.isArray(v.walls) || v.walls.length !== 2) return null;
   const a = restoreSegment(v.walls[0]), b = restoreSegment(v.walls[1]);
-  return a && b ? { walls: [a, b] } : null;
+  return a && b ? withUnknown(v, CHANNEL_KEYS, { walls: [a, b] as [Segment, Segment] }) : null;
 }
 
 function restoreResult<T>(v: unknown, analysis: string): T | null {
@@ -197,7 +199,7 @@ function restoreOpticalForm(v: unknown): OpticalForm | null {
   if (!quadImages || !quadAngles) return null;
   const form = { ...d, quadImages, quadAngles, resolveMirror: v.resolveMirror, sign: v.sign, match: v.match } as OpticalForm;
   for (const k of texts) (form as unknown as Record<string, unknown>)[k] = v[k];
-  return form;
+  return withUnknown(v, OPTICAL_FORM_KEYS, form);
 }
 
 /** A stored optical reading: a known kind, a result of that analysis and its command line; an unreadable form is left out. */
@@ -208,7 +210,7 @@ function restoreOptics(v: unknown): StoredOptics | null {
   const r = v.rangeNm;
   const rangeNm = Array.isArray(r) && r.length === 2 && r.every(num) ? [r[0] as number, r[1] as number] as [number, number] : null;
   const form = v.form == null ? null : restoreOpticalForm(v.form);
-  return { kind: v.kind as OpticsKind, result, commandLine: v.commandLine, rangeNm, ...(form ? { form } : {}) };
+  return withUnknown(v, OPTICS_KEYS, { kind: v.kind as OpticsKind, result, commandLine: v.commandLine, rangeNm, ...(form ? { form } : {}) });
 }
 
 /** How a stored diameter result was made: the form (all text, a known polarity) and its command line. */
@@ -217,10 +219,10 @@ function restoreDiameterRun(v: unknown): StoredDiameterRun | null {
   const f = v.form;
   if (![f.umPerPx, f.stepPx, f.averagePx, f.backgroundDegree].every((x) => typeof x === 'string')) return null;
   if (f.polarity !== 'auto' && f.polarity !== 'dark' && f.polarity !== 'bright') return null;
-  return {
+  return withUnknown<StoredDiameterRun>(v, DIAMETER_RUN_KEYS, {
     commandLine: v.commandLine,
-    form: { umPerPx: f.umPerPx as string, stepPx: f.stepPx as string, averagePx: f.averagePx as string, polarity: f.polarity, backgroundDegree: f.backgroundDegree as string },
-  };
+    form: withUnknown<DiameterForm>(f, DIAMETER_FORM_KEYS, { umPerPx: f.umPerPx as string, stepPx: f.stepPx as string, averagePx: f.averagePx as string, polarity: f.polarity, backgroundDegree: f.backgroundDegree as string }),
+  });
 }
 
 /** A stored micrometer calibration: a `calibrate` document with a usable pixel size, and its command line. */
@@ -228,13 +230,13 @@ function restoreMicrometer(v: unknown): StoredMicrometer | null {
   if (!isObj(v) || typeof v.commandLine !== 'string') return null;
   const doc = restoreResult<MicrometerDocument>(v.doc, 'calibrate');
   if (!doc || doc.method !== 'micrometer' || !num(doc.umPerPx) || doc.umPerPx <= 0) return null;
-  return { doc, commandLine: v.commandLine };
+  return withUnknown(v, MICROMETER_KEYS, { doc, commandLine: v.commandLine });
 }
 
 /** The session's chosen pixel size: a positive finite number of um per pixel and where it came from. */
 function restorePixelSize(v: unknown): SessionPixelSize | null {
   if (!isObj(v) || !num(v.umPerPx) || (v.umPerPx as number) <= 0) return null;
-  return { umPerPx: v.umPerPx as number, from: str(v.from, 'a micrometer image') };
+  return withUnknown(v, PIXEL_SIZE_KEYS, { umPerPx: v.umPerPx as number, from: str(v.from, 'a micrometer image') });
 }
 
 function restoreImageMeta(v: unknown): ImageMeta | null {

@@ -175,3 +175,31 @@ describe('set-up store and sessions', () => {
     expect((await createSetupStore(fresh).get('s1'))?.pixelSize).toEqual(opticsSetup().pixelSize);
   });
 });
+
+describe('a set-up written by a newer copy of the app', () => {
+  // Behaviour of our own storage: unknown keys at each level of a set-up record are kept as they were.
+  const raw = {
+    schemaVersion: SETUP_SCHEMA_VERSION, kind: 'setup', id: 'b', name: 'Bench B', createdAt: '2026-01-01T00:00:00.000Z', updatedAt: '2026-01-01T00:00:00.000Z',
+    train: { polariserDeg: 0, analyserDeg: 90, compensator: { kind: 'full-wave', retardanceNm: 530, axisDeg: 45, futureWedge: { steps: 4 } }, illuminant: 'D65', futureFilter: 'green 546 nm' },
+    pixelSize: { source: 'optics', cameraPixelUm: 3.45, objectiveMagnification: 10, intermediateMagnification: 1, binning: 1, futureTubeLens: 180 },
+    sampleSign: 'negative', notes: '', futureStage: { rotates: true },
+  };
+
+  it('is restored with every unknown key where it was, and no notes', () => {
+    const r = restoreSetup(structuredClone(raw));
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.notes).toEqual([]);
+    expect(r.value).toEqual(raw);
+  });
+
+  it('keeps them when applied to a session, stored there and read back', () => {
+    const r = restoreSetup(structuredClone(raw));
+    if (!r.ok) throw new Error(r.reason);
+    const copy = { ...applied(r.value, new Date('2026-02-01T00:00:00Z')), futureNote: 'applied by a newer copy' };
+    const back = restoreApplied(JSON.parse(JSON.stringify(copy)));
+    expect(back).toEqual(copy);
+    expect(back?.train).toEqual(raw.train);
+    expect(back?.pixelSize).toEqual(raw.pixelSize);
+  });
+});

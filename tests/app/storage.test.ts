@@ -501,3 +501,72 @@ describe('fields written by a newer copy of the app are kept by this one', () =>
     expect(r.value.work.i1).toMatchObject(extra.work);
   });
 });
+
+describe('fields a newer copy wrote inside the nested objects of a session are kept too', () => {
+  // Behaviour of our own storage: each object restore checks gets an unknown key of its own.
+  const x = (level: string) => ({ [`future_${level}`]: { level, n: level.length } });
+  const segment = (y: number) => ({ x1: 0, y1: y, x2: 60, y2: y, ...x('segment') });
+  const nested = {
+    walls: { walls: [segment(2), segment(30)], ...x('channel') },
+    wallsFound: true,
+    optics: {
+      kind: 'plate', result: { schemaVersion: 1, analysis: 'plate' }, commandLine: 'retarda plate a.png', rangeNm: [0, 800],
+      form: { ...DEFAULT_OPTICAL_FORM, ...x('opticalForm') }, ...x('optics'),
+    },
+    diameter: { schemaVersion: 1, analysis: 'diameter' },
+    diameterRun: { form: { ...DEFAULT_DIAMETER_FORM, ...x('diameterForm') }, commandLine: 'retarda diameter a.png', ...x('diameterRun') },
+    micrometer: { doc: { schemaVersion: 1, analysis: 'calibrate', method: 'micrometer', umPerPx: 0.5 }, commandLine: 'retarda calibrate a.png', ...x('micrometer') },
+  };
+  const setup = {
+    setupId: 'bench-a', name: 'Bench A', appliedAt: '2026-01-01T00:00:00.000Z', sampleSign: 'positive',
+    train: { polariserDeg: 0, analyserDeg: 90, compensator: { kind: 'full-wave', retardanceNm: 550, axisDeg: 45, ...x('compensator') }, illuminant: '3200K', ...x('train') },
+    pixelSize: { source: 'typed', pixelSizeUmPerPx: 0.25, ...x('setupPixelSize') }, ...x('applied'),
+  };
+  const raw = {
+    schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: 'n', name: 'nested', createdAt: '2026-01-01T00:00:00.000Z', updatedAt: '2026-01-01T00:00:00.000Z',
+    images: [{ id: 'i1', name: 'a.png', type: 'image/png', size: 3, page: 0, addedAt: '2026-01-01T00:00:00.000Z' }], activeImageId: 'i1',
+    settings: { ...DEFAULT_SETTINGS }, work: { i1: { ...EMPTY_WORK, ...nested } }, setup,
+    pixelSize: { umPerPx: 0.5, from: 'ruler.png', ...x('pixelSize') },
+  };
+
+  function expectNested(s: SessionRecord) {
+    const w = s.work.i1 as unknown as typeof nested;
+    expect(w.walls).toEqual(nested.walls);
+    expect(w.optics).toEqual(nested.optics);
+    expect(w.diameterRun).toEqual(nested.diameterRun);
+    expect(w.micrometer).toEqual(nested.micrometer);
+    expect(s.setup).toEqual(setup);
+    expect(s.pixelSize).toEqual(raw.pixelSize);
+  }
+
+  it('restore gives every nested object back as it was written, nothing lossy', () => {
+    const r = restoreSession(structuredClone(raw));
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.notes).toEqual([]);
+    expect(r.lossy).toBe(false);
+    expectNested(r.value);
+  });
+
+  it('an edit elsewhere, save and load keep them; a damaged nested object is still left out and named', async () => {
+    const kv = memoryKv();
+    const store = createSessionStore(kv, counter());
+    kv.map.set('session:n', structuredClone(raw));
+    const loaded = (await store.load('n'))!;
+    await store.save(sessionReducer(loaded, { type: 'rename', name: 'renamed' }));
+    const back = (await store.load('n'))!;
+    expect(back.name).toBe('renamed');
+    expectNested(back);
+    expect(await store.aside()).toEqual([]);
+    // A known field with the wrong type inside a nested object: the object goes, its unknown keys do not smuggle it back.
+    const damaged = structuredClone(raw);
+    (damaged.work.i1.walls.walls[1] as Record<string, unknown>).y2 = 'low';
+    (damaged.work.i1.diameterRun.form as Record<string, unknown>).polarity = 'sideways';
+    const r = restoreSession(damaged);
+    expect(r.ok && r.lossy).toBe(true);
+    if (!r.ok) return;
+    expect(r.value.work.i1.walls).toBeNull();
+    expect(r.value.work.i1).not.toHaveProperty('diameterRun');
+    expect(r.value.work.i1.optics).toEqual(nested.optics);
+  });
+});
