@@ -49,11 +49,16 @@ export function planTiles(width: number, height: number, tileSize: number, overl
 }
 
 /** A copy of the tile's region (x, y, w, h) of `plane`, as its own w x h plane. */
-export function cropPlane(plane: Plane, tile: Tile): Plane {
+/** @throws InputError when the tile does not lie wholly inside the plane */
+export function checkTileInside(plane: Plane, tile: Tile): void {
   if (tile.x < 0 || tile.y < 0 || tile.x + tile.w > plane.width || tile.y + tile.h > plane.height) {
     throw new InputError(`tile ${tile.w}x${tile.h} at (${tile.x}, ${tile.y}) lies outside the ${plane.width}x${plane.height} plane`,
       'Plan the tiles for this plane size');
   }
+}
+
+export function cropPlane(plane: Plane, tile: Tile): Plane {
+  checkTileInside(plane, tile);
   const data = new Float32Array(tile.w * tile.h);
   for (let r = 0; r < tile.h; r++) {
     const from = (tile.y + r) * plane.width + tile.x;

@@ -1,6 +1,6 @@
 import { InputError, checkNumber } from '../common/errors.ts';
 import { withDefaults } from '../common/options.ts';
-import { cropPlane, planTiles, type Tile } from '../image/tiles.ts';
+import { checkTileInside, planTiles, type Tile } from '../image/tiles.ts';
 import type { Plane } from '../common/plane.ts';
 import { loadCv, cvError, type CV } from '../cv/opencv.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
@@ -61,11 +61,8 @@ export async function forEachTensorTile(
 ): Promise<void> {
   const o = resolveTensorOptions(options);
   const cv = await loadCv();
-  for (const t of tensorTiles(plane.width, plane.height, o)) use(tensorOnce(cv, tileCrop(plane, t), o), innerRect(t), { x: t.x, y: t.y });
+  for (const t of tensorTiles(plane.width, plane.height, o)) tensorOnce(cv, plane, t, o, (tensor) => use(tensor, innerRect(t), { x: t.x, y: t.y }));
 }
-
-/** The pixels a tile's tensor is computed from; an image that fits in one tile is its own crop. */
-export const tileCrop = (plane: Plane, t: Tile): Plane => (t.w === plane.width && t.h === plane.height ? plane : cropPlane(plane, t));
 
 /**
  * The tiles forEachTensorTile visits: one for an image of at most tilePixels, else square tiles with the
@@ -82,9 +79,13 @@ export function tensorTiles(width: number, height: number, o: Required<Structure
 /** A tile's inner part in image pixels. */
 export const innerRect = (t: Tile): TileRect => ({ x0: t.innerX, y0: t.innerY, x1: t.innerX + t.innerW, y1: t.innerY + t.innerH });
 
-/** The tensor of one plane (a tile's crop, or a whole image that needs no tiles). */
-export async function tensorOfPlane(plane: Plane, o: Required<StructureTensorOptions>): Promise<TensorField> {
-  return tensorOnce(await loadCv(), plane, o);
+/**
+ * Hands the tensor of one tile of `plane` (the whole plane when `tile` is null) to `use` and returns what
+ * it returns. The tensor's arrays are views of OpenCV's memory, valid only during `use`: reading them
+ * there saves copying three arrays out per tile (and the garbage they make on a 12 MP image).
+ */
+export async function withTensorOf<R>(plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, use: (t: TensorField) => R): Promise<R> {
+  return tensorOnce(await loadCv(), plane, tile, o, use);
 }
 
 /**
@@ -107,13 +108,20 @@ export async function structureTensor(plane: Plane, options: StructureTensorOpti
   return out;
 }
 
-function tensorOnce(cv: CV, plane: Plane, o: Required<StructureTensorOptions>): TensorField {
-  const { width, height } = plane;
+function tensorOnce<R>(cv: CV, plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, use: (t: TensorField) => R): R {
+  const whole = !tile || (tile.w === plane.width && tile.h === plane.height);
+  const width = whole ? plane.width : tile.w, height = whole ? plane.height : tile.h;
   const mats: { delete(): void }[] = [];
   const keep = <T extends { delete(): void }>(m: T): T => (mats.push(m), m);
   try {
     const src = keep(new cv.Mat(height, width, cv.CV_32F));
-    src.data32F.set(plane.data);
+    // The tile's rows go straight into OpenCV's memory (no crop copied out first).
+    if (whole) src.data32F.set(plane.data);
+    else {
+      checkTileInside(plane, tile);
+      const dst = src.data32F;
+      for (let r = 0; r < height; r++) { const from = (tile.y + r) * plane.width + tile.x; dst.set(plane.data.subarray(from, from + width), r * width); }
+    }
     const ix = keep(new cv.Mat()), iy = keep(new cv.Mat());
     const border = cv.BORDER_REFLECT;
     const anchor = new cv.Point(-1, -1);
@@ -137,7 +145,7 @@ function tensorOnce(cv: CV, plane: Plane, o: Required<StructureTensorOptions>): 
     cv.sepFilter2D(xx, xx, cv.CV_32F, kM, kM, anchor, 0, border);
     cv.sepFilter2D(xy, xy, cv.CV_32F, kM, kM, anchor, 0, border);
     cv.sepFilter2D(yy, yy, cv.CV_32F, kM, kM, anchor, 0, border);
-    return { width, height, jxx: xx.data32F.slice(), jxy: xy.data32F.slice(), jyy: yy.data32F.slice() };
+    return use({ width, height, jxx: xx.data32F, jxy: xy.data32F, jyy: yy.data32F });
   } catch (e) {
     throw cvError(cv, e);
   } finally {

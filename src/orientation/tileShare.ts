@@ -1,6 +1,6 @@
 import type { Plane } from '../common/plane.ts';
 import { cropPlane } from '../image/tiles.ts';
-import { innerRect, tensorOfPlane, tensorTiles, tileCrop, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
+import { innerRect, tensorTiles, withTensorOf, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
 import { writeTensorPixels, type FieldPixels } from './fieldFromTensor.ts';
 
 /**
@@ -26,7 +26,7 @@ export async function tilePixels(job: TileJob): Promise<TilePixels> {
     width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n),
     energy: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
   };
-  writeTensorPixels(px, await tensorOfPlane(job.crop, job.options), { x0: 0, y0: 0, x1: width, y1: height }, { x: -inner.x0, y: -inner.y0 });
+  await withTensorOf(job.crop, null, job.options, (t) => writeTensorPixels(px, t, { x0: 0, y0: 0, x1: width, y1: height }, { x: -inner.x0, y: -inner.y0 }));
   return px;
 }
 
@@ -54,14 +54,17 @@ export async function writeTexturePixels(
   const queue = tensorTiles(plane.width, plane.height, plan).sort((a, b) => b.innerW * b.innerH - a.innerW * a.innerH);
   const here = async () => {
     for (let tile = queue.shift(); tile; tile = queue.shift()) {
-      writeTensorPixels(f, await tensorOfPlane(tileCrop(plane, tile), o), innerRect(tile), { x: tile.x, y: tile.y });
+      await withTensorOf(plane, tile, o, (t) => writeTensorPixels(f, t, innerRect(tile), { x: tile.x, y: tile.y }));
       // Lets helper replies in, so their next tiles go out before this thread starts another.
       if (sharing) await nextTurn();
     }
   };
   if (!sharing || queue.length < 2) { await here(); return; }
-  const remote = async (help: TileHelper) => {
-    for (let tile = queue.shift(); tile; tile = queue.shift()) {
+  const take = (spare: boolean) => (spare && queue.length < 2 ? undefined : queue.shift());
+  // A helper's second tile waits behind its first: near the end that wait outlasts doing the tile here,
+  // so the spare slot only takes a tile while at least one more is left for whoever is free first.
+  const remote = async (help: TileHelper, spare: boolean) => {
+    for (let tile = take(spare); tile; tile = take(spare)) {
       const inner = { x0: tile.innerX - tile.x, y0: tile.innerY - tile.y, x1: tile.innerX - tile.x + tile.innerW, y1: tile.innerY - tile.y + tile.innerH };
       try {
         const px = await help({ crop: cropPlane(plane, tile), inner, options: o });
@@ -73,7 +76,7 @@ export async function writeTexturePixels(
       }
     }
   };
-  await Promise.all([here(), ...helpers.flatMap((h) => [remote(h), remote(h)])]);
+  await Promise.all([here(), ...helpers.flatMap((h) => [remote(h, false), remote(h, true)])]);
   // Tiles handed back by a failed helper after this thread had emptied the queue.
   await here();
 }
