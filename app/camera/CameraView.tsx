@@ -180,10 +180,13 @@ export function CameraView(p: Props) {
     if (!frameSize.w || frozen) return;
     const { k, ox, oy } = fitOf(frameSize.w, frameSize.h, cw, ch);
     if (r && showColours && r.colour.levels[0]?.width) {
+      g.save();
+      // The picture covers the rectangle and the filters' margin around it; only the rectangle was read.
+      const s = r.plan.source, q = r.plan.region, f = s.w / r.plan.width;
+      if (q) { g.beginPath(); g.rect(ox + (s.x + q.x * f) * k, oy + (s.y + q.y * f) * k, q.w * f * k, q.h * f * k); g.clip(); }
       g.globalAlpha = 0.65;
-      const s = r.plan.source;
       g.drawImage(r.colour.levels[0], ox + s.x * k, oy + s.y * k, s.w * k, s.h * k);
-      g.globalAlpha = 1;
+      g.restore();
     }
     const box = draft ?? rect;
     if (box) {

@@ -57,7 +57,7 @@ export function LegendWheel({ size = 132, faint = 'low coherency' }: { size?: nu
     <figure className="legend">
       <canvas ref={ref} style={{ width: size, height: size }} role="img"
         aria-label="Colour key: orientation angle from 0 degrees along +x, counter-clockwise positive, period 180 degrees" />
-      <figcaption>Angle from +x (to the right), counter-clockwise positive (arrow); the bar shows 30°. Opposite sides share a colour: 0° = 180°.{faint ? ` Faint = ${faint}.` : ''}</figcaption>
+      <figcaption>Angle from +x (to the right), counter-clockwise positive (arrow); the bar in the ring is an example at 30°. Opposite sides share a colour: 0° = 180°.{faint ? ` Faint = ${faint}.` : ''}</figcaption>
     </figure>
   );
 }
