@@ -175,6 +175,8 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
       const reasons = Object.entries(summary.droppedByReason).map(([r, c]) => `${c} ${r}`).join(', ');
       warnings.push(`fibre ${index}: all ${summary.dropped} stations were dropped (${reasons}); no diameter reported`);
     }
+    const steady = steadyChangeWarning(index, summary, umPerPx);
+    if (steady) warnings.push(steady);
     return {
       index, axisDeg: wrapAxialDeg(radToDeg(Math.atan2(-st.axisUy, st.axisUx))), startXPx: st.startX,
       startYPx: st.startY, lengthPx: st.lengthPx, ...summary, stations, droppedStations: st.dropped,
@@ -191,6 +193,19 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
       minAreaPx },
     warnings,
   };
+}
+
+/**
+ * A fibre whose diameter drifts steadily (a taper, or a slow change along a spun line) has neighbouring
+ * stations almost perfectly correlated, so its interval rests on very few effective stations and is wide
+ * even though each station is sharp. Said in words, so a wide interval is not read as poor edges.
+ */
+function steadyChangeWarning(index: number, s: DiameterSummary, umPerPx: number | null): string | null {
+  if (s.n < 10 || s.nEffective === null || s.lag1Correlation === null || s.nEffective >= 0.1 * s.n) return null;
+  const [lo, hi, unit] = umPerPx === null ? [s.minPx, s.maxPx, 'px'] : [s.minUm, s.maxUm, 'um'];
+  return `fibre ${index}: the diameter changes steadily along it (from ${lo!.toFixed(2)} to ${hi!.toFixed(2)} ${unit}; ` +
+    `lag-1 correlation of neighbouring stations ${s.lag1Correlation.toFixed(2)}), so its 95 % interval rests on ` +
+    `${s.nEffective.toFixed(1)} effective stations and is wide; look at the diameter along the fibre rather than its mean`;
 }
 
 /** Plain-word meaning of each drop reason (for tables and help). */

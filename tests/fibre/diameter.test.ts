@@ -64,6 +64,10 @@ describe('measureFibreDiameters on rendered fibres of known width (area-sampled 
     // A taper is a trend, not outliers: nothing is dropped as a width outlier.
     expect(fibre.droppedByReason['width-outlier'] ?? 0).toBe(0);
     expect((fibre.maxPx as number) - (fibre.minPx as number)).toBeGreaterThan(20);
+    // A linear trend has a lag-1 autocorrelation near 1 (common practice, no source): the interval is wide and the
+    // result says why in words.
+    expect(fibre.lag1Correlation as number).toBeGreaterThan(0.9);
+    expect(r.warnings.join('; ')).toMatch(/fibre 0: the diameter changes steadily along it/);
   });
 
   it('separates two fibres and reports each in `fibres`', () => {
@@ -76,6 +80,8 @@ describe('measureFibreDiameters on rendered fibres of known width (area-sampled 
     expectStationsTrue(second, b);
     expect(r.n).toBe(first.n + second.n);
     expect(r.stations.every((s) => r.fibres[s.fibre].stations.includes(s))).toBe(true);
+    // Fibres of constant width: no steady change to warn of.
+    expect(r.warnings.join('; ')).not.toMatch(/changes steadily/);
   });
 
   it('measures a narrow, strongly blurred fibre (10 px, edge sigma 2.5 px) with the joint two-edge fit', () => {
