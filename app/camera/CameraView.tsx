@@ -61,8 +61,8 @@ export function CameraView(p: Props) {
   const [frozen, setFrozen] = useState<{ url: string; blob: Blob; width: number; height: number } | null>(null);
   const [keeping, setKeeping] = useState(false);
   const [kept, setKept] = useState<string[]>([]);
-  const settingsRef = useRef({ sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES });
-  settingsRef.current = { sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES };
+  const settingsRef = useRef({ sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES, picture: showColours });
+  settingsRef.current = { sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES, picture: showColours };
   const planInputs = useRef({ step, rect });
   planInputs.current = { step, rect };
   /** Readings replaced by a newer one, whose pictures are closed once the newer one is on screen. */
@@ -154,7 +154,7 @@ export function CameraView(p: Props) {
 
   useEffect(() => () => {
     readout.dispose();
-    for (const x of [...retired.current, lastReading.current]) x?.colour.levels.forEach((b) => b.close());
+    for (const x of [...retired.current, lastReading.current]) x?.colour?.levels.forEach((b) => b.close());
     retired.current = [];
   }, [readout]);
 
@@ -168,7 +168,7 @@ export function CameraView(p: Props) {
   useEffect(() => {
     const r = reading;
     // Pictures of readings older than the one drawn now are no longer needed.
-    retired.current = retired.current.filter((x) => { if (x === r) return true; x.colour.levels.forEach((b) => b.close()); return false; });
+    retired.current = retired.current.filter((x) => { if (x === r) return true; x.colour?.levels.forEach((b) => b.close()); return false; });
     const c = overlay.current, v = video.current;
     if (!c || !v) return;
     const cw = c.clientWidth, ch = c.clientHeight, dpr = window.devicePixelRatio || 1;
@@ -179,7 +179,7 @@ export function CameraView(p: Props) {
     g.clearRect(0, 0, cw, ch);
     if (!frameSize.w || frozen) return;
     const { k, ox, oy } = fitOf(frameSize.w, frameSize.h, cw, ch);
-    if (r && showColours && r.colour.levels[0]?.width) {
+    if (r && showColours && r.colour?.levels[0]?.width) {
       g.save();
       // The picture covers the rectangle and the filters' margin around it; only the rectangle was read.
       const s = r.plan.source, q = r.plan.region, f = s.w / r.plan.width;

@@ -8,7 +8,7 @@
 import type { OrientResult } from '../../src/analyses/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import type { AnalysisClient } from '../worker/client.ts';
-import type { OrientReply } from '../worker/protocol.ts';
+import type { FrameReply } from '../worker/protocol.ts';
 import { RateMeter, type ReadoutPlan } from './frames.ts';
 
 /** The part of an analysis client the loop uses (a fake in unit tests). */
@@ -19,8 +19,8 @@ export interface GrabbedFrame { source: VideoFrame | ImageBitmap; plan: ReadoutP
 
 export interface LiveReading {
   result: OrientResult;
-  /** The orientation colour picture of the analysed frame (close its bitmaps when done with it). */
-  colour: OrientReply['colour'];
+  /** The orientation colour picture of the analysed frame, when asked for (close its bitmaps when done with it). */
+  colour: FrameReply['colour'];
   plan: ReadoutPlan;
   /** When the frame was grabbed and when its numbers arrived (ms, the loop's clock). */
   grabbedAt: number;
@@ -31,7 +31,11 @@ export interface LiveReading {
   latencyMs: number | null;
 }
 
-export interface LiveSettings { sigmaPx: number; weighting: Weighting; replicates: number }
+export interface LiveSettings {
+  sigmaPx: number; weighting: Weighting; replicates: number;
+  /** Make the orientation picture of each frame (only while it is shown: it costs a part of every reading). */
+  picture: boolean;
+}
 
 export interface LiveReadoutOptions {
   engines: ReadoutEngine[];
@@ -96,9 +100,10 @@ export class LiveReadout {
         const reply = await engine.call('orientFrame', {
           frame: frame.source, plan: frame.plan,
           options: { sigmaPx: s.sigmaPx, weighting: s.weighting, replicates: s.replicates, ...(frame.plan.region ? { region: frame.plan.region } : {}) },
+          picture: s.picture,
         }, undefined, [frame.source]);
         const at = now();
-        if (!this.running || grabbedAt <= this.shownGrab) { reply.colour.levels.forEach((b) => b.close?.()); continue; }
+        if (!this.running || grabbedAt <= this.shownGrab) { reply.colour?.levels.forEach((b) => b.close?.()); continue; }
         this.shownGrab = grabbedAt;
         this.meter.add(grabbedAt, at);
         this.lastError = '';

@@ -144,15 +144,15 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     return { value: { result, colour, timesMs: timer.times, helperTiles }, transfer: colour.levels };
   },
 
-  async orientFrame({ frame, plan, options }) {
+  async orientFrame({ frame, plan, options, picture }) {
     const timer = stepTimer();
     const img = frameImage(framePixels(frame, plan), plan.width, plan.height);
     timer.lap('frame pixels');
     const { result, field } = await analyseOrientation(img, options);
     timer.lap('structure tensor and order');
-    const colour = await orientationPicture(field);
-    timer.lap('orientation picture');
-    return { value: { result, colour, timesMs: timer.times, helperTiles: 0 }, transfer: colour.levels };
+    const colour = picture ? await orientationPicture(field) : null;
+    if (colour) timer.lap('orientation picture');
+    return { value: { result, colour, timesMs: timer.times, helperTiles: 0 }, transfer: colour?.levels ?? [] };
   },
 
   // Made only when the user asks to see them, from the field the orientation run left here.

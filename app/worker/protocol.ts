@@ -50,6 +50,9 @@ export interface OrientReply extends OrientNumbers {
   colour: Picture;
 }
 
+/** A camera frame's reading; its picture is made only when asked for. */
+export interface FrameReply extends OrientNumbers { colour: Picture | null }
+
 /**
  * An optical reading (plate, plate pair, four-angle set) with the orientation picture of its field; its
  * confidence, retardance and line glyphs are made when first shown (`opticalView`).
@@ -80,7 +83,8 @@ export interface CommandTable {
    * The live readout: the orientation analysis of one camera frame (closed here once read), cropped and
    * scaled as `plan` says, its pixels read as `frameImage` reads them. The frame is not kept.
    */
-  orientFrame: { args: { frame: VideoFrame | ImageBitmap; plan: ReadoutPlan; options: OrientOptions }; reply: OrientReply };
+  /** `picture`: also make the orientation picture (only while the live picture shows the colours). */
+  orientFrame: { args: { frame: VideoFrame | ImageBitmap; plan: ReadoutPlan; options: OrientOptions; picture: boolean }; reply: FrameReply };
   /** Coherency as grey (black 0, white 1) of the texture field for these options (remade if the worker lost it). */
   coherencyPicture: { args: ImageRef & { options: OrientOptions }; reply: { picture: Picture; timesMs: StepTimes } };
   /** Line glyphs of the texture field for these options. */

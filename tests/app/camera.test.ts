@@ -118,18 +118,17 @@ describe('LiveReadout', () => {
       }
       clock = end;
     };
-    const calls: { engine: number; frame: number }[] = [];
+    const calls: { engine: number; frame: number; picture: boolean }[] = [];
     let frameNo = 0;
     const engines: ReadoutEngine[] = delays.map((d, e) => {
       let k = 0;
       return {
         ready: async () => undefined,
         dispose: () => undefined,
-        call: (async (_cmd: string, args: { key: string }) => {
-          calls.push({ engine: e, frame: frameNo });
+        call: (async (_cmd: string, args: { picture: boolean }) => {
+          calls.push({ engine: e, frame: frameNo, picture: args.picture });
           await wait(d[k++ % d.length]);
-          void args;
-          return { result: { order2D: 0.5 } as OrientResult, colour: { levels: [] }, timesMs: {} };
+          return { result: { order2D: 0.5 } as OrientResult, colour: args.picture ? { levels: [] } : null, timesMs: {} };
         }) as unknown as ReadoutEngine['call'],
       };
     });
@@ -144,7 +143,7 @@ describe('LiveReadout', () => {
     const live = new LiveReadout({
       engines: f.engines,
       grab: async () => { f.nextFrame(); return { source: { close: () => undefined } as unknown as VideoFrame, plan }; },
-      settings: () => ({ sigmaPx: 2, weighting: 'confidence', replicates: 10 }),
+      settings: () => ({ sigmaPx: 2, weighting: 'confidence', replicates: 10, picture: true }),
       onReading: (r) => shown.push({ worker: r.worker, grabbedAt: r.grabbedAt }),
       onError: (m) => { throw new Error(m); },
       now: f.now, sleep: f.wait,
@@ -161,5 +160,33 @@ describe('LiveReadout', () => {
     for (let i = 1; i < shown.length; i++) expect(shown[i].grabbedAt).toBeGreaterThan(shown[i - 1].grabbedAt);
     // engine 1's 200 ms answers (grabbed at 30 ms, 230 ms, ...) arrive after engine 0's newer frames: some are dropped
     expect(shown.length).toBeLessThan(f.calls.length);
+  });
+
+  it('asks for the orientation picture only while it is shown', async () => {
+    const f = fakeEngines([[50], [50]]);
+    const plan = { source: { x: 0, y: 0, w: 2, h: 2 }, width: 2, height: 2, step: 1, region: null };
+    let picture = false;
+    const pictures: (boolean | null)[] = [];
+    const live = new LiveReadout({
+      engines: f.engines,
+      grab: async () => { f.nextFrame(); return { source: { close: () => undefined } as unknown as VideoFrame, plan }; },
+      settings: () => ({ sigmaPx: 2, weighting: 'confidence', replicates: 10, picture }),
+      onReading: (r) => pictures.push(r.colour !== null),
+      onError: (m) => { throw new Error(m); },
+      now: f.now, sleep: f.wait,
+    });
+    await live.start();
+    await f.advance(500);
+    const before = f.calls.length;
+    picture = true;
+    await f.advance(500);
+    const stopped = live.stop();
+    await f.advance(500);
+    await stopped;
+    expect(f.calls.slice(0, before).every((c) => !c.picture)).toBe(true);
+    expect(f.calls.slice(before + 2).every((c) => c.picture)).toBe(true);
+    expect(f.calls.length).toBeGreaterThan(before + 4);
+    expect(pictures).toContain(false);
+    expect(pictures).toContain(true);
   });
 });
