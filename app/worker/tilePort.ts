@@ -8,7 +8,7 @@ import { tilePixels, type TileHelper, type TileJob, type TilePixels } from '../.
 type TileRequest = { id: number; job: TileJob };
 type TileAnswer = { id: number; pixels: TilePixels } | { id: number; error: string };
 
-/** A tile takes well under a second; an answer this late means the helper is gone, and its tile is done here. */
+/** A tile takes well under a second; an answer this late means the helper is stuck or gone, and its tile is done here. */
 const ANSWER_WITHIN_MS = 20_000;
 
 const buffersOf = (px: TilePixels): ArrayBuffer[] => [px.angleRad, px.confidence, px.energy, px.cos2, px.sin2].map((a) => a.buffer as ArrayBuffer);
@@ -16,7 +16,16 @@ const buffersOf = (px: TilePixels): ArrayBuffer[] => [px.angleRad, px.confidence
 /** The analysing worker's side: a TileHelper that sends each job over the port. */
 export function helperOverPort(port: MessagePort): TileHelper {
   let nextId = 1;
+  let ended = false;
   const pending = new Map<number, { resolve(px: TilePixels): void; reject(e: Error): void; timer: ReturnType<typeof setTimeout> }>();
+  // A port whose other end is closed fires 'close' (Node; the HTML standard's close event): its tiles are then
+  // done here at once instead of after the timeout, and it is sent no more. Chromium 156 does not fire it when
+  // the other end's worker is ended, so there the timeout remains the last resort.
+  port.addEventListener('close', () => {
+    ended = true;
+    for (const p of pending.values()) { clearTimeout(p.timer); p.reject(new Error('the helper worker ended')); }
+    pending.clear();
+  });
   port.onmessage = (ev: MessageEvent<TileAnswer>) => {
     const p = pending.get(ev.data.id);
     if (!p) return;
@@ -25,6 +34,7 @@ export function helperOverPort(port: MessagePort): TileHelper {
     if ('pixels' in ev.data) p.resolve(ev.data.pixels); else p.reject(new Error(ev.data.error));
   };
   return (job) => new Promise<TilePixels>((resolve, reject) => {
+    if (ended) { reject(new Error('the helper worker ended')); return; }
     const id = nextId++;
     const timer = setTimeout(() => { pending.delete(id); reject(new Error('the helper worker did not answer')); }, ANSWER_WITHIN_MS);
     pending.set(id, { resolve, reject, timer });

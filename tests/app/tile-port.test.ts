@@ -26,4 +26,23 @@ describe('tile sharing over a message port', () => {
       channel.port2.close();
     }
   });
+
+  it('does the tiles of a helper whose worker ends mid-job here at once, with the same field', async () => {
+    // The helper's end closes when the first job arrives, without answering (as when its worker is ended).
+    const channel = new NodeChannel();
+    const helperEnd = channel.port2 as unknown as MessagePort;
+    let received = 0;
+    helperEnd.onmessage = () => { received++; helperEnd.close(); };
+    const plane = addNoise(rings(1100, 960, 500, 430, 8), 0.2, 5);
+    const options = { sigmaPx: 2 };
+    const t0 = performance.now();
+    const shared = await orientationField(plane, options, [helperOverPort(channel.port1 as unknown as MessagePort)]);
+    const waited = performance.now() - t0;
+    const alone = await orientationField(plane, options);
+    expect(received).toBeGreaterThan(0);
+    // Far below the 20 s an unanswered tile would otherwise be waited for (a loose bound, not a timing test).
+    expect(waited).toBeLessThan(15_000);
+    for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
+    channel.port1.close();
+  }, 30_000);
 });
