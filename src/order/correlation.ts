@@ -9,16 +9,22 @@ import type { OrientationField } from '../orientation/types.ts';
  */
 export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
   const { width, height, mask } = f;
-  const c2 = f.cos2, s2 = f.sin2;
-  // Doubled-angle components (the director cancels in the autocorrelation of the complex signal).
-  const cv = c2 ? (i: number) => c2[i] : (i: number) => Math.cos(2 * f.angleRad[i]);
-  const sv = s2 ? (i: number) => s2[i] : (i: number) => Math.sin(2 * f.angleRad[i]);
+  // Doubled-angle components (the director cancels in the autocorrelation of the complex signal). Fields
+  // without them (optical readings) get them here; arrays rather than accessor functions keep the lag loop
+  // quick enough for every frame of the live readout.
+  let c2 = f.cos2, s2 = f.sin2;
+  if (!c2 || !s2) {
+    const n = width * height, a = f.angleRad;
+    c2 = new Float32Array(n); s2 = new Float32Array(n);
+    for (let i = 0; i < n; i++) { c2[i] = Math.cos(2 * a[i]); s2[i] = Math.sin(2 * a[i]); }
+  }
+  const cv = c2, sv = s2;
   let mc = 0, ms = 0, m = 0;
   const step = Math.max(1, Math.floor(Math.sqrt((width * height) / 40_000)));
   for (let y = 0; y < height; y += step) for (let x = 0; x < width; x += step) {
     const i = y * width + x;
     if (!mask[i]) continue;
-    mc += cv(i); ms += sv(i); m++;
+    mc += cv[i]; ms += sv[i]; m++;
   }
   if (m < 16) return 1;
   mc /= m; ms /= m;
@@ -32,10 +38,10 @@ export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
       for (let b = 0; b + L < len; b += Math.max(1, Math.floor(len / 128))) {
         const i0 = dx ? a * width + b : b * width + a;
         if (!mask[i0]) continue;
-        const c0 = cv(i0) - mc, s0 = sv(i0) - ms, stride = dx ? 1 : width;
+        const c0 = cv[i0] - mc, s0 = sv[i0] - ms, stride = dx ? 1 : width;
         for (let k = 0, i = i0; k <= L; k++, i += stride) {
           if (!mask[i]) continue;
-          num[k] += c0 * (cv(i) - mc) + s0 * (sv(i) - ms); cnt[k]++;
+          num[k] += c0 * (cv[i] - mc) + s0 * (sv[i] - ms); cnt[k]++;
         }
       }
     }
