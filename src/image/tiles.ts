@@ -48,7 +48,6 @@ export function planTiles(width: number, height: number, tileSize: number, overl
   return tiles;
 }
 
-/** A copy of the tile's region (x, y, w, h) of `plane`, as its own w x h plane. */
 /** @throws InputError when the tile does not lie wholly inside the plane */
 export function checkTileInside(plane: Plane, tile: Tile): void {
   if (tile.x < 0 || tile.y < 0 || tile.x + tile.w > plane.width || tile.y + tile.h > plane.height) {
@@ -57,6 +56,7 @@ export function checkTileInside(plane: Plane, tile: Tile): void {
   }
 }
 
+/** A copy of the tile's region (x, y, w, h) of `plane`, as its own w x h plane. */
 export function cropPlane(plane: Plane, tile: Tile): Plane {
   checkTileInside(plane, tile);
   const data = new Float32Array(tile.w * tile.h);
