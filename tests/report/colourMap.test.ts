@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
-  angleIndex, cyclicLab, cyclicSrgb8, labToLinearSrgb, orientationRgba, weightedStep, type Lab,
+  angleIndex, cyclicLab, cyclicSrgb8, labToLinearSrgb, orientationColourTable, orientationRgba, weightedStep, type Lab,
 } from '../../src/report/colourMap.ts';
 
 // sRGB 8-bit -> CIELAB (D65), the forward path of IEC 61966-2-1 and CIE 15, to measure the HSV wheel.
@@ -119,5 +119,25 @@ describe('angleIndex and orientationRgba: period 180 deg', () => {
     expect(px[15]).toBe(0);
     const wrapped = orientationRgba(Float32Array.from([0.3 - Math.PI]), Float32Array.from([1]), Uint8Array.from([1]));
     expect([...wrapped]).toEqual([...px.slice(0, 4)]);
+  });
+
+  it('writes every byte as the table and a rounded, clamped opacity say, for odd confidences too', () => {
+    // The picture is written a word at a time; each byte must still be the table's colour and
+    // round(alphaMax x clamp(confidence, 0, 1)), NaN clear (the rule of a Uint8ClampedArray store).
+    const table = orientationColourTable(), n = table.length / 3;
+    const angles = [-1.5707, -0.8, -1e-7, 0, 0.2, 1.0, 1.5707963, 3.5, -4];
+    const confs = [0, 0.5 / 255, 1.5 / 255, 0.25, 0.5, 0.999, 1, 1.7, -0.2, NaN];
+    const a: number[] = [], c: number[] = [], m: number[] = [];
+    for (const x of angles) for (const y of confs) for (const k of [0, 1]) { a.push(x); c.push(y); m.push(k); }
+    for (const alphaMax of [255, 170]) {
+      const px = orientationRgba(Float32Array.from(a), Float32Array.from(c), Uint8Array.from(m), alphaMax);
+      for (let i = 0; i < a.length; i++) {
+        const af = Math.fround(a[i]), cf = Math.fround(c[i]);
+        let k = Math.floor(af * (n / Math.PI)) % n;
+        if (k < 0) k += n;
+        const want = m[i] ? [table[3 * k], table[3 * k + 1], table[3 * k + 2], Number.isNaN(cf) ? 0 : Math.round(alphaMax * Math.min(1, Math.max(0, cf)))] : [0, 0, 0, 0];
+        expect([...px.slice(4 * i, 4 * i + 4)]).toEqual(want);
+      }
+    }
   });
 });
