@@ -324,7 +324,7 @@ export function CameraView(p: Props) {
         <section className="readout" aria-live="off">
           <h3>Live readout {rect ? 'of the rectangle' : 'of the whole frame'}</h3>
           {r ? (
-            <table className="results" data-testid="live-readout" data-readings={readingCount}>
+            <table className="results" data-testid="live-readout" data-readings={readingCount} data-worker-ms={reading ? JSON.stringify(reading.timesMs) : undefined}>
               <tbody>
                 <tr><th scope="row">Order S_2D</th><td data-testid="live-order">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
                 <tr><th scope="row">Director</th><td data-testid="live-director">{f(r.directorDeg)}</td><td>deg, CCW from +x</td></tr>

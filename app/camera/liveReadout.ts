@@ -27,6 +27,8 @@ export interface LiveReading {
   at: number;
   /** Which worker made it (0-based). */
   worker: number;
+  /** The worker's own step times for this frame (ms). */
+  timesMs: FrameReply['timesMs'];
   fps: number | null;
   latencyMs: number | null;
 }
@@ -107,7 +109,7 @@ export class LiveReadout {
         this.shownGrab = grabbedAt;
         this.meter.add(grabbedAt, at);
         this.lastError = '';
-        this.o.onReading({ result: reply.result, colour: reply.colour, plan: frame.plan, grabbedAt, at, worker: index, fps: this.meter.fps(), latencyMs: this.meter.latencyMs() });
+        this.o.onReading({ result: reply.result, colour: reply.colour, timesMs: reply.timesMs, plan: frame.plan, grabbedAt, at, worker: index, fps: this.meter.fps(), latencyMs: this.meter.latencyMs() });
       } catch (e) {
         if (!this.running) break;
         this.report((e as Error).message);

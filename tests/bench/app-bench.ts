@@ -9,8 +9,8 @@
  *      one worker for the ratio), click to the colour map, the worker's own step times, and the first view of the coherency
  *      picture and the line glyphs (made only when asked for),
  *   2. long tasks (> 50 ms) on the page's main thread during that analysis (PerformanceObserver 'longtask'),
- *   3. live readout readings per second and latency at 1280 x 720 from chromium's fake camera
- *      (at the default 1/2 readout size and at full size),
+ *   3. live readout readings per second, latency and the worker's step times at 1280 x 720 from chromium's
+ *      fake camera (at the default 1/2 readout size and at full size),
  *   4. cold start of the installed app with the network off: a fresh browser on the same profile,
  *      server stopped, to the first interactive screen and to the analysis engine being ready,
  *   5. with RETARDA_BENCH_BIG=1, a 48-megapixel float TIFF brought in and analysed (before 4).
@@ -142,13 +142,21 @@ async function main(): Promise<void> {
       const c0 = Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
       const a = Date.now();
       const liveStart = await page.evaluate(() => performance.now());
-      await page.waitForTimeout(6000);
+      // The worker's step times of the readings shown, sampled every 250 ms over the 6 s (medians printed).
+      const samples: Record<string, number>[] = [];
+      for (let t = 0; t < 24; t++) {
+        await page.waitForTimeout(250);
+        samples.push(JSON.parse((await page.getByTestId('live-readout').getAttribute('data-worker-ms')) ?? '{}') as Record<string, number>);
+      }
       const c1 = Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
       const rate = ((c1 - c0) * 1000) / (Date.now() - a);
       const lat = (await page.getByTestId('live-latency').textContent())?.trim();
       const basis = (await page.getByTestId('live-basis').textContent())?.match(/Analysed at [^:;]+/)?.[0];
+      const steps = [...new Set(samples.flatMap((x) => Object.keys(x)))]
+        .map((k) => { const v = samples.map((x) => x[k]).filter((x) => x !== undefined).sort((p, q) => p - q); return `${k} ${v[v.length >> 1]} ms`; }).join(', ');
       const lt = await page.evaluate((from) => (window as unknown as { __longTasks: { start: number }[] }).__longTasks.filter((t) => t.start >= from).length, liveStart);
       console.log(`  ${label}: ${rate.toFixed(1)} readings/s, latency ${lat} ms (${basis}); main-thread long tasks in 6 s: ${lt}`);
+      console.log(`    in the worker (median of the readings sampled): ${steps}`);
     };
     console.log(`\nLive readout (${camera}; two workers taking frames in turn):`);
     await measure('readout at 1/2 size (default)');
