@@ -275,8 +275,11 @@ export function App() {
       await client.ensure(src, progress('Opening the image'));
       const o = s.settings;
       const options = { sigmaPx: o.sigmaPx, weighting: o.weighting, axisDeg: o.axisDeg ?? undefined };
+      // Marks on the page's clock for the app bench: request sent, numbers back from the worker.
+      performance.mark('retarda:orient-sent');
       // The numbers come first (shown and saved at once), the colour map after them.
       const reply = await client.callInParts('orient', { key: id, options }, (early) => {
+        performance.mark('retarda:orient-numbers');
         change({ type: 'orient', id, result: early.result });
         setWorkerTimes(early.timesMs);
         setHelperTiles(early.helperTiles);

@@ -71,7 +71,8 @@ const WATCH_FOR_NUMBERS = () => {
   const section = '[data-testid="orient-section"]';
   const before = document.querySelector(section)?.getAttribute('data-worker-ms') ?? null;
   let clickAt = 0;
-  document.addEventListener('click', () => { clickAt = performance.now(); }, { capture: true, once: true });
+  performance.clearMarks();
+  document.addEventListener('click', () => { clickAt = performance.now(); (window as unknown as { __clickAt: number }).__clickAt = clickAt; }, { capture: true, once: true });
   const seen = new MutationObserver(() => {
     if (!clickAt || !document.querySelector('[data-testid="director"]') || (document.querySelector(section)?.getAttribute('data-worker-ms') ?? null) === before) return;
     seen.disconnect();
@@ -95,8 +96,19 @@ async function bringIntoNewSession(page: Page, path: string): Promise<number> {
 async function timedOrientation(page: Page): Promise<number> {
   await page.evaluate(WATCH_FOR_NUMBERS);
   await page.getByRole('button', { name: 'Analyse orientation' }).click();
-  return page.waitForFunction(() => (window as unknown as { __shownMs?: number }).__shownMs, undefined, { timeout: 180_000 }).then((h) => h.jsonValue() as Promise<number>);
+  const shown = await page.waitForFunction(() => (window as unknown as { __shownMs?: number }).__shownMs, undefined, { timeout: 180_000 }).then((h) => h.jsonValue() as Promise<number>);
+  // Where the time went, from the app's performance marks: before the request, the worker's turn, the page's drawing.
+  const [sent, numbers, clickAt] = await page.evaluate(() => [
+    performance.getEntriesByName('retarda:orient-sent')[0]?.startTime ?? NaN,
+    performance.getEntriesByName('retarda:orient-numbers')[0]?.startTime ?? NaN,
+    (window as unknown as { __clickAt: number }).__clickAt,
+  ]);
+  splits.push({ toRequest: sent - clickAt, toNumbers: numbers - sent, toShown: clickAt + shown - numbers });
+  return shown;
 }
+
+/** The parts of each timed click (ms): click to request sent, request to numbers back, numbers to drawn. */
+const splits: { toRequest: number; toNumbers: number; toShown: number }[] = [];
 
 const ms = (v: number) => `${v.toFixed(0)} ms`;
 
@@ -192,6 +204,7 @@ async function main(): Promise<void> {
       await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
     }
     const helperTiles = await page.getByTestId('orient-section').getAttribute('data-helper-tiles');
+    const sharedSplits = splits.splice(0);
     const helpers = await page.locator('.engine').getAttribute('data-helpers');
     // The same on one worker (`?workers=1`), in the same run, for the ratio.
     await page.goto(`${url}?workers=1`);
@@ -213,6 +226,8 @@ async function main(): Promise<void> {
     const all = [analysed, ...again].sort((x, y) => x - y);
     console.log(`  orientation analysis, click to numbers shown:   first ${ms(analysed)}, then ${again.map(ms).join(', ')}; median ${ms(all[1])} (timed in the page, to the next frame)`);
     console.log(`  shared between workers:                         ${helpers} helper worker(s) took ${helperTiles} tiles of the last run`);
+    const part = (k: keyof typeof sharedSplits[number]) => ms(sharedSplits.map((x) => x[k]).sort((p, q) => p - q)[sharedSplits.length >> 1]);
+    console.log(`  of which (medians): click to request ${part('toRequest')}, request to numbers back ${part('toNumbers')}, numbers to drawn ${part('toShown')}`);
     console.log(`  the same on one worker (?workers=1):            ${alone.map(ms).join(', ')}; median ${ms(alone[1])}: ${(alone[1] / all[1]).toFixed(2)}x the shared median`);
     console.log(`  click to the map drawn and progress gone:       ${ms(shownAll)} (first run, as the test driver saw it)`);
     console.log(`  in the worker:                                  ${steps.map(([k, v]) => `${k} ${ms(v)}`).join('; ')}`);
