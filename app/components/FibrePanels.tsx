@@ -140,6 +140,8 @@ export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handl
             </tbody>
           </table></div>
           <p className="note">{d.interval}. Pixel size: {d.pixelSizeUmPerPx === null ? 'none (lengths in px)' : `${f(d.pixelSizeUmPerPx)} µm/px (${d.pixelSizeFrom === 'file' ? 'from the file' : 'as set'})`}.</p>
+          {/* Next to the table: a warning often explains a wide interval in it. */}
+          {d.warnings.length > 0 && <ul className="warnings">{d.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
           <Histogram values={d.stations.map((st) => (um ? st.diameterUm! : st.diameterPx))} unit={unit} label="diameter at each station" />
           {dropped.length > 0 && (
             <details data-testid="diameter-dropped">
@@ -151,7 +153,6 @@ export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handl
               </table>
             </details>
           )}
-          {d.warnings.length > 0 && <ul className="warnings">{d.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
           {storedRun && <p className="cli"><code data-testid="diameter-cli">{storedRun.commandLine}</code></p>}
         </div>
       )}
