@@ -32,10 +32,17 @@ async function bitmapLevels(rgba: Uint8ClampedArray<ArrayBuffer>, w: number, h: 
   return levels;
 }
 
-async function sampled(width: number, height: number, step: number, pixel: (i: number, o: number, out: Uint8ClampedArray) => void): Promise<Picture> {
+/**
+ * One picture row: `count` pixels, the first at field index `i0` and every `step`-th after it, written as
+ * RGBA from byte `o0` of `out`. Each picture has its own row loop: one callback for every pixel, shared by
+ * several pictures, is a call the engine cannot inline (about 1.6x slower on 12 MP in Chromium).
+ */
+type RowWriter = (i0: number, step: number, count: number, o0: number, out: Uint8ClampedArray) => void;
+
+async function sampled(width: number, height: number, step: number, row: RowWriter): Promise<Picture> {
   const w = Math.ceil(width / step), h = Math.ceil(height / step);
   const out = new Uint8ClampedArray(w * h * 4);
-  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) pixel(y * step * width + x * step, 4 * (y * w + x), out);
+  for (let y = 0; y < h; y++) row(y * step * width, step, w, 4 * y * w, out);
   return { width: w, height: h, scale: step, levels: await bitmapLevels(out, w, h) };
 }
 
@@ -68,8 +75,10 @@ export async function imagePicture(img: Image): Promise<{ picture: Picture; note
   const [lo, hi] = stretch ? displayRange(img.planes) : [0, 1];
   const k = 255 / (hi - lo);
   const [r, g, b] = img.channels === 3 ? img.planes : [img.planes[0], img.planes[0], img.planes[0]];
-  const picture = await sampled(img.width, img.height, step, (i, o, out) => {
-    out[o] = (r[i] - lo) * k; out[o + 1] = (g[i] - lo) * k; out[o + 2] = (b[i] - lo) * k; out[o + 3] = 255;
+  const picture = await sampled(img.width, img.height, step, (i0, st, count, o0, out) => {
+    for (let n = 0, i = i0, o = o0; n < count; n++, i += st, o += 4) {
+      out[o] = (r[i] - lo) * k; out[o + 1] = (g[i] - lo) * k; out[o + 2] = (b[i] - lo) * k; out[o + 3] = 255;
+    }
   });
   const notes = [];
   if (stretch) notes.push(`shown stretched from ${lo.toPrecision(3)} to ${hi.toPrecision(3)} (display only)`);
@@ -95,9 +104,12 @@ export async function orientationPicture(f: OrientationField, opacity: 'confiden
 
 /** Coherency (confidence) as grey, black 0 to white 1; masked pixels transparent. */
 export function coherencyPicture(f: OrientationField): Promise<Picture> {
-  return sampled(f.width, f.height, pictureStep(f.width, f.height), (i, o, out) => {
-    const v = f.mask[i] ? 255 * f.confidence[i] : 0;
-    out[o] = v; out[o + 1] = v; out[o + 2] = v; out[o + 3] = f.mask[i] ? 255 : 0;
+  const { mask, confidence } = f;
+  return sampled(f.width, f.height, pictureStep(f.width, f.height), (i0, st, count, o0, out) => {
+    for (let n = 0, i = i0, o = o0; n < count; n++, i += st, o += 4) {
+      const v = mask[i] ? 255 * confidence[i] : 0;
+      out[o] = v; out[o + 1] = v; out[o + 2] = v; out[o + 3] = mask[i] ? 255 : 0;
+    }
   });
 }
 
@@ -140,8 +152,11 @@ export async function retardancePicture(f: OrientationField, rangeNm: [number, n
   const r = f.retardanceNm;
   if (!r) return null;
   const table = retardanceColourTable();
-  return sampled(f.width, f.height, pictureStep(f.width, f.height), (i, o, out) => {
-    const k = 3 * retardanceIndex(r[i], rangeNm);
-    out[o] = table[k]; out[o + 1] = table[k + 1]; out[o + 2] = table[k + 2]; out[o + 3] = f.mask[i] ? 255 : 0;
+  const mask = f.mask;
+  return sampled(f.width, f.height, pictureStep(f.width, f.height), (i0, st, count, o0, out) => {
+    for (let n = 0, i = i0, o = o0; n < count; n++, i += st, o += 4) {
+      const k = 3 * retardanceIndex(r[i], rangeNm);
+      out[o] = table[k]; out[o + 1] = table[k + 1]; out[o + 2] = table[k + 2]; out[o + 3] = mask[i] ? 255 : 0;
+    }
   });
 }
