@@ -6,7 +6,7 @@ import { isInputError } from '../../src/common/errors.ts';
 import { umPerPxFromOptics } from '../../src/calibrate/optics.ts';
 import { resolveTrain, type OpticalTrain } from '../../src/optics/train.ts';
 import { parseIlluminant } from '../../src/optics/spectrum.ts';
-import { keySet, withUnknown } from '../storage/unknownKeys.ts';
+import { keySet, unknownKeys, withUnknown } from '../storage/unknownKeys.ts';
 
 /** Version of stored set-up records; bump when a field changes meaning and add the upgrade in restoreSetup. */
 export const SETUP_SCHEMA_VERSION = 1;
@@ -197,7 +197,7 @@ export function restoreSetup(raw: unknown): RestoredSetup {
   return {
     ok: true, notes,
     value: {
-      ...withUnknown(raw, SETUP_KEYS, {}),
+      ...unknownKeys(raw, SETUP_KEYS),
       schemaVersion: SETUP_SCHEMA_VERSION, kind: 'setup', id: raw.id,
       name: (typeof raw.name === 'string' && raw.name.trim() ? raw.name.trim() : 'Unnamed set-up').slice(0, 120),
       createdAt: typeof raw.createdAt === 'string' ? raw.createdAt : now, updatedAt: typeof raw.updatedAt === 'string' ? raw.updatedAt : now,

@@ -6,8 +6,8 @@
  * Restore keeps every key it does not know, as it was, on a session and on every object inside it (settings,
  * image entries, work entries, walls, optical readings and forms, diameter runs, calibrations, the applied
  * set-up), so a copy of the app that is not yet up to date never drops a newer copy's optional field when
- * it saves. Results of the analyses are kept whole. New optional fields are therefore added without bumping the version (list them in
- * the key sets below, and keep them JSON values or Blobs so backups carry them).
+ * it saves; results of the analyses are kept whole. New optional fields are therefore added without bumping
+ * the version (list them in the key sets below, and keep them JSON values or Blobs so backups carry them).
  */
 import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
