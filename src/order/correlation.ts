@@ -1,4 +1,5 @@
 import type { OrientationField } from '../orientation/types.ts';
+import { doubledAngles } from './doubledAngles.ts';
 
 /**
  * Spatial correlation length of the orientation signal, in px: the lag at which the autocorrelation
@@ -9,16 +10,9 @@ import type { OrientationField } from '../orientation/types.ts';
  */
 export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
   const { width, height, mask } = f;
-  // Doubled-angle components (the director cancels in the autocorrelation of the complex signal). Fields
-  // without them (optical readings) get them here; arrays rather than accessor functions keep the lag loop
-  // quick enough for every frame of the live readout.
-  let c2 = f.cos2, s2 = f.sin2;
-  if (!c2 || !s2) {
-    const n = width * height, a = f.angleRad;
-    c2 = new Float32Array(n); s2 = new Float32Array(n);
-    for (let i = 0; i < n; i++) { c2[i] = Math.cos(2 * a[i]); s2[i] = Math.sin(2 * a[i]); }
-  }
-  const cv = c2, sv = s2;
+  // Doubled-angle components (the director cancels in the autocorrelation of the complex signal), as
+  // arrays rather than accessor functions: quick enough for every frame of the live readout.
+  const { cos2: cv, sin2: sv } = doubledAngles(f);
   let mc = 0, ms = 0, m = 0;
   const step = Math.max(1, Math.floor(Math.sqrt((width * height) / 40_000)));
   for (let y = 0; y < height; y += step) for (let x = 0; x < width; x += step) {

@@ -1,7 +1,6 @@
 import { checkNumber } from '../common/errors.ts';
-import { fastAtan2 } from '../common/fastAtan2.ts';
 import { withDefaults } from '../common/options.ts';
-import type { TensorField, TileRect } from './structureTensor.ts';
+import type { TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
 
 export interface MaskOptions {
@@ -14,9 +13,6 @@ export interface MaskOptions {
   coherencyMin?: number;
 }
 
-/** Largest float32 not above pi/2: float32(pi/2) itself rounds up to just over 90 deg. */
-export const HALF_PI_F32 = 1.5707962513;
-
 export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
 
 /** The per-pixel arrays the structure tensor fills, on a grid `width` pixels wide. */
@@ -25,7 +21,7 @@ export interface FieldPixels {
   angleRad: Float32Array; confidence: Float32Array; energy: Float32Array; cos2: Float32Array; sin2: Float32Array;
 }
 
-/** A texture field with all arrays allocated, ready for writeTensorPixels and finishTextureField. */
+/** A texture field with all arrays allocated, ready for copyFieldPixels and finishTextureField. */
 export function emptyTextureField(width: number, height: number): OrientationField & FieldPixels {
   const n = width * height;
   return {
@@ -36,31 +32,24 @@ export function emptyTextureField(width: number, height: number): OrientationFie
 }
 
 /**
- * Angle, coherency, energy and doubled-angle components of the pixels in `r` from a (tile's) tensor:
- * orientation along the structure theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen
- * from +x with y = row (the stripe direction, 90 deg from the gradient); coherency
+ * Copies the field pixels of the part `r` of a tile into `f`. `px` is on its own grid (`px.width` floats
+ * per row) whose top-left pixel is `origin` in f's coordinates. The pixels themselves come from the
+ * tensor kernel (src/wasm/tensorKernel.as.ts): orientation along the structure
+ * theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen from +x with y = row (the stripe
+ * direction, 90 deg from the gradient), folded into (-pi/2, pi/2]; coherency
  * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
- * tutorial); energy = Jxx + Jyy.
+ * tutorial); energy = Jxx + Jyy; (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root, so order
+ * parameters need no trigonometry.
  */
-export function writeTensorPixels(f: FieldPixels, t: TensorField, r: TileRect, origin: { x: number; y: number }): void {
-  const { angleRad, confidence, energy, cos2, sin2 } = f;
-  const { jxx, jxy, jyy } = t;
+export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, origin: { x: number; y: number }): void {
+  const len = r.x1 - r.x0;
   for (let y = r.y0; y < r.y1; y++) {
-    let j = (y - origin.y) * t.width + (r.x0 - origin.x);
-    for (let i = y * f.width + r.x0, end = y * f.width + r.x1; i < end; i++, j++) {
-      const a = jxx[j], b2 = 2 * jxy[j], c = jyy[j];
-      const e = a + c, d = c - a;
-      const root = Math.sqrt(d * d + b2 * b2);
-      energy[i] = e;
-      // (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root: no trigonometry needed for order parameters.
-      if (root > 0) { const inv = 1 / root; cos2[i] = d * inv; sin2[i] = b2 * inv; } else { cos2[i] = 1; sin2[i] = 0; }
-      // atan2 returns [-pi, pi] (-pi for a -0 numerator); fold -pi/2 to +pi/2 so angles stay in (-pi/2, pi/2].
-      const half = 0.5 * fastAtan2(b2, d);
-      angleRad[i] = Math.min(HALF_PI_F32, half <= -Math.PI / 2 ? half + Math.PI : half);
-      confidence[i] = e > 0 ? Math.min(1, root / e) : 0;
-    }
+    const src = (y - origin.y) * px.width + (r.x0 - origin.x), dst = y * f.width + r.x0;
+    for (const k of PIXEL_ARRAYS) f[k].set(px[k].subarray(src, src + len), dst);
   }
 }
+
+const PIXEL_ARRAYS = ['angleRad', 'confidence', 'energy', 'cos2', 'sin2'] as const;
 
 export function resolveMaskOptions(options: MaskOptions = {}): Required<MaskOptions> {
   const o = withDefaults<Required<MaskOptions>>({ ...MASK_DEFAULTS }, options);

@@ -2,8 +2,9 @@ import { InputError, checkNumber } from '../common/errors.ts';
 import { withDefaults } from '../common/options.ts';
 import { checkTileInside, planTiles, type Tile } from '../image/tiles.ts';
 import type { Plane } from '../common/plane.ts';
-import { loadCv, cvError, type CV } from '../cv/opencv.ts';
+import { KernelArena, loadTensorKernel } from '../wasm/tensorKernel.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
+import type { FieldPixels } from './fieldFromTensor.ts';
 
 /** The three smoothed components of the gradient structure tensor, per pixel. */
 export interface TensorField {
@@ -13,6 +14,9 @@ export interface TensorField {
   jxy: Float32Array;
   jyy: Float32Array;
 }
+
+/** A tile's tensor as the kernel leaves it: rows `stride` floats apart (stride >= width, a multiple of 16). */
+export interface StridedTensor extends TensorField { stride: number }
 
 export interface StructureTensorOptions {
   /** Integration (outer) scale in px: the Gaussian window the gradient products are averaged over. Default 2. */
@@ -57,11 +61,10 @@ export interface TileRect { x0: number; y0: number; x1: number; y1: number }
  */
 export async function forEachTensorTile(
   plane: Plane, options: StructureTensorOptions,
-  use: (t: TensorField, inner: TileRect, origin: { x: number; y: number }) => void,
+  use: (t: StridedTensor, inner: TileRect, origin: { x: number; y: number }) => void,
 ): Promise<void> {
   const o = resolveTensorOptions(options);
-  const cv = await loadCv();
-  for (const t of tensorTiles(plane.width, plane.height, o)) tensorOnce(cv, plane, t, o, (tensor) => use(tensor, innerRect(t), { x: t.x, y: t.y }));
+  for (const t of tensorTiles(plane.width, plane.height, o)) await withTensorOf(plane, t, o, (tensor) => use(tensor, innerRect(t), { x: t.x, y: t.y }));
 }
 
 /**
@@ -81,11 +84,21 @@ export const innerRect = (t: Tile): TileRect => ({ x0: t.innerX, y0: t.innerY, x
 
 /**
  * Hands the tensor of one tile of `plane` (the whole plane when `tile` is null) to `use` and returns what
- * it returns. The tensor's arrays are views of OpenCV's memory, valid only during `use`: reading them
- * there saves copying three arrays out per tile (and the garbage they make on a 12 MP image).
+ * it returns. The arrays are views of the kernel's memory, valid only during `use`: reading them there
+ * saves copying three arrays out per tile.
  */
-export async function withTensorOf<R>(plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, use: (t: TensorField) => R): Promise<R> {
-  return tensorOnce(await loadCv(), plane, tile, o, use);
+export async function withTensorOf<R>(plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, use: (t: StridedTensor) => R): Promise<R> {
+  const run = tensorRun(await loadTensorKernel(), plane, tile, o, false);
+  return use(run.tensor);
+}
+
+/**
+ * Like withTensorOf, with the field pixels of every pixel of the tile (fieldFromTensor.ts gives the
+ * formulas), computed by the kernel next to the tensor. `px.width` is the row stride of the views.
+ */
+export async function withFieldPixelsOf<R>(plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, use: (px: FieldPixels) => R): Promise<R> {
+  const run = tensorRun(await loadTensorKernel(), plane, tile, o, true);
+  return use(run.pixels!);
 }
 
 /**
@@ -99,7 +112,7 @@ export async function structureTensor(plane: Plane, options: StructureTensorOpti
   const out: TensorField = { width, height, jxx: new Float32Array(n), jxy: new Float32Array(n), jyy: new Float32Array(n) };
   await forEachTensorTile(plane, options, (t, r, origin) => {
     for (let y = r.y0; y < r.y1; y++) {
-      const src = (y - origin.y) * t.width + (r.x0 - origin.x), dst = y * width + r.x0, len = r.x1 - r.x0;
+      const src = (y - origin.y) * t.stride + (r.x0 - origin.x), dst = y * width + r.x0, len = r.x1 - r.x0;
       out.jxx.set(t.jxx.subarray(src, src + len), dst);
       out.jxy.set(t.jxy.subarray(src, src + len), dst);
       out.jyy.set(t.jyy.subarray(src, src + len), dst);
@@ -108,47 +121,59 @@ export async function structureTensor(plane: Plane, options: StructureTensorOpti
   return out;
 }
 
-function tensorOnce<R>(cv: CV, plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, use: (t: TensorField) => R): R {
+/**
+ * The derivative kernel d and its smoothing partner s (correlation kernels, as OpenCV's filters use):
+ * Ix is d along x then s along y, Iy is s along x then d along y.
+ */
+function derivativeKernels(o: Required<StructureTensorOptions>): { d: Float32Array; s: Float32Array } {
+  // OpenCV's Sobel(dx=1) is the separable pair [-1 0 1] along x and [1 2 1] along y.
+  if (o.derivative === 'sobel') return { d: Float32Array.of(-1, 0, 1), s: Float32Array.of(1, 2, 1) };
+  return { d: gaussianDerivativeKernel(o.sigmaDerivPx), s: gaussianKernel(o.sigmaDerivPx) };
+}
+
+/**
+ * One tile through the kernel: Ix = (d along x, s along y), Iy = (s along x, d along y), the three
+ * products, their Gaussian smoothing and (when `pixels`) the field pixels. Memory is laid out here, eight
+ * arrays of the tile's size at most; the kernel's memory grows to the largest tile seen and stays.
+ */
+function tensorRun(k: Awaited<ReturnType<typeof loadTensorKernel>>, plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, pixels: boolean) {
   const whole = !tile || (tile.w === plane.width && tile.h === plane.height);
+  if (!whole) checkTileInside(plane, tile);
   const width = whole ? plane.width : tile.w, height = whole ? plane.height : tile.h;
-  const mats: { delete(): void }[] = [];
-  const keep = <T extends { delete(): void }>(m: T): T => (mats.push(m), m);
-  try {
-    const src = keep(new cv.Mat(height, width, cv.CV_32F));
-    // The tile's rows go straight into OpenCV's memory (no crop copied out first).
-    if (whole) src.data32F.set(plane.data);
-    else {
-      checkTileInside(plane, tile);
-      const dst = src.data32F;
-      for (let r = 0; r < height; r++) { const from = (tile.y + r) * plane.width + tile.x; dst.set(plane.data.subarray(from, from + width), r * width); }
-    }
-    const ix = keep(new cv.Mat()), iy = keep(new cv.Mat());
-    const border = cv.BORDER_REFLECT;
-    const anchor = new cv.Point(-1, -1);
-    if (o.derivative === 'sobel') {
-      cv.Sobel(src, ix, cv.CV_32F, 1, 0, 3, 1, 0, border);
-      cv.Sobel(src, iy, cv.CV_32F, 0, 1, 3, 1, 0, border);
-    } else {
-      const g = gaussianKernel(o.sigmaDerivPx), dg = gaussianDerivativeKernel(o.sigmaDerivPx);
-      const gM = keep(cv.matFromArray(g.length, 1, cv.CV_32F, Array.from(g)));
-      const dgM = keep(cv.matFromArray(dg.length, 1, cv.CV_32F, Array.from(dg)));
-      cv.sepFilter2D(src, ix, cv.CV_32F, dgM, gM, anchor, 0, border);
-      cv.sepFilter2D(src, iy, cv.CV_32F, gM, dgM, anchor, 0, border);
-    }
-    const xx = keep(new cv.Mat()), xy = keep(new cv.Mat()), yy = keep(new cv.Mat());
-    cv.multiply(ix, ix, xx);
-    cv.multiply(ix, iy, xy);
-    cv.multiply(iy, iy, yy);
-    const k = gaussianKernel(o.sigmaPx);
-    const kM = keep(cv.matFromArray(k.length, 1, cv.CV_32F, Array.from(k)));
-    // In-place separable smoothing of each product.
-    cv.sepFilter2D(xx, xx, cv.CV_32F, kM, kM, anchor, 0, border);
-    cv.sepFilter2D(xy, xy, cv.CV_32F, kM, kM, anchor, 0, border);
-    cv.sepFilter2D(yy, yy, cv.CV_32F, kM, kM, anchor, 0, border);
-    return use({ width, height, jxx: xx.data32F, jxy: xy.data32F, jyy: yy.data32F });
-  } catch (e) {
-    throw cvError(cv, e);
-  } finally {
-    for (const m of mats) m.delete();
+  if (width < 1 || height < 1) throw new InputError('the structure tensor needs an image of at least 1 x 1 pixels');
+  const stride = Math.ceil(width / 16) * 16, n = stride * height;
+  const { d, s } = derivativeKernels(o);
+  const smooth = gaussianKernel(o.sigmaPx);
+  const longest = Math.max(d.length, s.length, smooth.length);
+  const mem = new KernelArena(k);
+  const kd = mem.reserve(d.length), ks = mem.reserve(s.length), kg = mem.reserve(smooth.length);
+  const line = mem.reserve(stride + longest + 16), rows = mem.reserve(longest);
+  const p = Array.from({ length: pixels ? 8 : 5 }, () => mem.reserve(n));
+  mem.commit();
+  mem.view(kd, d.length).set(d);
+  mem.view(ks, s.length).set(s);
+  mem.view(kg, smooth.length).set(smooth);
+  // The tile's rows go straight into the kernel's memory (no crop copied out first).
+  const src = mem.view(p[0], n);
+  for (let r = 0; r < height; r++) {
+    const from = whole ? r * plane.width : (tile.y + r) * plane.width + tile.x;
+    src.set(plane.data.subarray(from, from + width), r * stride);
   }
+  // Derivatives, rows then columns: Ix in p[3], Iy in p[4].
+  k.rowFilter(p[0], p[1], width, height, stride, kd, d.length, line);
+  k.rowFilter(p[0], p[2], width, height, stride, ks, s.length, line);
+  k.columnFilter(p[1], p[3], height, stride, ks, s.length, rows);
+  k.columnFilter(p[2], p[4], height, stride, kd, d.length, rows);
+  k.products(p[3], p[4], p[0], p[1], p[2], n);
+  // Each product smoothed by the integration Gaussian, back into its own array (p[3] is the scratch).
+  for (const q of [p[0], p[1], p[2]]) {
+    k.rowFilter(q, p[3], width, height, stride, kg, smooth.length, line);
+    k.columnFilter(p[3], q, height, stride, kg, smooth.length, rows);
+  }
+  if (pixels) k.fieldPixels(p[0], p[1], p[2], p[3], p[4], p[5], p[6], p[7], n);
+  const tensor: StridedTensor = { width, height, stride, jxx: mem.view(p[0], n), jxy: mem.view(p[1], n), jyy: mem.view(p[2], n) };
+  const px: FieldPixels | null = pixels
+    ? { width: stride, angleRad: mem.view(p[3], n), confidence: mem.view(p[4], n), energy: mem.view(p[5], n), cos2: mem.view(p[6], n), sin2: mem.view(p[7], n) }
+    : null;
+  return { tensor, pixels: px };
 }

@@ -1,7 +1,7 @@
 import type { Plane } from '../common/plane.ts';
 import { cropPlane } from '../image/tiles.ts';
-import { innerRect, tensorTiles, withTensorOf, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
-import { writeTensorPixels, type FieldPixels } from './fieldFromTensor.ts';
+import { innerRect, tensorTiles, withFieldPixelsOf, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
+import { copyFieldPixels, type FieldPixels } from './fieldFromTensor.ts';
 
 /**
  * Sharing the tiles of one texture field between workers. Each tile's field pixels depend only on the
@@ -26,7 +26,7 @@ export async function tilePixels(job: TileJob): Promise<TilePixels> {
     width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n),
     energy: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
   };
-  await withTensorOf(job.crop, null, job.options, (t) => writeTensorPixels(px, t, { x0: 0, y0: 0, x1: width, y1: height }, { x: -inner.x0, y: -inner.y0 }));
+  await withFieldPixelsOf(job.crop, null, job.options, (all) => copyFieldPixels(px, all, { x0: 0, y0: 0, x1: width, y1: height }, { x: -inner.x0, y: -inner.y0 }));
   return px;
 }
 
@@ -54,7 +54,7 @@ export async function writeTexturePixels(
   const queue = tensorTiles(plane.width, plane.height, plan).sort((a, b) => b.innerW * b.innerH - a.innerW * a.innerH);
   const here = async () => {
     for (let tile = queue.shift(); tile; tile = queue.shift()) {
-      await withTensorOf(plane, tile, o, (t) => writeTensorPixels(f, t, innerRect(tile), { x: tile.x, y: tile.y }));
+      await withFieldPixelsOf(plane, tile, o, (px) => copyFieldPixels(f, px, innerRect(tile), { x: tile.x, y: tile.y }));
       // Lets helper replies in, so their next tiles go out before this thread starts another.
       if (sharing) await nextTurn();
     }
@@ -69,7 +69,7 @@ export async function writeTexturePixels(
       try {
         const px = await help({ crop: cropPlane(plane, tile), inner, options: o });
         if (px.width !== tile.innerW || px.height !== tile.innerH) throw new Error('the helper answered with a tile of the wrong size');
-        pasteTilePixels(f, px, innerRect(tile));
+        copyFieldPixels(f, px, innerRect(tile), { x: tile.innerX, y: tile.innerY });
       } catch {
         queue.push(tile);
         return;
@@ -79,11 +79,4 @@ export async function writeTexturePixels(
   await Promise.all([here(), ...helpers.flatMap((h) => [remote(h, false), remote(h, true)])]);
   // Tiles handed back by a failed helper after this thread had emptied the queue.
   await here();
-}
-
-function pasteTilePixels(f: FieldPixels, px: TilePixels, r: TileRect): void {
-  for (let y = r.y0; y < r.y1; y++) {
-    const src = (y - r.y0) * px.width, dst = y * f.width + r.x0, len = r.x1 - r.x0;
-    for (const k of ['angleRad', 'confidence', 'energy', 'cos2', 'sin2'] as const) f[k].set(px[k].subarray(src, src + len), dst);
-  }
 }
