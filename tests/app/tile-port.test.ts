@@ -45,4 +45,35 @@ describe('tile sharing over a message port', () => {
     for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
     channel.port1.close();
   }, 30_000);
+
+  it('gives up on a helper that stops answering after seconds, not the full 20 s, with the same field', async () => {
+    // As a helper whose worker died in Chromium: the port stays open and nothing more comes back.
+    const channel = new NodeChannel();
+    const helperEnd = channel.port2 as unknown as MessagePort;
+    serveTilesOn(helperEnd);
+    const serve = helperEnd.onmessage!;
+    let answering = true, ignored = 0;
+    (helperEnd as unknown as { onmessage: unknown }).onmessage = (ev: MessageEvent) => {
+      if (answering) return serve.call(helperEnd, ev);
+      ignored++;
+    };
+    const helper = helperOverPort(channel.port1 as unknown as MessagePort);
+    const plane = addNoise(rings(1100, 960, 500, 430, 8), 0.2, 5);
+    const options = { sigmaPx: 2 };
+    try {
+      await orientationField(plane, options, [helper]);
+      answering = false;
+      const t0 = performance.now();
+      const shared = await orientationField(plane, options, [helper]);
+      const waited = performance.now() - t0;
+      const alone = await orientationField(plane, options);
+      expect(ignored).toBeGreaterThan(0);
+      // A loose bound, not a timing test: without the adaptive wait this takes more than 20 s.
+      expect(waited).toBeLessThan(15_000);
+      for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
+    } finally {
+      channel.port1.close();
+      channel.port2.close();
+    }
+  }, 40_000);
 });
