@@ -3,5 +3,4 @@ export { DEG, degToRad, radToDeg, wrapAxialDeg, wrapAxialRad, axialDiffDeg } fro
 export type { Plane } from './plane.ts';
 export { makePlane } from './plane.ts';
 export { withDefaults } from './options.ts';
-export { fastAtan2 } from './fastAtan2.ts';
 export { bilinear, clampedBilinear, median } from './sampling.ts';

@@ -2,7 +2,7 @@ import { InputError, checkNumber } from '../common/errors.ts';
 import { withDefaults } from '../common/options.ts';
 import { checkTileInside, planTiles, type Tile } from '../image/tiles.ts';
 import type { Plane } from '../common/plane.ts';
-import { KernelArena, loadTensorKernel } from '../wasm/tensorKernel.ts';
+import { KernelArena, loadTensorKernel, type KernelExports } from '../wasm/tensorKernel.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
 import type { FieldPixels } from './fieldFromTensor.ts';
 
@@ -136,7 +136,7 @@ function derivativeKernels(o: Required<StructureTensorOptions>): { d: Float32Arr
  * products, their Gaussian smoothing and (when `pixels`) the field pixels. Memory is laid out here, eight
  * arrays of the tile's size at most; the kernel's memory grows to the largest tile seen and stays.
  */
-function tensorRun(k: Awaited<ReturnType<typeof loadTensorKernel>>, plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, pixels: boolean) {
+function tensorRun(k: KernelExports, plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, pixels: boolean) {
   const whole = !tile || (tile.w === plane.width && tile.h === plane.height);
   if (!whole) checkTileInside(plane, tile);
   const width = whole ? plane.width : tile.w, height = whole ? plane.height : tile.h;

@@ -2,7 +2,7 @@ import { InputError } from '../common/errors.ts';
 import { TENSOR_KERNEL_WASM } from './tensorKernel.wasm.ts';
 
 /** The compiled kernel's exports (src/wasm/tensorKernel.as.ts; pointers are byte offsets, sizes in floats). */
-interface KernelExports {
+export interface KernelExports {
   memory: WebAssembly.Memory;
   rowFilter(src: number, dst: number, width: number, height: number, stride: number, k: number, klen: number, line: number): void;
   columnFilter(src: number, dst: number, height: number, stride: number, k: number, klen: number, rows: number): void;

@@ -73,6 +73,12 @@ describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
     const cases: [number, number, number][] = [];
     for (const a of values) for (const b of values) for (const c of values) cases.push([Math.abs(a), b, Math.abs(c)]);
     let s = 7;
+    // Every quadrant on circles of several radii: (Jxx, Jxy, Jyy) = (0, y/2, x) gives atan2(y, x).
+    for (let k = 0; k < 20000; k++) {
+      const t = (2 * Math.PI * k) / 20000 - Math.PI, r = 0.01 + (k % 97);
+      const x = r * Math.cos(t), y = r * Math.sin(t);
+      cases.push(x >= 0 ? [0, y / 2, x] : [-x, y / 2, 0]);
+    }
     for (let i = 0; i < 4000; i++) {
       const r = () => ((s = (s * 1103515245 + 12345) >>> 0) / 2 ** 32);
       cases.push([r() * 100, (r() - 0.5) * 100, r() * 100]);
