@@ -23,6 +23,7 @@ function watchWaits() {
   }) as typeof setTimeout);
   return { armed, ranOut, stop: () => spy.mockRestore() };
 }
+
 describe('tile sharing over a message port', () => {
   it('gives the field computed without a helper, and the jobs did go through the port', async () => {
     const channel = new NodeChannel();

@@ -66,15 +66,20 @@ describe('retarda orient', () => {
 
 describe('retarda profile', () => {
   it('gives bins, core, skin and their ratio across given walls', async () => {
-    const r = await runCli(['profile', scene, '--walls', '0,40,239,40;0,160,239,160', '--bins', '8', '--json', '--axis-deg', '30']);
+    // The walls as constructed: the inner edges of the dark bands, y = 40.5 and 159.5 (see the scene above).
+    const r = await runCli(['profile', scene, '--walls', '0,40.5,239,40.5;0,159.5,239,159.5', '--bins', '8', '--json', '--axis-deg', '30']);
     expect(r.code).toBe(0);
     const j = JSON.parse(r.out);
     expect(j.bins).toHaveLength(8);
     for (const b of j.bins) for (const k of ['s', 'order', 'ciLow', 'ciHigh', 'n']) expect(b).toHaveProperty(k);
     for (const k of ['order', 'ciLow', 'ciHigh', 'n']) { expect(j.core).toHaveProperty(k); expect(j.skin).toHaveProperty(k); }
-    // Uniform stripes along the reference axis: S_axis = 1 everywhere away from the walls' own edges.
-    expect(j.core.order).toBeGreaterThan(0.98);
-    expect(typeof j.coreSkinRatio).toBe('number');
+    // Construction: uniform stripes along the reference axis, so S_axis = cos 2(30 - 30) = 1 in every bin, core and skin
+    // alike, and the core/skin ratio is 1. Tolerance 0.03 on every S (the channel issue's goal for every bin, including
+    // the two touching the walls), which bounds the ratio to [0.97, 1 / 0.97].
+    expect(Math.abs(j.core.order - 1)).toBeLessThanOrEqual(0.03);
+    expect(Math.abs(j.skin.order - 1)).toBeLessThanOrEqual(0.03);
+    expect(j.coreSkinRatio).toBeGreaterThanOrEqual(0.97);
+    expect(j.coreSkinRatio).toBeLessThanOrEqual(1 / 0.97);
     expect(j.stations).toHaveLength(1);
   });
 
@@ -83,9 +88,19 @@ describe('retarda profile', () => {
     expect(r.code).toBe(0);
     const j = JSON.parse(r.out);
     expect(j.wallsFound).toBe(true);
-    const ys = j.walls.flatMap((w: { y1: number; y2: number }) => [w.y1, w.y2]);
-    expect(Math.abs(ys[0] - 40.5)).toBeLessThan(2);
-    expect(Math.abs(ys[2] - 159.5)).toBeLessThan(2);
+    // Construction: rows 41-159 are the channel, rows 0-40 and 160-199 the dark walls, so the walls' inner edges are the
+    // straight lines y = 40.5 and y = 159.5 (pixel centres at integers), running from the first pixel column (x = 0)
+    // to the last (x = 239). Every coordinate of each found wall within 1 px of that (the channel issue's goal: a wall
+    // within 1 px of the interior's edge along the whole visible wall).
+    expect(j.walls).toHaveLength(2);
+    const walls = [...j.walls].sort((p: { y1: number }, q: { y1: number }) => p.y1 - q.y1);
+    for (const [w, y] of [[walls[0], 40.5], [walls[1], 159.5]] as const) {
+      const ends = [Math.min(w.x1, w.x2), Math.max(w.x1, w.x2)];
+      expect(Math.abs(ends[0] - 0), `wall at y = ${y}: first x`).toBeLessThanOrEqual(1);
+      expect(Math.abs(ends[1] - 239), `wall at y = ${y}: last x`).toBeLessThanOrEqual(1);
+      expect(Math.abs(w.y1 - y), `wall at y = ${y}: y1`).toBeLessThanOrEqual(1);
+      expect(Math.abs(w.y2 - y), `wall at y = ${y}: y2`).toBeLessThanOrEqual(1);
+    }
   });
 
   it('asks for walls when none are given', async () => {
