@@ -1,14 +1,23 @@
 import { describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { loadCv } from '../../src/cv/opencv.ts';
-import { gaussianDerivativeKernel, gaussianKernel } from '../../src/orientation/kernels.ts';
 import { structureTensor, type StructureTensorOptions } from '../../src/orientation/index.ts';
 import { KernelArena, loadTensorKernel } from '../../src/wasm/tensorKernel.ts';
 
 // The structure tensor runs in our own WebAssembly kernel (src/wasm/tensorKernel.as.ts). Outside
 // references: OpenCV's own separable filters (opencv.js sepFilter2D, Sobel and multiply with
-// BORDER_REFLECT, the pipeline the kernel replaces), and Math.atan2 / Math.hypot for the field pixels.
+// BORDER_REFLECT, the pipeline the kernel replaces), fed filter taps from scipy.ndimage
+// (tests/fixtures/reference/make_filter_kernels_fixture.py; opencv.js has no getGaussianKernel), never our own
+// kernel code; and Math.atan2 / Math.hypot for the field pixels.
 // scikit-image and scipy references are in tests/orientation/structure-tensor.reference.test.ts.
+const taps: { gaussian: Record<string, number[]>; derivative: Record<string, number[]> } =
+  JSON.parse(readFileSync(new URL('../fixtures/reference/filter-kernels-scipy.json', import.meta.url), 'utf8'));
+/** scipy's taps for this sigma (the fixture's keys are written like Python floats: "1.0", "0.7"). */
+const scipyTaps = (table: Record<string, number[]>, sigma: number): number[] => {
+  const t = table[Number.isInteger(sigma) ? sigma.toFixed(1) : String(sigma)];
+  if (!t) throw new Error(`no scipy taps for sigma ${sigma}: add it to make_filter_kernels_fixture.py and run it`);
+  return t;
+};
 
 /** The tensor by OpenCV's functions, as the OpenCV tutorial on gradient structure tensors builds it. */
 async function tensorByOpenCv(data: Float32Array, width: number, height: number, o: Required<Pick<StructureTensorOptions, 'sigmaPx' | 'sigmaDerivPx' | 'derivative'>>) {
@@ -19,18 +28,18 @@ async function tensorByOpenCv(data: Float32Array, width: number, height: number,
     const src = keep(cv.matFromArray(height, width, cv.CV_32F, Array.from(data)));
     const ix = keep(new cv.Mat()), iy = keep(new cv.Mat());
     const B = cv.BORDER_REFLECT, anchor = new cv.Point(-1, -1);
-    const mat = (k: Float32Array) => keep(cv.matFromArray(k.length, 1, cv.CV_32F, Array.from(k)));
+    const mat = (k: number[]) => keep(cv.matFromArray(k.length, 1, cv.CV_32F, k));
     if (o.derivative === 'sobel') {
       cv.Sobel(src, ix, cv.CV_32F, 1, 0, 3, 1, 0, B);
       cv.Sobel(src, iy, cv.CV_32F, 0, 1, 3, 1, 0, B);
     } else {
-      const g = mat(gaussianKernel(o.sigmaDerivPx)), dg = mat(gaussianDerivativeKernel(o.sigmaDerivPx));
+      const g = mat(scipyTaps(taps.gaussian, o.sigmaDerivPx)), dg = mat(scipyTaps(taps.derivative, o.sigmaDerivPx));
       cv.sepFilter2D(src, ix, cv.CV_32F, dg, g, anchor, 0, B);
       cv.sepFilter2D(src, iy, cv.CV_32F, g, dg, anchor, 0, B);
     }
     const xx = keep(new cv.Mat()), xy = keep(new cv.Mat()), yy = keep(new cv.Mat());
     cv.multiply(ix, ix, xx); cv.multiply(ix, iy, xy); cv.multiply(iy, iy, yy);
-    const k = mat(gaussianKernel(o.sigmaPx));
+    const k = mat(scipyTaps(taps.gaussian, o.sigmaPx));
     for (const m of [xx, xy, yy]) cv.sepFilter2D(m, m, cv.CV_32F, k, k, anchor, 0, B);
     return { jxx: Float32Array.from(xx.data32F), jxy: Float32Array.from(xy.data32F), jyy: Float32Array.from(yy.data32F) };
   } finally {
