@@ -59,7 +59,7 @@ export function newSetup(id: string, name: string, now = new Date()): SetupRecor
 
 /**
  * Pixel size in the object plane, um/px: from the optics as cameraPixelUm x binning /
- * (objective x intermediate) (src/calibrate umPerPxFromOptics, domain.md §8), or the value typed
+ * (objective x intermediate) (src/calibrate umPerPxFromOptics, docs/methods.md §11.1), or the value typed
  * or measured; null when the set-up gives none (lengths then stay in px).
  *
  * @throws InputError when the optics values are out of range
@@ -233,7 +233,7 @@ export function restoreApplied(raw: unknown): AppliedSetup | null {
 }
 
 /**
- * The pixel size an image is measured with: the applied set-up's when it gives one (conventions.md:
+ * The pixel size an image is measured with: the applied set-up's when it gives one (docs/methods.md §11.2:
  * the file's value is always overridable), else the file's, else none.
  */
 export function effectivePixelSize(setup: AppliedSetup | null, fileUmPerPx: number | null): { umPerPx: number | null; from: 'set-up' | 'file' | 'none' } {

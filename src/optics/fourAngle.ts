@@ -101,7 +101,7 @@ function designPseudoInverse(anglesRad: number[]): number[][] {
 
 /**
  * Least-squares fit of I(alpha) = b + A sin^2 2(theta - alpha) = a0 + a4c cos 4 alpha + a4s sin 4 alpha over any
- * set of at least 3 angles (degrees): a4c = -(A/2) cos 4 theta, a4s = -(A/2) sin 4 theta (domain.md section 6).
+ * set of at least 3 angles (degrees): a4c = -(A/2) cos 4 theta, a4s = -(A/2) sin 4 theta (docs/methods.md §6.1).
  */
 export function fitFourAngle(intensities: number[], anglesDeg: number[]): FourierFit {
   const P = designPseudoInverse(anglesDeg.map((a) => a * DEG));

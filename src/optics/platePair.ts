@@ -55,7 +55,7 @@ export function turnedTrain(t: OpticalTrain, turnDeg: number): OpticalTrain {
  * Combines the first-order plate readings of two images, u = Gamma_eff,A - Gamma_p = Gamma cos 2(theta - a) and
  * w = Gamma_eff,B - Gamma_p = Gamma cos 2(theta - a - t) (plate axis a, turn t): with X = u and
  * Y = (w - u cos 2t) / sin 2t, theta = a + atan2(Y, X) / 2 and Gamma = hypot(X, Y). For t = 45 deg and a = 45 deg this is
- * theta = 1/2 atan2(u, -v), Gamma = sqrt(u^2 + v^2) with v = w (domain.md section 2). Angles in degrees.
+ * theta = 1/2 atan2(u, -v), Gamma = sqrt(u^2 + v^2) with v = w (docs/methods.md §5.1 "Closed form"). Angles in degrees.
  */
 export function combinePlatePair(uNm: number, wNm: number, compensatorDeg = 45, turnDeg = 45): { angleDeg: number; retardanceNm: number } {
   const t2 = 2 * turnDeg * DEG;
@@ -64,7 +64,7 @@ export function combinePlatePair(uNm: number, wNm: number, compensatorDeg = 45, 
 }
 
 /**
- * Two compensator images, the second with the assembly turned by 45 deg (domain.md section 2): the full
+ * Two compensator images, the second with the assembly turned by 45 deg (docs/methods.md §5): the full
  * orientation over 180 deg and the retardance per pixel. Candidates: the closed-form first-order reading (each
  * image's effective retardance from its colour) and, along every second angle row of the exact spectral lookup,
  * the retardance that best explains either image; the best candidate by the summed Lab distance of both images is

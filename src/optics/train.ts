@@ -13,7 +13,7 @@ export interface Compensator {
 
 /**
  * The polarising microscope: polariser, sample, optional compensator, analyser, lamp. Angles in degrees
- * CCW from the image +x axis (conventions.md). Default: polariser 0, analyser 90 (crossed), full-wave
+ * CCW from the image +x axis (docs/methods.md §1.3). Default: polariser 0, analyser 90 (crossed), full-wave
  * 550 nm plate at +45, halogen lamp as a 3200 K blackbody, white light.
  */
 export interface OpticalTrain {

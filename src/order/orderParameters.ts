@@ -38,7 +38,7 @@ export interface OrderSummary {
   axisDeg: number | null;
   /** Mean coherency (confidence) over the usable pixels, unweighted. */
   coherencyMean: number;
-  /** Expected S_2D of the same number of independent isotropic samples, sqrt(pi / 4 nEff) (domain.md §5). */
+  /** Expected S_2D of the same number of independent isotropic samples, sqrt(pi / 4 nEff) (docs/methods.md §8.4). */
   isotropicBias: number;
   n: number;
   blocks: number;
@@ -82,7 +82,7 @@ export function statFromBlocks(b: BlockSums, stat: (m: ReturnType<typeof totalMo
 
 /**
  * Order parameters of a whole field (or region): free 2D order and director, and axis-referenced
- * order if an axis is given (conventions.md, Order parameters).
+ * order if an axis is given (docs/methods.md §8.1-8.2).
  */
 export function orderParameters(f: OrientationField, options: OrderOptions = {}): OrderSummary {
   const weighting = checkWeighting(options.weighting ?? defaultWeighting(f));

@@ -8,7 +8,7 @@
  * (straight segments), sampled densely, then resampled at equal cumulative lightness difference
  * (weighted CIE76) and smoothed cyclically with a Gaussian, three times, then resampled once more
  * without smoothing so the final steps are equal. Control points are his cyclic
- * "magenta-yellow-green-blue" map (domain.md §9 [S8]).
+ * "magenta-yellow-green-blue" map (docs/methods.md §14 "The orientation colour map").
  *
  * One departure from his settings: he weights lightness only (W = [1, 0, 0]) for this map. Then the
  * steps at the two lightness turning points carry no weighted difference at all and the final
@@ -20,14 +20,14 @@ import { D65_WHITE, labToXyz, srgbEncode, xyzToLinearSrgb } from '../optics/colo
 
 export type Lab = [number, number, number];
 
-/** Cyclic control points (L*, a*, b*), domain.md §9 [S8]; the path returns to the first point. */
+/** Cyclic control points (L*, a*, b*) of Kovesi (2015) (docs/methods.md §14); the path returns to the first point. */
 export const CYCLIC_CONTROL_POINTS: readonly Lab[] = [
   [62.5, 83, -54], [80, 20, 25], [95, -20, 90], [62.5, -65, 62], [42, 10, -50], [30, 75, -103], [48, 70, -80],
 ];
 
 /**
  * Weights of the squared L*, a*, b* differences in the step size ("lightness-weighted" CIE76), and
- * the smoothing sigma per 256 entries (domain.md §9 [S8]: sigma 5-7).
+ * the smoothing sigma per 256 entries (Kovesi 2015 reference code: sigma 5-7; docs/methods.md §14).
  */
 export const STEP_WEIGHTS: Lab = [1, 0.25, 0.25];
 const SIGMA_PER_256 = 7;

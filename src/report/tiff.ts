@@ -1,7 +1,7 @@
 import { checkNumber, InputError } from '../common/errors.ts';
 
 /**
- * Writer for multi-page 32-bit float TIFF, one quantity per page (conventions.md "Files").
+ * Writer for multi-page 32-bit float TIFF, one quantity per page (README.md, "Files").
  *
  * Hand-written because no maintained JavaScript library we know of writes multi-page IEEE-float
  * TIFF (from memory: `tiff` of image-js only decodes, UTIF.js encodes 8-bit RGBA, geotiff.js writes
