@@ -325,7 +325,7 @@ export function App() {
       await client.ensure(src, progress('Opening the image'));
       const found = await client.call('findWalls', { key: id }, progress('Walls'));
       change({ type: 'walls', id, channel: found.channel, found: true });
-      say('info', `Walls found (second wall ${(100 * found.strength[1]).toFixed(0)} % as strong as the first). Check them on the image; drag the ends to correct them.`);
+      say('info', `Walls found on the channel's inner edges (points off their line by ${found.fit[0].residualPx.toFixed(1)} px and ${found.fit[1].residualPx.toFixed(1)} px RMS). Check them on the image; drag the ends to correct them.`);
     } catch (e) { report(e, 'Finding the walls'); } finally { setBusy(null); }
   }, [client, activeTarget, progress, change, say, report]);
 

@@ -12,7 +12,7 @@ import { findWalls } from '../../src/channel/index.ts';
 import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
 import { isInputError } from '../../src/common/errors.ts';
 import { loadCv } from '../../src/cv/opencv.ts';
-import { decodeImage, toGrey, type Image } from '../../src/image/index.ts';
+import { decodeImage, type Image } from '../../src/image/index.ts';
 import type { OrientationField, TileHelper } from '../../src/orientation/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
 import { coherencyPicture, fieldGlyphs, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
@@ -237,7 +237,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   },
   async findWalls({ key }, progress) {
     progress('looking for the two walls', 0.2);
-    const found = await findWalls(toGrey(imageOf(key)));
+    const found = await findWalls(imageOf(key));
     return { value: found, transfer: [] };
   },
 

@@ -8,7 +8,7 @@ import type {
   FibreNumbersResult, PlateReadingOptions,
 } from '../../src/analyses/index.ts';
 import type { MatchSpace } from '../../src/optics/index.ts';
-import type { Channel } from '../../src/channel/index.ts';
+import type { FoundWalls } from '../../src/channel/index.ts';
 import type { ReadoutPlan } from '../camera/frames.ts';
 
 /** Which decoded image a command works on: the worker keeps decoded images by key. */
@@ -101,7 +101,7 @@ export interface CommandTable {
   diameter: { args: ImageRef & { options: DiameterAnalysisOptions }; reply: DiameterDocument };
   micrometer: { args: ImageRef & { options: MicrometerAnalysisOptions }; reply: MicrometerDocument };
   fibreNumbers: { args: { request: FibreNumbersRequest }; reply: FibreNumbersResult };
-  findWalls: { args: ImageRef; reply: { channel: Channel; strength: [number, number] } };
+  findWalls: { args: ImageRef; reply: FoundWalls };
   /** The texture field of the image (the cached one when the options match) as the bytes --field-out writes. */
   fieldTiff: { args: ImageRef & { options: OrientOptions; description: string }; reply: { bytes: ArrayBuffer } };
   forget: { args: ImageRef; reply: { forgotten: boolean } };

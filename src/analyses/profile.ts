@@ -1,4 +1,4 @@
-import { toGrey, type Image } from '../image/types.ts';
+import type { Image } from '../image/types.ts';
 import { InputError } from '../common/errors.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { channelProfile, findWalls, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
@@ -23,7 +23,7 @@ export interface ProfileResult extends ResultHead, Omit<ChannelProfile, 'warning
 export async function resolveChannel(img: Image, req: ProfileRequest): Promise<{ channel: Channel; found: boolean }> {
   if (req.channel && req.autoWalls) throw new InputError('give walls or ask for them to be found, not both');
   if (req.channel) return { channel: req.channel, found: false };
-  if (req.autoWalls) return { channel: (await findWalls(toGrey(img))).channel, found: true };
+  if (req.autoWalls) return { channel: (await findWalls(img)).channel, found: true };
   throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
 }
 

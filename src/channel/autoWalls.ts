@@ -1,264 +1,556 @@
-import { clampedBilinear } from '../common/sampling.ts';
+import { bilinear } from '../common/sampling.ts';
 import { InputError } from '../common/errors.ts';
 import type { Plane } from '../common/plane.ts';
-import { loadCv, cvError } from '../cv/opencv.ts';
+import type { Image } from '../image/types.ts';
 import type { Channel, Segment } from './geometry.ts';
 
 export interface AutoWallOptions {
-  /** Smallest wall separation as a fraction of the shorter image side. Default 0.08. */
+  /** Smallest distance between the two coarse wall lines, as a fraction of the shorter image side. Default 0.15. */
   minSeparation?: number;
   /** Largest angle between the two walls, degrees (tapered channels). Default 15. */
   maxTaperDeg?: number;
 }
 
-export interface FoundWalls {
-  channel: Channel;
-  /** Each wall's mean gradient along it relative to the strongest wall (1 = as strong). */
-  strength: [number, number];
+export const AUTO_WALL_DEFAULTS = { minSeparation: 0.15, maxTaperDeg: 15 } as const;
+
+/** How well the points found along one wall lie on its line. */
+export interface WallFit {
+  /** Root-mean-square distance of the kept edge points from the fitted line, px. */
+  residualPx: number;
+  /** Edge points kept / strips that crossed this wall. */
+  points: number;
+  strips: number;
 }
 
-/** Side of the working copy: walls are long features, so a coarse image finds them as well and fast. */
+export interface FoundWalls {
+  channel: Channel;
+  /** Each wall's step contrast relative to the stronger one (1 = as strong). */
+  strength: [number, number];
+  fit: [WallFit, WallFit];
+}
+
+/** Side of the working copy for the coarse search: walls are long features, so a coarse image finds them. */
 const WORK_SIDE = 512;
+/** Length of a strip along the channel over which cross-profiles are averaged, px. */
+const STRIP_PX = 64;
+/** Most strips per image (spread evenly along the visible channel). */
+const MAX_STRIPS = 48;
+/** Half-width of the two-sided step window across the wall, px. */
+const STEP_WINDOW_PX = 6;
+/** A step counts as a wall when it is at least this fraction of the strongest step on its side. */
+const STEP_FRACTION = 0.3;
+/** ... and at least this many times the features' fluctuation inside the channel (norm over features). */
+const MIN_STEP = 5;
+/** The wall's peak in the rate of change must reach this fraction of the largest rate near the step. */
+const RATE_FRACTION = 0.35;
+/** A side's points must lie this close to their line (RMS, px) for its strip length to be accepted. */
+const MAX_RESIDUAL_PX = 1;
 
 /**
- * The channel's walls as the two strongest long straight step edges. The image is reduced to about
- * 512 px and smoothed wider than the texture inside the channel, then every pixel votes with its
- * squared gradient magnitude (so steps outvote what is left of the texture) for the lines through it whose normal is near its gradient direction (a
- * gradient-weighted Hough transform). The strongest line is the first wall; the strongest line within
- * the taper limit and far enough from it is the second. Each wall is cut to where its edge is present.
+ * The channel's walls as the inner edges of the channel: the lines where the material inside the
+ * channel ends, whatever the wall looks like beyond (dark band, bright edge line, step to background).
+ *
+ * 1. Coarse: the image is reduced to about 512 px; for every feature plane (each colour channel and the
+ *    local texture energy log |grad I|^2, each scaled to its own range) pixels vote with their squared
+ *    gradient for the lines whose normal is near the gradient direction (a gradient-weighted Hough
+ *    transform). The strongest line gives the channel direction; the strongest line within the taper
+ *    limit and at least minSeparation away gives the second; their midline is taken as inside the channel.
+ * 2. Fine: the image is cut into strips 64 px long along that direction. In each strip the features are
+ *    averaged along the strip, giving cross-profiles; walking out from the midline on each side, the
+ *    first two-sided step (window 6 px) that reaches 30 % of the strongest step on that side is the
+ *    wall, placed at the steepest point of the step (sub-pixel, parabola).
+ * 3. Each wall is the total-least-squares line through its strips' points, after rejecting points more
+ *    than 3 robust SDs (at least 1.5 px) off; it is cut to the image. The fit's residual is returned so
+ *    the user can judge it.
+ *
+ * @throws InputError when the image is flat or no two walls can be told apart on either side
  */
-export async function findWalls(plane: Plane, options: AutoWallOptions = {}): Promise<FoundWalls> {
-  const maxTaper = ((options.maxTaperDeg ?? 15) * Math.PI) / 180;
-  const g = await smoothedGradient(plane);
-  const { w, h, gx, gy, scale } = g;
-  const minSep = (options.minSeparation ?? 0.08) * Math.min(w, h);
+export async function findWalls(input: Image | Plane, options: AutoWallOptions = {}): Promise<FoundWalls> {
+  const maxTaper = ((options.maxTaperDeg ?? AUTO_WALL_DEFAULTS.maxTaperDeg) * Math.PI) / 180;
+  const { planes: features, intensities } = featurePlanes(input);
+  const coarse = coarseLines(features, intensities, options.minSeparation ?? AUTO_WALL_DEFAULTS.minSeparation, maxTaper);
+  const { width, height } = features[0];
+  const cx = (width - 1) / 2, cy = (height - 1) / 2;
+  // The midline between the coarse lines, as a point and a normal angle.
+  const rhoMid = (coarse.rho1 + coarse.rho2) / 2 - (cx * Math.cos(coarse.phi) + cy * Math.sin(coarse.phi));
+  const first = wallsAlong(features, intensities, coarse.phi, cx + rhoMid * Math.cos(coarse.phi), cy + rhoMid * Math.sin(coarse.phi), Math.abs(coarse.rho2 - coarse.rho1) / 2);
+  let found = first;
+  // The coarse direction can be a few degrees off (a faint wall, texture across the channel): cut the
+  // strips again along the bisector of the walls just found, through their midline, and keep that.
+  if (first[0] && first[1]) {
+    const [a, b] = [first[0].fit.line, first[1].fit.line];
+    const sg = a.ux * b.ux + a.uy * b.uy < 0 ? -1 : 1;
+    const ax = a.ux + sg * b.ux, ay = a.uy + sg * b.uy;
+    const phi = Math.atan2(ax, -ay); // normal of the bisector (along = (-sin phi, cos phi))
+    const nx = Math.cos(phi), ny = Math.sin(phi);
+    const ta = (a.px - cx) * nx + (a.py - cy) * ny, tb = (b.px - cx) * nx + (b.py - cy) * ny;
+    const again = wallsAlong(features, intensities, phi, cx + ((ta + tb) / 2) * nx, cy + ((ta + tb) / 2) * ny, Math.abs(tb - ta) / 2);
+    if (again[0] && again[1]) found = again;
+  }
+  const fits = found.map((f, i) => {
+    if (!f) {
+      throw new InputError(
+        `the ${i === 0 ? 'first' : 'second'} channel wall could not be told apart from its surroundings`,
+        'Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel',
+      );
+    }
+    return f.fit;
+  });
+  const sides = found as SideResult[];
+  const segs = fits.map((f) => clipLine(f.line, width, height));
+  if (!segs[0] || !segs[1]) throw new InputError('a found wall lies outside the image', 'Give the walls by hand');
+  const cont = sides.map((s) => median(s.contrast));
+  const top = Math.max(cont[0], cont[1]);
+  const walls = orderWalls(segs[0], segs[1]);
+  const swapped = walls[0] !== segs[0];
+  const fit = fits.map((f, i) => ({ residualPx: f.rms, points: f.kept, strips: sides[i].strips, stripPx: sides[i].stripPx }));
+  const strength = [cont[0] / top, cont[1] / top];
+  return {
+    channel: { walls },
+    strength: swapped ? [strength[1], strength[0]] : [strength[0], strength[1]],
+    fit: swapped ? [fit[1], fit[0]] : [fit[0], fit[1]],
+  };
+}
 
-  // Accumulator over normal angle phi in [0, pi) (0.5 deg steps) and signed offset rho (1 px steps).
+/**
+ * Each side's wall from strips cut along the direction whose normal angle is phi, walking out from the
+ * point (ox, oy) on the midline. Short strips follow a taper and give many points; a faint wall needs
+ * longer ones to rise above the texture: each side takes the shortest strip length at which its points
+ * agree on a line.
+ */
+function wallsAlong(features: Plane[], intensities: number, phi: number, ox: number, oy: number, halfSep: number): (SideResult | null)[] {
+  const { width, height } = features[0];
+  const fr = { ox, oy, ux: -Math.sin(phi), uy: Math.cos(phi), nx: Math.cos(phi), ny: Math.sin(phi) };
+  const corners = [[0, 0], [width - 1, 0], [0, height - 1], [width - 1, height - 1]].map(([x, y]) => (x - ox) * fr.ux + (y - oy) * fr.uy);
+  const aMin = Math.min(...corners), aMax = Math.max(...corners);
+  const found: (SideResult | null)[] = [null, null];
+  for (let len = STRIP_PX; len <= Math.max(STRIP_PX, aMax - aMin) && (!found[0] || !found[1]); len *= 2) {
+    const strips = cutStrips(features, intensities, fr, aMin, aMax, len, Math.hypot(width, height));
+    // Steps are judged in units of each feature's own fluctuation inside the channel, near the midline.
+    setInteriorNoise(strips, Math.max(STEP_WINDOW_PX + 2, halfSep / 2));
+    for (const side of [0, 1] as const) {
+      if (found[side]) continue;
+      const r = sideWall(strips, side === 0 ? -1 : 1, fr);
+      if (r && r.fit.rms <= MAX_RESIDUAL_PX) found[side] = r;
+    }
+  }
+  return found;
+}
+
+interface Frame { ox: number; oy: number; ux: number; uy: number; nx: number; ny: number }
+
+/** Strips of `len` px along the channel, overlapping by half, over the image's along-axis extent. */
+function cutStrips(features: Plane[], intensities: number, fr: Frame, aMin: number, aMax: number, len: number, reach: number): Strip[] {
+  const count = Math.min(MAX_STRIPS, Math.max(1, Math.floor((2 * (aMax - aMin)) / len) - 1));
+  const pitch = (aMax - aMin - len) / Math.max(1, count - 1);
+  const strips: Strip[] = [];
+  for (let k = 0; k < count; k++) {
+    const a0 = count === 1 ? (aMin + aMax - len) / 2 : aMin + k * pitch;
+    const strip = stripProfiles(features, intensities, fr, a0, len, reach);
+    if (strip) strips.push(strip);
+  }
+  return strips;
+}
+
+interface SideResult {
+  fit: { line: Line; rms: number; kept: number };
+  contrast: number[];
+  strips: number;
+  stripPx: number;
+}
+
+/** The wall on one side (dir = -1 or +1) from a set of strips: a point per strip, then a robust line. */
+function sideWall(strips: Strip[], dir: -1 | 1, fr: Frame): SideResult | null {
+  const steps = strips.map((st) => stepProfile(st, dir));
+  // The wall's step is about as strong all along it: judge each strip's steps against the typical
+  // strongest step of all strips on this side, so a strip that does not reach the wall finds nothing.
+  const ref = median(steps.filter((z) => z !== null).map((z) => z!.max));
+  const pts: { x: number; y: number }[] = [], contrast: number[] = [];
+  let crossed = 0;
+  for (let k = 0; k < strips.length; k++) {
+    const z = steps[k];
+    if (!z) continue;
+    crossed++;
+    const edge = placeEdge(strips[k], z, dir, Math.max(MIN_STEP, STEP_FRACTION * ref));
+    if (!edge) continue;
+    const along = strips[k].alongMid;
+    pts.push({ x: fr.ox + along * fr.ux + edge.t * fr.nx, y: fr.oy + along * fr.uy + edge.t * fr.ny });
+    contrast.push(edge.contrast);
+  }
+  const fit = robustLine(pts);
+  return fit ? { fit, contrast, strips: crossed, stripPx: strips[0]?.length ?? 0 } : null;
+}
+
+/**
+ * The planes whose change marks a wall: each colour channel, then three gradient products of the grey
+ * image (Jxx + Jyy, Jxx - Jyy, 2 Jxy, unsmoothed). Averaged over a neighbourhood and turned into
+ * `derivedFeatures`, the products say how much texture there is and how well it is aligned: ordered
+ * material, a flat wall and an isotropic background differ there even when their brightness does not.
+ */
+function featurePlanes(input: Image | Plane): { planes: Plane[]; intensities: number } {
+  const planes: Plane[] = 'planes' in input
+    ? input.planes.map((data) => ({ width: input.width, height: input.height, data }))
+    : [input];
+  const { width: w, height: h } = planes[0];
+  if (planes.every((p) => !(robustRange(p.data) > 1e-6))) {
+    throw new InputError('the image is flat: no channel walls can be found', 'Give the walls by hand');
+  }
+  // Grey for the texture: the mean of the channels is enough to see where texture stops.
+  const grey = new Float32Array(w * h);
+  for (const p of planes) for (let i = 0; i < grey.length; i++) grey[i] += p.data[i] / planes.length;
+  const e = new Float32Array(w * h), a = new Float32Array(w * h), b = new Float32Array(w * h);
+  for (let y = 0; y < h; y++) {
+    const ym = Math.max(0, y - 1), yp = Math.min(h - 1, y + 1);
+    for (let x = 0; x < w; x++) {
+      const xm = Math.max(0, x - 1), xp = Math.min(w - 1, x + 1);
+      const gx = grey[y * w + xp] - grey[y * w + xm], gy = grey[yp * w + x] - grey[ym * w + x];
+      const i = y * w + x;
+      e[i] = gx * gx + gy * gy; a[i] = gx * gx - gy * gy; b[i] = 2 * gx * gy;
+    }
+  }
+  const plane = (data: Float32Array) => ({ width: w, height: h, data });
+  return { planes: [...planes, plane(e), plane(a), plane(b)], intensities: planes.length };
+}
+
+/**
+ * From neighbourhood means of the feature planes to the features compared across a wall: brightness as
+ * it is, texture energy on a log scale (a weak texture next to a flat wall is as visible as a strong
+ * one), and the two alignment components (Jxx - Jyy, 2 Jxy) / (Jxx + Jyy), which are near 0 for an
+ * isotropic background and large for aligned material.
+ */
+function derivedFeatures(mean: ArrayLike<number>, intensities: number, out: Float64Array): void {
+  for (let f = 0; f < intensities; f++) out[f] = mean[f];
+  const e = mean[intensities], eps = 1e-6;
+  out[intensities] = Math.log(e + eps);
+  out[intensities + 1] = mean[intensities + 1] / (e + eps);
+  out[intensities + 2] = mean[intensities + 2] / (e + eps);
+}
+
+interface Coarse { phi: number; rho1: number; rho2: number }
+
+/**
+ * Two coarse wall lines by a gradient-weighted Hough transform over all feature planes (normal angle phi
+ * in 0.5 deg steps, offset rho in 1 px steps, both in full-resolution pixels).
+ */
+function coarseLines(features: Plane[], intensities: number, minSeparation: number, maxTaper: number): Coarse {
+  const { width, height } = features[0];
+  const k = Math.max(1, Math.ceil(Math.max(width, height) / WORK_SIDE));
+  const w = Math.ceil(width / k), h = Math.ceil(height / k);
+  const smooth = Math.max(2, Math.min(w, h) / 80);
   const nPhi = 360, dPhi = Math.PI / nPhi;
   const rhoMax = Math.ceil(Math.hypot(w, h));
   const nRho = 2 * rhoMax + 1;
   const acc = new Float32Array(nPhi * nRho);
-  const cosT = Float64Array.from({ length: nPhi }, (_, k) => Math.cos(k * dPhi));
-  const sinT = Float64Array.from({ length: nPhi }, (_, k) => Math.sin(k * dPhi));
-  let gMax = 0;
-  for (let i = 0; i < gx.length; i++) gMax = Math.max(gMax, Math.hypot(gx[i], gy[i]));
-  if (!(gMax > 1e-6)) throw new InputError('the image is flat: no channel walls can be found', 'Give the walls by hand');
-  const spread = 4; // votes within +-2 deg of the gradient direction
-  for (let y = 0; y < h; y++) {
-    for (let x = 0; x < w; x++) {
-      const i = y * w + x;
-      const m = Math.hypot(gx[i], gy[i]);
-      if (m < 0.05 * gMax) continue;
-      let phi = Math.atan2(gy[i], gx[i]);
-      if (phi < 0) phi += Math.PI;
-      const k0 = Math.round(phi / dPhi);
-      for (let dk = -spread; dk <= spread; dk++) {
-        const k = (((k0 + dk) % nPhi) + nPhi) % nPhi;
-        // Wrapping past pi flips the normal, so rho changes sign there.
-        const flip = k0 + dk >= nPhi || k0 + dk < 0 ? -1 : 1;
-        const rho = flip * (x * cosT[k] + y * sinT[k]);
-        acc[k * nRho + Math.round(rho) + rhoMax] += m * m;
+  const cosT = Float64Array.from({ length: nPhi }, (_, i) => Math.cos(i * dPhi));
+  const sinT = Float64Array.from({ length: nPhi }, (_, i) => Math.sin(i * dPhi));
+  const smoothed = features.map((p) => gaussianBlur(blockAverage(p, k), smooth).data);
+  const derived = Array.from({ length: intensities + 3 }, () => new Float32Array(w * h));
+  const mean = new Float64Array(features.length), out = new Float64Array(intensities + 3);
+  for (let i = 0; i < w * h; i++) {
+    for (let f = 0; f < features.length; f++) mean[f] = smoothed[f][i];
+    derivedFeatures(mean, intensities, out);
+    for (let f = 0; f < out.length; f++) derived[f][i] = out[f];
+  }
+  const grads = derived.map((data) => {
+    const range = robustRange(data);
+    return range > 1e-9 ? { ...gradient({ width: w, height: h, data }), range } : null;
+  });
+  for (const g of grads) {
+    if (!g) continue;
+    const { gx, gy, range } = g;
+    let gMax = 0;
+    for (let i = 0; i < gx.length; i++) gMax = Math.max(gMax, Math.hypot(gx[i], gy[i]));
+    if (!(gMax > 0)) continue;
+    const spread = 4; // votes within +-2 deg of the gradient direction
+    for (let y = 0; y < h; y++) {
+      for (let x = 0; x < w; x++) {
+        const i = y * w + x;
+        const m = Math.hypot(gx[i], gy[i]);
+        if (m < 0.05 * gMax) continue;
+        const vote = (m / range) ** 2;
+        let phi = Math.atan2(gy[i], gx[i]);
+        if (phi < 0) phi += Math.PI;
+        const k0 = Math.round(phi / dPhi);
+        // Working-grid pixel centre in full-resolution pixels.
+        const fx = (x + 0.5) * k - 0.5, fy = (y + 0.5) * k - 0.5;
+        for (let dk = -spread; dk <= spread; dk++) {
+          const kk = (((k0 + dk) % nPhi) + nPhi) % nPhi;
+          // The offset is measured on the cell's own normal, so a vote that wraps past pi needs no sign change.
+          const rho = (fx * cosT[kk] + fy * sinT[kk]) / k;
+          acc[kk * nRho + Math.round(rho) + rhoMax] += vote;
+        }
       }
     }
   }
   const best = argmax(acc, () => true);
+  if (best < 0 || !(acc[best] > 0)) throw new InputError('the image is flat: no channel walls can be found', 'Give the walls by hand');
   const k1 = Math.floor(best / nRho), r1 = (best % nRho) - rhoMax;
+  const minSep = (minSeparation * Math.min(width, height)) / k;
   const second = argmax(acc, (j) => {
-    const k = Math.floor(j / nRho), r = (j % nRho) - rhoMax;
-    let dk = Math.abs(k - k1);
+    const kk = Math.floor(j / nRho), r = (j % nRho) - rhoMax;
+    let dk = Math.abs(kk - k1);
     const wraps = dk > nPhi / 2;
     if (wraps) dk = nPhi - dk;
     if (dk * dPhi > maxTaper) return false;
-    const rr = wraps ? -r : r;
-    return Math.abs(rr - r1) >= minSep;
+    return Math.abs((wraps ? -r : r) - r1) >= minSep;
   });
-  if (second < 0 || !(acc[second] > 0.15 * acc[best])) {
+  if (second < 0 || !(acc[second] > 0.1 * acc[best])) {
     throw new InputError('no second wall roughly parallel to the strongest edge was found', 'Give the walls by hand, or crop the image to the channel');
   }
-  const k2 = Math.floor(second / nRho), r2 = (second % nRho) - rhoMax;
-  const lineA = { phi: k1 * dPhi, rho: r1 }, lineB = { phi: k2 * dPhi, rho: r2 };
-  const a = edgeStretch(lineA, g), b = edgeStretch(lineB, g);
-  // Pixel centres: full = (work + 0.5) * scale - 0.5 for an area-averaged reduction, per axis.
-  const fx = (v: number) => (v + 0.5) * scale - 0.5, fy = (v: number) => (v + 0.5) * g.scaleY - 0.5;
-  const toFull = (s: Segment): Segment => ({ x1: fx(s.x1), y1: fy(s.y1), x2: fx(s.x2), y2: fy(s.y2) });
-  // The heavy smoothing that silences texture also pulls the edge towards the darker side: refine each
-  // wall on the full-resolution image, lightly smoothed, within a few coarse smoothing widths.
-  const reach = 3 * g.smooth * scale;
-  const walls = orderWalls(refineWall(plane, toFull(a.seg), reach), refineWall(plane, toFull(b.seg), reach));
-  const top = Math.max(a.strength, b.strength);
-  return { channel: { walls }, strength: [a.strength / top, b.strength / top] };
+  // Line 2 as voted (normal phi2, offset r2 in working px); its point nearest the image centre,
+  // projected on line 1's normal, gives the second offset in line 1's frame.
+  const phi = k1 * dPhi, phi2 = Math.floor(second / nRho) * dPhi;
+  const r2 = ((second % nRho) - rhoMax) * k;
+  const cx = (width - 1) / 2, cy = (height - 1) / 2;
+  const d = cx * Math.cos(phi2) + cy * Math.sin(phi2) - r2;
+  const px = cx - d * Math.cos(phi2), py = cy - d * Math.sin(phi2);
+  const rho2AtCentre = px * Math.cos(phi) + py * Math.sin(phi);
+  return { phi, rho1: r1 * k, rho2: rho2AtCentre };
 }
 
-interface Gradient { w: number; h: number; gx: Float32Array; gy: Float32Array; scale: number; scaleY: number; smooth: number }
-
-async function smoothedGradient(plane: Plane): Promise<Gradient> {
-  const cv = await loadCv();
-  const mats: { delete(): void }[] = [];
-  const keep = <T extends { delete(): void }>(m: T): T => (mats.push(m), m);
-  try {
-    // Big images are first block-averaged in plain JS, so the WASM heap never holds a full-size copy.
-    const pre = blockAverage(plane, Math.max(1, Math.floor(Math.max(plane.width, plane.height) / (2 * WORK_SIDE))));
-    const src = keep(new cv.Mat(pre.height, pre.width, cv.CV_32F));
-    src.data32F.set(pre.data);
-    const scale = Math.max(1, Math.max(plane.width, plane.height) / WORK_SIDE);
-    const w = Math.max(8, Math.round(plane.width / scale)), h = Math.max(8, Math.round(plane.height / scale));
-    const small = keep(new cv.Mat());
-    cv.resize(src, small, new cv.Size(w, h), 0, 0, cv.INTER_AREA);
-    const smooth = Math.max(3, Math.min(w, h) / 60);
-    cv.GaussianBlur(small, small, new cv.Size(0, 0), smooth, smooth, cv.BORDER_REFLECT);
-    const gx = keep(new cv.Mat()), gy = keep(new cv.Mat());
-    cv.Sobel(small, gx, cv.CV_32F, 1, 0, 3, 1, 0, cv.BORDER_REFLECT);
-    cv.Sobel(small, gy, cv.CV_32F, 0, 1, 3, 1, 0, cv.BORDER_REFLECT);
-    // Step from the working grid back to full-resolution pixels (centres line up to within a pixel).
-    return { w, h, gx: gx.data32F.slice(), gy: gy.data32F.slice(), scale: plane.width / w, scaleY: plane.height / h, smooth };
-  } catch (e) {
-    throw cvError(cv, e);
-  } finally {
-    for (const m of mats) m.delete();
-  }
-}
-
-/** Mean of k x k blocks (the last partial blocks averaged over what they hold). */
-function blockAverage(p: Plane, k: number): Plane {
-  if (k <= 1) return p;
-  const w = Math.ceil(p.width / k), h = Math.ceil(p.height / k);
-  const sum = new Float64Array(w * h), cnt = new Uint32Array(w * h);
-  for (let y = 0; y < p.height; y++) {
-    const row = ((y / k) | 0) * w;
-    for (let x = 0; x < p.width; x++) { const j = row + ((x / k) | 0); sum[j] += p.data[y * p.width + x]; cnt[j]++; }
-  }
-  return { width: w, height: h, data: Float32Array.from(sum, (v, j) => v / cnt[j]) };
+interface Strip {
+  /** Offsets across (t, px) from -reach to reach in 1 px steps; values[f][j] is feature f at t = j - reach. */
+  reach: number;
+  values: Float64Array[];
+  /** Each feature's fluctuation inside the channel (setInteriorNoise), the unit steps are measured in. */
+  scale: number[];
+  alongMid: number;
+  /** The first `intensities` features are brightness. */
+  intensities: number;
+  /** Strip length along the channel, px. */
+  length: number;
 }
 
 /**
- * Moves a coarse wall onto the full-resolution edge: at points every 2 px along it, the profile across
- * it (averaged over 5 px along the wall and smoothed across by sigma 1.5 px, enough to steady the
- * gradient and too little to move an edge), its steepest step within +-reach px (same polarity as the
- * wall's side-to-side contrast), sub-pixel by a parabola; then a total-least-squares line through them.
+ * Features averaged along a strip [a0, a0 + len) of the channel direction, at 1 px steps across. A row
+ * with under half of its samples inside the image is NaN.
  */
-function refineWall(p: Plane, seg: Segment, reach: number): Segment {
-  const len = Math.hypot(seg.x2 - seg.x1, seg.y2 - seg.y1);
-  const ux = (seg.x2 - seg.x1) / len, uy = (seg.y2 - seg.y1) / len, nx = -uy, ny = ux;
-  const step = 0.5, m = Math.ceil(reach / step);
-  const xs: number[] = [], ys: number[] = [];
-  const prof = new Float64Array(2 * m + 1), der = new Float64Array(2 * m + 1), raw = new Float64Array(2 * m + 1);
-  // Gaussian of sigma 1.5 px in steps of 0.5 px (3 samples), truncated at 2 sigma.
-  const gk = Float64Array.from({ length: 13 }, (_, i) => Math.exp(-0.5 * ((i - 6) / 3) ** 2));
-  // Polarity of the wall: which side is brighter, from wide samples either side of the coarse line.
-  let side = 0;
-  for (let t = 0; t <= len; t += 8) {
-    const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
-    side += clampedBilinear(p, cx + reach * nx, cy + reach * ny) - clampedBilinear(p, cx - reach * nx, cy - reach * ny);
-  }
-  const sign = side >= 0 ? 1 : -1;
-  for (let t = 0; t <= len; t += 2) {
-    const cx = seg.x1 + t * ux, cy = seg.y1 + t * uy;
-    for (let k = -m; k <= m; k++) {
-      let v = 0;
-      for (let j = -2; j <= 2; j++) v += clampedBilinear(p, cx + k * step * nx + j * ux, cy + k * step * ny + j * uy);
-      raw[k + m] = v / 5;
+function stripProfiles(
+  features: Plane[], intensities: number, fr: { ox: number; oy: number; ux: number; uy: number; nx: number; ny: number },
+  a0: number, len: number, reach: number,
+): Strip | null {
+  const R = Math.ceil(reach);
+  const n = 2 * R + 1;
+  const F = intensities + 3;
+  const values = Array.from({ length: F }, () => new Float64Array(n).fill(NaN));
+  const along = Math.max(2, Math.round(len));
+  const sums = new Float64Array(features.length), out = new Float64Array(F);
+  for (let j = 0; j < n; j++) {
+    const t = j - R;
+    sums.fill(0);
+    let inside = 0;
+    for (let a = 0; a < along; a++) {
+      const al = a0 + a + 0.5;
+      const x = fr.ox + al * fr.ux + t * fr.nx, y = fr.oy + al * fr.uy + t * fr.ny;
+      const v0 = bilinear(features[0], x, y);
+      if (!Number.isFinite(v0)) continue;
+      inside++;
+      sums[0] += v0;
+      for (let f = 1; f < features.length; f++) sums[f] += bilinear(features[f], x, y);
     }
-    for (let k = 0; k <= 2 * m; k++) {
-      let v = 0, ws = 0;
-      for (let j = -6; j <= 6; j++) {
-        const q = k + j;
-        if (q < 0 || q > 2 * m) continue;
-        const w = gk[j + 6];
-        v += w * raw[q]; ws += w;
+    if (inside < 0.9 * along) continue;
+    for (let f = 0; f < features.length; f++) sums[f] /= inside;
+    derivedFeatures(sums, intensities, out);
+    for (let f = 0; f < F; f++) values[f][j] = out[f];
+  }
+  if (!Number.isFinite(values[0][R])) return null;
+  return { reach: R, values, scale: values.map(() => 1), alongMid: a0 + along / 2, intensities, length: along };
+}
+
+/**
+ * Sets every strip's feature scale to the robust SD (1.4826 x median absolute value) of that feature's
+ * two-sided steps over the rows within `halfPx` of the midline, pooled over all strips: the size of
+ * step that the material inside the channel makes by itself. Floored at 1e-3 of the feature's range.
+ */
+function setInteriorNoise(strips: Strip[], halfPx: number): void {
+  if (strips.length === 0) return;
+  const F = strips[0].values.length, W = STEP_WINDOW_PX;
+  const c = Math.max(0, Math.floor(halfPx) - W);
+  for (let f = 0; f < F; f++) {
+    const steps: number[] = [], all: number[] = [];
+    for (const st of strips) {
+      const v = st.values[f], R = st.reach;
+      for (let j = 0; j < v.length; j += 4) if (Number.isFinite(v[j])) all.push(v[j]);
+      for (let t = -c; t <= c; t++) {
+        const j = R + t;
+        let a = 0, b = 0, ok = true;
+        for (let q = 0; q < W; q++) { a += v[j + q]; b += v[j - 1 - q]; }
+        if (!Number.isFinite(a) || !Number.isFinite(b)) ok = false;
+        if (ok) steps.push(Math.abs(a - b) / W);
       }
-      prof[k] = v / ws;
     }
-    let best = -1, bestV = 0;
-    for (let k = 1; k < 2 * m; k++) {
-      der[k] = (sign * (prof[k + 1] - prof[k - 1])) / (2 * step);
-      if (der[k] > bestV) { bestV = der[k]; best = k; }
-    }
-    if (best < 2 || best > 2 * m - 2) continue;
-    const den = der[best - 1] - 2 * der[best] + der[best + 1];
-    const off = den < 0 ? (0.5 * (der[best - 1] - der[best + 1])) / den : 0;
-    const d = (best + off - m) * step;
-    xs.push(cx + d * nx); ys.push(cy + d * ny);
+    const noise = 1.4826 * median(steps);
+    const floor = 1e-3 * Math.max(1e-6, robustRange(all));
+    const scale = Number.isFinite(noise) ? Math.max(noise, floor) : floor;
+    for (const st of strips) st.scale[f] = scale;
   }
-  return fitSegment(xs, ys) ?? seg;
 }
 
-function argmax(a: Float32Array, ok: (i: number) => boolean): number {
-  let best = -1, v = -Infinity;
-  for (let i = 0; i < a.length; i++) if (a[i] > v && ok(i)) { v = a[i]; best = i; }
-  return best;
+interface StepProfile {
+  /** Rows on this side inside the image, walking out from the midline (indices into the strip's values). */
+  rows: number[];
+  /** Two-sided step size at each row (0 where the window does not fit), in units of each feature's range. */
+  z: Float64Array;
+  steps: Float64Array[];
+  max: number;
 }
 
 /**
- * Walks along the line and keeps the stretch where the gradient across it stays above a third of its
- * median over the line's strong part.
+ * Two-sided steps across one side of a strip (dir = -1 or +1): at each row d walking out from the
+ * midline, the difference of the feature means over the 6 rows beyond and the 6 rows before, each
+ * feature scaled by its range, as a vector norm. null when the strip holds too few rows on that side.
  */
-function edgeStretch(l: { phi: number; rho: number }, g: Gradient): { seg: Segment; strength: number } {
-  const c = Math.cos(l.phi), s = Math.sin(l.phi);
-  const x0 = c * l.rho, y0 = s * l.rho, dx = -s, dy = c;
-  const reach = Math.hypot(g.w, g.h);
-  const ts: number[] = [], ms: number[] = [];
-  for (let t = -reach; t <= reach; t += 1) {
-    const x = x0 + t * dx, y = y0 + t * dy;
-    const xi = Math.round(x), yi = Math.round(y);
-    if (xi < 1 || yi < 1 || xi > g.w - 2 || yi > g.h - 2) continue;
-    let m = 0;
-    for (let o = -2; o <= 2; o++) {
-      const xa = Math.round(x + o * c), ya = Math.round(y + o * s);
-      if (xa < 0 || ya < 0 || xa >= g.w || ya >= g.h) continue;
-      const j = ya * g.w + xa;
-      m = Math.max(m, Math.abs(g.gx[j] * c + g.gy[j] * s));
-    }
-    ts.push(t); ms.push(m);
+function stepProfile(strip: Strip, dir: -1 | 1): StepProfile | null {
+  const { reach: R, values, scale } = strip;
+  const W = STEP_WINDOW_PX;
+  const F = values.length;
+  const rows: number[] = [];
+  for (let d = 0; d <= R; d++) {
+    const j = R + dir * d;
+    if (!Number.isFinite(values[0][j])) break;
+    rows.push(j);
   }
-  if (ts.length < 4) throw new InputError('a wall line runs outside the image', 'Give the walls by hand');
-  const sorted = [...ms].sort((p, q) => p - q);
-  const ref = sorted[Math.floor(0.75 * (sorted.length - 1))];
-  const keepIdx = ms.map((m, i) => (m >= ref / 3 ? i : -1)).filter((i) => i >= 0);
-  const i0 = keepIdx[0], i1 = keepIdx[keepIdx.length - 1];
-  let sum = 0;
-  for (let i = i0; i <= i1; i++) sum += ms[i];
-  // Refine: the sub-pixel peak of |gradient across the line| at each step, then a total-least-squares line.
-  const px: number[] = [], py: number[] = [];
-  const across = (x: number, y: number) => {
-    const xa = Math.round(x), ya = Math.round(y);
-    if (xa < 0 || ya < 0 || xa >= g.w || ya >= g.h) return 0;
-    const j = ya * g.w + xa;
-    return Math.abs(g.gx[j] * c + g.gy[j] * s);
-  };
-  for (let i = i0; i <= i1; i++) {
-    const bx = x0 + ts[i] * dx, by = y0 + ts[i] * dy;
-    let bestO = 0, bestM = -1;
-    for (let o = -3; o <= 3; o++) {
-      const m = across(bx + o * c, by + o * s);
-      if (m > bestM) { bestM = m; bestO = o; }
+  if (rows.length < 3 * W) return null;
+  const cum = values.map((v) => {
+    const c = new Float64Array(rows.length + 1);
+    for (let d = 0; d < rows.length; d++) c[d + 1] = c[d] + v[rows[d]];
+    return c;
+  });
+  const z = new Float64Array(rows.length);
+  const steps: Float64Array[] = [];
+  let max = 0;
+  for (let d = W; d + W <= rows.length; d++) {
+    const step = new Float64Array(F);
+    let s2 = 0;
+    for (let f = 0; f < F; f++) {
+      const c = cum[f];
+      step[f] = ((c[d + W] - c[d]) - (c[d] - c[d - W])) / (W * scale[f]);
+      s2 += step[f] * step[f];
     }
-    const mL = across(bx + (bestO - 1) * c, by + (bestO - 1) * s), mR = across(bx + (bestO + 1) * c, by + (bestO + 1) * s);
-    const den = mL - 2 * bestM + mR;
-    const off = bestO + (den < 0 ? (0.5 * (mL - mR)) / den : 0);
-    px.push(bx + off * c); py.push(by + off * s);
+    z[d] = Math.sqrt(s2);
+    steps[d] = step;
+    max = Math.max(max, z[d]);
   }
-  const seg = fitSegment(px, py) ?? { x1: x0 + ts[i0] * dx, y1: y0 + ts[i0] * dy, x2: x0 + ts[i1] * dx, y2: y0 + ts[i1] * dy };
-  return { seg, strength: sum / (i1 - i0 + 1) };
+  return { rows, z, steps, max };
 }
 
-/** Total-least-squares line through the points, cut at the extreme projections. */
-function fitSegment(xs: number[], ys: number[]): Segment | null {
-  const n = xs.length;
+/**
+ * The wall in one strip: the first local maximum of the step size, walking out from the midline, that
+ * reaches `threshold`, placed at the steepest point of the profile projected on that step's direction in
+ * feature space (sub-pixel, parabola). Brightness alone sets the place when it carries the step, since
+ * texture energy peaks on the edge itself rather than stepping at it. null when no step is clear enough.
+ */
+function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, threshold: number): { t: number; contrast: number } | null {
+  const { values, scale } = strip;
+  const { rows, z } = p;
+  const W = STEP_WINDOW_PX;
+  const F = values.length;
+  let pick = -1;
+  for (let d = W + 1; d + W < rows.length; d++) {
+    if (z[d] >= threshold && z[d] >= z[d - 1] && z[d] >= z[d + 1]) { pick = d; break; }
+  }
+  if (pick < 0) return null;
+  const lo = Math.max(3, pick - W), hi = Math.min(rows.length - 4, pick + W);
+  // Change across the wall at each row: central differences of the first `use` features, in units of
+  // each feature's fluctuation. Brightness alone places the wall when it changes clearly there (texture
+  // features change over the width of their own neighbourhood, and peak on an edge rather than step at
+  // it); otherwise all features do.
+  const change = (d: number, use: number) => {
+    const v = new Float64Array(use);
+    for (let f = 0; f < use; f++) v[f] = (values[f][rows[d + 1]] - values[f][rows[d - 1]]) / scale[f];
+    return v;
+  };
+  const norm = (v: Float64Array) => Math.hypot(...v);
+  const dot = (a: Float64Array, b: Float64Array) => a.reduce((s, x, i) => s + x * b[i], 0);
+  let use = strip.intensities;
+  const rateMax = (u: number) => { let m = 0; for (let d = lo; d <= hi; d++) m = Math.max(m, norm(change(d, u))); return m; };
+  let rMax = rateMax(use);
+  if (rMax < MIN_STEP) { use = F; rMax = rateMax(F); }
+  const D: Float64Array[] = [];
+  for (let d = lo - 2; d <= hi + 2; d++) D[d] = change(d, use);
+  // Clear = at least RATE_FRACTION of the largest rate near the step and four times the typical rate
+  // between the midline and the step.
+  const inside: number[] = [];
+  for (let d = 3; d < pick - 2 * W; d++) inside.push(norm(change(d, use)));
+  const floor = inside.length >= 4 ? 4 * median(inside) : 0;
+  // The wall is the first clear peak walking out, so a thin bright wall line is placed at its inner side,
+  // not its outer one. A peak is the largest change within 2 rows among the changes in the same
+  // direction (the far side of a thin line changes the other way and does not count).
+  const isPeak = (d: number) => {
+    const r = norm(D[d]);
+    for (const q of [d - 2, d - 1, d + 1, d + 2]) if (dot(D[q], D[d]) > 0 && norm(D[q]) > r) return false;
+    return true;
+  };
+  let bestD = -1;
+  for (let d = lo; d <= hi; d++) if (norm(D[d]) >= Math.max(RATE_FRACTION * rMax, floor) && isPeak(d)) { bestD = d; break; }
+  if (bestD < 0) return null;
+  // Sub-pixel: a parabola through the change along the peak's own direction at d - 1, d, d + 1.
+  const unit = D[bestD].map((x) => x / norm(D[bestD]));
+  const [a, b, c] = [bestD - 1, bestD, bestD + 1].map((d) => dot(D[d], unit));
+  const den = a - 2 * b + c;
+  const off = den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (a - c)) / den)) : 0;
+  return { t: dir * (bestD + off), contrast: z[pick] };
+}
+
+interface Line { px: number; py: number; ux: number; uy: number }
+
+/**
+ * A line through the points that most of them agree with: every pair proposes a line, the one with the
+ * most points within 1.5 px wins (RANSAC-style, but exhaustive since there are few points), and the
+ * total-least-squares line through those points is the answer.
+ */
+function robustLine(pts: { x: number; y: number }[]): { line: Line; rms: number; kept: number } | null {
+  const n = pts.length;
   if (n < 3) return null;
-  const mx = xs.reduce((a, b) => a + b, 0) / n, my = ys.reduce((a, b) => a + b, 0) / n;
+  const tol = 1.5;
+  let bestIn: number[] = [];
+  let bestSpread = Infinity;
+  for (let i = 0; i < n; i++) {
+    for (let j = i + 1; j < n; j++) {
+      const dx = pts[j].x - pts[i].x, dy = pts[j].y - pts[i].y, l = Math.hypot(dx, dy);
+      if (l < 1e-9) continue;
+      const inl: number[] = [];
+      let spread = 0;
+      for (let k = 0; k < n; k++) {
+        const r = Math.abs((pts[k].x - pts[i].x) * dy - (pts[k].y - pts[i].y) * dx) / l;
+        if (r <= tol) { inl.push(k); spread += r * r; }
+      }
+      if (inl.length > bestIn.length || (inl.length === bestIn.length && spread < bestSpread)) { bestIn = inl; bestSpread = spread; }
+    }
+  }
+  if (bestIn.length < 3) return null;
+  const use = bestIn.map((k) => pts[k]);
+  const f = tls(use);
+  if (!f) return null;
+  let s2 = 0;
+  for (const p of use) s2 += ((p.x - f.px) * -f.uy + (p.y - f.py) * f.ux) ** 2;
+  return { line: f, rms: Math.sqrt(s2 / use.length), kept: use.length };
+}
+
+function tls(pts: { x: number; y: number }[]): Line | null {
+  const n = pts.length;
+  if (n < 2) return null;
+  let mx = 0, my = 0;
+  for (const p of pts) { mx += p.x; my += p.y; }
+  mx /= n; my /= n;
   let sxx = 0, sxy = 0, syy = 0;
-  for (let i = 0; i < n; i++) {
-    const u = xs[i] - mx, v = ys[i] - my;
-    sxx += u * u; sxy += u * v; syy += v * v;
-  }
+  for (const p of pts) { const u = p.x - mx, v = p.y - my; sxx += u * u; sxy += u * v; syy += v * v; }
   const phi = 0.5 * Math.atan2(2 * sxy, sxx - syy); // direction of largest spread
-  const ux = Math.cos(phi), uy = Math.sin(phi);
-  let lo = Infinity, hi = -Infinity;
-  for (let i = 0; i < n; i++) {
-    const t = (xs[i] - mx) * ux + (ys[i] - my) * uy;
-    lo = Math.min(lo, t); hi = Math.max(hi, t);
-  }
-  return { x1: mx + lo * ux, y1: my + lo * uy, x2: mx + hi * ux, y2: my + hi * uy };
+  return { px: mx, py: my, ux: Math.cos(phi), uy: Math.sin(phi) };
+}
+
+/** The part of a line inside the image's pixel-centre rectangle, or null. */
+function clipLine(l: Line, width: number, height: number): Segment | null {
+  let t0 = -Infinity, t1 = Infinity;
+  const clip = (p: number, u: number, lo: number, hi: number) => {
+    if (Math.abs(u) < 1e-12) { if (p < lo || p > hi) { t0 = Infinity; } return; }
+    const a = (lo - p) / u, b = (hi - p) / u;
+    t0 = Math.max(t0, Math.min(a, b)); t1 = Math.min(t1, Math.max(a, b));
+  };
+  clip(l.px, l.ux, 0, width - 1);
+  clip(l.py, l.uy, 0, height - 1);
+  if (!(t1 > t0)) return null;
+  return { x1: l.px + t0 * l.ux, y1: l.py + t0 * l.uy, x2: l.px + t1 * l.ux, y2: l.py + t1 * l.uy };
 }
 
 /** Walls in reading order: the upper wall first for a horizontal channel, the left one for a vertical one. */
@@ -270,4 +562,75 @@ function orderWalls(a: Segment, b: Segment): [Segment, Segment] {
   if (ny < 0 || (ny === 0 && nx < 0)) { nx = -nx; ny = -ny; }
   const key = (s: Segment) => ((s.x1 + s.x2) / 2) * nx + ((s.y1 + s.y2) / 2) * ny;
   return key(a) <= key(b) ? [a, b] : [b, a];
+}
+
+function argmax(a: Float32Array, ok: (i: number) => boolean): number {
+  let best = -1, v = -Infinity;
+  for (let i = 0; i < a.length; i++) if (a[i] > v && ok(i)) { v = a[i]; best = i; }
+  return best;
+}
+
+function median(v: ArrayLike<number>): number {
+  const a = Array.from(v).filter(Number.isFinite).sort((p, q) => p - q);
+  if (a.length === 0) return NaN;
+  const m = a.length >> 1;
+  return a.length % 2 ? a[m] : 0.5 * (a[m - 1] + a[m]);
+}
+
+/** 98th minus 2nd percentile: the spread of a feature, untroubled by a few extreme pixels. */
+function robustRange(v: ArrayLike<number>): number {
+  const n = v.length;
+  if (n === 0) return 0;
+  const step = Math.max(1, Math.floor(n / 20000));
+  const a: number[] = [];
+  for (let i = 0; i < n; i += step) if (Number.isFinite(v[i])) a.push(v[i]);
+  a.sort((p, q) => p - q);
+  if (a.length === 0) return 0;
+  return a[Math.floor(0.98 * (a.length - 1))] - a[Math.floor(0.02 * (a.length - 1))];
+}
+
+/** Mean of k x k blocks (the last partial blocks averaged over what they hold). */
+function blockAverage(p: Plane, k: number): Plane {
+  if (k <= 1) return { width: p.width, height: p.height, data: Float32Array.from(p.data) };
+  const w = Math.ceil(p.width / k), h = Math.ceil(p.height / k);
+  const sum = new Float64Array(w * h), cnt = new Uint32Array(w * h);
+  for (let y = 0; y < p.height; y++) {
+    const row = ((y / k) | 0) * w;
+    for (let x = 0; x < p.width; x++) { const j = row + ((x / k) | 0); sum[j] += p.data[y * p.width + x]; cnt[j]++; }
+  }
+  return { width: w, height: h, data: Float32Array.from(sum, (v, j) => v / cnt[j]) };
+}
+
+/** Separable Gaussian blur, edges reflected. */
+function gaussianBlur(p: Plane, sigma: number): Plane {
+  const r = Math.ceil(3 * sigma);
+  const k = Float64Array.from({ length: 2 * r + 1 }, (_, i) => Math.exp(-0.5 * ((i - r) / sigma) ** 2));
+  const ks = k.reduce((a, b) => a + b, 0);
+  for (let i = 0; i < k.length; i++) k[i] /= ks;
+  const { width: w, height: h, data } = p;
+  const refl = (i: number, n: number) => (i < 0 ? Math.min(n - 1, -i - 1) : i >= n ? Math.max(0, 2 * n - i - 1) : i);
+  const tmp = new Float32Array(w * h), out = new Float32Array(w * h);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+    let v = 0;
+    for (let j = -r; j <= r; j++) v += k[j + r] * data[y * w + refl(x + j, w)];
+    tmp[y * w + x] = v;
+  }
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+    let v = 0;
+    for (let j = -r; j <= r; j++) v += k[j + r] * tmp[refl(y + j, h) * w + x];
+    out[y * w + x] = v;
+  }
+  return { width: w, height: h, data: out };
+}
+
+/** Central differences (one-sided at the edges). */
+function gradient(p: Plane): { gx: Float32Array; gy: Float32Array } {
+  const { width: w, height: h, data } = p;
+  const gx = new Float32Array(w * h), gy = new Float32Array(w * h);
+  for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) {
+    const xm = Math.max(0, x - 1), xp = Math.min(w - 1, x + 1), ym = Math.max(0, y - 1), yp = Math.min(h - 1, y + 1);
+    gx[y * w + x] = (data[y * w + xp] - data[y * w + xm]) / (xp - xm || 1);
+    gy[y * w + x] = (data[yp * w + x] - data[ym * w + x]) / (yp - ym || 1);
+  }
+  return { gx, gy };
 }

@@ -2,5 +2,5 @@ export type { Segment, Channel, ChannelFrame } from './geometry.ts';
 export { parseWalls, channelFrame, transverse } from './geometry.ts';
 export type { ProfileOptions, ProfileBin, BandStats, StationProfile, ChannelProfile } from './profile.ts';
 export { channelProfile, PROFILE_DEFAULTS } from './profile.ts';
-export type { AutoWallOptions, FoundWalls } from './autoWalls.ts';
-export { findWalls } from './autoWalls.ts';
+export type { AutoWallOptions, FoundWalls, WallFit } from './autoWalls.ts';
+export { findWalls, AUTO_WALL_DEFAULTS } from './autoWalls.ts';
