@@ -1,0 +1,395 @@
+/**
+ * Validation area 'channel': channel walls, S profiles across channels and the coverage of their intervals,
+ * measured on seeded renderings of the independent renderer (tests/validation/render/) whose truth is the
+ * construction itself. The analyses are called in process exactly as the CLI calls them:
+ * - `profile IMAGE --auto-walls` / `--walls`: analyseOrientation, then analyseProfile (src/cli/commands/profile.ts);
+ * - `plate IMAGE --walls ... [--sample-retardance-nm G | --background x,y,w,h]`: analysePlate with a profile request;
+ * - `plate2 A B --walls ... [--background x,y,w,h]`: analysePlatePair with a profile request;
+ * - `orient IMAGE --axis-deg A`: analyseOrientation.
+ *
+ * Rows:
+ * 1. auto walls: per wall, the largest perpendicular distance of the true visible inner wall from the line of
+ *    the found wall (goal <= 1 px); a refusal is a miss unless the two walls cannot be told apart in the image.
+ * 2. given walls (the true inner walls): the largest |bin S - truth| over every bin, the two touching the walls
+ *    included (goal <= 0.03); truth = the mean of cos 2(theta - axis) over the bin's pixels as rendered.
+ * 3. coverage over seeded renderings: the fraction of 95 % intervals (bins, core, skin, core/skin ratio,
+ *    whole-image S_2D and S_axis) that contain the truth (goal 90-99 %; with n = 100 renderings the observed rate
+ *    of an exact 95 % interval has a standard deviation of sqrt(0.95 * 0.05 / 100) = 2.2 %); the truth is the
+ *    material's order, E[cos 2(theta - axis)] (render/truth.ts says why). The note gives the rate the same
+ *    intervals would reach made 20 % narrower and 20 % wider, and against the rendered (realised) mean. A last row
+ *    counts point estimates outside their own interval (goal 0).
+ *
+ * Set RETARDA_VALIDATE_PNGS=DIR to write the first rendering of every case there as PNG (with its walls in the log).
+ */
+import { InputError } from '../../src/common/errors.ts';
+import { analyseOrientation } from '../../src/analyses/orient.ts';
+import { analyseProfile, type ProfileResult } from '../../src/analyses/profile.ts';
+import { analysePlate, analysePlatePair } from '../../src/analyses/optics.ts';
+import { atMost, within, type ValidationArea, type ValidationRow } from './goals.ts';
+import {
+  largestLineDistance, profileTruth, renderScene, scene, wholeImageTruth, writeRenderingPngs,
+  type Rendering, type SceneSpec, type Segment, type WallStyle,
+} from './render/index.ts';
+
+type Walls = [Segment, Segment];
+
+const WALL_GOAL_PX = 1;
+const BIN_GOAL = 0.03;
+const COVERAGE_LO = 90, COVERAGE_HI = 99;
+
+const pngDir = process.env.RETARDA_VALIDATE_PNGS;
+const seenPng = new Set<string>();
+function maybePng(r: Rendering, name: string) {
+  if (!pngDir || seenPng.has(name)) return;
+  seenPng.add(name);
+  const safe = name.replace(/[^A-Za-z0-9_.-]+/g, '_');
+  writeRenderingPngs(r, pngDir, safe);
+  process.stderr.write(`${safe}: walls ${JSON.stringify(r.truth.walls)} background ${JSON.stringify(r.truth.backgroundRect)}\n`);
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Wall kinds (grey levels for texture images; for colour images `level` multiplies the sample-free colour).
+
+const band = (thicknessPx: number, level: number): WallStyle => ({ kind: 'band', thicknessPx, level, edgePx: 0, edgeLevel: 0 });
+const brightEdge = (edgePx: number, edgeLevel: number, thicknessPx: number, level: number): WallStyle => ({ kind: 'bright-edge', edgePx, edgeLevel, thicknessPx, level });
+const noBand: WallStyle = { kind: 'none', thicknessPx: 0, level: 0, edgePx: 0, edgeLevel: 0 };
+
+// ---------------------------------------------------------------------------------------------------------
+// 1. Automatic walls.
+
+interface WallCase { label: string; spec: SceneSpec }
+
+function autoWallCases(quick: boolean): WallCase[] {
+  const t = (label: string, seed: number, c: Parameters<typeof scene>[0]): WallCase => ({ label, spec: scene({ name: label, seed, width: 480, height: 360, ...c }) });
+  const list: WallCase[] = [
+    t('texture 0deg, dark bands 24 px', 101, { channel: { axisDeg: 0, widthPx: 160 }, walls: [band(24, 0.12), band(24, 0.12)] }),
+    t('texture 90deg, dark bands 16 px', 102, { channel: { axisDeg: 90, widthPx: 140 }, walls: [band(16, 0.15), band(16, 0.15)] }),
+    t('texture 35deg, bands 30/8 px, 0.08/0.25', 103, { channel: { axisDeg: 35, widthPx: 180 }, walls: [band(30, 0.08), band(8, 0.25)] }),
+    t('texture -61deg, bright edges 3 px + bands', 104, { channel: { axisDeg: -61, widthPx: 170 }, walls: [brightEdge(3, 0.95, 18, 0.1), brightEdge(3, 0.95, 18, 0.1)] }),
+    t('texture 23deg, taper 3deg, bands', 105, { channel: { axisDeg: 23, widthPx: 150, taperDeg: 3 }, walls: [band(20, 0.12), band(20, 0.12)] }),
+    t('texture 0deg, no band, flat background 0.8', 106, { channel: { axisDeg: 0, widthPx: 200 }, walls: [noBand, noBand], background: { kind: 'flat', level: 0.8 } }),
+    t('texture 23deg, first wall partly out of frame', 107, { width: 640, height: 480, channel: { axisDeg: 23, widthPx: 220, offsetPx: 150 }, walls: [band(20, 0.12), band(20, 0.12)] }),
+    t('texture 35deg, bright edge / no band (flat 0.3)', 108, { channel: { axisDeg: 35, widthPx: 130 }, walls: [brightEdge(2, 0.9, 12, 0.15), noBand], background: { kind: 'flat', level: 0.3 } }),
+    t('texture -61deg, 16-bit, uneven light, shot noise', 109, {
+      channel: { axisDeg: -61, widthPx: 120 }, walls: [band(14, 0.1), band(22, 0.18)],
+      imaging: { bitDepth: 16, gradient: [0.4, -0.3], vignetting: 0.3, fullWellElectrons: 3000, psfSigmaPx: 1.4 },
+    }),
+    t('texture 0deg, width 250 px, 640x480', 110, { width: 640, height: 480, channel: { axisDeg: 0, widthPx: 250 }, walls: [band(10, 0.1), band(26, 0.2)] }),
+    t('colour 0deg, dark bands, sample-free outside', 111, { source: 'colour', channel: { axisDeg: 0, widthPx: 160 }, walls: [band(20, 0.25), band(20, 0.25)], background: { kind: 'sample-free' } }),
+    t('colour 35deg, no band, sample-free outside', 112, { source: 'colour', channel: { axisDeg: 35, widthPx: 170 }, walls: [noBand, noBand], background: { kind: 'sample-free' } }),
+    t('colour -61deg, bright edges', 113, { source: 'colour', channel: { axisDeg: -61, widthPx: 150 }, walls: [brightEdge(3, 0.7, 16, 0.2), brightEdge(3, 0.7, 16, 0.2)], background: { kind: 'sample-free' } }),
+    t('colour 23deg, taper 2deg, bands 24/10 px', 114, { source: 'colour', channel: { axisDeg: 23, widthPx: 140, taperDeg: 2 }, walls: [band(24, 0.15), band(10, 0.35)], background: { kind: 'sample-free' }, optics: { retardanceNm: 180 } }),
+    t('colour 90deg, bands, isotropic birefringent outside', 115, { source: 'colour', channel: { axisDeg: 90, widthPx: 150 }, walls: [band(16, 0.2), band(16, 0.2)], background: { kind: 'texture', retardanceNm: 120 } }),
+    t('texture 0deg, no wall at all (order continues outside)', 116, { channel: { axisDeg: 0, widthPx: 160 }, walls: [noBand, noBand], background: { kind: 'interior' }, order: { core: 0.7, skin: 0.7 }, wallsDistinct: false }),
+    t('texture 23deg, second wall out of frame', 117, { channel: { axisDeg: 23, widthPx: 300, offsetPx: -140 }, walls: [band(20, 0.12), band(20, 0.12)], wallsDistinct: false }),
+  ];
+  return quick ? list.filter((c) => [101, 103, 106, 111, 116].includes(c.spec.seed)) : list;
+}
+
+/** Walls found the way `profile --auto-walls` (texture) and `plate --auto-walls` (colour) find them. */
+async function foundWalls(r: Rendering): Promise<Walls> {
+  if (r.spec.source === 'texture') {
+    const { field } = await analyseOrientation(r.image, {});
+    return (await analyseProfile(r.image, field, { autoWalls: true })).walls;
+  }
+  const { result } = await analysePlate(r.image, { profile: { autoWalls: true } });
+  return result.profile!.walls;
+}
+
+async function autoWallRows(quick: boolean): Promise<ValidationRow[]> {
+  const rows: ValidationRow[] = [];
+  for (const c of autoWallCases(quick)) {
+    const r = renderScene(c.spec);
+    maybePng(r, `walls ${c.label}`);
+    const name = `${c.label} (seed ${c.spec.seed})`;
+    let found: Walls | null = null, refusal = '';
+    try { found = await foundWalls(r); } catch (e) {
+      if (!(e instanceof InputError)) throw e;
+      refusal = e.message;
+    }
+    if (!c.spec.wallsDistinct) {
+      const ok = found === null;
+      rows.push({
+        area: 'channel walls', case: name, quantity: 'refuses (1 = refused)', value: ok ? 1 : 0, goal: '= 1 (no two walls to find)', pass: ok,
+        note: ok ? refusal : `found ${fmtWalls(found!)}`,
+      });
+      continue;
+    }
+    const truth = r.truth.walls!;
+    if (!found) {
+      for (const k of [0, 1]) rows.push(atMost('channel walls', name, `wall ${k} error px (max along wall)`, NaN, WALL_GOAL_PX, 'px', `refused: ${refusal}`));
+      continue;
+    }
+    const straight = [largestLineDistance(truth[0], found[0]), largestLineDistance(truth[1], found[1])];
+    const swapped = [largestLineDistance(truth[0], found[1]), largestLineDistance(truth[1], found[0])];
+    const isSwapped = Math.max(...swapped) < Math.max(...straight);
+    const err = isSwapped ? swapped : straight;
+    for (const k of [0, 1] as const) {
+      const f = found[isSwapped ? 1 - k : k];
+      rows.push(atMost('channel walls', name, `wall ${k} error px (max along wall)`, err[k], WALL_GOAL_PX, 'px',
+        `true ${fmtSeg(truth[k])}, found ${fmtSeg(f)}${isSwapped ? '; walls returned in the other order' : ''}`));
+    }
+  }
+  return rows;
+}
+
+const fmtSeg = (s: Segment) => [s.x1, s.y1, s.x2, s.y2].map((v) => v.toFixed(1)).join(',');
+const fmtWalls = (w: Walls) => `${fmtSeg(w[0])};${fmtSeg(w[1])}`;
+
+// ---------------------------------------------------------------------------------------------------------
+// 2. Given walls: every bin against the rendered truth.
+
+type Reader = 'texture' | 'plate, known retardance' | 'plate, background' | 'plate2, background';
+
+interface ProfileCase { label: string; spec: SceneSpec; readers: Reader[]; bins: number; stations: number }
+
+function profileCases(quick: boolean): ProfileCase[] {
+  const list: ProfileCase[] = [];
+  for (const [k, axisDeg] of [0, 23, 35, -61].entries()) {
+    list.push({
+      label: `texture ${axisDeg}deg, bands`, readers: ['texture'], bins: 20, stations: 1,
+      spec: scene({ name: 'tex', seed: 201 + k, width: 480, height: 360, channel: { axisDeg, widthPx: 170 }, walls: [band(20, 0.12), band(20, 0.12)], order: { core: 0.8, skin: 0.5 } }),
+    });
+    list.push({
+      label: `colour ${axisDeg}deg, bands, Gamma 250 nm`, readers: ['plate, known retardance', 'plate, background', 'plate2, background'], bins: 20, stations: 1,
+      spec: scene({
+        name: 'col', seed: 211 + k, width: 480, height: 360, source: 'colour', channel: { axisDeg, widthPx: 170 }, walls: [band(20, 0.25), band(20, 0.25)],
+        background: { kind: 'sample-free' }, order: { core: 0.8, skin: 0.5 }, optics: { retardanceNm: 250, turnDeg: 45 },
+      }),
+    });
+  }
+  list.push(
+    {
+      label: 'texture 35deg, taper 3deg, skin > core, 3 stations', readers: ['texture'], bins: 20, stations: 3,
+      spec: scene({ name: 'tex-taper', seed: 221, width: 640, height: 480, channel: { axisDeg: 35, widthPx: 220, taperDeg: 3 }, walls: [brightEdge(3, 0.9, 16, 0.1), band(12, 0.2)], order: { core: 0.5, skin: 0.85 } }),
+    },
+    {
+      label: 'texture -61deg, width 90 px, 16-bit, uneven light', readers: ['texture'], bins: 10, stations: 1,
+      spec: scene({
+        name: 'tex-narrow', seed: 222, width: 400, height: 300, channel: { axisDeg: -61, widthPx: 90 }, walls: [band(18, 0.1), band(18, 0.1)], order: { core: 0.75, skin: 0.6 },
+        imaging: { bitDepth: 16, gradient: [0.3, 0.2], vignetting: 0.25, fullWellElectrons: 4000 },
+      }),
+    },
+    {
+      label: 'colour 23deg, Gamma 165 nm, no band', readers: ['plate, known retardance', 'plate2, background'], bins: 20, stations: 1,
+      spec: scene({
+        name: 'col-165', seed: 223, width: 480, height: 360, source: 'colour', channel: { axisDeg: 23, widthPx: 160 }, walls: [noBand, noBand],
+        background: { kind: 'sample-free' }, order: { core: 0.7, skin: 0.7 }, optics: { retardanceNm: 165, turnDeg: 45 },
+      }),
+    },
+    {
+      label: 'colour 45deg (along compensator), Gamma 300 nm +-8 %', readers: ['plate, background', 'plate2, background'], bins: 20, stations: 1,
+      spec: scene({
+        name: 'col-45', seed: 224, width: 480, height: 360, source: 'colour', channel: { axisDeg: 45, widthPx: 180 }, walls: [band(16, 0.3), band(16, 0.3)],
+        background: { kind: 'sample-free' }, order: { core: 0.85, skin: 0.55 }, optics: { retardanceNm: 300, retardanceSpread: 0.08, turnDeg: 45 },
+      }),
+    },
+  );
+  if (!quick) return list;
+  return list.filter((c) => c.spec.source === 'texture' && c.stations === 1 && c.bins === 20);
+}
+
+/** The profile a reader gives with the true walls, as the CLI would compute it. */
+async function readProfile(r: Rendering, reader: Reader, walls: Walls, bins: number, stations: number): Promise<ProfileResult> {
+  const req = { channel: { walls }, bins, stations };
+  const bg = r.truth.backgroundRect ?? undefined;
+  switch (reader) {
+    case 'texture': {
+      const { field } = await analyseOrientation(r.image, {});
+      return analyseProfile(r.image, field, req);
+    }
+    case 'plate, known retardance':
+      return (await analysePlate(r.image, { sampleRetardanceNm: r.spec.optics.retardanceNm, profile: req })).result.profile!;
+    case 'plate, background':
+      if (!bg) throw new Error(`${r.spec.name}: no sample-free rectangle`);
+      return (await analysePlate(r.image, { background: bg, profile: req })).result.profile!;
+    case 'plate2, background':
+      if (!bg || !r.imageB) throw new Error(`${r.spec.name}: no second image or no sample-free rectangle`);
+      return (await analysePlatePair(r.image, r.imageB, { background: bg, profile: req })).result.profile!;
+  }
+}
+
+/** Counts point estimates outside their own interval, over every interval any row looked at. */
+const outside = { count: 0, total: 0, examples: [] as string[] };
+function checkInside(what: string, v: number, lo: number, hi: number) {
+  if (![v, lo, hi].every(Number.isFinite)) return;
+  outside.total++;
+  if (v < lo - 1e-12 || v > hi + 1e-12) {
+    outside.count++;
+    if (outside.examples.length < 3) outside.examples.push(`${what}: ${v.toFixed(3)} not in ${lo.toFixed(3)}..${hi.toFixed(3)}`);
+  }
+}
+
+async function profileRows(quick: boolean): Promise<ValidationRow[]> {
+  const rows: ValidationRow[] = [];
+  for (const c of profileCases(quick)) {
+    const r = renderScene(c.spec);
+    maybePng(r, `profile ${c.label}`);
+    const walls = r.truth.walls!;
+    const truth = profileTruth(r.truth, c.spec.width, { bins: c.bins, stations: c.stations });
+    for (const reader of c.readers) {
+      const name = `${c.label}, ${reader} (seed ${c.spec.seed})`;
+      let p: ProfileResult;
+      try { p = await readProfile(r, reader, walls, c.bins, c.stations); } catch (e) {
+        if (!(e instanceof InputError)) throw e;
+        rows.push(atMost('channel profile', name, 'largest |bin S - truth|', NaN, BIN_GOAL, '', `refused: ${e.message}`));
+        continue;
+      }
+      const errs: { e: number; where: string }[] = [];
+      const compare = (bins: ProfileResult['bins'], tb: typeof truth.bins, where: string) => bins.forEach((b, k) => {
+        checkInside(`${name} bin ${k}`, b.order, b.ciLow, b.ciHigh);
+        errs.push({ e: b.n > 0 ? Math.abs(b.order - tb[k].realised) : NaN, where: `${where}bin ${k} (s ${b.s.toFixed(2)}): ${b.order.toFixed(3)} vs ${tb[k].realised.toFixed(3)}, n ${b.n}` });
+      });
+      compare(p.bins, truth.bins, '');
+      if (c.stations > 1) p.stations.forEach((st, j) => compare(st.bins, truth.stations[j].bins, `station ${j} `));
+      const worst = errs.reduce((a, b) => (!(a.e >= b.e) ? b : a));
+      const empty = errs.filter((x) => !Number.isFinite(x.e)).length;
+      rows.push(atMost('channel profile', name, 'largest |bin S - truth|', empty ? NaN : worst.e, BIN_GOAL, '',
+        `${empty ? `${empty} bins empty; ` : ''}worst ${worst.where}; core ${p.core.order.toFixed(3)} vs ${truth.core.realised.toFixed(3)}, skin ${p.skin.order.toFixed(3)} vs ${truth.skin.realised.toFixed(3)}`));
+    }
+  }
+  return rows;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// 3. Coverage of the 95 % intervals over seeded renderings.
+
+interface Tally { hit: number; narrow: number; wide: number; realised: number; n: number }
+const tally = (): Tally => ({ hit: 0, narrow: 0, wide: 0, realised: 0, n: 0 });
+
+/** Counts whether [lo, hi] (and the same made 20 % narrower or wider about its centre) contains the truth. */
+function count(t: Tally, lo: number, hi: number, ensemble: number, realised: number) {
+  if (![lo, hi, ensemble].every(Number.isFinite)) { t.n++; return; }
+  const c = (lo + hi) / 2, h = (hi - lo) / 2;
+  const inside = (f: number, v: number) => v >= c - f * h && v <= c + f * h;
+  t.n++;
+  if (inside(1, ensemble)) t.hit++;
+  if (inside(0.8, ensemble)) t.narrow++;
+  if (inside(1.2, ensemble)) t.wide++;
+  if (inside(1, realised)) t.realised++;
+}
+
+function coverageRow(kase: string, what: string, t: Tally, extra = ''): ValidationRow {
+  const pct = (v: number) => (100 * v) / t.n;
+  return within('channel coverage', kase, `${what}: 95 % intervals covering the truth %`, pct(t.hit), COVERAGE_LO, COVERAGE_HI, '%',
+    `${t.n} intervals; x0.8 ${pct(t.narrow).toFixed(1)} %, x1.2 ${pct(t.wide).toFixed(1)} %; vs rendered mean ${pct(t.realised).toFixed(1)} %${extra}`);
+}
+
+interface CoverageCase {
+  label: string;
+  make: (seed: number) => SceneSpec;
+  kind: 'profile' | 'whole image';
+  reader: Reader;
+  bins: number;
+}
+
+function coverageCases(): CoverageCase[] {
+  const small = { width: 320, height: 240 };
+  return [
+    {
+      label: 'texture 0deg, core 0.8 / skin 0.5', kind: 'profile', reader: 'texture', bins: 10,
+      make: (seed) => scene({ name: 'cov-tex-0', seed, ...small, channel: { axisDeg: 0, widthPx: 140 }, walls: [band(16, 0.12), band(16, 0.12)], order: { core: 0.8, skin: 0.5 } }),
+    },
+    {
+      label: 'texture 35deg, taper 2deg, core 0.5 / skin 0.8', kind: 'profile', reader: 'texture', bins: 10,
+      make: (seed) => scene({ name: 'cov-tex-35', seed, ...small, channel: { axisDeg: 35, widthPx: 130, taperDeg: 2 }, walls: [brightEdge(2, 0.9, 12, 0.12), band(16, 0.15)], order: { core: 0.5, skin: 0.8 } }),
+    },
+    {
+      label: 'texture -61deg, uniform 0.7', kind: 'profile', reader: 'texture', bins: 10,
+      make: (seed) => scene({ name: 'cov-tex-61', seed, ...small, channel: { axisDeg: -61, widthPx: 120 }, walls: [band(16, 0.12), band(16, 0.12)], order: { core: 0.7, skin: 0.7 } }),
+    },
+    {
+      label: 'colour 23deg, core 0.8 / skin 0.5, two images', kind: 'profile', reader: 'plate2, background', bins: 10,
+      make: (seed) => scene({
+        name: 'cov-plate2', seed, ...small, source: 'colour', channel: { axisDeg: 23, widthPx: 130 }, walls: [band(14, 0.25), band(14, 0.25)],
+        background: { kind: 'sample-free' }, order: { core: 0.8, skin: 0.5 }, optics: { retardanceNm: 250, turnDeg: 45 },
+      }),
+    },
+    {
+      label: 'colour 45deg (along compensator), known retardance 250 nm', kind: 'profile', reader: 'plate, known retardance', bins: 10,
+      make: (seed) => scene({
+        name: 'cov-plate', seed, ...small, source: 'colour', channel: { axisDeg: 45, widthPx: 130 }, walls: [band(14, 0.25), band(14, 0.25)],
+        background: { kind: 'sample-free' }, order: { core: 0.8, skin: 0.5 }, optics: { retardanceNm: 250 },
+      }),
+    },
+    {
+      label: 'texture, whole image, S 0.7 at 23deg', kind: 'whole image', reader: 'texture', bins: 0,
+      make: (seed) => scene({ name: 'cov-orient', seed, ...small, channel: null, directorDeg: 23, order: { core: 0.7, skin: 0.7 } }),
+    },
+    {
+      label: 'texture, whole image, isotropic', kind: 'whole image', reader: 'texture', bins: 0,
+      make: (seed) => scene({ name: 'cov-iso', seed, ...small, channel: null, directorDeg: 23, order: { core: 0, skin: 0 } }),
+    },
+  ];
+}
+
+async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
+  const rows: ValidationRow[] = [];
+  const cases = coverageCases().filter((c) => !quick || c.reader === 'texture');
+  for (const c of cases) {
+    const renderings = quick ? 12 : c.reader.startsWith('plate2') ? 100 : 120;
+    const seed0 = 10_000 + 1000 * cases.indexOf(c);
+    const name = `${c.label} (seeds ${seed0}-${seed0 + renderings - 1})`;
+    if (c.kind === 'whole image') {
+      const s2d = tally(), sax = tally();
+      for (let i = 0; i < renderings; i++) {
+        const r = renderScene(c.make(seed0 + i));
+        maybePng(r, `coverage ${c.label}`);
+        const axisDeg = r.spec.directorDeg;
+        const { result } = await analyseOrientation(r.image, { axisDeg, seed: seed0 + i });
+        const t = wholeImageTruth(r.truth, axisDeg);
+        count(s2d, result.order2DCi[0], result.order2DCi[1], t.order2D.ensemble, t.order2D.realised);
+        count(sax, result.axisOrderCi![0], result.axisOrderCi![1], t.axisOrder.ensemble, t.axisOrder.realised);
+        checkInside(`${name} S_2D`, result.order2D, result.order2DCi[0], result.order2DCi[1]);
+        checkInside(`${name} S_axis`, result.axisOrder!, result.axisOrderCi![0], result.axisOrderCi![1]);
+      }
+      rows.push(coverageRow(name, 'whole-image S_2D', s2d), coverageRow(name, 'whole-image S_axis', sax));
+      continue;
+    }
+    const bins = tally(), edgeBins = tally(), core = tally(), skin = tally(), ratio = tally();
+    let refused = 0;
+    for (let i = 0; i < renderings; i++) {
+      const r = renderScene(c.make(seed0 + i));
+      maybePng(r, `coverage ${c.label}`);
+      const walls = r.truth.walls!;
+      let p: ProfileResult;
+      try { p = await readProfile(r, c.reader, walls, c.bins, 1); } catch (e) {
+        if (!(e instanceof InputError)) throw e;
+        refused++;
+        continue;
+      }
+      const t = profileTruth(r.truth, r.spec.width, { bins: c.bins });
+      p.bins.forEach((b, k) => {
+        count(k === 0 || k === c.bins - 1 ? edgeBins : bins, b.ciLow, b.ciHigh, t.bins[k].ensemble, t.bins[k].realised);
+        checkInside(`${name} bin ${k}`, b.order, b.ciLow, b.ciHigh);
+      });
+      count(core, p.core.ciLow, p.core.ciHigh, t.core.ensemble, t.core.realised);
+      count(skin, p.skin.ciLow, p.skin.ciHigh, t.skin.ensemble, t.skin.realised);
+      count(ratio, p.coreSkinRatioCi[0], p.coreSkinRatioCi[1], t.ratio.ensemble, t.ratio.realised);
+      checkInside(`${name} core`, p.core.order, p.core.ciLow, p.core.ciHigh);
+      checkInside(`${name} skin`, p.skin.order, p.skin.ciLow, p.skin.ciHigh);
+      checkInside(`${name} core/skin`, p.coreSkinRatio, p.coreSkinRatioCi[0], p.coreSkinRatioCi[1]);
+    }
+    const ref = refused ? `; ${refused} renderings refused` : '';
+    const all: Tally = { hit: bins.hit + edgeBins.hit, narrow: bins.narrow + edgeBins.narrow, wide: bins.wide + edgeBins.wide, realised: bins.realised + edgeBins.realised, n: bins.n + edgeBins.n };
+    rows.push(
+      coverageRow(name, `bins (all ${c.bins})`, all, `; interior bins only ${((100 * bins.hit) / bins.n).toFixed(1)} %, the two wall bins ${((100 * edgeBins.hit) / edgeBins.n).toFixed(1)} %${ref}`),
+      coverageRow(name, 'core', core, ref),
+      coverageRow(name, 'skin', skin, ref),
+      coverageRow(name, 'core/skin ratio', ratio, ref),
+    );
+  }
+  return rows;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+
+const channelArea: ValidationArea = async ({ quick }) => {
+  outside.count = 0; outside.total = 0; outside.examples = [];
+  const rows = [...await autoWallRows(quick), ...await profileRows(quick), ...await coverageRows(quick)];
+  rows.push(atMost('channel coverage', 'every interval above', 'point estimates outside their own interval (count)', outside.count, 0, '',
+    `${outside.total} intervals checked${outside.examples.length ? '; e.g. ' + outside.examples.join('; ') : ''}`));
+  return rows;
+};
+
+export default channelArea;
