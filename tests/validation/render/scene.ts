@@ -118,7 +118,7 @@ export const SCENE_DEFAULTS: SceneSpec = {
   wallsDistinct: true,
 };
 
-type DeepPartial<T> = { [K in keyof T]?: T[K] extends (infer U)[] ? U[] : T[K] extends object | null ? DeepPartial<T[K]> | null : T[K] };
+type DeepPartial<T> = { [K in keyof T]?: T[K] extends (infer U)[] ? Partial<U>[] : T[K] extends object | null ? DeepPartial<T[K]> | null : T[K] };
 
 /** The defaults with the given changes (objects merged one level deep; `channel: null` kept). */
 export function scene(changes: DeepPartial<SceneSpec>): SceneSpec {
