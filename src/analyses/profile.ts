@@ -1,7 +1,7 @@
-import type { Image } from '../image/types.ts';
+import { toGrey, type Image } from '../image/types.ts';
 import { InputError } from '../common/errors.ts';
 import type { OrientationField } from '../orientation/index.ts';
-import { channelProfile, findWalls, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
+import { channelProfile, findWalls, wallFreeTextureField, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
 
 export interface ProfileRequest extends ProfileOptions {
@@ -30,13 +30,15 @@ export async function resolveChannel(img: Image, req: ProfileRequest): Promise<{
 /** S across a channel from any orientation field (texture, plate, plate pair, four-angle). */
 export async function analyseProfile(img: Image, field: OrientationField, req: ProfileRequest, fieldOptions: Record<string, unknown> = {}): Promise<ProfileResult> {
   const { channel, found } = await resolveChannel(img, req);
-  const p = channelProfile(field, channel, req);
+  // A texture field next to a wall reads the wall's own edge: recompute those pixels from the interior only.
+  const near = field.method === 'texture' ? wallFreeTextureField(toGrey(img), field, channel) : null;
+  const p = channelProfile(near ? near.field : field, channel, req);
   const { warnings, options, ...rest } = p;
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'profile', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
     ...rest, fieldMethod: field.method, walls: channel.walls, wallsFound: found,
-    options: { ...fieldOptions, ...field.options, ...options },
+    options: { ...fieldOptions, ...field.options, ...options, ...(near ? { nearWalls: `normalised convolution: gradients within ${near.clearancePx} px of a wall left out` } : {}) },
     warnings: [...warnings, ...ambiguityWarning(field, p.axisDeg)],
   };
 }

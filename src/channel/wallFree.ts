@@ -1,0 +1,41 @@
+import type { Plane } from '../common/plane.ts';
+import type { OrientationField } from '../orientation/types.ts';
+import { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from '../orientation/maskedTensor.ts';
+import { channelFrame, transverseLinear, type Channel } from './geometry.ts';
+
+/**
+ * Extra distance from a wall, beyond the derivative filter's reach, whose gradients are left out: the
+ * optics' blur spreads the wall's own edge over a pixel or two, and a wall placed by hand or found may
+ * be a pixel off.
+ */
+export const WALL_CLEARANCE_PX = 2;
+
+/**
+ * The texture field inside a channel with the walls' own edges kept out of it. Pixels whose derivative
+ * filter reaches within WALL_CLEARANCE_PX of a wall carry the wall's edge gradient (which runs along the
+ * wall, so it would read as order along the axis); their gradients get certainty 0, and every pixel
+ * whose integration window reaches them is recomputed by normalised convolution from the interior's
+ * gradients only (recomputeWithCertainty; Knutsson & Westin 1993). Pixels farther in are unchanged.
+ * Returns the new field and the clearance used, for the result's options.
+ */
+export function wallFreeTextureField(plane: Plane, field: OrientationField, channel: Channel): { field: OrientationField; clearancePx: number } {
+  const clearance = derivativeReachPx(field) + WALL_CLEARANCE_PX;
+  const reach = clearance + integrationReachPx(field) + 1;
+  const frame = channelFrame(channel);
+  const L = transverseLinear(frame, channel);
+  const { width, height } = plane;
+  const certainty = new Uint8Array(width * height);
+  const pixels: number[] = [];
+  for (let y = 0; y < height; y++) {
+    let t0 = L.t0.c + L.t0.cy * y, t1 = L.t1.c + L.t1.cy * y;
+    for (let x = 0; x < width; x++, t0 += L.t0.cx, t1 += L.t1.cx) {
+      // t0 <= 0 <= t1 inside: distances along the normal to the first and second wall.
+      if (!(t0 < 0 && t1 > 0)) continue;
+      const d = Math.min(-t0, t1);
+      const i = y * width + x;
+      if (d >= clearance) certainty[i] = 1;
+      if (d < reach) pixels.push(i);
+    }
+  }
+  return { field: recomputeWithCertainty(plane, field, certainty, pixels), clearancePx: clearance };
+}
