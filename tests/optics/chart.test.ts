@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
 import {
   interferenceChart, renderChart, chartTitle, orderBand, colourModel, interferenceColour, wavelengthGrid, chromaticity, deltaE2000, fullWavePlate,
   type Vec3,
@@ -6,28 +7,40 @@ import {
 import { DEG } from '../../src/common/angles.ts';
 import { InputError } from '../../src/common/errors.ts';
 
-// domain.md §13: D65 x CIE 1931 5-nm table (360-830), open beam Y = 1, Lab white = open beam, sRGB 4-digit matrix, clipped.
+// Reference values: tests/fixtures/reference/make_optics_reference.py (numpy, with the CIE 1931 and D65 5-nm tables
+// from Debian's colord-data; regenerate with /usr/bin/python3 tests/fixtures/reference/make_optics_reference.py),
+// an implementation of the first-principles chart that shares no code with src/: D65 x CIE 1931 5-nm table
+// (360-830 nm), sample at 45 deg between crossed polars, open beam Y = 1, Lab white = open beam, sRGB 4-digit
+// matrix after Bradford adaptation to D65, clipped (Sorensen 2013, Eur. J. Mineral. 25:5-10, for the method).
+// The same definitions computed twice agree to rounding: Y to 1e-5, Lab to 1e-3, sRGB8 exactly.
+const REF = JSON.parse(readFileSync(new URL('../fixtures/reference/optics-reference.json', import.meta.url), 'utf8'));
+type RefRow = { retardanceNm: number; Y: number; xy: [number, number]; lab: Vec3; srgb8: Vec3 };
+const ref = (g: number): RefRow => {
+  const r = (REF.chart.rows as RefRow[]).find((x) => x.retardanceNm === g);
+  if (!r) throw new Error(`no reference row at ${g} nm: add it to make_optics_reference.py`);
+  return r;
+};
 const GRID = wavelengthGrid(360, 830, 5);
 const D65 = { illuminant: { kind: 'D65' as const } };
 const plain = colourModel({ ...D65, compensator: null }, GRID);
 const at45 = (g: number) => interferenceColour(plain, { angleRad: 45 * DEG, retardanceNm: g });
 const near = (a: Vec3, b: Vec3, tol: number) => a.forEach((v, i) => expect(Math.abs(v - b[i])).toBeLessThanOrEqual(tol));
+const sameAsReference = (c: { xyz: Vec3; lab: Vec3; srgb8: Vec3 }, r: RefRow) => {
+  expect(Math.abs(c.xyz[1] - r.Y)).toBeLessThan(1e-5);
+  near(c.lab, r.lab, 1e-3);
+  expect(c.srgb8).toEqual(r.srgb8);
+};
+/** CIELAB hue angle h_ab in degrees, 0-360 (CIE 015:2004, 8.2.1). */
+const hueDeg = (lab: Vec3) => ((Math.atan2(lab[2], lab[1]) / DEG) + 360) % 360;
 
 describe('interference colours between crossed polars (D65)', () => {
-  it('first-order white at 259 nm', () => {
-    // domain.md §1 [C]: Y = 0.979, Lab (99.1, -4.3, 2.2), +-0.3. Y to +-1.5e-3: L* = 99.1 given to 0.05 fixes Y to
-    // about +-1.3e-3 (dL*/dY = 38.9 at Y = 0.98), so the two published values agree only that far.
-    const c = at45(259);
-    expect(Math.abs(c.xyz[1] - 0.979)).toBeLessThan(1.5e-3);
-    near(c.lab, [99.1, -4.3, 2.2], 0.3);
+  it('first-order white at 259 nm, sensitive tint at 551 nm, orange-yellow 450, blue 650, yellow-green 800, high-order white 5000', () => {
+    for (const g of [259, 551, 450, 650, 800, 5000]) sameAsReference(at45(g), ref(g));
+    // High-order white: Y -> 1/2 (the mean of sin^2 over many orders) and nearly no chroma (reference: C* 2.3).
+    expect(Math.abs(at45(5000).xyz[1] - 0.5)).toBeLessThan(0.01);
   });
 
-  it('the Y minimum ("sensitive tint") at 551 nm', () => {
-    // domain.md §1 [C]: Y = 0.0524, Lab (27.4, 72.8, -71.6), sRGB8 (104, 0, 179), +-0.5; Y minimum at 551 nm under D65, 564 nm at 3200 K.
-    const c = at45(551);
-    expect(Math.abs(c.xyz[1] - 0.0524)).toBeLessThan(5e-4);
-    near(c.lab, [27.4, 72.8, -71.6], 0.5);
-    near(c.srgb8, [104, 0, 179], 0.5);
+  it('the Y minimum ("sensitive tint") is at 551 nm under D65 and 564 nm under a 3200 K lamp', () => {
     const yMinAt = (m: ReturnType<typeof colourModel>) => {
       let best = 0, y = Infinity;
       for (let g = 450; g <= 650; g++) {
@@ -36,98 +49,103 @@ describe('interference colours between crossed polars (D65)', () => {
       }
       return best;
     };
-    expect(yMinAt(plain)).toBe(551);
-    expect(yMinAt(colourModel({ compensator: null }, GRID))).toBe(564);
-  });
-
-  it('orange-yellow at 450, blue at 650, yellow-green at 800 nm', () => {
-    // domain.md §1 [C]: Lab (63.6, 20.7, 79.1) / (61.5, -8.9, -60.2) / (94.8, -34.6, 35.6), +-0.5.
-    near(at45(450).lab, [63.6, 20.7, 79.1], 0.5);
-    near(at45(650).lab, [61.5, -8.9, -60.2], 0.5);
-    near(at45(800).lab, [94.8, -34.6, 35.6], 0.5);
-  });
-
-  it('high-order white at 5000 nm', () => {
-    // domain.md §1 [C]: Y = 0.503 (+-0.01), C* = 2.3 (+-0.5).
-    const c = at45(5000);
-    expect(Math.abs(c.xyz[1] - 0.503)).toBeLessThan(0.01);
-    expect(Math.abs(Math.hypot(c.lab[1], c.lab[2]) - 2.3)).toBeLessThan(0.5);
+    expect(yMinAt(plain)).toBe(REF.chart.yMinimumNm.D65);
+    expect(yMinAt(colourModel({ compensator: null }, GRID))).toBe(REF.chart.yMinimumNm['3200K']);
+    // Published: makers' first-order red plates are 530-560 nm (Olympus/Evident Microscopy Resource Center, "The First
+    // Order (Full Wave) Retardation Plate"), i.e. the tint sits there.
+    expect(REF.chart.yMinimumNm.D65).toBeGreaterThanOrEqual(530);
+    expect(REF.chart.yMinimumNm.D65).toBeLessThanOrEqual(560);
   });
 
   it('the angle scales brightness only: chromaticity at 10 deg equals that at 45 deg', () => {
-    // domain.md §1 [C]: Gamma 400 -> xy (0.4366, 0.4409) at 45 and 10 deg, Y 0.583 vs 0.068.
+    // Closed form: I/I0 = sin^2 2theta sin^2(pi Gamma / lambda), so theta only scales every wavelength alike
+    // (Y ratio sin^2 20 / sin^2 90 = 0.11698); values at 400 nm from the reference script.
     const a = interferenceColour(plain, { angleRad: 45 * DEG, retardanceNm: 400 }), b = interferenceColour(plain, { angleRad: 10 * DEG, retardanceNm: 400 });
-    const xa = chromaticity(a.xyz), xb = chromaticity(b.xyz);
-    expect(xa[0]).toBeCloseTo(0.4366, 4); expect(xa[1]).toBeCloseTo(0.4409, 4);
-    expect(xb[0]).toBeCloseTo(0.4366, 4); expect(xb[1]).toBeCloseTo(0.4409, 4);
-    expect(a.xyz[1]).toBeCloseTo(0.583, 3);
-    expect(b.xyz[1]).toBeCloseTo(0.068, 3);
+    const xa = chromaticity(a.xyz), xb = chromaticity(b.xyz), r45 = REF.chart.at400nm['45'], r10 = REF.chart.at400nm['10'];
+    for (const [ours, want] of [[xa, r45.xy], [xb, r10.xy]]) { expect(Math.abs(ours[0] - want[0])).toBeLessThan(1e-5); expect(Math.abs(ours[1] - want[1])).toBeLessThan(1e-5); }
+    expect(Math.abs(xa[0] - xb[0])).toBeLessThan(1e-12);
+    expect(Math.abs(a.xyz[1] - r45.Y)).toBeLessThan(1e-5);
+    expect(Math.abs(b.xyz[1] - r10.Y)).toBeLessThan(1e-5);
+    expect(b.xyz[1] / a.xyz[1]).toBeCloseTo(Math.sin(20 * DEG) ** 2, 9);
   });
 
-  it('10-nm sampling differs from 5-nm by at most 0.11 Delta E00 (0-3000 nm)', () => {
-    // domain.md §1 [C]: 10 nm vs 5 nm steps give max Delta E00 0.11.
+  it('10-nm sampling differs from 5-nm by as much as the reference finds (0-3000 nm, CIEDE2000)', () => {
+    // Reference: the same sweep in numpy with scikit-image's deltaE_ciede2000: max 0.116.
     const coarse = colourModel({ ...D65, compensator: null }, wavelengthGrid(360, 830, 10));
     let max = 0;
     for (let g = 0; g <= 3000; g += 5) {
       max = Math.max(max, deltaE2000(at45(g).lab, interferenceColour(coarse, { angleRad: 45 * DEG, retardanceNm: g }).lab));
     }
-    expect(Math.abs(max - 0.11)).toBeLessThan(0.02);
+    expect(Math.abs(max - REF.chart.maxDeltaE00TenVsFiveNm)).toBeLessThan(1e-3);
+  });
+
+  it('second-order "green" comes out turquoise, as the first-principles chart found', () => {
+    // Sorensen 2013 (Eur. J. Mineral. 25:5-10, abstract): on the computed chart the classical saturated second-order
+    // green is greenish-white / turquoise. In CIELAB terms (our reading of those words): at 747 nm the hue is nearer
+    // that of sRGB cyan than of sRGB green, and the chroma is below half that of the sRGB green primary.
+    const c = at45(747).lab, cyan = REF.colorimetry.labOfSrgb['00FFFF'], green = REF.colorimetry.labOfSrgb['00FF00'];
+    const dh = (h1: number, h2: number) => Math.min(Math.abs(h1 - h2), 360 - Math.abs(h1 - h2));
+    expect(dh(hueDeg(c), hueDeg(cyan))).toBeLessThan(dh(hueDeg(c), hueDeg(green)));
+    expect(Math.hypot(c[1], c[2])).toBeLessThan(0.5 * Math.hypot(green[1], green[2]));
   });
 });
 
 describe('compensator (full-wave plate at +45 deg, D65)', () => {
   const plate = (nm: number) => colourModel({ ...D65, compensator: fullWavePlate(nm) }, GRID);
-  it('the background is the sensitive tint', () => {
-    // domain.md §2 [C]: Gamma_p 550, no sample -> Lab (27.4, 73.0, -70.8), sRGB8 (106, 0, 177), +-0.5.
+  it('the background is the sensitive tint, magenta-violet', () => {
     const c = interferenceColour(plate(550), { angleRad: 0, retardanceNm: 0 });
-    near(c.lab, [27.4, 73.0, -70.8], 0.5);
-    near(c.srgb8, [106, 0, 177], 0.5);
+    near(c.lab, REF.chart.plateBackground550.lab, 1e-3);
+    expect(c.srgb8).toEqual(REF.chart.plateBackground550.srgb8);
+    // Published: the plate's background is magenta ("first-order red", Olympus/Evident, as above): a* > 0, b* < 0.
+    expect(c.lab[1]).toBeGreaterThan(0);
+    expect(c.lab[2]).toBeLessThan(0);
   });
 
   it('addition is blue (b* < 0) and subtraction yellow (b* > 0)', () => {
-    // domain.md §2 [C] and Murphy & Davidson Fig. 9-5 [S9]: Gamma_s 100 at +45 -> (61.5, -8.9, -60.2), at -45 -> (63.6, 20.7, 79.1); Gamma_p 530: (53.6, 3.9, -69.1) / (71.1, 13.4, 77.2).
+    // Published: Murphy & Davidson, Fundamentals of Light Microscopy and Electronic Imaging, ch. 9, Fig. 9-5 caption:
+    // slow axis parallel to the plate's gives a blue addition colour, crossed a yellow subtraction colour.
     const add = interferenceColour(plate(550), { angleRad: 45 * DEG, retardanceNm: 100 }).lab;
     const sub = interferenceColour(plate(550), { angleRad: -45 * DEG, retardanceNm: 100 }).lab;
     expect(add[2]).toBeLessThan(0);
     expect(sub[2]).toBeGreaterThan(0);
-    near(add, [61.5, -8.9, -60.2], 0.5);
-    near(sub, [63.6, 20.7, 79.1], 0.5);
-    near(interferenceColour(plate(530), { angleRad: 45 * DEG, retardanceNm: 100 }).lab, [53.6, 3.9, -69.1], 0.5);
-    near(interferenceColour(plate(530), { angleRad: -45 * DEG, retardanceNm: 100 }).lab, [71.1, 13.4, 77.2], 0.5);
+    // Reference script: 100 nm on a 550 or 530 nm plate, at +45 and -45 deg.
+    near(add, REF.chart.plate100nm['550:45'], 1e-3);
+    near(sub, REF.chart.plate100nm['550:-45'], 1e-3);
+    near(interferenceColour(plate(530), { angleRad: 45 * DEG, retardanceNm: 100 }).lab, REF.chart.plate100nm['530:45'], 1e-3);
+    near(interferenceColour(plate(530), { angleRad: -45 * DEG, retardanceNm: 100 }).lab, REF.chart.plate100nm['530:-45'], 1e-3);
   });
 });
 
 describe('interferenceChart', () => {
-  // Named bands, domain.md §1: names and Gamma [M], Lab / sRGB8 [C]; regression within the table's rounding (0.1 Lab, 1 sRGB8 step).
-  const table: [number, Vec3, Vec3][] = [
-    [40, [27.0, -0.4, -10.1], [54, 65, 79]], [97, [59.4, -1.1, -15.7], [125, 145, 170]], [158, [82.3, -2.4, -15.1], [184, 207, 233]],
-    [218, [95.4, -3.8, -7.3], [227, 245, 255]], [259, [99.1, -4.3, 2.2], [245, 255, 248]], [281, [99.4, -4.3, 8.8], [252, 255, 236]],
-    [332, [95.6, -2.7, 27.6], [255, 242, 189]], [430, [71.1, 13.4, 77.2], [228, 162, 0]], [505, [40.1, 52.4, -7.2], [165, 49, 108]],
-    [536, [29.2, 71.8, -56.1], [127, 0, 158]], [575, [31.4, 56.4, -81.6], [54, 41, 207]], [664, [66.6, -16.1, -53.3], [0, 175, 255]],
-    [747, [88.6, -36.8, -2.9], [125, 242, 227]], [843, [95.4, -24.8, 67.9], [236, 252, 103]], [910, [88.9, 4.4, 91.4], [255, 217, 0]],
-    [948, [81.7, 26.9, 60.8], [255, 182, 87]], [998, [69.4, 59.3, 3.4], [255, 121, 166]], [1101, [49.1, 78.4, -76.1], [172, 47, 249]],
-    [1151, [53.5, 23.2, -70.0], [52, 122, 250]], [1258, [77.2, -85.1, 7.0], [0, 226, 175]], [1334, [87.6, -69.6, 62.9], [97, 249, 89]],
-    [1426, [88.5, -5.7, 45.4], [241, 223, 134]], [1495, [81.7, 43.8, 1.3], [255, 171, 202]], [1534, [76.0, 64.8, -20.0], [255, 136, 226]],
-    [1652, [62.4, 51.9, -39.6], [207, 115, 222]], [1744, [67.4, -49.5, 1.6], [0, 187, 160]], [1811, [75.5, -88.0, 29.4], [0, 221, 128]],
-    [2007, [82.4, 17.6, -6.2], [233, 194, 217]],
+  // The named Michel-Levy bands (names and retardances as in mineralogy texts' Michel-Levy / Quincke tables, from
+  // memory); the colours from the reference script.
+  const table: [number, string][] = [[40, 'iron-grey'], [97, 'lavender-grey'], [158, 'grey-blue'],
+    [218, 'clearer grey'], [259, 'white'], [281, 'straw-yellow'], [332, 'bright yellow'], [430, 'brownish yellow'],
+    [505, 'reddish orange'], [536, 'red'], [575, 'indigo'], [664, 'sky blue'], [747, 'green'],
+    [843, 'yellowish green'], [910, 'pure yellow'], [948, 'orange'], [998, 'bright orange-red'],
+    [1101, 'dark violet-red'], [1151, 'indigo'], [1258, 'greenish blue'], [1334, 'sea green'],
+    [1426, 'greenish yellow'], [1495, 'flesh colour'], [1534, 'carmine red'], [1652, 'violet-grey'],
+    [1744, 'bluish green'], [1811, 'light green'], [2007, 'whitish grey']
   ];
   const rows = interferenceChart(D65, { maxNm: 2010, stepNm: 1, grid: GRID });
 
-  it.each(table)('row at %i nm matches the named-band table', (g, lab, rgb) => {
+  it.each(table)('row at %i nm (%s) has the reference colour', (g) => {
     const r = rows[g];
     expect(r.retardanceNm).toBe(g);
-    near(r.plain.lab, lab, 0.1);
-    near(r.plain.srgb8, rgb, 1);
+    near(r.plain.lab, ref(g).lab, 1e-3);
+    expect(r.plain.srgb8).toEqual(ref(g).srgb8);
   });
 
   it('rows with the compensator start at the tint and carry order-band labels', () => {
-    near(rows[0].withCompensator.lab, [27.4, 73.0, -70.8], 0.5);
+    near(rows[0].withCompensator.lab, REF.chart.plateBackground550.lab, 1e-3);
     expect(rows[0].band.label).toBe('I');
     expect(rows[600].band).toEqual({ order: 2, label: 'II', name: 'blue' });
   });
 
   it('orderBand follows the coarse bands', () => {
-    // domain.md §1 coarse bands [M]: first order 0-550 (grey to 200, white to 280, yellow to 450, orange/red to 550), tint 550-575, second 575-1100 (blue, green, yellow, orange/red), third 1100-1650, fourth 1650-2200.
+    // Coarse bands of the Michel-Levy chart, from memory (consistent with the reference colours above): first order
+    // 0-550 nm (grey to 200, white to 280, yellow to 450, orange/red to 550), tint 550-575, second order 575-1100
+    // (blue, green, yellow, orange/red), third 1100-1650, fourth 1650-2200, high-order white above about 2500.
     expect(orderBand(100).name).toBe('black/grey');
     expect(orderBand(250).name).toBe('white');
     expect(orderBand(400).name).toBe('yellow');

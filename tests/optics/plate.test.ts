@@ -48,8 +48,9 @@ describe('readPlate round trip (one compensator image, 3200 K, plate 550 nm at +
   });
 
   it('pixels the physics cannot read get low confidence: tiny retardance, axes near the polars or the plate', () => {
-    // domain.md §2: Gamma_eff ~ Gamma_p + Gamma sin 2 theta: no signal at Gamma ~ 0, none at theta = 0/90 (first order),
-    // and no angle sensitivity at theta = +-45 (d sin 2theta / d theta = 0).
+    // Closed form, first order in Gamma with the plate at +45: Gamma_eff = Gamma_p + Gamma sin 2 theta (docs/methods.md,
+    // the full-wave plate): no signal at Gamma ~ 0, none at theta = 0/90, and no angle sensitivity at theta = +-45
+    // (d sin 2 theta / d theta = 2 cos 2 theta = 0).
     for (const { field } of runs) for (let i = 0; i < angles.length; i++) for (let j = 0; j < rets.length; j++) {
       const nearPolars = Math.min(axialDiffDeg(angles[i], 0), axialDiffDeg(angles[i], 90)) <= 2;
       const nearPlate = Math.min(axialDiffDeg(angles[i], 45), axialDiffDeg(angles[i], -45)) <= 0.5;
@@ -57,15 +58,8 @@ describe('readPlate round trip (one compensator image, 3200 K, plate 550 nm at +
     }
   });
 
-  it('maps where one image does read orientation: some blocks are read with confidence', () => {
-    // Regression map of this forward model: e.g. -20 deg / 200 nm and 20 deg / 350 nm are readable, and at least 5 % of all pixels.
-    const { field } = runs[0];
-    expect(blockStats(field, angles.indexOf(-20), rets.indexOf(200)).highFraction).toBeGreaterThan(0.6);
-    expect(blockStats(field, angles.indexOf(20), rets.indexOf(350)).highFraction).toBeGreaterThan(0.6);
-    let high = 0;
-    for (let k = 0; k < field.confidence.length; k++) if (field.confidence[k] >= 0.5) high++;
-    expect(high / field.confidence.length).toBeGreaterThan(0.05);
-  });
+  // Where one image does read the angle, and how often the reader is confident there, is checked against an outside
+  // map of what the colour determines (numpy rendering and candidates) in tests/optics/reference-readers.test.ts.
 
   it('flags the mirror ambiguity about the compensator axis and states the assumption', () => {
     const { field } = runs[0];
@@ -82,6 +76,7 @@ describe('readPlate round trip (one compensator image, 3200 K, plate 550 nm at +
     const vals: number[] = [];
     for (let y = j * B; y < j * B + B; y++) for (let x = i * B; x < i * B + B; x++) if (field.confidence[y * W + x] >= 0.5) vals.push(field.retardanceNm![y * W + x]);
     vals.sort((a, b) => a - b);
+    // Construction: 200 nm. Within 6 nm: three steps of the reader's 2-nm retardance lookup (LOOKUP_DEFAULTS).
     expect(Math.abs(vals[vals.length >> 1] - 200)).toBeLessThanOrEqual(6);
   });
 });
@@ -136,7 +131,8 @@ describe('readPlate options', () => {
 
 describe('calibrateFromBackground', () => {
   it('finds the compensator retardance of a sample-free area', () => {
-    // A 530-nm plate (within the 530-560 nm makers' range, domain.md §2 [S10]) rendered by the model, read back.
+    // A 530-nm plate (within the 530-560 nm of makers' plates: Olympus/Evident Microscopy Resource Center, "The First
+    // Order (Full Wave) Retardation Plate") rendered by the model, read back.
     const img = gridImage([0], [0], 20, 2, { compensator: fullWavePlate(530) }, 0.002);
     const cal = calibrateFromBackground(img, parseRect('0,0,20,20'), {}, { camera: CAMERA, fitWhiteBalance: false });
     expect(Math.abs(cal.compensatorNm - 530)).toBeLessThanOrEqual(1);
@@ -216,7 +212,7 @@ describe('readPlate with a known sample retardance (sampleRetardanceNm)', () => 
     });
   };
   const cases = [150, 300].flatMap((R) => [0, undefined].map((tol) => ({ R, tol, stats: blocks(R, tol, R + (tol ?? 7)) })));
-  // domain.md §2 [D]: Gamma_eff ~ Gamma_p + Gamma_s sin 2 theta with the plate at +45. With Gamma_s known the colour fixes
+  // Closed form (first order, plate at +45): Gamma_eff = Gamma_p + Gamma_s sin 2 theta. With Gamma_s known the colour fixes
   // sin 2 theta; d(sin 2 theta)/d theta = 2 cos 2 theta, so the angle is sharp where |cos 2 theta| is large and undefined at
   // theta = +-45 (theta and its mirror 90 - theta meet). At theta = 0/90 the sample drops out (closed form: I = sin^2(delta_p/2),
   // the background's colour).
@@ -225,7 +221,7 @@ describe('readPlate with a known sample retardance (sampleRetardanceNm)', () => 
   it('reads every pixel within 2 deg (mirror-reduced) where the angle is defined: exact band, and the default 10 % band', () => {
     // Issue 3 round-trip requirement: within 2 deg where the physics allows (1e-4: Float32 storage of the angle). Known exactly:
     // wherever |cos 2 theta| >= 0.5. A band of +-t Gamma itself leaves sin 2 theta uncertain by t sin 2 theta, i.e. the angle by
-    // (t / 2) |tan 2 theta| rad (first order, domain.md §2): required only where that is at most 2 deg.
+    // (t / 2) |tan 2 theta| rad (first order, differentiating the closed form): required only where that is at most 2 deg.
     for (const { tol, R, stats } of cases) for (const b of stats) {
       const t = (tol ?? 0.1 * R) / R;
       const bandSpreadDeg = ((t / 2) * Math.abs(Math.tan(2 * b.angle * DEG))) / DEG;
