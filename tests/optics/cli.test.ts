@@ -132,11 +132,11 @@ describe('retarda chart', () => {
     const img = decode(readFileSync(png));
     expect(img.width).toBe(200);
     expect(out.csvRows!.length).toBe(401);
-    // domain.md §1 [C]: 550/551 nm under D65 is the sensitive tint, sRGB8 near (104, 0, 179).
+    // The sensitive tint at 550 nm: the reference script (tests/fixtures/reference/make_optics_reference.py, numpy) on the
+    // chart's own grid (D65, 380-780 nm in 5-nm steps) gives sRGB8 (106, 0, 177).
+    const want = JSON.parse(readFileSync(new URL('../fixtures/reference/optics-reference.json', import.meta.url), 'utf8')).chart.d65From380To780At550.srgb8;
     const row = out.csvRows!.find((r) => r.retardanceNm === 550)!;
-    expect(Math.abs(Number(row.srgbR8) - 104)).toBeLessThanOrEqual(3);
-    expect(Math.abs(Number(row.srgbB8) - 179)).toBeLessThanOrEqual(3);
-    expect(Number(row.srgbG8)).toBe(0);
+    expect([row.srgbR8, row.srgbG8, row.srgbB8].map(Number)).toEqual(want);
     expect(out.table).toContain('sensitive tint');
   });
 });

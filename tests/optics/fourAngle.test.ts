@@ -6,9 +6,11 @@ import { makeImage, type Image } from '../../src/image/types.ts';
 
 const QUAD = [0, 22.5, 45, 67.5];
 
-describe('fitFourAngle (domain.md §6 check values)', () => {
+describe('fitFourAngle on closed-form intensities', () => {
   it('theta = 30, A = 1, b = 0', () => {
-    // domain.md §6 [C]: I = 0.75, 0.066987, 0.25, 0.933013; a0 = 0.5, a4c = 0.25, a4s = -0.433013; theta = 30.000; A = 1 (1e-6).
+    // Closed form: I(alpha) = b + A sin^2 2(theta - alpha) = a0 + a4c cos 4 alpha + a4s sin 4 alpha with a0 = b + A/2,
+    // a4c = -(A/2) cos 4 theta, a4s = -(A/2) sin 4 theta. theta = 30, A = 1, b = 0: I = sin^2 60, sin^2 15, sin^2 30, sin^2 75
+    // = 0.75, 0.066987, 0.25, 0.933013; a0 = 0.5, a4c = -0.5 cos 120 = 0.25, a4s = -0.5 sin 120 = -0.433013.
     const I = QUAD.map((a) => Math.sin(2 * (30 - a) * DEG) ** 2);
     [0.75, 0.066987, 0.25, 0.933013].forEach((v, k) => expect(Math.abs(I[k] - v)).toBeLessThan(1e-6));
     const f = fitFourAngle(I, QUAD);
@@ -21,7 +23,9 @@ describe('fitFourAngle (domain.md §6 check values)', () => {
   });
 
   it('theta = 0, -20 (returns 70, mod 90) and 80', () => {
-    // domain.md §6 [C]: I = 0, 0.5, 1, 0.5 -> 0 (1e-9); -20 -> 70 (1e-6); I = 0.116978, 0.821394, 0.883022, 0.178606 -> 80 (1e-5).
+    // Closed form as above: theta = 0 gives I = sin^2 0, sin^2 45, sin^2 90, sin^2 135 = 0, 0.5, 1, 0.5; the fit reports theta
+    // mod 90 in [0, 90), so -20 comes back as 70; theta = 80 gives sin^2 160, sin^2 115, sin^2 70, sin^2 25 = 0.116978,
+    // 0.821394, 0.883022, 0.178606 (6 decimals, hence 1e-5).
     expect(Math.abs(fitFourAngle([0, 0.5, 1, 0.5], QUAD).angleDeg)).toBeLessThan(1e-9);
     const m20 = QUAD.map((a) => Math.sin(2 * (-20 - a) * DEG) ** 2);
     expect(Math.abs(fitFourAngle(m20, QUAD).angleDeg - 70)).toBeLessThan(1e-6);
@@ -29,7 +33,7 @@ describe('fitFourAngle (domain.md §6 check values)', () => {
   });
 
   it('any set of angles: six angles with background and residual', () => {
-    // I(alpha) = b + A sin^2 2(theta - alpha) [D]; extra angles give a residual of 0 for exact data.
+    // Closed form as above with b = 0.2, A = 0.6, theta = -35 (reported as 55 mod 90); exact data leave a residual of 0.
     const angles = [0, 15, 30, 45, 60, 75];
     const I = angles.map((a) => 0.2 + 0.6 * Math.sin(2 * (-35 - a) * DEG) ** 2);
     const f = fitFourAngle(I, angles);
@@ -69,7 +73,9 @@ describe('fourAngleAnalysis on rendered images', () => {
   });
 
   it('the plate image resolves the 90-deg choice except with the axis along the polars', () => {
-    // domain.md §6: Gamma_eff ~ Gamma_p + Gamma sin 2theta gives the sign of sin 2theta; at theta = 0 / 90 it is 0.
+    // Closed form, first order with the plate at +45: Gamma_eff = Gamma_p + Gamma sin 2 theta gives the sign of sin 2 theta,
+    // which tells theta from theta + 90; at theta = 0 / 90 it is 0. Against numpy least squares on outside images:
+    // tests/optics/reference-readers.test.ts.
     const r = fourAngleAnalysis(quads, { plate, plateOptions: { camera: cam } });
     let resolvedWrong = 0, checked = 0;
     for (let k = 0; k < W * H; k++) {

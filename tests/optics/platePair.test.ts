@@ -10,14 +10,15 @@ const CAMERA: CameraCalibration = { gains: [1, 1, 1], exposure: 0.75 };
 
 describe('combinePlatePair', () => {
   it('inverts the two-image check values', () => {
-    // domain.md §2 [D]: theta_s = 30 deg, Gamma_s = 100 nm gives u = 86.60, v = -50.00, which inverts to 30.00 deg and 100.0 nm.
+    // Closed form (the two-image method, plate at +45, assembly turned +45): u = Gamma sin 2 theta, v = -Gamma cos 2 theta,
+    // theta = 1/2 atan2(u, -v), Gamma = sqrt(u^2 + v^2). theta 30, Gamma 100: u = 100 sin 60 = 86.60, v = -100 cos 60 = -50.00.
     const r = combinePlatePair(86.6, -50.0);
     expect(r.angleDeg).toBeCloseTo(30, 2);
     expect(r.retardanceNm).toBeCloseTo(100, 1);
   });
 
   it('covers the full 180 deg and other turns', () => {
-    // u = Gamma cos 2(theta - a), w = Gamma cos 2(theta - a - t) [D].
+    // Closed form for a plate at a and a turn t: u = Gamma cos 2(theta - a), w = Gamma cos 2(theta - a - t).
     for (const th of [-80, -30, 0, 55, 89]) for (const t of [45, 30, -45]) {
       const u = 120 * Math.cos(2 * (th - 45) * DEG), w = 120 * Math.cos(2 * (th - 45 - t) * DEG);
       const r = combinePlatePair(u, w, 45, t);
@@ -50,7 +51,8 @@ describe('readPlatePair round trip', () => {
   };
 
   it('reads the full orientation within 2 deg for 50-600 nm', () => {
-    // Issue 3 round trip; two images give theta over 180 deg (domain.md §2).
+    // Issue 3 round trip (our own renderer; outside images: tests/optics/reference-readers.test.ts); two images give
+    // theta over 180 deg (the closed form above has no mirror ambiguity).
     for (let i = 0; i < angles.length; i++) for (let j = 0; j < rets.length; j++) {
       if (rets[j] >= 50) expect(block(i, j).maxAngleErr).toBeLessThanOrEqual(2 + 1e-4); // 1e-4: Float32 storage of the angle
     }
@@ -60,7 +62,7 @@ describe('readPlatePair round trip', () => {
 
   it('reads the retardance within 10 nm where confident, and flags the one exact degeneracy', () => {
     // With the sample along the polariser (theta = 0), image A does not depend on Gamma and image B sees exact
-    // subtraction, |Gamma_p - Gamma| (domain.md §2): Gamma = 600 and 500 nm give the same pair of colours.
+    // subtraction, I = sin^2(pi (Gamma_p - Gamma) / lambda) (closed form): Gamma = 600 and 500 nm give the same pair of colours.
     for (let i = 0; i < angles.length; i++) for (let j = 0; j < rets.length; j++) {
       const b = block(i, j);
       if (b.medianConf >= 0.3) expect(b.medianRetErr).toBeLessThanOrEqual(10);
@@ -111,7 +113,7 @@ describe('phaseCorrelation', () => {
 
 describe('readPlatePair sample-free pixels', () => {
   // A 10-px sample-free strip (0 nm, rendered so) beside a retarder of 150 nm at 30 deg. Gamma -> 0 leaves the angle
-  // undefined (domain.md §2: u = v = 0), so those pixels are masked and counted, not averaged into the confidence.
+  // undefined (closed form: u = v = 0, atan2(0, 0)), so those pixels are masked and counted, not averaged into the confidence.
   const W = 32, H = 16;
   const at = (x: number) => (x < 10 ? { angleRad: 0, retardanceNm: 0 } : { angleRad: 30 * DEG, retardanceNm: 150 });
   const trainA = resolveTrain();
