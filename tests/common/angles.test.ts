@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { axialDiffDeg, wrapAxialDeg, wrapAxialRad } from '../../src/common/angles.ts';
 
-describe('axial angle wrapping (conventions.md: (-90, 90] degrees)', () => {
+describe('axial angle wrapping to (-90, 90] degrees (the project\'s convention, src/common/angles.ts)', () => {
   it('maps 90 to 90, -90 to 90, 135 to -45 and 180 to 0', () => {
     expect(wrapAxialDeg(90)).toBe(90);
     expect(wrapAxialDeg(-90)).toBe(90);

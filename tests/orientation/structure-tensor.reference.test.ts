@@ -5,7 +5,7 @@ import { structureTensor } from '../../src/orientation/index.ts';
 // Outside reference: scikit-image 0.19.3 structure_tensor(image, sigma, mode='reflect', order='rc') and
 // structure_tensor_eigenvalues, made by tests/fixtures/reference/make_structure_tensor_fixture.py.
 // skimage uses unnormalised Sobel derivatives and only the outer Gaussian, so our 'sobel' mode must
-// match it: Jyy = Arr, Jxy = Arc, Jxx = Acc (domain.md §4, library conventions).
+// match it: Jyy = Arr, Jxy = Arc, Jxx = Acc (skimage's 'rc' order: row (y) first, column (x) second).
 const fx = JSON.parse(readFileSync(new URL('../fixtures/reference/structure-tensor-skimage.json', import.meta.url), 'utf8'));
 
 describe('structureTensor against scikit-image', () => {
@@ -40,7 +40,7 @@ describe('structureTensor against scikit-image', () => {
 
 describe('structureTensor (default Gaussian derivatives) against scipy.ndimage', () => {
   // Outside reference: scipy.ndimage.gaussian_filter with order=1 for the derivatives (sigma 1), then
-  // gaussian_filter(sigma_i) of the products, mode 'reflect', truncate 4 (domain.md §13 recipe).
+  // gaussian_filter(sigma_i) of the products, mode 'reflect', truncate 4 (see the script's header).
   for (const c of fx.gaussianCases) {
     it(`matches Jxx, Jxy, Jyy at sigma_i ${c.sigma}`, async () => {
       const t = await structureTensor({ width: fx.width, height: fx.height, data: Float32Array.from(fx.image) }, { sigmaPx: c.sigma, sigmaDerivPx: c.sigmaDeriv });
