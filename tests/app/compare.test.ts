@@ -33,7 +33,7 @@ describe('compareRows', () => {
     const p0 = await gratingProfile(0, 'along.png'), p30 = await gratingProfile(30, 'tilted.png');
     const rows = compareRows([sessionWith('s', 'Run A', [{ id: 'a', name: 'along.png', profile: p0 }, { id: 'b', name: 'tilted.png', profile: p30 }, { id: 'c', name: 'not analysed.png' }])]);
     expect(rows.map((r) => r.image)).toEqual(['along.png', 'tilted.png']);
-    // domain.md §5 [D]: S_axis = <cos 2(theta - axis)>: a 0 deg grating along walls at 0 deg gives 1, a 30 deg one cos 60 deg = 0.5
+    // Closed form: S_axis = <cos 2(theta - axis)>: a 0 deg grating along walls at 0 deg gives 1, a 30 deg one cos 60 deg = 0.5
     expect(rows[0].coreOrder).toBeCloseTo(1, 1);
     expect(rows[1].coreOrder).toBeCloseTo(0.5, 1);
     expect(rows[1]).toMatchObject({

@@ -14,7 +14,7 @@ describe('app exports match the command line', () => {
     const { field } = await analyseOrientation(img, { sigmaPx: 2 });
     const r = await analyseProfile(img, field, { channel: parseWalls('4,8,92,8;4,56,92,56'), bins: 8 });
     expect(profileCsvRow(r)).toEqual(cliProfileCsvRow(r));
-    // domain.md §5 [D]: S_axis = <cos 2(theta - axis)>; a uniform 30 deg field against a 0 deg axis gives cos 60 deg = 0.5
+    // Closed form: S_axis = <cos 2(theta - axis)>; a uniform 30 deg field against a 0 deg axis gives cos 60 deg = 0.5
     expect(r.core.order).toBeCloseTo(0.5, 1);
   });
 

@@ -22,7 +22,7 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('chooseScaleBar', () => {
   it('picks the largest 1-2-5 length within a quarter of the width', () => {
-    // 1280 px at 0.345 um/px (domain.md §8) = 441.6 um wide; a quarter is 110.4 um -> 100 um = 289.9 px
+    // Arithmetic: 1280 px at 0.345 um/px = 441.6 um wide; a quarter is 110.4 um; the largest 1-2-5 length below it is 100 um = 289.9 px
     const b = chooseScaleBar(1280, 0.345);
     expect(b.value).toBe(100);
     expect(b.unit).toBe('um');

@@ -31,11 +31,12 @@ const opticsSetup = (): SetupRecord => ({
 
 describe('set-up pixel size', () => {
   it('from the optics is camera pixel x binning / (objective x adapter)', () => {
-    // domain.md §8 [M/D]: 3.45 um at 10x and 1x = 0.345 um/px; 5.86 um at 20x and 0.5x = 0.586 um/px; 6.5 um at 20x = 0.325 um/px
+    // Arithmetic (object pixel = camera pixel / (objective x adapter)); camera pixels of common sensors, from memory:
+    // 3.45 um at 10x and 1x = 0.345 um/px; 5.86 um at 20x and 0.5x = 0.586 um/px; 6.5 um at 20x = 0.325 um/px
     expect(setupPixelSizeUmPerPx({ source: 'optics', cameraPixelUm: 3.45, objectiveMagnification: 10, intermediateMagnification: 1, binning: 1 })).toBeCloseTo(0.345, 12);
     expect(setupPixelSizeUmPerPx({ source: 'optics', cameraPixelUm: 5.86, objectiveMagnification: 20, intermediateMagnification: 0.5, binning: 1 })).toBeCloseTo(0.586, 12);
     expect(setupPixelSizeUmPerPx({ source: 'optics', cameraPixelUm: 6.5, objectiveMagnification: 20, intermediateMagnification: 1, binning: 1 })).toBeCloseTo(0.325, 12);
-    // 2x2 binning doubles the pixel (domain.md §8: calibrate per binning): 2 x 0.345
+    // 2x2 binning doubles the pixel (definition of binning): 2 x 0.345
     expect(setupPixelSizeUmPerPx({ source: 'optics', cameraPixelUm: 3.45, objectiveMagnification: 10, intermediateMagnification: 1, binning: 2 })).toBeCloseTo(0.69, 12);
   });
 
@@ -45,7 +46,7 @@ describe('set-up pixel size', () => {
     expect(setupPixelSizeUmPerPx({ source: 'none' })).toBeNull();
   });
 
-  it('an applied set-up overrides the file\'s pixel size (conventions.md: always overridable); without one the file\'s is used', () => {
+  it('an applied set-up overrides the file\'s pixel size (the user can always override it); without one the file\'s is used', () => {
     const a = applied(opticsSetup(), at);
     const px = effectivePixelSize(a, 0.5);
     expect(px.from).toBe('set-up');

@@ -125,7 +125,7 @@ describe('restoreSession: old and odd records', () => {
     expect(r.ok).toBe(true);
     if (!r.ok) return;
     expect(r.value.schemaVersion).toBe(STORAGE_SCHEMA_VERSION);
-    // retarda orient/profile defaults: sigma 2 px, confidence weighting, 20 bins, core |s|<0.5, skin |s|>0.8 (conventions.md)
+    // retarda orient/profile defaults: sigma 2 px, confidence weighting, 20 bins, core |s|<0.5, skin |s|>0.8 (README, command-line reference)
     expect(r.value.settings).toEqual(DEFAULT_SETTINGS);
     expect(DEFAULT_SETTINGS).toMatchObject({ sigmaPx: 2, bins: 20, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
     expect(r.notes.join(' ')).toMatch(/upgraded/);
@@ -271,7 +271,8 @@ describe('optical readings, micrometer calibrations and the session pixel size a
 
   it('a saved session gives back the same reading, calibration and pixel size', async () => {
     const { store, s, a, b, optics } = await sessionWithReadings();
-    // Rendered ruler period 16 px with 10 um divisions: 10 / 16 = 0.625 um/px (fact of the rendering); domain.md §8 target 0.2 %
+    // Rendered ruler period 16 px with 10 um divisions: 10 / 16 = 0.625 um/px (fact of the rendering); within 0.2 %, the
+    // calibration goal of issue 2
     expect(Math.abs(micrometer.doc.umPerPx / 0.625 - 1)).toBeLessThan(0.002);
     const back = await store.load(s.id);
     expect(back?.work[a.id].micrometer).toEqual(micrometer);
