@@ -51,49 +51,54 @@ describe('analyseMicrometer', () => {
 
   it('gives um/px with its uncertainty from the ruler period', () => {
     const c = analyseMicrometer(ruler, { divisionUm: 10 });
-    // Rendered period 18.7 px (fact of the rendering), 10 um divisions -> 10 / 18.7 = 0.534759 um/px; target 0.2 % (domain.md §8)
+    // Rendered period 18.7 px (fact of the rendering), 10 um divisions -> 10 / 18.7 = 0.534759 um/px; within 0.2 %, the
+    // calibration goal of issue 2
     expect(Math.abs(c.umPerPx / (10 / 18.7) - 1)).toBeLessThan(0.002);
     expect(c.uncertaintyUmPerPx).toBeCloseTo(c.uncertainty * c.umPerPx, 12);
-    // lines rendered at 95 deg, reported wrapped to (-90, 90] as -85 (conventions.md: axial angles)
+    // lines rendered at 95 deg, reported wrapped to (-90, 90] as -85 (axial angles, src/common/angles.ts)
     expect(axialDiffDeg(c.linesDeg, 95)).toBeLessThan(1);
     expect(c.linesDeg).toBeLessThanOrEqual(90);
     expect(c.warnings.join(' ')).not.toMatch(/optics give/);
   });
 
   it('cross-checks against the optics and the sampling limit', () => {
-    // 6.5 um camera pixel at 10x = 0.65 um/px (domain.md §8 arithmetic [D]), 22 % above the ruler's 0.5348
+    // Arithmetic: a 6.5 um camera pixel at 10x = 0.65 um/px, 22 % above the ruler's 0.5348
     const c = analyseMicrometer(ruler, { divisionUm: 10, opticsUmPerPx: 0.65, na: 0.25 });
     expect(c.opticsRatio!).toBeCloseTo((10 / 18.7) / 0.65, 2);
     expect(c.warnings.join(' ')).toMatch(/optics give/);
-    // domain.md §8 [D]: Rayleigh 0.61 x 0.55 / 0.25 = 1.342 um, half 0.671 um > 0.535 um/px: not under-sampled
+    // Rayleigh resolution r = 0.61 lambda / NA (published: Born & Wolf, Principles of Optics, 8.6; from memory):
+    // 0.61 x 0.55 / 0.25 = 1.342 um; half of it 0.671 um > 0.535 um/px, so not under-sampled (Nyquist, pixel <= r / 2)
     expect(c.warnings.join(' ')).not.toMatch(/under-sampled/);
     expect(() => analyseMicrometer(ruler, { divisionUm: -1 })).toThrow(InputError);
   });
 
   it('the optics alone give camera pixel / magnification', () => {
-    // domain.md §8 [M sensor numbers; D arithmetic]: 3.45 um at 10x and 1x = 0.345 um/px
+    // Arithmetic: a 3.45 um camera pixel (a common sensor's, from memory) at 10x and 1x = 0.345 um/px
     expect(analyseOpticsCalibration({ cameraPixelUm: 3.45, objectiveMagnification: 10 }).umPerPx).toBeCloseTo(0.345, 12);
   });
 });
 
 describe('fibreNumbersResult', () => {
-  it('gives the domain.md §7 carbon-fibre numbers, whatever unit the linear density comes in', () => {
-    // domain.md §7 [C]: D = 7 um, rho = 1.80 -> 0.069272 tex; 0.5 dtex = 0.05 tex (definition)
+  it('gives a carbon fibre\'s numbers, whatever unit the linear density comes in', () => {
+    // Closed form: tex (g per km) = rho [g/cm3] x A [um^2] x 1e-3, A = pi D^2 / 4. D = 7 um, rho = 1.80:
+    // A = 38.4845 um^2 -> 0.069272 tex. 0.5 dtex = 0.05 tex (definition: dtex = g per 10 km)
     const r = fibreNumbersResult({ diameterUm: 7, densityGPerCm3: 1.8, linearDensity: { value: 0.5, unit: 'dtex' } });
     expect(Math.abs(r.solidTex - 0.069272)).toBeLessThan(1e-5);
     expect(r.linearDensityTex!).toBeCloseTo(0.05, 12);
     expect(r.packingFraction!).toBeCloseTo(0.05 / r.solidTex, 12);
-    // 1 den = 1/9 tex (domain.md §7 [M, definitions])
+    // 1 den = 1/9 tex (definitions: denier = g per 9 km, tex = g per km)
     expect(fibreNumbersResult({ diameterUm: 7, densityGPerCm3: 1.8, linearDensity: { value: 0.45, unit: 'den' } }).linearDensityTex!).toBeCloseTo(0.05, 12);
     expect(r.analysis).toBe('fibre');
   });
 
   it('converts the tenacity and gives birefringence and orientation factor', () => {
-    // domain.md §7 [D]: 1 gf/den = 0.0882599 N/tex; 1 N/tex x 1.8 g/cm3 = 1.8 GPa
+    // Arithmetic: 1 gf = 9.80665e-3 N (standard gravity, definition) and 1 den = 1/9 tex, so 1 gf/den = 9 x 9.80665e-3
+    // = 0.0882599 N/tex; stress = tenacity x density: 1 N/tex x 1.8 g/cm3 = 1.8 GPa (N/tex x g/cm3 = 1e9 Pa)
     const r = fibreNumbersResult({ diameterUm: 10, densityGPerCm3: 1.8, tenacity: { value: 10, unit: 'gf/den' }, retardanceNm: 500, intrinsicBirefringence: 0.2 });
     expect(Math.abs(r.tenacityNPerTex! - 0.882599)).toBeLessThan(1e-6);
     expect(r.strengthGPa!).toBeCloseTo(r.tenacityNPerTex! * 1.8, 12);
-    // birefringence = retardance / thickness = 500 nm / 10 um = 0.05 (definition, domain.md §5); f = 0.05 / 0.2
+    // birefringence = retardance / thickness = 500 nm / 10 um = 0.05 (definition); Hermans orientation factor
+    // f = birefringence / intrinsic birefringence = 0.05 / 0.2 (Stein & Norris 1956, from memory)
     expect(r.birefringence!).toBeCloseTo(0.05, 12);
     expect(r.orientationFactor!).toBeCloseTo(0.25, 12);
   });

@@ -24,7 +24,8 @@ const background = { x: 0, y: 0, width: 10, height: H };
 const sampleOnly = { profile: null };
 
 describe('analysePlate', () => {
-  // Sample slow axis along the compensator slow axis (+45 deg), 200 nm: domain.md §2 [S9]: parallel slow axes add.
+  // Sample slow axis along the compensator slow axis (+45 deg), 200 nm: parallel slow axes add (Murphy & Davidson,
+  // Fundamentals of Light Microscopy and Electronic Imaging, ch. 9, Fig. 9-5).
   const img = renderSampleImage(W, H, uniform(45, 200), resolveTrain(), { noiseSd: 0.002, seed: 3, camera: cam, name: 'along.png' });
 
   it('reads the retardance and gives S_axis = 1 against the compensator axis, where one image is exact', async () => {
@@ -34,7 +35,8 @@ describe('analysePlate', () => {
     // The sample strip (x >= 10) was rendered at 200 nm (fact of the rendering): its median read within 15 nm.
     const strip = { ...field, mask: field.mask.map((m, i) => (inSample(i) ? m : 0)) } as OrientationField;
     expect(Math.abs(retardanceMedian(strip)! - 200)).toBeLessThan(15);
-    // issue 3 / domain.md §2 [D]: against the compensator axis cos 2(theta - 45) is what the colour measures, so it is exact
+    // Closed form (first order, plate at +45): the colour carries Gamma sin 2 theta = Gamma cos 2(theta - 45), and
+    // cos 2(theta - 45) is even about 45 deg, so S against the compensator axis is exact
     // even with the mirror ambiguity; the sample is all at +45 deg, so cos 2(theta - 45) is 1 there.
     let sum = 0, n = 0;
     for (let i = 0; i < field.angleRad.length; i++) if (inSample(i) && field.mask[i]) { sum += Math.cos(2 * (field.angleRad[i] - 45 * DEG)); n++; }
@@ -59,7 +61,7 @@ describe('analysePlate', () => {
   });
 
   it('says the numbers are not reliable when the colours fit several (angle, retardance) pairs', async () => {
-    // To first order one plate image measures only Gamma sin 2 theta (domain.md §2 [D]): -20 deg / 200 nm is
+    // To first order one plate image measures only Gamma sin 2 theta (closed form, Gamma_eff = Gamma_p + Gamma sin 2 theta): -20 deg / 200 nm is
     // readable, while +15 deg / 100 nm lies on a curve of look-alikes (the same Gamma sin 2 theta = 50 nm as
     // +30 deg / 58 nm), so its pixels get low confidence and the result must say so.
     const clear = renderSampleImage(W, H, uniform(-20, 200), resolveTrain(), { noiseSd: 0.002, seed: 8, camera: cam });
@@ -97,12 +99,12 @@ describe('analysePlatePair', () => {
     const { result, field } = await analysePlatePair(a, b, { background, compensatorNm: 550, retardanceMaxNm: 600 });
     expect(result.analysis).toBe('plate2');
     expect(result.ambiguity).toBe('none');
-    // domain.md §2 [D]: theta = 1/2 atan2(u, -v) from the two images; rendered at -60 deg (fact of the rendering)
+    // Closed form (two images): theta = 1/2 atan2(u, -v); rendered at -60 deg (fact of the rendering)
     const angles: number[] = [];
     for (let i = 0; i < field.angleRad.length; i++) if (inSample(i) && field.mask[i]) angles.push(field.angleRad[i] / DEG);
     angles.sort((p, q) => p - q);
     expect(axialDiffDeg(angles[angles.length >> 1], -60)).toBeLessThan(3);
-    // domain.md §2 [D]: Gamma = sqrt(u^2 + v^2); rendered at 250 nm (fact of the rendering)
+    // Closed form (two images): Gamma = sqrt(u^2 + v^2); rendered at 250 nm (fact of the rendering)
     const strip = { ...field, mask: field.mask.map((m, i) => (inSample(i) ? m : 0)) } as OrientationField;
     expect(Math.abs(retardanceMedian(strip)! - 250)).toBeLessThan(20);
     // the same pixels rendered twice: no shift between the images
@@ -112,7 +114,8 @@ describe('analysePlatePair', () => {
 });
 
 describe('analyseFourAngle', () => {
-  // Crossed pair at 0, 22.5, 45, 67.5 deg, no compensator: I = b + A sin^2 2(theta - alpha) (domain.md §6 [D]).
+  // Crossed pair at 0, 22.5, 45, 67.5 deg, no compensator: I = b + A sin^2 2(theta - alpha) (closed form, one retarder
+  // between crossed polars turned by alpha).
   const images = [0, 22.5, 45, 67.5].map((p, k) =>
     renderSampleImage(W, H, uniform(30, 150), { polariserDeg: p, analyserDeg: p + 90, compensator: null }, { noiseSd: 0.001, seed: 7 + k, camera: cam, name: `q${k}.png` }));
 
@@ -120,7 +123,7 @@ describe('analyseFourAngle', () => {
     const r = await analyseFourAngle(images, {});
     expect(r.result.analysis).toBe('quad');
     expect(r.result.ambiguity).toBe('mod-90');
-    // domain.md §6 [C]: theta = 30 deg is recovered as 30 (mod 90); the sample strip is the only anisotropic area
+    // Rendered at 30 deg (fact of the rendering), recovered mod 90 (30 or 120); the sample strip is the only anisotropic area
     const a: number[] = [];
     for (let i = 0; i < r.field.angleRad.length; i++) if (r.field.mask[i]) a.push(r.field.angleRad[i] / DEG);
     a.sort((p, q) => p - q);
@@ -157,7 +160,8 @@ describe('analysePlate with a known sample retardance', () => {
   };
 
   it('S_axis against the compensator axis matches the closed form of the angle distribution', async () => {
-    // domain.md §5 [D]: theta uniform on [theta0 - D, theta0 + D] gives S = sin 2D / (2D): D = 30 -> 0.82699, D = 10 -> 0.97982.
+    // Closed form: theta uniform on [theta0 - D, theta0 + D] gives S = <cos 2(theta - theta0)> = sin 2D / (2D):
+    // D = 30 -> sin 60 / (pi/3) = 0.82699, D = 10 -> sin 20 / (pi/9) = 0.97982.
     // Unweighted: the confidence is the angle's, lowest near the compensator axis, so weighting by it would favour the tails.
     // Retardance known exactly (tolerance 0): a band lets angle trade against retardance near the axis (S biased low).
     for (const [half, expected] of [[30, 0.82699], [10, 0.97982]] as const) {
