@@ -66,20 +66,20 @@ describe('illuminants', () => {
   });
 
   it('white points of A and D65 from the 5-nm tables', () => {
-    // Published: CIE 015:2004 Table T.3 gives the white of A as X 109.85, Z 35.58 and of D65 as 95.04, 108.88 (from
-    // memory; to the table's 2 decimals, so within 0.01; D65's 5-nm sum gives Z 108.897, within 0.02 of 108.88). The same sums by
-    // the reference script: A (109.850, 35.585), D65 (95.047, 108.897), to 1e-3.
+    // Published: Westland & Ripamonti, Computational Colour Science Using MATLAB (2004), Table 4.2: the white of A is
+    // X 109.850, Z 35.585, of D65 X 95.047, Z 108.883 (Y = 100). The 5-nm sums over 360-830 nm give A (109.850, 35.585)
+    // and D65 (95.047, 108.897) (reference script, to 1e-3): Z of D65 within 0.02 of the standard's.
     const a = whiteOf(illuminantASpd), d = whiteOf(d65Spd);
     expect(Math.abs(a[0] - 109.85)).toBeLessThan(0.01);
-    expect(Math.abs(a[2] - 35.58)).toBeLessThan(0.01);
-    expect(Math.abs(d[0] - 95.04)).toBeLessThan(0.01);
-    expect(Math.abs(d[2] - 108.88)).toBeLessThan(0.02);
+    expect(Math.abs(a[2] - 35.585)).toBeLessThan(0.01);
+    expect(Math.abs(d[0] - 95.047)).toBeLessThan(0.01);
+    expect(Math.abs(d[2] - 108.883)).toBeLessThan(0.02);
     for (const [ours, want] of [[a, REF.whiteA], [d, REF.whiteD65]]) for (const i of [0, 2]) expect(Math.abs(ours[i] - want[i])).toBeLessThan(1e-3);
   });
 
   it('chromaticities of A, a 3200 K and a 2856 K blackbody', () => {
-    // Published: CIE 015:2004 Table T.3, illuminant A at (0.44757, 0.40745) (from memory; the reference script's sum
-    // gives (0.44757, 0.40744)). Blackbodies at 3200 and 2856 K: the
+    // Published: Westland & Ripamonti (2004), Table 4.2, illuminant A at (0.44757, 0.40745); the reference script's
+    // 5-nm sum gives (0.44757, 0.40744). Blackbodies at 3200 and 2856 K: the
     // reference script (Planck's law with scipy.constants' CODATA values), (0.42336, 0.39895) and (0.44753, 0.40743).
     const near = (xy: [number, number], e: [number, number]) => { expect(Math.abs(xy[0] - e[0])).toBeLessThan(1e-4); expect(Math.abs(xy[1] - e[1])).toBeLessThan(1e-4); };
     near(chromaticity(whiteOf(illuminantASpd)), [0.44757, 0.40745]);

@@ -49,7 +49,7 @@ describe('readPlate round trip (one compensator image, 3200 K, plate 550 nm at +
 
   it('pixels the physics cannot read get low confidence: tiny retardance, axes near the polars or the plate', () => {
     // Closed form, first order in Gamma with the plate at +45: Gamma_eff = Gamma_p + Gamma sin 2 theta (docs/methods.md,
-    // the full-wave plate): no signal at Gamma ~ 0, none at theta = 0/90, and no angle sensitivity at theta = +-45
+    // "3.2 First-order reading of the effective retardance"): no signal at Gamma ~ 0, none at theta = 0/90, and no angle sensitivity at theta = +-45
     // (d sin 2 theta / d theta = 2 cos 2 theta = 0).
     for (const { field } of runs) for (let i = 0; i < angles.length; i++) for (let j = 0; j < rets.length; j++) {
       const nearPolars = Math.min(axialDiffDeg(angles[i], 0), axialDiffDeg(angles[i], 90)) <= 2;
