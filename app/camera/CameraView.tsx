@@ -9,7 +9,7 @@ import type { Weighting } from '../../src/order/index.ts';
 import { AnalysisClient } from '../worker/client.ts';
 import { LegendWheel } from '../components/LegendWheel.tsx';
 import { defaultStep, planReadout, readoutHaloPx, sizeSteps, type FrameRect } from './frames.ts';
-import { LIVE_REPLICATES, LiveReadout, type GrabbedFrame, type LiveReading } from './liveReadout.ts';
+import { LiveReadout, type GrabbedFrame, type LiveReading } from './liveReadout.ts';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
 
 interface Props {
@@ -61,8 +61,8 @@ export function CameraView(p: Props) {
   const [frozen, setFrozen] = useState<{ url: string; blob: Blob; width: number; height: number } | null>(null);
   const [keeping, setKeeping] = useState(false);
   const [kept, setKept] = useState<string[]>([]);
-  const settingsRef = useRef({ sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES, picture: showColours });
-  settingsRef.current = { sigmaPx: p.sigmaPx, weighting: p.weighting, replicates: LIVE_REPLICATES, picture: showColours };
+  const settingsRef = useRef({ sigmaPx: p.sigmaPx, weighting: p.weighting, picture: showColours });
+  settingsRef.current = { sigmaPx: p.sigmaPx, weighting: p.weighting, picture: showColours };
   const planInputs = useRef({ step, rect });
   planInputs.current = { step, rect };
   /** Readings replaced by a newer one, whose pictures are closed once the newer one is on screen. */
@@ -337,7 +337,7 @@ export function CameraView(p: Props) {
           {reading && (
             <p className="note" data-testid="live-basis">
               Analysed at {analysed}{reading.plan.step > 1 ? `: the frame reduced to 1/${reading.plan.step} size, so σ = ${p.sigmaPx} px here is ${p.sigmaPx * reading.plan.step} camera px` : ' (full size)'};
-              texture scale σ {p.sigmaPx} px, weights {p.weighting}, interval from {LIVE_REPLICATES} resamples. A kept frame is analysed at full size.
+              texture scale σ {p.sigmaPx} px, weights {p.weighting}, 95 % interval from blocks of six correlation lengths. A kept frame is analysed at full size.
               The bar on the picture points along the director; it is longer the higher S_2D. Readings cannot come faster than the camera's frames.
             </p>
           )}

@@ -34,7 +34,7 @@ export interface LiveReading {
 }
 
 export interface LiveSettings {
-  sigmaPx: number; weighting: Weighting; replicates: number;
+  sigmaPx: number; weighting: Weighting;
   /** Make the orientation picture of each frame (only while it is shown: it costs a part of every reading). */
   picture: boolean;
 }
@@ -51,8 +51,6 @@ export interface LiveReadoutOptions {
   sleep?: (ms: number) => Promise<void>;
 }
 
-/** Bootstrap resamples for a live interval: enough for a stable 95 % interval at a glance. */
-export const LIVE_REPLICATES = 100;
 
 export class LiveReadout {
   private running = false;
@@ -101,7 +99,7 @@ export class LiveReadout {
         const s = this.o.settings();
         const reply = await engine.call('orientFrame', {
           frame: frame.source, plan: frame.plan,
-          options: { sigmaPx: s.sigmaPx, weighting: s.weighting, replicates: s.replicates, ...(frame.plan.region ? { region: frame.plan.region } : {}) },
+          options: { sigmaPx: s.sigmaPx, weighting: s.weighting, ...(frame.plan.region ? { region: frame.plan.region } : {}) },
           picture: s.picture,
         }, undefined, [frame.source]);
         const at = now();

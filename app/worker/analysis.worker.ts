@@ -70,7 +70,7 @@ function imageOf(key: string): Image {
 }
 
 /** What the texture field depends on: the order options (region, axis, weights, blocks) do not change it. */
-const textureKey = (options: OrientOptions) => JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined, replicates: undefined, seed: undefined });
+const textureKey = (options: OrientOptions) => JSON.stringify({ ...options, region: undefined, axisDeg: undefined, weighting: undefined, blockPx: undefined });
 
 /** The texture field for these options, reused when the same image was analysed with the same options. */
 async function textureField(key: string, options: OrientOptions, progress: Progress): Promise<OrientationField> {
@@ -78,7 +78,7 @@ async function textureField(key: string, options: OrientOptions, progress: Progr
   const cached = fields.get(key);
   if (cached && cached.optionsKey === optionsKey) return cached.field;
   progress('structure tensor', 0.2);
-  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined, replicates: 1 }, tileHelpers);
+  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined }, tileHelpers);
   fields.set(key, { optionsKey, field });
   return field;
 }

@@ -4,7 +4,7 @@ import { orderParameters, type OrderOptions, type OrderSummary } from '../order/
 import { rectMask, type Rect } from './region.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
 
-export interface OrientOptions extends OrientationFieldOptions, Pick<OrderOptions, 'weighting' | 'axisDeg' | 'blockPx' | 'replicates' | 'seed'> {
+export interface OrientOptions extends OrientationFieldOptions, Pick<OrderOptions, 'weighting' | 'axisDeg' | 'blockPx'> {
   /** Only pixels inside this rectangle count towards the averages. */
   region?: Rect;
 }
@@ -33,7 +33,7 @@ export async function analyseOrientation(img: Image, o: OrientOptions = {}, help
   const field = await orientationField(toGrey(img), o, helpers);
   field.pixelSizeUmPerPx = img.pixelSizeUmPerPx;
   const region = o.region ? rectMask(o.region, img.width, img.height) : undefined;
-  const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx, replicates: o.replicates, seed: o.seed, region });
+  const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx, region });
   return { result: orientResult(img, field, s, o), field };
 }
 

@@ -3,8 +3,8 @@ import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
 import {
-  accumulateBlocks, axisOrderOf, bootstrapReplicates, checkWeighting, defaultBlockPx, defaultWeighting, percentileInterval,
-  statFromBlocks, totalMoments, type BlockSums, type OrderStat, type Weighting,
+  accumulateBlocks, axisOrderStat, checkWeighting, degreesOfFreedom, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments,
+  type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
 import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
 
@@ -21,8 +21,6 @@ export interface ProfileOptions {
   skinMin?: number;
   weighting?: Weighting;
   blockPx?: number;
-  replicates?: number;
-  seed?: number;
 }
 
 export const PROFILE_DEFAULTS = { bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
@@ -41,7 +39,10 @@ export interface BandStats {
   bins: ProfileBin[];
   core: OrderStat;
   skin: OrderStat;
-  /** core.order / skin.order, with a bootstrap interval. */
+  /**
+   * core.order / skin.order with its Fieller interval; NaN (null in JSON) when the skin's order is not
+   * clearly away from 0, so that no ratio is determined.
+   */
   coreSkinRatio: number;
   coreSkinRatioCi: [number, number];
 }
@@ -66,7 +67,7 @@ export interface ChannelProfile extends BandStats {
 /**
  * Axis-referenced order S_axis = <cos 2(theta - axis)> in bins of the transverse coordinate s, at
  * stations along the channel, with core and skin bands and their ratio (conventions.md). Intervals
- * are block-bootstrap 95 % intervals (blocks of about 3 integration sigmas).
+ * are 95 % intervals from blocks of six correlation lengths (src/order/intervals.ts).
  */
 export function channelProfile(field: OrientationField, ch: Channel, options: ProfileOptions = {}): ChannelProfile {
   const bins = checkNumber('bins', options.bins ?? PROFILE_DEFAULTS.bins, 2, 200);
@@ -79,7 +80,6 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(field), 1, 4096, 'px');
   const frame = channelFrame(ch);
   const axisDeg = options.axisDeg !== undefined ? wrapAxialDeg(checkNumber('axis angle', options.axisDeg, -360, 360, 'deg')) : frame.axisDeg;
-  const boot = { replicates: options.replicates, seed: options.seed };
   // A field known only modulo 90 deg is read under the assumption that rods lie within 45 deg of the axis.
   const f = foldMod90(field, axisDeg);
 
@@ -114,7 +114,7 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
     const w = transverse(frame, ch, frame.ox + mid * frame.ux, frame.oy + mid * frame.uy).width;
     stationList.push({
       station: st, alongFromPx: from, alongToPx: to, widthPx: w,
-      ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg, boot),
+      ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg),
     });
   }
   const pooledBins = Array.from({ length: bins }, (_, b) => merge(Array.from({ length: stations }, (_, st) => binSums[st * bins + b])));
@@ -122,15 +122,15 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
     pooledBins,
     merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2])),
     merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + 1])),
-    bins, axisDeg, boot,
+    bins, axisDeg,
   );
   if (pooled.core.n === 0 && pooled.skin.n === 0 && pooled.bins.every((b) => b.n === 0)) {
     throw new InputError('no usable pixel lies between the walls', 'Check that the walls are inside the image and that the channel has texture or colour to read');
   }
   const warnings = [...f.warnings];
   if (pooled.core.n === 0) warnings.push('no usable pixels in the core band: check the walls and the mask');
-  if (pooled.skin.n > 0 && pooled.skin.ciLow <= 0 && pooled.skin.ciHigh >= 0) {
-    warnings.push('the skin order is not distinguishable from 0, so the core/skin ratio and its interval mean little');
+  if (pooled.skin.n > 0 && !Number.isFinite(pooled.coreSkinRatio)) {
+    warnings.push('core/skin ratio not determined: the skin order is not clearly away from 0 (its interval reaches 0); compare core and skin orders directly, or widen the skin band');
   }
   if (pooled.skin.n === 0) warnings.push('no usable pixels in the skin band: check the walls and the mask');
   if (Math.abs(wrapAxialDeg(axisDeg - frame.axisDeg)) > 1e-9 && options.axisDeg !== undefined) {
@@ -142,36 +142,28 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   };
 }
 
-function bandStats(
-  binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number,
-  boot: { replicates?: number; seed?: number },
-): BandStats {
+function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number): BandStats {
   const list: ProfileBin[] = binSums.map((b, k) => {
     const m = totalMoments(b);
-    const st = statFromBlocks(b, axisOrderOf, boot);
     const sLow = -1 + (2 * k) / bins, sHigh = -1 + (2 * (k + 1)) / bins;
     return {
-      s: (sLow + sHigh) / 2, sLow, sHigh, ...st,
+      s: (sLow + sHigh) / 2, sLow, sHigh, ...axisOrderStat(b),
       order2D: m.w > 0 ? Math.hypot(m.wc, m.ws) / m.w : NaN,
       directorDeg: m.w > 0 ? wrapAxialDeg(axisDeg + radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN,
     };
   });
-  const band = (b: BlockSums, seed: number) => {
-    const m = totalMoments(b);
-    const rep = bootstrapReplicates(b, axisOrderOf, { ...boot, seed });
-    const [lo, hi] = percentileInterval(rep);
-    return { stat: { order: axisOrderOf(m), ciLow: lo, ciHigh: hi, n: m.n }, rep };
-  };
-  const c = band(core, (boot.seed ?? 1) + 101), s = band(skin, (boot.seed ?? 1) + 202);
+  const c = axisOrderStat(core), s = axisOrderStat(skin);
+  // Core and skin are different pixels, blocks apart: their estimates are taken as independent.
+  const ratioCi = fiellerInterval(c.order, c.se, s.order, s.se, degreesOfFreedom(Math.min(c.blocks, s.blocks)));
   return {
-    bins: list, core: c.stat, skin: s.stat,
-    coreSkinRatio: c.stat.order / s.stat.order,
-    coreSkinRatioCi: percentileInterval(c.rep.map((v, i) => v / s.rep[i])),
+    bins: list, core: c, skin: s,
+    coreSkinRatio: ratioCi ? c.order / s.order : NaN,
+    coreSkinRatioCi: ratioCi ?? [NaN, NaN],
   };
 }
 
 function merge(parts: BlockSums[]): BlockSums {
-  const cat = <T extends Float64Array | Uint32Array>(get: (b: BlockSums) => T, make: (n: number) => T): T => {
+  const cat = <T extends Float64Array | Uint32Array | Int32Array>(get: (b: BlockSums) => T, make: (n: number) => T): T => {
     const out = make(parts.reduce((s, p) => s + get(p).length, 0));
     let o = 0;
     for (const p of parts) { out.set(get(p), o); o += get(p).length; }
@@ -180,6 +172,7 @@ function merge(parts: BlockSums[]): BlockSums {
   return {
     w: cat((b) => b.w, (n) => new Float64Array(n)), wc: cat((b) => b.wc, (n) => new Float64Array(n)),
     ws: cat((b) => b.ws, (n) => new Float64Array(n)), n: cat((b) => b.n, (n) => new Uint32Array(n)),
+    bx: cat((b) => b.bx, (n) => new Int32Array(n)), by: cat((b) => b.by, (n) => new Int32Array(n)),
   };
 }
 

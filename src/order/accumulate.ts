@@ -39,7 +39,7 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const G = o.groupCount;
   const sw = new Float64Array(cols * G), sc = new Float64Array(cols * G), ss = new Float64Array(cols * G);
   const sn = new Uint32Array(cols * G);
-  const lists = Array.from({ length: G }, () => ({ w: [] as number[], wc: [] as number[], ws: [] as number[], n: [] as number[] }));
+  const lists = Array.from({ length: G }, () => ({ w: [] as number[], wc: [] as number[], ws: [] as number[], n: [] as number[], bx: [] as number[], by: [] as number[] }));
   const cr = Math.cos(2 * o.refRad), sr = Math.sin(2 * o.refRad);
   const mask = f.mask;
   const { cos2: c2, sin2: s2 } = doubledAngles(f);
@@ -89,6 +89,7 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
       const L = lists[(k / cols) | 0];
       // Rotate the block's doubled-angle sums to the reference axis.
       L.w.push(sw[k]); L.wc.push(sc[k] * cr + ss[k] * sr); L.ws.push(ss[k] * cr - sc[k] * sr); L.n.push(sn[k]);
+      L.bx.push(k % cols); L.by.push(by / B);
       sw[k] = sc[k] = ss[k] = 0;
       sn[k] = 0;
     }
@@ -96,6 +97,7 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   if (o.tally) { o.tally.usable = usable; o.tally.confidenceSum = confidenceSum; }
   return lists.map((L) => ({
     w: Float64Array.from(L.w), wc: Float64Array.from(L.wc), ws: Float64Array.from(L.ws), n: Uint32Array.from(L.n),
+    bx: Int32Array.from(L.bx), by: Int32Array.from(L.by),
   }));
 }
 

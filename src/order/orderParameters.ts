@@ -4,25 +4,17 @@ import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
 import { correlationLengthPx } from './correlation.ts';
 import { accumulateBlocks, WEIGHTINGS, type Weighting } from './accumulate.ts';
-import {
-  axisOrderOf, bootstrapReplicates, freeOrderOf, liveBlocks, percentileInterval, totalMoments,
-  type BlockSums, type BootstrapOptions,
-} from './blocks.ts';
+import { liveBlocks, totalMoments, type BlockSums } from './blocks.ts';
+import { axisOrderStat, freeOrderStat, type OrderStat } from './intervals.ts';
 
-/** An average with its 95 % interval and the number of pixels behind it. */
-export interface OrderStat {
-  order: number;
-  ciLow: number;
-  ciHigh: number;
-  n: number;
-}
+export type { OrderStat };
 
-export interface OrderOptions extends BootstrapOptions {
+export interface OrderOptions {
   /** Weight per pixel; default: coherency for texture fields, none for optical readings (defaultWeighting). */
   weighting?: Weighting;
   /** Reference axis for S_axis in degrees (CCW on screen). Omit for the free order only. */
   axisDeg?: number;
-  /** Bootstrap block side in px; default six correlation lengths of the field (defaultBlockPx). */
+  /** Block side in px for the intervals; default six correlation lengths of the field (defaultBlockPx). */
   blockPx?: number;
   /** Extra region mask (1 = inside); default the whole field. */
   region?: Uint8Array;
@@ -31,6 +23,8 @@ export interface OrderOptions extends BootstrapOptions {
 export interface OrderSummary {
   /** S_2D = |<exp 2i theta>|, in [0, 1]. */
   order2D: OrderStat;
+  /** False when S_2D's interval reaches 0: the data do not fix a director. */
+  directorDetermined: boolean;
   /** Director 1/2 arg <exp 2i theta>, degrees in (-90, 90]. */
   directorDeg: number;
   /** S_axis = <cos 2(theta - axis)> when an axis was given. */
@@ -47,10 +41,10 @@ export interface OrderSummary {
 }
 
 /**
- * Bootstrap block side: six correlation lengths of the orientation signal (at least 4 px, at most a
+ * Block side for the intervals: six correlation lengths of the orientation signal (at least 4 px, at most a
  * quarter of the shorter side). Blocks much longer than the correlation length are nearly independent,
- * which is what the block bootstrap needs; six lengths gave 91-100 % coverage of nominal 95 % intervals
- * on simulated textures (tests/order/coverage.test.ts).
+ * which is what the cluster-sample variance needs (src/order/intervals.ts); tests/order/coverage.test.ts
+ * holds the resulting intervals to their 95 % rate on seeded textures.
  */
 export function defaultBlockPx(f: OrientationField): number {
   const cap = Math.max(4, Math.floor(Math.min(f.width, f.height) / 4));
@@ -73,13 +67,6 @@ export function checkWeighting(w: string): Weighting {
   return w as Weighting;
 }
 
-/** Statistic and block-bootstrap interval from block sums. */
-export function statFromBlocks(b: BlockSums, stat: (m: ReturnType<typeof totalMoments>) => number, o: BootstrapOptions): OrderStat {
-  const m = totalMoments(b);
-  const [lo, hi] = percentileInterval(bootstrapReplicates(b, stat, o));
-  return { order: stat(m), ciLow: lo, ciHigh: hi, n: m.n };
-}
-
 /**
  * Order parameters of a whole field (or region): free 2D order and director, and axis-referenced
  * order if an axis is given (docs/methods.md §8.1-8.2).
@@ -94,18 +81,18 @@ export function orderParameters(f: OrientationField, options: OrderOptions = {})
   const tally = { usable: 0, confidenceSum: 0 };
   const [free] = accumulateBlocks(f, { groups, groupCount: 1, refRad: 0, blockPx, weighting, tally });
   const m = totalMoments(free);
-  const order2D = statFromBlocks(free, freeOrderOf, options);
+  const { directorDetermined, ...order2D } = freeOrderStat(free);
   const directorDeg = m.w > 0 ? wrapAxialDeg(radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN;
   let axisOrder: OrderStat | null = null;
   if (options.axisDeg !== undefined) {
     // Mod-90 fields: S_axis under the assumption that orientations lie within 45 deg of the axis.
     const [ref] = accumulateBlocks(foldMod90(f, options.axisDeg), { groups, groupCount: 1, refRad: degToRad(options.axisDeg), blockPx, weighting });
-    axisOrder = statFromBlocks(ref, axisOrderOf, options);
+    axisOrder = axisOrderStat(ref);
   }
   const blocks = liveBlocks(free);
   const nEff = Math.max(1, effectiveSamples(free));
   return {
-    order2D, directorDeg, axisOrder, axisDeg: options.axisDeg ?? null,
+    order2D, directorDetermined, directorDeg, axisOrder, axisDeg: options.axisDeg ?? null,
     coherencyMean: tally.usable > 0 ? tally.confidenceSum / tally.usable : NaN,
     isotropicBias: m.n > 0 ? Math.sqrt(Math.PI / (4 * nEff)) : NaN,
     n: m.n, blocks, blockPx, weighting,

@@ -36,7 +36,7 @@ async function jsPipeline(width: number, height: number, data: Float32Array) {
     const t0 = performance.now();
     const field = await orientationField(plane, { sigmaPx: SIGMA, sigmaDerivPx: SIGMA_D });
     const t1 = performance.now();
-    channelProfile(field, walls, { bins: 20, replicates: 200 });
+    channelProfile(field, walls, { bins: 20 });
     const t2 = performance.now();
     bestT = Math.min(bestT, (t1 - t0) / 1000);
     bestP = Math.min(bestP, (t2 - t1) / 1000);

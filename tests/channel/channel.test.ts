@@ -79,7 +79,7 @@ describe('channelProfile', () => {
   for (const a of [0, 25, -70]) {
     it(`gives core 1, skin 0.5 and ratio 2 for a channel at ${a} deg`, () => {
       const { f, ch } = skinCoreField(a);
-      const p = channelProfile(f, ch, { bins: 20, replicates: 100 });
+      const p = channelProfile(f, ch, { bins: 20 });
       expect(p.axisDeg).toBeCloseTo(a, 6);
       expect(p.core.order).toBeCloseTo(1, 5);
       expect(p.skin.order).toBeCloseTo(0.5, 5);
@@ -98,7 +98,7 @@ describe('channelProfile', () => {
 
   it('splits the channel into equal stations and reports each one', () => {
     const { f, ch } = skinCoreField(0);
-    const p = channelProfile(f, ch, { bins: 10, stations: 4, replicates: 50 });
+    const p = channelProfile(f, ch, { bins: 10, stations: 4 });
     expect(p.stations).toHaveLength(4);
     const lengths = p.stations.map((s) => s.alongToPx - s.alongFromPx);
     expect(Math.max(...lengths) - Math.min(...lengths)).toBeLessThan(1e-9);
@@ -160,7 +160,7 @@ describe('channelProfile on a field with scatter', () => {
       const half = s < 0.5 ? 40 : s > 0.8 ? 15 : 25;
       return 20 + half * (2 * rand() - 1);
     });
-    const p = channelProfile(f, ch, { bins: 10, replicates: 300, blockPx: 2 });
+    const p = channelProfile(f, ch, { bins: 10, blockPx: 2 });
     const core = 0.70531, skin = 0.95493;
     expect(Math.abs(p.core.order - core)).toBeLessThan(0.01);
     expect(Math.abs(p.skin.order - skin)).toBeLessThan(0.005);

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { accumulateBlocks, freeOrderOf, orderParameters, totalMoments } from '../../src/order/index.ts';
+import { accumulateBlocks, degreesOfFreedom, freeOrderOf, orderParameters, studentQuantile, totalMoments } from '../../src/order/index.ts';
 import { orientationField } from '../../src/orientation/index.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { fieldOf } from '../support/fields.ts';
@@ -9,18 +9,18 @@ const F32 = 2e-6; // angles are stored as float32
 
 describe('orderParameters: closed-form cases (domain.md §5 check values, [D])', () => {
   it('all theta = 37 deg gives S_2D = 1 and director 37', () => {
-    const s = orderParameters(fieldOf(20, 10, () => 37), { replicates: 50 });
+    const s = orderParameters(fieldOf(20, 10, () => 37));
     expect(Math.abs(s.order2D.order - 1)).toBeLessThan(F32);
     expect(Math.abs(s.directorDeg - 37)).toBeLessThan(1e-4);
   });
 
   it('theta in {0, 90} gives S_2D = 0', () => {
-    const s = orderParameters(fieldOf(20, 10, (x) => (x % 2 ? 90 : 0)), { replicates: 50 });
+    const s = orderParameters(fieldOf(20, 10, (x) => (x % 2 ? 90 : 0)));
     expect(s.order2D.order).toBeLessThan(F32);
   });
 
   it('theta in {10, 170} gives cos 20 deg = 0.93969 with director 0 (a naive mean would say 90)', () => {
-    const s = orderParameters(fieldOf(20, 10, (x) => (x % 2 ? 170 : 10)), { replicates: 50 });
+    const s = orderParameters(fieldOf(20, 10, (x) => (x % 2 ? 170 : 10)));
     expect(Math.abs(s.order2D.order - 0.9396926)).toBeLessThan(1e-5);
     expect(Math.abs(s.directorDeg)).toBeLessThan(1e-4);
   });
@@ -29,7 +29,7 @@ describe('orderParameters: closed-form cases (domain.md §5 check values, [D])',
     it(`uniform on theta0 +- ${halfDeg} deg gives sin(2D)/(2D) = ${expected}`, () => {
       // Midpoint rule over 40 000 equally spaced angles about theta0 = 25 deg.
       const W = 400, H = 100, N = W * H;
-      const s = orderParameters(fieldOf(W, H, (x, y) => 25 - halfDeg + (2 * halfDeg * (y * W + x + 0.5)) / N), { replicates: 20 });
+      const s = orderParameters(fieldOf(W, H, (x, y) => 25 - halfDeg + (2 * halfDeg * (y * W + x + 0.5)) / N));
       expect(Math.abs(s.order2D.order - expected)).toBeLessThan(1e-5);
       expect(Math.abs(s.directorDeg - 25)).toBeLessThan(1e-3);
     });
@@ -41,14 +41,14 @@ describe('orderParameters: closed-form cases (domain.md §5 check values, [D])',
       const t = ((-90 + (180 * (y * W + x + 0.5)) / (W * H)) * Math.PI) / 180;
       return Math.exp(2 * Math.cos(2 * t)) / Math.exp(2);
     });
-    const s = orderParameters(f, { weighting: 'confidence', replicates: 20 });
+    const s = orderParameters(f, { weighting: 'confidence' });
     expect(Math.abs(s.order2D.order - 0.69777)).toBeLessThan(1e-5);
   });
 
   it('all perpendicular to the axis gives S_axis = -1, all along it +1', () => {
     const f = fieldOf(10, 10, () => 120);
-    expect(orderParameters(f, { axisDeg: 30, replicates: 20 }).axisOrder!.order).toBeCloseTo(-1, 5);
-    expect(orderParameters(f, { axisDeg: -60, replicates: 20 }).axisOrder!.order).toBeCloseTo(1, 5);
+    expect(orderParameters(f, { axisDeg: 30 }).axisOrder!.order).toBeCloseTo(-1, 5);
+    expect(orderParameters(f, { axisDeg: -60 }).axisOrder!.order).toBeCloseTo(1, 5);
   });
 });
 
@@ -72,7 +72,7 @@ describe('orderParameters: sampling behaviour', () => {
     // Statistics fact (central limit theorem): half-width ~ 1.96 sd(cos 2 theta) / sqrt(n).
     const rand = rng(5);
     const f = fieldOf(100, 100, () => 60 * (rand() - 0.5));
-    const s = orderParameters(f, { axisDeg: 0, blockPx: 1, weighting: 'none', replicates: 800 });
+    const s = orderParameters(f, { axisDeg: 0, blockPx: 1, weighting: 'none' });
     let m = 0, m2 = 0;
     for (const a of f.angleRad) { const v = Math.cos(2 * a); m += v; m2 += v * v; }
     m /= f.angleRad.length;
@@ -82,18 +82,22 @@ describe('orderParameters: sampling behaviour', () => {
     expect(half / ((1.96 * sd) / 100)).toBeLessThan(1.15);
   });
 
-  it('widens the interval for spatially correlated pixels by about sqrt(pixels per correlated cell)', () => {
-    // Each 8x8 cell shares one angle: 64 pixels carry one independent value, so the honest interval is
-    // sqrt(64) = 8 times wider than one that treats pixels as independent (statistics fact).
+  it('gives the interval of the independent cells when 64 pixels share one angle', () => {
+    // Each 8x8 cell shares one angle, so 1024 cells carry the independent values and the standard error of
+    // the mean is sd(cos 2 theta over cells) / sqrt(1024) (statistics fact: central limit theorem over the
+    // cells); blocks of 8 px are those cells. The interval's half-width is t(0.975, dof) times that.
     const rand = rng(8);
     const cells = Array.from({ length: 32 * 32 }, () => 60 * (rand() - 0.5));
     const f = fieldOf(256, 256, (x, y) => cells[(y >> 3) * 32 + (x >> 3)]);
-    // maxBlocks: Infinity keeps single pixels as units, i.e. the naive independent-pixel interval.
-    const naive = orderParameters(f, { axisDeg: 0, blockPx: 1, weighting: 'none', replicates: 400, maxBlocks: Infinity }).axisOrder!;
-    const blocked = orderParameters(f, { axisDeg: 0, blockPx: 8, weighting: 'none', replicates: 400 }).axisOrder!;
-    const ratio = (blocked.ciHigh - blocked.ciLow) / (naive.ciHigh - naive.ciLow);
-    expect(ratio).toBeGreaterThan(6);
-    expect(ratio).toBeLessThan(10);
+    const s = orderParameters(f, { axisDeg: 0, blockPx: 8, weighting: 'none' }).axisOrder!;
+    const c = cells.map((a) => Math.cos((2 * a * Math.PI) / 180));
+    const mean = c.reduce((p, q) => p + q, 0) / c.length;
+    const sd = Math.sqrt(c.reduce((p, q) => p + (q - mean) ** 2, 0) / (c.length - 1));
+    const half = (s.ciHigh - s.ciLow) / 2;
+    const expected = (studentQuantile(0.975, degreesOfFreedom(1024)) * sd) / 32;
+    expect(half / expected).toBeGreaterThan(0.85);
+    expect(half / expected).toBeLessThan(1.15);
+    expect(s.order).toBeCloseTo(mean, 6);
   });
 
   it('recovers S of an image with known angle statistics within 0.02 through the structure tensor', async () => {
@@ -108,7 +112,7 @@ describe('orderParameters: sampling behaviour', () => {
       data[y * W + x] = Math.sin((2 * Math.PI * (-x * Math.sin(a) + y * Math.cos(a))) / 6);
     }
     const f = await orientationField({ width: W, height: W, data }, { sigmaPx: 2 });
-    const s = orderParameters(f, { axisDeg: 0, weighting: 'none', replicates: 100 });
+    const s = orderParameters(f, { axisDeg: 0, weighting: 'none' });
     expect(Math.abs(s.axisOrder!.order - 0.82699)).toBeLessThan(0.02);
   });
 
