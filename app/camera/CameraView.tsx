@@ -9,6 +9,7 @@ import type { Weighting } from '../../src/order/index.ts';
 import { AnalysisClient } from '../worker/client.ts';
 import { LegendWheel } from '../components/LegendWheel.tsx';
 import { defaultStep, planReadout, readoutHaloPx, sizeSteps, type FrameRect } from './frames.ts';
+import { Undetermined } from '../components/Results.tsx';
 import { LiveReadout, type GrabbedFrame, type LiveReading } from './liveReadout.ts';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
 
@@ -327,7 +328,7 @@ export function CameraView(p: Props) {
             <table className="results" data-testid="live-readout" data-readings={readingCount} data-worker-ms={reading ? JSON.stringify(reading.timesMs) : undefined}>
               <tbody>
                 <tr><th scope="row">Order S_2D</th><td data-testid="live-order">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
-                <tr><th scope="row">Director</th><td data-testid="live-director">{f(r.directorDeg)}</td><td>deg, CCW from +x</td></tr>
+                <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="live-director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
                 <tr><th scope="row">Mean coherency</th><td>{f(r.coherencyMean)}</td><td>n {f(r.n)} px</td></tr>
                 <tr><th scope="row">Readings</th><td data-testid="live-fps">{reading?.fps != null ? reading.fps.toFixed(1) : '–'}</td><td>per second, {LIVE_WORKERS} workers taking frames in turn</td></tr>
                 <tr><th scope="row">Latency</th><td data-testid="live-latency">{reading?.latencyMs != null ? Math.round(reading.latencyMs) : '–'}</td><td>ms from frame to numbers</td></tr>

@@ -14,6 +14,7 @@ import type { Layer } from './Viewer.tsx';
 import { DEFAULT_OPTICAL_FORM, type OpticalForm, type OpticsKind, type StoredOptics } from '../storage/records.ts';
 import { LegendWheel } from './LegendWheel.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
+import { Undetermined } from './Results.tsx';
 import { channelArgs, commandLine, plateReadingArgs, quote, trainArgs } from './commandLines.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
@@ -326,7 +327,7 @@ function OpticsTable({ r, rangeNm }: { r: OpticsResult; rangeNm: [number, number
     <div>
       <table className="results" data-testid="optics-results">
         <tbody>
-          <tr><th scope="row">Director</th><td data-testid="optics-director">{f(r.directorDeg)}</td><td>deg, CCW from +x</td></tr>
+          <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="optics-director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
           <tr><th scope="row">Order S_2D</th><td data-testid="optics-order2d">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
           {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="optics-axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? `${f(r.axisOrderCi[0])} – ${f(r.axisOrderCi[1])}` : '–'}</td></tr>}
           {r.retardanceNmMedian !== null

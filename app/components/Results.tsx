@@ -1,6 +1,7 @@
 /** The numbers of the current image, formatted exactly as the command line's table prints them. */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
+import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 const ci = (lo: number, hi: number) => `${f(lo)} – ${f(hi)}`;
@@ -11,7 +12,7 @@ export function OrientTable({ r, stale }: { r: OrientResult; stale: boolean }) {
       {stale && <p className="note">Settings changed since this result: run the analysis again to update it.</p>}
       <table className="results" data-testid="orient-results">
         <tbody>
-          <tr><th scope="row">Director</th><td data-testid="director">{f(r.directorDeg)}</td><td>deg, CCW from +x</td></tr>
+          <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
           <tr><th scope="row">Order S_2D</th><td data-testid="order2d">{f(r.order2D)}</td><td>95 %: {ci(r.order2DCi[0], r.order2DCi[1])}</td></tr>
           {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? ci(r.axisOrderCi[0], r.axisOrderCi[1]) : '–'}</td></tr>}
           <tr><th scope="row">Mean coherency</th><td data-testid="coherency">{f(r.coherencyMean)}</td><td>0 = no texture, 1 = straight lines</td></tr>
@@ -32,7 +33,7 @@ export function ProfileTable({ r, stale }: { r: ProfileResult; stale: boolean })
         <tbody>
           <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><td data-testid="core">{f(r.core.order)}</td><td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td></tr>
           <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><td data-testid="skin">{f(r.skin.order)}</td><td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td></tr>
-          <tr><th scope="row">Core / skin</th><td data-testid="ratio">{f(r.coreSkinRatio)}</td><td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td></tr>
+          <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{!r.notDetermined?.coreSkinRatio && <td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td>}</tr>
           <tr><th scope="row">Reference axis</th><td>{f(r.axisDeg)}</td><td>deg; channel axis {f(r.channelAxisDeg)}, taper {f(r.taperDeg)}</td></tr>
           <tr><th scope="row">Walls</th><td colSpan={2}>{r.wallsFound ? 'found in the image' : 'drawn by hand'}</td></tr>
         </tbody>
@@ -52,6 +53,20 @@ export function ProfileTable({ r, stale }: { r: ProfileResult; stale: boolean })
       </details>
       <Warnings list={r.warnings} />
     </div>
+  );
+}
+
+/**
+ * A value cell, or, when the data do not determine the value, "not determined" with the reason and the
+ * remedy beside it (spanning the interval column) instead of a number.
+ */
+export function Undetermined({ why, testId, children }: { why: string | undefined; testId: string; children: React.ReactNode }) {
+  if (!why) return <td data-testid={testId}>{children}</td>;
+  return (
+    <>
+      <td data-testid={testId} className="not-determined">{NOT_DETERMINED}</td>
+      <td className="not-determined-why">{why}</td>
+    </>
   );
 }
 

@@ -1,4 +1,4 @@
-export { SCHEMA_VERSION } from './schema.ts';
+export { SCHEMA_VERSION, NOT_DETERMINED } from './schema.ts';
 export type { ResultHead } from './schema.ts';
 export type { Rect } from './region.ts';
 export { parseRect, rectMask } from './region.ts';

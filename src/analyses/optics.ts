@@ -222,7 +222,68 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
     mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
     colourCellsSearched: reading.cellsMatched,
   });
-  return { result, field };
+  const gaps = oneImageGaps(o, compDeg, field, result);
+  return { result: gaps.length ? withholdOrder(result, gaps) : result, field };
+}
+
+/**
+ * Smallest sample retardance at which one compensator image, with the sample retardance given and the
+ * axis along the compensator, reads S within 0.03 (measured on the independent validation renderings,
+ * tests/validation/channel.ts; below it the colour barely changes with the angle).
+ */
+export const ONE_IMAGE_MIN_RETARDANCE_NM = 100;
+
+/** Largest angle between the reference axis and the compensator axis (or its normal) for a one-image S, deg. */
+export const ONE_IMAGE_AXIS_TOLERANCE_DEG = 10;
+
+/**
+ * What a one-image reading lacks for its order numbers to be determined, each as "what is missing: what
+ * would determine it". One colour fits many (angle, retardance) pairs unless the sample retardance is
+ * known and the lamp, camera and compensator are calibrated on a sample-free area; and it cannot tell a rod
+ * from its mirror image about the compensator axis unless the axis of interest lies along or across it
+ * (docs/methods.md, "One compensator image").
+ */
+export function oneImageGaps(o: PlateOptions, compensatorDeg: number, field: OrientationField, r: OpticsResult): string[] {
+  const gaps: string[] = [];
+  if (o.background === undefined && !(o.compensatorNm !== undefined && o.whiteRgb !== undefined)) {
+    gaps.push('no sample-free area: the compensator, exposure and white balance are not calibrated; draw the sample-free rectangle on the image (--background x,y,w,h)');
+  }
+  if (o.sampleRetardanceNm === undefined) {
+    gaps.push('the sample retardance is not known, so each colour fits many (angle, retardance) pairs; enter the sample retardance (--sample-retardance-nm, thickness x birefringence) or add the second image turned by 45 deg (plate2)');
+  } else if (o.sampleRetardanceNm !== undefined && o.sampleRetardanceNm < ONE_IMAGE_MIN_RETARDANCE_NM) {
+    gaps.push(`the sample retardance (${o.sampleRetardanceNm} nm) is below ${ONE_IMAGE_MIN_RETARDANCE_NM} nm, where one image's colours change too little with the angle to read S within 0.03; add the second image turned by 45 deg (plate2)`);
+  }
+  if (field.ambiguity === 'mirror-about-compensator') {
+    const p = r.profile;
+    const axis = o.axisDeg ?? (p ? p.axisDeg : null) ?? (Number.isFinite(r.directorDeg) ? r.directorDeg : null);
+    if (axis !== null) {
+      const advice = compensatorAxisAdvice(axis, compensatorDeg, ONE_IMAGE_AXIS_TOLERANCE_DEG);
+      if (advice.offsetDeg > ONE_IMAGE_AXIS_TOLERANCE_DEG) {
+        gaps.push(`the ${p ? 'channel ' : ''}axis (${axis.toFixed(0)} deg) is ${advice.offsetDeg.toFixed(0)} deg from the compensator's slow axis, and one image cannot tell a rod from its mirror image about that axis; turn the sample so the ${p ? 'channel' : 'structure'} lies along (or across) the slow axis, or add the second image turned by 45 deg (plate2)`);
+      }
+    }
+  }
+  return gaps;
+}
+
+/** The result with every order number withheld (null in JSON) and the reasons under notDetermined. */
+export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
+  const why = gaps.join('; ');
+  const nan2: [number, number] = [NaN, NaN];
+  const stat = <T extends { order: number; ciLow: number; ciHigh: number }>(x: T): T => ({ ...x, order: NaN, ciLow: NaN, ciHigh: NaN });
+  const profile = r.profile && {
+    ...r.profile, core: stat(r.profile.core), skin: stat(r.profile.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
+    bins: r.profile.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
+    stations: r.profile.stations.map((st) => ({
+      ...st, core: stat(st.core), skin: stat(st.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
+      bins: st.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
+    })),
+    notDetermined: { order: why },
+  };
+  return {
+    ...r, directorDeg: NaN, order2D: NaN, order2DCi: nan2, axisOrder: r.axisOrder === null ? null : NaN, axisOrderCi: r.axisOrderCi && nan2,
+    profile, notDetermined: { ...r.notDetermined, order: why },
+  };
 }
 
 /** Full orientation (0-180 deg) and retardance from two compensator images, B with the optics turned by turnDeg. */

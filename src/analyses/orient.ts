@@ -41,10 +41,13 @@ export function orientResult(img: Image, field: OrientationField, s: OrderSummar
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'orient', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
-    directorDeg: s.directorDeg, order2D: s.order2D.order, order2DCi: [s.order2D.ciLow, s.order2D.ciHigh],
+    directorDeg: s.directorDetermined ? s.directorDeg : NaN, order2D: s.order2D.order, order2DCi: [s.order2D.ciLow, s.order2D.ciHigh],
     axisOrder: s.axisOrder?.order ?? null, axisOrderCi: s.axisOrder ? [s.axisOrder.ciLow, s.axisOrder.ciHigh] : null,
     axisDeg: s.axisDeg, coherencyMean: s.coherencyMean, isotropicBias: s.isotropicBias, n: s.n, blocks: s.blocks,
     options: { ...field.options, weighting: s.weighting, blockPx: s.blockPx, region: o.region ?? null, method: field.method },
     warnings: [...field.warnings, ...(s.n === 0 ? ['no usable pixels: every pixel was masked'] : [])],
+    ...(s.n > 0 && !s.directorDetermined ? { notDetermined: {
+      directorDeg: 'the orientations do not differ clearly from no preferred direction (S_2D\'s interval reaches 0); a larger region, or one with more aligned texture, would determine it',
+    } } : {}),
   };
 }

@@ -1,8 +1,9 @@
 import { toGrey, type Image } from '../image/types.ts';
 import { InputError } from '../common/errors.ts';
 import type { OrientationField } from '../orientation/index.ts';
-import { channelProfile, findWalls, wallFreeTextureField, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
+import { channelProfile, findWalls, localAxisRadAt, wallFreeTextureField, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
+import { chooseMirrorByAxis } from '../optics/index.ts';
 
 export interface ProfileRequest extends ProfileOptions {
   /** Walls given by the user; omit with autoWalls = true to find them. */
@@ -32,14 +33,22 @@ export async function analyseProfile(img: Image, field: OrientationField, req: P
   const { channel, found } = await resolveChannel(img, req);
   // A texture field next to a wall reads the wall's own edge: recompute those pixels from the interior only.
   const near = field.method === 'texture' ? wallFreeTextureField(toGrey(img), field, channel) : null;
-  const p = channelProfile(near ? near.field : field, channel, req);
+  // One compensator image cannot tell a rod from its mirror image about the compensator axis: take, pixel
+  // by pixel, the one nearer the channel's local axis (or the axis the user gave).
+  const read = near ? near.field : req.axisDeg !== undefined
+    ? chooseMirrorByAxis(field, () => (req.axisDeg! * Math.PI) / 180, `${req.axisDeg} deg`)
+    : chooseMirrorByAxis(field, localAxisRadAt(channel), "the channel's local axis");
+  const p = channelProfile(read, channel, req);
   const { warnings, options, ...rest } = p;
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'profile', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
     ...rest, fieldMethod: field.method, walls: channel.walls, wallsFound: found,
-    options: { ...fieldOptions, ...field.options, ...options, ...(near ? { nearWalls: `normalised convolution: gradients within ${near.clearancePx} px of a wall left out` } : {}) },
-    warnings: [...warnings, ...ambiguityWarning(field, p.axisDeg)],
+    options: { ...fieldOptions, ...read.options, ...options, ...(near ? { nearWalls: `normalised convolution: gradients within ${near.clearancePx} px of a wall left out` } : {}) },
+    warnings: [...warnings, ...ambiguityWarning(read, p.axisDeg)],
+    ...(Number.isFinite(p.coreSkinRatio) || p.skin.n === 0 ? {} : { notDetermined: {
+      coreSkinRatio: 'the skin order is not clearly away from 0 (its interval reaches 0), so no ratio is determined; compare the core and skin orders themselves, or widen the skin band',
+    } }),
   };
 }
 

@@ -101,3 +101,26 @@ export function transverse(f: ChannelFrame, ch: Channel, px: number, py: number)
   const width = t1 - t0;
   return { s: -1 + (2 * -t0) / width, width, along: (px - f.ox) * f.ux + (py - f.oy) * f.uy };
 }
+
+/**
+ * The channel's local axis direction at a pixel, radians CCW on screen: the walls' directions blended by
+ * the pixel's place across the width (s = -1 at the first wall, +1 at the second), so in a taper the
+ * axis turns from one wall's direction to the other's; the bisector on the midline.
+ */
+export function localAxisRadAt(ch: Channel): (x: number, y: number) => number {
+  const f = channelFrame(ch);
+  const [a, b] = ch.walls;
+  const unit = (s: Segment) => {
+    const l = Math.hypot(s.x2 - s.x1, s.y2 - s.y1);
+    let ux = (s.x2 - s.x1) / l, uy = (s.y2 - s.y1) / l;
+    if (ux * f.ux + uy * f.uy < 0) { ux = -ux; uy = -uy; }
+    return { ux, uy };
+  };
+  const ua = unit(a), ub = unit(b);
+  return (x, y) => {
+    const { s } = transverse(f, ch, x, y);
+    const w = Math.min(1, Math.max(0, (s + 1) / 2));
+    const ux = (1 - w) * ua.ux + w * ub.ux, uy = (1 - w) * ua.uy + w * ub.uy;
+    return Math.atan2(-uy, ux);
+  };
+}

@@ -1,5 +1,5 @@
 export type { Segment, Channel, ChannelFrame } from './geometry.ts';
-export { parseWalls, channelFrame, transverse } from './geometry.ts';
+export { parseWalls, channelFrame, transverse, localAxisRadAt } from './geometry.ts';
 export type { ProfileOptions, ProfileBin, BandStats, StationProfile, ChannelProfile } from './profile.ts';
 export { channelProfile, PROFILE_DEFAULTS } from './profile.ts';
 export type { AutoWallOptions, FoundWalls, WallFit } from './autoWalls.ts';

@@ -129,9 +129,6 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   }
   const warnings = [...f.warnings];
   if (pooled.core.n === 0) warnings.push('no usable pixels in the core band: check the walls and the mask');
-  if (pooled.skin.n > 0 && !Number.isFinite(pooled.coreSkinRatio)) {
-    warnings.push('core/skin ratio not determined: the skin order is not clearly away from 0 (its interval reaches 0); compare core and skin orders directly, or widen the skin band');
-  }
   if (pooled.skin.n === 0) warnings.push('no usable pixels in the skin band: check the walls and the mask');
   if (Math.abs(wrapAxialDeg(axisDeg - frame.axisDeg)) > 1e-9 && options.axisDeg !== undefined) {
     warnings.push(`S is referenced to ${axisDeg.toFixed(1)} deg, not to the channel axis at ${frame.axisDeg.toFixed(1)} deg`);

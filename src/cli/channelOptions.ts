@@ -1,7 +1,7 @@
 import type { Image } from '../image/types.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { parseWalls } from '../channel/index.ts';
-import { analyseProfile, type ProfileRequest, type ProfileResult } from '../analyses/index.ts';
+import { analyseProfile, NOT_DETERMINED, type ProfileRequest, type ProfileResult } from '../analyses/index.ts';
 import { checkWeighting } from '../order/index.ts';
 import { flagOpt, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from './args.ts';
 import { formatTable, formatPairs } from './format.ts';
@@ -48,6 +48,9 @@ export async function channelProfileOutput(img: Image, field: OrientationField, 
 const ci = (lo: number, hi: number) => `${lo.toFixed(3)}..${hi.toFixed(3)}`;
 
 export function profileTable(r: ProfileResult): string {
+  const nd = r.notDetermined?.order;
+  const walls = `${r.wallsFound ? 'found' : 'given'}: ${r.walls.map((w) => [w.x1, w.y1, w.x2, w.y2].map((v) => v.toFixed(1)).join(',')).join(';')}`;
+  if (nd) return formatPairs([['image', r.source], ['field', r.fieldMethod], ['walls', walls], ['S across the channel', `${NOT_DETERMINED}: ${nd}`]]);
   const head = formatPairs([
     ['image', r.source],
     ['field', r.fieldMethod],
@@ -56,7 +59,7 @@ export function profileTable(r: ProfileResult): string {
     ['taper deg', r.taperDeg],
     ['core S (95% CI)', `${r.core.order.toFixed(3)} (${ci(r.core.ciLow, r.core.ciHigh)}) n=${r.core.n}`],
     ['skin S (95% CI)', `${r.skin.order.toFixed(3)} (${ci(r.skin.ciLow, r.skin.ciHigh)}) n=${r.skin.n}`],
-    ['core/skin', `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])})`],
+    ['core/skin', r.notDetermined?.coreSkinRatio ? `${NOT_DETERMINED}: ${r.notDetermined.coreSkinRatio}` : `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])})`],
   ]);
   const rows = r.bins.map((b) => [b.s, b.order, b.ciLow, b.ciHigh, b.n, b.directorDeg]);
   const stationLines = r.stations.length > 1

@@ -32,7 +32,7 @@ export { calibrateFromBackground, calibrateFromColour } from './calibration.ts';
 export type { PlateReadOptions, PlateReading } from './plateReader.ts';
 export { readPlate, sampleRetardanceBand } from './plateReader.ts';
 export type { MirrorChoiceStats, MirrorResolution, AxisAdvice } from './mirror.ts';
-export { mirrorChoiceStats, resolveMirrorWithTexture, compensatorAxisAdvice } from './mirror.ts';
+export { mirrorChoiceStats, resolveMirrorWithTexture, compensatorAxisAdvice, chooseMirrorByAxis } from './mirror.ts';
 export type { RegistrationCheck } from './registration.ts';
 export { phaseCorrelation, gradientMagnitude, registrationCheck } from './registration.ts';
 export type { PlatePairOptions, PlatePairReading } from './platePair.ts';

@@ -97,3 +97,29 @@ export function compensatorAxisAdvice(axisDeg: number, compensatorDeg: number, t
     text: `${base} The axis here is ${offset.toFixed(0)} deg from the compensator axis, so S_axis rests on the mirror assumption: turn the sample, take a second image turned by 45 deg (plate2), or use the texture direction to resolve it.`,
   };
 }
+
+/**
+ * Re-makes the mirror choice of a one-image field pixel by pixel against a local reference axis: of theta
+ * and 2 m - theta (m the compensator axis) the one nearer `axisRadAt(x, y)` is kept. For a channel the
+ * reference is its local axis (in a taper it turns from one wall's direction to the other's across the
+ * width), so rods are read within 45 deg of the flow direction where they are, not of one global angle.
+ * Other fields are returned unchanged.
+ */
+export function chooseMirrorByAxis(field: OrientationField, axisRadAt: (x: number, y: number) => number, describe: string): OrientationField {
+  if (field.ambiguity !== 'mirror-about-compensator' || field.ambiguityAxisDeg === undefined) return field;
+  const m = field.ambiguityAxisDeg * DEG;
+  const angle = new Float32Array(field.angleRad);
+  const { width, height, mask } = field;
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      const i = y * width + x;
+      if (!mask[i]) continue;
+      const a = field.angleRad[i], b = wrapAxialRad(2 * m - a), r = axisRadAt(x, y);
+      if (Math.abs(wrapAxialRad(b - r)) < Math.abs(wrapAxialRad(a - r))) angle[i] = b;
+    }
+  }
+  return {
+    ...field, angleRad: angle, cos2: undefined, sin2: undefined,
+    options: { ...field.options, mirrorAssumption: `orientation taken within 45 deg of ${describe} (of theta and ${2 * field.ambiguityAxisDeg} - theta, the nearer)` },
+  };
+}

@@ -75,10 +75,25 @@ describe('analysePlate', () => {
 
   it('gives a channel profile of the plate field when walls are asked for', async () => {
     const walls: Channel = { walls: [{ x1: 10, y1: 1, x2: 39, y2: 1 }, { x1: 10, y1: 22, x2: 39, y2: 22 }] };
-    const { result } = await analysePlate(img, { background, compensatorNm: 550, profile: { channel: walls, bins: 4, axisDeg: 45 } });
+    const { result } = await analysePlate(img, { background, compensatorNm: 550, sampleRetardanceNm: 150, sampleRetardanceToleranceNm: 60, profile: { channel: walls, bins: 4, axisDeg: 45 } });
     expect(result.profile!.fieldMethod).toBe('plate');
     // every bin holds +45 deg retarders (200 nm, and the 100-nm band in the core), so S_axis against +45 is near 1 in the core
     expect(result.profile!.core.order).toBeGreaterThan(0.9);
+  });
+
+  it('withholds the order numbers, saying what is missing, when the sample retardance is not given', async () => {
+    // One colour fits many (angle, retardance) pairs (docs/methods.md, "One compensator image"): without the
+    // sample's retardance no angle, hence no S, is determined.
+    const walls: Channel = { walls: [{ x1: 10, y1: 1, x2: 39, y2: 1 }, { x1: 10, y1: 22, x2: 39, y2: 22 }] };
+    const { result } = await analysePlate(img, { background, compensatorNm: 550, profile: { channel: walls, bins: 4, axisDeg: 45 } });
+    expect(result.notDetermined?.order).toMatch(/sample retardance/);
+    expect(result.notDetermined?.order).toMatch(/plate2/);
+    expect(result.order2D).toBeNaN();
+    expect(result.profile!.core.order).toBeNaN();
+    expect(result.profile!.bins.every((b) => Number.isNaN(b.order))).toBe(true);
+    // And without a sample-free area as well, both remedies are named.
+    const bare = await analysePlate(img, { profile: { channel: walls, bins: 4, axisDeg: 45 } });
+    expect(bare.result.notDetermined?.order).toMatch(/sample-free rectangle/);
   });
 
   it('refuses nonsense settings with an InputError', async () => {

@@ -1,4 +1,4 @@
-import { analyseOrientation, parseRect, type OrientResult } from '../../analyses/index.ts';
+import { analyseOrientation, NOT_DETERMINED, parseRect, type OrientResult } from '../../analyses/index.ts';
 import { checkWeighting } from '../../order/index.ts';
 import { numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -66,13 +66,16 @@ export const orientCommand: Command = {
     const hasAxis = opts.axisDeg !== undefined;
     const table = formatTable(
       ['image', 'director deg', 'S_2D', 'ci low', 'ci high', ...(hasAxis ? ['S_axis'] : []), 'coherency', 'n'],
-      results.map((r) => [r.source, r.directorDeg, r.order2D, r.order2DCi[0], r.order2DCi[1], ...(hasAxis ? [r.axisOrder] : []), r.coherencyMean, r.n]),
+      results.map((r) => [r.source, r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg, r.order2D, r.order2DCi[0], r.order2DCi[1], ...(hasAxis ? [r.axisOrder] : []), r.coherencyMean, r.n]),
     );
     return {
       json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'orient', results },
       table,
       csvRows: results.map(orientCsvRow),
-      warnings: results.flatMap((r) => r.warnings.map((w) => `${r.source}: ${w}`)),
+      warnings: results.flatMap((r) => [
+        ...Object.entries(r.notDetermined ?? {}).map(([k, why]) => `${r.source}: ${k} ${NOT_DETERMINED}: ${why}`),
+        ...r.warnings.map((w) => `${r.source}: ${w}`),
+      ]),
     };
   },
 };

@@ -1,13 +1,13 @@
 import {
-  analysePlate, readPlateField, type OpticsResult, type OpticsSummaryOptions, type PlateOptions, type PlateReadingOptions, type TrainOptions,
+  analysePlate, type OpticsResult, type OpticsSummaryOptions, type PlateOptions, type PlateReadingOptions, type TrainOptions,
 } from '../../analyses/index.ts';
 import { checkWeighting } from '../../order/index.ts';
-import type { Image } from '../../image/types.ts';
 import { InputError } from '../../common/errors.ts';
 import { parseRect, type MatchSpace } from '../../optics/index.ts';
 import { flagOpt, numberList, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command, CommandOutput } from '../command.ts';
 import { formatPairs } from '../format.ts';
+import { NOT_DETERMINED } from '../../analyses/schema.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS, profileCsvRow, profileRequestFrom, profileTable } from '../channelOptions.ts';
@@ -75,7 +75,7 @@ export function plateReadingFrom(a: ParsedArgs): PlateReadingOptions {
   };
 }
 
-function matchFrom(a: ParsedArgs): MatchSpace {
+export function matchFrom(a: ParsedArgs): MatchSpace {
   const match = stringOpt(a, 'match') ?? 'lab';
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`--match must be lab or chroma, got "${match}"`);
   return match;
@@ -92,12 +92,15 @@ export function summaryFrom(a: ParsedArgs): OpticsSummaryOptions {
 
 export function opticsTable(r: OpticsResult): string {
   const c = r.confidence;
+  const nd = r.notDetermined?.order;
   const head = formatPairs([
     ['image', r.source],
     ['method', String(r.options.method)],
-    ['director deg', r.directorDeg],
-    ['S_2D (95% CI)', `${r.order2D.toFixed(3)} (${r.order2DCi[0].toFixed(3)}..${r.order2DCi[1].toFixed(3)})`],
-    ...(r.axisOrder !== null ? [['S_axis', `${r.axisOrder.toFixed(3)} against ${r.axisDeg} deg`] as [string, string]] : []),
+    ...(nd ? [['order numbers', `${NOT_DETERMINED}: ${nd}`] as [string, string]] : [
+      ['director deg', r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg] as [string, string | number],
+      ['S_2D (95% CI)', `${r.order2D.toFixed(3)} (${r.order2DCi[0].toFixed(3)}..${r.order2DCi[1].toFixed(3)})`] as [string, string],
+      ...(r.axisOrder !== null ? [['S_axis', `${r.axisOrder.toFixed(3)} against ${r.axisDeg} deg`] as [string, string]] : []),
+    ]),
     ['retardance nm (median)', r.retardanceNmMedian],
     ['confidence mean / median', `${c.mean?.toFixed(3) ?? '-'} / ${c.median?.toFixed(3) ?? '-'}`],
     ['pixels with confidence >= 0.5', c.fractionAbove05 === null ? '-' : `${(100 * c.fractionAbove05).toFixed(1)} %`],
@@ -121,13 +124,11 @@ export function opticsOutput(analysis: string, results: OpticsResult[]): Command
     json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis, results },
     table: results.map(opticsTable).join('\n\n'),
     csvRows: results.map(opticsCsvRow),
-    warnings: results.flatMap((r) => r.warnings.map((w) => `${r.source}: ${w}`)),
+    warnings: results.flatMap((r) => [
+      ...Object.entries(r.notDetermined ?? {}).map(([k, why]) => `${r.source}: ${k === 'order' ? 'order numbers' : k} ${NOT_DETERMINED}: ${why}`),
+      ...r.warnings.map((w) => `${r.source}: ${w}`),
+    ]),
   };
-}
-
-/** One plate image read with the options given on the command line (shared with `profile --source plate`). */
-export function readPlateFrom(img: Image, a: ParsedArgs) {
-  return readPlateField(img, { ...plateReadingFrom(a), ...knownRetardanceFrom(a), match: matchFrom(a), axisDeg: numberOpt(a, 'axis-deg') });
 }
 
 export const MATCH_OPTION: OptionSpec = { name: 'match', kind: 'string', help: 'lab, or chroma (brightness-independent, for uneven illumination)', defaultText: 'lab' };

@@ -1,4 +1,4 @@
-import type { ProfileResult } from '../../analyses/index.ts';
+import { NOT_DETERMINED, type ProfileResult } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -6,16 +6,26 @@ import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileTable } from '../channelOptions.ts';
 import { TEXTURE_OPTIONS, textureOptionsFrom } from './orient.ts';
-import { MATCH_OPTION, PLATE_OPTIONS, readPlateFrom } from './plate.ts';
-import { analyseOrientation as textureField } from '../../analyses/index.ts';
+import { MATCH_OPTION, PLATE_OPTIONS, knownRetardanceFrom, matchFrom, plateReadingFrom, summaryFrom } from './plate.ts';
+import { analyseOrientation as textureField, analysePlate } from '../../analyses/index.ts';
+import type { OrientationField } from '../../orientation/index.ts';
 import type { Image } from '../../image/types.ts';
 import type { ParsedArgs } from '../args.ts';
 
-/** The orientation field `--source` names: the texture (structure tensor) or one compensator image. */
-async function fieldFor(img: Image, a: ParsedArgs) {
+/**
+ * The profile from the field `--source` names: the texture (structure tensor), or one compensator image
+ * read as `plate` reads it (so the same checks decide whether its order numbers are determined).
+ */
+async function profileFor(img: Image, a: ParsedArgs): Promise<{ field: OrientationField; result: ProfileResult | null }> {
   const source = stringOpt(a, 'source') ?? 'texture';
-  if (source === 'texture') return (await textureField(img, textureOptionsFrom(a))).field;
-  if (source === 'plate') return readPlateFrom(img, a).field;
+  if (source === 'texture') {
+    const field = (await textureField(img, textureOptionsFrom(a))).field;
+    return { field, result: await channelProfileOutput(img, field, a) };
+  }
+  if (source === 'plate') {
+    const { result, field } = await analysePlate(img, { ...plateReadingFrom(a), ...knownRetardanceFrom(a), ...summaryFrom(a), match: matchFrom(a) });
+    return { field, result: result.profile && { ...result.profile, notDetermined: { ...result.profile.notDetermined, ...result.notDetermined } } };
+  }
   throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate2 or quad with --walls for the other readers');
 }
 
@@ -39,16 +49,18 @@ export const profileCommand: Command = {
     const fieldOut = stringOpt(a, 'field-out');
     const results: ProfileResult[] = [];
     for (const img of images) {
-      const field = await fieldFor(img, a);
+      const { field, result: r } = await profileFor(img, a);
       if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda profile ${img.source.name}`);
-      const r = await channelProfileOutput(img, field, a);
       if (r) results.push(r);
     }
     return {
       json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'profile', results },
       table: results.map(profileTable).join('\n\n'),
       csvRows: results.map(profileCsvRow),
-      warnings: results.flatMap((r) => r.warnings.map((w) => `${r.source}: ${w}`)),
+      warnings: results.flatMap((r) => [
+        ...Object.entries(r.notDetermined ?? {}).map(([k, why]) => `${r.source}: ${k === 'order' ? 'order numbers' : k} ${NOT_DETERMINED}: ${why}`),
+        ...r.warnings.map((w) => `${r.source}: ${w}`),
+      ]),
     };
   },
 };
