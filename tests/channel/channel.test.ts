@@ -19,6 +19,11 @@ function rotatedChannel(a: number, cx: number, cy: number, halfWidth: number, ha
   return { walls: [w(-1), w(1)] };
 }
 
+/** s of a pixel in rotatedChannel's construction: turned back by -a about the centre, its offset over the half-width. */
+function constructedS(x: number, y: number, a: number, cx: number, cy: number, halfWidth: number): number {
+  return (rot(x, y, -a, cx, cy)[1] - cy) / halfWidth;
+}
+
 describe('channel geometry', () => {
   it('parses walls and rejects malformed text with the expected format in the message', () => {
     expect(parseWalls('0,10,100,10; 0,50,100,50').walls[1]).toEqual({ x1: 0, y1: 50, x2: 100, y2: 50 });
@@ -64,12 +69,12 @@ describe('channel geometry', () => {
 
 describe('channelProfile', () => {
   // Field with phi(s) = 0 in |s| < 0.5 and 30 deg off the axis for |s| > 0.8, 15 deg between:
-  // S_axis = cos 2 phi, so core = 1, skin = cos 60 = 0.5, ratio 2 (trigonometry).
+  // S_axis = cos 2 phi, so core = 1, skin = cos 60 = 0.5, ratio 2 (trigonometry). The field's s comes from
+  // the construction (the pixel turned back into the unrotated channel), not from the code under test.
   function skinCoreField(a: number) {
     const ch = rotatedChannel(a, 150, 150, 50, 120);
-    const frame = channelFrame(ch);
     const f = fieldOf(300, 300, (x, y) => {
-      const s = transverse(frame, ch, x, y).s;
+      const s = constructedS(x, y, a, 150, 150, 50);
       const phi = Math.abs(s) < 0.5 ? 0 : Math.abs(s) > 0.8 ? 30 * Math.sign(s) : 15;
       return a + phi;
     });
@@ -150,13 +155,13 @@ describe('findWalls', () => {
 describe('channelProfile on a field with scatter', () => {
   it('gives the closed-form order in core and skin, with intervals that contain it', async () => {
     // Angles uniform on +-40 deg about the axis in the core (|s| < 0.5) and +-15 deg in the skin (|s| > 0.8):
-    // S_axis = sin(2D)/(2D) = 0.70531 and 0.95493 (domain.md §5 [D]); seeded, independent pixels.
+    // S_axis = sin(2D)/(2D) = 0.70531 and 0.95493 (closed form for angles uniform on +-D, docs/methods.md,
+    // "Order parameters"); seeded, independent pixels; s from the construction.
     const { rng } = await import('../support/synthetic.ts');
     const rand = rng(77);
     const ch = rotatedChannel(20, 200, 200, 80, 160);
-    const frame = channelFrame(ch);
     const f = fieldOf(400, 400, (x, y) => {
-      const s = Math.abs(transverse(frame, ch, x, y).s);
+      const s = Math.abs(constructedS(x, y, 20, 200, 200, 80));
       const half = s < 0.5 ? 40 : s > 0.8 ? 15 : 25;
       return 20 + half * (2 * rand() - 1);
     });
