@@ -1,7 +1,7 @@
 /**
  * The image viewer: a canvas with zoom (wheel, pinch-free buttons, keys + - 0) and pan (drag), the
  * orientation picture laid over the image, and the two channel walls, which can be drawn by dragging
- * and adjusted by dragging their ends. Coordinates follow conventions.md: image pixels, x right,
+ * and adjusted by dragging their ends. Coordinates follow docs/methods.md §1.1: image pixels, x right,
  * y down, origin at the centre of the top-left pixel.
  */
 import { useCallback, useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';

@@ -66,7 +66,7 @@ export interface ChannelProfile extends BandStats {
 
 /**
  * Axis-referenced order S_axis = <cos 2(theta - axis)> in bins of the transverse coordinate s, at
- * stations along the channel, with core and skin bands and their ratio (conventions.md). Intervals
+ * stations along the channel, with core and skin bands and their ratio (docs/methods.md §10.3-10.4). Intervals
  * are 95 % intervals from blocks of six correlation lengths (src/order/intervals.ts).
  */
 export function channelProfile(field: OrientationField, ch: Channel, options: ProfileOptions = {}): ChannelProfile {

@@ -8,7 +8,7 @@ import { writeBytes } from './io.ts';
 /** Where the CLI prints: process.stdout / stderr, or a capture in tests. */
 export interface Sink { write(s: string): unknown }
 
-/** Runs one subcommand. Exit status: 0 success, 2 bad input or options, 1 internal fault (conventions.md). */
+/** Runs one subcommand. Exit status: 0 success, 2 bad input or options, 1 internal fault (README.md, "Command line"). */
 export async function main(argv: string[], out: Sink = process.stdout, err: Sink = process.stderr): Promise<number> {
   const [name, ...rest] = argv;
   if (!name || name === '--help' || name === 'help' || name === '-h') {

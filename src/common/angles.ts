@@ -1,5 +1,5 @@
 /**
- * Angles: radians inside the code, degrees at the edges (conventions.md). Orientations are axial,
+ * Angles: radians inside the code, degrees at the edges (docs/methods.md §1.2 "Angles and orientations"). Orientations are axial,
  * counter-clockwise on screen from +x, wrapped to (-90, 90] degrees.
  */
 export const DEG = Math.PI / 180;

@@ -90,7 +90,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     await page.getByTestId('live-order').waitFor({ timeout: 60_000 });
     const count = async () => Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
     const first = await count();
-    // S_2D lies in [0, 1] and the director in (-90, 90] by definition (conventions.md, Order parameters)
+    // S_2D lies in [0, 1] and the director in (-90, 90] by definition (docs/methods.md §8.1)
     const order = Number(await text('live-order'));
     expect(order).toBeGreaterThanOrEqual(0);
     expect(order).toBeLessThanOrEqual(1);
@@ -146,7 +146,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     await page.getByLabel('from the optics').check();
     await page.getByLabel('Camera pixel', { exact: true }).fill('3.45');
     await page.getByLabel('Objective', { exact: true }).fill('10');
-    // domain.md §8 [M/D]: 3.45 um at 10x and 1x = 0.345 um/px
+    // docs/methods.md §11.7 (sensor sizes from memory; arithmetic derived): 3.45 um at 10x and 1x = 0.345 um/px
     await expect.poll(() => text('setup-pixel-size'), { timeout: 5_000 }).toContain('0.345 µm/px');
     expect(await text('setup-cli')).toContain('--polariser-deg 0 --compensator-nm 550 --compensator-deg 45 --illuminant 3200K --sign positive');
     expect(await text('setup-cli')).toContain('--um-per-px 0.345');

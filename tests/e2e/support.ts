@@ -12,7 +12,7 @@ export const OUT = join(ROOT, 'test-output');
 export const SHOTS = join(OUT, 'screenshots');
 export const haveBrowser = existsSync(CHROMIUM);
 
-/** Flags for headless chromium on these machines (DEVELOPERS.md, shared/stack.md). */
+/** Flags for headless chromium on these machines (DEVELOPERS.md). */
 export const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
 
 /** A free TCP port on 127.0.0.1 (asked from the OS, then released for the preview server). */

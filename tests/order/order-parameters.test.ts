@@ -7,7 +7,7 @@ import { rng } from '../support/synthetic.ts';
 
 const F32 = 2e-6; // angles are stored as float32
 
-describe('orderParameters: closed-form cases (domain.md §5 check values, [D])', () => {
+describe('orderParameters: closed-form cases (docs/methods.md §8.6 check values, derived)', () => {
   it('all theta = 37 deg gives S_2D = 1 and director 37', () => {
     const s = orderParameters(fieldOf(20, 10, () => 37));
     expect(Math.abs(s.order2D.order - 1)).toBeLessThan(F32);
@@ -54,7 +54,7 @@ describe('orderParameters: closed-form cases (domain.md §5 check values, [D])',
 
 describe('orderParameters: sampling behaviour', () => {
   it('isotropic samples give E[S_2D] = 0.280 (N=10) and 0.089 (N=100)', () => {
-    // domain.md §5 [C]: Monte Carlo E[S_2D] for N isotropic angles; tolerance +-0.003 (MC).
+    // docs/methods.md §8.6, computed (numpy/scipy): Monte Carlo E[S_2D] for N isotropic angles; tolerance +-0.003 (MC).
     const rand = rng(99);
     for (const [N, expected] of [[10, 0.28], [100, 0.089]]) {
       let sum = 0;
@@ -102,7 +102,7 @@ describe('orderParameters: sampling behaviour', () => {
 
   it('recovers S of an image with known angle statistics within 0.02 through the structure tensor', async () => {
     // Patches of stripes whose angles are the quantiles of a uniform distribution on +-30 deg:
-    // S_axis = sin(60 deg)/(pi/3) = 0.82699 (domain.md §5 closed form).
+    // S_axis = sin(60 deg)/(pi/3) = 0.82699 (docs/methods.md §8.6, derived).
     const P = 32, K = 12, W = P * K;
     const angles = Array.from({ length: K * K }, (_, k) => -30 + (60 * (k + 0.5)) / (K * K));
     const order = Array.from({ length: K * K }, (_, k) => k).sort((a, b) => ((a * 7919) % 144) - ((b * 7919) % 144));

@@ -1,6 +1,6 @@
 /**
  * Analytic test images (not data): gratings, rings and seeded noise whose orientation is known by
- * construction, as in the check tables of shared/domain.md §4.
+ * construction, as in the check tables of docs/methods.md §7.5.
  */
 import { seededRandom, normalRandom } from '../../src/order/index.ts';
 import type { Plane } from '../../src/common/plane.ts';
@@ -45,7 +45,7 @@ export function median(v: number[]): number {
   return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
 
-/** Values of a per-pixel array in the central half of the image (domain.md's "central 128 x 128"). */
+/** Values of a per-pixel array in the central half of the image (docs/methods.md §7.5: "central 128 x 128"). */
 export function central(a: ArrayLike<number>, width: number, height: number): number[] {
   const out: number[] = [];
   for (let r = height / 4; r < (3 * height) / 4; r++) for (let c = width / 4; c < (3 * width) / 4; c++) out.push(a[r * width + c]);
