@@ -2,6 +2,7 @@
  * The bench app: bring images in, look at them, run the orientation and channel-profile analyses in
  * the worker, see and export the numbers, and keep everything in sessions on the device.
  */
+import { WallsEditor } from './components/WallsEditor.tsx';
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Channel } from '../src/channel/index.ts';
 import { AnalysisClient, tileHelperCount, CancelledError, type ImageSource } from './worker/client.ts';
@@ -324,7 +325,7 @@ export function App() {
     try {
       await client.ensure(src, progress('Opening the image'));
       const found = await client.call('findWalls', { key: id }, progress('Walls'));
-      change({ type: 'walls', id, channel: found.channel, found: true });
+      change({ type: 'walls', id, channel: found.channel, found: true, fit: found.fit });
       say('info', `Walls found on the channel's inner edges (points off their line by ${found.fit[0].residualPx.toFixed(1)} px and ${found.fit[1].residualPx.toFixed(1)} px RMS). Check them on the image; drag the ends to correct them.`);
     } catch (e) { report(e, 'Finding the walls'); } finally { setBusy(null); }
   }, [client, activeTarget, progress, change, say, report]);
@@ -764,7 +765,7 @@ export function App() {
                 <button disabled={!!busy || !shown} onClick={() => void runFindWalls()} title="Shortcut: F">Find walls</button>
                 {walls && <button className="quiet" onClick={() => change({ type: 'walls', id: active.id, channel: null, found: false })}>Clear walls</button>}
               </p>
-              {walls && <p className="note">Walls ({work?.wallsFound ? 'found' : 'drawn'}): {wallsText(walls.walls)} px</p>}
+              {walls && <WallsEditor walls={walls} found={!!work?.wallsFound} fit={work?.wallFit} onChange={(channel) => change({ type: 'walls', id: active.id, channel, found: false })} />}
               {numberField('Bins across', 'bins', 2, 200, 1)}
               {numberField('Stations along', 'stations', 1, 100, 1)}
               {numberField('Core: |s| below', 'coreMax', 0.05, 1, 0.05)}

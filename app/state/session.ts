@@ -3,7 +3,7 @@
  * the result is what gets saved. Pictures and progress are not part of it (they are remade).
  */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
-import type { Channel } from '../../src/channel/index.ts';
+import type { Channel, WallFit } from '../../src/channel/index.ts';
 import {
   EMPTY_WORK, type AnalysisSettings, type ImageMeta, type StoredDiameterRun, type ImageWork, type SessionPixelSize, type SessionRecord, type StoredMicrometer, type StoredOptics,
 } from '../storage/records.ts';
@@ -17,7 +17,7 @@ export type SessionAction =
   | { type: 'removeImage'; id: string }
   | { type: 'select'; id: string }
   | { type: 'settings'; change: Partial<AnalysisSettings> }
-  | { type: 'walls'; id: string; channel: Channel | null; found: boolean }
+  | { type: 'walls'; id: string; channel: Channel | null; found: boolean; fit?: [WallFit, WallFit] | null }
   | { type: 'orient'; id: string; result: OrientResult }
   | { type: 'profile'; id: string; result: ProfileResult }
   /** Applies a set-up (optical train, pixel size, sign) to every image of the session; null removes it. */
@@ -56,7 +56,7 @@ function apply(s: SessionRecord, a: SessionAction): SessionRecord {
     case 'select': return s.images.some((i) => i.id === a.id) ? { ...s, activeImageId: a.id } : s;
     case 'settings': return { ...s, settings: { ...s.settings, ...a.change } };
     // New walls make the old profile describe other walls: it is dropped, the orientation result stays.
-    case 'walls': return withWork(s, a.id, { walls: a.channel, wallsFound: a.found, profile: null });
+    case 'walls': return withWork(s, a.id, { walls: a.channel, wallsFound: a.found, wallFit: a.found ? a.fit ?? null : null, profile: null });
     case 'orient': return withWork(s, a.id, { orient: a.result });
     case 'profile': return withWork(s, a.id, { profile: a.result, walls: { walls: a.result.walls }, wallsFound: a.result.wallsFound });
     case 'applySetup': return { ...s, setup: a.setup };

@@ -11,7 +11,7 @@
  */
 import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
-import type { Channel, Segment } from '../../src/channel/index.ts';
+import type { Channel, Segment, WallFit } from '../../src/channel/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
 import { keySet, unknownKeys, withUnknown } from './unknownKeys.ts';
@@ -46,6 +46,8 @@ export interface ImageRecord extends ImageMeta { schemaVersion: number; kind: 'i
 export interface ImageWork {
   walls: Channel | null;
   wallsFound: boolean;
+  /** How well each found wall's edge points lay on its line (display only; kept as stored). */
+  wallFit?: [WallFit, WallFit] | null;
   orient: OrientResult | null;
   profile: ProfileResult | null;
   /** Fibre diameters measured on the image (`retarda diameter`'s document); absent in older records. */
@@ -122,7 +124,7 @@ const SETTINGS_KEYS = keySet<AnalysisSettings>({ sigmaPx: true, weighting: true,
 const IMAGE_META_KEYS = keySet<ImageMeta>({ id: true, name: true, type: true, size: true, page: true, addedAt: true });
 const IMAGE_RECORD_KEYS = keySet<ImageRecord>({ id: true, name: true, type: true, size: true, page: true, addedAt: true, schemaVersion: true, kind: true, blob: true });
 const WORK_KEYS = keySet<ImageWork>({
-  walls: true, wallsFound: true, orient: true, profile: true, diameter: true, diameterRun: true, optics: true, micrometer: true,
+  walls: true, wallsFound: true, wallFit: true, orient: true, profile: true, diameter: true, diameterRun: true, optics: true, micrometer: true,
 });
 const SEGMENT_KEYS = keySet<Segment>({ x1: true, y1: true, x2: true, y2: true });
 const CHANNEL_KEYS = keySet<Channel>({ walls: true });
@@ -284,7 +286,7 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
       lossy = true;
     }
     work[img.id] = {
-      ...unknownKeys(w, WORK_KEYS), walls, wallsFound: w.wallsFound === true, orient, profile,
+      ...unknownKeys(w, WORK_KEYS), walls, wallsFound: w.wallsFound === true, ...(isWallFit(w.wallFit) ? { wallFit: w.wallFit } : {}), orient, profile,
       ...(diameter ? { diameter } : {}), ...(diameterRun ? { diameterRun } : {}), ...(optics ? { optics } : {}), ...(micrometer ? { micrometer } : {}),
     };
   }
@@ -321,4 +323,9 @@ export function newSession(id: string, name: string, now = new Date()): SessionR
     schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id, name, createdAt: t, updatedAt: t,
     images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {}, setup: null, pixelSize: null,
   };
+}
+
+/** A stored pair of wall fits (display only): two objects with finite numbers, else dropped. */
+function isWallFit(v: unknown): v is [WallFit, WallFit] {
+  return Array.isArray(v) && v.length === 2 && v.every((f) => isObj(f) && ['residualPx', 'points', 'strips'].every((k) => Number.isFinite((f as Record<string, unknown>)[k])));
 }
