@@ -4,9 +4,9 @@
  */
 import { Rng } from './rng.ts';
 
-/** Normalised, sampled Gaussian kernel exp(-i^2 / (2 sigma^2)) on [-r, r], r = ceil(4 sigma). */
-export function gaussKernel(sigmaPx: number): Float64Array {
-  const r = Math.max(1, Math.ceil(4 * sigmaPx));
+/** Normalised, sampled Gaussian kernel exp(-i^2 / (2 sigma^2)) on [-r, r], r = ceil(reach sigma) (default 4). */
+export function gaussKernel(sigmaPx: number, reach = 4): Float64Array {
+  const r = Math.max(1, Math.ceil(reach * sigmaPx));
   const k = new Float64Array(2 * r + 1);
   let sum = 0;
   for (let i = -r; i <= r; i++) sum += k[i + r] = Math.exp((-0.5 * i * i) / (sigmaPx * sigmaPx));
@@ -54,10 +54,11 @@ export function gaussBlur(src: Float32Array, w: number, h: number, sigmaPx: numb
  * standard deviation L / sqrt(2) (the autocorrelation of a Gaussian kernel is a Gaussian of sqrt(2) times
  * its width) on a canvas padded by the kernel radius, so the image borders see the same statistics as the
  * middle; divided by the square root of the sum of the squared 2-D kernel weights, so the variance is
- * exactly 1 in expectation for the truncated kernel actually used.
+ * exactly 1 in expectation for the truncated kernel actually used (cut at 3 sigma: the correlation's tail
+ * changes a little, the normal marginal that the truth rests on does not).
  */
 export function correlatedField(rng: Rng, w: number, h: number, corrLengthPx: number): Float32Array {
-  const k = gaussKernel(corrLengthPx / Math.SQRT2), r = (k.length - 1) / 2;
+  const k = gaussKernel(corrLengthPx / Math.SQRT2, 3), r = (k.length - 1) / 2;
   const W = w + 2 * r, H = h + 2 * r;
   const noise = rng.normals(W * H);
   let k2 = 0;

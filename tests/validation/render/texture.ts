@@ -5,14 +5,6 @@
  * gradient structure tensor sees theta (gradients run across the streaks).
  */
 
-/** Bilinear sample of a plane at (x, y), clamped to the frame. */
-function bilinear(p: Float32Array, w: number, h: number, x: number, y: number): number {
-  const xc = Math.min(w - 1.000001, Math.max(0, x)), yc = Math.min(h - 1.000001, Math.max(0, y));
-  const x0 = Math.floor(xc), y0 = Math.floor(yc), fx = xc - x0, fy = yc - y0;
-  const i = y0 * w + x0;
-  return (1 - fy) * ((1 - fx) * p[i] + fx * p[i + 1]) + fy * ((1 - fx) * p[i + w] + fx * p[i + w + 1]);
-}
-
 /**
  * Line-integral convolution of `noise` along the director theta (radians CCW on screen, axial) with a Hann
  * weight over +-halfLengthPx, in unit steps; the streamline re-reads the director at every step (nearest
@@ -24,6 +16,7 @@ export function lineIntegralConvolution(noise: Float32Array, thetaRad: Float32Ar
   const L = Math.max(1, Math.round(halfLengthPx));
   const weight = Float64Array.from({ length: L + 1 }, (_, k) => 0.5 * (1 + Math.cos((Math.PI * k) / (L + 1))));
   const out = new Float32Array(w * h);
+  const xMax = w - 1, yMax = h - 1;
   for (let y = 0; y < h; y++) {
     for (let x = 0; x < w; x++) {
       const i0 = y * w + x;
@@ -32,10 +25,16 @@ export function lineIntegralConvolution(noise: Float32Array, thetaRad: Float32Ar
         let px = x, py = y, dx = sense * cosT[i0], dy = sense * sinT[i0];
         for (let k = 1; k <= L; k++) {
           px += dx; py += dy;
-          if (px < 0 || py < 0 || px > w - 1 || py > h - 1) break;
-          acc += weight[k] * bilinear(noise, w, h, px, py);
-          wsum += weight[k];
-          const j = Math.round(py) * w + Math.round(px);
+          if (px < 0 || py < 0 || px >= xMax || py >= yMax) break;
+          // Bilinear sample of the noise at (px, py).
+          const x0 = px | 0, y0 = py | 0, fx = px - x0, fy = py - y0, j0 = y0 * w + x0;
+          const top = noise[j0] + fx * (noise[j0 + 1] - noise[j0]);
+          const bottom = noise[j0 + w] + fx * (noise[j0 + w + 1] - noise[j0 + w]);
+          const wk = weight[k];
+          acc += wk * (top + fy * (bottom - top));
+          wsum += wk;
+          // Direction at the nearest pixel, with the sense of travel kept.
+          const j = ((py + 0.5) | 0) * w + ((px + 0.5) | 0);
           let ndx = cosT[j], ndy = sinT[j];
           if (ndx * dx + ndy * dy < 0) { ndx = -ndx; ndy = -ndy; }
           dx = ndx; dy = ndy;
