@@ -5,7 +5,7 @@
  */
 /// <reference lib="webworker" />
 import {
-  analyseOrientation, analyseProfile, analysePlate, analysePlatePair, analyseFourAngle, analyseDiameter, analyseMicrometer,
+  analyseOrientation, analyseProfile, analysePlate, analysePlateProfile, analysePlatePair, analyseFourAngle, analyseDiameter, analyseMicrometer,
   fibreNumbersResult, readPlateField, type OrientOptions, type OpticsAnalysis,
 } from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
@@ -177,10 +177,14 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   async profile({ key, texture, request, source }, progress) {
     const img = imageOf(key);
     // Same fields as `retarda profile --source texture|plate`.
-    const field = source?.kind === 'plate' ? plateFieldFor(key, source, request.axisDeg, progress) : await textureField(key, texture, progress);
     progress(request.autoWalls ? 'finding walls and the profile' : 'profile across the channel', 0.6);
-    // Same calls as `retarda profile`: the texture field, then analyseProfile.
-    return { value: await analyseProfile(img, field, request), transfer: [] };
+    // Same calls as `retarda profile`: the texture field, then analyseProfile; one compensator image through
+    // analysePlateProfile, which withholds what one image does not determine.
+    if (source?.kind === 'plate') {
+      const field = plateFieldFor(key, source, request.axisDeg, progress);
+      return { value: await analysePlateProfile(img, field, source.options, request), transfer: [] };
+    }
+    return { value: await analyseProfile(img, await textureField(key, texture, progress), request), transfer: [] };
   },
 
   // Each optical command runs exactly the analysis its `retarda` subcommand runs.

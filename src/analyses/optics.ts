@@ -222,8 +222,19 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
     mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
     colourCellsSearched: reading.cellsMatched,
   });
-  const gaps = oneImageGaps(o, compDeg, field, result);
+  const axis = o.axisDeg ?? result.profile?.axisDeg ?? (Number.isFinite(result.directorDeg) ? result.directorDeg : null);
+  const gaps = oneImageGaps(o, compDeg, field, axis, result.profile !== null);
   return { result: gaps.length ? withholdOrder(result, gaps) : result, field };
+}
+
+/**
+ * The channel profile of a one-image field already read (`profile --source plate`, the app's profile on a
+ * compensator image): analyseProfile, with the order numbers withheld when one image does not determine them.
+ */
+export async function analysePlateProfile(img: Image, field: OrientationField, o: PlateReadingOptions & KnownRetardanceOptions, request: ProfileRequest): Promise<ProfileResult> {
+  const p = await analyseProfile(img, field, request, field.options);
+  const gaps = oneImageGaps(o, trainOf(o).compensator!.axisDeg, field, request.axisDeg ?? p.axisDeg, true);
+  return gaps.length ? withholdProfile(p, gaps.join('; ')) : p;
 }
 
 /**
@@ -243,7 +254,7 @@ export const ONE_IMAGE_AXIS_TOLERANCE_DEG = 10;
  * from its mirror image about the compensator axis unless the axis of interest lies along or across it
  * (docs/methods.md, "One compensator image").
  */
-export function oneImageGaps(o: PlateOptions, compensatorDeg: number, field: OrientationField, r: OpticsResult): string[] {
+export function oneImageGaps(o: PlateReadingOptions & KnownRetardanceOptions, compensatorDeg: number, field: OrientationField, axis: number | null, channel: boolean): string[] {
   const gaps: string[] = [];
   if (o.background === undefined && !(o.compensatorNm !== undefined && o.whiteRgb !== undefined)) {
     gaps.push('no sample-free area: the compensator, exposure and white balance are not calibrated; draw the sample-free rectangle on the image (--background x,y,w,h)');
@@ -254,8 +265,7 @@ export function oneImageGaps(o: PlateOptions, compensatorDeg: number, field: Ori
     gaps.push(`the sample retardance (${o.sampleRetardanceNm} nm) is below ${ONE_IMAGE_MIN_RETARDANCE_NM} nm, where one image's colours change too little with the angle to read S within 0.03; add the second image turned by 45 deg (plate2)`);
   }
   if (field.ambiguity === 'mirror-about-compensator') {
-    const p = r.profile;
-    const axis = o.axisDeg ?? (p ? p.axisDeg : null) ?? (Number.isFinite(r.directorDeg) ? r.directorDeg : null);
+    const p = channel;
     if (axis !== null) {
       const advice = compensatorAxisAdvice(axis, compensatorDeg, ONE_IMAGE_AXIS_TOLERANCE_DEG);
       if (advice.offsetDeg > ONE_IMAGE_AXIS_TOLERANCE_DEG) {
@@ -266,20 +276,26 @@ export function oneImageGaps(o: PlateOptions, compensatorDeg: number, field: Ori
   return gaps;
 }
 
+/** A profile with every order number withheld (null in JSON) and the reason under notDetermined.order. */
+export function withholdProfile(p: ProfileResult, why: string): ProfileResult {
+  const nan2: [number, number] = [NaN, NaN];
+  const stat = <T extends { order: number; ciLow: number; ciHigh: number }>(x: T): T => ({ ...x, order: NaN, ciLow: NaN, ciHigh: NaN });
+  return {
+    ...p, core: stat(p.core), skin: stat(p.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
+    bins: p.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
+    stations: p.stations.map((st) => ({
+      ...st, core: stat(st.core), skin: stat(st.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
+      bins: st.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
+    })),
+    notDetermined: { ...p.notDetermined, order: why },
+  };
+}
+
 /** The result with every order number withheld (null in JSON) and the reasons under notDetermined. */
 export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
   const why = gaps.join('; ');
   const nan2: [number, number] = [NaN, NaN];
-  const stat = <T extends { order: number; ciLow: number; ciHigh: number }>(x: T): T => ({ ...x, order: NaN, ciLow: NaN, ciHigh: NaN });
-  const profile = r.profile && {
-    ...r.profile, core: stat(r.profile.core), skin: stat(r.profile.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
-    bins: r.profile.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
-    stations: r.profile.stations.map((st) => ({
-      ...st, core: stat(st.core), skin: stat(st.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
-      bins: st.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
-    })),
-    notDetermined: { order: why },
-  };
+  const profile = r.profile && withholdProfile(r.profile, why);
   return {
     ...r, directorDeg: NaN, order2D: NaN, order2DCi: nan2, axisOrder: r.axisOrder === null ? null : NaN, axisOrderCi: r.axisOrderCi && nan2,
     profile, notDetermined: { ...r.notDetermined, order: why },

@@ -4,10 +4,10 @@ import { stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
-import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileTable } from '../channelOptions.ts';
+import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileRequestFrom, profileTable } from '../channelOptions.ts';
 import { TEXTURE_OPTIONS, textureOptionsFrom } from './orient.ts';
-import { MATCH_OPTION, PLATE_OPTIONS, knownRetardanceFrom, matchFrom, plateReadingFrom, summaryFrom } from './plate.ts';
-import { analyseOrientation as textureField, analysePlate } from '../../analyses/index.ts';
+import { MATCH_OPTION, PLATE_OPTIONS, knownRetardanceFrom, matchFrom, plateReadingFrom } from './plate.ts';
+import { analyseOrientation as textureField, analysePlateProfile, readPlateField } from '../../analyses/index.ts';
 import type { OrientationField } from '../../orientation/index.ts';
 import type { Image } from '../../image/types.ts';
 import type { ParsedArgs } from '../args.ts';
@@ -23,8 +23,10 @@ async function profileFor(img: Image, a: ParsedArgs): Promise<{ field: Orientati
     return { field, result: await channelProfileOutput(img, field, a) };
   }
   if (source === 'plate') {
-    const { result, field } = await analysePlate(img, { ...plateReadingFrom(a), ...knownRetardanceFrom(a), ...summaryFrom(a), match: matchFrom(a) });
-    return { field, result: result.profile && { ...result.profile, notDetermined: { ...result.profile.notDetermined, ...result.notDetermined } } };
+    const request = profileRequestFrom(a);
+    const reading = { ...plateReadingFrom(a), ...knownRetardanceFrom(a), match: matchFrom(a), axisDeg: request?.axisDeg };
+    const { field } = readPlateField(img, reading);
+    return { field, result: request && await analysePlateProfile(img, field, reading, request) };
   }
   throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate2 or quad with --walls for the other readers');
 }
