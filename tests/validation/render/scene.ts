@@ -112,7 +112,7 @@ export const SCENE_DEFAULTS: SceneSpec = {
   order: { core: 0.8, skin: 0.5 },
   corrLengthPx: 16,
   source: 'texture',
-  texture: { mean: 0.5, contrast: 0.12, streakHalfLengthPx: 20, grainPx: 0.6 },
+  texture: { mean: 0.5, contrast: 0.12, streakHalfLengthPx: 30, grainPx: 0.6 },
   optics: { retardanceNm: 250, retardanceSpread: 0, compensatorNm: 550, lampK: 3200, exposure: 1, streakContrast: 0, turnDeg: null },
   imaging: { psfSigmaPx: 0.8, noiseSigma: 0.01, fullWellElectrons: 0, gradient: [0, 0], vignetting: 0, bitDepth: 8 },
   wallsDistinct: true,
