@@ -81,7 +81,23 @@ function otsuThreshold(values: Float32Array): number {
 /** Fraction of the fibre contrast above which a pixel belongs to a fibre object (see stations.ts). */
 const MASK_LEVEL = 0.3;
 
+/**
+ * Segments the fibres. The first split is made against a robust plane (a curved surface could bend into a
+ * wide fibre); when that finds no fibre, as under a strong lamp fall-off towards the border (which a
+ * plane leaves as a dark frame that looks like the fibre's class), it is made again against a robust
+ * quadratic surface.
+ */
 export function segmentFibres(data: Float32Array, width: number, height: number, o: SegmentOptions): Segmentation {
+  try {
+    const first = segmentWith(data, width, height, o, 1);
+    if (first.fibres.length > 0 || o.backgroundDegree < 2) return first;
+  } catch (e) {
+    if (!(e instanceof InputError) || o.backgroundDegree < 2) throw e;
+  }
+  return segmentWith(data, width, height, o, 2);
+}
+
+function segmentWith(data: Float32Array, width: number, height: number, o: SegmentOptions, firstDegree: number): Segmentation {
   const n = width * height;
   let finite = 0;
   let min = Infinity;
@@ -106,7 +122,7 @@ export function segmentFibres(data: Float32Array, width: number, height: number,
   const frame = 2;
 
   // First split against a robust plane, then refit the background without the fibre until the mask settles.
-  let residual = robustFlatten(smooth, width, height, Math.min(1, o.backgroundDegree), stride);
+  let residual = robustFlatten(smooth, width, height, Math.min(firstDegree, o.backgroundDegree), stride);
   let fibreMask = new Uint8Array(n);
   let sign = 1;
   let degree = 0;

@@ -5,10 +5,12 @@
  * - final value: least-squares fit of the edge-spread function of a Gaussian-blurred step,
  *   I(x) = lo + (hi - lo) * Phi((x - x0) / sigma), Phi the standard normal CDF (= (1 + erf(z / sqrt 2)) / 2),
  *   by Levenberg-Marquardt. The fit is unbiased for a blurred step, where the parabola is not;
- * - for narrow fibres, both edges at once: a blurred bar lo + A [Phi((x - x1)/s1) - Phi((x - x2)/s2)].
+ * - for narrow fibres, the whole cross-profile as one blurred bar (both edges, one PSF sigma and a sloping
+ *   background fitted jointly; `fitBlurredBar`).
  */
-import { normalCdf } from './erf.ts';
+import { normalCdfFast as normalCdf } from './erf.ts';
 import { levenbergMarquardt, type LmModel } from './levenbergMarquardt.ts';
+import { pixelEdgeSpread, type EdgeSpread, type PixelFootprint } from './pixelEdge.ts';
 
 const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 
@@ -88,54 +90,111 @@ export function fitErfEdge(xs: ArrayLike<number>, ys: ArrayLike<number>, start: 
   };
 }
 
-export interface ErfBarFit {
-  x1: number;
-  sigma1: number;
-  x2: number;
-  sigma2: number;
-  lo: number;
-  /** Level change across the edges (signed). */
+/** Start values of a blurred-bar fit (profile coordinates, px). */
+export interface BlurredBarStart {
+  centre: number;
+  width: number;
+  sigma: number;
+  /** Level change across the edges (signed: negative for a dark bar on a bright background). */
   amplitude: number;
+  background: number;
+  /** Background slope per px (default 0). */
+  slope?: number;
+}
+
+export interface BlurredBarFit {
+  centre: number;
+  /** D = x2 - x1, the geometric width of the bar. */
+  width: number;
+  /** PSF standard deviation (fitted, or the fixed value given). */
+  sigma: number;
+  amplitude: number;
+  /** Background level at x = `slopeOrigin` and its slope per unit x. */
+  background: number;
+  slope: number;
+  slopeOrigin: number;
+  /** Standard errors (residual variance times (J^T J)^-1; NaN when singular). */
+  widthStdErr: number;
+  sigmaStdErr: number;
+  /** Covariance of width and sigma (NaN when sigma is fixed or the fit is singular). */
+  widthSigmaCov: number;
+  /** Standard errors of the edge positions x1 = centre - width / 2 and x2 = centre + width / 2. */
   x1StdErr: number;
   x2StdErr: number;
   rmsResidual: number;
+  /** Residual sum of squares and number of fitted parameters (for pooling fits). */
+  rss: number;
+  parameters: number;
   converged: boolean;
 }
 
-const erfBarModel: LmModel = {
-  positive: [1, 3],
-  evaluate(x, p, grad) {
-    const z1 = (x - p[0]) / p[1];
-    const z2 = (x - p[2]) / p[3];
-    const c1 = normalCdf(z1);
-    const c2 = normalCdf(z2);
-    const d1 = INV_SQRT_2PI * Math.exp(-0.5 * z1 * z1);
-    const d2 = INV_SQRT_2PI * Math.exp(-0.5 * z2 * z2);
-    const a = p[5];
-    grad[0] = -(a * d1) / p[1];
-    grad[1] = -(a * d1 * z1) / p[1];
-    grad[2] = (a * d2) / p[3];
-    grad[3] = (a * d2 * z2) / p[3];
-    grad[4] = 1;
-    grad[5] = c1 - c2;
-    return p[4] + a * (c1 - c2);
-  },
-};
+/**
+ * Model value and gradient of the blurred bar with parameters [centre, width, sigma, mass, b0, b1]
+ * (mass = amplitude x width, which stays finite as the width goes to 0), each sample being a pixel of
+ * the given footprint (or a point, for null). `fixedSigma` drops sigma from the parameters.
+ */
+function blurredBarModel(slopeOrigin: number, fixedSigma: number | null, footprint: PixelFootprint | null): LmModel {
+  const full = new Array<number>(6).fill(0);
+  const e1: EdgeSpread = { value: 0, dU: 0, dSigma: 0 };
+  const e2: EdgeSpread = { value: 0, dU: 0, dSigma: 0 };
+  return {
+    positive: fixedSigma === null ? [1, 2] : [1],
+    evaluate(x, p, grad) {
+      const c = p[0];
+      const d = p[1];
+      const s = fixedSigma ?? p[2];
+      const k = fixedSigma === null ? 0 : -1;
+      const m = p[3 + k];
+      pixelEdgeSpread(x - c + d / 2, s, footprint, e1);
+      pixelEdgeSpread(x - c - d / 2, s, footprint, e2);
+      const g = e1.value - e2.value;
+      const a = m / d;
+      full[0] = -a * (e1.dU - e2.dU);
+      full[1] = -(a / d) * g + (a * (e1.dU + e2.dU)) / 2;
+      full[2] = a * (e1.dSigma - e2.dSigma);
+      full[3] = g / d;
+      full[4] = 1;
+      full[5] = x - slopeOrigin;
+      for (let i = 0, j = 0; i < 6; i++) if (!(fixedSigma !== null && i === 2)) grad[j++] = full[i];
+      return p[4 + k] + p[5 + k] * (x - slopeOrigin) + a * g;
+    },
+  };
+}
 
 /**
- * Fits a blurred bar, I(x) = lo + A [Phi((x - x1)/sigma1) - Phi((x - x2)/sigma2)], x1 < x2: both edges of
- * a narrow fibre at once, for widths where the blur of one edge reaches the other (there a single-edge
- * fit is biased because the fibre never reaches its full contrast).
+ * Fits the whole cross-profile of a fibre as a blurred bar (Gaussian PSF of sigma, both edges, a
+ * background with a slope), jointly:
+ *
+ *   I(x) = b0 + b1 (x - x_s) + A [Phi((x - x1)/sigma) - Phi((x - x2)/sigma)],  x1,2 = centre -+ D / 2,
+ *
+ * (the same as A/2 [erf((x - x1)/(sqrt2 sigma)) - erf((x - x2)/(sqrt2 sigma))]); docs/methods.md,
+ * "Fibre diameter: blurred-bar fit". Levenberg-Marquardt on [centre, D, sigma, A D, b0, b1]; D and sigma
+ * are kept positive. With `fixedSigma` the PSF is not fitted. With a pixel `footprint`, each sample
+ * is a whole pixel's mean at its centre's distance x (pixelEdgeSpread), so no interpolation is needed. When D is below about 2 sigma the edges'
+ * blurs merge, D and A trade off and only A D is measured: the fit still returns numbers, and the
+ * caller decides whether they are determined.
  */
-export function fitErfBar(xs: ArrayLike<number>, ys: ArrayLike<number>,
-  start: { x1: number; sigma1: number; x2: number; sigma2: number; lo: number; amplitude: number }): ErfBarFit {
-  const r = levenbergMarquardt(xs, ys,
-    [start.x1, Math.max(start.sigma1, 1e-3), start.x2, Math.max(start.sigma2, 1e-3), start.lo, start.amplitude], erfBarModel);
-  const [x1, sigma1, x2, sigma2, lo, amplitude] = r.params;
-  const dof = Math.max(1, xs.length - 6);
-  const se = (k: number) => (r.inverseNormal ? Math.sqrt(Math.max(0, (r.inverseNormal[k][k] * r.cost) / dof)) : NaN);
+export function fitBlurredBar(xs: ArrayLike<number>, ys: ArrayLike<number>, start: BlurredBarStart,
+  fixedSigma: number | null = null, footprint: PixelFootprint | null = null): BlurredBarFit {
+  const slopeOrigin = start.centre;
+  const width0 = Math.max(start.width, 1e-2);
+  const p0 = fixedSigma === null
+    ? [start.centre, width0, Math.max(start.sigma, 0.05), start.amplitude * width0, start.background, start.slope ?? 0]
+    : [start.centre, width0, start.amplitude * width0, start.background, start.slope ?? 0];
+  const r = levenbergMarquardt(xs, ys, p0, blurredBarModel(slopeOrigin, fixedSigma, footprint));
+  const k = fixedSigma === null ? 0 : -1;
+  const [centre, width] = r.params;
+  const sigma = fixedSigma ?? r.params[2];
+  const np = p0.length;
+  const scale = r.cost / Math.max(1, xs.length - np);
+  const cov = (i: number, j: number) => (r.inverseNormal ? r.inverseNormal[i][j] * scale : NaN);
+  const se = (i: number) => Math.sqrt(Math.max(0, cov(i, i)));
+  const edgeSe = (sign: number) => Math.sqrt(Math.max(0, cov(0, 0) + cov(1, 1) / 4 + sign * cov(0, 1)));
   return {
-    x1, sigma1, x2, sigma2, lo, amplitude, x1StdErr: se(0), x2StdErr: se(2), rmsResidual: Math.sqrt(r.cost / xs.length),
-    converged: r.converged,
+    centre, width, sigma, amplitude: r.params[3 + k] / width, background: r.params[4 + k], slope: r.params[5 + k],
+    slopeOrigin, widthStdErr: se(1), sigmaStdErr: fixedSigma === null ? se(2) : 0,
+    widthSigmaCov: fixedSigma === null ? cov(1, 2) : NaN, x1StdErr: edgeSe(-1), x2StdErr: edgeSe(1),
+    rmsResidual: Math.sqrt(r.cost / xs.length), rss: r.cost, parameters: np,
+    converged: r.converged && r.params.every(Number.isFinite),
   };
 }

@@ -56,3 +56,40 @@ function erfcLarge(x: number): number {
 export function normalCdf(z: number): number {
   return z < -3 ? 0.5 * erfc(-z / Math.SQRT2) : 0.5 * (1 + erf(z / Math.SQRT2));
 }
+
+/** Table of Phi for the fast version: step 1/64 on [0, 8.5]; beyond, Phi is within 1e-17 of 1. */
+const TABLE_STEP = 1 / 64;
+const TABLE_END = 8.5;
+const PHI = Float64Array.from({ length: Math.round(TABLE_END / TABLE_STEP) + 1 }, (_, k) => normalCdf(k * TABLE_STEP));
+const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
+const PDF = Float64Array.from(PHI, (_, k) => INV_SQRT_2PI * Math.exp(-0.5 * (k * TABLE_STEP) ** 2));
+
+/**
+ * Phi(z) by quintic Hermite interpolation of a table of the accurate normalCdf, with the exact first and
+ * second derivatives phi(z) and -z phi(z) at the nodes; the interpolation error is below
+ * h^6 max|Phi^(6)| / (720 x 64) ~ 2e-15 for h = 1/64 (the usual Hermite remainder). Several times quicker
+ * than normalCdf (no exp: phi is tabulated too), for the model fits that evaluate it millions of times.
+ */
+export function normalCdfFast(z: number): number {
+  const a = Math.abs(z);
+  if (!(a < TABLE_END)) return Number.isNaN(z) ? NaN : z > 0 ? 1 : 0;
+  const u = a / TABLE_STEP;
+  const k = Math.floor(u);
+  const t = u - k;
+  const x0 = k * TABLE_STEP;
+  const x1 = x0 + TABLE_STEP;
+  const f0 = PDF[k];
+  const f1 = PDF[k + 1];
+  const d0 = TABLE_STEP * f0;
+  const d1 = TABLE_STEP * f1;
+  const s0 = -TABLE_STEP * TABLE_STEP * x0 * f0;
+  const s1 = -TABLE_STEP * TABLE_STEP * x1 * f1;
+  const t2 = t * t;
+  const t3 = t2 * t;
+  const t4 = t3 * t;
+  const t5 = t4 * t;
+  const v = PHI[k] * (1 - 10 * t3 + 15 * t4 - 6 * t5) + d0 * (t - 6 * t3 + 8 * t4 - 3 * t5)
+    + s0 * 0.5 * (t2 - 3 * t3 + 3 * t4 - t5) + PHI[k + 1] * (10 * t3 - 15 * t4 + 6 * t5)
+    + d1 * (-4 * t3 + 7 * t4 - 3 * t5) + s1 * 0.5 * (t3 - 2 * t4 + t5);
+  return z >= 0 ? v : 1 - v;
+}

@@ -3,8 +3,9 @@ export { measureFibreDiameters, DIAMETER_DEFAULTS, DROP_REASON_TEXT } from './di
 export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
 export type { DropReason, DroppedStation } from './stations.ts';
 export { erf, erfc, normalCdf } from './erf.ts';
-export { fitErfEdge, fitErfBar, parabolaEdgeIndex } from './edgeFit.ts';
-export type { ErfEdgeFit, ErfEdgeStart, ErfBarFit } from './edgeFit.ts';
+export { fitErfEdge, fitBlurredBar, parabolaEdgeIndex } from './edgeFit.ts';
+export type { ErfEdgeFit, ErfEdgeStart, BlurredBarFit, BlurredBarStart } from './edgeFit.ts';
+export { RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';
 export { stationStats, studentTQuantile, studentTCdf } from './stats.ts';
 export type { StationStats } from './stats.ts';
 export {

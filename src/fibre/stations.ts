@@ -8,12 +8,14 @@
  */
 import { bilinear } from '../common/sampling.ts';
 import type { FibreObject } from './detect.ts';
-import { fitErfBar, fitErfEdge, parabolaEdgeIndex } from './edgeFit.ts';
+import { fitBlurredBar, fitErfEdge, parabolaEdgeIndex, type BlurredBarFit } from './edgeFit.ts';
+import { poolBarStations, type BarPool } from './barPool.ts';
+import { pixelFootprint, type PixelFootprint } from './pixelEdge.ts';
 import { solveLinear } from './linalg.ts';
 import { median, robustSd } from './stats.ts';
 
 export type DropReason = 'border' | 'no-fibre-at-station' | 'edge-missing' | 'edge-fit' | 'not-two-edges'
-  | 'width-outlier';
+  | 'width-outlier' | 'unresolved';
 
 export const DROP_REASONS: Record<DropReason, string> = {
   'border': 'the profile or an edge window leaves the image (or meets invalid pixels)',
@@ -22,6 +24,7 @@ export const DROP_REASONS: Record<DropReason, string> = {
   'edge-fit': 'the edge-spread fit failed or gave an implausible edge',
   'not-two-edges': 'the profile is not two clean edges (something else inside an edge window)',
   'width-outlier': 'the width differs from the fibre\'s trend by more than the robust limit',
+  'unresolved': 'the fibre is narrower than about two blur widths: its width is not determined (an upper bound is given)',
 };
 
 export interface StationOptions {
@@ -39,6 +42,10 @@ export interface MeasuredStation {
   edgeSigmaPx: [number, number];
   /** Standard errors of the two edge positions from the fits, px. */
   edgeStdErrPx: [number, number];
+  /** 'edges': each edge fitted on its own (wide fibre); 'bar': the whole profile as one blurred bar. */
+  profileFit: 'edges' | 'bar';
+  /** For a bar station: the fitted samples and the fit with the PSF sigma free (kept for the fibre's pooled refit). */
+  bar?: { xs: Float64Array; ys: Float64Array; footprint: PixelFootprint; free: BlurredBarFit; widthPerSigma?: number };
 }
 
 export interface DroppedStation {
@@ -57,6 +64,8 @@ export interface FibreStations {
   lengthPx: number;
   stations: MeasuredStation[];
   dropped: DroppedStation[];
+  /** The fibre's pooled PSF over its bar stations (null when every station was fitted edge by edge). */
+  pool: BarPool | null;
 }
 
 interface Frame {
@@ -77,6 +86,17 @@ const polySlope = (c: number[], t: number) => c.reduce((s, v, k) => (k ? s + k *
  * centre line (refraction in a transparent fibre) is not taken for the background.
  */
 const EDGE_SEARCH_LEVEL = 0.3;
+
+/**
+ * A station is fitted as one blurred bar when its width is below NARROW_FACTOR x (sum of the two edge
+ * sigmas) + NARROW_MARGIN_PX: there the blur of one edge reaches the other (at 3 sigma from an edge the
+ * blurred step is within 0.14 % of its plateau) and single-edge fits lose their plateau.
+ */
+const NARROW_FACTOR = 3;
+const NARROW_MARGIN_PX = 4;
+/** Background taken on each side of a bar fit: this many PSF sigmas, at least BAR_WINDOW_MIN_PX. */
+const BAR_WINDOW_SIGMAS = 6;
+const BAR_WINDOW_MIN_PX = 6;
 
 type StationOutcome = { ok: true; m: MeasuredStation; midX: number; midY: number } | { ok: false; d: DroppedStation };
 
@@ -102,7 +122,11 @@ export function measureStations(
   const ts = Array.from({ length: count }, (_, k) => tFirst + k * o.stepPx);
 
   const frame: Frame = { cx: obj.centreX, cy: obj.centreY, ux: obj.ux, uy: obj.uy, offset: [0] };
-  let outcomes = ts.map((t) => measureOne(flat, width, height, frame, t, tMin, halfRangePx, contrast, o));
+  // Bar stations are fitted in the final pass only; the passes that place the centre line use their
+  // level-crossing midpoints.
+  const measureAll = (final: boolean) =>
+    ts.map((t) => measureOne(flat, width, height, frame, t, tMin, halfRangePx, contrast, o, final));
+  let outcomes = measureAll(false);
   for (let pass = 0; pass < 2; pass++) {
     const mids = outcomes.filter((r): r is Extract<StationOutcome, { ok: true }> => r.ok);
     if (mids.length < 3) break;
@@ -117,8 +141,9 @@ export function measureStations(
     const coeffs = fitPolynomial(tt, dd, mids.length >= 6 ? 2 : 1);
     if (!coeffs) break;
     frame.offset = coeffs;
-    outcomes = ts.map((t) => measureOne(flat, width, height, frame, t, tMin, halfRangePx, contrast, o));
+    if (pass === 0) outcomes = measureAll(false);
   }
+  outcomes = measureAll(true);
 
   const stations: MeasuredStation[] = [];
   const dropped: DroppedStation[] = [];
@@ -126,12 +151,13 @@ export function measureStations(
     if (r.ok) stations.push(r.m);
     else dropped.push(r.d);
   }
+  const pool = poolBarStations(stations);
   const kept = rejectWidthOutliers(stations, dropped);
   const start = pointAt(frame, tMin);
   const middle = pointAt(frame, 0.5 * (tMin + tMax));
   return {
     axisUx: middle.ux, axisUy: middle.uy, startX: start.x, startY: start.y, lengthPx: tMax - tMin,
-    stations: kept, dropped: dropped.sort((a, b) => a.alongPx - b.alongPx),
+    stations: kept, dropped: dropped.sort((a, b) => a.alongPx - b.alongPx), pool,
   };
 }
 
@@ -147,7 +173,7 @@ function pointAt(f: Frame, t: number): { x: number; y: number; ux: number; uy: n
 
 function measureOne(
   flat: Float32Array, width: number, height: number, f: Frame, t: number, tMin: number, halfRangePx: number,
-  contrast: number, o: StationOptions,
+  contrast: number, o: StationOptions, final: boolean,
 ): StationOutcome {
   const level = EDGE_SEARCH_LEVEL * contrast;
   const p = pointAt(f, t);
@@ -188,32 +214,160 @@ function measureOne(
   if (jl < 0 || jr >= len) return drop('edge-missing');
   const coarseWidth = (jr - jl) * ds;
 
-  const left = fitEdge(q, ds, half, jl + 0.5, +1, coarseWidth, contrast);
-  if (!left.ok) return drop(left.reason);
-  const right = fitEdge(q, ds, half, jr - 0.5, -1, coarseWidth, contrast);
-  if (!right.ok) return drop(right.reason);
-  let x1 = left.x0;
-  let x2 = right.x0;
-  let edgeSigmaPx: [number, number] = [left.sigma, right.sigma];
-  let edgeStdErrPx: [number, number] = [left.stdErr, right.stdErr];
-  if (x2 - x1 < 3 * (left.sigma + right.sigma) + 4) {
-    // Narrow fibre: each edge's blur reaches the other, so fit both together.
-    const bar = fitBar(q, ds, half, x1, left.sigma, x2, right.sigma, contrast);
-    if (!bar.ok) return drop(bar.reason);
-    [x1, x2] = [bar.x1, bar.x2];
-    edgeSigmaPx = bar.sigmas;
-    edgeStdErrPx = bar.stdErrs;
+  const coarseX1 = (jl + 0.5 - half) * ds;
+  const coarseX2 = (jr - 0.5 - half) * ds;
+  const sigma0 = startSigma(q, ds, jl, jr, contrast);
+  let edges: { x1: number; x2: number; sigmas: [number, number]; stdErrs: [number, number] } | null = null;
+  if (coarseWidth >= NARROW_FACTOR * 2 * sigma0 + NARROW_MARGIN_PX) {
+    const left = fitEdge(q, ds, half, jl + 0.5, +1, coarseWidth, contrast);
+    if (!left.ok) return drop(left.reason);
+    const right = fitEdge(q, ds, half, jr - 0.5, -1, coarseWidth, contrast);
+    if (!right.ok) return drop(right.reason);
+    edges = { x1: left.x0, x2: right.x0, sigmas: [left.sigma, right.sigma], stdErrs: [left.stdErr, right.stdErr] };
+    if (right.x0 - left.x0 < NARROW_FACTOR * (left.sigma + right.sigma) + NARROW_MARGIN_PX) edges = null;
   }
-  const diameterPx = x2 - x1;
-  const mid = 0.5 * (x1 + x2);
+  if (edges) {
+    const mid = 0.5 * (edges.x1 + edges.x2);
+    return {
+      ok: true,
+      m: {
+        alongPx: t - tMin, xPx: p.x, yPx: p.y, diameterPx: edges.x2 - edges.x1, edgeSigmaPx: edges.sigmas,
+        edgeStdErrPx: edges.stdErrs, profileFit: 'edges',
+      },
+      midX: p.x + mid * nx,
+      midY: p.y + mid * ny,
+    };
+  }
+  // Narrow fibre: each edge's blur reaches the other, so the whole profile is fitted as one blurred bar.
+  if (!final) {
+    const mid = 0.5 * (coarseX1 + coarseX2);
+    const m: MeasuredStation = {
+      alongPx: t - tMin, xPx: p.x, yPx: p.y, diameterPx: coarseWidth, edgeSigmaPx: [sigma0, sigma0],
+      edgeStdErrPx: [NaN, NaN], profileFit: 'bar',
+    };
+    return { ok: true, m, midX: p.x + mid * nx, midY: p.y + mid * ny };
+  }
+  const strip: Strip = { flat, width, height, x: p.x, y: p.y, ux: p.ux, uy: p.uy, lengthPx: o.averageLengthPx };
+  const bar = fitBarProfile(q, ds, half, jl, jr, coarseX1, coarseX2, sigma0, contrast, strip);
+  if (!bar.ok) return drop(bar.reason);
+  const b = bar.fit;
   return {
     ok: true,
     m: {
-      alongPx: t - tMin, xPx: p.x, yPx: p.y, diameterPx, edgeSigmaPx, edgeStdErrPx,
+      alongPx: t - tMin, xPx: p.x, yPx: p.y, diameterPx: b.width, edgeSigmaPx: [b.sigma, b.sigma],
+      edgeStdErrPx: [b.x1StdErr, b.x2StdErr], profileFit: 'bar', bar: { xs: bar.xs, ys: bar.ys, footprint: pixelFootprint(-p.uy, p.ux), free: b },
     },
-    midX: p.x + mid * nx,
-    midY: p.y + mid * ny,
+    midX: p.x + b.centre * nx,
+    midY: p.y + b.centre * ny,
   };
+}
+
+/**
+ * Start value of the PSF sigma from the steepest slope of the profile between and around the two level
+ * crossings: a blurred step of height C has its steepest slope C / (sqrt(2 pi) sigma). Clipped to
+ * [0.3, 5] px (a start value only; narrow bars never reach their full contrast, so it reads high).
+ */
+function startSigma(q: Float64Array, ds: number, jl: number, jr: number, contrast: number): number {
+  let steepest = 0;
+  for (const j of [jl, jl + 1, jr - 1, jr]) {
+    if (j < 1 || j >= q.length - 1) continue;
+    const g = Math.abs(q[j + 1] - q[j - 1]) / (2 * ds);
+    if (Number.isFinite(g)) steepest = Math.max(steepest, g);
+  }
+  return Math.min(5, Math.max(0.3, contrast / (Math.sqrt(2 * Math.PI) * Math.max(steepest, 1e-12))));
+}
+
+type BarOutcome = { ok: true; fit: BlurredBarFit; xs: Float64Array; ys: Float64Array } | { ok: false; reason: DropReason };
+
+/** The pixels a bar station uses: a strip `lengthPx` long along the axis at (x, y), across the fibre. */
+interface Strip {
+  flat: Float32Array;
+  width: number;
+  height: number;
+  x: number;
+  y: number;
+  ux: number;
+  uy: number;
+  lengthPx: number;
+}
+
+/**
+ * The pixels whose centres lie in the strip |t| <= lengthPx / 2 along the axis and sLo <= s <= sHi across
+ * it (s along the normal n = (-uy, ux)), as (s, value) pairs; null when one of them is invalid.
+ */
+function stripPixels(st: Strip, sLo: number, sHi: number): { xs: Float64Array; ys: Float64Array } | null {
+  const nx = -st.uy;
+  const ny = st.ux;
+  const halfT = Math.max(0.5, st.lengthPx / 2);
+  const corners = [[-halfT, sLo], [-halfT, sHi], [halfT, sLo], [halfT, sHi]].map(([t, s]) => [
+    st.x + t * st.ux + s * nx, st.y + t * st.uy + s * ny]);
+  const x0 = Math.floor(Math.min(...corners.map((c) => c[0])));
+  const x1 = Math.ceil(Math.max(...corners.map((c) => c[0])));
+  const y0 = Math.floor(Math.min(...corners.map((c) => c[1])));
+  const y1 = Math.ceil(Math.max(...corners.map((c) => c[1])));
+  const xs: number[] = [];
+  const ys: number[] = [];
+  for (let y = y0; y <= y1; y++) {
+    for (let x = x0; x <= x1; x++) {
+      const dx = x - st.x;
+      const dy = y - st.y;
+      const t = dx * st.ux + dy * st.uy;
+      const s = dx * nx + dy * ny;
+      if (Math.abs(t) > halfT || s < sLo || s > sHi) continue;
+      if (x < 0 || y < 0 || x >= st.width || y >= st.height) return null;
+      const v = st.flat[y * st.width + x];
+      if (!Number.isFinite(v)) return null;
+      xs.push(s);
+      ys.push(v);
+    }
+  }
+  return { xs: Float64Array.from(xs), ys: Float64Array.from(ys) };
+}
+
+/**
+ * Whole-profile blurred-bar fit (fitBlurredBar) over the fibre and `BAR_WINDOW_SIGMAS` sigma (at least
+ * `BAR_WINDOW_MIN_PX`) of background on each side, stopping short of a neighbouring object (a sample of
+ * the profile back above the search level, less 3 sigma). The window is found on the interpolated
+ * profile `q`; the fit itself uses the strip's pixels, each at its own distance from the centre line, with
+ * the pixel's footprint in the model (no interpolation smoothing). Coordinates in px across the fibre,
+ * s = 0 at the centre line.
+ */
+function fitBarProfile(
+  q: Float64Array, ds: number, half: number, jl: number, jr: number, x1: number, x2: number, sigma0: number,
+  contrast: number, strip: Strip,
+): BarOutcome {
+  const level = EDGE_SEARCH_LEVEL * contrast;
+  const reach = Math.round(Math.max(BAR_WINDOW_SIGMAS * sigma0, BAR_WINDOW_MIN_PX) / ds);
+  const guard = Math.round((3 * sigma0) / ds);
+  const outerLimit = (from: number, step: 1 | -1): number | null => {
+    let j = from;
+    for (let k = 0; k < reach; k++) {
+      const next = j + step;
+      if (next < 0 || next >= q.length || Number.isNaN(q[next])) return null;
+      if (q[next] >= level) return j - step * guard; // a neighbour: stop well short of it
+      j = next;
+    }
+    return j;
+  };
+  const lo = outerLimit(jl, -1);
+  const hi = outerLimit(jr, 1);
+  if (lo === null || hi === null) return { ok: false, reason: 'border' };
+  const minBackground = Math.max(3 * sigma0, 2) / ds;
+  if (jl - lo < minBackground || hi - jr < minBackground) return { ok: false, reason: 'not-two-edges' };
+  let peak = 0;
+  for (let j = jl + 1; j < jr; j++) peak = Math.max(peak, q[j]);
+  const pixels = stripPixels(strip, (lo - half) * ds, (hi - half) * ds);
+  if (pixels === null) return { ok: false, reason: 'border' };
+  const { xs, ys } = pixels;
+  const fit = fitBlurredBar(xs, ys, {
+    centre: 0.5 * (x1 + x2), width: Math.max(x2 - x1, ds), sigma: Math.min(sigma0, Math.max(0.5, 0.5 * (x2 - x1))),
+    amplitude: Math.max(peak, contrast), background: 0,
+  }, null, pixelFootprint(-strip.uy, strip.ux));
+  const span = (hi - lo) * ds;
+  const plausible = fit.converged && fit.width > 0 && fit.sigma > 0.05 && fit.sigma < 0.25 * span &&
+    Math.abs(fit.centre - 0.5 * (x1 + x2)) < 0.5 * (x2 - x1) + 2 && fit.amplitude > 0.25 * contrast;
+  if (!plausible) return { ok: false, reason: 'edge-fit' };
+  return { ok: true, fit, xs, ys };
 }
 
 type EdgeOutcome = { ok: true; x0: number; sigma: number; stdErr: number } | { ok: false; reason: DropReason };
@@ -268,31 +422,6 @@ function fitEdge(
     if ((z < -2 && ys[k] > mid) || (z > 2 && ys[k] < mid)) return { ok: false, reason: 'not-two-edges' };
   }
   return { ok: true, x0: dir * fit.x0, sigma: fit.sigma, stdErr: fit.x0StdErr };
-}
-
-type BarOutcome = { ok: true; x1: number; x2: number; sigmas: [number, number]; stdErrs: [number, number] }
-  | { ok: false; reason: DropReason };
-
-/** Joint fit of both edges over [x1 - 6 s1, x2 + 6 s2] (px along the profile), from single-edge starts. */
-function fitBar(
-  q: Float64Array, ds: number, half: number, x1: number, s1: number, x2: number, s2: number, contrast: number,
-): BarOutcome {
-  const from = Math.floor((x1 - Math.max(6 * s1, 4)) / ds) + half;
-  const to = Math.ceil((x2 + Math.max(6 * s2, 4)) / ds) + half;
-  if (from < 0 || to >= q.length) return { ok: false, reason: 'border' };
-  const xs: number[] = [];
-  const ys: number[] = [];
-  for (let j = from; j <= to; j++) {
-    if (Number.isNaN(q[j])) return { ok: false, reason: 'border' };
-    xs.push((j - half) * ds);
-    ys.push(q[j]);
-  }
-  const fit = fitErfBar(xs, ys, { x1, sigma1: s1, x2, sigma2: s2, lo: 0, amplitude: contrast });
-  const plausible = fit.converged && fit.x2 > fit.x1 && fit.sigma1 > 0.05 && fit.sigma2 > 0.05 &&
-    fit.sigma1 < Math.max(1, fit.x2 - fit.x1) && fit.sigma2 < Math.max(1, fit.x2 - fit.x1) &&
-    Math.abs(fit.x1 - x1) < 2 + s1 && Math.abs(fit.x2 - x2) < 2 + s2 && fit.amplitude > 0.25 * contrast;
-  if (!plausible) return { ok: false, reason: 'edge-fit' };
-  return { ok: true, x1: fit.x1, x2: fit.x2, sigmas: [fit.sigma1, fit.sigma2], stdErrs: [fit.x1StdErr, fit.x2StdErr] };
 }
 
 function fitPolynomial(t: number[], d: number[], degree: number): number[] | null {

@@ -146,7 +146,19 @@ describe('measureFibreDiameters on rendered fibres of known width (area-sampled 
     expect(cal.meanUm).toBeCloseTo((cal.meanPx as number) * 0.325, 12);
     expect(cal.ciLowUm).toBeCloseTo((cal.ciLowPx as number) * 0.325, 12);
     expect(cal.stations[0].diameterUm).toBeCloseTo(cal.stations[0].diameterPx * 0.325, 12);
-    expect(cal.warnings).toEqual([]);
+    // Without the pixel size's own uncertainty the um interval leaves it out, and says so.
+    expect(cal.warnings.join(' ')).toMatch(/no pixel-size uncertainty given/);
+    const withU = measureFibreDiameters(img, { pixelSizeUmPerPx: 0.325, pixelSizeUncertainty: 0.01 });
+    expect(withU.warnings).toEqual([]);
+    // GUM law of propagation for D_um = D_px p with independent inputs:
+    // u^2(D_um) = (p u(D_px))^2 + (D_px u(p))^2, and the pixel size's share is D_um u(p)/p.
+    const uPx = withU.uPx as number;
+    const meanUm = withU.meanUm as number;
+    expect(withU.uUmPixelSize).toBeCloseTo(meanUm * 0.01, 12);
+    expect(withU.uUm as number).toBeCloseTo(Math.hypot(0.325 * uPx, meanUm * 0.01), 12);
+    expect((withU.ciHighUm as number) - meanUm).toBeGreaterThan((cal.ciHighUm as number) - meanUm);
+    expect(meanUm).toBeGreaterThan(withU.ciLowUm as number);
+    expect(meanUm).toBeLessThan(withU.ciHighUm as number);
     const raw = measureFibreDiameters(img, { stepPx: 20 });
     expect(raw.meanUm).toBeNull();
     expect(raw.stations[0].diameterUm).toBeNull();

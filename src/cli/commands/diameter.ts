@@ -1,4 +1,4 @@
-import { SCHEMA_VERSION, analyseDiameter } from '../../analyses/index.ts';
+import { SCHEMA_VERSION, analyseDiameter, type DiameterDocument } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -18,9 +18,11 @@ function polarityFrom(a: ParsedArgs): Polarity | undefined {
 export const diameterCommand: Command = {
   name: 'diameter',
   summary: 'fibre diameter at stations along each fibre in the field: mean, SD, CV, 95 % interval',
-  usage: 'IMAGE... [--um-per-px U] [--step-px 10] [--polarity auto|dark|bright] [--json]',
+  usage: 'IMAGE... [--um-per-px U [--um-per-px-uncertainty R]] [--step-px 10] [--polarity auto|dark|bright] [--json]',
   options: [
     { name: 'um-per-px', kind: 'number', help: 'pixel size in the object, um/px (overrides the file\'s resolution tags)' },
+    { name: 'um-per-px-uncertainty', kind: 'number',
+      help: 'relative standard uncertainty (k = 1) of the pixel size, e.g. 0.002, as `calibrate` gives it (`uncertainty`); enters the um intervals' },
     { name: 'step-px', kind: 'number', help: 'distance between stations along the fibre, px', defaultText: '10' },
     { name: 'average-px', kind: 'number', help: 'length along the fibre each profile is averaged over, px', defaultText: '5' },
     { name: 'polarity', kind: 'string', help: 'fibre darker (dark) or brighter (bright) than the background', defaultText: 'auto' },
@@ -32,9 +34,14 @@ export const diameterCommand: Command = {
     if (umPerPxOption !== undefined && !(umPerPxOption > 0)) {
       throw new InputError(`--um-per-px must be above 0, got ${umPerPxOption}`);
     }
+    const uncertaintyOption = numberOpt(a, 'um-per-px-uncertainty');
+    if (uncertaintyOption !== undefined && !(uncertaintyOption >= 0 && uncertaintyOption <= 0.5)) {
+      throw new InputError(`--um-per-px-uncertainty must be a relative uncertainty from 0 to 0.5, got ${uncertaintyOption}`,
+        'Give it as a fraction, e.g. 0.002 for 0.2 %');
+    }
     const images = await loadImageFiles(a.positionals);
     const options = {
-      pixelSizeUmPerPx: umPerPxOption, stepPx: numberOpt(a, 'step-px'), averagePx: numberOpt(a, 'average-px'),
+      pixelSizeUmPerPx: umPerPxOption, pixelSizeUncertainty: uncertaintyOption, stepPx: numberOpt(a, 'step-px'), averagePx: numberOpt(a, 'average-px'),
       polarity: polarityFrom(a), backgroundDegree: numberOpt(a, 'background-degree'),
     };
     const docs = images.map((img) => {
@@ -47,15 +54,16 @@ export const diameterCommand: Command = {
     });
     const calibrated = docs.every((d) => d.pixelSizeUmPerPx !== null);
     const unit = calibrated ? 'um' : 'px';
-    const pick = (f: { meanPx: number | null; meanUm: number | null; sdPx: number | null; sdUm: number | null;
-      ciLowPx: number | null; ciLowUm: number | null; ciHighPx: number | null; ciHighUm: number | null }) => calibrated
-      ? [f.meanUm, f.sdUm, f.ciLowUm, f.ciHighUm] : [f.meanPx, f.sdPx, f.ciLowPx, f.ciHighPx];
+    type Row = DiameterDocument | DiameterDocument['fibres'][number];
+    const pick = (f: Row) => calibrated
+      ? [f.meanUm, f.sdUm, f.ciLowUm, f.ciHighUm, f.upperBoundUm] : [f.meanPx, f.sdPx, f.ciLowPx, f.ciHighPx, f.upperBoundPx];
     const rows = docs.flatMap((d) => [
       ...d.fibres.map((f) => [d.source, String(f.index), f.axisDeg, f.n, f.dropped, ...pick(f), f.cv]),
       ...(d.fibres.length > 1 ? [[d.source, 'all', null, d.n, d.dropped, ...pick(d), d.cv]] : []),
     ]);
     const table = formatTable(
-      ['image', 'fibre', 'axis deg', 'n', 'dropped', `mean ${unit}`, `sd ${unit}`, `ci low ${unit}`, `ci high ${unit}`, 'cv'],
+      ['image', 'fibre', 'axis deg', 'n', 'dropped', `mean ${unit}`, `sd ${unit}`, `ci low ${unit}`, `ci high ${unit}`,
+        `at most ${unit}`, 'cv'],
       rows,
     );
     return {
@@ -63,8 +71,10 @@ export const diameterCommand: Command = {
       table,
       csvRows: docs.map((d) => ({
         image: d.source, fibres: d.fibres.length, n: d.n, dropped: d.dropped, meanPx: d.meanPx, sdPx: d.sdPx,
-        meanUm: d.meanUm, sdUm: d.sdUm, cv: d.cv, ciLowUm: d.ciLowUm, ciHighUm: d.ciHighUm, minUm: d.minUm,
-        maxUm: d.maxUm, pixelSizeUmPerPx: d.pixelSizeUmPerPx, stepPx: d.options.stepPx,
+        meanUm: d.meanUm, sdUm: d.sdUm, cv: d.cv, ciLowUm: d.ciLowUm, ciHighUm: d.ciHighUm, uUm: d.uUm,
+        uUmPixelSize: d.uUmPixelSize, upperBoundPx: d.upperBoundPx, upperBoundUm: d.upperBoundUm, minUm: d.minUm,
+        maxUm: d.maxUm, pixelSizeUmPerPx: d.pixelSizeUmPerPx, pixelSizeUncertainty: d.pixelSizeUncertainty,
+        stepPx: d.options.stepPx,
       })),
       warnings: docs.flatMap((d) => d.warnings.map((w) => `${d.source}: ${w}`)),
     };
