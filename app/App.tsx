@@ -32,7 +32,9 @@ import { ReportView } from './export/ReportView.tsx';
 import { reportContent, type ReportContent } from './export/reportContent.ts';
 import { requestFieldTiff } from './export/fieldTiff.ts';
 import { viewPicturePng, type ViewPictureInput } from './export/viewPicture.ts';
-import { applied, effectivePixelSize } from './setups/setup.ts';
+import { applied } from './setups/setup.ts';
+import { calibrationChange, calibrationOf, calibrationShort, calibrationWords } from './setups/calibration.ts';
+import { useImageRectangles } from './components/imageRectangles.ts';
 import {
   download, orientCommandLine, orientCsv, profileBinsCsv, profileCommandLine, profileCsv, wallsText,
 } from './export/rows.ts';
@@ -264,6 +266,16 @@ export function App() {
   const opticalHere = optical && active && optical.imageId === active.id ? optical : null;
   const showOptical = fieldChoice === 'optical' && opticalHere !== null;
   const work = active ? session?.work[active.id] ?? null : null;
+  // The one calibration state of the image shown: status line, header, panels, exports and messages all use it.
+  const filePx = shown && active && shown.imageId === active.id ? shown.summary.pixelSizeUmPerPx : null;
+  const calibration = calibrationOf(session, filePx);
+  /** Applies a calibration change and says what the session's lengths now use. */
+  const recalibrate = (a: SessionAction, what: string) => {
+    const before = calibrationOf(sessionRef.current, filePx);
+    change(a);
+    say('info', `${what}${calibrationChange(before, calibrationOf(sessionRef.current, filePx))}`);
+  };
+  const rects = useImageRectangles();
   // The kept diameters' edges are drawn again after a reload (until a new run sets the marks).
   const keptDiameter = work?.diameter ?? null;
   const keptMarks = useMemo(() => (keptDiameter ? diameterMarks(keptDiameter) : undefined), [keptDiameter]);
@@ -462,7 +474,7 @@ export function App() {
       const t = e.target as HTMLElement;
       if (t.closest('input, textarea, select, [contenteditable]') || e.ctrlKey || e.metaKey || e.altKey) return;
       const k = e.key;
-      if (k === 'Escape') { if (busy) client.cancel(); setDrawing(false); setShowSessions(false); setShowSetups(false); setPrintable(null); setHelp(false); return; }
+      if (k === 'Escape') { if (busy) client.cancel(); setDrawing(false); rects.cancel(); setShowSessions(false); setShowSetups(false); setPrintable(null); setHelp(false); return; }
       if (busy || screen !== 'images') return;
       const actions: Record<string, () => void> = {
         o: () => void runOrient(), w: () => setDrawing((d) => !d), f: () => void runFindWalls(), p: () => void runProfile(),
@@ -506,8 +518,8 @@ export function App() {
     return {
       image: shown.image, overlay, overlayKind: overlay ? (mode === 'colour' ? 'orientation' : 'coherency') : null, opacity,
       imageWidth: shown.summary.width, imageHeight: shown.summary.height,
-      pixelSizeUmPerPx: effectivePixelSize(session?.setup ?? null, shown.summary.pixelSizeUmPerPx).umPerPx,
-      walls: walls?.walls ?? null, stations: drawing ? null : stationLines, caption: `${active.name}: ${what}`,
+      pixelSizeUmPerPx: calibration.umPerPx,
+      walls: walls?.walls ?? null, stations: drawing ? null : stationLines, caption: `${active.name}: ${what}; ${calibrationWords(calibration)}`,
     };
   };
 
@@ -562,7 +574,8 @@ export function App() {
         <button onClick={() => fileInput.current?.click()} title="Shortcut: I">Add images…</button>
         <button className={screen === 'camera' ? 'on' : ''} aria-pressed={screen === 'camera'} onClick={() => setScreen((v) => (v === 'camera' ? 'images' : 'camera'))}>Camera</button>
         <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void saver.flush(); setScreen((v) => (v === 'compare' ? 'images' : 'compare')); }}>Compare</button>
-        <button onClick={() => setShowSetups((v) => !v)} data-testid="setup-button" title="The microscope's optical train, pixel size and sample sign">Set-up: {session?.setup?.name ?? 'none'}</button>
+        <button onClick={() => setShowSetups((v) => !v)} data-testid="setup-button" title={`The microscope's optical train, pixel size and sample sign. Lengths: ${calibrationWords(calibration)}`}>
+          Set-up: {session?.setup?.name ?? 'none'}{session && <> · <span className={`calibration-state ${calibration.origin}`} data-testid="calibration-state">{calibrationShort(calibration)}</span></>}</button>
         <button onClick={() => { setShowSessions(true); void refreshList(); }} title="Shortcut: S">Sessions</button>
         <button className="quiet" onClick={() => setHelp((h) => !h)} aria-label="Keyboard shortcuts" title="Shortcut: ?">?</button>
         <input ref={fileInput} type="file" accept={ACCEPT} multiple hidden data-testid="file-input"
@@ -598,7 +611,7 @@ export function App() {
 
       {showSetups && (
         <SetupsPanel store={setupStore} applied={session?.setup ?? null} canApply={!!session}
-          onApply={(s) => { change({ type: 'applySetup', setup: s ? applied(s) : null }); say('info', s ? `Set-up "${s.name}" applied to every image of this session.` : 'The set-up was removed from this session.'); }}
+          onApply={(s) => recalibrate({ type: 'applySetup', setup: s ? applied(s) : null }, s ? `Set-up "${s.name}" applied to every image of this session. ` : 'The set-up was removed from this session. ')}
           onError={(m) => say('error', m)} onClose={() => setShowSetups(false)} />
       )}
 
@@ -700,18 +713,14 @@ export function App() {
                 colour={showOptical ? opticalHere!.colour : shown.colour} coherency={showOptical ? opticalHere!.confidence : shown.coherency}
                 glyphs={(showOptical ? opticalHere!.glyphs : shown.glyphs) ?? []} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
                 marks={marks && marks.imageId === active.id ? marks.marks : keptMarks}
-                walls={walls} stations={stationLines} drawing={drawing}
+                walls={walls} stations={stationLines} drawing={drawing} {...rects.viewer}
                 onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}
                 onDrawingDone={() => setDrawing(false)}
               />
             ) : <div className="viewer placeholder">Opening {active.name}…</div>}
             {shown && shown.imageId === active.id && (
               <p className="image-facts" data-testid="image-facts">
-                {shown.summary.width} × {shown.summary.height} px, {shown.summary.channels === 1 ? 'grey' : 'RGB'}, {shown.summary.bitDepth}-bit
-                {(() => {
-                  const px = effectivePixelSize(session?.setup ?? null, shown.summary.pixelSizeUmPerPx);
-                  return px.from === 'set-up' ? `, ${Number(px.umPerPx!.toPrecision(4))} µm/px from the set-up "${session!.setup!.name}"` : px.from === 'file' ? `, ${px.umPerPx} µm/px from the file` : ', not calibrated (lengths in px)';
-                })()}
+                {shown.summary.width} × {shown.summary.height} px, {shown.summary.channels === 1 ? 'grey' : 'RGB'}, {shown.summary.bitDepth}-bit, <span data-testid="image-calibration">{calibrationWords(calibration)}</span>
                 {shown.summary.displayNote ? `; ${shown.summary.displayNote}` : ''}
               </p>
             )}
@@ -747,14 +756,14 @@ export function App() {
 
             <MoreAnalyses
               handle={more}
-              ctx={{ client, images: session!.images, activeId: active.id, sourceOf, runJob, disabled: !!busy || engine === 'failed' }}
+              ctx={{ client, images: session!.images, activeId: active.id, sourceOf, runJob, disabled: !!busy || engine === 'failed', drawRect: rects.drawRect, showBoxes: rects.showBoxes }}
               work={work} pixelSize={session?.pixelSize ?? null} opticalMapShown={opticalHere !== null}
               onField={(f) => { setOptical(f); setFieldChoice('optical'); setMode((m) => (m === 'none' || m === 'glyphs' ? 'colour' : m)); }}
               onMarks={(imageId, m) => setMarks({ imageId, marks: m })}
               onDiameter={(id, d, run) => change({ type: 'diameter', id, result: d, run })}
               onOptics={(id, reading) => change({ type: 'optics', id, reading })}
               onMicrometer={(id, calibration) => change({ type: 'micrometer', id, calibration })}
-              onPixelSize={(pixelSize) => change({ type: 'pixelSize', pixelSize })}
+              onPixelSize={(pixelSize) => recalibrate({ type: 'pixelSize', pixelSize }, '')} calibration={calibration}
             />
 
             <section>
@@ -772,7 +781,7 @@ export function App() {
               {numberField('Skin: |s| above', 'skinMin', 0, 0.99, 0.05)}
               <button className="primary" disabled={!!busy || !walls} onClick={() => void runProfile()} title="Shortcut: P">Profile across the channel</button>
               {profile && <ProfilePlot r={profile} />}
-              {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings!)} />}
+              {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings!)} onRemedy={profile.fieldMethod === 'plate' ? (r) => more.current?.remedy(r) : undefined} />}
               {profile && walls && <p className="cli"><code data-testid="profile-cli">{profile.fieldMethod === 'texture' ? profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls)) : profileCli[active.id] ?? `retarda ${profile.fieldMethod === 'plate' ? 'profile --source plate' : profile.fieldMethod === 'plate-pair' ? 'plate2' : 'quad'} … with the reading's options`}</code></p>}
               {profile && (
                 <p className="exports">

@@ -4,10 +4,11 @@
  */
 import { useEffect, useMemo, useState } from 'react';
 import { formatCell } from '../../src/cli/format.ts';
+import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 import type { SessionRecord, SessionStore, SessionSummary } from '../storage/index.ts';
 import { download } from '../export/rows.ts';
 import {
-  compareCsv, compareRows, mixedBands, plotRange, profileSeries, rowLabel, sortRows,
+  compareCsv, compareRows, hasDiameterIn, mixedBands, pixelSizeNote, plotRange, profileSeries, rowLabel, sortRows,
   type CompareRow, type ProfileSeries, type SortColumn, type SortOrder,
 } from './compareRows.ts';
 
@@ -57,7 +58,7 @@ function OverlayPlot({ series, hidden }: { series: ProfileSeries[]; hidden: Set<
 
 const COLUMNS: { key: SortColumn; label: string }[] = [
   { key: 'image', label: 'Image' }, { key: 'coreOrder', label: 'Core S' }, { key: 'skinOrder', label: 'Skin S' },
-  { key: 'ratio', label: 'Core / skin' }, { key: 'diameter', label: 'Diameter' },
+  { key: 'ratio', label: 'Core / skin' }, { key: 'diameterUm', label: 'Diameter, µm' }, { key: 'diameterPx', label: 'Diameter, px' },
 ];
 
 export function CompareView(p: Props) {
@@ -93,6 +94,19 @@ export function CompareView(p: Props) {
   const series = useMemo(() => profileSeries(rows, several), [rows, several]);
   const colourOf = new Map(series.map((s) => [s.key, s]));
   const included = sorted.filter((r) => !hidden.has(r.key));
+  // A length and a pixel count never share a column: one column per unit present.
+  const columns = COLUMNS.filter((c) => (c.key === 'diameterUm' ? hasDiameterIn(rows, 'um') : c.key === 'diameterPx' ? hasDiameterIn(rows, 'px') || !hasDiameterIn(rows, 'um') : true));
+  const diameterCell = (r: CompareRow, unit: 'um' | 'px') => (
+    <td data-testid={`compare-diameter-${unit}`}>{r.diameterUnit === unit && r.diameter !== null
+      ? <><strong>{f(r.diameter)}</strong><br /><span className="note">{ci(r.diameterCiLow, r.diameterCiHigh)}, n {f(r.diameterN)}{unit === 'um' ? <><br />{pixelSizeNote(r)}</> : <><br />no pixel size when measured</>}</span></>
+      : <span className="note">{r.diameterUnit === null ? 'not measured' : r.diameterUnit === 'um' ? 'in µm' : 'in px only'}</span>}</td>
+  );
+  /** An order number, or "not determined" with why (the reason is in the row's title and the CSV). */
+  const orderCell = (testId: string, v: number | null, lo: number | null, hi: number | null, n: number | null, why: string | null) => (
+    <td data-testid={testId} title={why ?? undefined}>{why
+      ? <><span className="not-determined">{NOT_DETERMINED}</span><br /><span className="note">{why.length > 90 ? `${why.slice(0, 90)}…` : why}</span></>
+      : <><strong>{f(v)}</strong><br /><span className="note">{ci(lo, hi)}{n !== null ? `, n ${n}` : ''}</span></>}</td>
+  );
 
   const sortBy = (column: SortColumn) => setOrder((o) => ({ column, descending: o.column === column ? !o.descending : column !== 'image' && column !== 'session' }));
   const ariaSort = (c: SortColumn) => (order.column === c ? (order.descending ? 'descending' : 'ascending') : 'none');
@@ -129,7 +143,7 @@ export function CompareView(p: Props) {
                 <tr>
                   <th>Show</th>
                   {several && <th aria-sort={ariaSort('session')}><button className="sort" onClick={() => sortBy('session')}>Session{order.column === 'session' ? (order.descending ? ' ▼' : ' ▲') : ''}</button></th>}
-                  {COLUMNS.map((c) => <th key={c.key} aria-sort={ariaSort(c.key)}><button className="sort" onClick={() => sortBy(c.key)}>{c.label}{order.column === c.key ? (order.descending ? ' ▼' : ' ▲') : ''}</button></th>)}
+                  {columns.map((c) => <th key={c.key} aria-sort={ariaSort(c.key)}><button className="sort" onClick={() => sortBy(c.key)}>{c.label}{order.column === c.key ? (order.descending ? ' ▼' : ' ▲') : ''}</button></th>)}
                 </tr>
               </thead>
               <tbody>
@@ -140,10 +154,11 @@ export function CompareView(p: Props) {
                       <td><input type="checkbox" aria-label={`Show ${rowLabel(r, several)}`} checked={!hidden.has(r.key)} onChange={() => setHidden((h) => { const n = new Set(h); if (n.has(r.key)) n.delete(r.key); else n.add(r.key); return n; })} /></td>
                       {several && <td>{r.session}</td>}
                       <td><span className="swatch" style={{ background: s?.colour ?? 'transparent' }} aria-hidden="true" />{r.image}{r.field && r.field !== 'texture' ? <span className="note"> ({r.field})</span> : null}</td>
-                      <td data-testid="compare-core"><strong>{f(r.coreOrder)}</strong><br /><span className="note">{ci(r.coreCiLow, r.coreCiHigh)}{r.coreN !== null ? `, n ${r.coreN}` : ''}</span></td>
-                      <td data-testid="compare-skin"><strong>{f(r.skinOrder)}</strong><br /><span className="note">{ci(r.skinCiLow, r.skinCiHigh)}{r.skinN !== null ? `, n ${r.skinN}` : ''}</span></td>
-                      <td data-testid="compare-ratio"><strong>{f(r.ratio)}</strong><br /><span className="note">{ci(r.ratioCiLow, r.ratioCiHigh)}</span></td>
-                      <td data-testid="compare-diameter">{r.diameter !== null ? <><strong>{f(r.diameter)}</strong> {r.diameterUnit === 'um' ? 'µm' : 'px'}<br /><span className="note">{ci(r.diameterCiLow, r.diameterCiHigh)}, n {f(r.diameterN)}</span></> : <span className="note">not measured</span>}</td>
+                      {orderCell('compare-core', r.coreOrder, r.coreCiLow, r.coreCiHigh, r.coreN, r.orderNotDetermined)}
+                      {orderCell('compare-skin', r.skinOrder, r.skinCiLow, r.skinCiHigh, r.skinN, r.orderNotDetermined)}
+                      {orderCell('compare-ratio', r.ratio, r.ratioCiLow, r.ratioCiHigh, null, r.orderNotDetermined ?? r.ratioNotDetermined)}
+                      {columns.some((c) => c.key === 'diameterUm') && diameterCell(r, 'um')}
+                      {columns.some((c) => c.key === 'diameterPx') && diameterCell(r, 'px')}
                     </tr>
                   );
                 })}

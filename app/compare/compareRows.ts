@@ -6,6 +6,7 @@
 import type { ProfileResult } from '../../src/analyses/index.ts';
 import { toCsv, type CsvValue } from '../../src/report/csv.ts';
 import type { SessionRecord } from '../storage/records.ts';
+import { umPerPxText } from '../setups/calibration.ts';
 
 export interface CompareRow {
   /** sessionId/imageId: unique across sessions. */
@@ -21,8 +22,14 @@ export interface CompareRow {
   /** Mean fibre diameter in `diameterUnit` with its 95 % interval and number of stations. */
   diameter: number | null; diameterCiLow: number | null; diameterCiHigh: number | null; diameterN: number | null;
   diameterUnit: 'um' | 'px' | null;
+  /** The pixel size the diameter was measured with, um/px, and where it came from in words; null for px diameters. */
+  pixelSizeUmPerPx: number | null; pixelSizeFrom: string | null;
   /** Core and skin bands the numbers were made with (|s| below / above). */
   coreMax: number | null; skinMin: number | null;
+  /** Why the profile's order numbers (core, skin, ratio) are not determined, when they are withheld. */
+  orderNotDetermined: string | null;
+  /** Why the core/skin ratio alone is not determined. */
+  ratioNotDetermined: string | null;
   profile: ProfileResult | null;
 }
 
@@ -38,6 +45,7 @@ export function compareRows(sessions: SessionRecord[]): CompareRow[] {
       const d = w?.diameter ?? null;
       if (!p && !d) continue;
       const um = d && fin(d.meanUm) !== null;
+      const run = w?.diameterRun ?? null;
       rows.push({
         key: `${s.id}/${img.id}`, sessionId: s.id, session: s.name, image: img.name, field: p ? p.fieldMethod : null,
         coreOrder: fin(p?.core.order), coreCiLow: fin(p?.core.ciLow), coreCiHigh: fin(p?.core.ciHigh), coreN: fin(p?.core.n),
@@ -48,7 +56,10 @@ export function compareRows(sessions: SessionRecord[]): CompareRow[] {
         diameterCiHigh: d ? fin(um ? d.ciHighUm : d.ciHighPx) : null,
         diameterN: d ? fin(d.n) : null,
         diameterUnit: d ? (um ? 'um' : 'px') : null,
+        pixelSizeUmPerPx: um ? fin(d.pixelSizeUmPerPx) : null,
+        pixelSizeFrom: um && fin(d.pixelSizeUmPerPx) !== null ? run?.pixelSizeFrom ?? (d.pixelSizeFrom === 'file' ? "file's resolution tags" : 'value given') : null,
         coreMax: p ? fin(Number(p.options.coreMax)) : null, skinMin: p ? fin(Number(p.options.skinMin)) : null,
+        orderNotDetermined: p?.notDetermined?.order ?? null, ratioNotDetermined: p?.notDetermined?.coreSkinRatio ?? null,
         profile: p,
       });
     }
@@ -56,7 +67,21 @@ export function compareRows(sessions: SessionRecord[]): CompareRow[] {
   return rows;
 }
 
-export type SortColumn = 'session' | 'image' | 'coreOrder' | 'skinOrder' | 'ratio' | 'diameter';
+/** Columns the table sorts by; diameters in um and in px are separate columns (a length and a pixel count do not compare). */
+export type SortColumn = 'session' | 'image' | 'coreOrder' | 'skinOrder' | 'ratio' | 'diameterUm' | 'diameterPx';
+
+/** A row's value in a sort column. */
+function sortValue(r: CompareRow, c: SortColumn): string | number | null {
+  if (c === 'diameterUm') return r.diameterUnit === 'um' ? r.diameter : null;
+  if (c === 'diameterPx') return r.diameterUnit === 'px' ? r.diameter : null;
+  return r[c];
+}
+
+/** Whether any row has a diameter in this unit (the table shows a column per unit present). */
+export const hasDiameterIn = (rows: CompareRow[], unit: 'um' | 'px') => rows.some((r) => r.diameterUnit === unit);
+
+/** The pixel size under a um diameter: "at 0.65 µm/px (micrometer image ruler.png)". */
+export const pixelSizeNote = (r: CompareRow) => (r.pixelSizeUmPerPx !== null ? `at ${umPerPxText(r.pixelSizeUmPerPx)} µm/px (${r.pixelSizeFrom})` : '');
 export interface SortOrder { column: SortColumn; descending: boolean }
 
 /**
@@ -68,7 +93,7 @@ export function sortRows(rows: CompareRow[], o: SortOrder): CompareRow[] {
   return rows
     .map((r, i) => ({ r, i }))
     .sort((a, b) => {
-      const x = a.r[o.column], y = b.r[o.column];
+      const x = sortValue(a.r, o.column), y = sortValue(b.r, o.column);
       if (x === null && y === null) return a.i - b.i;
       if (x === null) return 1;
       if (y === null) return -1;
@@ -80,12 +105,14 @@ export function sortRows(rows: CompareRow[], o: SortOrder): CompareRow[] {
 
 /**
  * The table as CSV (RFC 4180 through src/report/csv.ts): one header row with units, empty cells
- * where a value was not measured. Diameters go in diameterUm or diameterPx by their unit.
+ * where a value was not measured or not determined (`notDetermined` says why). Diameters go in diameterUm or
+ * diameterPx by their unit, with the pixel size of the um ones and where it came from.
  */
 export function compareCsv(rows: CompareRow[]): string {
   const cols = ['session', 'image', 'field', 'coreOrder', 'coreCiLow', 'coreCiHigh', 'coreN', 'skinOrder', 'skinCiLow', 'skinCiHigh', 'skinN',
     'coreSkinRatio', 'coreSkinRatioCiLow', 'coreSkinRatioCiHigh', 'coreMax', 'skinMin',
-    'diameterUm', 'diameterCiLowUm', 'diameterCiHighUm', 'diameterPx', 'diameterCiLowPx', 'diameterCiHighPx', 'diameterN'];
+    'diameterUm', 'diameterCiLowUm', 'diameterCiHighUm', 'diameterPx', 'diameterCiLowPx', 'diameterCiHighPx', 'diameterN',
+    'pixelSizeUmPerPx', 'pixelSizeFrom', 'notDetermined'];
   return toCsv(rows.map((r): Record<string, CsvValue> => {
     const um = r.diameterUnit === 'um', px = r.diameterUnit === 'px';
     return {
@@ -95,7 +122,8 @@ export function compareCsv(rows: CompareRow[]): string {
       coreSkinRatio: r.ratio, coreSkinRatioCiLow: r.ratioCiLow, coreSkinRatioCiHigh: r.ratioCiHigh, coreMax: r.coreMax, skinMin: r.skinMin,
       diameterUm: um ? r.diameter : null, diameterCiLowUm: um ? r.diameterCiLow : null, diameterCiHighUm: um ? r.diameterCiHigh : null,
       diameterPx: px ? r.diameter : null, diameterCiLowPx: px ? r.diameterCiLow : null, diameterCiHighPx: px ? r.diameterCiHigh : null,
-      diameterN: r.diameterN,
+      diameterN: r.diameterN, pixelSizeUmPerPx: r.pixelSizeUmPerPx, pixelSizeFrom: r.pixelSizeFrom,
+      notDetermined: [r.orderNotDetermined && `order: ${r.orderNotDetermined}`, r.ratioNotDetermined && `core/skin: ${r.ratioNotDetermined}`].filter(Boolean).join(' | ') || null,
     };
   }), cols);
 }

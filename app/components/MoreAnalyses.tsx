@@ -5,7 +5,10 @@
  * to the fibre numbers.
  */
 import { useImperativeHandle, useMemo, useRef, useState, type Ref } from 'react';
-import { OpticalPanel, type OpticalField, type PanelContext, type PanelHandle } from './OpticalPanel.tsx';
+import { flushSync } from 'react-dom';
+import { OpticalPanel, type OpticalField, type OpticalPanelHandle, type PanelContext, type PanelHandle } from './OpticalPanel.tsx';
+import type { Remedy } from './NotDetermined.tsx';
+import { calibrationWords, umPerPxText, type Calibration } from '../setups/calibration.ts';
 import { DiameterPanel, FibreNumbersPanel, MicrometerPanel } from './FibrePanels.tsx';
 import type { Mark } from './Viewer.tsx';
 import type { DiameterDocument } from '../../src/analyses/index.ts';
@@ -16,15 +19,20 @@ export type { OpticalField, PanelContext } from './OpticalPanel.tsx';
 type Tab = 'optical' | 'diameter' | 'micrometer' | 'numbers';
 const TABS: [Tab, string][] = [['optical', 'Polarised colours'], ['diameter', 'Fibre diameter'], ['micrometer', 'Micrometer'], ['numbers', 'Fibre numbers']];
 
-/** What the keyboard shortcuts do here: go to the next (or previous) tab, and run the shown tab's analysis. */
-export interface MoreAnalysesHandle { stepTab(by: 1 | -1): void; runShown(): void }
+/**
+ * What the keyboard shortcuts do here: go to the next (or previous) tab, and run the shown tab's analysis; and
+ * the remedies for withheld one-image numbers offered elsewhere (the profile table): they open the optical tab.
+ */
+export interface MoreAnalysesHandle { stepTab(by: 1 | -1): void; runShown(): void; remedy(r: Remedy): void }
 
 interface Props {
   ctx: PanelContext;
   /** What the session keeps for the image shown (its optical reading and micrometer calibration). */
   work: ImageWork | null;
-  /** The session's chosen pixel size. */
+  /** The session's pixel size chosen from a micrometer image (the micrometer panel offers to stop using it). */
   pixelSize: SessionPixelSize | null;
+  /** The pixel size the image shown is measured with and where it came from (app/setups/calibration.ts). */
+  calibration: Calibration;
   /** Whether the viewer holds the optical reading's maps for the image shown. */
   opticalMapShown: boolean;
   onField(f: OpticalField): void;
@@ -37,9 +45,10 @@ interface Props {
   handle?: Ref<MoreAnalysesHandle>;
 }
 
-export function MoreAnalyses({ ctx, work, pixelSize, opticalMapShown, onField, onMarks, onDiameter, onOptics, onMicrometer, onPixelSize, handle }: Props) {
+export function MoreAnalyses({ ctx, work, pixelSize, calibration, opticalMapShown, onField, onMarks, onDiameter, onOptics, onMicrometer, onPixelSize, handle }: Props) {
   const [tab, setTab] = useState<Tab>('optical');
-  const panels = { optical: useRef<PanelHandle>(null), diameter: useRef<PanelHandle>(null), micrometer: useRef<PanelHandle>(null), numbers: useRef<PanelHandle>(null) };
+  const optical = useRef<OpticalPanelHandle>(null);
+  const panels: Record<Tab, { current: PanelHandle | null }> = { optical, diameter: useRef<PanelHandle>(null), micrometer: useRef<PanelHandle>(null), numbers: useRef<PanelHandle>(null) };
   const tabButtons = useRef(new Map<Tab, HTMLButtonElement>());
   useImperativeHandle(handle, () => ({
     stepTab: (by) => {
@@ -49,12 +58,22 @@ export function MoreAnalyses({ ctx, work, pixelSize, opticalMapShown, onField, o
       tabButtons.current.get(next)?.focus();
     },
     runShown: () => panels[tab].current?.run(),
+    remedy: (r) => {
+      // The optical tab is shown first, so the field the remedy focuses is on screen.
+      flushSync(() => setTab('optical'));
+      optical.current?.remedy(r);
+    },
   }));
   const [diameterUm, setDiameterUm] = useState<number | null>(null);
   const [retardanceNm, setRetardanceNm] = useState<number | null>(null);
   const optics = work?.optics ?? null;
   const diameterDoc = work?.diameter ?? null, diameterRun = work?.diameterRun ?? null;
   const diameterStored = useMemo(() => (diameterDoc ? { doc: diameterDoc, run: diameterRun } : null), [diameterDoc, diameterRun]);
+  // The diameter panel measures with the session's calibration; the file's own pixel size it reads itself (and says so).
+  const lengthsPixelSize: SessionPixelSize | null = calibration.umPerPx !== null && calibration.origin !== 'file' ? { umPerPx: calibration.umPerPx, from: calibration.from } : null;
+  // Diameters kept from before the calibration changed are not silently shown as if measured with the new one.
+  const keptPx = diameterDoc?.pixelSizeUmPerPx ?? null;
+  const diameterOutdated = diameterDoc !== null && (keptPx ?? null) !== calibration.umPerPx && !(diameterRun?.form.umPerPx.trim());
   return (
     <section aria-label="More analyses">
       <h2>More analyses</h2>
@@ -65,10 +84,23 @@ export function MoreAnalyses({ ctx, work, pixelSize, opticalMapShown, onField, o
       </div>
       {/* Panels stay mounted so their settings survive switching tabs; results are kept with the session. */}
       <div hidden={tab !== 'optical'}>
-        <OpticalPanel handle={panels.optical} ctx={ctx} stored={optics} mapShown={opticalMapShown} onField={onField}
+        <OpticalPanel handle={optical} visible={tab === 'optical'} ctx={ctx} stored={optics} mapShown={opticalMapShown} onField={onField}
           onReading={(id, r) => { setRetardanceNm(r.result.retardanceNmMedian); onOptics(id, r); }} />
       </div>
-      <div hidden={tab !== 'diameter'}><DiameterPanel handle={panels.diameter} ctx={ctx} pixelSize={pixelSize} stored={diameterStored} onMarks={onMarks} onResult={(id, d, run) => { setDiameterUm(d.meanUm); onDiameter(id, d, run); }} /></div>
+      <div hidden={tab !== 'diameter'}>
+        <p className="note calibration-line" data-testid="diameter-calibration">Lengths: {calibrationWords(calibration)}.</p>
+        {diameterOutdated && (
+          <p className="note warn" data-testid="diameter-outdated">The diameters below were measured {keptPx === null ? 'in px, without a pixel size' : `with ${umPerPxText(keptPx)} µm/px`}; the
+            session now uses {calibration.umPerPx === null ? 'none' : `${umPerPxText(calibration.umPerPx)} µm/px`}. Measure again to have them in the session's calibration.</p>
+        )}
+        <DiameterPanel handle={panels.diameter} ctx={ctx} pixelSize={lengthsPixelSize} stored={diameterStored} onMarks={onMarks}
+          onResult={(id, d, run) => {
+            setDiameterUm(d.meanUm);
+            // Where the pixel size came from, kept with the result for the report and Compare.
+            const from = d.pixelSizeUmPerPx === null ? undefined : run.form.umPerPx.trim() ? 'value typed in the diameter form' : d.pixelSizeFrom === 'file' ? "file's resolution tags" : calibration.from;
+            onDiameter(id, d, { ...run, ...(from ? { pixelSizeFrom: from } : {}) });
+          }} />
+      </div>
       <div hidden={tab !== 'micrometer'}><MicrometerPanel handle={panels.micrometer} ctx={ctx} pixelSize={pixelSize} stored={work?.micrometer ?? null} onUse={onPixelSize} onCalibration={onMicrometer} /></div>
       <div hidden={tab !== 'numbers'}>
         <FibreNumbersPanel handle={panels.numbers} ctx={ctx} measuredDiameterUm={diameterUm ?? work?.diameter?.meanUm ?? null} measuredRetardanceNm={retardanceNm ?? optics?.result.retardanceNmMedian ?? null} />

@@ -4,8 +4,11 @@
  * The numbers are the worker's `plate` / `plate2` / `quad` results, which are what the `retarda`
  * subcommands of the same names print; the command line is shown with them.
  */
-import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
-import type { OpticsResult, PlateReadingOptions, ProfileRequest, ProfileResult, TrainOptions } from '../../src/analyses/index.ts';
+import { useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
+import {
+  ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM,
+  type OpticsResult, type PlateReadingOptions, type ProfileRequest, type ProfileResult, type TrainOptions,
+} from '../../src/analyses/index.ts';
 import type { MatchSpace, Rect } from '../../src/optics/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
@@ -15,7 +18,9 @@ import { DEFAULT_OPTICAL_FORM, type OpticalForm, type OpticsKind, type StoredOpt
 import { LegendWheel } from './LegendWheel.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
 import { Undetermined } from './Results.tsx';
-import { channelArgs, commandLine, plateReadingArgs, quote, trainArgs } from './commandLines.ts';
+import { WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
+import { rectText, type ViewerBox } from './imageRectangles.ts';
+import { channelArgs, commandLine, knownRetardanceArgs, plateReadingArgs, quote, trainArgs, type KnownRetardance } from './commandLines.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
@@ -44,6 +49,9 @@ export interface OpticalField {
 /** What the keyboard can do with a panel: run its analysis with the settings in its form, as its button does. */
 export interface PanelHandle { run(): void }
 
+/** The optical panel also takes the remedies offered beside withheld numbers (here and in the profile table). */
+export interface OpticalPanelHandle extends PanelHandle { remedy(r: Remedy): void }
+
 export interface PanelContext {
   client: AnalysisClient;
   images: { id: string; name: string }[];
@@ -52,6 +60,10 @@ export interface PanelContext {
   /** Runs a job with the app's progress bar and Stop button; errors are shown to the user and give null. */
   runJob<T>(what: string, job: (progress: ProgressFn) => Promise<T>): Promise<T | null>;
   disabled: boolean;
+  /** Asks the viewer for a rectangle on the image shown (null when the user cancels). */
+  drawRect(hint: string): Promise<Rect | null>;
+  /** Rectangles to show on the image (replaces the ones shown before). */
+  showBoxes(boxes: ViewerBox[]): void;
 }
 
 /** The form as typed; kept with the reading it made (records.ts), so it comes back after a reload. */
@@ -86,8 +98,23 @@ const readingOf = (s: Settings): PlateReadingOptions => ({
   sign: s.sign,
 });
 
+/** The one-image reading's known sample retardance; a tolerance alone is refused as the command line refuses it. */
+function knownOf(s: Settings): KnownRetardance {
+  const sampleRetardanceNm = num(s.sampleRetardanceNm, 'Sample retardance');
+  const sampleRetardanceToleranceNm = num(s.sampleRetardanceToleranceNm, 'Sample retardance tolerance');
+  if (sampleRetardanceNm === undefined && sampleRetardanceToleranceNm !== undefined) throw new Error('Sample retardance: give the retardance with its tolerance');
+  return { sampleRetardanceNm, sampleRetardanceToleranceNm };
+}
+
+/** Whether a form text parses (for the checklist; the run reports what is wrong). */
+const parses = <T,>(f: () => T | undefined): T | undefined => { try { return f(); } catch { return undefined; } };
+
 /** Degrees between two axes (0..90). */
-const axisGap = (a: number, b: number) => Math.abs((((a - b) % 180) + 270) % 180 - 90);
+const axisAngle = (a: number, b: number) => Math.abs((((a - b) % 180) + 270) % 180 - 90);
+/** Degrees between an axis and the nearer of the compensator's axis and its normal (0..45). */
+const axisGap = (a: number, b: number) => Math.min(axisAngle(a, b), 90 - axisAngle(a, b));
+/** Whether an axis is nearer the normal of the compensator's axis than the axis itself. */
+const axisAcross = (a: number, b: number) => axisAngle(a, b) > 45;
 
 const layerOf = (p: Picture): Layer => ({ levels: p.levels, width: p.width, height: p.height, scale: p.scale });
 
@@ -100,14 +127,43 @@ interface OpticalPanelProps {
   onField(f: OpticalField): void;
   /** A new reading for an image, to keep with the session. */
   onReading(imageId: string, reading: StoredOptics): void;
-  handle?: Ref<PanelHandle>;
+  /** Whether the panel is on screen (its rectangles are shown on the image only then). */
+  visible: boolean;
+  handle?: Ref<OpticalPanelHandle>;
 }
 
-export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle }: OpticalPanelProps) {
+export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visible, handle }: OpticalPanelProps) {
   const [kind, setKind] = useState<ReadingKind>('plate');
   const [s, setS] = useState<Settings>(DEFAULTS);
   const [formError, setFormError] = useState<string | null>(null);
   const set = (c: Partial<Settings>) => setS((o) => ({ ...o, ...c }));
+  /** A field to focus once the form shows it (after a remedy switched the reading or drew a rectangle). */
+  const [focusNext, setFocusNext] = useState<'background' | 'retardance' | 'axis' | 'imageB' | null>(null);
+  const inputs = {
+    background: useRef<HTMLInputElement>(null), retardance: useRef<HTMLInputElement>(null), axis: useRef<HTMLInputElement>(null), imageB: useRef<HTMLSelectElement>(null),
+  };
+  useEffect(() => {
+    if (!focusNext) return;
+    const el = inputs[focusNext].current;
+    setFocusNext(null);
+    el?.scrollIntoView?.({ block: 'center' });
+    el?.focus();
+  }, [focusNext]); // eslint-disable-line react-hooks/exhaustive-deps
+  const [drawingBox, setDrawingBox] = useState(false);
+  /** Draws the sample-free area on the image; the field gets the rectangle. */
+  async function drawBackground() {
+    setDrawingBox(true);
+    const r = await ctx.drawRect('Drag a rectangle over a part of the image with no sample in it (it calibrates the lamp, camera and compensator). Esc cancels.');
+    setDrawingBox(false);
+    if (r) { set({ background: rectText(r) }); setFocusNext('background'); }
+  }
+  // The sample-free area is shown on the image while this panel is.
+  const bgRect = kind !== 'quad' ? parses(() => rectOf(s.background, '')) : undefined;
+  const bgKey = bgRect ? rectText(bgRect) : '';
+  useEffect(() => {
+    ctx.showBoxes(visible && bgRect ? [{ rect: bgRect, label: 'sample-free area' }] : []);
+  }, [visible, bgKey]); // eslint-disable-line react-hooks/exhaustive-deps
+  useEffect(() => () => ctx.showBoxes([]), []); // eslint-disable-line react-hooks/exhaustive-deps
   // A kept reading brings back the form that made it (after a reload, or on going back to its image).
   useEffect(() => {
     if (stored?.form) { setKind(stored.kind); setS(stored.form); }
@@ -132,6 +188,13 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
     }
   }
 
+  /** A remedy for withheld numbers: draw the sample-free area, go to the sample retardance, or switch to two images. */
+  function applyRemedy(r: Remedy) {
+    if (r === 'plate2') { setKind('plate2'); setFocusNext('imageB'); return; }
+    setKind('plate');
+    if (r === 'background') void drawBackground(); else setFocusNext(r);
+  }
+
   async function run() {
     setFormError(null);
     if (!active) return;
@@ -142,12 +205,13 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
     try {
       const summary = { axisDeg: num(s.axisDeg, 'Reference axis') };
       if (kind === 'plate') {
-        const options = { ...readingOf(s), ...summary, match: s.match, resolveMirror: s.resolveMirror };
-        const args = [...plateReadingArgs(options), ...(s.match !== 'lab' ? [`--match ${s.match}`] : [])];
+        const known = knownOf(s);
+        const options = { ...readingOf(s), ...known, ...summary, match: s.match, resolveMirror: s.resolveMirror };
+        const args = [...plateReadingArgs(options), ...knownRetardanceArgs(known), ...(s.match !== 'lab' ? [`--match ${s.match}`] : [])];
         cli = commandLine('plate', [active.name], [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : []), ...(s.resolveMirror ? ['--resolve-mirror'] : [])]);
         job = async (p) => { await ensure([active.id], p); return ctx.client.call('plate', { key: active.id, options: { ...options, profile: null } }, p); };
         // `retarda profile --source plate` reads the same image with the same options (its --axis-deg also sets the mirror choice).
-        const source = { kind: 'plate' as const, options: { ...readingOf(s), match: s.match } };
+        const source = { kind: 'plate' as const, options: { ...readingOf(s), ...known, match: s.match } };
         profile = {
           commandLine: (req, walls) => commandLine('profile', [active.name], ['--source plate', ...channelArgs(req, walls), ...args]),
           run: async (req, p) => { await ensure([active.id], p); return ctx.client.call('profile', { key: active.id, texture: {}, request: req, source }, p); },
@@ -208,7 +272,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
   }
 
   // Without deps: the handle always runs this render's form, as the button does.
-  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); } }));
+  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); }, remedy: applyRemedy }));
 
   const field = (label: string, key: keyof Settings, unit = '', placeholder = '', testId?: string) => (
     <label className="field">
@@ -217,16 +281,50 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
       {unit && <span className="unit">{unit}</span>}
     </label>
   );
-  const imageSelect = (label: string, value: string, onChange: (v: string) => void, list: { id: string; name: string }[], none: string, testId?: string) => (
+  const imageSelect = (label: string, value: string, onChange: (v: string) => void, list: { id: string; name: string }[], none: string, testId?: string, ref?: Ref<HTMLSelectElement>) => (
     <label className="field">
       <span>{label}</span>
-      <select value={value} onChange={(e) => onChange(e.target.value)} data-testid={testId}>
+      <select ref={ref} value={value} onChange={(e) => onChange(e.target.value)} data-testid={testId}>
         <option value="">{none}</option>
         {list.map((i) => <option key={i.id} value={i.id}>{i.name}</option>)}
       </select>
       <span />
     </label>
   );
+  /** The sample-free area: typed as x,y,w,h or drawn on the image. */
+  const backgroundField = (
+    <div className="field field4">
+      <label htmlFor="plate-background">Sample-free area</label>
+      <input id="plate-background" ref={inputs.background} value={s.background} placeholder="x,y,w,h" data-testid="plate-background" onChange={(e) => set({ background: e.target.value })} />
+      <span className="unit">px</span>
+      <button className={drawingBox ? 'small on' : 'small'} aria-pressed={drawingBox} data-testid="draw-background" disabled={!active || drawingBox}
+        onClick={() => void drawBackground()}>{drawingBox ? 'drag on the image…' : 'Draw'}</button>
+    </div>
+  );
+
+  const axisField = (
+    <label className="field">
+      <span>Reference axis</span>
+      <input ref={inputs.axis} value={s.axisDeg} placeholder={kind === 'plate' ? 'the channel axis' : 'none'} data-testid="optics-axis" onChange={(e) => set({ axisDeg: e.target.value })} />
+      <span className="unit">deg</span>
+    </label>
+  );
+
+  // What one image needs for its order numbers, checked on the form before the run (the analysis decides on the result).
+  const retNm = parses(() => num(s.sampleRetardanceNm, ''));
+  const needs = kind === 'plate' ? [
+    { ok: !!bgRect, text: bgRect ? 'sample-free area given' : 'no sample-free area: draw one (or type x,y,w,h)' },
+    {
+      ok: retNm !== undefined && retNm >= ONE_IMAGE_MIN_RETARDANCE_NM,
+      text: retNm === undefined ? 'sample retardance not given' : retNm < ONE_IMAGE_MIN_RETARDANCE_NM ? `sample retardance below ${ONE_IMAGE_MIN_RETARDANCE_NM} nm: one image cannot read S there` : 'sample retardance given',
+    },
+    axis === null || !Number.isFinite(axis)
+      ? { ok: false, text: `no reference axis: type the channel's axis (along or across the compensator's slow axis, ${f(compDeg)}°); a profile takes it from the walls` }
+      : gap !== null && gap > ONE_IMAGE_AXIS_TOLERANCE_DEG
+        ? { ok: false, text: `reference axis ${f(gap)}° off the compensator's axes: turn the sample along or across the slow axis (within ${ONE_IMAGE_AXIS_TOLERANCE_DEG}°)` }
+        : { ok: true, text: `reference axis ${axisAcross(axis, compDeg) ? 'across' : 'along'} the compensator's slow axis` },
+  ] : [];
+  const missing = needs.filter((n) => !n.ok).length;
 
   const r = stored;
   return (
@@ -238,13 +336,32 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
       </fieldset>
 
       {kind === 'plate' && (
-        <div className="advice" role="note" data-testid="plate-advice">
-          <strong>Set-up advice.</strong> One compensator image cannot tell a direction from its mirror image about the compensator's
-          slow axis (now {f(compDeg)}°): both give the same colour. Lay the channel or fibre axis along that slow axis (or across it):
-          then S along the axis is exact. For other directions take a second image with the optics turned by 45° (two-image reading).
-          {gap !== null && gap > 10 && (
-            <p className="note warn">Your reference axis ({f(axis)}°) is {f(gap)}° from the compensator's slow axis: S against it rests on the
-              mirror assumption shown with the result. {s.resolveMirror ? '' : 'Tick "use the texture" to settle the choice where the image has texture.'}</p>
+        <div className="one-image" data-testid="one-image-needs">
+          <p className={missing ? 'note warn' : 'note'} data-testid="one-image-status">
+            {missing
+              ? <><strong>S will be “not determined”</strong> until one image has all it needs:</>
+              : <><strong>One image can give S</strong> with these settings, if the channel lies along or across the compensator.</>}
+          </p>
+          <ul className="needs">{needs.map((n) => <li key={n.text} className={n.ok ? 'ok' : 'missing'}><span aria-hidden="true">{n.ok ? '✓' : '✗'}</span> {n.text}</li>)}</ul>
+          {backgroundField}
+          <div className="field field5">
+            <label htmlFor="sample-retardance">Sample retardance</label>
+            <input id="sample-retardance" ref={inputs.retardance} value={s.sampleRetardanceNm} placeholder="thickness × Δn" data-testid="sample-retardance" onChange={(e) => set({ sampleRetardanceNm: e.target.value })} />
+            <span className="unit">nm ±</span>
+            <input aria-label="Sample retardance tolerance" value={s.sampleRetardanceToleranceNm} placeholder="10 %" data-testid="sample-retardance-tolerance" onChange={(e) => set({ sampleRetardanceToleranceNm: e.target.value })} />
+            <span className="unit">nm</span>
+          </div>
+          {axisField}
+          <details className="advice" data-testid="plate-advice">
+            <summary>Why one image needs these</summary>
+            One colour fits many (angle, retardance) pairs, so the sample retardance must be known, and the colours are calibrated
+            on a sample-free area. One image also cannot tell a direction from its mirror image about the compensator's slow axis
+            (now {f(compDeg)}°): both give the same colour. Lay the channel or fibre axis along that slow axis (or across it): then
+            S along the axis is exact. For other directions take a second image with the optics turned by 45° (two-image reading).
+          </details>
+          {gap !== null && gap > ONE_IMAGE_AXIS_TOLERANCE_DEG && (
+            <p className="note warn">Your reference axis ({f(axis)}°) is {f(gap)}° from the compensator's slow axis (or its normal): one image
+              cannot tell a direction there from its mirror image, so S against it is withheld. Turn the sample, or read two images.</p>
           )}
         </div>
       )}
@@ -255,8 +372,9 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
       {kind === 'plate2' && (
         <>
           <p className="note">This image ({active?.name}) is the first; choose the one taken with the polariser, compensator and analyser turned together by 45° (if the stage was turned instead, the picture turned too: turn it back first).</p>
-          {imageSelect('Second image', imageB, (v) => set({ imageB: v }), others, others.length ? 'choose…' : 'add the second image first', 'plate2-image-b')}
+          {imageSelect('Second image', imageB, (v) => set({ imageB: v }), others, others.length ? 'choose…' : 'add the second image first', 'plate2-image-b', inputs.imageB)}
           {field('Turned by', 'turnDeg', 'deg')}
+          {backgroundField}
         </>
       )}
       {kind === 'quad' && (
@@ -290,7 +408,6 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
           <span />
         </label>
         {kind !== 'quad' && field('Largest retardance', 'retardanceMaxNm', 'nm')}
-        {kind !== 'quad' && field('Sample-free area', 'background', 'px', 'x,y,w,h (calibrates colours)', 'plate-background')}
         {kind !== 'quad' && (
           <label className="field"><span>Birefringence</span>
             <select value={s.sign} onChange={(e) => set({ sign: e.target.value as Settings['sign'] })}>
@@ -304,7 +421,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
             </select><span /></label>
         )}
       </details>
-      {field('Reference axis', 'axisDeg', 'deg', 'none', 'optics-axis')}
+      {kind !== 'plate' && axisField}
       {kind === 'plate' && (
         <label className="check"><input type="checkbox" checked={s.resolveMirror} onChange={(e) => set({ resolveMirror: e.target.checked })} /> use the texture to settle the mirror choice</label>
       )}
@@ -312,14 +429,15 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, handle
       <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Read orientation and retardance</button>
 
       {r && !mapShown && <p className="note" data-testid="optics-kept">Kept from an earlier {READING_NAMES[r.kind]}: its numbers are below; read again to see its maps on the image.</p>}
-      {r && <OpticsTable r={r.result} rangeNm={r.rangeNm} />}
+      {r && <OpticsTable r={r.result} rangeNm={r.rangeNm} onRemedy={r.kind === 'plate' ? applyRemedy : undefined} />}
       {r && <p className="cli" title="Run this to get the same numbers from the command line"><code data-testid="optics-cli">{r.commandLine}</code></p>}
     </div>
   );
 }
 
-function OpticsTable({ r, rangeNm }: { r: OpticsResult; rangeNm: [number, number] | null }) {
+function OpticsTable({ r, rangeNm, onRemedy }: { r: OpticsResult; rangeNm: [number, number] | null; onRemedy?: (remedy: Remedy) => void }) {
   const c = r.confidence;
+  const withheld = r.notDetermined?.order;
   const x = r.extra as Record<string, unknown>;
   const reg = x.registration as { shiftPx?: number; dxPx?: number; dyPx?: number } | undefined;
   const cal = (x.calibration ?? x.calibrationA) as { compensatorNm?: number; fitted?: unknown } | null | undefined;
@@ -327,9 +445,16 @@ function OpticsTable({ r, rangeNm }: { r: OpticsResult; rangeNm: [number, number
     <div>
       <table className="results" data-testid="optics-results">
         <tbody>
-          <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="optics-director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
-          <tr><th scope="row">Order S_2D</th><td data-testid="optics-order2d">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
-          {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="optics-axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? `${f(r.axisOrderCi[0])} – ${f(r.axisOrderCi[1])}` : '–'}</td></tr>}
+          {withheld ? <>
+            <tr><th scope="row">Director</th><WithheldCell testId="optics-director" /><WithheldWhy why={withheld} rows={r.axisDeg !== null ? 3 : 2} testId="optics-not-determined" /></tr>
+            <tr><th scope="row">Order S_2D</th><WithheldCell testId="optics-order2d" /></tr>
+            {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><WithheldCell testId="optics-axis-order" /></tr>}
+            <WithheldRemedies why={withheld} onRemedy={onRemedy} />
+          </> : <>
+            <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="optics-director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
+            <tr><th scope="row">Order S_2D</th><td data-testid="optics-order2d">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
+            {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="optics-axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? `${f(r.axisOrderCi[0])} – ${f(r.axisOrderCi[1])}` : '–'}</td></tr>}
+          </>}
           {r.retardanceNmMedian !== null
             ? <tr><th scope="row">Retardance</th><td data-testid="optics-retardance">{f(r.retardanceNmMedian)}</td><td>nm, median of the confident pixels</td></tr>
             : typeof x.amplitudeMedian === 'number' && <tr><th scope="row">Anisotropy</th><td data-testid="optics-amplitude">{f(x.amplitudeMedian)}</td><td>median amplitude of the angle fit (relative, not nm); residual {f(x.residualMedian as number)}</td></tr>}

@@ -35,6 +35,9 @@ export function ProfilePlot({ r }: { r: ProfileResult }) {
       <text x={x(0)} y={M.t + 14} textAnchor="middle" className="plot-band-label">core</text>
       <text x={(x(-1) + x(-skinMin)) / 2} y={M.t + 14} textAnchor="middle" className="plot-band-label">skin</text>
       <text x={(x(1) + x(skinMin)) / 2} y={M.t + 14} textAnchor="middle" className="plot-band-label">skin</text>
+      {r.notDetermined?.order && (
+        <text x={(x(-1) + x(1)) / 2} y={(M.t + H - M.b) / 2} textAnchor="middle" className="plot-not-determined">S not determined (see below)</text>
+      )}
       {band && <polygon points={band} className="plot-ci" />}
       {line && <polyline points={line} className="plot-line" />}
       {bins.map((b) => <circle key={b.s} cx={x(b.s)} cy={y(b.order)} r={3} className="plot-dot"><title>{`s ${b.s.toFixed(2)}: S ${b.order.toFixed(3)} (95 % ${b.ciLow.toFixed(3)}..${b.ciHigh.toFixed(3)}), n ${b.n}`}</title></circle>)}

@@ -2,6 +2,7 @@
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
+import { WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 const ci = (lo: number, hi: number) => `${f(lo)} – ${f(hi)}`;
@@ -25,15 +26,30 @@ export function OrientTable({ r, stale }: { r: OrientResult; stale: boolean }) {
   );
 }
 
-export function ProfileTable({ r, stale }: { r: ProfileResult; stale: boolean }) {
+/**
+ * A channel profile's numbers. When the field does not determine the order numbers (`notDetermined.order`, a
+ * one-image reading without what it needs), core, skin and ratio each say "not determined", with the reason and
+ * the remedies (`onRemedy`) beside them.
+ */
+export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: boolean; onRemedy?: (remedy: Remedy) => void }) {
+  const withheld = r.notDetermined?.order;
+  // Withheld values are NaN from the worker and null after a JSON round trip: either way they are not shown as numbers.
+  const g = (v: number | null | undefined) => (withheld ? NOT_DETERMINED : f(v));
   return (
     <div>
       {stale && <p className="note">Settings changed since this profile: run it again to update it.</p>}
       <table className="results" data-testid="profile-results">
         <tbody>
-          <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><td data-testid="core">{f(r.core.order)}</td><td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td></tr>
-          <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><td data-testid="skin">{f(r.skin.order)}</td><td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td></tr>
-          <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{!r.notDetermined?.coreSkinRatio && <td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td>}</tr>
+          {withheld ? <>
+            <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><WithheldCell testId="core" /><WithheldWhy why={withheld} rows={3} testId="profile-not-determined" /></tr>
+            <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><WithheldCell testId="skin" /></tr>
+            <tr><th scope="row">Core / skin</th><WithheldCell testId="ratio" /></tr>
+            <WithheldRemedies why={withheld} onRemedy={onRemedy} />
+          </> : <>
+            <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><td data-testid="core">{f(r.core.order)}</td><td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td></tr>
+            <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><td data-testid="skin">{f(r.skin.order)}</td><td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td></tr>
+            <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{!r.notDetermined?.coreSkinRatio && <td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td>}</tr>
+          </>}
           <tr><th scope="row">Reference axis</th><td>{f(r.axisDeg)}</td><td>deg; channel axis {f(r.channelAxisDeg)}, taper {f(r.taperDeg)}</td></tr>
           <tr><th scope="row">Walls</th><td colSpan={2}>{r.wallsFound ? 'found in the image' : 'drawn by hand'}</td></tr>
         </tbody>
@@ -41,14 +57,14 @@ export function ProfileTable({ r, stale }: { r: ProfileResult; stale: boolean })
       {r.stations.length > 1 && (
         <table className="results compact" data-testid="station-table">
           <thead><tr><th>station</th><th>width px</th><th>core S</th><th>skin S</th><th>core/skin</th></tr></thead>
-          <tbody>{r.stations.map((s) => <tr key={s.station}><td>{s.station}</td><td>{f(s.widthPx)}</td><td>{f(s.core.order)}</td><td>{f(s.skin.order)}</td><td>{f(s.coreSkinRatio)}</td></tr>)}</tbody>
+          <tbody>{r.stations.map((s) => <tr key={s.station}><td>{s.station}</td><td>{f(s.widthPx)}</td><td>{g(s.core.order)}</td><td>{g(s.skin.order)}</td><td>{g(s.coreSkinRatio)}</td></tr>)}</tbody>
         </table>
       )}
       <details>
         <summary>S in each bin ({r.bins.length})</summary>
         <table className="results compact">
           <thead><tr><th>s</th><th>S_axis</th><th>95 % low</th><th>95 % high</th><th>n</th><th>director deg</th></tr></thead>
-          <tbody>{r.bins.map((b) => <tr key={b.s}><td>{f(b.s)}</td><td>{f(b.order)}</td><td>{f(b.ciLow)}</td><td>{f(b.ciHigh)}</td><td>{f(b.n)}</td><td>{f(b.directorDeg)}</td></tr>)}</tbody>
+          <tbody>{r.bins.map((b) => <tr key={b.s}><td>{f(b.s)}</td><td>{g(b.order)}</td><td>{withheld ? '' : f(b.ciLow)}</td><td>{withheld ? '' : f(b.ciHigh)}</td><td>{f(b.n)}</td><td>{g(b.directorDeg)}</td></tr>)}</tbody>
         </table>
       </details>
       <Warnings list={r.warnings} />

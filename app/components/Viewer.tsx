@@ -1,14 +1,17 @@
 /**
  * The image viewer: a canvas with zoom (wheel, pinch-free buttons, keys + - 0) and pan (drag), the
- * orientation picture laid over the image, and the two channel walls, which can be drawn by dragging
- * and adjusted by dragging their ends. Coordinates follow docs/methods.md §1.1: image pixels, x right,
- * y down, origin at the centre of the top-left pixel.
+ * orientation picture laid over the image, the two channel walls, which can be drawn by dragging
+ * and adjusted by dragging their ends, and rectangles a panel asks for (drawn by dragging, Esc cancels) or
+ * shows. Coordinates follow docs/methods.md §1.1: image pixels, x right, y down, origin at the centre of the
+ * top-left pixel.
  */
 import { useCallback, useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Glyph } from '../worker/protocol.ts';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
 import { STATION_COLOUR, type StationDrawing } from './stationMarks.ts';
+import { rectBetween, type RectRequest, type ViewerBox } from './imageRectangles.ts';
+import type { Rect } from '../../src/optics/index.ts';
 
 /**
  * A picture to draw: `levels[0]` at full picture size, each further level half the one before (so
@@ -40,6 +43,10 @@ interface Props {
   /** A profile's station boundaries and numbers (drawn when the profile has more than one station). */
   stations?: StationDrawing | null;
   drawing: boolean;
+  /** A rectangle a panel asked for: dragging draws it (before anything else), Esc cancels. */
+  rectRequest?: RectRequest | null;
+  /** Rectangles shown on the image with their labels. */
+  boxes?: ViewerBox[];
   onWalls(channel: Channel): void;
   onDrawingDone(): void;
   handle?: Ref<ViewerHandle>;
@@ -48,6 +55,7 @@ interface Props {
 interface View { scale: number; tx: number; ty: number }
 
 const WALL_COLOURS = ['#f2f2f2', '#ffd23f'];
+const BOX_COLOUR = '#4fd1ff';
 
 export function Viewer(p: Props) {
   const wrap = useRef<HTMLDivElement>(null);
@@ -55,7 +63,10 @@ export function Viewer(p: Props) {
   const [size, setSize] = useState({ w: 300, h: 200 });
   const [view, setView] = useState<View>({ scale: 1, tx: 0, ty: 0 });
   const [draft, setDraft] = useState<Segment[]>([]);
-  const drag = useRef<null | { kind: 'pan'; x: number; y: number; view: View } | { kind: 'draw'; seg: Segment } | { kind: 'end'; wall: 0 | 1; end: 1 | 2 }>(null);
+  const drag = useRef<null | { kind: 'pan'; x: number; y: number; view: View } | { kind: 'draw'; seg: Segment } | { kind: 'end'; wall: 0 | 1; end: 1 | 2 }
+    | { kind: 'rect'; x: number; y: number }>(null);
+  const [rectDraft, setRectDraft] = useState<Rect | null>(null);
+  const rectRequest = p.rectRequest ?? null;
   const [cursor, setCursor] = useState<{ x: number; y: number } | null>(null);
 
   const fit = useCallback(() => {
@@ -85,6 +96,15 @@ export function Viewer(p: Props) {
   // Fit when a new image (size) arrives or the viewer is resized a lot.
   useEffect(() => { fit(); }, [fit]);
   useEffect(() => { if (!p.drawing) setDraft([]); }, [p.drawing]);
+  // A rectangle asked for: the viewer comes into view (on a narrow screen it may be above the panel that asked), Esc cancels.
+  useEffect(() => {
+    setRectDraft(null);
+    if (!rectRequest) return;
+    wrap.current?.scrollIntoView?.({ block: 'nearest' });
+    const onKey = (e: KeyboardEvent) => { if (e.key === 'Escape') rectRequest.done(null); };
+    window.addEventListener('keydown', onKey);
+    return () => window.removeEventListener('keydown', onKey);
+  }, [rectRequest]);
 
   const toImage = (sx: number, sy: number) => ({ x: (sx - view.tx) / view.scale - 0.5, y: (sy - view.ty) / view.scale - 0.5 });
   const toScreen = (x: number, y: number) => ({ x: view.tx + (x + 0.5) * view.scale, y: view.ty + (y + 0.5) * view.scale });
@@ -166,7 +186,20 @@ export function Viewer(p: Props) {
       g.fillStyle = 'rgba(0,0,0,0.8)'; g.fillRect(m.x - tw / 2 - 5, m.y - 24, tw + 10, 19);
       g.fillStyle = WALL_COLOURS[i]; g.fillText(label, m.x - tw / 2, m.y - 10);
     });
-  }, [size, view, p.image, p.colour, p.coherency, p.retardance, p.glyphs, p.marks, p.mode, p.opacity, p.walls, p.stations, p.drawing, draft]);
+    const shownBoxes = [...(rectRequest ? [] : p.boxes ?? []), ...(rectDraft ? [{ rect: rectDraft, label: `${rectDraft.width} × ${rectDraft.height} px` }] : [])];
+    for (const b of shownBoxes) {
+      const a = toScreen(b.rect.x - 0.5, b.rect.y - 0.5), w = b.rect.width * view.scale, h = b.rect.height * view.scale;
+      g.setLineDash([8, 4]);
+      g.strokeStyle = '#000'; g.lineWidth = 4; g.strokeRect(a.x, a.y, w, h);
+      g.strokeStyle = BOX_COLOUR; g.lineWidth = 2; g.strokeRect(a.x, a.y, w, h);
+      g.setLineDash([]);
+      g.font = '600 13px system-ui, sans-serif';
+      const tw = g.measureText(b.label).width;
+      const ly = a.y > 22 ? a.y - 5 : a.y + h + 17;
+      g.fillStyle = 'rgba(0,0,0,0.8)'; g.fillRect(a.x - 1, ly - 14, tw + 10, 19);
+      g.fillStyle = BOX_COLOUR; g.fillText(b.label, a.x + 4, ly);
+    }
+  }, [size, view, p.image, p.colour, p.coherency, p.retardance, p.glyphs, p.marks, p.mode, p.opacity, p.walls, p.stations, p.drawing, draft, p.boxes, rectDraft, rectRequest]);
 
   // Whether what the mode shows has arrived (pictures and glyphs can follow the numbers).
   const overlayReady = p.mode === 'none' || (p.mode === 'colour' ? !!p.colour : p.mode === 'coherency' ? !!p.coherency : p.mode === 'retardance' ? !!p.retardance : p.glyphs.length > 0);
@@ -189,6 +222,11 @@ export function Viewer(p: Props) {
   const onDown = (e: React.PointerEvent) => {
     const l = local(e);
     (e.target as Element).setPointerCapture(e.pointerId);
+    if (rectRequest) {
+      const q = toImage(l.x, l.y);
+      drag.current = { kind: 'rect', x: q.x, y: q.y };
+      return;
+    }
     const hit = hitEnd(l.x, l.y);
     if (hit) { drag.current = { kind: 'end', ...hit }; return; }
     if (p.drawing && draft.length < 2) {
@@ -211,6 +249,7 @@ export function Viewer(p: Props) {
     const d = drag.current;
     if (!d) return;
     if (d.kind === 'pan') setView({ ...d.view, tx: d.view.tx + l.x - d.x, ty: d.view.ty + l.y - d.y });
+    if (d.kind === 'rect') setRectDraft(rectBetween(d, q, p.imageWidth, p.imageHeight, 1));
     if (d.kind === 'draw') {
       const seg = { ...d.seg, x2: clampX(q.x), y2: clampY(q.y) };
       d.seg = seg;
@@ -224,9 +263,17 @@ export function Viewer(p: Props) {
     }
   };
 
-  const onUp = () => {
+  const onUp = (e: React.PointerEvent) => {
     const d = drag.current;
     drag.current = null;
+    if (d?.kind === 'rect') {
+      const l = local(e);
+      const r = rectBetween(d, toImage(l.x, l.y), p.imageWidth, p.imageHeight);
+      setRectDraft(null);
+      // A click without a drag leaves the request open.
+      if (r && rectRequest) rectRequest.done(r);
+      return;
+    }
     if (d?.kind === 'draw') {
       const short = Math.hypot(d.seg.x2 - d.seg.x1, d.seg.y2 - d.seg.y1) < 3;
       const next = short ? draft.slice(0, -1) : draft;
@@ -247,13 +294,14 @@ export function Viewer(p: Props) {
     <div className="viewer" ref={wrap} data-overlay={overlayReady ? p.mode : 'waiting'}>
       <canvas
         ref={canvas}
-        style={{ width: size.w, height: size.h, cursor: p.drawing ? 'crosshair' : 'grab', touchAction: 'none' }}
+        style={{ width: size.w, height: size.h, cursor: p.drawing || rectRequest ? 'crosshair' : 'grab', touchAction: 'none' }}
         onPointerDown={onDown} onPointerMove={onMove} onPointerUp={onUp} onPointerCancel={onUp}
         onPointerLeave={() => setCursor(null)} onWheel={onWheel}
         aria-label="image viewer"
       />
       <div className="viewer-status" aria-live="polite">
-        {p.drawing ? <span className="hint-strong">{draft.length === 0 ? 'Drag along the first wall (s = −1)' : draft.length === 1 ? 'Now drag along the second wall (s = +1)' : ''}</span> : null}
+        {rectRequest ? <span className="hint-strong" data-testid="rect-hint">{rectRequest.hint} <button className="small" onClick={() => rectRequest.done(null)}>Cancel</button></span>
+          : p.drawing ? <span className="hint-strong">{draft.length === 0 ? 'Drag along the first wall (s = −1)' : draft.length === 1 ? 'Now drag along the second wall (s = +1)' : ''}</span> : null}
         <span>{cursor ? `x ${cursor.x.toFixed(0)}, y ${cursor.y.toFixed(0)} px` : ' '}</span>
         <span>zoom {(view.scale * 100).toFixed(0)} %</span>
       </div>

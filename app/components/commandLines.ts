@@ -3,7 +3,10 @@
  * built from the same settings the panels send to the worker (only options that differ from the
  * command line's defaults are written out, except where being explicit helps the reader).
  */
-import type { FibreNumbersRequest, PlateReadingOptions, TrainOptions } from '../../src/analyses/index.ts';
+import type { FibreNumbersRequest, PlateOptions, PlateReadingOptions, TrainOptions } from '../../src/analyses/index.ts';
+
+/** The one-image reading's known sample retardance (src/analyses KnownRetardanceOptions). */
+export type KnownRetardance = Pick<PlateOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'>;
 import type { ProfileRequest } from '../../src/analyses/index.ts';
 import type { Rect } from '../../src/optics/index.ts';
 
@@ -27,6 +30,11 @@ export function plateReadingArgs(o: PlateReadingOptions): string[] {
     ...(o.background ? [`--background ${rect(o.background)}`] : []),
     ...(o.whiteRgb ? [`--white-rgb ${o.whiteRgb.join(',')}`] : []), ...(o.sign && o.sign !== 'positive' ? [`--sign ${o.sign}`] : []),
   ];
+}
+
+/** A one-image reading's known sample retardance (`retarda plate` and `profile --source plate`). */
+export function knownRetardanceArgs(o: KnownRetardance): string[] {
+  return [...opt('sample-retardance-nm', o.sampleRetardanceNm), ...opt('sample-retardance-tolerance-nm', o.sampleRetardanceToleranceNm)];
 }
 
 /** Channel options of a profile request (walls as "x1,y1,x2,y2;x3,y3,x4,y4" text, or found). */

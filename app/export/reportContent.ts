@@ -6,8 +6,9 @@
  */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
-import type { SessionRecord } from '../storage/records.ts';
-import { effectivePixelSize, setupCommandOptions, setupSummary } from '../setups/setup.ts';
+import type { SessionRecord, StoredDiameterRun } from '../storage/records.ts';
+import { setupCommandOptions, setupSummary } from '../setups/setup.ts';
+import { calibrationOf, calibrationWords, umPerPxText } from '../setups/calibration.ts';
 import { orientCommandLine, profileCommandLine, wallsText } from './rows.ts';
 
 export interface ReportNumber {
@@ -82,7 +83,7 @@ function profileSection(r: ProfileResult, name: string): ReportImage['sections']
   };
 }
 
-function diameterSection(d: DiameterDocument, name: string): ReportImage['sections'][number] {
+function diameterSection(d: DiameterDocument, run: StoredDiameterRun | null, name: string): ReportImage['sections'][number] {
   const um = num(d.meanUm) !== null;
   const o = d.options as { stepPx?: number; polarity?: string };
   const args = ['retarda diameter', /^[\w.\-/]+$/.test(name) ? name : `"${name.replace(/"/g, '\\"')}"`];
@@ -96,7 +97,11 @@ function diameterSection(d: DiameterDocument, name: string): ReportImage['sectio
       ci: um ? (num(d.ciLowUm) !== null ? [d.ciLowUm as number, d.ciHighUm as number] : null) : (num(d.ciLowPx) !== null ? [d.ciLowPx as number, d.ciHighPx as number] : null),
       n: num(d.n), unit: um ? 'µm' : 'px',
     }],
-    settings: [`${d.fibres.length} fibre(s), ${d.dropped} station(s) dropped`, `pixel size ${d.pixelSizeUmPerPx ? `${d.pixelSizeUmPerPx} µm/px (${d.pixelSizeFrom === 'option' ? 'given' : 'from the file'})` : 'unknown: lengths in px'}`, d.interval],
+    settings: [
+      `${d.fibres.length} fibre(s), ${d.dropped} station(s) dropped`,
+      `pixel size ${d.pixelSizeUmPerPx ? `${umPerPxText(d.pixelSizeUmPerPx)} µm/px from the ${run?.pixelSizeFrom ?? (d.pixelSizeFrom === 'option' ? 'value given' : "file's resolution tags")}` : 'unknown: lengths in px'}`,
+      d.interval,
+    ],
     commandLine: args.join(' '),
     warnings: d.warnings,
   };
@@ -111,15 +116,13 @@ export function reportContent(s: SessionRecord, now = new Date()): ReportContent
     const sections = [
       ...(w?.orient ? [orientSection(w.orient, img.name)] : []),
       ...(w?.profile ? [profileSection(w.profile, img.name)] : []),
-      ...(w?.diameter ? [diameterSection(w.diameter, img.name)] : []),
+      ...(w?.diameter ? [diameterSection(w.diameter, w.diameterRun ?? null, img.name)] : []),
     ];
     if (!sections.length) { notAnalysed.push(img.name); continue; }
     const any = w!.orient ?? w!.profile ?? w!.diameter!;
     const filePx = num(any.pixelSizeUmPerPx);
-    const px = effectivePixelSize(s.setup, filePx);
-    const calibration = px.from === 'set-up'
-      ? `${Number(px.umPerPx!.toPrecision(4))} µm/px from the set-up "${s.setup!.name}"${filePx ? ` (the file says ${filePx} µm/px)` : ''}`
-      : px.from === 'file' ? `${px.umPerPx} µm/px from the file's resolution tags` : 'not calibrated (lengths in pixels)';
+    const px = calibrationOf(s, filePx);
+    const calibration = `${calibrationWords(px)}${px.origin !== 'file' && px.umPerPx !== null && filePx ? ` (the file says ${umPerPxText(filePx)} µm/px)` : ''}`;
     images.push({ id: img.id, name: img.name, facts: `${any.width} × ${any.height} px`, calibration, sections });
   }
   return {

@@ -8,6 +8,7 @@ import {
   EMPTY_WORK, type AnalysisSettings, type ImageMeta, type StoredDiameterRun, type ImageWork, type SessionPixelSize, type SessionRecord, type StoredMicrometer, type StoredOptics,
 } from '../storage/records.ts';
 import type { AppliedSetup } from '../setups/setup.ts';
+import { setupCalibration } from '../setups/calibration.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 
 export type SessionAction =
@@ -20,7 +21,10 @@ export type SessionAction =
   | { type: 'walls'; id: string; channel: Channel | null; found: boolean; fit?: [WallFit, WallFit] | null }
   | { type: 'orient'; id: string; result: OrientResult }
   | { type: 'profile'; id: string; result: ProfileResult }
-  /** Applies a set-up (optical train, pixel size, sign) to every image of the session; null removes it. */
+  /**
+   * Applies a set-up (optical train, pixel size, sign) to every image of the session; null removes it. A set-up
+   * that gives a pixel size replaces a pixel size chosen from a micrometer image (the latest choice is used).
+   */
   | { type: 'applySetup'; setup: AppliedSetup | null }
   /** Keeps an image's fibre diameters with the session (shown in the compare view), with the form and command line that made them. */
   | { type: 'diameter'; id: string; result: DiameterDocument | null; run?: StoredDiameterRun | null }
@@ -59,7 +63,7 @@ function apply(s: SessionRecord, a: SessionAction): SessionRecord {
     case 'walls': return withWork(s, a.id, { walls: a.channel, wallsFound: a.found, wallFit: a.found ? a.fit ?? null : null, profile: null });
     case 'orient': return withWork(s, a.id, { orient: a.result });
     case 'profile': return withWork(s, a.id, { profile: a.result, walls: { walls: a.result.walls }, wallsFound: a.result.wallsFound });
-    case 'applySetup': return { ...s, setup: a.setup };
+    case 'applySetup': return { ...s, setup: a.setup, ...(a.setup && setupCalibration(a.setup) ? { pixelSize: null } : {}) };
     case 'diameter': return withWork(s, a.id, { diameter: a.result, diameterRun: a.result ? a.run ?? null : null });
     case 'optics': return withWork(s, a.id, { optics: a.reading });
     case 'micrometer': return withWork(s, a.id, { micrometer: a.calibration });
@@ -79,7 +83,12 @@ export function orientIsStale(r: OrientResult, s: AnalysisSettings): boolean {
   return o.sigmaPx !== s.sigmaPx || o.weighting !== s.weighting || (r.axisDeg ?? null) !== s.axisDeg;
 }
 
+/**
+ * Whether a stored profile was made with other settings than the current ones. The texture scale and pixel
+ * weights belong to the texture field; a profile of an optical reading is made with the reading's own.
+ */
 export function profileIsStale(r: ProfileResult, s: AnalysisSettings): boolean {
   const o = r.options as { sigmaPx?: number; weighting?: string; bins?: number; stations?: number; coreMax?: number; skinMin?: number };
-  return o.sigmaPx !== s.sigmaPx || o.weighting !== s.weighting || o.bins !== s.bins || o.stations !== s.stations || o.coreMax !== s.coreMax || o.skinMin !== s.skinMin;
+  const field = r.fieldMethod === 'texture' && (o.sigmaPx !== s.sigmaPx || o.weighting !== s.weighting);
+  return field || o.bins !== s.bins || o.stations !== s.stations || o.coreMax !== s.coreMax || o.skinMin !== s.skinMin;
 }

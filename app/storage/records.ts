@@ -71,6 +71,8 @@ export interface OpticalForm {
   compensatorNm: string; compensatorDeg: string; polariserDeg: string; illuminant: string; retardanceMaxNm: string;
   background: string; sign: 'positive' | 'negative'; match: 'lab' | 'chroma'; axisDeg: string; resolveMirror: boolean;
   imageB: string; turnDeg: string; quadImages: string[]; quadAngles: string[]; quadPlate: string; quadPlateBackground: string;
+  /** One-image reading: the sample's known retardance and its tolerance, nm (`--sample-retardance-nm`, `--sample-retardance-tolerance-nm`). */
+  sampleRetardanceNm: string; sampleRetardanceToleranceNm: string;
 }
 
 /** The optical form before anything is typed: the `retarda plate` / `plate2` / `quad` defaults. */
@@ -78,7 +80,11 @@ export const DEFAULT_OPTICAL_FORM: OpticalForm = {
   compensatorNm: '', compensatorDeg: '45', polariserDeg: '0', illuminant: '3200K', retardanceMaxNm: '800', background: '',
   sign: 'positive', match: 'lab', axisDeg: '', resolveMirror: false, imageB: '', turnDeg: '45',
   quadImages: ['', '', '', ''], quadAngles: ['0', '22.5', '45', '67.5'], quadPlate: '', quadPlateBackground: '',
+  sampleRetardanceNm: '', sampleRetardanceToleranceNm: '',
 };
+
+/** Form fields added after forms were first kept: a stored form without them is read with their defaults. */
+const LATER_FORM_KEYS: readonly (keyof OpticalForm)[] = ['sampleRetardanceNm', 'sampleRetardanceToleranceNm'];
 
 /** An optical reading as shown: its result, the equivalent command line, the retardance colour-bar range and the form that made it. */
 export interface StoredOptics { kind: OpticsKind; result: OpticsResult; commandLine: string; rangeNm: [number, number] | null; form?: OpticalForm }
@@ -89,8 +95,11 @@ export interface DiameterForm { umPerPx: string; stepPx: string; averagePx: stri
 /** The `retarda diameter` defaults, as the form shows them. */
 export const DEFAULT_DIAMETER_FORM: DiameterForm = { umPerPx: '', stepPx: '10', averagePx: '5', polarity: 'auto', backgroundDegree: '2' };
 
-/** How a stored diameter result was made: the form and the equivalent command line. */
-export interface StoredDiameterRun { form: DiameterForm; commandLine: string }
+/**
+ * How a stored diameter result was made: the form, the equivalent command line and, when lengths are in um,
+ * where the pixel size came from in plain words (`calibrationWords`); absent in older records.
+ */
+export interface StoredDiameterRun { form: DiameterForm; commandLine: string; pixelSizeFrom?: string }
 
 /** A micrometer calibration as shown: the document and the equivalent command line. */
 export interface StoredMicrometer { doc: MicrometerDocument; commandLine: string }
@@ -130,7 +139,7 @@ const SEGMENT_KEYS = keySet<Segment>({ x1: true, y1: true, x2: true, y2: true })
 const CHANNEL_KEYS = keySet<Channel>({ walls: true });
 const OPTICS_KEYS = keySet<StoredOptics>({ kind: true, result: true, commandLine: true, rangeNm: true, form: true });
 const OPTICAL_FORM_KEYS = keySet<OpticalForm>(Object.fromEntries(Object.keys(DEFAULT_OPTICAL_FORM).map((k) => [k, true])) as Record<keyof OpticalForm, true>);
-const DIAMETER_RUN_KEYS = keySet<StoredDiameterRun>({ form: true, commandLine: true });
+const DIAMETER_RUN_KEYS = keySet<StoredDiameterRun>({ form: true, commandLine: true, pixelSizeFrom: true });
 const DIAMETER_FORM_KEYS = keySet<DiameterForm>({ umPerPx: true, stepPx: true, averagePx: true, polarity: true, backgroundDegree: true });
 const MICROMETER_KEYS = keySet<StoredMicrometer>({ doc: true, commandLine: true });
 const PIXEL_SIZE_KEYS = keySet<SessionPixelSize>({ umPerPx: true, from: true });
@@ -193,14 +202,14 @@ function restoreOpticalForm(v: unknown): OpticalForm | null {
   if (!isObj(v)) return null;
   const d = DEFAULT_OPTICAL_FORM;
   const texts = (Object.keys(d) as (keyof OpticalForm)[]).filter((k) => typeof d[k] === 'string');
-  if (texts.some((k) => typeof v[k] !== 'string')) return null;
+  if (texts.some((k) => typeof v[k] !== 'string' && !(v[k] === undefined && LATER_FORM_KEYS.includes(k)))) return null;
   if (v.sign !== 'positive' && v.sign !== 'negative') return null;
   if (v.match !== 'lab' && v.match !== 'chroma') return null;
   if (typeof v.resolveMirror !== 'boolean') return null;
   const quadImages = strings4(v.quadImages), quadAngles = strings4(v.quadAngles);
   if (!quadImages || !quadAngles) return null;
   const form = { ...d, quadImages, quadAngles, resolveMirror: v.resolveMirror, sign: v.sign, match: v.match } as OpticalForm;
-  for (const k of texts) (form as unknown as Record<string, unknown>)[k] = v[k];
+  for (const k of texts) if (v[k] !== undefined) (form as unknown as Record<string, unknown>)[k] = v[k];
   return withUnknown(v, OPTICAL_FORM_KEYS, form);
 }
 
@@ -222,7 +231,7 @@ function restoreDiameterRun(v: unknown): StoredDiameterRun | null {
   if (![f.umPerPx, f.stepPx, f.averagePx, f.backgroundDegree].every((x) => typeof x === 'string')) return null;
   if (f.polarity !== 'auto' && f.polarity !== 'dark' && f.polarity !== 'bright') return null;
   return withUnknown<StoredDiameterRun>(v, DIAMETER_RUN_KEYS, {
-    commandLine: v.commandLine,
+    commandLine: v.commandLine, ...(typeof v.pixelSizeFrom === 'string' ? { pixelSizeFrom: v.pixelSizeFrom } : {}),
     form: withUnknown<DiameterForm>(f, DIAMETER_FORM_KEYS, { umPerPx: f.umPerPx as string, stepPx: f.stepPx as string, averagePx: f.averagePx as string, polarity: f.polarity, backgroundDegree: f.backgroundDegree as string }),
   });
 }

@@ -68,10 +68,13 @@ export interface OpticsReply {
 /** The views of an optical field made on demand. */
 export type OpticalViewName = 'confidence' | 'retardance' | 'glyphs';
 
-/** Which orientation field a channel profile uses: the texture field, or one compensator image (`profile --source plate`). */
+/**
+ * Which orientation field a channel profile uses: the texture field, or one compensator image (`profile --source
+ * plate`), read with the known sample retardance when given (src/analyses KnownRetardanceOptions).
+ */
 export type ProfileSource =
   | { kind: 'texture' }
-  | { kind: 'plate'; options: PlateReadingOptions & { match?: MatchSpace } };
+  | { kind: 'plate'; options: PlateReadingOptions & Pick<PlateOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'> & { match?: MatchSpace } };
 
 /** Settings of an optical reading without the images (those are named by key). */
 export type FourAngleSettings = Omit<FourAngleAnalysisOptions, 'plate' | 'flatField' | 'dark'>;

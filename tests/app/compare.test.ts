@@ -77,10 +77,10 @@ describe('compareCsv', () => {
     const p = await gratingProfile(0, 'a, b.png');
     const rows = compareRows([sessionWith('s', 'Run "A"', [{ id: 'a', name: 'a, b.png', profile: p }, { id: 'b', name: 'fibre.png', diameter: { meanUm: 12.5, ciLowUm: 12, ciHighUm: 13, meanPx: 25, ciLowPx: 24, ciHighPx: 26, n: 40 } }])]);
     const lines = compareCsv(rows).split('\r\n');
-    expect(lines[0]).toBe('session,image,field,coreOrder,coreCiLow,coreCiHigh,coreN,skinOrder,skinCiLow,skinCiHigh,skinN,coreSkinRatio,coreSkinRatioCiLow,coreSkinRatioCiHigh,coreMax,skinMin,diameterUm,diameterCiLowUm,diameterCiHighUm,diameterPx,diameterCiLowPx,diameterCiHighPx,diameterN');
+    expect(lines[0]).toBe('session,image,field,coreOrder,coreCiLow,coreCiHigh,coreN,skinOrder,skinCiLow,skinCiHigh,skinN,coreSkinRatio,coreSkinRatioCiLow,coreSkinRatioCiHigh,coreMax,skinMin,diameterUm,diameterCiLowUm,diameterCiHighUm,diameterPx,diameterCiLowPx,diameterCiHighPx,diameterN,pixelSizeUmPerPx,pixelSizeFrom,notDetermined');
     // RFC 4180 §2.6-2.7: fields with commas or quotes are quoted, quotes doubled
     expect(lines[1].startsWith(`"Run ""A""","a, b.png",texture,${p.core.order},`)).toBe(true);
-    expect(lines[2]).toBe('"Run ""A""",fibre.png,,,,,,,,,,,,,,,12.5,12,13,,,,40');
+    expect(lines[2]).toBe('"Run ""A""",fibre.png,,,,,,,,,,,,,,,12.5,12,13,,,,40,,,');
     expect(lines[3]).toBe('');
   });
 });

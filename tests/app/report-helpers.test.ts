@@ -121,13 +121,16 @@ describe('reportContent', () => {
 
   it('states the calibration: not calibrated, from the file, or from the applied set-up', async () => {
     const { s } = await session();
-    expect(reportContent(s).images[0].calibration).toBe('not calibrated (lengths in pixels)');
+    expect(reportContent(s).images[0].calibration).toBe('not calibrated (lengths in px)');
     expect(reportContent(s).images[1].calibration).toBe('0.5 µm/px from the file\'s resolution tags');
     expect(reportContent(s).setup).toBeNull();
     const su = { ...newSetup('x', 'Bench 2', at), pixelSize: { source: 'typed' as const, pixelSizeUmPerPx: 0.345 } };
     const withSetup = sessionReducer(s, { type: 'applySetup', setup: applied(su, at) });
     const c = reportContent(withSetup);
-    expect(c.images[1].calibration).toBe('0.345 µm/px from the set-up "Bench 2" (the file says 0.5 µm/px)');
+    expect(c.images[1].calibration).toBe('0.345 µm/px from the set-up "Bench 2": typed (the file says 0.5 µm/px)');
+    // A pixel size chosen from a micrometer image is used in its place, and named as such.
+    const withMicrometer = sessionReducer(withSetup, { type: 'pixelSize', pixelSize: { umPerPx: 0.6512, from: 'micrometer ruler.png' } });
+    expect(reportContent(withMicrometer).images[1].calibration).toBe('0.6512 µm/px from the micrometer image ruler.png (the file says 0.5 µm/px)');
     expect(c.setup?.commandOptions).toEqual(['--polariser-deg 0', '--compensator-nm 550', '--compensator-deg 45', '--illuminant 3200K', '--sign positive', '--um-per-px 0.345']);
   });
 });
