@@ -140,6 +140,13 @@ describe('validation renderer: director field and truth', () => {
 
 describe('validation renderer: channel geometry', () => {
   it('puts the first wall above a horizontal channel and left of a vertical one, the given width apart', () => {
+    // A steep channel (-61 deg) counts as vertical: its first wall is the left one (smaller x at the centre row).
+    const steep = channelGeometry(400, 300, -61, 100, 0, 0);
+    const xAtCentreRow = (k: 0 | 1) => { const l = steep.walls[k]; return l.px + ((149.5 - l.py) / l.dy) * l.dx; };
+    expect(xAtCentreRow(0)).toBeLessThan(xAtCentreRow(1));
+    const shallow = channelGeometry(400, 300, -35, 100, 0, 0);
+    const yAtCentreColumn = (k: 0 | 1) => { const l = shallow.walls[k]; return l.py + ((199.5 - l.px) / l.dx) * l.dy; };
+    expect(yAtCentreColumn(0)).toBeLessThan(yAtCentreColumn(1));
     const h = channelGeometry(400, 300, 0, 100, 0, 0);
     expect(h.walls[0].py).toBeCloseTo(149.5 - 50, 9);
     expect(h.walls[1].py).toBeCloseTo(149.5 + 50, 9);

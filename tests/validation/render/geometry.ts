@@ -22,7 +22,7 @@ export interface ChannelGeometry {
   axisRad: number;
   /** Full angle between the walls, radians; wall 0 is turned by +taper/2 from the axis, wall 1 by -taper/2. */
   taperRad: number;
-  /** Unit axis u and unit normal n towards the first wall (u turned by +90 deg on screen). */
+  /** Unit axis u and unit normal n towards the first wall (up for a channel within 45 deg of horizontal, else left). */
   ux: number; uy: number; nx: number; ny: number;
   /** Where the centre line crosses the normal through the image centre shifted by the offset. */
   cx: number; cy: number;
@@ -36,13 +36,14 @@ export interface ChannelGeometry {
  * Wall lines of a channel whose axis makes `axisDeg` with +x, interior width `widthPx` measured along the
  * normal through the centre point, walls turned by +-taperDeg/2 about the axis (so the wall bisector is the
  * axis), centre point = image centre moved by `offsetPx` along the normal n (towards the first wall for
- * positive offsets). n is the axis turned by +90 deg on screen, so with the axis angle in (-90, 90] the
- * first wall is the upper one of a horizontal channel and the left one of a vertical channel.
+ * positive offsets). The first wall is the upper one of a channel within 45 deg of horizontal and the left
+ * one of a channel steeper than that (n points up, or left).
  */
 export function channelGeometry(w: number, h: number, axisDeg: number, widthPx: number, taperDeg: number, offsetPx: number): ChannelGeometry {
   const a = (axisDeg * Math.PI) / 180, t = (taperDeg * Math.PI) / 180;
   const [ux, uy] = dirOf(a);
-  const [nx, ny] = dirOf(a + Math.PI / 2);
+  let [nx, ny] = dirOf(a + Math.PI / 2);
+  if (Math.abs(wrapAxialDeg(axisDeg)) <= 45 ? ny > 0 : nx > 0) { nx = -nx; ny = -ny; }
   const cx = (w - 1) / 2 + offsetPx * nx, cy = (h - 1) / 2 + offsetPx * ny;
   const line = (side: 1 | -1): Line => {
     const [dx, dy] = dirOf(a + (side * t) / 2);
