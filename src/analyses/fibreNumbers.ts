@@ -21,6 +21,21 @@ export interface FibreNumbersRequest {
   /** Optical path for the birefringence, um (default the diameter). */
   thicknessUm?: number;
   intrinsicBirefringence?: number;
+  /**
+   * Standard uncertainties (k = 1) of the inputs, each in the unit its value is given in (the linear density's
+   * and the tenacity's in theirs), and the diameter's degrees of freedom (`dofUm` of `retarda diameter`).
+   */
+  uncertainties?: {
+    diameterUm?: number;
+    diameterDof?: number;
+    densityGPerCm3?: number;
+    linearDensity?: number;
+    tenacity?: number;
+    strengthGPa?: number;
+    retardanceNm?: number;
+    thicknessUm?: number;
+    intrinsicBirefringence?: number;
+  };
 }
 
 export interface FibreNumbersResult extends FibreNumbers { schemaVersion: number; analysis: 'fibre' }
@@ -33,7 +48,8 @@ const N_PER_TEX_FROM: Record<TenacityUnit, (v: number) => number> = { 'N/tex': (
 /**
  * Linear density of the solid round fibre (tex = area um2 x density g/cm3 x 1e-3), dtex and denier; the
  * packing fraction (measured / solid tex); tenacity <-> strength (GPa = N/tex x g/cm3); birefringence
- * (retardance / thickness) and the orientation factor (birefringence / intrinsic birefringence). See fibreNumbers.
+ * (retardance / thickness) and the orientation factor (birefringence / intrinsic birefringence); 95 % intervals of
+ * those whose inputs carry standard uncertainties (law of propagation, GUM). See fibreNumbers.
  * @throws InputError for a missing or non-positive diameter or density, an unknown unit, or both tenacity and strength
  */
 export function fibreNumbersResult(o: FibreNumbersRequest): FibreNumbersResult {
@@ -46,9 +62,20 @@ export function fibreNumbersResult(o: FibreNumbersRequest): FibreNumbersResult {
   };
   const tex = o.linearDensity ? TEX_FROM[unitOf(TEX_FROM, o.linearDensity.unit, 'linear density')](o.linearDensity.value) : undefined;
   const tenacity = o.tenacity ? N_PER_TEX_FROM[unitOf(N_PER_TEX_FROM, o.tenacity.unit, 'tenacity')](o.tenacity.value) : undefined;
+  const u = o.uncertainties ?? {};
+  if (u.linearDensity !== undefined && !o.linearDensity) throw new InputError('an uncertainty of the linear density was given without the linear density');
+  if (u.tenacity !== undefined && !o.tenacity) throw new InputError('an uncertainty of the tenacity was given without the tenacity');
+  // The unit conversions are exact scale factors, so they apply to the uncertainties as to the values.
   const r = fibreNumbers({
     diameterUm: o.diameterUm, densityGPerCm3: o.densityGPerCm3, linearDensityTex: tex, tenacityNPerTex: tenacity,
     strengthGPa: o.strengthGPa, retardanceNm: o.retardanceNm, thicknessUm: o.thicknessUm, intrinsicBirefringence: o.intrinsicBirefringence,
+    uncertainties: {
+      diameterUm: u.diameterUm, diameterDof: u.diameterDof, densityGPerCm3: u.densityGPerCm3,
+      linearDensityTex: u.linearDensity === undefined || !o.linearDensity ? undefined : TEX_FROM[o.linearDensity.unit](u.linearDensity),
+      tenacityNPerTex: u.tenacity === undefined || !o.tenacity ? undefined : N_PER_TEX_FROM[o.tenacity.unit](u.tenacity),
+      strengthGPa: u.strengthGPa, retardanceNm: u.retardanceNm, thicknessUm: u.thicknessUm,
+      intrinsicBirefringence: u.intrinsicBirefringence,
+    },
   });
   return { schemaVersion: SCHEMA_VERSION, analysis: 'fibre', ...r };
 }

@@ -12,7 +12,8 @@ import type { DropReason, DroppedStation, MeasuredStation } from './stations.ts'
 import { unresolvedUpperBoundPx, RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';
 import type { BarPool } from './barPool.ts';
 import { stationStats } from './stats.ts';
-import { combineUncertainty, expandedInterval, normalQuantile, COVERAGE_PROBABILITY } from './uncertainty.ts';
+import { normalQuantile } from './erf.ts';
+import { combineUncertainty, expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
 
 export interface DiameterOptions {
   /** Distance between stations along the axis, px. Default 10. */

@@ -57,6 +57,18 @@ export function normalCdf(z: number): number {
   return z < -3 ? 0.5 * erfc(-z / Math.SQRT2) : 0.5 * (1 + erf(z / Math.SQRT2));
 }
 
+/** Standard normal quantile: the z with Phi(z) = p, by bisection on the accurate normalCdf. */
+export function normalQuantile(p: number): number {
+  let lo = -40;
+  let hi = 40;
+  for (let i = 0; i < 200 && hi - lo > 1e-15; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (normalCdf(mid) < p) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
 /** Table of Phi for the fast version: step 1/64 on [0, 8.5]; beyond, Phi is within 1e-17 of 1. */
 const TABLE_STEP = 1 / 64;
 const TABLE_END = 8.5;

@@ -2,7 +2,9 @@
 export { measureFibreDiameters, DIAMETER_DEFAULTS, DROP_REASON_TEXT } from './diameter.ts';
 export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
 export type { DropReason, DroppedStation } from './stations.ts';
-export { erf, erfc, normalCdf } from './erf.ts';
+export { erf, erfc, normalCdf, normalQuantile } from './erf.ts';
+export { combineUncertainty, coverageFactor, expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
+export type { UncertaintyPart, Combined, Interval } from './uncertainty.ts';
 export { fitErfEdge, fitBlurredBar, parabolaEdgeIndex } from './edgeFit.ts';
 export type { ErfEdgeFit, ErfEdgeStart, BlurredBarFit, BlurredBarStart } from './edgeFit.ts';
 export { RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';
@@ -12,5 +14,9 @@ export {
   roundAreaUm2, texFromArea, texFromDiameter, diameterUmFromTex, texToDtex, dtexToTex, texToDenier, denierToTex,
   packingFraction, gpaFromNPerTex, nPerTexFromGpa, cnPerDtexToNPerTex, nPerTexToCnPerDtex, gfPerDenToNPerTex,
   nPerTexToGfPerDen, birefringence, orientationFactor, vibroscopeLinearDensity, offNormalWidth, fibreNumbers,
+  powerLawInterval,
 } from './numbers.ts';
-export type { PackingFraction, OrientationFactor, VibroscopeResult, FibreNumbersInput, FibreNumbers } from './numbers.ts';
+export type {
+  PackingFraction, OrientationFactor, VibroscopeResult, FibreNumbersInput, FibreNumbers, FibreNumberUncertainties,
+  FibreNumberKey, FibreNumberInterval,
+} from './numbers.ts';

@@ -7,6 +7,7 @@
  * tex = rho * A * 1e-3 (A * 1e-8 cm^2 times 1e5 cm per km). Specific stress: 1 N/tex = 1 GPa / (g/cm^3).
  */
 import { InputError } from '../common/errors.ts';
+import { combineUncertainty, expandedInterval, type Interval } from './uncertainty.ts';
 
 /** Standard gravity (exact by definition, CGPM 1901), for gram-force. */
 const STANDARD_GRAVITY_M_PER_S2 = 9.80665;
@@ -181,6 +182,57 @@ export interface FibreNumbersInput {
   /** Optical path for the birefringence; default the diameter. */
   thicknessUm?: number;
   intrinsicBirefringence?: number;
+  /** Standard uncertainties (k = 1) of the inputs, in the inputs' units; see FibreNumberUncertainties. */
+  uncertainties?: FibreNumberUncertainties;
+}
+
+/**
+ * Standard uncertainties (k = 1) of the calculator's inputs, each in the unit of its input, with the
+ * diameter's effective degrees of freedom (from `retarda diameter`: `dofUm`; infinite when not given).
+ */
+export interface FibreNumberUncertainties {
+  diameterUm?: number;
+  diameterDof?: number;
+  densityGPerCm3?: number;
+  linearDensityTex?: number;
+  tenacityNPerTex?: number;
+  strengthGPa?: number;
+  retardanceNm?: number;
+  thicknessUm?: number;
+  intrinsicBirefringence?: number;
+}
+
+/** The numbers that can carry an interval. */
+export type FibreNumberKey = 'areaUm2' | 'solidTex' | 'solidDtex' | 'solidDenier' | 'packingFraction' | 'tenacityNPerTex'
+  | 'tenacityCnPerDtex' | 'tenacityGfPerDen' | 'strengthGPa' | 'birefringence' | 'orientationFactor';
+
+/** A number's 95 % interval and the inputs whose uncertainties made it. */
+export interface FibreNumberInterval extends Interval {
+  from: (keyof FibreNumberUncertainties)[];
+}
+
+/** One input of a product of powers y = K x1^a1 x2^a2 ...: its exponent, value, standard uncertainty and dof. */
+interface PowerInput {
+  name: keyof FibreNumberUncertainties;
+  exponent: number;
+  value: number;
+  u: number | undefined;
+  dof?: number;
+}
+
+/**
+ * Interval of y = K prod x_i^a_i by the law of propagation for independent inputs (GUM, JCGM 100:2008,
+ * 5.1.6: relative uncertainties of a product of powers add in quadrature with weights a_i):
+ * u(y)/y = sqrt(sum (a_i u(x_i)/x_i)^2), dof by Welch-Satterthwaite, k = t(0.975, dof). Null when no input
+ * has an uncertainty. docs/methods.md, "Fibre numbers: uncertainty".
+ */
+export function powerLawInterval(y: number, inputs: PowerInput[]): FibreNumberInterval | null {
+  const given = inputs.filter((x) => x.u !== undefined && x.u > 0);
+  if (given.length === 0) return null;
+  const c = combineUncertainty(given.map((x) => ({
+    u: Math.abs((y * x.exponent * (x.u as number)) / x.value), dof: x.dof ?? Infinity,
+  })));
+  return { ...expandedInterval(y, c), from: given.map((x) => x.name) };
 }
 
 export interface FibreNumbers {
@@ -204,6 +256,8 @@ export interface FibreNumbers {
   birefringence: number | null;
   intrinsicBirefringence: number | null;
   orientationFactor: number | null;
+  /** 95 % intervals of the numbers whose inputs carry a standard uncertainty (absent otherwise). */
+  intervals: Partial<Record<FibreNumberKey, FibreNumberInterval>>;
   warnings: string[];
 }
 
@@ -251,6 +305,7 @@ export function fibreNumbers(input: FibreNumbersInput): FibreNumbers {
   } else if (input.intrinsicBirefringence !== undefined) {
     warnings.push('intrinsic birefringence given without a retardance: no orientation factor computed');
   }
+  const intervals = numberIntervals(input, { areaUm2, solidTex, packingFraction: pf, tenacity, strength, dn, thickness, f });
   return {
     diameterUm, densityGPerCm3, areaUm2, solidTex, solidDtex: texToDtex(solidTex), solidDenier: texToDenier(solidTex),
     linearDensityTex: measured, linearDensityDtex: measured === null ? null : texToDtex(measured),
@@ -258,6 +313,73 @@ export function fibreNumbers(input: FibreNumbersInput): FibreNumbers {
     tenacityNPerTex: tenacity, tenacityCnPerDtex: tenacity === null ? null : nPerTexToCnPerDtex(tenacity),
     tenacityGfPerDen: tenacity === null ? null : nPerTexToGfPerDen(tenacity), strengthGPa: strength,
     retardanceNm: input.retardanceNm ?? null, thicknessUm: thickness, birefringence: dn,
-    intrinsicBirefringence: input.intrinsicBirefringence ?? null, orientationFactor: f, warnings,
+    intrinsicBirefringence: input.intrinsicBirefringence ?? null, orientationFactor: f, intervals, warnings,
   };
+}
+
+const checkUncertainty = (name: string, u: number | undefined) => {
+  if (u !== undefined && !(Number.isFinite(u) && u >= 0)) {
+    throw new InputError(`the uncertainty of the ${name} must be a number >= 0, got ${String(u)}`,
+      'Give a standard uncertainty (k = 1) in the unit of the value');
+  }
+  return u;
+};
+
+/**
+ * The intervals of every number whose inputs carry an uncertainty (see powerLawInterval): area ~ D^2,
+ * solid tex ~ rho D^2, packing fraction ~ T rho^-1 D^-2, stress = tenacity rho (or tenacity = stress / rho),
+ * birefringence = retardance / thickness (thickness = D unless given), orientation factor = that / Delta n0.
+ */
+function numberIntervals(input: FibreNumbersInput, v: {
+  areaUm2: number; solidTex: number; packingFraction: number | null; tenacity: number | null; strength: number | null;
+  dn: number | null; thickness: number | null; f: number | null;
+}): Partial<Record<FibreNumberKey, FibreNumberInterval>> {
+  const u = input.uncertainties ?? {};
+  for (const [k, val] of Object.entries(u)) if (k !== 'diameterDof') checkUncertainty(k, val);
+  if (u.diameterDof !== undefined && !(u.diameterDof >= 1)) {
+    throw new InputError(`the diameter's degrees of freedom must be at least 1, got ${String(u.diameterDof)}`);
+  }
+  const D: PowerInput = { name: 'diameterUm', exponent: 2, value: input.diameterUm, u: u.diameterUm, dof: u.diameterDof };
+  const rho = (exponent: number): PowerInput => ({ name: 'densityGPerCm3', exponent, value: input.densityGPerCm3, u: u.densityGPerCm3 });
+  const out: Partial<Record<FibreNumberKey, FibreNumberInterval>> = {};
+  const put = (key: FibreNumberKey, iv: FibreNumberInterval | null) => { if (iv) out[key] = iv; };
+  const scaled = (iv: FibreNumberInterval | null, factor: number): FibreNumberInterval | null => iv && {
+    ...iv, u: iv.u * factor, ciLow: iv.ciLow * factor, ciHigh: iv.ciHigh * factor,
+  };
+  put('areaUm2', powerLawInterval(v.areaUm2, [D]));
+  const tex = powerLawInterval(v.solidTex, [D, rho(1)]);
+  put('solidTex', tex);
+  put('solidDtex', scaled(tex, 10));
+  put('solidDenier', scaled(tex, 9));
+  if (v.packingFraction !== null && input.linearDensityTex !== undefined) {
+    put('packingFraction', powerLawInterval(v.packingFraction, [
+      { name: 'linearDensityTex', exponent: 1, value: input.linearDensityTex, u: u.linearDensityTex },
+      { ...D, exponent: -2 }, rho(-1)]));
+  }
+  if (v.tenacity !== null && v.strength !== null) {
+    const fromTenacity = input.tenacityNPerTex !== undefined;
+    const given: PowerInput = fromTenacity
+      ? { name: 'tenacityNPerTex', exponent: 1, value: v.tenacity, u: u.tenacityNPerTex }
+      : { name: 'strengthGPa', exponent: 1, value: v.strength, u: u.strengthGPa };
+    const ten = powerLawInterval(v.tenacity, fromTenacity ? [given] : [given, rho(-1)]);
+    put('tenacityNPerTex', ten);
+    put('tenacityCnPerDtex', scaled(ten, nPerTexToCnPerDtex(1)));
+    put('tenacityGfPerDen', scaled(ten, nPerTexToGfPerDen(1)));
+    put('strengthGPa', powerLawInterval(v.strength, fromTenacity ? [given, rho(1)] : [given]));
+  }
+  if (v.dn !== null && v.thickness !== null && input.retardanceNm !== undefined) {
+    const path: PowerInput = input.thicknessUm !== undefined
+      ? { name: 'thicknessUm', exponent: -1, value: v.thickness, u: u.thicknessUm }
+      : { ...D, exponent: -1 };
+    const R: PowerInput = { name: 'retardanceNm', exponent: 1, value: input.retardanceNm, u: u.retardanceNm };
+    if (input.retardanceNm > 0) {
+      put('birefringence', powerLawInterval(v.dn, [R, path]));
+      if (v.f !== null && input.intrinsicBirefringence !== undefined) {
+        put('orientationFactor', powerLawInterval(v.f, [R, path, {
+          name: 'intrinsicBirefringence', exponent: -1, value: Math.abs(input.intrinsicBirefringence), u: u.intrinsicBirefringence,
+        }]));
+      }
+    }
+  }
+  return out;
 }

@@ -5,7 +5,7 @@
  * effective degrees of freedom by the Welch-Satterthwaite formula (GUM G.4.1), and the expanded 95 %
  * interval y +- k u_c with k = t(0.975, nu_eff) (GUM G.3 and G.4).
  */
-import { normalCdf } from './erf.ts';
+import { normalQuantile } from './erf.ts';
 import { studentTQuantile } from './stats.ts';
 
 /** The level of every interval this folder states. */
@@ -39,18 +39,6 @@ export function combineUncertainty(parts: UncertaintyPart[]): Combined {
   }
   const u = Math.sqrt(sum2);
   return { u, dof: denominator > 0 ? sum2 * sum2 / denominator : Infinity };
-}
-
-/** Standard normal quantile, by bisection on the accurate normal distribution function. */
-export function normalQuantile(p: number): number {
-  let lo = -40;
-  let hi = 40;
-  for (let i = 0; i < 200 && hi - lo > 1e-15; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (normalCdf(mid) < p) lo = mid;
-    else hi = mid;
-  }
-  return 0.5 * (lo + hi);
 }
 
 /**

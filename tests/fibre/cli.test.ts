@@ -38,6 +38,38 @@ describe('retarda diameter', () => {
     expect(out.csvRows?.[0].meanUm).toBe(d.meanUm);
   });
 
+  it('carries the pixel size\'s uncertainty into the um interval (--um-per-px-uncertainty)', async () => {
+    const d = (await run(diameterCommand, [one, '--um-per-px', '0.5', '--um-per-px-uncertainty', '0.01', '--json'])).json as Doc;
+    expect(d.pixelSizeUncertainty).toBe(0.01);
+    // GUM law of propagation (independent inputs): u(D_um)^2 = (0.5 u(D_px))^2 + (D_um 0.01)^2
+    const uPx = d.uPx as number;
+    const meanUm = d.meanUm as number;
+    expect(d.uUmPixelSize as number).toBeCloseTo(0.01 * meanUm, 12);
+    expect(d.uUm as number).toBeCloseTo(Math.hypot(0.5 * uPx, 0.01 * meanUm), 12);
+    expect(d.ciLowUm as number).toBeLessThan(meanUm);
+    expect(d.ciHighUm as number).toBeGreaterThan(meanUm);
+    expect(d.warnings as string[]).toEqual([]);
+    await expect(run(diameterCommand, [one, '--um-per-px', '0.5', '--um-per-px-uncertainty', '-1'])).rejects.toThrow(/um-per-px-uncertainty/);
+    await expect(run(diameterCommand, [one, '--um-per-px-uncertainty', '0.01'])).rejects.toThrow(/without a pixel size/);
+  });
+
+  it('says "not determined" with an upper bound for a fibre narrower than two blur widths', async () => {
+    // 2.5 px wide, blurred by sigma 2 px: below 2 sigma the width and the contrast trade off (construction).
+    const thin = writePng16(dir, 'thin.png', renderFibres({ width: 200, height: 160, noiseSd: 0.002,
+      fibres: [{ cx: 100, cy: 80, angleDeg: 20, widthPx: 2.5, contrast: -0.5, sigmaPx: 2 }] }));
+    const out = await run(diameterCommand, [thin, '--um-per-px', '0.65', '--json']);
+    const d = out.json as Doc;
+    expect(d.meanPx).toBeNull();
+    expect(d.determined).toBe(false);
+    expect(d.upperBoundPx as number).toBeGreaterThanOrEqual(2.5);
+    expect(d.upperBoundUm as number).toBeCloseTo((d.upperBoundPx as number) * 0.65, 9);
+    expect(d.fibres).toHaveLength(1);
+    expect(d.fibres[0].droppedByReason).toMatchObject({ unresolved: expect.any(Number) });
+    expect(out.warnings?.join(' ')).toMatch(/width not determined.*higher magnification/);
+    const table = (await run(diameterCommand, [thin, '--um-per-px', '0.65'])).table as string;
+    expect(table).toMatch(/at most um/);
+  });
+
   it('leaves the um fields null with a warning when there is no pixel size', async () => {
     const out = await run(diameterCommand, [one, '--json']);
     const d = out.json as Doc;
@@ -105,6 +137,18 @@ describe('retarda fibre', () => {
     expect(d.birefringence).toBeCloseTo(0.1, 12); // 1200 nm / 12 um (definition)
     expect(d.orientationFactor).toBeCloseTo(0.5, 12);
   });
+  it('gives 95 % intervals from the inputs\' standard uncertainties', async () => {
+    const out = await run(fibreCommand, ['--diameter-um', '10', '--diameter-uncertainty-um', '0.1', '--density', '1.38',
+      '--density-uncertainty', '0.01', '--json']);
+    const d = out.json as { solidTex: number; intervals: Record<string, { u: number; ciLow: number; ciHigh: number }> };
+    // tex ~ rho D^2 (law of propagation): u(tex)/tex = sqrt((2 x 0.01)^2 + (0.01/1.38)^2)
+    expect(d.intervals.solidTex.u / d.solidTex).toBeCloseTo(Math.hypot(0.02, 0.01 / 1.38), 12);
+    expect(out.table).toMatch(/solid tex .*95 % interval/);
+    expect(out.csvRows?.[0].solidTexCiLow).toBe(d.intervals.solidTex.ciLow);
+    await expect(run(fibreCommand, ['--diameter-um', '7', '--density', '1.8', '--tenacity-uncertainty', '0.1'])).rejects.toThrow(/tenacity/);
+    await expect(run(fibreCommand, ['--diameter-um', '7', '--density', '1.8', '--diameter-uncertainty-um', '-1'])).rejects.toThrow(/uncertainty/);
+  });
+
   it('warns on a packing fraction above 1 and refuses nonsense', async () => {
     const out = await run(fibreCommand, ['--diameter-um', '7', '--density', '1.8', '--linear-density-tex', '0.1']);
     expect(out.warnings?.join(' ')).toMatch(/above 1/);

@@ -2,8 +2,10 @@ import { describe, expect, it } from 'vitest';
 import {
   birefringence, cnPerDtexToNPerTex, denierToTex, diameterUmFromTex, dtexToTex, fibreNumbers, gfPerDenToNPerTex,
   gpaFromNPerTex, nPerTexFromGpa, nPerTexToGfPerDen, offNormalWidth, orientationFactor, packingFraction, roundAreaUm2,
-  texFromDiameter, texToDenier, texToDtex, vibroscopeLinearDensity,
+  studentTQuantile, texFromDiameter, texToDenier, texToDtex, vibroscopeLinearDensity,
 } from '../../src/fibre/index.ts';
+import { judgeCoverage, type IntervalSample } from '../validation/fibre.ts';
+import { gaussianNoise } from './render.ts';
 
 describe('linear-density units', () => {
   it('follow the definitions tex = g/km, dtex = g/10 km, denier = g/9 km', () => {
@@ -120,5 +122,84 @@ describe('fibreNumbers (the record behind `retarda fibre`)', () => {
     expect(() => orientationFactor(0.1, 0)).toThrow(/intrinsic/);
     expect(() => vibroscopeLinearDensity(1e-3, 0, 2000)).toThrow(/length/);
     expect(() => offNormalWidth(20, 90)).toThrow(/angle/);
+  });
+});
+
+describe('intervals of the fibre numbers (law of propagation, GUM JCGM 100:2008 5.1.6 and G.2b)', () => {
+  // scipy.stats.norm.ppf(0.975) = 1.959963984540054 (the coverage factor for infinite degrees of freedom)
+  const K_NORMAL = 1.959963984540054;
+
+  it('tex ~ rho D^2: the diameter\'s relative uncertainty counts twice, the density\'s once', () => {
+    const r = fibreNumbers({ diameterUm: 10, densityGPerCm3: 1.38, uncertainties: { diameterUm: 0.1, densityGPerCm3: 0.01 } });
+    // Closed form: u(tex)/tex = sqrt((2 x 0.1/10)^2 + (0.01/1.38)^2)
+    const rel = Math.hypot(2 * 0.01, 0.01 / 1.38);
+    const tex = r.intervals.solidTex!;
+    expect(tex.u / r.solidTex).toBeCloseTo(rel, 12);
+    expect(tex.k).toBeCloseTo(K_NORMAL, 9);
+    expect(tex.ciHigh - r.solidTex).toBeCloseTo(K_NORMAL * rel * r.solidTex, 12);
+    expect(tex.from).toEqual(['diameterUm', 'densityGPerCm3']);
+    // dtex and denier are exact multiples (10 and 9), and so are their intervals.
+    expect(r.intervals.solidDtex!.ciLow).toBeCloseTo(10 * tex.ciLow, 12);
+    expect(r.intervals.solidDenier!.ciHigh).toBeCloseTo(9 * tex.ciHigh, 12);
+    // The area depends on the diameter only: u(A)/A = 2 u(D)/D.
+    expect(r.intervals.areaUm2!.u / r.areaUm2).toBeCloseTo(0.02, 12);
+  });
+
+  it('takes the diameter\'s degrees of freedom into the coverage factor (Welch-Satterthwaite)', () => {
+    const r = fibreNumbers({ diameterUm: 10, densityGPerCm3: 1.38,
+      uncertainties: { diameterUm: 0.1, diameterDof: 5, densityGPerCm3: 0.01 } });
+    const tex = r.intervals.solidTex!;
+    // nu_eff = u_c^4 / (u_D-part^4 / 5 + u_rho-part^4 / infinity), parts relative to tex (closed form)
+    const dPart = 2 * 0.01;
+    const rhoPart = 0.01 / 1.38;
+    const nu = (dPart ** 2 + rhoPart ** 2) ** 2 / (dPart ** 4 / 5);
+    expect(tex.dof).toBeCloseTo(nu, 9);
+    expect(tex.k).toBeCloseTo(studentTQuantile(0.975, nu), 9);
+    expect(tex.k).toBeGreaterThan(K_NORMAL);
+  });
+
+  it('packing fraction ~ T rho^-1 D^-2, stress = tenacity x rho, birefringence = R / D', () => {
+    const r = fibreNumbers({ diameterUm: 8, densityGPerCm3: 1.5, linearDensityTex: 0.06, tenacityNPerTex: 2, retardanceNm: 400,
+      intrinsicBirefringence: 0.2,
+      uncertainties: { diameterUm: 0.08, densityGPerCm3: 0.03, linearDensityTex: 0.0006, tenacityNPerTex: 0.1, retardanceNm: 8 } });
+    expect(r.intervals.packingFraction!.u / r.packingFraction!).toBeCloseTo(Math.hypot(0.01, 2 * 0.01, 0.02), 12);
+    expect(r.intervals.strengthGPa!.u / r.strengthGPa!).toBeCloseTo(Math.hypot(0.05, 0.02), 12);
+    // The tenacity was given: its interval is its own.
+    expect(r.intervals.tenacityNPerTex!.u).toBeCloseTo(0.1, 12);
+    expect(r.intervals.tenacityCnPerDtex!.u).toBeCloseTo(1, 12);
+    // The optical path is the diameter (not given): u(dn)/dn = sqrt((u(R)/R)^2 + (u(D)/D)^2).
+    expect(r.intervals.birefringence!.u / r.birefringence!).toBeCloseTo(Math.hypot(0.02, 0.01), 12);
+    // No uncertainty given for the intrinsic birefringence: the orientation factor carries R's and D's only.
+    expect(r.intervals.orientationFactor!.from).toEqual(['retardanceNm', 'diameterUm']);
+  });
+
+  it('gives no interval where no input carries an uncertainty, and refuses a negative one', () => {
+    expect(fibreNumbers({ diameterUm: 7, densityGPerCm3: 1.8 }).intervals).toEqual({});
+    expect(() => fibreNumbers({ diameterUm: 7, densityGPerCm3: 1.8, uncertainties: { diameterUm: -0.1 } })).toThrow(/uncertainty/);
+  });
+
+  it('covers the true tex at its stated rate over 2000 seeded measurements (and 20 % narrower or wider would not)', () => {
+    // Each trial: a diameter measured with noise whose standard uncertainty is itself estimated from 7 values
+    // (6 degrees of freedom, as a type A uncertainty is), and a density with a known uncertainty. Truth by construction.
+    const g = gaussianNoise(2024);
+    const samples: IntervalSample[] = [];
+    const trueD = 8;
+    const trueRho = 1.38;
+    const trueTex = (trueRho * Math.PI * trueD * trueD) / 4 * 1e-3;
+    for (let t = 0; t < 2000; t++) {
+      const sdD = 0.12;
+      let chi2 = 0;
+      for (let k = 0; k < 6; k++) chi2 += g() ** 2;
+      const r = fibreNumbers({ diameterUm: trueD + sdD * g(), densityGPerCm3: trueRho + 0.01 * g(),
+        uncertainties: { diameterUm: sdD * Math.sqrt(chi2 / 6), diameterDof: 6, densityGPerCm3: 0.01 } });
+      const iv = r.intervals.solidTex!;
+      samples.push({ estimate: r.solidTex, u: iv.u, dof: iv.dof, half: iv.ciHigh - r.solidTex, truth: trueTex });
+    }
+    const j = judgeCoverage(samples);
+    expect(j.coveragePct).toBeGreaterThanOrEqual(93);
+    expect(j.coveragePct).toBeLessThanOrEqual(97);
+    expect(j.pass).toBe(true);
+    expect(judgeCoverage(samples, 0.8).pass).toBe(false);
+    expect(judgeCoverage(samples, 1.2).pass).toBe(false);
   });
 });

@@ -11,6 +11,7 @@ const only = process.argv.find((a) => a.startsWith('--area='))?.slice(7);
 // Each area registers here; the modules are loaded lazily so one area's failure to load is reported, not fatal.
 const areas: Record<string, () => Promise<{ default: ValidationArea }>> = {
   'channel': () => import('./channel.ts'),
+  'fibre': () => import('./fibre.ts'),
 };
 
 const rows: ValidationRow[] = [];

@@ -2,7 +2,8 @@ import { fibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '.
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
-import { formatPairs } from '../format.ts';
+import { formatCell, formatPairs } from '../format.ts';
+import type { FibreNumberKey } from '../../fibre/index.ts';
 
 /** At most one of several spellings of the same quantity, with the unit it was given in. */
 function oneOf<U extends string>(a: ParsedArgs, what: string, choices: [string, U][]): { value: number; unit: U } | undefined {
@@ -18,7 +19,7 @@ function oneOf<U extends string>(a: ParsedArgs, what: string, choices: [string, 
 export const fibreCommand: Command = {
   name: 'fibre',
   summary: 'fibre numbers: linear density, packing fraction, specific stress, birefringence, orientation factor',
-  usage: '--diameter-um D --density G [--linear-density-tex T] [--tenacity-n-per-tex S] [--retardance-nm R] [--json]',
+  usage: '--diameter-um D [--diameter-uncertainty-um U] --density G [--linear-density-tex T] [--tenacity-n-per-tex S] [--retardance-nm R] [--json]',
   options: [
     { name: 'diameter-um', kind: 'number', help: 'fibre diameter, um' },
     { name: 'density', kind: 'number', help: 'density of the solid material, g/cm3' },
@@ -32,6 +33,16 @@ export const fibreCommand: Command = {
     { name: 'retardance-nm', kind: 'number', help: 'retardance through the fibre, nm (for the birefringence)' },
     { name: 'thickness-um', kind: 'number', help: 'optical path for the birefringence, um', defaultText: 'the diameter' },
     { name: 'intrinsic-birefringence', kind: 'number', help: 'birefringence of perfectly aligned material (orientation factor)' },
+    // Standard uncertainties (k = 1), each in its value's unit: they give the 95 % intervals (law of propagation, GUM).
+    { name: 'diameter-uncertainty-um', kind: 'number', help: 'standard uncertainty (k = 1) of the diameter, um (`uUm` of `diameter`)' },
+    { name: 'diameter-dof', kind: 'number', help: 'degrees of freedom of that uncertainty (`dofUm` of `diameter`)', defaultText: 'infinite' },
+    { name: 'density-uncertainty', kind: 'number', help: 'standard uncertainty of the density, g/cm3' },
+    { name: 'linear-density-uncertainty', kind: 'number', help: 'standard uncertainty of the linear density, in its unit' },
+    { name: 'tenacity-uncertainty', kind: 'number', help: 'standard uncertainty of the tenacity, in its unit' },
+    { name: 'strength-uncertainty-gpa', kind: 'number', help: 'standard uncertainty of the stress, GPa' },
+    { name: 'retardance-uncertainty-nm', kind: 'number', help: 'standard uncertainty of the retardance, nm' },
+    { name: 'thickness-uncertainty-um', kind: 'number', help: 'standard uncertainty of the optical path, um' },
+    { name: 'intrinsic-birefringence-uncertainty', kind: 'number', help: 'standard uncertainty of the intrinsic birefringence' },
   ],
   async run(a) {
     if (a.positionals.length > 0) {
@@ -48,22 +59,38 @@ export const fibreCommand: Command = {
       tenacity: oneOf<TenacityUnit>(a, 'tenacity', [['tenacity-n-per-tex', 'N/tex'], ['tenacity-cn-per-dtex', 'cN/dtex'], ['tenacity-gf-per-den', 'gf/den']]),
       strengthGPa: numberOpt(a, 'strength-gpa'), retardanceNm: numberOpt(a, 'retardance-nm'),
       thicknessUm: numberOpt(a, 'thickness-um'), intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence'),
+      uncertainties: {
+        diameterUm: numberOpt(a, 'diameter-uncertainty-um'), diameterDof: numberOpt(a, 'diameter-dof'),
+        densityGPerCm3: numberOpt(a, 'density-uncertainty'), linearDensity: numberOpt(a, 'linear-density-uncertainty'),
+        tenacity: numberOpt(a, 'tenacity-uncertainty'), strengthGPa: numberOpt(a, 'strength-uncertainty-gpa'),
+        retardanceNm: numberOpt(a, 'retardance-uncertainty-nm'), thicknessUm: numberOpt(a, 'thickness-uncertainty-um'),
+        intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence-uncertainty'),
+      },
     });
-    // The CSV row holds the numbers only, as before the document gained its head.
-    const { schemaVersion: _version, analysis: _analysis, ...numbers } = r;
+    // The CSV row holds the numbers only, as before the document gained its head; each interval as two columns.
+    const { schemaVersion: _version, analysis: _analysis, intervals, ...numbers } = r;
     void _version; void _analysis;
-    const pairs: [string, number | null][] = [
-      ['diameter um', r.diameterUm], ['density g/cm3', r.densityGPerCm3], ['area um2', r.areaUm2],
-      ['solid tex', r.solidTex], ['solid dtex', r.solidDtex], ['solid denier', r.solidDenier],
-      ['measured tex', r.linearDensityTex], ['packing fraction', r.packingFraction],
-      ['tenacity N/tex', r.tenacityNPerTex], ['tenacity cN/dtex', r.tenacityCnPerDtex],
-      ['tenacity gf/den', r.tenacityGfPerDen], ['strength GPa', r.strengthGPa], ['birefringence', r.birefringence],
-      ['orientation factor', r.orientationFactor],
+    const intervalColumns: Record<string, number> = {};
+    for (const [key, iv] of Object.entries(intervals)) {
+      intervalColumns[`${key}CiLow`] = iv.ciLow;
+      intervalColumns[`${key}CiHigh`] = iv.ciHigh;
+    }
+    const rows: [string, FibreNumberKey | null, number | null][] = [
+      ['diameter um', null, r.diameterUm], ['density g/cm3', null, r.densityGPerCm3], ['area um2', 'areaUm2', r.areaUm2],
+      ['solid tex', 'solidTex', r.solidTex], ['solid dtex', 'solidDtex', r.solidDtex], ['solid denier', 'solidDenier', r.solidDenier],
+      ['measured tex', null, r.linearDensityTex], ['packing fraction', 'packingFraction', r.packingFraction],
+      ['tenacity N/tex', 'tenacityNPerTex', r.tenacityNPerTex], ['tenacity cN/dtex', 'tenacityCnPerDtex', r.tenacityCnPerDtex],
+      ['tenacity gf/den', 'tenacityGfPerDen', r.tenacityGfPerDen], ['strength GPa', 'strengthGPa', r.strengthGPa],
+      ['birefringence', 'birefringence', r.birefringence], ['orientation factor', 'orientationFactor', r.orientationFactor],
     ];
+    const withInterval = (key: FibreNumberKey | null, v: number) => {
+      const iv = key ? intervals[key] : undefined;
+      return iv ? `${formatCell(v)}  (95 % interval ${formatCell(iv.ciLow)} - ${formatCell(iv.ciHigh)})` : v;
+    };
     return {
       json: r,
-      table: formatPairs(pairs.filter(([, v]) => v !== null)),
-      csvRows: [{ ...numbers, warnings: r.warnings.join('; ') }],
+      table: formatPairs(rows.filter(([, , v]) => v !== null).map(([label, key, v]) => [label, withInterval(key, v as number)])),
+      csvRows: [{ ...numbers, ...intervalColumns, warnings: r.warnings.join('; ') }],
       warnings: r.warnings,
     };
   },

@@ -226,19 +226,25 @@ export function idealImage(scene: ValidationScene): Float64Array {
   return out;
 }
 
-/** The image as a camera would record it, read back as a decoder gives it (codes / largest code). */
-export function renderScene(scene: ValidationScene): Plane {
+/** The camera's integer codes (8 or 16 bit), row-major: what an image file of this scene holds. */
+export function renderCodes(scene: ValidationScene): Uint8Array | Uint16Array {
   const ideal = idealImage(scene);
   const maxCode = scene.bits === 8 ? 255 : 65535;
   const gauss = normalStream(scene.seed);
   const read = scene.readNoise ?? 0;
   const shot = scene.shotNoise ?? 0;
-  const data = new Float32Array(ideal.length);
+  const codes = scene.bits === 8 ? new Uint8Array(ideal.length) : new Uint16Array(ideal.length);
   for (let i = 0; i < ideal.length; i++) {
     const level = ideal[i];
     const sd = Math.sqrt(read * read + shot * shot * Math.max(level, 0));
-    const code = Math.round((level + sd * gauss()) * maxCode);
-    data[i] = Math.min(maxCode, Math.max(0, code)) / maxCode;
+    codes[i] = Math.min(maxCode, Math.max(0, Math.round((level + sd * gauss()) * maxCode)));
   }
-  return { width: scene.width, height: scene.height, data };
+  return codes;
+}
+
+/** The image as a decoder gives it: codes / largest code (255 or 65535). */
+export function renderScene(scene: ValidationScene): Plane {
+  const codes = renderCodes(scene);
+  const maxCode = scene.bits === 8 ? 255 : 65535;
+  return { width: scene.width, height: scene.height, data: Float32Array.from(codes, (c) => c / maxCode) };
 }
