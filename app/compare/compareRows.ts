@@ -6,7 +6,7 @@
 import type { ProfileResult } from '../../src/analyses/index.ts';
 import { toCsv, type CsvValue } from '../../src/report/csv.ts';
 import type { SessionRecord } from '../storage/records.ts';
-import { umPerPxText } from '../setups/calibration.ts';
+import { isMeasured, umPerPxText } from '../setups/calibration.ts';
 
 export interface CompareRow {
   /** sessionId/imageId: unique across sessions. */
@@ -81,7 +81,7 @@ function sortValue(r: CompareRow, c: SortColumn): string | number | null {
 export const hasDiameterIn = (rows: CompareRow[], unit: 'um' | 'px') => rows.some((r) => r.diameterUnit === unit);
 
 /** The pixel size under a um diameter: "at 0.65 µm/px (micrometer image ruler.png)". */
-export const pixelSizeNote = (r: CompareRow) => (r.pixelSizeUmPerPx !== null ? `at ${umPerPxText(r.pixelSizeUmPerPx)} µm/px (${r.pixelSizeFrom})` : '');
+export const pixelSizeNote = (r: CompareRow) => (r.pixelSizeUmPerPx !== null ? `at ${umPerPxText(r.pixelSizeUmPerPx, isMeasured(r.pixelSizeFrom ?? ''))} µm/px (${r.pixelSizeFrom})` : '');
 export interface SortOrder { column: SortColumn; descending: boolean }
 
 /**

@@ -8,7 +8,7 @@ import { useImperativeHandle, useMemo, useRef, useState, type Ref } from 'react'
 import { flushSync } from 'react-dom';
 import { OpticalPanel, type OpticalField, type OpticalPanelHandle, type PanelContext, type PanelHandle } from './OpticalPanel.tsx';
 import type { Remedy } from './NotDetermined.tsx';
-import { calibrationWords, umPerPxText, type Calibration } from '../setups/calibration.ts';
+import { calibrationWords, isMeasured, umPerPxText, type Calibration } from '../setups/calibration.ts';
 import { DiameterPanel, FibreNumbersPanel, MicrometerPanel } from './FibrePanels.tsx';
 import type { Mark } from './Viewer.tsx';
 import type { DiameterDocument } from '../../src/analyses/index.ts';
@@ -90,8 +90,8 @@ export function MoreAnalyses({ ctx, work, pixelSize, calibration, opticalMapShow
       <div hidden={tab !== 'diameter'}>
         <p className="note calibration-line" data-testid="diameter-calibration">Lengths: {calibrationWords(calibration)}.</p>
         {diameterOutdated && (
-          <p className="note warn" data-testid="diameter-outdated">The diameters below were measured {keptPx === null ? 'in px, without a pixel size' : `with ${umPerPxText(keptPx)} µm/px`}; the
-            session now uses {calibration.umPerPx === null ? 'none' : `${umPerPxText(calibration.umPerPx)} µm/px`}. Measure again to have them in the session's calibration.</p>
+          <p className="note warn" data-testid="diameter-outdated">The diameters below were measured {keptPx === null ? 'in px, without a pixel size' : `with ${umPerPxText(keptPx, isMeasured(diameterRun?.pixelSizeFrom ?? ''))} µm/px`}; the
+            session now uses {calibration.umPerPx === null ? 'none' : `${umPerPxText(calibration.umPerPx, calibration.origin === 'micrometer')} µm/px`}. Measure again to have them in the session's calibration.</p>
         )}
         <DiameterPanel handle={panels.diameter} ctx={ctx} pixelSize={lengthsPixelSize} stored={diameterStored} onMarks={onMarks}
           onResult={(id, d, run) => {

@@ -8,7 +8,7 @@ import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { SessionRecord, StoredDiameterRun } from '../storage/records.ts';
 import { setupCommandOptions, setupSummary } from '../setups/setup.ts';
-import { calibrationOf, calibrationWords, umPerPxText } from '../setups/calibration.ts';
+import { calibrationOf, calibrationWords, isMeasured, umPerPxText } from '../setups/calibration.ts';
 import { orientCommandLine, profileCommandLine, wallsText } from './rows.ts';
 
 export interface ReportNumber {
@@ -99,7 +99,7 @@ function diameterSection(d: DiameterDocument, run: StoredDiameterRun | null, nam
     }],
     settings: [
       `${d.fibres.length} fibre(s), ${d.dropped} station(s) dropped`,
-      `pixel size ${d.pixelSizeUmPerPx ? `${umPerPxText(d.pixelSizeUmPerPx)} µm/px from the ${run?.pixelSizeFrom ?? (d.pixelSizeFrom === 'option' ? 'value given' : "file's resolution tags")}` : 'unknown: lengths in px'}`,
+      `pixel size ${d.pixelSizeUmPerPx ? `${umPerPxText(d.pixelSizeUmPerPx, isMeasured(run?.pixelSizeFrom ?? ''))} µm/px from the ${run?.pixelSizeFrom ?? (d.pixelSizeFrom === 'option' ? 'value given' : "file's resolution tags")}` : 'unknown: lengths in px'}`,
       d.interval,
     ],
     commandLine: args.join(' '),

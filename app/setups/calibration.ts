@@ -24,8 +24,14 @@ export interface Calibration {
 
 const NONE: Calibration = { umPerPx: null, origin: 'none', from: '' };
 
-/** A pixel size as every screen prints it: 5 significant digits, trailing zeros dropped. */
-export const umPerPxText = (v: number) => String(Number(v.toPrecision(5)));
+/**
+ * A pixel size as every screen prints it, to 5 significant digits: a measured one (micrometer) with all five, as
+ * the micrometer panel prints it; one typed or worked out from the optics as given (trailing zeros dropped).
+ */
+export const umPerPxText = (v: number, measured = false) => (measured ? v.toPrecision(5) : String(Number(v.toPrecision(5))));
+
+/** Whether words saying where a pixel size came from name a micrometer measurement. */
+export const isMeasured = (from: string) => /micrometer/.test(from);
 
 /** The micrometer panel keeps `micrometer NAME`; shown as "micrometer image NAME". */
 function micrometerWords(from: string): string {
@@ -64,7 +70,7 @@ export function calibrationOf(session: { setup: AppliedSetup | null; pixelSize?:
 
 /** One line for the status bar and the report: "0.65 µm/px from the micrometer image ruler.png" or "not calibrated (lengths in px)". */
 export function calibrationWords(c: Calibration): string {
-  return c.umPerPx === null ? 'not calibrated (lengths in px)' : `${umPerPxText(c.umPerPx)} µm/px from the ${c.from}`;
+  return c.umPerPx === null ? 'not calibrated (lengths in px)' : `${umPerPxText(c.umPerPx, c.origin === 'micrometer')} µm/px from the ${c.from}`;
 }
 
 const ORIGIN_SHORT: Record<CalibrationOrigin, string> = {
@@ -73,7 +79,7 @@ const ORIGIN_SHORT: Record<CalibrationOrigin, string> = {
 
 /** A short form for the header: "0.65 µm/px (micrometer)" or "not calibrated". */
 export function calibrationShort(c: Calibration): string {
-  return c.umPerPx === null ? 'not calibrated' : `${umPerPxText(c.umPerPx)} µm/px (${ORIGIN_SHORT[c.origin]})`;
+  return c.umPerPx === null ? 'not calibrated' : `${umPerPxText(c.umPerPx, c.origin === 'micrometer')} µm/px (${ORIGIN_SHORT[c.origin]})`;
 }
 
 /** What the app says when a pixel size is applied, replaced or removed. */

@@ -42,7 +42,7 @@ describe('one calibration state', () => {
     expect(calibrationWords(c)).toBe('0.65 µm/px from the set-up "Bench": objective 20× and camera pixel 6.5 µm, binning 2');
     expect(calibrationShort(c)).toBe('0.65 µm/px (objective and camera)');
     expect(calibrationShort(calibrationOf(withSetup(s0, { source: 'typed', pixelSizeUmPerPx: 0.325 }), null))).toBe('0.325 µm/px (typed)');
-    expect(calibrationShort(calibrationOf(withSetup(s0, { source: 'measured', pixelSizeUmPerPx: 0.3249, from: 'ruler 1 March' }), null))).toBe('0.3249 µm/px (micrometer)');
+    expect(calibrationShort(calibrationOf(withSetup(s0, { source: 'measured', pixelSizeUmPerPx: 0.3249, from: 'ruler 1 March' }), null))).toBe('0.32490 µm/px (micrometer)');
     // a set-up without a pixel size leaves the file's in use
     expect(calibrationOf(withSetup(s0, { source: 'none' }), 0.5).origin).toBe('file');
   });
@@ -52,9 +52,11 @@ describe('one calibration state', () => {
     const s2 = sessionReducer(s1, { type: 'pixelSize', pixelSize: { umPerPx: 0.65123456, from: 'micrometer ruler.png' } }, () => at);
     const c2 = calibrationOf(s2, 0.5);
     expect(c2).toEqual({ umPerPx: 0.65123456, origin: 'micrometer', from: 'micrometer image ruler.png' });
-    // 5 significant digits everywhere: 0.65123456 -> 0.65123
+    // 5 significant digits everywhere: 0.65123456 -> 0.65123; a measured 0.65 keeps its five (0.65000), a typed one is as given
     expect(calibrationWords(c2)).toBe('0.65123 µm/px from the micrometer image ruler.png');
     expect(umPerPxText(0.65123456)).toBe('0.65123');
+    expect(umPerPxText(0.6499999, true)).toBe('0.65000');
+    expect(umPerPxText(0.6499999)).toBe('0.65');
     const s3 = withSetup(s2, { source: 'typed', pixelSizeUmPerPx: 0.4 }, 'Other');
     expect(s3.pixelSize).toBeNull();
     expect(calibrationOf(s3, 0.5).umPerPx).toBe(0.4);
@@ -91,7 +93,7 @@ describe('compare never mixes um and px in one column', () => {
 
   it('names the pixel size each length was measured with and where it came from', () => {
     const rows = compareRows([session()]);
-    expect(rows.map(pixelSizeNote)).toEqual(['at 0.65 µm/px (micrometer image ruler.png)', '', "at 0.5 µm/px (file's resolution tags)"]);
+    expect(rows.map(pixelSizeNote)).toEqual(['at 0.65000 µm/px (micrometer image ruler.png)', '', "at 0.5 µm/px (file's resolution tags)"]);
   });
 
   it('a withheld profile shows as not determined, with why, not as numbers', () => {

@@ -130,7 +130,7 @@ describe('reportContent', () => {
     expect(c.images[1].calibration).toBe('0.345 µm/px from the set-up "Bench 2": typed (the file says 0.5 µm/px)');
     // A pixel size chosen from a micrometer image is used in its place, and named as such.
     const withMicrometer = sessionReducer(withSetup, { type: 'pixelSize', pixelSize: { umPerPx: 0.6512, from: 'micrometer ruler.png' } });
-    expect(reportContent(withMicrometer).images[1].calibration).toBe('0.6512 µm/px from the micrometer image ruler.png (the file says 0.5 µm/px)');
+    expect(reportContent(withMicrometer).images[1].calibration).toBe('0.65120 µm/px from the micrometer image ruler.png (the file says 0.5 µm/px)');
     expect(c.setup?.commandOptions).toEqual(['--polariser-deg 0', '--compensator-nm 550', '--compensator-deg 45', '--illuminant 3200K', '--sign positive', '--um-per-px 0.345']);
   });
 });
