@@ -4,7 +4,7 @@
  * `retarda fibre` print for the same file and settings (the command line is shown with them).
  */
 import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
-import type { DiameterDocument, FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, TenacityUnit } from '../../src/analyses/index.ts';
+import { NOT_DETERMINED, type DiameterDocument, type FibreNumbersRequest, type FibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../src/analyses/index.ts';
 import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { Mark } from './Viewer.tsx';
@@ -46,9 +46,41 @@ export function diameterMarks(d: DiameterDocument): Mark[] {
   return marks;
 }
 
+type DiameterRowData = DiameterDocument | DiameterDocument['fibres'][number];
+
+/**
+ * One row of the diameter table: the mean with its 95 % interval and, in µm, the pixel size's share of the
+ * uncertainty; a fibre whose width is not determined shows that, with its upper bound, instead of a mean.
+ */
+function DiameterRow({ row, label, axis, testId, um, total }: { row: DiameterRowData; label: string; axis: string; testId: string; um: boolean; total?: boolean }) {
+  const [mean, sd, lo, hi, bound, uPixel] = um
+    ? [row.meanUm, row.sdUm, row.ciLowUm, row.ciHighUm, row.upperBoundUm, row.uUmPixelSize]
+    : [row.meanPx, row.sdPx, row.ciLowPx, row.ciHighPx, row.upperBoundPx, null];
+  const withheld = !row.determined;
+  return (
+    <tr className={total ? 'total' : undefined}>
+      <td>{label}</td><td>{axis}</td><td>{f(row.n)}</td><td>{f(row.dropped)}</td>
+      {withheld
+        ? <td data-testid={testId} className="not-determined">{NOT_DETERMINED}</td>
+        : <td data-testid={testId}>{f(mean)}</td>}
+      <td>{withheld ? '–' : f(sd)}</td>
+      <td data-testid={`${testId}-interval`}>{withheld
+        ? <span className="not-determined">at most {f(bound)}</span>
+        : lo === null || hi === null ? '–' : `${f(lo)} – ${f(hi)}`}</td>
+      {um && <td>{withheld || uPixel === null ? '–' : `± ${f(uPixel)}`}</td>}
+      <td>{withheld ? '–' : f(row.cv)}</td>
+    </tr>
+  );
+}
+
 interface DiameterProps {
   ctx: PanelContext;
   pixelSize: SessionPixelSize | null;
+  /**
+   * Relative standard uncertainty (k = 1) of the session's pixel size, when its calibration gives one (a
+   * micrometer's `uncertainty`); used when the form's own field is empty.
+   */
+  pixelSizeUncertainty?: number | null;
   /** The diameters kept with the session for the image shown, and the form and command line that made them (shown after a reload too). */
   stored: { doc: DiameterDocument; run: StoredDiameterRun | null } | null;
   onMarks(imageId: string, marks: Mark[]): void;
@@ -57,13 +89,21 @@ interface DiameterProps {
   handle?: Ref<PanelHandle>;
 }
 
-export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handle }: DiameterProps) {
+export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty, stored, onMarks, onResult, handle }: DiameterProps) {
   const [s, setS] = useState<DiameterForm>(DEFAULT_DIAMETER_FORM);
+  // The pixel size's relative uncertainty, typed in % (k = 1); the document keeps the value it was measured with.
+  const [uncertaintyPct, setUncertaintyPct] = useState('');
   const [formError, setFormError] = useState<string | null>(null);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
   const storedRun = stored?.run ?? null;
+  const storedDoc = stored?.doc ?? null;
   // A kept result brings back the form that made it (after a reload, or on going back to its image).
   useEffect(() => { if (storedRun) setS(storedRun.form); }, [storedRun]);
+  useEffect(() => {
+    if (storedDoc && storedRun?.form.umPerPx.trim()) {
+      setUncertaintyPct(storedDoc.pixelSizeUncertainty === null ? '' : String(Number((100 * storedDoc.pixelSizeUncertainty).toPrecision(6))));
+    }
+  }, [storedDoc, storedRun]);
 
   async function run() {
     setFormError(null);
@@ -71,13 +111,19 @@ export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handl
     let options;
     try {
       const typed = num(s.umPerPx, 'Pixel size');
+      const typedPct = num(uncertaintyPct, 'Pixel size uncertainty');
+      const umPerPx = typed ?? pixelSize?.umPerPx;
+      const relU = typedPct !== undefined ? typedPct / 100 : typed === undefined ? pixelSizeUncertainty ?? undefined : undefined;
+      if (relU !== undefined && umPerPx === undefined) throw new Error('Pixel size uncertainty: give the pixel size too');
       options = {
-        pixelSizeUmPerPx: typed ?? pixelSize?.umPerPx, stepPx: num(s.stepPx, 'Station step'), averagePx: num(s.averagePx, 'Averaged length'),
+        pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: relU,
+        stepPx: num(s.stepPx, 'Station step'), averagePx: num(s.averagePx, 'Averaged length'),
         polarity: s.polarity, backgroundDegree: num(s.backgroundDegree, 'Background degree'),
       };
     } catch (e) { setFormError((e as Error).message); return; }
     const args = [
       ...(options.pixelSizeUmPerPx !== undefined ? [`--um-per-px ${options.pixelSizeUmPerPx}`] : []),
+      ...(options.pixelSizeUncertainty !== undefined ? [`--um-per-px-uncertainty ${options.pixelSizeUncertainty}`] : []),
       ...(options.stepPx !== undefined && options.stepPx !== 10 ? [`--step-px ${options.stepPx}`] : []),
       ...(options.averagePx !== undefined && options.averagePx !== 5 ? [`--average-px ${options.averagePx}`] : []),
       ...(options.polarity !== 'auto' ? [`--polarity ${options.polarity}`] : []),
@@ -100,8 +146,6 @@ export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handl
   const d = stored?.doc ?? null;
   const um = d ? d.pixelSizeUmPerPx !== null : false;
   const unit = um ? 'µm' : 'px';
-  const pick = (x: { meanPx: number | null; meanUm: number | null; sdPx: number | null; sdUm: number | null; ciLowPx: number | null; ciLowUm: number | null; ciHighPx: number | null; ciHighUm: number | null }) =>
-    (um ? [x.meanUm, x.sdUm, x.ciLowUm, x.ciHighUm] : [x.meanPx, x.sdPx, x.ciLowPx, x.ciHighPx]);
   const dropped = d ? d.fibres.flatMap((fb) => fb.droppedStations.map((s) => ({ ...s, fibre: fb.index }))) : [];
   const byReason = new Map<DropReason, number>();
   for (const s of dropped) byReason.set(s.reason, (byReason.get(s.reason) ?? 0) + 1);
@@ -113,6 +157,13 @@ export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handl
         <span className="unit">µm/px</span>
       </label>
       {pixelSize && s.umPerPx.trim() === '' && <p className="note">Using {pixelSize.umPerPx.toPrecision(5)} µm/px from the {pixelSize.from}; type a value to use another.</p>}
+      <label className="field">
+        <span>Pixel size uncertainty</span>
+        <input value={uncertaintyPct} data-testid="diameter-um-per-px-uncertainty"
+          placeholder={pixelSizeUncertainty != null && s.umPerPx.trim() === '' ? `the calibration's (${(100 * pixelSizeUncertainty).toPrecision(2)})` : 'optional: e.g. 0.2'}
+          onChange={(e) => setUncertaintyPct(e.target.value)} />
+        <span className="unit" title="relative standard uncertainty, k = 1 (what the micrometer calibration gives)">% (k = 1)</span>
+      </label>
       <label className="field"><span>Station step</span><input value={s.stepPx} data-testid="diameter-step-px" onChange={(e) => setS({ ...s, stepPx: e.target.value })} /><span className="unit">px</span></label>
       <label className="field"><span>Averaged along</span><input value={s.averagePx} onChange={(e) => setS({ ...s, averagePx: e.target.value })} /><span className="unit">px</span></label>
       <label className="field"><span>Fibre is</span>
@@ -129,17 +180,20 @@ export function DiameterPanel({ ctx, pixelSize, stored, onMarks, onResult, handl
         <div>
           <p className="note">On the image: yellow = the width measured at each station, green = the edges joined between stations, red × = stations left out.</p>
           <div className="scroll-x"><table className="results compact" data-testid="diameter-table">
-            <thead><tr><th>fibre</th><th>axis °</th><th>n</th><th>left out</th><th>mean {unit}</th><th>SD {unit}</th><th>95 % interval</th><th>CV</th></tr></thead>
+            <thead><tr><th>fibre</th><th>axis °</th><th>n</th><th>left out</th><th>mean {unit}</th><th>SD {unit}</th><th>95 % interval</th>{um && <th title="standard uncertainty (k = 1) from the pixel size alone">of it: pixel size</th>}<th>CV</th></tr></thead>
             <tbody>
-              {d.fibres.map((fb) => { const [m, sd, lo, hi] = pick(fb); return (
-                <tr key={fb.index}><td>{fb.index}</td><td>{f(fb.axisDeg)}</td><td>{f(fb.n)}</td><td>{f(fb.dropped)}</td><td data-testid={`diameter-mean-${fb.index}`}>{f(m)}</td><td>{f(sd)}</td><td>{f(lo)} – {f(hi)}</td><td>{f(fb.cv)}</td></tr>
-              ); })}
-              {d.fibres.length > 1 && (() => { const [m, sd, lo, hi] = pick(d); return (
-                <tr className="total"><td>all</td><td>–</td><td>{f(d.n)}</td><td>{f(d.dropped)}</td><td data-testid="diameter-mean-all">{f(m)}</td><td>{f(sd)}</td><td>{f(lo)} – {f(hi)}</td><td>{f(d.cv)}</td></tr>
-              ); })()}
+              {d.fibres.map((fb) => <DiameterRow key={fb.index} row={fb} label={String(fb.index)} axis={f(fb.axisDeg)} testId={`diameter-mean-${fb.index}`} um={um} />)}
+              {d.fibres.length > 1 && <DiameterRow row={d} label="all" axis="–" testId="diameter-mean-all" um={um} total />}
             </tbody>
           </table></div>
-          <p className="note">{d.interval}. Pixel size: {d.pixelSizeUmPerPx === null ? 'none (lengths in px)' : `${f(d.pixelSizeUmPerPx)} µm/px (${d.pixelSizeFrom === 'file' ? 'from the file' : 'as set'})`}.</p>
+          <p className="note">{d.interval}. Pixel size: {d.pixelSizeUmPerPx === null ? 'none (lengths in px)' : `${f(d.pixelSizeUmPerPx)} µm/px (${d.pixelSizeFrom === 'file' ? 'from the file' : 'as set'})${d.pixelSizeUncertainty === null ? ', its uncertainty not given (not in the intervals)' : `, ± ${(100 * d.pixelSizeUncertainty).toPrecision(2)} % (k = 1, in the µm intervals)`}`}.</p>
+          {d.fibres.some((fb) => !fb.determined) && (
+            <p className="note not-determined-why" data-testid="diameter-not-determined">
+              A fibre marked “{NOT_DETERMINED}” is narrower than about two blur widths: its width and its contrast trade off,
+              so only an upper bound is given (at most the width shown). A higher magnification (more pixels across the fibre)
+              or a sharper focus would determine it.
+            </p>
+          )}
           {/* Next to the table: a warning often explains a wide interval in it. */}
           {d.warnings.length > 0 && <ul className="warnings">{d.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
           <Histogram values={d.stations.map((st) => (um ? st.diameterUm! : st.diameterPx))} unit={unit} label="diameter at each station" />
@@ -232,13 +286,29 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, 
   );
 }
 
-interface NumbersProps { ctx: PanelContext; measuredDiameterUm: number | null; measuredRetardanceNm: number | null; handle?: Ref<PanelHandle> }
+interface NumbersProps {
+  ctx: PanelContext;
+  measuredDiameterUm: number | null;
+  /**
+   * The diameter result the measured mean comes from: with it, one click carries the mean together with its
+   * standard uncertainty and degrees of freedom (and so its interval) into the form.
+   */
+  measuredDiameter?: DiameterDocument | null;
+  measuredRetardanceNm: number | null;
+  handle?: Ref<PanelHandle>;
+}
 
-export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceNm, handle }: NumbersProps) {
-  const [s, setS] = useState({
-    diameterUm: '', density: '', linearDensity: '', linearDensityUnit: 'tex' as LinearDensityUnit, tenacity: '', tenacityUnit: 'N/tex' as TenacityUnit,
-    strengthGPa: '', retardanceNm: '', thicknessUm: '', intrinsic: '',
-  });
+/** The form's text fields: values and their standard uncertainties (k = 1, in the value's unit). */
+const EMPTY_NUMBERS_FORM = {
+  diameterUm: '', density: '', linearDensity: '', linearDensityUnit: 'tex' as LinearDensityUnit, tenacity: '', tenacityUnit: 'N/tex' as TenacityUnit,
+  strengthGPa: '', retardanceNm: '', thicknessUm: '', intrinsic: '',
+  uDiameterUm: '', diameterDof: '', uDensity: '', uLinearDensity: '', uTenacity: '', uStrengthGPa: '', uRetardanceNm: '', uThicknessUm: '', uIntrinsic: '',
+};
+
+const short = (v: number) => String(Number(v.toPrecision(6)));
+
+export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, measuredRetardanceNm, handle }: NumbersProps) {
+  const [s, setS] = useState(EMPTY_NUMBERS_FORM);
   const [shown, setShown] = useState<{ r: FibreNumbersResult; cli: string } | null>(null);
   const [formError, setFormError] = useState<string | null>(null);
   const set = (c: Partial<typeof s>) => setS((o) => ({ ...o, ...c }));
@@ -250,12 +320,20 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceN
       const diameterUm = num(s.diameterUm, 'Diameter'), density = num(s.density, 'Density');
       if (diameterUm === undefined || density === undefined) throw new Error('Give at least the diameter and the density of the solid material');
       const ld = num(s.linearDensity, 'Linear density'), ten = num(s.tenacity, 'Specific stress');
+      const uncertainties = {
+        diameterUm: num(s.uDiameterUm, 'Diameter uncertainty'), diameterDof: num(s.diameterDof, 'Diameter degrees of freedom'),
+        densityGPerCm3: num(s.uDensity, 'Density uncertainty'), linearDensity: num(s.uLinearDensity, 'Linear density uncertainty'),
+        tenacity: num(s.uTenacity, 'Specific stress uncertainty'), strengthGPa: num(s.uStrengthGPa, 'Stress uncertainty'),
+        retardanceNm: num(s.uRetardanceNm, 'Retardance uncertainty'), thicknessUm: num(s.uThicknessUm, 'Optical path uncertainty'),
+        intrinsicBirefringence: num(s.uIntrinsic, 'Intrinsic birefringence uncertainty'),
+      };
       request = {
         diameterUm, densityGPerCm3: density,
         linearDensity: ld === undefined ? undefined : { value: ld, unit: s.linearDensityUnit },
         tenacity: ten === undefined ? undefined : { value: ten, unit: s.tenacityUnit },
         strengthGPa: num(s.strengthGPa, 'Strength'), retardanceNm: num(s.retardanceNm, 'Retardance'),
         thicknessUm: num(s.thicknessUm, 'Optical path'), intrinsicBirefringence: num(s.intrinsic, 'Intrinsic birefringence'),
+        ...(Object.values(uncertainties).some((v) => v !== undefined) ? { uncertainties } : {}),
       };
     } catch (e) { setFormError((e as Error).message); return; }
     const r = await ctx.runJob('Fibre numbers', (p) => ctx.client.call('fibreNumbers', { request }, p));
@@ -275,10 +353,19 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceN
     ['tenacityCnPerDtex', '', r.tenacityCnPerDtex, 'cN/dtex'], ['tenacityGfPerDen', '', r.tenacityGfPerDen, 'gf/den'], ['strengthGPa', 'Stress', r.strengthGPa, 'GPa at this density'],
     ['birefringence', 'Birefringence', r.birefringence, `retardance / ${f(r.thicknessUm)} µm`], ['orientationFactor', 'Orientation factor', r.orientationFactor, 'birefringence / intrinsic'],
   ] : [];
+  const anyInterval = r ? Object.keys(r.intervals).length > 0 : false;
+  const md = measuredDiameter ?? null;
+  const mdDetermined = md !== null && md.determined && md.meanUm !== null;
   return (
     <div className="numbers-form">
       {input('Diameter', 'diameterUm', 'µm', '', 'fibre-diameter')}
-      {measuredDiameterUm !== null && <button className="quiet small" onClick={() => set({ diameterUm: String(Number(measuredDiameterUm.toPrecision(6))) })}>use the measured mean ({f(measuredDiameterUm)} µm)</button>}
+      {md !== null && md.pixelSizeUmPerPx !== null && (mdDetermined
+        ? <button className="quiet small" data-testid="fibre-use-measured" onClick={() => set({
+          diameterUm: short(md.meanUm!), uDiameterUm: md.uUm === null ? '' : short(md.uUm), diameterDof: md.dofUm === null ? '' : short(md.dofUm),
+        })}>use the measured mean with its interval ({f(md.meanUm)} µm, 95 % {f(md.ciLowUm)} – {f(md.ciHighUm)})</button>
+        : <p className="note not-determined-why">The measured width is {NOT_DETERMINED} (at most {f(md.upperBoundUm)} µm): too narrow for the blur, so there is no diameter to carry over.</p>)}
+      {s.uDiameterUm.trim() !== '' && <p className="note" data-testid="fibre-diameter-u-note">± {s.uDiameterUm} µm (standard uncertainty, k = 1{s.diameterDof.trim() ? `, ${s.diameterDof} degrees of freedom` : ''}); change it under “Uncertainties of the inputs”.</p>}
+      {md === null && measuredDiameterUm !== null && <button className="quiet small" onClick={() => set({ diameterUm: short(measuredDiameterUm) })}>use the measured mean ({f(measuredDiameterUm)} µm)</button>}
       {input('Density of the solid', 'density', 'g/cm³', 'e.g. 1.8', 'fibre-density')}
       <label className="field"><span>Linear density</span><input value={s.linearDensity} placeholder="measured, optional" data-testid="fibre-linear-density" onChange={(e) => set({ linearDensity: e.target.value })} />
         <select aria-label="Linear density unit" value={s.linearDensityUnit} onChange={(e) => set({ linearDensityUnit: e.target.value as LinearDensityUnit })}><option value="tex">tex</option><option value="dtex">dtex</option><option value="den">denier</option></select></label>
@@ -286,16 +373,36 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredRetardanceN
         <select aria-label="Specific stress unit" value={s.tenacityUnit} onChange={(e) => set({ tenacityUnit: e.target.value as TenacityUnit })}><option value="N/tex">N/tex</option><option value="cN/dtex">cN/dtex</option><option value="gf/den">gf/den</option></select></label>
       {input('or stress', 'strengthGPa', 'GPa', 'instead of the specific stress')}
       {input('Retardance', 'retardanceNm', 'nm', 'for the birefringence', 'fibre-retardance')}
-      {measuredRetardanceNm !== null && <button className="quiet small" onClick={() => set({ retardanceNm: String(Number(measuredRetardanceNm.toPrecision(6))) })}>use the compensator reading ({f(measuredRetardanceNm)} nm)</button>}
+      {measuredRetardanceNm !== null && <button className="quiet small" onClick={() => set({ retardanceNm: short(measuredRetardanceNm) })}>use the compensator reading ({f(measuredRetardanceNm)} nm)</button>}
       {input('Optical path', 'thicknessUm', 'µm', 'default: the diameter')}
       {input('Intrinsic birefringence', 'intrinsic', '', 'perfectly aligned material')}
+      <details className="uncertainties" data-testid="fibre-uncertainties">
+        <summary>Uncertainties of the inputs (standard, k = 1): give them to have 95 % intervals</summary>
+        {input('± diameter', 'uDiameterUm', 'µm', 'from the measured mean', 'fibre-diameter-u')}
+        {input('its degrees of freedom', 'diameterDof', '', 'infinite when empty')}
+        {input('± density', 'uDensity', 'g/cm³', '', 'fibre-density-u')}
+        {input('± linear density', 'uLinearDensity', s.linearDensityUnit === 'den' ? 'denier' : s.linearDensityUnit)}
+        {input('± specific stress', 'uTenacity', s.tenacityUnit)}
+        {input('± stress', 'uStrengthGPa', 'GPa')}
+        {input('± retardance', 'uRetardanceNm', 'nm')}
+        {input('± optical path', 'uThicknessUm', 'µm')}
+        {input('± intrinsic birefringence', 'uIntrinsic', '')}
+      </details>
       {formError && <p className="note warn" role="alert">{formError}</p>}
       <button className="primary" disabled={ctx.disabled} onClick={() => void run()} title="Shortcut: R">Work out the fibre numbers</button>
       {r && (
         <div>
           <table className="results" data-testid="fibre-results">
-            <tbody>{rows.filter(([, , v]) => v !== null).map(([key, label, v, unit]) => <tr key={key}><th scope="row">{label}</th><td data-testid={`fibre-${key}`}>{f(v)}</td><td>{unit}</td></tr>)}</tbody>
+            {anyInterval && <thead><tr><th /><th>value</th><th>unit</th><th>95 % interval</th></tr></thead>}
+            <tbody>{rows.filter(([, , v]) => v !== null).map(([key, label, v, unit]) => {
+              const iv = r.intervals[key as keyof FibreNumbersResult['intervals']];
+              return (
+                <tr key={key}><th scope="row">{label}</th><td data-testid={`fibre-${key}`}>{f(v)}</td><td>{unit}</td>
+                  {anyInterval && <td data-testid={`fibre-${key}-interval`}>{iv ? `${f(iv.ciLow)} – ${f(iv.ciHigh)}` : '–'}</td>}</tr>
+              );
+            })}</tbody>
           </table>
+          {anyInterval && <p className="note">95 % intervals by the law of propagation from the uncertainties given (GUM); a number without one has no uncertain input given.</p>}
           {r.warnings.length > 0 && <ul className="warnings">{r.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
           <p className="cli"><code data-testid="fibre-cli">{shown!.cli}</code></p>
         </div>

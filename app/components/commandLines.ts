@@ -51,8 +51,14 @@ export function fibreArgs(r: FibreNumbersRequest): string[] {
   const ld = r.linearDensity ? [`--linear-density-${r.linearDensity.unit} ${r.linearDensity.value}`] : [];
   const tenacityName = { 'N/tex': 'n-per-tex', 'cN/dtex': 'cn-per-dtex', 'gf/den': 'gf-per-den' } as const;
   const ten = r.tenacity ? [`--tenacity-${tenacityName[r.tenacity.unit]} ${r.tenacity.value}`] : [];
+  const u = r.uncertainties ?? {};
   return [
-    `--diameter-um ${r.diameterUm}`, `--density ${r.densityGPerCm3}`, ...ld, ...ten, ...opt('strength-gpa', r.strengthGPa),
-    ...opt('retardance-nm', r.retardanceNm), ...opt('thickness-um', r.thicknessUm), ...opt('intrinsic-birefringence', r.intrinsicBirefringence),
+    `--diameter-um ${r.diameterUm}`, ...opt('diameter-uncertainty-um', u.diameterUm), ...opt('diameter-dof', u.diameterDof),
+    `--density ${r.densityGPerCm3}`, ...opt('density-uncertainty', u.densityGPerCm3),
+    ...ld, ...opt('linear-density-uncertainty', u.linearDensity), ...ten, ...opt('tenacity-uncertainty', u.tenacity),
+    ...opt('strength-gpa', r.strengthGPa), ...opt('strength-uncertainty-gpa', u.strengthGPa),
+    ...opt('retardance-nm', r.retardanceNm), ...opt('retardance-uncertainty-nm', u.retardanceNm),
+    ...opt('thickness-um', r.thicknessUm), ...opt('thickness-uncertainty-um', u.thicknessUm),
+    ...opt('intrinsic-birefringence', r.intrinsicBirefringence), ...opt('intrinsic-birefringence-uncertainty', u.intrinsicBirefringence),
   ];
 }

@@ -72,7 +72,7 @@ export interface DiameterSummary {
   ciHighUm: number | null;
   /** Combined standard uncertainty of meanUm (k = 1), including the pixel size's; ci*Um = meanUm -+ t(0.975, dofUm) uUm. */
   uUm: number | null;
-  /** The pixel size's share of uUm: meanUm x pixelSizeUncertainty. */
+  /** The pixel size's share of uUm: meanUm x pixelSizeUncertainty (null when that was not given). */
   uUmPixelSize: number | null;
   dofUm: number | null;
   /**
@@ -135,8 +135,8 @@ const ONE_SIDED_95 = normalQuantile(COVERAGE_PROBABILITY);
 
 interface Calibration {
   umPerPx: number | null;
-  /** Relative standard uncertainty of umPerPx (0 when not given). */
-  relU: number;
+  /** Relative standard uncertainty of umPerPx (null when not given: then left out of the um intervals). */
+  relU: number | null;
 }
 
 /**
@@ -149,7 +149,8 @@ interface Calibration {
 function summarise(runs: DiameterStation[][], dropped: DroppedStation[], cal: Calibration, sigmaTermPx: number,
   bound: { determined: boolean; upperBoundPx: number | null }): DiameterSummary {
   const s = stationStats(runs.map((r) => r.map((st) => st.diameterPx)), 'run');
-  const { umPerPx, relU } = cal;
+  const { umPerPx } = cal;
+  const relU = cal.relU ?? 0;
   const um = (v: number | null) => (v === null || umPerPx === null ? null : v * umPerPx);
   const byReason: Partial<Record<DropReason, number>> = {};
   for (const d of dropped) byReason[d.reason] = (byReason[d.reason] ?? 0) + 1;
@@ -177,7 +178,8 @@ function summarise(runs: DiameterStation[][], dropped: DroppedStation[], cal: Ca
   return {
     n: s.n, meanPx: s.mean, sdPx: s.sd, cv: s.cv, minPx: s.min, maxPx: s.max, ciLowPx: ciPx[0], ciHighPx: ciPx[1],
     uPx, dofPx: finite(dofPx), meanUm: um(s.mean), sdUm: um(s.sd), minUm: um(s.min), maxUm: um(s.max),
-    ciLowUm: ciUm[0], ciHighUm: ciUm[1], uUm, uUmPixelSize: s.mean === null || umPerPx === null ? null : s.mean * umPerPx * relU,
+    ciLowUm: ciUm[0], ciHighUm: ciUm[1], uUm,
+    uUmPixelSize: s.mean === null || umPerPx === null || cal.relU === null ? null : s.mean * umPerPx * cal.relU,
     dofUm: finite(dofUm), determined: bound.determined, upperBoundPx: bound.upperBoundPx,
     // The pixel size's share of a one-sided 95 % bound: p (1 + z(0.95) u(p)/p), conservative on top of the px bound.
     upperBoundUm: bound.upperBoundPx === null || umPerPx === null ? null
@@ -233,7 +235,7 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
     : checkNumber('pixelSizeUmPerPx', options.pixelSizeUmPerPx, 1e-6, 1e6, 'um/px');
   const relU = options.pixelSizeUncertainty === undefined ? null
     : checkNumber('pixelSizeUncertainty', options.pixelSizeUncertainty, 0, MAX_PIXEL_SIZE_UNCERTAINTY);
-  const cal: Calibration = { umPerPx, relU: relU ?? 0 };
+  const cal: Calibration = { umPerPx, relU };
 
   const seg = segmentFibres(data, width, height, {
     polarity, backgroundDegree, minContrastToNoise, minElongation, minAreaPx, smoothSigmaPx: 1.5,

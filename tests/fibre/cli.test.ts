@@ -5,6 +5,8 @@ import { COMMON_OPTIONS, parseArgs } from '../../src/cli/args.ts';
 import { diameterCommand } from '../../src/cli/commands/diameter.ts';
 import { fibreCommand } from '../../src/cli/commands/fibre.ts';
 import { encodeFloatTiff } from '../../src/report/tiff.ts';
+import { fibreNumbersResult } from '../../src/analyses/index.ts';
+import { fibreArgs } from '../../app/components/commandLines.ts';
 import { renderFibres } from './render.ts';
 import { tempDir, writePng16 } from './pngFile.ts';
 
@@ -147,6 +149,17 @@ describe('retarda fibre', () => {
     expect(out.csvRows?.[0].solidTexCiLow).toBe(d.intervals.solidTex.ciLow);
     await expect(run(fibreCommand, ['--diameter-um', '7', '--density', '1.8', '--tenacity-uncertainty', '0.1'])).rejects.toThrow(/tenacity/);
     await expect(run(fibreCommand, ['--diameter-um', '7', '--density', '1.8', '--diameter-uncertainty-um', '-1'])).rejects.toThrow(/uncertainty/);
+  });
+
+  it('gives the app\'s numbers from the app\'s command line (fibreArgs parsed back by the CLI)', async () => {
+    const request = {
+      diameterUm: 8.123, densityGPerCm3: 1.38, linearDensity: { value: 0.7, unit: 'dtex' as const },
+      tenacity: { value: 4, unit: 'cN/dtex' as const }, retardanceNm: 350,
+      uncertainties: { diameterUm: 0.05, diameterDof: 12.5, densityGPerCm3: 0.01, linearDensity: 0.02, tenacity: 0.2, retardanceNm: 10 },
+    };
+    const argv = fibreArgs(request).flatMap((a) => a.split(' '));
+    const d = (await run(fibreCommand, [...argv, '--json'])).json as Record<string, unknown>;
+    expect(d).toEqual(fibreNumbersResult(request));
   });
 
   it('warns on a packing fraction above 1 and refuses nonsense', async () => {
