@@ -483,7 +483,7 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
   const renderings = quick ? 12 : 100;
   const seed0 = (caseIndex: number) => 10_000 + 1000 * caseIndex;
   const jobs = chosen.flatMap(({ caseIndex }) => Array.from({ length: renderings }, (_, i) => ({ caseIndex, seed: seed0(caseIndex) + i })));
-  for (const { c, caseIndex } of chosen) maybePng(renderScene(c.make(seed0(caseIndex))), `coverage ${c.label}`);
+  if (pngDir) for (const { c, caseIndex } of chosen) maybePng(renderScene(c.make(seed0(caseIndex))), `coverage ${c.label}`);
   const results = await runJobs(jobs, workerCount(quick));
   const rows: ValidationRow[] = [];
   for (const { c, caseIndex } of chosen) {
