@@ -152,12 +152,14 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     expect(await text('setup-cli')).toContain('--um-per-px 0.345');
     await shot('23-setup-form');
     await page.getByRole('button', { name: 'Save and apply to this session' }).click();
-    await expect.poll(() => text('setup-button'), { timeout: 5_000 }).toBe('Set-up: Bench 2, 10x red plate');
+    // the header's set-up line names the set-up and the pixel size it gives, with where that came from; applying it says so
+    await expect.poll(() => text('setup-button'), { timeout: 5_000 }).toBe('Set-up: Bench 2, 10x red plate · 0.345 µm/px (objective and camera)');
+    await page.getByText(/^Set-up "Bench 2, 10x red plate" applied to every image of this session\. Lengths in this session now use 0\.345 µm\/px/).waitFor({ timeout: 5_000 });
     await page.getByRole('button', { name: 'Close the set-ups' }).click();
-    await expect.poll(() => text('image-facts'), { timeout: 5_000 }).toContain('0.345 µm/px from the set-up "Bench 2, 10x red plate"');
+    await expect.poll(() => text('image-facts'), { timeout: 5_000 }).toContain('0.345 µm/px from the set-up "Bench 2, 10x red plate": objective 10× and camera pixel 3.45 µm');
     await expect.poll(() => text('save-state'), { timeout: 10_000 }).toBe('Saved on this device');
     await page.reload();
-    await expect.poll(() => text('setup-button'), { timeout: 20_000 }).toBe('Set-up: Bench 2, 10x red plate');
+    await expect.poll(() => text('setup-button'), { timeout: 20_000 }).toBe('Set-up: Bench 2, 10x red plate · 0.345 µm/px (objective and camera)');
     await page.getByTestId('setup-button').click();
     await page.getByRole('button', { name: 'Bench 2, 10x red plate (applied)' }).waitFor({ timeout: 5_000 });
     await shot('24-setup-saved');
@@ -178,7 +180,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
       await expect.poll(() => text('image-facts'), { timeout: 20_000 }).toContain('320 × 200');
       await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 30_000 });
       await page.getByRole('button', { name: 'Find walls' }).click();
-      await page.getByText(/^Walls \(found\)/).waitFor({ timeout: 60_000 });
+      await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: edge points .* px RMS/).count(), { timeout: 60_000 }).toBe(2);
       await page.getByRole('button', { name: 'Profile across the channel' }).click();
       await page.getByTestId('core').waitFor({ timeout: 60_000 });
       await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 30_000 });
@@ -265,7 +267,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     expect(body).toContain(formatCell(b.core.order));
     expect(body).toContain('retarda profile compare-turned.png --auto-walls --sigma 2 --weighting confidence --bins 20');
     expect(body).toContain('retarda orient compare-turned.png --sigma 2 --weighting confidence');
-    expect(await report.getByTestId('report-calibration').first().textContent()).toBe('not calibrated (lengths in pixels)');
+    expect(await report.getByTestId('report-calibration').first().textContent()).toBe('not calibrated (lengths in px)');
     expect(await report.locator('img').count()).toBe(2);
     await shot('27-report');
     await page.emulateMedia({ media: 'print' });
