@@ -197,7 +197,7 @@ function summarise(runs: DiameterStation[][], dropped: DroppedStation[], cal: Ca
  * connected elongated objects are fibres. Along each, stations every `stepPx`: a profile along the
  * local normal (bilinear, `profileStepPx` spacing, averaged over `averageLengthPx`), edges from the
  * gradient peak + 3-point parabola refined by an erf edge-spread fit I = lo + (hi - lo) Phi((x - x0)/sigma)
- * (domain.md §7), width = x0(right) - x0(left). Stations are re-centred on a fitted centre line so the
+ * (docs/methods.md §12.3), width = x0(right) - x0(left). Stations are re-centred on a fitted centre line so the
  * width is measured normal to the fibre (an error psi off the normal would read D / cos psi).
  *
  * Summary per fibre and pooled: mean, SD (n - 1), CV, min, max over stations and a 95 % interval
@@ -216,7 +216,7 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
   const stepPx = checkNumber('stepPx', options.stepPx ?? DIAMETER_DEFAULTS.stepPx, 1, 1e5, 'px');
   const averageLengthPx = checkNumber('averageLengthPx', options.averageLengthPx ?? DIAMETER_DEFAULTS.averageLengthPx,
     1, 1e4, 'px');
-  // Profiles sampled at 0.5 px or finer (domain.md §7: step <= 0.5 px).
+  // Profiles sampled at 0.5 px or finer (docs/methods.md §12.2: step <= 0.5 px).
   const profileStepPx = checkNumber('profileStepPx', options.profileStepPx ?? DIAMETER_DEFAULTS.profileStepPx,
     0.05, 0.5, 'px');
   const backgroundDegree = checkNumber('backgroundDegree', options.backgroundDegree ?? DIAMETER_DEFAULTS.backgroundDegree,

@@ -1,5 +1,5 @@
 /**
- * Fibre numbers (domain.md §7, Units): linear density, packing fraction, specific stress,
+ * Fibre numbers (docs/methods.md §13, "Fibre numbers"): linear density, packing fraction, specific stress,
  * birefringence and orientation factor, vibroscope linear density.
  *
  * Definitions: tex = g per 1000 m, dtex = g per 10 000 m, denier = g per 9000 m, so 1 tex = 10 dtex =
@@ -106,7 +106,7 @@ export const nPerTexToGfPerDen = (nPerTex: number): number => nPerTex / (STANDAR
  * Birefringence Delta n = retardance / thickness (dimensionless), retardance in nm, thickness in um
  * (so Delta n = retardanceNm / (thicknessUm * 1000)). For a round fibre viewed side-on the path through
  * its centre is the diameter, so use the centre-line retardance: Gamma(x) = 2 Delta n sqrt(R^2 - x^2)
- * (domain.md §1) makes a median over the whole width about 0.87 of it.
+ * (docs/methods.md §2.2) makes a median over the whole width about 0.87 of it.
  */
 export function birefringence(retardanceNm: number, thicknessUm: number): number {
   if (typeof retardanceNm !== 'number' || !Number.isFinite(retardanceNm) || retardanceNm < 0) {

@@ -118,11 +118,12 @@ describe('retarda diameter', () => {
 });
 
 describe('retarda fibre', () => {
-  it('gives the domain.md §7 carbon-fibre numbers', async () => {
+  it('gives the carbon-fibre numbers of the closed forms', async () => {
     const out = await run(fibreCommand, ['--diameter-um', '7', '--density', '1.8', '--linear-density-tex', '0.05',
       '--strength-gpa', '4.9', '--json']);
     const d = out.json as Record<string, number>;
-    // domain.md §7 [C]: 0.069272 tex = 0.69272 dtex = 0.62345 den; [D]: 4.9 GPa at 1.80 -> 2.7222 N/tex
+    // Closed forms (docs/methods.md §13.2-13.3): tex = rho pi D^2 / 4 x 1e-3 = 1.8 x pi x 49 / 4 x 1e-3 = 0.0692721 tex
+    // = 0.692721 dtex (x 10) = 0.623449 den (x 9); tenacity = stress / rho = 4.9 / 1.8 = 2.72222 N/tex
     expect(Math.abs(d.solidTex - 0.069272)).toBeLessThan(1e-5);
     expect(Math.abs(d.solidDtex - 0.69272)).toBeLessThan(1e-5);
     expect(Math.abs(d.solidDenier - 0.62345)).toBeLessThan(1e-5);
@@ -133,9 +134,9 @@ describe('retarda fibre', () => {
   it('takes dtex / denier and cN/dtex spellings and the birefringence inputs', async () => {
     const d = (await run(fibreCommand, ['--diameter-um', '12', '--density', '1.38', '--linear-density-den', '1.4047',
       '--tenacity-cn-per-dtex', '4', '--retardance-nm', '1200', '--intrinsic-birefringence', '0.2', '--json'])).json as Record<string, number>;
-    // domain.md §7 [C]: PET 12 um, 1.38 g/cm3 = 1.4047 den, so the packing fraction is 1 within 1e-4
+    // Closed form: 1.38 x pi x 144 / 4 x 1e-3 = 0.156075 tex = 1.40467 den, so the packing fraction is 1 within 1e-4
     expect(Math.abs(d.packingFraction - 1)).toBeLessThan(1e-4);
-    expect(d.tenacityNPerTex).toBeCloseTo(0.4, 12); // 1 cN/dtex = 0.1 N/tex (domain.md §7 [D])
+    expect(d.tenacityNPerTex).toBeCloseTo(0.4, 12); // 1 cN/dtex = 0.01 N / 0.1 tex = 0.1 N/tex (definitions)
     expect(d.birefringence).toBeCloseTo(0.1, 12); // 1200 nm / 12 um (definition)
     expect(d.orientationFactor).toBeCloseTo(0.5, 12);
   });

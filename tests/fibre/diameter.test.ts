@@ -5,7 +5,11 @@ import { axialDiffDeg } from '../../src/common/index.ts';
 import { fibreCoverage, renderFibres, trueWidthAt } from './render.ts';
 import type { RenderedFibre } from './render.ts';
 
-/** Target of the issue: diameter within 0.3 px or 1 %, whichever is larger, for fibres of 10 px and more. */
+/**
+ * Tolerance: max(0.3 px, 1 %) for each station and the mean. Issue 10's goal for the mean is max(0.2 px, 1 %), met by
+ * the validation table (tests/validation/fibre.ts); here a single noisy station is allowed 0.1 px more (common
+ * practice, no source).
+ */
 const tolerance = (widthPx: number) => Math.max(0.3, 0.01 * widthPx);
 
 function expectStationsTrue(fibre: FibreDiameter, rendered: RenderedFibre, perStation = true) {
@@ -84,12 +88,50 @@ describe('measureFibreDiameters on rendered fibres of known width (area-sampled 
     expect(r.warnings.join('; ')).not.toMatch(/changes steadily/);
   });
 
-  it('measures a narrow, strongly blurred fibre (10 px, edge sigma 2.5 px) with the joint two-edge fit', () => {
+  it('measures a narrow, strongly blurred fibre (10 px, edge sigma 2.5 px) with the whole-profile bar fit', () => {
     const f: RenderedFibre = { cx: 160, cy: 140, angleDeg: 30, widthPx: 10, contrast: -0.4, sigmaPx: 2.5 };
     const r = measureFibreDiameters(renderFibres({ width: 320, height: 280, fibres: [f], noiseSd: 0.01 }));
     expectStationsTrue(r.fibres[0], f, false);
     // The fibre never reaches full contrast (2 Phi(2) - 1 = 0.954 at its centre), which biases single-edge fits.
     expect(Math.abs((r.meanPx as number) - 10)).toBeLessThan(0.1);
+    expect(r.fibres[0].profileFit).toBe('bar');
+  });
+
+  it('measures a 5 px fibre (PSF sigma 1.2 px) and finds its PSF: one sigma pooled over the fibre', () => {
+    const f: RenderedFibre = { cx: 160, cy: 140, angleDeg: -22, widthPx: 5, contrast: -0.4, sigmaPx: 1.2 };
+    const r = measureFibreDiameters(renderFibres({ width: 320, height: 280, fibres: [f], noiseSd: 0.01 }));
+    const fb = r.fibres[0];
+    expect(fb.determined).toBe(true);
+    expect(fb.profileFit).toBe('bar');
+    expect(Math.abs((fb.meanPx as number) - 5)).toBeLessThan(0.2);
+    // The renderer blurs by sigma 1.2 and then averages each pixel over its square, which the fit models
+    // separately (pixel footprint), so the pooled sigma is the PSF's own (construction); within 4 u.
+    expect(Math.abs((fb.psfSigmaPx as number) - 1.2)).toBeLessThan(Math.max(4 * (fb.psfSigmaUPx as number), 0.02));
+    for (const s of fb.stations) expect(s.edgeSigmaPx).toEqual([fb.psfSigmaPx, fb.psfSigmaPx]);
+    // The interval holds the pooled sigma's share on top of the station scatter: u >= SD / sqrt(n).
+    expect(fb.uPx as number).toBeGreaterThan((fb.sdPx as number) / Math.sqrt(fb.n) - 1e-12);
+    expect(fb.meanPx as number).toBeGreaterThan(fb.ciLowPx as number);
+    expect(fb.meanPx as number).toBeLessThan(fb.ciHighPx as number);
+  });
+
+  it('does not give a width below the resolvable one: "not determined", why, and an upper bound', () => {
+    // 2 px wide, blurred by sigma 1.5 px: D < 2 sigma, where the blurred bar is nearly a Gaussian of variance
+    // sigma^2 + D^2/12 and only its area A D is fixed by the data (construction).
+    const f: RenderedFibre = { cx: 160, cy: 140, angleDeg: 35, widthPx: 2, contrast: -0.6, sigmaPx: 1.5 };
+    const r = measureFibreDiameters(renderFibres({ width: 320, height: 280, fibres: [f], noiseSd: 0.004 }), { pixelSizeUmPerPx: 0.65 });
+    const fb = r.fibres[0];
+    expect(fb.determined).toBe(false);
+    expect(fb.meanPx).toBeNull();
+    expect(fb.ciLowPx).toBeNull();
+    expect(fb.n).toBe(0);
+    expect(fb.upperBoundPx as number).toBeGreaterThanOrEqual(2);
+    // The bound gives the whole spread to the bar (no blur): D <= sqrt(12 V), V = 1.5^2 + 2^2/12 (the pixel's own
+    // footprint is modelled apart), so it lies near sqrt(12 x 2.583) = 5.57 px, plus its one-sided 95 % margin.
+    expect(fb.upperBoundPx as number).toBeGreaterThanOrEqual(Math.sqrt(12 * (1.5 ** 2 + 4 / 12)) - 0.2);
+    expect(fb.droppedByReason.unresolved).toBe(fb.dropped - (fb.droppedByReason.border ?? 0) - (fb.droppedByReason['width-outlier'] ?? 0));
+    expect(r.determined).toBe(false);
+    expect(r.meanPx).toBeNull();
+    expect(r.warnings.join(' ')).toMatch(/fibre 0: width not determined: .*only their product is measured; it is at most .* higher magnification/);
   });
 
   it('is not split by a bright centre line (refraction in a transparent fibre)', () => {

@@ -9,7 +9,7 @@ import { gaussianNoise } from './render.ts';
 
 describe('linear-density units', () => {
   it('follow the definitions tex = g/km, dtex = g/10 km, denier = g/9 km', () => {
-    // Definitions (domain.md §7 Units [M, definitions]): 1 tex = 10 dtex = 9 den; 1 den = 1/9 tex = 1.1111 dtex
+    // Definitions (tex = g per 1000 m, dtex = g per 10 000 m, denier = g per 9000 m): 1 tex = 10 dtex = 9 den; 1 den = 1/9 tex = 1.1111 dtex
     expect(texToDtex(1)).toBe(10);
     expect(texToDenier(1)).toBe(9);
     expect(texToDtex(denierToTex(1))).toBeCloseTo(1.1111, 4);
@@ -22,7 +22,7 @@ describe('linear-density units', () => {
 
 describe('solid round fibre: tex = rho * pi D^2 / 4 * 1e-3', () => {
   it('carbon fibre 7.0 um at 1.80 g/cm3', () => {
-    // domain.md §7 [C]: A = 38.4845 um^2; 0.069272 tex = 0.69272 dtex = 0.62345 den (tol 1e-5)
+    // Closed forms: A = pi 7^2 / 4 = 38.48451 um^2; tex = 1.8 x 38.48451 x 1e-3 = 0.0692721 = 0.692721 dtex = 0.623449 den (tol 1e-5)
     expect(roundAreaUm2(7)).toBeCloseTo(38.4845, 4);
     const tex = texFromDiameter(7, 1.8);
     expect(Math.abs(tex - 0.069272)).toBeLessThan(1e-5);
@@ -30,14 +30,14 @@ describe('solid round fibre: tex = rho * pi D^2 / 4 * 1e-3', () => {
     expect(Math.abs(texToDenier(tex) - 0.62345)).toBeLessThan(1e-5);
   });
   it('PET 12 um at 1.38 g/cm3', () => {
-    // domain.md §7 [C]: 0.15607 tex = 1.5607 dtex = 1.4047 den (tol 1e-4)
+    // Closed form: 1.38 x pi x 12^2 / 4 x 1e-3 = 0.156075 tex = 1.56075 dtex = 1.40467 den (tol 1e-4)
     const tex = texFromDiameter(12, 1.38);
     expect(Math.abs(tex - 0.15607)).toBeLessThan(1e-4);
     expect(Math.abs(texToDtex(tex) - 1.5607)).toBeLessThan(1e-4);
     expect(Math.abs(texToDenier(tex) - 1.4047)).toBeLessThan(1e-4);
   });
   it('inverse: PET diameters of 1 dtex and 1 den', () => {
-    // domain.md §7 [C]: 1.0 dtex, rho 1.38 -> 9.605 um; 1 den -> 10.125 um (tol 1e-3)
+    // Closed form D = sqrt(4 tex 1e3 / (pi rho)): sqrt(4 x 0.1 x 1e3 / (pi x 1.38)) = 9.6054 um; 1 den = 1/9 tex -> 10.1250 um (tol 1e-3)
     expect(Math.abs(diameterUmFromTex(dtexToTex(1), 1.38) - 9.605)).toBeLessThan(1e-3);
     expect(Math.abs(diameterUmFromTex(denierToTex(1), 1.38) - 10.125)).toBeLessThan(1e-3);
     // Round trip (algebraic identity)
@@ -47,12 +47,12 @@ describe('solid round fibre: tex = rho * pi D^2 / 4 * 1e-3', () => {
 
 describe('specific stress: 1 N/tex = 1 GPa/(g/cm3)', () => {
   it('4.9 GPa at 1.80 g/cm3 is 2.7222 N/tex', () => {
-    // domain.md §7 [D]: 2.7222 N/tex (tol 1e-4)
+    // 1 N/tex = 1 GPa / (g/cm3) (derived, docs/methods.md §13.3): 4.9 / 1.8 = 2.72222 N/tex (tol 1e-4)
     expect(Math.abs(nPerTexFromGpa(4.9, 1.8) - 2.7222)).toBeLessThan(1e-4);
     expect(gpaFromNPerTex(nPerTexFromGpa(4.9, 1.8), 1.8)).toBeCloseTo(4.9, 12);
   });
   it('1 cN/dtex = 0.1 N/tex and 1 gf/den = 0.0882599 N/tex', () => {
-    // domain.md §7 [D]; gf uses standard gravity 9.80665 m/s^2 (CGPM definition)
+    // 1 cN/dtex = 0.01 N / 0.1 tex; 1 gf/den = 9.80665e-3 N / (1/9 tex) = 0.0882599 N/tex (standard gravity, CGPM 1901 definition)
     expect(cnPerDtexToNPerTex(1)).toBeCloseTo(0.1, 12);
     expect(Math.abs(gfPerDenToNPerTex(1) - 0.0882599)).toBeLessThan(1e-7);
     expect(nPerTexToGfPerDen(gfPerDenToNPerTex(3.2))).toBeCloseTo(3.2, 12);
@@ -73,7 +73,7 @@ describe('packing fraction = measured tex / solid tex of the measured diameter',
 
 describe('birefringence and orientation factor', () => {
   it('dn = retardance / thickness: 550 nm over 10 um is 0.055', () => {
-    // Definition Gamma = d * dn (domain.md global conventions): 550 nm / 10 000 nm = 0.055
+    // Definition Gamma = d dn (docs/methods.md §13.4): 550 nm / 10 000 nm = 0.055
     expect(birefringence(550, 10)).toBeCloseTo(0.055, 12);
   });
   it('f = dn / dn0 with a warning outside [-0.5, 1]', () => {
@@ -85,7 +85,7 @@ describe('birefringence and orientation factor', () => {
 
 describe('vibroscope (ASTM D1577 option C, ideal string): m = T / (4 L^2 f^2)', () => {
   it('T = 1.000 mN, L = 20.0 mm, f = 2041.2 Hz gives 1.500e-7 kg/m = 1.500 dtex', () => {
-    // domain.md §7 [D]: m = 1.500e-7 kg/m = 1.500 dtex (tol 1e-3)
+    // Closed form m = T / (4 L^2 f^2) = 1e-3 / (4 x 0.02^2 x 2041.2^2) = 1.5000e-7 kg/m = 1.500 dtex (1 dtex = 1e-7 kg/m) (tol 1e-3)
     const r = vibroscopeLinearDensity(1e-3, 0.02, 2041.2);
     expect(Math.abs(r.linearDensityKgPerM / 1.5e-7 - 1)).toBeLessThan(1e-3);
     expect(Math.abs(r.dtex - 1.5)).toBeLessThan(1e-3);
@@ -94,7 +94,7 @@ describe('vibroscope (ASTM D1577 option C, ideal string): m = T / (4 L^2 f^2)', 
 
 describe('width measured off the normal', () => {
   it('reads D / cos psi: 20 um at 30 deg is 23.094 um', () => {
-    // domain.md §7 [D]: 23.094 um (tol 1e-3)
+    // Closed form D / cos psi = 20 / cos 30 deg = 23.0940 um (tol 1e-3)
     expect(Math.abs(offNormalWidth(20, 30) - 23.094)).toBeLessThan(1e-3);
   });
 });
@@ -103,9 +103,9 @@ describe('fibreNumbers (the record behind `retarda fibre`)', () => {
   it('combines the numbers consistently', () => {
     const r = fibreNumbers({ diameterUm: 7, densityGPerCm3: 1.8, linearDensityTex: 0.06, tenacityNPerTex: 2.7222,
       retardanceNm: 700, intrinsicBirefringence: 0.2 });
-    expect(Math.abs(r.solidTex - 0.069272)).toBeLessThan(1e-5); // domain.md §7 [C]
+    expect(Math.abs(r.solidTex - 0.069272)).toBeLessThan(1e-5); // closed form, as above: 1.8 x pi x 49 / 4 x 1e-3
     expect(r.packingFraction).toBeCloseTo(0.06 / r.solidTex, 12);
-    expect(Math.abs((r.strengthGPa as number) - 4.9)).toBeLessThan(1e-3); // domain.md §7 [D], inverse of the 4.9 GPa row
+    expect(Math.abs((r.strengthGPa as number) - 4.9)).toBeLessThan(1e-3); // stress = tenacity x rho = 2.7222 x 1.8 = 4.89996 GPa
     expect(r.tenacityCnPerDtex).toBeCloseTo(27.222, 9);
     expect(r.thicknessUm).toBe(7);
     expect(r.birefringence).toBeCloseTo(0.1, 12);
