@@ -19,7 +19,8 @@
  *    of an exact 95 % interval has a standard deviation of sqrt(0.95 * 0.05 / 100) = 2.2 %); the truth is the
  *    material's order, E[cos 2(theta - axis)] (render/truth.ts says why). The note gives the rate the same
  *    intervals would reach made 20 % narrower and 20 % wider, and against the rendered (realised) mean. A last row
- *    counts point estimates outside their own interval (goal 0).
+ *    counts point estimates outside their own interval (goal 0). The quick subset runs 20 renderings per case and
+ *    accepts what chance allows an exact 95 % interval at that count (`binomialBand`).
  *
  * Set RETARDA_VALIDATE_PNGS=DIR to write the first rendering of every case there as PNG (with its walls in the log).
  */
@@ -280,8 +281,8 @@ async function profileRows(quick: boolean): Promise<ValidationRow[]> {
       compare(p.bins, truth.bins, '');
       if (c.stations > 1) p.stations.forEach((st, j) => compare(st.bins, truth.stations[j].bins, `station ${j} `));
       const worst = errs.length ? errs.reduce((a, b) => (b.e > a.e ? b : a)) : null;
-      const band = (what: string, v: unknown, t: number) => `${what} ${Number.isFinite(num(v)) ? num(v).toFixed(3) : 'withheld'} vs ${t.toFixed(3)}`;
-      const tail = `${band('core', p.core.order, truth.core.realised)}, ${band('skin', p.skin.order, truth.skin.realised)}`;
+      const shown = (what: string, v: unknown, t: number) => `${what} ${Number.isFinite(num(v)) ? num(v).toFixed(3) : 'withheld'} vs ${t.toFixed(3)}`;
+      const tail = `${shown('core', p.core.order, truth.core.realised)}, ${shown('skin', p.skin.order, truth.skin.realised)}`;
       if (withheld > 0) {
         // Withholding is right only where the data do not fix S; given numbers must still be within the goal.
         const ok = !mustGive && (worst === null || worst.e <= BIN_GOAL);
@@ -420,10 +421,34 @@ const sum = (a: Tally, b: Tally): Tally => ({
   hit: a.hit + b.hit, narrow: a.narrow + b.narrow, wide: a.wide + b.wide, realised: a.realised + b.realised, withheld: a.withheld + b.withheld, excused: a.excused + b.excused, n: a.n + b.n,
 });
 
-function coverageRow(kase: string, what: string, t: Tally, extra = ''): ValidationRow {
+/**
+ * Binomial acceptance band for the observed coverage of n exact 95 % intervals: the counts k with
+ * P(X < k) > 0.005 and P(X > k) > 0.005 for X ~ Bin(n, 0.95), in %. Used for the quick subset, whose few
+ * renderings cannot resolve 90-99 % (with 12 intervals, an exact 95 % interval shows 100 % more than half the
+ * time). The intervals of one rendering (its bins) are not independent, so the band is taken for n = the
+ * number of renderings, the wider choice.
+ */
+export function binomialBand(n: number, p = 0.95, tail = 0.005): [number, number] {
+  const pmf = (k: number) => Math.exp(lnChoose(n, k) + k * Math.log(p) + (n - k) * Math.log(1 - p));
+  let lo = 0, below = 0;
+  while (lo < n && below + pmf(lo) <= tail) below += pmf(lo++);
+  let hi = n, above = 0;
+  while (hi > 0 && above + pmf(hi) <= tail) above += pmf(hi--);
+  return [(100 * lo) / n, (100 * hi) / n];
+}
+
+function lnChoose(n: number, k: number): number {
+  let v = 0;
+  for (let i = 1; i <= k; i++) v += Math.log(n - k + i) - Math.log(i);
+  return v;
+}
+
+/** A coverage row; `quickRenderings` > 0 gives the quick subset's binomial band for that many renderings instead of 90-99 %. */
+function coverageRow(kase: string, what: string, t: Tally, quickRenderings: number, extra = ''): ValidationRow {
   const pct = (v: number) => (100 * v) / t.n;
   const held = (t.withheld ? `; ${t.withheld} withheld (counted as not covering)` : '') + (t.excused ? `; ${t.excused} withheld as the data do not fix them (left out)` : '');
-  return within('channel coverage', kase, `${what}: 95 % intervals covering the truth %`, pct(t.hit), COVERAGE_LO, COVERAGE_HI, '%',
+  const [lo, hi] = quickRenderings > 0 ? binomialBand(quickRenderings).map((v) => Math.round(v * 10) / 10) : [COVERAGE_LO, COVERAGE_HI];
+  return within('channel coverage', kase, `${what}: 95 % intervals covering the truth %`, pct(t.hit), lo, hi, '%',
     `${t.n} intervals${held}; x0.8 ${pct(t.narrow).toFixed(1)} %, x1.2 ${pct(t.wide).toFixed(1)} %; vs rendered mean ${pct(t.realised).toFixed(1)} %${extra}`);
 }
 
@@ -480,12 +505,13 @@ if (!isMainThread && (workerData as { channelCoverageWorker?: boolean } | null)?
 async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
   const all = coverageCases();
   const chosen = all.map((c, caseIndex) => ({ c, caseIndex })).filter(({ c }) => !quick || c.quick);
-  const renderings = quick ? 12 : 100;
+  const renderings = quick ? 20 : 100;
   const seed0 = (caseIndex: number) => 10_000 + 1000 * caseIndex;
   const jobs = chosen.flatMap(({ caseIndex }) => Array.from({ length: renderings }, (_, i) => ({ caseIndex, seed: seed0(caseIndex) + i })));
   if (pngDir) for (const { c, caseIndex } of chosen) maybePng(renderScene(c.make(seed0(caseIndex))), `coverage ${c.label}`);
   const results = await runJobs(jobs, workerCount(quick));
   const rows: ValidationRow[] = [];
+  const quickBand = quick ? renderings : 0;
   for (const { c, caseIndex } of chosen) {
     const name = `${c.label} (seeds ${seed0(caseIndex)}-${seed0(caseIndex) + renderings - 1})`;
     const mine = results.filter((_, k) => jobs[k].caseIndex === caseIndex);
@@ -499,17 +525,17 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
     const ref = refused.length ? `; ${refused.length} renderings refused (${refused[0].refused})` : '';
     const get = (g: IntervalRecord['group']) => tallies.get(g) ?? tally();
     if (c.kind === 'whole image') {
-      rows.push(coverageRow(name, 'whole-image S_2D', get('whole-image S_2D')), coverageRow(name, 'whole-image S_axis', get('whole-image S_axis')));
+      rows.push(coverageRow(name, 'whole-image S_2D', get('whole-image S_2D'), quickBand), coverageRow(name, 'whole-image S_axis', get('whole-image S_axis'), quickBand));
       continue;
     }
     const inner = get('bins'), wall = get('wall bins');
     const both = sum(inner, wall);
     const pct = (t: Tally) => ((100 * t.hit) / t.n).toFixed(1);
     rows.push(
-      coverageRow(name, `bins (all ${c.bins})`, both, `; interior bins only ${pct(inner)} %, the two wall bins ${pct(wall)} %${ref}`),
-      coverageRow(name, 'core', get('core'), ref),
-      coverageRow(name, 'skin', get('skin'), ref),
-      coverageRow(name, 'core/skin ratio', get('core/skin ratio'), ref),
+      coverageRow(name, `bins (all ${c.bins})`, both, quickBand, `; interior bins only ${pct(inner)} %, the two wall bins ${pct(wall)} %${ref}`),
+      coverageRow(name, 'core', get('core'), quickBand, ref),
+      coverageRow(name, 'skin', get('skin'), quickBand, ref),
+      coverageRow(name, 'core/skin ratio', get('core/skin ratio'), quickBand, ref),
     );
   }
   return rows;
