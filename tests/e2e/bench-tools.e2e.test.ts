@@ -9,7 +9,7 @@ import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Download, Page } from 'playwright-core';
 import { decode as decodePng, encode } from 'fast-png';
-import { analyseOrientation, analyseProfile } from '../../src/analyses/index.ts';
+import { analyseOrientation, analyseProfile, NOT_DETERMINED } from '../../src/analyses/index.ts';
 import { decodeImage } from '../../src/image/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { chooseScaleBar } from '../../src/report/scaleBar.ts';
@@ -94,9 +94,14 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     const order = Number(await text('live-order'));
     expect(order).toBeGreaterThanOrEqual(0);
     expect(order).toBeLessThanOrEqual(1);
-    const director = Number(await text('live-director'));
-    expect(director).toBeGreaterThan(-90);
-    expect(director).toBeLessThanOrEqual(90);
+    // the director is a number in (-90, 90], or "not determined" when S_2D's interval reaches 0 (the fake camera's
+    // moving pattern may have no clear direction)
+    const directorText = await text('live-director');
+    if (directorText !== NOT_DETERMINED) {
+      const director = Number(directorText);
+      expect(director).toBeGreaterThan(-90);
+      expect(director).toBeLessThanOrEqual(90);
+    }
     await expect.poll(count, { timeout: 20_000 }).toBeGreaterThan(first + 3);
     await expect.poll(async () => Number(await text('live-fps')), { timeout: 10_000 }).toBeGreaterThan(0);
     expect(Number(await text('live-latency'))).toBeGreaterThan(0);
@@ -208,9 +213,12 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     const csv = readFileSync((await (download as Download).path())!, 'utf8').split('\r\n');
     expect(csv[0].split(',').slice(0, 4)).toEqual(['session', 'image', 'field', 'coreOrder']);
     expect(csv).toHaveLength(4);
-    // rows in the order shown (Core S ascending); the session name is quoted (it has commas), so match the middle
-    expect(csv[1]).toContain(`,compare-turned.png,texture,${b.core.order},`);
-    expect(csv[2]).toContain(`,compare-straight.png,texture,${a.core.order},`);
+    // rows in the order shown (Core S ascending); the session name is quoted (it has commas), so match the middle.
+    // The CSV has every digit of the page's numbers, which may differ from Node's in the last of 17 (the two engines'
+    // floating point, seen: one unit in the last place).
+    const coreOf = (line: string, image: string) => Number(new RegExp(`,${image.replace('.', '\\.')},texture,([^,]+),`).exec(line)?.[1]);
+    expect(Math.abs(coreOf(csv[1], 'compare-turned.png') / b.core.order - 1)).toBeLessThan(1e-12);
+    expect(Math.abs(coreOf(csv[2], 'compare-straight.png') / a.core.order - 1)).toBeLessThan(1e-12);
   }, 240_000);
 
   it('compare across sessions: a duplicated session shows beside the first, labelled by session', async () => {
