@@ -18,6 +18,6 @@ export {
 export type { DiameterAnalysisOptions, DiameterDocument } from './diameter.ts';
 export { analyseDiameter } from './diameter.ts';
 export type { SamplingCheck, MicrometerAnalysisOptions, MicrometerDocument, OpticsCalibrationDocument } from './micrometer.ts';
-export { analyseMicrometer, analyseOpticsCalibration } from './micrometer.ts';
+export { analyseMicrometer, analyseOpticsCalibration, MICROMETER_METHOD } from './micrometer.ts';
 export type { FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, TenacityUnit } from './fibreNumbers.ts';
 export { fibreNumbersResult } from './fibreNumbers.ts';

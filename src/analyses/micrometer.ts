@@ -1,13 +1,25 @@
 /**
- * Pixel-size calibration as analyses: from a stage-micrometer image (the period of the whole ruler) or
- * from the optics alone. They return the JSON documents `retarda calibrate --json` prints.
+ * Pixel-size calibration as analyses: from a stage-micrometer image (the ticks' grid fitted from the
+ * ticks themselves, with its GUM uncertainty) or from the optics alone. They return the JSON documents
+ * `retarda calibrate --json` prints. docs/methods.md, "Micrometer calibration".
  */
 import { calibrateFromMicrometer, rayleighResolutionUm, umPerPxFromOptics, type OpticsInput } from '../calibrate/index.ts';
 import { InputError } from '../common/errors.ts';
 import { toGrey, type Image } from '../image/types.ts';
 import { SCHEMA_VERSION } from './schema.ts';
 
-const UNCERTAINTY_KIND = 'relative standard uncertainty (k = 1) of umPerPx from the least-squares line fit';
+/** How the micrometer calibration is made, in words (printed by the CLI and the app beside the number). */
+export const MICROMETER_METHOD = 'stage micrometer: the ticks located strip by strip along their own direction, ' +
+  'each tick\'s position fitted against its index by weighted least squares along the ticks\' normal; ' +
+  'uncertainty by the GUM law of propagation (fit, tick direction, graticule tolerance)';
+
+/** What `uncertainty` holds, and whether the graticule's tolerance is in it. */
+function uncertaintyKind(toleranceUm: number): string {
+  const base = 'relative combined standard uncertainty (k = 1) of umPerPx: the tick-position fit and the tick direction';
+  return toleranceUm > 0
+    ? `${base}, and the graticule's tolerance of +-${toleranceUm} um per division (rectangular, u = T / sqrt 3)`
+    : `${base}; the graticule's own tolerance is not included (none was given: the micrometer's certificate states it)`;
+}
 
 /** Objective numerical aperture and wavelength for the sampling check. */
 export interface SamplingCheck {
@@ -19,6 +31,8 @@ export interface SamplingCheck {
 export interface MicrometerAnalysisOptions extends SamplingCheck {
   /** Spacing of one micrometer division, um (1 mm / 100 = 10). */
   divisionUm: number;
+  /** Tolerance of one division, +-um, from the micrometer's certificate (default 0: not included). */
+  divisionToleranceUm?: number;
   /** Ruler lines dark or bright; default auto. */
   polarity?: 'auto' | 'dark' | 'bright';
   /** Pixel size the optics give, um/px, for a cross-check (umPerPxFromOptics). */
@@ -46,9 +60,10 @@ export function analyseOpticsCalibration(o: OpticsInput & SamplingCheck) {
 }
 
 /**
- * um/px from a stage-micrometer image: the ruler period from a least-squares line fit over all lines
- * (calibrateFromMicrometer), with its standard uncertainty (k = 1). Warns when the optics' pixel size
- * differs by more than 2 % and when the pixel under-samples the optics (NA given).
+ * um/px from a stage-micrometer image (calibrateFromMicrometer): the value, its relative standard
+ * uncertainty (k = 1, `uncertainty`), the interval at k = t_95.45(nu_eff) (2 for many ticks), the
+ * budget and the fitted ticks. Warns when the optics' pixel size differs by more than 2 % and when the
+ * pixel under-samples the optics (NA given).
  * @throws InputError for a missing or non-positive division spacing, or an image without a ruler
  */
 export function analyseMicrometer(img: Image, o: MicrometerAnalysisOptions) {
@@ -59,7 +74,7 @@ export function analyseMicrometer(img: Image, o: MicrometerAnalysisOptions) {
   if (p !== undefined && p !== 'auto' && p !== 'dark' && p !== 'bright') {
     throw new InputError(`the ruler polarity must be auto, dark or bright, got "${String(p)}"`);
   }
-  const c = calibrateFromMicrometer(toGrey(img), { divisionUm: o.divisionUm, polarity: p });
+  const c = calibrateFromMicrometer(toGrey(img), { divisionUm: o.divisionUm, divisionToleranceUm: o.divisionToleranceUm, polarity: p });
   const optics = o.opticsUmPerPx ?? null;
   const warnings = [...c.warnings, ...samplingWarning(o, c.umPerPx)];
   let opticsRatio: number | null = null;
@@ -71,11 +86,16 @@ export function analyseMicrometer(img: Image, o: MicrometerAnalysisOptions) {
     }
   }
   return {
-    schemaVersion: SCHEMA_VERSION, analysis: 'calibrate' as const, method: 'micrometer' as const, source: img.source.name,
-    width: img.width, height: img.height, umPerPx: c.umPerPx, uncertainty: c.relativeUncertainty,
-    uncertaintyKind: UNCERTAINTY_KIND, uncertaintyUmPerPx: c.uncertaintyUmPerPx, periodPx: c.periodPx,
-    periodStdErrPx: c.periodStdErrPx, divisions: c.divisions, lines: c.lines, rejectedLines: c.rejectedLines,
-    rmsResidualPx: c.rmsResidualPx, linesDeg: c.linesDeg, polarity: c.polarity, divisionUm: c.divisionUm,
+    schemaVersion: SCHEMA_VERSION, analysis: 'calibrate' as const, method: 'micrometer' as const, methodDescription: MICROMETER_METHOD,
+    source: img.source.name, width: img.width, height: img.height, umPerPx: c.umPerPx, uncertainty: c.relativeUncertainty,
+    uncertaintyKind: uncertaintyKind(c.divisionToleranceUm), uncertaintyUmPerPx: c.uncertaintyUmPerPx,
+    coverageFactor: c.coverageFactor, coverageProbability: c.coverageProbability, intervalUmPerPx: c.intervalUmPerPx,
+    effectiveDof: c.effectiveDof,
+    uncertaintyBudget: { fitRelative: c.budget.fit, directionRelative: c.budget.direction, graticuleRelative: c.budget.graticule },
+    divisionUm: c.divisionUm, divisionToleranceUm: c.divisionToleranceUm, periodPx: c.periodPx, periodStdErrPx: c.periodStdErrPx,
+    divisions: c.divisions, lines: c.lines, rejectedLines: c.rejectedLines, missingLines: c.missingLines,
+    rmsResidualPx: c.rmsResidualPx, residualFraction: c.residualFraction, linesDeg: c.linesDeg, linesStdErrDeg: c.linesStdErrDeg,
+    polarity: c.polarity, ticks: c.ticks.map((t) => ({ index: t.index, positionPx: t.positionPx, residualPx: t.residualPx, points: t.points, used: t.used })),
     opticsUmPerPx: optics, opticsRatio, warnings,
   };
 }

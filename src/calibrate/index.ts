@@ -1,9 +1,15 @@
 /** Public surface of the calibration folder: pixel size from optics or from a stage micrometer. */
 export { umPerPxFromOptics, rayleighResolutionUm } from './optics.ts';
 export type { OpticsInput } from './optics.ts';
-export { calibrateFromMicrometer } from './micrometer.ts';
-export type { MicrometerOptions, MicrometerCalibration } from './micrometer.ts';
-export { periodFromProfile } from './period.ts';
+export { calibrateFromMicrometer, COVERAGE_PROBABILITY } from './micrometer.ts';
+export type { MicrometerOptions, MicrometerCalibration, UncertaintyBudget } from './micrometer.ts';
+export { fitTickGrid } from './tickGrid.ts';
+export type { TickGrid, FittedTick, TickGridOptions } from './tickGrid.ts';
+export { periodFromProfile, lineFit } from './period.ts';
 export type { LineFit, ProfileOptions } from './period.ts';
-export { rulerProfile, profileAcross } from './ruler.ts';
-export type { RulerProfile } from './ruler.ts';
+export { lineCentre } from './lineCentre.ts';
+export { rulerAxes } from './tickDirection.ts';
+export { stripProfiles } from './strips.ts';
+export { combineUncertainties, coverageFactor, studentTwoSided } from './gum.ts';
+export type { UncertaintyComponent } from './gum.ts';
+export { MICROMETER_LIMITS } from './limits.ts';

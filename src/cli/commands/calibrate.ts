@@ -1,9 +1,9 @@
-import { SCHEMA_VERSION, analyseMicrometer, analyseOpticsCalibration } from '../../analyses/index.ts';
+import { SCHEMA_VERSION, analyseMicrometer, analyseOpticsCalibration, type MicrometerDocument } from '../../analyses/index.ts';
 import { umPerPxFromOptics, type OpticsInput } from '../../calibrate/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
-import { formatPairs, formatTable } from '../format.ts';
+import { formatCell, formatPairs } from '../format.ts';
 import { loadImageFiles } from '../io.ts';
 
 function opticsInputFrom(a: ParsedArgs): OpticsInput | null {
@@ -19,16 +19,55 @@ function opticsInputFrom(a: ParsedArgs): OpticsInput | null {
   };
 }
 
+/**
+ * A value with its uncertainty as the GUM recommends (7.2.6): the uncertainty to two significant
+ * digits and the value to the same decimal place.
+ */
+export function withUncertainty(value: number, u: number): { value: string; u: string; digits: number } {
+  const digits = u > 0 && Number.isFinite(u) ? Math.max(0, 1 - Math.floor(Math.log10(u))) : 6;
+  return { value: value.toFixed(digits), u: u.toFixed(digits), digits };
+}
+
+/** The micrometer result as the terminal shows it: the number with its method, uncertainty, interval and warnings beside it. */
+export function micrometerBlock(d: MicrometerDocument): string {
+  const v = withUncertainty(d.umPerPx, d.uncertaintyUmPerPx);
+  const [lo, hi] = d.intervalUmPerPx.map((x) => x.toFixed(v.digits));
+  const k = d.coverageFactor.toFixed(2);
+  const pairs: [string, string][] = [
+    ['image', d.source],
+    ['um per px', `${v.value} um/px`],
+    ['u (k = 1)', `${v.u} um/px (${(100 * d.uncertainty).toPrecision(2)} %)`],
+    [`interval (k = ${k})`, `${lo} .. ${hi} um/px (${(100 * d.coverageProbability).toFixed(2)} % coverage, ` +
+      `${Number.isFinite(d.effectiveDof) ? d.effectiveDof.toFixed(0) : 'infinite'} degrees of freedom)`],
+    ['method', d.methodDescription],
+    ['period', `${formatCell(d.periodPx)} px over ${d.divisions} divisions, ${d.lines} ticks fitted; residual ` +
+      `${formatCell(d.rmsResidualPx)} px rms (${(100 * d.residualFraction).toFixed(2)} % of a division)`],
+    ['budget (k = 1)', `fit ${(100 * d.uncertaintyBudget.fitRelative).toPrecision(2)} %, tick direction ` +
+      `${(100 * d.uncertaintyBudget.directionRelative).toPrecision(2)} %, graticule ` +
+      (d.divisionToleranceUm > 0 ? `${(100 * d.uncertaintyBudget.graticuleRelative).toPrecision(2)} % (+-${d.divisionToleranceUm} um)`
+        : 'not included (give --division-tolerance-um from the certificate)')],
+    ['ticks', `${formatCell(d.linesDeg)} deg, ${d.polarity} on ${d.polarity === 'dark' ? 'bright' : 'dark'}`],
+  ];
+  return [formatPairs(pairs), ...d.warnings.map((w) => `warning: ${w}`)].join('\n');
+}
+
 function samplingFrom(a: ParsedArgs) {
   return { na: numberOpt(a, 'na'), wavelengthNm: numberOpt(a, 'wavelength-nm') };
 }
 
 export const calibrateCommand: Command = {
   name: 'calibrate',
-  summary: 'pixel size from a stage-micrometer image (period of the whole ruler) or from the optics',
-  usage: 'IMAGE... --division-um D [--json]   |   --camera-pixel-um P --objective-mag M [--adapter-mag A]',
+  summary: 'pixel size from a stage-micrometer image (ticks fitted along their own direction, GUM uncertainty) or from the optics',
+  usage: 'IMAGE... --division-um D [--division-tolerance-um T] [--json]   |   --camera-pixel-um P --objective-mag M [--adapter-mag A]\n\n' +
+    'The table gives um/px with its standard uncertainty (k = 1), the interval at k = 2 (Student t factor when few ticks),\n' +
+    'the method and any warning beside the number; --json gives umPerPx and uncertainty (relative, k = 1).',
   options: [
     { name: 'division-um', kind: 'number', help: 'spacing of one micrometer division, um (1 mm / 100 = 10)' },
+    {
+      name: 'division-tolerance-um', kind: 'number', defaultText: '0: not included',
+      help: 'tolerance of one division, +-um, as the micrometer\'s certificate states it; added to the uncertainty as a ' +
+        'rectangular distribution (u = T / sqrt 3). A tolerance stated over the whole scale: divide it by the number of divisions',
+    },
     { name: 'polarity', kind: 'string', help: 'ruler lines dark or bright', defaultText: 'auto' },
     { name: 'camera-pixel-um', kind: 'number', help: 'camera sensor pixel pitch, um (optics mode or cross-check)' },
     { name: 'objective-mag', kind: 'number', help: 'objective magnification' },
@@ -61,7 +100,10 @@ export const calibrateCommand: Command = {
       throw new InputError('--division-um is needed with a micrometer image', 'Give the division spacing, e.g. --division-um 10');
     }
     const images = await loadImageFiles(a.positionals);
-    const options = { divisionUm, polarity: polarity as 'auto' | 'dark' | 'bright' | undefined, opticsUmPerPx: optics, ...samplingFrom(a) };
+    const options = {
+      divisionUm, divisionToleranceUm: numberOpt(a, 'division-tolerance-um'),
+      polarity: polarity as 'auto' | 'dark' | 'bright' | undefined, opticsUmPerPx: optics, ...samplingFrom(a),
+    };
     const docs = images.map((img) => {
       try {
         return analyseMicrometer(img, options);
@@ -70,18 +112,17 @@ export const calibrateCommand: Command = {
         throw e;
       }
     });
-    const table = formatTable(
-      ['image', 'um/px', 'u(um/px)', 'rel u', 'period px', 'divisions', 'lines deg'],
-      docs.map((d) => [d.source, d.umPerPx, d.uncertaintyUmPerPx, d.uncertainty, d.periodPx, d.divisions, d.linesDeg]),
-    );
     return {
       json: docs.length === 1 ? docs[0] : { schemaVersion: SCHEMA_VERSION, analysis: 'calibrate', results: docs },
-      table,
+      // Warnings stand beside the number in the table (and in the JSON), so they are not repeated on stderr.
+      table: docs.map(micrometerBlock).join('\n\n'),
       csvRows: docs.map((d) => ({
         image: d.source, umPerPx: d.umPerPx, uncertaintyUmPerPx: d.uncertaintyUmPerPx, relativeUncertainty: d.uncertainty,
-        periodPx: d.periodPx, divisions: d.divisions, linesDeg: d.linesDeg, divisionUm: d.divisionUm,
+        coverageFactor: d.coverageFactor, intervalLowUmPerPx: d.intervalUmPerPx[0], intervalHighUmPerPx: d.intervalUmPerPx[1],
+        periodPx: d.periodPx, divisions: d.divisions, lines: d.lines, rmsResidualPx: d.rmsResidualPx, linesDeg: d.linesDeg,
+        divisionUm: d.divisionUm, divisionToleranceUm: d.divisionToleranceUm, warnings: d.warnings.join('; '),
       })),
-      warnings: docs.flatMap((d) => d.warnings.map((w) => `${d.source}: ${w}`)),
+      warnings: [],
     };
   },
 };
