@@ -1,6 +1,6 @@
 /**
- * Fibre diameter, micrometer calibration and the fibre-numbers calculator. The numbers are the worker's
- * `diameter` / `micrometer` / `fibreNumbers` results: what `retarda diameter`, `retarda calibrate` and
+ * Fibre diameter and the fibre-numbers calculator (the micrometer calibration is in MicrometerPanel.tsx).
+ * The numbers are the worker's `diameter` / `fibreNumbers` results: what `retarda diameter` and
  * `retarda fibre` print for the same file and settings (the command line is shown with them).
  */
 import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
@@ -11,7 +11,7 @@ import type { Mark } from './Viewer.tsx';
 import type { PanelContext, PanelHandle } from './OpticalPanel.tsx';
 import { Histogram } from './Histogram.tsx';
 import { commandLine, fibreArgs } from './commandLines.ts';
-import { DEFAULT_DIAMETER_FORM, type DiameterForm, type SessionPixelSize, type StoredDiameterRun, type StoredMicrometer } from '../storage/records.ts';
+import { DEFAULT_DIAMETER_FORM, type DiameterForm, type SessionPixelSize, type StoredDiameterRun } from '../storage/records.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
@@ -210,78 +210,6 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty, stored, on
           {storedRun && <p className="cli"><code data-testid="diameter-cli">{storedRun.commandLine}</code></p>}
         </div>
       )}
-    </div>
-  );
-}
-
-interface MicrometerProps {
-  ctx: PanelContext;
-  /** The session's chosen pixel size (kept with the session). */
-  pixelSize: SessionPixelSize | null;
-  /** The calibration kept with the session for the image shown. */
-  stored: StoredMicrometer | null;
-  onUse(p: SessionPixelSize | null): void;
-  /** A new calibration of an image, to keep with the session. */
-  onCalibration(imageId: string, c: StoredMicrometer): void;
-  handle?: Ref<PanelHandle>;
-}
-
-export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, handle }: MicrometerProps) {
-  const [s, setS] = useState({ divisionUm: '10', polarity: 'auto', na: '' });
-  const [formError, setFormError] = useState<string | null>(null);
-  const active = ctx.images.find((i) => i.id === ctx.activeId);
-
-  async function run() {
-    setFormError(null);
-    if (!active) return;
-    let options;
-    try {
-      const divisionUm = num(s.divisionUm, 'Division spacing');
-      if (divisionUm === undefined) throw new Error('Give the spacing of one micrometer division (10 µm for 1 mm in 100)');
-      options = { divisionUm, polarity: s.polarity as 'auto' | 'dark' | 'bright', na: num(s.na, 'Numerical aperture') };
-    } catch (e) { setFormError((e as Error).message); return; }
-    const args = [`--division-um ${options.divisionUm}`, ...(options.polarity !== 'auto' ? [`--polarity ${options.polarity}`] : []), ...(options.na !== undefined ? [`--na ${options.na}`] : [])];
-    const id = active.id;
-    const doc = await ctx.runJob('Micrometer calibration', async (p) => {
-      const src = ctx.sourceOf(id);
-      if (!src) throw new Error('the image is no longer in the session');
-      await ctx.client.ensure(src, p);
-      return ctx.client.call('micrometer', { key: id, options }, p);
-    });
-    if (doc) onCalibration(id, { doc, commandLine: commandLine('calibrate', [active.name], args) });
-  }
-
-  useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); } }));
-  const c = stored?.doc ?? null;
-  return (
-    <div>
-      <label className="field"><span>One division</span><input value={s.divisionUm} onChange={(e) => setS({ ...s, divisionUm: e.target.value })} data-testid="division-um" /><span className="unit">µm</span></label>
-      <label className="field"><span>Ruler lines</span>
-        <select value={s.polarity} onChange={(e) => setS({ ...s, polarity: e.target.value })}>
-          <option value="auto">found from the image</option><option value="dark">dark on bright</option><option value="bright">bright on dark</option>
-        </select><span /></label>
-      <label className="field"><span>Objective NA</span><input value={s.na} placeholder="optional: sampling check" onChange={(e) => setS({ ...s, na: e.target.value })} /><span /></label>
-      {formError && <p className="note warn" role="alert">{formError}</p>}
-      <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Measure the pixel size</button>
-      {c && (
-        <div>
-          <table className="results" data-testid="micrometer-results">
-            <tbody>
-              <tr><th scope="row">Pixel size</th><td data-testid="um-per-px">{f(c.umPerPx)}</td><td>µm/px, ± <span data-testid="um-per-px-u">{f(c.uncertaintyUmPerPx)}</span> (standard uncertainty, k = 1; {(100 * c.uncertainty).toPrecision(2)} %)</td></tr>
-              <tr><th scope="row">Ruler period</th><td data-testid="period-px">{f(c.periodPx)}</td><td>px ± {f(c.periodStdErrPx)}, over {f(c.divisions)} divisions</td></tr>
-              <tr><th scope="row">Lines used</th><td>{f(c.lines)}</td><td>{f(c.rejectedLines)} left out; fit residual {f(c.rmsResidualPx)} px rms</td></tr>
-              <tr><th scope="row">Line direction</th><td>{f(c.linesDeg)}</td><td>deg CCW from +x; {c.polarity} lines</td></tr>
-            </tbody>
-          </table>
-          {c.warnings.length > 0 && <ul className="warnings">{c.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
-          <p className="cli"><code data-testid="micrometer-cli">{stored!.commandLine}</code></p>
-          <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${active?.name ?? c.source}` })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
-        </div>
-      )}
-      {pixelSize && (
-        <p className="note" data-testid="session-pixel-size">Lengths in this session use {pixelSize.umPerPx.toPrecision(5)} µm/px ({pixelSize.from}). <button className="quiet small" onClick={() => onUse(null)}>Stop using it</button></p>
-      )}
-      <p className="note">Calibrate once per objective, camera adapter and binning; measure over 20 divisions or more.</p>
     </div>
   );
 }

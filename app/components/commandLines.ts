@@ -62,3 +62,11 @@ export function fibreArgs(r: FibreNumbersRequest): string[] {
     ...opt('intrinsic-birefringence', r.intrinsicBirefringence), ...opt('intrinsic-birefringence-uncertainty', u.intrinsicBirefringence),
   ];
 }
+
+/** The calibrate options of the micrometer panel: the division, its tolerance when given, a polarity other than auto, the NA when given. */
+export function micrometerArgs(o: { divisionUm: number; divisionToleranceUm?: number; polarity?: string; na?: number }): string[] {
+  return [
+    `--division-um ${o.divisionUm}`, ...(o.divisionToleranceUm ? [`--division-tolerance-um ${o.divisionToleranceUm}`] : []),
+    ...(o.polarity && o.polarity !== 'auto' ? [`--polarity ${o.polarity}`] : []), ...opt('na', o.na),
+  ];
+}

@@ -110,3 +110,12 @@ export function coverageFactor(p: number, nu: number): number {
   }
   return 0.5 * (lo + hi);
 }
+
+/**
+ * A value and its uncertainty as text, rounded as the GUM recommends (7.2.6): the uncertainty to two
+ * significant digits and the value to the same decimal place; `digits` is that number of decimals.
+ */
+export function roundWithUncertainty(value: number, u: number): { value: string; u: string; digits: number } {
+  const digits = u > 0 && Number.isFinite(u) ? Math.min(20, Math.max(0, 1 - Math.floor(Math.log10(u)))) : 6;
+  return { value: value.toFixed(digits), u: u.toFixed(digits), digits };
+}

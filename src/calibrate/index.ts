@@ -10,6 +10,6 @@ export type { LineFit, ProfileOptions } from './period.ts';
 export { lineCentre } from './lineCentre.ts';
 export { rulerAxes } from './tickDirection.ts';
 export { stripProfiles } from './strips.ts';
-export { combineUncertainties, coverageFactor, studentTwoSided } from './gum.ts';
+export { combineUncertainties, coverageFactor, roundWithUncertainty, studentTwoSided } from './gum.ts';
 export type { UncertaintyComponent } from './gum.ts';
 export { MICROMETER_LIMITS } from './limits.ts';

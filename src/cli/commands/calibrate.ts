@@ -1,5 +1,5 @@
 import { SCHEMA_VERSION, analyseMicrometer, analyseOpticsCalibration, type MicrometerDocument } from '../../analyses/index.ts';
-import { umPerPxFromOptics, type OpticsInput } from '../../calibrate/index.ts';
+import { roundWithUncertainty, umPerPxFromOptics, type OpticsInput } from '../../calibrate/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -19,18 +19,9 @@ function opticsInputFrom(a: ParsedArgs): OpticsInput | null {
   };
 }
 
-/**
- * A value with its uncertainty as the GUM recommends (7.2.6): the uncertainty to two significant
- * digits and the value to the same decimal place.
- */
-export function withUncertainty(value: number, u: number): { value: string; u: string; digits: number } {
-  const digits = u > 0 && Number.isFinite(u) ? Math.max(0, 1 - Math.floor(Math.log10(u))) : 6;
-  return { value: value.toFixed(digits), u: u.toFixed(digits), digits };
-}
-
 /** The micrometer result as the terminal shows it: the number with its method, uncertainty, interval and warnings beside it. */
 export function micrometerBlock(d: MicrometerDocument): string {
-  const v = withUncertainty(d.umPerPx, d.uncertaintyUmPerPx);
+  const v = roundWithUncertainty(d.umPerPx, d.uncertaintyUmPerPx);
   const [lo, hi] = d.intervalUmPerPx.map((x) => x.toFixed(v.digits));
   const k = d.coverageFactor.toFixed(2);
   const pairs: [string, string][] = [
