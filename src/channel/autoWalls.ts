@@ -43,8 +43,12 @@ const STEP_FRACTION = 0.3;
 const MIN_STEP = 5;
 /** The wall's peak in the rate of change must reach this fraction of the largest rate near the step. */
 const RATE_FRACTION = 0.35;
+/** ... and this many times the typical brightness change between the midline and the wall. */
+const RATE_CLEAR = 6;
 /** A side's points must lie this close to their line (RMS, px) for its strip length to be accepted. */
 const MAX_RESIDUAL_PX = 1;
+/** How far from the consensus line a strip may place the wall, px. */
+const NEAR_LINE_PX = 4;
 
 /**
  * The channel's walls as the inner edges of the channel: the lines where the material inside the
@@ -55,13 +59,16 @@ const MAX_RESIDUAL_PX = 1;
  *    gradient for the lines whose normal is near the gradient direction (a gradient-weighted Hough
  *    transform). The strongest line gives the channel direction; the strongest line within the taper
  *    limit and at least minSeparation away gives the second; their midline is taken as inside the channel.
- * 2. Fine: the image is cut into strips 64 px long along that direction. In each strip the features are
- *    averaged along the strip, giving cross-profiles; walking out from the midline on each side, the
- *    first two-sided step (window 6 px) that reaches 30 % of the strongest step on that side is the
- *    wall, placed at the steepest point of the step (sub-pixel, parabola).
- * 3. Each wall is the total-least-squares line through its strips' points, after rejecting points more
- *    than 3 robust SDs (at least 1.5 px) off; it is cut to the image. The fit's residual is returned so
- *    the user can judge it.
+ * 2. Fine: the image is cut into strips 64 px long along that direction (doubled for a side whose points do
+ *    not agree), and the features, averaged along each strip, give cross-profiles. On each side the wall's
+ *    line is the innermost line, parallel to the strongest one, whose two-sided steps (window 6 px, in units
+ *    of each feature's fluctuation inside the channel) averaged over all strips reach 30 % of the strongest
+ *    and 5 (consensusLine): a streak's edge sits at a different place in each strip, the wall's on one line.
+ *    Each strip then places the wall within 4 px of that line at the first clear peak of the brightness
+ *    change walking out (so a thin bright wall line is placed at its inner side), sub-pixel by a parabola.
+ * 3. Each wall is the total-least-squares line through the points most of them agree with (robustLine);
+ *    the strips are cut again along the walls' bisector and the search repeated. Each wall's RMS residual is
+ *    returned so the user can judge it.
  *
  * @throws InputError when the image is flat or no two walls can be told apart on either side
  */
@@ -159,26 +166,95 @@ interface SideResult {
   stripPx: number;
 }
 
-/** The wall on one side (dir = -1 or +1) from a set of strips: a point per strip, then a robust line. */
+/**
+ * The wall on one side (dir = -1 or +1) from a set of strips. A step inside the channel (a streak's edge)
+ * sits at a different place in each strip, the wall's step on one line through all of them: so the wall
+ * is first sought as a line, d = d0 + slope (along - centre) in each strip's distance d from the midline,
+ * whose steps summed over the strips it crosses are strong (consensusLine). Each strip then places the
+ * wall within a few px of that line (placeEdge), and a robust line through those points is the wall.
+ */
 function sideWall(strips: Strip[], dir: -1 | 1, fr: Frame): SideResult | null {
   const steps = strips.map((st) => stepProfile(st, dir));
-  // The wall's step is about as strong all along it: judge each strip's steps against the typical
-  // strongest step of all strips on this side, so a strip that does not reach the wall finds nothing.
-  const ref = median(steps.filter((z) => z !== null).map((z) => z!.max));
+  const line = consensusLine(strips, steps);
+  if (!line) return null;
   const pts: { x: number; y: number }[] = [], contrast: number[] = [];
   let crossed = 0;
   for (let k = 0; k < strips.length; k++) {
     const z = steps[k];
     if (!z) continue;
     crossed++;
-    const edge = placeEdge(strips[k], z, dir, Math.max(MIN_STEP, STEP_FRACTION * ref));
+    const predicted = line.d0 + line.slope * (strips[k].alongMid - line.centre);
+    const edge = placeEdge(strips[k], z, dir, predicted);
     if (!edge) continue;
     const along = strips[k].alongMid;
     pts.push({ x: fr.ox + along * fr.ux + edge.t * fr.nx, y: fr.oy + along * fr.uy + edge.t * fr.ny });
     contrast.push(edge.contrast);
   }
+  if (pts.length < 3) {
+    // Brightness does not mark this wall (texture meets a flat area of the same brightness): the centre of
+    // the two-sided step in each strip, on the consensus line, places it.
+    pts.length = 0;
+    for (let k = 0; k < strips.length; k++) {
+      if (!steps[k]) continue;
+      const along = strips[k].alongMid, t = dir * (line.d0 + line.slope * (along - line.centre));
+      pts.push({ x: fr.ox + along * fr.ux + t * fr.nx, y: fr.oy + along * fr.uy + t * fr.ny });
+    }
+  }
   const fit = robustLine(pts);
   return fit ? { fit, contrast, strips: crossed, stripPx: strips[0]?.length ?? 0 } : null;
+}
+
+/** Largest angle between a wall and the strips' direction that consensusLine considers, radians. */
+const MAX_WALL_TILT = (8 * Math.PI) / 180;
+
+/**
+ * The wall's line in the strips' frame: d = d0 + slope (along - centre), d the distance from the midline.
+ * A line's strength is its two-sided step averaged over every strip that sees this side (a strip the line
+ * misses counts 0, so a line through a corner's few strips cannot win). The strongest line over tilts
+ * within MAX_WALL_TILT (0.1 deg steps) and d0 (0.5 px steps) fixes the wall's direction, since every edge
+ * of one wall (a band's inner and outer edge, a bright line) runs the same way; along that direction the
+ * innermost line that reaches STEP_FRACTION of the strongest and MIN_STEP is the wall's inner edge.
+ */
+function consensusLine(strips: Strip[], steps: (StepProfile | null)[]): { d0: number; slope: number; centre: number } | null {
+  const live = strips.map((s, k) => ({ a: s.alongMid, z: steps[k] })).filter((s) => s.z !== null) as { a: number; z: StepProfile }[];
+  if (live.length === 0) return null;
+  const centre = live.reduce((t, s) => t + s.a, 0) / live.length;
+  const nD = 2 * Math.max(...live.map((s) => s.z.rows.length));
+  const strength = (d0: number, slope: number) => {
+    let sum = 0, count = 0;
+    for (const s of live) {
+      const d = d0 + slope * (s.a - centre);
+      const i = Math.floor(d);
+      if (i < 0 || i + 1 >= s.z.rows.length) continue;
+      const f = d - i;
+      sum += s.z.z[i] * (1 - f) + s.z.z[i + 1] * f;
+      count++;
+    }
+    return count >= 2 ? sum / live.length : 0;
+  };
+  let top = 0, topSlope = 0;
+  const step = (0.1 * Math.PI) / 180;
+  for (let tilt = -MAX_WALL_TILT; tilt <= MAX_WALL_TILT + 1e-9; tilt += step) {
+    const slope = Math.tan(tilt);
+    for (let j = 0; j < nD; j++) {
+      const v = strength(j / 2, slope);
+      if (v > top) { top = v; topSlope = slope; }
+    }
+  }
+  const floor = Math.max(MIN_STEP, STEP_FRACTION * top);
+  // Along the wall's direction (allowing 0.3 deg either way), the innermost line that is strong enough.
+  const along = new Float64Array(nD), alongSlope = new Float64Array(nD);
+  for (let j = 0; j < nD; j++) {
+    for (const dt of [-3, -2, -1, 0, 1, 2, 3]) {
+      const slope = Math.tan(Math.atan(topSlope) + dt * step);
+      const v = strength(j / 2, slope);
+      if (v > along[j]) { along[j] = v; alongSlope[j] = slope; }
+    }
+  }
+  for (let j = 1; j + 1 < nD; j++) {
+    if (along[j] >= floor && along[j] >= along[j - 1] && along[j] >= along[j + 1]) return { d0: j / 2, slope: alongSlope[j], centre };
+  }
+  return null;
 }
 
 /**
@@ -440,21 +516,15 @@ function stepProfile(strip: Strip, dir: -1 | 1): StepProfile | null {
  * feature space (sub-pixel, parabola). Brightness alone sets the place when it carries the step, since
  * texture energy peaks on the edge itself rather than stepping at it. null when no step is clear enough.
  */
-function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, threshold: number): { t: number; contrast: number } | null {
+function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number): { t: number; contrast: number } | null {
   const { values, scale } = strip;
   const { rows, z } = p;
   const W = STEP_WINDOW_PX;
-  const F = values.length;
-  let pick = -1;
-  for (let d = W + 1; d + W < rows.length; d++) {
-    if (z[d] >= threshold && z[d] >= z[d - 1] && z[d] >= z[d + 1]) { pick = d; break; }
-  }
-  if (pick < 0) return null;
-  const lo = Math.max(3, pick - W), hi = Math.min(rows.length - 4, pick + W);
+  const pick = Math.round(predicted);
+  if (pick < W || pick + W >= rows.length) return null;
+  const lo = Math.max(3, pick - NEAR_LINE_PX), hi = Math.min(rows.length - 4, pick + NEAR_LINE_PX);
   // Change across the wall at each row: central differences of the first `use` features, in units of
-  // each feature's fluctuation. Brightness alone places the wall when it changes clearly there (texture
-  // features change over the width of their own neighbourhood, and peak on an edge rather than step at
-  // it); otherwise all features do.
+  // each feature's fluctuation.
   const change = (d: number, use: number) => {
     const v = new Float64Array(use);
     for (let f = 0; f < use; f++) v[f] = (values[f][rows[d + 1]] - values[f][rows[d - 1]]) / scale[f];
@@ -462,17 +532,21 @@ function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, threshold: number)
   };
   const norm = (v: Float64Array) => Math.hypot(...v);
   const dot = (a: Float64Array, b: Float64Array) => a.reduce((s, x, i) => s + x * b[i], 0);
-  let use = strip.intensities;
-  const rateMax = (u: number) => { let m = 0; for (let d = lo; d <= hi; d++) m = Math.max(m, norm(change(d, u))); return m; };
-  let rMax = rateMax(use);
-  if (rMax < MIN_STEP) { use = F; rMax = rateMax(F); }
+  // Brightness places the wall: the texture features change over the width of their own neighbourhood and
+  // peak on an edge rather than step at it, which would put the wall a pixel or two off. A strip where the
+  // brightness change is not clearly above its own fluctuation inside the channel (a streak along the wall
+  // hides it) places nothing; sideWall falls back on the consensus line when no strip does.
+  const use = strip.intensities;
+  let rMax = 0;
+  for (let d = lo; d <= hi; d++) rMax = Math.max(rMax, norm(change(d, use)));
   const D: Float64Array[] = [];
   for (let d = lo - 2; d <= hi + 2; d++) D[d] = change(d, use);
-  // Clear = at least RATE_FRACTION of the largest rate near the step and four times the typical rate
-  // between the midline and the step.
+  // Clear = at least RATE_FRACTION of the largest rate near the line and RATE_CLEAR times the typical
+  // rate between the midline and the line.
   const inside: number[] = [];
   for (let d = 3; d < pick - 2 * W; d++) inside.push(norm(change(d, use)));
-  const floor = inside.length >= 4 ? 4 * median(inside) : 0;
+  const floor = inside.length >= 4 ? RATE_CLEAR * median(inside) : 0;
+  if (rMax < floor) return null;
   // The wall is the first clear peak walking out, so a thin bright wall line is placed at its inner side,
   // not its outer one. A peak is the largest change within 2 rows among the changes in the same
   // direction (the far side of a thin line changes the other way and does not count).
