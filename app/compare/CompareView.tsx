@@ -102,8 +102,8 @@ export function CompareView(p: Props) {
       : <span className="note">{r.diameterUnit === null ? 'not measured' : r.diameterUnit === 'um' ? 'in µm' : 'in px only'}</span>}</td>
   );
   /** An order number, or "not determined" with why (the reason is in the row's title and the CSV). */
-  const orderCell = (testId: string, v: number | null, lo: number | null, hi: number | null, n: number | null, why: string | null) => (
-    <td data-testid={testId} title={why ?? undefined}>{why
+  const orderCell = (testId: string, v: number | null, lo: number | null, hi: number | null, n: number | null, why: string | null, profiled: boolean) => (
+    <td data-testid={testId} title={why ?? undefined}>{!profiled ? <span className="note">no profile</span> : why
       ? <><span className="not-determined">{NOT_DETERMINED}</span><br /><span className="note">{why.length > 90 ? `${why.slice(0, 90)}…` : why}</span></>
       : <><strong>{f(v)}</strong><br /><span className="note">{ci(lo, hi)}{n !== null ? `, n ${n}` : ''}</span></>}</td>
   );
@@ -154,9 +154,9 @@ export function CompareView(p: Props) {
                       <td><input type="checkbox" aria-label={`Show ${rowLabel(r, several)}`} checked={!hidden.has(r.key)} onChange={() => setHidden((h) => { const n = new Set(h); if (n.has(r.key)) n.delete(r.key); else n.add(r.key); return n; })} /></td>
                       {several && <td>{r.session}</td>}
                       <td><span className="swatch" style={{ background: s?.colour ?? 'transparent' }} aria-hidden="true" />{r.image}{r.field && r.field !== 'texture' ? <span className="note"> ({r.field})</span> : null}</td>
-                      {orderCell('compare-core', r.coreOrder, r.coreCiLow, r.coreCiHigh, r.coreN, r.orderNotDetermined)}
-                      {orderCell('compare-skin', r.skinOrder, r.skinCiLow, r.skinCiHigh, r.skinN, r.orderNotDetermined)}
-                      {orderCell('compare-ratio', r.ratio, r.ratioCiLow, r.ratioCiHigh, null, r.orderNotDetermined ?? r.ratioNotDetermined)}
+                      {orderCell('compare-core', r.coreOrder, r.coreCiLow, r.coreCiHigh, r.coreN, r.orderNotDetermined, r.profile !== null)}
+                      {orderCell('compare-skin', r.skinOrder, r.skinCiLow, r.skinCiHigh, r.skinN, r.orderNotDetermined, r.profile !== null)}
+                      {orderCell('compare-ratio', r.ratio, r.ratioCiLow, r.ratioCiHigh, null, r.orderNotDetermined ?? r.ratioNotDetermined, r.profile !== null)}
                       {columns.some((c) => c.key === 'diameterUm') && diameterCell(r, 'um')}
                       {columns.some((c) => c.key === 'diameterPx') && diameterCell(r, 'px')}
                     </tr>

@@ -71,7 +71,10 @@ export function MoreAnalyses({ ctx, work, pixelSize, calibration, opticalMapShow
   const diameterDoc = work?.diameter ?? null, diameterRun = work?.diameterRun ?? null;
   const diameterStored = useMemo(() => (diameterDoc ? { doc: diameterDoc, run: diameterRun } : null), [diameterDoc, diameterRun]);
   // The diameter panel measures with the session's calibration; the file's own pixel size it reads itself (and says so).
-  const lengthsPixelSize: SessionPixelSize | null = calibration.umPerPx !== null && calibration.origin !== 'file' ? { umPerPx: calibration.umPerPx, from: calibration.from } : null;
+  // The session's own record is passed on when it is the one in use, so whatever else it carries goes with it.
+  const chosen = pixelSize && pixelSize.umPerPx === calibration.umPerPx ? pixelSize : null;
+  const lengthsPixelSize: SessionPixelSize | null = calibration.umPerPx === null || calibration.origin === 'file' ? null
+    : { ...chosen, umPerPx: calibration.umPerPx, from: calibration.from };
   // Diameters kept from before the calibration changed are not silently shown as if measured with the new one.
   const keptPx = diameterDoc?.pixelSizeUmPerPx ?? null;
   const diameterOutdated = diameterDoc !== null && (keptPx ?? null) !== calibration.umPerPx && !(diameterRun?.form.umPerPx.trim());
@@ -89,7 +92,8 @@ export function MoreAnalyses({ ctx, work, pixelSize, calibration, opticalMapShow
           onReading={(id, r) => { setRetardanceNm(r.result.retardanceNmMedian); onOptics(id, r); }} />
       </div>
       <div hidden={tab !== 'diameter'}>
-        <p className="note calibration-line" data-testid="diameter-calibration">Lengths: {calibrationWords(calibration)}.</p>
+        {/* With a pixel size given to it the panel names it itself; the file's own (or none) is said here. */}
+        {!lengthsPixelSize && <p className="note calibration-line" data-testid="diameter-calibration">Lengths: {calibrationWords(calibration)}.</p>}
         {diameterOutdated && (
           <p className="note warn" data-testid="diameter-outdated">The diameters below were measured {keptPx === null ? 'in px, without a pixel size' : `with ${umPerPxText(keptPx, isMeasured(diameterRun?.pixelSizeFrom ?? ''))} µm/px`}; the
             session now uses {calibration.umPerPx === null ? 'none' : `${umPerPxText(calibration.umPerPx, calibration.origin === 'micrometer')} µm/px`}. Measure again to have them in the session's calibration.</p>

@@ -150,6 +150,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     el?.focus();
   }, [focusNext]); // eslint-disable-line react-hooks/exhaustive-deps
   const [drawingBox, setDrawingBox] = useState(false);
+  const resultsRef = useRef<HTMLDivElement>(null);
   /** Draws the sample-free area on the image; the field gets the rectangle. */
   async function drawBackground() {
     setDrawingBox(true);
@@ -263,6 +264,8 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     const what = kind === 'plate' ? 'Compensator reading' : kind === 'plate2' ? 'Two-image reading' : 'Angle-series reading';
     const reply = await ctx.runJob(what, job);
     if (!reply) return;
+    // The answer (or "not determined" and what to do) comes into view, also on a short screen.
+    setTimeout(() => resultsRef.current?.scrollIntoView?.({ block: 'nearest' }), 0);
     const imageId = active.id;
     onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm, form: s });
     onField({
@@ -344,13 +347,16 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           </p>
           <ul className="needs">{needs.map((n) => <li key={n.text} className={n.ok ? 'ok' : 'missing'}><span aria-hidden="true">{n.ok ? '✓' : '✗'}</span> {n.text}</li>)}</ul>
           {backgroundField}
-          <div className="field field5">
-            <label htmlFor="sample-retardance">Sample retardance</label>
-            <input id="sample-retardance" ref={inputs.retardance} value={s.sampleRetardanceNm} placeholder="thickness × Δn" data-testid="sample-retardance" onChange={(e) => set({ sampleRetardanceNm: e.target.value })} />
-            <span className="unit">nm ±</span>
-            <input aria-label="Sample retardance tolerance" value={s.sampleRetardanceToleranceNm} placeholder="10 %" data-testid="sample-retardance-tolerance" onChange={(e) => set({ sampleRetardanceToleranceNm: e.target.value })} />
+          <label className="field">
+            <span>Sample retardance</span>
+            <input ref={inputs.retardance} value={s.sampleRetardanceNm} placeholder="thickness × Δn" data-testid="sample-retardance" onChange={(e) => set({ sampleRetardanceNm: e.target.value })} />
             <span className="unit">nm</span>
-          </div>
+          </label>
+          <label className="field">
+            <span>its tolerance ±</span>
+            <input value={s.sampleRetardanceToleranceNm} placeholder="10 % of it" data-testid="sample-retardance-tolerance" onChange={(e) => set({ sampleRetardanceToleranceNm: e.target.value })} />
+            <span className="unit">nm</span>
+          </label>
           {axisField}
           <details className="advice" data-testid="plate-advice">
             <summary>Why one image needs these</summary>
@@ -429,7 +435,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
       <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Read orientation and retardance</button>
 
       {r && !mapShown && <p className="note" data-testid="optics-kept">Kept from an earlier {READING_NAMES[r.kind]}: its numbers are below; read again to see its maps on the image.</p>}
-      {r && <OpticsTable r={r.result} rangeNm={r.rangeNm} onRemedy={r.kind === 'plate' ? applyRemedy : undefined} />}
+      <div ref={resultsRef}>{r && <OpticsTable r={r.result} rangeNm={r.rangeNm} onRemedy={r.kind === 'plate' ? applyRemedy : undefined} />}</div>
       {r && <p className="cli" title="Run this to get the same numbers from the command line"><code data-testid="optics-cli">{r.commandLine}</code></p>}
     </div>
   );

@@ -5,6 +5,7 @@
  */
 import { useEffect, useState } from 'react';
 import { formatCell } from '../../src/cli/format.ts';
+import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 import type { ReportContent } from './reportContent.ts';
 
 interface Props {
@@ -51,7 +52,8 @@ export function ReportView({ content, picture, view, onClose }: Props) {
           {content.setup ? <>
             <p><strong>{content.setup.name}</strong>: {content.setup.summary}</p>
             <p className="cli"><code>{content.setup.commandOptions.join(' ')}</code></p>
-          </> : <p>No set-up applied: the optical train is the command line's default and pixel sizes come from the files.</p>}
+          </> : <p>No set-up applied: the optical train is the command line's default.</p>}
+          <p data-testid="report-lengths">Lengths: {content.lengths ?? 'pixel sizes from the image files where they give one, else px.'}</p>
         </section>
         {content.images.map((img) => (
           <section key={img.id} className="report-image">
@@ -66,7 +68,9 @@ export function ReportView({ content, picture, view, onClose }: Props) {
                   <thead><tr><th>quantity</th><th>value</th><th>95 % interval</th><th>n</th></tr></thead>
                   <tbody>
                     {s.numbers.map((n) => (
-                      <tr key={n.label}><th scope="row">{n.label}</th><td>{f(n.value)}{n.unit ? ` ${n.unit}` : ''}</td><td>{n.ci ? `${f(n.ci[0])} – ${f(n.ci[1])}` : '–'}</td><td>{n.n !== null ? f(n.n) : '–'}</td></tr>
+                      n.notDetermined
+                        ? <tr key={n.label}><th scope="row">{n.label}</th><td className="not-determined">{NOT_DETERMINED}</td><td colSpan={2} className="not-determined-why">{n.notDetermined}</td></tr>
+                        : <tr key={n.label}><th scope="row">{n.label}</th><td>{f(n.value)}{n.unit ? ` ${n.unit}` : ''}</td><td>{n.ci ? `${f(n.ci[0])} – ${f(n.ci[1])}` : '–'}</td><td>{n.n !== null ? f(n.n) : '–'}</td></tr>
                     ))}
                   </tbody>
                 </table>

@@ -4,9 +4,9 @@
  * lines and the calibration state; the applied set-up; and the note on what the numbers are.
  * Pure, so the content is unit-tested; ReportView only lays it out.
  */
-import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import type { OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
-import type { SessionRecord, StoredDiameterRun } from '../storage/records.ts';
+import type { SessionRecord, StoredDiameterRun, StoredOptics } from '../storage/records.ts';
 import { setupCommandOptions, setupSummary } from '../setups/setup.ts';
 import { calibrationOf, calibrationWords, isMeasured, umPerPxText } from '../setups/calibration.ts';
 import { orientCommandLine, profileCommandLine, wallsText } from './rows.ts';
@@ -18,6 +18,8 @@ export interface ReportNumber {
   ci: [number, number] | null;
   n: number | null;
   unit: string;
+  /** Why the data do not determine this number (then `value` is null): printed in its place. */
+  notDetermined?: string;
 }
 
 export interface ReportImage {
@@ -33,6 +35,8 @@ export interface ReportContent {
   title: string;
   madeAt: string;
   setup: { name: string; summary: string; commandOptions: string[] } | null;
+  /** The session's pixel size and where it came from, when the session gives one (a micrometer choice or the set-up). */
+  lengths: string | null;
   images: ReportImage[];
   /** Images of the session with nothing analysed, named so the reader knows they were left out. */
   notAnalysed: string[];
@@ -44,13 +48,23 @@ export const REPORT_NOTE = 'These are measurements made from microscope images, 
 
 const num = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null);
 
+/** Marks a number withheld for `why` (no value, no interval). */
+const withheld = (n: ReportNumber, why: string | undefined): ReportNumber => (why ? { ...n, value: null, ci: null, notDetermined: why } : n);
+
+/** The order numbers of an orientation or optical result, each withheld where the result says the data do not determine it. */
+function orderNumbers(r: OrientResult | OpticsResult): ReportNumber[] {
+  const all = r.notDetermined?.order;
+  const numbers: ReportNumber[] = [
+    withheld({ label: 'Order S_2D', value: num(r.order2D), ci: [r.order2DCi[0], r.order2DCi[1]], n: r.n, unit: '' }, all),
+    withheld({ label: 'Director', value: num(r.directorDeg), ci: null, n: r.n, unit: 'deg CCW from +x' }, all ?? r.notDetermined?.directorDeg),
+  ];
+  if (r.axisDeg !== null) numbers.push(withheld({ label: `S_axis against ${r.axisDeg}°`, value: num(r.axisOrder), ci: r.axisOrderCi, n: r.n, unit: '' }, all));
+  return numbers;
+}
+
 function orientSection(r: OrientResult, name: string): ReportImage['sections'][number] {
   const o = r.options as { sigmaPx?: number; weighting?: string; blockPx?: number; method?: string };
-  const numbers: ReportNumber[] = [
-    { label: 'Order S_2D', value: num(r.order2D), ci: [r.order2DCi[0], r.order2DCi[1]], n: r.n, unit: '' },
-    { label: 'Director', value: num(r.directorDeg), ci: null, n: r.n, unit: 'deg CCW from +x' },
-  ];
-  if (r.axisDeg !== null) numbers.push({ label: `S_axis against ${r.axisDeg}°`, value: num(r.axisOrder), ci: r.axisOrderCi, n: r.n, unit: '' });
+  const numbers = orderNumbers(r);
   numbers.push({ label: 'Mean coherency', value: num(r.coherencyMean), ci: null, n: r.n, unit: '' });
   return {
     title: 'Orientation (structure tensor)', numbers,
@@ -63,12 +77,13 @@ function orientSection(r: OrientResult, name: string): ReportImage['sections'][n
 function profileSection(r: ProfileResult, name: string): ReportImage['sections'][number] {
   const o = r.options as { sigmaPx?: number; weighting?: string; bins?: number; stations?: number; coreMax?: number; skinMin?: number };
   const texture = r.fieldMethod === 'texture';
+  const all = r.notDetermined?.order;
   return {
     title: `Across the channel (${texture ? 'structure tensor' : `${r.fieldMethod} reading`})`,
     numbers: [
-      { label: `Core S (|s| < ${o.coreMax})`, value: num(r.core.order), ci: [r.core.ciLow, r.core.ciHigh], n: r.core.n, unit: '' },
-      { label: `Skin S (|s| > ${o.skinMin})`, value: num(r.skin.order), ci: [r.skin.ciLow, r.skin.ciHigh], n: r.skin.n, unit: '' },
-      { label: 'Core / skin', value: num(r.coreSkinRatio), ci: [r.coreSkinRatioCi[0], r.coreSkinRatioCi[1]], n: null, unit: '' },
+      withheld({ label: `Core S (|s| < ${o.coreMax})`, value: num(r.core.order), ci: [r.core.ciLow, r.core.ciHigh], n: r.core.n, unit: '' }, all),
+      withheld({ label: `Skin S (|s| > ${o.skinMin})`, value: num(r.skin.order), ci: [r.skin.ciLow, r.skin.ciHigh], n: r.skin.n, unit: '' }, all),
+      withheld({ label: 'Core / skin', value: num(r.coreSkinRatio), ci: [r.coreSkinRatioCi[0], r.coreSkinRatioCi[1]], n: null, unit: '' }, all ?? r.notDetermined?.coreSkinRatio),
       { label: 'Reference axis', value: num(r.axisDeg), ci: null, n: null, unit: 'deg' },
     ],
     settings: [
@@ -79,6 +94,24 @@ function profileSection(r: ProfileResult, name: string): ReportImage['sections']
     commandLine: texture ? profileCommandLine(name, {
       sigmaPx: Number(o.sigmaPx), weighting: String(o.weighting), bins: Number(o.bins), stations: Number(o.stations), coreMax: Number(o.coreMax), skinMin: Number(o.skinMin),
     }, r.wallsFound ? null : wallsText(r.walls)) : null,
+    warnings: r.warnings,
+  };
+}
+
+const OPTICS_TITLES: Record<StoredOptics['kind'], string> = {
+  plate: 'One compensator image', plate2: 'Two compensator images, optics turned 45°', quad: 'Crossed polars at several angles',
+};
+
+function opticsSection(o: StoredOptics): ReportImage['sections'][number] {
+  const r = o.result;
+  return {
+    title: OPTICS_TITLES[o.kind],
+    numbers: [
+      ...orderNumbers(r),
+      ...(r.retardanceNmMedian !== null ? [{ label: 'Retardance (median)', value: num(r.retardanceNmMedian), ci: null, n: r.n, unit: 'nm' }] : []),
+    ],
+    settings: [`pixel weights: ${String(r.options.weighting ?? 'none')}`, ...(typeof r.extra.mirrorAssumption === 'string' ? [`assumed: ${r.extra.mirrorAssumption}`] : [])],
+    commandLine: o.commandLine,
     warnings: r.warnings,
   };
 }
@@ -116,11 +149,14 @@ export function reportContent(s: SessionRecord, now = new Date()): ReportContent
     const sections = [
       ...(w?.orient ? [orientSection(w.orient, img.name)] : []),
       ...(w?.profile ? [profileSection(w.profile, img.name)] : []),
+      ...(w?.optics ? [opticsSection(w.optics)] : []),
       ...(w?.diameter ? [diameterSection(w.diameter, w.diameterRun ?? null, img.name)] : []),
     ];
     if (!sections.length) { notAnalysed.push(img.name); continue; }
-    const any = w!.orient ?? w!.profile ?? w!.diameter!;
-    const filePx = num(any.pixelSizeUmPerPx);
+    const any = w!.orient ?? w!.profile ?? w!.optics?.result ?? w!.diameter!;
+    // The file's own pixel size: what the texture and optical results read from it; a diameter's only when it used the file's.
+    const fromResults = [w!.orient, w!.profile, w!.optics?.result].map((r) => num(r?.pixelSizeUmPerPx)).find((v) => v !== null) ?? null;
+    const filePx = fromResults ?? (w!.diameter?.pixelSizeFrom === 'file' ? num(w!.diameter.pixelSizeUmPerPx) : null);
     const px = calibrationOf(s, filePx);
     const calibration = `${calibrationWords(px)}${px.origin !== 'file' && px.umPerPx !== null && filePx ? ` (the file says ${umPerPxText(filePx)} µm/px)` : ''}`;
     images.push({ id: img.id, name: img.name, facts: `${any.width} × ${any.height} px`, calibration, sections });
@@ -129,6 +165,7 @@ export function reportContent(s: SessionRecord, now = new Date()): ReportContent
     title: `Retarda report: ${s.name}`,
     madeAt: now.toISOString(),
     setup: s.setup ? { name: s.setup.name, summary: setupSummary(s.setup), commandOptions: [...setupCommandOptions(s.setup).train, ...setupCommandOptions(s.setup).lengths] } : null,
+    lengths: (() => { const c = calibrationOf(s, null); return c.umPerPx === null ? null : calibrationWords(c); })(),
     images, notAnalysed, note: REPORT_NOTE,
   };
 }

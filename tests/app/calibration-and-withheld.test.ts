@@ -174,3 +174,30 @@ describe('the optical form\'s later fields and optical profiles', () => {
     expect(profileIsStale(p('texture', { sigmaPx: 2, weighting: 'energy', bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 }), settings)).toBe(true);
   });
 });
+
+describe('the report says "not determined" where a result withholds a number, and states the session\'s lengths', () => {
+  it('withheld profile numbers carry the reason instead of a value; the session\'s pixel size is named once at the top', async () => {
+    const { reportContent } = await import('../../app/export/reportContent.ts');
+    const p = {
+      schemaVersion: 1, analysis: 'profile', fieldMethod: 'plate', width: 10, height: 10, pixelSizeUmPerPx: null,
+      walls: [{ x1: 0, y1: 0, x2: 9, y2: 0 }, { x1: 0, y1: 9, x2: 9, y2: 9 }], wallsFound: true, axisDeg: 0,
+      core: { order: 0.6, ciLow: 0.5, ciHigh: 0.7, n: 10 }, skin: { order: 0.8, ciLow: 0.7, ciHigh: 0.9, n: 10 }, coreSkinRatio: 0.75, coreSkinRatioCi: [0.6, 0.9],
+      bins: [], stations: [], options: { coreMax: 0.5, skinMin: 0.8, bins: 20, stations: 1 }, warnings: [],
+    } as unknown as ProfileResult;
+    let s = newSession('s', 'R', at);
+    s = sessionReducer(s, { type: 'addImages', images: [{ id: 'p', name: 'p.png', type: 'image/png', size: 1, page: 0, addedAt: at.toISOString() }] }, () => at);
+    s = sessionReducer(s, { type: 'profile', id: 'p', result: withholdProfile(p, 'no sample-free area: draw it') }, () => at);
+    const c = reportContent(s, at);
+    expect(c.lengths).toBeNull();
+    const [core, skin, ratio, axis] = c.images[0].sections[0].numbers;
+    for (const n of [core, skin, ratio]) expect(n).toMatchObject({ value: null, ci: null, notDetermined: 'no sample-free area: draw it' });
+    expect(axis.notDetermined).toBeUndefined();
+    const calibrated = sessionReducer(s, { type: 'pixelSize', pixelSize: { umPerPx: 0.65, from: 'micrometer ruler.png' } }, () => at);
+    expect(reportContent(calibrated, at).lengths).toBe('0.65000 µm/px from the micrometer image ruler.png');
+    // an image whose file gives its pixel size: named as the file's when nothing else is set, and beside the one in use otherwise
+    const tagged = sessionReducer(s, { type: 'profile', id: 'p', result: { ...withholdProfile(p, 'x'), pixelSizeUmPerPx: 0.5 } }, () => at);
+    expect(reportContent(tagged, at).images[0].calibration).toBe("0.5 µm/px from the file's resolution tags");
+    const both = sessionReducer(tagged, { type: 'pixelSize', pixelSize: { umPerPx: 0.65, from: 'micrometer ruler.png' } }, () => at);
+    expect(reportContent(both, at).images[0].calibration).toBe('0.65000 µm/px from the micrometer image ruler.png (the file says 0.5 µm/px)');
+  });
+});

@@ -119,18 +119,21 @@ describe('reportContent', () => {
     expect(c.note).toMatch(/not a safety or quality certification/);
   });
 
-  it('states the calibration: not calibrated, from the file, or from the applied set-up', async () => {
+  it('states the calibration: not calibrated, from the applied set-up, or from a micrometer image', async () => {
     const { s } = await session();
     expect(reportContent(s).images[0].calibration).toBe('not calibrated (lengths in px)');
-    expect(reportContent(s).images[1].calibration).toBe('0.5 µm/px from the file\'s resolution tags');
+    // the diameter was measured with a pixel size given to it, not the file's: the image itself is not calibrated,
+    // and the diameter names the pixel size it used
+    expect(reportContent(s).images[1].calibration).toBe('not calibrated (lengths in px)');
+    expect(reportContent(s).images[1].sections[0].settings).toContain('pixel size 0.5 µm/px from the value given');
     expect(reportContent(s).setup).toBeNull();
     const su = { ...newSetup('x', 'Bench 2', at), pixelSize: { source: 'typed' as const, pixelSizeUmPerPx: 0.345 } };
     const withSetup = sessionReducer(s, { type: 'applySetup', setup: applied(su, at) });
     const c = reportContent(withSetup);
-    expect(c.images[1].calibration).toBe('0.345 µm/px from the set-up "Bench 2": typed (the file says 0.5 µm/px)');
+    expect(c.images[1].calibration).toBe('0.345 µm/px from the set-up "Bench 2": typed');
     // A pixel size chosen from a micrometer image is used in its place, and named as such.
     const withMicrometer = sessionReducer(withSetup, { type: 'pixelSize', pixelSize: { umPerPx: 0.6512, from: 'micrometer ruler.png' } });
-    expect(reportContent(withMicrometer).images[1].calibration).toBe('0.65120 µm/px from the micrometer image ruler.png (the file says 0.5 µm/px)');
+    expect(reportContent(withMicrometer).images[1].calibration).toBe('0.65120 µm/px from the micrometer image ruler.png');
     expect(c.setup?.commandOptions).toEqual(['--polariser-deg 0', '--compensator-nm 550', '--compensator-deg 45', '--illuminant 3200K', '--sign positive', '--um-per-px 0.345']);
   });
 });
