@@ -15,15 +15,18 @@
  * Below the resolvable width (D < RESOLVABLE_WIDTH_PER_SIGMA x sigma) the width and the contrast trade off
  * and only their product is measured: the fibre's width is then not determined. What the profiles still
  * determine is the second moment of the blurred bar, V = sigma^2 + D^2 / 12 (variances add under
- * convolution; a bar of width D has variance D^2 / 12), which gives the bound D <= sqrt(12 (V - s0^2))
- * for any blur sigma >= s0 >= 0.
+ * convolution; a bar of width D has variance D^2 / 12), which gives the bound D <= sqrt(12 V), since
+ * sigma^2 >= 0.
  */
 import { fitBlurredBar, type BlurredBarFit, type BlurredBarStart } from './edgeFit.ts';
 import type { MeasuredStation } from './stations.ts';
+import { normalQuantile } from './erf.ts';
 import { median, studentTQuantile } from './stats.ts';
 
-/** Width below which a bar is not resolved, in PSF sigmas (the edges' blurs merge; docs/methods.md). */
+/** Width below which a bar is not resolved, in PSF sigmas (the edges' blurs merge; docs/methods.md §12.4). */
 export const RESOLVABLE_WIDTH_PER_SIGMA = 2;
+
+const ONE_SIDED_95 = normalQuantile(0.95);
 
 export interface BarPool {
   /** Number of bar stations pooled. */
@@ -32,9 +35,12 @@ export interface BarPool {
   sigmaPx: number;
   /** Standard uncertainty of the pooled sigma, px (k = 1). */
   sigmaUPx: number;
-  /** Median of the stations' widths at the pooled sigma, px. */
-  medianWidthPx: number;
-  /** False when the median width is below RESOLVABLE_WIDTH_PER_SIGMA x sigma. */
+  /**
+   * True when the mean width is above RESOLVABLE_WIDTH_PER_SIGMA x sigma beyond doubt: the margin
+   * m = mean D - 2 sigma exceeds z(0.95) u(m), u^2(m) = SD(D)^2 / n + ((c - 2) u(sigma))^2 with c the mean
+   * dD/dsigma (the width and sigma move together, so near the limit the margin is far less certain than
+   * either alone). With a single station, the margin alone decides.
+   */
   resolved: boolean;
   /** Mean and standard error of the stations' second moments V = sigma^2 + D^2 / 12 (free fits), px^2. */
   secondMomentPx2: number;
@@ -125,23 +131,62 @@ export function poolBarStations(stations: MeasuredStation[]): BarPool | null {
   const vMean = moments.reduce((a, b) => a + b, 0) / moments.length;
   const vSd = moments.length > 1
     ? Math.sqrt(moments.reduce((a, b) => a + (b - vMean) ** 2, 0) / (moments.length - 1)) : NaN;
-  const medianWidthPx = median(final.fits.map((f) => f.width));
+  const widths = final.fits.map((f) => f.width);
+  const n = widths.length;
+  const meanWidth = widths.reduce((a, b) => a + b, 0) / n;
+  const sdWidth = n > 1 ? Math.sqrt(widths.reduce((a, b) => a + (b - meanWidth) ** 2, 0) / (n - 1)) : 0;
+  const meanSensitivity = bars.reduce((a, s) => a + s.bar!.widthPerSigma!, 0) / n;
+  const margin = meanWidth - RESOLVABLE_WIDTH_PER_SIGMA * sigmaPx;
+  const marginU = Math.hypot(sdWidth / Math.sqrt(n), (meanSensitivity - RESOLVABLE_WIDTH_PER_SIGMA) * sigmaUPx);
+  let resolved = n > 1 ? margin > ONE_SIDED_95 * marginU : margin > 0;
+  // Near the limit the summed RSS is a long flat valley along which D and sigma trade, and its curvature
+  // understates u(sigma): there the likelihood itself decides (see resolvedByLikelihood).
+  if (resolved && margin < CLEAR_MARGIN * marginU) resolved = resolvedByLikelihood(at, sigmaPx, final.rss, s2, margin, meanSensitivity);
   return {
-    stations: bars.length, sigmaPx, sigmaUPx, medianWidthPx,
-    resolved: medianWidthPx >= RESOLVABLE_WIDTH_PER_SIGMA * sigmaPx,
+    stations: bars.length, sigmaPx, sigmaUPx, resolved,
     secondMomentPx2: vMean, secondMomentUPx2: vSd / Math.sqrt(moments.length),
   };
 }
 
+/** Margins beyond this many u(m) are taken as resolved without the likelihood test (it would agree). */
+const CLEAR_MARGIN = 10;
+
+/**
+ * Likelihood-ratio test of "the width is at least 2 sigma": along the profile of the summed RSS over sigma,
+ * find the blur sigma_b at which the mean width equals 2 sigma_b (secant steps on D(sigma) - 2 sigma, which
+ * falls with sigma), and call the fibre resolved when (RSS(sigma_b) - RSS(sigma)) / s^2 exceeds
+ * z(0.95)^2 = 2.71, the one-sided 95 % point of the signed root of the likelihood ratio (Wilks 1938).
+ * A width that stays above 2 sigma for any blur up to 5 times the fitted one is resolved.
+ */
+function resolvedByLikelihood(at: (sigma: number) => { rss: number; fits: BlurredBarFit[] }, sigma: number, rss: number,
+  s2: number, margin: number, sensitivity: number): boolean {
+  const gap = (sg: number) => {
+    const fits = at(sg).fits;
+    return fits.reduce((a, f) => a + f.width, 0) / fits.length - RESOLVABLE_WIDTH_PER_SIGMA * sg;
+  };
+  let x0 = sigma;
+  let g0 = margin;
+  let x1 = sigma + margin / Math.max(RESOLVABLE_WIDTH_PER_SIGMA - sensitivity, 0.5);
+  for (let k = 0; k < 8; k++) {
+    if (x1 > 5 * sigma) return true;
+    const g1 = gap(x1);
+    if (Math.abs(g1) < 1e-3 * sigma) break;
+    const next = g1 === g0 ? x1 * 1.2 : x1 - (g1 * (x1 - x0)) / (g1 - g0);
+    [x0, g0, x1] = [x1, g1, Math.max(sigma * 1.001, next)];
+  }
+  return (at(x1).rss - rss) / s2 > ONE_SIDED_95 * ONE_SIDED_95;
+}
+
 /**
  * One-sided 95 % upper bound on the width of an unresolved bar from its second moment:
- * D <= sqrt(12 (V_hi - s0^2)), V_hi = mean V + t(0.95, n - 1) SE(V). Holds whatever the true sigma as long
- * as it is at least `sigmaFloorPx` = s0 (0 when nothing else is known about the blur). Infinity with fewer
- * than two stations.
+ * D <= sqrt(12 V_hi), V_hi = mean V + t(0.95, n - 1) SE(V). Holds whatever the blur (sigma >= 0); a blur
+ * known from elsewhere would tighten it to sqrt(12 (V_hi - sigma^2)), which is not offered (the blur of a
+ * wide fibre's edge fits is measured through interpolation, a different quantity). Infinity with fewer than
+ * two stations.
  */
-export function unresolvedUpperBoundPx(pool: BarPool, sigmaFloorPx = 0): number {
+export function unresolvedUpperBoundPx(pool: BarPool): number {
   const n = pool.stations;
   if (n < 2) return Infinity;
   const vHigh = pool.secondMomentPx2 + studentTQuantile(0.95, n - 1) * pool.secondMomentUPx2;
-  return Math.sqrt(12 * Math.max(0, vHigh - sigmaFloorPx * sigmaFloorPx));
+  return Math.sqrt(12 * Math.max(0, vHigh));
 }

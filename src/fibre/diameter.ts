@@ -80,7 +80,10 @@ export interface DiameterSummary {
    * sigmas, where width and contrast trade off. The mean is then null and upperBound* is given instead.
    */
   determined: boolean;
-  /** One-sided 95 % upper bound on the width when it is not determined (null otherwise). */
+  /**
+   * Upper bound on the width when it is not determined (null otherwise): sqrt(12 V) from the profile's second
+   * moment V at its one-sided 95 % limit, so it holds with at least 95 % confidence whatever the blur.
+   */
   upperBoundPx: number | null;
   upperBoundUm: number | null;
   /** Lag-1 correlation of neighbouring stations and the effective n the 95 % interval uses. */
@@ -357,7 +360,7 @@ function notDeterminedWarning(index: number, pool: BarPool, s: DiameterSummary, 
   const bound = s.upperBoundPx;
   const boundText = bound === null || !Number.isFinite(bound) ? 'no useful upper bound either (too few stations)'
     : `it is at most ${bound.toFixed(2)} px${s.upperBoundUm === null ? '' : ` (${s.upperBoundUm.toFixed(2)} um)`} ` +
-      '(95 % upper bound from the spread of its profile)';
+      '(an upper bound from the spread of its profile that holds with at least 95 % confidence whatever the blur)';
   return `fibre ${index}: width not determined: the fibre is narrower than about ${RESOLVABLE_WIDTH_PER_SIGMA} blur ` +
     `widths (PSF sigma ${pool.sigmaPx.toFixed(2)} px, so below about ${(RESOLVABLE_WIDTH_PER_SIGMA * pool.sigmaPx).toFixed(1)} px), ` +
     `where its width and its contrast trade off and only their product is measured; ${boundText}. ` +

@@ -113,12 +113,10 @@ export interface BlurredBarFit {
   background: number;
   slope: number;
   slopeOrigin: number;
-  /** Standard errors (residual variance times (J^T J)^-1; NaN when singular). */
-  widthStdErr: number;
-  sigmaStdErr: number;
-  /** Covariance of width and sigma (NaN when sigma is fixed or the fit is singular). */
-  widthSigmaCov: number;
-  /** Standard errors of the edge positions x1 = centre - width / 2 and x2 = centre + width / 2. */
+  /**
+   * Standard errors of the edge positions x1 = centre - width / 2 and x2 = centre + width / 2 (residual variance
+   * times (J^T J)^-1; NaN when singular).
+   */
   x1StdErr: number;
   x2StdErr: number;
   rmsResidual: number;
@@ -188,12 +186,10 @@ export function fitBlurredBar(xs: ArrayLike<number>, ys: ArrayLike<number>, star
   const np = p0.length;
   const scale = r.cost / Math.max(1, xs.length - np);
   const cov = (i: number, j: number) => (r.inverseNormal ? r.inverseNormal[i][j] * scale : NaN);
-  const se = (i: number) => Math.sqrt(Math.max(0, cov(i, i)));
   const edgeSe = (sign: number) => Math.sqrt(Math.max(0, cov(0, 0) + cov(1, 1) / 4 + sign * cov(0, 1)));
   return {
     centre, width, sigma, amplitude: r.params[3 + k] / width, background: r.params[4 + k], slope: r.params[5 + k],
-    slopeOrigin, widthStdErr: se(1), sigmaStdErr: fixedSigma === null ? se(2) : 0,
-    widthSigmaCov: fixedSigma === null ? cov(1, 2) : NaN, x1StdErr: edgeSe(-1), x2StdErr: edgeSe(1),
+    slopeOrigin, x1StdErr: edgeSe(-1), x2StdErr: edgeSe(1),
     rmsResidual: Math.sqrt(r.cost / xs.length), rss: r.cost, parameters: np,
     converged: r.converged && r.params.every(Number.isFinite),
   };
