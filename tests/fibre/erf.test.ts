@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { erf, erfc, normalCdf, studentTCdf, studentTQuantile, stationStats } from '../../src/fibre/index.ts';
+import { erf, erfc, normalCdf, normalQuantile, studentTCdf, studentTQuantile, stationStats } from '../../src/fibre/index.ts';
+import { normalCdfFast } from '../../src/fibre/erf.ts';
 
 describe('erf / erfc', () => {
   it('match scipy.special.erf and erfc to 1e-14', () => {
@@ -25,6 +26,19 @@ describe('erf / erfc', () => {
     // Standard normal table (from memory; also scipy.stats.norm.ppf(0.975) = 1.959963984540054)
     expect(normalCdf(1.959963984540054)).toBeCloseTo(0.975, 12);
     expect(normalCdf(-1.959963984540054)).toBeCloseTo(0.025, 12);
+  });
+});
+
+describe('fast normal CDF and the normal quantile', () => {
+  it('normalCdfFast agrees with normalCdf (checked against scipy above) to 1e-14 everywhere', () => {
+    let worst = 0;
+    for (let z = -10; z <= 10; z += 0.00137) worst = Math.max(worst, Math.abs(normalCdfFast(z) - normalCdf(z)));
+    expect(worst).toBeLessThan(1e-14);
+  });
+  it('normalQuantile inverts it: scipy.stats.norm.ppf(0.975) = 1.959963984540054, ppf(0.95) = 1.6448536269514722 (from memory)', () => {
+    expect(normalQuantile(0.975)).toBeCloseTo(1.959963984540054, 12);
+    expect(normalQuantile(0.95)).toBeCloseTo(1.6448536269514722, 12);
+    expect(normalQuantile(0.5)).toBeCloseTo(0, 14);
   });
 });
 
@@ -63,6 +77,19 @@ describe('stationStats', () => {
     expect(s.nEffective).toBeLessThan(5);
     const naiveHalf = (studentTQuantile(0.975, 39) * (s.sd as number)) / Math.sqrt(40);
     expect((s.ciHigh as number) - (s.mean as number)).toBeGreaterThan(2 * naiveHalf);
+  });
+  it('takes a positive lag-1 correlation only when it is beyond chance (above -1/n + 1.645/sqrt n)', () => {
+    // sin(1.4 i) and sin(1.2 i), i = 0..19, to 2 decimals: two sequences whose lag-1 correlations lie on either side
+    // of the one-sided 5 % point of independent values, -1/20 + 1.645/sqrt 20 = 0.318 (the test checks which side).
+    const threshold = -1 / 20 + 1.6448536269514722 / Math.sqrt(20);
+    const below = stationStats([Array.from({ length: 20 }, (_, i) => Number(Math.sin(1.4 * i).toFixed(2)))]);
+    expect(below.lag1Correlation as number).toBeGreaterThan(0.1);
+    expect(below.lag1Correlation as number).toBeLessThan(threshold);
+    expect(below.nEffective).toBe(20);
+    const above = stationStats([Array.from({ length: 20 }, (_, i) => Number(Math.sin(1.2 * i).toFixed(2)))]);
+    const r = above.lag1Correlation as number;
+    expect(r).toBeGreaterThan(threshold);
+    expect(above.nEffective as number).toBeCloseTo((20 * (1 - r)) / (1 + r), 12);
   });
   it('reports n = 0 with null numbers, and no interval for n = 1', () => {
     expect(stationStats([[]])).toMatchObject({ n: 0, mean: null, sd: null, ciLow: null });
