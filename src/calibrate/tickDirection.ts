@@ -10,27 +10,47 @@ import type { Plane } from '../common/plane.ts';
 
 const BINS = 720;
 
-/** Separable Gaussian blur (sigma in px, kernel to 3 sigma, edge samples repeated). */
-function gaussianBlur(data: Float32Array, w: number, h: number, sigma: number): Float32Array {
-  const r = Math.max(1, Math.ceil(3 * sigma));
-  const k = new Float32Array(2 * r + 1);
-  let sum = 0;
-  for (let i = -r; i <= r; i++) sum += k[i + r] = Math.exp(-0.5 * (i / sigma) ** 2);
-  for (let i = 0; i < k.length; i++) k[i] /= sum;
-  const pass = (src: Float32Array, n: number, lines: number, along: number, across: number) => {
+/**
+ * Separable convolution with kernels kx along x and ky along y (both of odd length, centred; edge
+ * samples repeated).
+ */
+function separable(data: Float32Array, w: number, h: number, kx: Float32Array, ky: Float32Array): Float32Array {
+  const pass = (src: Float32Array, k: Float32Array, n: number, lines: number, along: number, across: number) => {
+    const r = (k.length - 1) / 2;
     const out = new Float32Array(w * h);
     for (let l = 0; l < lines; l++) {
       const o = l * across;
       for (let i = 0; i < n; i++) {
         let s = 0;
-        if (i >= r && i < n - r) for (let d = -r; d <= r; d++) s += k[d + r] * src[o + (i + d) * along];
-        else for (let d = -r; d <= r; d++) s += k[d + r] * src[o + Math.min(n - 1, Math.max(0, i + d)) * along];
+        if (i >= r && i < n - r) for (let d = -r; d <= r; d++) s += k[d + r] * src[o + (i - d) * along];
+        else for (let d = -r; d <= r; d++) s += k[d + r] * src[o + Math.min(n - 1, Math.max(0, i - d)) * along];
         out[o + i * along] = s;
       }
     }
     return out;
   };
-  return pass(pass(data, w, h, 1, w), h, w, w, 1);
+  return pass(pass(data, kx, w, h, 1, w), ky, h, w, w, 1);
+}
+
+/** Sampled Gaussian of sigma (to 3 sigma, unit sum) and its derivative (unit first moment: sum -x k'(x) ... = 1 on a ramp). */
+function gaussianKernels(sigma: number): { g: Float32Array; d: Float32Array } {
+  const r = Math.max(1, Math.ceil(3 * sigma));
+  const g = new Float32Array(2 * r + 1);
+  const d = new Float32Array(2 * r + 1);
+  let sg = 0;
+  let sd = 0;
+  for (let i = -r; i <= r; i++) {
+    const v = Math.exp(-0.5 * (i / sigma) ** 2);
+    g[i + r] = v;
+    d[i + r] = -i * v;
+    sg += v;
+    sd += i * i * v;
+  }
+  for (let i = 0; i < g.length; i++) {
+    g[i] /= sg;
+    d[i] /= sd;
+  }
+  return { g, d };
 }
 
 /** Box-average by an integer factor (non-finite pixels count as the plane's mean). */
@@ -84,19 +104,14 @@ export function rulerAxes(p: Plane): DirectionGuess {
 }
 
 function axesAtScale(data: Float32Array, w: number, h: number, sigma: number): DirectionGuess {
-  const g = gaussianBlur(data, w, h, sigma);
-  const gx = new Float32Array(w * h);
-  const gy = new Float32Array(w * h);
+  // Gaussian-derivative gradients: a derivative kernel times a smoothing one is isotropic, so the
+  // angle carries no pixel-grid bias (a central difference would tilt narrow stripes by a degree or two).
+  const k = gaussianKernels(sigma);
+  const gx = separable(data, w, h, k.d, k.g);
+  const gy = separable(data, w, h, k.g, k.d);
   let meanE = 0;
-  for (let y = 1; y < h - 1; y++) {
-    for (let x = 1; x < w - 1; x++) {
-      const i = y * w + x;
-      gx[i] = 0.5 * (g[i + 1] - g[i - 1]);
-      gy[i] = 0.5 * (g[i + w] - g[i - w]);
-      meanE += gx[i] * gx[i] + gy[i] * gy[i];
-    }
-  }
-  meanE /= Math.max(1, (w - 2) * (h - 2));
+  for (let i = 0; i < w * h; i++) meanE += gx[i] * gx[i] + gy[i] * gy[i];
+  meanE /= Math.max(1, w * h);
   // Pixels below the mean gradient energy (flat field, most of the noise) add little and are skipped.
   const hist = new Float64Array(BINS);
   let total = 0;

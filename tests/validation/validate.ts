@@ -12,6 +12,7 @@ const only = process.argv.find((a) => a.startsWith('--area='))?.slice(7);
 const areas: Record<string, () => Promise<{ default: ValidationArea }>> = {
   'channel': () => import('./channel.ts'),
   'fibre': () => import('./fibre.ts'),
+  'micrometer': () => import('./micrometer.ts'),
 };
 
 const rows: ValidationRow[] = [];
