@@ -114,7 +114,13 @@ export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<Bl
   return { order: est, ciLow: Math.min(est, Math.max(lo, est - half)), ciHigh: Math.max(est, Math.min(hi, est + half)), n: pixels, se, blocks: units };
 }
 
-const NEIGHBOURS = [[1, 0], [-1, 1], [0, 1], [1, 1]] as const;
+/** Offsets (dx, dy) to the blocks after a block within Chebyshev distance `m` (each pair once). */
+function neighbourOffsets(m: number): [number, number][] {
+  const out: [number, number][] = [];
+  for (let dy = 0; dy <= m; dy++) for (let dx = -m; dx <= m; dx++) if (dy > 0 || dx > 0) out.push([dx, dy]);
+  return out;
+}
+const NEIGHBOURS = neighbourOffsets(1);
 
 /**
  * Degrees of freedom for Student's t with `units` blocks: half of units - 1 (at least 1). The neighbour
