@@ -610,7 +610,7 @@ export function App() {
       )}
 
       {showSetups && (
-        <SetupsPanel store={setupStore} applied={session?.setup ?? null} canApply={!!session}
+        <SetupsPanel store={setupStore} applied={session?.setup ?? null} canApply={!!session} lengths={session ? calibrationWords(calibration) : null}
           onApply={(s) => recalibrate({ type: 'applySetup', setup: s ? applied(s) : null }, s ? `Set-up "${s.name}" applied to every image of this session. ` : 'The set-up was removed from this session. ')}
           onError={(m) => say('error', m)} onClose={() => setShowSetups(false)} />
       )}

@@ -15,6 +15,8 @@ interface Props {
   /** Whether a session is open to apply a set-up to. */
   canApply: boolean;
   onApply(s: SetupRecord | null): void;
+  /** What the open session's lengths use now and where it came from (app/setups/calibration.ts), null without a session. */
+  lengths?: string | null;
   onError(message: string): void;
   onClose(): void;
 }
@@ -96,7 +98,8 @@ export function SetupsPanel(p: Props) {
         <button onClick={() => { setDraft(newSetup(newId(), '')); setDirty(false); }}>New set-up</button>
         <button className="quiet" onClick={p.onClose} aria-label="Close the set-ups">Close</button>
       </header>
-      <p className="note">A set-up describes the microscope once: polarisers, compensator, lamp, pixel size and the sample's sign. Applied to a session, it is used for all its images (its pixel size replaces the one in the files).</p>
+      <p className="note">A set-up describes the microscope once: polarisers, compensator, lamp, pixel size and the sample's sign. Applied to a session, it is used for all its images (its pixel size replaces the one in the files and one chosen earlier from a micrometer image; a micrometer pixel size chosen later replaces the set-up's).</p>
+      {p.lengths && <p className="note" data-testid="setups-session-lengths">This session's lengths now: <strong>{p.lengths}</strong>.</p>}
       <div className="setups-body">
         <div className="setups-list">
           <h3>Saved</h3>

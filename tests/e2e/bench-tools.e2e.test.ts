@@ -160,6 +160,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     // the header's set-up line names the set-up and the pixel size it gives, with where that came from; applying it says so
     await expect.poll(() => text('setup-button'), { timeout: 5_000 }).toBe('Set-up: Bench 2, 10x red plate · 0.345 µm/px (objective and camera)');
     await page.getByText(/^Set-up "Bench 2, 10x red plate" applied to every image of this session\. Lengths in this session now use 0\.345 µm\/px/).waitFor({ timeout: 5_000 });
+    await expect.poll(() => text('setups-session-lengths'), { timeout: 5_000 }).toContain('0.345 µm/px from the set-up "Bench 2, 10x red plate"');
     await page.getByRole('button', { name: 'Close the set-ups' }).click();
     await expect.poll(() => text('image-facts'), { timeout: 5_000 }).toContain('0.345 µm/px from the set-up "Bench 2, 10x red plate": objective 10× and camera pixel 3.45 µm');
     await expect.poll(() => text('save-state'), { timeout: 10_000 }).toBe('Saved on this device');
