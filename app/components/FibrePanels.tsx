@@ -78,7 +78,8 @@ interface DiameterProps {
   pixelSize: SessionPixelSize | null;
   /**
    * Relative standard uncertainty (k = 1) of the session's pixel size, when its calibration gives one (a
-   * micrometer's `uncertainty`); used when the form's own field is empty.
+   * micrometer's `uncertainty`); used when the form's own field is empty. Without it, an `uncertainty` carried
+   * by the `pixelSize` record is used.
    */
   pixelSizeUncertainty?: number | null;
   /** The diameters kept with the session for the image shown, and the form and command line that made them (shown after a reload too). */
@@ -89,7 +90,14 @@ interface DiameterProps {
   handle?: Ref<PanelHandle>;
 }
 
-export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty, stored, onMarks, onResult, handle }: DiameterProps) {
+/** The relative uncertainty a session pixel-size record carries (a micrometer's `uncertainty`), if any. */
+function recordUncertainty(p: SessionPixelSize | null): number | null {
+  const u = (p as { uncertainty?: unknown } | null)?.uncertainty;
+  return typeof u === 'number' && u >= 0 ? u : null;
+}
+
+export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, stored, onMarks, onResult, handle }: DiameterProps) {
+  const pixelSizeUncertainty = givenU ?? recordUncertainty(pixelSize);
   const [s, setS] = useState<DiameterForm>(DEFAULT_DIAMETER_FORM);
   // The pixel size's relative uncertainty, typed in % (k = 1); the document keeps the value it was measured with.
   const [uncertaintyPct, setUncertaintyPct] = useState('');
