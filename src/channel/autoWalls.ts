@@ -370,7 +370,9 @@ function coarseLines(features: Plane[], intensities: number, minSeparation: numb
     if (dk * dPhi > maxTaper) return false;
     return Math.abs((wraps ? -r : r) - r1) >= minSep;
   });
-  if (second < 0 || !(acc[second] > 0.1 * acc[best])) {
+  // A thin or faint second wall votes far less than a broad dark one (votes go with the squared gradient),
+  // so the bar is low; the strips decide whether a wall is really there.
+  if (second < 0 || !(acc[second] > 0.03 * acc[best])) {
     throw new InputError('no second wall roughly parallel to the strongest edge was found', 'Give the walls by hand, or crop the image to the channel');
   }
   // Line 2 as voted (normal phi2, offset r2 in working px); its point nearest the image centre,
