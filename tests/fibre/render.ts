@@ -4,7 +4,8 @@
  * `sigmaPx` (so each edge is the analytic edge-spread profile Phi(distance / sigma)) and area-sampled
  * over each pixel (4 x 4 sub-samples). The geometric width is therefore a fact of the rendering.
  */
-import { normalCdf } from '../../src/fibre/index.ts';
+// The fast table form of Phi (within 1e-14 of the series, tests/fibre/erf.test.ts): the renderer calls it millions of times.
+import { normalCdfFast as normalCdf } from '../../src/fibre/erf.ts';
 import type { Plane } from '../../src/common/plane.ts';
 
 export interface RenderedFibre {
