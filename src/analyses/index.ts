@@ -13,7 +13,7 @@ export type {
 export {
   analysePlate, analysePlatePair, analyseFourAngle, readPlateField, opticsResult, confidenceStats, retardanceMedian,
   calibrationJson, trainOf, DEFAULT_ANGLES_DEG, analysePlateProfile, oneImageGaps, withholdOrder, withholdProfile,
-  ONE_IMAGE_MIN_RETARDANCE_NM, ONE_IMAGE_AXIS_TOLERANCE_DEG,
+  ONE_IMAGE_MIN_RETARDANCE_NM, ONE_IMAGE_MEASURED, ONE_IMAGE_AXIS_TOLERANCE_DEG,
 } from './optics.ts';
 export type { DiameterAnalysisOptions, DiameterDocument } from './diameter.ts';
 export { analyseDiameter } from './diameter.ts';
