@@ -9,6 +9,8 @@ export const MICROMETER_LIMITS = {
   minLines: 5,
   /** Divisions to measure over for a reliable calibration (common practice, no source). */
   recommendedDivisions: 20,
+  /** Fewer divisions than this: a loud warning (too few to tell a ruler's finest ticks from its every 5th or 10th). */
+  fewDivisions: 10,
   /** Smallest period the ticks can be located at, px (below it the ticks are not resolved). */
   minPeriodPx: 3,
   /** RMS residual of the tick positions above this fraction of the period: a loud warning. */

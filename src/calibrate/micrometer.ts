@@ -140,7 +140,10 @@ export function calibrateFromMicrometer(grey: Plane, options: MicrometerOptions)
     warnings.push(`${g.missingLines} tick(s) inside the measured span were not found (a gap, dirt or a faint tick); the count went on across them`);
   }
   if (g.rejectedLines > 0) warnings.push(`${g.rejectedLines} tick(s) off the regular grid were left out`);
-  if (g.divisions < L.recommendedDivisions) {
+  if (g.divisions < L.fewDivisions) {
+    warnings.push(`CHECK THE RULER: only ${g.divisions} divisions measured; if the ruler's finest ticks were too faint to find, ` +
+      `the divisions counted are every 5th or 10th and the pixel size that many times too large; image ${L.recommendedDivisions} or more divisions`);
+  } else if (g.divisions < L.recommendedDivisions) {
     warnings.push(`only ${g.divisions} divisions measured: ${L.recommendedDivisions} or more give a more reliable calibration`);
   }
   if (k > 2.3) warnings.push(`few ticks: the interval uses k = ${k.toFixed(2)} (Student t, ${c.dof.toFixed(0)} degrees of freedom) instead of 2`);

@@ -510,20 +510,26 @@ function finestDivisor(sp: StripProfiles, lines: StripLines[], fit: GridFit, see
 
 /**
  * Whether the ticks found alternate in length, every second one longer, as the 5th and 10th ticks of
- * a micrometer do when the division ticks between them were not found: the mean lengths at even and
- * odd index differ by more than 4 standard errors (Welch) and by 30 %, with 3 or more ticks in each.
+ * a micrometer do when the division ticks between them were not found: with 2 or more ticks at even
+ * and at odd index, the longer group's mean is 30 % above the other's, and either every tick of it is
+ * longer than every tick of the other by 15 % or (with 3 or more in each) the means differ by more
+ * than 4 standard errors (Welch).
  */
 function alternatingLengths(ticks: FittedTick[]): boolean {
   const even = ticks.filter((t) => t.used && t.index % 2 === 0).map((t) => t.lengthPx);
   const odd = ticks.filter((t) => t.used && t.index % 2 !== 0).map((t) => t.lengthPx);
-  if (even.length < 3 || odd.length < 3) return false;
+  if (even.length < 2 || odd.length < 2) return false;
   const stat = (v: number[]) => {
     const m = v.reduce((a, b) => a + b, 0) / v.length;
-    return { m, v: v.reduce((a, b) => a + (b - m) ** 2, 0) / (v.length - 1) / v.length };
+    return { m, v: v.length > 1 ? v.reduce((a, b) => a + (b - m) ** 2, 0) / (v.length - 1) / v.length : Infinity };
   };
   const a = stat(even), b = stat(odd);
+  const [long, short] = a.m >= b.m ? [even, odd] : [odd, even];
   const lo = Math.min(a.m, b.m), hi = Math.max(a.m, b.m);
-  return hi - lo > 4 * Math.sqrt(a.v + b.v) && hi > 1.3 * lo;
+  if (!(hi > 1.3 * lo)) return false;
+  const separated = Math.min(...long) > 1.15 * Math.max(...short);
+  const welch = even.length >= 3 && odd.length >= 3 && hi - lo > 4 * Math.sqrt(a.v + b.v);
+  return separated || welch;
 }
 
 interface Candidate { normalRad: number; sp: StripProfiles; lines: StripLines[]; seed: GridSeed; polarity: 'dark' | 'bright' }

@@ -138,6 +138,7 @@ export function coverageScene(seed: number): { scene: RulerScene; nominalDivisio
   return { scene, nominalDivisionUm: D, toleranceUm };
 }
 
+/** One coverage case: error / u_c, k and nu_eff, or `refused` (an InputError or a loud warning: no number to rely on). */
 export interface CoverageCase { seed: number; z: number; k: number; dof: number; refused: boolean }
 
 /** z = error / u_c and k for every coverage case (refusals marked). */
@@ -146,7 +147,8 @@ export function runCoverage(count: number, firstSeed = 1): CoverageCase[] {
   for (let seed = firstSeed; seed < firstSeed + count; seed++) {
     const { scene, nominalDivisionUm, toleranceUm } = coverageScene(seed);
     const r = calibrateScene(scene, nominalDivisionUm, toleranceUm);
-    if ('refused' in r) out.push({ seed, z: NaN, k: NaN, dof: NaN, refused: true });
+    // A refusal, or a number flagged with a loud warning (not to be relied on), counts as no number.
+    if ('refused' in r || r.c.warnings.some((w) => w.startsWith('CHECK THE RULER'))) out.push({ seed, z: NaN, k: NaN, dof: NaN, refused: true });
     else out.push({ seed, z: r.error / r.c.relativeUncertainty, k: r.c.coverageFactor, dof: r.c.effectiveDof, refused: false });
   }
   return out;
@@ -203,10 +205,10 @@ export function coverageRows(cases: CoverageCase[], scaled: boolean): Validation
   const label = `${cases.length} seeded rulers 256 x 192 (random angle, 5-14 px divisions, polarity, blur, noise, lamp, tolerance, line errors)`;
   const [lo, hi] = spreadBand(done);
   rows.push(within(AREA, label, 'coverage % of the stated interval (95.45 %)', coverageRate(cases), COVERAGE_WINDOW[0], COVERAGE_WINDOW[1], '%',
-    `${refusals} refused; binomial SD at 95.45 %: ${(100 * Math.sqrt((0.9545 * 0.0455) / done)).toFixed(2)} %`));
+    `${refusals} refused or flagged; binomial SD at 95.45 %: ${(100 * Math.sqrt((0.9545 * 0.0455) / done)).toFixed(2)} %`));
   rows.push(within(AREA, label, 'spread (SD) of the normal scores of error / u', scoreSpread(cases), +lo.toFixed(3), +hi.toFixed(3), '',
     '1 when the stated uncertainties are right; 99 % band for this many cases'));
-  rows.push(atMost(AREA, label, 'refused %', (100 * refusals) / cases.length, 5, '%', 'a refusal gives no number: allowed on the faintest rulers'));
+  rows.push(atMost(AREA, label, 'refused or flagged %', (100 * refusals) / cases.length, 5, '%', 'no number, or one under a loud warning: allowed on the faintest rulers'));
   if (scaled) {
     for (const scale of [0.8, 1.2]) {
       const spread = scoreSpread(cases, scale);
