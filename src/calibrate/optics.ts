@@ -1,5 +1,5 @@
 /**
- * Pixel size from the optical train (domain.md §8): size in the object = sensor pixel x binning /
+ * Pixel size from the optical train (docs/methods.md, "Pixel size"): size in the object = sensor pixel x binning /
  * (objective magnification x intermediate (camera-adapter, tube-lens) magnification).
  */
 import { InputError } from '../common/errors.ts';

@@ -48,7 +48,7 @@ describe('retarda calibrate', () => {
   it('gives the pixel size from the optics alone, and cross-checks it against the image', async () => {
     const optics = (await run(['--camera-pixel-um', '5.86', '--objective-mag', '20', '--adapter-mag', '0.5', '--json']))
       .json as Record<string, number>;
-    // domain.md §8 [M sensor numbers; D arithmetic]: 5.86 um at 20x and 0.5x = 0.586 um/px
+    // Closed form: 5.86 um / (20 x 0.5) = 0.586 um/px
     expect(optics.umPerPx).toBeCloseTo(0.586, 12);
     const cross = await run([ruler, '--division-um', '10', '--camera-pixel-um', '5.86', '--objective-mag', '20']);
     // Warnings stand in the table beside the number.

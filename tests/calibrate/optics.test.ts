@@ -3,15 +3,15 @@ import { rayleighResolutionUm, umPerPxFromOptics } from '../../src/calibrate/ind
 
 describe('umPerPxFromOptics: sensor pixel x binning / (objective x intermediate)', () => {
   it('reproduces the worked examples', () => {
-    // domain.md §8 [M sensor numbers; D arithmetic]: 3.45 um at 10x and 1x = 0.345 um/px
+    // Closed form: 3.45 um / (10 x 1) = 0.345 um/px (a common sensor pitch, from memory)
     expect(umPerPxFromOptics({ cameraPixelUm: 3.45, objectiveMagnification: 10, intermediateMagnification: 1 }))
       .toBeCloseTo(0.345, 12);
-    // domain.md §8: 6.5 um (sCMOS) at 20x = 0.325 um/px
+    // Closed form: 6.5 um (a common sCMOS pitch, from memory) / 20 = 0.325 um/px
     expect(umPerPxFromOptics({ cameraPixelUm: 6.5, objectiveMagnification: 20 })).toBeCloseTo(0.325, 12);
-    // domain.md §8: 5.86 um at 20x and 0.5x = 0.586 um/px
+    // Closed form: 5.86 um / (20 x 0.5) = 0.586 um/px
     expect(umPerPxFromOptics({ cameraPixelUm: 5.86, objectiveMagnification: 20, intermediateMagnification: 0.5 }))
       .toBeCloseTo(0.586, 12);
-    // domain.md §8: 2.4 um at 40x = 0.06 um/px
+    // Closed form: 2.4 um / 40 = 0.06 um/px
     expect(umPerPxFromOptics({ cameraPixelUm: 2.4, objectiveMagnification: 40 })).toBeCloseTo(0.06, 12);
   });
 
@@ -29,7 +29,7 @@ describe('umPerPxFromOptics: sensor pixel x binning / (objective x intermediate)
 
 describe('rayleighResolutionUm = 0.61 lambda / NA', () => {
   it('gives 1.342 um at 0.55 um and NA 0.25', () => {
-    // domain.md §8 [D/M]: Rayleigh r = 0.61 lambda/NA (0.55 um, NA 0.25 -> 1.342 um)
+    // Rayleigh criterion r = 0.61 lambda / NA (from memory): 0.61 x 0.55 um / 0.25 = 1.342 um (closed form)
     expect(rayleighResolutionUm(550, 0.25)).toBeCloseTo(1.342, 3);
   });
   it('rejects an NA above the largest real immersion objectives', () => {

@@ -1,6 +1,5 @@
 /**
- * 1D micrometer profiles as in domain.md §13 ("synthetic 1D profiles as described in each row"):
- * 2048 point samples of 1 - depth * sum_m exp(-(x - c_m)^2 / (2 s^2)), Gaussian dark lines of FWHM 3 px
+ * 1D micrometer profiles (their period is the construction): 2048 point samples of 1 - depth * sum_m exp(-(x - c_m)^2 / (2 s^2)), Gaussian dark lines of FWHM 3 px
  * (s = 3 / 2.3548), c_m = x0 + m P, plus seeded Gaussian noise.
  */
 import { gaussianNoise } from '../fibre/render.ts';
