@@ -43,9 +43,19 @@ export function WithheldCell({ testId }: { testId: string }) {
   return <td data-testid={testId} className="not-determined">{NOT_DETERMINED}</td>;
 }
 
-/** The first clause of a reason part, what is missing, e.g. "no sample-free area" or "the sample retardance is not known". */
+/**
+ * The first clause of a reason part, what is missing, e.g. "no sample-free area" or "the sample retardance is not
+ * known": the text before the first ":", ";", ", so ", ", where " or ", and " outside parentheses.
+ */
 export function headline(part: string): string {
-  return part.split(/:|;|, (?:so|where|and) /)[0].trim();
+  let depth = 0;
+  for (let i = 0; i < part.length; i++) {
+    const c = part[i];
+    if (c === '(') depth++;
+    else if (c === ')') depth = Math.max(0, depth - 1);
+    else if (depth === 0 && (c === ':' || c === ';' || /^, (?:so|where|and) /.test(part.slice(i, i + 8)))) return part.slice(0, i).trim();
+  }
+  return part.trim();
 }
 
 /**

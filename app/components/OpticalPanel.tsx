@@ -6,7 +6,7 @@
  */
 import { useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
 import {
-  ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM,
+  ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM, oneImageGaps,
   type OpticsResult, type PlateReadingOptions, type ProfileRequest, type ProfileResult, type TrainOptions,
 } from '../../src/analyses/index.ts';
 import type { MatchSpace, Rect } from '../../src/optics/index.ts';
@@ -18,7 +18,8 @@ import { DEFAULT_OPTICAL_FORM, type OpticalForm, type OpticsKind, type StoredOpt
 import { LegendWheel } from './LegendWheel.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
 import { Undetermined } from './Results.tsx';
-import { WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
+import { headline, WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
+import type { OrientationField } from '../../src/orientation/index.ts';
 import { rectText, type ViewerBox } from './imageRectangles.ts';
 import { channelArgs, commandLine, knownRetardanceArgs, plateReadingArgs, quote, trainArgs, type KnownRetardance } from './commandLines.ts';
 
@@ -104,6 +105,20 @@ function knownOf(s: Settings): KnownRetardance {
   const sampleRetardanceToleranceNm = num(s.sampleRetardanceToleranceNm, 'Sample retardance tolerance');
   if (sampleRetardanceNm === undefined && sampleRetardanceToleranceNm !== undefined) throw new Error('Sample retardance: give the retardance with its tolerance');
   return { sampleRetardanceNm, sampleRetardanceToleranceNm };
+}
+
+/**
+ * What the analysis withholds one image's S for even with everything the form can give (sample-free area, a
+ * sample retardance above the floor, the axis along the compensator): asked of the analysis itself
+ * (oneImageGaps), so the form promises nothing the result will not keep. Null when nothing is left, or when
+ * the analysis cannot be asked this way.
+ */
+function oneImageNeverWhy(compensatorDeg: number): string | null {
+  try {
+    const gaps = oneImageGaps({ background: { x: 0, y: 0, width: 1, height: 1 }, sampleRetardanceNm: Math.max(ONE_IMAGE_MIN_RETARDANCE_NM, 1) * 2 }, compensatorDeg,
+      { ambiguity: 'mirror-about-compensator' } as OrientationField, compensatorDeg, true);
+    return gaps.length ? gaps.join('; ') : null;
+  } catch { return null; }
 }
 
 /** Whether a form text parses (for the checklist; the run reports what is wrong). */
@@ -328,6 +343,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
         : { ok: true, text: `reference axis ${axisAcross(axis, compDeg) ? 'across' : 'along'} the compensator's slow axis` },
   ] : [];
   const missing = needs.filter((n) => !n.ok).length;
+  const never = kind === 'plate' ? oneImageNeverWhy(Number.isFinite(compDeg) ? compDeg : 45) : null;
 
   const r = stored;
   return (
@@ -340,11 +356,15 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
 
       {kind === 'plate' && (
         <div className="one-image" data-testid="one-image-needs">
-          <p className={missing ? 'note warn' : 'note'} data-testid="one-image-status">
-            {missing
-              ? <><strong>S will be “not determined”</strong> until one image has all it needs:</>
-              : <><strong>One image can give S</strong> with these settings, if the channel lies along or across the compensator.</>}
+          <p className={missing || never ? 'note warn' : 'note'} data-testid="one-image-status">
+            {never
+              ? <><strong>One image does not give S</strong> (it is shown as “not determined”): {headline(never)}. It gives the orientation map and the
+                retardance. For S, read two images with the optics turned 45° <button className="small" data-testid="switch-plate2" onClick={() => applyRemedy('plate2')}>Use two images</button></>
+              : missing
+                ? <><strong>S will be “not determined”</strong> until one image has all it needs:</>
+                : <><strong>One image can give S</strong> with these settings, if the channel lies along or across the compensator.</>}
           </p>
+          {never && <p className="note">What the reading uses:</p>}
           <ul className="needs">{needs.map((n) => <li key={n.text} className={n.ok ? 'ok' : 'missing'}><span aria-hidden="true">{n.ok ? '✓' : '✗'}</span> {n.text}</li>)}</ul>
           {backgroundField}
           <label className="field">

@@ -125,6 +125,17 @@ describe('the reasons beside withheld one-image numbers', () => {
     expect(remediesFor(gaps.join('; '))).toEqual(['background', 'retardance', 'axis', 'plate2']);
   });
 
+  it('with everything given, what the analysis still withholds one image\'s S for is one part, headed by its first clause outside parentheses', () => {
+    const gaps = oneImageGaps({ background: { x: 0, y: 0, width: 4, height: 4 }, sampleRetardanceNm: 2 * ONE_IMAGE_MIN_RETARDANCE_NM }, 45, field, 45, true);
+    for (const g of gaps) {
+      expect(reasonParts(g)).toEqual([g]);
+      // the headline is a leading piece of the reason, with its parentheses closed
+      expect(g.startsWith(headline(g))).toBe(true);
+      expect(headline(g).split('(').length).toBe(headline(g).split(')').length);
+    }
+    if (gaps.length) expect(remediesFor(gaps.join('; '))).toEqual(['plate2']);
+  });
+
   it('a retardance below the floor and a channel axis call for two images only', () => {
     const gaps = oneImageGaps({ background: { x: 0, y: 0, width: 4, height: 4 }, sampleRetardanceNm: ONE_IMAGE_MIN_RETARDANCE_NM / 2 }, 45, field, 80, true);
     expect(gaps).toHaveLength(2);
