@@ -382,8 +382,9 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
             <summary>Why one image needs these</summary>
             One colour fits many (angle, retardance) pairs, so the sample retardance must be known, and the colours are calibrated
             on a sample-free area. One image also cannot tell a direction from its mirror image about the compensator's slow axis
-            (now {f(compDeg)}°): both give the same colour. Lay the channel or fibre axis along that slow axis (or across it): then
-            S along the axis is exact. For other directions take a second image with the optics turned by 45° (two-image reading).
+            (now {f(compDeg)}°): both give the same colour. Lay the channel or fibre axis along that slow axis (or across it): a rod and its
+            mirror image then give the same S. Even so, tested on independent renderings, one image did not read S within 0.03, so it
+            shows no S; a second image with the optics turned by 45° (two-image reading) does.
           </details>
           {gap !== null && gap > ONE_IMAGE_AXIS_TOLERANCE_DEG && (
             <p className="note warn">Your reference axis ({f(axis)}°) is {f(gap)}° from the compensator's slow axis (or its normal): one image

@@ -222,7 +222,9 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
     mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
     colourCellsSearched: reading.cellsMatched,
   });
-  const axis = o.axisDeg ?? result.profile?.axisDeg ?? (Number.isFinite(result.directorDeg) ? result.directorDeg : null);
+  // The axis the numbers refer to: the one given, or the channel's. (The measured director is no guide: it is
+  // itself folded by the mirror choice.)
+  const axis = o.axisDeg ?? result.profile?.axisDeg ?? null;
   const gaps = oneImageGaps(o, compDeg, field, axis, result.profile !== null);
   return { result: gaps.length ? withholdOrder(result, gaps) : result, field };
 }
@@ -252,7 +254,7 @@ export const ONE_IMAGE_MIN_RETARDANCE_NM = 100;
  * (rods near the compensator axis, the usual case in a channel laid along it) the angle is least determined.
  * The two-image reading met 0.03 on the same renderings.
  */
-export const ONE_IMAGE_MEASURED = 'one image read S 0.11-0.6 off per bin on independent test renderings with everything it needs given (sample retardance 80-500 nm; within 0.03 only near 250 nm), so its order numbers are withheld; take the second image with polariser, compensator and analyser turned together by 45 deg (plate2)';
+export const ONE_IMAGE_MEASURED = 'one image read S 0.11-0.6 off per bin on independent test renderings with everything it needs given (sample retardance 80-500 nm, within 0.03 only near 250 nm), so it gives no S: take the second image with polariser, compensator and analyser turned together by 45 deg (plate2)';
 
 /**
  * Largest angle between the reference axis and the compensator axis (or its normal) for a one-image S, deg.

@@ -90,7 +90,7 @@ export function compensatorAxisAdvice(axisDeg: number, compensatorDeg: number, t
   const d = Math.abs(wrapAxialRad((axisDeg - compensatorDeg) * DEG)) / DEG;
   const offset = Math.min(d, 90 - d);
   const exact = offset < 1e-6;
-  const base = 'For one plate image, lay the channel or fibre axis along the compensator slow axis (or across it): cos 2(theta - axis) is then what the colour measures, and S_axis is exact.';
+  const base = 'For one plate image, lay the channel or fibre axis along the compensator slow axis (or across it): cos 2(theta - axis) is then the same for a rod and its mirror image. One image still does not give S reliably; two images (plate2) do.';
   if (offset <= toleranceDeg) return { offsetDeg: offset, exact, text: base };
   return {
     offsetDeg: offset, exact: false,
