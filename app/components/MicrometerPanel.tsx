@@ -121,7 +121,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, 
           </table>
           {other.length > 0 && <ul className="warnings" data-testid="micrometer-warnings">{other.map((w) => <li key={w}>{w}</li>)}</ul>}
           <p className="cli"><code data-testid="micrometer-cli">{stored!.commandLine}</code></p>
-          <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${active?.name ?? c.source}` })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
+          <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${active?.name ?? c.source}`, uncertainty: c.uncertainty })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
         </div>
       )}
       {pixelSize && (

@@ -108,7 +108,7 @@ export function MoreAnalyses({ ctx, work, pixelSize, calibration, opticalMapShow
       </div>
       <div hidden={tab !== 'micrometer'}><MicrometerPanel handle={panels.micrometer} ctx={ctx} pixelSize={pixelSize} stored={work?.micrometer ?? null} onUse={onPixelSize} onCalibration={onMicrometer} /></div>
       <div hidden={tab !== 'numbers'}>
-        <FibreNumbersPanel handle={panels.numbers} ctx={ctx} measuredDiameterUm={diameterUm ?? work?.diameter?.meanUm ?? null} measuredRetardanceNm={retardanceNm ?? optics?.result.retardanceNmMedian ?? null} />
+        <FibreNumbersPanel handle={panels.numbers} ctx={ctx} measuredDiameterUm={diameterUm ?? work?.diameter?.meanUm ?? null} measuredDiameter={work?.diameter ?? null} measuredRetardanceNm={retardanceNm ?? optics?.result.retardanceNmMedian ?? null} />
       </div>
     </section>
   );

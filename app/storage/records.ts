@@ -105,7 +105,8 @@ export interface StoredDiameterRun { form: DiameterForm; commandLine: string; pi
 export interface StoredMicrometer { doc: MicrometerDocument; commandLine: string }
 
 /** A pixel size the user chose for the session's lengths (from a micrometer image), and where it came from. */
-export interface SessionPixelSize { umPerPx: number; from: string }
+/** `uncertainty`: relative standard uncertainty (k = 1) when the size came from a calibration that gives one. */
+export interface SessionPixelSize { umPerPx: number; from: string; uncertainty?: number }
 
 export interface SessionRecord {
   schemaVersion: number;
@@ -142,7 +143,7 @@ const OPTICAL_FORM_KEYS = keySet<OpticalForm>(Object.fromEntries(Object.keys(DEF
 const DIAMETER_RUN_KEYS = keySet<StoredDiameterRun>({ form: true, commandLine: true, pixelSizeFrom: true });
 const DIAMETER_FORM_KEYS = keySet<DiameterForm>({ umPerPx: true, stepPx: true, averagePx: true, polarity: true, backgroundDegree: true });
 const MICROMETER_KEYS = keySet<StoredMicrometer>({ doc: true, commandLine: true });
-const PIXEL_SIZE_KEYS = keySet<SessionPixelSize>({ umPerPx: true, from: true });
+const PIXEL_SIZE_KEYS = keySet<SessionPixelSize>({ umPerPx: true, from: true, uncertainty: true });
 
 export const EMPTY_WORK: ImageWork = { walls: null, wallsFound: false, orient: null, profile: null };
 
@@ -247,7 +248,8 @@ function restoreMicrometer(v: unknown): StoredMicrometer | null {
 /** The session's chosen pixel size: a positive finite number of um per pixel and where it came from. */
 function restorePixelSize(v: unknown): SessionPixelSize | null {
   if (!isObj(v) || !num(v.umPerPx) || (v.umPerPx as number) <= 0) return null;
-  return withUnknown(v, PIXEL_SIZE_KEYS, { umPerPx: v.umPerPx as number, from: str(v.from, 'a micrometer image') });
+  const u = typeof v.uncertainty === 'number' && Number.isFinite(v.uncertainty) && v.uncertainty >= 0 ? { uncertainty: v.uncertainty } : {};
+  return withUnknown(v, PIXEL_SIZE_KEYS, { umPerPx: v.umPerPx as number, from: str(v.from, 'a micrometer image'), ...u });
 }
 
 function restoreImageMeta(v: unknown): ImageMeta | null {
