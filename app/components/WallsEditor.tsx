@@ -14,7 +14,7 @@ function parse(t: string): Segment | null {
 }
 
 const fitText = (f: WallFit | undefined) =>
-  f && Number.isFinite(f.residualPx) ? `found: edge points ${f.residualPx.toFixed(2)} px RMS off the line, ${f.points} of ${f.strips} strips` : 'drawn or typed';
+  f && Number.isFinite(f.residualPx) ? `found: ±${f.residualPx.toFixed(2)} px RMS, ${f.points}/${f.strips} strips` : 'drawn or typed';
 
 export function WallsEditor({ walls, found, fit, onChange }: {
   walls: Channel; found: boolean; fit: [WallFit, WallFit] | null | undefined; onChange: (c: Channel) => void;
@@ -30,11 +30,11 @@ export function WallsEditor({ walls, found, fit, onChange }: {
   };
   return (
     <table className="results compact walls-editor" data-testid="walls-editor">
-      <thead><tr><th>wall</th><th>x1, y1, x2, y2 (px)</th><th>how placed</th></tr></thead>
+      <thead><tr><th>wall</th><th>x1, y1, x2, y2 (px)</th><th title="How far the wall's edge points lay from its line, and how many strips across the channel placed one">placed</th></tr></thead>
       <tbody>
         {([0, 1] as const).map((k) => (
           <tr key={k}>
-            <td>{k === 0 ? 'first (s = -1)' : 'second (s = +1)'}</td>
+            <td>{k === 0 ? 's = −1' : 's = +1'}</td>
             <td>
               <input aria-label={`wall ${k + 1} end points`} value={draft[k]} size={26} aria-invalid={bad[k]}
                 onChange={(e) => { const v = e.target.value; setDraft((d) => (k === 0 ? [v, d[1]] : [d[0], v])); }}

@@ -56,7 +56,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
   const profileWithFoundWalls = async (shotName: string) => {
     await page.getByRole('button', { name: 'Find walls' }).click();
     // each found wall's row in the walls table gives its fit
-    await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: edge points .* px RMS/).count(), { timeout: 60_000 }).toBe(2);
+    await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: ±.* px RMS/).count(), { timeout: 60_000 }).toBe(2);
     await idle();
     await page.getByRole('button', { name: 'Profile across the channel' }).click();
     await page.getByTestId('profile-results').waitFor({ timeout: 120_000 });

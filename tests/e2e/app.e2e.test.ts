@@ -129,7 +129,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
   it('finds the walls and shows the same core, skin and ratio as analyseProfile in Node', async () => {
     await page.getByRole('button', { name: 'Find walls' }).click();
     // each found wall's row in the walls table gives its fit
-    await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: edge points .* px RMS/).count(), { timeout: 60_000 }).toBe(2);
+    await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: ±.* px RMS/).count(), { timeout: 60_000 }).toBe(2);
     await page.getByRole('button', { name: 'Profile across the channel' }).click();
     await page.getByTestId('core').waitFor({ timeout: 60_000 });
     await shot('05-profile');

@@ -186,7 +186,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
       await expect.poll(() => text('image-facts'), { timeout: 20_000 }).toContain('320 × 200');
       await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 30_000 });
       await page.getByRole('button', { name: 'Find walls' }).click();
-      await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: edge points .* px RMS/).count(), { timeout: 60_000 }).toBe(2);
+      await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: ±.* px RMS/).count(), { timeout: 60_000 }).toBe(2);
       await page.getByRole('button', { name: 'Profile across the channel' }).click();
       await page.getByTestId('core').waitFor({ timeout: 60_000 });
       await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 30_000 });
