@@ -143,8 +143,9 @@ interface Calibration {
 }
 
 /**
- * Summary of station widths given as runs (one per fibre). The interval (GUM, docs/methods.md,
- * "Uncertainty"): one fibre: u_stat = SD / sqrt(nEff) with nEff - 1 dof (stationStats), combined with
+ * Summary of station widths given as runs (one per fibre). The interval (GUM, docs/methods.md §12.5, "Fibre
+ * diameters: summary and interval", rules in §11.5 "Uncertainty"): one fibre: u_stat = SD / sqrt(nEff) with
+ * nEff - 1 dof (stationStats), combined with
  * `sigmaTermPx` (the pooled PSF sigma's share, infinite dof); several fibres: the fibre means are the
  * sampling unit, u = SD(means) / sqrt(k), k - 1 dof (each fibre's own sigma error is part of that scatter).
  * In um the pixel size adds meanPx x p x u(p)/p (infinite dof).

@@ -1,5 +1,6 @@
 /**
- * Sub-pixel edge location on a 1D profile (docs/methods.md §12.3-12.4, "Edge location", "Blurred-bar fit"):
+ * Sub-pixel edge location on a 1D profile (docs/methods.md §12.3-12.4, "Edge location", "Fibre diameter:
+ * blurred-bar fit"):
  * - start value: peak of |dI/dx| (central differences) refined by the 3-point parabola
  *   x = i + (g[i-1] - g[i+1]) / (2 (g[i-1] - 2 g[i] + g[i+1]));
  * - final value: least-squares fit of the edge-spread function of a Gaussian-blurred step,

@@ -1,6 +1,6 @@
 /**
  * Expression of uncertainty after the GUM (JCGM 100:2008, "Evaluation of measurement data - Guide to the
- * expression of uncertainty in measurement"; docs/methods.md, "Uncertainty"): standard uncertainties
+ * expression of uncertainty in measurement"; docs/methods.md §11.5, "Uncertainty"): standard uncertainties
  * (k = 1) combined by the law of propagation for independent inputs, u_c^2 = sum (c_i u_i)^2 (GUM 5.1.2),
  * effective degrees of freedom by the Welch-Satterthwaite formula (GUM G.4.1), and the expanded 95 %
  * interval y +- k u_c with k = t(0.975, nu_eff) (GUM G.3 and G.4).

@@ -4,8 +4,8 @@ import type { Image } from '../../src/image/types.ts';
 import type { Channel } from '../../src/channel/index.ts';
 
 /**
- * A channel of uniform, known order next to strong wall edges (the check in docs/methods.md, "Structure tensor
- * next to a wall"): straight stripes at `stripeDeg` from the channel axis fill the channel, and the walls are dark
+ * A channel of uniform, known order next to strong wall edges (the check in docs/methods.md §10.6, "The structure
+ * tensor next to a wall"): straight stripes at `stripeDeg` from the channel axis fill the channel, and the walls are dark
  * bands, so every pixel's true orientation is the stripes' and S_axis = cos 2(stripeDeg) exactly (construction).
  */
 function stripedChannel(axisDeg: number, stripeDeg: number): { img: Image; channel: Channel } {
