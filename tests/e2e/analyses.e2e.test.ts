@@ -239,10 +239,13 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
    * differ from Node's in the last of its 17 digits (the two engines' floating point, seen: 1 unit in the last
    * place), never in the 5 digits shown.
    */
+  // The micrometer's relative uncertainty (k = 1) goes with its pixel size into the diameters.
+  let umPerPxU = NaN;
   const expectDiameterCli = (cli: string | undefined, file: string) => {
-    const m = /^retarda diameter (\S+) --um-per-px (\S+) --step-px 8$/.exec(cli ?? '');
+    const m = /^retarda diameter (\S+) --um-per-px (\S+) --um-per-px-uncertainty (\S+) --step-px 8$/.exec(cli ?? '');
     expect(m?.[1]).toBe(file);
     expect(Math.abs(Number(m?.[2]) / umPerPx - 1)).toBeLessThan(1e-12);
+    expect(Math.abs(Number(m?.[3]) / umPerPxU - 1)).toBeLessThan(1e-9); // the browser and Node may differ in the last digits
   };
   it('calibrates from the micrometer image and offers its pixel size to the session', async () => {
     await newSession();
@@ -263,6 +266,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('use-pixel-size').click();
     expect(await text('session-pixel-size')).toContain(c.umPerPx.toPrecision(5));
     umPerPx = c.umPerPx;
+    umPerPxU = c.uncertainty;
     // One calibration state: applying it says so, and the header and the status line give the same size, with the digits the
     // micrometer panel shows, and where it came from.
     await page.getByText(/^Lengths in this session now use/).waitFor({ timeout: 5_000 });
@@ -284,7 +288,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('diameter-table').waitFor({ timeout: 120_000 });
     await idle();
     await shot('28-fibre-diameter');
-    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, stepPx: 8, averagePx: 5, polarity: 'auto', backgroundDegree: 2 });
+    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: umPerPxU, stepPx: 8, averagePx: 5, polarity: 'auto', backgroundDegree: 2 });
     // One row per fibre that the analysis run in Node finds in the same file (a demo image is not an expected value).
     expect(d.fibres.length).toBeGreaterThan(0);
     expect(await page.locator('[data-testid^="diameter-mean-"]:not([data-testid^="diameter-mean-all"]):not([data-testid$="-interval"])').count()).toBe(d.fibres.length);
@@ -314,7 +318,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
 
   it('works out the fibre numbers from the measured diameter, as `retarda fibre` does', async () => {
     await tab('Fibre numbers');
-    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx, stepPx: 8 });
+    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: umPerPxU, stepPx: 8 });
     await page.getByRole('button', { name: /use the measured mean/ }).click();
     // The mean is carried over to 6 significant digits. (The browser's engine and Node's may differ in the last few
     // of the 17 digits, seen: 2e-13 relative, never in the shown ones.)
@@ -328,11 +332,17 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('fibre-results').waitFor({ timeout: 30_000 });
     await idle();
     await shot('29-fibre-numbers');
-    const r = fibreNumbersResult({ diameterUm, densityGPerCm3: 1.8, linearDensity: { value: 0.5, unit: 'dtex' }, retardanceNm: 300 });
+    // The measured mean came with its standard uncertainty and degrees of freedom (retarda diameter's uUm, dofUm).
+    const cli = (await text('fibre-cli')) ?? '';
+    const m = /^retarda fibre --diameter-um (\S+) --diameter-uncertainty-um (\S+) --diameter-dof (\S+) --density 1\.8 --linear-density-dtex 0\.5 --retardance-nm 300$/.exec(cli);
+    expect(m, cli).not.toBeNull();
+    expect(Number(m![1])).toBe(diameterUm);
+    const uncertainties = { diameterUm: Number(m![2]), diameterDof: Number(m![3]) };
+    expect(Math.abs(uncertainties.diameterUm / d.uUm! - 1)).toBeLessThan(1e-5);
+    const r = fibreNumbersResult({ diameterUm, densityGPerCm3: 1.8, linearDensity: { value: 0.5, unit: 'dtex' }, retardanceNm: 300, uncertainties });
     for (const key of ['areaUm2', 'solidTex', 'solidDtex', 'solidDenier', 'linearDensityTex', 'packingFraction', 'birefringence'] as const) {
       expect(await text(`fibre-${key}`)).toBe(formatCell(r[key]));
     }
-    expect(await text('fibre-cli')).toBe(`retarda fibre --diameter-um ${diameterUm} --density 1.8 --linear-density-dtex 0.5 --retardance-nm 300`);
   }, 60_000);
 
   it('after a reload the micrometer calibration, the session pixel size, the diameters and the compensator reading are shown again, with their settings', async () => {
@@ -356,7 +366,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
     await idle();
     await tab('Fibre diameter');
-    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx, stepPx: 8 });
+    const d = analyseDiameter(load('kestrel-fibres.png'), { pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: umPerPxU, stepPx: 8 });
     await page.getByTestId('diameter-table').waitFor({ timeout: 10_000 });
     for (const fb of d.fibres) expect(await text(`diameter-mean-${fb.index}`)).toBe(formatCell(fb.meanUm));
     expect(await text('diameter-mean-all')).toBe(formatCell(d.meanUm));
