@@ -12,7 +12,7 @@ import type { DropReason, DroppedStation, MeasuredStation } from './stations.ts'
 import { unresolvedUpperBoundPx, RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';
 import type { BarPool } from './barPool.ts';
 import { stationStats } from './stats.ts';
-import { normalQuantile } from './erf.ts';
+import { normalQuantile } from '../common/distributions.ts';
 import { combineUncertainty, expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
 
 export interface DiameterOptions {

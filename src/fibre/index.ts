@@ -2,13 +2,13 @@
 export { measureFibreDiameters, DIAMETER_DEFAULTS, DROP_REASON_TEXT } from './diameter.ts';
 export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
 export type { DropReason, DroppedStation } from './stations.ts';
-export { erf, erfc, normalCdf, normalQuantile } from './erf.ts';
+export { erf, erfc, normalCdf, normalQuantile, studentTQuantile, studentTCdf } from '../common/distributions.ts';
 export { combineUncertainty, coverageFactor, expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
 export type { UncertaintyPart, Combined, Interval } from './uncertainty.ts';
 export { fitErfEdge, fitBlurredBar, parabolaEdgeIndex } from './edgeFit.ts';
 export type { ErfEdgeFit, ErfEdgeStart, BlurredBarFit, BlurredBarStart } from './edgeFit.ts';
 export { RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';
-export { stationStats, studentTQuantile, studentTCdf } from './stats.ts';
+export { stationStats } from './stats.ts';
 export type { StationStats } from './stats.ts';
 export {
   roundAreaUm2, texFromArea, texFromDiameter, diameterUmFromTex, texToDtex, dtexToTex, texToDenier, denierToTex,

@@ -1,80 +1,10 @@
 import { median } from '../common/sampling.ts';
-import { normalQuantile } from './erf.ts';
+import { normalQuantile, studentTQuantile } from '../common/distributions.ts';
 /**
  * Station statistics: mean, SD, CV, min, max and a 95 % interval on the mean that allows for the
  * correlation of neighbouring stations (real diameter variation is smooth along a fibre, so adjacent
  * stations are not independent).
  */
-
-/** Natural log of the gamma function (Lanczos, g = 7, n = 9; about 15 digits for x > 0). */
-function lnGamma(x: number): number {
-  const c = [0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313,
-    -176.61502916214059, 12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6,
-    1.5056327351493116e-7];
-  if (x < 0.5) return Math.log(Math.PI / Math.sin(Math.PI * x)) - lnGamma(1 - x);
-  const z = x - 1;
-  let a = c[0];
-  const t = z + 7.5;
-  for (let i = 1; i < 9; i++) a += c[i] / (z + i);
-  return 0.5 * Math.log(2 * Math.PI) + (z + 0.5) * Math.log(t) - t + Math.log(a);
-}
-
-/** Continued fraction of the regularised incomplete beta function (Numerical Recipes `betacf`). */
-function betaCf(a: number, b: number, x: number): number {
-  const tiny = 1e-300;
-  let c = 1;
-  let d = 1 - ((a + b) * x) / (a + 1);
-  d = Math.abs(d) < tiny ? tiny : d;
-  d = 1 / d;
-  let h = d;
-  for (let m = 1; m <= 500; m++) {
-    const m2 = 2 * m;
-    let aa = (m * (b - m) * x) / ((a + m2 - 1) * (a + m2));
-    d = 1 + aa * d;
-    d = Math.abs(d) < tiny ? tiny : d;
-    c = 1 + aa / c;
-    c = Math.abs(c) < tiny ? tiny : c;
-    d = 1 / d;
-    h *= d * c;
-    aa = (-(a + m) * (a + b + m) * x) / ((a + m2) * (a + m2 + 1));
-    d = 1 + aa * d;
-    d = Math.abs(d) < tiny ? tiny : d;
-    c = 1 + aa / c;
-    c = Math.abs(c) < tiny ? tiny : c;
-    d = 1 / d;
-    const del = d * c;
-    h *= del;
-    if (Math.abs(del - 1) < 1e-15) break;
-  }
-  return h;
-}
-
-/** Regularised incomplete beta I_x(a, b). */
-function incompleteBeta(a: number, b: number, x: number): number {
-  if (x <= 0) return 0;
-  if (x >= 1) return 1;
-  const front = Math.exp(lnGamma(a + b) - lnGamma(a) - lnGamma(b) + a * Math.log(x) + b * Math.log(1 - x));
-  return x < (a + 1) / (a + b + 2) ? (front * betaCf(a, b, x)) / a : 1 - (front * betaCf(b, a, 1 - x)) / b;
-}
-
-/** Student-t cumulative distribution P(T <= t) for `df` degrees of freedom (df may be fractional). */
-export function studentTCdf(t: number, df: number): number {
-  const tail = 0.5 * incompleteBeta(df / 2, 0.5, df / (df + t * t));
-  return t >= 0 ? 1 - tail : tail;
-}
-
-/** Student-t quantile: the t with P(T <= t) = p, by bisection on the CDF (p in (0.5, 1)). */
-export function studentTQuantile(p: number, df: number): number {
-  let lo = 0;
-  let hi = 1;
-  while (studentTCdf(hi, df) < p) hi *= 2;
-  for (let i = 0; i < 200 && hi - lo > 1e-12 * hi; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (studentTCdf(mid, df) < p) lo = mid;
-    else hi = mid;
-  }
-  return 0.5 * (lo + hi);
-}
 
 /** One-sided 95 % normal quantile, z(0.95), for the test of a positive lag-1 correlation. */
 const LAG1_ONE_SIDED_95 = normalQuantile(0.95);

@@ -16,6 +16,7 @@
  * docs/methods.md, "Intervals for order parameters".
  */
 import type { BlockSums } from './blocks.ts';
+import { studentTQuantile as studentQuantile } from '../common/distributions.ts';
 
 /** An average with its 95 % interval and the number of pixels behind it. */
 export interface OrderStat {
@@ -174,65 +175,4 @@ export function fiellerInterval(a: number, seA: number, b: number, seB: number, 
   const disc = qb * qb - 4 * qa * qc;
   const root = Math.sqrt(Math.max(0, disc));
   return [(-qb - root) / (2 * qa), (-qb + root) / (2 * qa)];
-}
-
-/**
- * Quantile of Student's t with df degrees of freedom: the distribution function for whole df in closed
- * form (Abramowitz & Stegun 1964, eqs. 26.7.3 and 26.7.4), inverted by bisection; df above 1000 uses the
- * normal quantile. Checked against the published t table in tests/order/intervals.test.ts.
- */
-export function studentQuantile(p: number, df: number): number {
-  if (!(p > 0 && p < 1) || !(df >= 1)) return NaN;
-  const nu = Math.floor(df);
-  if (nu > 1000) return normalQuantile(p);
-  if (p < 0.5) return -studentQuantile(1 - p, nu);
-  const target = 2 * p - 1; // P(|T| < t)
-  let lo = 0, hi = 1;
-  while (studentCentral(hi, nu) < target) hi *= 2;
-  for (let i = 0; i < 80; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (studentCentral(mid, nu) < target) lo = mid; else hi = mid;
-  }
-  return 0.5 * (lo + hi);
-}
-
-/** P(|T| < t) for Student's t with whole nu degrees of freedom (Abramowitz & Stegun 26.7.3-4). */
-function studentCentral(t: number, nu: number): number {
-  const th = Math.atan(t / Math.sqrt(nu));
-  const c2 = Math.cos(th) ** 2, s = Math.sin(th);
-  if (nu % 2 === 1) {
-    if (nu === 1) return (2 / Math.PI) * th;
-    // (2/pi) [theta + sin theta (cos theta + 2/3 cos^3 theta + ... + (2.4...(nu-3))/(1.3...(nu-2)) cos^(nu-2) theta)]
-    let term = Math.cos(th), sum = term;
-    for (let k = 3; k <= nu - 2; k += 2) { term *= (c2 * (k - 1)) / k; sum += term; }
-    return (2 / Math.PI) * (th + s * sum);
-  }
-  // sin theta [1 + 1/2 cos^2 theta + (1.3)/(2.4) cos^4 theta + ... + (1.3...(nu-3))/(2.4...(nu-2)) cos^(nu-2) theta]
-  let term = 1, sum = 1;
-  for (let k = 2; k <= nu - 2; k += 2) { term *= (c2 * (k - 1)) / k; sum += term; }
-  return s * sum;
-}
-
-/**
- * Standard normal quantile by Acklam's rational approximation (relative error below 1.2e-9; P. J. Acklam,
- * "An algorithm for computing the inverse normal cumulative distribution function", 2003, from memory).
- */
-export function normalQuantile(p: number): number {
-  const a = [-3.969683028665376e1, 2.209460984245205e2, -2.759285104469687e2, 1.38357751867269e2, -3.066479806614716e1, 2.506628277459239];
-  const b = [-5.447609879822406e1, 1.615858368580409e2, -1.556989798598866e2, 6.680131188771972e1, -1.328068155288572e1];
-  const c = [-7.784894002430293e-3, -3.223964580411365e-1, -2.400758277161838, -2.549732539343734, 4.374664141464968, 2.938163982698783];
-  const d = [7.784695709041462e-3, 3.224671290700398e-1, 2.445134137142996, 3.754408661907416];
-  const pl = 0.02425;
-  let x: number;
-  if (p < pl) {
-    const q = Math.sqrt(-2 * Math.log(p));
-    x = (((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
-  } else if (p <= 1 - pl) {
-    const q = p - 0.5, r = q * q;
-    x = ((((((a[0] * r + a[1]) * r + a[2]) * r + a[3]) * r + a[4]) * r + a[5]) * q) / (((((b[0] * r + b[1]) * r + b[2]) * r + b[3]) * r + b[4]) * r + 1);
-  } else {
-    const q = Math.sqrt(-2 * Math.log(1 - p));
-    x = -(((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
-  }
-  return x;
 }

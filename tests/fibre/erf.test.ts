@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { erf, erfc, normalCdf, normalQuantile, studentTCdf, studentTQuantile, stationStats } from '../../src/fibre/index.ts';
-import { normalCdfFast } from '../../src/fibre/erf.ts';
+import { normalCdfFast } from '../../src/common/distributions.ts';
 
 describe('erf / erfc', () => {
   it('match scipy.special.erf and erfc to 1e-14', () => {

@@ -5,7 +5,7 @@
  * over each pixel (4 x 4 sub-samples). The geometric width is therefore a fact of the rendering.
  */
 // The fast table form of Phi (within 1e-14 of the series, tests/fibre/erf.test.ts): the renderer calls it millions of times.
-import { normalCdfFast as normalCdf } from '../../src/fibre/erf.ts';
+import { normalCdfFast as normalCdf } from '../../src/common/distributions.ts';
 import type { Plane } from '../../src/common/plane.ts';
 
 export interface RenderedFibre {

@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { fiellerInterval, fQuantile2, normalQuantile, studentQuantile } from '../../src/order/index.ts';
+import { fiellerInterval, fQuantile2 } from '../../src/order/index.ts';
+import { normalQuantile, studentTQuantile as studentQuantile } from '../../src/common/distributions.ts';
 
 describe('distribution quantiles behind the intervals', () => {
   it('studentQuantile matches the published two-sided 95 % t table', () => {

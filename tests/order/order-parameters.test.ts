@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { accumulateBlocks, degreesOfFreedom, freeOrderOf, orderParameters, studentQuantile, totalMoments } from '../../src/order/index.ts';
+import { accumulateBlocks, degreesOfFreedom, freeOrderOf, orderParameters, totalMoments } from '../../src/order/index.ts';
+import { studentTQuantile as studentQuantile } from '../../src/common/distributions.ts';
 import { orientationField } from '../../src/orientation/index.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { fieldOf } from '../support/fields.ts';
