@@ -5,7 +5,7 @@
  * coverage factor k = t_p(nu_eff) of Student's t distribution (GUM G.3.2, Table G.2; k -> 2 for
  * p = 95.45 % as nu_eff grows, GUM 6.3.3). docs/methods.md, "Micrometer calibration".
  */
-import { studentTwoSided } from '../common/distributions.ts';
+import { studentTQuantile, studentTwoSided } from '../common/distributions.ts';
 import { InputError } from '../common/errors.ts';
 
 /** One input's contribution to a combined standard uncertainty: c_i u(x_i) in the output's unit, and its degrees of freedom. */
@@ -38,15 +38,8 @@ export function combineUncertainties(components: UncertaintyComponent[]): { u: n
 export function coverageFactor(p: number, nu: number): number {
   if (!(p > 0 && p < 1)) throw new InputError(`coverage probability must lie between 0 and 1, got ${p}`);
   if (!(nu > 0)) throw new InputError(`degrees of freedom must be positive, got ${nu}`);
-  let lo = 0;
-  let hi = 1;
-  while (studentTwoSided(hi, nu) < p) hi *= 2;
-  for (let i = 0; i < 200 && hi - lo > 1e-12 * hi; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (studentTwoSided(mid, nu) < p) lo = mid;
-    else hi = mid;
-  }
-  return 0.5 * (lo + hi);
+  // P(|T| <= k) = p is the quantile at (1 + p) / 2.
+  return studentTQuantile(0.5 + p / 2, nu);
 }
 
 /**
