@@ -774,7 +774,7 @@ export function App() {
                 <button disabled={!!busy || !shown} onClick={() => void runFindWalls()} title="Shortcut: F">Find walls</button>
                 {walls && <button className="quiet" onClick={() => change({ type: 'walls', id: active.id, channel: null, found: false })}>Clear walls</button>}
               </p>
-              {walls && <WallsEditor walls={walls} found={!!work?.wallsFound} fit={work?.wallFit} onChange={(channel) => change({ type: 'walls', id: active.id, channel, found: false })} />}
+              {walls && <WallsEditor key={wallsText(walls.walls)} walls={walls} found={!!work?.wallsFound} fit={work?.wallFit} onChange={(channel) => change({ type: 'walls', id: active.id, channel, found: false })} />}
               {numberField('Bins across', 'bins', 2, 200, 1)}
               {numberField('Stations along', 'stations', 1, 100, 1)}
               {numberField('Core: |s| below', 'coreMax', 0.05, 1, 0.05)}

@@ -3,7 +3,7 @@
  * typed over, with how well a found wall's edge points lay on its line beside it. Dragging the handles on
  * the image and typing here change the same walls.
  */
-import { useEffect, useState } from 'react';
+import { useState } from 'react';
 import type { Channel, Segment, WallFit } from '../../src/channel/index.ts';
 
 const text = (s: Segment) => [s.x1, s.y1, s.x2, s.y2].map((v) => v.toFixed(1)).join(', ');
@@ -19,9 +19,10 @@ const fitText = (f: WallFit | undefined) =>
 export function WallsEditor({ walls, found, fit, onChange }: {
   walls: Channel; found: boolean; fit: [WallFit, WallFit] | null | undefined; onChange: (c: Channel) => void;
 }) {
+  // The parent gives this editor a key made of the walls, so new walls (dragged, found) start a fresh draft
+  // in the same render that shows them: the inputs never show the walls before.
   const [draft, setDraft] = useState<[string, string]>([text(walls.walls[0]), text(walls.walls[1])]);
   const [bad, setBad] = useState<[boolean, boolean]>([false, false]);
-  useEffect(() => { setDraft([text(walls.walls[0]), text(walls.walls[1])]); setBad([false, false]); }, [walls]);
   const commit = (k: 0 | 1) => {
     const s = parse(draft[k]);
     if (!s) { setBad((b) => (k === 0 ? [true, b[1]] : [b[0], true])); return; }
