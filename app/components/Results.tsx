@@ -14,7 +14,7 @@ export function OrientTable({ r, stale }: { r: OrientResult; stale: boolean }) {
       <table className="results" data-testid="orient-results">
         <tbody>
           <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
-          <tr><th scope="row">Order S_2D</th><td data-testid="order2d">{f(r.order2D)}</td><td>95 %: {ci(r.order2DCi[0], r.order2DCi[1])}</td></tr>
+          <tr><th scope="row">Order S_2D</th><Undetermined why={r.notDetermined?.order2D} testId="order2d">{f(r.order2D)}</Undetermined>{!r.notDetermined?.order2D && <td>95 %: {ci(r.order2DCi[0], r.order2DCi[1])}</td>}</tr>
           {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? ci(r.axisOrderCi[0], r.axisOrderCi[1]) : '–'}</td></tr>}
           <tr><th scope="row">Mean coherency</th><td data-testid="coherency">{f(r.coherencyMean)}</td><td>0 = no texture, 1 = straight lines</td></tr>
           <tr><th scope="row">Pixels used</th><td data-testid="n">{f(r.n)}</td><td>{f(r.blocks)} blocks for the interval; weights: {String(r.options.weighting)}</td></tr>

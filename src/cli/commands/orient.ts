@@ -66,7 +66,7 @@ export const orientCommand: Command = {
     const hasAxis = opts.axisDeg !== undefined;
     const table = formatTable(
       ['image', 'director deg', 'S_2D', 'ci low', 'ci high', ...(hasAxis ? ['S_axis'] : []), 'coherency', 'n'],
-      results.map((r) => [r.source, r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg, r.order2D, r.order2DCi[0], r.order2DCi[1], ...(hasAxis ? [r.axisOrder] : []), r.coherencyMean, r.n]),
+      results.map((r) => [r.source, r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg, ...(r.notDetermined?.order2D ? [NOT_DETERMINED, '', ''] : [r.order2D, r.order2DCi[0], r.order2DCi[1]]), ...(hasAxis ? [r.axisOrder] : []), r.coherencyMean, r.n]),
     );
     return {
       json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'orient', results },
