@@ -191,17 +191,32 @@ function sideWall(strips: Strip[], dir: -1 | 1, fr: Frame): SideResult | null {
     contrast.push(edge.contrast);
   }
   if (pts.length < 3) {
-    // Brightness does not mark this wall (texture meets a flat area of the same brightness): the centre of
-    // the two-sided step in each strip, on the consensus line, places it.
+    // Brightness does not mark this wall (texture meets a flat area of the same brightness, or too few strips
+    // reach it): each strip's own two-sided step, its peak nearest the consensus line (sub-pixel), places it.
     pts.length = 0;
     for (let k = 0; k < strips.length; k++) {
-      if (!steps[k]) continue;
-      const along = strips[k].alongMid, t = dir * (line.d0 + line.slope * (along - line.centre));
+      const z = steps[k];
+      if (!z) continue;
+      const along = strips[k].alongMid, predicted = line.d0 + line.slope * (along - line.centre);
+      const d = stepPeakNear(z.z, predicted);
+      if (d === null) continue;
+      const t = dir * d;
       pts.push({ x: fr.ox + along * fr.ux + t * fr.nx, y: fr.oy + along * fr.uy + t * fr.ny });
     }
   }
   const fit = robustLine(pts);
   return fit ? { fit, contrast, strips: crossed, stripPx: strips[0]?.length ?? 0 } : null;
+}
+
+/** The largest two-sided step within NEAR_LINE_PX of `predicted`, sub-pixel by a parabola; null off the profile. */
+function stepPeakNear(z: Float64Array, predicted: number): number | null {
+  const lo = Math.max(1, Math.floor(predicted - NEAR_LINE_PX)), hi = Math.min(z.length - 2, Math.ceil(predicted + NEAR_LINE_PX));
+  if (hi <= lo) return null;
+  let best = lo;
+  for (let d = lo; d <= hi; d++) if (z[d] > z[best]) best = d;
+  if (!(z[best] > 0)) return null;
+  const den = z[best - 1] - 2 * z[best] + z[best + 1];
+  return best + (den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (z[best - 1] - z[best + 1])) / den)) : 0);
 }
 
 /** Largest angle between a wall and the strips' direction that consensusLine considers, radians. */
