@@ -1,4 +1,4 @@
-import { bilinear } from '../common/sampling.ts';
+import { bilinear, median as sharedMedian } from '../common/sampling.ts';
 import { InputError } from '../common/errors.ts';
 import type { Plane } from '../common/plane.ts';
 import type { Image } from '../image/types.ts';
@@ -661,11 +661,9 @@ function argmax(a: Float32Array, ok: (i: number) => boolean): number {
   return best;
 }
 
+/** Median of the finite values (NaN for none). */
 function median(v: ArrayLike<number>): number {
-  const a = Array.from(v).filter(Number.isFinite).sort((p, q) => p - q);
-  if (a.length === 0) return NaN;
-  const m = a.length >> 1;
-  return a.length % 2 ? a[m] : 0.5 * (a[m - 1] + a[m]);
+  return sharedMedian(Array.from(v).filter(Number.isFinite));
 }
 
 /** 98th minus 2nd percentile: the spread of a feature, untroubled by a few extreme pixels. */
