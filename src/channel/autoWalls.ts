@@ -106,6 +106,17 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
   const sides = found as SideResult[];
   const segs = fits.map((f) => clipLine(f.line, width, height));
   if (!segs[0] || !segs[1]) throw new InputError('a found wall lies outside the image', 'Give the walls by hand');
+  // The coarse lines were at least minSeparation apart; walls that close in to much less than that have both
+  // settled on one feature (an image with no channel in it, e.g. a repeating pattern).
+  const [la, lb] = fits.map((f) => f.line);
+  const apart = Math.abs((lb.px - la.px) * -la.uy + (lb.py - la.py) * la.ux);
+  const minSep = (options.minSeparation ?? AUTO_WALL_DEFAULTS.minSeparation) * Math.min(width, height);
+  if (apart < 0.5 * minSep) {
+    throw new InputError(
+      `the two walls found are only ${apart.toFixed(0)} px apart, much less than a channel's width here: no channel could be told apart`,
+      'Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel',
+    );
+  }
   const cont = sides.map((s) => median(s.contrast));
   const top = Math.max(cont[0], cont[1]);
   const walls = orderWalls(segs[0], segs[1]);
