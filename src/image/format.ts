@@ -27,7 +27,7 @@ function looksLikeText(bytes: Uint8Array): boolean {
 
 /**
  * The image format from the file's first bytes (PNG signature 89 50 4E 47 0D 0A 1A 0A; JPEG SOI
- * FF D8 FF; TIFF "II*\0" or "MM\0*", and BigTIFF with 43, which the TIFF reader refuses by name).
+ * FF D8 FF; TIFF "II*\0" or "MM\0*", and BigTIFF with 43).
  * The file name is only used in messages; the extension is not trusted.
  */
 export function detectFormat(bytes: Uint8Array, name: string): ImageFormat {

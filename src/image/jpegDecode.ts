@@ -1,5 +1,5 @@
 import jpeg from 'jpeg-js';
-import { checkHeaderSize, decodeFailure, unsupported } from './checks.ts';
+import { checkDecodedSize, corrupt, unsupported } from './checks.ts';
 import { toPlanes } from './samples.ts';
 import { makeImage, type Image } from './types.ts';
 
@@ -15,6 +15,7 @@ const STANDALONE = (m: number) => m === 0x01 || (m >= 0xd0 && m <= 0xd9);
 export interface JpegHeader {
   width: number;
   height: number;
+  /** 1 grey, 3 YCbCr or RGB, 4 CMYK or YCCK. */
   components: number;
   /** Whether the three components are stored as RGB rather than YCbCr (decides jpeg-js colorTransform). */
   storedAsRgb: boolean;
@@ -22,16 +23,16 @@ export interface JpegHeader {
 
 /**
  * Walks the marker segments up to the frame header (SOF) and reads precision, size and component
- * count; refuses sizes over MAX_PIXELS and kinds jpeg-js cannot decode or the analysis does not take.
+ * count; refuses sizes over MAX_PIXELS and kinds jpeg-js cannot decode. Four components are read
+ * only with an Adobe APP14 marker, whose transform flag says CMYK (0) or YCCK (2), as libjpeg does
+ * (jdapimin.c, from memory); CMYK without one has no agreed meaning.
  */
 export function readJpegHeader(bytes: Uint8Array, what: string): JpegHeader {
   let jfif = false;
   let adobeTransform: number | undefined;
   let pos = 2;
   while (pos + 4 <= bytes.length) {
-    if (bytes[pos] !== 0xff) {
-      throw decodeFailure(what, FORMAT, new Error(`no marker at byte ${pos}`), 'the segment structure is broken');
-    }
+    if (bytes[pos] !== 0xff) throw corrupt(what, FORMAT, `its segment structure is broken at byte ${pos}`);
     const marker = bytes[pos + 1];
     if (marker === 0xff) { pos += 1; continue; } // fill byte
     if (STANDALONE(marker)) { pos += 2; continue; }
@@ -49,7 +50,7 @@ export function readJpegHeader(bytes: Uint8Array, what: string): JpegHeader {
       if (height === 0) {
         throw unsupported(what, FORMAT, 'the height given later in the file (DNL marker)', 'Re-save it as a plain baseline JPEG');
       }
-      checkHeaderSize(what, FORMAT, width, height);
+      checkDecodedSize(what, FORMAT, width, height);
       if (OTHER_SOF.has(marker)) {
         throw unsupported(what, FORMAT, 'lossless, hierarchical or arithmetic coding',
           'Save it as a baseline or progressive JPEG, or better as PNG or TIFF');
@@ -57,10 +58,11 @@ export function readJpegHeader(bytes: Uint8Array, what: string): JpegHeader {
       if (precision !== 8) {
         throw unsupported(what, FORMAT, `${precision}-bit samples`, 'Save it as 16-bit TIFF or PNG instead');
       }
-      if (components === 4) {
-        throw unsupported(what, FORMAT, '4 colour components (CMYK)', 'Convert it to RGB or grey');
+      if (components === 4 && adobeTransform === undefined) {
+        throw unsupported(what, FORMAT, '4 colour components and no Adobe marker to say what they mean',
+          'Convert it to RGB or grey');
       }
-      if (components !== 1 && components !== 3) {
+      if (components !== 1 && components !== 3 && components !== 4) {
         throw unsupported(what, FORMAT, `${components} colour components`, 'Convert it to RGB or grey');
       }
       const ids = components === 3 ? ascii(bytes, body + 6, 1) + ascii(bytes, body + 9, 1) + ascii(bytes, body + 12, 1) : '';
@@ -72,8 +74,7 @@ export function readJpegHeader(bytes: Uint8Array, what: string): JpegHeader {
     if (marker === 0xda) break; // scan data before any frame header
     pos += 2 + length;
   }
-  throw decodeFailure(what, FORMAT, new Error('no frame header (SOF) found'),
-    'the file ends or the scan starts before the image size is given');
+  throw corrupt(what, FORMAT, 'the file ends, or its image data starts, before the image size is given');
 }
 
 function ascii(bytes: Uint8Array, start: number, length: number): string {
@@ -88,9 +89,25 @@ function endsWithEoi(bytes: Uint8Array): boolean {
 }
 
 /**
- * Decodes a baseline or progressive 8-bit JPEG (grey or colour) with jpeg-js, strict mode (missing
- * data is an error, not grey blocks). Codes 0..255 become [0, 1]; encoding 'srgb'; no pixel size
- * (JFIF density is almost always a screen placeholder). EXIF orientation is not applied.
+ * Why jpeg-js refused the data, in plain words: its own messages are programmer's text and are never
+ * shown. A file that does not end with EOI was most likely cut short.
+ */
+function jpegProblem(bytes: Uint8Array, e: unknown): string {
+  const text = e instanceof Error ? e.message : '';
+  const cut = endsWithEoi(bytes) ? '' : '; the file does not end with its end marker (EOI), so it was probably cut short';
+  if (/huffman|ACn encoding|marker|EOF|DQT|sampling factor|offset/i.test(text)) {
+    return `its compressed image data is broken and cannot be decoded${cut}`;
+  }
+  return `its image data cannot be decoded${cut}`;
+}
+
+/**
+ * Decodes a baseline or progressive 8-bit JPEG (grey, YCbCr/RGB colour, or CMYK/YCCK with an Adobe
+ * marker; restart markers allowed) with jpeg-js, strict mode (missing data is an error, not grey
+ * blocks). Codes 0..255 become [0, 1]; encoding 'srgb'; no pixel size (JFIF density is almost always
+ * a screen placeholder). EXIF orientation is not applied. CMYK becomes RGB without a colour profile,
+ * R = (255 - C)(255 - K)/255 and likewise for G and B (jpeg-js's conversion; Pillow's convert('RGB')
+ * uses the same formula).
  */
 export function decodeJpeg(bytes: Uint8Array, name: string): Image {
   const header = readJpegHeader(bytes, name);
@@ -109,7 +126,7 @@ export function decodeJpeg(bytes: Uint8Array, name: string): Image {
     if (decoded.width !== header.width || decoded.height !== header.height) throw new Error('size differs from SOF');
     rgb = decoded.data;
   } catch (e) {
-    throw decodeFailure(name, FORMAT, e, endsWithEoi(bytes) ? '' : 'the file does not end with an EOI marker, so it was probably cut short');
+    throw corrupt(name, FORMAT, jpegProblem(bytes, e));
   }
   const channels = header.components === 1 ? 1 : 3;
   return makeImage({

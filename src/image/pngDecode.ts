@@ -1,98 +1,323 @@
-import { convertIndexedToRgb, decode as decodePngLib } from 'fast-png';
-import type { DecodedPng } from 'fast-png';
-import { checkHeaderSize, decodeFailure, unsupported } from './checks.ts';
+import { checkDecodedSize, corrupt } from './checks.ts';
+import { inflateZlib, ZlibProblem } from './inflate.ts';
 import { pngPixelSizeUm } from './pixelSize.ts';
-import { toPlanes } from './samples.ts';
 import { makeImage, type Image } from './types.ts';
 
-const FORMAT = 'PNG';
+/**
+ * PNG decoding (ISO/IEC 15948:2004, "PNG (Second Edition)"), written here: the decoder library used
+ * before inflated ancillary chunks (iCCP, zTXt, iTXt) without bound, did not check the zlib checksum
+ * and read 1-, 2- and 4-bit grey wrongly. This one reads only the chunks the analysis uses (IHDR,
+ * PLTE, IDAT, IEND and pHYs), checks every one of their CRCs, skips every other ancillary chunk
+ * unread, inflates the image data row by row with a cap of exactly the size IHDR implies, checks the
+ * Adler-32 and writes samples straight into the float planes, so memory is the planes plus a few rows.
+ */
 
-/** PNG 1.2 / ISO 15948 IHDR colour types and the bit depths each allows. */
-const COLOUR_TYPES: Record<number, { name: string; depths: number[] }> = {
-  0: { name: 'grey', depths: [1, 2, 4, 8, 16] },
-  2: { name: 'RGB', depths: [8, 16] },
-  3: { name: 'palette', depths: [1, 2, 4, 8] },
-  4: { name: 'grey + alpha', depths: [8, 16] },
-  6: { name: 'RGBA', depths: [8, 16] },
+const FORMAT = 'PNG';
+const SIGNATURE_BYTES = 8;
+
+/** IHDR colour types (ISO 15948 Table 11.1): samples per pixel and the bit depths each allows. */
+const COLOUR_TYPES: Record<number, { name: string; samples: number; depths: number[] }> = {
+  0: { name: 'grey', samples: 1, depths: [1, 2, 4, 8, 16] },
+  2: { name: 'RGB', samples: 3, depths: [8, 16] },
+  3: { name: 'palette', samples: 1, depths: [1, 2, 4, 8] },
+  4: { name: 'grey + alpha', samples: 2, depths: [8, 16] },
+  6: { name: 'RGBA', samples: 4, depths: [8, 16] },
 };
+
+/** Adam7 passes (ISO 15948 section 8.2): x start, y start, x step, y step. */
+const ADAM7: [number, number, number, number][] = [
+  [0, 0, 8, 8], [4, 0, 8, 8], [0, 4, 4, 8], [2, 0, 4, 4], [0, 2, 2, 4], [1, 0, 2, 2], [0, 1, 1, 2],
+];
 
 export interface PngHeader {
   width: number;
   height: number;
   bitDepth: number;
   colourType: number;
+  interlaced: boolean;
+}
+
+/** CRC-32 table of ISO 15948 Annex D (polynomial 0xEDB88320, reflected). */
+const CRC_TABLE = (() => {
+  const t = new Uint32Array(256);
+  for (let n = 0; n < 256; n++) {
+    let c = n;
+    for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
+    t[n] = c >>> 0;
+  }
+  return t;
+})();
+
+/** CRC-32 of bytes[start, end) (ISO 15948 Annex D). */
+export function crc32(bytes: Uint8Array, start: number, end: number): number {
+  let c = 0xffffffff;
+  for (let i = start; i < end; i++) c = CRC_TABLE[(c ^ bytes[i]) & 0xff] ^ (c >>> 8);
+  return (c ^ 0xffffffff) >>> 0;
+}
+
+interface Chunk {
+  type: string;
+  /** Position of the chunk's data and its length. */
+  at: number;
+  length: number;
+}
+
+const u32 = (b: Uint8Array, at: number) => ((b[at] << 24) | (b[at + 1] << 16) | (b[at + 2] << 8) | b[at + 3]) >>> 0;
+const isCritical = (type: string) => type.charCodeAt(0) >= 65 && type.charCodeAt(0) <= 90;
+/** Chunks whose content is used; all others are skipped unread (their CRC too). */
+const USED = new Set(['IHDR', 'PLTE', 'IDAT', 'IEND', 'pHYs']);
+
+/**
+ * Walks the chunks from the signature to IEND: lengths inside the file, CRCs of the chunks used,
+ * the order ISO 15948 section 5.6 requires (IHDR first, PLTE before IDAT, IDATs consecutive, IEND
+ * last) and no unknown critical chunk.
+ */
+function readChunks(bytes: Uint8Array, what: string): Chunk[] {
+  const chunks: Chunk[] = [];
+  let pos = SIGNATURE_BYTES;
+  let idatEnded = false;
+  for (;;) {
+    if (pos + 12 > bytes.length) {
+      throw corrupt(what, FORMAT, 'the file ends before the IEND chunk, so it was cut short');
+    }
+    const length = u32(bytes, pos);
+    const type = String.fromCharCode(bytes[pos + 4], bytes[pos + 5], bytes[pos + 6], bytes[pos + 7]);
+    if (!/^[A-Za-z]{4}$/.test(type)) {
+      throw corrupt(what, FORMAT, `the chunk structure is broken at byte ${pos}`);
+    }
+    const at = pos + 8;
+    if (length > 0x7fffffff || at + length + 4 > bytes.length) {
+      throw corrupt(what, FORMAT, `the ${type} chunk at byte ${pos} runs past the end of the file, so it was cut short`);
+    }
+    if (chunks.length === 0 && type !== 'IHDR') throw corrupt(what, FORMAT, `the first chunk is ${type}, not IHDR`);
+    if (USED.has(type) && crc32(bytes, pos + 4, at + length) !== u32(bytes, at + length)) {
+      throw corrupt(what, FORMAT, `the ${type} chunk's checksum (CRC) does not match, so the data is damaged`);
+    }
+    if (!USED.has(type) && isCritical(type)) {
+      throw corrupt(what, FORMAT, `it holds a critical chunk "${type}" that the PNG standard does not define`);
+    }
+    const previous = chunks[chunks.length - 1]?.type;
+    if (type === 'IDAT' && previous !== 'IDAT' && chunks.some((c) => c.type === 'IDAT')) idatEnded = true;
+    if (idatEnded) throw corrupt(what, FORMAT, 'its image data (IDAT) chunks are not consecutive');
+    if ((type === 'IHDR' && chunks.length > 0) || (type === 'PLTE' && chunks.some((c) => c.type === 'PLTE' || c.type === 'IDAT'))) {
+      throw corrupt(what, FORMAT, `a ${type} chunk is out of place`);
+    }
+    if (USED.has(type)) chunks.push({ type, at, length });
+    pos = at + length + 4;
+    if (type === 'IEND') return chunks;
+  }
 }
 
 /**
- * Reads IHDR (bytes 8..32: signature, chunk length, "IHDR", width, height, bit depth, colour type)
- * and refuses sizes over MAX_PIXELS and sample kinds the analysis does not take.
+ * Reads IHDR (ISO 15948 section 11.2.2) and refuses sizes over the limits (checkDecodedSize) and
+ * combinations the standard does not define.
  */
 export function readPngHeader(bytes: Uint8Array, what: string): PngHeader {
-  if (bytes.length < 33) {
-    throw decodeFailure(what, FORMAT, new Error(`only ${bytes.length} bytes`), 'the file ends inside the PNG header');
+  if (bytes.length < 33) throw corrupt(what, FORMAT, `the file ends inside the PNG header (${bytes.length} bytes)`);
+  if (u32(bytes, 8) !== 13 || String.fromCharCode(...bytes.subarray(12, 16)) !== 'IHDR') {
+    throw corrupt(what, FORMAT, 'it does not start with an IHDR chunk of 13 bytes');
   }
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  const chunkType = String.fromCharCode(...bytes.subarray(12, 16));
-  if (view.getUint32(8) !== 13 || chunkType !== 'IHDR') {
-    throw decodeFailure(what, FORMAT, new Error(`first chunk is "${chunkType}"`), 'a PNG file must start with IHDR');
-  }
-  const header = { width: view.getUint32(16), height: view.getUint32(20), bitDepth: bytes[24], colourType: bytes[25] };
-  checkHeaderSize(what, FORMAT, header.width, header.height);
+  const header: PngHeader = {
+    width: u32(bytes, 16), height: u32(bytes, 20), bitDepth: bytes[24], colourType: bytes[25], interlaced: bytes[28] === 1,
+  };
   const kind = COLOUR_TYPES[header.colourType];
   if (!kind || !kind.depths.includes(header.bitDepth)) {
-    throw decodeFailure(what, FORMAT, new Error(`colour type ${header.colourType}, bit depth ${header.bitDepth}`),
-      'the header names a combination the PNG standard does not define');
+    throw corrupt(what, FORMAT, `the header names colour type ${header.colourType} with bit depth ${header.bitDepth}, ` +
+      'a combination the PNG standard does not define');
   }
-  if (header.colourType === 0 && header.bitDepth < 8) {
-    const detail = header.bitDepth === 1 ? '1-bit (bilevel) samples' : `${header.bitDepth}-bit grey samples`;
-    throw unsupported(what, FORMAT, detail, 'Save the image as 8- or 16-bit grey');
+  if (bytes[26] !== 0 || bytes[27] !== 0 || bytes[28] > 1) {
+    throw corrupt(what, FORMAT, 'the header names a compression, filter or interlace method the PNG standard does not define');
   }
+  checkDecodedSize(what, FORMAT, header.width, header.height);
   return header;
 }
 
-/** The 12 bytes every complete PNG file ends with: an empty IEND chunk and its CRC. */
-const IEND = [0, 0, 0, 0, 0x49, 0x45, 0x4e, 0x44, 0xae, 0x42, 0x60, 0x82];
+/** Bytes of one filtered row of `width` pixels, without the filter-type byte (ISO 15948 section 7.2). */
+const rowBytes = (width: number, bitsPerPixel: number) => Math.ceil((width * bitsPerPixel) / 8);
 
-const endsWithIend = (bytes: Uint8Array) => IEND.every((b, i) => bytes[bytes.length - IEND.length + i] === b);
+/** The Paeth predictor (ISO 15948 section 9.4). */
+function paeth(a: number, b: number, c: number): number {
+  const p = a + b - c;
+  const pa = Math.abs(p - a);
+  const pb = Math.abs(p - b);
+  const pc = Math.abs(p - c);
+  return pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
+}
 
 /**
- * Decodes a PNG with fast-png: grey, grey + alpha, RGB, RGBA (8/16-bit) and palette (1-8 bit
- * indices). Alpha is dropped; integer codes become [0, 1]; encoding 'srgb' for 8-bit, 'linear' for 16-bit
- * (scientific cameras store 16-bit data linearly: common practice, no source); pixel size from pHYs.
+ * Reverses one row's filter in place (ISO 15948 section 9.2). `bpp` is the filter's byte step
+ * (bytes per complete pixel, at least 1); `prev` is the unfiltered row above (zeros for a pass's first row).
+ */
+function unfilter(type: number, row: Uint8Array, prev: Uint8Array, bpp: number): boolean {
+  const n = row.length;
+  switch (type) {
+    case 0: return true;
+    case 1: for (let i = bpp; i < n; i++) row[i] = (row[i] + row[i - bpp]) & 0xff; return true;
+    case 2: for (let i = 0; i < n; i++) row[i] = (row[i] + prev[i]) & 0xff; return true;
+    case 3:
+      for (let i = 0; i < n; i++) row[i] = (row[i] + (((i >= bpp ? row[i - bpp] : 0) + prev[i]) >> 1)) & 0xff;
+      return true;
+    case 4:
+      for (let i = 0; i < n; i++) {
+        row[i] = (row[i] + (i >= bpp ? paeth(row[i - bpp], prev[i], prev[i - bpp]) : prev[i])) & 0xff;
+      }
+      return true;
+    default: return false;
+  }
+}
+
+/**
+ * Decodes a PNG: grey (1/2/4/8/16 bits), grey + alpha, RGB, RGBA (8/16 bits) and palette (1/2/4/8-bit
+ * indices; tRNS is read past), interlaced or not. Alpha is dropped; a sample of bit depth d becomes
+ * code / (2^d - 1) in [0, 1]; encoding 'srgb' up to 8 bits and 'linear' for 16 (scientific cameras
+ * store 16-bit data linearly: common practice, no source); pixel size from pHYs.
+ *
+ * @throws InputError for a damaged or cut-short file (bad CRC or Adler-32, broken chunks, wrong
+ *   amount of image data, a palette index outside PLTE) and for sizes over the limits
  */
 export function decodePng(bytes: Uint8Array, name: string): Image {
   const header = readPngHeader(bytes, name);
-  let png: DecodedPng;
-  let samples: ArrayLike<number>;
-  let samplesPerPixel: number;
-  try {
-    png = decodePngLib(bytes, { checkCrc: true });
-    if (png.width !== header.width || png.height !== header.height) throw new Error('size differs from IHDR');
-    if (header.colourType === 3) {
-      samples = convertIndexedToRgb(png);
-      samplesPerPixel = png.palette?.[0]?.length ?? 3;
-    } else {
-      samples = png.data;
-      samplesPerPixel = png.channels;
+  const chunks = readChunks(bytes, name);
+  const { width, height, bitDepth, colourType } = header;
+  const kind = COLOUR_TYPES[colourType];
+  const channels: 1 | 3 = colourType === 3 || kind.samples >= 3 ? 3 : 1;
+
+  let palette: Uint8Array | undefined;
+  if (colourType === 3) {
+    const plte = chunks.find((c) => c.type === 'PLTE');
+    if (!plte || plte.length % 3 !== 0 || plte.length === 0 || plte.length / 3 > 2 ** bitDepth) {
+      throw corrupt(name, FORMAT, 'its palette (PLTE chunk) is missing or has the wrong size');
     }
-    const expected = png.width * png.height * samplesPerPixel;
-    if (samples.length !== expected) throw new Error(`${samples.length} samples, expected ${expected}`);
-  } catch (e) {
-    const extra = endsWithIend(bytes) ? '' : 'the file does not end with an IEND chunk, so it was probably cut short';
-    throw decodeFailure(name, FORMAT, e, extra);
+    palette = bytes.subarray(plte.at, plte.at + plte.length);
   }
-  const colourChannels = samplesPerPixel >= 3 ? 3 : 1;
-  const sixteen = header.bitDepth === 16;
-  const pixelSizeUmPerPx = png.resolution
-    ? pngPixelSizeUm(png.resolution.x, png.resolution.y, png.resolution.unit) : undefined;
+  const idat = chunks.filter((c) => c.type === 'IDAT').map((c) => bytes.subarray(c.at, c.at + c.length));
+  if (idat.length === 0) throw corrupt(name, FORMAT, 'it has no image data (IDAT chunk)');
+
+  const planes = Array.from({ length: channels }, () => new Float32Array(width * height));
+  const bitsPerPixel = kind.samples * bitDepth;
+  const bpp = Math.max(1, bitsPerPixel >> 3);
+  const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];
+  // The rows of every (non-empty) pass, in stream order.
+  const rows: { pass: number; y: number; x0: number; dx: number; w: number; bytes: number }[] = [];
+  let expectedBytes = 0;
+  for (const [pass, [x0, y0, dx, dy]] of passes.entries()) {
+    const w = Math.ceil((width - x0) / dx);
+    const h = Math.ceil((height - y0) / dy);
+    if (w <= 0 || h <= 0) continue;
+    const n = rowBytes(w, bitsPerPixel);
+    for (let r = 0; r < h; r++) rows.push({ pass, y: y0 + r * dy, x0, dx, w, bytes: n });
+    expectedBytes += h * (n + 1);
+  }
+  const writeRow = rowWriter(planes, width, bitDepth, kind.samples, palette, name);
+
+  const maxRow = Math.max(...rows.map((r) => r.bytes));
+  let cur = new Uint8Array(maxRow);
+  let prev = new Uint8Array(maxRow);
+  let rowIndex = 0;
+  let filled = -1; // -1: waiting for the filter-type byte
+  let filter = 0;
+  const take = (chunk: Uint8Array) => {
+    let i = 0;
+    while (i < chunk.length) {
+      const row = rows[rowIndex];
+      if (!row) return; // more data than rows: the byte count check below refuses it
+      if (filled < 0) {
+        filter = chunk[i++];
+        filled = 0;
+        continue;
+      }
+      const n = Math.min(row.bytes - filled, chunk.length - i);
+      cur.set(chunk.subarray(i, i + n), filled);
+      filled += n;
+      i += n;
+      if (filled === row.bytes) {
+        if (rowIndex === 0 || rows[rowIndex - 1].pass !== row.pass) prev.fill(0);
+        const line = cur.subarray(0, row.bytes);
+        if (!unfilter(filter, line, prev.subarray(0, row.bytes), bpp)) {
+          throw corrupt(name, FORMAT, `row ${row.y + 1} names filter type ${filter}, which the PNG standard does not define`);
+        }
+        writeRow(line, row.y, row.x0, row.dx, row.w);
+        [cur, prev] = [prev, cur];
+        rowIndex++;
+        filled = -1;
+      }
+    }
+  };
+  let produced: number;
+  try {
+    produced = inflateZlib(idat, expectedBytes, take);
+  } catch (e) {
+    if (e instanceof ZlibProblem) throw corrupt(name, FORMAT, `in its image data ${e.why}`);
+    throw e;
+  }
+  if (produced !== expectedBytes) {
+    throw corrupt(name, FORMAT, `its image data holds ${produced} bytes where the header implies ${expectedBytes}`);
+  }
+
+  const sixteen = bitDepth === 16;
+  const phys = chunks.find((c) => c.type === 'pHYs' && c.length === 9);
+  const pixelSizeUmPerPx = phys
+    ? pngPixelSizeUm(u32(bytes, phys.at), u32(bytes, phys.at + 4), bytes[phys.at + 8]) : undefined;
   return makeImage({
-    width: png.width,
-    height: png.height,
-    channels: colourChannels,
-    planes: toPlanes(samples, png.width * png.height, samplesPerPixel, colourChannels, sixteen ? 65535 : 255),
+    width,
+    height,
+    channels,
+    planes,
     bitDepth: sixteen ? 16 : 8,
     encoding: sixteen ? 'linear' : 'srgb',
     ...(pixelSizeUmPerPx !== undefined ? { pixelSizeUmPerPx } : {}),
     source: { name },
   });
+}
+
+/**
+ * A function writing one unfiltered row of a pass (w pixels, the first at image column x0, every dx-th
+ * column after) into the planes.
+ */
+function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samples: number,
+  palette: Uint8Array | undefined, what: string) {
+  const maxCode = 2 ** bitDepth - 1;
+  const scale = new Float32Array(Math.min(maxCode, 65535) + 1);
+  for (let v = 0; v < scale.length; v++) scale[v] = v / maxCode;
+  const byte = new Float32Array(256);
+  for (let v = 0; v < 256; v++) byte[v] = v / 255;
+  const colours = palette ? palette.length / 3 : 0;
+  const keep = Math.min(samples, 3) === 2 ? 1 : Math.min(samples, 3); // grey + alpha keeps grey
+  return (row: Uint8Array, y: number, x0: number, dx: number, w: number) => {
+    let p = y * width + x0;
+    if (bitDepth < 8) {
+      const perByte = 8 / bitDepth;
+      const mask = maxCode;
+      for (let i = 0; i < w; i++, p += dx) {
+        const shift = 8 - bitDepth * ((i % perByte) + 1);
+        const v = (row[(i / perByte) | 0] >> shift) & mask;
+        if (palette) writePalette(v, p);
+        else planes[0][p] = scale[v];
+      }
+      return;
+    }
+    if (bitDepth === 8) {
+      if (palette) {
+        for (let i = 0; i < w; i++, p += dx) writePalette(row[i], p);
+        return;
+      }
+      for (let i = 0, j = 0; i < w; i++, p += dx, j += samples) {
+        for (let c = 0; c < keep; c++) planes[c][p] = byte[row[j + c]];
+      }
+      return;
+    }
+    for (let i = 0, j = 0; i < w; i++, p += dx, j += 2 * samples) {
+      for (let c = 0; c < keep; c++) planes[c][p] = scale[(row[j + 2 * c] << 8) | row[j + 2 * c + 1]];
+    }
+  };
+
+  function writePalette(index: number, p: number): void {
+    if (index >= colours) {
+      throw corrupt(what, FORMAT, `a pixel uses colour ${index} of a ${colours}-colour palette`);
+    }
+    const pal = palette as Uint8Array;
+    planes[0][p] = byte[pal[3 * index]];
+    planes[1][p] = byte[pal[3 * index + 1]];
+    planes[2][p] = byte[pal[3 * index + 2]];
+  }
 }

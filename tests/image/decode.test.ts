@@ -203,7 +203,7 @@ describe('bad input', () => {
     // Make the first entry claim 2^30 LONG values, i.e. 4 GiB of data in a small file.
     view.setUint16(firstIfd + 2 + 2, 4, true);
     view.setUint32(firstIfd + 2 + 4, 2 ** 30, true);
-    expectInputError(() => decodeImagePages(tif, 'count.tif'), 'count.tif', 'truncated or damaged');
+    expectInputError(() => decodeImagePages(tif, 'count.tif'), 'count.tif', 'damaged', 'past the end of the file');
   });
 
   it('bytes that are not a Uint8Array are refused', () => {
