@@ -1,5 +1,5 @@
 export * from './records.ts';
-export { createSessionStore, StorageError, type KeyValue, type SessionStore, type SessionSummary, type Listing, type AsideRecord } from './store.ts';
+export { createSessionStore, StorageError, isQuotaError, type StorageFailure, type SessionCopy, type KeyValue, type SessionStore, type SessionSummary, type Listing, type AsideRecord } from './store.ts';
 export { createSaver, type Saver, type SaverOptions } from './saver.ts';
 export { exportBackup, importBackup, BackupError, bytesToBase64, base64ToBytes, type ImportReport } from './backup.ts';
 export { browserKeyValue } from './idb.ts';

@@ -123,12 +123,17 @@ export interface SessionRecord {
   setup: AppliedSetup | null;
   /** The pixel size chosen from a micrometer calibration for this session's lengths; absent in older records. */
   pixelSize?: SessionPixelSize | null;
+  /**
+   * How many times the record has been written (0 when created; absent in older records, read as 0). The store
+   * writes a session only over the revision it last read or wrote, so a tab never overwrites another tab's save.
+   */
+  revision?: number;
 }
 
 /** The keys this version reads on each level of a session record; restore keeps any other key as it was. */
 const SESSION_KEYS = keySet<SessionRecord>({
   schemaVersion: true, kind: true, id: true, name: true, createdAt: true, updatedAt: true, images: true, activeImageId: true,
-  settings: true, work: true, setup: true, pixelSize: true,
+  settings: true, work: true, setup: true, pixelSize: true, revision: true,
 });
 const SETTINGS_KEYS = keySet<AnalysisSettings>({ sigmaPx: true, weighting: true, axisDeg: true, bins: true, stations: true, coreMax: true, skinMin: true });
 const IMAGE_META_KEYS = keySet<ImageMeta>({ id: true, name: true, type: true, size: true, page: true, addedAt: true });
@@ -313,8 +318,15 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
       ...unknownKeys(raw, SESSION_KEYS), schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
       createdAt: str(raw.createdAt, now), updatedAt: str(raw.updatedAt, now), images, activeImageId: active,
       settings: restoreSettings(raw.settings, notes), work, setup, pixelSize,
+      ...(raw.revision !== undefined ? { revision: revisionOf(raw) } : {}),
     },
   };
+}
+
+/** A record's revision: a non-negative whole number, else 0 (records from before revisions were kept). */
+export function revisionOf(raw: unknown): number {
+  const r = isObj(raw) ? raw.revision : undefined;
+  return typeof r === 'number' && Number.isInteger(r) && r >= 0 ? r : 0;
 }
 
 /** Restores a stored image record: it must hold the image bytes as a Blob. */
@@ -332,7 +344,7 @@ export function newSession(id: string, name: string, now = new Date()): SessionR
   const t = now.toISOString();
   return {
     schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id, name, createdAt: t, updatedAt: t,
-    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {}, setup: null, pixelSize: null,
+    images: [], activeImageId: null, settings: { ...DEFAULT_SETTINGS }, work: {}, setup: null, pixelSize: null, revision: 0,
   };
 }
 
