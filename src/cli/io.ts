@@ -1,6 +1,6 @@
 import { readFile, stat, writeFile } from 'node:fs/promises';
 import { InputError } from '../common/errors.ts';
-import { decodeImage, decodeImagePages, type Image } from '../image/index.ts';
+import { decodeImage, decodeImagePages, MAX_DECODE_BYTES, type Image } from '../image/index.ts';
 
 /** Node's readFile refuses files over 2 GiB; a 250 MP 16-bit RGB TIFF is 1.5 GB. */
 const MAX_FILE_BYTES = 2 ** 31 - 1;
@@ -12,7 +12,7 @@ function fsProblem(path: string, e: unknown, doing: string): InputError {
     EISDIR: 'it is a folder, not a file', ENOTDIR: 'a part of the path is not a folder', EROFS: 'the disk is read-only',
     ENOSPC: 'the disk is full',
   };
-  const why = (code && reason[code]) ?? (e instanceof Error ? e.message : String(e));
+  const why = (code && reason[code]) ?? (code ? `the system reports ${code}` : 'the system refused');
   return new InputError(`${path}: cannot ${doing} (${why})`, 'Check the path and its permissions');
 }
 
@@ -39,13 +39,24 @@ async function readImageBytes(path: string): Promise<Uint8Array> {
   }
 }
 
+/** Bytes an image's planes hold (4 per float sample). */
+const planeBytes = (img: Image) => img.planes.reduce((sum, p) => sum + p.byteLength, 0);
+
 /**
  * Loads the first page of each image file (PNG, JPEG, TIFF; see decodeImage), in the order given.
- * @throws InputError naming the path for a missing, unreadable, folder, corrupt or unsupported file
+ * All of them are held at once, so together they share one MAX_DECODE_BYTES: each file may take
+ * what the ones before it left.
+ * @throws InputError naming the path for a missing, unreadable, folder, corrupt or unsupported file,
+ *   or one that does not fit in what is left of the limit
  */
 export async function loadImageFiles(paths: string[]): Promise<Image[]> {
   const images: Image[] = [];
-  for (const path of paths) images.push(decodeImage(await readImageBytes(path), path, 0));
+  let held = 0;
+  for (const path of paths) {
+    const img = decodeImage(await readImageBytes(path), path, 0, MAX_DECODE_BYTES - held);
+    held += planeBytes(img);
+    images.push(img);
+  }
   return images;
 }
 

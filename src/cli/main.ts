@@ -44,13 +44,31 @@ export async function main(argv: string[], out: Sink = process.stdout, err: Sink
       err.write(`retarda ${name}: ${oneLine((e as Error).message)}\n`);
       return 2;
     }
-    err.write(`retarda ${name}: internal fault: ${oneLine(e instanceof Error ? e.message : String(e))}\n`);
+    if (outOfMemory(e)) {
+      err.write(`retarda ${name}: there is not enough memory for these images. ` +
+        'Crop or bin the images, give fewer at a time, or close other programs\n');
+      return 2;
+    }
+    err.write(`retarda ${name}: ${FAULT_LINE}\n`);
     if (process.env.RETARDA_DEBUG && e instanceof Error) err.write(`${e.stack}\n`);
     return 1;
   }
 }
 
 const oneLine = (s: string) => s.replace(/\s*\n\s*/g, ' ');
+
+/**
+ * The one line printed for a fault (exit 1): a bug in the program, never the error's own text (which
+ * is programmer's language); what to report and where. RETARDA_DEBUG=1 adds the details to attach.
+ */
+export const FAULT_LINE = 'internal fault: this is a bug in retarda, not a problem with your files or options. ' +
+  'Please report it on the Retarda issue list, attaching the command line, the input files and what the same ' +
+  'command prints with RETARDA_DEBUG=1 set';
+
+/** A typed-array allocation the JavaScript engine could not satisfy (too little memory left). */
+function outOfMemory(e: unknown): boolean {
+  return e instanceof RangeError && /allocation failed|out of memory/i.test(e.message);
+}
 
 function topHelp(): string {
   const w = Math.max(...COMMANDS.map((c) => c.name.length));

@@ -15,26 +15,29 @@ function checkBytes(bytes: Uint8Array, name: string): void {
  * Every page of an image file: all pages of a TIFF (in file order), the single image of a PNG or
  * JPEG. The format comes from the first bytes, not the file name.
  *
- * Values: 8/16-bit integer samples divided by 255 / 65535 into [0, 1] (encoding 'srgb' for 8-bit, 'linear'
- * for 16-bit: scientific cameras store 16-bit data linearly); 32-bit float
- * TIFF samples kept as stored (encoding 'linear'). Alpha is dropped; palette images become RGB.
+ * Values: unsigned integer samples of b bits divided by 2^b - 1 into [0, 1] (encoding 'srgb' up to
+ * 8 bits, 'linear' above: scientific cameras store 16-bit data linearly); float TIFF samples kept as
+ * stored (encoding 'linear'). Alpha is dropped; palette and CMYK images become RGB.
  * `pixelSizeUmPerPx` is set from TIFF XResolution/YResolution + ResolutionUnit (inch or cm; ImageJ
  * `unit=` descriptions) or PNG pHYs (metre), except the 72/96 dpi placeholders and non-square pixels.
  *
- * Sizes are checked from the headers before any pixel buffer is made: a page of zero or more than
- * MAX_PIXELS pixels, or TIFF pages summing to more, is refused.
+ * Sizes are checked from the headers before any pixel buffer is made: an image of zero pixels, or one
+ * whose decoding (planes and decoder buffers, all pages together) would take more than `maxBytes`, is
+ * refused with the limit named. Checksums (PNG CRC, zlib Adler-32) are checked, and compressed data
+ * must give exactly the bytes the header implies: damaged data is refused, never decoded into numbers.
  *
  * @param bytes the whole file
  * @param name file name or label used in messages and `source.name`
+ * @param maxBytes memory the decode may take, default MAX_DECODE_BYTES (less when other images are held)
  * @throws InputError for empty, truncated, corrupt, unknown or unsupported files (message names the
- *   file and the format and says what to do)
+ *   file and the format and says what to do, in plain words)
  */
-export function decodeImagePages(bytes: Uint8Array, name: string): Image[] {
+export function decodeImagePages(bytes: Uint8Array, name: string, maxBytes?: number): Image[] {
   checkBytes(bytes, name);
   switch (detectFormat(bytes, name)) {
-    case 'png': return [decodePng(bytes, name)];
-    case 'jpeg': return [decodeJpeg(bytes, name)];
-    case 'tiff': return decodeTiffPages(bytes, name);
+    case 'png': return [decodePng(bytes, name, maxBytes)];
+    case 'jpeg': return [decodeJpeg(bytes, name, maxBytes)];
+    case 'tiff': return decodeTiffPages(bytes, name, undefined, maxBytes);
   }
 }
 
@@ -45,16 +48,16 @@ export function decodeImagePages(bytes: Uint8Array, name: string): Image[] {
  * @param page 0-based page index; PNG and JPEG have only page 0
  * @throws InputError as decodeImagePages, or when the page does not exist
  */
-export function decodeImage(bytes: Uint8Array, name: string, page = 0): Image {
+export function decodeImage(bytes: Uint8Array, name: string, page = 0, maxBytes?: number): Image {
   checkBytes(bytes, name);
   if (!Number.isInteger(page) || page < 0) {
     throw new InputError(`${name}: page ${page} is not a page number`, 'Give a page index of 0 or more');
   }
   const format = detectFormat(bytes, name);
-  if (format === 'tiff') return decodeTiffPages(bytes, name, [page])[0];
+  if (format === 'tiff') return decodeTiffPages(bytes, name, [page], maxBytes)[0];
   if (page !== 0) {
     throw new InputError(`${name}: page index ${page} (0-based) was asked for but a ${format.toUpperCase()} file has one image`,
       'Ask for page 0 or leave out the page');
   }
-  return format === 'png' ? decodePng(bytes, name) : decodeJpeg(bytes, name);
+  return format === 'png' ? decodePng(bytes, name, maxBytes) : decodeJpeg(bytes, name, maxBytes);
 }

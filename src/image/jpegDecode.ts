@@ -1,9 +1,16 @@
 import jpeg from 'jpeg-js';
-import { checkDecodedSize, corrupt, unsupported } from './checks.ts';
+import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords, unsupported } from './checks.ts';
 import { toPlanes } from './samples.ts';
 import { makeImage, type Image } from './types.ts';
 
 const FORMAT = 'JPEG';
+
+/**
+ * Bytes per pixel and colour component that jpeg-js holds while decoding (its coefficient blocks,
+ * 2 bytes, its component rows, 1 byte, and its colour-converted copy, 1 byte; read from its source,
+ * measured at 28.5 bytes per RGB pixel with the planes), besides its 3-byte RGB output.
+ */
+const JPEG_JS_BYTES_PER_COMPONENT = 4;
 
 /** ITU-T T.81 frame markers: 0xC0 baseline, 0xC1 extended, 0xC2 progressive (all Huffman coded). */
 const DECODABLE_SOF = new Set([0xc0, 0xc1, 0xc2]);
@@ -23,7 +30,7 @@ export interface JpegHeader {
 
 /**
  * Walks the marker segments up to the frame header (SOF) and reads precision, size and component
- * count; refuses sizes over MAX_PIXELS and kinds jpeg-js cannot decode. Four components are read
+ * count; refuses impossible sizes and kinds jpeg-js cannot decode. Four components are read
  * only with an Adobe APP14 marker, whose transform flag says CMYK (0) or YCCK (2), as libjpeg does
  * (jdapimin.c, from memory); CMYK without one has no agreed meaning.
  */
@@ -109,9 +116,12 @@ function jpegProblem(bytes: Uint8Array, e: unknown): string {
  * R = (255 - C)(255 - K)/255 and likewise for G and B (jpeg-js's conversion; Pillow's convert('RGB')
  * uses the same formula).
  */
-export function decodeJpeg(bytes: Uint8Array, name: string): Image {
+export function decodeJpeg(bytes: Uint8Array, name: string, maxBytes?: number): Image {
   const header = readJpegHeader(bytes, name);
   const pixels = header.width * header.height;
+  const channels = header.components === 1 ? 1 : 3;
+  checkDecodeBytes(name, FORMAT, sizeWords(header.width, header.height),
+    pixels * (JPEG_JS_BYTES_PER_COMPONENT * header.components + 3 + 4 * channels), maxBytes);
   let rgb: Uint8Array;
   try {
     const decoded = jpeg.decode(bytes, {
@@ -119,7 +129,7 @@ export function decodeJpeg(bytes: Uint8Array, name: string): Image {
       formatAsRGBA: false,
       tolerantDecoding: false,
       colorTransform: header.components === 3 ? !header.storedAsRgb : undefined,
-      // Our own size check already ran; these only stop jpeg-js refusing images inside MAX_PIXELS.
+      // Our own memory check already ran; these only stop jpeg-js refusing images inside MAX_DECODE_BYTES.
       maxResolutionInMP: Math.ceil(pixels / 1e6) + 1,
       maxMemoryUsageInMB: Math.ceil((pixels * (8 * header.components + 6)) / 2 ** 20) + 64,
     });
@@ -128,7 +138,6 @@ export function decodeJpeg(bytes: Uint8Array, name: string): Image {
   } catch (e) {
     throw corrupt(name, FORMAT, jpegProblem(bytes, e));
   }
-  const channels = header.components === 1 ? 1 : 3;
   return makeImage({
     width: header.width,
     height: header.height,

@@ -1,4 +1,4 @@
-import { checkDecodedSize, corrupt } from './checks.ts';
+import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords } from './checks.ts';
 import { inflateZlib, ZlibProblem } from './inflate.ts';
 import { pngPixelSizeUm } from './pixelSize.ts';
 import { makeImage, type Image } from './types.ts';
@@ -109,8 +109,8 @@ function readChunks(bytes: Uint8Array, what: string): Chunk[] {
 }
 
 /**
- * Reads IHDR (ISO 15948 section 11.2.2) and refuses sizes over the limits (checkDecodedSize) and
- * combinations the standard does not define.
+ * Reads IHDR (ISO 15948 section 11.2.2) and refuses impossible sizes and combinations the standard
+ * does not define.
  */
 export function readPngHeader(bytes: Uint8Array, what: string): PngHeader {
   if (bytes.length < 33) throw corrupt(what, FORMAT, `the file ends inside the PNG header (${bytes.length} bytes)`);
@@ -172,15 +172,18 @@ function unfilter(type: number, row: Uint8Array, prev: Uint8Array, bpp: number):
  * code / (2^d - 1) in [0, 1]; encoding 'srgb' up to 8 bits and 'linear' for 16 (scientific cameras
  * store 16-bit data linearly: common practice, no source); pixel size from pHYs.
  *
+ * @param maxBytes memory the decode may take (default MAX_DECODE_BYTES): the planes, 4 bytes per
+ *   pixel and channel, must fit
  * @throws InputError for a damaged or cut-short file (bad CRC or Adler-32, broken chunks, wrong
- *   amount of image data, a palette index outside PLTE) and for sizes over the limits
+ *   amount of image data, a palette index outside PLTE) and for sizes over the limit
  */
-export function decodePng(bytes: Uint8Array, name: string): Image {
+export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): Image {
   const header = readPngHeader(bytes, name);
-  const chunks = readChunks(bytes, name);
   const { width, height, bitDepth, colourType } = header;
   const kind = COLOUR_TYPES[colourType];
   const channels: 1 | 3 = colourType === 3 || kind.samples >= 3 ? 3 : 1;
+  checkDecodeBytes(name, FORMAT, sizeWords(width, height), width * height * channels * 4, maxBytes);
+  const chunks = readChunks(bytes, name);
 
   let palette: Uint8Array | undefined;
   if (colourType === 3) {

@@ -1,5 +1,5 @@
 import { InputError } from '../common/errors.ts';
-import { checkTotalPixels, corrupt } from './checks.ts';
+import { checkDecodeBytes, corrupt, pagesWords, sizeWords } from './checks.ts';
 import { tiffPixelSizeUm } from './pixelSize.ts';
 import { BlockProblem, decodeBlock, undoFloatPredictor, undoHorizontal } from './tiffCodecs.ts';
 import { readTiffHeaders, type TiffPageHeader } from './tiffHeader.ts';
@@ -25,8 +25,11 @@ const pageLabel = (name: string, index: number) => (index === 0 ? name : `${name
  * floats (16/32/64-bit) are kept as stored (to float32); palette pages become RGB; CMYK becomes RGB as
  * R = (1 - C)(1 - K) with C, K in [0, 1] (no colour profile; Pillow's convert('RGB') does the same);
  * alpha and other extra samples are dropped. Encoding 'srgb' up to 8 bits, 'linear' above.
+ *
+ * @param maxBytes memory the decode may take (default MAX_DECODE_BYTES): the planes of all pages
+ *   asked for, 4 bytes per pixel and sample read, and the largest decompressed block must fit
  */
-export function decodeTiffPages(bytes: Uint8Array, name: string, pages?: number[]): Image[] {
+export function decodeTiffPages(bytes: Uint8Array, name: string, pages?: number[], maxBytes?: number): Image[] {
   const file = readTiffHeaders(bytes, name);
   const headers = file.pages;
   const wanted = pages ?? headers.map((h) => h.index);
@@ -36,10 +39,25 @@ export function decodeTiffPages(bytes: Uint8Array, name: string, pages?: number[
         `Give a page index from 0 to ${headers.length - 1}`);
     }
   }
-  checkTotalPixels(name, FORMAT, wanted.length, wanted.reduce((sum, p) => sum + headers[p].width * headers[p].height, 0));
+  const planeBytes = wanted.reduce((sum, p) => sum + 4 * headers[p].width * headers[p].height * planesRead(headers[p]), 0);
+  const blockBytes = Math.max(...wanted.map((p) => decompressedBlockBytes(headers[p])));
+  const first = headers[wanted[0]];
+  const size = wanted.length === 1 ? sizeWords(first.width, first.height)
+    : pagesWords(wanted.length, wanted.reduce((sum, p) => sum + headers[p].width * headers[p].height, 0));
+  checkDecodeBytes(wanted.length === 1 ? pageLabel(name, wanted[0]) : name, FORMAT, size, planeBytes + blockBytes, maxBytes);
   // ImageJ writes its description (with the length unit) on the first page only.
   const stackDescription = headers[0].imageDescription?.startsWith('ImageJ=') ? headers[0].imageDescription : undefined;
   return wanted.map((p) => decodePage(bytes, file.littleEndian, headers[p], pageLabel(name, p), name, stackDescription));
+}
+
+/** Planes a page's samples are read into: grey 1, RGB 3, palette 1 index plane and 3 colour planes, CMYK 4. */
+const planesRead = (h: TiffPageHeader) => (h.photometric === 3 ? 4 : h.colourSamples);
+
+/** Bytes of one decompressed strip or tile (none for uncompressed data, read where it lies). */
+function decompressedBlockBytes(h: TiffPageHeader): number {
+  if (h.compression === 1) return 0;
+  const samples = h.planar === 2 ? 1 : h.samplesPerPixel;
+  return Math.ceil((h.layout.blockWidth * samples * h.bitsPerSample) / 8) * h.layout.blockHeight;
 }
 
 /** Turns one sample value into what is stored in a plane. */

@@ -1,10 +1,11 @@
-import { checkDecodedSize, corrupt, unsupported } from './checks.ts';
+import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords, unsupported } from './checks.ts';
 
 /**
  * A reader of TIFF image file directories (IFDs; TIFF 6.0 sections 2 and 7, and BigTIFF's 64-bit
  * layout): it walks the page chain with bounds and loop checks, reads the tags that decide whether and
  * how a page can be decoded, checks every strip or tile lies inside the file, and refuses sizes over
- * MAX_PIXELS before any pixel buffer exists.
+ * sizes over the memory limit before any pixel buffer exists (tiffDecode.ts checks it again for all the
+ * pages asked for together).
  */
 
 const FORMAT = 'TIFF';
@@ -217,7 +218,7 @@ const MAX_PAGES = 100_000;
 
 /**
  * Reads every page's header (the IFD chain), checks each page can be decoded faithfully and returns
- * what the decoder needs. Throws InputError for sizes over MAX_PIXELS, truncated data, loops and
+ * what the decoder needs. Throws InputError for impossible sizes, truncated data, loops and
  * sample kinds the program does not read.
  */
 export function readTiffHeaders(bytes: Uint8Array, name: string): TiffFile {
@@ -328,6 +329,8 @@ function readPage(reader: IfdReader, entries: Map<number, Entry>, index: number,
   if (planarTag !== 1 && planarTag !== 2) throw broken(`it names planar configuration ${planarTag}`);
   const planar: 1 | 2 = samplesPerPixel > 1 && planarTag === 2 ? 2 : 1;
 
+  // The page alone must fit in the limit; checked before the block table, so a size over it is named as such.
+  checkDecodeBytes(what, FORMAT, sizeWords(width, height), 4 * width * height * (photometric === 3 ? 4 : colourSamples));
   const layout = readLayout(reader, entries, what, width, height, samplesPerPixel, bitsPerSample, planar, compression);
   const page: TiffPageHeader = {
     index, width, height, bitsPerSample, samplesPerPixel, sampleFormat, photometric, colourChannels, colourSamples,

@@ -18,8 +18,14 @@ export interface Image {
   source: { name: string; page?: number };
 }
 
-/** Largest image the decoders accept (checked from the header, before any pixel buffer is allocated). */
-export const MAX_PIXELS = 250_000_000;
+/**
+ * Most memory, in bytes, that decoding may take: the float planes (4 bytes per pixel and channel)
+ * plus the decoder's own buffers, estimated from the header before any pixel buffer is allocated. It
+ * keeps the whole decode of any file under 1 GB (goal of issue 12): 750 MB, plus the file itself (up
+ * to 100 MB) and the program's own 80 MB or so. At 4 bytes per sample that is 187 MP of grey or
+ * 62 MP of RGB (PNG, TIFF); JPEG needs about 27 bytes per RGB pixel while decoding, so 27 MP.
+ */
+export const MAX_DECODE_BYTES = 750_000_000;
 
 export function makeImage(init: Image): Image {
   const { width, height, channels, planes } = init;

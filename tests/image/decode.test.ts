@@ -117,7 +117,7 @@ describe('files the decoder refuses, with a message saying why', () => {
   }
 
   it('a header claiming too many pixels is refused with the size and what to do', () => {
-    expectInputError(() => decodeImagePages(fixtureBytes('huge.tif'), 'huge.tif'), '100000 x 100000', '250 MP', 'Crop', 'bin');
+    expectInputError(() => decodeImagePages(fixtureBytes('huge.tif'), 'huge.tif'), '100000 x 100000', '750 MB limit', 'Crop', 'bin');
   });
 });
 

@@ -1,5 +1,5 @@
 import { describe, expect, it, vi } from 'vitest';
-import { decodeImagePages, MAX_PIXELS } from '../../src/image/index.ts';
+import { decodeImagePages, MAX_DECODE_BYTES } from '../../src/image/index.ts';
 import { fixtureBytes } from './fixtures.ts';
 
 // The decompressors are replaced by functions that record calls: a size check that runs on the
@@ -28,11 +28,13 @@ describe('size limits are checked from the header, before any decompression runs
     expect(calls).toEqual({ inflate: 0, jpeg: 0 });
   });
 
-  it('the limit is MAX_PIXELS and is named: one pixel row more than the limit is refused', () => {
-    // A crafted TIFF whose width x height just passes MAX_PIXELS (src/image/types.ts).
+  it('the limit is MAX_DECODE_BYTES and is named: one pixel row more than fits is refused, one row less is not', () => {
+    // A crafted uncompressed 8-bit grey TIFF: decoding takes its float plane, 4 bytes per pixel
+    // (definition of the estimate in src/image/tiffDecode.ts), so the largest height that fits is
+    // floor(MAX_DECODE_BYTES / 4 / width).
     const width = 10_000;
-    const height = Math.floor(MAX_PIXELS / width) + 1;
-    expect(width * height).toBeGreaterThan(MAX_PIXELS);
+    const height = Math.floor(MAX_DECODE_BYTES / 4 / width) + 1;
+    expect(4 * width * height).toBeGreaterThan(MAX_DECODE_BYTES);
     const tif = fixtureBytes('huge.tif');
     const view = new DataView(tif.buffer);
     const ifd = view.getUint32(4, true);
@@ -44,7 +46,14 @@ describe('size limits are checked from the header, before any decompression runs
       if (tag === 257 || tag === 278) view.setUint32(entry + 8, height, true);
     }
     expect(() => decodeImagePages(tif, 'limit.tif')).toThrow(`${width} x ${height}`);
-    expect(() => decodeImagePages(tif, 'limit.tif')).toThrow(`${MAX_PIXELS / 1e6} MP limit`);
+    expect(() => decodeImagePages(tif, 'limit.tif')).toThrow(`${MAX_DECODE_BYTES / 1e6} MB limit`);
+    // One row less passes the memory check and fails only later, on the missing pixel data.
+    for (let k = 0; k < n; k++) {
+      const entry = ifd + 2 + 12 * k;
+      const tag = view.getUint16(entry, true);
+      if (tag === 257 || tag === 278) view.setUint32(entry + 8, height - 1, true);
+    }
+    expect(() => decodeImagePages(tif, 'limit.tif')).toThrow('damaged');
   });
 });
 
