@@ -6,10 +6,12 @@ import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 
 export const FIXTURES = fileURLToPath(new URL('../fixtures/images/', import.meta.url));
+/** Decoder variants written by tests/fixtures/variants/make_variant_fixtures.py. */
+export const VARIANTS = fileURLToPath(new URL('../fixtures/variants/', import.meta.url));
 
 export interface RawPage {
   raw: string;
-  dtype: 'uint8' | 'uint16' | 'float32';
+  dtype: 'uint8' | 'uint16' | 'uint32' | 'float32' | 'float64';
   shape: number[];
   width: number;
   height: number;
@@ -49,13 +51,16 @@ export function fixtureBytes(file: string): Uint8Array {
 }
 
 /** The reference samples of one page, interleaved as stored (channels last). */
-export function rawSamples(page: RawPage): Uint8Array | Uint16Array | Float32Array {
-  const bytes = readFileSync(FIXTURES + page.raw);
+export function rawSamples(page: RawPage, dir = FIXTURES): Uint8Array | Uint16Array | Uint32Array | Float32Array | Float64Array {
+  const bytes = readFileSync(dir + page.raw);
   const buffer = bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength);
   if (page.dtype === 'uint8') return new Uint8Array(buffer);
   if (page.dtype === 'uint16') return new Uint16Array(buffer);
+  if (page.dtype === 'uint32') return new Uint32Array(buffer);
+  if (page.dtype === 'float64') return new Float64Array(buffer);
   return new Float32Array(buffer);
 }
 
 /** The largest integer code of a dtype, or 0 for float (kept as stored). */
-export const maxCode = (dtype: RawPage['dtype']) => (dtype === 'uint8' ? 255 : dtype === 'uint16' ? 65535 : 0);
+export const maxCode = (dtype: RawPage['dtype']) =>
+  (dtype === 'uint8' ? 255 : dtype === 'uint16' ? 65535 : dtype === 'uint32' ? 4294967295 : 0);
