@@ -10,8 +10,7 @@ export const ACCEPTED_FORMATS = 'PNG, JPEG (baseline or progressive; grey, RGB o
  * `what` names the file (and page) in the message.
  */
 export function checkDecodedSize(what: string, format: string, width: number, height: number): void {
-  if (!Number.isSafeInteger(width) || !Number.isSafeInteger(height) || width < 1 || height < 1 ||
-    width * height > Number.MAX_SAFE_INTEGER) {
+  if (!Number.isSafeInteger(width) || !Number.isSafeInteger(height) || width < 1 || height < 1) {
     throw new InputError(`${what}: the ${format} header gives an image size of ${width} x ${height} pixels`,
       'The file is damaged or empty; export the image again');
   }
@@ -19,7 +18,8 @@ export function checkDecodedSize(what: string, format: string, width: number, he
 
 /** Bytes in megabytes for messages (1 MB = 10^6 bytes), at most 3 significant digits. */
 export const megabytes = (bytes: number) =>
-  bytes >= 1e9 ? `${(bytes / 1e9).toPrecision(3)} GB` : `${Math.max(1, Math.round(bytes / 1e6))} MB`;
+  bytes >= 1e12 ? `${Math.round(bytes / 1e9)} GB` : bytes >= 1e9 ? `${(bytes / 1e9).toPrecision(3)} GB`
+    : `${Math.max(1, Math.round(bytes / 1e6))} MB`;
 
 const megapixels = (pixels: number) => (pixels >= 1e7 ? (pixels / 1e6).toFixed(0) : (pixels / 1e6).toFixed(1));
 

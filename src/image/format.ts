@@ -38,6 +38,10 @@ export function detectFormat(bytes: Uint8Array, name: string): ImageFormat {
   if (startsWith(bytes, [0xff, 0xd8, 0xff])) return 'jpeg';
   if (startsWith(bytes, [0x49, 0x49]) && (bytes[2] === 42 || bytes[2] === 43) && bytes[3] === 0) return 'tiff';
   if (startsWith(bytes, [0x4d, 0x4d, 0]) && (bytes[3] === 42 || bytes[3] === 43)) return 'tiff';
+  if (bytes.length < 8) {
+    throw new InputError(`${name}: the file is only ${bytes.length} byte${bytes.length === 1 ? '' : 's'} long, too short to be an image`,
+      'Check that the copy or download finished');
+  }
   const other = OTHER_FORMATS.find((f) => f.test(bytes));
   const what = other ? `a ${other.name} file` : looksLikeText(bytes) ? 'a text file, not an image' : 'not an image format we read';
   throw new InputError(`${name}: this is ${what}`, `Accepted formats: ${ACCEPTED_FORMATS}; convert the file to one of them`);

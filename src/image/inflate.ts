@@ -121,7 +121,7 @@ export function inflateZlib(pieces: Uint8Array[], maxBytes: number, onData: (chu
     throw e;
   }
   if (adler.value() !== stored) {
-    throw new ZlibProblem('the checksum of the decompressed data (zlib Adler-32) does not match, so the data is damaged');
+    throw new ZlibProblem('the checksum of the decompressed data (zlib Adler-32) does not match');
   }
   return produced;
 }

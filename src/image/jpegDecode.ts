@@ -88,6 +88,25 @@ function ascii(bytes: Uint8Array, start: number, length: number): string {
   return String.fromCharCode(...bytes.subarray(start, start + length));
 }
 
+/**
+ * Whether an EOI marker (0xFFD9) follows the last start-of-scan marker (0xFFDA). Inside scan data a
+ * 0xFF byte is always followed by 0x00 or a restart marker (T.81 B.1.1.5), so 0xFFD9 there is the end;
+ * bytes some cameras append after EOI are allowed.
+ */
+function eoiAfterLastScan(bytes: Uint8Array): boolean {
+  let lastScan = -1;
+  for (let i = bytes.length - 2; i >= 0; i--) {
+    if (bytes[i] === 0xff && bytes[i + 1] === 0xda) {
+      lastScan = i;
+      break;
+    }
+  }
+  for (let i = Math.max(lastScan, 0); i < bytes.length - 1; i++) {
+    if (bytes[i] === 0xff && bytes[i + 1] === 0xd9) return true;
+  }
+  return false;
+}
+
 /** Whether the last marker of the file is EOI (0xFFD9), allowing trailing zero padding. */
 function endsWithEoi(bytes: Uint8Array): boolean {
   let end = bytes.length;
@@ -137,6 +156,9 @@ export function decodeJpeg(bytes: Uint8Array, name: string, maxBytes?: number): 
     rgb = decoded.data;
   } catch (e) {
     throw corrupt(name, FORMAT, jpegProblem(bytes, e));
+  }
+  if (!eoiAfterLastScan(bytes)) {
+    throw corrupt(name, FORMAT, 'the file ends without its end marker (EOI), so it was cut short and its last rows may be missing');
   }
   return makeImage({
     width: header.width,

@@ -91,7 +91,7 @@ function readChunks(bytes: Uint8Array, what: string): Chunk[] {
     }
     if (chunks.length === 0 && type !== 'IHDR') throw corrupt(what, FORMAT, `the first chunk is ${type}, not IHDR`);
     if (USED.has(type) && crc32(bytes, pos + 4, at + length) !== u32(bytes, at + length)) {
-      throw corrupt(what, FORMAT, `the ${type} chunk's checksum (CRC) does not match, so the data is damaged`);
+      throw corrupt(what, FORMAT, `the checksum (CRC) of its ${type} chunk does not match`);
     }
     if (!USED.has(type) && isCritical(type)) {
       throw corrupt(what, FORMAT, `it holds a critical chunk "${type}" that the PNG standard does not define`);

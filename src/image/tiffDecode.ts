@@ -105,7 +105,7 @@ function decodePage(bytes: Uint8Array, littleEndian: boolean, h: TiffPageHeader,
           data = decodeBlock(src, h.compression, rowBytes * rows, rowBytes * layout.blockHeight);
         } catch (e) {
           if (e instanceof BlockProblem) {
-            throw corrupt(what, FORMAT, `its ${layout.tiled ? 'tile' : 'strip'} ${block + 1} is damaged: ${e.why}`);
+            throw corrupt(what, FORMAT, `in ${layout.tiled ? 'tile' : 'strip'} ${block + 1}, ${e.why}`);
           }
           throw e;
         }

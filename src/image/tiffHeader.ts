@@ -26,6 +26,14 @@ const TAG = {
 /** Compression codes (TIFF 6.0 and the TIFF tag registry) this reader decodes. */
 export const COMPRESSION = { none: 1, lzw: 5, deflate: 8, deflateOld: 32946, packBits: 32773 } as const;
 const DECODABLE_COMPRESSION = new Set<number>(Object.values(COMPRESSION));
+/**
+ * The most bytes one compressed byte can give: Deflate 1032 (a 258-byte copy per 2 bits, RFC 1951;
+ * the usual bound, from memory), PackBits 64 (a 2-byte run gives 128), LZW 4096 (a 9-bit code gives
+ * at most a 4094-byte string). A block claiming more is damaged, and is refused before any pixel buffer.
+ */
+const MAX_EXPANSION: Record<number, number> = {
+  [COMPRESSION.deflate]: 1032, [COMPRESSION.deflateOld]: 1032, [COMPRESSION.packBits]: 64, [COMPRESSION.lzw]: 4096,
+};
 const COMPRESSION_NAMES: Record<number, string> = {
   2: 'CCITT RLE', 3: 'CCITT Group 3', 4: 'CCITT Group 4', 6: 'old-style JPEG', 7: 'JPEG', 34712: 'JPEG 2000',
   34887: 'LERC', 34925: 'LZMA', 50000: 'Zstandard', 50001: 'WebP', 50002: 'JPEG XL',
@@ -419,6 +427,9 @@ function readLayout(reader: IfdReader, entries: Map<number, Entry>, what: string
     }
     if (compression === COMPRESSION.none && count < need) {
       throw broken(`${kind} ${i + 1} holds ${count} bytes where ${need} are needed`);
+    }
+    if (compression !== COMPRESSION.none && count * (MAX_EXPANSION[compression] ?? Infinity) + 64 < need) {
+      throw broken(`${kind} ${i + 1} holds ${count} compressed bytes, too few to give the ${need} bytes it must`);
     }
     finalCounts[i] = count;
   }
