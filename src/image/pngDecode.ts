@@ -5,8 +5,8 @@ import { makeImage, type Image } from './types.ts';
 
 /**
  * PNG decoding (ISO/IEC 15948:2004, "PNG (Second Edition)"), written here: the decoder library used
- * before inflated ancillary chunks (iCCP, zTXt, iTXt) without bound, did not check the zlib checksum
- * and read 1-, 2- and 4-bit grey wrongly. This one reads only the chunks the analysis uses (IHDR,
+ * before inflated ancillary chunks (iCCP, zTXt, iTXt) without bound and did not check the zlib
+ * checksum. This one reads only the chunks the analysis uses (IHDR,
  * PLTE, IDAT, IEND and pHYs), checks every one of their CRCs, skips every other ancillary chunk
  * unread, inflates the image data row by row with a cap of exactly the size IHDR implies, checks the
  * Adler-32 and writes samples straight into the float planes, so memory is the planes plus a few rows.
