@@ -50,6 +50,16 @@ export class Adler32 {
   }
 }
 
+/** A zlib stream in consecutive pieces (PNG's IDAT chunks), handed out one at a time. */
+export interface ZlibSource {
+  /** Bytes in all pieces together. */
+  total: number;
+  pieces(): Iterable<Uint8Array>;
+}
+
+/** One piece as a ZlibSource. */
+export const oneZlibPiece = (bytes: Uint8Array): ZlibSource => ({ total: bytes.length, pieces: () => [bytes] });
+
 /** fflate's error codes (its FlateErrorCode) in plain words. */
 const INFLATE_WHY: Record<number, string> = {
   0: 'the compressed data ends too soon',
@@ -62,7 +72,7 @@ const INFLATE_WHY: Record<number, string> = {
  * Inflates one zlib stream given as consecutive pieces (PNG's IDAT chunks, or one TIFF strip),
  * handing the output to `onData` as it comes, and checks the header and the Adler-32 checksum.
  *
- * @param pieces the stream's bytes in order (views are fine; nothing is copied whole)
+ * @param source the stream's bytes, in pieces (views; nothing is copied whole)
  * @param maxBytes the most output the caller can use: inflating stops with a ZlibProblem as soon as
  *   the output passes it (a decompression bomb, or data longer than the header says)
  * @param onData receives each piece of output, in order; it may throw to stop
@@ -70,12 +80,12 @@ const INFLATE_WHY: Record<number, string> = {
  * @throws ZlibProblem for a bad header, a preset dictionary, damaged or short data, too much
  *   output, or a checksum that does not match
  */
-export function inflateZlib(pieces: Uint8Array[], maxBytes: number, onData: (chunk: Uint8Array) => void): number {
-  const total = pieces.reduce((n, p) => n + p.length, 0);
+export function inflateZlib(source: ZlibSource, maxBytes: number, onData: (chunk: Uint8Array) => void): number {
+  const { total } = source;
   if (total < 6) throw new ZlibProblem('the compressed data is too short to be a zlib stream');
   const byteAt = (index: number): number => {
     let i = index;
-    for (const p of pieces) {
+    for (const p of source.pieces()) {
       if (i < p.length) return p[i];
       i -= p.length;
     }
@@ -100,20 +110,30 @@ export function inflateZlib(pieces: Uint8Array[], maxBytes: number, onData: (chu
     adler.update(chunk);
     onData(chunk);
   });
-  // Push everything between the 2-byte header and the 4-byte checksum, at most PIECE_BYTES at a time.
+  // Push everything between the 2-byte header and the 4-byte checksum in pieces of PIECE_BYTES,
+  // gathering small chunks (a file may hold millions of tiny IDATs); the last push is the final one.
   const start = 2;
   const end = total - 4;
   let offset = 0;
+  let stage = new Uint8Array(PIECE_BYTES);
+  let staged = 0;
   try {
-    for (const p of pieces) {
-      const from = Math.max(start - offset, 0);
+    for (const p of source.pieces()) {
       const to = Math.min(end - offset, p.length);
-      for (let i = from; i < to; i += PIECE_BYTES) {
-        const last = offset + Math.min(i + PIECE_BYTES, to) >= end;
-        inflater.push(p.subarray(i, Math.min(i + PIECE_BYTES, to)), last);
+      for (let i = Math.max(start - offset, 0); i < to;) {
+        if (staged === PIECE_BYTES) {
+          inflater.push(stage, false);
+          stage = new Uint8Array(PIECE_BYTES);
+          staged = 0;
+        }
+        const n = Math.min(PIECE_BYTES - staged, to - i);
+        stage.set(p.subarray(i, i + n), staged);
+        staged += n;
+        i += n;
       }
       offset += p.length;
     }
+    inflater.push(stage.subarray(0, staged), true);
   } catch (e) {
     if (e instanceof ZlibProblem) throw e;
     const code = (e as { code?: number }).code;

@@ -55,11 +55,13 @@ export function crc32(bytes: Uint8Array, start: number, end: number): number {
   return (c ^ 0xffffffff) >>> 0;
 }
 
-interface Chunk {
-  type: string;
-  /** Position of the chunk's data and its length. */
-  at: number;
-  length: number;
+/** Where the data of the chunks used lie: IDAT as a compact list of ranges (a file may hold millions). */
+interface PngChunks {
+  /** Data start and length of each IDAT chunk, in pairs. */
+  idat: Float64Array;
+  idatCount: number;
+  plte?: { at: number; length: number };
+  phys?: { at: number; length: number };
 }
 
 const u32 = (b: Uint8Array, at: number) => ((b[at] << 24) | (b[at + 1] << 16) | (b[at + 2] << 8) | b[at + 3]) >>> 0;
@@ -69,12 +71,14 @@ const USED = new Set(['IHDR', 'PLTE', 'IDAT', 'IEND', 'pHYs']);
 
 /**
  * Walks the chunks from the signature to IEND: lengths inside the file, CRCs of the chunks used,
- * the order ISO 15948 section 5.6 requires (IHDR first, PLTE before IDAT, IDATs consecutive, IEND
- * last) and no unknown critical chunk.
+ * the order ISO 15948 section 5.6 requires (IHDR first and once, PLTE once and before IDAT, IDATs
+ * consecutive, IEND last) and no unknown critical chunk. Empty IDAT chunks are passed over.
  */
-function readChunks(bytes: Uint8Array, what: string): Chunk[] {
-  const chunks: Chunk[] = [];
+function readChunks(bytes: Uint8Array, what: string): PngChunks {
+  const found: PngChunks = { idat: new Float64Array(64), idatCount: 0 };
   let pos = SIGNATURE_BYTES;
+  let previous = '';
+  let idatSeen = false;
   let idatEnded = false;
   for (;;) {
     if (pos + 12 > bytes.length) {
@@ -89,23 +93,44 @@ function readChunks(bytes: Uint8Array, what: string): Chunk[] {
     if (length > 0x7fffffff || at + length + 4 > bytes.length) {
       throw corrupt(what, FORMAT, `the ${type} chunk at byte ${pos} runs past the end of the file, so it was cut short`);
     }
-    if (chunks.length === 0 && type !== 'IHDR') throw corrupt(what, FORMAT, `the first chunk is ${type}, not IHDR`);
+    if (pos === SIGNATURE_BYTES && type !== 'IHDR') throw corrupt(what, FORMAT, `the first chunk is ${type}, not IHDR`);
     if (USED.has(type) && crc32(bytes, pos + 4, at + length) !== u32(bytes, at + length)) {
       throw corrupt(what, FORMAT, `the checksum (CRC) of its ${type} chunk does not match`);
     }
     if (!USED.has(type) && isCritical(type)) {
       throw corrupt(what, FORMAT, `it holds a critical chunk "${type}" that the PNG standard does not define`);
     }
-    const previous = chunks[chunks.length - 1]?.type;
-    if (type === 'IDAT' && previous !== 'IDAT' && chunks.some((c) => c.type === 'IDAT')) idatEnded = true;
-    if (idatEnded) throw corrupt(what, FORMAT, 'its image data (IDAT) chunks are not consecutive');
-    if ((type === 'IHDR' && chunks.length > 0) || (type === 'PLTE' && chunks.some((c) => c.type === 'PLTE' || c.type === 'IDAT'))) {
+    if (type === 'IDAT') {
+      if (idatSeen && previous !== 'IDAT') idatEnded = true;
+      if (idatEnded) throw corrupt(what, FORMAT, 'its image data (IDAT) chunks are not consecutive');
+      idatSeen = true;
+      if (length > 0) {
+        if (2 * found.idatCount + 2 > found.idat.length) {
+          const grown = new Float64Array(found.idat.length * 2);
+          grown.set(found.idat);
+          found.idat = grown;
+        }
+        found.idat[2 * found.idatCount] = at;
+        found.idat[2 * found.idatCount + 1] = length;
+        found.idatCount++;
+      }
+    }
+    if ((type === 'IHDR' && pos !== SIGNATURE_BYTES) || (type === 'PLTE' && (found.plte || idatSeen))) {
       throw corrupt(what, FORMAT, `a ${type} chunk is out of place`);
     }
-    if (USED.has(type)) chunks.push({ type, at, length });
+    if (type === 'PLTE') found.plte = { at, length };
+    if (type === 'pHYs' && !found.phys) found.phys = { at, length };
+    previous = type;
     pos = at + length + 4;
-    if (type === 'IEND') return chunks;
+    if (type === 'IEND') return found;
   }
+}
+
+/** Bytes in all IDAT chunks together. */
+function idatBytes(chunks: PngChunks): number {
+  let n = 0;
+  for (let k = 0; k < chunks.idatCount; k++) n += chunks.idat[2 * k + 1];
+  return n;
 }
 
 /**
@@ -187,62 +212,71 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
 
   let palette: Uint8Array | undefined;
   if (colourType === 3) {
-    const plte = chunks.find((c) => c.type === 'PLTE');
+    const plte = chunks.plte;
     if (!plte || plte.length % 3 !== 0 || plte.length === 0 || plte.length / 3 > 2 ** bitDepth) {
       throw corrupt(name, FORMAT, 'its palette (PLTE chunk) is missing or has the wrong size');
     }
     palette = bytes.subarray(plte.at, plte.at + plte.length);
   }
-  const idat = chunks.filter((c) => c.type === 'IDAT').map((c) => bytes.subarray(c.at, c.at + c.length));
-  if (idat.length === 0) throw corrupt(name, FORMAT, 'it has no image data (IDAT chunk)');
+  if (chunks.idatCount === 0) throw corrupt(name, FORMAT, 'it has no image data (IDAT chunk)');
+  const idat = {
+    total: idatBytes(chunks),
+    *pieces() {
+      for (let k = 0; k < chunks.idatCount; k++) {
+        const at = chunks.idat[2 * k];
+        yield bytes.subarray(at, at + chunks.idat[2 * k + 1]);
+      }
+    },
+  };
 
   const planes = Array.from({ length: channels }, () => new Float32Array(width * height));
   const bitsPerPixel = kind.samples * bitDepth;
   const bpp = Math.max(1, bitsPerPixel >> 3);
   const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];
-  // The rows of every (non-empty) pass, in stream order.
-  const rows: { pass: number; y: number; x0: number; dx: number; w: number; bytes: number }[] = [];
-  let expectedBytes = 0;
-  for (const [pass, [x0, y0, dx, dy]] of passes.entries()) {
+  // The non-empty passes in stream order: first column and row, steps, size and row bytes.
+  const plan = passes.map(([x0, y0, dx, dy]) => {
     const w = Math.ceil((width - x0) / dx);
     const h = Math.ceil((height - y0) / dy);
-    if (w <= 0 || h <= 0) continue;
-    const n = rowBytes(w, bitsPerPixel);
-    for (let r = 0; r < h; r++) rows.push({ pass, y: y0 + r * dy, x0, dx, w, bytes: n });
-    expectedBytes += h * (n + 1);
-  }
+    return { x0, y0, dx, dy, w, h, bytes: w > 0 && h > 0 ? rowBytes(w, bitsPerPixel) : 0 };
+  }).filter((p) => p.w > 0 && p.h > 0);
+  const expectedBytes = plan.reduce((n, p) => n + p.h * (p.bytes + 1), 0);
   const writeRow = rowWriter(planes, width, bitDepth, kind.samples, palette, name);
 
-  const maxRow = Math.max(...rows.map((r) => r.bytes));
+  const maxRow = Math.max(...plan.map((p) => p.bytes));
   let cur = new Uint8Array(maxRow);
   let prev = new Uint8Array(maxRow);
-  let rowIndex = 0;
+  let passIndex = 0;
+  let rowInPass = 0;
   let filled = -1; // -1: waiting for the filter-type byte
   let filter = 0;
   const take = (chunk: Uint8Array) => {
     let i = 0;
     while (i < chunk.length) {
-      const row = rows[rowIndex];
-      if (!row) return; // more data than rows: the byte count check below refuses it
+      const pass = plan[passIndex];
+      if (!pass) return; // more data than rows: the byte count check below refuses it
       if (filled < 0) {
         filter = chunk[i++];
         filled = 0;
         continue;
       }
-      const n = Math.min(row.bytes - filled, chunk.length - i);
+      const n = Math.min(pass.bytes - filled, chunk.length - i);
       cur.set(chunk.subarray(i, i + n), filled);
       filled += n;
       i += n;
-      if (filled === row.bytes) {
-        if (rowIndex === 0 || rows[rowIndex - 1].pass !== row.pass) prev.fill(0);
-        const line = cur.subarray(0, row.bytes);
-        if (!unfilter(filter, line, prev.subarray(0, row.bytes), bpp)) {
-          throw corrupt(name, FORMAT, `row ${row.y + 1} names filter type ${filter}, which the PNG standard does not define`);
+      if (filled === pass.bytes) {
+        if (rowInPass === 0) prev.fill(0);
+        const line = cur.subarray(0, pass.bytes);
+        const y = pass.y0 + rowInPass * pass.dy;
+        if (!unfilter(filter, line, prev.subarray(0, pass.bytes), bpp)) {
+          throw corrupt(name, FORMAT, `row ${y + 1} names filter type ${filter}, which the PNG standard does not define`);
         }
-        writeRow(line, row.y, row.x0, row.dx, row.w);
+        writeRow(line, y, pass.x0, pass.dx, pass.w);
         [cur, prev] = [prev, cur];
-        rowIndex++;
         filled = -1;
+        if (++rowInPass === pass.h) {
+          passIndex++;
+          rowInPass = 0;
+        }
       }
     }
   };
@@ -258,7 +292,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
   }
 
   const sixteen = bitDepth === 16;
-  const phys = chunks.find((c) => c.type === 'pHYs' && c.length === 9);
+  const phys = chunks.phys?.length === 9 ? chunks.phys : undefined;
   const pixelSizeUmPerPx = phys
     ? pngPixelSizeUm(u32(bytes, phys.at), u32(bytes, phys.at + 4), bytes[phys.at + 8]) : undefined;
   return makeImage({

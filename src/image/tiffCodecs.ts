@@ -1,4 +1,4 @@
-import { inflateZlib, ZlibProblem } from './inflate.ts';
+import { inflateZlib, oneZlibPiece, ZlibProblem } from './inflate.ts';
 import { COMPRESSION } from './tiffHeader.ts';
 
 /**
@@ -41,7 +41,7 @@ export function decodeBlock(src: Uint8Array, compression: number, expected: numb
       out = new Uint8Array(most);
       let at = 0;
       try {
-        produced = inflateZlib([src], most, (chunk) => {
+        produced = inflateZlib(oneZlibPiece(src), most, (chunk) => {
           out.set(chunk, at);
           at += chunk.length;
         });

@@ -434,6 +434,19 @@ export function makeCorpus(dir: string): CorpusCase[] {
       'an LZW strip that expands to about 7 MB for 391 pixels', true);
   }
 
+  {
+    // Chunk floods: 300,000 empty IDAT chunks before the real one, and the image data split into 1-byte IDATs.
+    const idat = pngChunks(small).find((c) => c.type === 'IDAT') as PngChunkAt;
+    const data = small.subarray(idat.start + 8, idat.start + 8 + idat.length);
+    const empty = pngChunk('IDAT', new Uint8Array(0));
+    const flood = new Uint8Array(300_000 * empty.length);
+    for (let k = 0; k < 300_000; k++) flood.set(empty, k * empty.length);
+    add('bomb-png-empty-idats.png', concat(head, flood, pngChunk('IDAT', data), iend), 'read',
+      '300,000 empty IDAT chunks (3.6 MB) before the image data', true);
+    const ones = Array.from(data, (b) => pngChunk('IDAT', Uint8Array.of(b)));
+    add('read-png-1-byte-idats.png', concat(head, ...ones, iend), 'read', 'the image data in 1-byte IDAT chunks');
+  }
+
   // --- Valid but unusual files: they must be read.
   const readable: [string, string][] = [
     ['read-adam7-tiny.png', 'variants/adam7_tiny_rgb8.png'], ['read-grey2.png', 'variants/grey2.png'],
