@@ -8,10 +8,13 @@ import type { Channel } from '../src/channel/index.ts';
 import { AnalysisClient, tileHelperCount, CancelledError, type ImageSource } from './worker/client.ts';
 import type { DecodeSummary, Glyph, OpticalViewName, Picture, StepTimes } from './worker/protocol.ts';
 import {
-  BackupError, browserKeyValue, createSaver, createSessionStore, createSetupStore, exportBackup, importBackup,
+  BackupError, browserKeyValue, createSessionStore, createSetupStore, exportBackup, importBackup, isQuotaError,
   type AnalysisSettings, type SessionRecord, type SessionSummary,
 } from './storage/index.ts';
+import { sessionLocks } from './storage/sessionLock.ts';
+import { storageState, type StorageState } from './storage/persistence.ts';
 import { sessionReducer, orientIsStale, profileIsStale, type SessionAction } from './state/session.ts';
+import { ownershipWords, saveStateWords, useSessionKeeping } from './state/keeping.ts';
 import { Viewer, type Layer, type OverlayMode, type ViewerHandle } from './components/Viewer.tsx';
 import { LegendWheel } from './components/LegendWheel.tsx';
 import { ProfilePlot } from './components/ProfilePlot.tsx';
@@ -39,7 +42,10 @@ import {
   download, orientCommandLine, orientCsv, profileBinsCsv, profileCommandLine, profileCsv, wallsText,
 } from './export/rows.ts';
 
-interface Message { id: number; kind: 'error' | 'info'; text: string }
+/** The app's version (vite.config.ts). */
+declare const __RETARDA_VERSION__: string;
+
+interface Message { id: number; kind: 'error' | 'info'; text: string; action?: { label: string; run(): void } }
 interface Busy { stage: string; fraction: number; what: string }
 /**
  * What the viewer shows for the active image. The coherency picture and the glyphs are made when first
@@ -75,6 +81,7 @@ const sessionName = () => `Session ${new Date().toLocaleString(undefined, { date
 export function App() {
   const store = useMemo(() => createSessionStore(browserKeyValue()), []);
   const setupStore = useMemo(() => createSetupStore(browserKeyValue()), []);
+  const locks = useMemo(() => sessionLocks(navigator.locks), []);
   // Helpers (one per spare core, or as `?workers=N` says) share the tiles of large images; each holds its own opencv.js.
   const client = useMemo(() => new AnalysisClient(() => new Worker(new URL('./worker/analysis.worker.ts', import.meta.url), { type: 'module', name: 'analysis' }),
     { tileHelpers: tileHelperCount(location.search, navigator.hardwareConcurrency || 2) }), []);
@@ -98,7 +105,8 @@ export function App() {
   const [mode, setMode] = useState<OverlayMode>('colour');
   const [opacity, setOpacity] = useState(0.7);
   const [drawing, setDrawing] = useState(false);
-  const [saveState, setSaveState] = useState<'saved' | 'waiting' | 'failed'>('saved');
+  /** Whether the browser keeps the app's storage, and the space used (shown in the session list). */
+  const [storage, setStorage] = useState<StorageState | null>(null);
   const [engine, setEngine] = useState<'starting' | 'ready' | 'failed'>('starting');
   const [demos, setDemos] = useState<DemoEntry[]>([]);
   const [update, setUpdate] = useState<null | (() => void)>(null);
@@ -131,18 +139,18 @@ export function App() {
     for (const l of [before.image, before.colour, before.coherency]) if (l && !keep.has(l)) l.levels.forEach((b) => b.close());
   }, [shown]);
 
-  const say = useCallback((kind: Message['kind'], text: string) => {
+  const say = useCallback((kind: Message['kind'], text: string, action?: Message['action']) => {
     const id = ++msgId.current;
     // One short-lived note at a time; errors stay until dismissed (the last four are kept).
-    setMessages((m) => [...m.filter((x) => x.kind === 'error').slice(-3), ...m.filter((x) => x.kind === 'info' && kind === 'error'), { id, kind, text }]);
+    setMessages((m) => [...m.filter((x) => x.kind === 'error').slice(-3), ...m.filter((x) => x.kind === 'info' && kind === 'error'), { id, kind, text, action }]);
     if (kind === 'info') setTimeout(() => setMessages((m) => m.filter((x) => x.id !== id)), 5000);
   }, []);
 
-  const saver = useMemo(() => createSaver<SessionRecord>((s) => store.save(s), {
-    delayMs: 400,
-    onSaved: () => setSaveState('saved'),
-    onError: (e) => { setSaveState('failed'); say('error', `Your changes could not be saved on this device (${(e as Error).message}). Keep the page open and save a backup from the session list.`); },
-  }), [store, say]);
+  // Writing the open session: debounced, only by the tab that holds it, and saying so when it cannot.
+  const backupRef = useRef<() => void>(() => undefined);
+  const keeping = useSessionKeeping({ store, locks, say, backup: () => backupRef.current() });
+  /** Shows a session as the open one (after `keeping.enter` or its copy / open-saved actions). */
+  const show = useCallback((s: SessionRecord) => { sessionRef.current = s; setSession(s); setShown(null); }, []);
 
   const change = useCallback((a: SessionAction) => {
     const cur = sessionRef.current;
@@ -151,13 +159,11 @@ export function App() {
     if (next === cur) return;
     sessionRef.current = next;
     setSession(next);
-    setSaveState('waiting');
-    saver.schedule(next);
     // Dragging wall ends and typing settings change the session many times a second: those wait for
     // the debounce. Everything else (images, results, names) is written at once, so a reload right
     // after it loses nothing.
-    if (a.type !== 'walls' && a.type !== 'settings') void saver.flush();
-  }, [saver]);
+    keeping.changed(next, a.type !== 'walls' && a.type !== 'settings');
+  }, [keeping.changed]);
 
   const refreshList = useCallback(async () => {
     try {
@@ -172,14 +178,13 @@ export function App() {
   }, [store, say]);
 
   const openSession = useCallback(async (id: string) => {
-    await saver.flush();
-    const s = await store.load(id).catch((e: Error) => { say('error', e.message); return null; });
+    await keeping.flush();
+    const s = await store.open(id).catch((e: Error) => { say('error', e.message); return null; });
     if (!s) { say('error', 'That session could not be opened; it may have been deleted in another tab.'); return; }
-    sessionRef.current = s;
-    setSession(s);
-    setShown(null);
+    await keeping.enter(s);
+    show(s);
     setShowSessions(false);
-  }, [store, saver, say]);
+  }, [store, keeping.flush, keeping.enter, say, show]);
 
   // Start: engine, saved sessions (open the latest), demo list, flush on pagehide.
   useEffect(() => {
@@ -187,30 +192,46 @@ export function App() {
     void client.helpersLinked.then(setHelperCount);
     void refreshList().then((l) => { if (l?.sessions[0] && !sessionRef.current) void openSession(l.sessions[0].id); });
     fetch('./demo/index.json').then((r) => (r.ok ? r.json() : [])).then((d) => setDemos(Array.isArray(d) ? d : [])).catch(() => setDemos([]));
-    const flush = () => { void saver.flush(); };
+    const flush = () => { void keeping.flush(); };
     const hidden = () => { if (document.visibilityState === 'hidden') flush(); };
+    // Changes this tab cannot store (storage full, session open in another tab): the browser asks before closing.
+    const leaving = (e: BeforeUnloadEvent) => { if (keeping.unsaved()) e.preventDefault(); };
     window.addEventListener('pagehide', flush);
+    window.addEventListener('beforeunload', leaving);
     document.addEventListener('visibilitychange', hidden);
-    void navigator.storage?.persist?.().catch(() => undefined);
-    return () => { window.removeEventListener('pagehide', flush); document.removeEventListener('visibilitychange', hidden); };
+    // Ask the browser to keep the sessions until the user deletes them; the answer is shown in the session list.
+    void storageState(navigator.storage, true).then(setStorage);
+    return () => { window.removeEventListener('pagehide', flush); window.removeEventListener('beforeunload', leaving); document.removeEventListener('visibilitychange', hidden); };
   }, []); // eslint-disable-line react-hooks/exhaustive-deps
 
-  // Service worker: offer updates, and apply them only after the work is saved.
+  // Service worker: a new version waits until the user chooses to reload, and only after the work is saved;
+  // the page is never reloaded under the user (also when another tab started the new version).
   useEffect(() => {
     if (!import.meta.env.PROD || !('serviceWorker' in navigator)) return;
     let cancelled = false;
+    let stop = () => undefined as void;
     void import('workbox-window').then(({ Workbox }) => {
       if (cancelled) return;
       const wb = new Workbox('./sw.js');
+      let taken = false, reloading = false;
+      wb.addEventListener('controlling', () => { taken = true; if (reloading) window.location.reload(); });
       wb.addEventListener('waiting', () => setUpdate(() => async () => {
-        await saver.flush();
-        wb.addEventListener('controlling', () => window.location.reload());
-        wb.messageSkipWaiting();
+        if (!(await keeping.flush())) {
+          say('error', 'The new version was not started, so that nothing is lost: your latest changes are not saved on this device. Save a backup or work on a copy first.');
+          return;
+        }
+        reloading = true;
+        if (taken) window.location.reload(); else wb.messageSkipWaiting();
       }));
       wb.register().catch((e: Error) => say('error', `Offline use is not available: ${e.message}`));
+      // A tab left open for days still hears of a new version: look hourly and whenever the tab is shown again.
+      const look = () => { if (document.visibilityState === 'visible') void wb.update().catch(() => undefined); };
+      const timer = setInterval(look, 60 * 60 * 1000);
+      document.addEventListener('visibilitychange', look);
+      stop = () => { clearInterval(timer); document.removeEventListener('visibilitychange', look); };
     });
-    return () => { cancelled = true; };
-  }, [saver, say]);
+    return () => { cancelled = true; stop(); };
+  }, [keeping.flush, say]);
 
   const progress = useCallback((what: string) => (stage: string, fraction: number) => setBusy({ what, stage, fraction }), []);
 
@@ -242,6 +263,11 @@ export function App() {
 
   const report = useCallback((e: unknown, what: string) => {
     if (e instanceof CancelledError) { say('info', `${what} stopped.`); return; }
+    if (isQuotaError(e)) {
+      say('error', `${what}: the storage this browser allows the app is full. Everything saved before is safe. Save a backup, then make room by deleting sessions you no longer need.`,
+        { label: 'Save a backup', run: () => backupRef.current() });
+      return;
+    }
     const err = e as Error & { hint?: string };
     say('error', `${what}: ${err.message}`);
   }, [say]);
@@ -417,8 +443,13 @@ export function App() {
   const addFiles = useCallback(async (files: File[]) => {
     if (!files.length) return;
     let s = sessionRef.current;
+    if (s && !keeping.writes(s.id)) {
+      say('error', 'Images cannot be added here while the session is open in another tab. Choose “Work on a copy here” first.');
+      return;
+    }
     if (!s) {
-      try { s = await store.create(sessionName()); } catch (e) { say('error', (e as Error).message); return; }
+      try { s = await store.create(sessionName()); } catch (e) { report(e, 'A new session could not be started'); return; }
+      await keeping.enter(s);
       sessionRef.current = s;
       setSession(s);
     }
@@ -443,7 +474,7 @@ export function App() {
       change({ type: 'addImages', images: added });
       say('info', `${added.length} image(s) added to "${sessionRef.current?.name}".`);
     }
-  }, [store, client, progress, change, say, report]);
+  }, [store, client, progress, change, say, report, keeping.writes, keeping.enter]);
 
   const openDemo = useCallback(async (d: DemoEntry, whole = false) => {
     try {
@@ -532,7 +563,7 @@ export function App() {
   const openReport = async () => {
     const s = sessionRef.current;
     if (!s) return;
-    await saver.flush();
+    await keeping.flush();
     const pic = viewPicture();
     let view: { imageId: string; url: string } | null = null;
     if (pic && active) {
@@ -549,9 +580,16 @@ export function App() {
 
   const doBackup = async () => {
     try {
-      await saver.flush();
+      await keeping.flush();
       download(`retarda-backup-${new Date().toISOString().slice(0, 10)}.json`, await exportBackup(store), 'application/json');
     } catch (e) { say('error', `The backup could not be made: ${(e as Error).message}`); }
+  };
+  backupRef.current = () => void doBackup();
+  /** Refuses to change a session that another tab has open (it would overwrite that tab's work), saying so. */
+  const heldElsewhere = async (id: string, what: string) => {
+    if (!(await locks.heldElsewhere(id))) return false;
+    say('error', `That session is open in another tab, so it was not ${what} here. Close it there first.`);
+    return true;
   };
   const doRestore = async (file: File) => {
     try {
@@ -566,27 +604,36 @@ export function App() {
       <header className="top">
         <h1>Retarda</h1>
         <span className="session-title" data-testid="session-name">{session ? session.name : 'No session yet'}</span>
-        <span className={`save-state ${saveState}`} data-testid="save-state">{session ? (saveState === 'saved' ? 'Saved on this device' : saveState === 'waiting' ? 'Saving…' : 'Not saved!') : ''}</span>
+        <span className={`save-state ${keeping.saveState}`} data-testid="save-state">{session ? saveStateWords(keeping.saveState) : ''}</span>
         <span className="spacer" />
         <span className={`engine ${engine}`} data-helpers={helperCount}
           title={helperCount ? `Large images are shared between ${helperCount + 1} analysis workers (the numbers are the same as with one).` : undefined}>
           {engine === 'starting' ? 'Analysis engine starting…' : engine === 'ready' ? 'Works offline' : 'Analysis engine failed'}</span>
         <button onClick={() => fileInput.current?.click()} title="Shortcut: I">Add images…</button>
         <button className={screen === 'camera' ? 'on' : ''} aria-pressed={screen === 'camera'} onClick={() => setScreen((v) => (v === 'camera' ? 'images' : 'camera'))}>Camera</button>
-        <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void saver.flush(); setScreen((v) => (v === 'compare' ? 'images' : 'compare')); }}>Compare</button>
+        <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void keeping.flush(); setScreen((v) => (v === 'compare' ? 'images' : 'compare')); }}>Compare</button>
         <button onClick={() => setShowSetups((v) => !v)} data-testid="setup-button" title={`The microscope's optical train, pixel size and sample sign. Lengths: ${calibrationWords(calibration)}`}>
           Set-up: {session?.setup?.name ?? 'none'}{session && <> · <span className={`calibration-state ${calibration.origin}`} data-testid="calibration-state">{calibrationShort(calibration)}</span></>}</button>
-        <button onClick={() => { setShowSessions(true); void refreshList(); }} title="Shortcut: S">Sessions</button>
+        <button onClick={() => { setShowSessions(true); void refreshList(); void storageState(navigator.storage).then(setStorage); }} title="Shortcut: S">Sessions</button>
         <button className="quiet" onClick={() => setHelp((h) => !h)} aria-label="Keyboard shortcuts" title="Shortcut: ?">?</button>
         <input ref={fileInput} type="file" accept={ACCEPT} multiple hidden data-testid="file-input"
           onChange={(e) => { void addFiles([...(e.target.files ?? [])]); e.target.value = ''; }} />
       </header>
 
-      {update && <div className="banner">A new version of the app is ready. <button onClick={update}>Save my work and reload</button></div>}
+      {update && <div className="banner" data-testid="update-banner">A new version of the app is ready. <button onClick={update}>Save my work and reload</button></div>}
+      {session && keeping.ownership && keeping.ownership.id === session.id && keeping.ownership.mode !== 'own' && (
+        <div className="banner warn" role="alert" data-testid="session-elsewhere">
+          <span>{ownershipWords(keeping.ownership)}</span>{' '}
+          <button onClick={async () => { const c = await keeping.workOnCopy(session); if (c) { show(c); void refreshList(); } }}>Work on a copy here</button>{' '}
+          <button onClick={async () => { const s = await keeping.openSaved(session.id); if (s) show(s); }}>
+            {keeping.ownership.edited ? 'Open the saved version (drops the changes made here)' : 'Open it here'}</button>
+        </div>
+      )}
       <div className="messages" aria-live="polite">
         {messages.map((m) => (
           <div key={m.id} className={`message ${m.kind}`} role={m.kind === 'error' ? 'alert' : 'status'}>
             <span>{m.text}</span>
+            {m.action && <button onClick={m.action.run}>{m.action.label}</button>}
             <button className="quiet" aria-label="Dismiss" onClick={() => setMessages((l) => l.filter((x) => x.id !== m.id))}>×</button>
           </div>
         ))}
@@ -594,12 +641,27 @@ export function App() {
 
       {showSessions && (
         <SessionsPanel
-          sessions={listing.sessions} currentId={session?.id ?? null} asideCount={listing.asideCount}
+          sessions={listing.sessions} currentId={session?.id ?? null} asideCount={listing.asideCount} storage={storage}
           onOpen={(id) => void openSession(id)}
-          onNew={async () => { await saver.flush(); const s = await store.create(sessionName()); sessionRef.current = s; setSession(s); setShown(null); setShowSessions(false); void refreshList(); }}
-          onRename={async (id, name) => { if (id === session?.id) change({ type: 'rename', name }); else await store.rename(id, name); await saver.flush(); void refreshList(); }}
-          onDuplicate={async (id) => { await saver.flush(); await store.duplicate(id); void refreshList(); }}
-          onDelete={async (id) => { await store.remove(id); if (id === session?.id) { sessionRef.current = null; setSession(null); setShown(null); } void refreshList(); }}
+          onNew={async () => {
+            await keeping.flush();
+            const s = await store.create(sessionName()).catch((e) => { report(e, 'A new session could not be started'); return null; });
+            if (!s) return;
+            await keeping.enter(s); show(s); setShowSessions(false); void refreshList();
+          }}
+          onRename={async (id, name) => {
+            if (id === session?.id) change({ type: 'rename', name });
+            else if (!(await heldElsewhere(id, 'renamed'))) await store.rename(id, name).catch((e) => report(e, 'The session was not renamed'));
+            await keeping.flush(); void refreshList();
+          }}
+          onDuplicate={async (id) => { await keeping.flush(); await store.duplicate(id).catch((e) => report(e, 'The session was not duplicated')); void refreshList(); }}
+          onDelete={async (id) => {
+            if (id !== session?.id && await heldElsewhere(id, 'deleted')) return;
+            if (id === session?.id) { keeping.leave(); sessionRef.current = null; setSession(null); setShown(null); }
+            await store.remove(id).catch((e) => report(e, 'The session was not deleted'));
+            // Room was made: a change refused for lack of it is written now.
+            void keeping.flush(); void refreshList(); void storageState(navigator.storage).then(setStorage);
+          }}
           onBackup={() => void doBackup()} onRestore={(f) => void doRestore(f)} onClose={() => setShowSessions(false)}
         />
       )}
@@ -624,6 +686,7 @@ export function App() {
             <dt>M</dt><dd>next tab of “More analyses” (Shift+M: the previous one)</dd><dt>R</dt><dd>run the analysis of the tab shown in “More analyses”, with its settings</dd><dt>1 2 3 4</dt><dd>show: image only, orientation colours, coherency, line glyphs</dd>
             <dt>+ − 0</dt><dd>zoom in, out, fit</dd><dt>S</dt><dd>saved sessions</dd><dt>Esc</dt><dd>stop the running analysis, close panels</dd><dt>Ctrl+V</dt><dd>paste an image</dd>
           </dl>
+          <p className="note" data-testid="app-version">Retarda version {__RETARDA_VERSION__}</p>
         </section>
       )}
 
@@ -666,7 +729,13 @@ export function App() {
                 <li key={m.id} className={m.id === active.id ? 'current' : ''}>
                   <button onClick={() => change({ type: 'select', id: m.id })} title={m.name}>{m.name}</button>
                   <span className="marks">{session!.work[m.id]?.orient ? 'O' : ''}{session!.work[m.id]?.profile ? 'P' : ''}</span>
-                  <button className="quiet small" aria-label={`Remove ${m.name} from the session`} onClick={() => { change({ type: 'removeImage', id: m.id }); void store.removeImage(m.id); client.call('forget', { key: m.id }).catch(() => undefined); }}>×</button>
+                  <button className="quiet small" aria-label={`Remove ${m.name} from the session`} onClick={() => {
+                    const writes = keeping.writes(session!.id);
+                    change({ type: 'removeImage', id: m.id });
+                    // The session is written without the image first, then its bytes go (never a session listing missing bytes).
+                    if (writes) void keeping.flush().then((done) => { if (done) void store.removeImage(m.id); });
+                    client.call('forget', { key: m.id }).catch(() => undefined);
+                  }}>×</button>
                 </li>
               ))}
             </ul>

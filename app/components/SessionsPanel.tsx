@@ -1,11 +1,14 @@
 /** Every session kept on this device: open, rename, duplicate, delete; back up and restore everything. */
 import { useRef, useState } from 'react';
 import type { SessionSummary } from '../storage/index.ts';
+import { keepingWords, type StorageState } from '../storage/persistence.ts';
 
 interface Props {
   sessions: SessionSummary[];
   currentId: string | null;
   asideCount: number;
+  /** Whether the browser keeps the sessions until they are deleted, and the space used; null until known. */
+  storage: StorageState | null;
   onOpen(id: string): void;
   onNew(): void;
   onRename(id: string, name: string): void;
@@ -21,6 +24,7 @@ export function SessionsPanel(p: Props) {
   const [draft, setDraft] = useState('');
   const [confirm, setConfirm] = useState<string | null>(null);
   const file = useRef<HTMLInputElement>(null);
+  const keeping = p.storage ? keepingWords(p.storage) : null;
   return (
     <section className="sessions" aria-label="Saved sessions">
       <header className="sessions-head">
@@ -33,6 +37,11 @@ export function SessionsPanel(p: Props) {
         <button className="quiet" onClick={p.onClose} aria-label="Close the session list">Close</button>
       </header>
       <p className="note">Sessions are saved on this device as you work. A backup file is the way to move them to another device or keep them safe.</p>
+      {keeping && (
+        <p className={`note${keeping.kept ? '' : ' warn'}`} data-testid="storage-kept" data-kept={String(keeping.kept)}>
+          {keeping.text}{keeping.space && <> {keeping.space}</>}
+        </p>
+      )}
       {p.asideCount > 0 && <p className="note warn">{p.asideCount} stored record(s) could not be read and were kept aside unchanged; they are included in backups.</p>}
       {p.sessions.length === 0 ? <p>No sessions yet. Bring in an image to start one.</p> : (
         <ul className="session-list">
