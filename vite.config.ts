@@ -2,6 +2,7 @@ import { defineConfig, type Plugin } from 'vite';
 import react from '@vitejs/plugin-react';
 import { VitePWA } from 'vite-plugin-pwa';
 import { fileURLToPath } from 'node:url';
+import { readFileSync } from 'node:fs';
 import { demoImages } from './app/build/demoImages.ts';
 
 const here = (p: string) => fileURLToPath(new URL(p, import.meta.url));
@@ -10,15 +11,26 @@ const here = (p: string) => fileURLToPath(new URL(p, import.meta.url));
 export const DEMO_ANALYSES = ['orient', 'profile', 'plate', 'plate2', 'quad', 'diameter', 'calibrate'];
 
 /**
- * Content security policy for the built page. The page itself needs no eval; the analysis worker
- * (opencv.js) does, and a worker served from its own URL takes its policy from its own response, so
- * the page's meta tag does not restrict it. Dev mode injects inline scripts, so only the build gets it.
+ * The app's version as shown in its help: package.json's, with `RETARDA_BUILD` appended when set (a build
+ * made to test updates sets it, so two builds differ).
  */
+const version = JSON.parse(readFileSync(here('./package.json'), 'utf8')).version + (process.env.RETARDA_BUILD ? `+${process.env.RETARDA_BUILD}` : '');
+
+/**
+ * Content security policy of the built page (W3C Content Security Policy Level 3): scripts and styles only
+ * from the app's own files, no inline script or style, no eval, nothing from other sites. React sets element
+ * styles through the DOM (CSSOM), which the policy allows. The page itself compiles no WebAssembly. The
+ * analysis worker (opencv.js calls `new Function` while it starts) is served from its own URL, so it takes its
+ * policy from its own response, not from this tag. Dev mode injects inline scripts, so only the build gets it.
+ */
+export const PAGE_POLICY = [
+  "default-src 'self'", "script-src 'self'", "worker-src 'self'", "style-src 'self'",
+  "img-src 'self' blob: data:", "connect-src 'self' blob: data:", "media-src 'self' blob:", "font-src 'self'",
+  "object-src 'none'", "base-uri 'self'", "form-action 'none'",
+].join('; ');
+
 function pagePolicy(): Plugin {
-  const policy = [
-    "default-src 'self'", "script-src 'self' 'wasm-unsafe-eval'", "worker-src 'self'", "style-src 'self' 'unsafe-inline'",
-    "img-src 'self' blob: data:", "connect-src 'self' blob: data:", "media-src 'self' blob:", "object-src 'none'", "base-uri 'self'",
-  ].join('; ');
+  const policy = PAGE_POLICY;
   return {
     name: 'retarda-page-policy',
     apply: 'build',
@@ -37,6 +49,7 @@ export default defineConfig({
     chunkSizeWarningLimit: 12_000,
   },
   worker: { format: 'es' },
+  define: { __RETARDA_VERSION__: JSON.stringify(version) },
   optimizeDeps: { include: ['@techstark/opencv-js', 'fast-png', 'jpeg-js', 'tiff'] },
   server: { fs: { allow: [here('.')] } },
   plugins: [

@@ -110,7 +110,7 @@ describe.runIf(haveBrowser)('the browser\'s storage: kept, and full', () => {
     // Chromium goes on allowing writes for a while on the room it found when it last asked the quota (with this
     // chromium, writes kept succeeding for 27 s after the override, and failed from 30 s on): wait until a write
     // of the test's own, to a database of its own, is refused.
-    await expect.poll(probeWrite, { timeout: 60_000, intervals: [2_000] }).toBe('QuotaExceededError');
+    await expect.poll(probeWrite, { timeout: 60_000, interval: 2_000 }).toBe('QuotaExceededError');
 
     await bins().fill('30');
     const alert = page.getByRole('alert').filter({ hasText: 'could not be saved: the storage this browser allows the app is full' });
