@@ -1,9 +1,10 @@
 import { InputError, checkNumber } from '../common/errors.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
+import { combineUncertainties } from '../common/gum.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
 import {
-  accumulateBlocks, axisOrderStat, checkWeighting, degreesOfFreedom, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments,
+  accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments,
   type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
 import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
@@ -150,11 +151,14 @@ function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins:
     };
   });
   const c = axisOrderStat(core), s = axisOrderStat(skin);
-  // Core and skin are different pixels, blocks apart: their estimates are taken as independent.
-  const ratioCi = fiellerInterval(c.order, c.se, s.order, s.se, degreesOfFreedom(Math.min(c.blocks, s.blocks)));
+  // Core and skin are different pixels, blocks apart: their estimates are taken as independent. The
+  // degrees of freedom of a - R b at the estimated ratio by Welch-Satterthwaite (GUM G.4.1).
+  const ratio = c.order / s.order;
+  const { dof } = combineUncertainties([{ u: c.se, dof: c.dof }, { u: Math.abs(ratio) * s.se, dof: s.dof }]);
+  const ratioCi = fiellerInterval(c.order, c.se, s.order, s.se, dof);
   return {
     bins: list, core: c, skin: s,
-    coreSkinRatio: ratioCi ? c.order / s.order : NaN,
+    coreSkinRatio: ratioCi ? ratio : NaN,
     coreSkinRatioCi: ratioCi ?? [NaN, NaN],
   };
 }

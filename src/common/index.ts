@@ -4,3 +4,4 @@ export type { Plane } from './plane.ts';
 export { makePlane } from './plane.ts';
 export { withDefaults } from './options.ts';
 export { bilinear, clampedBilinear, median } from './sampling.ts';
+export { combineUncertainties, coverageFactor, type UncertaintyComponent } from './gum.ts';

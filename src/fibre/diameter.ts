@@ -13,7 +13,8 @@ import { unresolvedUpperBoundPx, RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts
 import type { BarPool } from './barPool.ts';
 import { stationStats } from './stats.ts';
 import { normalQuantile } from '../common/distributions.ts';
-import { combineUncertainty, expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
+import { expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
+import { combineUncertainties } from '../common/gum.ts';
 
 export interface DiameterOptions {
   /** Distance between stations along the axis, px. Default 10. */
@@ -168,11 +169,11 @@ function summarise(runs: DiameterStation[][], dropped: DroppedStation[], cal: Ca
     // stationStats states its interval as mean +- t(0.975, nEff - 1) u; recover u from it.
     const statDof = s.nEffective - 1;
     const statU = (s.ciHigh - s.ciLow) / 2 / expandedInterval(0, { u: 1, dof: statDof }).k;
-    const combined = combineUncertainty([{ u: statU, dof: statDof }, { u: sigmaTermPx, dof: Infinity }]);
+    const combined = combineUncertainties([{ u: statU, dof: statDof }, { u: sigmaTermPx, dof: Infinity }]);
     const px = expandedInterval(s.mean, combined);
     [uPx, dofPx, ciPx] = [combined.u, combined.dof, [px.ciLow, px.ciHigh]];
     if (umPerPx !== null) {
-      const inUm = combineUncertainty([{ u: combined.u * umPerPx, dof: combined.dof },
+      const inUm = combineUncertainties([{ u: combined.u * umPerPx, dof: combined.dof },
         { u: s.mean * umPerPx * relU, dof: Infinity }]);
       const iv = expandedInterval(s.mean * umPerPx, inUm);
       [uUm, dofUm, ciUm] = [inUm.u, inUm.dof, [iv.ciLow, iv.ciHigh]];

@@ -3,8 +3,8 @@ export { measureFibreDiameters, DIAMETER_DEFAULTS, DROP_REASON_TEXT } from './di
 export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
 export type { DropReason, DroppedStation } from './stations.ts';
 export { erf, erfc, normalCdf, normalQuantile, studentTQuantile, studentTCdf } from '../common/distributions.ts';
-export { combineUncertainty, coverageFactor, expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
-export type { UncertaintyPart, Combined, Interval } from './uncertainty.ts';
+export { expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
+export type { Combined, Interval } from './uncertainty.ts';
 export { fitErfEdge, fitBlurredBar, parabolaEdgeIndex } from './edgeFit.ts';
 export type { ErfEdgeFit, ErfEdgeStart, BlurredBarFit, BlurredBarStart } from './edgeFit.ts';
 export { RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';

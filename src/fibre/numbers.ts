@@ -7,7 +7,8 @@
  * tex = rho * A * 1e-3 (A * 1e-8 cm^2 times 1e5 cm per km). Specific stress: 1 N/tex = 1 GPa / (g/cm^3).
  */
 import { InputError } from '../common/errors.ts';
-import { combineUncertainty, expandedInterval, type Interval } from './uncertainty.ts';
+import { expandedInterval, type Interval } from './uncertainty.ts';
+import { combineUncertainties } from '../common/gum.ts';
 
 /** Standard gravity (exact by definition, CGPM 1901), for gram-force. */
 const STANDARD_GRAVITY_M_PER_S2 = 9.80665;
@@ -229,7 +230,7 @@ interface PowerInput {
 export function powerLawInterval(y: number, inputs: PowerInput[]): FibreNumberInterval | null {
   const given = inputs.filter((x) => x.u !== undefined && x.u > 0);
   if (given.length === 0) return null;
-  const c = combineUncertainty(given.map((x) => ({
+  const c = combineUncertainties(given.map((x) => ({
     u: Math.abs((y * x.exponent * (x.u as number)) / x.value), dof: x.dof ?? Infinity,
   })));
   return { ...expandedInterval(y, c), from: given.map((x) => x.name) };

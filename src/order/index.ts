@@ -2,7 +2,7 @@ export type { Weighting } from './accumulate.ts';
 export { accumulateBlocks, WEIGHTINGS } from './accumulate.ts';
 export type { BlockSums, Moments } from './blocks.ts';
 export { axisOrderOf, freeOrderOf, totalMoments, liveBlocks } from './blocks.ts';
-export { axisOrderStat, freeOrderStat, ratioStat, fiellerInterval, fQuantile2, degreesOfFreedom, INTERVAL_LEVEL } from './intervals.ts';
+export { axisOrderStat, freeOrderStat, ratioStat, fiellerInterval, fQuantile2, INTERVAL_LEVEL } from './intervals.ts';
 export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';
 export { orderParameters, defaultBlockPx, defaultWeighting, checkWeighting } from './orderParameters.ts';
 export { seededRandom, normalRandom } from './random.ts';

@@ -26,8 +26,10 @@ export interface OrderStat {
   n: number;
   /** Standard error of `order` (linearised), NaN when fewer than two blocks hold pixels. */
   se: number;
-  /** Blocks (independent units) behind the interval. */
+  /** Blocks (pieces of the block grid) behind the interval. */
   blocks: number;
+  /** Degrees of freedom of the standard error (Satterthwaite), 0 when it is not defined. */
+  dof: number;
 }
 
 /** Two-sided level of every interval the tool prints. */
@@ -61,27 +63,19 @@ export function freeOrderStat(b: BlockSums): OrderStat & { directorDetermined: b
   }
   const st = ratioStat(along, b.w, b, 0, 1);
   if (!Number.isFinite(st.se) || !(sw > 0)) return { ...st, directorDetermined: false };
-  // The across component's estimate is 0 by construction; its spread completes the 2 x 2 covariance.
-  const sa = st.se, sx = ratioStat(across, b.w, b, -1, 1).se, cov = crossCovariance(along, across, b.w, b, st.order) ;
-  const det = sa * sa * sx * sx - cov * cov;
-  const t2 = det > 0 ? (st.order * st.order * sx * sx) / det : Infinity;
-  const m = degreesOfFreedom(st.blocks) + 1;
+  // The across component's estimate is 0 by construction; its spread and its covariance with the along
+  // component complete the 2 x 2 covariance (same residual quadratic form and bias factor).
+  const pairs = neighbourPairs(b);
+  const { factor } = varianceCorrection(b.w, b.n, pairs);
+  const ea = residuals(along, b.w, b.n, st.order), ex = residuals(across, b.w, b.n, 0);
+  const sx2 = quadraticForm(ex, ex, pairs) / factor / (sw * sw), cov = quadraticForm(ea, ex, pairs) / factor / (sw * sw);
+  const sa = st.se;
+  const det = sa * sa * sx2 - cov * cov;
+  const t2 = det > 0 ? (st.order * st.order * sx2) / det : Infinity;
+  const m = st.dof + 1;
   const limit = m > 2 ? (2 * (m - 1) / (m - 2)) * fQuantile2(0.5 + INTERVAL_LEVEL / 2, m - 2) : Infinity;
   const determined = t2 > limit && st.ciLow > 0;
   return { ...st, ciLow: determined ? st.ciLow : 0, directorDetermined: determined };
-}
-
-/** Linearised covariance of the two projected ratios (same estimator as ratioStat's variance). */
-function crossCovariance(a: Float64Array, x: Float64Array, w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>, estA: number): number {
-  let sw = 0, units = 0, sxw = 0;
-  for (let k = 0; k < w.length; k++) if (b.n[k] > 0) { sw += w[k]; sxw += x[k]; units++; }
-  if (units < 2 || !(sw > 0)) return 0;
-  const estX = sxw / sw;
-  const ea = new Float64Array(w.length), ex = new Float64Array(w.length);
-  let s = 0;
-  for (let k = 0; k < w.length; k++) if (b.n[k] > 0) { ea[k] = a[k] - estA * w[k]; ex[k] = x[k] - estX * w[k]; s += ea[k] * ex[k]; }
-  const cross = 0.5 * (neighbourCrossOf(ea, ex, b) + neighbourCrossOf(ex, ea, b));
-  return ((units / (units - 1)) * (s + 2 * cross)) / (sw * sw);
 }
 
 /**
@@ -101,18 +95,24 @@ export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<Bl
     if (!(n[k] > 0)) continue;
     sy += y[k]; sw += w[k]; pixels += n[k]; units++;
   }
-  if (!(sw > 0)) return { order: NaN, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units };
+  if (!(sw > 0)) return { order: NaN, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units, dof: 0 };
   const est = sy / sw;
-  if (units < 2) return { order: est, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units };
-  const e = new Float64Array(w.length);
-  let ss = 0;
-  for (let k = 0; k < w.length; k++) if (n[k] > 0) { e[k] = y[k] - est * w[k]; ss += e[k] * e[k]; }
-  const cross = neighbourCross(e, b);
-  const se = Math.sqrt((units / (units - 1)) * Math.max(ss, ss + 2 * cross)) / sw;
-  const half = studentQuantile(0.5 + INTERVAL_LEVEL / 2, degreesOfFreedom(units)) * se;
+  if (units < 2) return { order: est, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units, dof: 0 };
+  const e = residuals(y, w, n, est);
+  const pairs = neighbourPairs(b);
+  const { factor, dof } = varianceCorrection(w, n, pairs);
+  const se = Math.sqrt(quadraticForm(e, e, pairs) / factor) / sw;
+  const half = studentQuantile(0.5 + INTERVAL_LEVEL / 2, dof) * se;
   // Clipped to the statistic's range, never past the estimate itself (float rounding can put an S of
   // exactly 1 a hair above 1).
-  return { order: est, ciLow: Math.min(est, Math.max(lo, est - half)), ciHigh: Math.max(est, Math.min(hi, est + half)), n: pixels, se, blocks: units };
+  return { order: est, ciLow: Math.min(est, Math.max(lo, est - half)), ciHigh: Math.max(est, Math.min(hi, est + half)), n: pixels, se, blocks: units, dof };
+}
+
+/** Linearised residuals y_k - est w_k of the live blocks (0 elsewhere). */
+function residuals(y: ArrayLike<number>, w: ArrayLike<number>, n: ArrayLike<number>, est: number): Float64Array {
+  const e = new Float64Array(w.length);
+  for (let k = 0; k < w.length; k++) if (n[k] > 0) e[k] = y[k] - est * w[k];
+  return e;
 }
 
 /** Offsets (dx, dy) to the blocks after a block within Chebyshev distance `m` (each pair once). */
@@ -123,41 +123,92 @@ function neighbourOffsets(m: number): [number, number][] {
 }
 const NEIGHBOURS = neighbourOffsets(1);
 
+/** Pairs of live blocks (each pair once, as two parallel index arrays). */
+export interface BlockPairs { a: Int32Array; b: Int32Array }
+
 /**
- * Degrees of freedom for Student's t with `units` blocks: half of units - 1 (at least 1). The neighbour
- * terms make the variance estimate less steady than that of independent blocks; halving the degrees of
- * freedom is our allowance for it, set by the coverage tests (tests/order/coverage.test.ts), not taken
- * from a published rule.
+ * Pairs of live blocks whose residuals are taken as correlated: pieces of one block, and blocks that
+ * touch at an edge or a corner.
  */
-export function degreesOfFreedom(units: number): number {
-  return Math.max(1, Math.floor((units - 1) / 2));
-}
-
-/** Sum of e_k e_j over pairs of blocks that touch (edge or corner) or are pieces of one block (each pair once). */
-function neighbourCross(e: Float64Array, b: Pick<BlockSums, 'n' | 'bx' | 'by'>): number {
-  return neighbourCrossOf(e, e, b);
-}
-
-/** Sum of e_k f_j over the same pairs (k before j). */
-function neighbourCrossOf(e: Float64Array, f: Float64Array, b: Pick<BlockSums, 'n' | 'bx' | 'by'>): number {
+export function neighbourPairs(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): BlockPairs {
   const at = new Map<number, number[]>();
   const key = (x: number, y: number) => y * 1_000_003 + x;
-  for (let k = 0; k < e.length; k++) {
+  for (let k = 0; k < b.n.length; k++) {
     if (!(b.n[k] > 0)) continue;
     const kk = key(b.bx[k], b.by[k]);
     const list = at.get(kk);
     if (list) list.push(k); else at.set(kk, [k]);
   }
-  let cross = 0;
-  for (let k = 0; k < e.length; k++) {
+  const pa: number[] = [], pb: number[] = [];
+  for (let k = 0; k < b.n.length; k++) {
     if (!(b.n[k] > 0)) continue;
     const x = b.bx[k], y = b.by[k];
     // Pieces of the same block with a later index, then the neighbours right, below-left, below and
-    // below-right (each pair once).
-    for (const j of at.get(key(x, y)) ?? []) if (j > k) cross += e[k] * f[j];
-    for (const [dx, dy] of NEIGHBOURS) for (const j of at.get(key(x + dx, y + dy)) ?? []) cross += e[k] * f[j];
+    // below-right.
+    for (const j of at.get(key(x, y)) ?? []) if (j > k) { pa.push(k); pb.push(j); }
+    for (const [dx, dy] of NEIGHBOURS) for (const j of at.get(key(x + dx, y + dy)) ?? []) { pa.push(k); pb.push(j); }
   }
-  return cross;
+  return { a: Int32Array.from(pa), b: Int32Array.from(pb) };
+}
+
+/**
+ * e' A f with A = 1 on the diagonal and on both orders of every pair (symmetrised for e != f), never
+ * below the diagonal part sum e f when e = f: the neighbour terms only ever add variance.
+ */
+function quadraticForm(e: Float64Array, f: Float64Array, pairs: BlockPairs): number {
+  let diag = 0, cross = 0;
+  for (let k = 0; k < e.length; k++) diag += e[k] * f[k];
+  for (let i = 0; i < pairs.a.length; i++) {
+    const k = pairs.a[i], j = pairs.b[i];
+    cross += e[k] * f[j] + e[j] * f[k];
+  }
+  return e === f ? Math.max(diag, diag + cross) : diag + cross;
+}
+
+/**
+ * Bias factor and degrees of freedom of the neighbour-pair variance estimator V = e' A e (A = 1 on the
+ * diagonal and on neighbour pairs; e = M y the residuals, M = I - w 1' / sum w). Under a working model
+ * of independent blocks with var y_k = v_k (v_k = w_k^2 / n_k: pixels of equal variance and weight),
+ * E[V] = tr(A P) with P = M diag(v) M', while the ratio's numerator has variance sum v. The factor
+ * tr(A P) / sum v is below 1 (residuals about an estimated mean are smaller than the errors, and their
+ * neighbour products are negative on average) and V / factor undoes that bias: the small-sample
+ * correction of Bell & McCaffrey (2002, Survey Methodology 28:169) for a quadratic-form variance, here
+ * with a scalar factor. Degrees of freedom by Satterthwaite's approximation under the same model
+ * (Satterthwaite 1946, Biometrics Bulletin 2:110): nu = tr(A P)^2 / tr((A P)^2). P is diag(v) plus two
+ * rank-one terms, so both traces take a few passes over the pairs. See docs/methods.md, "Intervals for
+ * order parameters".
+ */
+export function varianceCorrection(w: ArrayLike<number>, n: ArrayLike<number>, pairs: BlockPairs): { factor: number; dof: number } {
+  const m = w.length;
+  const v = new Float64Array(m), wl = new Float64Array(m);
+  let V = 0, W = 0;
+  for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { wl[k] = w[k]; v[k] = (w[k] * w[k]) / n[k]; V += v[k]; W += w[k]; }
+  if (!(V > 0) || !(W > 0)) return { factor: 1, dof: 1 };
+  const mulA = (x: Float64Array) => {
+    const out = Float64Array.from(x);
+    for (let i = 0; i < pairs.a.length; i++) { const k = pairs.a[i], j = pairs.b[i]; out[k] += x[j]; out[j] += x[k]; }
+    return out;
+  };
+  const dot = (x: Float64Array, z: Float64Array) => { let s = 0; for (let k = 0; k < m; k++) s += x[k] * z[k]; return s; };
+  // P = diag(v) + w p' + v q' with p = -v / W + V w / W^2 and q = -w / W.
+  const p = new Float64Array(m), q = new Float64Array(m);
+  for (let k = 0; k < m; k++) { p[k] = -v[k] / W + (V * wl[k]) / (W * W); q[k] = -wl[k] / W; }
+  const as = [mulA(wl), mulA(v)], bs = [p, q];
+  // tr(A P) = sum v + sum_r b_r' (A a_r).
+  const trAP = V + dot(as[0], bs[0]) + dot(as[1], bs[1]);
+  // tr((A P)^2) with A P = A D + sum_r (A a_r) b_r': tr(A D A D) = sum v^2 + 2 sum_pairs v_k v_j, plus
+  // 2 sum_r b_r' A (v o A a_r), plus sum_{r,s} (b_r' A a_s)(b_s' A a_r).
+  let tr2 = 0;
+  for (let k = 0; k < m; k++) tr2 += v[k] * v[k];
+  for (let i = 0; i < pairs.a.length; i++) tr2 += 2 * v[pairs.a[i]] * v[pairs.b[i]];
+  for (let r = 0; r < 2; r++) {
+    const va = new Float64Array(m);
+    for (let k = 0; k < m; k++) va[k] = v[k] * as[r][k];
+    tr2 += 2 * dot(bs[r], mulA(va));
+    for (let s = 0; s < 2; s++) tr2 += dot(bs[r], as[s]) * dot(bs[s], as[r]);
+  }
+  const factor = trAP / V;
+  return { factor: factor > 0 ? factor : 1, dof: tr2 > 0 ? Math.max(1, (trAP * trAP) / tr2) : 1 };
 }
 
 /**

@@ -40,15 +40,19 @@ export interface OrderSummary {
   weighting: Weighting;
 }
 
+/** Block side in correlation lengths of the orientation signal. */
+export const BLOCK_CORRELATION_LENGTHS = 1.5;
+
 /**
- * Block side for the intervals: six correlation lengths of the orientation signal (at least 4 px, at most a
- * quarter of the shorter side). Blocks much longer than the correlation length are nearly independent,
- * which is what the cluster-sample variance needs (src/order/intervals.ts); tests/order/coverage.test.ts
- * holds the resulting intervals to their 95 % rate on seeded textures.
+ * Block side for the intervals: BLOCK_CORRELATION_LENGTHS correlation lengths of the orientation signal
+ * (at least 4 px, at most a quarter of the shorter side). The variance counts the products of touching
+ * blocks' residuals, so blocks need only be long enough that blocks two apart are nearly independent;
+ * shorter blocks give more of them, and a steadier variance (src/order/intervals.ts).
+ * tests/order/coverage.test.ts holds the resulting intervals to their 95 % rate on seeded textures.
  */
 export function defaultBlockPx(f: OrientationField): number {
   const cap = Math.max(4, Math.floor(Math.min(f.width, f.height) / 4));
-  return Math.min(cap, Math.max(4, Math.round(6 * correlationLengthPx(f))));
+  return Math.min(cap, Math.max(4, Math.round(BLOCK_CORRELATION_LENGTHS * correlationLengthPx(f))));
 }
 
 /**

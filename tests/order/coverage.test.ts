@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { orderParameters, type OrderStat } from '../../src/order/index.ts';
 import type { OrientationField } from '../../src/orientation/types.ts';
-import { rng, gaussian } from '../support/synthetic.ts';
+import { rng, correlatedNormalField } from '../support/synthetic.ts';
 
 /**
  * Coverage of the 95 % intervals of whole-field order parameters (definition of a confidence interval:
@@ -20,29 +20,8 @@ import { rng, gaussian } from '../support/synthetic.ts';
  */
 const SIZE = 120, REPS = 1000;
 
-function smoothedNoise(seed: number, corrPx: number): Float32Array {
-  const g = gaussian(rng(seed));
-  const r = Math.ceil(3 * corrPx), P = SIZE + 2 * r; // white noise on a margin wide enough for the kernel
-  const raw = Float32Array.from({ length: P * P }, g);
-  const k = Float64Array.from({ length: 2 * r + 1 }, (_, i) => Math.exp(-0.5 * ((i - r) / corrPx) ** 2));
-  const tmp = new Float64Array(P * SIZE), out = new Float32Array(SIZE * SIZE);
-  for (let y = 0; y < P; y++) for (let x = 0; x < SIZE; x++) {
-    let s = 0;
-    for (let j = -r; j <= r; j++) s += k[j + r] * raw[y * P + x + r + j];
-    tmp[y * SIZE + x] = s;
-  }
-  let norm = 0;
-  for (let j = -r; j <= r; j++) for (let i = -r; i <= r; i++) norm += (k[j + r] * k[i + r]) ** 2;
-  for (let y = 0; y < SIZE; y++) for (let x = 0; x < SIZE; x++) {
-    let s = 0;
-    for (let j = -r; j <= r; j++) s += k[j + r] * tmp[(y + r + j) * SIZE + x];
-    out[y * SIZE + x] = s / Math.sqrt(norm); // unit variance: white noise's variance times the sum of squared weights
-  }
-  return out;
-}
-
 function field(seed: number, axisDeg: number, sigmaRad: number, corrPx: number): OrientationField {
-  const d = smoothedNoise(seed, corrPx);
+  const d = correlatedNormalField(seed, SIZE, SIZE, corrPx);
   const a = (axisDeg * Math.PI) / 180;
   const angleRad = Float32Array.from(d, (v) => {
     let t = a + sigmaRad * v;

@@ -51,3 +51,29 @@ export function central(a: ArrayLike<number>, width: number, height: number): nu
   for (let r = height / 4; r < (3 * height) / 4; r++) for (let c = width / 4; c < (3 * width) / 4; c++) out.push(a[r * width + c]);
   return out;
 }
+
+/**
+ * Stationary Gaussian random field of unit variance: white noise smoothed by a Gaussian of `corrPx`
+ * (on a margin wide enough for the kernel) and rescaled by the root of the sum of the squared 2-D
+ * weights (the variance of a weighted sum of independent unit normals).
+ */
+export function correlatedNormalField(seed: number, width: number, height: number, corrPx: number): Float32Array {
+  const g = gaussian(rng(seed));
+  const r = Math.ceil(3 * corrPx), PW = width + 2 * r, PH = height + 2 * r;
+  const raw = Float32Array.from({ length: PW * PH }, g);
+  const k = Float64Array.from({ length: 2 * r + 1 }, (_, i) => Math.exp(-0.5 * ((i - r) / corrPx) ** 2));
+  const tmp = new Float64Array(PH * width), out = new Float32Array(width * height);
+  for (let y = 0; y < PH; y++) for (let x = 0; x < width; x++) {
+    let s = 0;
+    for (let j = -r; j <= r; j++) s += k[j + r] * raw[y * PW + x + r + j];
+    tmp[y * width + x] = s;
+  }
+  let norm = 0;
+  for (let j = -r; j <= r; j++) for (let i = -r; i <= r; i++) norm += (k[j + r] * k[i + r]) ** 2;
+  for (let y = 0; y < height; y++) for (let x = 0; x < width; x++) {
+    let s = 0;
+    for (let j = -r; j <= r; j++) s += k[j + r] * tmp[(y + r + j) * width + x];
+    out[y * width + x] = s / Math.sqrt(norm);
+  }
+  return out;
+}
