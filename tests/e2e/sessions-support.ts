@@ -118,7 +118,7 @@ export function noisePng(side: number, seed0 = 99): Uint8Array {
   return encode({ width: side, height: side, data, channels: 1, depth: 8 });
 }
 
-/** The element is wholly inside the page's viewport (the user sees it without scrolling). */
+/** The element is wholly inside the page's viewport and not covered (the user sees it without scrolling). */
 export async function expectInView(page: Page, what: Locator): Promise<void> {
   const box = await what.boundingBox();
   const vp = page.viewportSize()!;
@@ -127,6 +127,11 @@ export async function expectInView(page: Page, what: Locator): Promise<void> {
   expect(box!.y).toBeGreaterThanOrEqual(0);
   expect(box!.x + box!.width).toBeLessThanOrEqual(vp.width + 0.5);
   expect(box!.y + box!.height).toBeLessThanOrEqual(vp.height + 0.5);
+  // Not covered by anything else (a panel drawn over it): what the page shows at its centre is part of it.
+  expect(await what.evaluate((el) => {
+    const r = el.getBoundingClientRect();
+    return el.contains(document.elementFromPoint(r.x + r.width / 2, r.y + r.height / 2));
+  }), 'nothing is drawn over it').toBe(true);
 }
 
 /** Screenshots of the page at 1366 x 768 and 800 x 768, each after checking that `what` is in view there. */
