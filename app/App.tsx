@@ -696,7 +696,7 @@ export function App() {
         </ScreenGuard>
       ) : screen === 'camera' ? (
         <ScreenGuard key="camera" screen="camera" onBack={() => setScreen('images')}>
-          <CameraView sigmaPx={settings?.sigmaPx ?? 2} weighting={settings?.weighting ?? 'confidence'}
+          <CameraView sigmaPx={settings?.sigmaPx ?? 2} weighting={settings?.weighting ?? 'coherency'}
             onKeep={(file) => addFiles([file])} onClose={() => setScreen('images')} />
         </ScreenGuard>
       ) : !active ? (
@@ -802,7 +802,7 @@ export function App() {
               <label className="field">
                 <span>Pixel weights</span>
                 <select value={settings!.weighting} onChange={(e) => setSetting({ weighting: e.target.value as AnalysisSettings['weighting'] })}>
-                  <option value="confidence">coherency</option><option value="none">equal</option><option value="energy">texture strength</option><option value="energy-confidence">strength × coherency</option>
+                  <option value="coherency">coherency</option><option value="none">equal</option><option value="strength">texture strength</option><option value="strength-coherency">texture strength × coherency</option>
                 </select>
               </label>
               <label className="field">

@@ -22,7 +22,7 @@ export function ViewExports(p: Props) {
       Save:
       <button disabled={!p.picture || busy} title="The view as a PNG picture with a scale bar (and the colour key when orientation colours are shown)"
         onClick={() => void run('The picture could not be saved', async () => downloadBlob(`${p.baseName}-view.png`, await viewPicturePng(p.picture!)))}>picture</button>
-      {p.fieldTiff && <button disabled={busy} title="Angle (deg), coherency, energy and mask as a 32-bit float TIFF, as --field-out writes it"
+      {p.fieldTiff && <button disabled={busy} title="Angle (deg), coherency, texture strength and mask as a 32-bit float TIFF, as --field-out writes it"
         onClick={() => void run('The field could not be saved', async () => {
           const bytes = await p.fieldTiff!();
           downloadBlob(`${p.baseName}-field.tif`, new Blob([bytes as Uint8Array<ArrayBuffer>], { type: 'image/tiff' }));

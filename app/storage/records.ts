@@ -12,7 +12,7 @@
 import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { Channel, Segment, WallFit } from '../../src/channel/index.ts';
-import type { Weighting } from '../../src/order/index.ts';
+import { formerWeighting, TEXTURE_WEIGHTINGS, type Weighting } from '../../src/order/index.ts';
 import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
 import { keySet, unknownKeys, withUnknown } from './unknownKeys.ts';
 
@@ -36,7 +36,7 @@ export interface AnalysisSettings {
 }
 
 /** The CLI's defaults (retarda orient / profile). */
-export const DEFAULT_SETTINGS: AnalysisSettings = { sigmaPx: 2, weighting: 'confidence', axisDeg: null, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
+export const DEFAULT_SETTINGS: AnalysisSettings = { sigmaPx: 2, weighting: 'coherency', axisDeg: null, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
 
 export interface ImageMeta { id: string; name: string; type: string; size: number; page: number; addedAt: string }
 
@@ -180,7 +180,9 @@ function restoreSettings(raw: unknown, notes: string[]): AnalysisSettings {
   if (num(raw.coreMax) && (raw.coreMax as number) > 0 && (raw.coreMax as number) <= 1) s.coreMax = raw.coreMax as number;
   if (num(raw.skinMin) && (raw.skinMin as number) >= 0 && (raw.skinMin as number) < 1) s.skinMin = raw.skinMin as number;
   if (raw.axisDeg === null || num(raw.axisDeg)) s.axisDeg = (raw.axisDeg as number | null) ?? null;
-  if (raw.weighting === 'none' || raw.weighting === 'confidence' || raw.weighting === 'energy' || raw.weighting === 'energy-confidence') s.weighting = raw.weighting;
+  // Weighting names of schema 1 (energy, energy-confidence, confidence) are read as their new names.
+  const w = typeof raw.weighting === 'string' ? formerWeighting(raw.weighting, true) ?? raw.weighting : null;
+  if (w !== null && (TEXTURE_WEIGHTINGS as string[]).includes(w)) s.weighting = w as Weighting;
   return s;
 }
 

@@ -1,5 +1,5 @@
 /** Version of every exported result document; bump when a key changes meaning. */
-export const SCHEMA_VERSION = 1;
+export const SCHEMA_VERSION = 2;
 
 /** Fields every result document starts with. */
 export interface ResultHead {

@@ -7,12 +7,19 @@ export interface OptionSpec {
   help: string;
   /** Shown in help; the command applies its own defaults. */
   defaultText?: string;
+  /** The option's name before it was renamed: still read for one release, with a notice on stderr. */
+  formerName?: string;
 }
 
 export interface ParsedArgs {
   positionals: string[];
   options: Map<string, string | boolean>;
+  /** One line each: former option names or values read (printed on stderr; the output is unchanged). */
+  notices: string[];
 }
+
+/** The notice for a former name read in place of its new one. */
+export const renamedNotice = (former: string, now: string) => `${former} is now ${now}; the old name is read until the next release`;
 
 /** Options every subcommand takes. */
 export const COMMON_OPTIONS: OptionSpec[] = [
@@ -27,8 +34,10 @@ export const COMMON_OPTIONS: OptionSpec[] = [
  */
 export function parseArgs(argv: string[], specs: OptionSpec[]): ParsedArgs {
   const byName = new Map(specs.map((s) => [s.name, s]));
+  const formerly = new Map(specs.filter((s) => s.formerName).map((s) => [s.formerName!, s]));
   const positionals: string[] = [];
   const options = new Map<string, string | boolean>();
+  const notices: string[] = [];
   for (let i = 0; i < argv.length; i++) {
     const arg = argv[i];
     if (!arg.startsWith('--') || arg === '--') {
@@ -36,8 +45,14 @@ export function parseArgs(argv: string[], specs: OptionSpec[]): ParsedArgs {
       continue;
     }
     const eq = arg.indexOf('=');
-    const name = eq > 0 ? arg.slice(2, eq) : arg.slice(2);
-    const spec = byName.get(name);
+    const given = eq > 0 ? arg.slice(2, eq) : arg.slice(2);
+    const spec = byName.get(given) ?? formerly.get(given);
+    const name = spec?.name ?? given;
+    if (spec && spec.name !== given) {
+      if (options.has(name)) throw new InputError(`--${name} was given twice (once as --${given})`);
+      const note = renamedNotice(`--${given}`, `--${name}`);
+      if (!notices.includes(note)) notices.push(note);
+    }
     if (!spec) {
       throw new InputError(`unknown option --${name}`, 'Run the subcommand with --help to see its options');
     }
@@ -60,7 +75,7 @@ export function parseArgs(argv: string[], specs: OptionSpec[]): ParsedArgs {
     }
     options.set(name, value);
   }
-  return { positionals, options };
+  return { positionals, options, notices };
 }
 
 export function numberOpt(a: ParsedArgs, name: string): number | undefined {

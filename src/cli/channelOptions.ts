@@ -2,8 +2,8 @@ import type { Image } from '../image/types.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { parseWalls } from '../channel/index.ts';
 import { analyseProfile, NOT_DETERMINED, type ProfileRequest, type ProfileResult } from '../analyses/index.ts';
-import { checkWeighting } from '../order/index.ts';
-import { flagOpt, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from './args.ts';
+import { checkWeighting, formerWeighting, type Weighting } from '../order/index.ts';
+import { flagOpt, numberOpt, renamedNotice, stringOpt, type OptionSpec, type ParsedArgs } from './args.ts';
 import { formatTable, formatPairs } from './format.ts';
 export { profileCsvRow } from '../report/rows.ts';
 
@@ -16,16 +16,30 @@ export const CHANNEL_OPTIONS: OptionSpec[] = [
   { name: 'axis-deg', kind: 'number', help: 'reference axis for S, degrees CCW from +x', defaultText: 'the channel axis' },
   { name: 'core-max', kind: 'number', help: 'core band |s| < this', defaultText: '0.5' },
   { name: 'skin-min', kind: 'number', help: 'skin band |s| > this', defaultText: '0.8' },
-  { name: 'weighting', kind: 'string', help: 'pixel weights: none, confidence, energy, energy-confidence', defaultText: 'confidence for texture, none for optical readings' },
+  { name: 'weighting', kind: 'string', help: 'pixel weights: none; texture fields: coherency, strength, strength-coherency; optical readings: confidence', defaultText: 'coherency for texture, none for optical readings' },
   { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '6 correlation lengths' },
 ];
 
+/**
+ * --weighting as the analyses take it, for a texture field or an optical reading; a weighting name of schema 1
+ * (energy, energy-confidence, confidence on a texture field) is read as its new name with a notice.
+ */
+export function weightingFrom(a: ParsedArgs, texture: boolean): Weighting | undefined {
+  const w = stringOpt(a, 'weighting');
+  if (w === undefined) return undefined;
+  const now = formerWeighting(w, texture);
+  if (now) {
+    a.notices.push(renamedNotice(`--weighting ${w}`, `--weighting ${now}`));
+    return now;
+  }
+  return checkWeighting(w, { method: texture ? 'texture' : 'plate' });
+}
+
 /** The profile request the options describe, or null when no channel was asked for. */
-export function profileRequestFrom(a: ParsedArgs): ProfileRequest | null {
+export function profileRequestFrom(a: ParsedArgs, texture: boolean): ProfileRequest | null {
   const walls = stringOpt(a, 'walls');
   const auto = flagOpt(a, 'auto-walls');
   if (!walls && !auto) return null;
-  const weighting = stringOpt(a, 'weighting');
   return {
     channel: walls ? parseWalls(walls) : undefined,
     autoWalls: auto,
@@ -34,14 +48,14 @@ export function profileRequestFrom(a: ParsedArgs): ProfileRequest | null {
     axisDeg: numberOpt(a, 'axis-deg'),
     coreMax: numberOpt(a, 'core-max'),
     skinMin: numberOpt(a, 'skin-min'),
-    weighting: weighting ? checkWeighting(weighting) : undefined,
+    weighting: weightingFrom(a, texture),
     blockPx: numberOpt(a, 'block-px'),
   };
 }
 
 /** Runs the channel profile when the options ask for one; null otherwise. */
 export async function channelProfileOutput(img: Image, field: OrientationField, a: ParsedArgs, fieldOptions: Record<string, unknown> = {}): Promise<ProfileResult | null> {
-  const req = profileRequestFrom(a);
+  const req = profileRequestFrom(a, field.method === 'texture');
   return req ? analyseProfile(img, field, req, fieldOptions) : null;
 }
 

@@ -30,7 +30,11 @@ export async function main(argv: string[], out: Sink = process.stdout, err: Sink
       out.write(commandHelp(cmd));
       return 0;
     }
+    for (const n of args.notices) err.write(`retarda ${name}: note: ${n}\n`);
+    const before = args.notices.length;
     const result = await cmd.run(args);
+    // Former option values are met while the command reads its options.
+    for (const n of args.notices.slice(before)) err.write(`retarda ${name}: note: ${n}\n`);
     const csvPath = stringOpt(args, 'csv');
     if (csvPath) await writeBytes(csvPath, new TextEncoder().encode(toCsv(result.csvRows ?? [])));
     if (flagOpt(args, 'json')) out.write(JSON.stringify(result.json, null, 2) + '\n');

@@ -1,9 +1,45 @@
+import { InputError } from '../common/errors.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import type { BlockSums } from './blocks.ts';
 import { doubledAngles } from './doubledAngles.ts';
 
-export type Weighting = 'none' | 'confidence' | 'energy' | 'energy-confidence';
-export const WEIGHTINGS: Weighting[] = ['none', 'confidence', 'energy', 'energy-confidence'];
+/**
+ * Pixel weights of the averages. 'none': every usable pixel counts once. Texture fields: 'coherency' (the
+ * structure tensor's coherency), 'strength' (texture strength, the tensor trace Jxx + Jyy) or
+ * 'strength-coherency' (their product). Optical readings: 'confidence' (how well each pixel's colours or
+ * intensities fitted the reading).
+ */
+export type Weighting = 'none' | 'coherency' | 'strength' | 'strength-coherency' | 'confidence';
+export const WEIGHTINGS: Weighting[] = ['none', 'coherency', 'strength', 'strength-coherency', 'confidence'];
+/** The weightings a texture field takes. */
+export const TEXTURE_WEIGHTINGS: Weighting[] = ['none', 'coherency', 'strength', 'strength-coherency'];
+/** The weightings an optical reading takes (it has no texture strength, and its per-pixel layer is a confidence). */
+export const OPTICAL_WEIGHTINGS: Weighting[] = ['none', 'confidence'];
+
+/**
+ * Refuses a weighting the field cannot give: coherency and texture strength belong to texture fields, the
+ * reading's confidence to optical readings.
+ * @throws InputError naming the weightings that do apply
+ */
+export function weightingFits(weighting: Weighting, texture: boolean): void {
+  const allowed = texture ? TEXTURE_WEIGHTINGS : OPTICAL_WEIGHTINGS;
+  if (!allowed.includes(weighting)) {
+    throw new InputError(`weighting "${weighting}" does not apply to ${texture ? 'a texture field' : 'an optical reading'}`,
+      `Use one of ${allowed.join(', ')}${texture ? '' : ' (an optical reading has no coherency or texture strength; its pixels carry a confidence)'}`);
+  }
+}
+
+/**
+ * Weighting names of schema 1, read for one more release: 'energy' is now 'strength', 'energy-confidence'
+ * 'strength-coherency', and 'confidence' on a texture field is 'coherency'. Null when `name` is not a former name
+ * (for that kind of field).
+ */
+export function formerWeighting(name: string, texture: boolean): Weighting | null {
+  if (name === 'energy') return 'strength';
+  if (name === 'energy-confidence') return 'strength-coherency';
+  if (name === 'confidence' && texture) return 'coherency';
+  return null;
+}
 
 export interface AccumulateOptions {
   /**
@@ -26,8 +62,8 @@ export interface AccumulateOptions {
 
 /**
  * Sums w, w cos 2(theta - ref), w sin 2(theta - ref) over square blocks of blockPx, separately for
- * each group. Weights: 'none' 1, 'confidence' the field's confidence, 'energy' the tensor energy,
- * 'energy-confidence' their product; masked pixels never count. Works a band of block rows at a time
+ * each group. Weights (Weighting): 'none' 1, 'coherency' or 'confidence' the field's per-pixel
+ * confidence layer, 'strength' the texture strength, 'strength-coherency' their product; masked pixels never count. Works a band of block rows at a time
  * with a dense scratch table, so memory stays at (blocks per row x groups) whatever the image size.
  * Runs of pixels in one group and block are summed in locals, and the rotation to the reference axis
  * is applied per block (it is linear), so the per-pixel work is a few additions.
@@ -103,14 +139,16 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
 
 /** Per-pixel weights of a weighting, or null for equal weights (the product is formed once when both count). */
 function pixelWeights(f: OrientationField, weighting: Weighting): Float32Array | null {
-  const conf = weighting === 'confidence' || weighting === 'energy-confidence' ? f.confidence : null;
-  const energy = (weighting === 'energy' || weighting === 'energy-confidence') && f.energy ? f.energy : null;
-  if (conf && energy) {
+  const conf = weighting === 'coherency' || weighting === 'confidence' || weighting === 'strength-coherency' ? f.confidence : null;
+  const strength = weighting === 'strength' || weighting === 'strength-coherency' ? f.strength ?? null : null;
+  weightingFits(weighting, f.method === 'texture');
+  if ((weighting === 'strength' || weighting === 'strength-coherency') && !strength) throw new Error('a texture field without its strength layer');
+  if (conf && strength) {
     const w = new Float32Array(conf.length);
-    for (let i = 0; i < w.length; i++) w[i] = conf[i] * energy[i];
+    for (let i = 0; i < w.length; i++) w[i] = conf[i] * strength[i];
     return w;
   }
-  return conf ?? energy;
+  return conf ?? strength;
 }
 
 /**

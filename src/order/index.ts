@@ -1,5 +1,5 @@
 export type { Weighting } from './accumulate.ts';
-export { accumulateBlocks, WEIGHTINGS } from './accumulate.ts';
+export { accumulateBlocks, WEIGHTINGS, TEXTURE_WEIGHTINGS, OPTICAL_WEIGHTINGS, formerWeighting } from './accumulate.ts';
 export type { BlockSums, Moments } from './blocks.ts';
 export { axisOrderOf, freeOrderOf, totalMoments, liveBlocks } from './blocks.ts';
 export { axisOrderStat, freeOrderStat, ratioStat, fiellerInterval, fQuantile2, INTERVAL_LEVEL } from './intervals.ts';

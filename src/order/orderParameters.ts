@@ -3,7 +3,7 @@ import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
 import { correlationLengthPx } from './correlation.ts';
-import { accumulateBlocks, WEIGHTINGS, type Weighting } from './accumulate.ts';
+import { accumulateBlocks, weightingFits, WEIGHTINGS, type Weighting } from './accumulate.ts';
 import { liveBlocks, totalMoments, type BlockSums } from './blocks.ts';
 import { axisOrderStat, freeOrderStat, type OrderStat } from './intervals.ts';
 
@@ -61,13 +61,18 @@ export function defaultBlockPx(f: OrientationField): number {
  * cos 2(theta - axis) is least sensitive to an angle error, so weighting by it would bias S downwards.
  */
 export function defaultWeighting(f: OrientationField): Weighting {
-  return f.method === 'texture' ? 'confidence' : 'none';
+  return f.method === 'texture' ? 'coherency' : 'none';
 }
 
-export function checkWeighting(w: string): Weighting {
+/**
+ * A weighting name checked: known, and (with a field) one that field can give: coherency and texture strength
+ * belong to texture fields, the reading's confidence to optical readings.
+ */
+export function checkWeighting(w: string, f?: Pick<OrientationField, 'method'>): Weighting {
   if (!(WEIGHTINGS as string[]).includes(w)) {
     throw new InputError(`weighting "${w}" is not known`, `Use one of ${WEIGHTINGS.join(', ')}`);
   }
+  if (f) weightingFits(w as Weighting, f.method === 'texture');
   return w as Weighting;
 }
 

@@ -5,20 +5,20 @@ import type { OrientationField } from './types.ts';
 
 export interface MaskOptions {
   /**
-   * Pixels whose tensor energy (Jxx + Jyy) is below this fraction of the 99th-percentile energy are
-   * masked as background. Default 0.02; 0 keeps every pixel with any gradient.
+   * Pixels whose texture strength (the tensor trace Jxx + Jyy) is below this fraction of the 99th-percentile
+   * strength are masked as background. Default 0.02; 0 keeps every pixel with any gradient.
    */
-  energyFloor?: number;
+  strengthFloor?: number;
   /** Pixels with coherency below this are masked. Default 0 (keep; coherency still weights averages). */
   coherencyMin?: number;
 }
 
-export const MASK_DEFAULTS = { energyFloor: 0.02, coherencyMin: 0 } as const;
+export const MASK_DEFAULTS = { strengthFloor: 0.02, coherencyMin: 0 } as const;
 
 /** The per-pixel arrays the structure tensor fills, on a grid `width` pixels wide. */
 export interface FieldPixels {
   width: number;
-  angleRad: Float32Array; confidence: Float32Array; energy: Float32Array; cos2: Float32Array; sin2: Float32Array;
+  angleRad: Float32Array; confidence: Float32Array; strength: Float32Array; cos2: Float32Array; sin2: Float32Array;
 }
 
 /** A texture field with all arrays allocated, ready for copyFieldPixels and finishTextureField. */
@@ -26,7 +26,7 @@ export function emptyTextureField(width: number, height: number): OrientationFie
   const n = width * height;
   return {
     width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n), mask: new Uint8Array(n),
-    energy: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
+    strength: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
     method: 'texture', ambiguity: 'none', options: {}, warnings: [],
   };
 }
@@ -38,7 +38,7 @@ export function emptyTextureField(width: number, height: number): OrientationFie
  * theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen from +x with y = row (the stripe
  * direction, 90 deg from the gradient), folded into (-pi/2, pi/2]; coherency
  * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
- * tutorial); energy = Jxx + Jyy; (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root, so order
+ * tutorial); texture strength = Jxx + Jyy; (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root, so order
  * parameters need no trigonometry.
  */
 export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, origin: { x: number; y: number }): void {
@@ -49,38 +49,38 @@ export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, or
   }
 }
 
-const PIXEL_ARRAYS = ['angleRad', 'confidence', 'energy', 'cos2', 'sin2'] as const;
+const PIXEL_ARRAYS = ['angleRad', 'confidence', 'strength', 'cos2', 'sin2'] as const;
 
 export function resolveMaskOptions(options: MaskOptions = {}): Required<MaskOptions> {
   const o = withDefaults<Required<MaskOptions>>({ ...MASK_DEFAULTS }, options);
-  checkNumber('energy floor', o.energyFloor, 0, 1);
+  checkNumber('strength floor', o.strengthFloor, 0, 1);
   checkNumber('minimum coherency', o.coherencyMin, 0, 1);
   return o;
 }
 
 /**
- * Masks background and low-energy pixels once every pixel is written, and records options and warnings.
- * `intensityScale` is the largest |I| of the image, for the absolute energy floor.
+ * Masks background and weak-texture pixels once every pixel is written, and records options and warnings.
+ * `intensityScale` is the largest |I| of the image, for the absolute strength floor.
  */
 export function finishTextureField(f: OrientationField, options: MaskOptions, extraOptions: Record<string, unknown>, intensityScale: number): OrientationField {
   const o = resolveMaskOptions(options);
   const n = f.width * f.height;
-  const energy = f.energy!, confidence = f.confidence, mask = f.mask;
+  const strength = f.strength!, confidence = f.confidence, mask = f.mask;
   // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
-  const floor = Math.max(o.energyFloor * quantile(energy, 0.99), (1e-5 * intensityScale) ** 2);
+  const floor = Math.max(o.strengthFloor * quantile(strength, 0.99), (1e-5 * intensityScale) ** 2);
   const coherencyMin = o.coherencyMin;
   let kept = 0;
   // Without branches: about a third quicker where kept and masked pixels are mixed.
   for (let i = 0; i < n; i++) {
-    const ok = (energy[i] > floor ? 1 : 0) & (confidence[i] >= coherencyMin ? 1 : 0);
+    const ok = (strength[i] > floor ? 1 : 0) & (confidence[i] >= coherencyMin ? 1 : 0);
     mask[i] = ok;
     kept += ok;
   }
   const masked = n - kept;
   const warnings: string[] = [];
-  if (masked === n) warnings.push('every pixel was masked: the image has no texture above the energy floor');
-  else if (masked > 0.9 * n) warnings.push(`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or low energy`);
-  f.options = { ...extraOptions, energyFloor: o.energyFloor, coherencyMin: o.coherencyMin };
+  if (masked === n) warnings.push('every pixel was masked: the image has no texture above the strength floor');
+  else if (masked > 0.9 * n) warnings.push(`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or weak texture`);
+  f.options = { ...extraOptions, strengthFloor: o.strengthFloor, coherencyMin: o.coherencyMin };
   f.warnings = warnings;
   return f;
 }

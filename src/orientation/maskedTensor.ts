@@ -25,7 +25,7 @@ export function integrationReachPx(field: OrientationField): number {
  * certain pixel is masked. Far from any c = 0 pixel this is the ordinary structure tensor, so only
  * pixels within the window's reach of the excluded ones need recomputing. The gradients are the same
  * separable filters as the field's (Gaussian derivative of sigmaDerivPx, or Sobel), evaluated directly
- * with reflected borders, and the angle, coherency, energy and doubled-angle components follow the
+ * with reflected borders, and the angle, coherency, strength and doubled-angle components follow the
  * same formulas as the field's (fieldFromTensor.ts). Returns a copy of the field; the input is not
  * changed.
  */
@@ -71,11 +71,11 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
   const out: OrientationField = {
     ...field,
     angleRad: Float32Array.from(field.angleRad), confidence: Float32Array.from(field.confidence), mask: Uint8Array.from(field.mask),
-    energy: field.energy ? Float32Array.from(field.energy) : undefined,
+    strength: field.strength ? Float32Array.from(field.strength) : undefined,
     cos2: field.cos2 ? Float32Array.from(field.cos2) : undefined, sin2: field.sin2 ? Float32Array.from(field.sin2) : undefined,
   };
   const mo = resolveMaskOptions(field.options as object);
-  const floor = field.energy ? mo.energyFloor * quantile(field.energy, 0.99) : 0;
+  const floor = field.strength ? mo.strengthFloor * quantile(field.strength, 0.99) : 0;
   for (let m = 0; m < pixels.length; m++) {
     const p = pixels[m];
     if (p < 0 || p >= n) continue;
@@ -94,16 +94,16 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
     }
     if (!(cw > 1e-3)) { out.mask[p] = 0; continue; }
     jxx /= cw; jxy /= cw; jyy /= cw;
-    const energy = jxx + jyy;
+    const strength = jxx + jyy;
     const c = jyy - jxx, s = 2 * jxy;
     const root = Math.hypot(c, s);
     out.angleRad[p] = root > 0 ? 0.5 * Math.atan2(s, c) : 0;
     if (out.angleRad[p] <= -Math.PI / 2) out.angleRad[p] += Math.PI;
-    out.confidence[p] = energy > 0 ? root / energy : 0;
-    if (out.energy) out.energy[p] = energy;
+    out.confidence[p] = strength > 0 ? root / strength : 0;
+    if (out.strength) out.strength[p] = strength;
     if (out.cos2) out.cos2[p] = root > 0 ? c / root : 1;
     if (out.sin2) out.sin2[p] = root > 0 ? s / root : 0;
-    out.mask[p] = energy > floor && out.confidence[p] >= mo.coherencyMin ? 1 : 0;
+    out.mask[p] = strength > floor && out.confidence[p] >= mo.coherencyMin ? 1 : 0;
   }
   return out;
 }

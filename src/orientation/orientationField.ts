@@ -8,7 +8,7 @@ import type { OrientationField } from './types.ts';
 export type OrientationFieldOptions = StructureTensorOptions & MaskOptions;
 
 /**
- * Texture orientation field of a grey plane: structure tensor, then angle, coherency, energy and mask.
+ * Texture orientation field of a grey plane: structure tensor, then angle, coherency, strength and mask.
  * Tiles are turned into field pixels as they come, so no full-size tensor is ever held. `helpers`
  * (other workers) may compute some of the tiles; the field is the same with or without them.
  */

@@ -173,7 +173,7 @@ function tensorRun(k: KernelExports, plane: Plane, tile: Tile | null, o: Require
   if (pixels) k.fieldPixels(p[0], p[1], p[2], p[3], p[4], p[5], p[6], p[7], n);
   const tensor: StridedTensor = { width, height, stride, jxx: mem.view(p[0], n), jxy: mem.view(p[1], n), jyy: mem.view(p[2], n) };
   const px: FieldPixels | null = pixels
-    ? { width: stride, angleRad: mem.view(p[3], n), confidence: mem.view(p[4], n), energy: mem.view(p[5], n), cos2: mem.view(p[6], n), sin2: mem.view(p[7], n) }
+    ? { width: stride, angleRad: mem.view(p[3], n), confidence: mem.view(p[4], n), strength: mem.view(p[5], n), cos2: mem.view(p[6], n), sin2: mem.view(p[7], n) }
     : null;
   return { tensor, pixels: px };
 }

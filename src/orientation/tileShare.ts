@@ -24,7 +24,7 @@ export async function tilePixels(job: TileJob): Promise<TilePixels> {
   const width = inner.x1 - inner.x0, height = inner.y1 - inner.y0, n = width * height;
   const px: TilePixels = {
     width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n),
-    energy: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
+    strength: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
   };
   await withFieldPixelsOf(job.crop, null, job.options, (all) => copyFieldPixels(px, all, { x0: 0, y0: 0, x1: width, y1: height }, { x: -inner.x0, y: -inner.y0 }));
   return px;

@@ -20,8 +20,8 @@ export interface OrientationField {
    */
   cos2?: Float32Array;
   sin2?: Float32Array;
-  /** Texture reader: tensor energy Jxx + Jyy (used for masking and as weight). */
-  energy?: Float32Array;
+  /** Texture reader: texture strength, the tensor trace Jxx + Jyy (used for masking and as weight). */
+  strength?: Float32Array;
   method: 'texture' | 'plate' | 'plate-pair' | 'four-angle';
   /**
    * What the reader cannot tell apart: 'mirror-about-compensator' = theta vs (2*compensatorAxis - theta);

@@ -4,7 +4,7 @@ import { encodeFloatTiff } from './tiff.ts';
 
 /**
  * A field as the float TIFF the command line's --field-out writes: fieldPages (angleDeg, coherency
- * or confidence, retardanceNm / energy when present, mask), 32-bit float, one quantity per page,
+ * or confidence, retardanceNm / strength when present, mask), 32-bit float, one quantity per page,
  * the field's pixel size in the resolution tags and `description` (the command that made it, e.g.
  * "retarda orient a.png") as ImageDescription. Same bytes as src/cli/fieldExport.ts writes.
  */

@@ -5,7 +5,7 @@ export interface FieldPage { width: number; height: number; data: Float32Array; 
 
 /**
  * The quantities of a field as float pages for TIFF export: angleDeg (NaN where masked), confidence,
- * and retardanceNm / energy when present, then the mask as 0/1.
+ * and retardanceNm / strength when present, then the mask as 0/1.
  */
 export function fieldPages(f: OrientationField): FieldPage[] {
   const { width, height } = f;
@@ -16,7 +16,7 @@ export function fieldPages(f: OrientationField): FieldPage[] {
     { width, height, data: f.confidence, name: f.method === 'texture' ? 'coherency' : 'confidence' },
   ];
   if (f.retardanceNm) pages.push({ width, height, data: f.retardanceNm, name: 'retardanceNm' });
-  if (f.energy) pages.push({ width, height, data: f.energy, name: 'energy' });
+  if (f.strength) pages.push({ width, height, data: f.strength, name: 'strength' });
   pages.push({ width, height, data: Float32Array.from(f.mask), name: 'mask' });
   return pages;
 }

@@ -88,11 +88,11 @@ const HALF_PI_ROUND: f32 = 1.5707963705;
 
 /**
  * Field pixels from the tensor: theta = 1/2 atan2(2 Jxy, Jyy - Jxx) folded into (-pi/2, pi/2], coherency
- * sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) clipped to 1, energy Jxx + Jyy and (cos 2 theta, sin 2 theta).
+ * sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) clipped to 1, texture strength Jxx + Jyy and (cos 2 theta, sin 2 theta).
  * atan2 is the Abramowitz & Stegun 4.4.47 polynomial, branch-free, with the signs of zeros kept as
  * Math.atan2 keeps them.
  */
-export function fieldPixels(jxx: usize, jxy: usize, jyy: usize, angle: usize, confidence: usize, energy: usize, cos2: usize, sin2: usize, n: i32): void {
+export function fieldPixels(jxx: usize, jxy: usize, jyy: usize, angle: usize, confidence: usize, strength: usize, cos2: usize, sin2: usize, n: i32): void {
   const zero = f32x4.splat(0), one = f32x4.splat(1), two = f32x4.splat(2), half = f32x4.splat(0.5);
   const signBit = i32x4.splat(0x80000000);
   const halfPi = f32x4.splat(HALF_PI_ROUND), pi = f32x4.splat(PI_F32), halfPiF = f32x4.splat(HALF_PI_F32);
@@ -107,7 +107,7 @@ export function fieldPixels(jxx: usize, jxy: usize, jyy: usize, angle: usize, co
     const z2 = f32x4.mul(z, z);
     // hypot(d, 2 Jxy) as big sqrt(1 + z^2): squares of tiny or huge tensors neither underflow nor overflow.
     const root = f32x4.mul(big, f32x4.sqrt(f32x4.add(one, z2)));
-    v128.store(energy + o, e);
+    v128.store(strength + o, e);
     const live = f32x4.gt(root, zero);
     const inv = f32x4.div(one, root);
     v128.store(cos2 + o, v128.bitselect(f32x4.mul(d, inv), one, live));

@@ -7,7 +7,7 @@ export interface KernelExports {
   rowFilter(src: number, dst: number, width: number, height: number, stride: number, k: number, klen: number, line: number): void;
   columnFilter(src: number, dst: number, height: number, stride: number, k: number, klen: number, rows: number): void;
   products(ix: number, iy: number, xx: number, xy: number, yy: number, n: number): void;
-  fieldPixels(jxx: number, jxy: number, jyy: number, angle: number, confidence: number, energy: number, cos2: number, sin2: number, n: number): void;
+  fieldPixels(jxx: number, jxy: number, jyy: number, angle: number, confidence: number, strength: number, cos2: number, sin2: number, n: number): void;
 }
 
 let loading: Promise<KernelExports> | null = null;

@@ -3,7 +3,7 @@
  * worker run), on rendered fibres and rulers whose widths and periods are facts of the rendering.
  */
 import { describe, expect, it } from 'vitest';
-import { analyseDiameter, analyseMicrometer, analyseOpticsCalibration, fibreNumbersResult } from '../../src/analyses/index.ts';
+import { analyseDiameter, analyseMicrometer, analyseOpticsCalibration, fibreNumbersResult, SCHEMA_VERSION } from '../../src/analyses/index.ts';
 import { makeImage, type Image } from '../../src/image/types.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { axialDiffDeg } from '../../src/common/angles.ts';
@@ -29,7 +29,7 @@ describe('analyseDiameter', () => {
     // every station is counted: kept + dropped, and each dropped one has a reason
     expect(d.fibres[0].stations.length).toBe(d.fibres[0].n);
     expect(d.fibres[0].droppedStations.length).toBe(d.fibres[0].dropped);
-    expect(d.schemaVersion).toBe(1);
+    expect(d.schemaVersion).toBe(SCHEMA_VERSION);
     expect(d.source).toBe('f.png');
   });
 

@@ -178,11 +178,11 @@ describe('the optical form\'s later fields and optical profiles', () => {
   });
 
   it('an optical profile is not called stale for the texture settings it does not use', () => {
-    const settings = { sigmaPx: 3, weighting: 'energy' as const, axisDeg: null, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
+    const settings = { sigmaPx: 3, weighting: 'strength' as const, axisDeg: null, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
     const p = (fieldMethod: string, o: Record<string, unknown>) => ({ fieldMethod, options: o } as unknown as ProfileResult);
     expect(profileIsStale(p('plate', { bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 }), settings)).toBe(false);
     expect(profileIsStale(p('plate', { bins: 10, stations: 1, coreMax: 0.5, skinMin: 0.8 }), settings)).toBe(true);
-    expect(profileIsStale(p('texture', { sigmaPx: 2, weighting: 'energy', bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 }), settings)).toBe(true);
+    expect(profileIsStale(p('texture', { sigmaPx: 2, weighting: 'strength', bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 }), settings)).toBe(true);
   });
 });
 

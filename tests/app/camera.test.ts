@@ -143,7 +143,7 @@ describe('LiveReadout', () => {
     const live = new LiveReadout({
       engines: f.engines,
       grab: async () => { f.nextFrame(); return { source: { close: () => undefined } as unknown as VideoFrame, plan }; },
-      settings: () => ({ sigmaPx: 2, weighting: 'confidence', picture: true }),
+      settings: () => ({ sigmaPx: 2, weighting: 'coherency', picture: true }),
       onReading: (r) => shown.push({ worker: r.worker, grabbedAt: r.grabbedAt }),
       onError: (m) => { throw new Error(m); },
       now: f.now, sleep: f.wait,
@@ -170,7 +170,7 @@ describe('LiveReadout', () => {
     const live = new LiveReadout({
       engines: f.engines,
       grab: async () => { f.nextFrame(); return { source: { close: () => undefined } as unknown as VideoFrame, plan }; },
-      settings: () => ({ sigmaPx: 2, weighting: 'confidence', picture }),
+      settings: () => ({ sigmaPx: 2, weighting: 'coherency', picture }),
       onReading: (r) => pictures.push(r.colour !== null),
       onError: (m) => { throw new Error(m); },
       now: f.now, sleep: f.wait,

@@ -21,17 +21,17 @@ describe('app exports match the command line', () => {
   it('orientCsv writes one RFC 4180 header row and one data row with the CLI\'s column names', () => {
     const r = {
       source: 'a, b.png', directorDeg: 12.5, order2D: 0.8, order2DCi: [0.7, 0.9], axisDeg: null, axisOrder: null,
-      coherencyMean: 0.6, n: 100, options: { sigmaPx: 2, weighting: 'confidence' },
+      coherencyMean: 0.6, n: 100, options: { sigmaPx: 2, weighting: 'coherency' },
     } as unknown as OrientResult;
     const lines = orientCsv(r).split('\r\n');
     expect(lines[0]).toBe('image,directorDeg,order2D,order2DCiLow,order2DCiHigh,axisDeg,axisOrder,coherencyMean,n,sigmaPx,weighting');
     // RFC 4180 §2.6: a field with a comma is quoted
-    expect(lines[1]).toBe('"a, b.png",12.5,0.8,0.7,0.9,,,0.6,100,2,confidence');
+    expect(lines[1]).toBe('"a, b.png",12.5,0.8,0.7,0.9,,,0.6,100,2,coherency');
     expect(lines[2]).toBe('');
   });
 
   it('the command lines shown use the CLI\'s option names and parse back to the same walls', () => {
-    expect(orientCommandLine('run 1.png', { sigmaPx: 2, weighting: 'confidence', axisDeg: 15 })).toBe('retarda orient "run 1.png" --sigma 2 --weighting confidence --axis-deg 15');
+    expect(orientCommandLine('run 1.png', { sigmaPx: 2, weighting: 'coherency', axisDeg: 15 })).toBe('retarda orient "run 1.png" --sigma 2 --weighting coherency --axis-deg 15');
     const walls = parseWalls('1.25,2,300,2.04;1,150,300,150');
     const text = wallsText(walls.walls);
     expect(parseWalls(text).walls[0].x1).toBeCloseTo(1.3, 5);

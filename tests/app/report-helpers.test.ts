@@ -81,8 +81,8 @@ describe('reportContent', () => {
   async function session() {
     const g = grating(96, 64, 30, 6);
     const img = makeImage({ width: 96, height: 64, channels: 1, planes: [g.data], bitDepth: 32, encoding: 'linear', source: { name: 'run 1.tif' } });
-    const { result, field } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'confidence' });
-    const profile = await analyseProfile(img, field, { channel: parseWalls('4,8,92,8;4,56,92,56'), bins: 8, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const { result, field } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'coherency' });
+    const profile = await analyseProfile(img, field, { channel: parseWalls('4,8,92,8;4,56,92,56'), bins: 8, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
     let s = newSession('s', 'Spin line 3', at);
     s = sessionReducer(s, { type: 'addImages', images: [
       { id: 'a', name: 'run 1.tif', type: 'image/tiff', size: 1, page: 0, addedAt: at.toISOString() },
@@ -108,9 +108,9 @@ describe('reportContent', () => {
     expect(c.notAnalysed).toEqual(['blank.png']);
     const [orient, prof] = c.images[0].sections;
     expect(orient.numbers[0]).toEqual({ label: 'Order S_2D', value: result.order2D, ci: result.order2DCi, n: result.n, unit: '' });
-    expect(orient.commandLine).toBe('retarda orient "run 1.tif" --sigma 2 --weighting confidence');
+    expect(orient.commandLine).toBe('retarda orient "run 1.tif" --sigma 2 --weighting coherency');
     expect(prof.numbers[0]).toEqual({ label: 'Core S (|s| < 0.5)', value: profile.core.order, ci: [profile.core.ciLow, profile.core.ciHigh], n: profile.core.n, unit: '' });
-    expect(prof.commandLine).toBe('retarda profile "run 1.tif" --walls "4,8,92,8;4,56,92,56" --sigma 2 --weighting confidence --bins 8 --stations 1 --core-max 0.5 --skin-min 0.8');
+    expect(prof.commandLine).toBe('retarda profile "run 1.tif" --walls "4,8,92,8;4,56,92,56" --sigma 2 --weighting coherency --bins 8 --stations 1 --core-max 0.5 --skin-min 0.8');
     expect(prof.settings[0]).toBe('walls drawn by hand: 4,8,92,8;4,56,92,56 px');
     const dia = c.images[1].sections[0];
     expect(dia.numbers[0]).toEqual({ label: 'Mean diameter', value: 12.5, ci: [12.1, 12.9], n: 40, unit: 'µm' });

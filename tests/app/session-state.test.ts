@@ -45,7 +45,7 @@ describe('sessionReducer', () => {
   });
 
   it('orientIsStale compares the result options with the settings', () => {
-    const r = { options: { sigmaPx: 2, weighting: 'confidence' }, axisDeg: null } as unknown as OrientResult;
+    const r = { options: { sigmaPx: 2, weighting: 'coherency' }, axisDeg: null } as unknown as OrientResult;
     expect(orientIsStale(r, DEFAULT_SETTINGS)).toBe(false);
     expect(orientIsStale(r, { ...DEFAULT_SETTINGS, sigmaPx: 3 })).toBe(true);
     expect(orientIsStale(r, { ...DEFAULT_SETTINGS, axisDeg: 0 })).toBe(true);

@@ -125,9 +125,9 @@ describe('restoreSession: old and odd records', () => {
     expect(r.ok).toBe(true);
     if (!r.ok) return;
     expect(r.value.schemaVersion).toBe(STORAGE_SCHEMA_VERSION);
-    // retarda orient/profile defaults: sigma 2 px, confidence weighting, 20 bins, core |s|<0.5, skin |s|>0.8 (README, command-line reference)
+    // retarda orient/profile defaults: sigma 2 px, coherency weighting, 20 bins, core |s|<0.5, skin |s|>0.8 (README, command-line reference)
     expect(r.value.settings).toEqual(DEFAULT_SETTINGS);
-    expect(DEFAULT_SETTINGS).toMatchObject({ sigmaPx: 2, bins: 20, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    expect(DEFAULT_SETTINGS).toMatchObject({ sigmaPx: 2, bins: 20, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
     expect(r.notes.join(' ')).toMatch(/upgraded/);
   });
 

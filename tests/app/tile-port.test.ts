@@ -38,7 +38,7 @@ describe('tile sharing over a message port', () => {
       const shared = await orientationField(plane, options, [helperOverPort(channel.port1 as unknown as MessagePort)]);
       const alone = await orientationField(plane, options);
       expect(served).toBeGreaterThan(0);
-      for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
+      for (const k of ['angleRad', 'confidence', 'strength', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
     } finally {
       channel.port1.close();
       channel.port2.close();
@@ -67,7 +67,7 @@ describe('tile sharing over a message port', () => {
     expect(waits.armed.length).toBeGreaterThan(0);
     expect(waits.armed.every((ms) => ms === 20_000)).toBe(true);
     expect(waits.ranOut).toEqual([]);
-    for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
+    for (const k of ['angleRad', 'confidence', 'strength', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
     channel.port1.close();
   }, 30_000);
 
@@ -103,7 +103,7 @@ describe('tile sharing over a message port', () => {
       expect(waits.armed.length).toBeGreaterThan(0);
       for (const ms of waits.armed) { expect(ms).toBeGreaterThanOrEqual(2_000); expect(ms).toBeLessThan(20_000); }
       expect(waits.ranOut.length).toBeGreaterThan(0);
-      for (const k of ['angleRad', 'confidence', 'energy', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
+      for (const k of ['angleRad', 'confidence', 'strength', 'mask'] as const) expect(Buffer.from(shared[k]!.buffer).equals(Buffer.from(alone[k]!.buffer))).toBe(true);
     } finally {
       channel.port1.close();
       channel.port2.close();

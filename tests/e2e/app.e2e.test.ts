@@ -107,7 +107,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
 
     const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
     // The CLI's defaults, as the app's default settings: sigma 2 px, coherency (confidence) weights.
-    const { result } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'confidence' });
+    const { result } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'coherency' });
     expect(await text('director')).toBe(formatCell(result.directorDeg));
     expect(await text('order2d')).toBe(formatCell(result.order2D));
     expect(await text('coherency')).toBe(formatCell(result.coherencyMean));
@@ -136,7 +136,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
 
     const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
     const { field } = await analyseOrientation(img, { sigmaPx: 2 });
-    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
     expect(await text('core')).toBe(formatCell(r.core.order));
     expect(await text('skin')).toBe(formatCell(r.skin.order));
     expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
@@ -176,7 +176,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     await shot('05b-drawn-walls-profile');
     const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
     const { field } = await analyseOrientation(img, { sigmaPx: 2 });
-    const r = await analyseProfile(img, field, { channel: parseWalls(wallsText), bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const r = await analyseProfile(img, field, { channel: parseWalls(wallsText), bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
     expect(await text('core')).toBe(formatCell(r.core.order));
     expect(await text('skin')).toBe(formatCell(r.skin.order));
     expect(await text('ratio')).toBe(formatCell(r.coreSkinRatio));
@@ -191,7 +191,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     await shot('05c-stations-on-image');
     const img = decodeImage(new Uint8Array(readFileSync(imagePath)), 'e2e-channel.png');
     const { field } = await analyseOrientation(img, { sigmaPx: 2 });
-    const r = await analyseProfile(img, field, { channel: parseWalls(wallsText), bins: 20, stations: 3, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const r = await analyseProfile(img, field, { channel: parseWalls(wallsText), bins: 20, stations: 3, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
     const rows = await page.getByTestId('station-table').locator('tbody tr').allTextContents();
     expect(rows).toHaveLength(3);
     const cells = await page.getByTestId('station-table').locator('tbody tr').evaluateAll((trs) => trs.map((tr) => [...tr.querySelectorAll('td')].map((td) => td.textContent)));
@@ -261,7 +261,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     await page.getByRole('button', { name: 'Analyse orientation' }).click();
     await page.getByText('Orientation analysis done.').waitFor({ timeout: 60_000 });
     expect(Number(await page.getByTestId('orient-section').getAttribute('data-helper-tiles'))).toBeGreaterThan(0);
-    const { result } = await analyseOrientation(decodeImage(new Uint8Array(readFileSync(largePath)), 'e2e-large.png'), { sigmaPx: 2, weighting: 'confidence' });
+    const { result } = await analyseOrientation(decodeImage(new Uint8Array(readFileSync(largePath)), 'e2e-large.png'), { sigmaPx: 2, weighting: 'coherency' });
     // the director is "not determined" where the Node result withholds it (S_2D's interval reaching 0)
     expect(await text('director')).toBe(result.notDetermined?.directorDeg ? NOT_DETERMINED : formatCell(result.directorDeg));
     expect(await text('order2d')).toBe(formatCell(result.order2D));
@@ -320,7 +320,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     await page.getByRole('button', { name: 'Analyse orientation' }).click();
     await page.getByTestId('director').waitFor({ timeout: 60_000 });
     const img = decodeImage(new Uint8Array(readFileSync(join(ROOT, 'sample-images', demos[0].file))), demos[0].file);
-    const { result } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'confidence' });
+    const { result } = await analyseOrientation(img, { sigmaPx: 2, weighting: 'coherency' });
     expect(await text('director')).toBe(formatCell(result.directorDeg));
     expect(await text('order2d')).toBe(formatCell(result.order2D));
     await shot('12-demo-orientation');

@@ -50,7 +50,7 @@ function channelPng(turnDeg: number, seed0: number): Uint8Array {
 async function cliProfile(path: string) {
   const img = decodeImage(new Uint8Array(readFileSync(path)), path.replace(/^.*\//, ''));
   const { field } = await analyseOrientation(img, { sigmaPx: 2 });
-  return analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+  return analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
 }
 
 describe.runIf(!haveBrowser)('bench tools end-to-end (no browser)', () => {
@@ -312,7 +312,7 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     // Where the stations lie: the profile `retarda profile --auto-walls --stations 3` gives, through the viewer's geometry.
     const img = decodeImage(new Uint8Array(readFileSync(turned)), 'compare-turned.png');
     const { field } = await analyseOrientation(img, { sigmaPx: 2 });
-    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 3, coreMax: 0.5, skinMin: 0.8, weighting: 'confidence' });
+    const r = await analyseProfile(img, field, { autoWalls: true, bins: 20, stations: 3, coreMax: 0.5, skinMin: 0.8, weighting: 'coherency' });
     const { boundaries } = stationDrawing(r);
     expect(boundaries).toHaveLength(4);
     for (const b of boundaries) {

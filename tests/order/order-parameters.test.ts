@@ -41,7 +41,7 @@ describe('orderParameters: closed-form cases (docs/methods.md §8.6 check values
       const t = ((-90 + (180 * (y * W + x + 0.5)) / (W * H)) * Math.PI) / 180;
       return Math.exp(2 * Math.cos(2 * t)) / Math.exp(2);
     });
-    const s = orderParameters(f, { weighting: 'confidence' });
+    const s = orderParameters(f, { weighting: 'coherency' });
     expect(Math.abs(s.order2D.order - 0.69777)).toBeLessThan(1e-5);
   });
 

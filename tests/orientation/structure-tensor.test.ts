@@ -71,7 +71,7 @@ describe('orientationField on rings and noise', () => {
     // the spread of one image's value about it (SD over those images). Ours is one image of other noise: within 3 SD.
     for (const sigma of [2, 4, 8]) {
       const { mean, sdOfOneImage } = CHECK.noiseCoherency[String(sigma)];
-      const f = await orientationField(noise(256, 256, 5), { sigmaPx: sigma, energyFloor: 0 });
+      const f = await orientationField(noise(256, 256, 5), { sigmaPx: sigma, strengthFloor: 0 });
       const c = central(f.confidence, 256, 256);
       expect(Math.abs(c.reduce((s, v) => s + v, 0) / c.length - mean), `sigma ${sigma}`).toBeLessThan(3 * sdOfOneImage);
     }

@@ -20,7 +20,7 @@ function inProcessHelper(calls: { n: number }, failAfter = Infinity): TileHelper
 const bytes = (a: ArrayBufferView) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
 
 function expectSameField(a: Awaited<ReturnType<typeof orientationField>>, b: Awaited<ReturnType<typeof orientationField>>) {
-  for (const k of ['angleRad', 'confidence', 'energy', 'cos2', 'sin2', 'mask'] as const) {
+  for (const k of ['angleRad', 'confidence', 'strength', 'cos2', 'sin2', 'mask'] as const) {
     expect(bytes(a[k]!).equals(bytes(b[k]!)), `${k} differs`).toBe(true);
   }
   expect(a.warnings).toEqual(b.warnings);
@@ -71,8 +71,8 @@ describe('orientationField with helpers sharing the tiles', () => {
   it('analyseOrientation gives the same result document with helpers as the command line without', async () => {
     const img = makeImage({ width: plane.width, height: plane.height, channels: 1, planes: [plane.data], bitDepth: 32, encoding: 'linear', source: { name: 'rings.tif' } });
     const calls = { n: 0 };
-    const a = await analyseOrientation(img, { ...options, weighting: 'confidence', axisDeg: 30 });
-    const b = await analyseOrientation(img, { ...options, weighting: 'confidence', axisDeg: 30 }, [inProcessHelper(calls)]);
+    const a = await analyseOrientation(img, { ...options, weighting: 'coherency', axisDeg: 30 });
+    const b = await analyseOrientation(img, { ...options, weighting: 'coherency', axisDeg: 30 }, [inProcessHelper(calls)]);
     expect(calls.n).toBeGreaterThan(0);
     expect(b.result).toEqual(a.result);
   });

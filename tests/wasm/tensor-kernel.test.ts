@@ -76,7 +76,7 @@ describe('the tensor kernel against OpenCV', () => {
 });
 
 describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
-  it('gives angle, coherency, energy and the doubled-angle components of any tensor', async () => {
+  it('gives angle, coherency, texture strength and the doubled-angle components of any tensor', async () => {
     const k = await loadTensorKernel();
     const values = [0, -0, 1, -1, 1e-20, -3.5, 250, 1e6];
     const cases: [number, number, number][] = [];
@@ -99,7 +99,7 @@ describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
     const jxx = mem.view(p[0], n), jxy = mem.view(p[1], n), jyy = mem.view(p[2], n);
     cases.forEach(([a, b, c], i) => { jxx[i] = a; jxy[i] = b; jyy[i] = c; });
     k.fieldPixels(p[0], p[1], p[2], p[3], p[4], p[5], p[6], p[7], n);
-    const [angle, conf, energy, cos2, sin2] = [3, 4, 5, 6, 7].map((q) => mem.view(p[q], n));
+    const [angle, conf, strength, cos2, sin2] = [3, 4, 5, 6, 7].map((q) => mem.view(p[q], n));
     cases.forEach(([a0, b0, c0], i) => {
       const a = Math.fround(a0), b2 = 2 * Math.fround(b0), c = Math.fround(c0);
       const root = Math.hypot(c - a, b2), e = a + c;
@@ -111,8 +111,8 @@ describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
       expect(got).toBeLessThanOrEqual(Math.PI / 2);
       const d = Math.abs(got - want);
       expect(Math.min(d, Math.PI - d), `angle of ${a0}, ${b0}, ${c0}`).toBeLessThan(2e-5);
-      expect(energy[i]).toBeCloseTo(e, 0);
-      expect(Math.abs(energy[i] - e)).toBeLessThanOrEqual(1e-6 * Math.abs(e));
+      expect(strength[i]).toBeCloseTo(e, 0);
+      expect(Math.abs(strength[i] - e)).toBeLessThanOrEqual(1e-6 * Math.abs(e));
       expect(Math.abs(conf[i] - (e > 0 ? Math.min(1, root / e) : 0)), `coherency of ${a0}, ${b0}, ${c0}`).toBeLessThan(1e-6);
       if (root > 0) {
         expect(Math.abs(cos2[i] - (c - a) / root)).toBeLessThan(1e-6);

@@ -1,5 +1,4 @@
 import { analyseOrientation, NOT_DETERMINED, parseRect, type OrientResult } from '../../analyses/index.ts';
-import { checkWeighting } from '../../order/index.ts';
 import { numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
@@ -8,15 +7,16 @@ import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import type { OrientOptions } from '../../analyses/orient.ts';
 import { InputError } from '../../common/errors.ts';
+import { weightingFrom } from '../channelOptions.ts';
 
 /** Options of the structure-tensor field, shared with `profile`. */
 export const TEXTURE_OPTIONS: OptionSpec[] = [
   { name: 'sigma', kind: 'number', help: 'integration scale of the structure tensor, px', defaultText: '2' },
   { name: 'sigma-deriv', kind: 'number', help: 'derivative scale, px', defaultText: '1' },
   { name: 'derivative', kind: 'string', help: 'gaussian or sobel', defaultText: 'gaussian' },
-  { name: 'energy-floor', kind: 'number', help: 'mask pixels below this fraction of the 99th-percentile energy', defaultText: '0.02' },
+  { name: 'strength-floor', formerName: 'energy-floor', kind: 'number', help: 'mask pixels whose texture strength is below this fraction of its 99th percentile', defaultText: '0.02' },
   { name: 'coherency-min', kind: 'number', help: 'mask pixels below this coherency', defaultText: '0' },
-  { name: 'field-out', kind: 'string', help: 'write the field as a float TIFF (angleDeg, coherency, energy, mask)' },
+  { name: 'field-out', kind: 'string', help: 'write the field as a float TIFF (angleDeg, coherency, strength, mask)' },
 ];
 
 export function textureOptionsFrom(a: ParsedArgs): OrientOptions {
@@ -28,7 +28,7 @@ export function textureOptionsFrom(a: ParsedArgs): OrientOptions {
     sigmaPx: numberOpt(a, 'sigma'),
     sigmaDerivPx: numberOpt(a, 'sigma-deriv'),
     derivative,
-    energyFloor: numberOpt(a, 'energy-floor'),
+    strengthFloor: numberOpt(a, 'strength-floor'),
     coherencyMin: numberOpt(a, 'coherency-min'),
   };
 }
@@ -41,18 +41,17 @@ export const orientCommand: Command = {
     ...TEXTURE_OPTIONS,
     { name: 'axis-deg', kind: 'number', help: 'also give S_axis against this axis, degrees CCW from +x' },
     { name: 'region', kind: 'string', help: 'only pixels in this rectangle "x,y,w,h" count' },
-    { name: 'weighting', kind: 'string', help: 'pixel weights: none, confidence, energy, energy-confidence', defaultText: 'confidence' },
+    { name: 'weighting', kind: 'string', help: 'pixel weights: none, coherency, strength (texture strength), strength-coherency', defaultText: 'coherency' },
     { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '6 correlation lengths' },
   ],
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
     const images = await loadImageFiles(a.positionals);
-    const weighting = stringOpt(a, 'weighting');
     const regionText = stringOpt(a, 'region');
     const opts: OrientOptions = {
       ...textureOptionsFrom(a),
       axisDeg: numberOpt(a, 'axis-deg'),
-      weighting: weighting ? checkWeighting(weighting) : undefined,
+      weighting: weightingFrom(a, true),
       blockPx: numberOpt(a, 'block-px'),
       region: regionText ? parseRect(regionText) : undefined,
     };

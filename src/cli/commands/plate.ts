@@ -1,7 +1,6 @@
 import {
   analysePlate, type OpticsResult, type OpticsSummaryOptions, type PlateOptions, type PlateReadingOptions, type TrainOptions,
 } from '../../analyses/index.ts';
-import { checkWeighting } from '../../order/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { parseRect, type MatchSpace } from '../../optics/index.ts';
 import { flagOpt, numberList, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
@@ -10,7 +9,7 @@ import { formatPairs } from '../format.ts';
 import { NOT_DETERMINED } from '../../analyses/schema.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
-import { CHANNEL_OPTIONS, profileCsvRow, profileRequestFrom, profileTable } from '../channelOptions.ts';
+import { CHANNEL_OPTIONS, profileCsvRow, profileRequestFrom, profileTable, weightingFrom } from '../channelOptions.ts';
 
 /** The optical train, shared by plate, plate2, quad (its --plate image) and chart. */
 export const TRAIN_OPTIONS: OptionSpec[] = [
@@ -83,10 +82,9 @@ export function matchFrom(a: ParsedArgs): MatchSpace {
 
 /** Whole-field order options and the channel profile request (CHANNEL_OPTIONS). */
 export function summaryFrom(a: ParsedArgs): OpticsSummaryOptions {
-  const weighting = stringOpt(a, 'weighting');
   return {
-    axisDeg: numberOpt(a, 'axis-deg'), weighting: weighting ? checkWeighting(weighting) : undefined, blockPx: numberOpt(a, 'block-px'),
-    profile: profileRequestFrom(a),
+    axisDeg: numberOpt(a, 'axis-deg'), weighting: weightingFrom(a, false), blockPx: numberOpt(a, 'block-px'),
+    profile: profileRequestFrom(a, false),
   };
 }
 

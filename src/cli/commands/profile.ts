@@ -23,7 +23,7 @@ async function profileFor(img: Image, a: ParsedArgs): Promise<{ field: Orientati
     return { field, result: await channelProfileOutput(img, field, a) };
   }
   if (source === 'plate') {
-    const request = profileRequestFrom(a);
+    const request = profileRequestFrom(a, false);
     const reading = { ...plateReadingFrom(a), ...knownRetardanceFrom(a), match: matchFrom(a), axisDeg: request?.axisDeg };
     const { field } = readPlateField(img, reading);
     return { field, result: request && await analysePlateProfile(img, field, reading, request) };
