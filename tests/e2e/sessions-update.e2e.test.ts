@@ -98,7 +98,16 @@ describe.runIf(haveBrowser)('a service-worker update while a session is open', (
     expect(await version()).toBe('0.1.0+update-1');
   }, 120_000);
 
-  it('"Save my work and reload" starts the new version with the session whole, including the last change', async () => {
+  it('"Save my work and reload" starts the new version with the session whole, including the last change; another tab is not reloaded under its user', async () => {
+    // A second tab, opened before the click: it runs the first version too, and finds the session taken.
+    const other = await browser!.context.newPage();
+    other.on('console', (m) => { if (m.type() === 'error') errors.push(m.text()); });
+    await other.goto(server!.url.replace(/\/$/, '/?second'));
+    await other.getByTestId('session-elsewhere').waitFor({ timeout: 30_000 });
+    await other.getByTestId('update-banner').waitFor({ timeout: 30_000 });
+    await other.evaluate(() => { (window as unknown as { sameDocument: boolean }).sameDocument = true; });
+    await other.getByLabel('Bins across').fill('77');
+
     const orient = (await storedSessions(page))[0];
     const reloaded = page.waitForEvent('load', { timeout: 30_000 });
     await page.getByRole('button', { name: 'Save my work and reload' }).click();
@@ -112,6 +121,27 @@ describe.runIf(haveBrowser)('a service-worker update while a session is open', (
     expect(after.settings.bins).toBe(34);
     expect(after.work[after.images[0].id].orient).toEqual(orient.work[orient.images[0].id].orient);
     expect(await page.getByTestId('update-banner').count()).toBe(0);
+
+    // The other tab now runs under the new service worker but was not reloaded: its unsaved change is still there.
+    await other.waitForFunction(() => navigator.serviceWorker.controller !== null, undefined, { timeout: 10_000 });
+    expect(await other.evaluate(() => (window as unknown as { sameDocument?: boolean }).sameDocument)).toBe(true);
+    expect(await other.getByLabel('Bins across').inputValue()).toBe('77');
+    // Its change cannot be saved (the session is the first tab's), so it is not reloaded on its click either.
+    await other.getByRole('button', { name: 'Save my work and reload' }).click();
+    await other.getByRole('alert').filter({ hasText: 'The new version was not started, so that nothing is lost' }).waitFor({ timeout: 10_000 });
+    await shotsAtTwoWidths(other, () => other.getByRole('alert').filter({ hasText: 'The new version was not started' }), (w) => join(SHOTS, `sessions-e-not-started-${w}.png`));
+    expect(await other.evaluate(() => (window as unknown as { sameDocument?: boolean }).sameDocument)).toBe(true);
+    // Kept as a copy, it reloads into the new version with the change.
+    await other.getByRole('button', { name: 'Work on a copy here' }).click();
+    await expect.poll(async () => (await other.getByTestId('session-name').textContent())?.trim(), { timeout: 10_000 }).toBe('Run after the update (copy)');
+    const otherReloaded = other.waitForEvent('load', { timeout: 30_000 });
+    await other.getByRole('button', { name: 'Save my work and reload' }).click();
+    await otherReloaded;
+    await other.getByTestId('image-facts').waitFor({ timeout: 60_000 });
+    expect(await other.getByLabel('Bins across').inputValue()).toBe('77');
+    const stored = (await storedSessions(page)).map((x) => [x.name, x.settings.bins]);
+    expect(stored).toHaveLength(2);
+    expect(stored).toEqual(expect.arrayContaining([['Run after the update', 34], ['Run after the update (copy)', 77]]));
     expect(errors.filter((e) => !/Failed to load resource/.test(e))).toEqual([]);
-  }, 90_000);
+  }, 120_000);
 });
