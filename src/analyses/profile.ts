@@ -39,16 +39,19 @@ export async function analyseProfile(img: Image, field: OrientationField, req: P
     ? chooseMirrorByAxis(field, () => (req.axisDeg! * Math.PI) / 180, `${req.axisDeg} deg`)
     : chooseMirrorByAxis(field, localAxisRadAt(channel), "the channel's local axis");
   const p = channelProfile(read, channel, req);
-  const { warnings, options, ...rest } = p;
+  const { warnings, options, notDetermined, ...rest } = p;
+  const ratioUndetermined = !Number.isFinite(p.coreSkinRatio) && Number.isFinite(p.core.order) && Number.isFinite(p.skin.order) && p.skin.n > 0;
+  const reasons = {
+    ...notDetermined,
+    ...(ratioUndetermined ? { coreSkinRatio: 'the skin order is not clearly away from 0 (its interval reaches 0), so no ratio is determined; compare the core and skin orders themselves, or widen the skin band' } : {}),
+  };
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'profile', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
     ...rest, fieldMethod: field.method, walls: channel.walls, wallsFound: found,
     options: { ...fieldOptions, ...read.options, ...options, ...(near ? { nearWalls: `normalised convolution: gradients within ${near.clearancePx} px of a wall left out` } : {}) },
     warnings: [...warnings, ...ambiguityWarning(read, p.axisDeg)],
-    ...(Number.isFinite(p.coreSkinRatio) || p.skin.n === 0 ? {} : { notDetermined: {
-      coreSkinRatio: 'the skin order is not clearly away from 0 (its interval reaches 0), so no ratio is determined; compare the core and skin orders themselves, or widen the skin band',
-    } }),
+    ...(Object.keys(reasons).length ? { notDetermined: reasons } : {}),
   };
 }
 

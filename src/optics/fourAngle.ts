@@ -9,7 +9,7 @@ import { colourModel } from './colourModel.ts';
 import { NEUTRAL_CAMERA } from './camera.ts';
 import { readCells } from './effectiveRetardance.ts';
 import { buildPlateLookup } from './lookupTable.ts';
-import { checkColourImage, type Rect } from './pixels.ts';
+import { checkColourImage, clippedPixels, type Rect } from './pixels.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
 
@@ -199,8 +199,11 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   const amplitude = new Float32Array(n), background = new Float32Array(n), residual = new Float32Array(n);
   const nImg = images.length, I = new Float64Array(nImg), [P0, P1, P2] = P;
   const cos4 = anglesRad.map((a) => Math.cos(4 * a)), sin4 = anglesRad.map((a) => Math.sin(4 * a));
-  let flatBad = 0, nonFinite = 0;
+  let flatBad = 0, nonFinite = 0, clippedCount = 0;
+  // A clipped image value would pull the fit: such pixels are not read.
+  const clipped = clippedPixels(images);
   for (let i = 0; i < n; i++) {
+    if (clipped[i]) { clippedCount++; continue; }
     let f = 1;
     if (flat) {
       const v = flat[i] - (dark ? dark[i] : 0);
@@ -231,6 +234,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
+  if (clippedCount) warnings.push(`${clippedCount} pixels at full scale (clipped) in an image were masked (${((100 * clippedCount) / n).toFixed(2)} %)`);
   if (nonFinite) warnings.push(`${nonFinite} pixels with a non-finite value (NaN or infinity) in an image were masked`);
   if (lowAmp) warnings.push(`${lowAmp} pixels with no measurable anisotropy (amplitude below ${floor} of the 99th percentile) were masked`);
   let ambiguity: OrientationField['ambiguity'] = 'mod-90';
@@ -255,7 +259,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   }
   for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
   let field: OrientationField = {
-    width, height, angleRad, confidence, mask, method: 'four-angle', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
+    width, height, angleRad, confidence, mask, clipped, method: 'four-angle', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
     pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
     options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate },
     warnings,

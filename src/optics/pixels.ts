@@ -50,6 +50,20 @@ export function medianLinearRgb(img: Image, r: Rect): Vec3 {
  * Maps stored channel values to colour-cube cells of `bits` per channel, on the sRGB-encoded scale (a roughly
  * perceptual spacing). Returns the cell index per pixel and -1 for pixels that are not finite or are saturated.
  */
+/**
+ * Level (0-1 of full scale, as decoded) at or above which a colour plane counts as clipped: the camera
+ * recorded its ceiling, not the light.
+ */
+export const FULL_SCALE_LEVEL = 0.999;
+
+/** 1 where any plane of any of the images is at full scale (clipped), so the pixel's colour or intensity is not known. */
+export function clippedPixels(images: Image[]): Uint8Array {
+  const n = images[0].width * images[0].height;
+  const out = new Uint8Array(n);
+  for (const img of images) for (const p of img.planes) for (let i = 0; i < n; i++) if (p[i] >= FULL_SCALE_LEVEL) out[i] = 1;
+  return out;
+}
+
 export function quantiseToCells(img: Image, bits: number): { cells: Int32Array; saturated: number; invalid: number } {
   const n = img.width * img.height, levels = (1 << bits) - 1;
   const cells = new Int32Array(n);
@@ -57,7 +71,7 @@ export function quantiseToCells(img: Image, bits: number): { cells: Int32Array; 
   let saturated = 0, invalid = 0;
   // Linear data: a 4096-entry table from linear value to encoded level.
   const table = img.encoding === 'linear' ? Int32Array.from({ length: 4097 }, (_, i) => Math.round(levels * srgbEncode(i / 4096))) : null;
-  const sat = 0.999, s2 = 2 * bits;
+  const sat = FULL_SCALE_LEVEL, s2 = 2 * bits;
   for (let i = 0; i < n; i++) {
     const vr = r[i], vg = g[i], vb = b[i];
     if (!(vr >= 0 && vg >= 0 && vb >= 0 && vr < sat && vg < sat && vb < sat)) {

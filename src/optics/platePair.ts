@@ -7,8 +7,8 @@ import { EffectiveRetardanceReader, readCells } from './effectiveRetardance.ts';
 import { NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';
 import { buildPlateLookup, type PlateLookup } from './lookupTable.ts';
-import { checkColourImage, type Rect } from './pixels.ts';
-import { registrationCheck, type RegistrationCheck } from './registration.ts';
+import { checkColourImage, clippedPixels, type Rect } from './pixels.ts';
+import { registrationCheck, registrationShown, type RegistrationCheck } from './registration.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlatePairOptions {
@@ -163,11 +163,13 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   const registration = registrationCheck(toGrey(imgA), toGrey(imgB));
   const maxShift = options.maxShiftPx ?? 1;
-  if (registration.shiftPx > maxShift) {
+  if (!registrationShown(registration)) {
+    warnings.push('the two images share too little structure to check that they line up (a shift along straight channel walls cannot be seen): make sure nothing moved between them');
+  } else if (registration.shiftPx > maxShift) {
     warnings.push(`the two images are shifted by ${registration.shiftPx.toFixed(1)} px (dx ${registration.dxPx.toFixed(1)}, dy ${registration.dyPx.toFixed(1)}): register them before a pixel-by-pixel reading`);
   }
   const field: OrientationField = {
-    width: imgA.width, height: imgA.height, angleRad, confidence, mask, retardanceNm,
+    width: imgA.width, height: imgA.height, angleRad, confidence, mask, retardanceNm, clipped: clippedPixels([imgA, imgB]),
     method: 'plate-pair', ambiguity: 'none', pixelSizeUmPerPx: imgA.pixelSizeUmPerPx,
     options: {
       polariserDeg: trainA.polariserDeg, analyserDeg: trainA.analyserDeg, compensatorDeg: axis, compensatorNmA: gpA, compensatorNmB: gpB,

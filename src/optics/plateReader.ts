@@ -6,7 +6,7 @@ import { colourModel, matchLabOfLinearRgb } from './colourModel.ts';
 import { cameraToModel, NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';
 import { buildPlateLookup, LookupSearcher, matchConfidence, matchCoords, type LookupMatch, type MatchSpace, type PlateLookup, type SearchOptions } from './lookupTable.ts';
-import { cellLinearRgb, checkColourImage, quantiseToCells, type Rect } from './pixels.ts';
+import { cellLinearRgb, checkColourImage, clippedPixels, quantiseToCells, type Rect } from './pixels.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlateReadOptions extends SearchOptions {
@@ -192,7 +192,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   if (saturated > 0) warnings.push(`${saturated} saturated pixels were masked (${((100 * saturated) / n).toFixed(2)} %)`);
   if (invalid > 0) warnings.push(`${invalid} pixels with values outside [0, 1] were masked`);
   const field: OrientationField = {
-    width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm,
+    width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm, clipped: clippedPixels([img]),
     method: 'plate',
     ambiguity: mirror !== null ? 'mirror-about-compensator' : 'none',
     ambiguityAxisDeg: mirror !== null ? mirror : undefined,

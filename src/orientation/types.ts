@@ -15,6 +15,11 @@ export interface OrientationField {
   /** Optical readers: retardance per pixel in nm. */
   retardanceNm?: Float32Array;
   /**
+   * Optical readers: 1 where an input image is at full scale (clipped), so the pixel was not read. Which
+   * pixels clip depends on their angle, so a region with many of them would give a biased S.
+   */
+  clipped?: Uint8Array;
+  /**
    * cos 2 theta and sin 2 theta, when the reader gets them without trigonometry (the structure tensor
    * does): order parameters then need no per-pixel angle.
    */

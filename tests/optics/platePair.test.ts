@@ -89,6 +89,19 @@ describe('readPlatePair round trip', () => {
     expect(s.field.warnings.join(' ')).toContain('shifted by 3');
   });
 
+  it('says the check cannot tell where the only shared structure is a straight diagonal edge, instead of reporting a shift', () => {
+    // Two registered images (no shift by construction) that share only a straight edge at 45 deg, each with its
+    // own fine random texture: phase correlation has a ridge along the edge (any shift along it fits), so no
+    // single peak can show the shift (the aperture problem of motion estimation; Horn & Schunck 1981,
+    // Artificial Intelligence 17:185).
+    const S = 128, rand = seededRandom(3);
+    const pair = [0, 1].map(() => renderSampleImage(S, S, (x, y) => ({ angleRad: 0.3 + 0.4 * rand(), retardanceNm: x + y < S ? 80 + 100 * rand() : 0 })));
+    const t = readPlatePair(pair[0], pair[1], { camera: CAMERA, retardanceMaxNm: 600 });
+    const w = t.field.warnings.join(' ');
+    expect(w).not.toContain('shifted by');
+    expect(w).toContain('too little structure to check that they line up');
+  });
+
   it('rejects images of different sizes, grey images and a turn that cannot separate the angles', () => {
     const small = renderSampleImage(8, 8, () => ({ angleRad: 0, retardanceNm: 0 }));
     expect(() => readPlatePair(imgA, small)).toThrow(InputError);
