@@ -34,7 +34,11 @@ export function OrientTable({ r, stale }: { r: OrientResult; stale: boolean }) {
 export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: boolean; onRemedy?: (remedy: Remedy) => void }) {
   const withheld = r.notDetermined?.order;
   // Withheld values are NaN from the worker and null after a JSON round trip: either way they are not shown as numbers.
-  const g = (v: number | null | undefined) => (withheld ? NOT_DETERMINED : f(v));
+  // A number is given when it is finite (NaN from the worker, null after a JSON round trip when withheld).
+  const given = (v: number | null | undefined) => typeof v === 'number' && Number.isFinite(v);
+  const g = (v: number | null | undefined) => (withheld || (r.notDetermined?.clipped && !given(v)) ? NOT_DETERMINED : f(v));
+  // Bins and bands with too many pixels at full scale have no S: the reason names them.
+  const clippedWhy = (v: number | null | undefined) => (given(v) ? undefined : r.notDetermined?.clipped);
   return (
     <div>
       {stale && <p className="note">Settings changed since this profile: run it again to update it.</p>}
@@ -46,9 +50,9 @@ export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: 
             <tr><th scope="row">Core / skin</th><WithheldCell testId="ratio" /></tr>
             <WithheldRemedies why={withheld} onRemedy={onRemedy} />
           </> : <>
-            <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><td data-testid="core">{f(r.core.order)}</td><td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td></tr>
-            <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><td data-testid="skin">{f(r.skin.order)}</td><td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td></tr>
-            <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{!r.notDetermined?.coreSkinRatio && <td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td>}</tr>
+            <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><Undetermined why={clippedWhy(r.core.order)} testId="core">{f(r.core.order)}</Undetermined>{given(r.core.order) && <td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td>}</tr>
+            <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><Undetermined why={clippedWhy(r.skin.order)} testId="skin">{f(r.skin.order)}</Undetermined>{given(r.skin.order) && <td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td>}</tr>
+            <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio ?? (given(r.core.order) && given(r.skin.order) ? undefined : clippedWhy(NaN))} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{given(r.coreSkinRatio) && <td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td>}</tr>
           </>}
           <tr><th scope="row">Reference axis</th><td>{f(r.axisDeg)}</td><td>deg; channel axis {f(r.channelAxisDeg)}, taper {f(r.taperDeg)}</td></tr>
           <tr><th scope="row">Walls</th><td colSpan={2}>{r.wallsFound ? 'found in the image' : 'drawn by hand'}</td></tr>
@@ -60,6 +64,7 @@ export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: 
           <tbody>{r.stations.map((s) => <tr key={s.station}><td>{s.station}</td><td>{f(s.widthPx)}</td><td>{g(s.core.order)}</td><td>{g(s.skin.order)}</td><td>{g(s.coreSkinRatio)}</td></tr>)}</tbody>
         </table>
       )}
+      {r.notDetermined?.clipped && !withheld && <p className="not-determined-why" data-testid="clipped-why">{r.notDetermined.clipped}</p>}
       <details>
         <summary>S in each bin ({r.bins.length})</summary>
         <table className="results compact">
