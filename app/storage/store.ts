@@ -83,6 +83,9 @@ async function guarded<T>(what: string, f: () => Promise<T>): Promise<T> {
   try { return await f(); } catch (e) { throw e instanceof StorageError ? e : new StorageError(what, e); }
 }
 
+/** Returned by an update's function to write nothing. */
+const KEEP = Symbol('keep what is stored');
+
 /** What a copy of a session left out: images whose stored bytes were missing or unreadable. */
 export interface SessionCopy { copy: SessionRecord; missing: string[] }
 
@@ -90,9 +93,22 @@ export function createSessionStore(kv: KeyValue, makeId: () => string = randomId
   /** The revision of each session as this store last read or wrote it: a save must find that one stored. */
   const seen = new Map<string, number>();
 
-  /** Reads and writes one key with nothing between (one transaction where the key-value store offers it). */
-  const update = (key: string, f: (old: unknown) => unknown): Promise<void> =>
-    kv.update ? kv.update(key, f) : kv.get(key).then((old) => kv.set(key, f(old)));
+  /**
+   * Reads and writes one key with nothing between (one transaction where the key-value store offers it). When `f`
+   * returns KEEP nothing is written.
+   */
+  const update = async (key: string, f: (old: unknown) => unknown): Promise<void> => {
+    if (!kv.update) {
+      const v = f(await kv.get(key));
+      if (v !== KEEP) await kv.set(key, v);
+      return;
+    }
+    try {
+      await kv.update(key, (old) => { const v = f(old); if (v === KEEP) throw KEEP; return v; });
+    } catch (e) {
+      if (e !== KEEP) throw e;
+    }
+  };
 
   /** Moves a record aside (under a new key, with the reason) and removes it from its place. */
   async function setAside(key: string, value: unknown, reason: string, keepOriginal = false): Promise<void> {
@@ -106,7 +122,7 @@ export function createSessionStore(kv: KeyValue, makeId: () => string = randomId
     if (r.lossy) {
       // Keep the original as it was, then store the readable part in its place, unless a tab saved it meanwhile.
       await setAside(key, raw, r.notes.join('; '), true);
-      await update(key, (cur) => (revisionOf(cur) === revisionOf(raw) ? r.value : cur));
+      await update(key, (cur) => (cur !== undefined && revisionOf(cur) === revisionOf(raw) ? r.value : KEEP));
       moved.push({ key, reason: r.notes.join('; ') });
     }
     return r.value;
@@ -223,7 +239,7 @@ export function createSessionStore(kv: KeyValue, makeId: () => string = randomId
       let out = null as SessionRecord | null;
       await update(SESSION_PREFIX + id, (raw) => {
         const r = restoreSession(raw);
-        if (!r.ok) return raw;
+        if (!r.ok) return KEEP;
         out = { ...r.value, name: name.trim() || r.value.name, updatedAt: now().toISOString(), revision: revisionOf(raw) + 1 };
         return out;
       });

@@ -107,6 +107,15 @@ describe('two tabs on one session never overwrite each other', () => {
     expect((map.get(`session:${s.id}`) as SessionRecord).name).toBe('Renamed in B');
   });
 
+  for (const atomic of [true, false]) {
+    it(`renaming a session another tab has deleted writes nothing (${atomic ? 'one transaction' : 'read then write'})`, async () => {
+      const { kv, map } = memoryKv({ atomic });
+      const store = createSessionStore(kv, ids());
+      expect(await store.rename('gone', 'New name')).toBeNull();
+      expect(map.has('session:gone')).toBe(false);
+    });
+  }
+
   it('a copy of the session as one tab holds it keeps that tab\'s changes and its own copy of every image', async () => {
     const { kv, map } = memoryKv();
     const store = createSessionStore(kv, ids());
