@@ -230,13 +230,17 @@ function stepPeakNear(z: Float64Array, predicted: number): number | null {
   return best + (den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (z[best - 1] - z[best + 1])) / den)) : 0);
 }
 
+/** Share of the strips on a side that must reach a line for consensusLine to weigh it. */
+const MIN_SEEN_SHARE = 0.4;
+
 /** Largest angle between a wall and the strips' direction that consensusLine considers, radians. */
 const MAX_WALL_TILT = (8 * Math.PI) / 180;
 
 /**
  * The wall's line in the strips' frame: d = d0 + slope (along - centre), d the distance from the midline.
- * A line's strength is its two-sided step averaged over every strip that sees this side (a strip the line
- * misses counts 0, so a line through a corner's few strips cannot win). The strongest line over tilts
+ * A line's strength is its two-sided step averaged over the strips whose profile reaches it, when at least
+ * MIN_SEEN_SHARE of the side's strips (and three) do, so that a wall cut by the frame counts at full strength
+ * while a line through a corner's few strips cannot win. The strongest line over tilts
  * within MAX_WALL_TILT (0.1 deg steps) and d0 (0.5 px steps) fixes the wall's direction, since every edge
  * of one wall (a band's inner and outer edge, a bright line) runs the same way; along that direction the
  * innermost line that reaches STEP_FRACTION of the strongest and MIN_STEP is the wall's inner edge.
@@ -256,7 +260,9 @@ function consensusLine(strips: Strip[], steps: (StepProfile | null)[]): { d0: nu
       sum += s.z.z[i] * (1 - f) + s.z.z[i + 1] * f;
       count++;
     }
-    return count >= 2 ? sum / live.length : 0;
+    // Averaged over the strips that reach the line (a wall cut by the frame is seen by only some), provided
+    // enough of them do that a line through a corner's few strips cannot win.
+    return count >= Math.max(3, MIN_SEEN_SHARE * live.length) ? sum / count : 0;
   };
   let top = 0, topSlope = 0;
   const step = (0.1 * Math.PI) / 180;
