@@ -1,6 +1,6 @@
 // Runs the retarda CLI's main entry in a worker thread, one job at a time, with stdout and stderr
-// captured, so the corpus test can stop it when a run hangs. Loads the TypeScript through tsx, as
-// bin/retarda.mjs does.
+// captured, so the corpus test can stop it when a run hangs. Loads the TypeScript sources through tsx
+// (always the current sources; the built command, dist/retarda.mjs, is the same code bundled).
 import { parentPort } from 'node:worker_threads';
 import { register } from 'tsx/esm/api';
 

@@ -1,4 +1,4 @@
-// The retarda command as a whole process, as bin/retarda.mjs, that also writes its peak resident
+// The retarda command as a whole process (the sources through tsx, as `npm run build:cli` bundles them), that also writes its peak resident
 // memory (process.resourceUsage().maxRSS, KiB) to the file named by RETARDA_MAXRSS_FILE on exit, so a
 // test can measure memory without adding a line to the command's own output.
 // With --decode-only FILE it only reads and decodes the file (every page), for the reader's own figure.
