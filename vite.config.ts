@@ -8,7 +8,7 @@ import { demoImages } from './app/build/demoImages.ts';
 const here = (p: string) => fileURLToPath(new URL(p, import.meta.url));
 
 /** The analysis names of sample-images/README.md that the app offers (the `retarda` subcommand names). */
-export const DEMO_ANALYSES = ['orient', 'profile', 'plate', 'plate2', 'quad', 'diameter', 'calibrate'];
+export const DEMO_ANALYSES = ['orient', 'profile', 'plate', 'plate-pair', 'angle-series', 'diameter', 'calibrate'];
 
 /**
  * The app's version as shown in its help: package.json's, with `RETARDA_BUILD` appended when set (a build

@@ -16,7 +16,7 @@ import { storageState, type StorageState } from './storage/persistence.ts';
 import { sessionReducer, orientIsStale, profileIsStale, type SessionAction } from './state/session.ts';
 import { ownershipWords, saveStateWords, useSessionKeeping } from './state/keeping.ts';
 import { Viewer, type Layer, type OverlayMode, type ViewerHandle } from './components/Viewer.tsx';
-import { LegendWheel } from './components/LegendWheel.tsx';
+import { ColourKey } from './components/ColourKey.tsx';
 import { ProfilePlot } from './components/ProfilePlot.tsx';
 import { OrientTable, ProfileTable } from './components/Results.tsx';
 import { SessionsPanel } from './components/SessionsPanel.tsx';
@@ -110,6 +110,8 @@ export function App() {
   const [engine, setEngine] = useState<'starting' | 'ready' | 'failed'>('starting');
   const [demos, setDemos] = useState<DemoEntry[]>([]);
   const [update, setUpdate] = useState<null | (() => void)>(null);
+  /** Whether the app works without a network: only once a service worker holds its files; otherwise why not. */
+  const [offline, setOffline] = useState<{ state: 'waiting' | 'ready' | 'unavailable'; why?: string }>({ state: 'waiting' });
   const [dragOver, setDragOver] = useState(false);
   const [help, setHelp] = useState(false);
   /** The last optical field (compensator / angle-series reading) and the diameter marks, for the image they belong to. */
@@ -207,7 +209,8 @@ export function App() {
   // Service worker: a new version waits until the user chooses to reload, and only after the work is saved;
   // the page is never reloaded under the user (also when another tab started the new version).
   useEffect(() => {
-    if (!import.meta.env.PROD || !('serviceWorker' in navigator)) return;
+    if (!import.meta.env.PROD) { setOffline({ state: 'unavailable', why: 'the development server keeps no offline copy; the built app does' }); return; }
+    if (!('serviceWorker' in navigator)) { setOffline({ state: 'unavailable', why: 'this browser keeps no offline copy of web apps (no service workers)' }); return; }
     let cancelled = false;
     let stop = () => undefined as void;
     void import('workbox-window').then(({ Workbox }) => {
@@ -223,7 +226,12 @@ export function App() {
         reloading = true;
         if (taken) window.location.reload(); else wb.messageSkipWaiting();
       }));
-      wb.register().catch((e: Error) => say('error', `Offline use is not available: ${e.message}`));
+      wb.register().catch((e: Error) => {
+        setOffline({ state: 'unavailable', why: `the offline copy could not be set up: ${e.message}` });
+        say('error', `Offline use is not available: ${e.message}`);
+      });
+      // Offline only once a service worker holds the app's files.
+      void navigator.serviceWorker.ready.then(() => { if (!cancelled) setOffline({ state: 'ready' }); });
       // A tab left open for days still hears of a new version: look hourly and whenever the tab is shown again.
       const look = () => { if (document.visibilityState === 'visible') void wb.update().catch(() => undefined); };
       const timer = setInterval(look, 60 * 60 * 1000);
@@ -391,7 +399,7 @@ export function App() {
     return () => { stop = true; };
   }, [session?.activeImageId]); // eslint-disable-line react-hooks/exhaustive-deps
 
-  // An optical reading's confidence, retardance and line glyphs are made the first time they are shown.
+  // An optical reading's confidence, retardance and direction lines are made the first time they are shown.
   useEffect(() => {
     const o = showOptical ? opticalHere : null;
     if (!o) return;
@@ -403,18 +411,18 @@ export function App() {
     making.current.add(job);
     (async () => {
       try {
-        const r = await client.call('opticalView', { key: o.viewKey, view }, progress(view === 'glyphs' ? 'Line glyphs' : `${view[0].toUpperCase()}${view.slice(1)} picture`));
+        const r = await client.call('opticalView', { key: o.viewKey, view }, progress(view === 'glyphs' ? 'Direction lines' : `${view[0].toUpperCase()}${view.slice(1)} picture`));
         const layer = r.picture ? await layerOf(r.picture) : null;
         // Still the same reading (a new one has other colour bitmaps)?
         setOptical((cur) => {
           if (!cur || cur.colour !== o.colour) { layer?.levels.forEach((b) => b.close()); return cur; }
           return view === 'glyphs' ? { ...cur, glyphs: r.glyphs } : view === 'confidence' ? { ...cur, confidence: layer } : { ...cur, retardance: layer };
         });
-      } catch (e) { report(e, view === 'glyphs' ? 'Line glyphs' : `${view} picture`); } finally { making.current.delete(job); setBusy(null); }
+      } catch (e) { report(e, view === 'glyphs' ? 'Direction lines' : `${view} picture`); } finally { making.current.delete(job); setBusy(null); }
     })();
   }, [mode, showOptical, opticalHere, client, progress, report]);
 
-  // The coherency picture and the line glyphs are made the first time they are shown.
+  // The coherency picture and the direction lines are made the first time they are shown.
   useEffect(() => {
     if (!shown?.colour || !shown.fieldOptions || showOptical) return;
     const what = mode === 'coherency' && !shown.coherency ? 'coherency' : mode === 'glyphs' && !shown.glyphs ? 'glyphs' : null;
@@ -433,10 +441,10 @@ export function App() {
           const coherency = await layerOf(r.picture);
           setShown((sh) => { if (same(sh)) return { ...sh, coherency }; coherency.levels.forEach((b) => b.close()); return sh; });
         } else {
-          const r = await client.call('glyphs', { key: imageId, options: fieldOptions }, progress('Line glyphs'));
+          const r = await client.call('glyphs', { key: imageId, options: fieldOptions }, progress('Direction lines'));
           setShown((sh) => (same(sh) ? { ...sh, glyphs: r.glyphs } : sh));
         }
-      } catch (e) { report(e, what === 'coherency' ? 'Coherency picture' : 'Line glyphs'); } finally { making.current.delete(job); setBusy(null); }
+      } catch (e) { report(e, what === 'coherency' ? 'Coherency picture' : 'Direction lines'); } finally { making.current.delete(job); setBusy(null); }
     })();
   }, [mode, shown, showOptical, client, sourceOf, progress, report]);
 
@@ -606,9 +614,9 @@ export function App() {
         <span className="session-title" data-testid="session-name">{session ? session.name : 'No session yet'}</span>
         <span className={`save-state ${keeping.saveState}`} data-testid="save-state">{session ? saveStateWords(keeping.saveState) : ''}</span>
         <span className="spacer" />
-        <span className={`engine ${engine}`} data-helpers={helperCount}
-          title={helperCount ? `Large images are shared between ${helperCount + 1} analysis workers (the numbers are the same as with one).` : undefined}>
-          {engine === 'starting' ? 'Analysis engine starting…' : engine === 'ready' ? 'Works offline' : 'Analysis engine failed'}</span>
+        <span className={`engine ${engine}`} data-helpers={helperCount} data-offline={offline.state}
+          title={[offline.why ? `Not available offline: ${offline.why}.` : '', helperCount ? `Large images are shared between ${helperCount + 1} analysis workers (the numbers are the same as with one).` : ''].filter(Boolean).join(' ') || undefined}>
+          {engine === 'starting' ? 'Analysis engine starting…' : engine === 'failed' ? 'Analysis engine failed' : offline.state === 'ready' ? 'Works offline' : offline.state === 'unavailable' ? 'Ready (online only)' : 'Ready'}</span>
         <button onClick={() => fileInput.current?.click()} title="Shortcut: I">Add images…</button>
         <button className={screen === 'camera' ? 'on' : ''} aria-pressed={screen === 'camera'} onClick={() => setScreen((v) => (v === 'camera' ? 'images' : 'camera'))}>Camera</button>
         <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void keeping.flush(); setScreen((v) => (v === 'compare' ? 'images' : 'compare')); }}>Compare</button>
@@ -683,7 +691,7 @@ export function App() {
           <dl>
             <dt>I</dt><dd>add images</dd><dt>O</dt><dd>orientation analysis</dd><dt>W</dt><dd>draw the two walls</dd><dt>F</dt><dd>find the walls</dd>
             <dt>P</dt><dd>profile across the channel</dd>
-            <dt>M</dt><dd>next tab of “More analyses” (Shift+M: the previous one)</dd><dt>R</dt><dd>run the analysis of the tab shown in “More analyses”, with its settings</dd><dt>1 2 3 4</dt><dd>show: image only, orientation colours, coherency, line glyphs</dd>
+            <dt>M</dt><dd>next tab of “More analyses” (Shift+M: the previous one)</dd><dt>R</dt><dd>run the analysis of the tab shown in “More analyses”, with its settings</dd><dt>1 2 3 4</dt><dd>show: image only, orientation colours, coherency, direction lines</dd>
             <dt>+ − 0</dt><dd>zoom in, out, fit</dd><dt>S</dt><dd>saved sessions</dd><dt>Esc</dt><dd>stop the running analysis, close panels</dd><dt>Ctrl+V</dt><dd>paste an image</dd>
           </dl>
           <p className="note" data-testid="app-version">Retarda version {__RETARDA_VERSION__}</p>
@@ -749,7 +757,7 @@ export function App() {
                 Show:
                 {(['none', 'colour', 'coherency', 'glyphs', ...(showOptical && opticalHere!.retardanceRangeNm ? ['retardance'] : [])] as OverlayMode[]).map((m, i) => (
                   <button key={m} className={mode === m ? 'on' : ''} aria-pressed={mode === m} onClick={() => setMode(m)} title={m === 'retardance' ? 'Retardance map (colour bar in the reading panel)' : `Shortcut: ${i + 1}`}>
-                    {m === 'none' ? 'image' : m === 'colour' ? 'orientation' : m === 'coherency' ? (showOptical ? 'confidence' : 'coherency') : m === 'retardance' ? 'retardance' : 'lines'}
+                    {m === 'none' ? 'image' : m === 'colour' ? 'orientation' : m === 'coherency' ? (showOptical ? 'confidence' : 'coherency') : m === 'retardance' ? 'retardance' : 'direction lines'}
                   </button>
                 ))}
               </span>
@@ -812,7 +820,7 @@ export function App() {
                 <span className="unit">deg</span>
               </label>
               <button className="primary" disabled={!!busy || engine === 'failed'} onClick={() => void runOrient()} title="Shortcut: O">Analyse orientation</button>
-              {mode !== 'none' && orient && <LegendWheel />}
+              {mode !== 'none' && orient && <ColourKey />}
               {orient && <OrientTable r={orient} stale={orientIsStale(orient, settings!)} />}
               {orient && <p className="cli" title="Run this to get the same numbers from the command line"><code>{orientCommandLine(active.name, settings!)}</code></p>}
               {orient && (
@@ -846,12 +854,12 @@ export function App() {
               {walls && <WallsEditor key={wallsText(walls.walls)} walls={walls} found={!!work?.wallsFound} fit={work?.wallFit} onChange={(channel) => change({ type: 'walls', id: active.id, channel, found: false })} />}
               {numberField('Bins across', 'bins', 2, 200, 1)}
               {numberField('Stations along', 'stations', 1, 100, 1)}
-              {numberField('Core: |s| below', 'coreMax', 0.05, 1, 0.05)}
-              {numberField('Skin: |s| above', 'skinMin', 0, 0.99, 0.05)}
+              {numberField('Core: position |s| below', 'coreMax', 0.05, 1, 0.05)}
+              {numberField('Skin: position |s| above', 'skinMin', 0, 0.99, 0.05)}
               <button className="primary" disabled={!!busy || !walls} onClick={() => void runProfile()} title="Shortcut: P">Profile across the channel</button>
               {profile && <ProfilePlot r={profile} />}
               {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings!)} onRemedy={profile.fieldMethod === 'plate' ? (r) => more.current?.remedy(r) : undefined} />}
-              {profile && walls && <p className="cli"><code data-testid="profile-cli">{profile.fieldMethod === 'texture' ? profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls)) : profileCli[active.id] ?? `retarda ${profile.fieldMethod === 'plate' ? 'profile --source plate' : profile.fieldMethod === 'plate-pair' ? 'plate2' : 'quad'} … with the reading's options`}</code></p>}
+              {profile && walls && <p className="cli"><code data-testid="profile-cli">{profile.fieldMethod === 'texture' ? profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls)) : profileCli[active.id] ?? `retarda ${profile.fieldMethod === 'plate' ? 'profile --source plate' : profile.fieldMethod} … with the reading's options`}</code></p>}
               {profile && (
                 <p className="exports">
                   Save: <button onClick={() => download(`${base}-profile.json`, JSON.stringify(profile, null, 2), 'application/json')}>JSON</button>

@@ -59,7 +59,7 @@ function textureImage(scene: ReturnType<typeof channelScene>): Float32Array {
   return out;
 }
 
-function quadImages(scene: ReturnType<typeof channelScene>): Float32Array[] {
+function angleImages(scene: ReturnType<typeof channelScene>): Float32Array[] {
   const { width: W, height: H } = scene;
   const lambda = 546;
   return [0, 22.5, 45, 67.5].map((alphaDeg, k) => {
@@ -121,7 +121,7 @@ async function main() {
   const scene = channelScene();
   const { width: W, height: H } = scene;
   writePng(join(here, 'kestrel-channel-texture.png'), W, H, [textureImage(scene)], 8);
-  quadImages(scene).forEach((img, k) => writePng(join(here, `kestrel-quad-${['000', '225', '450', '675'][k]}.png`), W, H, [img], 16));
+  angleImages(scene).forEach((img, k) => writePng(join(here, `kestrel-angle-${['00.0', '22.5', '45.0', '67.5'][k]}deg.png`), W, H, [img], 16));
   await renderPlateImages(scene, here);
   writePng(join(here, 'kestrel-fibres.png'), FIBRES.width, FIBRES.height, [fibreImage()], 16);
   writePng(join(here, 'kestrel-micrometer.png'), MICROMETER.width, MICROMETER.height, [micrometerImage()], 16);

@@ -9,15 +9,15 @@ import { join } from 'node:path';
 import type { Plugin } from 'vite';
 
 /**
- * One offered demo image. `set` lists the images that go together for its analysis (the four angles of a
- * crossed-polariser series; a turned compensator image with the unturned one before it), in order.
+ * One offered demo image. `set` lists the images that go together for its analysis (the four angles of an angle
+ * series; a turned compensator image with the unturned one before it, a plate pair), in order.
  */
 export interface DemoEntry { file: string; title: string; about: string; analyses: string[]; set?: string[] }
 
 /** Where each analysis is in the app, in the words of its screens. */
 const WHERE: Record<string, string> = {
-  orient: 'Analyse orientation', profile: 'Across the channel', plate: 'More analyses › Polarised colours (one compensator image)',
-  plate2: 'Polarised colours (two compensator images)', quad: 'Polarised colours (crossed polars at several angles)',
+  orient: 'Analyse orientation', profile: 'Across the channel', plate: 'More analyses › Polarised colours (plate reading)',
+  'plate-pair': 'Polarised colours (plate pair)', 'angle-series': 'Polarised colours (angle series)',
   diameter: 'More analyses › Fibre diameter', calibrate: 'More analyses › Micrometer',
 };
 
@@ -29,13 +29,13 @@ export function demoEntries(sampleDir: string, offered: string[]): DemoEntry[] {
   for (const row of rows) {
     const [fileCell, what, analysis] = row.split('|').slice(1).map((c) => c.trim());
     const files = rowFiles(sampleDir, fileCell);
-    // Whole words only: "plate" must not match "plate2".
+    // Whole words only: "plate" must not match "plate-pair".
     const analyses = offered.filter((a) => new RegExp(`(^|[^\\w-])${a}($|[^\\w-])`).test(analysis));
     if (analyses.length === 0) continue;
     const title = what.charAt(0).toUpperCase() + what.slice(1);
     const about = `invented demo scene; try ${analyses.map((a) => WHERE[a] ?? a).join('; ')} (retarda ${analyses.join(', ')})`;
-    // A two-image reading needs the unturned image of the row before; a series needs all its files.
-    const set = analyses.includes('plate2') && out.length ? [out[out.length - 1].file, ...files] : files.length > 1 ? files : undefined;
+    // A plate pair needs the unturned image of the row before; an angle series needs all its files.
+    const set = analyses.includes('plate-pair') && out.length ? [out[out.length - 1].file, ...files] : files.length > 1 ? files : undefined;
     for (const file of files) {
       out.push({ file, title: files.length > 1 ? `${title}: ${file}` : title, about, analyses, ...(set ? { set } : {}) });
     }

@@ -7,7 +7,7 @@ import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import { formatCell } from '../../src/cli/format.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import { AnalysisClient } from '../worker/client.ts';
-import { LegendWheel } from '../components/LegendWheel.tsx';
+import { ColourKey } from '../components/ColourKey.tsx';
 import { defaultStep, planReadout, readoutHaloPx, sizeSteps, type FrameRect } from './frames.ts';
 import { Undetermined } from '../components/Results.tsx';
 import { LiveReadout, type GrabbedFrame, type LiveReading } from './liveReadout.ts';
@@ -183,21 +183,21 @@ export function CameraView(p: Props) {
     if (r && showColours && r.colour?.levels[0]?.width) {
       g.save();
       // The picture covers the rectangle and the filters' margin around it; only the rectangle was read.
-      const s = r.plan.source, q = r.plan.region, f = s.w / r.plan.width;
-      if (q) { g.beginPath(); g.rect(ox + (s.x + q.x * f) * k, oy + (s.y + q.y * f) * k, q.w * f * k, q.h * f * k); g.clip(); }
+      const s = r.plan.source, q = r.plan.region, f = s.width / r.plan.width;
+      if (q) { g.beginPath(); g.rect(ox + (s.x + q.x * f) * k, oy + (s.y + q.y * f) * k, q.width * f * k, q.height * f * k); g.clip(); }
       g.globalAlpha = 0.65;
-      g.drawImage(r.colour.levels[0], ox + s.x * k, oy + s.y * k, s.w * k, s.h * k);
+      g.drawImage(r.colour.levels[0], ox + s.x * k, oy + s.y * k, s.width * k, s.height * k);
       g.restore();
     }
     const box = draft ?? rect;
     if (box) {
-      g.strokeStyle = '#000'; g.lineWidth = 4; g.strokeRect(ox + box.x * k, oy + box.y * k, box.w * k, box.h * k);
-      g.strokeStyle = '#ffd23f'; g.lineWidth = 2; g.strokeRect(ox + box.x * k, oy + box.y * k, box.w * k, box.h * k);
+      g.strokeStyle = '#000'; g.lineWidth = 4; g.strokeRect(ox + box.x * k, oy + box.y * k, box.width * k, box.height * k);
+      g.strokeStyle = '#ffd23f'; g.lineWidth = 2; g.strokeRect(ox + box.x * k, oy + box.y * k, box.width * k, box.height * k);
     }
     if (r && Number.isFinite(r.result.directorDeg)) {
-      const area = rect ?? { x: 0, y: 0, w: frameSize.w, h: frameSize.h };
-      const cx = ox + (area.x + area.w / 2) * k, cy = oy + (area.y + area.h / 2) * k;
-      const half = 0.35 * Math.min(area.w, area.h) * k * Math.max(0.15, r.result.order2D);
+      const area = rect ?? { x: 0, y: 0, width: frameSize.w, height: frameSize.h };
+      const cx = ox + (area.x + area.width / 2) * k, cy = oy + (area.y + area.height / 2) * k;
+      const half = 0.35 * Math.min(area.width, area.height) * k * Math.max(0.15, r.result.order2D);
       const a = (r.result.directorDeg * Math.PI) / 180;
       const table = orientationColourTable(), t = 3 * angleIndex(r.result.directorDeg);
       g.lineCap = 'round';
@@ -223,11 +223,11 @@ export function CameraView(p: Props) {
     const a = dragStart.current;
     if (!a) return;
     const b = toFrame(e);
-    setDraft({ x: Math.min(a.x, b.x), y: Math.min(a.y, b.y), w: Math.abs(b.x - a.x), h: Math.abs(b.y - a.y) });
+    setDraft({ x: Math.min(a.x, b.x), y: Math.min(a.y, b.y), width: Math.abs(b.x - a.x), height: Math.abs(b.y - a.y) });
   };
   const onUp = () => {
     dragStart.current = null;
-    if (draft && draft.w >= 8 && draft.h >= 8) { setRect({ x: Math.round(draft.x), y: Math.round(draft.y), w: Math.round(draft.w), h: Math.round(draft.h) }); setDrawingRect(false); }
+    if (draft && draft.width >= 8 && draft.height >= 8) { setRect({ x: Math.round(draft.x), y: Math.round(draft.y), width: Math.round(draft.width), height: Math.round(draft.height) }); setDrawingRect(false); }
     setDraft(null);
   };
 
@@ -327,7 +327,7 @@ export function CameraView(p: Props) {
           {r ? (
             <table className="results" data-testid="live-readout" data-readings={readingCount} data-worker-ms={reading ? JSON.stringify(reading.timesMs) : undefined}>
               <tbody>
-                <tr><th scope="row">Order S_2D</th><td data-testid="live-order">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
+                <tr><th scope="row">Order S_2D</th><td data-testid="live-order">{f(r.order2D)}</td><td>95 %: {f(r.order2DCiLow)} – {f(r.order2DCiHigh)}</td></tr>
                 <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="live-director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
                 <tr><th scope="row">Mean coherency</th><td>{f(r.coherencyMean)}</td><td>n {f(r.n)} px</td></tr>
                 <tr><th scope="row">Readings</th><td data-testid="live-fps">{reading?.fps != null ? reading.fps.toFixed(1) : '–'}</td><td>per second, {LIVE_WORKERS} workers taking frames in turn</td></tr>
@@ -343,7 +343,7 @@ export function CameraView(p: Props) {
             </p>
           )}
           {readoutError && <p className="note warn" role="status">{readoutError}</p>}
-          {showColours && <LegendWheel size={110} />}
+          {showColours && <ColourKey size={110} />}
         </section>
         <p className="caution" role="note">
           <strong>Eyes first.</strong> Turn the lamp down before you switch from the camera to the eyepieces: a brightness that suits the camera can dazzle. Your lab's rules come first.

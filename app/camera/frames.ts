@@ -6,7 +6,7 @@
 import type { Image } from '../../src/image/types.ts';
 // kernels.ts only: the orientation folder's index pulls in opencv.js, which must stay in the worker.
 import { gaussianRadius } from '../../src/orientation/kernels.ts';
-import type { Rect } from '../../src/analyses/index.ts';
+import type { Rect } from '../../src/common/index.ts';
 
 /** A rectangle in camera-frame pixels (x right, y down, top-left pixel at 0,0). */
 export type FrameRect = Rect;
@@ -40,10 +40,10 @@ export function planReadout(frameWidth: number, frameHeight: number, step: numbe
   if (!(frameWidth > 0 && frameHeight > 0)) throw new Error('the camera has not delivered a frame yet');
   if (!Number.isInteger(step) || step < 1 || step > 16) throw new Error(`size step ${step} must be a whole number from 1 to 16`);
   if (!rect) {
-    return { source: { x: 0, y: 0, w: frameWidth, h: frameHeight }, width: Math.max(1, Math.round(frameWidth / step)), height: Math.max(1, Math.round(frameHeight / step)), step, region: null };
+    return { source: { x: 0, y: 0, width: frameWidth, height: frameHeight }, width: Math.max(1, Math.round(frameWidth / step)), height: Math.max(1, Math.round(frameHeight / step)), step, region: null };
   }
   const x0 = Math.max(0, Math.round(rect.x)), y0 = Math.max(0, Math.round(rect.y));
-  const x1 = Math.min(frameWidth, Math.round(rect.x + rect.w)), y1 = Math.min(frameHeight, Math.round(rect.y + rect.h));
+  const x1 = Math.min(frameWidth, Math.round(rect.x + rect.width)), y1 = Math.min(frameHeight, Math.round(rect.y + rect.height));
   if (x1 <= x0 || y1 <= y0) throw new Error('the chosen rectangle lies outside the camera frame; draw it again');
   if ((x1 - x0) / step < MIN_READOUT_SIDE || (y1 - y0) / step < MIN_READOUT_SIDE) {
     throw new Error(`the chosen rectangle is too small: at least ${MIN_READOUT_SIDE * step} x ${MIN_READOUT_SIDE * step} camera pixels are needed at this size step`);
@@ -54,8 +54,8 @@ export function planReadout(frameWidth: number, frameHeight: number, step: numbe
   // Keep the drawn size an exact multiple so rectangle edges fall on analysed-pixel edges.
   const width = Math.round((sx1 - sx0) / step), height = Math.round((sy1 - sy0) / step);
   return {
-    source: { x: sx0, y: sy0, w: width * step, h: height * step }, width, height, step,
-    region: { x: (x0 - sx0) / step, y: (y0 - sy0) / step, w: (x1 - x0) / step, h: (y1 - y0) / step },
+    source: { x: sx0, y: sy0, width: width * step, height: height * step }, width, height, step,
+    region: { x: (x0 - sx0) / step, y: (y0 - sy0) / step, width: (x1 - x0) / step, height: (y1 - y0) / step },
   };
 }
 

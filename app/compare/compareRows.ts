@@ -50,7 +50,7 @@ export function compareRows(sessions: SessionRecord[]): CompareRow[] {
         key: `${s.id}/${img.id}`, sessionId: s.id, session: s.name, image: img.name, field: p ? p.fieldMethod : null,
         coreOrder: fin(p?.core.order), coreCiLow: fin(p?.core.ciLow), coreCiHigh: fin(p?.core.ciHigh), coreN: fin(p?.core.n),
         skinOrder: fin(p?.skin.order), skinCiLow: fin(p?.skin.ciLow), skinCiHigh: fin(p?.skin.ciHigh), skinN: fin(p?.skin.n),
-        ratio: fin(p?.coreSkinRatio), ratioCiLow: fin(p?.coreSkinRatioCi[0]), ratioCiHigh: fin(p?.coreSkinRatioCi[1]),
+        ratio: fin(p?.coreSkinRatio), ratioCiLow: fin(p?.coreSkinRatioCiLow), ratioCiHigh: fin(p?.coreSkinRatioCiHigh),
         diameter: d ? fin(um ? d.meanUm : d.meanPx) : null,
         diameterCiLow: d ? fin(um ? d.ciLowUm : d.ciLowPx) : null,
         diameterCiHigh: d ? fin(um ? d.ciHighUm : d.ciHighPx) : null,

@@ -1,5 +1,5 @@
 /**
- * Legend for the orientation colours: a ring in which each direction has the colour of that
+ * The colour key of the orientation colours: a ring in which each direction has the colour of that
  * orientation (so opposite points match: 0 and 180 deg are one orientation), with the angle
  * convention marked: 0 deg along +x (to the right), counter-clockwise positive.
  */
@@ -7,7 +7,7 @@ import { useEffect, useRef } from 'react';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
 
 /** `faint` says what a faint colour means on the map it explains (default: low coherency); null when colours are never faint. */
-export function LegendWheel({ size = 132, faint = 'low coherency' }: { size?: number; faint?: string | null }) {
+export function ColourKey({ size = 132, faint = 'low coherency' }: { size?: number; faint?: string | null }) {
   const ref = useRef<HTMLCanvasElement>(null);
   useEffect(() => {
     const c = ref.current!;

@@ -126,7 +126,7 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
       options = {
         pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: relU,
         stepPx: num(s.stepPx, 'Station step'), averagePx: num(s.averagePx, 'Averaged length'),
-        polarity: s.polarity, backgroundDegree: num(s.backgroundDegree, 'Background degree'),
+        polarity: s.polarity, shadingDegree: num(s.backgroundDegree, 'Shading'),
       };
     } catch (e) { setFormError((e as Error).message); return; }
     const args = [
@@ -135,7 +135,7 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
       ...(options.stepPx !== undefined && options.stepPx !== 10 ? [`--step-px ${options.stepPx}`] : []),
       ...(options.averagePx !== undefined && options.averagePx !== 5 ? [`--average-px ${options.averagePx}`] : []),
       ...(options.polarity !== 'auto' ? [`--polarity ${options.polarity}`] : []),
-      ...(options.backgroundDegree !== undefined && options.backgroundDegree !== 2 ? [`--background-degree ${options.backgroundDegree}`] : []),
+      ...(options.shadingDegree !== undefined && options.shadingDegree !== 2 ? [`--shading-degree ${options.shadingDegree}`] : []),
     ];
     const id = active.id;
     const doc = await ctx.runJob('Fibre diameter', async (p) => {
@@ -178,17 +178,17 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
         <select value={s.polarity} onChange={(e) => setS({ ...s, polarity: e.target.value as DiameterForm['polarity'] })}>
           <option value="auto">found from the image</option><option value="dark">darker than the background</option><option value="bright">brighter than the background</option>
         </select><span /></label>
-      <label className="field"><span>Uneven lamp removal</span>
+      <label className="field"><span>Shading removed</span>
         <select value={s.backgroundDegree} onChange={(e) => setS({ ...s, backgroundDegree: e.target.value })}>
-          {[0, 1, 2, 3, 4].map((k) => <option key={k} value={String(k)}>{k === 0 ? 'none (flat level)' : `surface of degree ${k}`}</option>)}
+          {[0, 1, 2, 3, 4].map((k) => <option key={k} value={String(k)}>{k === 0 ? 'a flat level' : `surface of degree ${k}`}</option>)}
         </select><span /></label>
       {formError && <p className="note warn" role="alert">{formError}</p>}
       <button className="primary" disabled={ctx.disabled || !active} onClick={() => void run()} title="Shortcut: R">Measure fibre diameters</button>
       {d && (
         <div>
-          <p className="note">On the image: yellow = the width measured at each station, green = the edges joined between stations, red × = stations left out.</p>
+          <p className="note">On the image: yellow = the width measured at each station, green = the edges joined between stations, red × = stations dropped.</p>
           <div className="scroll-x"><table className="results compact" data-testid="diameter-table">
-            <thead><tr><th>fibre</th><th>axis °</th><th>n</th><th>left out</th><th>mean {unit}</th><th>SD {unit}</th><th>95 % interval</th>{um && <th title="standard uncertainty (k = 1) from the pixel size alone">of it: pixel size</th>}<th>CV</th></tr></thead>
+            <thead><tr><th>fibre</th><th>axis °</th><th>n</th><th>dropped</th><th>mean {unit}</th><th>SD {unit}</th><th>95 % interval</th>{um && <th title="standard uncertainty (k = 1) from the pixel size alone">of it: pixel size</th>}<th>CV</th></tr></thead>
             <tbody>
               {d.fibres.map((fb) => <DiameterRow key={fb.index} row={fb} label={String(fb.index)} axis={f(fb.axisDeg)} testId={`diameter-mean-${fb.index}`} um={um} />)}
               {d.fibres.length > 1 && <DiameterRow row={d} label="all" axis="–" testId="diameter-mean-all" um={um} total />}
@@ -207,7 +207,7 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
           <Histogram values={d.stations.map((st) => (um ? st.diameterUm! : st.diameterPx))} unit={unit} label="diameter at each station" />
           {dropped.length > 0 && (
             <details data-testid="diameter-dropped">
-              <summary>{dropped.length} station(s) left out, and why</summary>
+              <summary>{dropped.length} station(s) dropped, and why</summary>
               <ul className="reasons">{[...byReason].map(([reason, n]) => <li key={reason}><strong>{n}</strong> × {DROP_REASON_TEXT[reason]}</li>)}</ul>
               <table className="results compact">
                 <thead><tr><th>fibre</th><th>along px</th><th>x px</th><th>y px</th><th>reason</th></tr></thead>
@@ -255,11 +255,11 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
     try {
       const diameterUm = num(s.diameterUm, 'Diameter'), density = num(s.density, 'Density');
       if (diameterUm === undefined || density === undefined) throw new Error('Give at least the diameter and the density of the solid material');
-      const ld = num(s.linearDensity, 'Linear density'), ten = num(s.tenacity, 'Specific stress');
+      const ld = num(s.linearDensity, 'Linear density'), ten = num(s.tenacity, 'Tenacity');
       const uncertainties = {
         diameterUm: num(s.uDiameterUm, 'Diameter uncertainty'), diameterDof: num(s.diameterDof, 'Diameter degrees of freedom'),
         densityGPerCm3: num(s.uDensity, 'Density uncertainty'), linearDensity: num(s.uLinearDensity, 'Linear density uncertainty'),
-        tenacity: num(s.uTenacity, 'Specific stress uncertainty'), strengthGPa: num(s.uStrengthGPa, 'Stress uncertainty'),
+        tenacity: num(s.uTenacity, 'Tenacity uncertainty'), strengthGPa: num(s.uStrengthGPa, 'Tensile strength uncertainty'),
         retardanceNm: num(s.uRetardanceNm, 'Retardance uncertainty'), thicknessUm: num(s.uThicknessUm, 'Optical path uncertainty'),
         intrinsicBirefringence: num(s.uIntrinsic, 'Intrinsic birefringence uncertainty'),
       };
@@ -267,7 +267,7 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
         diameterUm, densityGPerCm3: density,
         linearDensity: ld === undefined ? undefined : { value: ld, unit: s.linearDensityUnit },
         tenacity: ten === undefined ? undefined : { value: ten, unit: s.tenacityUnit },
-        strengthGPa: num(s.strengthGPa, 'Strength'), retardanceNm: num(s.retardanceNm, 'Retardance'),
+        strengthGPa: num(s.strengthGPa, 'Tensile strength'), retardanceNm: num(s.retardanceNm, 'Retardance'),
         thicknessUm: num(s.thicknessUm, 'Optical path'), intrinsicBirefringence: num(s.intrinsic, 'Intrinsic birefringence'),
         ...(Object.values(uncertainties).some((v) => v !== undefined) ? { uncertainties } : {}),
       };
@@ -285,8 +285,8 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
   const rows: [keyof FibreNumbersResult, string, number | null, string][] = r ? [
     ['areaUm2', 'Cross-section', r.areaUm2, 'µm², round fibre'], ['solidTex', 'Solid linear density', r.solidTex, 'tex'], ['solidDtex', '', r.solidDtex, 'dtex'],
     ['solidDenier', '', r.solidDenier, 'denier'], ['linearDensityTex', 'Measured linear density', r.linearDensityTex, 'tex'],
-    ['packingFraction', 'Packing fraction', r.packingFraction, 'measured / solid'], ['tenacityNPerTex', 'Specific stress', r.tenacityNPerTex, 'N/tex'],
-    ['tenacityCnPerDtex', '', r.tenacityCnPerDtex, 'cN/dtex'], ['tenacityGfPerDen', '', r.tenacityGfPerDen, 'gf/den'], ['strengthGPa', 'Stress', r.strengthGPa, 'GPa at this density'],
+    ['packingFraction', 'Packing fraction', r.packingFraction, 'measured / solid'], ['tenacityNPerTex', 'Tenacity', r.tenacityNPerTex, 'N/tex'],
+    ['tenacityCnPerDtex', '', r.tenacityCnPerDtex, 'cN/dtex'], ['tenacityGfPerDen', '', r.tenacityGfPerDen, 'gf/den'], ['strengthGPa', 'Tensile strength', r.strengthGPa, 'GPa at this density'],
     ['birefringence', 'Birefringence', r.birefringence, `retardance / ${f(r.thicknessUm)} µm`], ['orientationFactor', 'Orientation factor', r.orientationFactor, 'birefringence / intrinsic'],
   ] : [];
   const anyInterval = r ? Object.keys(r.intervals).length > 0 : false;
@@ -305,11 +305,11 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
       {input('Density of the solid', 'density', 'g/cm³', 'e.g. 1.8', 'fibre-density')}
       <label className="field"><span>Linear density</span><input value={s.linearDensity} placeholder="measured, optional" data-testid="fibre-linear-density" onChange={(e) => set({ linearDensity: e.target.value })} />
         <select aria-label="Linear density unit" value={s.linearDensityUnit} onChange={(e) => set({ linearDensityUnit: e.target.value as LinearDensityUnit })}><option value="tex">tex</option><option value="dtex">dtex</option><option value="den">denier</option></select></label>
-      <label className="field"><span>Specific stress</span><input value={s.tenacity} placeholder="tenacity, optional" onChange={(e) => set({ tenacity: e.target.value })} />
-        <select aria-label="Specific stress unit" value={s.tenacityUnit} onChange={(e) => set({ tenacityUnit: e.target.value as TenacityUnit })}><option value="N/tex">N/tex</option><option value="cN/dtex">cN/dtex</option><option value="gf/den">gf/den</option></select></label>
-      {input('or stress', 'strengthGPa', 'GPa', 'instead of the specific stress')}
+      <label className="field"><span>Tenacity</span><input value={s.tenacity} placeholder="optional" onChange={(e) => set({ tenacity: e.target.value })} />
+        <select aria-label="Tenacity unit" value={s.tenacityUnit} onChange={(e) => set({ tenacityUnit: e.target.value as TenacityUnit })}><option value="N/tex">N/tex</option><option value="cN/dtex">cN/dtex</option><option value="gf/den">gf/den</option></select></label>
+      {input('or tensile strength', 'strengthGPa', 'GPa', 'instead of the tenacity')}
       {input('Retardance', 'retardanceNm', 'nm', 'for the birefringence', 'fibre-retardance')}
-      {measuredRetardanceNm !== null && <button className="quiet small" onClick={() => set({ retardanceNm: short(measuredRetardanceNm) })}>use the compensator reading ({f(measuredRetardanceNm)} nm)</button>}
+      {measuredRetardanceNm !== null && <button className="quiet small" onClick={() => set({ retardanceNm: short(measuredRetardanceNm) })}>use the optical reading ({f(measuredRetardanceNm)} nm)</button>}
       {input('Optical path', 'thicknessUm', 'µm', 'default: the diameter')}
       {input('Intrinsic birefringence', 'intrinsic', '', 'perfectly aligned material')}
       <details className="uncertainties" data-testid="fibre-uncertainties">
@@ -318,8 +318,8 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
         {input('its degrees of freedom', 'diameterDof', '', 'infinite when empty')}
         {input('± density', 'uDensity', 'g/cm³', '', 'fibre-density-u')}
         {input('± linear density', 'uLinearDensity', s.linearDensityUnit === 'den' ? 'denier' : s.linearDensityUnit)}
-        {input('± specific stress', 'uTenacity', s.tenacityUnit)}
-        {input('± stress', 'uStrengthGPa', 'GPa')}
+        {input('± tenacity', 'uTenacity', s.tenacityUnit)}
+        {input('± tensile strength', 'uStrengthGPa', 'GPa')}
         {input('± retardance', 'uRetardanceNm', 'nm')}
         {input('± optical path', 'uThicknessUm', 'µm')}
         {input('± intrinsic birefringence', 'uIntrinsic', '')}

@@ -115,7 +115,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, 
               <IntervalRows c={c} />
               {c.methodDescription && <tr><th scope="row">Method</th><td colSpan={2} data-testid="micrometer-method">{c.methodDescription}</td></tr>}
               <tr><th scope="row">Ruler period</th><td data-testid="period-px">{f(c.periodPx)}</td><td>px ± {f(c.periodStdErrPx)}, over {f(c.divisions)} divisions</td></tr>
-              <tr><th scope="row">Ticks fitted</th><td>{f(c.lines)}</td><td>{f(c.rejectedLines)} left out{typeof c.missingLines === 'number' ? `, ${c.missingLines} not found in the span` : ''}; residual {f(c.rmsResidualPx)} px rms{typeof c.residualFraction === 'number' ? ` (${(100 * c.residualFraction).toFixed(2)} % of a division)` : ''}</td></tr>
+              <tr><th scope="row">Ticks fitted</th><td>{f(c.lines)}</td><td>{f(c.rejectedLines)} rejected{typeof c.missingLines === 'number' ? `, ${c.missingLines} not found in the span` : ''}; residual {f(c.rmsResidualPx)} px rms{typeof c.residualFraction === 'number' ? ` (${(100 * c.residualFraction).toFixed(2)} % of a division)` : ''}</td></tr>
               <tr><th scope="row">Tick direction</th><td>{f(c.linesDeg)}</td><td>deg CCW from +x; {c.polarity} lines</td></tr>
             </tbody>
           </table>

@@ -1,12 +1,12 @@
 /**
  * Order numbers the data do not determine: the reason the analysis gave (`notDetermined.order`), split into its
  * parts, and the one-click remedies that would determine them (draw the sample-free area, enter the sample
- * retardance, read two images instead). Shown in one cell beside every withheld number of a table.
+ * retardance, read a plate pair instead). Shown in one cell beside every withheld number of a table.
  */
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 
 /** What the user can do about a one-image reading's withheld numbers. */
-export type Remedy = 'background' | 'retardance' | 'axis' | 'plate2';
+export type Remedy = 'background' | 'retardance' | 'axis' | 'platePair';
 
 /**
  * The parts of a joined reason. The analysis joins its gaps with "; " and each gap names what is missing first
@@ -19,7 +19,7 @@ export function reasonParts(why: string): string[] {
 /**
  * The remedies a reason calls for: the sample-free area and the sample retardance when they are named as missing,
  * the reference axis when the whole field's axis (not a channel's, which the walls give) is off the compensator;
- * two images always help.
+ * a plate pair always helps.
  */
 export function remediesFor(why: string): Remedy[] {
   const parts = reasonParts(why);
@@ -27,7 +27,7 @@ export function remediesFor(why: string): Remedy[] {
     ...(parts.some((p) => p.startsWith('no sample-free area')) ? ['background' as const] : []),
     ...(parts.some((p) => p.startsWith('the sample retardance')) ? ['retardance' as const] : []),
     ...(parts.some((p) => p.startsWith('the axis (')) ? ['axis' as const] : []),
-    'plate2',
+    'platePair',
   ];
 }
 
@@ -35,7 +35,7 @@ const REMEDY_LABEL: Record<Remedy, string> = {
   background: 'Draw the sample-free area',
   retardance: 'Enter the sample retardance',
   axis: 'Enter the channel axis',
-  plate2: 'Use two images instead',
+  platePair: 'Use a plate pair instead',
 };
 
 /** The value cell of a withheld number (keeps the number's test id). */

@@ -1,33 +1,33 @@
 /**
- * Orientation and retardance read from polarised-light colours: one compensator image, two compensator
- * images with the optics turned by 45 deg, or a set of crossed-polariser images at several angles.
- * The numbers are the worker's `plate` / `plate2` / `quad` results, which are what the `retarda`
- * subcommands of the same names print; the command line is shown with them.
+ * Orientation and retardance read from polarised-light colours (README, "Glossary"): the plate reading (one
+ * compensator image), the plate pair (two compensator images, the optics turned by 45 deg) or the angle series
+ * (crossed polarisers at several angles). The numbers are the worker's `plate` / `platePair` / `angleSeries`
+ * results, which are what `retarda plate`, `plate-pair` and `angle-series` print; the command line is shown with them.
  */
 import { useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
 import {
-  ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM, oneImageGaps,
+  ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM, oneImageGaps, READING_NAMES,
   type OpticsResult, type PlateReadingOptions, type ProfileRequest, type ProfileResult, type TrainOptions,
 } from '../../src/analyses/index.ts';
-import type { MatchSpace, Rect } from '../../src/optics/index.ts';
+import type { MatchSpace } from '../../src/optics/index.ts';
+import { parseRect, rectText, type Rect } from '../../src/common/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
 import type { Glyph, OpticsReply, Picture } from '../worker/protocol.ts';
 import type { Layer } from './Viewer.tsx';
 import { DEFAULT_OPTICAL_FORM, type OpticalForm, type OpticsKind, type StoredOptics } from '../storage/records.ts';
-import { LegendWheel } from './LegendWheel.tsx';
+import { ColourKey } from './ColourKey.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
 import { Undetermined } from './Results.tsx';
 import { headline, WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
 import type { OrientationField } from '../../src/orientation/index.ts';
-import { rectText, type ViewerBox } from './imageRectangles.ts';
+import type { ViewerBox } from './imageRectangles.ts';
 import { channelArgs, commandLine, knownRetardanceArgs, plateReadingArgs, quote, trainArgs, type KnownRetardance } from './commandLines.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
 export type ReadingKind = OpticsKind;
 
-const READING_NAMES: Record<ReadingKind, string> = { plate: 'compensator reading', plate2: 'two-image reading', quad: 'angle-series reading' };
 
 /** An optical field the viewer can show and the channel profile can use ("the current field"). */
 export interface OpticalField {
@@ -80,14 +80,8 @@ function num(text: string, what: string): number | undefined {
   return v;
 }
 
-function rectOf(text: string, what: string): Rect | undefined {
-  if (text.trim() === '') return undefined;
-  const v = text.split(',').map((s) => Number(s.trim()));
-  if (v.length !== 4 || v.some((x) => !Number.isInteger(x) || x < 0) || v[2] < 1 || v[3] < 1) {
-    throw new Error(`${what}: write it as x,y,w,h in whole pixels (top-left corner, then width and height)`);
-  }
-  return { x: v[0], y: v[1], width: v[2], height: v[3] };
-}
+/** A rectangle typed in the form: blank = none; otherwise parsed as the command line parses it. */
+const rectOf = (text: string, what: string): Rect | undefined => (text.trim() === '' ? undefined : parseRect(text.trim(), what));
 
 const trainOf = (s: Settings): TrainOptions => ({
   compensatorNm: num(s.compensatorNm, 'Compensator retardance'), compensatorDeg: num(s.compensatorDeg, 'Compensator slow axis'),
@@ -95,7 +89,7 @@ const trainOf = (s: Settings): TrainOptions => ({
 });
 
 const readingOf = (s: Settings): PlateReadingOptions => ({
-  ...trainOf(s), retardanceMaxNm: num(s.retardanceMaxNm, 'Largest retardance'), background: rectOf(s.background, 'Sample-free area'),
+  ...trainOf(s), retardanceMaxNm: num(s.retardanceMaxNm, 'Largest retardance'), sampleFree: rectOf(s.background, 'Sample-free area'),
   sign: s.sign,
 });
 
@@ -115,7 +109,7 @@ function knownOf(s: Settings): KnownRetardance {
  */
 function oneImageNeverWhy(compensatorDeg: number): string | null {
   try {
-    const gaps = oneImageGaps({ background: { x: 0, y: 0, width: 1, height: 1 }, sampleRetardanceNm: Math.max(ONE_IMAGE_MIN_RETARDANCE_NM, 1) * 2 }, compensatorDeg,
+    const gaps = oneImageGaps({ sampleFree: { x: 0, y: 0, width: 1, height: 1 }, sampleRetardanceNm: Math.max(ONE_IMAGE_MIN_RETARDANCE_NM, 1) * 2 }, compensatorDeg,
       { ambiguity: 'mirror-about-compensator' } as OrientationField, compensatorDeg, true);
     return gaps.length ? gaps.join('; ') : null;
   } catch { return null; }
@@ -174,7 +168,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     if (r) { set({ background: rectText(r) }); setFocusNext('background'); }
   }
   // The sample-free area is shown on the image while this panel is.
-  const bgRect = kind !== 'quad' ? parses(() => rectOf(s.background, '')) : undefined;
+  const bgRect = kind !== 'angle-series' ? parses(() => rectOf(s.background, '')) : undefined;
   const bgKey = bgRect ? rectText(bgRect) : '';
   useEffect(() => {
     ctx.showBoxes(visible && bgRect ? [{ rect: bgRect, label: 'sample-free area' }] : []);
@@ -204,9 +198,9 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     }
   }
 
-  /** A remedy for withheld numbers: draw the sample-free area, go to the sample retardance, or switch to two images. */
+  /** A remedy for withheld numbers: draw the sample-free area, go to the sample retardance, or switch to a plate pair. */
   function applyRemedy(r: Remedy) {
-    if (r === 'plate2') { setKind('plate2'); setFocusNext('imageB'); return; }
+    if (r === 'platePair') { setKind('plate-pair'); setFocusNext('imageB'); return; }
     setKind('plate');
     if (r === 'background') void drawBackground(); else setFocusNext(r);
   }
@@ -232,19 +226,19 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           commandLine: (req, walls) => commandLine('profile', [active.name], ['--source plate', ...channelArgs(req, walls), ...args]),
           run: async (req, p) => { await ensure([active.id], p); return ctx.client.call('profile', { key: active.id, texture: {}, request: req, source }, p); },
         };
-      } else if (kind === 'plate2') {
+      } else if (kind === 'plate-pair') {
         if (!imageB) throw new Error('Choose the second image (the one taken with the optics turned by 45°)');
         const options = { ...readingOf(s), ...summary, turnDeg: num(s.turnDeg, 'Turn') };
         const args = [...plateReadingArgs(options), ...(options.turnDeg !== undefined && options.turnDeg !== 45 ? [`--turn-deg ${options.turnDeg}`] : [])];
         const files = [active.name, nameOf(imageB)];
-        cli = commandLine('plate2', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
+        cli = commandLine('plate-pair', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
         const keyB = imageB;
-        job = async (p) => { await ensure([active.id, keyB], p); return ctx.client.call('plate2', { key: active.id, keyB, options: { ...options, profile: null } }, p); };
+        job = async (p) => { await ensure([active.id, keyB], p); return ctx.client.call('platePair', { key: active.id, keyB, options: { ...options, profile: null } }, p); };
         profile = {
-          commandLine: (req, walls) => commandLine('plate2', files, [...args, ...channelArgs(req, walls)]),
+          commandLine: (req, walls) => commandLine('plate-pair', files, [...args, ...channelArgs(req, walls)]),
           run: async (req, p) => {
             await ensure([active.id, keyB], p);
-            const r = await ctx.client.call('plate2', { key: active.id, keyB, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
+            const r = await ctx.client.call('platePair', { key: active.id, keyB, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
             return r.result.profile!;
           },
         };
@@ -254,29 +248,29 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
         viewKey = keys[0];
         const anglesDeg = s.quadAngles.map((a, k) => num(a, `Angle ${k + 1}`) ?? NaN);
         if (anglesDeg.some((a) => !Number.isFinite(a))) throw new Error('Give an angle for every image');
-        const options = { ...trainOf(s), ...summary, anglesDeg, plateBackground: rectOf(s.quadPlateBackground, 'Sample-free area of the compensator image') };
+        const options = { ...trainOf(s), ...summary, anglesDeg, plateSampleFree: rectOf(s.quadPlateBackground, 'Sample-free area of the compensator image') };
         const plateKey = s.quadPlate || undefined;
         const isDefault = anglesDeg.join(',') === '0,22.5,45,67.5';
         const args = [
           ...(isDefault ? [] : [`--angles ${anglesDeg.join(',')}`]), ...(plateKey ? [`--plate ${quote(nameOf(plateKey))}`] : []),
-          ...(options.plateBackground ? [`--plate-background ${[options.plateBackground.x, options.plateBackground.y, options.plateBackground.width, options.plateBackground.height].join(',')}`] : []),
+          ...(options.plateSampleFree ? [`--plate-sample-free ${rectText(options.plateSampleFree)}`] : []),
           ...trainArgs(options),
         ];
         const files = keys.map(nameOf);
-        cli = commandLine('quad', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
+        cli = commandLine('angle-series', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
         const all = plateKey ? [...keys, plateKey] : keys;
-        job = async (p) => { await ensure(all, p); return ctx.client.call('quad', { keys, plateKey, options: { ...options, profile: null } }, p); };
+        job = async (p) => { await ensure(all, p); return ctx.client.call('angleSeries', { keys, plateKey, options: { ...options, profile: null } }, p); };
         profile = {
-          commandLine: (req, walls) => commandLine('quad', files, [...args, ...channelArgs(req, walls)]),
+          commandLine: (req, walls) => commandLine('angle-series', files, [...args, ...channelArgs(req, walls)]),
           run: async (req, p) => {
             await ensure(all, p);
-            const r = await ctx.client.call('quad', { keys, plateKey, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
+            const r = await ctx.client.call('angleSeries', { keys, plateKey, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
             return r.result.profile!;
           },
         };
       }
     } catch (e) { setFormError((e as Error).message); return; }
-    const what = kind === 'plate' ? 'Compensator reading' : kind === 'plate2' ? 'Two-image reading' : 'Angle-series reading';
+    const what = READING_NAMES[kind][0].toUpperCase() + READING_NAMES[kind].slice(1);
     const reply = await ctx.runJob(what, job);
     if (!reply) return;
     // The answer (or "not determined" and what to do) comes into view, also on a short screen.
@@ -284,7 +278,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     const imageId = active.id;
     onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm, form: s });
     onField({
-      imageId, label: kind === 'plate' ? 'compensator colour' : kind === 'plate2' ? 'two compensator images' : 'crossed polars, several angles',
+      imageId, label: READING_NAMES[kind],
       viewKey, colour: layerOf(reply.colour), confidence: null, retardance: null, retardanceRangeNm: reply.retardanceRangeNm, glyphs: null, profile,
     });
   }
@@ -349,9 +343,9 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
   return (
     <div className="optical">
       <fieldset className="choice" aria-label="Which reading">
-        <label><input type="radio" name="reading" checked={kind === 'plate'} onChange={() => setKind('plate')} /> one compensator image</label>
-        <label><input type="radio" name="reading" checked={kind === 'plate2'} onChange={() => setKind('plate2')} /> two compensator images, optics turned 45°</label>
-        <label><input type="radio" name="reading" checked={kind === 'quad'} onChange={() => setKind('quad')} /> crossed polars at several angles</label>
+        <label><input type="radio" name="reading" checked={kind === 'plate'} onChange={() => setKind('plate')} /> plate reading: one compensator image</label>
+        <label><input type="radio" name="reading" checked={kind === 'plate-pair'} onChange={() => setKind('plate-pair')} /> plate pair: two compensator images, optics turned 45°</label>
+        <label><input type="radio" name="reading" checked={kind === 'angle-series'} onChange={() => setKind('angle-series')} /> angle series: crossed polarisers at 3 or more angles</label>
       </fieldset>
 
       {kind === 'plate' && (
@@ -359,7 +353,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           <p className={missing || never ? 'note warn' : 'note'} data-testid="one-image-status">
             {never
               ? <><strong>One image does not give S</strong> (it is shown as “not determined”): {headline(never)}. It gives the orientation map and the
-                retardance. For S, read two images with the optics turned 45° <button className="small" data-testid="switch-plate2" onClick={() => applyRemedy('plate2')}>Use two images</button></>
+                retardance. For S, read a plate pair (a second image with the optics turned 45°) <button className="small" data-testid="switch-plate2" onClick={() => applyRemedy('platePair')}>Use a plate pair</button></>
               : missing
                 ? <><strong>S will be “not determined”</strong> until one image has all it needs:</>
                 : <><strong>One image can give S</strong> with these settings, if the channel lies along or across the compensator.</>}
@@ -384,7 +378,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
             on a sample-free area. One image also cannot tell a direction from its mirror image about the compensator's slow axis
             (now {f(compDeg)}°): both give the same colour. Lay the channel or fibre axis along that slow axis (or across it): a rod and its
             mirror image then give the same S. Even so, tested on independent renderings, one image did not read S within 0.03, so it
-            shows no S; a second image with the optics turned by 45° (two-image reading) does.
+            shows no S; a plate pair (a second image with the optics turned by 45°) does.
           </details>
           {gap !== null && gap > ONE_IMAGE_AXIS_TOLERANCE_DEG && (
             <p className="note warn">Your reference axis ({f(axis)}°) is {f(gap)}° from the compensator's slow axis (or its normal): one image
@@ -392,11 +386,11 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           )}
         </div>
       )}
-      {kind === 'quad' && (
-        <p className="note">Crossed polars alone give the orientation only up to 90°: a compensator image (optional below) decides which of the two it is.</p>
+      {kind === 'angle-series' && (
+        <p className="note">Crossed polarisers alone give the orientation only up to 90°: a compensator image (optional below) decides which of the two it is.</p>
       )}
 
-      {kind === 'plate2' && (
+      {kind === 'plate-pair' && (
         <>
           <p className="note">This image ({active?.name}) is the first; choose the one taken with the polariser, compensator and analyser turned together by 45° (if the stage was turned instead, the picture turned too: turn it back first).</p>
           {imageSelect('Second image', imageB, (v) => set({ imageB: v }), others, others.length ? 'choose…' : 'add the second image first', 'plate2-image-b', inputs.imageB)}
@@ -404,7 +398,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           {backgroundField}
         </>
       )}
-      {kind === 'quad' && (
+      {kind === 'angle-series' && (
         <>
           {s.quadAngles.map((a, k) => (
             <div className="quad-row" key={k}>
@@ -424,7 +418,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
 
       <details className="settings">
         <summary>Optical train and reading settings</summary>
-        {field('Compensator retardance', 'compensatorNm', 'nm', kind === 'quad' ? '550' : 'fit from the sample-free area, else 550')}
+        {field('Compensator retardance', 'compensatorNm', 'nm', kind === 'angle-series' ? '550' : 'fit from the sample-free area, else 550')}
         {field('Compensator slow axis', 'compensatorDeg', 'deg')}
         {field('Polariser', 'polariserDeg', 'deg')}
         <label className="field">
@@ -434,8 +428,8 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           </select>
           <span />
         </label>
-        {kind !== 'quad' && field('Largest retardance', 'retardanceMaxNm', 'nm')}
-        {kind !== 'quad' && (
+        {kind !== 'angle-series' && field('Largest retardance', 'retardanceMaxNm', 'nm')}
+        {kind !== 'angle-series' && (
           <label className="field"><span>Birefringence</span>
             <select value={s.sign} onChange={(e) => set({ sign: e.target.value as Settings['sign'] })}>
               <option value="positive">positive (length-slow)</option><option value="negative">negative (length-fast)</option>
@@ -465,7 +459,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
 function OpticsTable({ r, rangeNm, onRemedy }: { r: OpticsResult; rangeNm: [number, number] | null; onRemedy?: (remedy: Remedy) => void }) {
   const c = r.confidence;
   const withheld = r.notDetermined?.order;
-  const x = r.extra as Record<string, unknown>;
+  const x = r.reading;
   const reg = x.registration as { shiftPx?: number; dxPx?: number; dyPx?: number } | undefined;
   const cal = (x.calibration ?? x.calibrationA) as { compensatorNm?: number; fitted?: unknown } | null | undefined;
   return (
@@ -479,8 +473,8 @@ function OpticsTable({ r, rangeNm, onRemedy }: { r: OpticsResult; rangeNm: [numb
             <WithheldRemedies why={withheld} onRemedy={onRemedy} />
           </> : <>
             <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="optics-director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
-            <tr><th scope="row">Order S_2D</th><td data-testid="optics-order2d">{f(r.order2D)}</td><td>95 %: {f(r.order2DCi[0])} – {f(r.order2DCi[1])}</td></tr>
-            {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="optics-axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? `${f(r.axisOrderCi[0])} – ${f(r.axisOrderCi[1])}` : '–'}</td></tr>}
+            <tr><th scope="row">Order S_2D</th><td data-testid="optics-order2d">{f(r.order2D)}</td><td>95 %: {f(r.order2DCiLow)} – {f(r.order2DCiHigh)}</td></tr>
+            {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="optics-axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCiLow !== null ? `${f(r.axisOrderCiLow)} – ${f(r.axisOrderCiHigh)}` : '–'}</td></tr>}
           </>}
           {r.retardanceNmMedian !== null
             ? <tr><th scope="row">Retardance</th><td data-testid="optics-retardance">{f(r.retardanceNmMedian)}</td><td>nm, median of the confident pixels</td></tr>
@@ -499,7 +493,7 @@ function OpticsTable({ r, rangeNm, onRemedy }: { r: OpticsResult; rangeNm: [numb
       {typeof x.advice === 'string' && !r.warnings.includes(x.advice) && <p className="note">{x.advice}</p>}
       <p className="note">Map colours are at full strength on every usable pixel; “confidence” above the image shows how well each pixel's colour matched.</p>
       <div className="legends">
-        <LegendWheel size={110} faint={null} />
+        <ColourKey size={110} faint={null} />
         {rangeNm && <RetardanceBar rangeNm={rangeNm} />}
       </div>
       {r.warnings.length > 0 && <ul className="warnings" data-testid="optics-warnings">{r.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}

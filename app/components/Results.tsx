@@ -14,8 +14,8 @@ export function OrientTable({ r, stale }: { r: OrientResult; stale: boolean }) {
       <table className="results" data-testid="orient-results">
         <tbody>
           <tr><th scope="row">Director</th><Undetermined why={r.notDetermined?.directorDeg} testId="director">{f(r.directorDeg)}</Undetermined>{!r.notDetermined?.directorDeg && <td>deg, CCW from +x</td>}</tr>
-          <tr><th scope="row">Order S_2D</th><Undetermined why={r.notDetermined?.order2D} testId="order2d">{f(r.order2D)}</Undetermined>{!r.notDetermined?.order2D && <td>95 %: {ci(r.order2DCi[0], r.order2DCi[1])}</td>}</tr>
-          {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCi ? ci(r.axisOrderCi[0], r.axisOrderCi[1]) : '–'}</td></tr>}
+          <tr><th scope="row">Order S_2D</th><Undetermined why={r.notDetermined?.order2D} testId="order2d">{f(r.order2D)}</Undetermined>{!r.notDetermined?.order2D && <td>95 %: {ci(r.order2DCiLow, r.order2DCiHigh)}</td>}</tr>
+          {r.axisDeg !== null && <tr><th scope="row">S_axis at {f(r.axisDeg)}°</th><td data-testid="axis-order">{f(r.axisOrder)}</td><td>95 %: {r.axisOrderCiLow !== null && r.axisOrderCiHigh !== null ? ci(r.axisOrderCiLow, r.axisOrderCiHigh) : '–'}</td></tr>}
           <tr><th scope="row">Mean coherency</th><td data-testid="coherency">{f(r.coherencyMean)}</td><td>0 = no texture, 1 = straight lines</td></tr>
           <tr><th scope="row">Pixels used</th><td data-testid="n">{f(r.n)}</td><td>{f(r.blocks)} blocks for the interval; weights: {String(r.options.weighting)}</td></tr>
           <tr><th scope="row">Isotropic bias</th><td>{f(r.isotropicBias)}</td><td>S_2D expected from noise alone</td></tr>
@@ -45,14 +45,14 @@ export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: 
       <table className="results" data-testid="profile-results">
         <tbody>
           {withheld ? <>
-            <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><WithheldCell testId="core" /><WithheldWhy why={withheld} rows={3} testId="profile-not-determined" /></tr>
-            <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><WithheldCell testId="skin" /></tr>
+            <tr><th scope="row">Core S (position |s| &lt; {String(r.options.coreMax)})</th><WithheldCell testId="core" /><WithheldWhy why={withheld} rows={3} testId="profile-not-determined" /></tr>
+            <tr><th scope="row">Skin S (position |s| &gt; {String(r.options.skinMin)})</th><WithheldCell testId="skin" /></tr>
             <tr><th scope="row">Core / skin</th><WithheldCell testId="ratio" /></tr>
             <WithheldRemedies why={withheld} onRemedy={onRemedy} />
           </> : <>
-            <tr><th scope="row">Core S (|s| &lt; {String(r.options.coreMax)})</th><Undetermined why={clippedWhy(r.core.order)} testId="core">{f(r.core.order)}</Undetermined>{given(r.core.order) && <td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td>}</tr>
-            <tr><th scope="row">Skin S (|s| &gt; {String(r.options.skinMin)})</th><Undetermined why={clippedWhy(r.skin.order)} testId="skin">{f(r.skin.order)}</Undetermined>{given(r.skin.order) && <td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td>}</tr>
-            <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio ?? (given(r.core.order) && given(r.skin.order) ? undefined : clippedWhy(NaN))} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{given(r.coreSkinRatio) && <td>95 %: {ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])}</td>}</tr>
+            <tr><th scope="row">Core S (position |s| &lt; {String(r.options.coreMax)})</th><Undetermined why={clippedWhy(r.core.order)} testId="core">{f(r.core.order)}</Undetermined>{given(r.core.order) && <td>95 %: {ci(r.core.ciLow, r.core.ciHigh)}, n {f(r.core.n)}</td>}</tr>
+            <tr><th scope="row">Skin S (position |s| &gt; {String(r.options.skinMin)})</th><Undetermined why={clippedWhy(r.skin.order)} testId="skin">{f(r.skin.order)}</Undetermined>{given(r.skin.order) && <td>95 %: {ci(r.skin.ciLow, r.skin.ciHigh)}, n {f(r.skin.n)}</td>}</tr>
+            <tr><th scope="row">Core / skin</th><Undetermined why={r.notDetermined?.coreSkinRatio ?? (given(r.core.order) && given(r.skin.order) ? undefined : clippedWhy(NaN))} testId="ratio">{f(r.coreSkinRatio)}</Undetermined>{given(r.coreSkinRatio) && <td>95 %: {ci(r.coreSkinRatioCiLow, r.coreSkinRatioCiHigh)}</td>}</tr>
           </>}
           <tr><th scope="row">Reference axis</th><td>{f(r.axisDeg)}</td><td>deg; channel axis {f(r.channelAxisDeg)}, taper {f(r.taperDeg)}</td></tr>
           <tr><th scope="row">Walls</th><td colSpan={2}>{r.wallsFound ? 'found in the image' : 'drawn by hand'}</td></tr>
@@ -68,7 +68,7 @@ export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: 
       <details>
         <summary>S in each bin ({r.bins.length})</summary>
         <table className="results compact">
-          <thead><tr><th>s</th><th>S_axis</th><th>95 % low</th><th>95 % high</th><th>n</th><th>director deg</th></tr></thead>
+          <thead><tr><th>position s</th><th>S_axis</th><th>95 % low</th><th>95 % high</th><th>n</th><th>director deg</th></tr></thead>
           <tbody>{r.bins.map((b) => <tr key={b.s}><td>{f(b.s)}</td><td>{g(b.order)}</td><td>{withheld ? '' : f(b.ciLow)}</td><td>{withheld ? '' : f(b.ciHigh)}</td><td>{f(b.n)}</td><td>{g(b.directorDeg)}</td></tr>)}</tbody>
         </table>
       </details>

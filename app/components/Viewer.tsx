@@ -11,7 +11,7 @@ import type { Glyph } from '../worker/protocol.ts';
 import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
 import { STATION_COLOUR, type StationDrawing } from './stationMarks.ts';
 import { rectBetween, type RectRequest, type ViewerBox } from './imageRectangles.ts';
-import type { Rect } from '../../src/optics/index.ts';
+import type { Rect } from '../../src/common/index.ts';
 
 /**
  * A picture to draw: `levels[0]` at full picture size, each further level half the one before (so

@@ -8,11 +8,10 @@ import type { FibreNumbersRequest, PlateOptions, PlateReadingOptions, TrainOptio
 /** The one-image reading's known sample retardance (src/analyses KnownRetardanceOptions). */
 export type KnownRetardance = Pick<PlateOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'>;
 import type { ProfileRequest } from '../../src/analyses/index.ts';
-import type { Rect } from '../../src/optics/index.ts';
+import { rectText } from '../../src/common/index.ts';
 
 /** A file name as a shell word. */
 export const quote = (s: string) => (/^[\w.\-/]+$/.test(s) ? s : `"${s.replace(/"/g, '\\"')}"`);
-const rect = (r: Rect) => `${r.x},${r.y},${r.width},${r.height}`;
 const opt = (name: string, v: number | string | undefined | null) => (v === undefined || v === null || v === '' ? [] : [`--${name} ${typeof v === 'string' ? quote(v) : v}`]);
 
 /** The train options; values equal to the command line's defaults (polariser 0, compensator at +45 from it, 3200 K) are left out. */
@@ -27,7 +26,7 @@ export function trainArgs(o: TrainOptions): string[] {
 export function plateReadingArgs(o: PlateReadingOptions): string[] {
   return [
     ...trainArgs(o), ...(o.retardanceMaxNm !== undefined && o.retardanceMaxNm !== 800 ? opt('retardance-max-nm', o.retardanceMaxNm) : []),
-    ...(o.background ? [`--background ${rect(o.background)}`] : []),
+    ...(o.sampleFree ? [`--sample-free ${rectText(o.sampleFree)}`] : []),
     ...(o.whiteRgb ? [`--white-rgb ${o.whiteRgb.join(',')}`] : []), ...(o.sign && o.sign !== 'positive' ? [`--sign ${o.sign}`] : []),
   ];
 }

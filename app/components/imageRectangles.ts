@@ -2,10 +2,10 @@
  * Rectangles on the image: a panel asks the viewer for one (the user drags it, Esc cancels) and shows the
  * rectangles its form holds (e.g. the sample-free area of a compensator reading). The page holds this state
  * between the panels and the viewer; rectangles are in image pixels, `x,y` the top-left pixel, as the
- * command line's `--background x,y,w,h` takes them.
+ * command line's `--sample-free x,y,w,h` takes them (src/common Rect).
  */
 import { useCallback, useMemo, useRef, useState } from 'react';
-import type { Rect } from '../../src/optics/index.ts';
+import type { Rect } from '../../src/common/index.ts';
 
 /** A rectangle being drawn: what to tell the user, and where the answer goes (null when cancelled). */
 export interface RectRequest { hint: string; done(r: Rect | null): void }
@@ -25,8 +25,6 @@ export function rectBetween(a: { x: number; y: number }, b: { x: number; y: numb
   return x1 - x0 >= minSide && y1 - y0 >= minSide ? { x: x0, y: y0, width: x1 - x0, height: y1 - y0 } : null;
 }
 
-/** The rectangle as the form and the command line write it: "x,y,w,h". */
-export const rectText = (r: Rect) => `${r.x},${r.y},${r.width},${r.height}`;
 
 export function useImageRectangles() {
   const [request, setRequest] = useState<RectRequest | null>(null);

@@ -4,7 +4,7 @@
  * lines and the calibration state; the applied set-up; and the note on what the numbers are.
  * Pure, so the content is unit-tested; ReportView only lays it out.
  */
-import type { OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import { READING_NAMES, type OpticsResult, type OrientResult, type ProfileResult, type ReadingKind } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { SessionRecord, StoredDiameterRun, StoredOptics } from '../storage/records.ts';
 import { setupCommandOptions, setupSummary } from '../setups/setup.ts';
@@ -55,10 +55,10 @@ const withheld = (n: ReportNumber, why: string | undefined): ReportNumber => (wh
 function orderNumbers(r: OrientResult | OpticsResult): ReportNumber[] {
   const all = r.notDetermined?.order;
   const numbers: ReportNumber[] = [
-    withheld({ label: 'Order S_2D', value: num(r.order2D), ci: [r.order2DCi[0], r.order2DCi[1]], n: r.n, unit: '' }, all),
+    withheld({ label: 'Order S_2D', value: num(r.order2D), ci: [r.order2DCiLow, r.order2DCiHigh], n: r.n, unit: '' }, all),
     withheld({ label: 'Director', value: num(r.directorDeg), ci: null, n: r.n, unit: 'deg CCW from +x' }, all ?? r.notDetermined?.directorDeg),
   ];
-  if (r.axisDeg !== null) numbers.push(withheld({ label: `S_axis against ${r.axisDeg}°`, value: num(r.axisOrder), ci: r.axisOrderCi, n: r.n, unit: '' }, all));
+  if (r.axisDeg !== null) numbers.push(withheld({ label: `S_axis against ${r.axisDeg}°`, value: num(r.axisOrder), ci: r.axisOrderCiLow !== null && r.axisOrderCiHigh !== null ? [r.axisOrderCiLow, r.axisOrderCiHigh] : null, n: r.n, unit: '' }, all));
   return numbers;
 }
 
@@ -79,11 +79,11 @@ function profileSection(r: ProfileResult, name: string): ReportImage['sections']
   const texture = r.fieldMethod === 'texture';
   const all = r.notDetermined?.order;
   return {
-    title: `Across the channel (${texture ? 'structure tensor' : `${r.fieldMethod} reading`})`,
+    title: `Across the channel (${texture ? 'structure tensor' : READING_NAMES[r.fieldMethod as ReadingKind] ?? r.fieldMethod})`,
     numbers: [
       withheld({ label: `Core S (|s| < ${o.coreMax})`, value: num(r.core.order), ci: [r.core.ciLow, r.core.ciHigh], n: r.core.n, unit: '' }, all),
       withheld({ label: `Skin S (|s| > ${o.skinMin})`, value: num(r.skin.order), ci: [r.skin.ciLow, r.skin.ciHigh], n: r.skin.n, unit: '' }, all),
-      withheld({ label: 'Core / skin', value: num(r.coreSkinRatio), ci: [r.coreSkinRatioCi[0], r.coreSkinRatioCi[1]], n: null, unit: '' }, all ?? r.notDetermined?.coreSkinRatio),
+      withheld({ label: 'Core / skin', value: num(r.coreSkinRatio), ci: [r.coreSkinRatioCiLow, r.coreSkinRatioCiHigh], n: null, unit: '' }, all ?? r.notDetermined?.coreSkinRatio),
       { label: 'Reference axis', value: num(r.axisDeg), ci: null, n: null, unit: 'deg' },
     ],
     settings: [
@@ -99,7 +99,7 @@ function profileSection(r: ProfileResult, name: string): ReportImage['sections']
 }
 
 const OPTICS_TITLES: Record<StoredOptics['kind'], string> = {
-  plate: 'One compensator image', plate2: 'Two compensator images, optics turned 45°', quad: 'Crossed polars at several angles',
+  plate: 'Plate reading: one compensator image', 'plate-pair': 'Plate pair: two compensator images, optics turned 45°', 'angle-series': 'Angle series: crossed polarisers at several angles',
 };
 
 function opticsSection(o: StoredOptics): ReportImage['sections'][number] {
@@ -110,7 +110,7 @@ function opticsSection(o: StoredOptics): ReportImage['sections'][number] {
       ...orderNumbers(r),
       ...(r.retardanceNmMedian !== null ? [{ label: 'Retardance (median)', value: num(r.retardanceNmMedian), ci: null, n: r.n, unit: 'nm' }] : []),
     ],
-    settings: [`pixel weights: ${String(r.options.weighting ?? 'none')}`, ...(typeof r.extra.mirrorAssumption === 'string' ? [`assumed: ${r.extra.mirrorAssumption}`] : [])],
+    settings: [`pixel weights: ${String(r.options.weighting ?? 'none')}`, ...(typeof r.reading.mirrorAssumption === 'string' ? [`assumed: ${r.reading.mirrorAssumption}`] : [])],
     commandLine: o.commandLine,
     warnings: r.warnings,
   };

@@ -1,7 +1,7 @@
 /**
  * The current view as a PNG picture: the image with the shown overlay (orientation colours or
  * coherency), the channel walls, the profile's station lines and numbers as the viewer draws them, a scale bar (um when calibrated, px otherwise) and, with
- * orientation colours, the legend wheel. Composed on a canvas at the picture's own resolution and
+ * orientation colours, the colour key. Composed on a canvas at the picture's own resolution and
  * encoded with canvas.toBlob.
  */
 import type { Segment } from '../../src/channel/index.ts';
@@ -26,8 +26,8 @@ export interface ViewPictureInput {
   caption: string;
 }
 
-/** Draws the orientation legend: a ring coloured by axial angle (0 deg = 180 deg), ticks and labels. */
-export function drawLegendWheel(g: CanvasRenderingContext2D, cx: number, cy: number, radius: number): void {
+/** Draws the colour key of the orientation colours: a ring coloured by axial angle (0 deg = 180 deg), ticks and labels. */
+export function drawColourKey(g: CanvasRenderingContext2D, cx: number, cy: number, radius: number): void {
   const table = orientationColourTable();
   const rIn = radius * 0.55, steps = 360;
   for (let i = 0; i < steps; i++) {
@@ -121,7 +121,7 @@ export async function viewPicturePng(v: ViewPictureInput): Promise<Blob> {
     const r = Math.max(20, Math.min(pw, ph) * 0.06), side = 4.4 * r, x0 = pw - side - 0.2 * r, y0 = 0.2 * r;
     g.fillStyle = 'rgba(0,0,0,0.6)';
     g.fillRect(x0, y0, side, side);
-    drawLegendWheel(g, x0 + side / 2, y0 + side / 2, r);
+    drawColourKey(g, x0 + side / 2, y0 + side / 2, r);
   }
   g.fillStyle = '#1f2328';
   g.font = `${Math.round(captionH * 0.5)}px system-ui, sans-serif`;

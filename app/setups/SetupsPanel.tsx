@@ -145,7 +145,7 @@ export function SetupsPanel(p: Props) {
               <span>Lamp</span>
               <input list="lamp-kinds" aria-label="Lamp" value={t.illuminant} onChange={(e) => edit((d) => { d.train.illuminant = e.target.value; })} />
               <span className="unit">K, D65 or A</span>
-              <datalist id="lamp-kinds"><option value="3200K">halogen, 3200 K</option><option value="D65">daylight D65</option><option value="A">tungsten, CIE A</option><option value="5600K">LED / daylight-balanced</option></datalist>
+              <datalist id="lamp-kinds"><option value="3200K">halogen, 3200 K</option><option value="D65">daylight D65</option><option value="A">tungsten, CIE A</option><option value="5600K">5600 K blackbody (daylight-balanced; a white LED's spectrum differs)</option></datalist>
             </label>
             <p className="note">Angles counter-clockwise from the image's +x axis (to the right) as shown on screen.</p>
           </fieldset>

@@ -93,7 +93,7 @@ export function setupProblems(s: SetupRecord): string[] {
 
 /**
  * Command-line options that describe this set-up: `train` for the colour readers (retarda plate,
- * plate2: --polariser-deg, --compensator-nm, --compensator-deg, --illuminant, --sign) and `lengths`
+ * plate-pair: --polariser-deg, --compensator-nm, --compensator-deg, --illuminant, --sign) and `lengths`
  * for measured lengths (retarda diameter: --um-per-px). The command line assumes crossed polars.
  */
 export function setupCommandOptions(s: Pick<SetupRecord, 'train' | 'pixelSize' | 'sampleSign'>): { train: string[]; lengths: string[] } {

@@ -9,7 +9,7 @@
  * it saves; results of the analyses are kept whole. New optional fields are therefore added without bumping
  * the version (list them in the key sets below, and keep them JSON values or Blobs so backups carry them).
  */
-import type { MicrometerDocument, OpticsResult, OrientResult, ProfileResult } from '../../src/analyses/index.ts';
+import { upgradeCommandLine, upgradeResult, type ReadingKind, type MicrometerDocument, type OpticsResult, type OrientResult, type ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { Channel, Segment, WallFit } from '../../src/channel/index.ts';
 import { formerWeighting, TEXTURE_WEIGHTINGS, type Weighting } from '../../src/order/index.ts';
@@ -60,8 +60,8 @@ export interface ImageWork {
   micrometer?: StoredMicrometer | null;
 }
 
-/** Which optical reading made a result: the `retarda` subcommand of the same name. */
-export type OpticsKind = 'plate' | 'plate2' | 'quad';
+/** Which optical reading made a result: the `retarda` subcommand of the same name (README, "Glossary"). */
+export type OpticsKind = ReadingKind;
 
 /**
  * The optical panel's form as typed (text, blank = the command line's default), kept with the reading it made
@@ -197,11 +197,15 @@ function restoreChannel(v: unknown): Channel | null {
   return a && b ? withUnknown(v, CHANNEL_KEYS, { walls: [a, b] as [Segment, Segment] }) : null;
 }
 
+/** A stored result of `analysis`; one of an earlier result schema is read with today's names (upgradeResult). */
 function restoreResult<T>(v: unknown, analysis: string): T | null {
-  return isObj(v) && num(v.schemaVersion) && v.analysis === analysis ? (v as T) : null;
+  const d = upgradeResult(v);
+  return isObj(d) && num(d.schemaVersion) && d.analysis === analysis ? (d as T) : null;
 }
 
-const OPTICS_KINDS: readonly string[] = ['plate', 'plate2', 'quad'];
+const OPTICS_KINDS: readonly string[] = ['plate', 'plate-pair', 'angle-series'];
+/** Reading kinds as stored before result schema 2. */
+const FORMER_OPTICS_KINDS: Record<string, OpticsKind> = { plate2: 'plate-pair', quad: 'angle-series' };
 
 const strings4 = (v: unknown): string[] | null => (Array.isArray(v) && v.length === 4 && v.every((x) => typeof x === 'string') ? [...v] : null);
 
@@ -223,13 +227,15 @@ function restoreOpticalForm(v: unknown): OpticalForm | null {
 
 /** A stored optical reading: a known kind, a result of that analysis and its command line; an unreadable form is left out. */
 function restoreOptics(v: unknown): StoredOptics | null {
-  if (!isObj(v) || typeof v.kind !== 'string' || !OPTICS_KINDS.includes(v.kind) || typeof v.commandLine !== 'string') return null;
-  const result = restoreResult<OpticsResult>(v.result, v.kind);
+  if (!isObj(v) || typeof v.kind !== 'string' || typeof v.commandLine !== 'string') return null;
+  const kind = FORMER_OPTICS_KINDS[v.kind] ?? v.kind;
+  if (!OPTICS_KINDS.includes(kind)) return null;
+  const result = restoreResult<OpticsResult>(v.result, kind);
   if (!result) return null;
   const r = v.rangeNm;
   const rangeNm = Array.isArray(r) && r.length === 2 && r.every(num) ? [r[0] as number, r[1] as number] as [number, number] : null;
   const form = v.form == null ? null : restoreOpticalForm(v.form);
-  return withUnknown(v, OPTICS_KEYS, { kind: v.kind as OpticsKind, result, commandLine: v.commandLine, rangeNm, ...(form ? { form } : {}) });
+  return withUnknown(v, OPTICS_KEYS, { kind: kind as OpticsKind, result, commandLine: upgradeCommandLine(v.commandLine), rangeNm, ...(form ? { form } : {}) });
 }
 
 /** How a stored diameter result was made: the form (all text, a known polarity) and its command line. */
@@ -239,7 +245,7 @@ function restoreDiameterRun(v: unknown): StoredDiameterRun | null {
   if (![f.umPerPx, f.stepPx, f.averagePx, f.backgroundDegree].every((x) => typeof x === 'string')) return null;
   if (f.polarity !== 'auto' && f.polarity !== 'dark' && f.polarity !== 'bright') return null;
   return withUnknown<StoredDiameterRun>(v, DIAMETER_RUN_KEYS, {
-    commandLine: v.commandLine, ...(typeof v.pixelSizeFrom === 'string' ? { pixelSizeFrom: v.pixelSizeFrom } : {}),
+    commandLine: upgradeCommandLine(v.commandLine), ...(typeof v.pixelSizeFrom === 'string' ? { pixelSizeFrom: v.pixelSizeFrom } : {}),
     form: withUnknown<DiameterForm>(f, DIAMETER_FORM_KEYS, { umPerPx: f.umPerPx as string, stepPx: f.stepPx as string, averagePx: f.averagePx as string, polarity: f.polarity, backgroundDegree: f.backgroundDegree as string }),
   });
 }

@@ -5,7 +5,7 @@
  */
 /// <reference lib="webworker" />
 import {
-  analyseOrientation, analyseProfile, analysePlate, analysePlateProfile, analysePlatePair, analyseFourAngle, analyseDiameter, analyseMicrometer,
+  analyseOrientation, analyseProfile, analysePlate, analysePlateProfile, analysePlatePair, analyseAngleSeries, analyseDiameter, analyseMicrometer,
   fibreNumbersResult, readPlateField, type OrientOptions, type OpticsAnalysis,
 } from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
@@ -56,7 +56,7 @@ function framePixels(frame: VideoFrame | ImageBitmap, plan: ReadoutPlan): Uint8C
     if (c.width !== width || c.height !== height) { c.width = width; c.height = height; }
     const g = c.getContext('2d', { willReadFrequently: true })!;
     g.imageSmoothingQuality = 'medium';
-    g.drawImage(frame, s.x, s.y, s.w, s.h, 0, 0, width, height);
+    g.drawImage(frame, s.x, s.y, s.width, s.height, 0, 0, width, height);
     return g.getImageData(0, 0, width, height).data;
   } finally {
     frame.close();
@@ -168,7 +168,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   async glyphs({ key, options }, progress) {
     const field = await textureField(key, options, progress);
     const timer = stepTimer();
-    progress('drawing the line glyphs', 0.8);
+    progress('drawing the direction lines', 0.8);
     const glyphs = fieldGlyphs(field);
     timer.lap('line glyphs');
     return { value: { glyphs, timesMs: timer.times }, transfer: [] };
@@ -193,14 +193,14 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     return opticsReply(key, await analysePlate(imageOf(key), options), progress);
   },
 
-  async plate2({ key, keyB, options }, progress) {
+  async platePair({ key, keyB, options }, progress) {
     progress('reading both compensator images', 0.1);
     return opticsReply(key, await analysePlatePair(imageOf(key), imageOf(keyB), options), progress);
   },
 
-  async quad({ keys, plateKey, options }, progress) {
+  async angleSeries({ keys, plateKey, options }, progress) {
     progress('fitting the angle series', 0.1);
-    const a = await analyseFourAngle(keys.map(imageOf), { ...options, plate: plateKey ? imageOf(plateKey) : undefined });
+    const a = await analyseAngleSeries(keys.map(imageOf), { ...options, plate: plateKey ? imageOf(plateKey) : undefined });
     return opticsReply(keys[0], a, progress);
   },
 
@@ -208,7 +208,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     const field = opticalFields.get(key);
     if (!field) throw Object.assign(new Error('the reading\'s field is no longer held (the analysis engine was restarted): run the reading again'), { name: 'FieldMissing' });
     const timer = stepTimer();
-    progress(`drawing the ${view === 'glyphs' ? 'line glyphs' : view}`, 0.5);
+    progress(`drawing the ${view === 'glyphs' ? 'direction lines' : view}`, 0.5);
     if (view === 'glyphs') {
       const glyphs = fieldGlyphs(field);
       timer.lap('line glyphs');

@@ -3,7 +3,7 @@
  * the worker answers with progress messages and then exactly one 'done' or 'error'.
  */
 import type {
-  OrientOptions, OrientResult, ProfileRequest, ProfileResult, PlateOptions, PlatePairAnalysisOptions, FourAngleAnalysisOptions,
+  OrientOptions, OrientResult, ProfileRequest, ProfileResult, PlateOptions, PlatePairAnalysisOptions, AngleSeriesAnalysisOptions,
   OpticsResult, DiameterAnalysisOptions, DiameterDocument, MicrometerAnalysisOptions, MicrometerDocument, FibreNumbersRequest,
   FibreNumbersResult, PlateReadingOptions,
 } from '../../src/analyses/index.ts';
@@ -20,7 +20,7 @@ export interface ImageRef { key: string }
  */
 export interface Picture { width: number; height: number; scale: number; levels: ImageBitmap[] }
 
-/** A short line glyph for the glyph view: centre in image pixels, angle CCW from +x, coherency. */
+/** One direction line of the direction-lines view: centre in image pixels, angle CCW from +x, coherency. */
 export interface Glyph { x: number; y: number; angleDeg: number; coherency: number }
 
 export interface DecodeSummary {
@@ -36,7 +36,7 @@ export type StepTimes = Record<string, number>;
 
 /**
  * The orientation analysis arrives in two parts: first the numbers (as soon as the order parameters are
- * done), then the colour picture. The coherency picture and the line glyphs are made only when asked for
+ * done), then the colour picture. The coherency picture and the direction lines are made only when asked for
  * (`coherencyPicture`, `glyphs`), from the texture field the worker keeps.
  */
 export interface OrientNumbers {
@@ -54,8 +54,8 @@ export interface OrientReply extends OrientNumbers {
 export interface FrameReply extends OrientNumbers { colour: Picture | null }
 
 /**
- * An optical reading (plate, plate pair, four-angle set) with the orientation picture of its field; its
- * confidence, retardance and line glyphs are made when first shown (`opticalView`).
+ * An optical reading (plate reading, plate pair, angle series) with the orientation picture of its field; its
+ * confidence, retardance and direction lines are made when first shown (`opticalView`).
  */
 export interface OpticsReply {
   result: OpticsResult;
@@ -77,7 +77,7 @@ export type ProfileSource =
   | { kind: 'plate'; options: PlateReadingOptions & Pick<PlateOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'> & { match?: MatchSpace } };
 
 /** Settings of an optical reading without the images (those are named by key). */
-export type FourAngleSettings = Omit<FourAngleAnalysisOptions, 'plate' | 'flatField' | 'dark'>;
+export type AngleSeriesSettings = Omit<AngleSeriesAnalysisOptions, 'plate' | 'flatField' | 'dark'>;
 
 export interface CommandTable {
   decode: { args: { key: string; name: string; bytes: ArrayBuffer; page?: number }; reply: DecodeSummary };
@@ -90,15 +90,15 @@ export interface CommandTable {
   orientFrame: { args: { frame: VideoFrame | ImageBitmap; plan: ReadoutPlan; options: OrientOptions; picture: boolean }; reply: FrameReply };
   /** Coherency as grey (black 0, white 1) of the texture field for these options (remade if the worker lost it). */
   coherencyPicture: { args: ImageRef & { options: OrientOptions }; reply: { picture: Picture; timesMs: StepTimes } };
-  /** Line glyphs of the texture field for these options. */
+  /** Direction lines of the texture field for these options. */
   glyphs: { args: ImageRef & { options: OrientOptions }; reply: { glyphs: Glyph[]; timesMs: StepTimes } };
   profile: { args: ImageRef & { texture: OrientOptions; request: ProfileRequest; source?: ProfileSource }; reply: ProfileResult };
   plate: { args: ImageRef & { options: PlateOptions }; reply: OpticsReply };
-  plate2: { args: ImageRef & { keyB: string; options: PlatePairAnalysisOptions }; reply: OpticsReply };
-  quad: { args: { keys: string[]; plateKey?: string; options: FourAngleSettings }; reply: OpticsReply };
+  platePair: { args: ImageRef & { keyB: string; options: PlatePairAnalysisOptions }; reply: OpticsReply };
+  angleSeries: { args: { keys: string[]; plateKey?: string; options: AngleSeriesSettings }; reply: OpticsReply };
   /**
    * A view of the last optical reading made with this image first: confidence as grey (black 0, white 1),
-   * retardance colours (retardanceColourTable over its range), or line glyphs.
+   * retardance colours (retardanceColourTable over its range), or direction lines.
    */
   opticalView: { args: ImageRef & { view: OpticalViewName }; reply: { picture: Picture | null; glyphs: Glyph[] | null; timesMs: StepTimes } };
   diameter: { args: ImageRef & { options: DiameterAnalysisOptions }; reply: DiameterDocument };

@@ -18,8 +18,8 @@ export interface DiameterAnalysisOptions {
   averagePx?: number;
   /** Fibre darker (dark) or brighter (bright) than the background; default auto. */
   polarity?: 'auto' | 'dark' | 'bright';
-  /** Degree of the illumination surface removed first, 0-4 (default 2). */
-  backgroundDegree?: number;
+  /** Shading: degree of the polynomial surface of the uneven lamp field removed first, 0-4 (default 2). */
+  shadingDegree?: number;
 }
 
 type Station = DiameterResult['stations'][number];
@@ -50,7 +50,7 @@ function documentFor(source: string, width: number, height: number, pixelSizeFro
       profileFit: f.profileFit, psfSigmaPx: f.psfSigmaPx, psfSigmaUPx: f.psfSigmaUPx, ...summaryJson(f),
       stations: f.stations.map(stationJson), droppedStations: f.droppedStations,
     })),
-    polarity: r.polarity, contrast: r.contrast, noiseSd: r.noiseSd, backgroundDegree: r.backgroundDegree,
+    polarity: r.polarity, contrast: r.contrast, noiseSd: r.noiseSd, shadingDegree: r.shadingDegree,
     ignoredObjects: r.ignoredObjects, options: r.options,
     interval: intervalText(r),
   };
@@ -94,7 +94,7 @@ export function analyseDiameter(img: Image, o: DiameterAnalysisOptions = {}): Di
   }
   const pixelSizeFrom = o.pixelSizeUmPerPx !== undefined ? 'option' : img.pixelSizeUmPerPx !== undefined ? 'file' : null;
   const r = measureFibreDiameters(toGrey(img), {
-    pixelSizeUmPerPx: pixelSize, pixelSizeUncertainty: pixelSize === undefined ? undefined : o.pixelSizeUncertainty, stepPx: o.stepPx, averageLengthPx: o.averagePx, polarity: p, backgroundDegree: o.backgroundDegree,
+    pixelSizeUmPerPx: pixelSize, pixelSizeUncertainty: pixelSize === undefined ? undefined : o.pixelSizeUncertainty, stepPx: o.stepPx, averageLengthPx: o.averagePx, polarity: p, shadingDegree: o.shadingDegree,
   });
   if (pixelSizeFrom === null) {
     r.warnings = r.warnings.map((w) => (w.startsWith('no pixel size')

@@ -14,7 +14,7 @@ export interface FibreNumbersRequest {
   densityGPerCm3: number;
   /** Measured linear density (for the packing fraction) in tex, dtex or denier. */
   linearDensity?: { value: number; unit: LinearDensityUnit };
-  /** Specific stress (tenacity) in N/tex, cN/dtex or gf/den; an alternative to strengthGPa. */
+  /** Tenacity (breaking force per linear density) in N/tex, cN/dtex or gf/den; an alternative to strengthGPa. */
   tenacity?: { value: number; unit: TenacityUnit };
   strengthGPa?: number;
   retardanceNm?: number;
@@ -47,7 +47,7 @@ const N_PER_TEX_FROM: Record<TenacityUnit, (v: number) => number> = { 'N/tex': (
 
 /**
  * Linear density of the solid round fibre (tex = area um2 x density g/cm3 x 1e-3), dtex and denier; the
- * packing fraction (measured / solid tex); tenacity <-> strength (GPa = N/tex x g/cm3); birefringence
+ * packing fraction (measured / solid tex); tenacity <-> tensile strength (GPa = N/tex x g/cm3); birefringence
  * (retardance / thickness) and the orientation factor (birefringence / intrinsic birefringence); 95 % intervals of
  * those whose inputs carry standard uncertainties (law of propagation, GUM). See fibreNumbers.
  * @throws InputError for a missing or non-positive diameter or density, an unknown unit, or both tenacity and strength

@@ -1,17 +1,19 @@
 /**
- * The optical readings (one compensator image, a pair turned by 45 deg, a four-angle crossed-polariser
- * set) as analyses: Image(s) + plain options -> the orientation field and a JSON-ready result like
- * `orient`'s, plus the median retardance, confidence statistics and the reader's ambiguity.
- * `retarda plate`, `plate2`, `quad` and the app's worker call exactly these.
+ * The optical readings as analyses (README, "Glossary"): the plate reading (one compensator image), the plate
+ * pair (two compensator images, the optics turned by 45 deg between them) and the angle series (crossed
+ * polarisers at several angles). Image(s) + plain options -> the orientation field and a JSON-ready result like
+ * `orient`'s, plus the median retardance, confidence statistics, the reader's ambiguity and how the reading was
+ * made (`reading`). `retarda plate`, `plate-pair`, `angle-series` and the app's worker call exactly these.
  */
 import { InputError } from '../common/errors.ts';
+import type { Rect } from '../common/index.ts';
 import { toGrey, type Image } from '../image/types.ts';
 import { orientationField, type OrientationField } from '../orientation/index.ts';
 import { orderParameters, type Weighting } from '../order/index.ts';
 import {
   readPlate, readPlatePair, fourAngleAnalysis, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
   compensatorAxisAdvice, resolveMirrorWithTexture,
-  type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type Rect as PixelRect, type PlateReading,
+  type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
 import { orientResult, type OrientResult } from './orient.ts';
 import { analyseProfile, type ProfileRequest, type ProfileResult } from './profile.ts';
@@ -34,8 +36,8 @@ export interface PlateReadingOptions extends TrainOptions {
   retardanceMaxNm?: number;
   /** Pixels read below this retardance are masked as sample-free (default 20 nm). */
   retardanceMinNm?: number;
-  /** Sample-free rectangle: fits compensator retardance, white balance and exposure. */
-  background?: PixelRect;
+  /** Sample-free area: fits compensator retardance, white balance and exposure. */
+  sampleFree?: Rect;
   /** White reference: 8-bit codes (as stored) of a sample-free area with parallel polars. */
   whiteRgb?: [number, number, number];
   /** Birefringence of the structure: positive (length-slow, default) or negative (length-fast). */
@@ -74,13 +76,13 @@ export interface PlatePairAnalysisOptions extends PlateReadingOptions, OpticsSum
   maxShiftPx?: number;
 }
 
-export interface FourAngleAnalysisOptions extends TrainOptions, OpticsSummaryOptions {
+export interface AngleSeriesAnalysisOptions extends TrainOptions, OpticsSummaryOptions {
   /** Angles of the crossed pair for the images, degrees (default 0, 22.5, 45, 67.5). */
   anglesDeg?: number[];
   /** Compensator image that decides the 90-deg choice (read with the train options). */
   plate?: Image;
-  /** Sample-free rectangle of the compensator image. */
-  plateBackground?: PixelRect;
+  /** Sample-free area of the compensator image. */
+  plateSampleFree?: Rect;
   flatField?: Image;
   dark?: Image;
   /** Mask pixels below this fraction of the 99th-percentile amplitude (default 0.02). */
@@ -98,14 +100,18 @@ export interface OpticsResult extends Omit<OrientResult, 'analysis'> {
   retardanceNmMedian: number | null;
   confidence: ConfidenceStats;
   ambiguity: OrientationField['ambiguity'];
-  /** Reader-specific facts (calibration, mirror assumption, registration, ...). */
-  extra: Record<string, unknown>;
+  /** How the reading was made: calibration, mirror assumption, registration, angles, medians of the fit. */
+  reading: Record<string, unknown>;
   profile: ProfileResult | null;
 }
 
 export interface OpticsAnalysis { result: OpticsResult; field: OrientationField }
 
 export const DEFAULT_ANGLES_DEG = [0, 22.5, 45, 67.5];
+
+/** The optical readings by their `analysis` (and field method) names, and what the app and reports call them (README, "Glossary"). */
+export const READING_NAMES = { plate: 'plate reading', 'plate-pair': 'plate pair', 'angle-series': 'angle series' } as const;
+export type ReadingKind = keyof typeof READING_NAMES;
 
 /** The train: polariser (default 0), crossed analyser, full-wave compensator (550 nm at polariser + 45 deg). */
 export function trainOf(o: TrainOptions): Partial<OpticalTrain> {
@@ -157,7 +163,7 @@ export function retardanceMedian(f: OrientationField): number | null {
 }
 
 /** The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. */
-export async function opticsResult(analysis: string, img: Image, field: OrientationField, o: OpticsSummaryOptions, extra: Record<string, unknown>): Promise<OpticsResult> {
+export async function opticsResult(analysis: string, img: Image, field: OrientationField, o: OpticsSummaryOptions, reading: Record<string, unknown>): Promise<OpticsResult> {
   const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx });
   const base = orientResult(img, field, s, {});
   const profile = o.profile ? await analyseProfile(img, field, o.profile, field.options) : null;
@@ -167,10 +173,10 @@ export async function opticsResult(analysis: string, img: Image, field: Orientat
   const constrained = field.options.sampleRetardanceNm !== undefined && field.options.sampleRetardanceNm !== null;
   const unsure = !constrained && confidence.fractionAbove05 !== null && confidence.fractionAbove05 < 0.2
     ? [`only ${(100 * confidence.fractionAbove05).toFixed(1)} % of pixels are read with confidence 0.5 or more: the colours fit several (angle, retardance) pairs, so these orientation numbers are not reliable. ${
-      field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate2)' : 'Check the calibration (--background) and the optical train'}`]
+      field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate-pair)' : 'Check the calibration (--background) and the optical train'}`]
     : [];
   return {
-    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence, ambiguity: field.ambiguity, extra, profile,
+    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence, ambiguity: field.ambiguity, reading, profile,
     warnings: [...base.warnings, ...unsure, ...(profile?.warnings ?? [])],
   };
 }
@@ -193,7 +199,7 @@ export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetarda
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
   return readPlate(img, {
     train: trainOf(o), retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, match, birefringenceSign: signOf(o.sign),
-    background: o.background, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
+    background: o.sampleFree, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
     sampleRetardanceNm: o.sampleRetardanceNm, sampleRetardanceToleranceNm: o.sampleRetardanceToleranceNm,
   });
 }
@@ -201,7 +207,7 @@ export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetarda
 /**
  * Orientation (up to the mirror about the compensator axis) and retardance from one full-wave-plate image.
  * With `axisDeg` away from the compensator axis, the advice to align the channel with the slow axis is
- * added to the warnings and `extra.mirrorChoiceMatteredFraction` says for how many pixels the choice mattered.
+ * added to the warnings and `reading.mirrorChoiceMatteredFraction` says for how many pixels the choice mattered.
  */
 export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<OpticsAnalysis> {
   const reading = readPlateField(img, o);
@@ -216,7 +222,7 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
   const compDeg = trainOf(o).compensator!.axisDeg;
   const advice = compensatorAxisAdvice(o.axisDeg ?? compDeg, compDeg);
   const mirror = o.axisDeg !== undefined ? mirrorChoiceStats(field, o.axisDeg) : null;
-  if (o.axisDeg !== undefined && !advice.exact && field.ambiguity !== 'none') field.warnings.push(advice.text);
+  if (o.axisDeg !== undefined && !advice.mirrorFree && field.ambiguity !== 'none') field.warnings.push(advice.text);
   const result = await opticsResult('plate', img, field, o, {
     calibration: calibrationJson(reading.calibration), mirrorAssumption: field.options.mirrorAssumption,
     mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
@@ -254,7 +260,7 @@ export const ONE_IMAGE_MIN_RETARDANCE_NM = 100;
  * (rods near the compensator axis, the usual case in a channel laid along it) the angle is least determined.
  * The two-image reading met 0.03 on the same renderings.
  */
-export const ONE_IMAGE_MEASURED = 'one image read S 0.11-0.6 off per bin on independent test renderings with everything it needs given (sample retardance 80-500 nm, within 0.03 only near 250 nm), so it gives no S: take the second image with polariser, compensator and analyser turned together by 45 deg (plate2)';
+export const ONE_IMAGE_MEASURED = 'one image read S 0.11-0.6 off per bin on independent test renderings with everything it needs given (sample retardance 80-500 nm, within 0.03 only near 250 nm), so it gives no S: take the second image with polariser, compensator and analyser turned together by 45 deg (plate-pair)';
 
 /**
  * Largest angle between the reference axis and the compensator axis (or its normal) for a one-image S, deg.
@@ -272,20 +278,20 @@ export const ONE_IMAGE_AXIS_TOLERANCE_DEG = 2;
  */
 export function oneImageGaps(o: PlateReadingOptions & KnownRetardanceOptions, compensatorDeg: number, field: OrientationField, axis: number | null, channel: boolean): string[] {
   const gaps: string[] = [];
-  if (o.background === undefined && !(o.compensatorNm !== undefined && o.whiteRgb !== undefined)) {
-    gaps.push('no sample-free area: the compensator, exposure and white balance are not calibrated; draw the sample-free rectangle on the image (--background x,y,w,h)');
+  if (o.sampleFree === undefined && !(o.compensatorNm !== undefined && o.whiteRgb !== undefined)) {
+    gaps.push('no sample-free area: the compensator, exposure and white balance are not calibrated; draw the sample-free area on the image (--sample-free x,y,w,h)');
   }
   if (o.sampleRetardanceNm === undefined) {
-    gaps.push('the sample retardance is not known, so each colour fits many (angle, retardance) pairs; enter the sample retardance (--sample-retardance-nm, thickness x birefringence) or add the second image turned by 45 deg (plate2)');
+    gaps.push('the sample retardance is not known, so each colour fits many (angle, retardance) pairs; enter the sample retardance (--sample-retardance-nm, thickness x birefringence) or add the second image turned by 45 deg (plate-pair)');
   } else if (o.sampleRetardanceNm < ONE_IMAGE_MIN_RETARDANCE_NM) {
-    gaps.push(`the sample retardance (${o.sampleRetardanceNm} nm) is below ${ONE_IMAGE_MIN_RETARDANCE_NM} nm, where one image's colours change too little with the angle to read S within 0.03; add the second image turned by 45 deg (plate2)`);
+    gaps.push(`the sample retardance (${o.sampleRetardanceNm} nm) is below ${ONE_IMAGE_MIN_RETARDANCE_NM} nm, where one image's colours change too little with the angle to read S within 0.03; add the second image turned by 45 deg (plate-pair)`);
   }
   if (field.ambiguity === 'mirror-about-compensator') {
     const p = channel;
     if (axis !== null) {
       const advice = compensatorAxisAdvice(axis, compensatorDeg, ONE_IMAGE_AXIS_TOLERANCE_DEG);
       if (advice.offsetDeg > ONE_IMAGE_AXIS_TOLERANCE_DEG) {
-        gaps.push(`the ${p ? 'channel ' : ''}axis (${axis.toFixed(0)} deg) is ${advice.offsetDeg.toFixed(0)} deg from the compensator's slow axis, and one image cannot tell a rod from its mirror image about that axis; turn the sample so the ${p ? 'channel' : 'structure'} lies along (or across) the slow axis, or add the second image turned by 45 deg (plate2)`);
+        gaps.push(`the ${p ? 'channel ' : ''}axis (${axis.toFixed(0)} deg) is ${advice.offsetDeg.toFixed(0)} deg from the compensator's slow axis, and one image cannot tell a rod from its mirror image about that axis; turn the sample so the ${p ? 'channel' : 'structure'} lies along (or across) the slow axis, or add the second image turned by 45 deg (plate-pair)`);
       }
     }
   }
@@ -296,13 +302,13 @@ export function oneImageGaps(o: PlateReadingOptions & KnownRetardanceOptions, co
 
 /** A profile with every order number withheld (null in JSON) and the reason under notDetermined.order. */
 export function withholdProfile(p: ProfileResult, why: string): ProfileResult {
-  const nan2: [number, number] = [NaN, NaN];
   const stat = <T extends { order: number; ciLow: number; ciHigh: number }>(x: T): T => ({ ...x, order: NaN, ciLow: NaN, ciHigh: NaN });
+  const ratio = { coreSkinRatio: NaN, coreSkinRatioCiLow: NaN, coreSkinRatioCiHigh: NaN };
   return {
-    ...p, core: stat(p.core), skin: stat(p.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
+    ...p, core: stat(p.core), skin: stat(p.skin), ...ratio,
     bins: p.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
     stations: p.stations.map((st) => ({
-      ...st, core: stat(st.core), skin: stat(st.skin), coreSkinRatio: NaN, coreSkinRatioCi: nan2,
+      ...st, core: stat(st.core), skin: stat(st.skin), ...ratio,
       bins: st.bins.map((b) => ({ ...stat(b), order2D: NaN, directorDeg: NaN })),
     })),
     notDetermined: { ...p.notDetermined, order: why },
@@ -312,10 +318,10 @@ export function withholdProfile(p: ProfileResult, why: string): ProfileResult {
 /** The result with every order number withheld (null in JSON) and the reasons under notDetermined. */
 export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
   const why = gaps.join('; ');
-  const nan2: [number, number] = [NaN, NaN];
   const profile = r.profile && withholdProfile(r.profile, why);
+  const axis = r.axisOrder === null ? null : NaN;
   return {
-    ...r, directorDeg: NaN, order2D: NaN, order2DCi: nan2, axisOrder: r.axisOrder === null ? null : NaN, axisOrderCi: r.axisOrderCi && nan2,
+    ...r, directorDeg: NaN, order2D: NaN, order2DCiLow: NaN, order2DCiHigh: NaN, axisOrder: axis, axisOrderCiLow: axis, axisOrderCiHigh: axis,
     profile, notDetermined: { ...r.notDetermined, order: why },
   };
 }
@@ -324,9 +330,9 @@ export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
 export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAnalysisOptions = {}): Promise<OpticsAnalysis> {
   const r = readPlatePair(imgA, imgB, {
     train: trainOf(o), turnDeg: o.turnDeg, retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, birefringenceSign: signOf(o.sign),
-    background: o.background, calibration: calibrationOf(o), maxShiftPx: o.maxShiftPx, camera: cameraOf(o.whiteRgb),
+    background: o.sampleFree, calibration: calibrationOf(o), maxShiftPx: o.maxShiftPx, camera: cameraOf(o.whiteRgb),
   });
-  const result = await opticsResult('plate2', imgA, r.field, o, {
+  const result = await opticsResult('plate-pair', imgA, r.field, o, {
     imageB: imgB.source.name, calibrationA: calibrationJson(r.calibrationA), calibrationB: calibrationJson(r.calibrationB),
     registration: r.registration,
   });
@@ -334,22 +340,23 @@ export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAna
 }
 
 /**
- * Four-angle crossed-polariser set: orientation mod 90 deg, amplitude and fit residual per pixel; a compensator
- * image (`plate`) decides the 90-deg choice. Medians of amplitude and residual over the usable pixels go to `extra`.
+ * Angle series, crossed polarisers at several angles: orientation mod 90 deg, amplitude (relative, not nm) and fit
+ * residual per pixel; a compensator image (`plate`) decides the 90-deg choice. Medians of amplitude and residual over
+ * the usable pixels go to `reading`.
  */
-export async function analyseFourAngle(images: Image[], o: FourAngleAnalysisOptions = {}): Promise<OpticsAnalysis & { amplitude: Float32Array; residual: Float32Array }> {
+export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysisOptions = {}): Promise<OpticsAnalysis & { amplitude: Float32Array; residual: Float32Array }> {
   const anglesDeg = o.anglesDeg ?? DEFAULT_ANGLES_DEG;
   if (images.length !== anglesDeg.length) {
     throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
   }
   const r = fourAngleAnalysis(images, {
     anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: o.amplitudeFloor,
-    plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateBackground },
+    plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateSampleFree },
   });
   const amp: number[] = [], res: number[] = [];
   for (let i = 0; i < r.amplitude.length; i++) if (r.field.mask[i]) { amp.push(r.amplitude[i]); res.push(r.residual[i]); }
   const med = (v: number[]) => (v.length ? v.sort((x, y) => x - y)[v.length >> 1] : null);
-  const result = await opticsResult('quad', images[0], r.field, o, {
+  const result = await opticsResult('angle-series', images[0], r.field, o, {
     anglesDeg, amplitudeMedian: med(amp), residualMedian: med(res), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
   });
   return { result, field: r.field, amplitude: r.amplitude, residual: r.residual };

@@ -1,7 +1,7 @@
 import { toGrey, type Image } from '../image/types.ts';
 import { orientationField, type OrientationField, type OrientationFieldOptions, type TileHelper } from '../orientation/index.ts';
 import { orderParameters, type OrderOptions, type OrderSummary } from '../order/index.ts';
-import { rectMask, type Rect } from './region.ts';
+import { rectMask, type Rect } from '../common/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
 
 export interface OrientOptions extends OrientationFieldOptions, Pick<OrderOptions, 'weighting' | 'axisDeg' | 'blockPx'> {
@@ -13,10 +13,13 @@ export interface OrientResult extends ResultHead {
   analysis: 'orient';
   directorDeg: number;
   order2D: number;
-  order2DCi: [number, number];
+  /** 95 % interval of order2D. */
+  order2DCiLow: number;
+  order2DCiHigh: number;
   /** S_axis against axisDeg, when given. */
   axisOrder: number | null;
-  axisOrderCi: [number, number] | null;
+  axisOrderCiLow: number | null;
+  axisOrderCiHigh: number | null;
   axisDeg: number | null;
   coherencyMean: number;
   isotropicBias: number;
@@ -41,8 +44,8 @@ export function orientResult(img: Image, field: OrientationField, s: OrderSummar
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'orient', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
-    directorDeg: s.directorDetermined ? s.directorDeg : NaN, order2D: s.order2D.order, order2DCi: [s.order2D.ciLow, s.order2D.ciHigh],
-    axisOrder: s.axisOrder?.order ?? null, axisOrderCi: s.axisOrder ? [s.axisOrder.ciLow, s.axisOrder.ciHigh] : null,
+    directorDeg: s.directorDetermined ? s.directorDeg : NaN, order2D: s.order2D.order, order2DCiLow: s.order2D.ciLow, order2DCiHigh: s.order2D.ciHigh,
+    axisOrder: s.axisOrder?.order ?? null, axisOrderCiLow: s.axisOrder ? s.axisOrder.ciLow : null, axisOrderCiHigh: s.axisOrder ? s.axisOrder.ciHigh : null,
     axisDeg: s.axisDeg, coherencyMean: s.coherencyMean, isotropicBias: s.isotropicBias, n: s.n, blocks: s.blocks,
     options: { ...field.options, weighting: s.weighting, blockPx: s.blockPx, region: o.region ?? null, method: field.method },
     warnings: [...field.warnings, ...(s.n === 0 ? ['no usable pixels: every pixel was masked'] : [])],

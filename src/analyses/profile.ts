@@ -13,7 +13,7 @@ export interface ProfileRequest extends ProfileOptions {
 
 export interface ProfileResult extends ResultHead, Omit<ChannelProfile, 'warnings' | 'options'> {
   analysis: 'profile';
-  /** Which reader made the orientation field: texture, plate, plate-pair, four-angle. */
+  /** Which reader made the orientation field: texture, plate, plate-pair, angle-series. */
   fieldMethod: OrientationField['method'];
   walls: Channel['walls'];
   wallsFound: boolean;
@@ -28,7 +28,7 @@ export async function resolveChannel(img: Image, req: ProfileRequest): Promise<{
   throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
 }
 
-/** S across a channel from any orientation field (texture, plate, plate pair, four-angle). */
+/** S across a channel from any orientation field (texture, plate reading, plate pair, angle series). */
 export async function analyseProfile(img: Image, field: OrientationField, req: ProfileRequest, fieldOptions: Record<string, unknown> = {}): Promise<ProfileResult> {
   const { channel, found } = await resolveChannel(img, req);
   // A texture field next to a wall reads the wall's own edge: recompute those pixels from the interior only.
@@ -57,7 +57,7 @@ export async function analyseProfile(img: Image, field: OrientationField, req: P
 
 /** Plate fields cannot tell theta from its mirror about the compensator axis; say what that means here. */
 function ambiguityWarning(f: OrientationField, axisDeg: number): string[] {
-  if (f.ambiguity === 'mod-90') return ['the four-angle field cannot tell an axis from the one at 90 deg to it; S_axis signs assume the stated resolution'];
+  if (f.ambiguity === 'mod-90') return ['the angle series cannot tell an axis from the one at 90 deg to it; S_axis signs assume the stated resolution'];
   if (f.ambiguity === 'mirror-about-compensator' && f.ambiguityAxisDeg !== undefined) {
     const d = Math.abs(((axisDeg - f.ambiguityAxisDeg + 90) % 180 + 180) % 180 - 90);
     if (d > 1 && d < 89) return [`one plate image fixes orientation only up to a mirror about the compensator axis (${f.ambiguityAxisDeg} deg); the reference axis is ${d.toFixed(0)} deg from it, so S_axis rests on the assumption stated in the field options`];

@@ -53,7 +53,9 @@ export interface BandStats {
    * clearly away from 0, so that no ratio is determined.
    */
   coreSkinRatio: number;
-  coreSkinRatioCi: [number, number];
+  /** 95 % interval of the ratio (Fieller); NaN when the ratio is not determined. */
+  coreSkinRatioCiLow: number;
+  coreSkinRatioCiHigh: number;
 }
 
 export interface StationProfile extends BandStats {
@@ -208,7 +210,7 @@ function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins:
   return {
     bins: list, core: c, skin: s,
     coreSkinRatio: ratioCi ? ratio : NaN,
-    coreSkinRatioCi: ratioCi ?? [NaN, NaN],
+    coreSkinRatioCiLow: ratioCi ? ratioCi[0] : NaN, coreSkinRatioCiHigh: ratioCi ? ratioCi[1] : NaN,
   };
 }
 

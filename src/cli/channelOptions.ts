@@ -73,7 +73,7 @@ export function profileTable(r: ProfileResult): string {
     ['taper deg', r.taperDeg],
     ['core S (95% CI)', `${r.core.order.toFixed(3)} (${ci(r.core.ciLow, r.core.ciHigh)}) n=${r.core.n}`],
     ['skin S (95% CI)', `${r.skin.order.toFixed(3)} (${ci(r.skin.ciLow, r.skin.ciHigh)}) n=${r.skin.n}`],
-    ['core/skin', r.notDetermined?.coreSkinRatio ? `${NOT_DETERMINED}: ${r.notDetermined.coreSkinRatio}` : `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCi[0], r.coreSkinRatioCi[1])})`],
+    ['core/skin', r.notDetermined?.coreSkinRatio ? `${NOT_DETERMINED}: ${r.notDetermined.coreSkinRatio}` : `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCiLow, r.coreSkinRatioCiHigh)})`],
   ]);
   const rows = r.bins.map((b) => [b.s, b.order, b.ciLow, b.ciHigh, b.n, b.directorDeg]);
   const stationLines = r.stations.length > 1

@@ -12,6 +12,8 @@ export interface CommandOutput {
 
 export interface Command {
   name: string;
+  /** The subcommand's name before it was renamed: still run for one release, with a notice on stderr. */
+  formerName?: string;
   summary: string;
   /** Usage line after `retarda NAME`, e.g. "IMAGE... [--sigma PX]". */
   usage: string;

@@ -1,5 +1,5 @@
 import { isInputError } from '../common/errors.ts';
-import { COMMON_OPTIONS, parseArgs, flagOpt, stringOpt } from './args.ts';
+import { COMMON_OPTIONS, parseArgs, flagOpt, renamedNotice, stringOpt } from './args.ts';
 import type { Command } from './command.ts';
 import { COMMANDS } from './commands/index.ts';
 import { toCsv } from '../report/csv.ts';
@@ -19,22 +19,23 @@ export async function main(argv: string[], out: Sink = process.stdout, err: Sink
     out.write('retarda 0.1.0\n');
     return 0;
   }
-  const cmd = COMMANDS.find((c) => c.name === name);
+  const cmd = COMMANDS.find((c) => c.name === name) ?? COMMANDS.find((c) => c.formerName === name);
   if (!cmd) {
     err.write(`retarda: unknown subcommand "${name}". Run "retarda --help" for the list.\n`);
     return 2;
   }
+  if (cmd.name !== name) err.write(`retarda ${cmd.name}: note: ${renamedNotice(`retarda ${name}`, `retarda ${cmd.name}`)}\n`);
   try {
     const args = parseArgs(rest, [...cmd.options, ...COMMON_OPTIONS]);
     if (flagOpt(args, 'help')) {
       out.write(commandHelp(cmd));
       return 0;
     }
-    for (const n of args.notices) err.write(`retarda ${name}: note: ${n}\n`);
+    for (const n of args.notices) err.write(`retarda ${cmd.name}: note: ${n}\n`);
     const before = args.notices.length;
     const result = await cmd.run(args);
     // Former option values are met while the command reads its options.
-    for (const n of args.notices.slice(before)) err.write(`retarda ${name}: note: ${n}\n`);
+    for (const n of args.notices.slice(before)) err.write(`retarda ${cmd.name}: note: ${n}\n`);
     const csvPath = stringOpt(args, 'csv');
     if (csvPath) await writeBytes(csvPath, new TextEncoder().encode(toCsv(result.csvRows ?? [])));
     if (flagOpt(args, 'json')) out.write(JSON.stringify(result.json, null, 2) + '\n');
@@ -45,15 +46,15 @@ export async function main(argv: string[], out: Sink = process.stdout, err: Sink
     return 0;
   } catch (e) {
     if (isInputError(e)) {
-      err.write(`retarda ${name}: ${oneLine((e as Error).message)}\n`);
+      err.write(`retarda ${cmd.name}: ${oneLine((e as Error).message)}\n`);
       return 2;
     }
     if (outOfMemory(e)) {
-      err.write(`retarda ${name}: there is not enough memory for these images. ` +
+      err.write(`retarda ${cmd.name}: there is not enough memory for these images. ` +
         'Crop or bin the images, give fewer at a time, or close other programs\n');
       return 2;
     }
-    err.write(`retarda ${name}: ${FAULT_LINE}\n`);
+    err.write(`retarda ${cmd.name}: ${FAULT_LINE}\n`);
     if (process.env.RETARDA_DEBUG && e instanceof Error) err.write(`${e.stack}\n`);
     return 1;
   }

@@ -30,7 +30,7 @@ export interface Segmentation {
   contrast: number;
   /** Robust SD of the background after light smoothing, image units. */
   noiseSd: number;
-  backgroundDegree: number;
+  shadingDegree: number;
   fibres: FibreObject[];
   /** Objects too small or not elongated enough to be a fibre. */
   ignoredObjects: number;
@@ -38,7 +38,7 @@ export interface Segmentation {
 
 export interface SegmentOptions {
   polarity: 'auto' | 'dark' | 'bright';
-  backgroundDegree: number;
+  shadingDegree: number;
   /** Smallest contrast-to-noise ratio (smoothed) accepted as a fibre. */
   minContrastToNoise: number;
   minElongation: number;
@@ -90,9 +90,9 @@ const MASK_LEVEL = 0.3;
 export function segmentFibres(data: Float32Array, width: number, height: number, o: SegmentOptions): Segmentation {
   try {
     const first = segmentWith(data, width, height, o, 1);
-    if (first.fibres.length > 0 || o.backgroundDegree < 2) return first;
+    if (first.fibres.length > 0 || o.shadingDegree < 2) return first;
   } catch (e) {
-    if (!(e instanceof InputError) || o.backgroundDegree < 2) throw e;
+    if (!(e instanceof InputError) || o.shadingDegree < 2) throw e;
   }
   return segmentWith(data, width, height, o, 2);
 }
@@ -122,7 +122,7 @@ function segmentWith(data: Float32Array, width: number, height: number, o: Segme
   const frame = 2;
 
   // First split against a robust plane, then refit the background without the fibre until the mask settles.
-  let residual = robustFlatten(smooth, width, height, Math.min(firstDegree, o.backgroundDegree), stride);
+  let residual = robustFlatten(smooth, width, height, Math.min(firstDegree, o.shadingDegree), stride);
   let fibreMask = new Uint8Array(n);
   let sign = 1;
   let degree = 0;
@@ -163,7 +163,7 @@ function segmentWith(data: Float32Array, width: number, height: number, o: Segme
     const exclude = dilateMask(fibreMask, width, height, 4);
     const use = new Uint8Array(n);
     for (let i = 0; i < n; i++) use[i] = 1 - exclude[i];
-    const bg = fitBackground(smooth, width, height, use, o.backgroundDegree, stride);
+    const bg = fitBackground(smooth, width, height, use, o.shadingDegree, stride);
     degree = bg.degree;
     if (degree < 0) {
       throw new InputError('too little background around the fibre to model the illumination',
@@ -200,7 +200,7 @@ function segmentWith(data: Float32Array, width: number, height: number, o: Segme
       }
       const { fibres, ignored } = labelFibres(fibreMask, width, height, o);
       return {
-        flattened: flat, polarity: sign < 0 ? 'dark' : 'bright', contrast, noiseSd, backgroundDegree: degree,
+        flattened: flat, polarity: sign < 0 ? 'dark' : 'bright', contrast, noiseSd, shadingDegree: degree,
         fibres, ignoredObjects: ignored,
       };
     }

@@ -34,7 +34,7 @@ export interface DiameterOptions {
   /** Fibre darker or brighter than the background; 'auto' decides from the image. Default 'auto'. */
   polarity?: 'auto' | 'dark' | 'bright';
   /** Degree of the polynomial illumination surface subtracted before measuring. Default 2. */
-  backgroundDegree?: number;
+  shadingDegree?: number;
   /** Smallest fibre contrast / background noise (after 1.5 px smoothing) accepted. Default 8. */
   minContrastToNoise?: number;
   /** Smallest sqrt(lambda1/lambda2) of an object's second moments for it to count as a fibre. Default 2. */
@@ -119,7 +119,7 @@ export interface DiameterResult extends DiameterSummary {
   /** Fibre contrast over the background and the background noise (image units). */
   contrast: number;
   noiseSd: number;
-  backgroundDegree: number;
+  shadingDegree: number;
   /** Objects found but too small or too round to be a fibre. */
   ignoredObjects: number;
   pixelSizeUmPerPx: number | null;
@@ -130,7 +130,7 @@ export interface DiameterResult extends DiameterSummary {
 }
 
 export const DIAMETER_DEFAULTS = {
-  stepPx: 10, averageLengthPx: 5, profileStepPx: 0.5, polarity: 'auto', backgroundDegree: 2,
+  stepPx: 10, averageLengthPx: 5, profileStepPx: 0.5, polarity: 'auto', shadingDegree: 2,
   minContrastToNoise: 8, minElongation: 2,
 } as const;
 
@@ -198,7 +198,7 @@ function summarise(runs: DiameterStation[][], dropped: DroppedStation[], cal: Ca
  *
  * Steps: light Gaussian smoothing (sigma 1.5 px) for detection only; fibre/background split by Otsu
  * and then at 0.3 of the fibre contrast; polarity = the class not owning the image border; illumination
- * flattened by a least-squares polynomial (degree `backgroundDegree`) fitted to the background;
+ * flattened by a least-squares polynomial (degree `shadingDegree`) fitted to the background;
  * connected elongated objects are fibres. Along each, stations every `stepPx`: a profile along the
  * local normal (bilinear, `profileStepPx` spacing, averaged over `averageLengthPx`), edges from the
  * gradient peak + 3-point parabola refined by an erf edge-spread fit I = lo + (hi - lo) Phi((x - x0)/sigma)
@@ -224,9 +224,9 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
   // Profiles sampled at 0.5 px or finer (docs/methods.md §12.2: step <= 0.5 px).
   const profileStepPx = checkNumber('profileStepPx', options.profileStepPx ?? DIAMETER_DEFAULTS.profileStepPx,
     0.05, 0.5, 'px');
-  const backgroundDegree = checkNumber('backgroundDegree', options.backgroundDegree ?? DIAMETER_DEFAULTS.backgroundDegree,
+  const shadingDegree = checkNumber('shading degree', options.shadingDegree ?? DIAMETER_DEFAULTS.shadingDegree,
     0, 4);
-  if (!Number.isInteger(backgroundDegree)) throw new InputError('backgroundDegree must be a whole number from 0 to 4');
+  if (!Number.isInteger(shadingDegree)) throw new InputError('the shading degree must be a whole number from 0 to 4', 'Give 0 (a flat level) to 4');
   const minContrastToNoise = checkNumber('minContrastToNoise',
     options.minContrastToNoise ?? DIAMETER_DEFAULTS.minContrastToNoise, 1, 1e6);
   const minElongation = checkNumber('minElongation', options.minElongation ?? DIAMETER_DEFAULTS.minElongation, 1, 1e6);
@@ -243,7 +243,7 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
   const cal: Calibration = { umPerPx, relU };
 
   const seg = segmentFibres(data, width, height, {
-    polarity, backgroundDegree, minContrastToNoise, minElongation, minAreaPx, smoothSigmaPx: 1.5,
+    polarity, shadingDegree, minContrastToNoise, minElongation, minAreaPx, smoothSigmaPx: 1.5,
   });
   if (seg.fibres.length === 0) {
     throw new InputError(`no fibre found: ${seg.ignoredObjects} object(s) differ from the background but none is ` +
@@ -294,9 +294,9 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
   if (pooled.n > 0 && pooled.n < 5) warnings.push(`only ${pooled.n} stations kept: the interval is wide`);
   return {
     ...pooled, stations: allStations, fibres, polarity: seg.polarity, contrast: seg.contrast, noiseSd: seg.noiseSd,
-    backgroundDegree: seg.backgroundDegree, ignoredObjects: seg.ignoredObjects, pixelSizeUmPerPx: umPerPx,
+    shadingDegree: seg.shadingDegree, ignoredObjects: seg.ignoredObjects, pixelSizeUmPerPx: umPerPx,
     pixelSizeUncertainty: relU,
-    options: { stepPx, averageLengthPx, profileStepPx, polarity, backgroundDegree, minContrastToNoise, minElongation,
+    options: { stepPx, averageLengthPx, profileStepPx, polarity, shadingDegree, minContrastToNoise, minElongation,
       minAreaPx },
     warnings,
   };

@@ -1,10 +1,10 @@
 /**
- * Fibre numbers (docs/methods.md §13, "Fibre numbers"): linear density, packing fraction, specific stress,
+ * Fibre numbers (docs/methods.md §13, "Fibre numbers"): linear density, packing fraction, tenacity and tensile strength,
  * birefringence and orientation factor, vibroscope linear density.
  *
  * Definitions: tex = g per 1000 m, dtex = g per 10 000 m, denier = g per 9000 m, so 1 tex = 10 dtex =
  * 9 den. A solid fibre of cross-section A [um^2] and density rho [g/cm^3] has
- * tex = rho * A * 1e-3 (A * 1e-8 cm^2 times 1e5 cm per km). Specific stress: 1 N/tex = 1 GPa / (g/cm^3).
+ * tex = rho * A * 1e-3 (A * 1e-8 cm^2 times 1e5 cm per km). Tenacity to tensile strength: 1 N/tex = 1 GPa / (g/cm^3).
  */
 import { InputError } from '../common/errors.ts';
 import { expandedInterval, type Interval } from './uncertainty.ts';
@@ -80,16 +80,16 @@ export function packingFraction(measuredTex: number, diameterUm: number, density
   return { packingFraction: phi, solidTex, warnings };
 }
 
-/** Stress in GPa from specific stress in N/tex at density rho: sigma = tenacity * rho (1 N/tex = 1 GPa/(g/cm^3)). */
+/** Tensile strength in GPa from tenacity in N/tex at density rho: sigma = tenacity * rho (1 N/tex = 1 GPa/(g/cm^3)). */
 export function gpaFromNPerTex(nPerTex: number, densityGPerCm3: number): number {
-  positive('specific stress', nPerTex, 'N/tex', 1e3);
+  positive('tenacity', nPerTex, 'N/tex', 1e3);
   positive('density', densityGPerCm3, 'g/cm3', 100);
   return nPerTex * densityGPerCm3;
 }
 
-/** Specific stress in N/tex from stress in GPa at density rho: tenacity = sigma / rho. */
+/** Tenacity in N/tex from tensile strength in GPa at density rho: tenacity = sigma / rho. */
 export function nPerTexFromGpa(gpa: number, densityGPerCm3: number): number {
-  positive('stress', gpa, 'GPa', 1e4);
+  positive('tensile strength', gpa, 'GPa', 1e4);
   positive('density', densityGPerCm3, 'g/cm3', 100);
   return gpa / densityGPerCm3;
 }
@@ -250,7 +250,7 @@ export interface FibreNumbers {
   tenacityNPerTex: number | null;
   tenacityCnPerDtex: number | null;
   tenacityGfPerDen: number | null;
-  /** Stress on the solid cross-section at the given density (tenacity x density). */
+  /** Tensile strength on the solid cross-section at the given density (tenacity x density), GPa. */
   strengthGPa: number | null;
   retardanceNm: number | null;
   thicknessUm: number | null;
@@ -279,7 +279,7 @@ export function fibreNumbers(input: FibreNumbersInput): FibreNumbers {
     warnings.push(...p.warnings);
   }
   if (input.tenacityNPerTex !== undefined && input.strengthGPa !== undefined) {
-    throw new InputError('give either the tenacity (N/tex) or the strength (GPa), not both');
+    throw new InputError('give either the tenacity (N/tex) or the tensile strength (GPa), not both');
   }
   let tenacity: number | null = null;
   let strength: number | null = null;

@@ -13,7 +13,7 @@ import { checkColourImage, clippedPixels, type Rect } from './pixels.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
 
-/** How the compensator image of a four-angle set was taken. */
+/** How the compensator image of an angle series was taken. */
 export interface PlateSignOptions {
   train?: Partial<OpticalTrain>;
   background?: Rect;
@@ -259,7 +259,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   }
   for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
   let field: OrientationField = {
-    width, height, angleRad, confidence, mask, clipped, method: 'four-angle', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
+    width, height, angleRad, confidence, mask, clipped, method: 'angle-series', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
     pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
     options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate },
     warnings,

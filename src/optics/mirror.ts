@@ -6,15 +6,15 @@ import type { OrientationField } from '../orientation/types.ts';
 export interface MirrorChoiceStats {
   /** Fraction of usable pixels where cos 2(theta - axis) differs between the two candidates by more than `tolerance`. */
   mattersFraction: number;
-  /** True when the reference is the mirror axis or across it: S_axis is then exact. */
-  exact: boolean;
+  /** True when the reference is the mirror axis or across it: S_axis is then free of the mirror choice (a rod and its mirror image give the same S). */
+  mirrorFree: boolean;
   n: number;
 }
 
 /** Fraction of pixels for which theta vs 2*mirror - theta changes cos 2(theta - reference) by more than tolerance (default 0.05). */
 export function mirrorChoiceStats(field: OrientationField, referenceAxisDeg: number, tolerance = 0.05): MirrorChoiceStats {
   checkNumber('reference axis', referenceAxisDeg, -360, 360, 'deg');
-  if (field.ambiguity !== 'mirror-about-compensator' || field.ambiguityAxisDeg === undefined) return { mattersFraction: 0, exact: true, n: 0 };
+  if (field.ambiguity !== 'mirror-about-compensator' || field.ambiguityAxisDeg === undefined) return { mattersFraction: 0, mirrorFree: true, n: 0 };
   const m = field.ambiguityAxisDeg * DEG, r = referenceAxisDeg * DEG;
   let n = 0, matters = 0;
   for (let i = 0; i < field.angleRad.length; i++) {
@@ -23,8 +23,8 @@ export function mirrorChoiceStats(field: OrientationField, referenceAxisDeg: num
     const a = field.angleRad[i];
     if (Math.abs(Math.cos(2 * (a - r)) - Math.cos(2 * (2 * m - a - r))) > tolerance) matters++;
   }
-  const exact = Math.abs(Math.sin(2 * (m - r))) < 1e-9;
-  return { mattersFraction: n ? matters / n : 0, exact, n };
+  const mirrorFree = Math.abs(Math.sin(2 * (m - r))) < 1e-9;
+  return { mattersFraction: n ? matters / n : 0, mirrorFree, n };
 }
 
 export interface MirrorResolution {
@@ -76,10 +76,11 @@ export function resolveMirrorWithTexture(plate: OrientationField, texture: Orien
   return { field, resolved, resolvedFraction: fraction };
 }
 
-/** Advice on the set-up: S against the compensator axis (or across it) is exact from one plate image. */
+/** Advice on the set-up: S against the compensator axis (or across it) is free of the mirror choice in one plate image. */
 export interface AxisAdvice {
   offsetDeg: number;
-  exact: boolean;
+  /** True when the axis lies along the compensator axis or across it: S_axis is then free of the mirror choice. */
+  mirrorFree: boolean;
   text: string;
 }
 
@@ -89,12 +90,12 @@ export function compensatorAxisAdvice(axisDeg: number, compensatorDeg: number, t
   checkNumber('compensator angle', compensatorDeg, -360, 360, 'deg');
   const d = Math.abs(wrapAxialRad((axisDeg - compensatorDeg) * DEG)) / DEG;
   const offset = Math.min(d, 90 - d);
-  const exact = offset < 1e-6;
-  const base = 'For one plate image, lay the channel or fibre axis along the compensator slow axis (or across it): cos 2(theta - axis) is then the same for a rod and its mirror image. One image still does not give S reliably; two images (plate2) do.';
-  if (offset <= toleranceDeg) return { offsetDeg: offset, exact, text: base };
+  const mirrorFree = offset < 1e-6;
+  const base = 'For one plate image, lay the channel or fibre axis along the compensator slow axis (or across it): cos 2(theta - axis) is then the same for a rod and its mirror image. One image still does not give S reliably; a plate pair (two images, retarda plate-pair) does.';
+  if (offset <= toleranceDeg) return { offsetDeg: offset, mirrorFree, text: base };
   return {
-    offsetDeg: offset, exact: false,
-    text: `${base} The axis here is ${offset.toFixed(0)} deg from the compensator axis, so S_axis rests on the mirror assumption: turn the sample, take a second image turned by 45 deg (plate2), or use the texture direction to resolve it.`,
+    offsetDeg: offset, mirrorFree: false,
+    text: `${base} The axis here is ${offset.toFixed(0)} deg from the compensator axis, so S_axis rests on the mirror assumption: turn the sample, take a second image turned by 45 deg (plate pair), or use the texture direction to resolve it.`,
   };
 }
 

@@ -2,23 +2,9 @@ import { InputError } from '../common/errors.ts';
 import type { Image } from '../image/types.ts';
 import { srgbDecode, srgbEncode, type Vec3 } from './colorimetry.ts';
 
-/** A pixel rectangle: x, y of the top-left pixel, width and height in px. */
-export interface Rect { x: number; y: number; width: number; height: number }
+import { checkRectInside, type Rect } from '../common/index.ts';
 
-/** Parses "x,y,w,h" (whole pixels). */
-export function parseRect(text: string): Rect {
-  const parts = text.split(',').map((s) => Number(s.trim()));
-  if (parts.length !== 4 || parts.some((v) => !Number.isInteger(v)) || parts[2] < 1 || parts[3] < 1 || parts[0] < 0 || parts[1] < 0) {
-    throw new InputError(`rectangle "${text}" is not "x,y,w,h" in whole pixels`, 'Give the top-left corner and the size, e.g. --background "10,10,50,40"');
-  }
-  return { x: parts[0], y: parts[1], width: parts[2], height: parts[3] };
-}
-
-export function checkRectInside(r: Rect, width: number, height: number, what = 'rectangle'): void {
-  if (r.x + r.width > width || r.y + r.height > height) {
-    throw new InputError(`${what} ${r.x},${r.y},${r.width},${r.height} reaches outside the ${width}x${height} image`, 'Pick a region inside the image');
-  }
-}
+export type { Rect };
 
 /** Requires an RGB image. */
 export function checkColourImage(img: Image, what: string): void {
@@ -34,7 +20,7 @@ export function toLinear(v: number, encoding: Image['encoding']): number {
 
 /** Median linear RGB of a rectangle (robust to dust and a few sample pixels). */
 export function medianLinearRgb(img: Image, r: Rect): Vec3 {
-  checkRectInside(r, img.width, img.height, 'background rectangle');
+  checkRectInside(r, img.width, img.height, 'sample-free area');
   const out: number[] = [];
   for (let c = 0; c < 3; c++) {
     const vals: number[] = [];

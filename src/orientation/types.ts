@@ -1,6 +1,6 @@
 /**
  * A per-pixel orientation field: the shared result of every orientation reader (structure tensor,
- * compensator plate, plate pair, four-angle set), so all of them feed the same order parameters,
+ * plate reading, plate pair, angle series), so all of them feed the same order parameters,
  * channel profiles and exports.
  */
 export interface OrientationField {
@@ -8,7 +8,7 @@ export interface OrientationField {
   height: number;
   /** Direction along the structure (the slow axis for optical readers), CCW as displayed, (-pi/2, pi/2]. */
   angleRad: Float32Array;
-  /** Coherency for texture, match quality for plate, fit quality for four-angle; in [0, 1]. */
+  /** Coherency for texture fields; for optical readings their confidence (colour-match quality for the plate reading and pair, fit quality for the angle series); in [0, 1]. */
   confidence: Float32Array;
   /** 1 = usable pixel. */
   mask: Uint8Array;
@@ -27,7 +27,7 @@ export interface OrientationField {
   sin2?: Float32Array;
   /** Texture reader: texture strength, the tensor trace Jxx + Jyy (used for masking and as weight). */
   strength?: Float32Array;
-  method: 'texture' | 'plate' | 'plate-pair' | 'four-angle';
+  method: 'texture' | 'plate' | 'plate-pair' | 'angle-series';
   /**
    * What the reader cannot tell apart: 'mirror-about-compensator' = theta vs (2*compensatorAxis - theta);
    * 'mod-90' = theta vs theta + 90 deg.

@@ -7,7 +7,7 @@ import type { CsvValue } from './csv.ts';
  */
 export function orientCsvRow(r: OrientResult): Record<string, CsvValue> {
   return {
-    image: r.source, directorDeg: r.directorDeg, order2D: r.order2D, order2DCiLow: r.order2DCi[0], order2DCiHigh: r.order2DCi[1],
+    image: r.source, directorDeg: r.directorDeg, order2D: r.order2D, order2DCiLow: r.order2DCiLow, order2DCiHigh: r.order2DCiHigh,
     axisDeg: r.axisDeg, axisOrder: r.axisOrder, coherencyMean: r.coherencyMean, n: r.n,
     sigmaPx: r.options.sigmaPx as number, weighting: String(r.options.weighting),
   };
@@ -18,7 +18,7 @@ export function profileCsvRow(r: ProfileResult): Record<string, CsvValue> {
     image: r.source, field: r.fieldMethod, axisDeg: r.axisDeg, taperDeg: r.taperDeg,
     coreOrder: r.core.order, coreCiLow: r.core.ciLow, coreCiHigh: r.core.ciHigh, coreN: r.core.n,
     skinOrder: r.skin.order, skinCiLow: r.skin.ciLow, skinCiHigh: r.skin.ciHigh, skinN: r.skin.n,
-    coreSkinRatio: r.coreSkinRatio, coreSkinRatioCiLow: r.coreSkinRatioCi[0], coreSkinRatioCiHigh: r.coreSkinRatioCi[1],
+    coreSkinRatio: r.coreSkinRatio, coreSkinRatioCiLow: r.coreSkinRatioCiLow, coreSkinRatioCiHigh: r.coreSkinRatioCiHigh,
     coreMax: r.options.coreMax as number, skinMin: r.options.skinMin as number, weighting: String(r.options.weighting),
   };
 }

@@ -1,9 +1,9 @@
 /**
- * The optical analyses called directly (what `retarda plate`, `plate2`, `quad` and the app's worker run),
+ * The optical analyses called directly (what `retarda plate`, `plate-pair`, `angle-series` and the app's worker run),
  * on small images rendered by the project's forward model, checked against the physics of the set-up.
  */
 import { describe, expect, it } from 'vitest';
-import { analyseFourAngle, analysePlate, analysePlatePair, analyseProfile, confidenceStats, readPlateField, retardanceMedian, ONE_IMAGE_MEASURED } from '../../src/analyses/index.ts';
+import { analyseAngleSeries, analysePlate, analysePlatePair, analyseProfile, confidenceStats, readPlateField, retardanceMedian, ONE_IMAGE_MEASURED } from '../../src/analyses/index.ts';
 import { orderParameters } from '../../src/order/index.ts';
 import { renderSampleImage, resolveTrain, turnedTrain, type SampleRetarder } from '../../src/optics/index.ts';
 import { DEG, axialDiffDeg } from '../../src/common/angles.ts';
@@ -30,7 +30,7 @@ describe('analysePlate', () => {
   const img = renderSampleImage(W, H, uniform(45, 200), resolveTrain(), { noiseSd: 0.002, seed: 3, camera: cam, name: 'along.png' });
 
   it('reads the retardance and gives S_axis = 1 against the compensator axis, where one image is exact', async () => {
-    const { result, field } = await analysePlate(img, { background, compensatorNm: 550, axisDeg: 45, ...sampleOnly });
+    const { result, field } = await analysePlate(img, { sampleFree: background, compensatorNm: 550, axisDeg: 45, ...sampleOnly });
     expect(result.analysis).toBe('plate');
     expect(result.ambiguity).toBe('mirror-about-compensator');
     // The sample strip (x >= 10) was rendered at 200 nm (fact of the rendering): its median read within 15 nm.
@@ -45,7 +45,7 @@ describe('analysePlate', () => {
     expect(result.axisDeg).toBe(45);
     // No advice warning when the axis is the compensator's own.
     expect(result.warnings.join(' ')).not.toContain('45 deg from the compensator axis');
-    expect(result.extra.mirrorChoiceMatteredFraction).toBe(0);
+    expect(result.reading.mirrorChoiceMatteredFraction).toBe(0);
     // The 10-px sample-free strip reads ~0 nm and is mostly masked by the 20 nm floor; every sample pixel stays.
     expect(result.confidence.n).toBeGreaterThanOrEqual((W - 10) * H);
     expect(result.confidence.n).toBeLessThanOrEqual((W - 10) * H + 0.5 * 10 * H);
@@ -55,10 +55,10 @@ describe('analysePlate', () => {
     // A retarder at +20 deg and its mirror +70 deg give the same colour (issue 3); against 0 deg they give
     // cos 40 = +0.77 and cos 140 = -0.77, so the choice matters for every sample pixel (x >= 10: 30 of 40 columns).
     const at20 = renderSampleImage(W, H, uniform(20, 200), resolveTrain(), { noiseSd: 0.002, seed: 6, camera: cam, name: 'at20.png' });
-    const { result } = await analysePlate(at20, { background, compensatorNm: 550, axisDeg: 0, ...sampleOnly });
-    expect(result.extra.advice).toContain('45 deg from the compensator axis');
+    const { result } = await analysePlate(at20, { sampleFree: background, compensatorNm: 550, axisDeg: 0, ...sampleOnly });
+    expect(result.reading.advice).toContain('45 deg from the compensator axis');
     expect(result.warnings.join(' ')).toContain('compensator axis');
-    expect(result.extra.mirrorChoiceMatteredFraction as number).toBeGreaterThan(0.6);
+    expect(result.reading.mirrorChoiceMatteredFraction as number).toBeGreaterThan(0.6);
   });
 
   it('says the numbers are not reliable when the colours fit several (angle, retardance) pairs', async () => {
@@ -67,8 +67,8 @@ describe('analysePlate', () => {
     // +30 deg / 58 nm), so its pixels get low confidence and the result must say so.
     const clear = renderSampleImage(W, H, uniform(-20, 200), resolveTrain(), { noiseSd: 0.002, seed: 8, camera: cam });
     const murky = renderSampleImage(W, H, uniform(15, 100), resolveTrain(), { noiseSd: 0.002, seed: 9, camera: cam });
-    const a = (await analysePlate(clear, { background, compensatorNm: 550, ...sampleOnly })).result;
-    const b = (await analysePlate(murky, { background, compensatorNm: 550, ...sampleOnly })).result;
+    const a = (await analysePlate(clear, { sampleFree: background, compensatorNm: 550, ...sampleOnly })).result;
+    const b = (await analysePlate(murky, { sampleFree: background, compensatorNm: 550, ...sampleOnly })).result;
     expect(a.confidence.fractionAbove05!).toBeGreaterThan(b.confidence.fractionAbove05!);
     expect(a.warnings.join(' ')).not.toMatch(/not reliable/);
     expect(b.warnings.join(' ')).toMatch(/not reliable/);
@@ -76,7 +76,7 @@ describe('analysePlate', () => {
 
   it('gives a channel profile of the plate field when walls are asked for', async () => {
     const walls: Channel = { walls: [{ x1: 10, y1: 1, x2: 39, y2: 1 }, { x1: 10, y1: 22, x2: 39, y2: 22 }] };
-    const options = { background, compensatorNm: 550, sampleRetardanceNm: 150, sampleRetardanceToleranceNm: 60 };
+    const options = { sampleFree: background, compensatorNm: 550, sampleRetardanceNm: 150, sampleRetardanceToleranceNm: 60 };
     const { result } = await analysePlate(img, { ...options, profile: { channel: walls, bins: 4, axisDeg: 45 } });
     expect(result.profile!.fieldMethod).toBe('plate');
     // With everything one image needs given, its order numbers are still withheld: measured on the independent
@@ -94,15 +94,15 @@ describe('analysePlate', () => {
     // One colour fits many (angle, retardance) pairs (docs/methods.md, "One compensator image"): without the
     // sample's retardance no angle, hence no S, is determined.
     const walls: Channel = { walls: [{ x1: 10, y1: 1, x2: 39, y2: 1 }, { x1: 10, y1: 22, x2: 39, y2: 22 }] };
-    const { result } = await analysePlate(img, { background, compensatorNm: 550, profile: { channel: walls, bins: 4, axisDeg: 45 } });
+    const { result } = await analysePlate(img, { sampleFree: background, compensatorNm: 550, profile: { channel: walls, bins: 4, axisDeg: 45 } });
     expect(result.notDetermined?.order).toMatch(/sample retardance/);
-    expect(result.notDetermined?.order).toMatch(/plate2/);
+    expect(result.notDetermined?.order).toMatch(/plate-pair/);
     expect(result.order2D).toBeNaN();
     expect(result.profile!.core.order).toBeNaN();
     expect(result.profile!.bins.every((b) => Number.isNaN(b.order))).toBe(true);
     // And without a sample-free area as well, both remedies are named.
     const bare = await analysePlate(img, { profile: { channel: walls, bins: 4, axisDeg: 45 } });
-    expect(bare.result.notDetermined?.order).toMatch(/sample-free rectangle/);
+    expect(bare.result.notDetermined?.order).toMatch(/sample-free area/);
   });
 
   it('refuses nonsense settings with an InputError', async () => {
@@ -120,8 +120,8 @@ describe('analysePlatePair', () => {
   const b = renderSampleImage(W, H, uniform(-60, 250), turnedTrain(t, 45), { noiseSd: 0.002, seed: 5, camera: cam, name: 'b.png' });
 
   it('gives the full orientation over 180 deg and the retardance, with the registration checked', async () => {
-    const { result, field } = await analysePlatePair(a, b, { background, compensatorNm: 550, retardanceMaxNm: 600 });
-    expect(result.analysis).toBe('plate2');
+    const { result, field } = await analysePlatePair(a, b, { sampleFree: background, compensatorNm: 550, retardanceMaxNm: 600 });
+    expect(result.analysis).toBe('plate-pair');
     expect(result.ambiguity).toBe('none');
     // Closed form (two images): theta = 1/2 atan2(u, -v); rendered at -60 deg (fact of the rendering)
     const angles: number[] = [];
@@ -132,20 +132,20 @@ describe('analysePlatePair', () => {
     const strip = { ...field, mask: field.mask.map((m, i) => (inSample(i) ? m : 0)) } as OrientationField;
     expect(Math.abs(retardanceMedian(strip)! - 250)).toBeLessThan(20);
     // the same pixels rendered twice: no shift between the images
-    expect((result.extra.registration as { shiftPx: number }).shiftPx).toBeLessThan(1);
-    expect(result.extra.imageB).toBe('b.png');
+    expect((result.reading.registration as { shiftPx: number }).shiftPx).toBeLessThan(1);
+    expect(result.reading.imageB).toBe('b.png');
   });
 });
 
-describe('analyseFourAngle', () => {
+describe('analyseAngleSeries', () => {
   // Crossed pair at 0, 22.5, 45, 67.5 deg, no compensator: I = b + A sin^2 2(theta - alpha) (closed form, one retarder
   // between crossed polars turned by alpha).
   const images = [0, 22.5, 45, 67.5].map((p, k) =>
     renderSampleImage(W, H, uniform(30, 150), { polariserDeg: p, analyserDeg: p + 90, compensator: null }, { noiseSd: 0.001, seed: 7 + k, camera: cam, name: `q${k}.png` }));
 
   it('finds the orientation modulo 90 deg with a small fit residual', async () => {
-    const r = await analyseFourAngle(images, {});
-    expect(r.result.analysis).toBe('quad');
+    const r = await analyseAngleSeries(images, {});
+    expect(r.result.analysis).toBe('angle-series');
     expect(r.result.ambiguity).toBe('mod-90');
     // Rendered at 30 deg (fact of the rendering), recovered mod 90 (30 or 120); the sample strip is the only anisotropic area
     const a: number[] = [];
@@ -153,12 +153,12 @@ describe('analyseFourAngle', () => {
     a.sort((p, q) => p - q);
     const median = a[a.length >> 1];
     expect(Math.min(axialDiffDeg(median, 30), axialDiffDeg(median, 120))).toBeLessThan(2);
-    expect(r.result.extra.anglesDeg).toEqual([0, 22.5, 45, 67.5]);
-    expect(r.result.extra.residualMedian as number).toBeLessThan(0.1 * (r.result.extra.amplitudeMedian as number));
+    expect(r.result.reading.anglesDeg).toEqual([0, 22.5, 45, 67.5]);
+    expect(r.result.reading.residualMedian as number).toBeLessThan(0.1 * (r.result.reading.amplitudeMedian as number));
   });
 
   it('wants one image per angle', async () => {
-    await expect(analyseFourAngle(images.slice(0, 3), {})).rejects.toThrow(InputError);
+    await expect(analyseAngleSeries(images.slice(0, 3), {})).rejects.toThrow(InputError);
   });
 });
 
@@ -191,7 +191,7 @@ describe('analysePlate with a known sample retardance', () => {
     for (const [half, expected] of [[30, 0.82699], [10, 0.97982]] as const) {
       const img = spread(half);
       // The reading's field (analysePlate withholds its numbers: ONE_IMAGE_MEASURED), summarised directly.
-      const { field } = readPlateField(img, { background: { x: 0, y: 0, width: 10, height: img.height }, compensatorNm: 550, axisDeg: 45, sampleRetardanceNm: 150, sampleRetardanceToleranceNm: 0, ...sampleOnly });
+      const { field } = readPlateField(img, { sampleFree: { x: 0, y: 0, width: 10, height: img.height }, compensatorNm: 550, axisDeg: 45, sampleRetardanceNm: 150, sampleRetardanceToleranceNm: 0, ...sampleOnly });
       const s = orderParameters(field, { axisDeg: 45, weighting: 'none' });
       expect(Math.abs(s.axisOrder!.order - expected), `D = ${half}`).toBeLessThanOrEqual(0.02);
       expect(field.options.sampleRetardanceNm).toBe(150);

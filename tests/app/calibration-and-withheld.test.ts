@@ -10,7 +10,8 @@ import { DEFAULT_OPTICAL_FORM, newSession, restoreSession, type SessionRecord } 
 import { profileIsStale, sessionReducer } from '../../app/state/session.ts';
 import { compareRows, pixelSizeNote, sortRows } from '../../app/compare/compareRows.ts';
 import { headline, reasonParts, remediesFor } from '../../app/components/NotDetermined.tsx';
-import { rectBetween, rectText } from '../../app/components/imageRectangles.ts';
+import { rectBetween } from '../../app/components/imageRectangles.ts';
+import { rectText } from '../../src/common/index.ts';
 import { oneImageGaps, readPlateField, withholdProfile, ONE_IMAGE_MIN_RETARDANCE_NM, type ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import { renderSampleImage } from '../../src/optics/index.ts';
@@ -99,7 +100,7 @@ describe('compare never mixes um and px in one column', () => {
   it('a withheld profile shows as not determined, with why, not as numbers', () => {
     const p = {
       schemaVersion: 1, analysis: 'profile', fieldMethod: 'plate', walls: [{ x1: 0, y1: 0, x2: 9, y2: 0 }, { x1: 0, y1: 9, x2: 9, y2: 9 }], wallsFound: false,
-      core: { order: 0.6, ciLow: 0.5, ciHigh: 0.7, n: 10 }, skin: { order: 0.8, ciLow: 0.7, ciHigh: 0.9, n: 10 }, coreSkinRatio: 0.75, coreSkinRatioCi: [0.6, 0.9],
+      core: { order: 0.6, ciLow: 0.5, ciHigh: 0.7, n: 10 }, skin: { order: 0.8, ciLow: 0.7, ciHigh: 0.9, n: 10 }, coreSkinRatio: 0.75, coreSkinRatioCiLow: 0.6, coreSkinRatioCiHigh: 0.9,
       bins: [], stations: [], options: { coreMax: 0.5, skinMin: 0.8 }, warnings: [],
     } as unknown as ProfileResult;
     let s = newSession('s', 'P', at);
@@ -122,25 +123,25 @@ describe('the reasons beside withheld one-image numbers', () => {
     expect(gaps).toHaveLength(3);
     expect(reasonParts(gaps.join('; '))).toEqual(gaps);
     expect(gaps.map(headline)).toEqual(['no sample-free area', 'the sample retardance is not known', 'the axis (10 deg) is 35 deg from the compensator\'s slow axis']);
-    expect(remediesFor(gaps.join('; '))).toEqual(['background', 'retardance', 'axis', 'plate2']);
+    expect(remediesFor(gaps.join('; '))).toEqual(['background', 'retardance', 'axis', 'platePair']);
   });
 
   it('with everything given, what the analysis still withholds one image\'s S for is one part, headed by its first clause outside parentheses', () => {
-    const gaps = oneImageGaps({ background: { x: 0, y: 0, width: 4, height: 4 }, sampleRetardanceNm: 2 * ONE_IMAGE_MIN_RETARDANCE_NM }, 45, field, 45, true);
+    const gaps = oneImageGaps({ sampleFree: { x: 0, y: 0, width: 4, height: 4 }, sampleRetardanceNm: 2 * ONE_IMAGE_MIN_RETARDANCE_NM }, 45, field, 45, true);
     for (const g of gaps) {
       expect(reasonParts(g)).toEqual([g]);
       // the headline is a leading piece of the reason, with its parentheses closed
       expect(g.startsWith(headline(g))).toBe(true);
       expect(headline(g).split('(').length).toBe(headline(g).split(')').length);
     }
-    if (gaps.length) expect(remediesFor(gaps.join('; '))).toEqual(['plate2']);
+    if (gaps.length) expect(remediesFor(gaps.join('; '))).toEqual(['platePair']);
   });
 
   it('a retardance below the floor and a channel axis call for two images only', () => {
-    const gaps = oneImageGaps({ background: { x: 0, y: 0, width: 4, height: 4 }, sampleRetardanceNm: ONE_IMAGE_MIN_RETARDANCE_NM / 2 }, 45, field, 80, true);
+    const gaps = oneImageGaps({ sampleFree: { x: 0, y: 0, width: 4, height: 4 }, sampleRetardanceNm: ONE_IMAGE_MIN_RETARDANCE_NM / 2 }, 45, field, 80, true);
     expect(gaps).toHaveLength(2);
     expect(reasonParts(gaps.join('; '))).toEqual(gaps);
-    expect(remediesFor(gaps.join('; '))).toEqual(['retardance', 'plate2']);
+    expect(remediesFor(gaps.join('; '))).toEqual(['retardance', 'platePair']);
   });
 });
 
@@ -192,7 +193,7 @@ describe('the report says "not determined" where a result withholds a number, an
     const p = {
       schemaVersion: 1, analysis: 'profile', fieldMethod: 'plate', width: 10, height: 10, pixelSizeUmPerPx: null,
       walls: [{ x1: 0, y1: 0, x2: 9, y2: 0 }, { x1: 0, y1: 9, x2: 9, y2: 9 }], wallsFound: true, axisDeg: 0,
-      core: { order: 0.6, ciLow: 0.5, ciHigh: 0.7, n: 10 }, skin: { order: 0.8, ciLow: 0.7, ciHigh: 0.9, n: 10 }, coreSkinRatio: 0.75, coreSkinRatioCi: [0.6, 0.9],
+      core: { order: 0.6, ciLow: 0.5, ciHigh: 0.7, n: 10 }, skin: { order: 0.8, ciLow: 0.7, ciHigh: 0.9, n: 10 }, coreSkinRatio: 0.75, coreSkinRatioCiLow: 0.6, coreSkinRatioCiHigh: 0.9,
       bins: [], stations: [], options: { coreMax: 0.5, skinMin: 0.8, bins: 20, stations: 1 }, warnings: [],
     } as unknown as ProfileResult;
     let s = newSession('s', 'R', at);

@@ -8,29 +8,29 @@ import type { OrientResult } from '../../src/analyses/index.ts';
 
 describe('planReadout', () => {
   it('without a rectangle draws the whole 1280 x 720 frame at 1/2 size, every pixel counting', () => {
-    expect(planReadout(1280, 720, 2, null, 12)).toEqual({ source: { x: 0, y: 0, w: 1280, h: 720 }, width: 640, height: 360, step: 2, region: null });
+    expect(planReadout(1280, 720, 2, null, 12)).toEqual({ source: { x: 0, y: 0, width: 1280, height: 720 }, width: 640, height: 360, step: 2, region: null });
   });
 
   it('with a rectangle adds the halo around it and its region maps back onto the rectangle', () => {
-    const rect = { x: 400, y: 200, w: 320, h: 240 };
+    const rect = { x: 400, y: 200, width: 320, height: 240 };
     const p = planReadout(1280, 720, 2, rect, 12);
     // construction: halo 12 analysed px = 24 frame px on each side
-    expect(p.source).toEqual({ x: 376, y: 176, w: 368, h: 288 });
-    expect(p.region).toEqual({ x: 12, y: 12, w: 160, h: 120 });
+    expect(p.source).toEqual({ x: 376, y: 176, width: 368, height: 288 });
+    expect(p.region).toEqual({ x: 12, y: 12, width: 160, height: 120 });
     expect(p.source.x + p.region!.x * p.step).toBe(rect.x);
     expect(p.source.y + p.region!.y * p.step).toBe(rect.y);
-    expect(p.region!.w * p.step).toBe(rect.w);
+    expect(p.region!.width * p.step).toBe(rect.width);
   });
 
   it('clips the halo at the frame edge and keeps the region on the rectangle', () => {
-    const p = planReadout(640, 480, 1, { x: 0, y: 0, w: 100, h: 80 }, 12);
-    expect(p.source).toEqual({ x: 0, y: 0, w: 112, h: 92 });
-    expect(p.region).toEqual({ x: 0, y: 0, w: 100, h: 80 });
+    const p = planReadout(640, 480, 1, { x: 0, y: 0, width: 100, height: 80 }, 12);
+    expect(p.source).toEqual({ x: 0, y: 0, width: 112, height: 92 });
+    expect(p.region).toEqual({ x: 0, y: 0, width: 100, height: 80 });
   });
 
   it('refuses a rectangle outside the frame or too small to give an order parameter', () => {
-    expect(() => planReadout(640, 480, 1, { x: 700, y: 10, w: 50, h: 50 }, 12)).toThrow(/outside the camera frame/);
-    expect(() => planReadout(640, 480, 4, { x: 10, y: 10, w: 40, h: 40 }, 12)).toThrow(/too small.*64 x 64/);
+    expect(() => planReadout(640, 480, 1, { x: 700, y: 10, width: 50, height: 50 }, 12)).toThrow(/outside the camera frame/);
+    expect(() => planReadout(640, 480, 4, { x: 10, y: 10, width: 40, height: 40 }, 12)).toThrow(/too small.*64 x 64/);
     expect(() => planReadout(0, 0, 1, null, 12)).toThrow(/not delivered a frame/);
     expect(() => planReadout(640, 480, 1.5, null, 12)).toThrow(/whole number/);
   });
@@ -139,7 +139,7 @@ describe('LiveReadout', () => {
     // engine 0 answers in 100 ms; engine 1 first in 30 ms (overtaking nothing), then in 200 ms
     const f = fakeEngines([[100], [30, 200]]);
     const shown: { worker: number; grabbedAt: number }[] = [];
-    const plan = { source: { x: 0, y: 0, w: 2, h: 2 }, width: 2, height: 2, step: 1, region: null };
+    const plan = { source: { x: 0, y: 0, width: 2, height: 2 }, width: 2, height: 2, step: 1, region: null };
     const live = new LiveReadout({
       engines: f.engines,
       grab: async () => { f.nextFrame(); return { source: { close: () => undefined } as unknown as VideoFrame, plan }; },
@@ -164,7 +164,7 @@ describe('LiveReadout', () => {
 
   it('asks for the orientation picture only while it is shown', async () => {
     const f = fakeEngines([[50], [50]]);
-    const plan = { source: { x: 0, y: 0, w: 2, h: 2 }, width: 2, height: 2, step: 1, region: null };
+    const plan = { source: { x: 0, y: 0, width: 2, height: 2 }, width: 2, height: 2, step: 1, region: null };
     let picture = false;
     const pictures: (boolean | null)[] = [];
     const live = new LiveReadout({

@@ -38,7 +38,7 @@ describe('compareRows', () => {
     expect(rows[1].coreOrder).toBeCloseTo(0.5, 1);
     expect(rows[1]).toMatchObject({
       coreOrder: p30.core.order, coreCiLow: p30.core.ciLow, coreCiHigh: p30.core.ciHigh, coreN: p30.core.n,
-      skinOrder: p30.skin.order, ratio: p30.coreSkinRatio, ratioCiLow: p30.coreSkinRatioCi[0], ratioCiHigh: p30.coreSkinRatioCi[1],
+      skinOrder: p30.skin.order, ratio: p30.coreSkinRatio, ratioCiLow: p30.coreSkinRatioCiLow, ratioCiHigh: p30.coreSkinRatioCiHigh,
       coreMax: 0.5, skinMin: 0.8, diameter: null, diameterUnit: null, field: 'texture',
     });
   });

@@ -20,7 +20,7 @@ describe('app exports match the command line', () => {
 
   it('orientCsv writes one RFC 4180 header row and one data row with the CLI\'s column names', () => {
     const r = {
-      source: 'a, b.png', directorDeg: 12.5, order2D: 0.8, order2DCi: [0.7, 0.9], axisDeg: null, axisOrder: null,
+      source: 'a, b.png', directorDeg: 12.5, order2D: 0.8, order2DCiLow: 0.7, order2DCiHigh: 0.9, axisDeg: null, axisOrder: null,
       coherencyMean: 0.6, n: 100, options: { sigmaPx: 2, weighting: 'coherency' },
     } as unknown as OrientResult;
     const lines = orientCsv(r).split('\r\n');

@@ -107,7 +107,7 @@ describe('reportContent', () => {
     expect(c.images.map((i) => i.name)).toEqual(['run 1.tif', 'fibre.png']);
     expect(c.notAnalysed).toEqual(['blank.png']);
     const [orient, prof] = c.images[0].sections;
-    expect(orient.numbers[0]).toEqual({ label: 'Order S_2D', value: result.order2D, ci: result.order2DCi, n: result.n, unit: '' });
+    expect(orient.numbers[0]).toEqual({ label: 'Order S_2D', value: result.order2D, ci: [result.order2DCiLow, result.order2DCiHigh], n: result.n, unit: '' });
     expect(orient.commandLine).toBe('retarda orient "run 1.tif" --sigma 2 --weighting coherency');
     expect(prof.numbers[0]).toEqual({ label: 'Core S (|s| < 0.5)', value: profile.core.order, ci: [profile.core.ciLow, profile.core.ciHigh], n: profile.core.n, unit: '' });
     expect(prof.commandLine).toBe('retarda profile "run 1.tif" --walls "4,8,92,8;4,56,92,56" --sigma 2 --weighting coherency --bins 8 --stations 1 --core-max 0.5 --skin-min 0.8');

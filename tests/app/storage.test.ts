@@ -6,7 +6,7 @@ import {
   DEFAULT_DIAMETER_FORM, DEFAULT_OPTICAL_FORM, DEFAULT_SETTINGS, EMPTY_WORK, restoreSession, STORAGE_SCHEMA_VERSION, type SessionRecord, type StoredMicrometer, type StoredOptics,
 } from '../../app/storage/records.ts';
 import { sessionReducer } from '../../app/state/session.ts';
-import { analyseDiameter, analyseFourAngle, analyseMicrometer, type OrientResult } from '../../src/analyses/index.ts';
+import { analyseDiameter, analyseAngleSeries, analyseMicrometer, SCHEMA_VERSION, type OrientResult } from '../../src/analyses/index.ts';
 import type { Segment } from '../../src/channel/index.ts';
 import { renderFibres } from '../fibre/render.ts';
 import { makeImage } from '../../src/image/types.ts';
@@ -259,8 +259,8 @@ describe('optical readings, micrometer calibrations and the session pixel size a
     const s = await store.create('readings');
     const a = await store.addImage({ name: 'ruler.png', type: 'image/png', blob: png([1]) });
     const b = await store.addImage({ name: 'q0.png', type: 'image/png', blob: png([2]) });
-    const { result } = await analyseFourAngle(quadImages, { profile: null });
-    const optics: StoredOptics = { kind: 'quad', result, commandLine: 'retarda quad q0.png q1.png q2.png q3.png', rangeNm: null };
+    const { result } = await analyseAngleSeries(quadImages, { profile: null });
+    const optics: StoredOptics = { kind: 'angle-series', result, commandLine: 'retarda angle-series q0.png q1.png q2.png q3.png', rangeNm: null };
     let next = sessionReducer({ ...s, images: [a, b], activeImageId: a.id, work: { [a.id]: { ...EMPTY_WORK }, [b.id]: { ...EMPTY_WORK } } },
       { type: 'micrometer', id: a.id, calibration: micrometer });
     next = sessionReducer(next, { type: 'pixelSize', pixelSize: { umPerPx: micrometer.doc.umPerPx, from: 'micrometer ruler.png' } });
@@ -278,7 +278,7 @@ describe('optical readings, micrometer calibrations and the session pixel size a
     expect(back?.work[a.id].micrometer).toEqual(micrometer);
     expect(back?.pixelSize).toEqual({ umPerPx: micrometer.doc.umPerPx, from: 'micrometer ruler.png' });
     expect(back?.work[b.id].optics).toEqual(optics);
-    expect(back?.work[b.id].optics?.result.analysis).toBe('quad');
+    expect(back?.work[b.id].optics?.result.analysis).toBe('angle-series');
     // nothing was set aside: the record was whole
     expect(await store.aside()).toEqual([]);
   });
@@ -338,9 +338,9 @@ describe('the settings that made an optical reading or a diameter result are kep
     const store = createSessionStore(memoryKv(), counter());
     const s = await store.create('forms');
     const a = await store.addImage({ name: 'q0.png', type: 'image/png', blob: png([1]) });
-    const { result } = await analyseFourAngle(quadImages, { anglesDeg: [0, 22.5, 45, 67.5], axisDeg: 30, profile: null });
+    const { result } = await analyseAngleSeries(quadImages, { anglesDeg: [0, 22.5, 45, 67.5], axisDeg: 30, profile: null });
     const form = { ...DEFAULT_OPTICAL_FORM, axisDeg: '30', compensatorDeg: '40', quadImages: [a.id, 'b', 'c', 'd'], quadPlateBackground: '0,0,8,8' };
-    const optics: StoredOptics = { kind: 'quad', result, commandLine: 'retarda quad q0.png q1.png q2.png q3.png --axis-deg 30', rangeNm: null, form };
+    const optics: StoredOptics = { kind: 'angle-series', result, commandLine: 'retarda angle-series q0.png q1.png q2.png q3.png --axis-deg 30', rangeNm: null, form };
     // One dark fibre 24 px wide (its width is a fact of the rendering, tests/fibre/render.ts).
     const plane = renderFibres({ width: 160, height: 120, fibres: [{ cx: 80, cy: 60, angleDeg: 90, widthPx: 24, contrast: -0.4 }], base: 0.7, noiseSd: 0.005 });
     const fibreImage = makeImage({ width: 160, height: 120, channels: 1, bitDepth: 16, encoding: 'linear', source: { name: 'f.png' }, planes: [plane.data] });
@@ -362,11 +362,11 @@ describe('the settings that made an optical reading or a diameter result are kep
   it('an unreadable form is left out, the result kept, and the original set aside', async () => {
     const kv = memoryKv();
     const store = createSessionStore(kv, counter());
-    const { result } = await analyseFourAngle(quadImages, { profile: null });
+    const { result } = await analyseAngleSeries(quadImages, { profile: null });
     const raw = {
       schemaVersion: 1, kind: 'session', id: 'y', name: 'bad forms', images: [{ id: 'i1', name: 'a.png' }],
       work: { i1: { walls: null, orient: null, profile: null,
-        optics: { kind: 'quad', result, commandLine: 'retarda quad a.png b.png c.png d.png', rangeNm: null, form: { ...DEFAULT_OPTICAL_FORM, sign: 'sideways' } } } },
+        optics: { kind: 'angle-series', result, commandLine: 'retarda angle-series a.png b.png c.png d.png', rangeNm: null, form: { ...DEFAULT_OPTICAL_FORM, sign: 'sideways' } } } },
     };
     kv.map.set('session:y', raw);
     const s = (await store.load('y'))!;
@@ -420,7 +420,7 @@ describe('fields written by a newer copy of the app are kept by this one', () =>
     expect((loaded as unknown as { futureSeen: unknown }).futureSeen).toEqual(seen);
     expect(await store.aside()).toEqual([]);
     const walls = { walls: [{ x1: 0, y1: 2, x2: 60, y2: 2 }, { x1: 0, y1: 30, x2: 60, y2: 30 }] as [Segment, Segment] };
-    const orient = { schemaVersion: 1, analysis: 'orient' } as OrientResult;
+    const orient = { schemaVersion: SCHEMA_VERSION, analysis: 'orient' } as OrientResult;
     let s = sessionReducer(loaded, { type: 'rename', name: 'renamed here' });
     s = sessionReducer(s, { type: 'settings', change: { sigmaPx: 3 } });
     s = sessionReducer(s, { type: 'walls', id: a.id, channel: walls, found: true });
@@ -511,12 +511,12 @@ describe('fields a newer copy wrote inside the nested objects of a session are k
     walls: { walls: [segment(2), segment(30)], ...x('channel') },
     wallsFound: true,
     optics: {
-      kind: 'plate', result: { schemaVersion: 1, analysis: 'plate' }, commandLine: 'retarda plate a.png', rangeNm: [0, 800],
+      kind: 'plate', result: { schemaVersion: SCHEMA_VERSION, analysis: 'plate' }, commandLine: 'retarda plate a.png', rangeNm: [0, 800],
       form: { ...DEFAULT_OPTICAL_FORM, ...x('opticalForm') }, ...x('optics'),
     },
-    diameter: { schemaVersion: 1, analysis: 'diameter' },
+    diameter: { schemaVersion: SCHEMA_VERSION, analysis: 'diameter' },
     diameterRun: { form: { ...DEFAULT_DIAMETER_FORM, ...x('diameterForm') }, commandLine: 'retarda diameter a.png', ...x('diameterRun') },
-    micrometer: { doc: { schemaVersion: 1, analysis: 'calibrate', method: 'micrometer', umPerPx: 0.5 }, commandLine: 'retarda calibrate a.png', ...x('micrometer') },
+    micrometer: { doc: { schemaVersion: SCHEMA_VERSION, analysis: 'calibrate', method: 'micrometer', umPerPx: 0.5 }, commandLine: 'retarda calibrate a.png', ...x('micrometer') },
   };
   const setup = {
     setupId: 'bench-a', name: 'Bench A', appliedAt: '2026-01-01T00:00:00.000Z', sampleSign: 'positive',

@@ -85,7 +85,7 @@ describe('95 % intervals of a channel profile', () => {
       add('core', p.core, t.core);
       add('skin', p.skin, t.skin);
       if (Number.isFinite(p.coreSkinRatio)) {
-        groups.ratio.push({ order: p.coreSkinRatio, lo: p.coreSkinRatioCi[0], hi: p.coreSkinRatioCi[1], truth: t.ratio });
+        groups.ratio.push({ order: p.coreSkinRatio, lo: p.coreSkinRatioCiLow, hi: p.coreSkinRatioCiHigh, truth: t.ratio });
       } else ratioUndetermined++;
     }
     // The skin's order (about 0.47) is far from 0 next to its spread here, so the ratio is always determined.

@@ -30,7 +30,8 @@ describe('retarda orient', () => {
     // Construction of the scene: stripes at +30 deg CCW on screen.
     expect(Math.abs(j.directorDeg - 30)).toBeLessThan(0.5);
     expect(j.order2D).toBeGreaterThan(0.98);
-    expect(j.order2DCi[0]).toBeLessThanOrEqual(j.order2D);
+    expect(j.order2DCiLow).toBeLessThanOrEqual(j.order2D);
+    expect(j.order2DCiHigh).toBeGreaterThanOrEqual(j.order2D);
     expect(j.n).toBeGreaterThan(20000);
   });
 

@@ -26,8 +26,8 @@ const COMMANDS: [string, (f: string) => string[]][] = [
   ['orient', (f) => ['orient', f]],
   ['profile', (f) => ['profile', f, '--auto-walls']],
   ['plate', (f) => ['plate', f]],
-  ['plate2', (f) => ['plate2', f, f]],
-  ['quad', (f) => ['quad', f, f, f, f]],
+  ['plate-pair', (f) => ['plate-pair', f, f]],
+  ['angle-series', (f) => ['angle-series', f, f, f, f]],
   ['diameter', (f) => ['diameter', f]],
   ['calibrate', (f) => ['calibrate', f, '--division-um', '10']],
 ];
@@ -181,9 +181,9 @@ describe('whole processes: the contract and peak memory', () => {
     console.log(`bombs as whole processes: ${rows.join('; ')}`);
   }, 180_000);
 
-  it('a refused file in plate2 and quad, and a valid YCCK JPEG in orient, keep the contract as whole processes', () => {
+  it('a refused file in plate-pair and angle-series, and a valid YCCK JPEG in orient, keep the contract as whole processes', () => {
     const cut = cases.find((c) => c.file.startsWith('cut-png-rgb8-')) as CorpusCase;
-    for (const [command, argv] of COMMANDS.filter(([n]) => n === 'plate2' || n === 'quad')) {
+    for (const [command, argv] of COMMANDS.filter(([n]) => n === 'plate-pair' || n === 'angle-series')) {
       const r = runProcess(argv(join(dir, cut.file)));
       expect(r.code).toBe(2);
       expect(judge(cut, command, { code: r.code ?? 'killed', out: r.out, err: r.err, ms: 0 })).toBe('');

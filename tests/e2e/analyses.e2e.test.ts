@@ -1,7 +1,7 @@
 /**
  * End-to-end: the optical, fibre and calibration panels in Debian's chromium, on the demo images. Every
  * number the page shows is compared with the same analysis function run here in Node on the same file
- * (what `retarda plate`, `plate2`, `quad`, `diameter`, `calibrate`, `fibre` call), printed the same way
+ * (what `retarda plate`, `plate-pair`, `angle-series`, `diameter`, `calibrate`, `fibre` call), printed the same way
  * (formatCell, the CLI's number format). Screenshots go to test-output/screenshots/.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -9,7 +9,7 @@ import { mkdirSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
 import {
-  analyseDiameter, analyseFourAngle, analyseMicrometer, analysePlate, analysePlatePair, analysePlateProfile, fibreNumbersResult, readPlateField,
+  analyseDiameter, analyseAngleSeries, analyseMicrometer, analysePlate, analysePlatePair, analysePlateProfile, fibreNumbersResult, readPlateField,
   NOT_DETERMINED, type OpticsResult, type ProfileResult,
 } from '../../src/analyses/index.ts';
 import { decodeImage, type Image } from '../../src/image/index.ts';
@@ -118,7 +118,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await idle();
     await shot('21-plate-orientation-map');
 
-    const options = { background: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 10, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const, profile: null };
+    const options = { sampleFree: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 10, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const, profile: null };
     const { result } = await analysePlate(load(file), options);
     // Without the sample retardance and with the axis 35 deg off the compensator, one image does not determine S.
     expect(result.notDetermined?.order).toBeTruthy();
@@ -129,13 +129,13 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     const why = await text('optics-not-determined');
     for (const part of reasonParts(result.notDetermined!.order)) expect(why).toContain(headline(part));
     const remedies = page.getByTestId('optics-results').locator('[data-testid^="remedy-"]');
-    expect(await remedies.evaluateAll((bs) => bs.map((b) => b.getAttribute('data-testid')))).toEqual(['remedy-retardance', 'remedy-axis', 'remedy-plate2']);
+    expect(await remedies.evaluateAll((bs) => bs.map((b) => b.getAttribute('data-testid')))).toEqual(['remedy-retardance', 'remedy-axis', 'remedy-platePair']);
     expect(await text('optics-retardance')).toBe(formatCell(result.retardanceNmMedian));
     expect(await text('optics-confidence')).toBe(formatCell(result.confidence.mean));
     expect(await text('optics-n')).toBe(formatCell(result.n));
-    expect(await text('optics-mirror-mattered')).toBe(formatCell(result.extra.mirrorChoiceMatteredFraction as number));
+    expect(await text('optics-mirror-mattered')).toBe(formatCell(result.reading.mirrorChoiceMatteredFraction as number));
     expect(await text('optics-ambiguity')).toContain('mirror image about the compensator axis');
-    expect(await text('optics-cli')).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 10`);
+    expect(await text('optics-cli')).toBe(`retarda plate ${file} --sample-free 0,0,60,60 --axis-deg 10`);
 
     // The retardance, confidence and line views of the reading are made when first shown.
     await page.getByRole('button', { name: 'retardance', exact: true }).click();
@@ -145,7 +145,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByRole('button', { name: 'confidence', exact: true }).click();
     await page.locator('.viewer[data-overlay="coherency"]').waitFor({ timeout: 30_000 });
     await shot('23-plate-confidence');
-    await page.getByRole('button', { name: 'lines', exact: true }).click();
+    await page.getByRole('button', { name: 'direction lines', exact: true }).click();
     await page.locator('.viewer[data-overlay="glyphs"]').waitFor({ timeout: 30_000 });
     await shot('23b-plate-lines');
     await page.getByRole('button', { name: 'orientation', exact: true }).click();
@@ -153,10 +153,10 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
 
   it('profiles the channel on the compensator field, as `retarda profile --source plate` does', async () => {
     const file = 'kestrel-channel-plate.png';
-    expect(await text('profile-field')).toContain('compensator colour');
+    expect(await text('profile-field')).toContain('plate reading');
     await profileWithFoundWalls('24-plate-profile');
     const img = load(file);
-    const reading = { background: { x: 0, y: 0, width: 60, height: 60 }, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
+    const reading = { sampleFree: { x: 0, y: 0, width: 60, height: 60 }, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
     const { field } = readPlateField(img, { ...reading, axisDeg: undefined });
     // Optical fields are profiled unweighted by default, in the app as on the command line; one image through
     // analysePlateProfile, which withholds what one image does not determine (here: no sample retardance).
@@ -168,10 +168,10 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('ratio')).toBe(expected(r, 'coreSkinRatio', r.coreSkinRatio));
     for (const part of reasonParts(r.notDetermined!.order)) expect(await text('profile-not-determined')).toContain(headline(part));
     expect(await page.getByTestId('profile-results').getByTestId('remedy-retardance').count()).toBe(1);
-    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --background 0,0,60,60`);
+    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --sample-free 0,0,60,60`);
   }, 180_000);
 
-  it('the two-image reading picks the turned image and shows the registration', async () => {
+  it('the plate pair picks the turned image and shows the registration', async () => {
     await newSession();
     const turned = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-channel-plate-turned.png')!;
     await page.getByRole('button', { name: `Open these ${turned.set!.length} together` }).first().click();
@@ -179,13 +179,13 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
     await idle();
     await tab('Polarised colours');
-    await page.getByLabel('two compensator images, optics turned 45°').check();
+    await page.getByLabel('plate pair: two compensator images, optics turned 45°').check();
     const b = page.getByTestId('plate2-image-b');
     expect(await b.locator('option:checked').textContent()).toBe(turned.file);
     // Stop works: the worker is ended, the page says so, and the next run starts a fresh one.
     await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
     await page.getByRole('button', { name: 'Stop (Esc)' }).click();
-    await page.getByText('Two-image reading stopped.').waitFor({ timeout: 10_000 });
+    await page.getByText('Plate pair stopped.').waitFor({ timeout: 10_000 });
     expect(await page.getByTestId('optics-results').count()).toBe(0);
     await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
     await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
@@ -195,12 +195,12 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('optics-director')).toBe(formatCell(result.directorDeg));
     expect(await text('optics-order2d')).toBe(formatCell(result.order2D));
     expect(await text('optics-retardance')).toBe(formatCell(result.retardanceNmMedian));
-    expect(await text('optics-shift')).toBe(formatCell((result.extra.registration as { shiftPx: number }).shiftPx));
+    expect(await text('optics-shift')).toBe(formatCell((result.reading.registration as { shiftPx: number }).shiftPx));
     expect(await text('optics-ambiguity')).toContain('full orientation');
-    expect(await text('optics-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file}`);
+    expect(await text('optics-cli')).toBe(`retarda plate-pair ${turned.set![0]} ${turned.file}`);
 
-    // The channel profile on this field is the one `retarda plate2 A B --auto-walls ...` prints.
-    expect(await text('profile-field')).toContain('two compensator images');
+    // The channel profile on this field is the one `retarda plate-pair A B --auto-walls ...` prints.
+    expect(await text('profile-field')).toContain('plate pair');
     await profileWithFoundWalls('25b-plate-pair-profile');
     const request = { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
     const withProfile = await analysePlatePair(load(turned.set![0]), load(turned.file), { compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', turnDeg: 45, profile: request });
@@ -208,29 +208,29 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(p.fieldMethod).toBe('plate-pair');
     expect(await text('core')).toBe(formatCell(p.core.order));
     expect(await text('skin')).toBe(formatCell(p.skin.order));
-    expect(await text('profile-cli')).toBe(`retarda plate2 ${turned.set![0]} ${turned.file} --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8`);
+    expect(await text('profile-cli')).toBe(`retarda plate-pair ${turned.set![0]} ${turned.file} --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8`);
   }, 240_000);
 
-  it('the four-angle set takes four images and their angles', async () => {
+  it('the angle series takes four images and their angles', async () => {
     await newSession();
-    const last = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-quad-675.png')!;
+    const last = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-angle-67.5deg.png')!;
     await page.getByRole('button', { name: `Open these ${last.set!.length} together` }).click();
     await page.locator('.images li', { hasText: last.file }).waitFor({ timeout: 30_000 });
     await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
     await idle();
     await tab('Polarised colours');
-    await page.getByLabel('crossed polars at several angles').check();
+    await page.getByLabel('angle series: crossed polarisers at 3 or more angles').check();
     for (let k = 0; k < 4; k++) expect(await page.getByTestId(`quad-image-${k}`).locator('option:checked').textContent()).toBe(last.set![k]);
     await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
     await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
     await idle();
-    await shot('26-four-angle');
-    const r = await analyseFourAngle(last.set!.map(load), { anglesDeg: [0, 22.5, 45, 67.5], compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', profile: null });
+    await shot('26-angle-series');
+    const r = await analyseAngleSeries(last.set!.map(load), { anglesDeg: [0, 22.5, 45, 67.5], compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', profile: null });
     expect(await text('optics-director')).toBe(formatCell(r.result.directorDeg));
     expect(await text('optics-order2d')).toBe(formatCell(r.result.order2D));
     expect(await text('optics-n')).toBe(formatCell(r.result.n));
     expect(await text('optics-ambiguity')).toContain('the one at 90° to it');
-    expect(await text('optics-cli')).toBe(`retarda quad ${last.set!.join(' ')}`);
+    expect(await text('optics-cli')).toBe(`retarda angle-series ${last.set!.join(' ')}`);
   }, 180_000);
 
   let umPerPx = 0;
@@ -288,14 +288,14 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.getByTestId('diameter-table').waitFor({ timeout: 120_000 });
     await idle();
     await shot('28-fibre-diameter');
-    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: umPerPxU, stepPx: 8, averagePx: 5, polarity: 'auto', backgroundDegree: 2 });
+    const d = analyseDiameter(load(file), { pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: umPerPxU, stepPx: 8, averagePx: 5, polarity: 'auto', shadingDegree: 2 });
     // One row per fibre that the analysis run in Node finds in the same file (a demo image is not an expected value).
     expect(d.fibres.length).toBeGreaterThan(0);
     expect(await page.locator('[data-testid^="diameter-mean-"]:not([data-testid^="diameter-mean-all"]):not([data-testid$="-interval"])').count()).toBe(d.fibres.length);
     for (const fb of d.fibres) expect(await text(`diameter-mean-${fb.index}`)).toBe(formatCell(fb.meanUm));
     expect(await text('diameter-mean-all')).toBe(formatCell(d.meanUm));
     expectDiameterCli(await text('diameter-cli'), file);
-    if (d.dropped > 0) expect(await page.getByTestId('diameter-dropped').locator('summary').textContent()).toContain(`${d.dropped} station(s) left out`);
+    if (d.dropped > 0) expect(await page.getByTestId('diameter-dropped').locator('summary').textContent()).toContain(`${d.dropped} station(s) dropped`);
     expect(await page.getByRole('img', { name: /histogram of \d+ values/ }).count()).toBe(1);
 
     // Compare keeps lengths and pixel counts apart and says which pixel size a length was measured with.
@@ -381,14 +381,14 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await idle();
     await tab('Polarised colours');
     const file = 'kestrel-channel-plate.png';
-    const options = { background: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 10, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const, profile: null };
+    const options = { sampleFree: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 10, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const, profile: null };
     const { result } = await analysePlate(load(file), options);
     expect(await text('optics-director')).toBe(expected(result, 'directorDeg', result.directorDeg));
     expect(await text('optics-order2d')).toBe(expected(result, 'order2D', result.order2D));
     expect(await text('optics-axis-order')).toBe(expected(result, 'axisOrder', result.axisOrder));
     expect(await text('optics-retardance')).toBe(formatCell(result.retardanceNmMedian));
     expect(await text('optics-n')).toBe(formatCell(result.n));
-    expect(await text('optics-cli')).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 10`);
+    expect(await text('optics-cli')).toBe(`retarda plate ${file} --sample-free 0,0,60,60 --axis-deg 10`);
     expect(await text('optics-kept')).toContain('read again to see its maps');
     // The form that made the reading is back: the reference axis and the sample-free area typed before the reload.
     expect(await page.getByTestId('optics-axis').inputValue()).toBe('10');
@@ -427,9 +427,9 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await page.evaluate(() => (document.activeElement as HTMLElement | null)?.blur());
     await page.keyboard.press(runKey!.toLowerCase());
     const file = 'kestrel-channel-plate.png';
-    await expect.poll(() => text('optics-cli'), { timeout: 120_000 }).toBe(`retarda plate ${file} --background 0,0,60,60 --axis-deg 45`);
+    await expect.poll(() => text('optics-cli'), { timeout: 120_000 }).toBe(`retarda plate ${file} --sample-free 0,0,60,60 --axis-deg 45`);
     await idle();
-    const { result } = await analysePlate(load(file), { background: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 45, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', match: 'lab', profile: null });
+    const { result } = await analysePlate(load(file), { sampleFree: { x: 0, y: 0, width: 60, height: 60 }, axisDeg: 45, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive', match: 'lab', profile: null });
     expect(await text('optics-axis-order')).toBe(expected(result, 'axisOrder', result.axisOrder));
     expect(await text('optics-director')).toBe(expected(result, 'directorDeg', result.directorDeg));
     await shot('33-run-key-plate-reading');
@@ -472,10 +472,10 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await page.getByTestId('one-image-needs').locator('li.missing').count()).toBe(0);
     await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
     const bg = `${v[0]},${v[1]},${v[2]},${v[3]}`;
-    await expect.poll(() => text('optics-cli'), { timeout: 120_000 }).toBe(`retarda plate ${file} --background ${bg} --sample-retardance-nm 150 --axis-deg 45`);
+    await expect.poll(() => text('optics-cli'), { timeout: 120_000 }).toBe(`retarda plate ${file} --sample-free ${bg} --sample-retardance-nm 150 --axis-deg 45`);
     await idle();
     await shot('36-plate-with-sample-retardance');
-    const reading = { background, sampleRetardanceNm: 150, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
+    const reading = { sampleFree: background, sampleRetardanceNm: 150, compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', retardanceMaxNm: 800, sign: 'positive' as const, match: 'lab' as const };
     const { result } = await analysePlate(img, { ...reading, axisDeg: 45, profile: null });
     // the page shows what the analysis decides with these options: the numbers, or "not determined" with the reason
     if (result.notDetermined?.order) {
@@ -494,7 +494,7 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('core')).toBe(expected(p, 'core', p.core.order));
     expect(await text('skin')).toBe(expected(p, 'skin', p.skin.order));
     expect(await text('ratio')).toBe(expected(p, 'coreSkinRatio', p.coreSkinRatio));
-    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --background ${bg} --sample-retardance-nm 150`);
+    expect(await text('profile-cli')).toBe(`retarda profile ${file} --source plate --auto-walls --bins 20 --stations 1 --core-max 0.5 --skin-min 0.8 --sample-free ${bg} --sample-retardance-nm 150`);
     expect(consoleErrors).toEqual([]);
   }, 300_000);
 });

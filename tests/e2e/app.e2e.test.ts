@@ -117,7 +117,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     expect(result.directorDeg).toBeLessThan(30);
 
     // The glyphs and the coherency picture are made when first shown.
-    await page.getByRole('button', { name: 'lines', exact: true }).click();
+    await page.getByRole('button', { name: 'direction lines', exact: true }).click();
     await page.locator('.viewer[data-overlay="glyphs"]').waitFor({ timeout: 30_000 });
     await shot('03-line-glyphs');
     await page.getByRole('button', { name: 'coherency', exact: true }).click();

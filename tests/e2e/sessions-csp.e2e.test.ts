@@ -85,7 +85,7 @@ describe.runIf(haveBrowser)('the page\'s content security policy', () => {
     await page.getByRole('button', { name: 'Analyse orientation' }).click();
     await page.getByTestId('director').waitFor({ timeout: 60_000 });
     await page.locator('.viewer[data-overlay="colour"]').waitFor({ timeout: 30_000 });
-    await page.getByRole('button', { name: 'lines', exact: true }).click();
+    await page.getByRole('button', { name: 'direction lines', exact: true }).click();
     await page.locator('.viewer[data-overlay="glyphs"]').waitFor({ timeout: 30_000 });
     await page.getByRole('button', { name: 'Find walls' }).click();
     await expect.poll(() => page.getByTestId('walls-editor').getByText(/^found: ±.* px RMS/).count(), { timeout: 60_000 }).toBe(2);

@@ -45,7 +45,7 @@ describe('solid round fibre: tex = rho * pi D^2 / 4 * 1e-3', () => {
   });
 });
 
-describe('specific stress: 1 N/tex = 1 GPa/(g/cm3)', () => {
+describe('tenacity and tensile strength: 1 N/tex = 1 GPa/(g/cm3)', () => {
   it('4.9 GPa at 1.80 g/cm3 is 2.7222 N/tex', () => {
     // 1 N/tex = 1 GPa / (g/cm3) (derived, docs/methods.md §13.3): 4.9 / 1.8 = 2.72222 N/tex (tol 1e-4)
     expect(Math.abs(nPerTexFromGpa(4.9, 1.8) - 2.7222)).toBeLessThan(1e-4);

@@ -7,8 +7,8 @@ import { decodeImagePages } from '../../src/image/index.ts';
 import { parseArgs, COMMON_OPTIONS } from '../../src/cli/args.ts';
 import type { Command } from '../../src/cli/command.ts';
 import { plateCommand } from '../../src/cli/commands/plate.ts';
-import { plate2Command } from '../../src/cli/commands/plate2.ts';
-import { quadCommand } from '../../src/cli/commands/quad.ts';
+import { platePairCommand } from '../../src/cli/commands/platePair.ts';
+import { angleSeriesCommand } from '../../src/cli/commands/angleSeries.ts';
 import { chartCommand } from '../../src/cli/commands/chart.ts';
 import { renderSampleImage, resolveTrain, turnedTrain, type SampleRetarder } from '../../src/optics/index.ts';
 import type { Image } from '../../src/image/types.ts';
@@ -26,7 +26,7 @@ function savePng(name: string, img: Image): string {
   return path;
 }
 
-// A 48 x 32 sample: a 12-px sample-free strip on the left (the background rectangle), then -20 deg / 200 nm and
+// A 48 x 32 sample: a 12-px sample-free strip on the left (the sample-free area), then -20 deg / 200 nm and
 // +20 deg / 350 nm (both readable from one plate image), with a 6-px band of 100 nm across the middle so the
 // registration check has edges in both directions.
 const W = 48, H = 32;
@@ -48,12 +48,12 @@ beforeAll(() => {
 
 describe('retarda plate', () => {
   it('reads orientation and retardance, calibrates from the background, writes the field', async () => {
-    const out = await run(plateCommand, [plateA, '--background', '0,0,12,32', '--compensator-nm', '550', '--json', '--field-out', join(dir, 'p.tif')]);
+    const out = await run(plateCommand, [plateA, '--sample-free', '0,0,12,32', '--compensator-nm', '550', '--json', '--field-out', join(dir, 'p.tif')]);
     const j = out.json as Record<string, any>;
     expect(j.analysis).toBe('plate');
     expect(j.ambiguity).toBe('mirror-about-compensator');
-    expect(j.extra.calibration.compensatorNm).toBe(550);
-    expect(j.extra.calibration.exposure).toBeCloseTo(0.75, 1);
+    expect(j.reading.calibration.compensatorNm).toBe(550);
+    expect(j.reading.calibration.exposure).toBeCloseTo(0.75, 1);
     // Sample pixels all stay; the 12-px sample-free strip reads near 0 nm and is mostly masked (20 nm floor).
     expect(j.confidence.n).toBeGreaterThanOrEqual((W - 12) * H);
     expect(j.confidence.n).toBeLessThanOrEqual((W - 12) * H + 0.5 * 12 * H);
@@ -73,17 +73,17 @@ describe('retarda plate', () => {
   });
 
   it('the S profile options and the mirror advice', async () => {
-    const out = await run(plateCommand, [plateA, '--background', '0,0,12,32', '--axis-deg', '0']);
+    const out = await run(plateCommand, [plateA, '--sample-free', '0,0,12,32', '--axis-deg', '0']);
     const j = out.json as Record<string, any>;
     expect(j.axisDeg).toBe(0);
-    expect(j.extra.advice).toContain('45 deg from the compensator axis');
-    expect(j.extra.mirrorChoiceMatteredFraction).toBeGreaterThan(0);
+    expect(j.reading.advice).toContain('45 deg from the compensator axis');
+    expect(j.reading.mirrorChoiceMatteredFraction).toBeGreaterThan(0);
     expect(out.warnings!.join(' ')).toContain('compensator axis');
   });
 
   it('bad options are input errors', async () => {
     await expect(run(plateCommand, [plateA, '--match', 'rgb'])).rejects.toThrow(InputError);
-    await expect(run(plateCommand, [plateA, '--background', '0,0,100,100'])).rejects.toThrow(InputError);
+    await expect(run(plateCommand, [plateA, '--sample-free', '0,0,100,100'])).rejects.toThrow(InputError);
     await expect(run(plateCommand, [plateA, '--illuminant', 'candle'])).rejects.toThrow(InputError);
     await expect(run(plateCommand, [])).rejects.toThrow(InputError);
     await expect(run(plateCommand, [plateA, '--white-rgb', '300,2,1'])).rejects.toThrow(InputError);
@@ -96,32 +96,32 @@ describe('retarda plate', () => {
     // Sample pixels all stay; the 12-px sample-free strip reads near 0 nm and is mostly masked (20 nm floor).
     expect(j.confidence.n).toBeGreaterThanOrEqual((W - 12) * H);
     expect(j.confidence.n).toBeLessThanOrEqual((W - 12) * H + 0.5 * 12 * H);
-    expect(j.warnings.join(' ')).not.toContain('no background rectangle');
+    expect(j.warnings.join(' ')).not.toContain('no sample-free area');
   });
 });
 
-describe('retarda plate2', () => {
+describe('retarda plate-pair', () => {
   it('gives the full orientation of both halves and checks registration', async () => {
-    const out = await run(plate2Command, [plateA, plateB, '--compensator-nm', '550', '--retardance-max-nm', '600', '--background', '0,0,12,32', '--field-out', join(dir, 'p2.tif')]);
+    const out = await run(platePairCommand, [plateA, plateB, '--compensator-nm', '550', '--retardance-max-nm', '600', '--sample-free', '0,0,12,32', '--field-out', join(dir, 'p2.tif')]);
     const j = out.json as Record<string, any>;
-    expect(j.analysis).toBe('plate2');
+    expect(j.analysis).toBe('plate-pair');
     expect(j.ambiguity).toBe('none');
-    expect(j.extra.registration.shiftPx).toBeLessThan(1);
+    expect(j.reading.registration.shiftPx).toBeLessThan(1);
     // Two halves at -20 and +20 deg with equal areas: the director is near 0 (or 90 when the 350-nm half weighs more).
     expect(Math.min(axialDiffDeg(j.directorDeg, 0), axialDiffDeg(j.directorDeg, 90))).toBeLessThan(5);
-    await expect(run(plate2Command, [plateA])).rejects.toThrow(InputError);
+    await expect(run(platePairCommand, [plateA])).rejects.toThrow(InputError);
   });
 });
 
-describe('retarda quad', () => {
+describe('retarda angle-series', () => {
   it('fits the four angles and resolves the 90-deg choice with the plate image', async () => {
-    const out = await run(quadCommand, [...quads, '--plate', plateA, '--plate-background', '0,0,12,32', '--field-out', join(dir, 'q.tif'), '--axis-deg', '-20']);
+    const out = await run(angleSeriesCommand, [...quads, '--plate', plateA, '--plate-sample-free', '0,0,12,32', '--field-out', join(dir, 'q.tif'), '--axis-deg', '-20']);
     const j = out.json as Record<string, any>;
-    expect(j.analysis).toBe('quad');
-    expect(j.extra.plateResolvedFraction).toBeGreaterThan(0.5);
+    expect(j.analysis).toBe('angle-series');
+    expect(j.reading.plateResolvedFraction).toBeGreaterThan(0.5);
     expect(j.n).toBeGreaterThan(0);
-    await expect(run(quadCommand, quads.slice(0, 3))).rejects.toThrow(InputError);
-    await expect(run(quadCommand, [...quads, '--angles', '0,45,90,135'])).rejects.toThrow(InputError);
+    await expect(run(angleSeriesCommand, quads.slice(0, 3))).rejects.toThrow(InputError);
+    await expect(run(angleSeriesCommand, [...quads, '--angles', '0,45,90,135'])).rejects.toThrow(InputError);
   });
 });
 

@@ -62,7 +62,7 @@ describe('fourAngleAnalysis on rendered images', () => {
 
   it('orientation mod 90 within 1 deg wherever the retardance is >= 50 nm', () => {
     const r = fourAngleAnalysis(quads);
-    expect(r.field.method).toBe('four-angle');
+    expect(r.field.method).toBe('angle-series');
     expect(r.field.ambiguity).toBe('mod-90');
     for (let k = 0; k < W * H; k++) {
       const i = Math.floor((k % W) / B), j = Math.floor(Math.floor(k / W) / B);

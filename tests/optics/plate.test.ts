@@ -1,8 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import {
   readPlate, renderSampleImage, calibrateFromBackground, mirrorChoiceStats, resolveMirrorWithTexture, compensatorAxisAdvice,
-  fullWavePlate, parseRect, type CameraCalibration,
+  fullWavePlate, type CameraCalibration,
 } from '../../src/optics/index.ts';
+import { parseRect } from '../../src/common/index.ts';
 import { DEG, axialDiffDeg } from '../../src/common/angles.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { makeImage } from '../../src/image/types.ts';
@@ -160,13 +161,13 @@ describe('mirror choice', () => {
     mask: new Uint8Array(angles.length).fill(1), method: 'plate', ambiguity: 'mirror-about-compensator', ambiguityAxisDeg: 45, options: {}, warnings: [], ...extra,
   });
 
-  it('mirrorChoiceStats: exact against the compensator axis, matters elsewhere', () => {
-    // Issue 3: cos 2 delta is even, so S against the compensator axis is exact; against 0 deg, theta = 10 vs 80 differ.
+  it('mirrorChoiceStats: free of the mirror choice against the compensator axis, matters elsewhere', () => {
+    // Issue 3: cos 2 delta is even, so S against the compensator axis is the same for a rod and its mirror; against 0 deg, theta = 10 vs 80 differ.
     const f = field([10, 20, 44.5, -30]);
-    expect(mirrorChoiceStats(f, 45)).toEqual({ mattersFraction: 0, exact: true, n: 4 });
-    expect(mirrorChoiceStats(f, -45).exact).toBe(true);
+    expect(mirrorChoiceStats(f, 45)).toEqual({ mattersFraction: 0, mirrorFree: true, n: 4 });
+    expect(mirrorChoiceStats(f, -45).mirrorFree).toBe(true);
     const s0 = mirrorChoiceStats(f, 0);
-    expect(s0.exact).toBe(false);
+    expect(s0.mirrorFree).toBe(false);
     expect(s0.mattersFraction).toBeCloseTo(0.75, 12);
   });
 
@@ -183,8 +184,8 @@ describe('mirror choice', () => {
   });
 
   it('compensatorAxisAdvice warns when the axis is far from the compensator axis', () => {
-    expect(compensatorAxisAdvice(45, 45).exact).toBe(true);
-    expect(compensatorAxisAdvice(-45, 45).exact).toBe(true);
+    expect(compensatorAxisAdvice(45, 45).mirrorFree).toBe(true);
+    expect(compensatorAxisAdvice(-45, 45).mirrorFree).toBe(true);
     const far = compensatorAxisAdvice(0, 45);
     expect(far.offsetDeg).toBeCloseTo(45, 12);
     expect(far.text).toContain('45 deg from the compensator axis');

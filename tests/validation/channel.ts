@@ -233,12 +233,12 @@ async function readProfile(r: Rendering, reader: Reader, walls: Walls, bins: num
   if (!bg) throw new Error(`${r.spec.name}: no sample-free rectangle for ${reader}`);
   switch (reader) {
     case 'plate, known retardance + background':
-      return (await analysePlate(r.image, { sampleRetardanceNm: r.spec.optics.retardanceNm, background: bg, profile: req })).result.profile!;
+      return (await analysePlate(r.image, { sampleRetardanceNm: r.spec.optics.retardanceNm, sampleFree: bg, profile: req })).result.profile!;
     case 'plate, background':
-      return (await analysePlate(r.image, { background: bg, profile: req })).result.profile!;
+      return (await analysePlate(r.image, { sampleFree: bg, profile: req })).result.profile!;
     case 'plate2, background':
       if (!r.imageB) throw new Error(`${r.spec.name}: no second image`);
-      return (await analysePlatePair(r.image, r.imageB, { background: bg, profile: req })).result.profile!;
+      return (await analysePlatePair(r.image, r.imageB, { sampleFree: bg, profile: req })).result.profile!;
   }
 }
 
@@ -373,8 +373,8 @@ async function coverageJob(caseIndex: number, seed: number): Promise<JobResult> 
     const { result } = await analyseOrientation(r.image, { axisDeg });
     const t = wholeImageTruth(r.truth, axisDeg);
     records.push(
-      { group: 'whole-image S_2D', estimate: num(result.order2D), lo: num(result.order2DCi?.[0]), hi: num(result.order2DCi?.[1]), ensemble: t.order2D.ensemble, realised: t.order2D.realised },
-      { group: 'whole-image S_axis', estimate: num(result.axisOrder), lo: num(result.axisOrderCi?.[0]), hi: num(result.axisOrderCi?.[1]), ensemble: t.axisOrder.ensemble, realised: t.axisOrder.realised },
+      { group: 'whole-image S_2D', estimate: num(result.order2D), lo: num(result.order2DCiLow), hi: num(result.order2DCiHigh), ensemble: t.order2D.ensemble, realised: t.order2D.realised },
+      { group: 'whole-image S_axis', estimate: num(result.axisOrder), lo: num(result.axisOrderCiLow), hi: num(result.axisOrderCiHigh), ensemble: t.axisOrder.ensemble, realised: t.axisOrder.realised },
     );
     return { records, refused: null };
   }
@@ -391,7 +391,7 @@ async function coverageJob(caseIndex: number, seed: number): Promise<JobResult> 
     { group: 'core', estimate: num(p.core.order), lo: num(p.core.ciLow), hi: num(p.core.ciHigh), ensemble: t.core.ensemble, realised: t.core.realised },
     { group: 'skin', estimate: num(p.skin.order), lo: num(p.skin.ciLow), hi: num(p.skin.ciHigh), ensemble: t.skin.ensemble, realised: t.skin.realised },
     {
-      group: 'core/skin ratio', estimate: num(p.coreSkinRatio), lo: num(p.coreSkinRatioCi?.[0]), hi: num(p.coreSkinRatioCi?.[1]), ensemble: t.ratio.ensemble, realised: t.ratio.realised,
+      group: 'core/skin ratio', estimate: num(p.coreSkinRatio), lo: num(p.coreSkinRatioCiLow), hi: num(p.coreSkinRatioCiHigh), ensemble: t.ratio.ensemble, realised: t.ratio.realised,
       mayWithhold: !(num(p.skin.ciLow) > 0 || num(p.skin.ciHigh) < 0),
     },
   );

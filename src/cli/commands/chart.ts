@@ -34,13 +34,13 @@ export const chartCommand: Command = {
     return {
       json: {
         schemaVersion: SCHEMA_VERSION, analysis: 'chart', illuminant: illuminantLabel(illuminant), compensatorNm, picture: out ?? null,
-        rows: rows.map((r) => ({ retardanceNm: r.retardanceNm, order: r.band.label, band: r.band.name, lab: r.plain.lab, srgb8: r.plain.srgb8, labWithCompensator: r.withCompensator.lab, srgb8WithCompensator: r.withCompensator.srgb8 })),
+        rows: rows.map((r) => ({ retardanceNm: r.retardanceNm, interferenceOrder: r.band.label, band: r.band.name, lab: r.plain.lab, srgb8: r.plain.srgb8, labWithCompensator: r.withCompensator.lab, srgb8WithCompensator: r.withCompensator.srgb8 })),
         warnings: [],
       },
-      table: formatTable(['retardance nm', 'order', 'band', 'colour', 'with compensator'],
+      table: formatTable(['retardance nm', 'interference order', 'band', 'colour', 'with compensator'],
         rows.filter((_, i) => i % every === 0).map((r) => [r.retardanceNm, r.band.label, r.band.name, hex(r.plain.srgb8), hex(r.withCompensator.srgb8)])),
       csvRows: rows.map((r) => ({
-        retardanceNm: r.retardanceNm, order: r.band.label, band: r.band.name,
+        retardanceNm: r.retardanceNm, interferenceOrder: r.band.label, band: r.band.name,
         labL: r.plain.lab[0], labA: r.plain.lab[1], labB: r.plain.lab[2], srgbR8: r.plain.srgb8[0], srgbG8: r.plain.srgb8[1], srgbB8: r.plain.srgb8[2],
         compensatorLabL: r.withCompensator.lab[0], compensatorLabA: r.withCompensator.lab[1], compensatorLabB: r.withCompensator.lab[2],
         compensatorSrgbR8: r.withCompensator.srgb8[0], compensatorSrgbG8: r.withCompensator.srgb8[1], compensatorSrgbB8: r.withCompensator.srgb8[2],

@@ -26,7 +26,7 @@ export const diameterCommand: Command = {
     { name: 'step-px', kind: 'number', help: 'distance between stations along the fibre, px', defaultText: '10' },
     { name: 'average-px', kind: 'number', help: 'length along the fibre each profile is averaged over, px', defaultText: '5' },
     { name: 'polarity', kind: 'string', help: 'fibre darker (dark) or brighter (bright) than the background', defaultText: 'auto' },
-    { name: 'background-degree', kind: 'number', help: 'degree of the illumination surface removed first (0-4)', defaultText: '2' },
+    { name: 'shading-degree', formerName: 'background-degree', kind: 'number', help: 'shading: degree of the surface of the uneven lamp field removed first (0 = a flat level, up to 4)', defaultText: '2' },
   ],
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
@@ -42,7 +42,7 @@ export const diameterCommand: Command = {
     const images = await loadImageFiles(a.positionals);
     const options = {
       pixelSizeUmPerPx: umPerPxOption, pixelSizeUncertainty: uncertaintyOption, stepPx: numberOpt(a, 'step-px'), averagePx: numberOpt(a, 'average-px'),
-      polarity: polarityFrom(a), backgroundDegree: numberOpt(a, 'background-degree'),
+      polarity: polarityFrom(a), shadingDegree: numberOpt(a, 'shading-degree'),
     };
     const docs = images.map((img) => {
       try {

@@ -18,7 +18,7 @@ function oneOf<U extends string>(a: ParsedArgs, what: string, choices: [string, 
 
 export const fibreCommand: Command = {
   name: 'fibre',
-  summary: 'fibre numbers: linear density, packing fraction, specific stress, birefringence, orientation factor',
+  summary: 'fibre numbers: linear density, packing fraction, tenacity and tensile strength, birefringence, orientation factor',
   usage: '--diameter-um D [--diameter-uncertainty-um U] --density G [--linear-density-tex T] [--tenacity-n-per-tex S] [--retardance-nm R] [--json]',
   options: [
     { name: 'diameter-um', kind: 'number', help: 'fibre diameter, um' },
@@ -26,10 +26,10 @@ export const fibreCommand: Command = {
     { name: 'linear-density-tex', kind: 'number', help: 'measured linear density, tex (for the packing fraction)' },
     { name: 'linear-density-dtex', kind: 'number', help: 'measured linear density, dtex' },
     { name: 'linear-density-den', kind: 'number', help: 'measured linear density, denier' },
-    { name: 'tenacity-n-per-tex', kind: 'number', help: 'specific stress (tenacity), N/tex' },
-    { name: 'tenacity-cn-per-dtex', kind: 'number', help: 'specific stress, cN/dtex' },
-    { name: 'tenacity-gf-per-den', kind: 'number', help: 'specific stress, gf/den' },
-    { name: 'strength-gpa', kind: 'number', help: 'stress, GPa (gives the tenacity at this density)' },
+    { name: 'tenacity-n-per-tex', kind: 'number', help: 'tenacity (breaking force per linear density), N/tex' },
+    { name: 'tenacity-cn-per-dtex', kind: 'number', help: 'tenacity, cN/dtex' },
+    { name: 'tenacity-gf-per-den', kind: 'number', help: 'tenacity, gf/den' },
+    { name: 'strength-gpa', kind: 'number', help: 'tensile strength (breaking force per area), GPa: gives the tenacity at this density' },
     { name: 'retardance-nm', kind: 'number', help: 'retardance through the fibre, nm (for the birefringence)' },
     { name: 'thickness-um', kind: 'number', help: 'optical path for the birefringence, um', defaultText: 'the diameter' },
     { name: 'intrinsic-birefringence', kind: 'number', help: 'birefringence of perfectly aligned material (orientation factor)' },
@@ -39,7 +39,7 @@ export const fibreCommand: Command = {
     { name: 'density-uncertainty', kind: 'number', help: 'standard uncertainty of the density, g/cm3' },
     { name: 'linear-density-uncertainty', kind: 'number', help: 'standard uncertainty of the linear density, in its unit' },
     { name: 'tenacity-uncertainty', kind: 'number', help: 'standard uncertainty of the tenacity, in its unit' },
-    { name: 'strength-uncertainty-gpa', kind: 'number', help: 'standard uncertainty of the stress, GPa' },
+    { name: 'strength-uncertainty-gpa', kind: 'number', help: 'standard uncertainty of the tensile strength, GPa' },
     { name: 'retardance-uncertainty-nm', kind: 'number', help: 'standard uncertainty of the retardance, nm' },
     { name: 'thickness-uncertainty-um', kind: 'number', help: 'standard uncertainty of the optical path, um' },
     { name: 'intrinsic-birefringence-uncertainty', kind: 'number', help: 'standard uncertainty of the intrinsic birefringence' },
@@ -80,7 +80,7 @@ export const fibreCommand: Command = {
       ['solid tex', 'solidTex', r.solidTex], ['solid dtex', 'solidDtex', r.solidDtex], ['solid denier', 'solidDenier', r.solidDenier],
       ['measured tex', null, r.linearDensityTex], ['packing fraction', 'packingFraction', r.packingFraction],
       ['tenacity N/tex', 'tenacityNPerTex', r.tenacityNPerTex], ['tenacity cN/dtex', 'tenacityCnPerDtex', r.tenacityCnPerDtex],
-      ['tenacity gf/den', 'tenacityGfPerDen', r.tenacityGfPerDen], ['strength GPa', 'strengthGPa', r.strengthGPa],
+      ['tenacity gf/den', 'tenacityGfPerDen', r.tenacityGfPerDen], ['tensile strength GPa', 'strengthGPa', r.strengthGPa],
       ['birefringence', 'birefringence', r.birefringence], ['orientation factor', 'orientationFactor', r.orientationFactor],
     ];
     const withInterval = (key: FibreNumberKey | null, v: number) => {

@@ -1,4 +1,5 @@
-import { analyseOrientation, NOT_DETERMINED, parseRect, type OrientResult } from '../../analyses/index.ts';
+import { analyseOrientation, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
+import { parseRect } from '../../common/index.ts';
 import { numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
@@ -53,7 +54,7 @@ export const orientCommand: Command = {
       axisDeg: numberOpt(a, 'axis-deg'),
       weighting: weightingFrom(a, true),
       blockPx: numberOpt(a, 'block-px'),
-      region: regionText ? parseRect(regionText) : undefined,
+      region: regionText ? parseRect(regionText, '--region') : undefined,
     };
     const fieldOut = stringOpt(a, 'field-out');
     const results: OrientResult[] = [];
@@ -65,7 +66,7 @@ export const orientCommand: Command = {
     const hasAxis = opts.axisDeg !== undefined;
     const table = formatTable(
       ['image', 'director deg', 'S_2D', 'ci low', 'ci high', ...(hasAxis ? ['S_axis'] : []), 'coherency', 'n'],
-      results.map((r) => [r.source, r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg, ...(r.notDetermined?.order2D ? [NOT_DETERMINED, '', ''] : [r.order2D, r.order2DCi[0], r.order2DCi[1]]), ...(hasAxis ? [r.axisOrder] : []), r.coherencyMean, r.n]),
+      results.map((r) => [r.source, r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg, ...(r.notDetermined?.order2D ? [NOT_DETERMINED, '', ''] : [r.order2D, r.order2DCiLow, r.order2DCiHigh]), ...(hasAxis ? [r.axisOrder] : []), r.coherencyMean, r.n]),
     );
     return {
       json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'orient', results },

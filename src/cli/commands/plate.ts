@@ -2,7 +2,8 @@ import {
   analysePlate, type OpticsResult, type OpticsSummaryOptions, type PlateOptions, type PlateReadingOptions, type TrainOptions,
 } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
-import { parseRect, type MatchSpace } from '../../optics/index.ts';
+import type { MatchSpace } from '../../optics/index.ts';
+import { parseRect } from '../../common/index.ts';
 import { flagOpt, numberList, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
 import type { Command, CommandOutput } from '../command.ts';
 import { formatPairs } from '../format.ts';
@@ -11,9 +12,9 @@ import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import { CHANNEL_OPTIONS, profileCsvRow, profileRequestFrom, profileTable, weightingFrom } from '../channelOptions.ts';
 
-/** The optical train, shared by plate, plate2, quad (its --plate image) and chart. */
+/** The optical train, shared by plate, plate-pair, angle-series (its --plate image) and chart. */
 export const TRAIN_OPTIONS: OptionSpec[] = [
-  { name: 'compensator-nm', kind: 'number', help: 'full-wave compensator retardance, nm (fitted from --background unless given)', defaultText: '550' },
+  { name: 'compensator-nm', kind: 'number', help: 'full-wave compensator retardance, nm (fitted from --sample-free unless given)', defaultText: '550' },
   { name: 'compensator-deg', kind: 'number', help: 'compensator slow-axis angle, degrees CCW from +x', defaultText: '45' },
   { name: 'polariser-deg', kind: 'number', help: 'polariser angle, degrees CCW from +x (analyser crossed)', defaultText: '0' },
   { name: 'illuminant', kind: 'string', help: 'lamp: a colour temperature such as 3200K, or D65, or A', defaultText: '3200K' },
@@ -25,12 +26,12 @@ export const KNOWN_RETARDANCE_OPTIONS: OptionSpec[] = [
   { name: 'sample-retardance-tolerance-nm', kind: 'number', help: 'one image: half-width of the known-retardance band, nm', defaultText: '10 % of the retardance' },
 ];
 
-/** Options of the compensator-image readers (the known-retardance ones are for one image: plate2 leaves them out). */
+/** Options of the compensator-image readers (the known-retardance ones are for one image: plate-pair leaves them out). */
 export const PLATE_OPTIONS: OptionSpec[] = [
   ...TRAIN_OPTIONS,
   { name: 'retardance-max-nm', kind: 'number', help: 'largest sample retardance searched, nm', defaultText: '800' },
   { name: 'retardance-min-nm', kind: 'number', help: 'mask pixels read below this retardance as sample-free, nm', defaultText: '20' },
-  { name: 'background', kind: 'string', help: 'sample-free rectangle "x,y,w,h": fits compensator retardance, white balance and exposure' },
+  { name: 'sample-free', formerName: 'background', kind: 'string', help: 'sample-free area "x,y,w,h": fits compensator retardance, white balance and exposure' },
   { name: 'white-rgb', kind: 'string', help: 'white reference "R,G,B" (8-bit codes as stored) of a sample-free area with parallel polars: sets the white balance' },
   { name: 'sign', kind: 'string', help: 'birefringence of the structure: positive (length-slow) or negative (length-fast)', defaultText: 'positive' },
   { name: 'field-out', kind: 'string', help: 'write the field as a float TIFF (angleDeg, confidence, retardanceNm, mask)' },
@@ -67,9 +68,9 @@ function signFrom(a: ParsedArgs): 'positive' | 'negative' | undefined {
 
 /** The options of PLATE_OPTIONS, as the analyses take them. */
 export function plateReadingFrom(a: ParsedArgs): PlateReadingOptions {
-  const bg = stringOpt(a, 'background');
+  const bg = stringOpt(a, 'sample-free');
   return {
-    ...trainOptionsFrom(a), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), retardanceMinNm: numberOpt(a, 'retardance-min-nm'), background: bg ? parseRect(bg) : undefined,
+    ...trainOptionsFrom(a), retardanceMaxNm: numberOpt(a, 'retardance-max-nm'), retardanceMinNm: numberOpt(a, 'retardance-min-nm'), sampleFree: bg ? parseRect(bg, '--sample-free') : undefined,
     whiteRgb: whiteFrom(a), sign: signFrom(a),
   };
 }
@@ -96,7 +97,7 @@ export function opticsTable(r: OpticsResult): string {
     ['method', String(r.options.method)],
     ...(nd ? [['order numbers', `${NOT_DETERMINED}: ${nd}`] as [string, string]] : [
       ['director deg', r.notDetermined?.directorDeg ? NOT_DETERMINED : r.directorDeg] as [string, string | number],
-      ['S_2D (95% CI)', `${r.order2D.toFixed(3)} (${r.order2DCi[0].toFixed(3)}..${r.order2DCi[1].toFixed(3)})`] as [string, string],
+      ['S_2D (95% CI)', `${r.order2D.toFixed(3)} (${r.order2DCiLow.toFixed(3)}..${r.order2DCiHigh.toFixed(3)})`] as [string, string],
       ...(r.axisOrder !== null ? [['S_axis', `${r.axisOrder.toFixed(3)} against ${r.axisDeg} deg`] as [string, string]] : []),
     ]),
     ['retardance nm (median)', r.retardanceNmMedian],
@@ -110,7 +111,7 @@ export function opticsTable(r: OpticsResult): string {
 
 export function opticsCsvRow(r: OpticsResult): Record<string, string | number | boolean | null> {
   return {
-    image: r.source, method: String(r.options.method), directorDeg: r.directorDeg, order2D: r.order2D, order2DCiLow: r.order2DCi[0], order2DCiHigh: r.order2DCi[1],
+    image: r.source, method: String(r.options.method), directorDeg: r.directorDeg, order2D: r.order2D, order2DCiLow: r.order2DCiLow, order2DCiHigh: r.order2DCiHigh,
     axisDeg: r.axisDeg, axisOrder: r.axisOrder, retardanceNmMedian: r.retardanceNmMedian, confidenceMean: r.confidence.mean,
     confidenceMedian: r.confidence.median, confidenceFractionAbove05: r.confidence.fractionAbove05, ambiguity: r.ambiguity, n: r.n,
     ...(r.profile ? profileCsvRow(r.profile) : {}),
@@ -133,8 +134,8 @@ export const MATCH_OPTION: OptionSpec = { name: 'match', kind: 'string', help: '
 
 export const plateCommand: Command = {
   name: 'plate',
-  summary: 'orientation and retardance from one compensator (full-wave plate) colour image',
-  usage: 'IMAGE... [--compensator-nm 550] [--compensator-deg 45] [--polariser-deg 0] [--illuminant 3200K|D65] [--retardance-max-nm 800] [--sample-retardance-nm R [--sample-retardance-tolerance-nm T]] [--background "x,y,w,h"] [--field-out FILE.tif] [--json]',
+  summary: 'plate reading: orientation and retardance from one compensator (full-wave plate) colour image',
+  usage: 'IMAGE... [--compensator-nm 550] [--compensator-deg 45] [--polariser-deg 0] [--illuminant 3200K|D65] [--retardance-max-nm 800] [--sample-retardance-nm R [--sample-retardance-tolerance-nm T]] [--sample-free "x,y,w,h"] [--field-out FILE.tif] [--json]',
   options: [
     ...PLATE_OPTIONS,
     MATCH_OPTION,

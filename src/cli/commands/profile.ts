@@ -28,7 +28,7 @@ async function profileFor(img: Image, a: ParsedArgs): Promise<{ field: Orientati
     const { field } = readPlateField(img, reading);
     return { field, result: request && await analysePlateProfile(img, field, reading, request) };
   }
-  throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate2 or quad with --walls for the other readers');
+  throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate-pair or angle-series with --walls for the other readers');
 }
 
 export const profileCommand: Command = {
