@@ -1,6 +1,7 @@
 import { readFile, stat, writeFile } from 'node:fs/promises';
 import { InputError } from '../common/errors.ts';
-import { decodeImage, decodeImagePages, MAX_DECODE_BYTES, type Image } from '../image/index.ts';
+import { decodeImage, decodeImagePages, MAX_DECODE_BYTES, usePlatformCodecs, type Image } from '../image/index.ts';
+import { NODE_CODECS } from './platform.ts';
 
 /** Node's readFile refuses files over 2 GiB; a 250 MP 16-bit RGB TIFF is 1.5 GB. */
 const MAX_FILE_BYTES = 2 ** 31 - 1;
@@ -50,6 +51,7 @@ const planeBytes = (img: Image) => img.planes.reduce((sum, p) => sum + p.byteLen
  *   or one that does not fit in what is left of the limit
  */
 export async function loadImageFiles(paths: string[]): Promise<Image[]> {
+  usePlatformCodecs(NODE_CODECS);
   const images: Image[] = [];
   let held = 0;
   for (const path of paths) {
@@ -65,6 +67,7 @@ export async function loadImageFiles(paths: string[]): Promise<Image[]> {
  * @throws InputError as loadImageFiles
  */
 export async function loadImagePages(path: string): Promise<Image[]> {
+  usePlatformCodecs(NODE_CODECS);
   return decodeImagePages(await readImageBytes(path), path);
 }
 

@@ -5,3 +5,4 @@ export { decodeImage, decodeImagePages } from './decode.ts';
 export { detectFormat, type ImageFormat } from './format.ts';
 export { ACCEPTED_FORMATS } from './checks.ts';
 export { planTiles, cropPlane, pasteInner, type Tile } from './tiles.ts';
+export { usePlatformCodecs, ZlibProblem, type PlatformCodecs } from './inflate.ts';

@@ -60,6 +60,33 @@ export interface ZlibSource {
 /** One piece as a ZlibSource. */
 export const oneZlibPiece = (bytes: Uint8Array): ZlibSource => ({ total: bytes.length, pieces: () => [bytes] });
 
+/**
+ * The platform's own zlib and CRC-32 (node:zlib in the command line: src/cli/platform.ts), used in place of
+ * fflate and the table CRC when set: some three times quicker at inflating, and the CRC in native code.
+ */
+export interface PlatformCodecs {
+  /**
+   * Inflates one whole zlib stream (RFC 1950), checking its Adler-32, into at most `maxBytes` bytes.
+   * Returns the output and the number of input bytes the stream took (less than the input when bytes
+   * follow the stream's end).
+   * @throws ZlibProblem in plain words for damaged or short data, a checksum that does not match, or
+   *   output past maxBytes (stopping there, without making the rest)
+   */
+  inflate(stream: Uint8Array, maxBytes: number): { output: Uint8Array; consumed: number };
+  /** CRC-32 of ISO 15948 Annex D (zlib's crc32) of the bytes. */
+  crc32(bytes: Uint8Array): number;
+}
+
+let platform: PlatformCodecs | null = null;
+
+/** Sets (or, with null, clears) the platform's codecs for every later decode in this thread. */
+export function usePlatformCodecs(codecs: PlatformCodecs | null): void {
+  platform = codecs;
+}
+
+/** The platform's codecs, when set. */
+export const platformCodecs = (): PlatformCodecs | null => platform;
+
 /** fflate's error codes (its FlateErrorCode) in plain words. */
 const INFLATE_WHY: Record<number, string> = {
   0: 'the compressed data ends too soon',
@@ -76,11 +103,13 @@ const INFLATE_WHY: Record<number, string> = {
  * @param maxBytes the most output the caller can use: inflating stops with a ZlibProblem as soon as
  *   the output passes it (a decompression bomb, or data longer than the header says)
  * @param onData receives each piece of output, in order; it may throw to stop
+ * @param whole the caller can hold the whole output at once (up to maxBytes) besides what it keeps:
+ *   the platform's inflater, when set, is then used, and `onData` gets the whole output in one piece
  * @returns the number of bytes produced
  * @throws ZlibProblem for a bad header, a preset dictionary, damaged or short data, too much
- *   output, or a checksum that does not match
+ *   output, a checksum that does not match, or (platform inflater) bytes after the stream's end
  */
-export function inflateZlib(source: ZlibSource, maxBytes: number, onData: (chunk: Uint8Array) => void): number {
+export function inflateZlib(source: ZlibSource, maxBytes: number, onData: (chunk: Uint8Array) => void, whole = false): number {
   const { total } = source;
   if (total < 6) throw new ZlibProblem('the compressed data is too short to be a zlib stream');
   const byteAt = (index: number): number => {
@@ -98,6 +127,7 @@ export function inflateZlib(source: ZlibSource, maxBytes: number, onData: (chunk
     throw new ZlibProblem('the compressed data does not start with a valid zlib header');
   }
   if (flg & 0x20) throw new ZlibProblem('the compressed data asks for a preset dictionary, which image files never use');
+  if (whole && platform) return inflateWhole(platform, source, maxBytes, onData);
   const stored = ((byteAt(total - 4) << 24) | (byteAt(total - 3) << 16) | (byteAt(total - 2) << 8) | byteAt(total - 1)) >>> 0;
 
   const adler = new Adler32();
@@ -144,4 +174,27 @@ export function inflateZlib(source: ZlibSource, maxBytes: number, onData: (chunk
     throw new ZlibProblem('the checksum of the decompressed data (zlib Adler-32) does not match');
   }
   return produced;
+}
+
+/** The stream's pieces as one array (a view of the one piece when there is only one). */
+function joined(source: ZlibSource): Uint8Array {
+  const pieces = [...source.pieces()];
+  if (pieces.length === 1) return pieces[0];
+  const all = new Uint8Array(source.total);
+  let at = 0;
+  for (const p of pieces) {
+    all.set(p, at);
+    at += p.length;
+  }
+  return all;
+}
+
+/** inflateZlib through the platform's inflater: the whole stream at once (its header already checked). */
+function inflateWhole(codecs: PlatformCodecs, source: ZlibSource, maxBytes: number, onData: (chunk: Uint8Array) => void): number {
+  const { output, consumed } = codecs.inflate(joined(source), maxBytes);
+  if (consumed !== source.total) {
+    throw new ZlibProblem(`the compressed data goes on for ${source.total - consumed} bytes after the end of its zlib stream`);
+  }
+  onData(output);
+  return output.length;
 }

@@ -1,7 +1,7 @@
 import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords } from './checks.ts';
-import { inflateZlib, ZlibProblem } from './inflate.ts';
+import { inflateZlib, platformCodecs, ZlibProblem } from './inflate.ts';
 import { pngPixelSizeUm } from './pixelSize.ts';
-import { makeImage, type Image } from './types.ts';
+import { makeImage, MAX_DECODE_BYTES, type Image } from './types.ts';
 
 /**
  * PNG decoding (ISO/IEC 15948:2004, "PNG (Second Edition)"), written here: the decoder library used
@@ -10,6 +10,9 @@ import { makeImage, type Image } from './types.ts';
  * PLTE, IDAT, IEND and pHYs), checks every one of their CRCs, skips every other ancillary chunk
  * unread, inflates the image data row by row with a cap of exactly the size IHDR implies, checks the
  * Adler-32 and writes samples straight into the float planes, so memory is the planes plus a few rows.
+ * With the platform's inflater (node:zlib in the command line, usePlatformCodecs), when the filtered image
+ * fits beside the planes in the memory limit, it is inflated at once (same cap and checks) and unfiltered
+ * where it lies: the planes plus the filtered bytes, at most as large again.
  */
 
 const FORMAT = 'PNG';
@@ -48,8 +51,10 @@ const CRC_TABLE = (() => {
   return t;
 })();
 
-/** CRC-32 of bytes[start, end) (ISO 15948 Annex D). */
+/** CRC-32 of bytes[start, end) (ISO 15948 Annex D): the platform's (usePlatformCodecs) when set. */
 export function crc32(bytes: Uint8Array, start: number, end: number): number {
+  const codecs = platformCodecs();
+  if (codecs) return codecs.crc32(bytes.subarray(start, end));
   let c = 0xffffffff;
   for (let i = start; i < end; i++) c = CRC_TABLE[(c ^ bytes[i]) & 0xff] ^ (c >>> 8);
   return (c ^ 0xffffffff) >>> 0;
@@ -207,7 +212,8 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
   const { width, height, bitDepth, colourType } = header;
   const kind = COLOUR_TYPES[colourType];
   const channels: 1 | 3 = colourType === 3 || kind.samples >= 3 ? 3 : 1;
-  checkDecodeBytes(name, FORMAT, sizeWords(width, height), width * height * channels * 4, maxBytes);
+  const planeBytes = width * height * channels * 4;
+  checkDecodeBytes(name, FORMAT, sizeWords(width, height), planeBytes, maxBytes);
   const chunks = readChunks(bytes, name);
 
   let palette: Uint8Array | undefined;
@@ -280,9 +286,29 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
       }
     }
   };
+  // With the platform's inflater, when the whole filtered image fits beside the planes: inflated at
+  // once and unfiltered where it lies, each row's previous row being the one before it.
+  const takeAll = (raw: Uint8Array) => {
+    if (raw.length !== expectedBytes) return; // refused below
+    const zeros = new Uint8Array(maxRow);
+    let at = 0;
+    for (const pass of plan) {
+      let above: Uint8Array = zeros.subarray(0, pass.bytes);
+      for (let r = 0; r < pass.h; r++, at += pass.bytes + 1) {
+        const line = raw.subarray(at + 1, at + 1 + pass.bytes);
+        const y = pass.y0 + r * pass.dy;
+        if (!unfilter(raw[at], line, above, bpp)) {
+          throw corrupt(name, FORMAT, `row ${y + 1} names filter type ${raw[at]}, which the PNG standard does not define`);
+        }
+        writeRow(line, y, pass.x0, pass.dx, pass.w);
+        above = line;
+      }
+    }
+  };
+  const whole = planeBytes + expectedBytes <= (maxBytes ?? MAX_DECODE_BYTES);
   let produced: number;
   try {
-    produced = inflateZlib(idat, expectedBytes, take);
+    produced = inflateZlib(idat, expectedBytes, whole && platformCodecs() ? takeAll : take, whole);
   } catch (e) {
     if (e instanceof ZlibProblem) throw corrupt(name, FORMAT, `in its image data ${e.why}`);
     throw e;
@@ -338,8 +364,17 @@ function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samp
         for (let i = 0; i < w; i++, p += dx) writePalette(row[i], p);
         return;
       }
+      // One loop per channel count, so each is a plain copy through the table.
+      if (keep === 1) {
+        const g = planes[0];
+        for (let i = 0, j = 0; i < w; i++, p += dx, j += samples) g[p] = byte[row[j]];
+        return;
+      }
+      const [r, g, b] = planes;
       for (let i = 0, j = 0; i < w; i++, p += dx, j += samples) {
-        for (let c = 0; c < keep; c++) planes[c][p] = byte[row[j + c]];
+        r[p] = byte[row[j]];
+        g[p] = byte[row[j + 1]];
+        b[p] = byte[row[j + 2]];
       }
       return;
     }

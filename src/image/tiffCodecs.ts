@@ -1,4 +1,4 @@
-import { inflateZlib, oneZlibPiece, ZlibProblem } from './inflate.ts';
+import { inflateZlib, oneZlibPiece, platformCodecs, ZlibProblem } from './inflate.ts';
 import { COMPRESSION } from './tiffHeader.ts';
 
 /**
@@ -38,13 +38,21 @@ export function decodeBlock(src: Uint8Array, compression: number, expected: numb
       break;
     case COMPRESSION.deflate:
     case COMPRESSION.deflateOld: {
-      out = new Uint8Array(most);
-      let at = 0;
       try {
+        if (platformCodecs()) {
+          // The platform's inflater writes the block into one buffer of its own: that is the output.
+          let got: Uint8Array = new Uint8Array(0);
+          produced = inflateZlib(oneZlibPiece(src), most, (chunk) => { got = chunk; }, true);
+          out = got;
+          break;
+        }
+        const into = new Uint8Array(most);
+        let at = 0;
         produced = inflateZlib(oneZlibPiece(src), most, (chunk) => {
-          out.set(chunk, at);
+          into.set(chunk, at);
           at += chunk.length;
         });
+        out = into;
       } catch (e) {
         if (e instanceof ZlibProblem) throw new BlockProblem(e.why);
         throw e;
