@@ -1,37 +1,144 @@
 /**
- * npm run bench: speed and memory of the texture pipeline (orientation field + channel profile) at
- * 12 MP and 1280x720, and, when Debian's python3-opencv is present, the ratio to native OpenCV doing
- * the same pipeline on the same pixels in the same run. Figures are printed, never asserted.
+ * npm run bench: speed and memory of the `retarda` command and the texture pipeline, each figure printed beside
+ * its goal (issue 14) and, where there is one, the ratio to native OpenCV (Debian's python3-opencv, one thread)
+ * doing the same job on the same files in the same run. Figures are printed, never asserted.
+ *
+ *   1. start-up: `retarda --help` and `retarda orient` on a 1 MP PNG as whole processes (node on the built bin);
+ *   2. `retarda orient` per image on 12 MP and 1280x720 PNG files, PNG decoding included on both sides: whole
+ *      processes given 1 and N files, so start-up cancels out ((time for N - time for 1) / (N - 1), best of a few);
+ *      native: tests/bench/native_orient.py; with the default Gaussian derivatives and with --derivative sobel;
+ *   3. peak memory of `retarda orient` on one 12 MP PNG;
+ *   4. the texture pipeline in this process (field, then a 20-bin channel profile) against native_pipeline.py;
+ *   5. optical readings of 12 MP images (benchOptics.ts).
+ * The machine is shared: every time is the best of several runs, and the ratios compare runs made side by side.
  */
-import { execFileSync } from 'node:child_process';
-import { existsSync, mkdtempSync, writeFileSync, rmSync } from 'node:fs';
+import { execFileSync, spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { join, resolve } from 'node:path';
 import { orientationField } from '../../src/orientation/index.ts';
 import { channelProfile, parseWalls } from '../../src/channel/index.ts';
-import { loadCv } from '../../src/cv/opencv.ts';
-import { benchOptics } from './benchOptics.ts';
+import { encodePng } from '../../src/report/png.ts';
+import { benchOptics, type GoalRow } from './benchOptics.ts';
 
+const ROOT = resolve(import.meta.dirname, '../..');
+const CLI = join(ROOT, 'dist/retarda.mjs');
+const PY = '/usr/bin/python3';
+const NATIVE_ORIENT = join(ROOT, 'tests/bench/native_orient.py');
 const SIGMA = 2, SIGMA_D = 1, REPEATS = 3;
+const NATIVE_ENV = { ...process.env, OMP_NUM_THREADS: '1', OPENCV_FOR_THREADS_NUM: '1' };
 
-function scene(width: number, height: number): Float32Array {
-  // Deterministic texture: stripes whose angle changes across the height, plus hash noise.
-  const d = new Float32Array(width * height);
+/** Goals of issue 14 ("Speed to the native limit"). */
+const GOALS = {
+  helpS: 0.3, orient1MpS: 0.5, perImageRatio: 1.2, peakMiB12Mp: 400,
+};
+
+const rows: GoalRow[] = [];
+const fmt = (s: number) => (s < 1 ? `${(s * 1000).toFixed(s < 0.1 ? 1 : 0)} ms` : `${s.toFixed(2)} s`);
+
+function hasNative(): boolean {
+  if (!existsSync(PY)) return false;
+  return spawnSync(PY, ['-c', 'import cv2, numpy'], { stdio: 'ignore' }).status === 0;
+}
+
+/** Seconds one whole process takes (it must exit 0). */
+function timedRun(cmd: string, args: string[], env: NodeJS.ProcessEnv = process.env): number {
+  const t0 = performance.now();
+  const r = spawnSync(cmd, args, { env, stdio: ['ignore', 'pipe', 'pipe'], maxBuffer: 1 << 28 });
+  const s = (performance.now() - t0) / 1000;
+  if (r.status !== 0) throw new Error(`${cmd} ${args.join(' ')} exited ${r.status}: ${r.stderr}`);
+  return s;
+}
+
+const best = (n: number, f: () => number) => Math.min(...Array.from({ length: n }, f));
+
+/** The bench's texture, as in native_orient.py (stripes whose angle swings across the height, hash noise), 8-bit. */
+function scene8(width: number, height: number): Uint8Array {
+  const d = new Uint8Array(width * height);
   for (let y = 0; y < height; y++) {
     const a = 0.5 * Math.sin((Math.PI * y) / height);
     const ca = Math.cos(a), sa = Math.sin(a);
     for (let x = 0; x < width; x++) {
       const h = Math.imul(x * 374761393 + y * 668265263, 1274126177) >>> 0;
-      d[y * width + x] = 0.5 + 0.3 * Math.sin((2 * Math.PI * (-x * sa + y * ca)) / 7) + 0.05 * (h / 4294967296 - 0.5);
+      d[y * width + x] = Math.max(0, Math.min(255, Math.round(255 * (0.5 + 0.3 * Math.sin((2 * Math.PI * (-x * sa + y * ca)) / 7) + 0.05 * (h / 4294967296 - 0.5)))));
     }
   }
+  return d;
+}
+
+/** A test PNG: written by OpenCV's PNG writer when python3-opencv is there (as a camera tool would), else by ours. */
+function writeScenePng(path: string, width: number, height: number, native: boolean): void {
+  if (native) execFileSync(PY, [NATIVE_ORIENT, '--write', String(width), String(height), path], { env: NATIVE_ENV });
+  else writeFileSync(path, encodePng({ width, height, channels: 1, data: scene8(width, height) }));
+}
+
+function startUp(dir: string, native: boolean): void {
+  console.log('\nstart-up (whole processes, node on the built bin dist/retarda.mjs; best of 5 and of 3)');
+  const help = best(5, () => timedRun(process.execPath, [CLI, '--help']));
+  const png1 = join(dir, 'one-mp.png');
+  writeScenePng(png1, 1000, 1000, native);
+  const one = best(3, () => timedRun(process.execPath, [CLI, 'orient', png1]));
+  console.log(`  retarda --help                 ${fmt(help).padStart(8)}   goal <= ${fmt(GOALS.helpS)}`);
+  console.log(`  retarda orient, 1 MP PNG       ${fmt(one).padStart(8)}   goal <= ${fmt(GOALS.orient1MpS)}`);
+  rows.push({ what: 'retarda --help (whole process)', value: fmt(help), goal: `<= ${fmt(GOALS.helpS)}`, met: help <= GOALS.helpS });
+  rows.push({ what: 'retarda orient, 1 MP PNG (whole process)', value: fmt(one), goal: `<= ${fmt(GOALS.orient1MpS)}`, met: one <= GOALS.orient1MpS });
+  if (native) {
+    const py = best(3, () => timedRun(PY, ['-c', 'import cv2, numpy'], NATIVE_ENV));
+    console.log(`  (python3 importing cv2: ${fmt(py)})`);
+  }
+}
+
+/** Per-image seconds of a command given 1 and `n` copies of a file: (T(n) - T(1)) / (n - 1), best of `repeats`. */
+function perImage(run: (files: string[]) => number, file: string, n: number, repeats: number): { perImageS: number; oneS: number } {
+  let one = Infinity, many = Infinity;
+  for (let r = 0; r < repeats; r++) {
+    one = Math.min(one, run([file]));
+    many = Math.min(many, run(Array.from({ length: n }, () => file)));
+  }
+  return { perImageS: (many - one) / (n - 1), oneS: one };
+}
+
+function orientPerImage(dir: string, native: boolean): void {
+  console.log('\nretarda orient per image, PNG decoding included (whole processes given 1 and N files; native: native_orient.py, one thread)');
+  for (const [w, h, n] of [[4000, 3000, 4], [1280, 720, 10]]) {
+    const png = join(dir, `scene-${w}x${h}.png`);
+    writeScenePng(png, w, h, native);
+    for (const derivative of ['gaussian', 'sobel']) {
+      const extra = derivative === 'sobel' ? ['--derivative', 'sobel'] : [];
+      const repeats = derivative === 'sobel' ? 2 : REPEATS;
+      const ours = perImage((files) => timedRun(process.execPath, [CLI, 'orient', ...extra, ...files]), png, n, repeats);
+      const label = `${w}x${h} ${derivative === 'sobel' ? '--derivative sobel' : '(default)'}`;
+      let line = `  ${label.padEnd(30)} retarda ${fmt(ours.perImageS).padStart(8)}/image (1 file: ${fmt(ours.oneS)})`;
+      if (native) {
+        const nat = perImage((files) => timedRun(PY, [NATIVE_ORIENT, ...extra, ...files], NATIVE_ENV), png, n, repeats);
+        const ratio = ours.perImageS / nat.perImageS;
+        line += `   native ${fmt(nat.perImageS).padStart(8)}/image (1 file: ${fmt(nat.oneS)})   ratio ${ratio.toFixed(2)}x   goal <= ${GOALS.perImageRatio}x`;
+        rows.push({ what: `orient per image ${label}`, value: `${fmt(ours.perImageS)} (native ${fmt(nat.perImageS)}) = ${ratio.toFixed(2)}x`, goal: `<= ${GOALS.perImageRatio}x`, met: ratio <= GOALS.perImageRatio });
+      }
+      console.log(line);
+    }
+  }
+}
+
+function peakMemory(dir: string): void {
+  const png = join(dir, 'scene-4000x3000.png');
+  const file = join(dir, 'maxrss.txt');
+  timedRun(process.execPath, [join(ROOT, 'tests/bench/maxrss.mjs'), CLI, 'orient', png], { ...process.env, RETARDA_MAXRSS_FILE: file });
+  const mib = Number(readFileSync(file, 'utf8')) / 1024;
+  console.log(`\npeak memory of retarda orient on one 12 MP PNG: ${mib.toFixed(0)} MiB   goal <= ${GOALS.peakMiB12Mp} MiB`);
+  rows.push({ what: 'peak memory, orient on one 12 MP PNG', value: `${mib.toFixed(0)} MiB`, goal: `<= ${GOALS.peakMiB12Mp} MiB`, met: mib <= GOALS.peakMiB12Mp });
+}
+
+function scene(width: number, height: number): Float32Array {
+  const d8 = scene8(width, height), d = new Float32Array(width * height);
+  for (let i = 0; i < d.length; i++) d[i] = d8[i] / 255;
   return d;
 }
 
 async function jsPipeline(width: number, height: number, data: Float32Array) {
   const plane = { width, height, data };
   const walls = parseWalls(`0,${0.1 * height},${width - 1},${0.1 * height};0,${0.9 * height},${width - 1},${0.9 * height}`);
-  let bestT = Infinity, bestP = Infinity, heap = 0;
+  let bestT = Infinity, bestP = Infinity;
   for (let r = 0; r < REPEATS; r++) {
     const t0 = performance.now();
     const field = await orientationField(plane, { sigmaPx: SIGMA, sigmaDerivPx: SIGMA_D });
@@ -40,62 +147,48 @@ async function jsPipeline(width: number, height: number, data: Float32Array) {
     const t2 = performance.now();
     bestT = Math.min(bestT, (t1 - t0) / 1000);
     bestP = Math.min(bestP, (t2 - t1) / 1000);
-    heap = Math.max(heap, process.memoryUsage().rss);
   }
-  return { tensorS: bestT, profileS: bestP, rssMiB: heap / 2 ** 20, wasmMiB: await wasmHeapMiB() };
+  return { tensorS: bestT, profileS: bestP };
 }
 
-function nativePipeline(width: number, height: number, data: Float32Array): { tensorS: number; profileS: number } | null {
-  const py = '/usr/bin/python3';
-  if (!existsSync(py)) return null;
-  try {
-    execFileSync(py, ['-c', 'import cv2'], { stdio: 'ignore' });
-  } catch {
-    return null;
+function nativePipeline(dir: string, width: number, height: number, data: Float32Array): { tensorS: number; profileS: number } {
+  const raw = join(dir, 'img.f32');
+  writeFileSync(raw, new Uint8Array(data.buffer, data.byteOffset, data.byteLength));
+  const out = execFileSync(PY, [join(ROOT, 'tests/bench/native_pipeline.py'), raw, String(width), String(height), String(SIGMA), String(SIGMA_D), String(REPEATS)], { env: NATIVE_ENV, encoding: 'utf8' });
+  return JSON.parse(out.trim().split('\n').pop()!);
+}
+
+async function inProcess(dir: string, native: boolean): Promise<void> {
+  console.log('\ntexture pipeline in this process (field: tensor, coherency, strength, mask; then a 20-bin channel profile; best of 3)');
+  for (const [w, h] of [[4000, 3000], [1280, 720], ...(process.env.RETARDA_BENCH_BIG ? [[10000, 10000]] : [])]) {
+    const data = scene(w, h);
+    const js = await jsPipeline(w, h, data);
+    let line = `  ${`${w}x${h}`.padEnd(12)} retarda field ${fmt(js.tensorS)}, profile ${fmt(js.profileS)}`;
+    if (native) {
+      const nat = nativePipeline(dir, w, h, data);
+      line += `   native field ${fmt(nat.tensorS)}, profile ${fmt(nat.profileS)}   ratio field ${(js.tensorS / nat.tensorS).toFixed(2)}x, total ${((js.tensorS + js.profileS) / (nat.tensorS + nat.profileS)).toFixed(2)}x`;
+    }
+    console.log(line);
   }
+}
+
+async function main() {
+  // The bench times the command as built from the sources now.
+  execFileSync(process.execPath, [join(ROOT, 'bin/build-cli.mjs')], { stdio: 'inherit' });
+  const native = hasNative();
+  if (!native) console.log('python3-opencv not found (apt-get install -y python3-opencv): no native ratios, and the PNGs are written by retarda');
   const dir = mkdtempSync(join(tmpdir(), 'retarda-bench-'));
   try {
-    const raw = join(dir, 'img.f32');
-    writeFileSync(raw, new Uint8Array(data.buffer, data.byteOffset, data.byteLength));
-    const out = execFileSync(py, [new URL('./native_pipeline.py', import.meta.url).pathname, raw, String(width), String(height), String(SIGMA), String(SIGMA_D), String(REPEATS)], {
-      env: { ...process.env, OMP_NUM_THREADS: '1', OPENCV_FOR_THREADS_NUM: '1' },
-      encoding: 'utf8',
-    });
-    return JSON.parse(out.trim().split('\n').pop()!);
+    startUp(dir, native);
+    orientPerImage(dir, native);
+    peakMemory(dir);
+    await inProcess(dir, native);
+    rows.push(...await benchOptics());
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
-}
-
-/** Size of opencv.js's WASM heap: it grows to the largest tile pipeline and never shrinks. */
-async function wasmHeapMiB(): Promise<number> {
-  const cv = (await loadCv()) as unknown as { HEAP8: Int8Array };
-  return cv.HEAP8.length / 2 ** 20;
-}
-
-const fmt = (s: number) => (s < 1 ? `${(s * 1000).toFixed(1)} ms` : `${s.toFixed(2)} s`);
-
-async function main() {
-  const t0 = performance.now();
-  await loadCv();
-  console.log(`opencv.js start-up: ${fmt((performance.now() - t0) / 1000)}`);
-  console.log('texture pipeline: structure tensor (sigma 2, Gaussian derivatives sigma 1) + orientation + coherency, then a 20-bin channel profile');
-  // RETARDA_BENCH_BIG=1 adds a 100-megapixel image: tiles keep the WASM heap at the size of one tile.
-  const sizes = [[4000, 3000], [1280, 720], ...(process.env.RETARDA_BENCH_BIG ? [[10000, 10000]] : [])];
-  for (const [w, h] of sizes) {
-    const data = scene(w, h);
-    const js = await jsPipeline(w, h, data);
-    const nat = nativePipeline(w, h, data);
-    console.log(`\n${w}x${h} (${((w * h) / 1e6).toFixed(1)} MP)`);
-    console.log(`  retarda  field ${fmt(js.tensorS)}  profile ${fmt(js.profileS)}  total ${fmt(js.tensorS + js.profileS)}  peak RSS ${js.rssMiB.toFixed(0)} MiB  WASM heap ${js.wasmMiB.toFixed(0)} MiB`);
-    if (nat) {
-      console.log(`  native   field ${fmt(nat.tensorS)}  profile ${fmt(nat.profileS)}  total ${fmt(nat.tensorS + nat.profileS)}  (python3-opencv, 1 thread)`);
-      console.log(`  ratio    field ${(js.tensorS / nat.tensorS).toFixed(2)}x  total ${((js.tensorS + js.profileS) / (nat.tensorS + nat.profileS)).toFixed(2)}x`);
-    } else {
-      console.log('  native   (python3-opencv not installed: apt-get install -y python3-opencv for the ratio)');
-    }
-  }
-  await benchOptics();
+  console.log('\nfigure                                              value                                   goal        met');
+  for (const r of rows) console.log(`  ${r.what.padEnd(50)} ${r.value.padEnd(39)} ${r.goal.padEnd(11)} ${r.met ? 'yes' : 'NO'}`);
 }
 
 await main();
