@@ -36,11 +36,19 @@ import { reportContent, type ReportContent } from './export/reportContent.ts';
 import { requestFieldTiff } from './export/fieldTiff.ts';
 import { viewPicturePng, type ViewPictureInput } from './export/viewPicture.ts';
 import { applied } from './setups/setup.ts';
+import { withinLimit } from '../src/common/index.ts';
+import { SETTING_LIMITS } from './storage/records.ts';
 import { calibrationChange, calibrationOf, calibrationShort, calibrationWords } from './setups/calibration.ts';
 import { useImageRectangles } from './components/imageRectangles.ts';
 import {
-  download, orientCommandLine, orientCsv, profileBinsCsv, profileCommandLine, profileCsv, wallsText,
+  download, orientCsv, profileBinsCsv, profileCsv,
 } from './export/rows.ts';
+import { snapWalls, wallsText } from '../src/channel/index.ts';
+import {
+  opticalCommandLine, orientCommandLine, orientOptionsOf, profileRequestOf, textureProfileCommandLine, type OpticalRequest,
+} from './analysis/requests.ts';
+import { opticalProfile, readingKeys } from './analysis/calls.ts';
+import type { ProfileRequest } from '../src/analyses/index.ts';
 
 /** The app's version (vite.config.ts). */
 declare const __RETARDA_VERSION__: string;
@@ -120,7 +128,7 @@ export function App() {
   /** Which field the viewer shows and the channel profile uses: the texture field or the optical one. */
   const [fieldChoice, setFieldChoice] = useState<'texture' | 'optical'>('texture');
   /** Command lines of profiles made on an optical field (the stored result does not say which reading made it). */
-  const [profileCli, setProfileCli] = useState<Record<string, string>>({});
+  const [profileReading, setProfileReading] = useState<Record<string, { reading: OpticalRequest; request: ProfileRequest }>>({});
   /** Which screen fills the page: the images of the session, the camera, or the compare view. */
   const [screen, setScreen] = useState<'images' | 'camera' | 'compare'>('images');
   const blobs = useRef(new Map<string, Blob>());
@@ -321,7 +329,7 @@ export function App() {
     try {
       await client.ensure(src, progress('Opening the image'));
       const o = s.settings;
-      const options = { sigmaPx: o.sigmaPx, weighting: o.weighting, axisDeg: o.axisDeg ?? undefined };
+      const options = orientOptionsOf(o);
       // Marks on the page's clock for the app bench: request sent, numbers back from the worker.
       performance.mark('retarda:orient-sent');
       // The numbers come first (shown and saved at once), the colour map after them.
@@ -354,15 +362,23 @@ export function App() {
       const opt = fieldChoice === 'optical' && optical?.imageId === id ? optical : null;
       // Optical readings are unweighted by default, as on the command line (their confidence would bias S);
       // the pixel-weights setting belongs to the texture field.
-      const request = { ...(w.wallsFound ? { autoWalls: true } : { channel: w.walls }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin, weighting: opt ? undefined : o.weighting };
-      const result = opt
-        ? await opt.profile.run(request, progress('Profile'))
-        : await client.call('profile', { key: id, texture: { sigmaPx: o.sigmaPx }, request }, progress('Profile'));
-      if (opt) setProfileCli((c) => ({ ...c, [id]: opt.profile.commandLine(request, w.wallsFound ? null : wallsText(w.walls!.walls)) }));
+      const request = profileRequestOf(o, w.walls, w.wallsFound, !opt);
+      let result;
+      if (opt) {
+        for (const key of readingKeys(opt.request)) {
+          const other = sourceOf(key);
+          if (!other) throw new Error('an image of this reading is no longer in the session');
+          await client.ensure(other, progress('Opening the image'));
+        }
+        result = await opticalProfile(client, opt.request, request, progress('Profile'));
+        setProfileReading((c) => ({ ...c, [id]: { reading: opt.request, request } }));
+      } else {
+        result = await client.call('profile', { key: id, texture: { sigmaPx: o.sigmaPx }, request }, progress('Profile'));
+      }
       change({ type: 'profile', id, result });
       say('info', 'Profile done.');
     } catch (e) { report(e, 'Profile'); } finally { setBusy(null); }
-  }, [client, activeTarget, progress, change, say, report, fieldChoice, optical]);
+  }, [client, activeTarget, sourceOf, progress, change, say, report, fieldChoice, optical]);
 
   const runFindWalls = useCallback(async () => {
     const target = activeTarget();
@@ -530,14 +546,20 @@ export function App() {
   }, [busy, client, runOrient, runFindWalls, runProfile, refreshList, active, screen]);
 
   const setSetting = (c: Partial<AnalysisSettings>) => change({ type: 'settings', change: c });
-  const numberField = (label: string, key: 'sigmaPx' | 'bins' | 'stations' | 'coreMax' | 'skinMin', min: number, max: number, step: number, unit = '') => (
-    <label className="field">
-      <span>{label}</span>
-      <input type="number" min={min} max={max} step={step} value={settings?.[key] ?? ''}
-        onChange={(e) => { const v = Number(e.target.value); if (e.target.value !== '' && Number.isFinite(v) && v >= min && v <= max) setSetting({ [key]: v }); }} />
-      {unit && <span className="unit">{unit}</span>}
-    </label>
-  );
+  /** Walls drawn or dragged by hand, kept to a tenth of a pixel so their --walls text is exact and short. */
+  const setWalls = (id: string, channel: Channel | null) => change({ type: 'walls', id, channel: channel && snapWalls(channel), found: false });
+  /** A number setting with the range the analysis checks (SETTING_LIMITS); a value outside it is not taken. */
+  const numberField = (label: string, key: keyof typeof SETTING_LIMITS, step: number) => {
+    const l = SETTING_LIMITS[key];
+    return (
+      <label className="field">
+        <span>{label}</span>
+        <input type="number" min={l.min} max={l.max} step={step} value={settings?.[key] ?? ''}
+          onChange={(e) => { const v = Number(e.target.value); if (e.target.value !== '' && withinLimit(l, v)) setSetting({ [key]: v }); }} />
+        {'unit' in l && l.unit && <span className="unit">{l.unit}</span>}
+      </label>
+    );
+  };
 
   const orient = work?.orient ?? null;
   const profile = work?.profile ?? null;
@@ -791,7 +813,7 @@ export function App() {
                 glyphs={(showOptical ? opticalHere!.glyphs : shown.glyphs) ?? []} retardance={showOptical ? opticalHere!.retardance : null} mode={mode} opacity={opacity}
                 marks={marks && marks.imageId === active.id ? marks.marks : keptMarks}
                 walls={walls} stations={stationLines} drawing={drawing} {...rects.viewer}
-                onWalls={(channel) => change({ type: 'walls', id: active.id, channel, found: false })}
+                onWalls={(channel) => setWalls(active.id, channel)}
                 onDrawingDone={() => setDrawing(false)}
               />
             ) : <div className="viewer placeholder">Opening {active.name}…</div>}
@@ -806,7 +828,7 @@ export function App() {
           <aside className="panel" aria-label="Analysis">
             <section data-testid="orient-section" data-worker-ms={JSON.stringify(workerTimes)} data-helper-tiles={helperTiles}>
               <h2>Orientation</h2>
-              {numberField('Texture scale σ', 'sigmaPx', 0.5, 30, 0.5, 'px')}
+              {numberField('Texture scale σ', 'sigmaPx', 0.5)}
               <label className="field">
                 <span>Pixel weights</span>
                 <select value={settings!.weighting} onChange={(e) => setSetting({ weighting: e.target.value as AnalysisSettings['weighting'] })}>
@@ -822,7 +844,7 @@ export function App() {
               <button className="primary" disabled={!!busy || engine === 'failed'} onClick={() => void runOrient()} title="Shortcut: O">Analyse orientation</button>
               {mode !== 'none' && orient && <ColourKey />}
               {orient && <OrientTable r={orient} stale={orientIsStale(orient, settings!)} />}
-              {orient && <p className="cli" title="Run this to get the same numbers from the command line"><code>{orientCommandLine(active.name, settings!)}</code></p>}
+              {orient && <p className="cli" title="Run this to get the same numbers from the command line"><code>{orientCommandLine(active.name, orientOptionsOf(settings!))}</code></p>}
               {orient && (
                 <p className="exports">
                   Save: <button onClick={() => download(`${base}-orient.json`, JSON.stringify(orient, null, 2), 'application/json')}>JSON</button>
@@ -851,15 +873,15 @@ export function App() {
                 <button disabled={!!busy || !shown} onClick={() => void runFindWalls()} title="Shortcut: F">Find walls</button>
                 {walls && <button className="quiet" onClick={() => change({ type: 'walls', id: active.id, channel: null, found: false })}>Clear walls</button>}
               </p>
-              {walls && <WallsEditor key={wallsText(walls.walls)} walls={walls} found={!!work?.wallsFound} fit={work?.wallFit} onChange={(channel) => change({ type: 'walls', id: active.id, channel, found: false })} />}
-              {numberField('Bins across', 'bins', 2, 200, 1)}
-              {numberField('Stations along', 'stations', 1, 100, 1)}
-              {numberField('Core: position |s| below', 'coreMax', 0.05, 1, 0.05)}
-              {numberField('Skin: position |s| above', 'skinMin', 0, 0.99, 0.05)}
+              {walls && <WallsEditor key={wallsText(walls.walls)} walls={walls} found={!!work?.wallsFound} fit={work?.wallFit} onChange={(channel) => setWalls(active.id, channel)} />}
+              {numberField('Bins across', 'bins', 1)}
+              {numberField('Stations along', 'stations', 1)}
+              {numberField('Core: position |s| below', 'coreMax', 0.05)}
+              {numberField('Skin: position |s| above', 'skinMin', 0.05)}
               <button className="primary" disabled={!!busy || !walls} onClick={() => void runProfile()} title="Shortcut: P">Profile across the channel</button>
               {profile && <ProfilePlot r={profile} />}
               {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings!)} onRemedy={profile.fieldMethod === 'plate' ? (r) => more.current?.remedy(r) : undefined} />}
-              {profile && walls && <p className="cli"><code data-testid="profile-cli">{profile.fieldMethod === 'texture' ? profileCommandLine(active.name, settings!, work?.wallsFound ? null : wallsText(walls.walls)) : profileCli[active.id] ?? `retarda ${profile.fieldMethod === 'plate' ? 'profile --source plate' : profile.fieldMethod} … with the reading's options`}</code></p>}
+              {profile && walls && <p className="cli"><code data-testid="profile-cli">{profile.fieldMethod === 'texture' ? textureProfileCommandLine(active.name, orientOptionsOf(settings!), profileRequestOf(settings!, walls, !!work?.wallsFound, true)) : profileReading[active.id] ? opticalCommandLine(profileReading[active.id].reading, profileReading[active.id].request) : `retarda ${profile.fieldMethod === 'plate' ? 'profile --source plate' : profile.fieldMethod} … with the reading's options`}</code></p>}
               {profile && (
                 <p className="exports">
                   Save: <button onClick={() => download(`${base}-profile.json`, JSON.stringify(profile, null, 2), 'application/json')}>JSON</button>

@@ -5,6 +5,7 @@
  */
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import { formatCell } from '../../src/cli/format.ts';
+import { BLOCK_CORRELATION_LENGTHS } from '../../src/order/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import { AnalysisClient } from '../worker/client.ts';
 import { ColourKey } from '../components/ColourKey.tsx';
@@ -338,7 +339,7 @@ export function CameraView(p: Props) {
           {reading && (
             <p className="note" data-testid="live-basis">
               Analysed at {analysed}{reading.plan.step > 1 ? `: the frame reduced to 1/${reading.plan.step} size, so σ = ${p.sigmaPx} px here is ${p.sigmaPx * reading.plan.step} camera px` : ' (full size)'};
-              texture scale σ {p.sigmaPx} px, weights {p.weighting}, 95 % interval from blocks of six correlation lengths. A kept frame is analysed at full size.
+              texture scale σ {p.sigmaPx} px, weights {p.weighting}, 95 % interval from blocks of {BLOCK_CORRELATION_LENGTHS} correlation lengths. A kept frame is analysed at full size.
               The bar on the picture points along the director; it is longer the higher S_2D. Readings cannot come faster than the camera's frames.
             </p>
           )}

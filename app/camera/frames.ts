@@ -4,8 +4,7 @@
  * the logic is unit-tested in Node.
  */
 import type { Image } from '../../src/image/types.ts';
-// kernels.ts only: the orientation folder's index pulls in opencv.js, which must stay in the worker.
-import { gaussianRadius } from '../../src/orientation/kernels.ts';
+import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
 import type { Rect } from '../../src/common/index.ts';
 
 /** A rectangle in camera-frame pixels (x right, y down, top-left pixel at 0,0). */
@@ -59,15 +58,12 @@ export function planReadout(frameWidth: number, frameHeight: number, step: numbe
   };
 }
 
-/** Derivative sigma of the texture analysis (STRUCTURE_TENSOR_DEFAULTS.sigmaDerivPx). */
-const SIGMA_DERIV_PX = 1;
-
 /**
- * Halo (analysed pixels) the structure tensor needs at texture scale sigmaPx: both kernels' radii
- * plus one, as tensorHaloPx gives for the default Gaussian derivative.
+ * Halo (analysed pixels) the structure tensor needs at texture scale sigmaPx with its default derivative: both
+ * kernels' radii plus one (tensorHaloPx).
  */
 export function readoutHaloPx(sigmaPx: number): number {
-  return gaussianRadius(SIGMA_DERIV_PX) + gaussianRadius(sigmaPx) + 1;
+  return tensorHaloPx(resolveTensorOptions({ sigmaPx }));
 }
 
 /** code / 255 as the image decoder stores it (float32), so the luma matches toGrey exactly. */

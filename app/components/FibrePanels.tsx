@@ -4,25 +4,18 @@
  * `retarda fibre` print for the same file and settings (the command line is shown with them).
  */
 import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
-import { NOT_DETERMINED, type DiameterDocument, type FibreNumbersRequest, type FibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../src/analyses/index.ts';
+import { NOT_DETERMINED, type DiameterAnalysisOptions, type DiameterDocument, type FibreNumbersRequest, type FibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../src/analyses/index.ts';
 import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { Mark } from './Viewer.tsx';
 import type { PanelContext, PanelHandle } from './OpticalPanel.tsx';
 import { Histogram } from './Histogram.tsx';
-import { commandLine, fibreArgs } from './commandLines.ts';
+import { diameterCommandLine, diameterOptionsOf, fibreCommandLine, fibreRequestOf, type FibreNumbersForm } from '../analysis/requests.ts';
 import { DEFAULT_DIAMETER_FORM, type DiameterForm, type SessionPixelSize, type StoredDiameterRun } from '../storage/records.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 
 export type { SessionPixelSize } from '../storage/records.ts';
-
-function num(text: string, what: string): number | undefined {
-  if (text.trim() === '') return undefined;
-  const v = Number(text);
-  if (!Number.isFinite(v)) throw new Error(`${what}: "${text}" is not a number`);
-  return v;
-}
 
 /** Edges and station widths drawn on the image: each kept station's width across the fibre axis, and the two edge lines. */
 export function diameterMarks(d: DiameterDocument): Mark[] {
@@ -116,27 +109,8 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
   async function run() {
     setFormError(null);
     if (!active) return;
-    let options;
-    try {
-      const typed = num(s.umPerPx, 'Pixel size');
-      const typedPct = num(uncertaintyPct, 'Pixel size uncertainty');
-      const umPerPx = typed ?? pixelSize?.umPerPx;
-      const relU = typedPct !== undefined ? typedPct / 100 : typed === undefined ? pixelSizeUncertainty ?? undefined : undefined;
-      if (relU !== undefined && umPerPx === undefined) throw new Error('Pixel size uncertainty: give the pixel size too');
-      options = {
-        pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: relU,
-        stepPx: num(s.stepPx, 'Station step'), averagePx: num(s.averagePx, 'Averaged length'),
-        polarity: s.polarity, shadingDegree: num(s.backgroundDegree, 'Shading'),
-      };
-    } catch (e) { setFormError((e as Error).message); return; }
-    const args = [
-      ...(options.pixelSizeUmPerPx !== undefined ? [`--um-per-px ${options.pixelSizeUmPerPx}`] : []),
-      ...(options.pixelSizeUncertainty !== undefined ? [`--um-per-px-uncertainty ${options.pixelSizeUncertainty}`] : []),
-      ...(options.stepPx !== undefined && options.stepPx !== 10 ? [`--step-px ${options.stepPx}`] : []),
-      ...(options.averagePx !== undefined && options.averagePx !== 5 ? [`--average-px ${options.averagePx}`] : []),
-      ...(options.polarity !== 'auto' ? [`--polarity ${options.polarity}`] : []),
-      ...(options.shadingDegree !== undefined && options.shadingDegree !== 2 ? [`--shading-degree ${options.shadingDegree}`] : []),
-    ];
+    let options: DiameterAnalysisOptions;
+    try { options = diameterOptionsOf(s, uncertaintyPct, { umPerPx: pixelSize?.umPerPx, uncertainty: pixelSizeUncertainty }); } catch (e) { setFormError((e as Error).message); return; }
     const id = active.id;
     const doc = await ctx.runJob('Fibre diameter', async (p) => {
       const src = ctx.sourceOf(id);
@@ -146,7 +120,7 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
     });
     if (!doc) return;
     onMarks(id, diameterMarks(doc));
-    onResult(id, doc, { form: s, commandLine: commandLine('diameter', [active.name], args) });
+    onResult(id, doc, { form: s, commandLine: diameterCommandLine(active.name, options) });
   }
 
   // Without deps: the handle always runs this render's form, as the button does.
@@ -235,7 +209,7 @@ interface NumbersProps {
 }
 
 /** The form's text fields: values and their standard uncertainties (k = 1, in the value's unit). */
-const EMPTY_NUMBERS_FORM = {
+const EMPTY_NUMBERS_FORM: FibreNumbersForm = {
   diameterUm: '', density: '', linearDensity: '', linearDensityUnit: 'tex' as LinearDensityUnit, tenacity: '', tenacityUnit: 'N/tex' as TenacityUnit,
   strengthGPa: '', retardanceNm: '', thicknessUm: '', intrinsic: '',
   uDiameterUm: '', diameterDof: '', uDensity: '', uLinearDensity: '', uTenacity: '', uStrengthGPa: '', uRetardanceNm: '', uThicknessUm: '', uIntrinsic: '',
@@ -252,28 +226,9 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
   async function run() {
     setFormError(null);
     let request: FibreNumbersRequest;
-    try {
-      const diameterUm = num(s.diameterUm, 'Diameter'), density = num(s.density, 'Density');
-      if (diameterUm === undefined || density === undefined) throw new Error('Give at least the diameter and the density of the solid material');
-      const ld = num(s.linearDensity, 'Linear density'), ten = num(s.tenacity, 'Tenacity');
-      const uncertainties = {
-        diameterUm: num(s.uDiameterUm, 'Diameter uncertainty'), diameterDof: num(s.diameterDof, 'Diameter degrees of freedom'),
-        densityGPerCm3: num(s.uDensity, 'Density uncertainty'), linearDensity: num(s.uLinearDensity, 'Linear density uncertainty'),
-        tenacity: num(s.uTenacity, 'Tenacity uncertainty'), strengthGPa: num(s.uStrengthGPa, 'Tensile strength uncertainty'),
-        retardanceNm: num(s.uRetardanceNm, 'Retardance uncertainty'), thicknessUm: num(s.uThicknessUm, 'Optical path uncertainty'),
-        intrinsicBirefringence: num(s.uIntrinsic, 'Intrinsic birefringence uncertainty'),
-      };
-      request = {
-        diameterUm, densityGPerCm3: density,
-        linearDensity: ld === undefined ? undefined : { value: ld, unit: s.linearDensityUnit },
-        tenacity: ten === undefined ? undefined : { value: ten, unit: s.tenacityUnit },
-        strengthGPa: num(s.strengthGPa, 'Tensile strength'), retardanceNm: num(s.retardanceNm, 'Retardance'),
-        thicknessUm: num(s.thicknessUm, 'Optical path'), intrinsicBirefringence: num(s.intrinsic, 'Intrinsic birefringence'),
-        ...(Object.values(uncertainties).some((v) => v !== undefined) ? { uncertainties } : {}),
-      };
-    } catch (e) { setFormError((e as Error).message); return; }
+    try { request = fibreRequestOf(s); } catch (e) { setFormError((e as Error).message); return; }
     const r = await ctx.runJob('Fibre numbers', (p) => ctx.client.call('fibreNumbers', { request }, p));
-    if (r) setShown({ r, cli: commandLine('fibre', [], fibreArgs(request)) });
+    if (r) setShown({ r, cli: fibreCommandLine(request) });
   }
 
   useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled) void run(); } }));

@@ -4,21 +4,14 @@
  * its standard uncertainty, its interval, the method and any warning beside it.
  */
 import { useImperativeHandle, useState, type Ref } from 'react';
-import type { MicrometerDocument } from '../../src/analyses/index.ts';
+import type { MicrometerAnalysisOptions, MicrometerDocument } from '../../src/analyses/index.ts';
 import { roundWithUncertainty } from '../../src/calibrate/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { PanelContext, PanelHandle } from './OpticalPanel.tsx';
-import { commandLine, micrometerArgs } from './commandLines.ts';
+import { micrometerCommandLine, micrometerOptionsOf, type MicrometerForm } from '../analysis/requests.ts';
 import type { SessionPixelSize, StoredMicrometer } from '../storage/records.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
-
-function num(text: string, what: string): number | undefined {
-  if (text.trim() === '') return undefined;
-  const v = Number(text);
-  if (!Number.isFinite(v)) throw new Error(`${what}: "${text}" is not a number`);
-  return v;
-}
 
 interface MicrometerProps {
   ctx: PanelContext;
@@ -59,22 +52,15 @@ function IntervalRows({ c }: { c: MicrometerDocument }) {
 }
 
 export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, handle }: MicrometerProps) {
-  const [s, setS] = useState({ divisionUm: '10', toleranceUm: '', polarity: 'auto', na: '' });
+  const [s, setS] = useState<MicrometerForm>({ divisionUm: '10', toleranceUm: '', polarity: 'auto', na: '' });
   const [formError, setFormError] = useState<string | null>(null);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
 
   async function run() {
     setFormError(null);
     if (!active) return;
-    let options;
-    try {
-      const divisionUm = num(s.divisionUm, 'Division spacing');
-      if (divisionUm === undefined) throw new Error('Give the spacing of one micrometer division (10 µm for 1 mm in 100)');
-      options = {
-        divisionUm, divisionToleranceUm: num(s.toleranceUm, 'Division tolerance'), polarity: s.polarity as 'auto' | 'dark' | 'bright',
-        na: num(s.na, 'Numerical aperture'),
-      };
-    } catch (e) { setFormError((e as Error).message); return; }
+    let options: MicrometerAnalysisOptions;
+    try { options = micrometerOptionsOf(s); } catch (e) { setFormError((e as Error).message); return; }
     const id = active.id;
     const doc = await ctx.runJob('Micrometer calibration', async (p) => {
       const src = ctx.sourceOf(id);
@@ -82,7 +68,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, 
       await ctx.client.ensure(src, p);
       return ctx.client.call('micrometer', { key: id, options }, p);
     });
-    if (doc) onCalibration(id, { doc, commandLine: commandLine('calibrate', [active.name], micrometerArgs(options)) });
+    if (doc) onCalibration(id, { doc, commandLine: micrometerCommandLine(active.name, options) });
   }
 
   useImperativeHandle(handle, () => ({ run: () => { if (!ctx.disabled && active) void run(); } }));

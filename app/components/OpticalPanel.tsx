@@ -6,27 +6,25 @@
  */
 import { useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
 import {
-  ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM, oneImageGaps, READING_NAMES,
-  type OpticsResult, type PlateReadingOptions, type ProfileRequest, type ProfileResult, type TrainOptions,
+  COMPENSATOR_OFFSET_DEG, ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM, OPTICS_LIMITS, oneImageGaps, READING_NAMES, type OpticsResult, type ReadingKind,
 } from '../../src/analyses/index.ts';
 import type { MatchSpace } from '../../src/optics/index.ts';
-import { parseRect, rectText, type Rect } from '../../src/common/index.ts';
+import { rectText, type Rect } from '../../src/common/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
-import type { Glyph, OpticsReply, Picture } from '../worker/protocol.ts';
+import type { Glyph, Picture } from '../worker/protocol.ts';
 import type { Layer } from './Viewer.tsx';
-import { DEFAULT_OPTICAL_FORM, type OpticalForm, type OpticsKind, type StoredOptics } from '../storage/records.ts';
+import { DEFAULT_OPTICAL_FORM, type OpticalForm, type StoredOptics } from '../storage/records.ts';
 import { ColourKey } from './ColourKey.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
 import { Undetermined } from './Results.tsx';
 import { headline, WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
 import type { OrientationField } from '../../src/orientation/index.ts';
 import type { ViewerBox } from './imageRectangles.ts';
-import { channelArgs, commandLine, knownRetardanceArgs, plateReadingArgs, quote, trainArgs, type KnownRetardance } from './commandLines.ts';
+import { formNumber, formRect, opticalCommandLine, opticalImages, opticalRequestOf, type OpticalRequest } from '../analysis/requests.ts';
+import { readingKeys, readOptical } from '../analysis/calls.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
-
-export type ReadingKind = OpticsKind;
 
 
 /** An optical field the viewer can show and the channel profile can use ("the current field"). */
@@ -43,8 +41,8 @@ export interface OpticalField {
   /** Null when the reading gives no retardance. */
   retardanceRangeNm: [number, number] | null;
   glyphs: Glyph[] | null;
-  /** The channel profile on this field: the command line and the run, so the profile panel needs to know nothing else. */
-  profile: { commandLine(req: ProfileRequest, wallsText: string | null): string; run(req: ProfileRequest, progress: ProgressFn): Promise<ProfileResult> };
+  /** The reading as asked, from which a channel profile on this field is asked and its command line written (app/analysis). */
+  request: OpticalRequest;
 }
 
 /** What the keyboard can do with a panel: run its analysis with the settings in its form, as its button does. */
@@ -71,35 +69,6 @@ export interface PanelContext {
 type Settings = OpticalForm;
 
 const DEFAULTS: Settings = DEFAULT_OPTICAL_FORM;
-
-/** Numbers typed in the form: blank = the command line's default (undefined); otherwise a finite number or an error. */
-function num(text: string, what: string): number | undefined {
-  if (text.trim() === '') return undefined;
-  const v = Number(text);
-  if (!Number.isFinite(v)) throw new Error(`${what}: "${text}" is not a number`);
-  return v;
-}
-
-/** A rectangle typed in the form: blank = none; otherwise parsed as the command line parses it. */
-const rectOf = (text: string, what: string): Rect | undefined => (text.trim() === '' ? undefined : parseRect(text.trim(), what));
-
-const trainOf = (s: Settings): TrainOptions => ({
-  compensatorNm: num(s.compensatorNm, 'Compensator retardance'), compensatorDeg: num(s.compensatorDeg, 'Compensator slow axis'),
-  polariserDeg: num(s.polariserDeg, 'Polariser'), illuminant: s.illuminant || undefined,
-});
-
-const readingOf = (s: Settings): PlateReadingOptions => ({
-  ...trainOf(s), retardanceMaxNm: num(s.retardanceMaxNm, 'Largest retardance'), sampleFree: rectOf(s.background, 'Sample-free area'),
-  sign: s.sign,
-});
-
-/** The one-image reading's known sample retardance; a tolerance alone is refused as the command line refuses it. */
-function knownOf(s: Settings): KnownRetardance {
-  const sampleRetardanceNm = num(s.sampleRetardanceNm, 'Sample retardance');
-  const sampleRetardanceToleranceNm = num(s.sampleRetardanceToleranceNm, 'Sample retardance tolerance');
-  if (sampleRetardanceNm === undefined && sampleRetardanceToleranceNm !== undefined) throw new Error('Sample retardance: give the retardance with its tolerance');
-  return { sampleRetardanceNm, sampleRetardanceToleranceNm };
-}
 
 /**
  * What the analysis withholds one image's S for even with everything the form can give (sample-free area, a
@@ -168,7 +137,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     if (r) { set({ background: rectText(r) }); setFocusNext('background'); }
   }
   // The sample-free area is shown on the image while this panel is.
-  const bgRect = kind !== 'angle-series' ? parses(() => rectOf(s.background, '')) : undefined;
+  const bgRect = kind !== 'angle-series' ? parses(() => formRect(s.background, '')) : undefined;
   const bgKey = bgRect ? rectText(bgRect) : '';
   useEffect(() => {
     ctx.showBoxes(visible && bgRect ? [{ rect: bgRect, label: 'sample-free area' }] : []);
@@ -179,14 +148,12 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     if (stored?.form) { setKind(stored.kind); setS(stored.form); }
   }, [stored]);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
-  const nameOf = (id: string) => ctx.images.find((i) => i.id === id)?.name ?? '';
   const others = ctx.images.filter((i) => i.id !== ctx.activeId);
-  // Until chosen: the images after this one in the session's list (how a set brought in together is ordered).
-  const after = ctx.images.slice(ctx.images.findIndex((i) => i.id === ctx.activeId) + 1);
-  const imageB = s.imageB || after[0]?.id || '';
-  const quadKeys = s.quadImages.map((id, k) => id || (k === 0 ? ctx.activeId : after[k - 1]?.id ?? ''));
+  const { imageB, angleKeys: quadKeys } = opticalImages(s, { images: ctx.images, activeId: ctx.activeId });
 
-  const compDeg = Number(s.compensatorDeg || 45);
+  // The compensator axis the reading will use: the one typed, else the polariser's + 45 deg (trainOf in src/analyses).
+  const defaultCompDeg = (Number(s.polariserDeg) || OPTICS_LIMITS.polariserDeg.default) + COMPENSATOR_OFFSET_DEG;
+  const compDeg = s.compensatorDeg.trim() === '' ? defaultCompDeg : Number(s.compensatorDeg);
   const axis = s.axisDeg.trim() === '' ? null : Number(s.axisDeg);
   const gap = axis === null || !Number.isFinite(axis) ? null : axisGap(axis, compDeg);
 
@@ -208,78 +175,19 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
   async function run() {
     setFormError(null);
     if (!active) return;
-    let job: (p: ProgressFn) => Promise<OpticsReply>;
-    let cli: string;
-    let profile: OpticalField['profile'];
-    let viewKey = active.id;
-    try {
-      const summary = { axisDeg: num(s.axisDeg, 'Reference axis') };
-      if (kind === 'plate') {
-        const known = knownOf(s);
-        const options = { ...readingOf(s), ...known, ...summary, match: s.match, resolveMirror: s.resolveMirror };
-        const args = [...plateReadingArgs(options), ...knownRetardanceArgs(known), ...(s.match !== 'lab' ? [`--match ${s.match}`] : [])];
-        cli = commandLine('plate', [active.name], [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : []), ...(s.resolveMirror ? ['--resolve-mirror'] : [])]);
-        job = async (p) => { await ensure([active.id], p); return ctx.client.call('plate', { key: active.id, options: { ...options, profile: null } }, p); };
-        // `retarda profile --source plate` reads the same image with the same options (its --axis-deg also sets the mirror choice).
-        const source = { kind: 'plate' as const, options: { ...readingOf(s), ...known, match: s.match } };
-        profile = {
-          commandLine: (req, walls) => commandLine('profile', [active.name], ['--source plate', ...channelArgs(req, walls), ...args]),
-          run: async (req, p) => { await ensure([active.id], p); return ctx.client.call('profile', { key: active.id, texture: {}, request: req, source }, p); },
-        };
-      } else if (kind === 'plate-pair') {
-        if (!imageB) throw new Error('Choose the second image (the one taken with the optics turned by 45°)');
-        const options = { ...readingOf(s), ...summary, turnDeg: num(s.turnDeg, 'Turn') };
-        const args = [...plateReadingArgs(options), ...(options.turnDeg !== undefined && options.turnDeg !== 45 ? [`--turn-deg ${options.turnDeg}`] : [])];
-        const files = [active.name, nameOf(imageB)];
-        cli = commandLine('plate-pair', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
-        const keyB = imageB;
-        job = async (p) => { await ensure([active.id, keyB], p); return ctx.client.call('platePair', { key: active.id, keyB, options: { ...options, profile: null } }, p); };
-        profile = {
-          commandLine: (req, walls) => commandLine('plate-pair', files, [...args, ...channelArgs(req, walls)]),
-          run: async (req, p) => {
-            await ensure([active.id, keyB], p);
-            const r = await ctx.client.call('platePair', { key: active.id, keyB, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
-            return r.result.profile!;
-          },
-        };
-      } else {
-        const keys = quadKeys;
-        if (keys.some((k) => !k)) throw new Error('Choose an image for every angle');
-        viewKey = keys[0];
-        const anglesDeg = s.quadAngles.map((a, k) => num(a, `Angle ${k + 1}`) ?? NaN);
-        if (anglesDeg.some((a) => !Number.isFinite(a))) throw new Error('Give an angle for every image');
-        const options = { ...trainOf(s), ...summary, anglesDeg, plateSampleFree: rectOf(s.quadPlateBackground, 'Sample-free area of the compensator image') };
-        const plateKey = s.quadPlate || undefined;
-        const isDefault = anglesDeg.join(',') === '0,22.5,45,67.5';
-        const args = [
-          ...(isDefault ? [] : [`--angles ${anglesDeg.join(',')}`]), ...(plateKey ? [`--plate ${quote(nameOf(plateKey))}`] : []),
-          ...(options.plateSampleFree ? [`--plate-sample-free ${rectText(options.plateSampleFree)}`] : []),
-          ...trainArgs(options),
-        ];
-        const files = keys.map(nameOf);
-        cli = commandLine('angle-series', files, [...args, ...(summary.axisDeg !== undefined ? [`--axis-deg ${summary.axisDeg}`] : [])]);
-        const all = plateKey ? [...keys, plateKey] : keys;
-        job = async (p) => { await ensure(all, p); return ctx.client.call('angleSeries', { keys, plateKey, options: { ...options, profile: null } }, p); };
-        profile = {
-          commandLine: (req, walls) => commandLine('angle-series', files, [...args, ...channelArgs(req, walls)]),
-          run: async (req, p) => {
-            await ensure(all, p);
-            const r = await ctx.client.call('angleSeries', { keys, plateKey, options: { ...options, axisDeg: req.axisDeg, profile: req } }, p);
-            return r.result.profile!;
-          },
-        };
-      }
-    } catch (e) { setFormError((e as Error).message); return; }
+    let request: OpticalRequest;
+    try { request = opticalRequestOf(kind, s, { images: ctx.images, activeId: ctx.activeId }); } catch (e) { setFormError((e as Error).message); return; }
+    const job = async (p: ProgressFn) => { await ensure(readingKeys(request), p); return readOptical(ctx.client, request, p); };
     const what = READING_NAMES[kind][0].toUpperCase() + READING_NAMES[kind].slice(1);
     const reply = await ctx.runJob(what, job);
     if (!reply) return;
     // The answer (or "not determined" and what to do) comes into view, also on a short screen.
     setTimeout(() => resultsRef.current?.scrollIntoView?.({ block: 'nearest' }), 0);
     const imageId = active.id;
-    onReading(imageId, { kind, result: reply.result, commandLine: cli, rangeNm: reply.retardanceRangeNm, form: s });
+    onReading(imageId, { kind, result: reply.result, commandLine: opticalCommandLine(request), rangeNm: reply.retardanceRangeNm, form: s });
     onField({
       imageId, label: READING_NAMES[kind],
-      viewKey, colour: layerOf(reply.colour), confidence: null, retardance: null, retardanceRangeNm: reply.retardanceRangeNm, glyphs: null, profile,
+      viewKey: request.keys[0], colour: layerOf(reply.colour), confidence: null, retardance: null, retardanceRangeNm: reply.retardanceRangeNm, glyphs: null, request,
     });
   }
 
@@ -323,7 +231,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
   );
 
   // What one image needs for its order numbers, checked on the form before the run (the analysis decides on the result).
-  const retNm = parses(() => num(s.sampleRetardanceNm, ''));
+  const retNm = parses(() => formNumber(s.sampleRetardanceNm, ''));
   const needs = kind === 'plate' ? [
     { ok: !!bgRect, text: bgRect ? 'sample-free area given' : 'no sample-free area: draw one (or type x,y,w,h)' },
     {
@@ -337,7 +245,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
         : { ok: true, text: `reference axis ${axisAcross(axis, compDeg) ? 'across' : 'along'} the compensator's slow axis` },
   ] : [];
   const missing = needs.filter((n) => !n.ok).length;
-  const never = kind === 'plate' ? oneImageNeverWhy(Number.isFinite(compDeg) ? compDeg : 45) : null;
+  const never = kind === 'plate' ? oneImageNeverWhy(Number.isFinite(compDeg) ? compDeg : defaultCompDeg) : null;
 
   const r = stored;
   return (
@@ -418,7 +326,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
 
       <details className="settings">
         <summary>Optical train and reading settings</summary>
-        {field('Compensator retardance', 'compensatorNm', 'nm', kind === 'angle-series' ? '550' : 'fit from the sample-free area, else 550')}
+        {field('Compensator retardance', 'compensatorNm', 'nm', kind === 'angle-series' ? String(OPTICS_LIMITS.compensatorNm.default) : `fit from the sample-free area, else ${OPTICS_LIMITS.compensatorNm.default}`)}
         {field('Compensator slow axis', 'compensatorDeg', 'deg')}
         {field('Polariser', 'polariserDeg', 'deg')}
         <label className="field">

@@ -9,7 +9,9 @@ import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { SessionRecord, StoredDiameterRun, StoredOptics } from '../storage/records.ts';
 import { setupCommandOptions, setupSummary } from '../setups/setup.ts';
 import { calibrationOf, calibrationWords, isMeasured, umPerPxText } from '../setups/calibration.ts';
-import { orientCommandLine, profileCommandLine, wallsText } from './rows.ts';
+import { wallsText } from '../../src/channel/index.ts';
+import type { Weighting } from '../../src/order/index.ts';
+import { orientCommandLine, textureProfileCommandLine } from '../analysis/requests.ts';
 
 export interface ReportNumber {
   label: string;
@@ -69,7 +71,7 @@ function orientSection(r: OrientResult, name: string): ReportImage['sections'][n
   return {
     title: 'Orientation (structure tensor)', numbers,
     settings: [`texture scale σ ${o.sigmaPx ?? '?'} px`, `pixel weights: ${o.weighting ?? '?'}`, `interval blocks ${o.blockPx ?? '?'} px (${r.blocks} blocks)`],
-    commandLine: orientCommandLine(name, { sigmaPx: Number(o.sigmaPx), weighting: String(o.weighting), axisDeg: r.axisDeg }),
+    commandLine: orientCommandLine(name, { sigmaPx: o.sigmaPx, weighting: o.weighting as Weighting | undefined, ...(r.axisDeg !== null ? { axisDeg: r.axisDeg } : {}) }),
     warnings: r.warnings,
   };
 }
@@ -81,8 +83,8 @@ function profileSection(r: ProfileResult, name: string): ReportImage['sections']
   return {
     title: `Across the channel (${texture ? 'structure tensor' : READING_NAMES[r.fieldMethod as ReadingKind] ?? r.fieldMethod})`,
     numbers: [
-      withheld({ label: `Core S (|s| < ${o.coreMax})`, value: num(r.core.order), ci: [r.core.ciLow, r.core.ciHigh], n: r.core.n, unit: '' }, all),
-      withheld({ label: `Skin S (|s| > ${o.skinMin})`, value: num(r.skin.order), ci: [r.skin.ciLow, r.skin.ciHigh], n: r.skin.n, unit: '' }, all),
+      withheld({ label: `Core S (position |s| < ${o.coreMax})`, value: num(r.core.order), ci: [r.core.ciLow, r.core.ciHigh], n: r.core.n, unit: '' }, all),
+      withheld({ label: `Skin S (position |s| > ${o.skinMin})`, value: num(r.skin.order), ci: [r.skin.ciLow, r.skin.ciHigh], n: r.skin.n, unit: '' }, all),
       withheld({ label: 'Core / skin', value: num(r.coreSkinRatio), ci: [r.coreSkinRatioCiLow, r.coreSkinRatioCiHigh], n: null, unit: '' }, all ?? r.notDetermined?.coreSkinRatio),
       { label: 'Reference axis', value: num(r.axisDeg), ci: null, n: null, unit: 'deg' },
     ],
@@ -91,9 +93,10 @@ function profileSection(r: ProfileResult, name: string): ReportImage['sections']
       `texture scale σ ${o.sigmaPx} px`, `pixel weights: ${o.weighting}`,
     ],
     // The command line reproduces texture profiles; optical ones are made by the reader named in the title.
-    commandLine: texture ? profileCommandLine(name, {
-      sigmaPx: Number(o.sigmaPx), weighting: String(o.weighting), bins: Number(o.bins), stations: Number(o.stations), coreMax: Number(o.coreMax), skinMin: Number(o.skinMin),
-    }, r.wallsFound ? null : wallsText(r.walls)) : null,
+    commandLine: texture ? textureProfileCommandLine(name, { sigmaPx: o.sigmaPx }, {
+      ...(r.wallsFound ? { autoWalls: true } : { channel: { walls: r.walls } }), bins: o.bins, stations: o.stations, coreMax: o.coreMax, skinMin: o.skinMin,
+      weighting: o.weighting as Weighting | undefined,
+    }) : null,
     warnings: r.warnings,
   };
 }

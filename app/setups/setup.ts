@@ -5,6 +5,7 @@
 import { isInputError } from '../../src/common/errors.ts';
 import { umPerPxFromOptics } from '../../src/calibrate/optics.ts';
 import { resolveTrain, type OpticalTrain } from '../../src/optics/train.ts';
+import { COMPENSATOR_OFFSET_DEG, DEFAULT_ILLUMINANT, OPTICS_LIMITS } from '../../src/analyses/index.ts';
 import { parseIlluminant } from '../../src/optics/spectrum.ts';
 import { keySet, unknownKeys, withUnknown } from '../storage/unknownKeys.ts';
 
@@ -45,8 +46,11 @@ export interface SetupRecord {
 }
 
 /** The CLI's defaults (retarda plate): polariser 0, analyser 90, full-wave 550 nm at +45, 3200 K lamp. */
+/** A new set-up's train: the optical readings' defaults (OPTICS_LIMITS in src/analyses), analyser crossed. */
 export const DEFAULT_TRAIN_SETTINGS: TrainSettings = {
-  polariserDeg: 0, analyserDeg: 90, compensator: { kind: 'full-wave', retardanceNm: 550, axisDeg: 45 }, illuminant: '3200K',
+  polariserDeg: OPTICS_LIMITS.polariserDeg.default, analyserDeg: OPTICS_LIMITS.polariserDeg.default + 90,
+  compensator: { kind: 'full-wave', retardanceNm: OPTICS_LIMITS.compensatorNm.default, axisDeg: OPTICS_LIMITS.polariserDeg.default + COMPENSATOR_OFFSET_DEG },
+  illuminant: DEFAULT_ILLUMINANT,
 };
 
 export function newSetup(id: string, name: string, now = new Date()): SetupRecord {

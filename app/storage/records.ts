@@ -12,7 +12,12 @@
 import { upgradeCommandLine, upgradeResult, type ReadingKind, type MicrometerDocument, type OpticsResult, type OrientResult, type ProfileResult } from '../../src/analyses/index.ts';
 import type { DiameterDocument } from '../../src/analyses/diameter.ts';
 import type { Channel, Segment, WallFit } from '../../src/channel/index.ts';
-import { formerWeighting, TEXTURE_WEIGHTINGS, type Weighting } from '../../src/order/index.ts';
+import { DEFAULT_WEIGHTING, formerWeighting, TEXTURE_WEIGHTINGS, type Weighting } from '../../src/order/index.ts';
+import { COMPENSATOR_OFFSET_DEG, DEFAULT_ANGLES_DEG, DEFAULT_ILLUMINANT, OPTICS_LIMITS } from '../../src/analyses/index.ts';
+import { withinLimit } from '../../src/common/index.ts';
+import { TENSOR_LIMITS } from '../../src/orientation/index.ts';
+import { PROFILE_LIMITS } from '../../src/channel/index.ts';
+import { DIAMETER_LIMITS } from '../../src/fibre/index.ts';
 import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
 import { keySet, unknownKeys, withUnknown } from './unknownKeys.ts';
 
@@ -35,8 +40,16 @@ export interface AnalysisSettings {
   skinMin: number;
 }
 
-/** The CLI's defaults (retarda orient / profile). */
-export const DEFAULT_SETTINGS: AnalysisSettings = { sigmaPx: 2, weighting: 'coherency', axisDeg: null, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
+/** The ranges of the number settings, as the analyses check them (the form and restore use the same). */
+export const SETTING_LIMITS = {
+  sigmaPx: TENSOR_LIMITS.sigmaPx, bins: PROFILE_LIMITS.bins, stations: PROFILE_LIMITS.stations, coreMax: PROFILE_LIMITS.coreMax, skinMin: PROFILE_LIMITS.skinMin,
+} as const;
+
+/** The analyses' defaults (retarda orient / profile). */
+export const DEFAULT_SETTINGS: AnalysisSettings = {
+  sigmaPx: SETTING_LIMITS.sigmaPx.default, weighting: DEFAULT_WEIGHTING.texture, axisDeg: null, bins: SETTING_LIMITS.bins.default,
+  stations: SETTING_LIMITS.stations.default, coreMax: SETTING_LIMITS.coreMax.default, skinMin: SETTING_LIMITS.skinMin.default,
+};
 
 export interface ImageMeta { id: string; name: string; type: string; size: number; page: number; addedAt: string }
 
@@ -75,11 +88,12 @@ export interface OpticalForm {
   sampleRetardanceNm: string; sampleRetardanceToleranceNm: string;
 }
 
-/** The optical form before anything is typed: the `retarda plate` / `plate2` / `quad` defaults. */
+/** The optical form before anything is typed: the `retarda plate` / `plate-pair` / `angle-series` defaults. */
 export const DEFAULT_OPTICAL_FORM: OpticalForm = {
-  compensatorNm: '', compensatorDeg: '45', polariserDeg: '0', illuminant: '3200K', retardanceMaxNm: '800', background: '',
-  sign: 'positive', match: 'lab', axisDeg: '', resolveMirror: false, imageB: '', turnDeg: '45',
-  quadImages: ['', '', '', ''], quadAngles: ['0', '22.5', '45', '67.5'], quadPlate: '', quadPlateBackground: '',
+  compensatorNm: '', compensatorDeg: String(OPTICS_LIMITS.polariserDeg.default + COMPENSATOR_OFFSET_DEG), polariserDeg: String(OPTICS_LIMITS.polariserDeg.default),
+  illuminant: DEFAULT_ILLUMINANT, retardanceMaxNm: String(OPTICS_LIMITS.retardanceMaxNm.default), background: '',
+  sign: 'positive', match: 'lab', axisDeg: '', resolveMirror: false, imageB: '', turnDeg: String(OPTICS_LIMITS.turnDeg.default),
+  quadImages: DEFAULT_ANGLES_DEG.map(() => ''), quadAngles: DEFAULT_ANGLES_DEG.map(String), quadPlate: '', quadPlateBackground: '',
   sampleRetardanceNm: '', sampleRetardanceToleranceNm: '',
 };
 
@@ -93,7 +107,10 @@ export interface StoredOptics { kind: OpticsKind; result: OpticsResult; commandL
 export interface DiameterForm { umPerPx: string; stepPx: string; averagePx: string; polarity: 'auto' | 'dark' | 'bright'; backgroundDegree: string }
 
 /** The `retarda diameter` defaults, as the form shows them. */
-export const DEFAULT_DIAMETER_FORM: DiameterForm = { umPerPx: '', stepPx: '10', averagePx: '5', polarity: 'auto', backgroundDegree: '2' };
+export const DEFAULT_DIAMETER_FORM: DiameterForm = {
+  umPerPx: '', stepPx: String(DIAMETER_LIMITS.stepPx.default), averagePx: String(DIAMETER_LIMITS.averageLengthPx.default), polarity: 'auto',
+  backgroundDegree: String(DIAMETER_LIMITS.shadingDegree.default),
+};
 
 /**
  * How a stored diameter result was made: the form, the equivalent command line and, when lengths are in um,
@@ -171,14 +188,12 @@ function versionCheck(raw: Record<string, unknown>): string | null {
 function restoreSettings(raw: unknown, notes: string[]): AnalysisSettings {
   if (!isObj(raw)) { if (raw !== undefined) notes.push('settings were unreadable; defaults used'); return { ...DEFAULT_SETTINGS }; }
   const s = { ...unknownKeys(raw, SETTINGS_KEYS), ...DEFAULT_SETTINGS };
-  const pos = (k: 'sigmaPx' | 'bins' | 'stations', min: number, max: number) => {
-    if (raw[k] === undefined) return;
-    if (num(raw[k]) && (raw[k] as number) >= min && (raw[k] as number) <= max) s[k] = raw[k] as number;
+  // Each number within the range the analysis checks (SETTING_LIMITS), else its default.
+  for (const k of Object.keys(SETTING_LIMITS) as (keyof typeof SETTING_LIMITS)[]) {
+    if (raw[k] === undefined) continue;
+    if (withinLimit(SETTING_LIMITS[k], raw[k])) s[k] = raw[k];
     else notes.push(`setting ${k} was out of range; default used`);
-  };
-  pos('sigmaPx', 0.3, 50); pos('bins', 2, 200); pos('stations', 1, 100);
-  if (num(raw.coreMax) && (raw.coreMax as number) > 0 && (raw.coreMax as number) <= 1) s.coreMax = raw.coreMax as number;
-  if (num(raw.skinMin) && (raw.skinMin as number) >= 0 && (raw.skinMin as number) < 1) s.skinMin = raw.skinMin as number;
+  }
   if (raw.axisDeg === null || num(raw.axisDeg)) s.axisDeg = (raw.axisDeg as number | null) ?? null;
   // Weighting names of schema 1 (energy, energy-confidence, confidence) are read as their new names.
   const w = typeof raw.weighting === 'string' ? formerWeighting(raw.weighting, true) ?? raw.weighting : null;

@@ -5,12 +5,12 @@ export { analyseOrientation, orientResult } from './orient.ts';
 export type { ProfileRequest, ProfileResult } from './profile.ts';
 export { analyseProfile, resolveChannel } from './profile.ts';
 export type {
-  TrainOptions, PlateReadingOptions, OpticsSummaryOptions, PlateOptions, PlatePairAnalysisOptions, AngleSeriesAnalysisOptions,
+  TrainOptions, PlateReadingOptions, KnownRetardanceOptions, OpticsSummaryOptions, PlateOptions, PlatePairAnalysisOptions, AngleSeriesAnalysisOptions,
   ConfidenceStats, OpticsResult, OpticsAnalysis, ReadingKind,
 } from './optics.ts';
 export {
   analysePlate, analysePlatePair, analyseAngleSeries, readPlateField, opticsResult, confidenceStats, retardanceMedian,
-  calibrationJson, trainOf, DEFAULT_ANGLES_DEG, READING_NAMES, analysePlateProfile, oneImageGaps, withholdOrder, withholdProfile,
+  calibrationJson, trainOf, DEFAULT_ANGLES_DEG, READING_NAMES, OPTICS_LIMITS, COMPENSATOR_OFFSET_DEG, DEFAULT_ILLUMINANT, analysePlateProfile, oneImageGaps, withholdOrder, withholdProfile,
   ONE_IMAGE_MIN_RETARDANCE_NM, ONE_IMAGE_MEASURED, ONE_IMAGE_AXIS_TOLERANCE_DEG,
 } from './optics.ts';
 export type { DiameterAnalysisOptions, DiameterDocument } from './diameter.ts';

@@ -3,7 +3,7 @@
  * ticks themselves, with its GUM uncertainty) or from the optics alone. They return the JSON documents
  * `retarda calibrate --json` prints. docs/methods.md, "Micrometer calibration".
  */
-import { calibrateFromMicrometer, rayleighResolutionUm, umPerPxFromOptics, type OpticsInput } from '../calibrate/index.ts';
+import { calibrateFromMicrometer, rayleighResolutionUm, umPerPxFromOptics, MICROMETER_OPTION_LIMITS, type OpticsInput } from '../calibrate/index.ts';
 import { InputError } from '../common/errors.ts';
 import { toGrey, type Image } from '../image/types.ts';
 import { SCHEMA_VERSION } from './schema.ts';
@@ -42,7 +42,7 @@ export interface MicrometerAnalysisOptions extends SamplingCheck {
 /** Sampling advice: a pixel larger than half the Rayleigh resolution under-samples the optics. */
 function samplingWarning(o: SamplingCheck, umPerPx: number): string[] {
   if (o.na === undefined) return [];
-  const r = rayleighResolutionUm(o.wavelengthNm ?? 550, o.na);
+  const r = rayleighResolutionUm(o.wavelengthNm ?? MICROMETER_OPTION_LIMITS.wavelengthNm.default, o.na);
   return umPerPx > r / 2
     ? [`pixel ${umPerPx.toPrecision(4)} um is larger than half the Rayleigh resolution (${(r / 2).toPrecision(4)} um): the image is under-sampled`]
     : [];

@@ -6,7 +6,7 @@
  * made (`reading`). `retarda plate`, `plate-pair`, `angle-series` and the app's worker call exactly these.
  */
 import { InputError } from '../common/errors.ts';
-import type { Rect } from '../common/index.ts';
+import { checkLimit, type Limit, type Rect } from '../common/index.ts';
 import { toGrey, type Image } from '../image/types.ts';
 import { orientationField, type OrientationField } from '../orientation/index.ts';
 import { orderParameters, type Weighting } from '../order/index.ts';
@@ -109,17 +109,58 @@ export interface OpticsAnalysis { result: OpticsResult; field: OrientationField 
 
 export const DEFAULT_ANGLES_DEG = [0, 22.5, 45, 67.5];
 
+/**
+ * Defaults and ranges of the optical readings' options (docs/methods.md §3-6), checked here before a reader runs and
+ * read by the command line's help, the app's forms and the command lines it shows. The compensator's slow axis has
+ * no fixed default: it is the polariser's angle + COMPENSATOR_OFFSET_DEG. The sample retardance's tolerance defaults
+ * to 10 % of it and is at most the retardance itself.
+ */
+export const OPTICS_LIMITS = {
+  compensatorNm: { what: 'compensator retardance', min: 1, max: 5000, default: 550, unit: 'nm' },
+  compensatorDeg: { what: 'compensator slow axis', min: -360, max: 360, unit: 'deg' },
+  polariserDeg: { what: 'polariser angle', min: -360, max: 360, default: 0, unit: 'deg' },
+  retardanceMaxNm: { what: 'largest retardance searched', min: 10, max: 3000, default: 800, unit: 'nm' },
+  retardanceMinNm: { what: 'smallest retardance read', min: 0, max: 500, default: 20, unit: 'nm' },
+  sampleRetardanceNm: { what: 'sample retardance', min: 1, max: 5000, unit: 'nm' },
+  sampleRetardanceToleranceNm: { what: 'sample retardance tolerance', min: 0, max: 5000, unit: 'nm' },
+  turnDeg: { what: 'turn between the two images', min: -180, max: 180, default: 45, unit: 'deg' },
+  maxShiftPx: { what: 'largest shift between the two images', min: 0, max: 1000, default: 1, unit: 'px' },
+  amplitudeFloor: { what: 'amplitude floor (fraction of the 99th-percentile amplitude)', min: 0, max: 1, default: 0.02 },
+} as const satisfies Record<string, Limit>;
+
+/** The compensator's slow axis, by default, from the polariser, deg (the usual 45-deg position). */
+export const COMPENSATOR_OFFSET_DEG = 45;
+/** The lamp when none is named: a halogen lamp as a 3200 K blackbody. */
+export const DEFAULT_ILLUMINANT = '3200K';
+
 /** The optical readings by their `analysis` (and field method) names, and what the app and reports call them (README, "Glossary"). */
 export const READING_NAMES = { plate: 'plate reading', 'plate-pair': 'plate pair', 'angle-series': 'angle series' } as const;
 export type ReadingKind = keyof typeof READING_NAMES;
 
-/** The train: polariser (default 0), crossed analyser, full-wave compensator (550 nm at polariser + 45 deg). */
+/** The train: polariser (default 0), crossed analyser, full-wave compensator (550 nm at polariser + 45 deg), lamp (3200 K). */
 export function trainOf(o: TrainOptions): Partial<OpticalTrain> {
-  const pol = o.polariserDeg ?? 0;
+  const pol = checkLimit(OPTICS_LIMITS.polariserDeg, o.polariserDeg);
   return {
     polariserDeg: pol, analyserDeg: pol + 90,
-    compensator: fullWavePlate(o.compensatorNm ?? 550, o.compensatorDeg ?? pol + 45),
-    illuminant: o.illuminant ? parseIlluminant(o.illuminant) : undefined,
+    compensator: fullWavePlate(checkLimit(OPTICS_LIMITS.compensatorNm, o.compensatorNm), checkLimit(OPTICS_LIMITS.compensatorDeg, o.compensatorDeg ?? pol + COMPENSATOR_OFFSET_DEG)),
+    illuminant: parseIlluminant(o.illuminant ?? DEFAULT_ILLUMINANT),
+  };
+}
+
+/** The retardance range searched, with its defaults, checked. */
+function retardanceRange(o: PlateReadingOptions) {
+  return { retardanceMaxNm: checkLimit(OPTICS_LIMITS.retardanceMaxNm, o.retardanceMaxNm), retardanceMinNm: checkLimit(OPTICS_LIMITS.retardanceMinNm, o.retardanceMinNm) };
+}
+
+/** The known sample retardance and its tolerance, checked (both undefined when none is known). */
+function knownRetardance(o: KnownRetardanceOptions) {
+  if (o.sampleRetardanceNm === undefined) {
+    if (o.sampleRetardanceToleranceNm !== undefined) throw new InputError('a sample retardance tolerance was given without the sample retardance', 'Give --sample-retardance-nm as well');
+    return { sampleRetardanceNm: undefined, sampleRetardanceToleranceNm: undefined };
+  }
+  return {
+    sampleRetardanceNm: checkLimit(OPTICS_LIMITS.sampleRetardanceNm, o.sampleRetardanceNm),
+    sampleRetardanceToleranceNm: o.sampleRetardanceToleranceNm === undefined ? undefined : checkLimit(OPTICS_LIMITS.sampleRetardanceToleranceNm, o.sampleRetardanceToleranceNm),
   };
 }
 
@@ -198,9 +239,9 @@ export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetarda
   const match = o.match ?? 'lab';
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
   return readPlate(img, {
-    train: trainOf(o), retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, match, birefringenceSign: signOf(o.sign),
+    train: trainOf(o), ...retardanceRange(o), match, birefringenceSign: signOf(o.sign),
     background: o.sampleFree, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
-    sampleRetardanceNm: o.sampleRetardanceNm, sampleRetardanceToleranceNm: o.sampleRetardanceToleranceNm,
+    ...knownRetardance(o),
   });
 }
 
@@ -329,8 +370,8 @@ export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
 /** Full orientation (0-180 deg) and retardance from two compensator images, B with the optics turned by turnDeg. */
 export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAnalysisOptions = {}): Promise<OpticsAnalysis> {
   const r = readPlatePair(imgA, imgB, {
-    train: trainOf(o), turnDeg: o.turnDeg, retardanceMaxNm: o.retardanceMaxNm, retardanceMinNm: o.retardanceMinNm, birefringenceSign: signOf(o.sign),
-    background: o.sampleFree, calibration: calibrationOf(o), maxShiftPx: o.maxShiftPx, camera: cameraOf(o.whiteRgb),
+    train: trainOf(o), turnDeg: checkLimit(OPTICS_LIMITS.turnDeg, o.turnDeg), ...retardanceRange(o), birefringenceSign: signOf(o.sign),
+    background: o.sampleFree, calibration: calibrationOf(o), maxShiftPx: checkLimit(OPTICS_LIMITS.maxShiftPx, o.maxShiftPx), camera: cameraOf(o.whiteRgb),
   });
   const result = await opticsResult('plate-pair', imgA, r.field, o, {
     imageB: imgB.source.name, calibrationA: calibrationJson(r.calibrationA), calibrationB: calibrationJson(r.calibrationB),
@@ -350,7 +391,7 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
     throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
   }
   const r = fourAngleAnalysis(images, {
-    anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: o.amplitudeFloor,
+    anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: checkLimit(OPTICS_LIMITS.amplitudeFloor, o.amplitudeFloor),
     plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateSampleFree },
   });
   const amp: number[] = [], res: number[] = [];

@@ -12,4 +12,4 @@ export { rulerAxes } from './tickDirection.ts';
 export { stripProfiles } from './strips.ts';
 export { combineUncertainties, coverageFactor, roundWithUncertainty, studentTwoSided } from './gum.ts';
 export type { UncertaintyComponent } from './gum.ts';
-export { MICROMETER_LIMITS } from './limits.ts';
+export { MICROMETER_LIMITS, MICROMETER_OPTION_LIMITS } from './limits.ts';

@@ -1,3 +1,15 @@
+import type { Limit } from '../common/limits.ts';
+
+/**
+ * Ranges and defaults of the options a user gives (docs/methods.md §11.3-11.5), for the analysis, the command line
+ * and the app. The tolerance is also at most half a division (checked against the division given).
+ */
+export const MICROMETER_OPTION_LIMITS = {
+  divisionUm: { what: 'division spacing', min: 1e-3, max: 1e5, unit: 'um' },
+  divisionToleranceUm: { what: 'division tolerance', min: 0, max: 5e4, default: 0, unit: 'um' },
+  wavelengthNm: { what: 'wavelength for the sampling check', min: 1, max: 1e5, default: 550, unit: 'nm' },
+} as const satisfies Record<string, Limit>;
+
 /**
  * Defaults and limits of the micrometer calibration, defined once (docs/methods.md, "Micrometer
  * calibration"). The residual fractions are of the fitted period: a ruler in focus whose ticks were all

@@ -14,10 +14,11 @@
  * k = t_95.45(nu_eff) (Welch-Satterthwaite, GUM G.4.1), which is 2 once the ticks are many.
  */
 import { checkNumber, InputError } from '../common/errors.ts';
+import { checkLimit } from '../common/limits.ts';
 import type { Plane } from '../common/plane.ts';
 import { radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import { combineUncertainties, coverageFactor, studentTwoSided } from './gum.ts';
-import { MICROMETER_LIMITS } from './limits.ts';
+import { MICROMETER_LIMITS, MICROMETER_OPTION_LIMITS } from './limits.ts';
 import { fitTickGrid, type FittedTick } from './tickGrid.ts';
 
 export interface MicrometerOptions {
@@ -101,8 +102,9 @@ function rangeCheck(grey: Plane): void {
  * scatter by more than the refusal fraction of a division (the ticks were not found consistently).
  */
 export function calibrateFromMicrometer(grey: Plane, options: MicrometerOptions): MicrometerCalibration {
-  const divisionUm = checkNumber('division spacing', options.divisionUm, 1e-3, 1e5, 'um');
-  const toleranceUm = checkNumber('division tolerance', options.divisionToleranceUm ?? 0, 0, 0.5 * divisionUm, 'um');
+  const divisionUm = checkLimit(MICROMETER_OPTION_LIMITS.divisionUm, options.divisionUm);
+  // A tolerance of half a division or more would make the scale meaningless.
+  const toleranceUm = checkNumber(MICROMETER_OPTION_LIMITS.divisionToleranceUm.what, options.divisionToleranceUm ?? MICROMETER_OPTION_LIMITS.divisionToleranceUm.default, 0, 0.5 * divisionUm, 'um');
   rangeCheck(grey);
   const g = fitTickGrid(grey, { polarity: options.polarity });
   const P = g.periodPx;

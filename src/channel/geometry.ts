@@ -34,6 +34,21 @@ export function parseWalls(text: string): Channel {
   return { walls: [a, b] };
 }
 
+/** Walls as `--walls` takes them, "x1,y1,x2,y2;x3,y3,x4,y4", every coordinate exact (parseWalls reads back the same channel). */
+export function wallsText(walls: readonly Segment[]): string {
+  return walls.map((s) => [s.x1, s.y1, s.x2, s.y2].map(String).join(',')).join(';');
+}
+
+/** Step to which walls drawn or dragged by hand are kept, px: a tenth of a pixel, so their `--walls` text stays short. */
+export const WALL_STEP_PX = 0.1;
+
+/** The channel with every wall end on the WALL_STEP_PX grid. */
+export function snapWalls(ch: Channel): Channel {
+  const snap = (v: number) => Math.round(v / WALL_STEP_PX) / (1 / WALL_STEP_PX);
+  const seg = (s: Segment): Segment => ({ x1: snap(s.x1), y1: snap(s.y1), x2: snap(s.x2), y2: snap(s.y2) });
+  return { walls: [seg(ch.walls[0]), seg(ch.walls[1])] };
+}
+
 const len = (s: Segment) => Math.hypot(s.x2 - s.x1, s.y2 - s.y1);
 
 /**

@@ -1,10 +1,11 @@
-import { InputError, checkNumber } from '../common/errors.ts';
+import { InputError } from '../common/errors.ts';
+import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/limits.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import { combineUncertainties } from '../common/gum.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
 import {
-  accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments,
+  accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
   type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
 import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
@@ -24,7 +25,17 @@ export interface ProfileOptions {
   blockPx?: number;
 }
 
-export const PROFILE_DEFAULTS = { bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
+/** Defaults and ranges of the profile's options (docs/methods.md §10.3-10.4). */
+export const PROFILE_LIMITS = {
+  bins: { what: 'bins', min: 2, max: 200, default: 20, integer: true },
+  stations: { what: 'stations', min: 1, max: 100, default: 1, integer: true },
+  coreMax: { what: 'core band limit', min: 0.05, max: 1, default: 0.5 },
+  skinMin: { what: 'skin band limit', min: 0, max: 0.99, default: 0.8 },
+} as const satisfies Record<string, Limit>;
+
+export const PROFILE_DEFAULTS = {
+  bins: PROFILE_LIMITS.bins.default, stations: PROFILE_LIMITS.stations.default, coreMax: PROFILE_LIMITS.coreMax.default, skinMin: PROFILE_LIMITS.skinMin.default,
+};
 
 /**
  * Largest share of a bin's or band's pixels that may be clipped (an input image at full scale) for its S to
@@ -83,19 +94,18 @@ export interface ChannelProfile extends BandStats {
 /**
  * Axis-referenced order S_axis = <cos 2(theta - axis)> in bins of the transverse coordinate s, at
  * stations along the channel, with core and skin bands and their ratio (docs/methods.md §10.3-10.4). Intervals
- * are 95 % intervals from blocks of six correlation lengths (src/order/intervals.ts).
+ * are 95 % intervals over blocks (defaultBlockPx, src/order/intervals.ts).
  */
 export function channelProfile(field: OrientationField, ch: Channel, options: ProfileOptions = {}): ChannelProfile {
-  const bins = checkNumber('bins', options.bins ?? PROFILE_DEFAULTS.bins, 2, 200);
-  const stations = checkNumber('stations', options.stations ?? PROFILE_DEFAULTS.stations, 1, 100);
-  if (!Number.isInteger(bins) || !Number.isInteger(stations)) throw new InputError('bins and stations must be whole numbers');
-  const coreMax = checkNumber('core band limit', options.coreMax ?? PROFILE_DEFAULTS.coreMax, 0.05, 1);
-  const skinMin = checkNumber('skin band limit', options.skinMin ?? PROFILE_DEFAULTS.skinMin, 0, 0.99);
+  const bins = checkLimit(PROFILE_LIMITS.bins, options.bins);
+  const stations = checkLimit(PROFILE_LIMITS.stations, options.stations);
+  const coreMax = checkLimit(PROFILE_LIMITS.coreMax, options.coreMax);
+  const skinMin = checkLimit(PROFILE_LIMITS.skinMin, options.skinMin);
   if (skinMin < coreMax) throw new InputError(`skin band (|s| > ${skinMin}) overlaps the core band (|s| < ${coreMax})`, 'Set the skin limit at or above the core limit');
   const weighting = checkWeighting(options.weighting ?? defaultWeighting(field));
-  const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(field), 1, 4096, 'px');
+  const blockPx = checkLimit(BLOCK_PX_LIMIT, options.blockPx ?? defaultBlockPx(field));
   const frame = channelFrame(ch);
-  const axisDeg = options.axisDeg !== undefined ? wrapAxialDeg(checkNumber('axis angle', options.axisDeg, -360, 360, 'deg')) : frame.axisDeg;
+  const axisDeg = options.axisDeg !== undefined ? wrapAxialDeg(checkLimit(AXIS_DEG_LIMIT, options.axisDeg)) : frame.axisDeg;
   // A field known only modulo 90 deg is read under the assumption that rods lie within 45 deg of the axis.
   const f = foldMod90(field, axisDeg);
 

@@ -1,15 +1,7 @@
 import { InputError } from '../common/errors.ts';
+import type { OptionSpec } from '../options/index.ts';
 
-/** One option of a subcommand. Names are written without the leading dashes. */
-export interface OptionSpec {
-  name: string;
-  kind: 'number' | 'string' | 'flag';
-  help: string;
-  /** Shown in help; the command applies its own defaults. */
-  defaultText?: string;
-  /** The option's name before it was renamed: still read for one release, with a notice on stderr. */
-  formerName?: string;
-}
+export type { OptionSpec };
 
 export interface ParsedArgs {
   positionals: string[];

@@ -3,22 +3,10 @@ import type { OrientationField } from '../orientation/index.ts';
 import { parseWalls } from '../channel/index.ts';
 import { analyseProfile, NOT_DETERMINED, type ProfileRequest, type ProfileResult } from '../analyses/index.ts';
 import { checkWeighting, formerWeighting, type Weighting } from '../order/index.ts';
-import { flagOpt, numberOpt, renamedNotice, stringOpt, type OptionSpec, type ParsedArgs } from './args.ts';
+import { flagOpt, numberOpt, renamedNotice, stringOpt, type ParsedArgs } from './args.ts';
 import { formatTable, formatPairs } from './format.ts';
+export { CHANNEL_OPTIONS } from '../options/index.ts';
 export { profileCsvRow } from '../report/rows.ts';
-
-/** Channel options shared by every command that can give an S profile across a channel. */
-export const CHANNEL_OPTIONS: OptionSpec[] = [
-  { name: 'walls', kind: 'string', help: 'two wall segments in pixels: "x1,y1,x2,y2;x3,y3,x4,y4" (s = -1 at the first)' },
-  { name: 'auto-walls', kind: 'flag', help: 'find the walls as the two strongest long straight edges' },
-  { name: 'bins', kind: 'number', help: 'bins across the width', defaultText: '20' },
-  { name: 'stations', kind: 'number', help: 'stations along the channel', defaultText: '1' },
-  { name: 'axis-deg', kind: 'number', help: 'reference axis for S, degrees CCW from +x', defaultText: 'the channel axis' },
-  { name: 'core-max', kind: 'number', help: 'core band |s| < this', defaultText: '0.5' },
-  { name: 'skin-min', kind: 'number', help: 'skin band |s| > this', defaultText: '0.8' },
-  { name: 'weighting', kind: 'string', help: 'pixel weights: none; texture fields: coherency, strength, strength-coherency; optical readings: confidence', defaultText: 'coherency for texture, none for optical readings' },
-  { name: 'block-px', kind: 'number', help: 'block side for the bootstrap intervals, px', defaultText: '6 correlation lengths' },
-];
 
 /**
  * --weighting as the analyses take it, for a texture field or an optical reading; a weighting name of schema 1
@@ -35,14 +23,14 @@ export function weightingFrom(a: ParsedArgs, texture: boolean): Weighting | unde
   return checkWeighting(w, { method: texture ? 'texture' : 'plate' });
 }
 
-/** The profile request the options describe, or null when no channel was asked for. */
+/** The profile request the options describe (CHANNEL_OPTIONS), or null when no channel was asked for. */
 export function profileRequestFrom(a: ParsedArgs, texture: boolean): ProfileRequest | null {
   const walls = stringOpt(a, 'walls');
   const auto = flagOpt(a, 'auto-walls');
   if (!walls && !auto) return null;
   return {
     channel: walls ? parseWalls(walls) : undefined,
-    autoWalls: auto,
+    autoWalls: auto || undefined,
     bins: numberOpt(a, 'bins'),
     stations: numberOpt(a, 'stations'),
     axisDeg: numberOpt(a, 'axis-deg'),
@@ -68,7 +56,7 @@ export function profileTable(r: ProfileResult): string {
   const head = formatPairs([
     ['image', r.source],
     ['field', r.fieldMethod],
-    ['walls', `${r.wallsFound ? 'found' : 'given'}: ${r.walls.map((w) => [w.x1, w.y1, w.x2, w.y2].map((v) => v.toFixed(1)).join(',')).join(';')}`],
+    ['walls', walls],
     ['axis deg', r.axisDeg],
     ['taper deg', r.taperDeg],
     ['core S (95% CI)', `${r.core.order.toFixed(3)} (${ci(r.core.ciLow, r.core.ciHigh)}) n=${r.core.n}`],
@@ -80,6 +68,5 @@ export function profileTable(r: ProfileResult): string {
     ? '\n\n' + formatTable(['station', 'from px', 'to px', 'width px', 'core S', 'skin S', 'core/skin'],
       r.stations.map((s) => [s.station, s.alongFromPx, s.alongToPx, s.widthPx, s.core.order, s.skin.order, s.coreSkinRatio]))
     : '';
-  return `${head}\n\n${formatTable(['s', 'S_axis', 'ci low', 'ci high', 'n', 'director deg'], rows)}${stationLines}`;
+  return `${head}\n\n${formatTable(['position s', 'S_axis', 'ci low', 'ci high', 'n', 'director deg'], rows)}${stationLines}`;
 }
-

@@ -1,5 +1,6 @@
 import { isInputError } from '../common/errors.ts';
 import { COMMON_OPTIONS, parseArgs, flagOpt, renamedNotice, stringOpt } from './args.ts';
+import { defaultText, rangeText } from '../options/index.ts';
 import type { Command } from './command.ts';
 import { COMMANDS } from './commands/index.ts';
 import { toCsv } from '../report/csv.ts';
@@ -99,8 +100,8 @@ function commandHelp(cmd: Command): string {
     '',
     ...opts.map((o) => {
       const head = o.kind === 'flag' ? `--${o.name}` : `--${o.name} ${o.kind === 'number' ? 'N' : 'S'}`;
-      const def = o.defaultText ? ` (default ${o.defaultText})` : '';
-      return `  ${head.padEnd(w + 2)}  ${o.help}${def}`;
+      const facts = [defaultText(o) !== undefined ? `default ${defaultText(o)}` : '', rangeText(o) ?? ''].filter(Boolean);
+      return `  ${head.padEnd(w + 2)}  ${o.help}${facts.length ? ` (${facts.join('; ')})` : ''}`;
     }),
     '',
   ].join('\n');

@@ -3,6 +3,8 @@ export { DEG, degToRad, radToDeg, wrapAxialDeg, wrapAxialRad, axialDiffDeg } fro
 export type { Plane } from './plane.ts';
 export { makePlane } from './plane.ts';
 export { withDefaults } from './options.ts';
+export type { Limit } from './limits.ts';
+export { checkLimit, withinLimit, AXIS_DEG_LIMIT } from './limits.ts';
 export type { Rect } from './rect.ts';
 export { parseRect, rectText, checkRectInside, rectMask } from './rect.ts';
 export { bilinear, clampedBilinear, median } from './sampling.ts';

@@ -4,6 +4,7 @@
  * and summarise with GUM uncertainties that include the pixel size's (docs/methods.md, "Fibre diameter").
  */
 import { checkNumber, InputError } from '../common/errors.ts';
+import { checkLimit, type Limit } from '../common/limits.ts';
 import { radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { Plane } from '../common/plane.ts';
 import { segmentFibres } from './detect.ts';
@@ -129,9 +130,19 @@ export interface DiameterResult extends DiameterSummary {
   warnings: string[];
 }
 
+/** Defaults and ranges of the options a user sets (docs/methods.md §12.2), for the analysis, the command line and the app. */
+export const DIAMETER_LIMITS = {
+  stepPx: { what: 'station step', min: 1, max: 1e5, default: 10, unit: 'px' },
+  averageLengthPx: { what: 'length each profile is averaged over', min: 1, max: 1e4, default: 5, unit: 'px' },
+  shadingDegree: { what: 'shading degree', min: 0, max: 4, default: 2, integer: true },
+  pixelSizeUmPerPx: { what: 'pixel size', min: 1e-6, max: 1e6, unit: 'um/px' },
+  // At most 50 %: beyond that a length is not worth stating.
+  pixelSizeUncertainty: { what: 'relative uncertainty of the pixel size', min: 0, max: 0.5 },
+} as const satisfies Record<string, Limit>;
+
 export const DIAMETER_DEFAULTS = {
-  stepPx: 10, averageLengthPx: 5, profileStepPx: 0.5, polarity: 'auto', shadingDegree: 2,
-  minContrastToNoise: 8, minElongation: 2,
+  stepPx: DIAMETER_LIMITS.stepPx.default, averageLengthPx: DIAMETER_LIMITS.averageLengthPx.default, profileStepPx: 0.5, polarity: 'auto',
+  shadingDegree: DIAMETER_LIMITS.shadingDegree.default, minContrastToNoise: 8, minElongation: 2,
 } as const;
 
 /** One-sided 95 % normal quantile, for the pixel size's share of an upper bound. */
@@ -218,15 +229,12 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
   if (width < 16 || height < 16) {
     throw new InputError(`image ${width}x${height} is too small to measure a fibre`, 'Use an image of at least 16x16 px');
   }
-  const stepPx = checkNumber('stepPx', options.stepPx ?? DIAMETER_DEFAULTS.stepPx, 1, 1e5, 'px');
-  const averageLengthPx = checkNumber('averageLengthPx', options.averageLengthPx ?? DIAMETER_DEFAULTS.averageLengthPx,
-    1, 1e4, 'px');
+  const stepPx = checkLimit(DIAMETER_LIMITS.stepPx, options.stepPx);
+  const averageLengthPx = checkLimit(DIAMETER_LIMITS.averageLengthPx, options.averageLengthPx);
   // Profiles sampled at 0.5 px or finer (docs/methods.md §12.2: step <= 0.5 px).
   const profileStepPx = checkNumber('profileStepPx', options.profileStepPx ?? DIAMETER_DEFAULTS.profileStepPx,
     0.05, 0.5, 'px');
-  const shadingDegree = checkNumber('shading degree', options.shadingDegree ?? DIAMETER_DEFAULTS.shadingDegree,
-    0, 4);
-  if (!Number.isInteger(shadingDegree)) throw new InputError('the shading degree must be a whole number from 0 to 4', 'Give 0 (a flat level) to 4');
+  const shadingDegree = checkLimit(DIAMETER_LIMITS.shadingDegree, options.shadingDegree);
   const minContrastToNoise = checkNumber('minContrastToNoise',
     options.minContrastToNoise ?? DIAMETER_DEFAULTS.minContrastToNoise, 1, 1e6);
   const minElongation = checkNumber('minElongation', options.minElongation ?? DIAMETER_DEFAULTS.minElongation, 1, 1e6);
@@ -237,9 +245,9 @@ export function measureFibreDiameters(grey: Plane, options: DiameterOptions = {}
     throw new InputError(`polarity must be auto, dark or bright, got "${String(polarity)}"`);
   }
   const umPerPx = options.pixelSizeUmPerPx === undefined ? null
-    : checkNumber('pixelSizeUmPerPx', options.pixelSizeUmPerPx, 1e-6, 1e6, 'um/px');
+    : checkLimit(DIAMETER_LIMITS.pixelSizeUmPerPx, options.pixelSizeUmPerPx);
   const relU = options.pixelSizeUncertainty === undefined ? null
-    : checkNumber('pixelSizeUncertainty', options.pixelSizeUncertainty, 0, MAX_PIXEL_SIZE_UNCERTAINTY);
+    : checkLimit(DIAMETER_LIMITS.pixelSizeUncertainty, options.pixelSizeUncertainty);
   const cal: Calibration = { umPerPx, relU };
 
   const seg = segmentFibres(data, width, height, {
@@ -314,9 +322,6 @@ function steadyChangeWarning(index: number, s: DiameterSummary, umPerPx: number 
     `lag-1 correlation of neighbouring stations ${s.lag1Correlation.toFixed(2)}), so its 95 % interval rests on ` +
     `${s.nEffective.toFixed(1)} effective stations and is wide; look at the diameter along the fibre rather than its mean`;
 }
-
-/** Largest relative pixel-size uncertainty accepted (50 %: beyond that a length is not worth stating). */
-const MAX_PIXEL_SIZE_UNCERTAINTY = 0.5;
 
 interface SettledBars {
   kept: MeasuredStation[];

@@ -1,5 +1,5 @@
 /** Public surface of the fibre folder: diameters from images, edge models, fibre numbers. */
-export { measureFibreDiameters, DIAMETER_DEFAULTS, DROP_REASON_TEXT } from './diameter.ts';
+export { measureFibreDiameters, DIAMETER_DEFAULTS, DIAMETER_LIMITS, DROP_REASON_TEXT } from './diameter.ts';
 export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
 export type { DropReason, DroppedStation } from './stations.ts';
 export { erf, erfc, normalCdf, normalQuantile, studentTQuantile, studentTCdf } from '../common/distributions.ts';

@@ -1,4 +1,5 @@
 import { checkNumber } from '../common/errors.ts';
+import { checkLimit, type Limit } from '../common/limits.ts';
 import { DEG } from '../common/angles.ts';
 import { colourModel, interferenceColour } from './colourModel.ts';
 import { illuminantLabel, wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
@@ -53,10 +54,17 @@ export interface ChartOptions {
   grid?: WavelengthGrid;
 }
 
+/** Defaults and ranges of the chart's options, for the chart itself and `retarda chart`'s help. */
+export const CHART_LIMITS = {
+  maxNm: { what: 'chart maximum retardance', min: 10, max: 20000, default: 2000, unit: 'nm' },
+  stepNm: { what: 'chart step', min: 0.1, max: 500, default: 5, unit: 'nm' },
+  widthPx: { what: 'chart width', min: 50, max: 20000, default: 1000, unit: 'px' },
+} as const satisfies Record<string, Limit>;
+
 /** Interference colour chart data, retardance 0..maxNm (default 0-2000 nm, 5-nm steps), at the train's lamp. */
 export function interferenceChart(train: Partial<OpticalTrain> = {}, options: ChartOptions = {}): ChartRow[] {
-  const maxNm = checkNumber('chart maximum retardance', options.maxNm ?? 2000, 10, 20000, 'nm');
-  const stepNm = checkNumber('chart step', options.stepNm ?? 5, 0.1, 500, 'nm');
+  const maxNm = checkLimit(CHART_LIMITS.maxNm, options.maxNm);
+  const stepNm = checkLimit(CHART_LIMITS.stepNm, options.stepNm);
   const t = resolveTrain(train);
   const comp = t.compensator ?? fullWavePlate();
   const grid = options.grid ?? wavelengthGrid();
@@ -102,8 +110,8 @@ export function chartTitle(train: Partial<OpticalTrain> = {}): string {
  * numerals I-IV, the bottom strip with the compensator, and a retardance axis under it: ticks every 100 nm,
  * longer every 500 nm, labelled in nm every 500 nm (every 1000 nm when the picture is too narrow for that).
  */
-export function renderChart(rows: ChartRow[], widthPx = 1000, stripPx = 60, title?: string): RgbBuffer {
-  checkNumber('chart width', widthPx, 50, 20000, 'px');
+export function renderChart(rows: ChartRow[], widthPx: number = CHART_LIMITS.widthPx.default, stripPx = 60, title?: string): RgbBuffer {
+  checkLimit(CHART_LIMITS.widthPx, widthPx);
   checkNumber('chart strip height', stripPx, 10, 2000, 'px');
   const width = Math.round(widthPx), strip = Math.round(stripPx), maxNm = rows[rows.length - 1].retardanceNm;
   // Text at scale 2 (6x10-px glyphs) unless the title would not fit, then scale 1.

@@ -22,7 +22,7 @@ export { colourModel, transmission, xyzOfTransmission, interferenceColour, match
 export type { CameraCalibration } from './camera.ts';
 export { whiteReference, cameraToModel, modelToCamera, NEUTRAL_CAMERA } from './camera.ts';
 export type { OrderBand, ChartRow, ChartOptions, RgbBuffer } from './chart.ts';
-export { orderBand, interferenceChart, renderChart, chartTitle } from './chart.ts';
+export { CHART_LIMITS, orderBand, interferenceChart, renderChart, chartTitle } from './chart.ts';
 export { medianLinearRgb } from './pixels.ts';
 export type { MatchSpace, PlateLookup, LookupOptions, LookupMatch, SearchOptions } from './lookupTable.ts';
 export { buildPlateLookup, LookupSearcher, matchConfidence, matchCoords, isMirrorSymmetric } from './lookupTable.ts';

@@ -1,4 +1,5 @@
-import { InputError, checkNumber } from '../common/errors.ts';
+import { InputError } from '../common/errors.ts';
+import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/limits.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
 import type { OrientationField } from '../orientation/types.ts';
 import { foldMod90 } from '../orientation/fold.ts';
@@ -43,6 +44,9 @@ export interface OrderSummary {
 /** Block side in correlation lengths of the orientation signal. */
 export const BLOCK_CORRELATION_LENGTHS = 1.5;
 
+/** Range of a block side given by hand; by default it is BLOCK_CORRELATION_LENGTHS correlation lengths (defaultBlockPx). */
+export const BLOCK_PX_LIMIT: Limit = { what: 'block size', min: 1, max: 4096, unit: 'px' };
+
 /**
  * Block side for the intervals: BLOCK_CORRELATION_LENGTHS correlation lengths of the orientation signal
  * (at least 4 px, at most a quarter of the shorter side). The variance counts the products of touching
@@ -60,9 +64,12 @@ export function defaultBlockPx(f: OrientationField): number {
  * for optical readings, whose confidence is lowest for rods along the compensator axis, exactly where
  * cos 2(theta - axis) is least sensitive to an angle error, so weighting by it would bias S downwards.
  */
-export function defaultWeighting(f: OrientationField): Weighting {
-  return f.method === 'texture' ? 'coherency' : 'none';
+export function defaultWeighting(f: Pick<OrientationField, 'method'>): Weighting {
+  return f.method === 'texture' ? DEFAULT_WEIGHTING.texture : DEFAULT_WEIGHTING.optical;
 }
+
+/** The default weightings of texture fields and optical readings (defaultWeighting says why). */
+export const DEFAULT_WEIGHTING = { texture: 'coherency', optical: 'none' } as const satisfies Record<string, Weighting>;
 
 /**
  * A weighting name checked: known, and (with a field) one that field can give: coherency and texture strength
@@ -82,8 +89,8 @@ export function checkWeighting(w: string, f?: Pick<OrientationField, 'method'>):
  */
 export function orderParameters(f: OrientationField, options: OrderOptions = {}): OrderSummary {
   const weighting = checkWeighting(options.weighting ?? defaultWeighting(f));
-  const blockPx = checkNumber('block size', options.blockPx ?? defaultBlockPx(f), 1, 4096, 'px');
-  if (options.axisDeg !== undefined) checkNumber('axis angle', options.axisDeg, -360, 360, 'deg');
+  const blockPx = checkLimit(BLOCK_PX_LIMIT, options.blockPx ?? defaultBlockPx(f));
+  if (options.axisDeg !== undefined) checkLimit(AXIS_DEG_LIMIT, options.axisDeg);
   const n = f.width * f.height;
   if (options.region && options.region.length !== n) throw new InputError('region mask size does not match the field');
   const groups = { region: options.region ?? null };

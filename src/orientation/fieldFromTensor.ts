@@ -1,4 +1,4 @@
-import { checkNumber } from '../common/errors.ts';
+import { checkLimit, type Limit } from '../common/limits.ts';
 import { withDefaults } from '../common/options.ts';
 import type { TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
@@ -13,7 +13,13 @@ export interface MaskOptions {
   coherencyMin?: number;
 }
 
-export const MASK_DEFAULTS = { strengthFloor: 0.02, coherencyMin: 0 } as const;
+/** Defaults and ranges of the masking thresholds (docs/methods.md §7.4). */
+export const MASK_LIMITS = {
+  strengthFloor: { what: 'strength floor (fraction of the 99th-percentile texture strength)', min: 0, max: 1, default: 0.02 },
+  coherencyMin: { what: 'minimum coherency', min: 0, max: 1, default: 0 },
+} as const satisfies Record<string, Limit>;
+
+export const MASK_DEFAULTS = { strengthFloor: MASK_LIMITS.strengthFloor.default, coherencyMin: MASK_LIMITS.coherencyMin.default } as const;
 
 /** The per-pixel arrays the structure tensor fills, on a grid `width` pixels wide. */
 export interface FieldPixels {
@@ -53,8 +59,8 @@ const PIXEL_ARRAYS = ['angleRad', 'confidence', 'strength', 'cos2', 'sin2'] as c
 
 export function resolveMaskOptions(options: MaskOptions = {}): Required<MaskOptions> {
   const o = withDefaults<Required<MaskOptions>>({ ...MASK_DEFAULTS }, options);
-  checkNumber('strength floor', o.strengthFloor, 0, 1);
-  checkNumber('minimum coherency', o.coherencyMin, 0, 1);
+  checkLimit(MASK_LIMITS.strengthFloor, o.strengthFloor);
+  checkLimit(MASK_LIMITS.coherencyMin, o.coherencyMin);
   return o;
 }
 

@@ -1,4 +1,5 @@
 import { InputError, checkNumber } from '../common/errors.ts';
+import { checkLimit, type Limit } from '../common/limits.ts';
 import { withDefaults } from '../common/options.ts';
 import { checkTileInside, planTiles, type Tile } from '../image/tiles.ts';
 import type { Plane } from '../common/plane.ts';
@@ -32,12 +33,20 @@ export interface StructureTensorOptions {
   tilePixels?: number;
 }
 
-export const STRUCTURE_TENSOR_DEFAULTS = { sigmaPx: 2, sigmaDerivPx: 1, derivative: 'gaussian', tilePixels: 4_194_304 } as const;
+/** Defaults and ranges of the tensor's scales (docs/methods.md §7.1), for the analyses, the command line and the app. */
+export const TENSOR_LIMITS = {
+  sigmaPx: { what: 'texture scale sigma (integration scale)', min: 0.3, max: 200, default: 2, unit: 'px' },
+  sigmaDerivPx: { what: 'derivative sigma', min: 0.3, max: 50, default: 1, unit: 'px' },
+} as const satisfies Record<string, Limit>;
+
+export const STRUCTURE_TENSOR_DEFAULTS = {
+  sigmaPx: TENSOR_LIMITS.sigmaPx.default, sigmaDerivPx: TENSOR_LIMITS.sigmaDerivPx.default, derivative: 'gaussian', tilePixels: 4_194_304,
+} as const;
 
 export function resolveTensorOptions(o: StructureTensorOptions = {}): Required<StructureTensorOptions> {
   const r = withDefaults<Required<StructureTensorOptions>>({ ...STRUCTURE_TENSOR_DEFAULTS }, o);
-  checkNumber('sigma (integration scale)', r.sigmaPx, 0.3, 200, 'px');
-  checkNumber('derivative sigma', r.sigmaDerivPx, 0.3, 50, 'px');
+  checkLimit(TENSOR_LIMITS.sigmaPx, r.sigmaPx);
+  checkLimit(TENSOR_LIMITS.sigmaDerivPx, r.sigmaDerivPx);
   checkNumber('tile size', r.tilePixels, 1024, 1e9, 'pixels');
   if (r.derivative !== 'gaussian' && r.derivative !== 'sobel') {
     throw new InputError(`derivative must be "gaussian" or "sobel", got "${String(r.derivative)}"`);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { orientCommandLine, orientCsv, profileCsvRow, profileCommandLine, wallsText } from '../../app/export/rows.ts';
+import { orientCsv, profileCsvRow } from '../../app/export/rows.ts';
 import { profileCsvRow as cliProfileCsvRow } from '../../src/cli/channelOptions.ts';
 import { parseWalls } from '../../src/channel/index.ts';
 import { analyseOrientation, analyseProfile, type OrientResult } from '../../src/analyses/index.ts';
@@ -29,13 +29,5 @@ describe('app exports match the command line', () => {
     expect(lines[1]).toBe('"a, b.png",12.5,0.8,0.7,0.9,,,0.6,100,2,coherency');
     expect(lines[2]).toBe('');
   });
-
-  it('the command lines shown use the CLI\'s option names and parse back to the same walls', () => {
-    expect(orientCommandLine('run 1.png', { sigmaPx: 2, weighting: 'coherency', axisDeg: 15 })).toBe('retarda orient "run 1.png" --sigma 2 --weighting coherency --axis-deg 15');
-    const walls = parseWalls('1.25,2,300,2.04;1,150,300,150');
-    const text = wallsText(walls.walls);
-    expect(parseWalls(text).walls[0].x1).toBeCloseTo(1.3, 5);
-    expect(profileCommandLine('a.png', { sigmaPx: 3, weighting: 'none', bins: 10, stations: 2, coreMax: 0.5, skinMin: 0.8 }, text))
-      .toBe(`retarda profile a.png --walls "${text}" --sigma 3 --weighting none --bins 10 --stations 2 --core-max 0.5 --skin-min 0.8`);
-  });
+  // The command lines the app shows are proven to parse back to the options it ran in tests/cli/round-trip.test.ts.
 });

@@ -108,9 +108,10 @@ describe('reportContent', () => {
     expect(c.notAnalysed).toEqual(['blank.png']);
     const [orient, prof] = c.images[0].sections;
     expect(orient.numbers[0]).toEqual({ label: 'Order S_2D', value: result.order2D, ci: [result.order2DCiLow, result.order2DCiHigh], n: result.n, unit: '' });
-    expect(orient.commandLine).toBe('retarda orient "run 1.tif" --sigma 2 --weighting coherency');
-    expect(prof.numbers[0]).toEqual({ label: 'Core S (|s| < 0.5)', value: profile.core.order, ci: [profile.core.ciLow, profile.core.ciHigh], n: profile.core.n, unit: '' });
-    expect(prof.commandLine).toBe('retarda profile "run 1.tif" --walls "4,8,92,8;4,56,92,56" --sigma 2 --weighting coherency --bins 8 --stations 1 --core-max 0.5 --skin-min 0.8');
+    // Settings at their defaults are left out of the command line: the analysis applies the same ones.
+    expect(orient.commandLine).toBe('retarda orient "run 1.tif"');
+    expect(prof.numbers[0]).toEqual({ label: 'Core S (position |s| < 0.5)', value: profile.core.order, ci: [profile.core.ciLow, profile.core.ciHigh], n: profile.core.n, unit: '' });
+    expect(prof.commandLine).toBe('retarda profile "run 1.tif" --walls "4,8,92,8;4,56,92,56" --bins 8');
     expect(prof.settings[0]).toBe('walls drawn by hand: 4,8,92,8;4,56,92,56 px');
     const dia = c.images[1].sections[0];
     expect(dia.numbers[0]).toEqual({ label: 'Mean diameter', value: 12.5, ci: [12.1, 12.9], n: 40, unit: 'µm' });

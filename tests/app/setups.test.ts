@@ -8,7 +8,7 @@ import { createSessionStore, type KeyValue } from '../../app/storage/store.ts';
 import { restoreSession } from '../../app/storage/records.ts';
 import { exportBackup, importBackup } from '../../app/storage/backup.ts';
 import { sessionReducer } from '../../app/state/session.ts';
-import { PLATE_OPTIONS } from '../../src/cli/commands/plate.ts';
+import { PLATE_OPTIONS } from '../../src/options/index.ts';
 import { diameterCommand } from '../../src/cli/commands/diameter.ts';
 
 function memoryKv(): KeyValue & { map: Map<string, unknown> } {

@@ -117,7 +117,7 @@ describe('channelProfile', () => {
   it('rejects nonsense settings with a message naming them', () => {
     const { f, ch } = skinCoreField(0);
     expect(() => channelProfile(f, ch, { bins: 0 })).toThrow(/bins/);
-    expect(() => channelProfile(f, ch, { bins: 2.5 })).toThrow(/whole numbers/);
+    expect(() => channelProfile(f, ch, { bins: 2.5 })).toThrow(/whole number/);
     expect(() => channelProfile(f, ch, { coreMax: 0.9, skinMin: 0.8 })).toThrow(/overlaps/);
   });
 });

@@ -274,8 +274,8 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     const body = (await report.textContent()) ?? '';
     expect(body).toContain('not a safety or quality certification');
     expect(body).toContain(formatCell(b.core.order));
-    expect(body).toContain('retarda profile compare-turned.png --auto-walls --sigma 2 --weighting confidence --bins 20');
-    expect(body).toContain('retarda orient compare-turned.png --sigma 2 --weighting confidence');
+    expect(body).toContain('retarda profile compare-turned.png --auto-walls');
+    expect(body).toContain('retarda orient compare-turned.png');
     expect(await report.getByTestId('report-calibration').first().textContent()).toBe('not calibrated (lengths in px)');
     expect(await report.locator('img').count()).toBe(2);
     await shot('27-report');

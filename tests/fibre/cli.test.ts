@@ -6,7 +6,7 @@ import { diameterCommand } from '../../src/cli/commands/diameter.ts';
 import { fibreCommand } from '../../src/cli/commands/fibre.ts';
 import { encodeFloatTiff } from '../../src/report/tiff.ts';
 import { fibreNumbersResult } from '../../src/analyses/index.ts';
-import { fibreArgs } from '../../app/components/commandLines.ts';
+import { fibreArgs } from '../../src/options/index.ts';
 import { renderFibres } from './render.ts';
 import { tempDir, writePng16 } from './pngFile.ts';
 
@@ -158,7 +158,7 @@ describe('retarda fibre', () => {
       tenacity: { value: 4, unit: 'cN/dtex' as const }, retardanceNm: 350,
       uncertainties: { diameterUm: 0.05, diameterDof: 12.5, densityGPerCm3: 0.01, linearDensity: 0.02, tenacity: 0.2, retardanceNm: 10 },
     };
-    const argv = fibreArgs(request).flatMap((a) => a.split(' '));
+    const argv = fibreArgs(request);
     const d = (await run(fibreCommand, [...argv, '--json'])).json as Record<string, unknown>;
     expect(d).toEqual(fibreNumbersResult(request));
   });

@@ -237,9 +237,9 @@ describe('measureFibreDiameters on degenerate images', () => {
   });
   it('refuses nonsense options', () => {
     const img = renderFibres({ width: 100, height: 80, fibres: [{ cx: 50, cy: 40, angleDeg: 0, widthPx: 12, contrast: -0.3 }] });
-    expect(() => measureFibreDiameters(img, { stepPx: 0 })).toThrow(/stepPx/);
-    expect(() => measureFibreDiameters(img, { pixelSizeUmPerPx: -1 })).toThrow(/pixelSizeUmPerPx/);
-    expect(() => measureFibreDiameters(img, { pixelSizeUmPerPx: NaN })).toThrow(/pixelSizeUmPerPx/);
+    expect(() => measureFibreDiameters(img, { stepPx: 0 })).toThrow(/station step/);
+    expect(() => measureFibreDiameters(img, { pixelSizeUmPerPx: -1 })).toThrow(/pixel size/);
+    expect(() => measureFibreDiameters(img, { pixelSizeUmPerPx: NaN })).toThrow(/pixel size/);
     expect(() => measureFibreDiameters({ width: 8, height: 8, data: new Float32Array(64) })).toThrow(/too small/);
   });
 });

@@ -1,4 +1,5 @@
-import { SCHEMA_VERSION, analyseMicrometer, analyseOpticsCalibration, type MicrometerDocument } from '../../analyses/index.ts';
+import { SCHEMA_VERSION, analyseMicrometer, analyseOpticsCalibration, type MicrometerAnalysisOptions, type MicrometerDocument } from '../../analyses/index.ts';
+import { CALIBRATE_OPTIONS } from '../../options/index.ts';
 import { roundWithUncertainty, umPerPxFromOptics, type OpticsInput } from '../../calibrate/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
@@ -46,34 +47,40 @@ function samplingFrom(a: ParsedArgs) {
   return { na: numberOpt(a, 'na'), wavelengthNm: numberOpt(a, 'wavelength-nm') };
 }
 
+/** --polarity of the ruler lines, checked. */
+function polarityFrom(a: ParsedArgs): 'auto' | 'dark' | 'bright' | undefined {
+  const polarity = stringOpt(a, 'polarity');
+  if (polarity !== undefined && polarity !== 'auto' && polarity !== 'dark' && polarity !== 'bright') {
+    throw new InputError(`--polarity must be auto, dark or bright, got "${polarity}"`);
+  }
+  return polarity;
+}
+
+/**
+ * `retarda calibrate`'s options for a micrometer image (CALIBRATE_OPTIONS) as analyseMicrometer takes them, with the
+ * optics' pixel size as its cross-check (null when the optics were not given).
+ */
+export function micrometerOptionsFrom(a: ParsedArgs, opticsUmPerPx: number | null = null): MicrometerAnalysisOptions {
+  const divisionUm = numberOpt(a, 'division-um');
+  if (divisionUm === undefined) {
+    throw new InputError('--division-um is needed with a micrometer image', 'Give the division spacing, e.g. --division-um 10');
+  }
+  return {
+    divisionUm, divisionToleranceUm: numberOpt(a, 'division-tolerance-um'), polarity: polarityFrom(a), opticsUmPerPx, ...samplingFrom(a),
+  };
+}
+
 export const calibrateCommand: Command = {
   name: 'calibrate',
   summary: 'pixel size from a stage-micrometer image (ticks fitted along their own direction, GUM uncertainty) or from the optics',
   usage: 'IMAGE... --division-um D [--division-tolerance-um T] [--json]   |   --camera-pixel-um P --objective-mag M [--adapter-mag A]\n\n' +
     'The table gives um/px with its standard uncertainty (k = 1), the interval at k = 2 (Student t factor when few ticks),\n' +
     'the method and any warning beside the number; --json gives umPerPx and uncertainty (relative, k = 1).',
-  options: [
-    { name: 'division-um', kind: 'number', help: 'spacing of one micrometer division, um (1 mm / 100 = 10)' },
-    {
-      name: 'division-tolerance-um', kind: 'number', defaultText: '0: not included',
-      help: 'tolerance of one division, +-um, as the micrometer\'s certificate states it; added to the uncertainty as a ' +
-        'rectangular distribution (u = T / sqrt 3). A tolerance stated over the whole scale: divide it by the number of divisions',
-    },
-    { name: 'polarity', kind: 'string', help: 'ruler lines dark or bright', defaultText: 'auto' },
-    { name: 'camera-pixel-um', kind: 'number', help: 'camera sensor pixel pitch, um (optics mode or cross-check)' },
-    { name: 'objective-mag', kind: 'number', help: 'objective magnification' },
-    { name: 'adapter-mag', kind: 'number', help: 'camera adapter / intermediate lens magnification', defaultText: '1' },
-    { name: 'binning', kind: 'number', help: 'camera binning', defaultText: '1' },
-    { name: 'na', kind: 'number', help: 'objective numerical aperture, for a sampling check' },
-    { name: 'wavelength-nm', kind: 'number', help: 'wavelength for the sampling check, nm', defaultText: '550' },
-  ],
+  options: CALIBRATE_OPTIONS,
   async run(a) {
+    polarityFrom(a);
     const opticsInput = opticsInputFrom(a);
     const optics = opticsInput ? umPerPxFromOptics(opticsInput) : null;
-    const polarity = stringOpt(a, 'polarity');
-    if (polarity !== undefined && polarity !== 'auto' && polarity !== 'dark' && polarity !== 'bright') {
-      throw new InputError(`--polarity must be auto, dark or bright, got "${polarity}"`);
-    }
     if (a.positionals.length === 0) {
       if (optics === null) {
         throw new InputError('no micrometer image and no optics given',
@@ -86,15 +93,8 @@ export const calibrateCommand: Command = {
         csvRows: [{ method: 'optics', umPerPx: optics }], warnings,
       };
     }
-    const divisionUm = numberOpt(a, 'division-um');
-    if (divisionUm === undefined) {
-      throw new InputError('--division-um is needed with a micrometer image', 'Give the division spacing, e.g. --division-um 10');
-    }
+    const options = micrometerOptionsFrom(a, optics);
     const images = await loadImageFiles(a.positionals);
-    const options = {
-      divisionUm, divisionToleranceUm: numberOpt(a, 'division-tolerance-um'),
-      polarity: polarity as 'auto' | 'dark' | 'bright' | undefined, opticsUmPerPx: optics, ...samplingFrom(a),
-    };
     const docs = images.map((img) => {
       try {
         return analyseMicrometer(img, options);

@@ -1,32 +1,35 @@
 import { interferenceChart, renderChart, chartTitle, parseIlluminant, fullWavePlate, illuminantLabel } from '../../optics/index.ts';
 import { encodePng } from '../../report/png.ts';
-import { numberOpt, stringOpt } from '../args.ts';
+import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
+import { CHART_OPTIONS, type ChartRequest } from '../../options/index.ts';
+import { checkLimit } from '../../common/index.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
 import { writeBytes } from '../io.ts';
-import { SCHEMA_VERSION } from '../../analyses/index.ts';
+import { DEFAULT_ILLUMINANT, OPTICS_LIMITS, SCHEMA_VERSION } from '../../analyses/index.ts';
+
+/** `retarda chart`'s options (CHART_OPTIONS). */
+export function chartFrom(a: ParsedArgs): ChartRequest {
+  return {
+    compensatorNm: numberOpt(a, 'compensator-nm'), illuminant: stringOpt(a, 'illuminant'), maxNm: numberOpt(a, 'max-nm'),
+    stepNm: numberOpt(a, 'step-nm'), widthPx: numberOpt(a, 'width-px'), out: stringOpt(a, 'out'),
+  };
+}
 
 export const chartCommand: Command = {
   name: 'chart',
   summary: 'interference colour chart (0-2000 nm, with and without the compensator) as a table, CSV and PNG',
   usage: '[--compensator-nm N] [--illuminant 3200K|D65] [--out chart.png] [--csv chart.csv]',
-  options: [
-    { name: 'compensator-nm', kind: 'number', help: 'full-wave compensator retardance, nm', defaultText: '550' },
-    { name: 'illuminant', kind: 'string', help: 'lamp: a colour temperature such as 3200K, or D65, or A', defaultText: '3200K' },
-    { name: 'max-nm', kind: 'number', help: 'largest retardance on the chart, nm', defaultText: '2000' },
-    { name: 'step-nm', kind: 'number', help: 'retardance step of the table, nm', defaultText: '5' },
-    { name: 'width-px', kind: 'number', help: 'width of the PNG, px', defaultText: '1000' },
-    { name: 'out', kind: 'string', help: 'write the chart picture as a PNG' },
-  ],
+  options: CHART_OPTIONS,
   async run(a) {
-    const ill = stringOpt(a, 'illuminant');
-    const illuminant = ill ? parseIlluminant(ill) : { kind: 'blackbody' as const, temperatureK: 3200 };
-    const compensatorNm = numberOpt(a, 'compensator-nm') ?? 550;
+    const o = chartFrom(a);
+    const illuminant = parseIlluminant(o.illuminant ?? DEFAULT_ILLUMINANT);
+    const compensatorNm = checkLimit(OPTICS_LIMITS.compensatorNm, o.compensatorNm);
     const train = { illuminant, compensator: fullWavePlate(compensatorNm) };
-    const rows = interferenceChart(train, { maxNm: numberOpt(a, 'max-nm'), stepNm: numberOpt(a, 'step-nm') });
-    const out = stringOpt(a, 'out');
+    const rows = interferenceChart(train, { maxNm: o.maxNm, stepNm: o.stepNm });
+    const out = o.out;
     if (out) {
-      const img = renderChart(rows, numberOpt(a, 'width-px') ?? 1000, 60, chartTitle(train));
+      const img = renderChart(rows, o.widthPx, 60, chartTitle(train));
       await writeBytes(out, encodePng(img));
     }
     const hex = (c: number[]) => '#' + c.map((v) => v.toString(16).padStart(2, '0')).join('');

@@ -1,4 +1,7 @@
-import { SCHEMA_VERSION, analyseDiameter, type DiameterDocument } from '../../analyses/index.ts';
+import { SCHEMA_VERSION, analyseDiameter, type DiameterAnalysisOptions, type DiameterDocument } from '../../analyses/index.ts';
+import { checkLimit, withinLimit } from '../../common/index.ts';
+import { DIAMETER_LIMITS } from '../../fibre/index.ts';
+import { DIAMETER_OPTIONS } from '../../options/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -15,35 +18,35 @@ function polarityFrom(a: ParsedArgs): Polarity | undefined {
   return p;
 }
 
+/**
+ * `retarda diameter`'s options (DIAMETER_OPTIONS) as analyseDiameter takes them; the pixel size and its uncertainty
+ * are checked here, before any image is read.
+ */
+export function diameterOptionsFrom(a: ParsedArgs): DiameterAnalysisOptions {
+  const umPerPx = numberOpt(a, 'um-per-px');
+  const uncertainty = numberOpt(a, 'um-per-px-uncertainty');
+  if (umPerPx !== undefined) checkLimit({ ...DIAMETER_LIMITS.pixelSizeUmPerPx, what: '--um-per-px' }, umPerPx);
+  if (uncertainty !== undefined) {
+    if (!withinLimit(DIAMETER_LIMITS.pixelSizeUncertainty, uncertainty)) {
+      throw new InputError(`--um-per-px-uncertainty must be a relative uncertainty from 0 to ${DIAMETER_LIMITS.pixelSizeUncertainty.max}, got ${uncertainty}`,
+        'Give it as a fraction, e.g. 0.002 for 0.2 %');
+    }
+  }
+  return {
+    pixelSizeUmPerPx: umPerPx, pixelSizeUncertainty: uncertainty, stepPx: numberOpt(a, 'step-px'), averagePx: numberOpt(a, 'average-px'),
+    polarity: polarityFrom(a), shadingDegree: numberOpt(a, 'shading-degree'),
+  };
+}
+
 export const diameterCommand: Command = {
   name: 'diameter',
   summary: 'fibre diameter at stations along each fibre in the field: mean, SD, CV, 95 % interval',
   usage: 'IMAGE... [--um-per-px U [--um-per-px-uncertainty R]] [--step-px 10] [--polarity auto|dark|bright] [--json]',
-  options: [
-    { name: 'um-per-px', kind: 'number', help: 'pixel size in the object, um/px (overrides the file\'s resolution tags)' },
-    { name: 'um-per-px-uncertainty', kind: 'number',
-      help: 'relative standard uncertainty (k = 1) of the pixel size, e.g. 0.002, as `calibrate` gives it (`uncertainty`); enters the um intervals' },
-    { name: 'step-px', kind: 'number', help: 'distance between stations along the fibre, px', defaultText: '10' },
-    { name: 'average-px', kind: 'number', help: 'length along the fibre each profile is averaged over, px', defaultText: '5' },
-    { name: 'polarity', kind: 'string', help: 'fibre darker (dark) or brighter (bright) than the background', defaultText: 'auto' },
-    { name: 'shading-degree', formerName: 'background-degree', kind: 'number', help: 'shading: degree of the surface of the uneven lamp field removed first (0 = a flat level, up to 4)', defaultText: '2' },
-  ],
+  options: DIAMETER_OPTIONS,
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
-    const umPerPxOption = numberOpt(a, 'um-per-px');
-    if (umPerPxOption !== undefined && !(umPerPxOption > 0)) {
-      throw new InputError(`--um-per-px must be above 0, got ${umPerPxOption}`);
-    }
-    const uncertaintyOption = numberOpt(a, 'um-per-px-uncertainty');
-    if (uncertaintyOption !== undefined && !(uncertaintyOption >= 0 && uncertaintyOption <= 0.5)) {
-      throw new InputError(`--um-per-px-uncertainty must be a relative uncertainty from 0 to 0.5, got ${uncertaintyOption}`,
-        'Give it as a fraction, e.g. 0.002 for 0.2 %');
-    }
+    const options = diameterOptionsFrom(a);
     const images = await loadImageFiles(a.positionals);
-    const options = {
-      pixelSizeUmPerPx: umPerPxOption, pixelSizeUncertainty: uncertaintyOption, stepPx: numberOpt(a, 'step-px'), averagePx: numberOpt(a, 'average-px'),
-      polarity: polarityFrom(a), shadingDegree: numberOpt(a, 'shading-degree'),
-    };
     const docs = images.map((img) => {
       try {
         return analyseDiameter(img, options);

@@ -1,4 +1,5 @@
-import { fibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../analyses/index.ts';
+import { fibreNumbersResult, type FibreNumbersRequest, type LinearDensityUnit, type TenacityUnit } from '../../analyses/index.ts';
+import { FIBRE_OPTIONS, TENACITY_OPTION } from '../../options/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { numberOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
@@ -16,57 +17,40 @@ function oneOf<U extends string>(a: ParsedArgs, what: string, choices: [string, 
   return { value: numberOpt(a, name) as number, unit };
 }
 
+/** `retarda fibre`'s options (FIBRE_OPTIONS) as fibreNumbersResult takes them. */
+export function fibreRequestFrom(a: ParsedArgs): FibreNumbersRequest {
+  const diameterUm = numberOpt(a, 'diameter-um');
+  const density = numberOpt(a, 'density');
+  if (diameterUm === undefined || density === undefined) {
+    throw new InputError('--diameter-um and --density are both needed', 'e.g. retarda fibre --diameter-um 7 --density 1.8');
+  }
+  const uncertainties = {
+    diameterUm: numberOpt(a, 'diameter-uncertainty-um'), diameterDof: numberOpt(a, 'diameter-dof'),
+    densityGPerCm3: numberOpt(a, 'density-uncertainty'), linearDensity: numberOpt(a, 'linear-density-uncertainty'),
+    tenacity: numberOpt(a, 'tenacity-uncertainty'), strengthGPa: numberOpt(a, 'strength-uncertainty-gpa'),
+    retardanceNm: numberOpt(a, 'retardance-uncertainty-nm'), thicknessUm: numberOpt(a, 'thickness-uncertainty-um'),
+    intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence-uncertainty'),
+  };
+  return {
+    diameterUm, densityGPerCm3: density,
+    linearDensity: oneOf<LinearDensityUnit>(a, 'linear density', [['linear-density-tex', 'tex'], ['linear-density-dtex', 'dtex'], ['linear-density-den', 'den']]),
+    tenacity: oneOf<TenacityUnit>(a, 'tenacity', (Object.entries(TENACITY_OPTION) as [TenacityUnit, string][]).map(([unit, name]) => [name, unit])),
+    strengthGPa: numberOpt(a, 'strength-gpa'), retardanceNm: numberOpt(a, 'retardance-nm'),
+    thicknessUm: numberOpt(a, 'thickness-um'), intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence'),
+    ...(Object.values(uncertainties).some((v) => v !== undefined) ? { uncertainties } : {}),
+  };
+}
+
 export const fibreCommand: Command = {
   name: 'fibre',
   summary: 'fibre numbers: linear density, packing fraction, tenacity and tensile strength, birefringence, orientation factor',
   usage: '--diameter-um D [--diameter-uncertainty-um U] --density G [--linear-density-tex T] [--tenacity-n-per-tex S] [--retardance-nm R] [--json]',
-  options: [
-    { name: 'diameter-um', kind: 'number', help: 'fibre diameter, um' },
-    { name: 'density', kind: 'number', help: 'density of the solid material, g/cm3' },
-    { name: 'linear-density-tex', kind: 'number', help: 'measured linear density, tex (for the packing fraction)' },
-    { name: 'linear-density-dtex', kind: 'number', help: 'measured linear density, dtex' },
-    { name: 'linear-density-den', kind: 'number', help: 'measured linear density, denier' },
-    { name: 'tenacity-n-per-tex', kind: 'number', help: 'tenacity (breaking force per linear density), N/tex' },
-    { name: 'tenacity-cn-per-dtex', kind: 'number', help: 'tenacity, cN/dtex' },
-    { name: 'tenacity-gf-per-den', kind: 'number', help: 'tenacity, gf/den' },
-    { name: 'strength-gpa', kind: 'number', help: 'tensile strength (breaking force per area), GPa: gives the tenacity at this density' },
-    { name: 'retardance-nm', kind: 'number', help: 'retardance through the fibre, nm (for the birefringence)' },
-    { name: 'thickness-um', kind: 'number', help: 'optical path for the birefringence, um', defaultText: 'the diameter' },
-    { name: 'intrinsic-birefringence', kind: 'number', help: 'birefringence of perfectly aligned material (orientation factor)' },
-    // Standard uncertainties (k = 1), each in its value's unit: they give the 95 % intervals (law of propagation, GUM).
-    { name: 'diameter-uncertainty-um', kind: 'number', help: 'standard uncertainty (k = 1) of the diameter, um (`uUm` of `diameter`)' },
-    { name: 'diameter-dof', kind: 'number', help: 'degrees of freedom of that uncertainty (`dofUm` of `diameter`)', defaultText: 'infinite' },
-    { name: 'density-uncertainty', kind: 'number', help: 'standard uncertainty of the density, g/cm3' },
-    { name: 'linear-density-uncertainty', kind: 'number', help: 'standard uncertainty of the linear density, in its unit' },
-    { name: 'tenacity-uncertainty', kind: 'number', help: 'standard uncertainty of the tenacity, in its unit' },
-    { name: 'strength-uncertainty-gpa', kind: 'number', help: 'standard uncertainty of the tensile strength, GPa' },
-    { name: 'retardance-uncertainty-nm', kind: 'number', help: 'standard uncertainty of the retardance, nm' },
-    { name: 'thickness-uncertainty-um', kind: 'number', help: 'standard uncertainty of the optical path, um' },
-    { name: 'intrinsic-birefringence-uncertainty', kind: 'number', help: 'standard uncertainty of the intrinsic birefringence' },
-  ],
+  options: FIBRE_OPTIONS,
   async run(a) {
     if (a.positionals.length > 0) {
       throw new InputError(`retarda fibre takes no files, got "${a.positionals[0]}"`, 'Give the numbers as options');
     }
-    const diameterUm = numberOpt(a, 'diameter-um');
-    const density = numberOpt(a, 'density');
-    if (diameterUm === undefined || density === undefined) {
-      throw new InputError('--diameter-um and --density are both needed', 'e.g. retarda fibre --diameter-um 7 --density 1.8');
-    }
-    const r = fibreNumbersResult({
-      diameterUm, densityGPerCm3: density,
-      linearDensity: oneOf<LinearDensityUnit>(a, 'linear density', [['linear-density-tex', 'tex'], ['linear-density-dtex', 'dtex'], ['linear-density-den', 'den']]),
-      tenacity: oneOf<TenacityUnit>(a, 'tenacity', [['tenacity-n-per-tex', 'N/tex'], ['tenacity-cn-per-dtex', 'cN/dtex'], ['tenacity-gf-per-den', 'gf/den']]),
-      strengthGPa: numberOpt(a, 'strength-gpa'), retardanceNm: numberOpt(a, 'retardance-nm'),
-      thicknessUm: numberOpt(a, 'thickness-um'), intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence'),
-      uncertainties: {
-        diameterUm: numberOpt(a, 'diameter-uncertainty-um'), diameterDof: numberOpt(a, 'diameter-dof'),
-        densityGPerCm3: numberOpt(a, 'density-uncertainty'), linearDensity: numberOpt(a, 'linear-density-uncertainty'),
-        tenacity: numberOpt(a, 'tenacity-uncertainty'), strengthGPa: numberOpt(a, 'strength-uncertainty-gpa'),
-        retardanceNm: numberOpt(a, 'retardance-uncertainty-nm'), thicknessUm: numberOpt(a, 'thickness-uncertainty-um'),
-        intrinsicBirefringence: numberOpt(a, 'intrinsic-birefringence-uncertainty'),
-      },
-    });
+    const r = fibreNumbersResult(fibreRequestFrom(a));
     // The CSV row holds the numbers only, as before the document gained its head; each interval as two columns.
     const { schemaVersion: _version, analysis: _analysis, intervals, ...numbers } = r;
     void _version; void _analysis;

@@ -4,39 +4,14 @@ import {
 import { InputError } from '../../common/errors.ts';
 import type { MatchSpace } from '../../optics/index.ts';
 import { parseRect } from '../../common/index.ts';
-import { flagOpt, numberList, numberOpt, stringOpt, type OptionSpec, type ParsedArgs } from '../args.ts';
+import { flagOpt, numberList, numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
+import { PLATE_OPTIONS } from '../../options/index.ts';
 import type { Command, CommandOutput } from '../command.ts';
 import { formatPairs } from '../format.ts';
 import { NOT_DETERMINED } from '../../analyses/schema.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
-import { CHANNEL_OPTIONS, profileCsvRow, profileRequestFrom, profileTable, weightingFrom } from '../channelOptions.ts';
-
-/** The optical train, shared by plate, plate-pair, angle-series (its --plate image) and chart. */
-export const TRAIN_OPTIONS: OptionSpec[] = [
-  { name: 'compensator-nm', kind: 'number', help: 'full-wave compensator retardance, nm (fitted from --sample-free unless given)', defaultText: '550' },
-  { name: 'compensator-deg', kind: 'number', help: 'compensator slow-axis angle, degrees CCW from +x', defaultText: '45' },
-  { name: 'polariser-deg', kind: 'number', help: 'polariser angle, degrees CCW from +x (analyser crossed)', defaultText: '0' },
-  { name: 'illuminant', kind: 'string', help: 'lamp: a colour temperature such as 3200K, or D65, or A', defaultText: '3200K' },
-];
-
-/** One image of a sample of known retardance (plate, profile --source plate): the reading keeps to that band. */
-export const KNOWN_RETARDANCE_OPTIONS: OptionSpec[] = [
-  { name: 'sample-retardance-nm', kind: 'number', help: 'one image: known sample retardance (e.g. thickness x birefringence), nm; each colour then fixes the angle' },
-  { name: 'sample-retardance-tolerance-nm', kind: 'number', help: 'one image: half-width of the known-retardance band, nm', defaultText: '10 % of the retardance' },
-];
-
-/** Options of the compensator-image readers (the known-retardance ones are for one image: plate-pair leaves them out). */
-export const PLATE_OPTIONS: OptionSpec[] = [
-  ...TRAIN_OPTIONS,
-  { name: 'retardance-max-nm', kind: 'number', help: 'largest sample retardance searched, nm', defaultText: '800' },
-  { name: 'retardance-min-nm', kind: 'number', help: 'mask pixels read below this retardance as sample-free, nm', defaultText: '20' },
-  { name: 'sample-free', formerName: 'background', kind: 'string', help: 'sample-free area "x,y,w,h": fits compensator retardance, white balance and exposure' },
-  { name: 'white-rgb', kind: 'string', help: 'white reference "R,G,B" (8-bit codes as stored) of a sample-free area with parallel polars: sets the white balance' },
-  { name: 'sign', kind: 'string', help: 'birefringence of the structure: positive (length-slow) or negative (length-fast)', defaultText: 'positive' },
-  { name: 'field-out', kind: 'string', help: 'write the field as a float TIFF (angleDeg, confidence, retardanceNm, mask)' },
-  ...KNOWN_RETARDANCE_OPTIONS,
-];
+import { profileCsvRow, profileRequestFrom, profileTable, weightingFrom } from '../channelOptions.ts';
 
 /** The known-retardance options as the analyses take them. */
 export function knownRetardanceFrom(a: ParsedArgs): Pick<PlateOptions, 'sampleRetardanceNm' | 'sampleRetardanceToleranceNm'> {
@@ -75,9 +50,10 @@ export function plateReadingFrom(a: ParsedArgs): PlateReadingOptions {
   };
 }
 
-export function matchFrom(a: ParsedArgs): MatchSpace {
-  const match = stringOpt(a, 'match') ?? 'lab';
-  if (match !== 'lab' && match !== 'chroma') throw new InputError(`--match must be lab or chroma, got "${match}"`);
+/** --match, or undefined (the analyses match in Lab by default). */
+export function matchFrom(a: ParsedArgs): MatchSpace | undefined {
+  const match = stringOpt(a, 'match');
+  if (match !== undefined && match !== 'lab' && match !== 'chroma') throw new InputError(`--match must be lab or chroma, got "${match}"`);
   return match;
 }
 
@@ -130,21 +106,19 @@ export function opticsOutput(analysis: string, results: OpticsResult[]): Command
   };
 }
 
-export const MATCH_OPTION: OptionSpec = { name: 'match', kind: 'string', help: 'lab, or chroma (brightness-independent, for uneven illumination)', defaultText: 'lab' };
+/** `retarda plate`'s options (PLATE_OPTIONS) as analysePlate takes them. */
+export function plateOptionsFrom(a: ParsedArgs): PlateOptions {
+  return { ...plateReadingFrom(a), ...knownRetardanceFrom(a), ...summaryFrom(a), match: matchFrom(a), resolveMirror: flagOpt(a, 'resolve-mirror') || undefined };
+}
 
 export const plateCommand: Command = {
   name: 'plate',
   summary: 'plate reading: orientation and retardance from one compensator (full-wave plate) colour image',
   usage: 'IMAGE... [--compensator-nm 550] [--compensator-deg 45] [--polariser-deg 0] [--illuminant 3200K|D65] [--retardance-max-nm 800] [--sample-retardance-nm R [--sample-retardance-tolerance-nm T]] [--sample-free "x,y,w,h"] [--field-out FILE.tif] [--json]',
-  options: [
-    ...PLATE_OPTIONS,
-    MATCH_OPTION,
-    { name: 'resolve-mirror', kind: 'flag', help: 'resolve theta vs its mirror image about the compensator axis with the texture direction' },
-    ...CHANNEL_OPTIONS,
-  ],
+  options: PLATE_OPTIONS,
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more compensator images');
-    const options: PlateOptions = { ...plateReadingFrom(a), ...knownRetardanceFrom(a), ...summaryFrom(a), match: matchFrom(a), resolveMirror: flagOpt(a, 'resolve-mirror') };
+    const options = plateOptionsFrom(a);
     const images = await loadImageFiles(a.positionals);
     const fieldOut = stringOpt(a, 'field-out');
     const results: OpticsResult[] = [];

@@ -1,59 +1,62 @@
-import { NOT_DETERMINED, type ProfileResult } from '../../analyses/index.ts';
+import { NOT_DETERMINED, type ProfileRequest, type ProfileResult } from '../../analyses/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { stringOpt } from '../args.ts';
 import type { Command } from '../command.ts';
 import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
-import { CHANNEL_OPTIONS, channelProfileOutput, profileCsvRow, profileRequestFrom, profileTable } from '../channelOptions.ts';
-import { TEXTURE_OPTIONS, textureOptionsFrom } from './orient.ts';
-import { MATCH_OPTION, PLATE_OPTIONS, knownRetardanceFrom, matchFrom, plateReadingFrom } from './plate.ts';
-import { analyseOrientation as textureField, analysePlateProfile, readPlateField } from '../../analyses/index.ts';
+import { profileCsvRow, profileRequestFrom, profileTable } from '../channelOptions.ts';
+import { textureOptionsFrom } from './orient.ts';
+import { knownRetardanceFrom, matchFrom, plateReadingFrom } from './plate.ts';
+import { analyseOrientation as textureField, analysePlateProfile, analyseProfile, readPlateField } from '../../analyses/index.ts';
+import { PROFILE_OPTIONS, type ProfileFieldSource } from '../../options/index.ts';
 import type { OrientationField } from '../../orientation/index.ts';
 import type { Image } from '../../image/types.ts';
 import type { ParsedArgs } from '../args.ts';
 
-/**
- * The profile from the field `--source` names: the texture (structure tensor), or one compensator image
- * read as `plate` reads it (so the same checks decide whether its order numbers are determined).
- */
-async function profileFor(img: Image, a: ParsedArgs): Promise<{ field: OrientationField; result: ProfileResult | null }> {
+/** `retarda profile`'s options (PROFILE_OPTIONS): where the field comes from, and the profile request. */
+export function profileFrom(a: ParsedArgs): { source: ProfileFieldSource; request: ProfileRequest } {
   const source = stringOpt(a, 'source') ?? 'texture';
-  if (source === 'texture') {
-    const field = (await textureField(img, textureOptionsFrom(a))).field;
-    return { field, result: await channelProfileOutput(img, field, a) };
+  if (source !== 'texture' && source !== 'plate') {
+    throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate-pair or angle-series with --walls for the other readers');
   }
-  if (source === 'plate') {
-    const request = profileRequestFrom(a, false);
-    const reading = { ...plateReadingFrom(a), ...knownRetardanceFrom(a), match: matchFrom(a), axisDeg: request?.axisDeg };
-    const { field } = readPlateField(img, reading);
-    return { field, result: request && await analysePlateProfile(img, field, reading, request) };
+  const request = profileRequestFrom(a, source === 'texture');
+  if (!request) throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
+  return {
+    source: source === 'texture' ? { kind: 'texture', texture: textureOptionsFrom(a) }
+      : { kind: 'plate', plate: { ...plateReadingFrom(a), ...knownRetardanceFrom(a), match: matchFrom(a) } },
+    request,
+  };
+}
+
+/**
+ * The profile from the field the source names: the texture (structure tensor), or one compensator image read as
+ * `plate` reads it (so the same checks decide whether its order numbers are determined).
+ */
+async function profileFor(img: Image, source: ProfileFieldSource, request: ProfileRequest): Promise<{ field: OrientationField; result: ProfileResult }> {
+  if (source.kind === 'texture') {
+    const field = (await textureField(img, source.texture)).field;
+    return { field, result: await analyseProfile(img, field, request) };
   }
-  throw new InputError(`--source must be texture or plate, got "${source}"`, 'Use plate-pair or angle-series with --walls for the other readers');
+  const reading = { ...source.plate, axisDeg: request.axisDeg };
+  const { field } = readPlateField(img, reading);
+  return { field, result: await analysePlateProfile(img, field, reading, request) };
 }
 
 export const profileCommand: Command = {
   name: 'profile',
   summary: 'order parameter S across a channel or fibre (bins, stations, core and skin) from the texture field',
   usage: 'IMAGE... (--walls "x1,y1,x2,y2;x3,y3,x4,y4" | --auto-walls) [--bins 20] [--stations 1] [--axis-deg A] [--json]',
-  options: [
-    ...CHANNEL_OPTIONS,
-    { name: 'source', kind: 'string', help: 'orientation from: texture (structure tensor) or plate (compensator colour image)', defaultText: 'texture' },
-    ...TEXTURE_OPTIONS,
-    ...PLATE_OPTIONS.filter((o) => o.name !== 'field-out'),
-    MATCH_OPTION,
-  ],
+  options: PROFILE_OPTIONS,
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
-    if (!stringOpt(a, 'walls') && !a.options.has('auto-walls')) {
-      throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
-    }
+    const { source, request } = profileFrom(a);
     const images = await loadImageFiles(a.positionals);
     const fieldOut = stringOpt(a, 'field-out');
     const results: ProfileResult[] = [];
     for (const img of images) {
-      const { field, result: r } = await profileFor(img, a);
+      const { field, result } = await profileFor(img, source, request);
       if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda profile ${img.source.name}`);
-      if (r) results.push(r);
+      results.push(result);
     }
     return {
       json: results.length === 1 ? results[0] : { schemaVersion: results[0].schemaVersion, analysis: 'profile', results },
