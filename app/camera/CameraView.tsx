@@ -4,7 +4,7 @@
  * keep it as an image of the session.
  */
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import { BLOCK_CORRELATION_LENGTHS } from '../../src/order/index.ts';
 import type { Weighting } from '../../src/order/index.ts';
 import { AnalysisClient } from '../worker/client.ts';

@@ -3,7 +3,7 @@
  * on one plot with interval bands, and a sortable table of core, skin, ratio and diameter.
  */
 import { useEffect, useMemo, useState } from 'react';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 import type { SessionRecord, SessionStore, SessionSummary } from '../storage/index.ts';
 import { download } from '../export/rows.ts';

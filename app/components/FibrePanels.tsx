@@ -6,7 +6,7 @@
 import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
 import { NOT_DETERMINED, type DiameterAnalysisOptions, type DiameterDocument, type FibreNumbersRequest, type FibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../src/analyses/index.ts';
 import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import type { Mark } from './Viewer.tsx';
 import type { PanelContext, PanelHandle } from './OpticalPanel.tsx';
 import { Histogram } from './Histogram.tsx';

@@ -6,7 +6,7 @@
 import { useImperativeHandle, useState, type Ref } from 'react';
 import type { MicrometerAnalysisOptions, MicrometerDocument } from '../../src/analyses/index.ts';
 import { roundWithUncertainty } from '../../src/calibrate/index.ts';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import type { PanelContext, PanelHandle } from './OpticalPanel.tsx';
 import { micrometerCommandLine, micrometerOptionsOf, type MicrometerForm } from '../analysis/requests.ts';
 import type { SessionPixelSize, StoredMicrometer } from '../storage/records.ts';

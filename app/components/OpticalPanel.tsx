@@ -10,7 +10,7 @@ import {
 } from '../../src/analyses/index.ts';
 import type { MatchSpace } from '../../src/optics/index.ts';
 import { rectText, type Rect } from '../../src/common/index.ts';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import type { AnalysisClient, ImageSource, ProgressFn } from '../worker/client.ts';
 import type { Glyph, Picture } from '../worker/protocol.ts';
 import type { Layer } from './Viewer.tsx';

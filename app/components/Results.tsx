@@ -1,6 +1,6 @@
 /** The numbers of the current image, formatted exactly as the command line's table prints them. */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 import { WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
 

@@ -1,6 +1,6 @@
 /** Colour bar of the retardance map: the scale the worker used, with ticks in nm. */
 import { useEffect, useRef } from 'react';
-import { retardanceColourTable } from '../worker/retardanceColours.ts';
+import { retardanceColourTable } from '../../src/report/index.ts';
 
 export function RetardanceBar({ rangeNm, width = 190 }: { rangeNm: [number, number]; width?: number }) {
   const ref = useRef<HTMLCanvasElement>(null);

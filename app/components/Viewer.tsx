@@ -139,7 +139,7 @@ export function Viewer(p: Props) {
       const cell = p.glyphs.length > 1 ? Math.hypot(p.glyphs[1].x - p.glyphs[0].x, p.glyphs[1].y - p.glyphs[0].y) || 8 : 8;
       g.lineCap = 'round';
       for (const gl of p.glyphs) {
-        const c0 = toScreen(gl.x, gl.y), half = 0.45 * cell * view.scale * Math.max(0.25, gl.coherency);
+        const c0 = toScreen(gl.x, gl.y), half = 0.45 * cell * view.scale * Math.max(0.25, gl.order2D);
         const a = (gl.angleDeg * Math.PI) / 180;
         // CCW on screen with y down: screen dy = -sin.
         const dx = half * Math.cos(a), dy = -half * Math.sin(a);

@@ -4,7 +4,7 @@
  * the browser's print dialogue (which also saves as PDF).
  */
 import { useEffect, useState } from 'react';
-import { formatCell } from '../../src/cli/format.ts';
+import { formatCell } from '../../src/report/index.ts';
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
 import type { ReportContent } from './reportContent.ts';
 

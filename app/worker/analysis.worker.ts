@@ -15,8 +15,8 @@ import { loadCv } from '../../src/cv/opencv.ts';
 import { decodeImage, type Image } from '../../src/image/index.ts';
 import type { OrientationField, TileHelper } from '../../src/orientation/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
-import { coherencyPicture, fieldGlyphs, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
-import { retardanceRange } from './retardanceColours.ts';
+import { coherencyPicture, directionLines, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
+import { retardanceRange } from '../../src/report/index.ts';
 import { frameImage, type ReadoutPlan } from '../camera/frames.ts';
 import type { CommandName, CommandTable, ErrorInfo, OpticsReply, ProfileSource, Reply, Request, StepTimes } from './protocol.ts';
 
@@ -169,7 +169,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     const field = await textureField(key, options, progress);
     const timer = stepTimer();
     progress('drawing the direction lines', 0.8);
-    const glyphs = fieldGlyphs(field);
+    const glyphs = directionLines(field);
     timer.lap('line glyphs');
     return { value: { glyphs, timesMs: timer.times }, transfer: [] };
   },
@@ -210,7 +210,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     const timer = stepTimer();
     progress(`drawing the ${view === 'glyphs' ? 'direction lines' : view}`, 0.5);
     if (view === 'glyphs') {
-      const glyphs = fieldGlyphs(field);
+      const glyphs = directionLines(field);
       timer.lap('line glyphs');
       return { value: { picture: null, glyphs, timesMs: timer.times }, transfer: [] };
     }

@@ -5,9 +5,9 @@
  */
 import type { Image } from '../../src/image/index.ts';
 import type { OrientationField } from '../../src/orientation/index.ts';
-import { orientationRgba } from '../../src/report/colourMap.ts';
+import { orientationRgba, retardanceColourTable, retardanceIndex } from '../../src/report/index.ts';
+import { cellOrders } from '../../src/order/index.ts';
 import type { Glyph, Picture } from './protocol.ts';
-import { retardanceColourTable, retardanceIndex } from './retardanceColours.ts';
 
 /** Longest side of a picture; a browser canvas holds this comfortably on a tablet. */
 const MAX_SIDE = 4096;
@@ -113,38 +113,13 @@ export function coherencyPicture(f: OrientationField): Promise<Picture> {
   });
 }
 
-/** Both pictures of a field (optical readings show both at once). */
-export async function fieldPictures(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<{ colour: Picture; coherency: Picture }> {
-  return { colour: await orientationPicture(f, opacity), coherency: await coherencyPicture(f) };
-}
-
 /**
- * Line glyphs on a grid of about `across` cells over the longer side: each is the free director of
- * its cell (half the argument of the confidence-weighted mean of exp(2i theta)) and that mean's length.
- * A cell drawn needs at least `minUsable` of its pixels usable: a few stray pixels in a masked area
- * (sample-free background, say) would otherwise draw a confident-looking line there.
+ * Direction lines on a grid of about `across` cells over the longer side: each cell's free director and S_2D
+ * (cellOrders in src/order, weighted by the field's coherency or confidence).
  */
-export function fieldGlyphs(f: OrientationField, across = 40, minUsable = 0.25): Glyph[] {
+export function directionLines(f: OrientationField, across = 40): Glyph[] {
   const cell = Math.max(4, Math.round(Math.max(f.width, f.height) / across));
-  const glyphs: Glyph[] = [];
-  for (let y0 = 0; y0 + cell <= f.height; y0 += cell) {
-    for (let x0 = 0; x0 + cell <= f.width; x0 += cell) {
-      let c = 0, s = 0, w = 0, usable = 0;
-      for (let y = y0; y < y0 + cell; y++) for (let x = x0; x < x0 + cell; x++) {
-        const i = y * f.width + x;
-        if (!f.mask[i]) continue;
-        usable++;
-        const wi = f.confidence[i];
-        // The texture reader gives cos 2theta and sin 2theta directly; other readers only the angle.
-        c += wi * (f.cos2 ? f.cos2[i] : Math.cos(2 * f.angleRad[i]));
-        s += wi * (f.sin2 ? f.sin2[i] : Math.sin(2 * f.angleRad[i]));
-        w += wi;
-      }
-      if (w <= 0 || usable < minUsable * cell * cell) continue;
-      glyphs.push({ x: x0 + cell / 2 - 0.5, y: y0 + cell / 2 - 0.5, angleDeg: (Math.atan2(s, c) / 2) * (180 / Math.PI), coherency: Math.hypot(c, s) / w });
-    }
-  }
-  return glyphs;
+  return cellOrders(f, cell).map((c) => ({ x: c.x, y: c.y, angleDeg: c.directorDeg, order2D: c.order2D }));
 }
 
 /** Retardance picture of an optical field over a colour-bar range (masked pixels transparent). */

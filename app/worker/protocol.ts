@@ -20,8 +20,8 @@ export interface ImageRef { key: string }
  */
 export interface Picture { width: number; height: number; scale: number; levels: ImageBitmap[] }
 
-/** One direction line of the direction-lines view: centre in image pixels, angle CCW from +x, coherency. */
-export interface Glyph { x: number; y: number; angleDeg: number; coherency: number }
+/** One direction line of the direction-lines view: centre in image pixels, the cell's director (CCW from +x) and its S_2D. */
+export interface Glyph { x: number; y: number; angleDeg: number; order2D: number }
 
 export interface DecodeSummary {
   name: string; width: number; height: number; channels: 1 | 3; bitDepth: 8 | 16 | 32;

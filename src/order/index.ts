@@ -6,4 +6,6 @@ export { axisOrderStat, freeOrderStat, ratioStat, fiellerInterval, fQuantile2, I
 export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';
 export { orderParameters, defaultBlockPx, defaultWeighting, DEFAULT_WEIGHTING, checkWeighting, BLOCK_CORRELATION_LENGTHS, BLOCK_PX_LIMIT } from './orderParameters.ts';
 export { seededRandom, normalRandom } from './random.ts';
+export type { CellOrder } from './cells.ts';
+export { cellOrders } from './cells.ts';
 export { correlationLengthPx } from './correlation.ts';

@@ -1,9 +1,11 @@
 /**
  * Colours for retardance maps: a sequential scale whose CIELAB lightness rises linearly from 18 to 94
  * (so equal steps in nm look like equal steps in brightness), with the hue moving from deep blue through
- * green to pale yellow so that neighbouring values stay distinguishable. Our own path through CIELAB.
+ * green to pale yellow so that neighbouring values stay distinguishable. Our own path through CIELAB. Where the
+ * path leaves the sRGB gamut (the darkest blues and the palest yellows) the colour is clipped to it: lightness then
+ * departs from the line by up to 2 L* but never falls (tests/report/retardanceColours.test.ts).
  */
-import { labToSrgb8, type Lab } from '../../src/report/colourMap.ts';
+import { labToSrgb8, type Lab } from './colourMap.ts';
 
 /** (a*, b*) at the start, middle and end of the scale; L* is linear in between. */
 const AB: [number, number][] = [[18, -52], [-38, 12], [-4, 62]];
