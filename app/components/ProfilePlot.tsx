@@ -30,7 +30,7 @@ export function ProfilePlot({ r }: { r: ProfileResult }) {
       {[-1, -0.5, 0, 0.5, 1].map((s) => (
         <text key={s} x={x(s)} y={H - M.b + 16} textAnchor="middle" className="plot-tick">{s}</text>
       ))}
-      <text x={(x(-1) + x(1)) / 2} y={H - 6} textAnchor="middle" className="plot-label">position s across the channel (−1 first wall, +1 second wall)</text>
+      <text x={(x(-1) + x(1)) / 2} y={H - 6} textAnchor="middle" className="plot-label">position s (−1 first wall, +1 second wall)</text>
       <text x={14} y={(M.t + H - M.b) / 2} textAnchor="middle" transform={`rotate(-90 14 ${(M.t + H - M.b) / 2})`} className="plot-label">S_axis</text>
       <text x={x(0)} y={M.t + 14} textAnchor="middle" className="plot-band-label">core</text>
       <text x={(x(-1) + x(-skinMin)) / 2} y={M.t + 14} textAnchor="middle" className="plot-band-label">skin</text>

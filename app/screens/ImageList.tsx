@@ -1,0 +1,31 @@
+/** The images of the session: choose the one shown, remove one, add more. */
+import { LampCaution } from '../components/Cautions.tsx';
+import type { Workspace } from './workspace.ts';
+
+export function ImageList({ w }: { w: Workspace }) {
+  const { session, keeping, change, store } = w.sessions;
+  if (!session) return null;
+  const remove = (id: string) => {
+    const writes = keeping.writes(session.id);
+    change({ type: 'removeImage', id });
+    // The session is written without the image first, then its bytes go (never a session listing missing bytes).
+    if (writes) void keeping.flush().then((done) => { if (done) void store.removeImage(id); });
+    w.analysis.client.call('forget', { key: id }).catch(() => undefined);
+  };
+  return (
+    <aside className="images" aria-label="Images in this session">
+      <h2>Images</h2>
+      <ul>
+        {session.images.map((m) => (
+          <li key={m.id} className={m.id === session.activeImageId ? 'current' : ''}>
+            <button onClick={() => change({ type: 'select', id: m.id })} title={m.name}>{m.name}</button>
+            <span className="marks">{session.work[m.id]?.orient ? 'O' : ''}{session.work[m.id]?.profile ? 'P' : ''}</span>
+            <button className="quiet small" aria-label={`Remove ${m.name} from the session`} onClick={() => remove(m.id)}>×</button>
+          </li>
+        ))}
+      </ul>
+      <button onClick={w.intake.chooseFiles}>Add images…</button>
+      <LampCaution />
+    </aside>
+  );
+}
