@@ -12,7 +12,7 @@ import { ColourKey } from '../components/ColourKey.tsx';
 import { defaultStep, planReadout, readoutHaloPx, sizeSteps, type FrameRect } from './frames.ts';
 import { Undetermined } from '../components/Results.tsx';
 import { LiveReadout, type GrabbedFrame, type LiveReading } from './liveReadout.ts';
-import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
+import { orientationColourTable, angleIndex } from '../../src/report/index.ts';
 
 interface Props {
   sigmaPx: number;

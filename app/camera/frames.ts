@@ -3,7 +3,7 @@
  * frame's pixels as the image the analyses read, and the frame-rate / latency meter. No DOM here, so
  * the logic is unit-tested in Node.
  */
-import type { Image } from '../../src/image/types.ts';
+import type { Image } from '../../src/image/index.ts';
 import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
 import type { Rect } from '../../src/common/index.ts';
 

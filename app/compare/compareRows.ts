@@ -4,7 +4,7 @@
  * series for one overlaid plot. Pure functions of the stored session records.
  */
 import type { ProfileResult } from '../../src/analyses/index.ts';
-import { toCsv, type CsvValue } from '../../src/report/csv.ts';
+import { toCsv, type CsvValue } from '../../src/report/index.ts';
 import type { SessionRecord } from '../storage/records.ts';
 import { isMeasured, umPerPxText } from '../setups/calibration.ts';
 

@@ -4,7 +4,7 @@
  * convention marked: 0 deg along +x (to the right), counter-clockwise positive.
  */
 import { useEffect, useRef } from 'react';
-import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
+import { orientationColourTable, angleIndex } from '../../src/report/index.ts';
 
 /** `faint` says what a faint colour means on the map it explains (default: low coherency); null when colours are never faint. */
 export function ColourKey({ size = 132, faint = 'low coherency' }: { size?: number; faint?: string | null }) {

@@ -8,7 +8,7 @@
 import { useCallback, useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
 import type { Channel, Segment } from '../../src/channel/index.ts';
 import type { Glyph } from '../worker/protocol.ts';
-import { orientationColourTable, angleIndex } from '../../src/report/colourMap.ts';
+import { orientationColourTable, angleIndex } from '../../src/report/index.ts';
 import { STATION_COLOUR, type StationDrawing } from './stationMarks.ts';
 import { rectBetween, type RectRequest, type ViewerBox } from './imageRectangles.ts';
 import type { Rect } from '../../src/common/index.ts';

@@ -5,7 +5,7 @@
  */
 // The geometry module alone: the channel index also brings the wall finder and with it opencv.js,
 // which the page must not load (it runs in the worker).
-import { channelFrame, transverse, type Segment } from '../../src/channel/geometry.ts';
+import { channelFrame, transverse, type Segment } from '../../src/channel/index.ts';
 import type { ProfileResult } from '../../src/analyses/index.ts';
 
 /** The colour of the station lines and labels, in the viewer and in the exported picture. */

@@ -5,7 +5,7 @@
  * Pure, so the content is unit-tested; ReportView only lays it out.
  */
 import { READING_NAMES, type OpticsResult, type OrientResult, type ProfileResult, type ReadingKind } from '../../src/analyses/index.ts';
-import type { DiameterDocument } from '../../src/analyses/diameter.ts';
+import type { DiameterDocument } from '../../src/analyses/index.ts';
 import type { SessionRecord, StoredDiameterRun, StoredOptics } from '../storage/records.ts';
 import { setupCommandOptions, setupSummary } from '../setups/setup.ts';
 import { calibrationOf, calibrationWords, isMeasured, umPerPxText } from '../setups/calibration.ts';

@@ -3,10 +3,10 @@
  * with the same columns as `retarda orient --csv` / `retarda profile --csv`, through src/report/csv.ts.
  */
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
-import { toCsv } from '../../src/report/csv.ts';
-import { orientCsvRow, profileCsvRow, profileBinRows } from '../../src/report/rows.ts';
+import { toCsv } from '../../src/report/index.ts';
+import { orientCsvRow, profileCsvRow, profileBinRows } from '../../src/report/index.ts';
 
-export { orientCsvRow, profileCsvRow, profileBinRows } from '../../src/report/rows.ts';
+export { orientCsvRow, profileCsvRow, profileBinRows } from '../../src/report/index.ts';
 
 export const orientCsv = (r: OrientResult) => toCsv([orientCsvRow(r)]);
 export const profileCsv = (r: ProfileResult) => toCsv([profileCsvRow(r)]);

@@ -5,8 +5,8 @@
  * encoded with canvas.toBlob.
  */
 import type { Segment } from '../../src/channel/index.ts';
-import { angleIndex, orientationColourTable } from '../../src/report/colourMap.ts';
-import { chooseScaleBar } from '../../src/report/scaleBar.ts';
+import { angleIndex, orientationColourTable } from '../../src/report/index.ts';
+import { chooseScaleBar } from '../../src/report/index.ts';
 import type { Layer } from '../components/Viewer.tsx';
 import { STATION_COLOUR, type StationDrawing } from '../components/stationMarks.ts';
 

@@ -5,7 +5,7 @@
  */
 import { writeFileSync, mkdirSync } from 'node:fs';
 import { encode } from 'fast-png';
-import { cyclicSrgb8, angleIndex } from '../../src/report/colourMap.ts';
+import { cyclicSrgb8, angleIndex } from '../../src/report/index.ts';
 
 const OUT = new URL('../../public/icons/', import.meta.url);
 mkdirSync(OUT, { recursive: true });

@@ -2,11 +2,11 @@
  * A named set-up: the optical train, the pixel size and the sample's birefringence sign, described
  * once and applied to the images of a session. Pure data and checks; app/storage keeps them.
  */
-import { isInputError } from '../../src/common/errors.ts';
-import { umPerPxFromOptics } from '../../src/calibrate/optics.ts';
-import { resolveTrain, type OpticalTrain } from '../../src/optics/train.ts';
+import { isInputError } from '../../src/common/index.ts';
+import { umPerPxFromOptics } from '../../src/calibrate/index.ts';
+import { resolveTrain, type OpticalTrain } from '../../src/optics/index.ts';
 import { COMPENSATOR_OFFSET_DEG, DEFAULT_ILLUMINANT, OPTICS_LIMITS } from '../../src/analyses/index.ts';
-import { parseIlluminant } from '../../src/optics/spectrum.ts';
+import { parseIlluminant } from '../../src/optics/index.ts';
 import { keySet, unknownKeys, withUnknown } from '../storage/unknownKeys.ts';
 
 /** Version of stored set-up records; bump when a field changes meaning and add the upgrade in restoreSetup. */

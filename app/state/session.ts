@@ -9,7 +9,7 @@ import {
 } from '../storage/records.ts';
 import type { AppliedSetup } from '../setups/setup.ts';
 import { setupCalibration } from '../setups/calibration.ts';
-import type { DiameterDocument } from '../../src/analyses/diameter.ts';
+import type { DiameterDocument } from '../../src/analyses/index.ts';
 
 export type SessionAction =
   | { type: 'replace'; session: SessionRecord }

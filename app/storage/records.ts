@@ -10,7 +10,7 @@
  * the version (list them in the key sets below, and keep them JSON values or Blobs so backups carry them).
  */
 import { upgradeCommandLine, upgradeResult, type ReadingKind, type MicrometerDocument, type OpticsResult, type OrientResult, type ProfileResult } from '../../src/analyses/index.ts';
-import type { DiameterDocument } from '../../src/analyses/diameter.ts';
+import type { DiameterDocument } from '../../src/analyses/index.ts';
 import type { Channel, Segment, WallFit } from '../../src/channel/index.ts';
 import { DEFAULT_WEIGHTING, formerWeighting, TEXTURE_WEIGHTINGS, type Weighting } from '../../src/order/index.ts';
 import { COMPENSATOR_OFFSET_DEG, DEFAULT_ANGLES_DEG, DEFAULT_ILLUMINANT, OPTICS_LIMITS } from '../../src/analyses/index.ts';

@@ -9,9 +9,9 @@ import {
   fibreNumbersResult, readPlateField, type OrientOptions, type OpticsAnalysis,
 } from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
-import { fieldTiffBytes } from '../../src/report/fieldTiff.ts';
-import { isInputError } from '../../src/common/errors.ts';
-import { loadCv } from '../../src/cv/opencv.ts';
+import { fieldTiffBytes } from '../../src/report/index.ts';
+import { isInputError } from '../../src/common/index.ts';
+import { loadCv } from '../../src/cv/index.ts';
 import { decodeImage, type Image } from '../../src/image/index.ts';
 import type { OrientationField, TileHelper } from '../../src/orientation/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';

@@ -2,9 +2,9 @@
  * Fibre diameter as an analysis: one image + options -> the JSON document `retarda diameter --json`
  * prints (pooled summary first, then every station and every fibre with its dropped stations).
  */
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { measureFibreDiameters, type DiameterResult } from '../fibre/index.ts';
-import { toGrey, type Image } from '../image/types.ts';
+import { toGrey, type Image } from '../image/index.ts';
 import { SCHEMA_VERSION } from './schema.ts';
 
 export interface DiameterAnalysisOptions {

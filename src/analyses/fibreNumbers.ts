@@ -3,7 +3,7 @@
  * tenacity in the unit the user has them), the `retarda fibre --json` document out.
  */
 import { cnPerDtexToNPerTex, denierToTex, dtexToTex, fibreNumbers, gfPerDenToNPerTex, type FibreNumbers } from '../fibre/index.ts';
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { SCHEMA_VERSION } from './schema.ts';
 
 export type LinearDensityUnit = 'tex' | 'dtex' | 'den';

@@ -4,8 +4,8 @@
  * `retarda calibrate --json` prints. docs/methods.md, "Micrometer calibration".
  */
 import { calibrateFromMicrometer, rayleighResolutionUm, umPerPxFromOptics, MICROMETER_OPTION_LIMITS, type OpticsInput } from '../calibrate/index.ts';
-import { InputError } from '../common/errors.ts';
-import { toGrey, type Image } from '../image/types.ts';
+import { InputError } from '../common/index.ts';
+import { toGrey, type Image } from '../image/index.ts';
 import { SCHEMA_VERSION } from './schema.ts';
 
 /** How the micrometer calibration is made, in words (printed by the CLI and the app beside the number). */

@@ -5,9 +5,9 @@
  * `orient`'s, plus the median retardance, confidence statistics, the reader's ambiguity and how the reading was
  * made (`reading`). `retarda plate`, `plate-pair`, `angle-series` and the app's worker call exactly these.
  */
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { checkLimit, type Limit, type Rect } from '../common/index.ts';
-import { toGrey, type Image } from '../image/types.ts';
+import { toGrey, type Image } from '../image/index.ts';
 import { orientationField, type OrientationField } from '../orientation/index.ts';
 import { orderParameters, type Weighting } from '../order/index.ts';
 import {

@@ -1,4 +1,4 @@
-import { toGrey, type Image } from '../image/types.ts';
+import { toGrey, type Image } from '../image/index.ts';
 import { orientationField, type OrientationField, type OrientationFieldOptions, type TileHelper } from '../orientation/index.ts';
 import { orderParameters, type OrderOptions, type OrderSummary } from '../order/index.ts';
 import { rectMask, type Rect } from '../common/index.ts';

@@ -1,5 +1,5 @@
-import { toGrey, type Image } from '../image/types.ts';
-import { InputError } from '../common/errors.ts';
+import { toGrey, type Image } from '../image/index.ts';
+import { InputError } from '../common/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { channelProfile, findWalls, localAxisRadAt, wallFreeTextureField, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';

@@ -5,9 +5,9 @@
  * coverage factor k = t_p(nu_eff) of Student's t distribution (GUM G.3.2, Table G.2; k -> 2 for
  * p = 95.45 % as nu_eff grows, GUM 6.3.3). docs/methods.md, "Micrometer calibration".
  */
-import { studentTwoSided } from '../common/distributions.ts';
+import { studentTwoSided } from '../common/index.ts';
 
-export { combineUncertainties, coverageFactor, type UncertaintyComponent } from '../common/gum.ts';
+export { combineUncertainties, coverageFactor, type UncertaintyComponent } from '../common/index.ts';
 
 /**
  * A value and its uncertainty as text, rounded as the GUM recommends (7.2.6): the uncertainty to two

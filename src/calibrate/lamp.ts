@@ -8,7 +8,7 @@
  * derivative across the ticks, and each centre is corrected by -kappa x lampShift.
  * docs/methods.md, "Micrometer calibration".
  */
-import { median } from '../common/sampling.ts';
+import { median } from '../common/index.ts';
 
 export interface LampPoint {
   s: number;

@@ -1,4 +1,4 @@
-import type { Limit } from '../common/limits.ts';
+import type { Limit } from '../common/index.ts';
 
 /**
  * Ranges and defaults of the options a user gives (docs/methods.md §11.3-11.5), for the analysis, the command line

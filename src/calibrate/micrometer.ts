@@ -13,10 +13,10 @@
  * GUM 4.3.7; infinite degrees of freedom, GUM G.4.3). The interval is umPerPx +- k u_c with
  * k = t_95.45(nu_eff) (Welch-Satterthwaite, GUM G.4.1), which is 2 once the ticks are many.
  */
-import { checkNumber, InputError } from '../common/errors.ts';
-import { checkLimit } from '../common/limits.ts';
-import type { Plane } from '../common/plane.ts';
-import { radToDeg, wrapAxialDeg } from '../common/angles.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { checkLimit } from '../common/index.ts';
+import type { Plane } from '../common/index.ts';
+import { radToDeg, wrapAxialDeg } from '../common/index.ts';
 import { combineUncertainties, coverageFactor, studentTwoSided } from './gum.ts';
 import { MICROMETER_LIMITS, MICROMETER_OPTION_LIMITS } from './limits.ts';
 import { fitTickGrid, type FittedTick } from './tickGrid.ts';

@@ -2,7 +2,7 @@
  * Pixel size from the optical train (docs/methods.md, "Pixel size"): size in the object = sensor pixel x binning /
  * (objective magnification x intermediate (camera-adapter, tube-lens) magnification).
  */
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 
 function positive(name: string, v: number, max: number): number {
   if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0 || v > max) {

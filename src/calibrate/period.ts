@@ -6,8 +6,8 @@
  * of a spectrum this cannot lock onto a harmonic: narrow lines have harmonics as strong as the
  * fundamental, and the spectral peak then reads P/2.
  */
-import { median } from '../common/sampling.ts';
-import { InputError } from '../common/errors.ts';
+import { median } from '../common/index.ts';
+import { InputError } from '../common/index.ts';
 import { lineCentre } from './lineCentre.ts';
 import { MICROMETER_LIMITS } from './limits.ts';
 

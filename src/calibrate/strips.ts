@@ -6,7 +6,7 @@
  * position can be measured on its own, so the tick direction and the period come from the tick
  * positions themselves, whatever the ticks' lengths. docs/methods.md, "Micrometer calibration".
  */
-import type { Plane } from '../common/plane.ts';
+import type { Plane } from '../common/index.ts';
 
 export interface Strip {
   /** Centre of the strip along the ticks, px from the image centre. */

@@ -6,7 +6,7 @@
  * 90 deg; the caller decides which of theta and theta + 90 deg is across the ticks (the one whose
  * profile shows a regular grid of lines). docs/methods.md, "Micrometer calibration".
  */
-import type { Plane } from '../common/plane.ts';
+import type { Plane } from '../common/index.ts';
 
 const BINS = 720;
 

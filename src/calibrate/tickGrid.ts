@@ -22,9 +22,9 @@
  *    than the position floor, MICROMETER_LIMITS) plus a common extra variance (gridFit.ts), giving the
  *    period, its standard error (n - 2 degrees of freedom) and the residual.
  */
-import type { Plane } from '../common/plane.ts';
-import { median } from '../common/sampling.ts';
-import { InputError } from '../common/errors.ts';
+import type { Plane } from '../common/index.ts';
+import { median } from '../common/index.ts';
+import { InputError } from '../common/index.ts';
 import { rulerAxes } from './tickDirection.ts';
 import { stripProfiles, type StripProfiles } from './strips.ts';
 import { measureLine } from './lineCentre.ts';

@@ -1,7 +1,7 @@
-import { bilinear, median as sharedMedian } from '../common/sampling.ts';
-import { InputError } from '../common/errors.ts';
-import type { Plane } from '../common/plane.ts';
-import type { Image } from '../image/types.ts';
+import { bilinear, median as sharedMedian } from '../common/index.ts';
+import { InputError } from '../common/index.ts';
+import type { Plane } from '../common/index.ts';
+import type { Image } from '../image/index.ts';
 import type { Channel, Segment } from './geometry.ts';
 
 export interface AutoWallOptions {

@@ -1,5 +1,5 @@
-import { InputError } from '../common/errors.ts';
-import { radToDeg, wrapAxialDeg } from '../common/angles.ts';
+import { InputError } from '../common/index.ts';
+import { radToDeg, wrapAxialDeg } from '../common/index.ts';
 
 /** A straight line segment in pixel coordinates (x right, y down). */
 export interface Segment { x1: number; y1: number; x2: number; y2: number }

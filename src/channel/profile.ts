@@ -1,9 +1,9 @@
-import { InputError } from '../common/errors.ts';
-import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/limits.ts';
-import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
-import { combineUncertainties } from '../common/gum.ts';
-import type { OrientationField } from '../orientation/types.ts';
-import { foldMod90 } from '../orientation/fold.ts';
+import { InputError } from '../common/index.ts';
+import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/index.ts';
+import { degToRad, radToDeg, wrapAxialDeg } from '../common/index.ts';
+import { combineUncertainties } from '../common/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
+import { foldMod90 } from '../orientation/index.ts';
 import {
   accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
   type BlockSums, type OrderStat, type Weighting,

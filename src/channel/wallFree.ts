@@ -1,6 +1,6 @@
-import type { Plane } from '../common/plane.ts';
-import type { OrientationField } from '../orientation/types.ts';
-import { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from '../orientation/maskedTensor.ts';
+import type { Plane } from '../common/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
+import { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from '../orientation/index.ts';
 import { channelFrame, transverseLinear, type Channel } from './geometry.ts';
 
 /**

@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import type { OptionSpec } from '../options/index.ts';
 
 export type { OptionSpec };

@@ -1,4 +1,4 @@
-import type { Image } from '../image/types.ts';
+import type { Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { parseWalls } from '../channel/index.ts';
 import { analyseProfile, NOT_DETERMINED, type ProfileRequest, type ProfileResult } from '../analyses/index.ts';
@@ -6,7 +6,7 @@ import { checkWeighting, formerWeighting, type Weighting } from '../order/index.
 import { flagOpt, numberOpt, renamedNotice, stringOpt, type ParsedArgs } from './args.ts';
 import { formatTable, formatPairs } from './format.ts';
 export { CHANNEL_OPTIONS } from '../options/index.ts';
-export { profileCsvRow } from '../report/rows.ts';
+export { profileCsvRow } from '../report/index.ts';
 
 /**
  * --weighting as the analyses take it, for a texture field or an optical reading; a weighting name of schema 1

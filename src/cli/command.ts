@@ -1,5 +1,5 @@
 import type { OptionSpec, ParsedArgs } from './args.ts';
-import type { CsvValue } from '../report/csv.ts';
+import type { CsvValue } from '../report/index.ts';
 
 /** What a subcommand hands back: main prints `table` or `json`, and writes `csvRows` with --csv. */
 export interface CommandOutput {

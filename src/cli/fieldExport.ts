@@ -1,5 +1,5 @@
 import type { OrientationField } from '../orientation/index.ts';
-import { fieldTiffBytes } from '../report/fieldTiff.ts';
+import { fieldTiffBytes } from '../report/index.ts';
 import { writeBytes } from './io.ts';
 
 /** FILE.tif for one image; FILE-<image>.tif for each of several. */

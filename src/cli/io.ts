@@ -1,5 +1,5 @@
 import { readFile, stat, writeFile } from 'node:fs/promises';
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { decodeImage, decodeImagePages, MAX_DECODE_BYTES, usePlatformCodecs, type Image } from '../image/index.ts';
 import { NODE_CODECS } from './platform.ts';
 

@@ -1,9 +1,9 @@
-import { isInputError } from '../common/errors.ts';
+import { isInputError } from '../common/index.ts';
 import { COMMON_OPTIONS, parseArgs, flagOpt, renamedNotice, stringOpt } from './args.ts';
 import { defaultText, rangeText } from '../options/index.ts';
 import type { Command } from './command.ts';
 import { COMMANDS } from './commands/index.ts';
-import { toCsv } from '../report/csv.ts';
+import { toCsv } from '../report/index.ts';
 import { writeBytes } from './io.ts';
 
 /** Where the CLI prints: process.stdout / stderr, or a capture in tests. */

@@ -9,3 +9,4 @@ export type { Rect } from './rect.ts';
 export { parseRect, rectText, checkRectInside, rectMask } from './rect.ts';
 export { bilinear, clampedBilinear, median } from './sampling.ts';
 export { combineUncertainties, coverageFactor, type UncertaintyComponent } from './gum.ts';
+export { erf, erfc, normalCdf, normalCdfFast, normalQuantile, studentTCdf, studentTQuantile, studentTwoSided } from './distributions.ts';

@@ -20,9 +20,9 @@
  */
 import { fitBlurredBar, type BlurredBarFit, type BlurredBarStart } from './edgeFit.ts';
 import type { MeasuredStation } from './stations.ts';
-import { normalQuantile } from '../common/distributions.ts';
+import { normalQuantile } from '../common/index.ts';
 import { median } from './stats.ts';
-import { studentTQuantile } from '../common/distributions.ts';
+import { studentTQuantile } from '../common/index.ts';
 
 /** Width below which a bar is not resolved, in PSF sigmas (the edges' blurs merge; docs/methods.md §12.4). */
 export const RESOLVABLE_WIDTH_PER_SIGMA = 2;

@@ -4,7 +4,7 @@
  * flatten uneven illumination with a polynomial fitted to the background, and label the connected
  * elongated objects. Each object's axis is its principal axis (second moments of the mask).
  */
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { evaluateSurface, fitBackground, fitSurface, surfaceAt } from './background.ts';
 import { dilateMask, smoothGaussian } from './planeOps.ts';
 import { median, robustSd } from './stats.ts';

@@ -3,19 +3,19 @@
  * its axis (wide fibres edge by edge, narrow ones as one blurred bar with a PSF pooled over the fibre),
  * and summarise with GUM uncertainties that include the pixel size's (docs/methods.md, "Fibre diameter").
  */
-import { checkNumber, InputError } from '../common/errors.ts';
-import { checkLimit, type Limit } from '../common/limits.ts';
-import { radToDeg, wrapAxialDeg } from '../common/angles.ts';
-import type { Plane } from '../common/plane.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { checkLimit, type Limit } from '../common/index.ts';
+import { radToDeg, wrapAxialDeg } from '../common/index.ts';
+import type { Plane } from '../common/index.ts';
 import { segmentFibres } from './detect.ts';
 import { DROP_REASONS, measureStations } from './stations.ts';
 import type { DropReason, DroppedStation, MeasuredStation } from './stations.ts';
 import { unresolvedUpperBoundPx, RESOLVABLE_WIDTH_PER_SIGMA } from './barPool.ts';
 import type { BarPool } from './barPool.ts';
 import { stationStats } from './stats.ts';
-import { normalQuantile } from '../common/distributions.ts';
+import { normalQuantile } from '../common/index.ts';
 import { expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
-import { combineUncertainties } from '../common/gum.ts';
+import { combineUncertainties } from '../common/index.ts';
 
 export interface DiameterOptions {
   /** Distance between stations along the axis, px. Default 10. */

@@ -9,7 +9,7 @@
  * - for narrow fibres, the whole cross-profile as one blurred bar (both edges, one PSF sigma and a sloping
  *   background fitted jointly; `fitBlurredBar`).
  */
-import { normalCdfFast as normalCdf } from '../common/distributions.ts';
+import { normalCdfFast as normalCdf } from '../common/index.ts';
 import { levenbergMarquardt, type LmModel } from './levenbergMarquardt.ts';
 import { pixelEdgeSpread, type EdgeSpread, type PixelFootprint } from './pixelEdge.ts';
 

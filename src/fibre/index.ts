@@ -2,7 +2,7 @@
 export { measureFibreDiameters, DIAMETER_DEFAULTS, DIAMETER_LIMITS, DROP_REASON_TEXT } from './diameter.ts';
 export type { DiameterOptions, DiameterResult, DiameterStation, DiameterSummary, FibreDiameter } from './diameter.ts';
 export type { DropReason, DroppedStation } from './stations.ts';
-export { erf, erfc, normalCdf, normalQuantile, studentTQuantile, studentTCdf } from '../common/distributions.ts';
+export { erf, erfc, normalCdf, normalQuantile, studentTQuantile, studentTCdf } from '../common/index.ts';
 export { expandedInterval, COVERAGE_PROBABILITY } from './uncertainty.ts';
 export type { Combined, Interval } from './uncertainty.ts';
 export { fitErfEdge, fitBlurredBar, parabolaEdgeIndex } from './edgeFit.ts';

@@ -6,9 +6,9 @@
  * 9 den. A solid fibre of cross-section A [um^2] and density rho [g/cm^3] has
  * tex = rho * A * 1e-3 (A * 1e-8 cm^2 times 1e5 cm per km). Tenacity to tensile strength: 1 N/tex = 1 GPa / (g/cm^3).
  */
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { expandedInterval, type Interval } from './uncertainty.ts';
-import { combineUncertainties } from '../common/gum.ts';
+import { combineUncertainties } from '../common/index.ts';
 
 /** Standard gravity (exact by definition, CGPM 1901), for gram-force. */
 const STANDARD_GRAVITY_M_PER_S2 = 9.80665;

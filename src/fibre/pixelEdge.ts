@@ -17,7 +17,7 @@
  *   dF/du = E[phi(z)] / sigma,   dF/dsigma = -E[z phi(z)] / sigma,
  * with E[phi] from Psi1 (its second antiderivative) and E[z phi] from -Phi.
  */
-import { normalCdfFast as normalCdf } from '../common/distributions.ts';
+import { normalCdfFast as normalCdf } from '../common/index.ts';
 
 const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 const pdf = (z: number) => INV_SQRT_2PI * Math.exp(-0.5 * z * z);

@@ -6,7 +6,7 @@
  * quadratic centre line fitted to the first pass's midpoints, so the profiles are normal to the
  * fibre even where the mask's principal axis is slightly off (ends cut by the border, taper, bend).
  */
-import { bilinear } from '../common/sampling.ts';
+import { bilinear } from '../common/index.ts';
 import type { FibreObject } from './detect.ts';
 import { fitBlurredBar, fitErfEdge, parabolaEdgeIndex, type BlurredBarFit } from './edgeFit.ts';
 import { poolBarStations, type BarPool } from './barPool.ts';

@@ -1,5 +1,5 @@
-import { median } from '../common/sampling.ts';
-import { normalQuantile, studentTQuantile } from '../common/distributions.ts';
+import { median } from '../common/index.ts';
+import { normalQuantile, studentTQuantile } from '../common/index.ts';
 /**
  * Station statistics: mean, SD, CV, min, max and a 95 % interval on the mean that allows for the
  * correlation of neighbouring stations (real diameter variation is smooth along a fibre, so adjacent

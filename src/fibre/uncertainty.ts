@@ -5,7 +5,7 @@
  * effective degrees of freedom by the Welch-Satterthwaite formula (GUM G.4.1), and the expanded 95 %
  * interval y +- k u_c with k = t(0.975, nu_eff) (GUM G.3 and G.4).
  */
-import { coverageFactor } from '../common/gum.ts';
+import { coverageFactor } from '../common/index.ts';
 
 /** The level of every interval this folder states. */
 export const COVERAGE_PROBABILITY = 0.95;

@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { MAX_DECODE_BYTES } from './types.ts';
 
 /** Accepted input formats, named in every "unknown format" message. */

@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { detectFormat } from './format.ts';
 import { decodeJpeg } from './jpegDecode.ts';
 import { decodePng } from './pngDecode.ts';

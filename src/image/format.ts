@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { ACCEPTED_FORMATS } from './checks.ts';
 
 export type ImageFormat = 'png' | 'jpeg' | 'tiff';

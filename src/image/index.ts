@@ -4,5 +4,5 @@ export { makeImage, toGrey, MAX_DECODE_BYTES } from './types.ts';
 export { decodeImage, decodeImagePages } from './decode.ts';
 export { detectFormat, type ImageFormat } from './format.ts';
 export { ACCEPTED_FORMATS } from './checks.ts';
-export { planTiles, cropPlane, pasteInner, type Tile } from './tiles.ts';
+export { planTiles, cropPlane, pasteInner, checkTileInside, type Tile } from './tiles.ts';
 export { usePlatformCodecs, ZlibProblem, type PlatformCodecs } from './inflate.ts';

@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { checkDecodeBytes, corrupt, pagesWords, sizeWords } from './checks.ts';
 import { tiffPixelSizeUm } from './pixelSize.ts';
 import { BlockProblem, decodeBlock, undoFloatPredictor, undoHorizontal } from './tiffCodecs.ts';

@@ -1,5 +1,5 @@
-import { checkNumber, InputError } from '../common/errors.ts';
-import type { Plane } from '../common/plane.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import type { Plane } from '../common/index.ts';
 
 /**
  * One tile of a tiled pass over a large plane. All coordinates are image pixels.

@@ -1,5 +1,5 @@
-import { InputError } from '../common/errors.ts';
-import type { Plane } from '../common/plane.ts';
+import { InputError } from '../common/index.ts';
+import type { Plane } from '../common/index.ts';
 
 /**
  * A decoded image: float planes in [0, 1] (integer data divided by its maximum; float TIFF data kept

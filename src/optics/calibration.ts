@@ -1,6 +1,6 @@
-import { checkNumber } from '../common/errors.ts';
-import { DEG } from '../common/angles.ts';
-import type { Image } from '../image/types.ts';
+import { checkNumber } from '../common/index.ts';
+import { DEG } from '../common/index.ts';
+import type { Image } from '../image/index.ts';
 import { colourModel, interferenceColour, matchLabOfLinearRgb } from './colourModel.ts';
 import { deltaE2000 } from './deltaE.ts';
 import { cameraToModel, type CameraCalibration } from './camera.ts';

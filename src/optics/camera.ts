@@ -1,4 +1,4 @@
-import { checkNumber, InputError } from '../common/errors.ts';
+import { checkNumber, InputError } from '../common/index.ts';
 import { srgbDecode, type Vec3 } from './colorimetry.ts';
 
 /**

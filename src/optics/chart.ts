@@ -1,6 +1,6 @@
-import { checkNumber } from '../common/errors.ts';
-import { checkLimit, type Limit } from '../common/limits.ts';
-import { DEG } from '../common/angles.ts';
+import { checkNumber } from '../common/index.ts';
+import { checkLimit, type Limit } from '../common/index.ts';
+import { DEG } from '../common/index.ts';
 import { colourModel, interferenceColour } from './colourModel.ts';
 import { illuminantLabel, wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
 import type { Vec3 } from './colorimetry.ts';

@@ -1,4 +1,4 @@
-import { DEG } from '../common/angles.ts';
+import { DEG } from '../common/index.ts';
 import { retard, polarised } from './jones.ts';
 import { cmf1931, illuminantSpd, wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
 import {

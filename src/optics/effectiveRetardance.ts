@@ -1,5 +1,5 @@
-import { DEG } from '../common/angles.ts';
-import type { Image } from '../image/types.ts';
+import { DEG } from '../common/index.ts';
+import type { Image } from '../image/index.ts';
 import { colourModel, interferenceColour, matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
 import { cameraToModel, type CameraCalibration } from './camera.ts';
 import { cellLinearRgb, quantiseToCells } from './pixels.ts';

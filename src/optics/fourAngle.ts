@@ -1,7 +1,7 @@
-import { checkNumber, InputError } from '../common/errors.ts';
-import { DEG } from '../common/angles.ts';
-import type { Image } from '../image/types.ts';
-import type { OrientationField } from '../orientation/types.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { DEG } from '../common/index.ts';
+import type { Image } from '../image/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import { foldMod90, mod90Axis } from '../orientation/index.ts';
 import { srgbDecode } from './colorimetry.ts';
 import { calibrateFromBackground } from './calibration.ts';

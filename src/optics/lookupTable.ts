@@ -1,5 +1,5 @@
-import { checkNumber, InputError } from '../common/errors.ts';
-import { DEG, axialDiffDeg } from '../common/angles.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { DEG, axialDiffDeg } from '../common/index.ts';
 import { mulMat3, type Vec3 } from './colorimetry.ts';
 import { matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
 

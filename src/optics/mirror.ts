@@ -1,6 +1,6 @@
-import { checkNumber, InputError } from '../common/errors.ts';
-import { DEG, wrapAxialRad } from '../common/angles.ts';
-import type { OrientationField } from '../orientation/types.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { DEG, wrapAxialRad } from '../common/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
 
 /** How much the mirror choice matters for an order parameter against `referenceAxisDeg`. */
 export interface MirrorChoiceStats {

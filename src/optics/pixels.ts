@@ -1,5 +1,5 @@
-import { InputError } from '../common/errors.ts';
-import type { Image } from '../image/types.ts';
+import { InputError } from '../common/index.ts';
+import type { Image } from '../image/index.ts';
 import { srgbDecode, srgbEncode, type Vec3 } from './colorimetry.ts';
 
 import { checkRectInside, type Rect } from '../common/index.ts';

@@ -1,7 +1,7 @@
-import { checkNumber, InputError } from '../common/errors.ts';
-import { DEG, wrapAxialDeg } from '../common/angles.ts';
-import { toGrey, type Image } from '../image/types.ts';
-import type { OrientationField } from '../orientation/types.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { DEG, wrapAxialDeg } from '../common/index.ts';
+import { toGrey, type Image } from '../image/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import { colourModel } from './colourModel.ts';
 import { EffectiveRetardanceReader, readCells } from './effectiveRetardance.ts';
 import { NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';

@@ -1,7 +1,7 @@
-import { checkNumber, InputError } from '../common/errors.ts';
-import { DEG, wrapAxialDeg, axialDiffDeg } from '../common/angles.ts';
-import type { Image } from '../image/types.ts';
-import type { OrientationField } from '../orientation/types.ts';
+import { checkNumber, InputError } from '../common/index.ts';
+import { DEG, wrapAxialDeg, axialDiffDeg } from '../common/index.ts';
+import type { Image } from '../image/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import { colourModel, matchLabOfLinearRgb } from './colourModel.ts';
 import { cameraToModel, NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';

@@ -1,5 +1,5 @@
-import type { Plane } from '../common/plane.ts';
-import { InputError } from '../common/errors.ts';
+import type { Plane } from '../common/index.ts';
+import { InputError } from '../common/index.ts';
 
 /** In-place radix-2 complex FFT (inverse when `inverse`), length a power of two. */
 function fft(re: Float64Array, im: Float64Array, inverse: boolean): void {

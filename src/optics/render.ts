@@ -1,6 +1,6 @@
-import { checkNumber } from '../common/errors.ts';
-import { makeImage, type Image } from '../image/types.ts';
-import { seededRandom } from '../order/random.ts';
+import { checkNumber } from '../common/index.ts';
+import { makeImage, type Image } from '../image/index.ts';
+import { seededRandom } from '../order/index.ts';
 import { colourModel, interferenceColour, type ColourModel } from './colourModel.ts';
 import { modelToCamera, NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { srgbEncode, type Vec3 } from './colorimetry.ts';

@@ -1,4 +1,4 @@
-import { InputError, checkNumber } from '../common/errors.ts';
+import { InputError, checkNumber } from '../common/index.ts';
 import {
   CIE1931_X_BAR, CIE1931_Y_BAR, CIE1931_Z_BAR, D65_SPD, CIE_TABLE_START_NM, CIE_TABLE_STEP_NM, CIE_TABLE_LENGTH,
 } from './cieTables.ts';

@@ -1,5 +1,5 @@
-import { InputError, checkNumber } from '../common/errors.ts';
-import { DEG } from '../common/angles.ts';
+import { InputError, checkNumber } from '../common/index.ts';
+import { DEG } from '../common/index.ts';
 import { HALOGEN_3200K, type Illuminant } from './spectrum.ts';
 
 /** A fixed linear retarder after the sample (full-wave "first-order red" plate, or a quarter-wave plate). */

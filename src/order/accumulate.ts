@@ -1,5 +1,5 @@
-import { InputError } from '../common/errors.ts';
-import type { OrientationField } from '../orientation/types.ts';
+import { InputError } from '../common/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import type { BlockSums } from './blocks.ts';
 import { doubledAngles } from './doubledAngles.ts';
 

@@ -1,4 +1,4 @@
-import type { OrientationField } from '../orientation/types.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import { doubledAngles } from './doubledAngles.ts';
 
 /** The order of one square cell of a field: its centre in image pixels, its free director and its S_2D. */

@@ -1,4 +1,4 @@
-import type { OrientationField } from '../orientation/types.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import { doubledAngles } from './doubledAngles.ts';
 
 /**

@@ -1,4 +1,4 @@
-import type { OrientationField } from '../orientation/types.ts';
+import type { OrientationField } from '../orientation/index.ts';
 
 /**
  * cos 2 theta and sin 2 theta of every pixel: the field's own arrays when it has them (texture fields

@@ -16,7 +16,7 @@
  * docs/methods.md, "Intervals for order parameters".
  */
 import type { BlockSums } from './blocks.ts';
-import { studentTQuantile as studentQuantile } from '../common/distributions.ts';
+import { studentTQuantile as studentQuantile } from '../common/index.ts';
 
 /** An average with its 95 % interval and the number of pixels behind it. */
 export interface OrderStat {

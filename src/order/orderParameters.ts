@@ -1,8 +1,8 @@
-import { InputError } from '../common/errors.ts';
-import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/limits.ts';
-import { degToRad, radToDeg, wrapAxialDeg } from '../common/angles.ts';
-import type { OrientationField } from '../orientation/types.ts';
-import { foldMod90 } from '../orientation/fold.ts';
+import { InputError } from '../common/index.ts';
+import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/index.ts';
+import { degToRad, radToDeg, wrapAxialDeg } from '../common/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
+import { foldMod90 } from '../orientation/index.ts';
 import { correlationLengthPx } from './correlation.ts';
 import { accumulateBlocks, weightingFits, WEIGHTINGS, type Weighting } from './accumulate.ts';
 import { liveBlocks, totalMoments, type BlockSums } from './blocks.ts';

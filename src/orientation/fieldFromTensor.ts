@@ -1,5 +1,5 @@
-import { checkLimit, type Limit } from '../common/limits.ts';
-import { withDefaults } from '../common/options.ts';
+import { checkLimit, type Limit } from '../common/index.ts';
+import { withDefaults } from '../common/index.ts';
 import type { TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
 

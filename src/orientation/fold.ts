@@ -1,4 +1,4 @@
-import { degToRad, radToDeg, wrapAxialDeg, wrapAxialRad } from '../common/angles.ts';
+import { degToRad, radToDeg, wrapAxialDeg, wrapAxialRad } from '../common/index.ts';
 import type { OrientationField } from './types.ts';
 
 /**

@@ -9,3 +9,4 @@ export type { OrientationFieldOptions } from './orientationField.ts';
 export { foldMod90, mod90Axis } from './fold.ts';
 export { tilePixels, writeTexturePixels } from './tileShare.ts';
 export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';
+export { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from './maskedTensor.ts';

@@ -1,4 +1,4 @@
-import type { Plane } from '../common/plane.ts';
+import type { Plane } from '../common/index.ts';
 import { gaussianDerivativeKernel, gaussianKernel, gaussianRadius } from './kernels.ts';
 import { quantile, resolveMaskOptions } from './fieldFromTensor.ts';
 import type { OrientationField } from './types.ts';

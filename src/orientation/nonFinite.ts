@@ -1,4 +1,4 @@
-import type { Plane } from '../common/plane.ts';
+import type { Plane } from '../common/index.ts';
 
 /**
  * NaN and infinite pixels (float TIFFs can hold them) would spread through every filter. They are

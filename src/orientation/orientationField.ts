@@ -1,4 +1,4 @@
-import type { Plane } from '../common/plane.ts';
+import type { Plane } from '../common/index.ts';
 import { resolveTensorOptions, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
 import { writeTexturePixels, type TileHelper } from './tileShare.ts';
 import { dilate, fillNonFinite } from './nonFinite.ts';

@@ -1,9 +1,9 @@
-import { InputError, checkNumber } from '../common/errors.ts';
-import { checkLimit, type Limit } from '../common/limits.ts';
-import { withDefaults } from '../common/options.ts';
-import { checkTileInside, planTiles, type Tile } from '../image/tiles.ts';
-import type { Plane } from '../common/plane.ts';
-import { KernelArena, loadTensorKernel, type KernelExports } from '../wasm/tensorKernel.ts';
+import { InputError, checkNumber } from '../common/index.ts';
+import { checkLimit, type Limit } from '../common/index.ts';
+import { withDefaults } from '../common/index.ts';
+import { checkTileInside, planTiles, type Tile } from '../image/index.ts';
+import type { Plane } from '../common/index.ts';
+import { KernelArena, loadTensorKernel, type KernelExports } from '../wasm/index.ts';
 import { gaussianKernel, gaussianDerivativeKernel, gaussianRadius } from './kernels.ts';
 import type { FieldPixels } from './fieldFromTensor.ts';
 

@@ -1,5 +1,5 @@
-import type { Plane } from '../common/plane.ts';
-import { cropPlane } from '../image/tiles.ts';
+import type { Plane } from '../common/index.ts';
+import { cropPlane } from '../image/index.ts';
 import { innerRect, tensorTiles, withFieldPixelsOf, type StructureTensorOptions, type TileRect } from './structureTensor.ts';
 import { copyFieldPixels, type FieldPixels } from './fieldFromTensor.ts';
 

@@ -16,7 +16,7 @@
  * at half their size). Lightness still dominates, and every step has the same weighted difference.
  */
 
-import { D65_WHITE, labToXyz, srgbEncode, xyzToLinearSrgb } from '../optics/colorimetry.ts';
+import { D65_WHITE, labToXyz, srgbEncode, xyzToLinearSrgb } from '../optics/index.ts';
 
 export type Lab = [number, number, number];
 

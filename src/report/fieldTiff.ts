@@ -1,4 +1,4 @@
-import type { OrientationField } from '../orientation/types.ts';
+import type { OrientationField } from '../orientation/index.ts';
 import { fieldPages } from './fields.ts';
 import { encodeFloatTiff } from './tiff.ts';
 

@@ -1,5 +1,5 @@
-import { radToDeg } from '../common/angles.ts';
-import type { OrientationField } from '../orientation/types.ts';
+import { radToDeg } from '../common/index.ts';
+import type { OrientationField } from '../orientation/index.ts';
 
 export interface FieldPage { width: number; height: number; data: Float32Array; name: string }
 

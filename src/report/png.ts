@@ -1,5 +1,5 @@
 import { encode } from 'fast-png';
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 
 export interface PngPixels {
   width: number;

@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 
 /** A scale bar: its length on the picture and the round length it stands for. */
 export interface ScaleBar {

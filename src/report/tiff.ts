@@ -1,4 +1,4 @@
-import { checkNumber, InputError } from '../common/errors.ts';
+import { checkNumber, InputError } from '../common/index.ts';
 
 /**
  * Writer for multi-page 32-bit float TIFF, one quantity per page (README.md, "Files").

@@ -1,4 +1,4 @@
-import { InputError } from '../common/errors.ts';
+import { InputError } from '../common/index.ts';
 import { TENSOR_KERNEL_WASM } from './tensorKernel.wasm.ts';
 
 /** The compiled kernel's exports (src/wasm/tensorKernel.as.ts; pointers are byte offsets, sizes in floats). */
