@@ -1,7 +1,7 @@
 /**
  * First guess of a ruler's tick direction from the image's edges. The tick edges have gradients across
  * the ticks (at angle theta), the baseline, the tick ends and upright printed numbers have gradients
- * along them (theta + 90 deg); in the quadrupled angle 4 phi all of them agree, so the energy-weighted
+ * along them (theta + 90 deg); in the quadrupled angle 4 phi all of them agree, so the squared-gradient-weighted
  * histogram of 4 phi peaks at 4 theta however the tick lengths are mixed. The guess is theta modulo
  * 90 deg; the caller decides which of theta and theta + 90 deg is across the ticks (the one whose
  * profile shows a regular grid of lines). docs/methods.md, "Micrometer calibration".
@@ -81,15 +81,15 @@ function binned(p: Plane, f: number): { data: Float32Array; w: number; h: number
 export interface DirectionGuess {
   /** Angle of one of the two axes of the ruler (across or along the ticks), radians in [0, pi/2), image coordinates (y down). */
   axisRad: number;
-  /** Share of the gradient energy within +-5 deg of the peak (modulo 90 deg): 0.22 for no preferred direction, near 1 for a clean ruler. */
+  /** Share of the squared gradient within +-5 deg of the peak (modulo 90 deg): 0.22 for no preferred direction, near 1 for a clean ruler. */
   concentration: number;
 }
 
 /**
- * Ruler axes modulo 90 deg: the peak of the gradient-energy histogram of 4 phi (phi the gradient angle,
+ * Ruler axes modulo 90 deg: the peak of the histogram of 4 phi weighted by the squared gradient (phi the gradient angle,
  * Gaussian derivatives on the image binned to at most about a megapixel; pixels of at least the mean
- * gradient energy), refined by the
- * energy-weighted circular mean within +-3 deg of the peak; of the gradient scales tried, the one whose
+ * squared gradient), refined by the
+ * circular mean, weighted by the squared gradient, within +-3 deg of the peak; of the gradient scales tried, the one whose
  * histogram is most concentrated.
  */
 export function rulerAxes(p: Plane): DirectionGuess {
@@ -112,7 +112,7 @@ function axesAtScale(data: Float32Array, w: number, h: number, sigma: number): D
   let meanE = 0;
   for (let i = 0; i < w * h; i++) meanE += gx[i] * gx[i] + gy[i] * gy[i];
   meanE /= Math.max(1, w * h);
-  // Pixels below the mean gradient energy (flat field, most of the noise) add little and are skipped.
+  // Pixels below the mean squared gradient (flat field, most of the noise) add little and are skipped.
   const hist = new Float64Array(BINS);
   let total = 0;
   for (let i = 0; i < w * h; i++) {

@@ -55,7 +55,7 @@ const NEAR_LINE_PX = 4;
  * channel ends, whatever the wall looks like beyond (dark band, bright edge line, step to background).
  *
  * 1. Coarse: the image is reduced to about 512 px; for every feature plane (each colour channel and the
- *    local texture energy log |grad I|^2, each scaled to its own range) pixels vote with their squared
+ *    local texture strength log |grad I|^2, each scaled to its own range) pixels vote with their squared
  *    gradient for the lines whose normal is near the gradient direction (a gradient-weighted Hough
  *    transform). The strongest line gives the channel direction; the strongest line within the taper
  *    limit and at least minSeparation away gives the second; their midline is taken as inside the channel.
@@ -322,7 +322,7 @@ function featurePlanes(input: Image | Plane): { planes: Plane[]; intensities: nu
 
 /**
  * From neighbourhood means of the feature planes to the features compared across a wall: brightness as
- * it is, texture energy on a log scale (a weak texture next to a flat wall is as visible as a strong
+ * it is, texture strength on a log scale (a weak texture next to a flat wall is as visible as a strong
  * one), and the two alignment components (Jxx - Jyy, 2 Jxy) / (Jxx + Jyy), which are near 0 for an
  * isotropic background and large for aligned material.
  */
@@ -548,7 +548,7 @@ function stepProfile(strip: Strip, dir: -1 | 1): StepProfile | null {
  * The wall in one strip: the first local maximum of the step size, walking out from the midline, that
  * reaches `threshold`, placed at the steepest point of the profile projected on that step's direction in
  * feature space (sub-pixel, parabola). Brightness alone sets the place when it carries the step, since
- * texture energy peaks on the edge itself rather than stepping at it. null when no step is clear enough.
+ * texture strength peaks on the edge itself rather than stepping at it. null when no step is clear enough.
  */
 function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number): { t: number; contrast: number } | null {
   const { values, scale } = strip;
