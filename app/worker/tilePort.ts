@@ -18,7 +18,7 @@ const FIRST_ANSWER_WITHIN_MS = 20_000;
 const ANSWER_AT_LEAST_MS = 2_000;
 const SLOWEST_MARGIN = 8;
 
-const buffersOf = (px: TilePixels): ArrayBuffer[] => [px.angleRad, px.confidence, px.strength, px.cos2, px.sin2].map((a) => a.buffer as ArrayBuffer);
+const buffersOf = (px: TilePixels): ArrayBuffer[] => [px.strength, px.confidence, px.cos2, px.sin2].map((a) => a.buffer as ArrayBuffer);
 
 /** The analysing worker's side: a TileHelper that sends each job over the port. */
 export function helperOverPort(port: MessagePort): TileHelper {

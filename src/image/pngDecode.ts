@@ -1,3 +1,4 @@
+import { takeFloat32 } from '../common/index.ts';
 import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords } from './checks.ts';
 import { inflateZlib, platformCodecs, ZlibProblem } from './inflate.ts';
 import { pngPixelSizeUm } from './pixelSize.ts';
@@ -235,7 +236,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
     },
   };
 
-  const planes = Array.from({ length: channels }, () => new Float32Array(width * height));
+  const planes = Array.from({ length: channels }, () => takeFloat32(width * height));
   const bitsPerPixel = kind.samples * bitDepth;
   const bpp = Math.max(1, bitsPerPixel >> 3);
   const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];

@@ -1,3 +1,4 @@
+import { takeFloat32 } from '../common/index.ts';
 import { InputError } from '../common/index.ts';
 import { checkDecodeBytes, corrupt, pagesWords, sizeWords } from './checks.ts';
 import { tiffPixelSizeUm } from './pixelSize.ts';
@@ -81,7 +82,7 @@ function decodePage(bytes: Uint8Array, littleEndian: boolean, h: TiffPageHeader,
   const pixels = width * height;
   // Planes read from the samples: grey 1, RGB 3, palette 1 (index, mapped after), CMYK 4 (mapped after).
   const read = h.photometric === 3 ? 1 : h.colourSamples;
-  const planes = Array.from({ length: read }, () => new Float32Array(pixels));
+  const planes = Array.from({ length: read }, () => takeFloat32(pixels));
   const map = h.photometric === 3 ? (v: number) => v : sampleMap(h);
   const samplesInRow = planar === 2 ? 1 : spp;
   const rowBytes = Math.ceil((layout.blockWidth * samplesInRow * bits) / 8);

@@ -1,3 +1,4 @@
+import { takeFloat32 } from '../common/index.ts';
 import { InputError } from '../common/index.ts';
 import type { Plane } from '../common/index.ts';
 
@@ -48,7 +49,7 @@ export function makeImage(init: Image): Image {
 export function toGrey(img: Image): Plane {
   if (img.channels === 1) return { width: img.width, height: img.height, data: img.planes[0] };
   const [r, g, b] = img.planes;
-  const out = new Float32Array(img.width * img.height);
+  const out = takeFloat32(img.width * img.height);
   for (let i = 0; i < out.length; i++) out[i] = 0.2126 * r[i] + 0.7152 * g[i] + 0.0722 * b[i];
   return { width: img.width, height: img.height, data: out };
 }

@@ -2,6 +2,7 @@ import { InputError } from '../common/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import type { BlockSums } from './blocks.ts';
 import { doubledAngles } from './doubledAngles.ts';
+import { KernelArena, loadedTensorKernel, type KernelExports } from '../wasm/index.ts';
 
 /**
  * Pixel weights of the averages. 'none': every usable pixel counts once. Texture fields: 'coherency' (the
@@ -73,23 +74,29 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const B = Math.max(1, Math.round(o.blockPx));
   const cols = Math.ceil(width / B);
   const G = o.groupCount;
-  const sw = new Float64Array(cols * G), sc = new Float64Array(cols * G), ss = new Float64Array(cols * G);
-  const sn = new Uint32Array(cols * G);
-  const lists = Array.from({ length: G }, () => ({ w: [] as number[], wc: [] as number[], ws: [] as number[], n: [] as number[], bx: [] as number[], by: [] as number[] }));
+  // One group has at most a block per grid cell: its lists are made that size at once.
+  const lists = Array.from({ length: G }, () => new BlockList(G === 1 ? cols * Math.ceil(height / B) : 64));
   const cr = Math.cos(2 * o.refRad), sr = Math.sin(2 * o.refRad);
   const mask = f.mask;
-  const { cos2: c2, sin2: s2 } = doubledAngles(f);
   const groups = o.groups instanceof Int32Array ? o.groups : null;
   const region = o.groups instanceof Int32Array ? null : o.groups.region;
   if (!groups && G !== 1) throw new Error('a region mask makes one group');
+  const { cos2: c2, sin2: s2 } = doubledAngles(f);
   const confidence = f.confidence;
   let usable = 0, confidenceSum = 0;
   // One weight array (or none) chosen once: a choice per pixel made this loop three times slower.
   const weights = pixelWeights(f, o.weighting);
+  // One group: the tensor kernel's blockRows sums the rows (two pixels per instruction) when it is loaded.
+  const kernel = groups ? null : loadedTensorKernel();
+  const byKernel = kernel ? new KernelBlockRows(kernel, f, cols, region, weights) : null;
+  const { sw, sc, ss, sn } = byKernel ?? {
+    sw: new Float64Array(cols * G), sc: new Float64Array(cols * G), ss: new Float64Array(cols * G), sn: new Uint32Array(cols * G),
+  };
   const run = new Float64Array(6);
   for (let by = 0; by < height; by += B) {
     const yEnd = Math.min(height, by + B);
-    for (let y = by; y < yEnd; y++) {
+    if (byKernel) byKernel.rows(by, yEnd, B);
+    else for (let y = by; y < yEnd; y++) {
       const row = y * width;
       if (!groups) {
         // One group: no runs to track, only the mask (and region) to skip.
@@ -122,19 +129,113 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
     }
     for (let k = 0; k < sn.length; k++) {
       if (sn[k] === 0) continue;
-      const L = lists[(k / cols) | 0];
       // Rotate the block's doubled-angle sums to the reference axis.
-      L.w.push(sw[k]); L.wc.push(sc[k] * cr + ss[k] * sr); L.ws.push(ss[k] * cr - sc[k] * sr); L.n.push(sn[k]);
-      L.bx.push(k % cols); L.by.push(by / B);
+      lists[(k / cols) | 0].push(sw[k], sc[k] * cr + ss[k] * sr, ss[k] * cr - sc[k] * sr, sn[k], k % cols, by / B);
       sw[k] = sc[k] = ss[k] = 0;
       sn[k] = 0;
     }
   }
+  if (byKernel) [usable, confidenceSum] = byKernel.tally();
   if (o.tally) { o.tally.usable = usable; o.tally.confidenceSum = confidenceSum; }
-  return lists.map((L) => ({
-    w: Float64Array.from(L.w), wc: Float64Array.from(L.wc), ws: Float64Array.from(L.ws), n: Uint32Array.from(L.n),
-    bx: Int32Array.from(L.bx), by: Int32Array.from(L.by),
-  }));
+  return lists.map((L) => L.sums());
+}
+
+/** Pixels copied into the kernel's memory at a time. */
+const KERNEL_BAND_PX = 1 << 18;
+
+/**
+ * The one-group rows of accumulateBlocks in the tensor kernel (src/wasm/tensorKernel.as.ts, blockRows): the
+ * rows' layers are copied into its memory a band at a time, and the block sums (sw, sc, ss, sn) and the tally
+ * live there. Same sums as sumRun's, added in another order (the last bits may differ).
+ */
+class KernelBlockRows {
+  readonly sw: Float64Array; readonly sc: Float64Array; readonly ss: Float64Array; readonly sn: Uint32Array;
+  private readonly t: Float64Array;
+  private readonly at: { mask: number; region: number; weights: number; coherency: number; c2: number; s2: number; sums: number[]; tally: number };
+  private readonly views: { mask: Uint8Array; region: Uint8Array | null; weights: Float32Array | null; coherency: Float32Array; c2: Float32Array; s2: Float32Array };
+  private readonly bandRows: number;
+
+  constructor(private readonly k: KernelExports, private readonly f: OrientationField, cols: number,
+    private readonly region: Uint8Array | null, private readonly weights: Float32Array | null) {
+    const mem = new KernelArena(k);
+    this.bandRows = Math.max(1, Math.floor(KERNEL_BAND_PX / f.width));
+    const px = this.bandRows * f.width;
+    const sums = [mem.reserve(2 * cols), mem.reserve(2 * cols), mem.reserve(2 * cols), mem.reserve(cols)];
+    const tally = mem.reserve(4);
+    const mask = mem.reserve(px / 4 + 1), reg = region ? mem.reserve(px / 4 + 1) : 0;
+    // Coherency weighting weighs by the coherency layer itself: one copy serves both.
+    const ownWeights = weights && weights !== f.confidence;
+    const wts = ownWeights ? mem.reserve(px) : 0, coherency = mem.reserve(px), c2 = mem.reserve(px), s2 = mem.reserve(px);
+    mem.commit();
+    const buf = k.memory.buffer;
+    [this.sw, this.sc, this.ss] = sums.slice(0, 3).map((p) => new Float64Array(buf, p, cols));
+    this.sn = new Uint32Array(buf, sums[3], cols);
+    this.t = new Float64Array(buf, tally, 2);
+    this.t.fill(0);
+    for (const a of [this.sw, this.sc, this.ss, this.sn]) a.fill(0);
+    this.at = { mask, region: reg, weights: weights ? (ownWeights ? wts : coherency) : 0, coherency, c2, s2, sums, tally };
+    this.views = {
+      mask: new Uint8Array(buf, mask, px), region: region ? new Uint8Array(buf, reg, px) : null,
+      weights: ownWeights ? new Float32Array(buf, wts, px) : null,
+      coherency: new Float32Array(buf, coherency, px), c2: new Float32Array(buf, c2, px), s2: new Float32Array(buf, s2, px),
+    };
+  }
+
+  /** Adds rows y0 <= y < y1 (one band of blocks, B rows at most) to the block sums. */
+  rows(y0: number, y1: number, B: number): void {
+    const { f, views: v, at } = this;
+    const { cos2, sin2 } = doubledAngles(f);
+    for (let y = y0; y < y1; y += this.bandRows) {
+      const rows = Math.min(this.bandRows, y1 - y), from = y * f.width, to = from + rows * f.width;
+      v.mask.set(f.mask.subarray(from, to));
+      if (v.region && this.region) v.region.set(this.region.subarray(from, to));
+      if (v.weights && this.weights) v.weights.set(this.weights.subarray(from, to));
+      v.coherency.set(f.confidence.subarray(from, to));
+      v.c2.set(cos2.subarray(from, to));
+      v.s2.set(sin2.subarray(from, to));
+      this.k.blockRows(at.mask, at.region, at.weights, at.coherency, at.c2, at.s2, f.width, rows, B, at.sums[0], at.sums[1], at.sums[2], at.sums[3], at.tally);
+    }
+  }
+
+  /** Usable pixels and the sum of their coherency. */
+  tally(): [number, number] {
+    return [this.t[0], this.t[1]];
+  }
+}
+
+/** Block sums as they are found: typed arrays grown by doubling. */
+class BlockList {
+  private at = 0;
+  private w: Float64Array; private wc: Float64Array; private ws: Float64Array;
+  private n: Uint32Array; private bx: Int32Array; private by: Int32Array;
+
+  constructor(capacity: number) {
+    const c = Math.max(1, capacity);
+    this.w = new Float64Array(c); this.wc = new Float64Array(c); this.ws = new Float64Array(c);
+    this.n = new Uint32Array(c); this.bx = new Int32Array(c); this.by = new Int32Array(c);
+  }
+
+  push(w: number, wc: number, ws: number, n: number, bx: number, by: number): void {
+    if (this.at === this.w.length) this.grow();
+    const k = this.at++;
+    this.w[k] = w; this.wc[k] = wc; this.ws[k] = ws; this.n[k] = n; this.bx[k] = bx; this.by[k] = by;
+  }
+
+  private grow(): void {
+    const twice = <T extends Float64Array | Uint32Array | Int32Array>(a: T): T => {
+      const b = new (a.constructor as new (n: number) => T)(a.length * 2);
+      b.set(a);
+      return b;
+    };
+    this.w = twice(this.w); this.wc = twice(this.wc); this.ws = twice(this.ws);
+    this.n = twice(this.n); this.bx = twice(this.bx); this.by = twice(this.by);
+  }
+
+  /** The sums found, as arrays of their own length. */
+  sums(): BlockSums {
+    const k = this.at;
+    return { w: this.w.slice(0, k), wc: this.wc.slice(0, k), ws: this.ws.slice(0, k), n: this.n.slice(0, k), bx: this.bx.slice(0, k), by: this.by.slice(0, k) };
+  }
 }
 
 /** Per-pixel weights of a weighting, or null for equal weights (the product is formed once when both count). */

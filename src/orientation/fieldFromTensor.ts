@@ -2,6 +2,9 @@ import { checkLimit, type Limit } from '../common/index.ts';
 import { withDefaults } from '../common/index.ts';
 import type { TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
+import { withLazyAngle } from './derivedLayers.ts';
+import { giveBack, takeFloat32, takeUint8 } from '../common/index.ts';
+import { KernelArena, loadedTensorKernel } from '../wasm/index.ts';
 
 export interface MaskOptions {
   /**
@@ -21,31 +24,34 @@ export const MASK_LIMITS = {
 
 export const MASK_DEFAULTS = { strengthFloor: MASK_LIMITS.strengthFloor.default, coherencyMin: MASK_LIMITS.coherencyMin.default } as const;
 
-/** The per-pixel arrays the structure tensor fills, on a grid `width` pixels wide. */
+/**
+ * The per-pixel layers the structure tensor writes (src/wasm/tensorKernel.as.ts, outputRow), on a grid `width`
+ * pixels wide: texture strength = Jxx + Jyy; coherency C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in
+ * [0, 1] (the unsquared form, as in the OpenCV tutorial); (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root
+ * ((1, 0) where there is no gradient), so order parameters need no trigonometry. The orientation along the
+ * structure, theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen from +x with y = row (the stripe
+ * direction, 90 deg from the gradient), folded into (-pi/2, pi/2], is made from (cos 2 theta, sin 2 theta) the
+ * first time it is read (derivedLayers.ts): only pictures and exports need it.
+ */
 export interface FieldPixels {
   width: number;
-  angleRad: Float32Array; confidence: Float32Array; strength: Float32Array; cos2: Float32Array; sin2: Float32Array;
+  strength: Float32Array; confidence: Float32Array; cos2: Float32Array; sin2: Float32Array;
 }
 
-/** A texture field with all arrays allocated, ready for copyFieldPixels and finishTextureField. */
+/** A texture field with its kernel layers and mask allocated (not cleared), ready for its pixels and finishTextureField. */
 export function emptyTextureField(width: number, height: number): OrientationField & FieldPixels {
   const n = width * height;
-  return {
-    width, height, angleRad: new Float32Array(n), confidence: new Float32Array(n), mask: new Uint8Array(n),
-    strength: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n),
-    method: 'texture', ambiguity: 'none', options: {}, warnings: [],
-  };
+  // The kernel writes every pixel of these layers, and finishTextureField every mask byte, before they are read.
+  return withLazyAngle({
+    width, height, mask: takeUint8(n, false),
+    strength: takeFloat32(n, false), confidence: takeFloat32(n, false), cos2: takeFloat32(n, false), sin2: takeFloat32(n, false),
+    method: 'texture' as const, ambiguity: 'none' as const, options: {}, warnings: [] as string[],
+  });
 }
 
 /**
  * Copies the field pixels of the part `r` of a tile into `f`. `px` is on its own grid (`px.width` floats
- * per row) whose top-left pixel is `origin` in f's coordinates. The pixels themselves come from the
- * tensor kernel (src/wasm/tensorKernel.as.ts): orientation along the structure
- * theta = 1/2 atan2(2 Jxy, Jyy - Jxx), counter-clockwise on screen from +x with y = row (the stripe
- * direction, 90 deg from the gradient), folded into (-pi/2, pi/2]; coherency
- * C = sqrt((Jyy - Jxx)^2 + 4 Jxy^2) / (Jxx + Jyy) in [0, 1] (the unsquared form, as in the OpenCV
- * tutorial); texture strength = Jxx + Jyy; (cos 2 theta, sin 2 theta) = (Jyy - Jxx, 2 Jxy) / root, so order
- * parameters need no trigonometry.
+ * per row) whose top-left pixel is `origin` in f's coordinates.
  */
 export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, origin: { x: number; y: number }): void {
   const len = r.x1 - r.x0;
@@ -55,7 +61,16 @@ export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, or
   }
 }
 
-const PIXEL_ARRAYS = ['angleRad', 'confidence', 'strength', 'cos2', 'sin2'] as const;
+/**
+ * Hands a texture field's kernel layers and mask back for the next field of the same size
+ * (src/common/arrayPool.ts): only once nothing reads the field any more.
+ */
+export function recycleTextureField(f: OrientationField): void {
+  giveBack(f.strength, f.confidence, f.cos2, f.sin2, f.mask);
+}
+
+/** The layers FieldPixels holds. */
+export const PIXEL_ARRAYS = ['strength', 'confidence', 'cos2', 'sin2'] as const;
 
 export function resolveMaskOptions(options: MaskOptions = {}): Required<MaskOptions> {
   const o = withDefaults<Required<MaskOptions>>({ ...MASK_DEFAULTS }, options);
@@ -75,13 +90,7 @@ export function finishTextureField(f: OrientationField, options: MaskOptions, ex
   // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
   const floor = Math.max(o.strengthFloor * quantile(strength, 0.99), (1e-5 * intensityScale) ** 2);
   const coherencyMin = o.coherencyMin;
-  let kept = 0;
-  // Without branches: about a third quicker where kept and masked pixels are mixed.
-  for (let i = 0; i < n; i++) {
-    const ok = (strength[i] > floor ? 1 : 0) & (confidence[i] >= coherencyMin ? 1 : 0);
-    mask[i] = ok;
-    kept += ok;
-  }
+  const kept = maskPixels(strength, confidence, floor, coherencyMin, mask);
   const masked = n - kept;
   const warnings: string[] = [];
   if (masked === n) warnings.push('every pixel was masked: the image has no texture above the strength floor');
@@ -91,13 +100,86 @@ export function finishTextureField(f: OrientationField, options: MaskOptions, ex
   return f;
 }
 
-/** Quantile from a strided sample (at most ~20 000 values), enough for a threshold. */
+/** Pixels handed to the kernel at a time when masking. */
+const MASK_BAND = 1 << 16;
+
+/**
+ * mask[i] = 1 where strength[i] > floor and confidence[i] >= least, else 0; returns how many are 1. By the
+ * kernel's maskPixels (sixteen pixels at a time) in bands, the thresholds rounded to float32 so that the
+ * comparisons are exactly these, or in JavaScript where the kernel is not loaded.
+ */
+function maskPixels(strength: Float32Array, confidence: Float32Array, floor: number, least: number, mask: Uint8Array): number {
+  const n = mask.length;
+  let kept = 0;
+  const k = loadedTensorKernel();
+  if (!k) {
+    // Without branches: about a third quicker where kept and masked pixels are mixed.
+    for (let i = 0; i < n; i++) {
+      const ok = (strength[i] > floor ? 1 : 0) & (confidence[i] >= least ? 1 : 0);
+      mask[i] = ok;
+      kept += ok;
+    }
+    return kept;
+  }
+  const mem = new KernelArena(k);
+  const ps = mem.reserve(MASK_BAND), pc = mem.reserve(MASK_BAND), pm = mem.reserve(MASK_BAND / 4);
+  mem.commit();
+  const vs = mem.view(ps, MASK_BAND), vc = mem.view(pc, MASK_BAND), vm = new Uint8Array(k.memory.buffer, pm, MASK_BAND);
+  const f = float32Below(floor), l = float32Above(least);
+  for (let i = 0; i < n; i += MASK_BAND) {
+    const len = Math.min(MASK_BAND, n - i);
+    vs.set(strength.subarray(i, i + len));
+    vc.set(confidence.subarray(i, i + len));
+    kept += k.maskPixels(ps, pc, len, f, l, pm);
+    mask.set(vm.subarray(0, len), i);
+  }
+  return kept;
+}
+
+const bits = new Float32Array(1), word = new Uint32Array(bits.buffer);
+
+/** The largest float32 not above x: a float32 s is > x exactly when s > float32Below(x). */
+export function float32Below(x: number): number {
+  const f = Math.fround(x);
+  if (f <= x || Number.isNaN(x)) return f;
+  bits[0] = f;
+  if (f === 0) return -1.401298464324817e-45;
+  word[0] += f > 0 ? -1 : 1;
+  return bits[0];
+}
+
+/** The smallest float32 not below x: a float32 s is >= x exactly when s >= float32Above(x). */
+export function float32Above(x: number): number {
+  return -float32Below(-x);
+}
+
+/**
+ * Quantile from a strided sample (at most ~20 000 values), enough for a threshold: the sample's value of rank
+ * floor(q (k - 1)) (k finite values), found by selection (Hoare's FIND) rather than a sort.
+ */
 export function quantile(v: Float32Array, q: number): number {
   const step = Math.max(1, Math.floor(v.length / 20_000));
   const s = new Float32Array(Math.ceil(v.length / step));
   let k = 0;
   for (let i = 0; i < v.length; i += step) if (Number.isFinite(v[i])) s[k++] = v[i];
   if (k === 0) return 0;
-  const t = s.subarray(0, k).sort();
-  return t[Math.min(k - 1, Math.floor(q * (k - 1)))];
+  return select(s.subarray(0, k), Math.min(k - 1, Math.floor(q * (k - 1))));
+}
+
+/** The value of rank `r` (0-based, ascending) of `a`, which is reordered: Hoare's FIND (CACM 1961, algorithm 65). */
+function select(a: Float32Array, r: number): number {
+  let lo = 0, hi = a.length - 1;
+  while (lo < hi) {
+    const pivot = a[(lo + hi) >> 1];
+    let i = lo, j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) { const t = a[i]; a[i] = a[j]; a[j] = t; i++; j--; }
+    }
+    if (r <= j) hi = j;
+    else if (r >= i) lo = i;
+    else return a[r];
+  }
+  return a[r];
 }

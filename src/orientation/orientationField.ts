@@ -1,6 +1,6 @@
 import type { Plane } from '../common/index.ts';
 import { resolveTensorOptions, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
-import { writeTexturePixels, type TileHelper } from './tileShare.ts';
+import { sharesStrips, writeTexturePixels, type TileHelper } from './tileShare.ts';
 import { dilate, fillNonFinite } from './nonFinite.ts';
 import { emptyTextureField, finishTextureField, resolveMaskOptions, type MaskOptions } from './fieldFromTensor.ts';
 import type { OrientationField } from './types.ts';
@@ -15,11 +15,19 @@ export type OrientationFieldOptions = StructureTensorOptions & MaskOptions;
 export async function orientationField(input: Plane, options: OrientationFieldOptions = {}, helpers: readonly TileHelper[] = []): Promise<OrientationField> {
   const t = resolveTensorOptions(options);
   resolveMaskOptions(options);
-  const { plane: clean, bad, count, largest } = fillNonFinite(input);
-  const f = emptyTextureField(clean.width, clean.height);
-  await writeTexturePixels(clean, t, f, helpers);
+  const f = emptyTextureField(input.width, input.height);
+  // Alone, the kernel finds any value that is not finite as it reads the rows (and the largest |value|); only
+  // then are they filled and the field made again. Shared, the plane is checked first.
+  let filled = sharesStrips(input, helpers) ? fillNonFinite(input) : null;
+  let largest = await writeTexturePixels(filled?.plane ?? input, t, f, helpers);
+  if (!filled && !(largest! < Infinity)) {
+    filled = fillNonFinite(input);
+    await writeTexturePixels(filled.plane, t, f);
+  }
+  if (filled) largest = filled.largest;
+  const { bad, count } = filled ?? { bad: null, count: 0 };
   const sigmaDerivPx = t.derivative === 'sobel' ? null : t.sigmaDerivPx;
-  finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx, derivative: t.derivative }, largest);
+  finishTextureField(f, options, { sigmaPx: t.sigmaPx, sigmaDerivPx, derivative: t.derivative }, largest!);
   if (bad) {
     // The filled pixels and everything the filters carried them to are not measurements.
     const reach = dilate(bad, f.width, f.height, tensorHaloPx(t));

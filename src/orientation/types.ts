@@ -6,7 +6,10 @@
 export interface OrientationField {
   width: number;
   height: number;
-  /** Direction along the structure (the slow axis for optical readers), CCW as displayed, (-pi/2, pi/2]. */
+  /**
+   * Direction along the structure (the slow axis for optical readers), CCW as displayed, (-pi/2, pi/2]. A texture
+   * field makes it from cos2 and sin2 the first time it is read (src/orientation/derivedLayers.ts).
+   */
   angleRad: Float32Array;
   /** Coherency for texture fields; for optical readings their confidence (colour-match quality for the plate reading and pair, fit quality for the angle series); in [0, 1]. */
   confidence: Float32Array;

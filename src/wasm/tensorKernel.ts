@@ -4,15 +4,26 @@ import { TENSOR_KERNEL_WASM } from './tensorKernel.wasm.ts';
 /** The compiled kernel's exports (src/wasm/tensorKernel.as.ts; pointers are byte offsets, sizes in floats). */
 export interface KernelExports {
   memory: WebAssembly.Memory;
-  rowFilter(src: number, dst: number, width: number, height: number, stride: number, k: number, klen: number, line: number): void;
-  columnFilter(src: number, dst: number, height: number, stride: number, k: number, klen: number, rows: number): void;
-  products(ix: number, iy: number, xx: number, xy: number, yy: number, n: number): void;
-  fieldPixels(jxx: number, jxy: number, jyy: number, angle: number, confidence: number, strength: number, cos2: number, sin2: number, n: number): void;
+  padLine(line: number, width: number, r: number, padded: number): void;
+  rowPass(line: number, dst: number, stride: number, k: number, klen: number, sym: number): void;
+  inputRow(line: number, width: number, stride: number, kd: number, ks: number, klen: number, rowD: number, rowS: number): number;
+  gradientRow(rowsD: number, rowsS: number, kd: number, ks: number, klen: number, width: number, stride: number, ix: number, iy: number,
+    lxx: number, lxy: number, lyy: number, kg: number, kglen: number, dxx: number, dxy: number, dyy: number): void;
+  outputRow(rowsXX: number, rowsXY: number, rowsYY: number, kg: number, kglen: number, stride: number, lean: number, out0: number, out1: number, out2: number, out3: number): void;
+  angles(vx: number, vy: number, angle: number, n: number): void;
+  maskPixels(strength: number, coherency: number, n: number, floor: number, least: number, mask: number): number;
+  blockRows(mask: number, region: number, weights: number, coherency: number, c2: number, s2: number, width: number, rows: number, B: number,
+    sw: number, sc: number, ss: number, sn: number, tally: number): void;
 }
+
+let loaded: KernelExports | null = null;
+
+/** The kernel once loadTensorKernel has resolved in this thread, else null (for work that cannot wait). */
+export const loadedTensorKernel = (): KernelExports | null => loaded;
 
 let loading: Promise<KernelExports> | null = null;
 
-/** Compiles the kernel once per thread (a 2 kB module: a few milliseconds). */
+/** Compiles the kernel once per thread (a 3 kB module: a few milliseconds). */
 export function loadTensorKernel(): Promise<KernelExports> {
   loading ??= (async () => {
     if (typeof WebAssembly !== 'object' || typeof WebAssembly.validate !== 'function') {
@@ -23,7 +34,8 @@ export function loadTensorKernel(): Promise<KernelExports> {
       throw new InputError('this browser or Node.js cannot run WebAssembly SIMD, which the structure tensor needs', 'Use Chromium 91, Firefox 89, Safari 16.4, Node.js 16.4 or newer');
     }
     const { instance } = await WebAssembly.instantiate(bytes, {});
-    return instance.exports as unknown as KernelExports;
+    loaded = instance.exports as unknown as KernelExports;
+    return loaded;
   })();
   return loading;
 }
@@ -57,5 +69,10 @@ export class KernelArena {
   /** A view of `floats` floats at `offset` (valid until the memory next grows). */
   view(offset: number, floats: number): Float32Array {
     return new Float32Array(this.k.memory.buffer, offset, floats);
+  }
+
+  /** A view of `count` 32-bit addresses at `offset` (a table of row addresses). */
+  addresses(offset: number, count: number): Uint32Array {
+    return new Uint32Array(this.k.memory.buffer, offset, count);
   }
 }

@@ -1,6 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { orientationField, structureTensor } from '../../src/orientation/index.ts';
 import { gaussianDerivativeKernel, gaussianKernel } from '../../src/orientation/kernels.ts';
+import { quantile } from '../../src/orientation/fieldFromTensor.ts';
 import { axialDiffDeg, radToDeg } from '../../src/common/angles.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { readFileSync } from 'node:fs';
@@ -115,17 +116,22 @@ describe('structureTensor mechanics', () => {
   });
 });
 
-describe('orientationField in tiles', () => {
-  it('gives the same field whole and tile by tile', async () => {
-    const p = addNoise(rings(300, 220, 140, 100, 11), 0.2, 3);
-    const whole = await orientationField(p, { sigmaPx: 2.5 });
-    const tiled = await orientationField(p, { sigmaPx: 2.5, tilePixels: 90 * 90 });
-    let worst = 0;
-    for (let i = 0; i < whole.angleRad.length; i++) {
-      worst = Math.max(worst, Math.abs(whole.confidence[i] - tiled.confidence[i]), axialDiffDeg(deg(whole.angleRad[i]), deg(tiled.angleRad[i])) / 90);
+describe('the strength floor\'s quantile', () => {
+  it('is the sample value of rank floor(q (k - 1)) in sorted order (found by selection, not a sort)', () => {
+    let seed = 5;
+    const rnd = () => ((seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0) / 2 ** 32);
+    for (let t = 0; t < 300; t++) {
+      const n = 1 + Math.floor(rnd() * 60000), v = new Float32Array(n), ties = rnd() < 0.3;
+      for (let i = 0; i < n; i++) v[i] = ties ? Math.floor(rnd() * 5) : rnd() * 100;
+      if (rnd() < 0.2) v[0] = Number.NaN;
+      const q = t % 10 === 0 ? 0.99 : rnd();
+      // The definition, by a sort: the strided sample of at most ~20 000 finite values.
+      const step = Math.max(1, Math.floor(n / 20000)), sample: number[] = [];
+      for (let i = 0; i < n; i += step) if (Number.isFinite(v[i])) sample.push(v[i]);
+      const sorted = Float32Array.from(sample).sort();
+      const want = sample.length ? sorted[Math.min(sample.length - 1, Math.floor(q * (sample.length - 1)))] : 0;
+      expect(quantile(v, q), `n ${n}, q ${q}`).toBe(want);
     }
-    expect(worst).toBeLessThan(1e-4);
-    expect(tiled.mask).toEqual(whole.mask);
   });
 });
 

@@ -3,6 +3,7 @@ import { readFileSync } from 'node:fs';
 import { loadCv } from '../../src/cv/opencv.ts';
 import { structureTensor, type StructureTensorOptions } from '../../src/orientation/index.ts';
 import { KernelArena, loadTensorKernel } from '../../src/wasm/tensorKernel.ts';
+import { float32Above, float32Below } from '../../src/orientation/fieldFromTensor.ts';
 
 // The structure tensor runs in our own WebAssembly kernel (src/wasm/tensorKernel.as.ts). Outside
 // references: OpenCV's own separable filters (opencv.js sepFilter2D, Sobel and multiply with
@@ -75,9 +76,29 @@ describe('the tensor kernel against OpenCV', () => {
   }
 });
 
+/**
+ * The kernel's outputRow with a one-tap Gaussian [1] passes a tensor through unchanged, so its field pixels can be
+ * checked on any tensor: one "ring" row per component, and a table of one row address each.
+ */
+async function fieldPixelsOf(cases: [number, number, number][]) {
+  const k = await loadTensorKernel();
+  const n = Math.ceil(cases.length / 16) * 16;
+  const mem = new KernelArena(k);
+  const kg = mem.reserve(1), t = [mem.reserve(1), mem.reserve(1), mem.reserve(1)];
+  const rows = [mem.reserve(n), mem.reserve(n), mem.reserve(n), mem.reserve(n)], angle = mem.reserve(n);
+  mem.commit();
+  mem.view(kg, 1)[0] = 1;
+  t.forEach((p, c) => { mem.addresses(p, 1)[0] = rows[c]; });
+  const [jxx, jxy, jyy] = rows.map((p) => mem.view(p, n));
+  cases.forEach(([a, b, c], i) => { jxx[i] = a; jxy[i] = b; jyy[i] = c; });
+  k.outputRow(t[0], t[1], t[2], kg, 1, n, 1, rows[0], rows[1], rows[2], rows[3]);
+  k.angles(rows[2], rows[3], angle, n);
+  const [strength, conf, cos2, sin2] = rows.map((p) => Float32Array.from(mem.view(p, n)));
+  return { strength, conf, cos2, sin2, angle: Float32Array.from(mem.view(angle, n)) };
+}
+
 describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
   it('gives angle, coherency, texture strength and the doubled-angle components of any tensor', async () => {
-    const k = await loadTensorKernel();
     const values = [0, -0, 1, -1, 1e-20, -3.5, 250, 1e6];
     const cases: [number, number, number][] = [];
     for (const a of values) for (const b of values) for (const c of values) cases.push([Math.abs(a), b, Math.abs(c)]);
@@ -92,14 +113,7 @@ describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
       const r = () => ((s = (s * 1103515245 + 12345) >>> 0) / 2 ** 32);
       cases.push([r() * 100, (r() - 0.5) * 100, r() * 100]);
     }
-    const n = Math.ceil(cases.length / 16) * 16;
-    const mem = new KernelArena(k);
-    const p = Array.from({ length: 8 }, () => mem.reserve(n));
-    mem.commit();
-    const jxx = mem.view(p[0], n), jxy = mem.view(p[1], n), jyy = mem.view(p[2], n);
-    cases.forEach(([a, b, c], i) => { jxx[i] = a; jxy[i] = b; jyy[i] = c; });
-    k.fieldPixels(p[0], p[1], p[2], p[3], p[4], p[5], p[6], p[7], n);
-    const [angle, conf, strength, cos2, sin2] = [3, 4, 5, 6, 7].map((q) => mem.view(p[q], n));
+    const { strength, conf, cos2, sin2, angle } = await fieldPixelsOf(cases);
     cases.forEach(([a0, b0, c0], i) => {
       const a = Math.fround(a0), b2 = 2 * Math.fround(b0), c = Math.fround(c0);
       const root = Math.hypot(c - a, b2), e = a + c;
@@ -111,17 +125,106 @@ describe('the kernel\'s field pixels against Math.atan2 and Math.hypot', () => {
       expect(got).toBeLessThanOrEqual(Math.PI / 2);
       const d = Math.abs(got - want);
       expect(Math.min(d, Math.PI - d), `angle of ${a0}, ${b0}, ${c0}`).toBeLessThan(2e-5);
-      expect(strength[i]).toBeCloseTo(e, 0);
       expect(Math.abs(strength[i] - e)).toBeLessThanOrEqual(1e-6 * Math.abs(e));
       expect(Math.abs(conf[i] - (e > 0 ? Math.min(1, root / e) : 0)), `coherency of ${a0}, ${b0}, ${c0}`).toBeLessThan(1e-6);
       if (root > 0) {
         expect(Math.abs(cos2[i] - (c - a) / root)).toBeLessThan(1e-6);
         expect(Math.abs(sin2[i] - b2 / root)).toBeLessThan(1e-6);
       } else {
-        // No gradient: the convention of the field (cos 1, sin 0) rather than 0/0.
-        expect([cos2[i], sin2[i]]).toEqual([1, 0]);
+        // No gradient: the convention of the field (cos 1, sin 0) rather than 0/0, and angle 0.
+        expect([cos2[i], sin2[i], angle[i]]).toEqual([1, 0, 0]);
       }
     });
+  });
+});
+
+/** A seeded uniform generator in [0, 1) (Numerical Recipes LCG). */
+function lcg(seed: number) {
+  let s = seed;
+  return () => ((s = (Math.imul(s, 1664525) + 1013904223) >>> 0) / 2 ** 32);
+}
+
+describe('the kernel\'s mask against plain comparisons', () => {
+  it('marks strength > floor and coherency >= least exactly as JavaScript compares the float32 values with the numbers', async () => {
+    const k = await loadTensorKernel();
+    const rnd = lcg(3), n = 1000 + 7;
+    const mem = new KernelArena(k);
+    const ps = mem.reserve(n), pc = mem.reserve(n), pm = mem.reserve(n);
+    mem.commit();
+    const strength = mem.view(ps, n), coherency = mem.view(pc, n), mask = new Uint8Array(k.memory.buffer, pm, n);
+    for (const [floor, least] of [[0.1, 0], [1 / 3, 0.7], [0.3000000001, 1 / 7], [0, 1], [-1e-50, 0.5]]) {
+      // Values on both sides of the thresholds, their float32 neighbours included, and NaN.
+      for (let i = 0; i < n; i++) {
+        strength[i] = [floor, Math.fround(floor), rnd(), NaN, floor * (1 + 1e-8), 0][i % 6];
+        coherency[i] = [least, Math.fround(least), rnd(), NaN, least * (1 - 1e-8), 1][(i * 7) % 6];
+      }
+      const kept = k.maskPixels(ps, pc, n, float32Below(floor), float32Above(least), pm);
+      let want = 0;
+      for (let i = 0; i < n; i++) {
+        const ok = strength[i] > floor && coherency[i] >= least ? 1 : 0;
+        want += ok;
+        expect(mask[i], `pixel ${i}: ${strength[i]} vs ${floor}, ${coherency[i]} vs ${least}`).toBe(ok);
+      }
+      expect(kept).toBe(want);
+    }
+  });
+
+  it('rounds thresholds to the float32 on the right side', () => {
+    for (const x of [0.1, 1 / 3, -0.1, 1e-50, -1e-50, 0, 3.4e38, 1e39, 16777217]) {
+      const lo = float32Below(x), hi = float32Above(x);
+      expect(lo).toBe(Math.fround(lo));
+      expect(hi).toBe(Math.fround(hi));
+      expect(lo).toBeLessThanOrEqual(x);
+      expect(hi).toBeGreaterThanOrEqual(x);
+      // Nothing float32 lies strictly between the rounded value and x.
+      expect(Math.fround(lo + (x - lo) / 2) === lo || Math.fround(lo + (x - lo) / 2) === hi || lo === x).toBe(true);
+    }
+  });
+});
+
+describe('the kernel\'s block sums against plain sums', () => {
+  it('gives the sums accumulateBlocks adds pixel by pixel, with a mask, a region, weights and ragged blocks', async () => {
+    const k = await loadTensorKernel();
+    const rnd = lcg(11), width = 37, rows = 5, B = 7, cols = Math.ceil(width / B), n = width * rows;
+    const mem = new KernelArena(k);
+    const sums = [mem.reserve(2 * cols), mem.reserve(2 * cols), mem.reserve(2 * cols), mem.reserve(cols)], tally = mem.reserve(4);
+    const pm = mem.reserve(n), pr = mem.reserve(n), pw = mem.reserve(n), pc = mem.reserve(n), p2 = mem.reserve(n), p3 = mem.reserve(n);
+    mem.commit();
+    const buf = k.memory.buffer;
+    const mask = new Uint8Array(buf, pm, n), region = new Uint8Array(buf, pr, n);
+    const [weights, coherency, c2, s2] = [pw, pc, p2, p3].map((p) => mem.view(p, n));
+    for (let i = 0; i < n; i++) {
+      mask[i] = rnd() < 0.8 ? 1 : 0; region[i] = rnd() < 0.9 ? 1 : 0;
+      weights[i] = rnd() < 0.1 ? 0 : rnd() * 3; coherency[i] = rnd();
+      const t = rnd() * 6.3;
+      c2[i] = Math.cos(t); s2[i] = Math.sin(t);
+      if (!mask[i] && rnd() < 0.5) { c2[i] = NaN; s2[i] = NaN; } // left-out pixels need not be finite
+    }
+    for (const [useRegion, useWeights] of [[false, false], [true, true], [false, true]]) {
+      const sw = new Float64Array(buf, sums[0], cols), sc = new Float64Array(buf, sums[1], cols), ss = new Float64Array(buf, sums[2], cols);
+      const sn = new Uint32Array(buf, sums[3], cols), t = new Float64Array(buf, tally, 2);
+      for (const a of [sw, sc, ss, sn, t]) a.fill(0);
+      k.blockRows(pm, useRegion ? pr : 0, useWeights ? pw : 0, pc, p2, p3, width, rows, B, sums[0], sums[1], sums[2], sums[3], tally);
+      const want = { w: new Float64Array(cols), c: new Float64Array(cols), s: new Float64Array(cols), n: new Uint32Array(cols) };
+      let usable = 0, conf = 0;
+      for (let i = 0; i < n; i++) {
+        if (!mask[i] || (useRegion && !region[i])) continue;
+        usable++; conf += coherency[i];
+        const w = useWeights ? weights[i] : 1;
+        if (!(w > 0)) continue;
+        const bx = Math.floor((i % width) / B);
+        want.w[bx] += w; want.c[bx] += w * c2[i]; want.s[bx] += w * s2[i]; want.n[bx]++;
+      }
+      expect([...sn]).toEqual([...want.n]);
+      for (let b = 0; b < cols; b++) {
+        // Float64 sums of float32 products in another order: equal to 1e-12 (common practice, no source).
+        expect(Math.abs(sw[b] - want.w[b])).toBeLessThan(1e-12 * (1 + Math.abs(want.w[b])));
+        expect(Math.abs(sc[b] - want.c[b])).toBeLessThan(1e-12 * (1 + Math.abs(want.w[b])));
+        expect(Math.abs(ss[b] - want.s[b])).toBeLessThan(1e-12 * (1 + Math.abs(want.w[b])));
+      }
+      expect(t[0]).toBe(usable);
+      expect(Math.abs(t[1] - conf)).toBeLessThan(1e-12 * (1 + conf));
+    }
   });
 });
 

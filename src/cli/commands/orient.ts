@@ -1,4 +1,6 @@
 import { analyseOrientation, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
+import { giveBack } from '../../common/index.ts';
+import { recycleTextureField } from '../../orientation/index.ts';
 import { parseRect } from '../../common/index.ts';
 import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import { ORIENT_OPTIONS } from '../../options/index.ts';
@@ -46,13 +48,17 @@ export const orientCommand: Command = {
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
     const opts = orientOptionsFrom(a);
-    const images = await loadImageFiles(a.positionals);
     const fieldOut = stringOpt(a, 'field-out');
     const results: OrientResult[] = [];
-    for (const img of images) {
+    // One image at a time: each is read, analysed and let go (its arrays kept for the next image of its size,
+    // so a batch touches fresh memory once), so a batch needs the memory of one image.
+    for (const path of a.positionals) {
+      const [img] = await loadImageFiles([path]);
       const { result, field } = await analyseOrientation(img, opts);
-      if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda orient ${img.source.name}`);
+      if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, a.positionals.length), field, `retarda orient ${img.source.name}`);
       results.push(result);
+      recycleTextureField(field);
+      giveBack(...img.planes);
     }
     const hasAxis = opts.axisDeg !== undefined;
     const table = formatTable(
