@@ -290,7 +290,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           </details>
           {gap !== null && gap > ONE_IMAGE_AXIS_TOLERANCE_DEG && (
             <p className="note warn">Your reference axis ({f(axis)}°) is {f(gap)}° from the compensator's slow axis (or its normal): one image
-              cannot tell a direction there from its mirror image, so S against it is withheld. Turn the sample, or read two images.</p>
+              cannot tell a direction there from its mirror image, so S against it is withheld. Turn the sample, or read a plate pair.</p>
           )}
         </div>
       )}

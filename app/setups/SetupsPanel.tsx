@@ -186,7 +186,7 @@ export function SetupsPanel(p: Props) {
           {problems.length > 0 && <ul className="warnings" data-testid="setup-problems">{problems.map((m) => <li key={m}>{m}</li>)}</ul>}
           <p className="note">The same set-up on the command line (colour readers; lengths):</p>
           <p className="cli" data-testid="setup-cli"><code>{setupCommandOptions(draft).train.join(' ')}</code>{setupCommandOptions(draft).lengths.length > 0 && <><br /><code>{setupCommandOptions(draft).lengths.join(' ')}</code></>}</p>
-          {!crossedPolars(t) && <p className="note warn">The analyser is not crossed with the polariser. The colour readers of the command line assume crossed polars.</p>}
+          {!crossedPolars(t) && <p className="note warn">The analyser is not crossed with the polariser. The colour readers of the command line assume crossed polarisers.</p>}
           <p className="buttons">
             <button type="submit" className="primary" disabled={problems.length > 0 || (!dirty && isSaved)}>{isSaved ? 'Save changes' : 'Save set-up'}</button>
             <button type="button" disabled={problems.length > 0 || !p.canApply} onClick={() => void saveAndApply()} title={p.canApply ? '' : 'Open or start a session first'}>
