@@ -5,7 +5,7 @@
  */
 import type { Image } from '../../src/image/index.ts';
 import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
-import type { Rect } from '../../src/common/index.ts';
+import { takeFloat32, type Rect } from '../../src/common/index.ts';
 
 /** A rectangle in camera-frame pixels (x right, y down, top-left pixel at 0,0). */
 export type FrameRect = Rect;
@@ -77,7 +77,8 @@ const CODE = Float32Array.from({ length: 256 }, (_, c) => c / 255);
  */
 export function frameImage(rgba: Uint8Array | Uint8ClampedArray, width: number, height: number): Image {
   if (rgba.length !== width * height * 4) throw new Error(`frame has ${rgba.length} bytes, ${width}x${height} RGBA needs ${width * height * 4}`);
-  const grey = new Float32Array(width * height);
+  // Every element is written below: an array the last frame handed back serves (src/common/arrayPool.ts).
+  const grey = takeFloat32(width * height, false);
   for (let i = 0, o = 0; i < grey.length; i++, o += 4) grey[i] = 0.2126 * CODE[rgba[o]] + 0.7152 * CODE[rgba[o + 1]] + 0.0722 * CODE[rgba[o + 2]];
   return { width, height, channels: 1, planes: [grey], bitDepth: 32, encoding: 'linear', source: { name: 'camera frame' } };
 }

@@ -10,10 +10,10 @@ import {
 } from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
 import { fieldTiffBytes } from '../../src/report/index.ts';
-import { isInputError } from '../../src/common/index.ts';
-import { loadCv } from '../../src/cv/index.ts';
+import { giveBack, isInputError } from '../../src/common/index.ts';
+import { loadTensorKernel } from '../../src/wasm/index.ts';
 import { decodeImage, type Image } from '../../src/image/index.ts';
-import type { OrientationField, TileHelper } from '../../src/orientation/index.ts';
+import { recycleTextureField, type OrientationField, type TileHelper } from '../../src/orientation/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
 import { coherencyPicture, directionLines, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
 import { retardanceRange } from '../../src/report/index.ts';
@@ -152,6 +152,9 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     timer.lap('structure tensor and order');
     const colour = picture ? await orientationPicture(field) : null;
     if (colour) timer.lap('orientation picture');
+    // Nothing keeps a frame's field or pixels: their arrays serve the next frame (no fresh memory per frame).
+    recycleTextureField(field);
+    giveBack(...img.planes);
     return { value: { result, colour, timesMs: timer.times, helperTiles: 0 }, transfer: colour?.levels ?? [] };
   },
 
@@ -302,8 +305,9 @@ async function warmUp(): Promise<void> {
   }
 }
 
-// Start opencv.js now, so the first analysis does not wait for it, and say whether it started.
-loadCv().then(
+// Compile the tensor kernel now (a few kB: milliseconds; it also checks WebAssembly SIMD), say whether it
+// started, then warm up. No analysis the app runs uses opencv.js, so the engine does not wait for it.
+loadTensorKernel().then(
   () => { post({ id: -1, type: 'ready' }); return warmUp().catch(() => undefined); },
   (e) => post({ id: -1, type: 'startFailed', error: errorInfo(e) }),
 );

@@ -36,7 +36,7 @@ export interface ClientOptions {
   tileHelpers?: number;
 }
 
-/** Most analysis workers one image is shared between (each holds its own opencv.js heap). */
+/** Most analysis workers one image is shared between (each holds its own copy of the images it works on). */
 export const MAX_WORKERS = 4;
 
 /**
@@ -62,7 +62,7 @@ export class AnalysisClient {
   helpersLinked: Promise<number> = Promise.resolve(0);
   constructor(private readonly makeWorker: () => Worker, private readonly options: ClientOptions = {}) {}
 
-  /** Resolves when the worker's opencv.js runtime has started; rejects with a readable message if it cannot. */
+  /** Resolves when the worker's analysis engine (the tensor kernel) has started; rejects with a readable message if it cannot. */
   ready(): Promise<void> {
     this.start();
     return this.readyPromise!;
