@@ -554,7 +554,10 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
 const channelArea: ValidationArea = async ({ quick }) => {
   outside.count = 0; outside.total = 0; outside.examples = [];
   const rows: ValidationRow[] = [];
+  // RETARDA_VALIDATE_PARTS=walls,profiles,coverage runs only those parts (all by default).
+  const parts = process.env.RETARDA_VALIDATE_PARTS?.split(',');
   for (const [what, part] of [['walls', autoWallRows], ['profiles', profileRows], ['coverage', coverageRows]] as const) {
+    if (parts && !parts.includes(what)) continue;
     const t0 = performance.now();
     rows.push(...await part(quick));
     process.stderr.write(`channel ${what}: ${((performance.now() - t0) / 1000).toFixed(1)} s\n`);
