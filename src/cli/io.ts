@@ -1,4 +1,5 @@
-import { readFile, stat, writeFile } from 'node:fs/promises';
+import { readFileSync, statSync } from 'node:fs';
+import { writeFile } from 'node:fs/promises';
 import { InputError } from '../common/index.ts';
 import { decodeImage, decodeImagePages, MAX_DECODE_BYTES, usePlatformCodecs, type Image } from '../image/index.ts';
 import { NODE_CODECS } from './platform.ts';
@@ -19,9 +20,11 @@ function fsProblem(path: string, e: unknown, doing: string): InputError {
 
 /** Reads a whole file, with file-system problems as InputError naming the path. */
 async function readImageBytes(path: string): Promise<Uint8Array> {
+  // Read in one call on this thread: the command does one thing at a time, and the asynchronous read's
+  // hand-offs cost a millisecond or two per file.
   let info;
   try {
-    info = await stat(path);
+    info = statSync(path);
   } catch (e) {
     throw fsProblem(path, e, 'read the image');
   }
@@ -33,7 +36,7 @@ async function readImageBytes(path: string): Promise<Uint8Array> {
       'Crop or bin the image, or split the stack into smaller files');
   }
   try {
-    const buf = await readFile(path);
+    const buf = readFileSync(path);
     return new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength);
   } catch (e) {
     throw fsProblem(path, e, 'read the image');
@@ -47,15 +50,16 @@ const planeBytes = (img: Image) => img.planes.reduce((sum, p) => sum + p.byteLen
  * Loads the first page of each image file (PNG, JPEG, TIFF; see decodeImage), in the order given.
  * All of them are held at once, so together they share one MAX_DECODE_BYTES: each file may take
  * what the ones before it left.
+ * With `grey`, colour images come as one plane of luma (decodeImage), for analyses that read grey only.
  * @throws InputError naming the path for a missing, unreadable, folder, corrupt or unsupported file,
  *   or one that does not fit in what is left of the limit
  */
-export async function loadImageFiles(paths: string[]): Promise<Image[]> {
+export async function loadImageFiles(paths: string[], options: { grey?: boolean } = {}): Promise<Image[]> {
   usePlatformCodecs(NODE_CODECS);
   const images: Image[] = [];
   let held = 0;
   for (const path of paths) {
-    const img = decodeImage(await readImageBytes(path), path, 0, MAX_DECODE_BYTES - held);
+    const img = decodeImage(await readImageBytes(path), path, 0, MAX_DECODE_BYTES - held, options);
     held += planeBytes(img);
     images.push(img);
   }

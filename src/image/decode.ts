@@ -1,9 +1,9 @@
-import { InputError } from '../common/index.ts';
+import { giveBack, InputError } from '../common/index.ts';
 import { detectFormat } from './format.ts';
 import { decodeJpeg } from './jpegDecode.ts';
 import { decodePng } from './pngDecode.ts';
 import { decodeTiffPages } from './tiffDecode.ts';
-import type { Image } from './types.ts';
+import { toGrey, type Image } from './types.ts';
 
 function checkBytes(bytes: Uint8Array, name: string): void {
   if (!(bytes instanceof Uint8Array)) {
@@ -46,18 +46,31 @@ export function decodeImagePages(bytes: Uint8Array, name: string, maxBytes?: num
  * page's pixels are decoded.
  *
  * @param page 0-based page index; PNG and JPEG have only page 0
+ * @param options `grey`: a colour image comes as one plane of Rec. 709 luma, bit for bit toGrey's (PNG writes
+ *   it as it decodes; the others are decoded in colour first), for analyses that read grey only
  * @throws InputError as decodeImagePages, or when the page does not exist
  */
-export function decodeImage(bytes: Uint8Array, name: string, page = 0, maxBytes?: number): Image {
+export function decodeImage(bytes: Uint8Array, name: string, page = 0, maxBytes?: number, options: { grey?: boolean } = {}): Image {
   checkBytes(bytes, name);
   if (!Number.isInteger(page) || page < 0) {
     throw new InputError(`${name}: page ${page} is not a page number`, 'Give a page index of 0 or more');
   }
   const format = detectFormat(bytes, name);
-  if (format === 'tiff') return decodeTiffPages(bytes, name, [page], maxBytes)[0];
-  if (page !== 0) {
+  const grey = options.grey ?? false;
+  if (format === 'png' && page === 0) return decodePng(bytes, name, maxBytes, grey);
+  let img: Image;
+  if (format === 'tiff') img = decodeTiffPages(bytes, name, [page], maxBytes)[0];
+  else if (page !== 0) {
     throw new InputError(`${name}: page index ${page} (0-based) was asked for but a ${format.toUpperCase()} file has one image`,
       'Ask for page 0 or leave out the page');
-  }
-  return format === 'png' ? decodePng(bytes, name, maxBytes) : decodeJpeg(bytes, name, maxBytes);
+  } else img = decodeJpeg(bytes, name, maxBytes);
+  return grey ? greyImage(img) : img;
+}
+
+/** An image as one plane of luma (toGrey); a colour image's planes are handed back for reuse. */
+function greyImage(img: Image): Image {
+  if (img.channels === 1) return img;
+  const plane = toGrey(img).data;
+  giveBack(...img.planes);
+  return { ...img, channels: 1, planes: [plane] };
 }

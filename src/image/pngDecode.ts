@@ -205,14 +205,18 @@ function unfilter(type: number, row: Uint8Array, prev: Uint8Array, bpp: number):
  *
  * @param maxBytes memory the decode may take (default MAX_DECODE_BYTES): the planes, 4 bytes per
  *   pixel and channel, must fit
+ * @param grey give a colour image as one plane of Rec. 709 luma, bit for bit what toGrey makes of its planes
+ *   (for analyses that read grey only: a third of the memory and no second pass)
  * @throws InputError for a damaged or cut-short file (bad CRC or Adler-32, broken chunks, wrong
  *   amount of image data, a palette index outside PLTE) and for sizes over the limit
  */
-export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): Image {
+export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, grey = false): Image {
   const header = readPngHeader(bytes, name);
   const { width, height, bitDepth, colourType } = header;
   const kind = COLOUR_TYPES[colourType];
-  const channels: 1 | 3 = colourType === 3 || kind.samples >= 3 ? 3 : 1;
+  const colour = colourType === 3 || kind.samples >= 3;
+  // Asked for grey, a colour image is written as one plane of luma (toGrey's weights, the same bits).
+  const channels: 1 | 3 = colour && !grey ? 3 : 1;
   const planeBytes = width * height * channels * 4;
   checkDecodeBytes(name, FORMAT, sizeWords(width, height), planeBytes, maxBytes);
   const chunks = readChunks(bytes, name);
@@ -236,7 +240,9 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
     },
   };
 
-  const planes = Array.from({ length: channels }, () => takeFloat32(width * height));
+  // Every sample is written before the image is returned (all rows, or all seven Adam7 passes; a file that
+  // stops short is refused), so a reused array need not be cleared first.
+  const planes = Array.from({ length: channels }, () => takeFloat32(width * height, false));
   const bitsPerPixel = kind.samples * bitDepth;
   const bpp = Math.max(1, bitsPerPixel >> 3);
   const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];
@@ -247,7 +253,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
     return { x0, y0, dx, dy, w, h, bytes: w > 0 && h > 0 ? rowBytes(w, bitsPerPixel) : 0 };
   }).filter((p) => p.w > 0 && p.h > 0);
   const expectedBytes = plan.reduce((n, p) => n + p.h * (p.bytes + 1), 0);
-  const writeRow = rowWriter(planes, width, bitDepth, kind.samples, palette, name);
+  const writeRow = rowWriter(planes, width, bitDepth, kind.samples, palette, name, colour && grey);
 
   const maxRow = Math.max(...plan.map((p) => p.bytes));
   let cur = new Uint8Array(maxRow);
@@ -339,7 +345,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number): I
  * column after) into the planes.
  */
 function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samples: number,
-  palette: Uint8Array | undefined, what: string) {
+  palette: Uint8Array | undefined, what: string, luma: boolean) {
   const maxCode = 2 ** bitDepth - 1;
   const scale = new Float32Array(Math.min(maxCode, 65535) + 1);
   for (let v = 0; v < scale.length; v++) scale[v] = v / maxCode;
@@ -371,12 +377,23 @@ function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samp
         for (let i = 0, j = 0; i < w; i++, p += dx, j += samples) g[p] = byte[row[j]];
         return;
       }
+      if (luma) {
+        const l = planes[0];
+        for (let i = 0, j = 0; i < w; i++, p += dx, j += samples) l[p] = lumaOf(byte[row[j]], byte[row[j + 1]], byte[row[j + 2]]);
+        return;
+      }
       const [r, g, b] = planes;
       for (let i = 0, j = 0; i < w; i++, p += dx, j += samples) {
         r[p] = byte[row[j]];
         g[p] = byte[row[j + 1]];
         b[p] = byte[row[j + 2]];
       }
+      return;
+    }
+    if (luma) {
+      const l = planes[0];
+      const at = (j: number) => scale[(row[j] << 8) | row[j + 1]];
+      for (let i = 0, j = 0; i < w; i++, p += dx, j += 2 * samples) l[p] = lumaOf(at(j), at(j + 2), at(j + 4));
       return;
     }
     for (let i = 0, j = 0; i < w; i++, p += dx, j += 2 * samples) {
@@ -389,8 +406,15 @@ function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samp
       throw corrupt(what, FORMAT, `a pixel uses colour ${index} of a ${colours}-colour palette`);
     }
     const pal = palette as Uint8Array;
+    if (luma) {
+      planes[0][p] = lumaOf(byte[pal[3 * index]], byte[pal[3 * index + 1]], byte[pal[3 * index + 2]]);
+      return;
+    }
     planes[0][p] = byte[pal[3 * index]];
     planes[1][p] = byte[pal[3 * index + 1]];
     planes[2][p] = byte[pal[3 * index + 2]];
   }
 }
+
+/** Rec. 709 luma of stored values, exactly as toGrey (src/image/types.ts) computes it from the planes. */
+const lumaOf = (r: number, g: number, b: number) => 0.2126 * r + 0.7152 * g + 0.0722 * b;

@@ -325,3 +325,34 @@ export function blockRows(
   store<f64>(tally, load<f64>(tally) + <f64>usable);
   store<f64>(tally + 8, load<f64>(tally + 8) + confSum);
 }
+
+/**
+ * Lagged products of one sampled line for the correlation length (src/order/correlation.ts): for starts
+ * b = 0, step, 2 step ... with b + L inside the line and on[b] set, and each lag k = 0..L with on[b + k] set,
+ * num[k] += lc[b] lc[b + k] + ls[b] ls[b + k] and cnt[k] += 1 (float64). Two lags per instruction; each num[k]
+ * gains its terms in the order of b, as a plain loop adds them, so the sums are the same to the bit.
+ */
+export function lagProducts(lc: usize, ls: usize, on: usize, len: i32, L: i32, step: i32, num: usize, cnt: usize): void {
+  const one = f64x2.splat(1), zero = f64x2.splat(0);
+  for (let b = 0; b + L < len; b += step) {
+    if (!load<u8>(on + <usize>b)) continue;
+    const c0 = f64x2.splat(load<f64>(lc + <usize>b * 8)), s0 = f64x2.splat(load<f64>(ls + <usize>b * 8));
+    let k = 0;
+    for (; k + 2 <= L + 1; k += 2) {
+      const at = <usize>(b + k);
+      // Both lags' usable flags as a lane mask.
+      const m = i64x2.ne(i64x2.extend_low_i32x4_u(i32x4.extend_low_i16x8_u(i16x8.extend_low_i8x16_u(v128.load16_splat(on + at)))), i64x2.splat(0));
+      const t = f64x2.add(f64x2.mul(c0, v128.load(lc + at * 8)), f64x2.mul(s0, v128.load(ls + at * 8)));
+      const o = <usize>k * 8;
+      v128.store(num + o, f64x2.add(v128.load(num + o), v128.bitselect(t, zero, m)));
+      v128.store(cnt + o, f64x2.add(v128.load(cnt + o), v128.bitselect(one, zero, m)));
+    }
+    for (; k <= L; k++) {
+      const at = <usize>(b + k);
+      if (!load<u8>(on + at)) continue;
+      const o = <usize>k * 8;
+      store<f64>(num + o, load<f64>(num + o) + (f64x2.extract_lane(c0, 0) * load<f64>(lc + at * 8) + f64x2.extract_lane(s0, 0) * load<f64>(ls + at * 8)));
+      store<f64>(cnt + o, load<f64>(cnt + o) + 1);
+    }
+  }
+}

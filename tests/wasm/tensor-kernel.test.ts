@@ -228,6 +228,35 @@ describe('the kernel\'s block sums against plain sums', () => {
   });
 });
 
+describe('the kernel\'s lagged products against a plain loop', () => {
+  it('gives the correlation length\'s sums of a line to the bit, usable flags and ragged lags included', async () => {
+    const k = await loadTensorKernel();
+    const rnd = lcg(23);
+    for (const [len, L, step] of [[200, 64, 3], [97, 10, 1], [130, 65, 7], [66, 64, 1]]) {
+      const mem = new KernelArena(k);
+      const pc = mem.reserve(2 * len), ps = mem.reserve(2 * len), po = mem.reserve(len), pn = mem.reserve(2 * (L + 2)), pk = mem.reserve(2 * (L + 2));
+      mem.commit();
+      const buf = k.memory.buffer;
+      const lc = new Float64Array(buf, pc, len), ls = new Float64Array(buf, ps, len), on = new Uint8Array(buf, po, len);
+      const num = new Float64Array(buf, pn, L + 1), cnt = new Float64Array(buf, pk, L + 1);
+      for (let b = 0; b < len; b++) { lc[b] = rnd() - 0.5; ls[b] = rnd() - 0.5; on[b] = rnd() < 0.85 ? 1 : 0; }
+      num.fill(0); cnt.fill(0);
+      k.lagProducts(pc, ps, po, len, L, step, pn, pk);
+      // The loop of src/order/correlation.ts.
+      const wantNum = new Float64Array(L + 1), wantCnt = new Float64Array(L + 1);
+      for (let b = 0; b + L < len; b += step) {
+        if (!on[b]) continue;
+        for (let j = 0; j <= L; j++) {
+          if (!on[b + j]) continue;
+          wantNum[j] += lc[b] * lc[b + j] + ls[b] * ls[b + j]; wantCnt[j]++;
+        }
+      }
+      expect([...num], `len ${len}, L ${L}`).toEqual([...wantNum]);
+      expect([...cnt]).toEqual([...wantCnt]);
+    }
+  });
+});
+
 describe('the committed kernel binary', () => {
   it('is what the AssemblyScript source compiles to (run npm run wasm after editing it)', async () => {
     const build = await import('../../bin/build-wasm.ts');

@@ -53,7 +53,8 @@ export const orientCommand: Command = {
     // One image at a time: each is read, analysed and let go (its arrays kept for the next image of its size,
     // so a batch touches fresh memory once), so a batch needs the memory of one image.
     for (const path of a.positionals) {
-      const [img] = await loadImageFiles([path]);
+      // The structure tensor reads grey (toGrey): a colour PNG is decoded straight to luma, the same bits.
+      const [img] = await loadImageFiles([path], { grey: true });
       const { result, field } = await analyseOrientation(img, opts);
       if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, a.positionals.length), field, `retarda orient ${img.source.name}`);
       results.push(result);
