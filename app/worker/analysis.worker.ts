@@ -129,6 +129,13 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   async orient({ key, options }, progress, partial) {
     const img = imageOf(key);
     const timer = stepTimer();
+    // The field this replaces is handed back for the new one when no other command is running (none can hold
+    // it then, and the next that asks finds it gone): no fresh memory for a second run on the same image.
+    const old = fields.get(key);
+    if (old && running === 1) {
+      fields.delete(key);
+      recycleTextureField(old.field);
+    }
     progress('structure tensor and order', 0.1);
     // Exactly what `retarda orient` runs, so the numbers shown equal the command line's (helpers change no bit).
     let helperTiles = 0;
@@ -274,6 +281,9 @@ function errorInfo(e: unknown): ErrorInfo {
   return { name: 'Error', message: String(e), hint: '' };
 }
 
+/** Commands started and not finished (they interleave where they wait). */
+let running = 0;
+
 scope.onmessage = async (ev: MessageEvent<Request>) => {
   const { id, command, args } = ev.data;
   const handler = handlers[command] as Handler<CommandName> | undefined;
@@ -281,11 +291,14 @@ scope.onmessage = async (ev: MessageEvent<Request>) => {
     post({ id, type: 'error', error: { name: 'Error', message: `unknown command "${String(command)}"`, hint: '' } });
     return;
   }
+  running++;
   try {
     const { value, transfer } = await handler(args, (stage, fraction) => post({ id, type: 'progress', stage, fraction }), (v, t = []) => post({ id, type: 'partial', value: v }, t));
     post({ id, type: 'done', value }, transfer);
   } catch (e) {
     post({ id, type: 'error', error: errorInfo(e) });
+  } finally {
+    running--;
   }
 };
 

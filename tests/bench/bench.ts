@@ -6,7 +6,8 @@
  *   1. start-up: `retarda --help` and `retarda orient` on a 1 MP PNG as whole processes (node on the built bin);
  *   2. `retarda orient` per image on 12 MP and 1280x720 PNG files, PNG decoding included on both sides: whole
  *      processes given 1 and N files, so start-up cancels out ((time for N - time for 1) / (N - 1), best of a few);
- *      native: tests/bench/native_orient.py; with the default Gaussian derivatives and with --derivative sobel;
+ *      native: tests/bench/native_orient.py; grey PNGs with the default Gaussian derivatives and with --derivative
+ *      sobel, and RGB PNGs (both sides read them as grey);
  *   3. peak memory of `retarda orient` on one 12 MP PNG;
  *   4. the texture pipeline in this process (field, then a 20-bin channel profile) against native_pipeline.py;
  *   5. optical readings of 12 MP images (benchOptics.ts).
@@ -66,10 +67,17 @@ function scene8(width: number, height: number): Uint8Array {
   return d;
 }
 
-/** A test PNG: written by OpenCV's PNG writer when python3-opencv is there (as a camera tool would), else by ours. */
-function writeScenePng(path: string, width: number, height: number, native: boolean): void {
-  if (native) execFileSync(PY, [NATIVE_ORIENT, '--write', String(width), String(height), path], { env: NATIVE_ENV });
-  else writeFileSync(path, encodePng({ width, height, channels: 1, data: scene8(width, height) }));
+/**
+ * A test PNG, grey or RGB (the grey scene in all three channels): written by OpenCV's PNG writer when
+ * python3-opencv is there (as a camera tool would), else by ours.
+ */
+function writeScenePng(path: string, width: number, height: number, native: boolean, rgb = false): void {
+  if (native) execFileSync(PY, [NATIVE_ORIENT, '--write', String(width), String(height), path, ...(rgb ? ['--rgb'] : [])], { env: NATIVE_ENV });
+  else {
+    const grey = scene8(width, height);
+    const data = rgb ? Uint8Array.from({ length: 3 * grey.length }, (_, i) => grey[(i / 3) | 0]) : grey;
+    writeFileSync(path, encodePng({ width, height, channels: rgb ? 3 : 1, data }));
+  }
 }
 
 function startUp(dir: string, native: boolean): void {
@@ -88,30 +96,42 @@ function startUp(dir: string, native: boolean): void {
   }
 }
 
-/** Per-image seconds of a command given 1 and `n` copies of a file: (T(n) - T(1)) / (n - 1), best of `repeats`. */
-function perImage(run: (files: string[]) => number, file: string, n: number, repeats: number): { perImageS: number; oneS: number } {
-  let one = Infinity, many = Infinity;
-  for (let r = 0; r < repeats; r++) {
-    one = Math.min(one, run([file]));
-    many = Math.min(many, run(Array.from({ length: n }, () => file)));
+type Run = (files: string[]) => number;
+
+/**
+ * Per-image seconds of commands given 1 and `n` copies of a file: (T(n) - T(1)) / (n - 1), with T the best of
+ * the runs. The commands take turns run by run, so a spell of other work on the machine falls on both.
+ */
+function perImage(runs: Run[], file: string, n: number, repeats: number[]): { perImageS: number; oneS: number }[] {
+  const one = runs.map(() => Infinity), many = runs.map(() => Infinity);
+  for (let r = 0; r < Math.max(...repeats); r++) {
+    runs.forEach((run, k) => {
+      if (r >= repeats[k]) return;
+      one[k] = Math.min(one[k], run([file]));
+      many[k] = Math.min(many[k], run(Array.from({ length: n }, () => file)));
+    });
   }
-  return { perImageS: (many - one) / (n - 1), oneS: one };
+  return runs.map((_, k) => ({ perImageS: (many[k] - one[k]) / (n - 1), oneS: one[k] }));
 }
 
 function orientPerImage(dir: string, native: boolean): void {
-  console.log('\nretarda orient per image, PNG decoding included (whole processes given 1 and N files; native: native_orient.py, one thread)');
+  console.log('\nretarda orient per image, PNG decoding included (whole processes given 1 and N files, taking turns with native_orient.py, one thread)');
   for (const [w, h, n] of [[4000, 3000, 4], [1280, 720, 10]]) {
-    const png = join(dir, `scene-${w}x${h}.png`);
+    const png = join(dir, `scene-${w}x${h}.png`), rgbPng = join(dir, `scene-${w}x${h}-rgb.png`);
     writeScenePng(png, w, h, native);
-    for (const derivative of ['gaussian', 'sobel']) {
+    writeScenePng(rgbPng, w, h, native, true);
+    for (const derivative of ['gaussian', 'sobel', 'rgb']) {
       const extra = derivative === 'sobel' ? ['--derivative', 'sobel'] : [];
-      // The 12 MP runs vary most (the first touch of large new memory can take seconds on a shared machine).
-      const repeats = derivative === 'sobel' ? 3 : w * h > 5e6 ? 5 : REPEATS;
-      const ours = perImage((files) => timedRun(process.execPath, [CLI, 'orient', ...extra, ...files]), png, n, repeats);
-      const label = `${w}x${h} ${derivative === 'sobel' ? '--derivative sobel' : '(default)'}`;
+      const file = derivative === 'rgb' ? rgbPng : png;
+      // Python's first touch of large new memory here takes from 0.3 to 3 s of system time (transparent huge
+      // pages being made), so a native 12 MP run varies threefold: it gets more runs, and the best of them.
+      const repeats = [REPEATS, w * h > 5e6 ? 8 : REPEATS];
+      const runs: Run[] = [(files) => timedRun(process.execPath, [CLI, 'orient', ...extra, ...files])];
+      if (native) runs.push((files) => timedRun(PY, [NATIVE_ORIENT, ...extra, ...files], NATIVE_ENV));
+      const [ours, nat] = perImage(runs, file, n, repeats);
+      const label = `${w}x${h} ${derivative === 'sobel' ? '--derivative sobel' : derivative === 'rgb' ? 'RGB PNG' : '(default)'}`;
       let line = `  ${label.padEnd(30)} retarda ${fmt(ours.perImageS).padStart(8)}/image (1 file: ${fmt(ours.oneS)})`;
-      if (native) {
-        const nat = perImage((files) => timedRun(PY, [NATIVE_ORIENT, ...extra, ...files], NATIVE_ENV), png, n, repeats);
+      if (nat) {
         if (!(nat.perImageS > 0) || !(ours.perImageS > 0)) {
           console.log(`${line}   native ${fmt(nat.perImageS)}/image: too noisy to compare (other work on the machine); run the bench again`);
           continue;
