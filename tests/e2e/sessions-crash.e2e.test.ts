@@ -119,6 +119,15 @@ describe.runIf(haveBrowser)('a tab killed during a save', () => {
   }, 90_000);
 
   it('killed inside a write (put made, not committed): the session opens whole, as it was before that write', async () => {
+    // Let any save still under way after the analysis land first (the result, then what the views it opened
+    // add), so that the write this test kills is the one it makes: the stored revision must hold still for 1 s.
+    let last = -1;
+    await expect.poll(async () => {
+      const r = (await storedSessions(page))[0].revision;
+      const still = r === last;
+      last = r;
+      return still;
+    }, { timeout: 20_000, intervals: [1_000] }).toBe(true);
     const before = (await storedSessions(page))[0];
     await page.evaluate(() => { (window as unknown as { slowSessionWritesMs: number }).slowSessionWritesMs = 3_000; });
     const hitsBefore = server!.hits.length;
@@ -126,8 +135,11 @@ describe.runIf(haveBrowser)('a tab killed during a save', () => {
     await expect.poll(() => server!.hits.slice(hitsBefore).some((h) => h.name === 'session-write-started'), { timeout: 10_000, interval: 20 }).toBe(true);
     await crash();
     const after = await reopen();
+    // What the killed write carried (bins 41) is not there, and the settings are those saved before it. (The
+    // revision is not the measure: the reopened tab may write the session again on its own once it has shown
+    // the analysis, which raises the revision without changing what was saved.)
     expect(after.settings.bins).toBe(before.settings.bins);
-    expect(after.revision).toBe(before.revision);
+    expect(after.settings).toEqual(before.settings);
     expect(await bins().inputValue()).toBe(String(before.settings.bins));
   }, 120_000);
 
