@@ -7,7 +7,7 @@ export type { Limit } from './limits.ts';
 export { checkLimit, withinLimit, AXIS_DEG_LIMIT } from './limits.ts';
 export type { Rect } from './rect.ts';
 export { parseRect, rectText, checkRectInside, rectMask } from './rect.ts';
-export { bilinear, clampedBilinear, median } from './sampling.ts';
+export { bilinear, clampedBilinear, median, valueOfRank } from './sampling.ts';
 export { combineUncertainties, coverageFactor, type UncertaintyComponent } from './gum.ts';
 export { erf, erfc, normalCdf, normalCdfFast, normalQuantile, studentTCdf, studentTQuantile, studentTwoSided } from './distributions.ts';
 export { takeFloat32, takeUint8, giveBack } from './arrayPool.ts';

@@ -1,5 +1,5 @@
 import { checkNumber, InputError } from '../common/index.ts';
-import { DEG } from '../common/index.ts';
+import { DEG, valueOfRank } from '../common/index.ts';
 import type { Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { foldMod90, mod90Axis } from '../orientation/index.ts';
@@ -228,8 +228,9 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     confidence[i] = amp / (amp + 3 * res + 1e-12);
     mask[i] = 1;
   }
-  const usableAmp = amplitude.filter((_, i) => mask[i] === 1).sort();
-  const ampRef = usableAmp.length ? usableAmp[Math.min(usableAmp.length - 1, Math.floor(0.99 * (usableAmp.length - 1)))] : 0;
+  const usableAmp = amplitude.filter((_, i) => mask[i] === 1);
+  // The 99th percentile by selection, not a sort: the same value.
+  const ampRef = usableAmp.length ? valueOfRank(usableAmp, Math.min(usableAmp.length - 1, Math.floor(0.99 * (usableAmp.length - 1)))) : 0;
   let lowAmp = 0;
   for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
   const warnings: string[] = [];

@@ -3,7 +3,7 @@ import { withDefaults } from '../common/index.ts';
 import type { TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
 import { withLazyAngle } from './derivedLayers.ts';
-import { giveBack, takeFloat32, takeUint8 } from '../common/index.ts';
+import { giveBack, takeFloat32, takeUint8, valueOfRank } from '../common/index.ts';
 import { KernelArena, loadedTensorKernel } from '../wasm/index.ts';
 
 export interface MaskOptions {
@@ -163,23 +163,5 @@ export function quantile(v: Float32Array, q: number): number {
   let k = 0;
   for (let i = 0; i < v.length; i += step) if (Number.isFinite(v[i])) s[k++] = v[i];
   if (k === 0) return 0;
-  return select(s.subarray(0, k), Math.min(k - 1, Math.floor(q * (k - 1))));
-}
-
-/** The value of rank `r` (0-based, ascending) of `a`, which is reordered: Hoare's FIND (CACM 1961, algorithm 65). */
-function select(a: Float32Array, r: number): number {
-  let lo = 0, hi = a.length - 1;
-  while (lo < hi) {
-    const pivot = a[(lo + hi) >> 1];
-    let i = lo, j = hi;
-    while (i <= j) {
-      while (a[i] < pivot) i++;
-      while (a[j] > pivot) j--;
-      if (i <= j) { const t = a[i]; a[i] = a[j]; a[j] = t; i++; j--; }
-    }
-    if (r <= j) hi = j;
-    else if (r >= i) lo = i;
-    else return a[r];
-  }
-  return a[r];
+  return valueOfRank(s.subarray(0, k), Math.min(k - 1, Math.floor(q * (k - 1))));
 }
