@@ -38,7 +38,13 @@ function writeHooks() {
     const k = String(key);
     if (w.slowSessionWritesMs && k.startsWith('session:')) {
       tell('session-write-started');
-      hold(w.slowSessionWritesMs);
+      // Keep the write's transaction open (a transaction commits only once no request of it is pending) with
+      // one small request after another, leaving the page's thread free: the crash then lands while the put
+      // is made and not committed. (Holding the thread instead let the crash wait behind the hold, and the
+      // transaction commit first, on a fast machine.)
+      const store = this, until = performance.now() + w.slowSessionWritesMs;
+      const keepOpen = () => { if (performance.now() < until) store.count().onsuccess = keepOpen; };
+      keepOpen();
     }
     if (w.stallAfterImage && k.startsWith('image:')) {
       request.transaction!.addEventListener('complete', () => { tell('image-committed'); hold(5_000); });
@@ -78,7 +84,8 @@ describe.runIf(haveBrowser)('a tab killed during a save', () => {
     await page.getByTestId('director').waitFor({ timeout: 60_000 });
     // The crashed tab's lock went with it: this tab writes the session; nothing was unreadable.
     expect(await page.getByTestId('session-elsewhere').count()).toBe(0);
-    expect(await text('save-state')).toBe('Saved on this device');
+    // The reopened tab may write the session again once it shows the analysis: wait for that save to land.
+    await expect.poll(() => text('save-state'), { timeout: 10_000 }).toBe('Saved on this device');
     expect(await page.getByRole('alert').count()).toBe(0);
     const sessions = await storedSessions(page);
     expect(sessions).toHaveLength(1);
@@ -123,11 +130,11 @@ describe.runIf(haveBrowser)('a tab killed during a save', () => {
     // add), so that the write this test kills is the one it makes: the stored revision must hold still for 1 s.
     let last = -1;
     await expect.poll(async () => {
-      const r = (await storedSessions(page))[0].revision;
+      const r = (await storedSessions(page))[0].revision ?? 0;
       const still = r === last;
       last = r;
       return still;
-    }, { timeout: 20_000, intervals: [1_000] }).toBe(true);
+    }, { timeout: 20_000, interval: 1_000 }).toBe(true);
     const before = (await storedSessions(page))[0];
     await page.evaluate(() => { (window as unknown as { slowSessionWritesMs: number }).slowSessionWritesMs = 3_000; });
     const hitsBefore = server!.hits.length;
