@@ -6,7 +6,7 @@
  * position can be measured on its own, so the tick direction and the period come from the tick
  * positions themselves, whatever the ticks' lengths. docs/methods.md, "Micrometer calibration".
  */
-import type { Plane } from '../common/index.ts';
+import { valueOfRank, type Plane } from '../common/index.ts';
 
 export interface Strip {
   /** Centre of the strip along the ticks, px from the image centre. */
@@ -91,24 +91,6 @@ export function stripProfiles(p: Plane, normalRad: number, widthPx: number, step
 
 /** Median by Hoare's selection (reorders `a`; the mean of the two middle values for an even count). */
 function selectMedian(a: Float64Array): number {
-  const kth = (k: number) => {
-    let lo = 0;
-    let hi = a.length - 1;
-    while (lo < hi) {
-      const pivot = a[(lo + hi) >> 1];
-      let i = lo;
-      let j = hi;
-      while (i <= j) {
-        while (a[i] < pivot) i++;
-        while (a[j] > pivot) j--;
-        if (i <= j) { const t = a[i]; a[i] = a[j]; a[j] = t; i++; j--; }
-      }
-      if (k <= j) hi = j;
-      else if (k >= i) lo = i;
-      else return a[k];
-    }
-    return a[k];
-  };
   const n = a.length;
-  return n % 2 ? kth(n >> 1) : 0.5 * (kth((n >> 1) - 1) + kth(n >> 1));
+  return n % 2 ? valueOfRank(a, n >> 1) : 0.5 * (valueOfRank(a, (n >> 1) - 1) + valueOfRank(a, n >> 1));
 }

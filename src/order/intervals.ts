@@ -61,12 +61,12 @@ export function freeOrderStat(b: BlockSums): OrderStat & { directorDetermined: b
     along[k] = b.wc[k] * cu + b.ws[k] * su;
     across[k] = -b.wc[k] * su + b.ws[k] * cu;
   }
-  const st = ratioStat(along, b.w, b, 0, 1);
+  const design = blockDesign(b.w, b);
+  const st = ratioStat(along, b.w, b, 0, 1, design);
   if (!Number.isFinite(st.se) || !(sw > 0)) return { ...st, directorDetermined: false };
   // The across component's estimate is 0 by construction; its spread and its covariance with the along
   // component complete the 2 x 2 covariance (same residual quadratic form and bias factor).
-  const pairs = neighbourPairs(b);
-  const { factor } = varianceCorrection(b.w, b.n, pairs);
+  const { pairs, factor } = design;
   const ea = residuals(along, b.w, b.n, st.order), ex = residuals(across, b.w, b.n, 0);
   const sx2 = quadraticForm(ex, ex, pairs) / factor / (sw * sw), cov = quadraticForm(ea, ex, pairs) / factor / (sw * sw);
   const sa = st.se;
@@ -88,7 +88,7 @@ export function fQuantile2(p: number, nu: number): number {
 }
 
 /** Ratio sum y / sum w over the blocks with its linearised variance and Student's t, clipped to [lo, hi]. */
-export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>, lo: number, hi: number): OrderStat {
+export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>, lo: number, hi: number, design?: BlockDesign): OrderStat {
   const n = b.n;
   let sy = 0, sw = 0, pixels = 0, units = 0;
   for (let k = 0; k < w.length; k++) {
@@ -99,13 +99,20 @@ export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<Bl
   const est = sy / sw;
   if (units < 2) return { order: est, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units, dof: 0 };
   const e = residuals(y, w, n, est);
-  const pairs = neighbourPairs(b);
-  const { factor, dof } = varianceCorrection(w, n, pairs);
+  const { pairs, factor, dof } = design ?? blockDesign(w, b);
   const se = Math.sqrt(quadraticForm(e, e, pairs) / factor) / sw;
   const half = studentQuantile(0.5 + INTERVAL_LEVEL / 2, dof) * se;
   // Clipped to the statistic's range, never past the estimate itself (float rounding can put an S of
   // exactly 1 a hair above 1).
   return { order: est, ciLow: Math.min(est, Math.max(lo, est - half)), ciHigh: Math.max(est, Math.min(hi, est + half)), n: pixels, se, blocks: units, dof };
+}
+
+/** What the variance of every ratio over the same blocks and weights shares: the neighbour pairs, bias factor and dof. */
+interface BlockDesign { pairs: BlockPairs; factor: number; dof: number }
+
+function blockDesign(w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>): BlockDesign {
+  const pairs = neighbourPairs(b);
+  return { pairs, ...varianceCorrection(w, b.n, pairs) };
 }
 
 /** Linearised residuals y_k - est w_k of the live blocks (0 elsewhere). */
