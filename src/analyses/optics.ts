@@ -225,7 +225,7 @@ export async function opticsResult(analysis: string, img: Image, field: Orientat
   const constrained = field.options.sampleRetardanceNm !== undefined && field.options.sampleRetardanceNm !== null;
   const unsure = !constrained && confidence.fractionAbove05 !== null && confidence.fractionAbove05 < 0.2
     ? [`only ${(100 * confidence.fractionAbove05).toFixed(1)} % of pixels are read with confidence 0.5 or more: the colours fit several (angle, retardance) pairs, so these orientation numbers are not reliable. ${
-      field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate-pair)' : 'Check the calibration (--background) and the optical train'}`]
+      field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate-pair)' : 'Check the calibration (--sample-free) and the optical train'}`]
     : [];
   return {
     ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence, ambiguity: field.ambiguity, reading, profile,

@@ -94,7 +94,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const calB = calib(imgB, options.backgroundB ?? options.background, trainB);
   if (calA) trainA.compensator = { ...trainA.compensator, retardanceNm: calA.compensatorNm };
   if (calB) trainB.compensator = { ...trainB.compensator!, retardanceNm: calB.compensatorNm };
-  if (!calA && !options.camera) warnings.push('no background rectangle: exposure and white balance were taken as they are');
+  if (!calA && !options.camera) warnings.push('no sample-free area: exposure and white balance were taken as they are; give one (--sample-free x,y,w,h) for a calibrated reading');
   const gpA = trainA.compensator.retardanceNm, gpB = trainB.compensator!.retardanceNm;
   const modelA = colourModel(trainA), modelB = colourModel(trainB);
   const readerA = new EffectiveRetardanceReader(modelA, Math.max(0, gpA - gmax), gpA + gmax);

@@ -100,7 +100,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
       warnings.push(`the background colour is ${calibration.residualDeltaE00.toFixed(1)} Delta E00 from any compensator colour: check the rectangle is sample-free and the compensator is in`);
     }
   } else if (!options.camera && space === 'lab') {
-    warnings.push('no background rectangle: exposure and white balance were taken as they are; give --background for a calibrated reading');
+    warnings.push('no sample-free area: exposure and white balance were taken as they are; give one (--sample-free x,y,w,h) for a calibrated reading');
   }
   const band = sampleRetardanceBand(options);
   const model = colourModel(train);

@@ -3,8 +3,8 @@
  * measured on seeded renderings of the independent renderer (tests/validation/render/) whose truth is the
  * construction itself. The analyses are called in process exactly as the CLI calls them:
  * - `profile IMAGE --auto-walls` / `--walls`: analyseOrientation, then analyseProfile (src/cli/commands/profile.ts);
- * - `plate IMAGE --walls ... --background x,y,w,h [--sample-retardance-nm G]`: analysePlate with a profile request;
- * - `plate2 A B --walls ... [--background x,y,w,h]`: analysePlatePair with a profile request;
+ * - `plate IMAGE --walls ... --sample-free x,y,w,h [--sample-retardance-nm G]`: analysePlate with a profile request;
+ * - `plate-pair A B --walls ... [--sample-free x,y,w,h]`: analysePlatePair with a profile request;
  * - `orient IMAGE --axis-deg A`: analyseOrientation.
  *
  * Rows:

@@ -153,7 +153,7 @@ export interface SceneTruth {
   interior: Uint8Array;
   /** Channel axis (wall bisector) in degrees, or the director of a wall-free scene. */
   axisDeg: number;
-  /** A sample-free rectangle for --background (colour images), or null. */
+  /** A sample-free rectangle for --sample-free (colour images), or null. */
   backgroundRect: { x: number; y: number; width: number; height: number } | null;
   /** Sample retardance per pixel, nm (colour scenes). */
   retardanceNm: Float32Array | null;
