@@ -159,7 +159,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     pairCache.set(key, pAngle.length);
     pAngle.push(angleRad[i]); pRet.push(ret); pConf.push(confidence[i]);
   }
-  if (masked > 0) warnings.push(`${masked} pixels saturated or invalid in one of the images were masked`);
+  if (masked > 0) warnings.push(`${masked} pixels at full scale (clipped) or invalid in one of the images were masked`);
   if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   const registration = registrationCheck(toGrey(imgA), toGrey(imgB));
   const maxShift = options.maxShiftPx ?? 1;

@@ -189,7 +189,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
     warnings.push(`${belowFloor} pixels ${why} were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   }
-  if (saturated > 0) warnings.push(`${saturated} saturated pixels were masked (${((100 * saturated) / n).toFixed(2)} %)`);
+  if (saturated > 0) warnings.push(`${saturated} pixels at full scale (clipped) were masked (${((100 * saturated) / n).toFixed(2)} %)`);
   if (invalid > 0) warnings.push(`${invalid} pixels with values outside [0, 1] were masked`);
   const field: OrientationField = {
     width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm, clipped: clippedPixels([img]),

@@ -117,7 +117,7 @@ describe('readPlate options', () => {
     const f = readPlate(img, { camera: CAMERA }).field;
     expect(f.mask[0]).toBe(0);
     expect(f.mask[1]).toBe(1);
-    expect(f.warnings.join(' ')).toContain('1 saturated');
+    expect(f.warnings.join(' ')).toContain('1 pixels at full scale (clipped)');
   });
 
   it('rejects grey images, a train without compensator and a filter', () => {
