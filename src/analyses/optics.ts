@@ -5,14 +5,14 @@
  * `orient`'s, plus the median retardance, confidence statistics, the reader's ambiguity and how the reading was
  * made (`reading`). `retarda plate`, `plate-pair`, `angle-series` and the app's worker call exactly these.
  */
-import { InputError, valueOfRank } from '../common/index.ts';
+import { InputError } from '../common/index.ts';
 import { checkLimit, type Limit, type Rect } from '../common/index.ts';
 import { toGrey, type Image } from '../image/index.ts';
 import { orientationField, type OrientationField } from '../orientation/index.ts';
 import { orderParameters, type Weighting } from '../order/index.ts';
 import {
   readPlate, readPlatePair, fourAngleAnalysis, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
-  compensatorAxisAdvice, resolveMirrorWithTexture,
+  compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, selectedCount, type RankSelection,
   type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
 import { orientResult, type OrientResult } from './orient.ts';
@@ -184,34 +184,30 @@ const calibrationOf = (o: TrainOptions) => ({ fitCompensator: o.compensatorNm ==
 
 /** Distribution of a field's confidence over its usable pixels. */
 export function confidenceStats(f: OrientationField): ConfidenceStats {
-  const v = usableValues(f.confidence, f.mask);
-  let sum = 0, above = 0;
-  for (let i = 0; i < v.length; i++) { sum += v[i]; if (v[i] >= 0.5) above++; }
-  // Ranks found by selection, not a sort (the same values; 12 MP sorted with a comparator took seconds).
-  const q = (p: number) => (v.length ? valueOfRank(v, Math.min(v.length - 1, Math.floor(p * (v.length - 1)))) : null);
-  return {
-    mean: v.length ? sum / v.length : null, median: q(0.5), p10: q(0.1), p90: q(0.9),
-    fractionAbove05: v.length ? above / v.length : null, n: v.length,
-  };
+  const c = f.confidence, m = f.mask;
+  let n = 0, sum = 0, above = 0;
+  for (let i = 0; i < m.length; i++) {
+    if (!m[i]) continue;
+    n++; sum += c[i];
+    if (c[i] >= 0.5) above++;
+  }
+  if (n === 0) return { mean: null, median: null, p10: null, p90: null, fractionAbove05: null, n: 0 };
+  // Ranks by radix selection on the values in place (valuesOfRanks), not a sort or a copy: the same values.
+  const rank = (p: number) => Math.min(n - 1, Math.floor(p * (n - 1)));
+  const [median, p10, p90] = valuesOfRanks(c, { mask: m }, [rank(0.5), rank(0.1), rank(0.9)]);
+  return { mean: sum / n, median, p10, p90, fractionAbove05: above / n, n };
 }
 
-/** The values of the usable pixels (mask 1), in pixel order, as float64. */
-function usableValues(values: Float32Array, mask: Uint8Array, also?: (i: number) => boolean): Float64Array {
-  let n = 0;
-  for (let i = 0; i < mask.length; i++) if (mask[i] && (!also || also(i))) n++;
-  const v = new Float64Array(n);
-  for (let i = 0, k = 0; i < mask.length; i++) if (mask[i] && (!also || also(i))) v[k++] = values[i];
-  return v;
+/** The middle value (rank n/2 of n, as the readings have always given it) of the selected pixels' values; null for none. */
+function middleValue(values: Float32Array, sel: RankSelection): number | null {
+  const n = selectedCount(sel);
+  return n ? valuesOfRanks(values, sel, [n >> 1])[0] : null;
 }
-
-/** The middle value (rank n/2 of n, as the readings have always given it), by selection; null for none. */
-const middleValue = (v: Float64Array): number | null => (v.length ? valueOfRank(v, v.length >> 1) : null);
 
 /** Median retardance over usable pixels with confidence >= 0.5 (all usable pixels when none is), nm. */
 export function retardanceMedian(f: OrientationField): number | null {
   if (!f.retardanceNm) return null;
-  const good = usableValues(f.retardanceNm, f.mask, (i) => f.confidence[i] >= 0.5);
-  return middleValue(good.length ? good : usableValues(f.retardanceNm, f.mask));
+  return middleValue(f.retardanceNm, { mask: f.mask, minOf: f.confidence, min: 0.5 }) ?? middleValue(f.retardanceNm, { mask: f.mask });
 }
 
 /** The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. */
@@ -405,10 +401,9 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
     anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: checkLimit(OPTICS_LIMITS.amplitudeFloor, o.amplitudeFloor),
     plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateSampleFree },
   });
-  const amp = usableValues(r.amplitude, r.field.mask), res = usableValues(r.residual, r.field.mask);
-  const med = middleValue;
+  const usable = { mask: r.field.mask };
   const result = await opticsResult('angle-series', images[0], r.field, o, {
-    anglesDeg, amplitudeMedian: med(amp), residualMedian: med(res), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
+    anglesDeg, amplitudeMedian: middleValue(r.amplitude, usable), residualMedian: middleValue(r.residual, usable), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
   });
   return { result, field: r.field, amplitude: r.amplitude, residual: r.residual };
 }

@@ -1,5 +1,5 @@
 import { checkNumber, InputError } from '../common/index.ts';
-import { DEG, valueOfRank } from '../common/index.ts';
+import { DEG } from '../common/index.ts';
 import type { Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { foldMod90, mod90Axis } from '../orientation/index.ts';
@@ -9,7 +9,8 @@ import { colourModel } from './colourModel.ts';
 import { NEUTRAL_CAMERA } from './camera.ts';
 import { readCells } from './effectiveRetardance.ts';
 import { buildPlateLookup } from './lookupTable.ts';
-import { checkColourImage, clippedPixels, type Rect } from './pixels.ts';
+import { checkColourImage, FULL_SCALE_LEVEL, type Rect } from './pixels.ts';
+import { selectedCount, valuesOfRanks } from './ranks.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
 
@@ -111,7 +112,7 @@ export function fitFourAngle(intensities: number[], anglesDeg: number[]): Fourie
 function fitWith(P: number[][], I: ArrayLike<number>, anglesRad: number[]): FourierFit {
   let a0 = 0, a4c = 0, a4s = 0;
   for (let k = 0; k < I.length; k++) { a0 += P[0][k] * I[k]; a4c += P[1][k] * I[k]; a4s += P[2][k] * I[k]; }
-  const amplitude = 2 * Math.hypot(a4c, a4s);
+  const amplitude = 2 * Math.sqrt(a4c * a4c + a4s * a4s);
   let angleDeg = (0.25 * Math.atan2(-a4s, -a4c)) / DEG;
   if (angleDeg < 0) angleDeg += 90;
   if (angleDeg >= 90) angleDeg -= 90;
@@ -149,19 +150,62 @@ export interface FourAngleResult {
   resolvedFraction: number;
 }
 
-/** Linear intensity plane of an image: luminance of linear RGB, or the grey channel, decoded when sRGB. */
-function linearIntensity(img: Image): Float32Array {
-  const n = img.width * img.height, out = new Float32Array(n);
-  // sRGB decoding through a 65536-entry table (exact for 8- and 16-bit data).
-  const table = img.encoding === 'srgb' ? Float32Array.from({ length: 65536 }, (_, k) => srgbDecode(k / 65535)) : null;
-  const dec = table ? (v: number) => table[Math.round(Math.min(1, Math.max(0, v)) * 65535)] : (v: number) => v;
-  if (img.channels === 1) for (let i = 0; i < n; i++) out[i] = dec(img.planes[0][i]);
-  else {
-    const [r, g, b] = img.planes;
-    for (let i = 0; i < n; i++) out[i] = 0.2126 * dec(r[i]) + 0.7152 * dec(g[i]) + 0.0722 * dec(b[i]);
+/** sRGB decoding of stored values through a 65536-entry table (exact for 8- and 16-bit data), built on first use. */
+let srgbTable: Float32Array | null = null;
+const decodeTable = (): Float32Array => (srgbTable ??= Float32Array.from({ length: 65536 }, (_, k) => srgbDecode(k / 65535)));
+
+/**
+ * Decoded value of a stored float32 value v: the table entry at round(65535 clamp(v, 0, 1)), NaN for NaN. For
+ * float32 v the product v * 65535 is exact in float64 (24 + 16 bits), so adding 0.5 and truncating rounds as
+ * Math.round does.
+ */
+const decoded = (table: Float32Array, v: number): number => (v > 0 ? table[v < 1 ? (v * 65535 + 0.5) | 0 : 65535] : v === v ? table[0] : NaN);
+
+/**
+ * Linear intensity of pixels [i0, i0 + out.length) of an image into `out`: luminance of linear RGB (Rec. 709
+ * weights), or the grey channel, decoded when sRGB. With `clipped`, marks pixels with a plane at full scale.
+ */
+export function linearIntensityInto(img: Image, i0: number, out: Float32Array, clipped: Uint8Array | null): void {
+  const len = out.length, table = img.encoding === 'srgb' ? decodeTable() : null, F = FULL_SCALE_LEVEL;
+  if (img.channels === 1) {
+    const p = img.planes[0];
+    for (let t = 0; t < len; t++) {
+      const v = p[i0 + t];
+      if (clipped && v >= F) clipped[i0 + t] = 1;
+      out[t] = table ? decoded(table, v) : v;
+    }
+    return;
   }
+  const [r, g, b] = img.planes;
+  if (!table) {
+    for (let t = 0; t < len; t++) {
+      const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
+      if (clipped && (vr >= F || vg >= F || vb >= F)) clipped[i] = 1;
+      out[t] = 0.2126 * vr + 0.7152 * vg + 0.0722 * vb;
+    }
+    return;
+  }
+  for (let t = 0; t < len; t++) {
+    const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
+    // Every value below full scale (so finite, below 1): the table index is round(65535 max(v, 0)) (see decoded).
+    if (vr < F && vg < F && vb < F) {
+      out[t] = 0.2126 * table[vr > 0 ? (vr * 65535 + 0.5) | 0 : 0] + 0.7152 * table[vg > 0 ? (vg * 65535 + 0.5) | 0 : 0] + 0.0722 * table[vb > 0 ? (vb * 65535 + 0.5) | 0 : 0];
+      continue;
+    }
+    if (clipped && (vr >= F || vg >= F || vb >= F)) clipped[i] = 1;
+    out[t] = 0.2126 * decoded(table, vr) + 0.7152 * decoded(table, vg) + 0.0722 * decoded(table, vb);
+  }
+}
+
+/** Linear intensity plane of a whole image (linearIntensityInto over every pixel). */
+function linearIntensity(img: Image): Float32Array {
+  const out = new Float32Array(img.width * img.height);
+  linearIntensityInto(img, 0, out, null);
   return out;
 }
+
+/** Pixels per block of the angle series: the images' intensities are made a block at a time, not as whole planes. */
+const SERIES_BLOCK_PX = 1 << 15;
 
 /**
  * Four-angle (or any-angle) crossed-polariser analysis: per-pixel Fourier fit for orientation mod 90 deg
@@ -185,7 +229,6 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   const floor = checkNumber('amplitude floor', options.amplitudeFloor ?? 0.02, 0, 1);
   const anglesRad = angles.map((a) => a * DEG);
   const P = designPseudoInverse(anglesRad);
-  const planes = images.map(linearIntensity);
   const dark = options.dark ? linearIntensity(options.dark) : null;
   const flat = options.flatField ? linearIntensity(options.flatField) : null;
   let flatMean = 1;
@@ -197,40 +240,22 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   const n = width * height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), mask = new Uint8Array(n);
   const amplitude = new Float32Array(n), background = new Float32Array(n), residual = new Float32Array(n);
-  const nImg = images.length, I = new Float64Array(nImg), [P0, P1, P2] = P;
-  const cos4 = anglesRad.map((a) => Math.cos(4 * a)), sin4 = anglesRad.map((a) => Math.sin(4 * a));
-  let flatBad = 0, nonFinite = 0, clippedCount = 0;
+  const out = { angleRad, confidence, mask, amplitude, background, residual };
+  const fit = { P, cos4: anglesRad.map((a) => Math.cos(4 * a)), sin4: anglesRad.map((a) => Math.sin(4 * a)), dark, flat, flatMean };
+  const counts = { flatBad: 0, nonFinite: 0, clipped: 0 };
   // A clipped image value would pull the fit: such pixels are not read.
-  const clipped = clippedPixels(images);
-  for (let i = 0; i < n; i++) {
-    if (clipped[i]) { clippedCount++; continue; }
-    let f = 1;
-    if (flat) {
-      const v = flat[i] - (dark ? dark[i] : 0);
-      if (!(v > 1e-6)) { flatBad++; continue; }
-      f = flatMean / v;
-    }
-    let a0 = 0, a4c = 0, a4s = 0;
-    for (let k = 0; k < nImg; k++) {
-      const v = (planes[k][i] - (dark ? dark[i] : 0)) * f;
-      I[k] = v;
-      a0 += P0[k] * v; a4c += P1[k] * v; a4s += P2[k] * v;
-    }
-    if (!Number.isFinite(a0 + a4c + a4s)) { nonFinite++; continue; }
-    let ss = 0;
-    for (let k = 0; k < nImg; k++) { const r = I[k] - (a0 + a4c * cos4[k] + a4s * sin4[k]); ss += r * r; }
-    const amp = 2 * Math.hypot(a4c, a4s), res = nImg > 3 ? Math.sqrt(ss / (nImg - 3)) : 0;
-    let th = 0.25 * Math.atan2(-a4s, -a4c);
-    if (th < 0) th += Math.PI / 2;
-    if (th >= Math.PI / 2) th -= Math.PI / 2;
-    angleRad[i] = th;
-    amplitude[i] = amp; background[i] = a0 - amp / 2; residual[i] = res;
-    confidence[i] = amp / (amp + 3 * res + 1e-12);
-    mask[i] = 1;
+  const clipped = new Uint8Array(n);
+  const block = images.map(() => new Float32Array(Math.min(n, SERIES_BLOCK_PX)));
+  for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
+    const len = Math.min(SERIES_BLOCK_PX, n - i0);
+    const I = block.map((b) => b.subarray(0, len));
+    images.forEach((img, k) => linearIntensityInto(img, i0, I[k], clipped));
+    fitBlock(I, i0, clipped, fit, out, counts);
   }
-  const usableAmp = amplitude.filter((_, i) => mask[i] === 1);
-  // The 99th percentile by selection, not a sort: the same value.
-  const ampRef = usableAmp.length ? valueOfRank(usableAmp, Math.min(usableAmp.length - 1, Math.floor(0.99 * (usableAmp.length - 1)))) : 0;
+  const { flatBad, nonFinite, clipped: clippedCount } = counts;
+  // The 99th percentile by radix selection in place (valuesOfRanks), not a sort or a copy: the same value.
+  const nUsable = selectedCount({ mask });
+  const ampRef = nUsable ? valuesOfRanks(amplitude, { mask }, [Math.min(nUsable - 1, Math.floor(0.99 * (nUsable - 1)))])[0] : 0;
   let lowAmp = 0;
   for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
   const warnings: string[] = [];
@@ -269,4 +294,52 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning).
   if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90Axis(field));
   return { field, amplitude, background, residual, resolvedFraction };
+}
+
+interface SeriesFit {
+  P: number[][]; cos4: number[]; sin4: number[];
+  dark: Float32Array | null; flat: Float32Array | null; flatMean: number;
+}
+interface SeriesOut {
+  angleRad: Float32Array; confidence: Float32Array; mask: Uint8Array;
+  amplitude: Float32Array; background: Float32Array; residual: Float32Array;
+}
+
+/**
+ * The per-pixel fit (fitFourAngle's, after dark subtraction and flat-field division) of one block of pixels
+ * starting at i0, whose intensities per image are in I; writes the outputs and counts the pixels not read.
+ */
+function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: SeriesFit, out: SeriesOut, counts: { flatBad: number; nonFinite: number; clipped: number }): void {
+  const nImg = I.length, len = I[0].length, { dark, flat, flatMean } = fit;
+  const P0 = Float64Array.from(fit.P[0]), P1 = Float64Array.from(fit.P[1]), P2 = Float64Array.from(fit.P[2]);
+  const cos4 = Float64Array.from(fit.cos4), sin4 = Float64Array.from(fit.sin4), v = new Float64Array(nImg);
+  const { angleRad, confidence, mask, amplitude, background, residual } = out;
+  for (let t = 0; t < len; t++) {
+    const i = i0 + t;
+    if (clipped[i]) { counts.clipped++; continue; }
+    let f = 1;
+    const d = dark ? dark[i] : 0;
+    if (flat) {
+      const fv = flat[i] - d;
+      if (!(fv > 1e-6)) { counts.flatBad++; continue; }
+      f = flatMean / fv;
+    }
+    let a0 = 0, a4c = 0, a4s = 0;
+    for (let k = 0; k < nImg; k++) {
+      const x = (I[k][t] - d) * f;
+      v[k] = x;
+      a0 += P0[k] * x; a4c += P1[k] * x; a4s += P2[k] * x;
+    }
+    if (!Number.isFinite(a0 + a4c + a4s)) { counts.nonFinite++; continue; }
+    let ss = 0;
+    for (let k = 0; k < nImg; k++) { const r = v[k] - (a0 + a4c * cos4[k] + a4s * sin4[k]); ss += r * r; }
+    const amp = 2 * Math.sqrt(a4c * a4c + a4s * a4s), res = nImg > 3 ? Math.sqrt(ss / (nImg - 3)) : 0;
+    let th = 0.25 * Math.atan2(-a4s, -a4c);
+    if (th < 0) th += Math.PI / 2;
+    if (th >= Math.PI / 2) th -= Math.PI / 2;
+    angleRad[i] = th;
+    amplitude[i] = amp; background[i] = a0 - amp / 2; residual[i] = res;
+    confidence[i] = amp / (amp + 3 * res + 1e-12);
+    mask[i] = 1;
+  }
 }

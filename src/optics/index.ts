@@ -40,3 +40,4 @@ export type { FourierFit, FourAngleOptions, FourAngleResult, PlateSignOptions } 
 export { fitFourAngle, fourAngleAnalysis } from './fourAngle.ts';
 export type { RenderOptions } from './render.ts';
 export { renderSampleImage } from './render.ts';
+export { valuesOfRanks, selectedCount, type RankSelection } from './ranks.ts';
