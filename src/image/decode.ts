@@ -3,7 +3,7 @@ import { detectFormat } from './format.ts';
 import { decodeJpeg } from './jpegDecode.ts';
 import { decodePng } from './pngDecode.ts';
 import { decodeTiffPages } from './tiffDecode.ts';
-import { toGrey, type Image } from './types.ts';
+import type { Image } from './types.ts';
 
 function checkBytes(bytes: Uint8Array, name: string): void {
   if (!(bytes instanceof Uint8Array)) {
@@ -67,10 +67,14 @@ export function decodeImage(bytes: Uint8Array, name: string, page = 0, maxBytes?
   return grey ? greyImage(img) : img;
 }
 
-/** An image as one plane of luma (toGrey); a colour image's planes are handed back for reuse. */
+/**
+ * An image as one plane of luma, the bits toGrey gives, written over the red plane (no fourth plane: reading a
+ * colour image near MAX_DECODE_BYTES stays within it); the other two planes are handed back for reuse.
+ */
 function greyImage(img: Image): Image {
   if (img.channels === 1) return img;
-  const plane = toGrey(img).data;
-  giveBack(...img.planes);
-  return { ...img, channels: 1, planes: [plane] };
+  const [r, g, b] = img.planes;
+  for (let i = 0; i < r.length; i++) r[i] = 0.2126 * r[i] + 0.7152 * g[i] + 0.0722 * b[i];
+  giveBack(g, b);
+  return { ...img, channels: 1, planes: [r] };
 }

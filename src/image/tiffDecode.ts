@@ -64,17 +64,53 @@ function decompressedBlockBytes(h: TiffPageHeader): number {
 /** Turns one sample value into what is stored in a plane. */
 type SampleMap = (v: number) => number;
 
+/** Plane values of every code of an unsigned integer sample of at most 16 bits (see decodeTiffPages), or null. */
+function codeTable(h: TiffPageHeader): Float32Array | null {
+  if (h.sampleFormat === 3 || h.bitsPerSample > 16) return null;
+  const max = 2 ** h.bitsPerSample - 1;
+  const table = new Float32Array(max + 1);
+  for (let v = 0; v <= max; v++) table[v] = (h.photometric === 0 ? max - v : v) / max;
+  return table;
+}
+
 /** The map from stored sample values to plane values (see decodeTiffPages). */
 function sampleMap(h: TiffPageHeader): SampleMap {
   if (h.sampleFormat === 3) return (v) => v;
   const max = 2 ** h.bitsPerSample - 1;
-  if (h.bitsPerSample <= 16) {
-    const table = new Float32Array(max + 1);
-    for (let v = 0; v <= max; v++) table[v] = (h.photometric === 0 ? max - v : v) / max;
-    return (v) => table[v];
-  }
+  const table = codeTable(h);
+  if (table) return (v) => table[v];
   return h.photometric === 0 ? (v) => (max - v) / max : (v) => v / max;
 }
+
+/**
+ * One row of 8- or 16-bit unsigned samples with no predictor, read straight through the code table into the
+ * planes (pixel p onwards; `read` colour samples of every `spp`): the same values as readSamples and the
+ * sample map, several times quicker (a 100-megapixel 16-bit file took a second).
+ */
+function readCodesRow(data: Uint8Array, start: number, columns: number, spp: number, read: number, bits: number, little: boolean,
+  table: Float32Array, planes: Float32Array[], p: number): void {
+  const n = columns * spp;
+  let codes: Uint8Array | Uint16Array;
+  if (bits === 8) codes = data.subarray(start, start + n);
+  else if (little === NATIVE_LITTLE && (data.byteOffset + start) % 2 === 0) codes = new Uint16Array(data.buffer, data.byteOffset + start, n);
+  else {
+    const view = new DataView(data.buffer, data.byteOffset + start, 2 * n);
+    codes = new Uint16Array(n);
+    for (let i = 0; i < n; i++) codes[i] = view.getUint16(2 * i, little);
+  }
+  if (read === 1) {
+    const out = planes[0];
+    for (let x = 0, j = 0; x < columns; x++, j += spp) out[p + x] = table[codes[j]];
+    return;
+  }
+  for (let c = 0; c < read; c++) {
+    const out = planes[c];
+    for (let x = 0, j = c; x < columns; x++, j += spp) out[p + x] = table[codes[j]];
+  }
+}
+
+/** Whether this machine stores numbers little-endian (typed arrays use its order). */
+const NATIVE_LITTLE = new Uint8Array(Uint16Array.of(1).buffer)[0] === 1;
 
 function decodePage(bytes: Uint8Array, littleEndian: boolean, h: TiffPageHeader, what: string, name: string,
   stackDescription?: string): Image {
@@ -84,6 +120,8 @@ function decodePage(bytes: Uint8Array, littleEndian: boolean, h: TiffPageHeader,
   const read = h.photometric === 3 ? 1 : h.colourSamples;
   const planes = Array.from({ length: read }, () => takeFloat32(pixels));
   const map = h.photometric === 3 ? (v: number) => v : sampleMap(h);
+  // Palette indices are mapped after, and predictors undone on the decoded numbers: those take the general path.
+  const codes = h.photometric !== 3 && h.predictor === 1 && (bits === 8 || bits === 16) ? codeTable(h) : null;
   const samplesInRow = planar === 2 ? 1 : spp;
   const rowBytes = Math.ceil((layout.blockWidth * samplesInRow * bits) / 8);
   const rowValues = layout.blockWidth * samplesInRow;
@@ -116,6 +154,12 @@ function decodePage(bytes: Uint8Array, littleEndian: boolean, h: TiffPageHeader,
         const rowsInImage = Math.min(rows, height - top);
         for (let r = 0; r < rowsInImage; r++) {
           const start = r * rowBytes;
+          if (codes) {
+            const p = (top + r) * width + left;
+            if (planar === 2) readCodesRow(data, start, columns, 1, 1, bits, littleEndian, codes, [planes[plane]], p);
+            else readCodesRow(data, start, columns, spp, read, bits, littleEndian, codes, planes, p);
+            continue;
+          }
           let rowLittle = littleEndian;
           if (scratch) {
             undoFloatPredictor(data.subarray(start, start + rowBytes), rowValues, bytesPerSample, samplesInRow, scratch);

@@ -88,123 +88,182 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const weights = pixelWeights(f, o.weighting);
   // One group: the tensor kernel's blockRows sums the rows (two pixels per instruction) when it is loaded.
   const kernel = groups ? null : loadedTensorKernel();
-  const byKernel = kernel ? new KernelBlockRows(kernel, f, cols, region, weights) : null;
-  const { sw, sc, ss, sn } = byKernel ?? {
-    sw: new Float64Array(cols * G), sc: new Float64Array(cols * G), ss: new Float64Array(cols * G), sn: new Uint32Array(cols * G),
-  };
-  const run = new Float64Array(6);
-  for (let by = 0; by < height; by += B) {
-    const yEnd = Math.min(height, by + B);
-    if (byKernel) byKernel.rows(by, yEnd, B);
-    else for (let y = by; y < yEnd; y++) {
-      const row = y * width;
-      if (!groups) {
-        // One group: no runs to track, only the mask (and region) to skip.
-        for (let bx = 0; bx < cols; bx++) {
-          sumRun(row + bx * B, row + Math.min(width, (bx + 1) * B), mask, region, weights, confidence, c2, s2, run);
-          usable += run[4]; confidenceSum += run[5];
-          if (run[3] > 0) { sw[bx] += run[0]; sc[bx] += run[1]; ss[bx] += run[2]; sn[bx] += run[3]; }
-        }
-        continue;
-      }
-      for (let bx = 0; bx < cols; bx++) {
-        const xEnd = Math.min(width, (bx + 1) * B);
-        let g = -1, w = 0, wc = 0, ws = 0, n = 0;
-        for (let x = bx * B; x <= xEnd; x++) {
-          const i = row + x;
-          const gi = x < xEnd && mask[i] ? groups[i] : -1;
-          if (gi !== g) {
-            if (g >= 0 && n > 0) {
-              const k = g * cols + bx;
-              sw[k] += w; sc[k] += wc; ss[k] += ws; sn[k] += n;
-            }
-            g = gi; w = wc = ws = 0; n = 0;
-          }
-          if (gi < 0) continue;
-          const wi = weights ? weights[i] : 1;
-          if (!(wi > 0)) continue;
-          w += wi; wc += wi * c2[i]; ws += wi * s2[i]; n++;
-        }
-      }
+  if (kernel) {
+    const bands = new BlockRowSums(kernel, width, height, B, { region: region !== null, weights: weights === null ? 'none' : weights === confidence ? 'coherency' : 'own' });
+    for (let y = 0; y < height; y++) {
+      const v = bands.row(y), from = y * width, to = from + width;
+      v.mask.set(mask.subarray(from, to));
+      if (v.region && region) v.region.set(region.subarray(from, to));
+      if (v.weights && weights) v.weights.set(weights.subarray(from, to));
+      v.coherency.set(confidence.subarray(from, to));
+      v.c2.set(c2.subarray(from, to));
+      v.s2.set(s2.subarray(from, to));
+      if (bands.endRow(y)) bands.flush([{ list: lists[0], cr, sr }]);
     }
-    for (let k = 0; k < sn.length; k++) {
-      if (sn[k] === 0) continue;
-      // Rotate the block's doubled-angle sums to the reference axis.
-      lists[(k / cols) | 0].push(sw[k], sc[k] * cr + ss[k] * sr, ss[k] * cr - sc[k] * sr, sn[k], k % cols, by / B);
-      sw[k] = sc[k] = ss[k] = 0;
-      sn[k] = 0;
+    [usable, confidenceSum] = bands.tally();
+  } else {
+    const sw = new Float64Array(cols * G), sc = new Float64Array(cols * G), ss = new Float64Array(cols * G), sn = new Uint32Array(cols * G);
+    const run = new Float64Array(6);
+    for (let by = 0; by < height; by += B) {
+      const yEnd = Math.min(height, by + B);
+      for (let y = by; y < yEnd; y++) {
+        const row = y * width;
+        if (!groups) {
+          // One group: no runs to track, only the mask (and region) to skip.
+          for (let bx = 0; bx < cols; bx++) {
+            sumRun(row + bx * B, row + Math.min(width, (bx + 1) * B), mask, region, weights, confidence, c2, s2, run);
+            usable += run[4]; confidenceSum += run[5];
+            if (run[3] > 0) { sw[bx] += run[0]; sc[bx] += run[1]; ss[bx] += run[2]; sn[bx] += run[3]; }
+          }
+          continue;
+        }
+        for (let bx = 0; bx < cols; bx++) {
+          const xEnd = Math.min(width, (bx + 1) * B);
+          let g = -1, w = 0, wc = 0, ws = 0, n = 0;
+          for (let x = bx * B; x <= xEnd; x++) {
+            const i = row + x;
+            const gi = x < xEnd && mask[i] ? groups[i] : -1;
+            if (gi !== g) {
+              if (g >= 0 && n > 0) {
+                const k = g * cols + bx;
+                sw[k] += w; sc[k] += wc; ss[k] += ws; sn[k] += n;
+              }
+              g = gi; w = wc = ws = 0; n = 0;
+            }
+            if (gi < 0) continue;
+            const wi = weights ? weights[i] : 1;
+            if (!(wi > 0)) continue;
+            w += wi; wc += wi * c2[i]; ws += wi * s2[i]; n++;
+          }
+        }
+      }
+      flushBand({ sw, sc, ss, sn }, cols, by / B, lists, cr, sr);
+      clearBand({ sw, sc, ss, sn });
     }
   }
-  if (byKernel) [usable, confidenceSum] = byKernel.tally();
   if (o.tally) { o.tally.usable = usable; o.tally.confidenceSum = confidenceSum; }
   return lists.map((L) => L.sums());
+}
+
+/** Raw sums of one band of blocks: per block column (and group), w, w c, w s and pixels counted. */
+interface BandSums { sw: Float64Array; sc: Float64Array; ss: Float64Array; sn: Uint32Array }
+
+/** Appends a band's blocks that hold pixels to their groups' lists (group = k / cols), rotated to the reference axis (cr, sr = cos, sin of 2 ref). */
+function flushBand(b: BandSums, cols: number, by: number, lists: BlockList[], cr: number, sr: number): void {
+  const { sw, sc, ss, sn } = b;
+  for (let k = 0; k < sn.length; k++) {
+    if (sn[k] === 0) continue;
+    // Rotate the block's doubled-angle sums to the reference axis.
+    lists[(k / cols) | 0].push(sw[k], sc[k] * cr + ss[k] * sr, ss[k] * cr - sc[k] * sr, sn[k], k % cols, by);
+  }
+}
+
+function clearBand(b: BandSums): void {
+  b.sw.fill(0); b.sc.fill(0); b.ss.fill(0); b.sn.fill(0);
 }
 
 /** Pixels copied into the kernel's memory at a time. */
 const KERNEL_BAND_PX = 1 << 18;
 
-/**
- * The one-group rows of accumulateBlocks in the tensor kernel (src/wasm/tensorKernel.as.ts, blockRows): the
- * rows' layers are copied into its memory a band at a time, and the block sums (sw, sc, ss, sn) and the tally
- * live there. Same sums as sumRun's, added in another order (the last bits may differ).
- */
-class KernelBlockRows {
-  readonly sw: Float64Array; readonly sc: Float64Array; readonly ss: Float64Array; readonly sn: Uint32Array;
-  private readonly t: Float64Array;
-  private readonly at: { mask: number; region: number; weights: number; coherency: number; c2: number; s2: number; sums: number[]; tally: number };
-  private readonly views: { mask: Uint8Array; region: Uint8Array | null; weights: Float32Array | null; coherency: Float32Array; c2: Float32Array; s2: Float32Array };
-  private readonly bandRows: number;
+/** One reference axis of the one-group sums: its list and cos, sin of twice its angle. */
+export interface BlockTarget { list: BlockList; cr: number; sr: number }
 
-  constructor(private readonly k: KernelExports, private readonly f: OrientationField, cols: number,
-    private readonly region: Uint8Array | null, private readonly weights: Float32Array | null) {
-    const mem = new KernelArena(k);
-    this.bandRows = Math.max(1, Math.floor(KERNEL_BAND_PX / f.width));
-    const px = this.bandRows * f.width;
+/** A row's places in the kernel's memory (BlockRowSums.row): the caller writes the row's layers there. */
+export interface BlockRowViews {
+  mask: Uint8Array; region: Uint8Array | null; weights: Float32Array | null; coherency: Float32Array; c2: Float32Array; s2: Float32Array;
+  /** Byte offset of `mask` in the kernel's memory. */
+  maskAt: number;
+}
+
+/**
+ * The one-group sums of accumulateBlocks in the tensor kernel (src/wasm/tensorKernel.as.ts, blockRows), fed a
+ * row at a time: the caller writes each row's layers into row(y) and calls endRow(y), rows in order from 0. The
+ * rows of a band of blocks are summed in groups of up to KERNEL_BAND_PX pixels, always cut at the same rows,
+ * so the sums are the same to the bit whoever writes the rows (a held field, or the texture stream). The
+ * block sums (sw, sc, ss, sn) and the tally live in the kernel's memory, from `start` on (`end` after them).
+ * `weights`: 'none' equal weights, 'coherency' the coherency layer itself, 'own' a layer of their own.
+ */
+export class BlockRowSums {
+  readonly cols: number;
+  readonly end: number;
+  private readonly bandRows: number;
+  private readonly at: { mask: number; region: number; weights: number; coherency: number; c2: number; s2: number; sums: number[]; tally: number };
+  private buffer: ArrayBuffer | null = null;
+  private v!: { mask: Uint8Array; region: Uint8Array | null; weights: Float32Array | null; coherency: Float32Array; c2: Float32Array; s2: Float32Array; sums: Float64Array[]; sn: Uint32Array; tally: Float64Array };
+  private groupFrom = 0;
+
+  constructor(private readonly k: KernelExports, private readonly width: number, private readonly height: number, private readonly B: number,
+    private readonly layers: { region: boolean; weights: 'none' | 'coherency' | 'own' }, start?: number) {
+    const mem = new KernelArena(k, start);
+    this.cols = Math.ceil(width / B);
+    this.bandRows = Math.max(1, Math.floor(KERNEL_BAND_PX / width));
+    const px = this.bandRows * width, cols = this.cols;
     const sums = [mem.reserve(2 * cols), mem.reserve(2 * cols), mem.reserve(2 * cols), mem.reserve(cols)];
     const tally = mem.reserve(4);
-    const mask = mem.reserve(px / 4 + 1), reg = region ? mem.reserve(px / 4 + 1) : 0;
-    // Coherency weighting weighs by the coherency layer itself: one copy serves both.
-    const ownWeights = weights && weights !== f.confidence;
-    const wts = ownWeights ? mem.reserve(px) : 0, coherency = mem.reserve(px), c2 = mem.reserve(px), s2 = mem.reserve(px);
+    const mask = mem.reserve(px / 4 + 1), reg = layers.region ? mem.reserve(px / 4 + 1) : 0;
+    const wts = layers.weights === 'own' ? mem.reserve(px) : 0, coherency = mem.reserve(px), c2 = mem.reserve(px), s2 = mem.reserve(px);
     mem.commit();
-    const buf = k.memory.buffer;
-    [this.sw, this.sc, this.ss] = sums.slice(0, 3).map((p) => new Float64Array(buf, p, cols));
-    this.sn = new Uint32Array(buf, sums[3], cols);
-    this.t = new Float64Array(buf, tally, 2);
-    this.t.fill(0);
-    for (const a of [this.sw, this.sc, this.ss, this.sn]) a.fill(0);
-    this.at = { mask, region: reg, weights: weights ? (ownWeights ? wts : coherency) : 0, coherency, c2, s2, sums, tally };
-    this.views = {
-      mask: new Uint8Array(buf, mask, px), region: region ? new Uint8Array(buf, reg, px) : null,
-      weights: ownWeights ? new Float32Array(buf, wts, px) : null,
-      coherency: new Float32Array(buf, coherency, px), c2: new Float32Array(buf, c2, px), s2: new Float32Array(buf, s2, px),
+    this.end = mem.end;
+    this.at = { mask, region: reg, weights: layers.weights === 'own' ? wts : layers.weights === 'coherency' ? coherency : 0, coherency, c2, s2, sums, tally };
+    const v = this.views();
+    v.tally.fill(0);
+    for (const a of [...v.sums, v.sn]) a.fill(0);
+  }
+
+  /** Views of the kernel's memory, made again when it has grown (growing detaches the old buffer). */
+  private views() {
+    const buf = this.k.memory.buffer as ArrayBuffer;
+    if (buf !== this.buffer) {
+      const { at, cols } = this, px = this.bandRows * this.width;
+      this.buffer = buf;
+      this.v = {
+        mask: new Uint8Array(buf, at.mask, px), region: at.region ? new Uint8Array(buf, at.region, px) : null,
+        weights: this.layers.weights === 'own' ? new Float32Array(buf, at.weights, px) : null,
+        coherency: new Float32Array(buf, at.coherency, px), c2: new Float32Array(buf, at.c2, px), s2: new Float32Array(buf, at.s2, px),
+        sums: at.sums.slice(0, 3).map((p) => new Float64Array(buf, p, cols)), sn: new Uint32Array(buf, at.sums[3], cols),
+        tally: new Float64Array(buf, at.tally, 2),
+      };
+    }
+    return this.v;
+  }
+
+  /** Where row y's layers go (each `width` long), valid until the kernel's memory grows. */
+  row(y: number): BlockRowViews {
+    const v = this.views(), w = this.width, from = (y - this.groupFrom) * w, to = from + w;
+    return {
+      mask: v.mask.subarray(from, to), region: v.region?.subarray(from, to) ?? null, weights: v.weights?.subarray(from, to) ?? null,
+      coherency: v.coherency.subarray(from, to), c2: v.c2.subarray(from, to), s2: v.s2.subarray(from, to),
+      maskAt: this.at.mask + from,
     };
   }
 
-  /** Adds rows y0 <= y < y1 (one band of blocks, B rows at most) to the block sums. */
-  rows(y0: number, y1: number, B: number): void {
-    const { f, views: v, at } = this;
-    const { cos2, sin2 } = doubledAngles(f);
-    for (let y = y0; y < y1; y += this.bandRows) {
-      const rows = Math.min(this.bandRows, y1 - y), from = y * f.width, to = from + rows * f.width;
-      v.mask.set(f.mask.subarray(from, to));
-      if (v.region && this.region) v.region.set(this.region.subarray(from, to));
-      if (v.weights && this.weights) v.weights.set(this.weights.subarray(from, to));
-      v.coherency.set(f.confidence.subarray(from, to));
-      v.c2.set(cos2.subarray(from, to));
-      v.s2.set(sin2.subarray(from, to));
-      this.k.blockRows(at.mask, at.region, at.weights, at.coherency, at.c2, at.s2, f.width, rows, B, at.sums[0], at.sums[1], at.sums[2], at.sums[3], at.tally);
-    }
+  /** Row y is written: sums the group it ends, if any. True when it ends a band of blocks: flush before the next row. */
+  endRow(y: number): boolean {
+    const B = this.B, bandEnd = Math.min(this.height, (Math.floor(y / B) + 1) * B);
+    if (y + 1 - this.groupFrom < this.bandRows && y + 1 < bandEnd) return false;
+    const { at } = this;
+    this.k.blockRows(at.mask, at.region, at.weights, at.coherency, at.c2, at.s2, this.width, y + 1 - this.groupFrom, B, at.sums[0], at.sums[1], at.sums[2], at.sums[3], at.tally);
+    this.groupFrom = y + 1;
+    return y + 1 === bandEnd;
+  }
+
+  /** Appends the finished band's blocks to each target's list (rotated to its axis), then clears the sums for the next band. */
+  flush(targets: BlockTarget[]): void {
+    const v = this.views(), b = { sw: v.sums[0], sc: v.sums[1], ss: v.sums[2], sn: v.sn };
+    const by = Math.floor((this.groupFrom - 1) / this.B);
+    for (const t of targets) flushBand(b, this.cols, by, [t.list], t.cr, t.sr);
+    clearBand(b);
   }
 
   /** Usable pixels and the sum of their coherency. */
   tally(): [number, number] {
-    return [this.t[0], this.t[1]];
+    const t = this.views().tally;
+    return [t[0], t[1]];
   }
 }
 
 /** Block sums as they are found: typed arrays grown by doubling. */
-class BlockList {
+export class BlockList {
   private at = 0;
   private w: Float64Array; private wc: Float64Array; private ws: Float64Array;
   private n: Uint32Array; private bx: Int32Array; private by: Int32Array;

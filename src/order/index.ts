@@ -9,3 +9,5 @@ export { seededRandom, normalRandom } from './random.ts';
 export type { CellOrder } from './cells.ts';
 export { cellOrders } from './cells.ts';
 export { correlationLengthPx } from './correlation.ts';
+export { streamedOrderParameters } from './streamedOrder.ts';
+export type { FieldRecord } from './streamedOrder.ts';

@@ -59,8 +59,13 @@ export const BLOCK_PX_LIMIT: Limit = { what: 'block size', min: 1, max: 4096, un
  * tests/order/coverage.test.ts holds the resulting intervals to their 95 % rate on seeded textures.
  */
 export function defaultBlockPx(f: OrientationField): number {
-  const cap = Math.max(4, Math.floor(Math.min(f.width, f.height) / 6));
-  return Math.min(cap, Math.max(4, Math.round(BLOCK_CORRELATION_LENGTHS * correlationLengthPx(f))));
+  return blockPxFor(f.width, f.height, correlationLengthPx(f));
+}
+
+/** defaultBlockPx of a `width` x `height` field whose correlation length is `correlationPx`. */
+export function blockPxFor(width: number, height: number, correlationPx: number): number {
+  const cap = Math.max(4, Math.floor(Math.min(width, height) / 6));
+  return Math.min(cap, Math.max(4, Math.round(BLOCK_CORRELATION_LENGTHS * correlationPx)));
 }
 
 /**
@@ -100,19 +105,26 @@ export function orderParameters(f: OrientationField, options: OrderOptions = {})
   const groups = { region: options.region ?? null };
   const tally = { usable: 0, confidenceSum: 0 };
   const [free] = accumulateBlocks(f, { groups, groupCount: 1, refRad: 0, blockPx, weighting, tally });
+  // Mod-90 fields: S_axis under the assumption that orientations lie within 45 deg of the axis.
+  const ref = options.axisDeg === undefined ? null
+    : accumulateBlocks(foldMod90(f, options.axisDeg), { groups, groupCount: 1, refRad: degToRad(options.axisDeg), blockPx, weighting })[0];
+  return orderSummary(free, ref, tally, options.axisDeg, blockPx, weighting);
+}
+
+/**
+ * The summary from the block sums: `free` about the image axes, `ref` about the reference axis `axisDeg` (null
+ * without one), and the usable pixels' tally.
+ */
+export function orderSummary(free: BlockSums, ref: BlockSums | null, tally: { usable: number; confidenceSum: number },
+  axisDeg: number | undefined, blockPx: number, weighting: Weighting): OrderSummary {
   const m = totalMoments(free);
   const { directorDetermined, ...order2D } = freeOrderStat(free);
   const directorDeg = m.w > 0 ? wrapAxialDeg(radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN;
-  let axisOrder: OrderStat | null = null;
-  if (options.axisDeg !== undefined) {
-    // Mod-90 fields: S_axis under the assumption that orientations lie within 45 deg of the axis.
-    const [ref] = accumulateBlocks(foldMod90(f, options.axisDeg), { groups, groupCount: 1, refRad: degToRad(options.axisDeg), blockPx, weighting });
-    axisOrder = axisOrderStat(ref);
-  }
+  const axisOrder: OrderStat | null = ref ? axisOrderStat(ref) : null;
   const blocks = liveBlocks(free);
   const nEff = Math.max(1, effectiveSamples(free));
   return {
-    order2D, directorDetermined, directorDeg, axisOrder, axisDeg: options.axisDeg ?? null,
+    order2D, directorDetermined, directorDeg, axisOrder, axisDeg: axisDeg ?? null,
     coherencyMean: tally.usable > 0 ? tally.confidenceSum / tally.usable : NaN,
     isotropicBias: m.n > 0 ? Math.sqrt(Math.PI / (4 * nEff)) : NaN,
     n: m.n, blocks, blockPx, weighting,

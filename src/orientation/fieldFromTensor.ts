@@ -87,17 +87,28 @@ export function finishTextureField(f: OrientationField, options: MaskOptions, ex
   const o = resolveMaskOptions(options);
   const n = f.width * f.height;
   const strength = f.strength!, confidence = f.confidence, mask = f.mask;
-  // Relative floor, plus an absolute one so float rounding on a flat image is not taken for texture.
-  const floor = Math.max(o.strengthFloor * quantile(strength, 0.99), (1e-5 * intensityScale) ** 2);
+  const floor = strengthFloorOf(o.strengthFloor, quantile(strength, 0.99), intensityScale);
   const coherencyMin = o.coherencyMin;
   const kept = maskPixels(strength, confidence, floor, coherencyMin, mask);
-  const masked = n - kept;
-  const warnings: string[] = [];
-  if (masked === n) warnings.push('every pixel was masked: the image has no texture above the strength floor');
-  else if (masked > 0.9 * n) warnings.push(`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or weak texture`);
   f.options = { ...extraOptions, strengthFloor: o.strengthFloor, coherencyMin: o.coherencyMin };
-  f.warnings = warnings;
+  f.warnings = maskWarnings(n - kept, n);
   return f;
+}
+
+/**
+ * The strength below which a pixel is masked: `strengthFloor` times the 99th-percentile strength `q99`
+ * (quantile), and at least (1e-5 x the image's largest |I|)^2, so float rounding on a flat image is not
+ * taken for texture.
+ */
+export function strengthFloorOf(strengthFloor: number, q99: number, intensityScale: number): number {
+  return Math.max(strengthFloor * q99, (1e-5 * intensityScale) ** 2);
+}
+
+/** The field's warnings about how many of its `n` pixels the mask took out. */
+export function maskWarnings(masked: number, n: number): string[] {
+  if (masked === n) return ['every pixel was masked: the image has no texture above the strength floor'];
+  if (masked > 0.9 * n) return [`${((100 * masked) / n).toFixed(0)} % of pixels were masked as background or weak texture`];
+  return [];
 }
 
 /** Pixels handed to the kernel at a time when masking. */
@@ -158,10 +169,19 @@ export function float32Above(x: number): number {
  * floor(q (k - 1)) (k finite values), found by selection (Hoare's FIND) rather than a sort.
  */
 export function quantile(v: Float32Array, q: number): number {
-  const step = Math.max(1, Math.floor(v.length / 20_000));
+  const step = quantileStep(v.length);
   const s = new Float32Array(Math.ceil(v.length / step));
   let k = 0;
   for (let i = 0; i < v.length; i += step) if (Number.isFinite(v[i])) s[k++] = v[i];
+  return sampleQuantile(s.subarray(0, k), q);
+}
+
+/** The stride of quantile's sample of `n` values: it reads v[0], v[step], v[2 step], ... */
+export const quantileStep = (n: number): number => Math.max(1, Math.floor(n / 20_000));
+
+/** quantile's value from its sample (the finite values it read, in order; reordered here): 0 when there are none. */
+export function sampleQuantile(s: Float32Array, q: number): number {
+  const k = s.length;
   if (k === 0) return 0;
-  return valueOfRank(s.subarray(0, k), Math.min(k - 1, Math.floor(q * (k - 1))));
+  return valueOfRank(s, Math.min(k - 1, Math.floor(q * (k - 1))));
 }

@@ -10,3 +10,5 @@ export { foldMod90, mod90Axis } from './fold.ts';
 export { tilePixels, writeTexturePixels } from './tileShare.ts';
 export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';
 export { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from './maskedTensor.ts';
+export { surveyTexture, streamMaskedRows } from './streamedField.ts';
+export type { SurveyPlan, MaskedLine, TextureSurvey, MaskSlot, MaskedRowSink } from './streamedField.ts';

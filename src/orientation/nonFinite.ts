@@ -26,6 +26,10 @@ export function fillNonFinite(p: Plane): { plane: Plane; bad: Uint8Array | null;
   return { plane: { width: p.width, height: p.height, data }, bad, count, largest };
 }
 
+/** The field's warning after `count` non-finite pixels were filled and they and `lost` more within the filters' reach masked. */
+export const nonFiniteWarning = (count: number, lost: number): string =>
+  `${count} pixels were not finite numbers (NaN or infinity); they and ${lost} pixels within the filter reach were masked`;
+
 /** Marks every pixel within a square of half-side r around a marked pixel (two sweeps per axis). */
 export function dilate(m: Uint8Array, width: number, height: number, r: number): Uint8Array {
   const tmp = new Uint8Array(m.length), out = new Uint8Array(m.length);

@@ -1,7 +1,7 @@
 import type { Plane } from '../common/index.ts';
 import { resolveTensorOptions, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
 import { sharesStrips, writeTexturePixels, type TileHelper } from './tileShare.ts';
-import { dilate, fillNonFinite } from './nonFinite.ts';
+import { dilate, fillNonFinite, nonFiniteWarning } from './nonFinite.ts';
 import { emptyTextureField, finishTextureField, resolveMaskOptions, type MaskOptions } from './fieldFromTensor.ts';
 import type { OrientationField } from './types.ts';
 
@@ -33,7 +33,7 @@ export async function orientationField(input: Plane, options: OrientationFieldOp
     const reach = dilate(bad, f.width, f.height, tensorHaloPx(t));
     let lost = 0;
     for (let i = 0; i < reach.length; i++) if (reach[i] && f.mask[i]) { f.mask[i] = 0; lost++; }
-    f.warnings.push(`${count} pixels were not finite numbers (NaN or infinity); they and ${lost} pixels within the filter reach were masked`);
+    f.warnings.push(nonFiniteWarning(count, lost));
   }
   return f;
 }

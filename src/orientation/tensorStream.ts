@@ -21,6 +21,9 @@ export type RowKind = 'lean' | 'tensor';
  */
 export type RowSink = (y: number, a: Float32Array, b: Float32Array, c: Float32Array, d: Float32Array) => void;
 
+/** Where streamTensorRows keeps its memory, and which rows it makes only in part (see there). */
+export interface StreamExtras { arenaStart?: number; windows?: { most: number; of: (y: number) => ArrayLike<number> | null } }
+
 /** OpenCV's borderInterpolate for BORDER_REFLECT (fedcba|abcdef|fedcba), any n >= 1. */
 export function reflectIndex(p: number, n: number): number {
   if (n === 1) return 0;
@@ -54,11 +57,15 @@ function checkSymmetry(k: Float32Array, sign: 1 | -1): void {
  * about (kernel heights + 8) rows of the crop's width, reused from crop to crop; a pixel's result does not
  * depend on where the crop starts, so the inner part of a crop with a halo of tensorHaloPx equals the
  * whole image's, bit for bit. Returns the largest |value| of the input rows read: NaN or infinity when one of
- * them is not finite (the rows given out are then not to be used).
+ * them is not finite (the rows given out are then not to be used). `extra.arenaStart`: the kernel memory used
+ * starts at this byte (default: the first free page), so a caller may keep its own buffers below it.
+ * `extra.windows`: rows for which only some pixels are read; `of(y)` lists pixels x (at most `most`) whose
+ * 16-pixel window is made (the kernel's outputWindows: the same bits as the whole row, at a fraction of the last
+ * stage's cost), or null for the whole row. Only those pixels of the views are then valid.
  */
 export function streamTensorRows(
   k: KernelExports, plane: Plane, crop: CropRect, o: TensorScales, kind: RowKind,
-  rowFrom: number, rowTo: number, sink: RowSink,
+  rowFrom: number, rowTo: number, sink: RowSink, extra: StreamExtras = {},
 ): number {
   const { w: width, h: height } = crop;
   if (width < 1 || height < 1) throw new InputError('the structure tensor needs an image of at least 1 x 1 pixels');
@@ -69,7 +76,7 @@ export function streamTensorRows(
   checkSymmetry(d, -1); checkSymmetry(s, 1); checkSymmetry(g, 1);
   const L = d.length, Lg = g.length, rd = L >> 1, rg = Lg >> 1;
 
-  const mem = new KernelArena(k);
+  const mem = new KernelArena(k, extra.arenaStart);
   const kd = mem.reserve(L), ks = mem.reserve(L), kg = mem.reserve(Lg);
   const lineIn = mem.reserve(stride + 2 * rd + 16);
   const ringD = mem.reserve(L * stride), ringS = mem.reserve(L * stride);
@@ -78,7 +85,9 @@ export function streamTensorRows(
   const ringXX = mem.reserve(Lg * stride), ringXY = mem.reserve(Lg * stride), ringYY = mem.reserve(Lg * stride);
   const out = [mem.reserve(stride), mem.reserve(stride), mem.reserve(stride), mem.reserve(stride)];
   const tD = mem.reserve(L), tS = mem.reserve(L), tXX = mem.reserve(Lg), tXY = mem.reserve(Lg), tYY = mem.reserve(Lg);
+  const most = extra.windows?.most ?? 0, xs = mem.reserve(most), shifted = mem.reserve(3 * Lg);
   mem.commit();
+  const windowStarts = new Int32Array(k.memory.buffer, xs, most);
   mem.view(kd, L).set(d);
   mem.view(ks, L).set(s);
   mem.view(kg, Lg).set(g);
@@ -118,7 +127,12 @@ export function streamTensorRows(
       tables.xy[t] = ringXY + slot;
       tables.yy[t] = ringYY + slot;
     }
-    k.outputRow(tXX, tXY, tYY, kg, Lg, stride, lean, out[0], out[1], out[2], out[3]);
+    const part = extra.windows?.of(y);
+    if (part) {
+      if (part.length > most) throw new Error('more windows than reserved');
+      for (let i = 0; i < part.length; i++) windowStarts[i] = Math.min(part[i], stride - 16);
+      k.outputWindows(tXX, tXY, tYY, kg, Lg, lean, xs, part.length, shifted, out[0], out[1], out[2], out[3]);
+    } else k.outputRow(tXX, tXY, tYY, kg, Lg, stride, lean, out[0], out[1], out[2], out[3]);
     sink(y, outViews[0], outViews[1], outViews[2], outViews[3]);
   }
   return largest;

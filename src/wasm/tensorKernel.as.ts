@@ -205,6 +205,28 @@ export function outputRow(rowsXX: usize, rowsXY: usize, rowsYY: usize, kg: usize
 }
 
 /**
+ * outputRow on `count` windows of 16 pixels only, starting at the pixels listed (i32) at `xs`: for pixels the
+ * caller reads from a row and no more. Each pixel goes through the same instructions as in outputRow (its lane's
+ * arithmetic does not depend on where its vector starts), so a window's pixels equal the whole row's to the bit.
+ * `tables` has room for 3 kglen addresses, the rows' tables shifted to each window in turn. A window must end
+ * within the rows' stride.
+ */
+export function outputWindows(rowsXX: usize, rowsXY: usize, rowsYY: usize, kg: usize, kglen: i32, lean: i32, xs: usize, count: i32, tables: usize,
+  out0: usize, out1: usize, out2: usize, out3: usize): void {
+  const tXX = tables, tXY = tables + <usize>kglen * 4, tYY = tables + <usize>kglen * 8;
+  for (let i = 0; i < count; i++) {
+    const shift = <usize>load<i32>(xs + <usize>i * 4) * 4;
+    for (let t = 0; t < kglen; t++) {
+      const at = <usize>t * 4;
+      store<u32>(tXX + at, load<u32>(rowsXX + at) + <u32>shift);
+      store<u32>(tXY + at, load<u32>(rowsXY + at) + <u32>shift);
+      store<u32>(tYY + at, load<u32>(rowsYY + at) + <u32>shift);
+    }
+    outputRow(tXX, tXY, tYY, kg, kglen, 16, lean, out0 + shift, out1 + shift, out2 + shift, out3 + shift);
+  }
+}
+
+/**
  * Orientation from the doubled-angle components (x, y) = (cos 2 theta, sin 2 theta) (or any positive multiple):
  * theta = 1/2 atan2(y, x) folded into (-pi/2, pi/2], 0 where both are 0. atan2 is the Abramowitz & Stegun 4.4.47 polynomial,
  * branch-free, with the signs of zeros kept as Math.atan2 keeps them. n a multiple of 4.

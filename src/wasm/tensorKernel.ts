@@ -10,6 +10,8 @@ export interface KernelExports {
   gradientRow(rowsD: number, rowsS: number, kd: number, ks: number, klen: number, width: number, stride: number, ix: number, iy: number,
     lxx: number, lxy: number, lyy: number, kg: number, kglen: number, dxx: number, dxy: number, dyy: number): void;
   outputRow(rowsXX: number, rowsXY: number, rowsYY: number, kg: number, kglen: number, stride: number, lean: number, out0: number, out1: number, out2: number, out3: number): void;
+  outputWindows(rowsXX: number, rowsXY: number, rowsYY: number, kg: number, kglen: number, lean: number, xs: number, count: number, tables: number,
+    out0: number, out1: number, out2: number, out3: number): void;
   angles(vx: number, vy: number, angle: number, n: number): void;
   maskPixels(strength: number, coherency: number, n: number, floor: number, least: number, mask: number): number;
   blockRows(mask: number, region: number, weights: number, coherency: number, c2: number, s2: number, width: number, rows: number, B: number,
@@ -43,9 +45,17 @@ export function loadTensorKernel(): Promise<KernelExports> {
 
 /** Float32 arrays laid out in the kernel's memory, rows `stride` floats apart. */
 export class KernelArena {
-  private next = 65_536; // page 0 is left to the module itself
+  private next: number;
 
-  constructor(private readonly k: KernelExports) {}
+  /** `start`: the first byte offset to use (page 0 is left to the module itself; another arena's `end` to lay one after it). */
+  constructor(private readonly k: KernelExports, start = 65_536) {
+    this.next = Math.ceil(start / 16) * 16;
+  }
+
+  /** The byte offset after everything reserved so far. */
+  get end(): number {
+    return this.next;
+  }
 
   /** Reserves `floats` floats (16-byte aligned) and returns their byte offset. */
   reserve(floats: number): number {

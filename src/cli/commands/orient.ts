@@ -1,4 +1,4 @@
-import { analyseOrientation, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
+import { analyseOrientation, analyseOrientationStreamed, HELD_FIELD_MAX_PIXELS, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
 import { giveBack } from '../../common/index.ts';
 import { recycleTextureField } from '../../orientation/index.ts';
 import { parseRect } from '../../common/index.ts';
@@ -55,10 +55,15 @@ export const orientCommand: Command = {
     for (const path of a.positionals) {
       // The structure tensor reads grey (toGrey): a colour PNG is decoded straight to luma, the same bits.
       const [img] = await loadImageFiles([path], { grey: true });
-      const { result, field } = await analyseOrientation(img, opts);
-      if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, a.positionals.length), field, `retarda orient ${img.source.name}`);
-      results.push(result);
-      recycleTextureField(field);
+      if (!fieldOut && img.width * img.height > HELD_FIELD_MAX_PIXELS) {
+        // Numbers only, from a large image: the field is streamed, never held (the same numbers).
+        results.push(await analyseOrientationStreamed(img, opts));
+      } else {
+        const { result, field } = await analyseOrientation(img, opts);
+        if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, a.positionals.length), field, `retarda orient ${img.source.name}`);
+        results.push(result);
+        recycleTextureField(field);
+      }
       giveBack(...img.planes);
     }
     const hasAxis = opts.axisDeg !== undefined;
