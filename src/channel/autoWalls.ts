@@ -45,6 +45,12 @@ const MIN_STEP = 5;
 const RATE_FRACTION = 0.35;
 /** ... and this many times the typical brightness change between the midline and the wall. */
 const RATE_CLEAR = 6;
+/** The inner side of a thin wall line must reach this fraction of the largest rate near the step ... */
+const LINE_RATE_FRACTION = 0.15;
+/** ... with the line's outer side (a change the other way) at most this far beyond it, px ... */
+const LINE_MAX_PX = 6;
+/** ... in at least this share of the strips that place the wall. */
+const LINE_SHARE = 0.3;
 /** A side's points must lie this close to their line (RMS, px) for its strip length to be accepted. */
 const MAX_RESIDUAL_PX = 1;
 /** How far from the consensus line a strip may place the wall, px. */
@@ -189,6 +195,7 @@ function sideWall(strips: Strip[], dir: -1 | 1, fr: Frame): SideResult | null {
   const line = consensusLine(strips, steps);
   if (!line) return null;
   const pts: { x: number; y: number }[] = [], contrast: number[] = [];
+  const edges: { along: number; edge: NonNullable<ReturnType<typeof placeEdge>> }[] = [];
   let crossed = 0;
   for (let k = 0; k < strips.length; k++) {
     const z = steps[k];
@@ -196,9 +203,19 @@ function sideWall(strips: Strip[], dir: -1 | 1, fr: Frame): SideResult | null {
     crossed++;
     const predicted = line.d0 + line.slope * (strips[k].alongMid - line.centre);
     const edge = placeEdge(strips[k], z, dir, predicted);
-    if (!edge) continue;
-    const along = strips[k].alongMid;
-    pts.push({ x: fr.ox + along * fr.ux + edge.t * fr.nx, y: fr.oy + along * fr.uy + edge.t * fr.ny });
+    if (edge) edges.push({ along: strips[k].alongMid, edge });
+  }
+  // A thin wall line seen clearly in enough strips, with the same width (outer step to inner side) in
+  // them, is the wall's mark everywhere: each strip then places the wall at the line's inner side where it
+  // shows one (strips placing some at the line and some at its outer side would tilt the wall). Texture next
+  // to a wall also changes the other way, but at scattered distances.
+  const widths = edges.filter((e) => e.edge.line?.clear).map((e) => Math.abs(e.edge.t - e.edge.line!.t));
+  const widthPx = widths.length ? median(widths) : NaN;
+  const lineWall = widths.filter((w) => Math.abs(w - widthPx) <= 1).length >= Math.max(3, LINE_SHARE * edges.length);
+  for (const { along, edge } of edges) {
+    const t = lineWall ? edge.line?.t : edge.t;
+    if (t === undefined) continue;
+    pts.push({ x: fr.ox + along * fr.ux + t * fr.nx, y: fr.oy + along * fr.uy + t * fr.ny });
     contrast.push(edge.contrast);
   }
   if (pts.length < 3) {
@@ -550,7 +567,7 @@ function stepProfile(strip: Strip, dir: -1 | 1): StepProfile | null {
  * feature space (sub-pixel, parabola). Brightness alone sets the place when it carries the step, since
  * texture strength peaks on the edge itself rather than stepping at it. null when no step is clear enough.
  */
-function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number): { t: number; contrast: number } | null {
+function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number): { t: number; contrast: number; line: { t: number; clear: boolean } | null } | null {
   const { values, scale } = strip;
   const { rows, z } = p;
   const W = STEP_WINDOW_PX;
@@ -574,7 +591,7 @@ function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number)
   let rMax = 0;
   for (let d = lo; d <= hi; d++) rMax = Math.max(rMax, norm(change(d, use)));
   const D: Float64Array[] = [];
-  for (let d = lo - 2; d <= hi + 2; d++) D[d] = change(d, use);
+  for (let d = Math.max(1, lo - LINE_MAX_PX - 2); d <= hi + 2; d++) D[d] = change(d, use);
   // Clear = at least RATE_FRACTION of the largest rate near the line and RATE_CLEAR times the typical
   // rate between the midline and the line.
   const inside: number[] = [];
@@ -592,12 +609,25 @@ function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number)
   let bestD = -1;
   for (let d = lo; d <= hi; d++) if (norm(D[d]) >= Math.max(RATE_FRACTION * rMax, floor) && isPeak(d)) { bestD = d; break; }
   if (bestD < 0) return null;
-  // Sub-pixel: a parabola through the change along the peak's own direction at d - 1, d, d + 1.
-  const unit = D[bestD].map((x) => x / norm(D[bestD]));
-  const [a, b, c] = [bestD - 1, bestD, bestD + 1].map((d) => dot(D[d], unit));
+  // A thin wall line whose inner side changes far less than its outer side (a bright line only a little
+  // brighter than the material): its inner side is a change the other way at most LINE_MAX_PX inside the
+  // step just found. `clear` when it passes the same floor as a wall step and LINE_RATE_FRACTION of the
+  // largest rate; sideWall decides from all strips whether the wall is such a line.
+  let lineD = -1;
+  for (let d = Math.max(lo - LINE_MAX_PX, 3); d <= bestD - 2; d++) {
+    if (dot(D[d], D[bestD]) < 0 && isPeak(d) && (lineD < 0 || norm(D[d]) > norm(D[lineD]))) lineD = d;
+  }
+  const line = lineD < 0 ? null : { t: dir * subPixel(D, lineD), clear: norm(D[lineD]) >= Math.max(LINE_RATE_FRACTION * rMax, floor) };
+  return { t: dir * subPixel(D, bestD), contrast: z[pick], line };
+}
+
+/** Sub-pixel place of a peak of change at row d: a parabola through the change along its own direction at d - 1, d, d + 1. */
+function subPixel(D: Float64Array[], d: number): number {
+  const n = Math.hypot(...D[d]);
+  const along = (q: number) => D[q].reduce((s, x, i) => s + (x * D[d][i]) / n, 0);
+  const [a, b, c] = [along(d - 1), along(d), along(d + 1)];
   const den = a - 2 * b + c;
-  const off = den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (a - c)) / den)) : 0;
-  return { t: dir * (bestD + off), contrast: z[pick] };
+  return d + (den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (a - c)) / den)) : 0);
 }
 
 interface Line { px: number; py: number; ux: number; uy: number }

@@ -146,6 +146,34 @@ describe('findWalls', () => {
     expect(Math.abs(frame.axisDeg - (Math.atan(t) * 180) / Math.PI)).toBeLessThan(0.3);
   });
 
+  it('puts a wall marked by a thin bright line, only a little brighter than the material, on the line\'s inner side', async () => {
+    // Construction: material 0.5 +- 0.1 (stripes along the channel) between y = 150 and y = 330 on a 10 deg
+    // slope; outside each wall a 3 px line at 0.66, then dark 0.12; a binomial blur (1 2 1)/4 both ways and
+    // noise. The material's inner edge is the truth; the line's outer side is 3 px beyond it.
+    const W = 640, H = 480, t = Math.tan((10 * Math.PI) / 180);
+    const raw = new Float32Array(W * H);
+    for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) {
+      const d0 = y - (150 + t * x), d1 = 330 + t * x - y; // > 0 inside, distances along y
+      const inside = d0 > 0 && d1 > 0, line = !inside && ((d0 <= 0 && d0 > -3) || (d1 <= 0 && d1 > -3));
+      raw[y * W + x] = inside ? 0.5 + 0.08 * Math.sin((2 * Math.PI * (0.3 * x + y)) / 5) : line ? 0.66 : 0.12;
+    }
+    const data = Float32Array.from(raw);
+    for (let y = 1; y < H - 1; y++) for (let x = 1; x < W - 1; x++) {
+      let s = 0;
+      for (let j = -1; j <= 1; j++) for (let k = -1; k <= 1; k++) s += raw[(y + j) * W + x + k] * (j ? 1 : 2) * (k ? 1 : 2);
+      data[y * W + x] = s / 16;
+    }
+    const found = await findWalls(addNoise({ width: W, height: H, data }, 0.01, 5));
+    // Largest distance (along y, then times cos 10 deg for the perpendicular) of each found wall from the inner edge.
+    const at = (s: { x1: number; y1: number; x2: number; y2: number }, x: number) => s.y1 + ((s.y2 - s.y1) * (x - s.x1)) / (s.x2 - s.x1);
+    const [a, b] = found.channel.walls;
+    const [upper, lower] = at(a, 320) < at(b, 320) ? [a, b] : [b, a];
+    for (const x of [60, 320, 580]) {
+      expect(Math.abs(at(upper, x) - (150 + t * x)) * Math.cos(10 * Math.PI / 180)).toBeLessThan(1);
+      expect(Math.abs(at(lower, x) - (330 + t * x)) * Math.cos(10 * Math.PI / 180)).toBeLessThan(1);
+    }
+  });
+
   it('says when there is no channel to find', async () => {
     const flat = { width: 100, height: 80, data: new Float32Array(8000).fill(0.3) };
     await expect(findWalls(flat)).rejects.toThrow(/flat/);

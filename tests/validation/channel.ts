@@ -32,7 +32,7 @@ import { analyseProfile, type ProfileResult } from '../../src/analyses/profile.t
 import { analysePlate, analysePlatePair } from '../../src/analyses/optics.ts';
 import { atMost, within, type ValidationArea, type ValidationRow } from './goals.ts';
 import {
-  largestLineDistance, profileTruth, renderScene, scene, wholeImageTruth, writeRenderingPngs,
+  Rng, largestLineDistance, profileTruth, renderScene, scene, wholeImageTruth, writeRenderingPngs,
   type Rendering, type SceneSpec, type Segment, type WallStyle,
 } from './render/index.ts';
 
@@ -125,17 +125,69 @@ async function autoWallRows(quick: boolean): Promise<ValidationRow[]> {
       for (const k of [0, 1]) rows.push(atMost('channel walls', name, `wall ${k} error px (max along wall)`, NaN, WALL_GOAL_PX, 'px', `refused: ${refusal}`));
       continue;
     }
-    const straight = [largestLineDistance(truth[0], found[0]), largestLineDistance(truth[1], found[1])];
-    const swapped = [largestLineDistance(truth[0], found[1]), largestLineDistance(truth[1], found[0])];
-    const isSwapped = Math.max(...swapped) < Math.max(...straight);
-    const err = isSwapped ? swapped : straight;
+    const { err, isSwapped } = wallErrors(truth, found);
     for (const k of [0, 1] as const) {
       const f = found[isSwapped ? 1 - k : k];
       rows.push(atMost('channel walls', name, `wall ${k} error px (max along wall)`, err[k], WALL_GOAL_PX, 'px',
         `true ${fmtSeg(truth[k])}, found ${fmtSeg(f)}${isSwapped ? '; walls returned in the other order' : ''}`));
     }
   }
+  if (!quick) rows.push(...await randomWallRows(RANDOM_WALL_RENDERINGS));
   return rows;
+}
+
+/** Each true wall's largest distance from the found wall it pairs with (the pairing with the smaller worst error). */
+function wallErrors(truth: Walls, found: Walls): { err: number[]; isSwapped: boolean } {
+  const straight = [largestLineDistance(truth[0], found[0]), largestLineDistance(truth[1], found[1])];
+  const swapped = [largestLineDistance(truth[0], found[1]), largestLineDistance(truth[1], found[0])];
+  const isSwapped = Math.max(...swapped) < Math.max(...straight);
+  return { err: isSwapped ? swapped : straight, isSwapped };
+}
+
+const RANDOM_WALL_RENDERINGS = 40;
+
+/**
+ * Wall kinds drawn at random (seeded): texture or colour; each wall a dark band (8-27 px, level 0.08-0.33), a
+ * thin line (1-4 px, 0.6-0.95) before a band, or nothing (then a flat background for texture, the sample-free
+ * colour for colour); any axis from -80 to 90 deg, width 120-199 px, a third of them tapering 2 deg. The
+ * fifteen kinds above are chosen; these show how the finder does on kinds nobody chose.
+ */
+function randomWallSpec(k: number): SceneSpec {
+  const rng = new Rng(7919 * (k + 1));
+  const u = () => rng.uniform();
+  const colour = u() < 0.5;
+  const kind = (): WallStyle => {
+    const v = u();
+    return v < 0.45 ? brightEdge(1 + Math.floor(u() * 4), 0.6 + 0.35 * u(), 8 + Math.floor(u() * 16), 0.08 + 0.2 * u())
+      : v < 0.85 ? band(8 + Math.floor(u() * 20), 0.08 + 0.25 * u()) : noBand;
+  };
+  const walls = [kind(), kind()];
+  if (!colour && walls.every((w) => w.kind === 'none')) walls[0] = band(16, 0.12);
+  const axisDeg = Math.round(-80 + 170 * u());
+  const channel = { axisDeg, widthPx: 120 + Math.floor(u() * 80), taperDeg: u() < 0.3 ? 2 : 0 };
+  const background = colour ? { kind: 'sample-free' as const } : walls.some((w) => w.kind === 'none') ? { kind: 'flat' as const, level: 0.3 + 0.5 * u() } : {};
+  return scene({ name: `random walls ${k}`, seed: 500 + k, width: 480, height: 360, source: colour ? 'colour' : 'texture', channel, walls, background });
+}
+
+async function randomWallRows(n: number): Promise<ValidationRow[]> {
+  const misses: string[] = [];
+  let within = 0;
+  for (let k = 0; k < n; k++) {
+    const spec = randomWallSpec(k);
+    const r = renderScene(spec);
+    const what = `${spec.source} ${spec.channel!.axisDeg}deg ${spec.walls.map((w) => w.kind === 'bright-edge' ? `line ${w.edgePx}px ${w.edgeLevel.toFixed(2)}` : w.kind).join('/')}`;
+    try {
+      const { err } = wallErrors(r.truth.walls!, await foundWalls(r));
+      if (Math.max(...err) <= WALL_GOAL_PX) within++;
+      else misses.push(`${k} (${what}): ${err.map((e) => e.toFixed(1)).join(', ')} px`);
+    } catch (e) {
+      if (!(e instanceof InputError)) throw e;
+      misses.push(`${k} (${what}): refused`);
+    }
+  }
+  return [within === n
+    ? atMost('channel walls', `${n} renderings of random wall kinds`, 'renderings with a wall off by > 1 px or refused', 0, 0, '', 'every wall within 1 px')
+    : atMost('channel walls', `${n} renderings of random wall kinds`, 'renderings with a wall off by > 1 px or refused', n - within, 0, '', misses.join('; '))];
 }
 
 const fmtSeg = (s: Segment) => [s.x1, s.y1, s.x2, s.y2].map((v) => v.toFixed(1)).join(',');
