@@ -1,6 +1,6 @@
 /** Public surface of image input: decoding PNG/JPEG/TIFF into Image, and tiling large planes. */
 export type { Image } from './types.ts';
-export { makeImage, toGrey, MAX_DECODE_BYTES } from './types.ts';
+export { makeImage, toGrey, MAX_DECODE_BYTES, ANALYSIS_MAX_PIXELS, checkAnalysisPixels } from './types.ts';
 export { decodeImage, decodeImagePages } from './decode.ts';
 export { detectFormat, type ImageFormat } from './format.ts';
 export { ACCEPTED_FORMATS } from './checks.ts';

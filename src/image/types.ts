@@ -28,6 +28,34 @@ export interface Image {
  */
 export const MAX_DECODE_BYTES = 750_000_000;
 
+/**
+ * The most pixels each command line analysis takes, so that the whole command stays within 1 GB as reading
+ * does (issue 12): what an analysis holds beyond the decoded image grows with its pixels. From the peaks of whole
+ * processes on 16-bit grey TIFFs of 12, 24 and 50 MP (bytes per pixel, the file's own included): a held texture
+ * field written as a float TIFF (--field-out) 48, a channel profile from the texture 52 (with --field-out about
+ * 60), fibre diameters 33, a micrometer reading 10. `retarda orient` without --field-out holds no field and takes
+ * anything that can be read.
+ */
+export const ANALYSIS_MAX_PIXELS = {
+  fieldOut: { pixels: 16_000_000, what: 'an orientation field written with --field-out' },
+  profile: { pixels: 15_000_000, what: 'a channel profile' },
+  profileFieldOut: { pixels: 12_000_000, what: 'a channel profile with --field-out' },
+  diameter: { pixels: 24_000_000, what: 'fibre diameters' },
+  micrometer: { pixels: 64_000_000, what: 'a micrometer reading' },
+} as const satisfies Record<string, { pixels: number; what: string }>;
+
+/**
+ * Refuses an image larger than an analysis takes (ANALYSIS_MAX_PIXELS), before the analysis allocates.
+ * @throws InputError naming the image, its size and the limit, and what to do
+ */
+export function checkAnalysisPixels(img: Pick<Image, 'width' | 'height' | 'source'>, limit: { pixels: number; what: string }): void {
+  const n = img.width * img.height;
+  if (n <= limit.pixels) return;
+  const mp = (v: number) => (v / 1e6).toFixed(1);
+  throw new InputError(`${img.source.name}: ${img.width}x${img.height} (${mp(n)} megapixels) is too large for ${limit.what}: at most ${mp(limit.pixels)} megapixels, to stay within 1 GB of memory`,
+    'Crop the image to the part to measure, or bin it 2 x 2');
+}
+
 export function makeImage(init: Image): Image {
   const { width, height, channels, planes } = init;
   if (!Number.isInteger(width) || !Number.isInteger(height) || width < 1 || height < 1) {

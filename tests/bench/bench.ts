@@ -10,7 +10,9 @@
  *      sobel, and RGB PNGs (both sides read them as grey);
  *   3. peak memory of `retarda orient` on one 12 MP PNG;
  *   4. the texture pipeline in this process (field, then a 20-bin channel profile) against native_pipeline.py;
- *   5. optical readings of 12 MP images (benchOptics.ts).
+ *   5. optical readings of 12 MP images (benchOptics.ts);
+ *   6. `retarda orient` on large 16-bit grey TIFFs (written by Debian's python3-tifffile), whole processes: the
+ *      peak memory on a 100 MB file (7071 x 7071, issue 12) and the time and peak on 100 megapixels (10000 x 10000).
  * The machine is shared: every time is the best of several runs, and the ratios compare runs made side by side.
  */
 import { execFileSync, spawnSync } from 'node:child_process';
@@ -32,6 +34,10 @@ const NATIVE_ENV = { ...process.env, OMP_NUM_THREADS: '1', OPENCV_FOR_THREADS_NU
 /** Goals of issue 14 ("Speed to the native limit"). */
 const GOALS = {
   helpS: 0.3, orient1MpS: 0.5, perImageRatio: 1.2, peakMiB12Mp: 400,
+  /** Issue 12: any input file of 100 MB or less within 1 GB (10^9 bytes), the whole process. */
+  peakMb100MbFile: 1000,
+  /** Issue 14: a 100-megapixel 16-bit TIFF in 4 s and 1.5 GB, the whole process. */
+  orient100MpS: 4, peakMb100Mp: 1500,
 };
 
 const rows: GoalRow[] = [];
@@ -145,11 +151,56 @@ function orientPerImage(dir: string, native: boolean): void {
   }
 }
 
+/** Seconds and peak resident memory (KiB) of one whole `retarda ARGS` process (tests/bench/maxrss.mjs). */
+function measuredRun(dir: string, args: string[]): { s: number; kib: number } {
+  const file = join(dir, 'maxrss.txt');
+  const s = timedRun(process.execPath, [join(ROOT, 'tests/bench/maxrss.mjs'), CLI, ...args], { ...process.env, RETARDA_MAXRSS_FILE: file });
+  return { s, kib: Number(readFileSync(file, 'utf8')) };
+}
+
+/**
+ * A 16-bit grey TIFF (uncompressed, as tifffile writes by default) of the bench's scene: stripes of period 7 px
+ * whose angle swings across the height, and 5 % noise. Null when python3-tifffile is not installed.
+ */
+function writeSceneTiff16(path: string, width: number, height: number): boolean {
+  if (spawnSync(PY, ['-c', 'import tifffile, numpy'], { stdio: 'ignore' }).status !== 0) return false;
+  const script = [
+    'import sys, numpy as np, tifffile',
+    'w, h = int(sys.argv[1]), int(sys.argv[2])',
+    'y = np.arange(h, dtype=np.float32)[:, None]; x = np.arange(w, dtype=np.float32)[None, :]',
+    'a = 0.5 * np.sin(np.pi * y / h)',
+    'v = 0.5 + 0.3 * np.sin(2 * np.pi * (-x * np.sin(a) + y * np.cos(a)) / 7)',
+    'v += 0.05 * (np.random.default_rng(1).random((h, w), dtype=np.float32) - 0.5)',
+    'tifffile.imwrite(sys.argv[3], np.clip(np.round(65535 * v), 0, 65535).astype(np.uint16))',
+  ].join('\n');
+  execFileSync(PY, ['-c', script, String(width), String(height), path]);
+  return true;
+}
+
+function largeTiffs(dir: string): void {
+  console.log('\nretarda orient on large 16-bit grey TIFFs (whole processes; tifffile writes them)');
+  const file100Mb = join(dir, 'scene-7071x7071-16bit.tif'), file100Mp = join(dir, 'scene-10000x10000-16bit.tif');
+  if (!writeSceneTiff16(file100Mb, 7071, 7071)) {
+    console.log('  python3-tifffile not found (apt-get install -y python3-tifffile): skipped');
+    return;
+  }
+  const mb = (kib: number) => (kib * 1024) / 1e6;
+  const small = measuredRun(dir, ['orient', file100Mb]);
+  rmSync(file100Mb);
+  console.log(`  7071x7071 (100 MB file): peak ${mb(small.kib).toFixed(0)} MB   goal <= ${GOALS.peakMb100MbFile} MB   (${fmt(small.s)})`);
+  rows.push({ what: 'peak memory, orient on a 100 MB 16-bit TIFF', value: `${mb(small.kib).toFixed(0)} MB`, goal: `<= ${GOALS.peakMb100MbFile} MB`, met: mb(small.kib) <= GOALS.peakMb100MbFile });
+  writeSceneTiff16(file100Mp, 10000, 10000);
+  const runs = Array.from({ length: REPEATS }, () => measuredRun(dir, ['orient', file100Mp]));
+  rmSync(file100Mp);
+  const s = Math.min(...runs.map((r) => r.s)), kib = Math.max(...runs.map((r) => r.kib));
+  console.log(`  10000x10000 (100 MP): ${fmt(s)} (best of ${REPEATS}; ${runs.map((r) => r.s.toFixed(2)).join(', ')} s)   goal <= ${fmt(GOALS.orient100MpS)}; peak ${mb(kib).toFixed(0)} MB   goal <= ${GOALS.peakMb100Mp} MB`);
+  rows.push({ what: 'orient on a 100 MP 16-bit TIFF (whole process)', value: fmt(s), goal: `<= ${fmt(GOALS.orient100MpS)}`, met: s <= GOALS.orient100MpS });
+  rows.push({ what: 'peak memory, orient on a 100 MP 16-bit TIFF', value: `${mb(kib).toFixed(0)} MB`, goal: `<= ${GOALS.peakMb100Mp} MB`, met: mb(kib) <= GOALS.peakMb100Mp });
+}
+
 function peakMemory(dir: string): void {
   const png = join(dir, 'scene-4000x3000.png');
-  const file = join(dir, 'maxrss.txt');
-  timedRun(process.execPath, [join(ROOT, 'tests/bench/maxrss.mjs'), CLI, 'orient', png], { ...process.env, RETARDA_MAXRSS_FILE: file });
-  const mib = Number(readFileSync(file, 'utf8')) / 1024;
+  const mib = measuredRun(dir, ['orient', png]).kib / 1024;
   console.log(`\npeak memory of retarda orient on one 12 MP PNG: ${mib.toFixed(0)} MiB   goal <= ${GOALS.peakMiB12Mp} MiB`);
   rows.push({ what: 'peak memory, orient on one 12 MP PNG', value: `${mib.toFixed(0)} MiB`, goal: `<= ${GOALS.peakMiB12Mp} MiB`, met: mib <= GOALS.peakMiB12Mp });
 }
@@ -207,6 +258,7 @@ async function main() {
     startUp(dir, native);
     orientPerImage(dir, native);
     peakMemory(dir);
+    largeTiffs(dir);
     await inProcess(dir, native);
     rows.push(...await benchOptics());
   } finally {

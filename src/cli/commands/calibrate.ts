@@ -6,6 +6,7 @@ import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatCell, formatPairs } from '../format.ts';
 import { loadImageFiles } from '../io.ts';
+import { ANALYSIS_MAX_PIXELS, checkAnalysisPixels } from '../../image/index.ts';
 
 function opticsInputFrom(a: ParsedArgs): OpticsInput | null {
   const pixel = numberOpt(a, 'camera-pixel-um');
@@ -95,6 +96,7 @@ export const calibrateCommand: Command = {
     }
     const options = micrometerOptionsFrom(a, optics);
     const images = await loadImageFiles(a.positionals);
+    for (const img of images) checkAnalysisPixels(img, ANALYSIS_MAX_PIXELS.micrometer);
     const docs = images.map((img) => {
       try {
         return analyseMicrometer(img, options);

@@ -7,6 +7,7 @@ import { numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
 import { loadImageFiles } from '../io.ts';
+import { ANALYSIS_MAX_PIXELS, checkAnalysisPixels } from '../../image/index.ts';
 
 type Polarity = 'auto' | 'dark' | 'bright';
 
@@ -47,6 +48,7 @@ export const diameterCommand: Command = {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
     const options = diameterOptionsFrom(a);
     const images = await loadImageFiles(a.positionals);
+    for (const img of images) checkAnalysisPixels(img, ANALYSIS_MAX_PIXELS.diameter);
     const docs = images.map((img) => {
       try {
         return analyseDiameter(img, options);

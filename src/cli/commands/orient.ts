@@ -11,6 +11,7 @@ import { loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import type { OrientOptions } from '../../analyses/orient.ts';
 import { InputError } from '../../common/errors.ts';
+import { ANALYSIS_MAX_PIXELS, checkAnalysisPixels } from '../../image/index.ts';
 import { weightingFrom } from '../channelOptions.ts';
 
 /** The texture field's options (TEXTURE_OPTIONS) as the analyses take them. */
@@ -55,6 +56,7 @@ export const orientCommand: Command = {
     for (const path of a.positionals) {
       // The structure tensor reads grey (toGrey): a colour PNG is decoded straight to luma, the same bits.
       const [img] = await loadImageFiles([path], { grey: true });
+      if (fieldOut) checkAnalysisPixels(img, ANALYSIS_MAX_PIXELS.fieldOut);
       if (!fieldOut && img.width * img.height > HELD_FIELD_MAX_PIXELS) {
         // Numbers only, from a large image: the field is streamed, never held (the same numbers).
         results.push(await analyseOrientationStreamed(img, opts));

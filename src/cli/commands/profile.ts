@@ -11,6 +11,7 @@ import { analyseOrientation as textureField, analysePlateProfile, analyseProfile
 import { PROFILE_OPTIONS, type ProfileFieldSource } from '../../options/index.ts';
 import type { OrientationField } from '../../orientation/index.ts';
 import type { Image } from '../../image/types.ts';
+import { ANALYSIS_MAX_PIXELS, checkAnalysisPixels } from '../../image/index.ts';
 import type { ParsedArgs } from '../args.ts';
 
 /** `retarda profile`'s options (PROFILE_OPTIONS): where the field comes from, and the profile request. */
@@ -50,12 +51,14 @@ export const profileCommand: Command = {
   async run(a) {
     if (a.positionals.length === 0) throw new InputError('no image given', 'Name one or more image files');
     const { source, request } = profileFrom(a);
-    const images = await loadImageFiles(a.positionals);
     const fieldOut = stringOpt(a, 'field-out');
     const results: ProfileResult[] = [];
-    for (const img of images) {
+    // One image at a time: each is read, profiled and let go, so a batch needs the memory of one image.
+    for (const path of a.positionals) {
+      const [img] = await loadImageFiles([path]);
+      if (source.kind === 'texture') checkAnalysisPixels(img, fieldOut ? ANALYSIS_MAX_PIXELS.profileFieldOut : ANALYSIS_MAX_PIXELS.profile);
       const { field, result } = await profileFor(img, source, request);
-      if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, images.length), field, `retarda profile ${img.source.name}`);
+      if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, a.positionals.length), field, `retarda profile ${img.source.name}`);
       results.push(result);
     }
     return {
