@@ -34,20 +34,38 @@ export class EffectiveRetardanceReader {
   }
 }
 
+/**
+ * Per colour-cube cell, made the first time a pixel falls in it: Lab (camera calibration removed) and, with a
+ * reader, the effective retardance.
+ */
+export class CellColours {
+  readonly lab: Float32Array;
+  readonly eff: Float32Array;
+  private readonly done: Uint8Array;
+  constructor(private readonly camera: CameraCalibration, private readonly bits: number, private readonly reader?: EffectiveRetardanceReader) {
+    const nCells = 1 << (3 * bits);
+    this.lab = new Float32Array(3 * nCells); this.eff = new Float32Array(nCells); this.done = new Uint8Array(nCells);
+  }
+
+  /** Makes cell c's entries unless made; true when they were made now. */
+  ensure(c: number): boolean {
+    if (this.done[c]) return false;
+    const l = matchLabOfLinearRgb(cameraToModel(this.camera, cellLinearRgb(c, this.bits)));
+    this.lab.set(l, 3 * c);
+    if (this.reader) this.eff[c] = this.reader.read(l);
+    this.done[c] = 1;
+    return true;
+  }
+}
+
 /** Per colour-cube cell of an image: Lab (camera calibration removed) and, optionally, the effective retardance. */
 export function readCells(img: Image, camera: CameraCalibration, bits: number, reader?: EffectiveRetardanceReader) {
   const { cells, saturated, invalid } = quantiseToCells(img, bits);
-  const nCells = 1 << (3 * bits);
-  const lab = new Float32Array(3 * nCells), eff = new Float32Array(nCells), done = new Uint8Array(nCells);
+  const table = new CellColours(camera, bits, reader);
   const used: number[] = [];
   for (let i = 0; i < cells.length; i++) {
     const c = cells[i];
-    if (c < 0 || done[c]) continue;
-    const l = matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(c, bits)));
-    lab.set(l, 3 * c);
-    if (reader) eff[c] = reader.read(l);
-    done[c] = 1;
-    used.push(c);
+    if (c >= 0 && table.ensure(c)) used.push(c);
   }
-  return { cells, lab, eff, saturated, invalid, used };
+  return { cells, lab: table.lab, eff: table.eff, saturated, invalid, used };
 }

@@ -51,24 +51,42 @@ export function clippedPixels(images: Image[]): Uint8Array {
 }
 
 export function quantiseToCells(img: Image, bits: number): { cells: Int32Array; saturated: number; invalid: number } {
-  const n = img.width * img.height, levels = (1 << bits) - 1;
-  const cells = new Int32Array(n);
+  const cells = new Int32Array(img.width * img.height);
+  return { cells, ...quantiseInto(img, bits, 0, cells) };
+}
+
+/** Linear value -> encoded level table of linear images (4096 entries), per number of bits. */
+const levelTables = new Map<number, Int32Array>();
+
+/**
+ * quantiseToCells for the pixels [i0, i0 + out.length) into `out`; with `clipped`, also marks pixels with a plane
+ * at full scale there (clippedPixels' rule).
+ */
+export function quantiseInto(img: Image, bits: number, i0: number, out: Int32Array, clipped?: Uint8Array): { saturated: number; invalid: number } {
+  const len = out.length, levels = (1 << bits) - 1;
   const [r, g, b] = img.planes;
   let saturated = 0, invalid = 0;
   // Linear data: a 4096-entry table from linear value to encoded level.
-  const table = img.encoding === 'linear' ? Int32Array.from({ length: 4097 }, (_, i) => Math.round(levels * srgbEncode(i / 4096))) : null;
+  let table: Int32Array | null = null;
+  if (img.encoding === 'linear') {
+    table = levelTables.get(bits) ?? Int32Array.from({ length: 4097 }, (_, i) => Math.round(levels * srgbEncode(i / 4096)));
+    levelTables.set(bits, table);
+  }
   const sat = FULL_SCALE_LEVEL, s2 = 2 * bits;
-  for (let i = 0; i < n; i++) {
-    const vr = r[i], vg = g[i], vb = b[i];
+  for (let t = 0; t < len; t++) {
+    const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
     if (!(vr >= 0 && vg >= 0 && vb >= 0 && vr < sat && vg < sat && vb < sat)) {
-      if (vr >= sat || vg >= sat || vb >= sat) saturated++; else invalid++;
-      cells[i] = -1;
+      if (vr >= sat || vg >= sat || vb >= sat) {
+        saturated++;
+        if (clipped) clipped[i] = 1;
+      } else invalid++;
+      out[t] = -1;
       continue;
     }
-    if (table) cells[i] = (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0];
-    else cells[i] = (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
+    if (table) out[t] = (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0];
+    else out[t] = (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
   }
-  return { cells, saturated, invalid };
+  return { saturated, invalid };
 }
 
 /** Linear RGB at the centre of a colour-cube cell. */

@@ -1,14 +1,14 @@
 import { checkNumber, InputError } from '../common/index.ts';
 import { DEG, wrapAxialDeg } from '../common/index.ts';
-import { toGrey, type Image } from '../image/index.ts';
+import type { Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { colourModel } from './colourModel.ts';
-import { EffectiveRetardanceReader, readCells } from './effectiveRetardance.ts';
+import { CellColours, EffectiveRetardanceReader } from './effectiveRetardance.ts';
 import { NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';
 import { buildPlateLookup, type PlateLookup } from './lookupTable.ts';
-import { checkColourImage, clippedPixels, type Rect } from './pixels.ts';
-import { registrationCheck, registrationShown, type RegistrationCheck } from './registration.ts';
+import { checkColourImage, quantiseInto, type Rect } from './pixels.ts';
+import { registrationCheckOfImages, registrationShown, type RegistrationCheck } from './registration.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlatePairOptions {
@@ -99,69 +99,47 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const modelA = colourModel(trainA), modelB = colourModel(trainB);
   const readerA = new EffectiveRetardanceReader(modelA, Math.max(0, gpA - gmax), gpA + gmax);
   const readerB = new EffectiveRetardanceReader(modelB, Math.max(0, gpB - gmax), gpB + gmax);
-  const A = readCells(imgA, calA?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerA);
-  const B = readCells(imgB, calB?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerB);
+  const cellsA = new CellColours(calA?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerA);
+  const cellsB = new CellColours(calB?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerB);
   const lutA = buildPlateLookup(modelA, { retardanceMaxNm: gmax, birefringenceSign: sign, fullRange: true });
   const lutB = buildPlateLookup(modelB, { retardanceMaxNm: gmax, birefringenceSign: sign, fullRange: true });
-  const rowsA = new Map<number, Uint16Array>(), rowsB = new Map<number, Uint16Array>();
+  const search = new PairSearch(lutA, lutB, 1 << (3 * bits));
   const n = imgA.width * imgA.height;
-  const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n);
+  const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n), clipped = new Uint8Array(n);
   const axis = trainA.compensator.axisDeg;
-  const nR = lutA.retardancesNm.length, aStep = lutA.anglesDeg[1] - lutA.anglesDeg[0], rStep = lutA.retardancesNm[1] - lutA.retardancesNm[0];
+  const nA = lutA.anglesDeg.length, nR = lutA.retardancesNm.length, aStep = lutA.anglesDeg[1] - lutA.anglesDeg[0], rStep = lutA.retardancesNm[1] - lutA.retardancesNm[0];
   let masked = 0, belowFloor = 0;
   // Pixels with the same pair of colour cells get the same reading.
-  const pairCache = new Map<number, number>();
-  const pAngle: number[] = [], pRet: number[] = [], pConf: number[] = [];
-  for (let i = 0; i < n; i++) {
-    const ca = A.cells[i], cb = B.cells[i];
-    if (ca < 0 || cb < 0) { masked++; continue; }
-    const key = ca * 2 ** 21 + cb, hit = pairCache.get(key);
-    if (hit !== undefined) {
-      angleRad[i] = pAngle[hit]; retardanceNm[i] = pRet[hit]; confidence[i] = pConf[hit];
-      if (pRet[hit] < floorNm) belowFloor++; else mask[i] = 1;
-      continue;
-    }
-    const la = A.lab.subarray(3 * ca, 3 * ca + 3), lb = B.lab.subarray(3 * cb, 3 * cb + 3);
-    // Candidates: the closed-form first-order reading, and along every angle row the retardance that best explains either image.
-    const est = combinePlatePair(A.eff[ca] - gpA, B.eff[cb] - gpB, axis, turn);
-    const estDeg = sign === -1 ? wrapAxialDeg(est.angleDeg - 90) : est.angleDeg;
-    let bj = Math.round((wrapAxialDeg(estDeg) - lutA.anglesDeg[0]) / aStep) % lutA.anglesDeg.length;
-    let bk = Math.min(nR - 1, Math.round(est.retardanceNm / rStep));
-    let best = pairCost(lutA, lutB, la, lb, bj, bk);
-    const ra = rowBestOf(rowsA, ca, lutA, la), rb = rowBestOf(rowsB, cb, lutB, lb);
-    for (let r = 0; r < ra.length; r++) {
-      const j = r * ROW_STRIDE;
-      for (const k of [ra[r], rb[r]]) {
-        const d = pairCost(lutA, lutB, la, lb, j, k);
-        if (d < best) { best = d; bj = j; bk = k; }
+  const pairs = new PairReadings();
+  const qa = new Int32Array(Math.min(n, PAIR_BLOCK_PX)), qb = new Int32Array(qa.length);
+  for (let i0 = 0; i0 < n; i0 += PAIR_BLOCK_PX) {
+    const len = Math.min(PAIR_BLOCK_PX, n - i0);
+    quantiseInto(imgA, bits, i0, qa.subarray(0, len), clipped);
+    quantiseInto(imgB, bits, i0, qb.subarray(0, len), clipped);
+    for (let t = 0; t < len; t++) {
+      const i = i0 + t, ca = qa[t], cb = qb[t];
+      if (ca < 0 || cb < 0) { masked++; continue; }
+      let hit = pairs.find(ca, cb);
+      if (hit < 0) {
+        cellsA.ensure(ca); cellsB.ensure(cb);
+        // Candidates: the closed-form first-order reading, and along every angle row the retardance that best explains either image.
+        const est = combinePlatePair(cellsA.eff[ca] - gpA, cellsB.eff[cb] - gpB, axis, turn);
+        const estDeg = sign === -1 ? wrapAxialDeg(est.angleDeg - 90) : est.angleDeg;
+        const bj = Math.round((wrapAxialDeg(estDeg) - lutA.anglesDeg[0]) / aStep) % nA;
+        const bk = Math.min(nR - 1, Math.round(est.retardanceNm / rStep));
+        const fine = search.read(cellsA.lab, ca, cellsB.lab, cb, bj, bk);
+        const ret = fine.retardanceNm;
+        const margin = Math.sqrt(fine.alternative / 2) - fine.residual;
+        // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
+        hit = pairs.add(ca, cb, wrapAxialDeg(fine.angleDeg) * DEG, ret, Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400));
       }
+      angleRad[i] = pairs.angleRad[hit]; retardanceNm[i] = pairs.retardanceNm[hit]; confidence[i] = pairs.confidence[hit];
+      if (pairs.retardanceNm[hit] < floorNm) belowFloor++; else mask[i] = 1;
     }
-    const fine = refinePair(lutA, lutB, la, lb, bj, bk);
-    const ret = fine.retardanceNm;
-    // Best candidate that differs by more than 3 deg or 30 nm: how far the reading stands out.
-    const fj = Math.round((fine.angleDeg - lutA.anglesDeg[0]) / aStep), fk = Math.round(ret / rStep);
-    let alt = Infinity;
-    for (let r = 0; r < ra.length; r++) {
-      const j = r * ROW_STRIDE;
-      let dj = Math.abs(j - fj) * aStep;
-      if (dj > 90) dj = 180 - dj;
-      for (const k of [ra[r], rb[r]]) {
-        if (dj <= 3 && Math.abs(k - fk) * rStep <= 30) continue;
-        alt = Math.min(alt, pairCost(lutA, lutB, la, lb, j, k));
-      }
-    }
-    const margin = Math.sqrt(alt / 2) - fine.residual;
-    angleRad[i] = wrapAxialDeg(fine.angleDeg) * DEG;
-    retardanceNm[i] = ret;
-    // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
-    confidence[i] = Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400);
-    if (ret < floorNm) belowFloor++; else mask[i] = 1;
-    pairCache.set(key, pAngle.length);
-    pAngle.push(angleRad[i]); pRet.push(ret); pConf.push(confidence[i]);
   }
   if (masked > 0) warnings.push(`${masked} pixels at full scale (clipped) or invalid in one of the images were masked`);
   if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
-  const registration = registrationCheck(toGrey(imgA), toGrey(imgB));
+  const registration = registrationCheckOfImages(imgA, imgB);
   const maxShift = options.maxShiftPx ?? 1;
   if (!registrationShown(registration)) {
     warnings.push('the two images share too little structure to check that they line up (a shift along straight channel walls cannot be seen): make sure nothing moved between them');
@@ -169,7 +147,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     warnings.push(`the two images are shifted by ${registration.shiftPx.toFixed(1)} px (dx ${registration.dxPx.toFixed(1)}, dy ${registration.dyPx.toFixed(1)}): register them before a pixel-by-pixel reading`);
   }
   const field: OrientationField = {
-    width: imgA.width, height: imgA.height, angleRad, confidence, mask, retardanceNm, clipped: clippedPixels([imgA, imgB]),
+    width: imgA.width, height: imgA.height, angleRad, confidence, mask, retardanceNm, clipped,
     method: 'plate-pair', ambiguity: 'none', pixelSizeUmPerPx: imgA.pixelSizeUmPerPx,
     options: {
       polariserDeg: trainA.polariserDeg, analyserDeg: trainA.analyserDeg, compensatorDeg: axis, compensatorNmA: gpA, compensatorNmB: gpB,
@@ -181,44 +159,176 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
 }
 
 const ROW_STRIDE = 2;
+/** Pixels per block: both images' colour cells are made a block at a time, not as whole planes. */
+const PAIR_BLOCK_PX = 1 << 15;
 
-/** Sum of squared Lab distances of both images to the lookup entry (j, k). */
-function pairCost(lutA: PlateLookup, lutB: PlateLookup, la: Float32Array, lb: Float32Array, j: number, k: number): number {
-  const o = 3 * (j * lutA.retardancesNm.length + k), A = lutA.coords, B = lutB.coords;
-  const x = A[o] - la[0], y = A[o + 1] - la[1], z = A[o + 2] - la[2], u = B[o] - lb[0], v = B[o + 1] - lb[1], w = B[o + 2] - lb[2];
-  return x * x + y * y + z * z + u * u + v * v + w * w;
-}
+/** The reading of each distinct pair of colour cells (open addressing on typed arrays, keyed by both cells). */
+class PairReadings {
+  angleRad = new Float32Array(1024);
+  retardanceNm = new Float64Array(1024);
+  confidence = new Float32Array(1024);
+  private count = 0;
+  private keysA = new Int32Array(1 << 12).fill(-1);
+  private keysB = new Int32Array(1 << 12);
+  private slots = new Int32Array(1 << 12);
 
-/** For one colour cell: on every ROW_STRIDE-th angle row, the retardance index nearest in Lab (coarse scan, then +-4 entries). */
-function rowBestOf(cache: Map<number, Uint16Array>, cell: number, lut: PlateLookup, lab: Float32Array): Uint16Array {
-  const hit = cache.get(cell);
-  if (hit) return hit;
-  const nA = lut.anglesDeg.length, nR = lut.retardancesNm.length, C = lut.coords;
-  const rows = new Uint16Array(Math.ceil(nA / ROW_STRIDE));
-  const d = (j: number, k: number) => { const o = 3 * (j * nR + k), a = C[o] - lab[0], b = C[o + 1] - lab[1], c = C[o + 2] - lab[2]; return a * a + b * b + c * c; };
-  for (let r = 0; r < rows.length; r++) {
-    const j = r * ROW_STRIDE;
-    let bk = 0, bd = Infinity;
-    for (let k = 0; k < nR; k += 4) { const v = d(j, k); if (v < bd) { bd = v; bk = k; } }
-    for (let k = Math.max(0, bk - 4); k <= Math.min(nR - 1, bk + 4); k++) { const v = d(j, k); if (v < bd) { bd = v; bk = k; } }
-    rows[r] = bk;
+  private shift = 32 - 12;
+
+  /** First slot tried for a pair: the high bits of a multiplicative (Fibonacci) hash of both cells. */
+  private home(a: number, b: number): number {
+    return Math.imul(a ^ Math.imul(b, 0x85ebca77), 0x9e3779b1) >>> this.shift;
   }
-  cache.set(cell, rows);
-  return rows;
-}
 
-/** Local search (+-3 deg, +-8 nm) minimising the summed squared Lab distance of both images. */
-function refinePair(lutA: PlateLookup, lutB: PlateLookup, la: Float32Array, lb: Float32Array, j0: number, k0: number) {
-  const nA = lutA.anglesDeg.length, nR = lutA.retardancesNm.length;
-  const aStep = lutA.anglesDeg[1] - lutA.anglesDeg[0], rStep = lutA.retardancesNm[1] - lutA.retardancesNm[0];
-  const wa = Math.max(1, Math.round(3 / aStep)), wr = Math.max(1, Math.round(8 / rStep));
-  let best = Infinity, bj = j0, bk = k0;
-  for (let dj = -wa; dj <= wa; dj++) {
-    const j = (((j0 + dj) % nA) + nA) % nA;
-    for (let k = Math.max(0, k0 - wr); k <= Math.min(nR - 1, k0 + wr); k++) {
-      const d = pairCost(lutA, lutB, la, lb, j, k);
-      if (d < best) { best = d; bj = j; bk = k; }
+  /** Index of the pair's reading, or -1. */
+  find(a: number, b: number): number {
+    const m = this.keysA.length - 1;
+    for (let h = this.home(a, b); ; h = (h + 1) & m) {
+      const k = this.keysA[h];
+      if (k < 0) return -1;
+      if (k === a && this.keysB[h] === b) return this.slots[h];
     }
   }
-  return { angleDeg: lutA.anglesDeg[bj], retardanceNm: lutA.retardancesNm[bk], residual: Math.sqrt(best / 2) };
+
+  /** Stores a new pair's reading (angle and confidence as float32, as the field holds them); returns its index. */
+  add(a: number, b: number, angleRad: number, retardanceNm: number, confidence: number): number {
+    const s = this.count++;
+    if (s === this.angleRad.length) {
+      const grow = <T extends Float32Array | Float64Array>(x: T, make: (n: number) => T) => { const y = make(2 * x.length); y.set(x); return y; };
+      this.angleRad = grow(this.angleRad, (k) => new Float32Array(k));
+      this.retardanceNm = grow(this.retardanceNm, (k) => new Float64Array(k));
+      this.confidence = grow(this.confidence, (k) => new Float32Array(k));
+    }
+    this.angleRad[s] = angleRad; this.retardanceNm[s] = retardanceNm; this.confidence[s] = confidence;
+    if (2 * this.count > this.keysA.length) this.rehash(2 * this.keysA.length);
+    this.insert(a, b, s);
+    return s;
+  }
+
+  private insert(a: number, b: number, s: number): void {
+    const m = this.keysA.length - 1;
+    let h = this.home(a, b);
+    while (this.keysA[h] >= 0) h = (h + 1) & m;
+    this.keysA[h] = a; this.keysB[h] = b; this.slots[h] = s;
+  }
+
+  private rehash(size: number): void {
+    const { keysA, keysB, slots } = this;
+    this.keysA = new Int32Array(size).fill(-1); this.keysB = new Int32Array(size); this.slots = new Int32Array(size);
+    this.shift--;
+    for (let h = 0; h < keysA.length; h++) if (keysA[h] >= 0) this.insert(keysA[h], keysB[h], slots[h]);
+  }
+}
+
+/**
+ * The search of both images' lookups for one pair of colours: candidates along every ROW_STRIDE-th angle row (each
+ * image's best retardance on the row, made once per colour cell), the best of them and the first-order estimate
+ * refined locally, and the best candidate that differs by more than 3 deg or 30 nm.
+ */
+class PairSearch {
+  private readonly nA: number;
+  private readonly nR: number;
+  private readonly nRows: number;
+  private readonly rowsA: CellRows;
+  private readonly rowsB: CellRows;
+  private readonly costA: Float64Array;
+  private readonly costB: Float64Array;
+
+  constructor(private readonly lutA: PlateLookup, private readonly lutB: PlateLookup, nCells: number) {
+    this.nA = lutA.anglesDeg.length; this.nR = lutA.retardancesNm.length;
+    this.nRows = Math.ceil(this.nA / ROW_STRIDE);
+    this.rowsA = new CellRows(lutA, nCells, this.nRows); this.rowsB = new CellRows(lutB, nCells, this.nRows);
+    this.costA = new Float64Array(this.nRows); this.costB = new Float64Array(this.nRows);
+  }
+
+  /** Sum of squared Lab distances of both images to the lookup entry (j, k). */
+  private cost(j: number, k: number, a0: number, a1: number, a2: number, b0: number, b1: number, b2: number): number {
+    const o = 3 * (j * this.nR + k), A = this.lutA.coords, B = this.lutB.coords;
+    const x = A[o] - a0, y = A[o + 1] - a1, z = A[o + 2] - a2, u = B[o] - b0, v = B[o + 1] - b1, w = B[o + 2] - b2;
+    return x * x + y * y + z * z + u * u + v * v + w * w;
+  }
+
+  /** Reading of colour cells ca (Lab in labA) and cb (in labB), starting from the estimate (bj, bk). */
+  read(labA: Float32Array, ca: number, labB: Float32Array, cb: number, bj: number, bk: number) {
+    const a0 = labA[3 * ca], a1 = labA[3 * ca + 1], a2 = labA[3 * ca + 2], b0 = labB[3 * cb], b1 = labB[3 * cb + 1], b2 = labB[3 * cb + 2];
+    const { nA, nR, nRows, costA, costB } = this;
+    const ra = this.rowsA.of(ca, a0, a1, a2), oa = this.rowsA.offset(ca);
+    const rb = this.rowsB.of(cb, b0, b1, b2), ob = this.rowsB.offset(cb);
+    let best = this.cost(bj, bk, a0, a1, a2, b0, b1, b2);
+    for (let r = 0; r < nRows; r++) {
+      const j = r * ROW_STRIDE;
+      const ka = ra[oa + r], da = this.cost(j, ka, a0, a1, a2, b0, b1, b2);
+      costA[r] = da;
+      if (da < best) { best = da; bj = j; bk = ka; }
+      const kb = rb[ob + r], db = this.cost(j, kb, a0, a1, a2, b0, b1, b2);
+      costB[r] = db;
+      if (db < best) { best = db; bj = j; bk = kb; }
+    }
+    // Local search (+-3 deg, +-8 nm) minimising the summed squared Lab distance of both images.
+    const aStep = this.lutA.anglesDeg[1] - this.lutA.anglesDeg[0], rStep = this.lutA.retardancesNm[1] - this.lutA.retardancesNm[0];
+    const wa = Math.max(1, Math.round(3 / aStep)), wr = Math.max(1, Math.round(8 / rStep));
+    let fine = Infinity, fj = bj, fk = bk;
+    for (let dj = -wa; dj <= wa; dj++) {
+      const j = (((bj + dj) % nA) + nA) % nA;
+      for (let k = Math.max(0, bk - wr); k <= Math.min(nR - 1, bk + wr); k++) {
+        const d = this.cost(j, k, a0, a1, a2, b0, b1, b2);
+        if (d < fine) { fine = d; fj = j; fk = k; }
+      }
+    }
+    const angleDeg = this.lutA.anglesDeg[fj], retardanceNm = this.lutA.retardancesNm[fk];
+    // Best candidate that differs by more than 3 deg or 30 nm: how far the reading stands out.
+    const gj = Math.round((angleDeg - this.lutA.anglesDeg[0]) / aStep), gk = Math.round(retardanceNm / rStep);
+    let alternative = Infinity;
+    for (let r = 0; r < nRows; r++) {
+      let dj = Math.abs(r * ROW_STRIDE - gj) * aStep;
+      if (dj > 90) dj = 180 - dj;
+      const near = dj <= 3;
+      if (!(near && Math.abs(ra[oa + r] - gk) * rStep <= 30)) alternative = Math.min(alternative, costA[r]);
+      if (!(near && Math.abs(rb[ob + r] - gk) * rStep <= 30)) alternative = Math.min(alternative, costB[r]);
+    }
+    return { angleDeg, retardanceNm, residual: Math.sqrt(fine / 2), alternative };
+  }
+}
+
+/** For each colour cell met: on every ROW_STRIDE-th angle row, the retardance index nearest in Lab (coarse scan, then +-4 entries). */
+class CellRows {
+  private readonly slot: Int32Array;
+  private pool: Uint16Array;
+  private count = 0;
+  constructor(private readonly lut: PlateLookup, nCells: number, private readonly nRows: number) {
+    this.slot = new Int32Array(nCells).fill(-1);
+    this.pool = new Uint16Array(256 * nRows);
+  }
+
+  /** Where the cell's rows start in the array `of` returns (valid after `of`). */
+  offset(cell: number): number {
+    return this.slot[cell] * this.nRows;
+  }
+
+  /** The array holding the cell's rows (made now if the cell is new; colour l0, l1, l2). */
+  of(cell: number, l0: number, l1: number, l2: number): Uint16Array {
+    if (this.slot[cell] >= 0) return this.pool;
+    const s = this.count++;
+    if ((s + 1) * this.nRows > this.pool.length) {
+      const p = new Uint16Array(2 * this.pool.length);
+      p.set(this.pool);
+      this.pool = p;
+    }
+    this.slot[cell] = s;
+    const nR = this.lut.retardancesNm.length, C = this.lut.coords, rows = this.pool, o = s * this.nRows;
+    for (let r = 0; r < this.nRows; r++) {
+      const base = 3 * r * ROW_STRIDE * nR;
+      let bk = 0, bd = Infinity;
+      for (let k = 0; k < nR; k += 4) {
+        const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;
+        if (v < bd) { bd = v; bk = k; }
+      }
+      // The window's upper end follows the best found so far (as it always has: the same rows as before).
+      for (let k = Math.max(0, bk - 4); k <= Math.min(nR - 1, bk + 4); k++) {
+        const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;
+        if (v < bd) { bd = v; bk = k; }
+      }
+      rows[o + r] = bk;
+    }
+    return rows;
+  }
 }

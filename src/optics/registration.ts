@@ -1,5 +1,6 @@
 import type { Plane } from '../common/index.ts';
 import { InputError } from '../common/index.ts';
+import { toGrey, type Image } from '../image/index.ts';
 
 /** In-place radix-2 complex FFT (inverse when `inverse`), length a power of two. */
 function fft(re: Float64Array, im: Float64Array, inverse: boolean): void {
@@ -69,8 +70,7 @@ export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
   if (a.width !== b.width || a.height !== b.height) {
     throw new InputError(`the two images differ in size (${a.width}x${a.height} and ${b.width}x${b.height})`, 'Use two images from the same camera set-up');
   }
-  let n = 1;
-  while (n * 2 <= Math.min(a.width, a.height, 512)) n *= 2;
+  const n = windowSide(a.width, a.height);
   if (n < 16) throw new InputError('images smaller than 16 px cannot be checked for registration', 'Use larger images');
   const x0 = Math.floor((a.width - n) / 2), y0 = Math.floor((a.height - n) / 2);
   const load = (p: Plane) => {
@@ -148,7 +148,54 @@ export const REGISTRATION_RUNNER_UP_MAX = 0.85;
 /** Whether the check's peak says where B lies against A (a single clear peak), rather than one of several about equal. */
 export const registrationShown = (r: RegistrationCheck): boolean => r.runnerUpRatio < REGISTRATION_RUNNER_UP_MAX;
 
-/** Registration check of two colour or grey images: phase correlation of their grey gradient magnitudes. */
+/** Side of phaseCorrelation's window for a w x h plane: the largest power of two up to 512 px that fits. */
+function windowSide(w: number, h: number): number {
+  let n = 1;
+  while (n * 2 <= Math.min(w, h, 512)) n *= 2;
+  return n;
+}
+
+/**
+ * The part of a w x h plane the registration check reads: phaseCorrelation's central window and the 1-px margin its
+ * gradients take their neighbours from (less at the plane's edges). Its own central window is the same pixels.
+ */
+function checkedRect(w: number, h: number): { x: number; y: number; width: number; height: number } {
+  const n = windowSide(w, h), x0 = Math.floor((w - n) / 2), y0 = Math.floor((h - n) / 2);
+  const x = Math.max(0, x0 - 1), y = Math.max(0, y0 - 1);
+  return { x, y, width: Math.min(w, x0 + n + 1) - x, height: Math.min(h, y0 + n + 1) - y };
+}
+
+/** A rectangle of a plane, copied. */
+function cropPlane(p: Plane, r: { x: number; y: number; width: number; height: number }): Plane {
+  const data = new Float32Array(r.width * r.height);
+  for (let y = 0; y < r.height; y++) data.set(p.data.subarray((r.y + y) * p.width + r.x, (r.y + y) * p.width + r.x + r.width), y * r.width);
+  return { width: r.width, height: r.height, data };
+}
+
+/**
+ * Registration check of two grey planes: phase correlation of their gradient magnitudes. Only the checked window
+ * (and its 1-px margin) is differentiated: the same values as the whole plane's gradient there.
+ */
 export function registrationCheck(a: Plane, b: Plane): RegistrationCheck {
-  return phaseCorrelation(gradientMagnitude(a), gradientMagnitude(b));
+  if (a.width !== b.width || a.height !== b.height) return phaseCorrelation(a, b);
+  const r = checkedRect(a.width, a.height);
+  return phaseCorrelation(gradientMagnitude(cropPlane(a, r)), gradientMagnitude(cropPlane(b, r)));
+}
+
+/** Grey (Rec. 709 luma of the stored values, as toGrey) of a rectangle of an image. */
+function greyRect(img: Image, r: { x: number; y: number; width: number; height: number }): Plane {
+  if (img.channels === 1) return cropPlane({ width: img.width, height: img.height, data: img.planes[0] }, r);
+  const [R, G, B] = img.planes, data = new Float32Array(r.width * r.height);
+  for (let y = 0; y < r.height; y++) for (let x = 0; x < r.width; x++) {
+    const i = (r.y + y) * img.width + r.x + x;
+    data[y * r.width + x] = 0.2126 * R[i] + 0.7152 * G[i] + 0.0722 * B[i];
+  }
+  return { width: r.width, height: r.height, data };
+}
+
+/** registrationCheck of two images' grey planes, making grey only where the check reads it. */
+export function registrationCheckOfImages(a: Image, b: Image): RegistrationCheck {
+  if (a.width !== b.width || a.height !== b.height) return registrationCheck(toGrey(a), toGrey(b));
+  const r = checkedRect(a.width, a.height);
+  return registrationCheck(greyRect(a, r), greyRect(b, r));
 }
