@@ -1,4 +1,5 @@
 import { KernelArena, loadedTensorKernel } from '../wasm/index.ts';
+import { takeFloat32 } from '../common/index.ts';
 import type { OrientationField } from './types.ts';
 
 /**
@@ -16,7 +17,8 @@ const ANGLE_BAND = 1 << 16;
  * atan2 polynomial, four pixels at a time) in bands, or by Math.atan2 where the kernel is not loaded.
  */
 export function anglesOf(cos2: Float32Array, sin2: Float32Array): Float32Array {
-  const n = cos2.length, out = new Float32Array(n);
+  // Every element is written below: a pooled array need not be cleared (src/common/arrayPool.ts).
+  const n = cos2.length, out = takeFloat32(n, false);
   const k = loadedTensorKernel();
   if (!k) {
     for (let i = 0; i < n; i++) {

@@ -67,6 +67,9 @@ export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, or
  */
 export function recycleTextureField(f: OrientationField): void {
   giveBack(f.strength, f.confidence, f.cos2, f.sin2, f.mask);
+  // The angle layer too, once it was made (reading it here would make it).
+  const angle = Object.getOwnPropertyDescriptor(f, 'angleRad');
+  if (angle && 'value' in angle) giveBack(angle.value as Float32Array);
 }
 
 /** The layers FieldPixels holds. */

@@ -75,8 +75,12 @@ export const sharesStrips = (plane: Plane, helpers: readonly TileHelper[]): bool
  * caller must then fill those pixels and start again). With helpers (and a large enough image, sharesStrips)
  * it is cut into a few strips per worker, and every worker takes the next strip as soon as it is free; a
  * helper keeps two strips in flight so it never waits for this thread. A strip's inner rows do not depend on
- * how the image was cut (the halo covers both kernels), so any plan gives the same field. A helper that fails
- * is dropped and its strips done here. Shared, null is returned: the plane must be finite beforehand.
+ * how the image was cut (the halo covers both kernels), so any plan gives the same field. Once no strip is
+ * left to hand out, this thread does the strips helpers still hold, oldest first, and the first answer for a
+ * strip is kept (both are the same bits): a helper slowed by other work on the machine never keeps the field
+ * waiting (on two cores shared with other programs a helper's last strips took longer than doing them here).
+ * A helper that fails is dropped and its strips done here. Shared, null is returned: the plane must be
+ * finite beforehand.
  */
 export async function writeTexturePixels(
   plane: Plane, o: Required<StructureTensorOptions>, f: FieldPixels, helpers: readonly TileHelper[] = [],
@@ -84,15 +88,25 @@ export async function writeTexturePixels(
   if (!sharesStrips(plane, helpers)) return writeTile(plane, null, o, f);
   const rows = Math.max(16, Math.ceil(plane.height / (TILES_PER_WORKER * (helpers.length + 1))));
   const queue = strips(plane.width, plane.height, rows, tensorHaloPx(o));
+  // Strips written into f, and strips a helper holds (in the order they were handed out).
+  const done = new Set<Tile>(), held = new Set<Tile>();
+  let finished = false, doing: Tile | undefined;
   const here = async () => {
-    for (let tile = queue.shift(); tile; tile = queue.shift()) {
-      await writeTile(plane, tile, o, f);
+    for (;;) {
+      doing = queue.shift() ?? [...held].find((t) => !done.has(t));
+      if (!doing) return;
+      await writeTile(plane, doing, o, f);
+      done.add(doing);
       // Lets helper replies in, so their next strips go out before this thread starts another.
       await nextTurn();
     }
   };
   if (queue.length < 2) { await here(); return null; }
-  const take = (spare: boolean) => (spare && queue.length < 2 ? undefined : queue.shift());
+  const take = (spare: boolean) => {
+    const tile = spare && queue.length < 2 ? undefined : queue.shift();
+    if (tile) held.add(tile);
+    return tile;
+  };
   // A helper's second strip waits behind its first: near the end that wait outlasts doing the strip here,
   // so the spare slot only takes a strip while at least one more is left for whoever is free first.
   const remote = async (help: TileHelper, spare: boolean) => {
@@ -100,16 +114,23 @@ export async function writeTexturePixels(
       const inner = { x0: tile.innerX - tile.x, y0: tile.innerY - tile.y, x1: tile.innerX - tile.x + tile.innerW, y1: tile.innerY - tile.y + tile.innerH };
       try {
         const px = await help({ crop: cropPlane(plane, tile), inner, options: o });
+        // Done here meanwhile, or the field is finished (and its arrays may serve another): the answer is not needed.
+        if (finished || done.has(tile)) continue;
         if (px.width !== tile.innerW || px.height !== tile.innerH) throw new Error('the helper answered with a tile of the wrong size');
         copyFieldPixels(f, px, innerRect(tile), { x: tile.innerX, y: tile.innerY });
+        done.add(tile);
       } catch {
-        queue.push(tile);
+        held.delete(tile);
+        if (!finished && !done.has(tile) && tile !== doing) queue.push(tile);
         return;
       }
     }
   };
-  await Promise.all([here(), ...helpers.flatMap((h) => [remote(h, false), remote(h, true)])]);
-  // Strips handed back by a failed helper after this thread had emptied the queue.
+  const helping = helpers.flatMap((h) => [remote(h, false), remote(h, true)]);
+  // Every strip is done once this thread finds none left to hand out and none held undone.
   await here();
+  finished = true;
+  // Answers still on their way are let go (they are caught above).
+  void Promise.all(helping);
   return null;
 }

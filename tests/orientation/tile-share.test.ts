@@ -47,6 +47,31 @@ describe('orientationField with helpers sharing the tiles', () => {
     expectSameField(shared, alone);
   });
 
+  it('a helper that never answers does not hold the field back: the strips it holds are done here, the same bits', async () => {
+    const alone = await orientationField(plane, options);
+    const silent: TileHelper = () => new Promise(() => {});
+    expectSameField(await orientationField(plane, options, [silent]), alone);
+  });
+
+  it('an answer that comes after the field is finished is not written into it', async () => {
+    const alone = await orientationField(plane, options);
+    let late: () => void = () => {};
+    const arrived = new Promise<void>((resolve) => { late = resolve; });
+    // Right size, wrong pixels (all zero), answered only once the field is finished.
+    const slow: TileHelper = async (job) => {
+      const px = await tilePixels(job);
+      await new Promise((resolve) => setTimeout(resolve, 300));
+      late();
+      return { ...px, strength: new Float32Array(px.strength.length), confidence: new Float32Array(px.strength.length), cos2: new Float32Array(px.strength.length), sin2: new Float32Array(px.strength.length) };
+    };
+    const shared = await orientationField(plane, options, [slow]);
+    const kept = { angleRad: shared.angleRad.slice(), confidence: shared.confidence.slice(), strength: shared.strength!.slice(), cos2: shared.cos2!.slice(), sin2: shared.sin2!.slice(), mask: shared.mask.slice() };
+    await arrived;
+    await new Promise((resolve) => setTimeout(resolve, 10));
+    expectSameField(shared, alone);
+    expectSameField({ ...shared, ...kept }, alone);
+  });
+
   it('a helper answering with a tile of the wrong size is not trusted', async () => {
     const alone = await orientationField(plane, options);
     const wrong: TileHelper = async (job) => { const px = await tilePixels(job); return { ...px, width: px.width - 1 }; };
