@@ -161,6 +161,9 @@ export interface SearchOptions {
   distinctNm?: number;
 }
 
+/** Coarse entries per tile of the coarse pass: angle rows by retardance columns. */
+const TILE_ROWS = 4, TILE_COLUMNS = 8;
+
 /**
  * Coarse-to-fine nearest entry: a coarse pass over every `stride`-th entry (about 3 deg x 8 nm), then a
  * full-resolution window around the coarse winner; the same for the best distinct alternative.
@@ -180,6 +183,14 @@ export class LookupSearcher {
   private readonly periodJ: number;
   private readonly c: Float32Array;
   private readonly dims: number;
+  /** Coarse-grid tiles: first and last coarse row and column (inclusive), and Lab (or chroma) bounds. */
+  private readonly tiles: { j0: number; j1: number; k0: number; k1: number }[];
+  private readonly tileLo: Float64Array;
+  private readonly tileHi: Float64Array;
+  private readonly tileBound: Float64Array;
+  /** Coarse distances made for the current colour: made when stamp[m] equals the call's number. */
+  private readonly stamp: Int32Array;
+  private call = 0;
 
   constructor(readonly lut: PlateLookup, options: SearchOptions = {}) {
     this.nA = lut.anglesDeg.length;
@@ -200,6 +211,42 @@ export class LookupSearcher {
     this.periodJ = 180 / aStep;
     this.c = lut.coords;
     this.dims = lut.dims;
+    const nc = this.nRc, na = this.coarse.length / nc;
+    this.tiles = [];
+    for (let j0 = 0; j0 < na; j0 += TILE_ROWS) for (let k0 = 0; k0 < nc; k0 += TILE_COLUMNS) {
+      this.tiles.push({ j0, j1: Math.min(na, j0 + TILE_ROWS) - 1, k0, k1: Math.min(nc, k0 + TILE_COLUMNS) - 1 });
+    }
+    this.tileLo = new Float64Array(3 * this.tiles.length).fill(Infinity);
+    this.tileHi = new Float64Array(3 * this.tiles.length).fill(-Infinity);
+    this.tiles.forEach((t, b) => {
+      for (let jc = t.j0; jc <= t.j1; jc++) for (let kc = t.k0; kc <= t.k1; kc++) {
+        const o = this.dims * this.coarse[jc * nc + kc];
+        for (let d = 0; d < this.dims; d++) {
+          this.tileLo[3 * b + d] = Math.min(this.tileLo[3 * b + d], this.c[o + d]);
+          this.tileHi[3 * b + d] = Math.max(this.tileHi[3 * b + d], this.c[o + d]);
+        }
+      }
+      if (this.dims === 2) { this.tileLo[3 * b + 2] = 0; this.tileHi[3 * b + 2] = 0; }
+    });
+    this.tileBound = new Float64Array(this.tiles.length);
+    this.stamp = new Int32Array(this.coarse.length);
+  }
+
+  /** Squared distance of coarse entry m to the colour, made once per call (coarseDist, stamp). */
+  private coarseAt(m: number, q0: number, q1: number, q2: number): number {
+    if (this.stamp[m] === this.call) return this.coarseDist[m];
+    const c = this.c;
+    let d: number;
+    if (this.dims === 3) {
+      const o = 3 * this.coarse[m], a = c[o] - q0, b = c[o + 1] - q1, e = c[o + 2] - q2;
+      d = a * a + b * b + e * e;
+    } else {
+      const o = 2 * this.coarse[m], a = c[o] - q0, b = c[o + 1] - q1;
+      d = a * a + b * b;
+    }
+    this.coarseDist[m] = d;
+    this.stamp[m] = this.call;
+    return d;
   }
 
   private distinct(ja: number, ka: number, jb: number, kb: number): boolean {
@@ -238,39 +285,50 @@ export class LookupSearcher {
   /** Matches one colour given in match coordinates. */
   match(q: number[]): LookupMatch {
     const q0 = q[0], q1 = q[1], q2 = this.dims === 3 ? q[2] : 0;
-    const n = this.coarse.length, co = this.coarse;
-    const c = this.c;
-    // Coarse pass over every coarse entry.
-    const cd = this.coarseDist;
+    const cd = this.coarseDist, nc = this.nRc, na = this.coarse.length / nc, tiles = this.tiles;
+    if (++this.call === 2 ** 31 - 1) { this.stamp.fill(0); this.call = 1; }
+    // Coarse pass, tile by tile: a tile's bound (squared distance of the colour to its box, made with the same
+    // monotone roundings as an entry's) is never above any of its entries', so tiles beyond the best so far, and
+    // later beyond the valley limit, hold no entry that matters. The entries read are exactly those a full pass
+    // would use.
+    const bound = this.tileBound, lo = this.tileLo, hi = this.tileHi;
+    let first = 0;
+    for (let b = 0; b < tiles.length; b++) {
+      const x = Math.max(lo[3 * b] - q0, q0 - hi[3 * b], 0), y = Math.max(lo[3 * b + 1] - q1, q1 - hi[3 * b + 1], 0), z = Math.max(lo[3 * b + 2] - q2, q2 - hi[3 * b + 2], 0);
+      bound[b] = x * x + y * y + z * z;
+      if (bound[b] < bound[first]) first = b;
+    }
+    // The nearest tile's entries first, then every tile that could hold a nearer entry.
     let cbD = Infinity;
-    for (let m = 0; m < n; m++) {
-      let d: number;
-      if (this.dims === 3) {
-        const o = 3 * co[m], a = c[o] - q0, b = c[o + 1] - q1, e = c[o + 2] - q2;
-        d = a * a + b * b + e * e;
-      } else {
-        const o = 2 * co[m], a = c[o] - q0, b = c[o + 1] - q1;
-        d = a * a + b * b;
+    for (let t = -1; t < tiles.length; t++) {
+      const b = t < 0 ? first : t;
+      if (t === first || bound[b] > cbD) continue;
+      const tile = tiles[b];
+      for (let jc = tile.j0; jc <= tile.j1; jc++) for (let kc = tile.k0; kc <= tile.k1; kc++) {
+        const d = this.coarseAt(jc * nc + kc, q0, q1, q2);
+        if (d < cbD) cbD = d;
       }
-      cd[m] = d;
-      if (d < cbD) cbD = d;
     }
     // Valleys: coarse local minima within 6 units of the best (narrow valleys can fall between coarse samples).
-    const limit = (Math.sqrt(cbD) + 6) ** 2, nc = this.nRc, na = n / nc;
+    const limit = (Math.sqrt(cbD) + 6) ** 2;
     const minima: number[] = [];
-    for (let m = 0; m < n; m++) {
-      const d = cd[m];
-      if (d > limit) continue;
-      const jc = Math.floor(m / nc), kc = m - jc * nc;
-      let isMin = true;
-      for (let dj = -1; dj <= 1 && isMin; dj++) for (let dk = -1; dk <= 1; dk++) {
-        const j2 = jc + dj, k2 = kc + dk;
-        if ((dj === 0 && dk === 0) || j2 < 0 || j2 >= na || k2 < 0 || k2 >= nc) continue;
-        if (cd[j2 * nc + k2] < d) { isMin = false; break; }
+    for (let b = 0; b < tiles.length; b++) {
+      if (bound[b] > limit) continue;
+      const tile = tiles[b];
+      for (let jc = tile.j0; jc <= tile.j1; jc++) for (let kc = tile.k0; kc <= tile.k1; kc++) {
+        const m = jc * nc + kc, d = this.coarseAt(m, q0, q1, q2);
+        if (d > limit) continue;
+        let isMin = true;
+        for (let dj = -1; dj <= 1 && isMin; dj++) for (let dk = -1; dk <= 1; dk++) {
+          const j2 = jc + dj, k2 = kc + dk;
+          if ((dj === 0 && dk === 0) || j2 < 0 || j2 >= na || k2 < 0 || k2 >= nc) continue;
+          if (this.coarseAt(j2 * nc + k2, q0, q1, q2) < d) { isMin = false; break; }
+        }
+        if (isMin) minima.push(m);
       }
-      if (isMin) minima.push(m);
     }
-    minima.sort((a, b) => cd[a] - cd[b]);
+    // Nearest first; equal distances in coarse order (as a stable sort of the minima in coarse order gives them).
+    minima.sort((a, b) => cd[a] - cd[b] || a - b);
     const top = minima.slice(0, 4);
     // Refine each valley; the overall winner is the best refined entry.
     let best = -1, bestD = Infinity;

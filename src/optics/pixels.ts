@@ -75,23 +75,31 @@ export function quantiseInto(img: Image, bits: number, i0: number, out: Int32Arr
   const sat = FULL_SCALE_LEVEL, s2 = 2 * bits;
   for (let t = 0; t < len; t++) {
     const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
-    if (!(vr >= 0 && vg >= 0 && vb >= 0 && vr < sat && vg < sat && vb < sat)) {
-      if (vr >= sat || vg >= sat || vb >= sat) {
-        saturated++;
-        if (clipped) clipped[i] = 1;
-      } else invalid++;
-      out[t] = -1;
+    if (vr >= 0 && vg >= 0 && vb >= 0 && vr < sat && vg < sat && vb < sat) {
+      out[t] = table
+        ? (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0]
+        : (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
       continue;
     }
-    if (table) out[t] = (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0];
-    else out[t] = (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
+    if (vr >= sat || vg >= sat || vb >= sat) {
+      saturated++;
+      if (clipped) clipped[i] = 1;
+    } else invalid++;
+    out[t] = -1;
   }
   return { saturated, invalid };
 }
 
+/** Decoded (linear) value of each level of a colour cube of `bits` per channel, made once per number of bits. */
+const decodedLevels = new Map<number, Float64Array>();
+
 /** Linear RGB at the centre of a colour-cube cell. */
 export function cellLinearRgb(cell: number, bits: number): Vec3 {
   const levels = (1 << bits) - 1, mask = levels;
-  return [srgbDecode(((cell >> (2 * bits)) & mask) / levels), srgbDecode(((cell >> bits) & mask) / levels), srgbDecode((cell & mask) / levels)];
+  let dec = decodedLevels.get(bits);
+  if (!dec) {
+    dec = Float64Array.from({ length: levels + 1 }, (_, l) => srgbDecode(l / levels));
+    decodedLevels.set(bits, dec);
+  }
+  return [dec[(cell >> (2 * bits)) & mask], dec[(cell >> bits) & mask], dec[cell & mask]];
 }
-

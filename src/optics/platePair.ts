@@ -106,11 +106,14 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const search = new PairSearch(lutA, lutB, 1 << (3 * bits));
   const n = imgA.width * imgA.height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n), clipped = new Uint8Array(n);
+  // cos 2 theta and sin 2 theta per pixel, made once per distinct reading (the order statistics read these).
+  const cos2 = new Float32Array(n), sin2 = new Float32Array(n);
   const axis = trainA.compensator.axisDeg;
   const nA = lutA.anglesDeg.length, nR = lutA.retardancesNm.length, aStep = lutA.anglesDeg[1] - lutA.anglesDeg[0], rStep = lutA.retardancesNm[1] - lutA.retardancesNm[0];
   let masked = 0, belowFloor = 0;
   // Pixels with the same pair of colour cells get the same reading.
-  const pairs = new PairReadings();
+  const pairs = new PairReadings(floorNm);
+  const out = { angleRad, retardanceNm, confidence, cos2, sin2 };
   const qa = new Int32Array(Math.min(n, PAIR_BLOCK_PX)), qb = new Int32Array(qa.length);
   for (let i0 = 0; i0 < n; i0 += PAIR_BLOCK_PX) {
     const len = Math.min(PAIR_BLOCK_PX, n - i0);
@@ -133,8 +136,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
         // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
         hit = pairs.add(ca, cb, wrapAxialDeg(fine.angleDeg) * DEG, ret, Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400));
       }
-      angleRad[i] = pairs.angleRad[hit]; retardanceNm[i] = pairs.retardanceNm[hit]; confidence[i] = pairs.confidence[hit];
-      if (pairs.retardanceNm[hit] < floorNm) belowFloor++; else mask[i] = 1;
+      if (pairs.write(hit, i, out)) belowFloor++; else mask[i] = 1;
     }
   }
   if (masked > 0) warnings.push(`${masked} pixels at full scale (clipped) or invalid in one of the images were masked`);
@@ -147,7 +149,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     warnings.push(`the two images are shifted by ${registration.shiftPx.toFixed(1)} px (dx ${registration.dxPx.toFixed(1)}, dy ${registration.dyPx.toFixed(1)}): register them before a pixel-by-pixel reading`);
   }
   const field: OrientationField = {
-    width: imgA.width, height: imgA.height, angleRad, confidence, mask, retardanceNm, clipped,
+    width: imgA.width, height: imgA.height, angleRad, confidence, mask, retardanceNm, clipped, cos2, sin2,
     method: 'plate-pair', ambiguity: 'none', pixelSizeUmPerPx: imgA.pixelSizeUmPerPx,
     options: {
       polariserDeg: trainA.polariserDeg, analyserDeg: trainA.analyserDeg, compensatorDeg: axis, compensatorNmA: gpA, compensatorNmB: gpB,
@@ -162,62 +164,69 @@ const ROW_STRIDE = 2;
 /** Pixels per block: both images' colour cells are made a block at a time, not as whole planes. */
 const PAIR_BLOCK_PX = 1 << 15;
 
-/** The reading of each distinct pair of colour cells (open addressing on typed arrays, keyed by both cells). */
+/**
+ * The reading of each distinct pair of colour cells, in an open-addressing table keyed by both cells whose entries
+ * hold the reading itself (one cache line per look-up): cell A, cell B, then as float32 the angle, retardance,
+ * confidence, cos 2 theta and sin 2 theta, and whether the retardance is below the floor.
+ */
 class PairReadings {
-  angleRad = new Float32Array(1024);
-  retardanceNm = new Float64Array(1024);
-  confidence = new Float32Array(1024);
+  private table = new ArrayBuffer(ENTRY_BYTES << 12);
+  private ints = new Int32Array(this.table).fill(-1);
+  private floats = new Float32Array(this.table);
   private count = 0;
-  private keysA = new Int32Array(1 << 12).fill(-1);
-  private keysB = new Int32Array(1 << 12);
-  private slots = new Int32Array(1 << 12);
-
   private shift = 32 - 12;
+
+  constructor(private readonly floorNm: number) {}
 
   /** First slot tried for a pair: the high bits of a multiplicative (Fibonacci) hash of both cells. */
   private home(a: number, b: number): number {
     return Math.imul(a ^ Math.imul(b, 0x85ebca77), 0x9e3779b1) >>> this.shift;
   }
 
-  /** Index of the pair's reading, or -1. */
+  /** Offset (in 4-byte words) of the pair's entry, or -1. */
   find(a: number, b: number): number {
-    const m = this.keysA.length - 1;
+    const t = this.ints, m = (t.length >> ENTRY_SHIFT) - 1;
     for (let h = this.home(a, b); ; h = (h + 1) & m) {
-      const k = this.keysA[h];
+      const o = h << ENTRY_SHIFT, k = t[o];
       if (k < 0) return -1;
-      if (k === a && this.keysB[h] === b) return this.slots[h];
+      if (k === a && t[o + 1] === b) return o;
     }
   }
 
-  /** Stores a new pair's reading (angle and confidence as float32, as the field holds them); returns its index. */
+  /** Writes the entry's reading into pixel i of the field's arrays; true when the retardance is below the floor. */
+  write(o: number, i: number, f: { angleRad: Float32Array; retardanceNm: Float32Array; confidence: Float32Array; cos2: Float32Array; sin2: Float32Array }): boolean {
+    const v = this.floats;
+    f.angleRad[i] = v[o + 2]; f.retardanceNm[i] = v[o + 3]; f.confidence[i] = v[o + 4]; f.cos2[i] = v[o + 5]; f.sin2[i] = v[o + 6];
+    return this.ints[o + 7] === 1;
+  }
+
+  /** Stores a new pair's reading; returns its entry's offset. */
   add(a: number, b: number, angleRad: number, retardanceNm: number, confidence: number): number {
-    const s = this.count++;
-    if (s === this.angleRad.length) {
-      const grow = <T extends Float32Array | Float64Array>(x: T, make: (n: number) => T) => { const y = make(2 * x.length); y.set(x); return y; };
-      this.angleRad = grow(this.angleRad, (k) => new Float32Array(k));
-      this.retardanceNm = grow(this.retardanceNm, (k) => new Float64Array(k));
-      this.confidence = grow(this.confidence, (k) => new Float32Array(k));
+    if (2 * ++this.count > this.ints.length >> ENTRY_SHIFT) {
+      const old = this.ints;
+      this.table = new ArrayBuffer(2 * this.table.byteLength);
+      this.ints = new Int32Array(this.table).fill(-1); this.floats = new Float32Array(this.table);
+      this.shift--;
+      for (let o = 0; o < old.length; o += ENTRY_WORDS) if (old[o] >= 0) this.ints.set(old.subarray(o, o + ENTRY_WORDS), this.slotFor(old[o], old[o + 1]));
     }
-    this.angleRad[s] = angleRad; this.retardanceNm[s] = retardanceNm; this.confidence[s] = confidence;
-    if (2 * this.count > this.keysA.length) this.rehash(2 * this.keysA.length);
-    this.insert(a, b, s);
-    return s;
+    const o = this.slotFor(a, b), v = this.floats;
+    this.ints[o] = a; this.ints[o + 1] = b;
+    v[o + 2] = angleRad; v[o + 3] = retardanceNm; v[o + 4] = confidence;
+    // Of the float32 angle, as the order statistics would make them from the field's angles.
+    v[o + 5] = Math.cos(2 * v[o + 2]); v[o + 6] = Math.sin(2 * v[o + 2]);
+    this.ints[o + 7] = retardanceNm < this.floorNm ? 1 : 0;
+    return o;
   }
 
-  private insert(a: number, b: number, s: number): void {
-    const m = this.keysA.length - 1;
+  /** Offset of the first free entry on the pair's probe sequence. */
+  private slotFor(a: number, b: number): number {
+    const t = this.ints, m = (t.length >> ENTRY_SHIFT) - 1;
     let h = this.home(a, b);
-    while (this.keysA[h] >= 0) h = (h + 1) & m;
-    this.keysA[h] = a; this.keysB[h] = b; this.slots[h] = s;
-  }
-
-  private rehash(size: number): void {
-    const { keysA, keysB, slots } = this;
-    this.keysA = new Int32Array(size).fill(-1); this.keysB = new Int32Array(size); this.slots = new Int32Array(size);
-    this.shift--;
-    for (let h = 0; h < keysA.length; h++) if (keysA[h] >= 0) this.insert(keysA[h], keysB[h], slots[h]);
+    while (t[h << ENTRY_SHIFT] >= 0) h = (h + 1) & m;
+    return h << ENTRY_SHIFT;
   }
 }
+const ENTRY_SHIFT = 3, ENTRY_WORDS = 1 << ENTRY_SHIFT, ENTRY_BYTES = 4 * ENTRY_WORDS;
 
 /**
  * The search of both images' lookups for one pair of colours: candidates along every ROW_STRIDE-th angle row (each
@@ -289,14 +298,40 @@ class PairSearch {
   }
 }
 
-/** For each colour cell met: on every ROW_STRIDE-th angle row, the retardance index nearest in Lab (coarse scan, then +-4 entries). */
+/** Coarse entries (every 4th retardance) per bounding box of the row scan. */
+const BOX_ENTRIES = 8;
+
+/**
+ * For each colour cell met: on every ROW_STRIDE-th angle row, the retardance index nearest in Lab (coarse scan over
+ * every 4th entry, then +-4 entries). The coarse scan skips runs of BOX_ENTRIES entries whose Lab bounding box lies
+ * farther than the best entry found so far (starting from the previous row's): the same first nearest entry as a
+ * full scan, since no entry in a box is nearer than the box (the bound is computed with the same monotone roundings).
+ */
 class CellRows {
   private readonly slot: Int32Array;
   private pool: Uint16Array;
   private count = 0;
+  /** Per row and box: Lab minimum and maximum (6 numbers). */
+  private readonly boxes: Float64Array;
+  private readonly nBoxes: number;
+
   constructor(private readonly lut: PlateLookup, nCells: number, private readonly nRows: number) {
     this.slot = new Int32Array(nCells).fill(-1);
     this.pool = new Uint16Array(256 * nRows);
+    const nR = lut.retardancesNm.length, C = lut.coords, nCoarse = Math.ceil(nR / 4);
+    this.nBoxes = Math.ceil(nCoarse / BOX_ENTRIES);
+    this.boxes = new Float64Array(nRows * this.nBoxes * 6);
+    for (let r = 0; r < nRows; r++) for (let g = 0; g < this.nBoxes; g++) {
+      const o = 6 * (r * this.nBoxes + g);
+      this.boxes.fill(Infinity, o, o + 3); this.boxes.fill(-Infinity, o + 3, o + 6);
+      for (let k = 4 * BOX_ENTRIES * g; k < Math.min(nR, 4 * BOX_ENTRIES * (g + 1)); k += 4) {
+        const q = 3 * (r * ROW_STRIDE * nR + k);
+        for (let d = 0; d < 3; d++) {
+          this.boxes[o + d] = Math.min(this.boxes[o + d], C[q + d]);
+          this.boxes[o + 3 + d] = Math.max(this.boxes[o + 3 + d], C[q + d]);
+        }
+      }
+    }
   }
 
   /** Where the cell's rows start in the array `of` returns (valid after `of`). */
@@ -315,13 +350,26 @@ class CellRows {
     }
     this.slot[cell] = s;
     const nR = this.lut.retardancesNm.length, C = this.lut.coords, rows = this.pool, o = s * this.nRows;
+    const B = this.boxes, nBoxes = this.nBoxes;
+    let guess = 0;
     for (let r = 0; r < this.nRows; r++) {
       const base = 3 * r * ROW_STRIDE * nR;
-      let bk = 0, bd = Infinity;
-      for (let k = 0; k < nR; k += 4) {
-        const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;
-        if (v < bd) { bd = v; bk = k; }
+      // The first nearest coarse entry: (distance, index) smallest in that order, starting from the previous row's.
+      let bk = guess, bd = 0;
+      {
+        const q = base + 3 * guess, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2;
+        bd = a * a + b * b + c * c;
       }
+      for (let g = 0, ob = 6 * r * nBoxes; g < nBoxes; g++, ob += 6) {
+        const x = Math.max(B[ob] - l0, l0 - B[ob + 3], 0), y = Math.max(B[ob + 1] - l1, l1 - B[ob + 4], 0), z = Math.max(B[ob + 2] - l2, l2 - B[ob + 5], 0);
+        if (x * x + y * y + z * z > bd) continue;
+        const kEnd = Math.min(nR, 4 * BOX_ENTRIES * (g + 1));
+        for (let k = 4 * BOX_ENTRIES * g; k < kEnd; k += 4) {
+          const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;
+          if (v < bd || (v === bd && k < bk)) { bd = v; bk = k; }
+        }
+      }
+      guess = bk;
       // The window's upper end follows the best found so far (as it always has: the same rows as before).
       for (let k = Math.max(0, bk - 4); k <= Math.min(nR - 1, bk + 4); k++) {
         const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;

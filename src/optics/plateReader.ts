@@ -6,7 +6,10 @@ import { colourModel, matchLabOfLinearRgb } from './colourModel.ts';
 import { cameraToModel, NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';
 import { buildPlateLookup, LookupSearcher, matchConfidence, matchCoords, type LookupMatch, type MatchSpace, type PlateLookup, type SearchOptions } from './lookupTable.ts';
-import { cellLinearRgb, checkColourImage, clippedPixels, quantiseToCells, type Rect } from './pixels.ts';
+import { cellLinearRgb, checkColourImage, quantiseInto, type Rect } from './pixels.ts';
+
+/** Pixels per block: colour cells are made a block at a time, not as a whole plane. */
+const PLATE_BLOCK_PX = 1 << 15;
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlateReadOptions extends SearchOptions {
@@ -116,14 +119,15 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   // Sub-cells one bit finer than the search cells: each search cell is searched once; each sub-cell then picks
   // among its parent's best and alternative entries with its own colour and gets its own confidence.
   const subBits = bits + 1;
-  const { cells: subCells, saturated, invalid } = quantiseToCells(img, subBits);
   const parentLevel = Int32Array.from({ length: 1 << subBits }, (_, q) => Math.round((q * ((1 << bits) - 1)) / ((1 << subBits) - 1)));
   const subMask = (1 << subBits) - 1;
   const nCells = 1 << (3 * bits), nSub = 1 << (3 * subBits);
   const cBest = new Int32Array(nCells).fill(-1), cAlt = new Int32Array(nCells), cNear = new Int32Array(nCells);
-  const sEntry = new Int32Array(nSub).fill(-1), sConf = new Float32Array(nSub), sFree = new Uint8Array(nSub);
+  // Each sub-cell met gets a reading (its index in subReadings: angle, retardance, confidence, below the floor).
+  const subIndex = new Int32Array(nSub).fill(-1);
+  let subReadings = new Float32Array(4 * 4096), nRead = 0;
   const n = img.width * img.height;
-  const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n);
+  const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n), clipped = new Uint8Array(n);
   const axis = train.compensator.axisDeg;
   const ref = options.referenceAxisDeg ?? axis - 45;
   checkNumber('reference axis', ref, -360, 360, 'deg');
@@ -148,42 +152,62 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   let freeRadius = 0;
   if (zeroCoords && options.background && floorNm > 0) {
     const r = options.background, dz: number[] = [];
-    for (let y = r.y; y < r.y + r.height; y++) for (let x = r.x; x < r.x + r.width; x++) {
-      const sub = subCells[y * img.width + x];
-      if (sub >= 0) dz.push(distanceToZero(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space)));
+    const row = new Int32Array(r.width);
+    for (let y = r.y; y < r.y + r.height; y++) {
+      quantiseInto(img, subBits, y * img.width + r.x, row);
+      for (const sub of row) if (sub >= 0) dz.push(distanceToZero(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space)));
     }
     dz.sort((a, b) => a - b);
     if (dz.length) freeRadius = dz[Math.min(dz.length - 1, Math.floor(0.99 * dz.length))];
   }
-  let matched = 0, belowFloor = 0;
-  for (let i = 0; i < n; i++) {
-    const sub = subCells[i];
-    if (sub < 0) continue;
-    if (sEntry[sub] < 0) {
-      const r = parentLevel[(sub >> (2 * subBits)) & subMask], g = parentLevel[(sub >> subBits) & subMask], b = parentLevel[sub & subMask];
-      const cell = (r << (2 * bits)) | (g << bits) | b;
-      if (cBest[cell] < 0) {
-        const m = searcher.match(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(cell, bits))), space));
-        cBest[cell] = m.bestIndex; cAlt[cell] = m.alternativeIndex; cNear[cell] = m.nearAlternativeIndex;
-        matched++;
+  let matched = 0, belowFloor = 0, saturated = 0, invalid = 0;
+  const block = new Int32Array(Math.min(n, PLATE_BLOCK_PX));
+  for (let i0 = 0; i0 < n; i0 += PLATE_BLOCK_PX) {
+    const len = Math.min(PLATE_BLOCK_PX, n - i0), subs = block.subarray(0, len);
+    const counts = quantiseInto(img, subBits, i0, subs, clipped);
+    saturated += counts.saturated; invalid += counts.invalid;
+    for (let t = 0; t < len; t++) {
+      const i = i0 + t, sub = subs[t];
+      if (sub < 0) continue;
+      let k = subIndex[sub];
+      if (k < 0) {
+        const r = parentLevel[(sub >> (2 * subBits)) & subMask], g = parentLevel[(sub >> subBits) & subMask], b = parentLevel[sub & subMask];
+        const cell = (r << (2 * bits)) | (g << bits) | b;
+        if (cBest[cell] < 0) {
+          const m = searcher.match(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(cell, bits))), space));
+          cBest[cell] = m.bestIndex; cAlt[cell] = m.alternativeIndex; cNear[cell] = m.nearAlternativeIndex;
+          matched++;
+        }
+        const q = matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space);
+        // Of the parent's best, alternative and nearest alternative, the one nearest this sub-cell's colour (the first on ties).
+        const d0 = dist(cBest[cell], q), d1 = dist(cAlt[cell], q), d2 = dist(cNear[cell], q);
+        let pick = 0, dPick = d0;
+        if (d1 < dPick) { pick = 1; dPick = d1; }
+        if (d2 < dPick) { pick = 2; dPick = d2; }
+        const dOther = pick === 0 ? Math.min(d1, d2) : pick === 1 ? Math.min(d0, d2) : Math.min(d0, d1);
+        const dZero = distanceToZero(q);
+        const e = pick === 0 ? cBest[cell] : pick === 1 ? cAlt[cell] : cNear[cell], j = Math.floor(e / nR);
+        if (4 * (nRead + 1) > subReadings.length) {
+          const grown = new Float32Array(2 * subReadings.length);
+          grown.set(subReadings);
+          subReadings = grown;
+        }
+        k = nRead++;
+        subIndex[sub] = k;
+        const o = 4 * k;
+        subReadings[o] = rowAngleRad[j];
+        subReadings[o + 1] = lookup.retardancesNm[e - j * nR];
+        subReadings[o + 2] = matchConfidence({ distance: dPick, alternativeDistance: Math.min(dZero, dOther) } as LookupMatch);
+        // Masked: sample-free (with a known retardance band) or read below the floor (the float32 retardance, as stored).
+        subReadings[o + 3] = (band ? floorNm > 0 && dZero <= Math.max(dPick, freeRadius) : subReadings[o + 1] < floorNm) ? 1 : 0;
       }
-      const q = matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space);
-      const cand = [cBest[cell], cAlt[cell], cNear[cell]], d = cand.map((c) => dist(c, q));
-      let pick = 0;
-      if (d[1] < d[pick]) pick = 1;
-      if (d[2] < d[pick]) pick = 2;
-      const others = d.filter((_, k) => k !== pick);
-      const dZero = distanceToZero(q);
-      sEntry[sub] = cand[pick];
-      sConf[sub] = matchConfidence({ distance: d[pick], alternativeDistance: Math.min(dZero, ...others) } as LookupMatch);
-      sFree[sub] = dZero <= Math.max(d[pick], freeRadius) ? 1 : 0;
+      const o = 4 * k;
+      angleRad[i] = subReadings[o];
+      retardanceNm[i] = subReadings[o + 1];
+      confidence[i] = subReadings[o + 2];
+      if (subReadings[o + 3] === 1) { belowFloor++; continue; }
+      mask[i] = 1;
     }
-    const e = sEntry[sub], j = Math.floor(e / nR);
-    angleRad[i] = rowAngleRad[j];
-    retardanceNm[i] = lookup.retardancesNm[e - j * nR];
-    confidence[i] = sConf[sub];
-    if (band ? floorNm > 0 && sFree[sub] : retardanceNm[i] < floorNm) { belowFloor++; continue; }
-    mask[i] = 1;
   }
   if (belowFloor > 0) {
     const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
@@ -192,7 +216,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   if (saturated > 0) warnings.push(`${saturated} pixels at full scale (clipped) were masked (${((100 * saturated) / n).toFixed(2)} %)`);
   if (invalid > 0) warnings.push(`${invalid} pixels with values outside [0, 1] were masked`);
   const field: OrientationField = {
-    width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm, clipped: clippedPixels([img]),
+    width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm, clipped,
     method: 'plate',
     ambiguity: mirror !== null ? 'mirror-about-compensator' : 'none',
     ambiguityAxisDeg: mirror !== null ? mirror : undefined,
