@@ -4,8 +4,8 @@
  * step so a canvas can hold them; the numbers are always computed on the full image.
  */
 import type { Image } from '../../src/image/index.ts';
-import type { OrientationField } from '../../src/orientation/index.ts';
-import { orientationRgba, retardanceColourTable, retardanceIndex } from '../../src/report/index.ts';
+import { orientationColours, type OrientationField } from '../../src/orientation/index.ts';
+import { orientationColourTable, orientationRgba, retardanceColourTable, retardanceIndex } from '../../src/report/index.ts';
 import { cellOrders } from '../../src/order/index.ts';
 import type { Glyph, Picture } from './protocol.ts';
 
@@ -95,6 +95,9 @@ export async function imagePicture(img: Image): Promise<{ picture: Picture; note
 export async function orientationPicture(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<Picture> {
   const step = pictureStep(f.width, f.height);
   const w = Math.ceil(f.width / step), h = Math.ceil(f.height / step);
+  // A texture field shown whole: its colours straight from cos 2 theta and sin 2 theta (the same bytes, no angle layer).
+  const direct = step === 1 && opacity === 'confidence' && f.cos2 && f.sin2 ? orientationColours(f.cos2, f.sin2, f.confidence, f.mask, orientationColourTable()) : null;
+  if (direct) return { width: w, height: h, scale: step, levels: await bitmapLevels(direct as Uint8ClampedArray<ArrayBuffer>, w, h) };
   const angle = subsample(f.angleRad, f.width, f.height, step, (n) => new Float32Array(n));
   const mask = subsample(f.mask, f.width, f.height, step, (n) => new Uint8Array(n));
   const confidence = opacity === 'full' ? new Float32Array(w * h).fill(1) : subsample(f.confidence, f.width, f.height, step, (n) => new Float32Array(n));

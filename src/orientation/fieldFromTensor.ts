@@ -2,7 +2,7 @@ import { checkLimit, type Limit } from '../common/index.ts';
 import { withDefaults } from '../common/index.ts';
 import type { TileRect } from './structureTensor.ts';
 import type { OrientationField } from './types.ts';
-import { withLazyAngle } from './derivedLayers.ts';
+import { anglesMade, withLazyAngle } from './derivedLayers.ts';
 import { giveBack, takeFloat32, takeUint8, valueOfRank } from '../common/index.ts';
 import { KernelArena, loadedTensorKernel } from '../wasm/index.ts';
 
@@ -68,8 +68,7 @@ export function copyFieldPixels(f: FieldPixels, px: FieldPixels, r: TileRect, or
 export function recycleTextureField(f: OrientationField): void {
   giveBack(f.strength, f.confidence, f.cos2, f.sin2, f.mask);
   // The angle layer too, once it was made (reading it here would make it).
-  const angle = Object.getOwnPropertyDescriptor(f, 'angleRad');
-  if (angle && 'value' in angle) giveBack(angle.value as Float32Array);
+  if (anglesMade(f)) giveBack(f.angleRad);
 }
 
 /** The layers FieldPixels holds. */

@@ -12,3 +12,4 @@ export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';
 export { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from './maskedTensor.ts';
 export { surveyTexture, streamMaskedRows } from './streamedField.ts';
 export type { SurveyPlan, MaskedLine, TextureSurvey, MaskSlot, MaskedRowSink } from './streamedField.ts';
+export { orientationColours } from './derivedLayers.ts';

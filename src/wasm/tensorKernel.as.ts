@@ -232,24 +232,67 @@ export function outputWindows(rowsXX: usize, rowsXY: usize, rowsYY: usize, kg: u
  * branch-free, with the signs of zeros kept as Math.atan2 keeps them. n a multiple of 4.
  */
 export function angles(vx: usize, vy: usize, angle: usize, n: i32): void {
+  for (let i = 0; i < n; i += 4) {
+    const o = <usize>i * 4;
+    v128.store(angle + o, angle4(v128.load(vx + o), v128.load(vy + o)));
+  }
+}
+
+/** The angles of four pixels from their doubled-angle components (d, b2): the body of `angles`. */
+// @ts-ignore: decorator
+@inline
+function angle4(d: v128, b2: v128): v128 {
   const zero = f32x4.splat(0), half = f32x4.splat(0.5);
   const signBit = i32x4.splat(0x80000000);
   const halfPi = f32x4.splat(HALF_PI_ROUND), pi = f32x4.splat(PI_F32), halfPiF = f32x4.splat(HALF_PI_F32);
   const c1 = f32x4.splat(0.999866), c3 = f32x4.splat(-0.3302995), c5 = f32x4.splat(0.180141), c7 = f32x4.splat(-0.085133), c9 = f32x4.splat(0.0208351);
+  const ax = f32x4.abs(d), ay = f32x4.abs(b2);
+  const big = f32x4.max(ax, ay);
+  const z = v128.bitselect(f32x4.div(f32x4.min(ax, ay), big), zero, f32x4.gt(big, zero));
+  const z2 = f32x4.mul(z, z);
+  let r = f32x4.mul(z, f32x4.add(c1, f32x4.mul(z2, f32x4.add(c3, f32x4.mul(z2, f32x4.add(c5, f32x4.mul(z2, f32x4.add(c7, f32x4.mul(z2, c9)))))))));
+  r = v128.bitselect(f32x4.sub(halfPi, r), r, f32x4.gt(ay, ax));
+  r = v128.bitselect(f32x4.sub(pi, r), r, i32x4.ne(v128.and(d, signBit), i32x4.splat(0)));
+  r = v128.xor(r, v128.and(b2, signBit));
+  const t = f32x4.mul(half, r);
+  const folded = v128.bitselect(f32x4.add(t, pi), t, f32x4.le(t, f32x4.neg(halfPi)));
+  return f32x4.min(halfPiF, folded);
+}
+
+/**
+ * The orientation colour picture's pixels (src/report/colourMap.ts, orientationRgba, little-endian words) of
+ * `n` pixels (a multiple of 4) straight from cos 2 theta and sin 2 theta: each angle as `angles` makes it, then
+ * the colour table's word (`table`, `entries` u32 words of R | G << 8 | B << 16) at k = floor(angle * scale)
+ * (reduced modulo entries when outside the table), and the opacity round-half-up of alphaMax x the coherency
+ * clamped to [0, 1] (NaN as 0) in the top byte; masked pixels (mask byte 0) are 0, and an angle that is not a
+ * number gets no colour, only its opacity. The same words as
+ * orientationRgba of the angle layer, without making it.
+ */
+export function orientationWords(vx: usize, vy: usize, coherency: usize, mask: usize, n: i32, table: usize, entries: i32, scale: f64, alphaMax: f64, out: usize): void {
+  const sc = f64x2.splat(scale), am = f64x2.splat(alphaMax), halfV = f64x2.splat(0.5);
+  const zero = f32x4.splat(0), one = f32x4.splat(1), nV = i32x4.splat(entries), izero = i32x4.splat(0);
   for (let i = 0; i < n; i += 4) {
     const o = <usize>i * 4;
-    const d = v128.load(vx + o), b2 = v128.load(vy + o);
-    const ax = f32x4.abs(d), ay = f32x4.abs(b2);
-    const big = f32x4.max(ax, ay);
-    const z = v128.bitselect(f32x4.div(f32x4.min(ax, ay), big), zero, f32x4.gt(big, zero));
-    const z2 = f32x4.mul(z, z);
-    let r = f32x4.mul(z, f32x4.add(c1, f32x4.mul(z2, f32x4.add(c3, f32x4.mul(z2, f32x4.add(c5, f32x4.mul(z2, f32x4.add(c7, f32x4.mul(z2, c9)))))))));
-    r = v128.bitselect(f32x4.sub(halfPi, r), r, f32x4.gt(ay, ax));
-    r = v128.bitselect(f32x4.sub(pi, r), r, i32x4.ne(v128.and(d, signBit), i32x4.splat(0)));
-    r = v128.xor(r, v128.and(b2, signBit));
-    const t = f32x4.mul(half, r);
-    const folded = v128.bitselect(f32x4.add(t, pi), t, f32x4.le(t, f32x4.neg(halfPi)));
-    v128.store(angle + o, f32x4.min(halfPiF, folded));
+    const a = angle4(v128.load(vx + o), v128.load(vy + o));
+    // k = floor(angle x scale): angles lie in [-pi/2, pi/2], so k lies within one table length of it, and the
+    // remainder's only work is adding a length to a negative k.
+    const klo = f64x2.floor(f64x2.mul(f64x2.promote_low_f32x4(a), sc));
+    const khi = f64x2.floor(f64x2.mul(f64x2.promote_low_f32x4(i32x4.shuffle(a, a, 2, 3, 0, 1)), sc));
+    let k = i32x4.shuffle(i32x4.trunc_sat_f64x2_s_zero(klo), i32x4.trunc_sat_f64x2_s_zero(khi), 0, 1, 4, 5);
+    k = i32x4.add(k, v128.and(i32x4.lt_s(k, izero), nV));
+    // Opacity: the coherency clamped to [0, 1] (NaN as 0), times alphaMax, rounded half up.
+    const c = f32x4.min(v128.bitselect(v128.load(coherency + o), zero, f32x4.gt(v128.load(coherency + o), zero)), one);
+    const alo = f64x2.add(f64x2.mul(f64x2.promote_low_f32x4(c), am), halfV);
+    const ahi = f64x2.add(f64x2.mul(f64x2.promote_low_f32x4(i32x4.shuffle(c, c, 2, 3, 0, 1)), am), halfV);
+    const alpha = i32x4.shl(i32x4.shuffle(i32x4.trunc_sat_f64x2_s_zero(alo), i32x4.trunc_sat_f64x2_s_zero(ahi), 0, 1, 4, 5), 24);
+    let rgb = i32x4.splat(load<u32>(table + (<usize>i32x4.extract_lane(k, 0)) * 4));
+    rgb = i32x4.replace_lane(rgb, 1, load<u32>(table + (<usize>i32x4.extract_lane(k, 1)) * 4));
+    rgb = i32x4.replace_lane(rgb, 2, load<u32>(table + (<usize>i32x4.extract_lane(k, 2)) * 4));
+    rgb = i32x4.replace_lane(rgb, 3, load<u32>(table + (<usize>i32x4.extract_lane(k, 3)) * 4));
+    // An angle that is not a number has no colour, only its opacity; masked pixels are clear.
+    rgb = v128.andnot(rgb, f32x4.ne(a, a));
+    const shown = i32x4.ne(i32x4.extend_low_i16x8_u(i16x8.extend_low_i8x16_u(v128.load32_zero(mask + <usize>i))), izero);
+    v128.store(out + o, v128.and(v128.or(rgb, alpha), shown));
   }
 }
 

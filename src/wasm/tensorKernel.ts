@@ -13,6 +13,7 @@ export interface KernelExports {
   outputWindows(rowsXX: number, rowsXY: number, rowsYY: number, kg: number, kglen: number, lean: number, xs: number, count: number, tables: number,
     out0: number, out1: number, out2: number, out3: number): void;
   angles(vx: number, vy: number, angle: number, n: number): void;
+  orientationWords(vx: number, vy: number, coherency: number, mask: number, n: number, table: number, entries: number, scale: number, alphaMax: number, out: number): void;
   maskPixels(strength: number, coherency: number, n: number, floor: number, least: number, mask: number): number;
   blockRows(mask: number, region: number, weights: number, coherency: number, c2: number, s2: number, width: number, rows: number, B: number,
     sw: number, sc: number, ss: number, sn: number, tally: number): void;

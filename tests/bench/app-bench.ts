@@ -108,6 +108,13 @@ async function timedOrientation(page: Page): Promise<number> {
   return shown;
 }
 
+/** The worker's time for the colour map after the numbers of the last run (its 'orientation picture' step), once the run is over. */
+async function pictureMs(page: Page): Promise<number> {
+  await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
+  const steps = JSON.parse((await page.getByTestId('orient-section').getAttribute('data-worker-ms')) ?? '{}') as Record<string, number>;
+  return steps['orientation picture'] ?? NaN;
+}
+
 /** The parts of each timed click (ms): click to request sent, request to numbers back, numbers to drawn. */
 const splits: { toRequest: number; toNumbers: number; toShown: number }[] = [];
 
@@ -186,6 +193,7 @@ async function main(): Promise<void> {
     await page.locator('.viewer[data-overlay="colour"]').waitFor({ timeout: 60_000 });
     await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
     const shownAll = Date.now() - t1;
+    const maps = [await pictureMs(page)];
     const tasks = await page.evaluate((from) => (window as unknown as { __longTasks: { start: number; duration: number }[] }).__longTasks.filter((t) => t.start >= from), startMark);
     // Steps inside the worker (performance.now() marks sent back with the reply).
     const steps = Object.entries(JSON.parse((await page.getByTestId('orient-section').getAttribute('data-worker-ms')) ?? '{}') as Record<string, number>);
@@ -202,7 +210,7 @@ async function main(): Promise<void> {
     const again: number[] = [];
     for (let k = 0; k < 2; k++) {
       again.push(await timedOrientation(page));
-      await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
+      maps.push(await pictureMs(page));
     }
     const helperTiles = await page.getByTestId('orient-section').getAttribute('data-helper-tiles');
     const sharedSplits = splits.splice(0);
@@ -217,7 +225,7 @@ async function main(): Promise<void> {
     const alone: number[] = [];
     for (let k = 0; k < 3; k++) {
       alone.push(await timedOrientation(page));
-      await page.getByTestId('busy').waitFor({ state: 'detached', timeout: 60_000 }).catch(() => undefined);
+      maps.push(await pictureMs(page));
     }
     alone.sort((x, y) => x - y);
     await page.goto(url);
@@ -231,6 +239,7 @@ async function main(): Promise<void> {
     console.log(`  of which (medians): click to request ${part('toRequest')}, request to numbers back ${part('toNumbers')}, numbers to drawn ${part('toShown')}`);
     console.log(`  the same on one worker (?workers=1):            ${alone.map(ms).join(', ')}; median ${ms(alone[1])}: ${(alone[1] / all[1]).toFixed(2)}x the shared median`);
     console.log(`  click to the map drawn and progress gone:       ${ms(shownAll)} (first run, as the test driver saw it)`);
+    console.log(`  colour map after the numbers, in the worker:    ${maps.map(ms).join(', ')} (each run above: shared, then one worker)`);
     console.log(`  in the worker:                                  ${steps.map(([k, v]) => `${k} ${ms(v)}`).join('; ')}`);
     console.log(`  first view of, click to drawn:                  ${lazy.join('; ')}`);
     console.log(`  main-thread long tasks (> 50 ms) during it:      ${tasks.length}${tasks.length ? `, longest ${ms(Math.max(...tasks.map((t) => t.duration)))}, total ${ms(tasks.reduce((s, t) => s + t.duration, 0))}` : ''}`);
