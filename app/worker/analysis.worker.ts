@@ -30,6 +30,15 @@ const opticalFields = new Map<string, OrientationField>();
 /** Other workers that compute tiles of this worker's texture fields (set by the page with `linkHelper`). */
 let tileHelpers: TileHelper[] = [];
 
+/**
+ * The helpers a still image's field is shared with: none when there is only one (two cores). There the helper's
+ * strips cost more than they save, as it competes with this worker for the second core that the page and the
+ * browser need too: bench:app at 12 MP on a shared 2-core machine, click to numbers 0.33-1.14 s shared against
+ * 0.26-0.40 s on this worker alone, and the colour map after them 0.2-1.2 s against 0.25-0.31 s. The one helper
+ * still reads every other camera frame.
+ */
+const stripHelpers = (): TileHelper[] => (tileHelpers.length >= 2 ? tileHelpers : []);
+
 function post(reply: Reply, transfer: Transferable[] = []): void {
   scope.postMessage(reply, transfer);
 }
@@ -78,7 +87,7 @@ async function textureField(key: string, options: OrientOptions, progress: Progr
   const cached = fields.get(key);
   if (cached && cached.optionsKey === optionsKey) return cached.field;
   progress('structure tensor', 0.2);
-  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined }, tileHelpers);
+  const { field } = await analyseOrientation(imageOf(key), { ...options, region: undefined }, stripHelpers());
   fields.set(key, { optionsKey, field });
   return field;
 }
@@ -139,7 +148,7 @@ const handlers: { [K in CommandName]: Handler<K> } = {
     progress('structure tensor and order', 0.1);
     // Exactly what `retarda orient` runs, so the numbers shown equal the command line's (helpers change no bit).
     let helperTiles = 0;
-    const counted = tileHelpers.map((h): TileHelper => (job) => h(job).then((px) => { helperTiles++; return px; }));
+    const counted = stripHelpers().map((h): TileHelper => (job) => h(job).then((px) => { helperTiles++; return px; }));
     const { result, field } = await analyseOrientation(img, options, counted);
     timer.lap('structure tensor and order');
     fields.set(key, { optionsKey: textureKey(options), field });
