@@ -137,6 +137,24 @@ export const DEFAULT_ILLUMINANT = '3200K';
 export const READING_NAMES = { plate: 'plate reading', 'plate-pair': 'plate pair', 'angle-series': 'angle series' } as const;
 export type ReadingKind = keyof typeof READING_NAMES;
 
+/**
+ * Most pixels per image each optical reading takes, so that a whole command (its images as decoded, the reading's
+ * per-pixel layers and the summary) stays within 1 GB (10^9 bytes) for any input file of 100 MB or less (issue 12).
+ * From measured peaks of whole `retarda` runs on RGB PNGs (tests/bench/maxrss.mjs), about 33 MB per megapixel for the
+ * plate reading, 46 for the plate pair (two images) and 70 for the angle series (four images), over 80-110 MB for the
+ * program; a design choice from those measurements. Larger images are refused before the reading takes its memory.
+ */
+export const OPTICS_MAX_PIXELS: Record<ReadingKind, number> = { plate: 24e6, 'plate-pair': 16e6, 'angle-series': 12.2e6 };
+
+/** Refuses an image larger than the reading takes within its memory limit (OPTICS_MAX_PIXELS), naming both. */
+export function checkReadingSize(kind: ReadingKind, img: Image): void {
+  const px = img.width * img.height, max = OPTICS_MAX_PIXELS[kind];
+  if (px <= max) return;
+  throw new InputError(
+    `${img.source.name}: ${img.width} x ${img.height} pixels (${(px / 1e6).toFixed(1)} MP) is more than the ${READING_NAMES[kind]} reads within this program's 1 GB memory limit (${(max / 1e6).toFixed(1)} MP per image)`,
+    'Crop the region of interest or bin the image (e.g. 2x2) and read it again');
+}
+
 /** The train: polariser (default 0), crossed analyser, full-wave compensator (550 nm at polariser + 45 deg), lamp (3200 K). */
 export function trainOf(o: TrainOptions): Partial<OpticalTrain> {
   const pol = checkLimit(OPTICS_LIMITS.polariserDeg, o.polariserDeg);
@@ -245,6 +263,7 @@ export function calibrationJson(c: PlateCalibration | null) {
 export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetardanceOptions & { match?: MatchSpace; axisDeg?: number }): PlateReading {
   const match = o.match ?? 'lab';
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
+  checkReadingSize('plate', img);
   return readPlate(img, {
     train: trainOf(o), ...retardanceRange(o), match, birefringenceSign: signOf(o.sign),
     background: o.sampleFree, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
@@ -376,6 +395,8 @@ export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
 
 /** Full orientation (0-180 deg) and retardance from two compensator images, B with the optics turned by turnDeg. */
 export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAnalysisOptions = {}): Promise<OpticsAnalysis> {
+  checkReadingSize('plate-pair', imgA);
+  checkReadingSize('plate-pair', imgB);
   const r = readPlatePair(imgA, imgB, {
     train: trainOf(o), turnDeg: checkLimit(OPTICS_LIMITS.turnDeg, o.turnDeg), ...retardanceRange(o), birefringenceSign: signOf(o.sign),
     background: o.sampleFree, calibration: calibrationOf(o), maxShiftPx: checkLimit(OPTICS_LIMITS.maxShiftPx, o.maxShiftPx), camera: cameraOf(o.whiteRgb),
@@ -397,9 +418,10 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
   if (images.length !== anglesDeg.length) {
     throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
   }
+  for (const img of images) checkReadingSize('angle-series', img);
   const r = fourAngleAnalysis(images, {
     anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: checkLimit(OPTICS_LIMITS.amplitudeFloor, o.amplitudeFloor),
-    plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateSampleFree },
+    plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateSampleFree }, keepBackground: false,
   });
   const usable = { mask: r.field.mask };
   const result = await opticsResult('angle-series', images[0], r.field, o, {

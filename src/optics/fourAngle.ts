@@ -139,12 +139,15 @@ export interface FourAngleOptions {
   plateOptions?: PlateSignOptions;
   /** Without a plate: take orientations within 45 deg of this axis (default: the axis the field concentrates about). */
   referenceAxisDeg?: number;
+  /** Keep the per-pixel background b (default true); without it the result's background is null (4 bytes per pixel less). */
+  keepBackground?: boolean;
 }
 
 export interface FourAngleResult {
   field: OrientationField;
   amplitude: Float32Array;
-  background: Float32Array;
+  /** Per-pixel background b = a0 - A/2, or null when not kept (keepBackground false). */
+  background: Float32Array | null;
   residual: Float32Array;
   /** Fraction of usable pixels whose 90-deg choice the plate image decided (0 without a plate). */
   resolvedFraction: number;
@@ -239,7 +242,8 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   }
   const n = width * height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), mask = new Uint8Array(n);
-  const amplitude = new Float32Array(n), background = new Float32Array(n), residual = new Float32Array(n);
+  const amplitude = new Float32Array(n), residual = new Float32Array(n);
+  const background = options.keepBackground === false ? null : new Float32Array(n);
   const out = { angleRad, confidence, mask, amplitude, background, residual };
   const fit = { P, cos4: anglesRad.map((a) => Math.cos(4 * a)), sin4: anglesRad.map((a) => Math.sin(4 * a)), dark, flat, flatMean };
   const counts = { flatBad: 0, nonFinite: 0, clipped: 0 };
@@ -302,7 +306,7 @@ interface SeriesFit {
 }
 interface SeriesOut {
   angleRad: Float32Array; confidence: Float32Array; mask: Uint8Array;
-  amplitude: Float32Array; background: Float32Array; residual: Float32Array;
+  amplitude: Float32Array; background: Float32Array | null; residual: Float32Array;
 }
 
 /**
@@ -338,7 +342,8 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
     if (th < 0) th += Math.PI / 2;
     if (th >= Math.PI / 2) th -= Math.PI / 2;
     angleRad[i] = th;
-    amplitude[i] = amp; background[i] = a0 - amp / 2; residual[i] = res;
+    amplitude[i] = amp; residual[i] = res;
+    if (background) background[i] = a0 - amp / 2;
     confidence[i] = amp / (amp + 3 * res + 1e-12);
     mask[i] = 1;
   }

@@ -131,7 +131,7 @@ describe('fourAngleAnalysis and fitFourAngle against numpy least squares on the 
       for (let k = 0; k < n; k++) {
         // Float32 storage of the results: 1e-6 of the largest amplitude.
         expect(Math.abs(r.amplitude[k] - set.amplitude[k])).toBeLessThan(1e-6 * scale);
-        expect(Math.abs(r.background[k] - set.background[k])).toBeLessThan(1e-6 * scale);
+        expect(Math.abs(r.background![k] - set.background[k])).toBeLessThan(1e-6 * scale);
         expect(Math.abs(r.residual[k] - set.residual[k])).toBeLessThan(1e-6 * scale);
         if (!r.field.mask[k]) { masked++; continue; }
         // The field keeps theta or theta + 90 (folded about an axis): compare mod 90. Float32 angle: 1e-4 deg.
