@@ -86,6 +86,9 @@ export async function imagePicture(img: Image): Promise<{ picture: Picture; note
   return { picture, note: notes.join('; ') };
 }
 
+/** The pixels of the last texture colour picture, for the next one of the same size (null while one is being made). */
+let colourPixels: Uint8ClampedArray | null = null;
+
 /**
  * Orientation colour picture of a field (the report's cyclic colour map, `orientationRgba`). The colour's
  * opacity follows the confidence (`opacity: 'confidence'`, texture fields) or is full on every usable pixel
@@ -95,9 +98,16 @@ export async function imagePicture(img: Image): Promise<{ picture: Picture; note
 export async function orientationPicture(f: OrientationField, opacity: 'confidence' | 'full' = 'confidence'): Promise<Picture> {
   const step = pictureStep(f.width, f.height);
   const w = Math.ceil(f.width / step), h = Math.ceil(f.height / step);
-  // A texture field shown whole: its colours straight from cos 2 theta and sin 2 theta (the same bytes, no angle layer).
-  const direct = step === 1 && opacity === 'confidence' && f.cos2 && f.sin2 ? orientationColours(f.cos2, f.sin2, f.confidence, f.mask, orientationColourTable()) : null;
-  if (direct) return { width: w, height: h, scale: step, levels: await bitmapLevels(direct as Uint8ClampedArray<ArrayBuffer>, w, h) };
+  // A texture field shown whole: its colours straight from cos 2 theta and sin 2 theta (the same bytes, no angle
+  // layer), into the last picture's pixels when of the same size: the bitmaps are copies, so they are free again.
+  const direct = step === 1 && opacity === 'confidence' && f.cos2 && f.sin2
+    ? orientationColours(f.cos2, f.sin2, f.confidence, f.mask, orientationColourTable(), 255, colourPixels ?? undefined) : null;
+  if (direct) {
+    colourPixels = null;
+    const levels = await bitmapLevels(direct as Uint8ClampedArray<ArrayBuffer>, w, h);
+    colourPixels = direct;
+    return { width: w, height: h, scale: step, levels };
+  }
   const angle = subsample(f.angleRad, f.width, f.height, step, (n) => new Float32Array(n));
   const mask = subsample(f.mask, f.width, f.height, step, (n) => new Uint8Array(n));
   const confidence = opacity === 'full' ? new Float32Array(w * h).fill(1) : subsample(f.confidence, f.width, f.height, step, (n) => new Float32Array(n));

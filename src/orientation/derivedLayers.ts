@@ -72,21 +72,23 @@ const LITTLE_ENDIAN = new Uint8Array(Uint32Array.of(1).buffer)[0] === 1;
  * angle layer (the colour table's entry floor(theta n / pi) mod n, opacity round(alphaMax x coherency clamped to
  * [0, 1]), masked pixels clear), made by the kernel's orientationWords straight from cos 2 theta and sin 2 theta
  * a band at a time: the same bytes, without the full-size angle layer and a pass over it. `tableRgb` holds the
- * table's n entries as bytes r, g, b. Null where the kernel is not loaded or words are big-endian (the caller
- * then colours the angle layer).
+ * table's n entries as bytes r, g, b. `into`, when given and of 4 bytes a pixel, is written (every byte) and
+ * returned instead of a new array. Null where the kernel is not loaded or words are big-endian (the caller then
+ * colours the angle layer).
  */
 export function orientationColours(cos2: Float32Array, sin2: Float32Array, coherency: Float32Array, mask: Uint8Array,
-  tableRgb: Uint8Array, alphaMax = 255): Uint8ClampedArray | null {
+  tableRgb: Uint8Array, alphaMax = 255, into?: Uint8ClampedArray): Uint8ClampedArray | null {
   const k = loadedTensorKernel();
   if (!k || !LITTLE_ENDIAN) return null;
-  const n = cos2.length, entries = tableRgb.length / 3, out = new Uint8ClampedArray(4 * n);
+  const n = cos2.length, entries = tableRgb.length / 3;
+  const out = into && into.length === 4 * n && into.byteOffset % 4 === 0 ? into : new Uint8ClampedArray(4 * n);
   const mem = new KernelArena(k);
   const x = mem.reserve(ANGLE_BAND), y = mem.reserve(ANGLE_BAND), c = mem.reserve(ANGLE_BAND), m = mem.reserve(ANGLE_BAND / 4);
   const t = mem.reserve(entries), o = mem.reserve(ANGLE_BAND);
   mem.commit();
   const buf = k.memory.buffer;
   const vx = mem.view(x, ANGLE_BAND), vy = mem.view(y, ANGLE_BAND), vc = mem.view(c, ANGLE_BAND), vm = new Uint8Array(buf, m, ANGLE_BAND);
-  const table = new Uint32Array(buf, t, entries), vo = new Uint32Array(buf, o, ANGLE_BAND), words = new Uint32Array(out.buffer);
+  const table = new Uint32Array(buf, t, entries), vo = new Uint32Array(buf, o, ANGLE_BAND), words = new Uint32Array(out.buffer, out.byteOffset, n);
   for (let e = 0; e < entries; e++) table[e] = tableRgb[3 * e] | (tableRgb[3 * e + 1] << 8) | (tableRgb[3 * e + 2] << 16);
   for (let i = 0; i < n; i += ANGLE_BAND) {
     const len = Math.min(ANGLE_BAND, n - i);

@@ -31,6 +31,9 @@ describe('orientationColours', () => {
         const want = orientationRgba(anglesOf(cos2, sin2), coherency, mask, alphaMax);
         const got = orientationColours(cos2, sin2, coherency, mask, table, alphaMax)!;
         expect(Buffer.from(got.buffer).equals(Buffer.from(want.buffer)), `n ${n}, alphaMax ${alphaMax}`).toBe(true);
+        // Into an array that held another picture: every byte is written.
+        const reused = orientationColours(cos2, sin2, coherency, mask, table, alphaMax, new Uint8ClampedArray(4 * n).fill(0xab))!;
+        expect(Buffer.from(reused.buffer).equals(Buffer.from(want.buffer)), `n ${n}, alphaMax ${alphaMax}, reused`).toBe(true);
       }
     }
   });
