@@ -314,6 +314,7 @@ interface SeriesOut {
  * starting at i0, whose intensities per image are in I; writes the outputs and counts the pixels not read.
  */
 function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: SeriesFit, out: SeriesOut, counts: { flatBad: number; nonFinite: number; clipped: number }): void {
+  if (I.length === 4) { fitBlockOfFour(I, i0, clipped, fit, out, counts); return; }
   const nImg = I.length, len = I[0].length, { dark, flat, flatMean } = fit;
   const P0 = Float64Array.from(fit.P[0]), P1 = Float64Array.from(fit.P[1]), P2 = Float64Array.from(fit.P[2]);
   const cos4 = Float64Array.from(fit.cos4), sin4 = Float64Array.from(fit.sin4), v = new Float64Array(nImg);
@@ -347,4 +348,42 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
     confidence[i] = amp / (amp + 3 * res + 1e-12);
     mask[i] = 1;
   }
+}
+
+/** fitBlock for four images (the usual series), written out: the same operations in the same order, faster. */
+function fitBlockOfFour(I: Float32Array[], i0: number, clipped: Uint8Array, fit: SeriesFit, out: SeriesOut, counts: { flatBad: number; nonFinite: number; clipped: number }): void {
+  const len = I[0].length, { dark, flat, flatMean } = fit;
+  const [I0, I1, I2, I3] = I;
+  const [p00, p01, p02, p03] = fit.P[0], [p10, p11, p12, p13] = fit.P[1], [p20, p21, p22, p23] = fit.P[2];
+  const [c0, c1, c2, c3] = fit.cos4, [s0, s1, s2, s3] = fit.sin4;
+  const { angleRad, confidence, mask, amplitude, background, residual } = out;
+  let nClipped = 0, nFlatBad = 0, nNonFinite = 0;
+  for (let t = 0; t < len; t++) {
+    const i = i0 + t;
+    if (clipped[i]) { nClipped++; continue; }
+    let f = 1;
+    const d = dark ? dark[i] : 0;
+    if (flat) {
+      const fv = flat[i] - d;
+      if (!(fv > 1e-6)) { nFlatBad++; continue; }
+      f = flatMean / fv;
+    }
+    const x0 = (I0[t] - d) * f, x1 = (I1[t] - d) * f, x2 = (I2[t] - d) * f, x3 = (I3[t] - d) * f;
+    const a0 = 0 + p00 * x0 + p01 * x1 + p02 * x2 + p03 * x3;
+    const a4c = 0 + p10 * x0 + p11 * x1 + p12 * x2 + p13 * x3;
+    const a4s = 0 + p20 * x0 + p21 * x1 + p22 * x2 + p23 * x3;
+    if (!Number.isFinite(a0 + a4c + a4s)) { nNonFinite++; continue; }
+    const r0 = x0 - (a0 + a4c * c0 + a4s * s0), r1 = x1 - (a0 + a4c * c1 + a4s * s1), r2 = x2 - (a0 + a4c * c2 + a4s * s2), r3 = x3 - (a0 + a4c * c3 + a4s * s3);
+    const ss = 0 + r0 * r0 + r1 * r1 + r2 * r2 + r3 * r3;
+    const amp = 2 * Math.sqrt(a4c * a4c + a4s * a4s), res = Math.sqrt(ss / 1);
+    let th = 0.25 * Math.atan2(-a4s, -a4c);
+    if (th < 0) th += Math.PI / 2;
+    if (th >= Math.PI / 2) th -= Math.PI / 2;
+    angleRad[i] = th;
+    amplitude[i] = amp; residual[i] = res;
+    if (background) background[i] = a0 - amp / 2;
+    confidence[i] = amp / (amp + 3 * res + 1e-12);
+    mask[i] = 1;
+  }
+  counts.clipped += nClipped; counts.flatBad += nFlatBad; counts.nonFinite += nNonFinite;
 }
