@@ -12,7 +12,7 @@ import { orientationField, type OrientationField } from '../orientation/index.ts
 import { orderParameters, type Weighting } from '../order/index.ts';
 import {
   readPlate, readPlatePair, fourAngleAnalysis, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
-  compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, selectedCount, type RankSelection,
+  compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, type RankSelection,
   type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
 import { orientResult, type OrientResult } from './orient.ts';
@@ -218,8 +218,7 @@ export function confidenceStats(f: OrientationField): ConfidenceStats {
 
 /** The middle value (rank n/2 of n, as the readings have always given it) of the selected pixels' values; null for none. */
 function middleValue(values: Float32Array, sel: RankSelection): number | null {
-  const n = selectedCount(sel);
-  return n ? valuesOfRanks(values, sel, [n >> 1])[0] : null;
+  return valuesOfRanks(values, sel, (n) => (n ? [n >> 1] : []))[0] ?? null;
 }
 
 /** Median retardance over usable pixels with confidence >= 0.5 (all usable pixels when none is), nm. */

@@ -10,7 +10,7 @@ import { NEUTRAL_CAMERA } from './camera.ts';
 import { readCells } from './effectiveRetardance.ts';
 import { buildPlateLookup } from './lookupTable.ts';
 import { checkColourImage, FULL_SCALE_LEVEL, type Rect } from './pixels.ts';
-import { selectedCount, valuesOfRanks } from './ranks.ts';
+import { valuesOfRanks } from './ranks.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
 
@@ -258,8 +258,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   }
   const { flatBad, nonFinite, clipped: clippedCount } = counts;
   // The 99th percentile by radix selection in place (valuesOfRanks), not a sort or a copy: the same value.
-  const nUsable = selectedCount({ mask });
-  const ampRef = nUsable ? valuesOfRanks(amplitude, { mask }, [Math.min(nUsable - 1, Math.floor(0.99 * (nUsable - 1)))])[0] : 0;
+  const ampRef = valuesOfRanks(amplitude, { mask }, (k) => (k ? [Math.min(k - 1, Math.floor(0.99 * (k - 1)))] : []))[0] ?? 0;
   let lowAmp = 0;
   for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
   const warnings: string[] = [];

@@ -36,18 +36,22 @@ export function selectedCount(sel: RankSelection): number {
 
 /**
  * Values of ranks `ranks` (0-based, ascending; each below the number selected) among the selected pixels'
- * values, as a sort of those values would give them. NaN values must not be selected.
+ * values, as a sort of those values would give them; `ranks` may be a function of the number selected (counted
+ * in the same pass). NaN values must not be selected.
  */
-export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranks: number[]): number[] {
-  if (ranks.length === 0) return [];
+export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranksOf: number[] | ((count: number) => number[])): number[] {
   const bits = new Uint32Array(values.buffer, values.byteOffset, values.length);
   const { mask, minOf } = sel, min = sel.min ?? -Infinity;
   const n = values.length;
   const high = new Int32Array(HALF);
+  let count = 0;
   for (let i = 0; i < n; i++) {
     if (!mask[i] || (minOf && !(minOf[i] >= min))) continue;
     high[keyOf(bits[i]) >>> 16]++;
+    count++;
   }
+  const ranks = typeof ranksOf === 'function' ? ranksOf(count) : ranksOf;
+  if (ranks.length === 0) return [];
   // The bucket of each rank, and the rank within it.
   const buckets = ranks.map((r) => {
     let b = 0, below = 0;

@@ -28,6 +28,8 @@ describe('valuesOfRanks: order statistics by radix selection', () => {
           if (ref.length === 0) continue;
           const ranks = [0, Math.floor(0.1 * (ref.length - 1)), ref.length >> 1, Math.floor(0.99 * (ref.length - 1)), ref.length - 1];
           expect(valuesOfRanks(values, sel, ranks)).toEqual(ranks.map((r) => ref[r] + 0));
+          // Ranks given as a function of the number selected (counted in the same pass).
+          expect(valuesOfRanks(values, sel, (k) => [k >> 1])).toEqual([ref[ref.length >> 1] + 0]);
         }
       }
     });
