@@ -40,4 +40,4 @@ export type { FourierFit, FourAngleOptions, FourAngleResult, PlateSignOptions } 
 export { fitFourAngle, fourAngleAnalysis } from './fourAngle.ts';
 export type { RenderOptions } from './render.ts';
 export { renderSampleImage } from './render.ts';
-export { valuesOfRanks, selectedCount, type RankSelection } from './ranks.ts';
+export { valuesOfRanks, type RankSelection } from './ranks.ts';

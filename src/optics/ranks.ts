@@ -25,15 +25,6 @@ export interface RankSelection {
   min?: number;
 }
 
-/** Number of selected pixels. */
-export function selectedCount(sel: RankSelection): number {
-  const { mask, minOf } = sel, min = sel.min ?? -Infinity;
-  let n = 0;
-  if (minOf) { for (let i = 0; i < mask.length; i++) if (mask[i] && minOf[i] >= min) n++; }
-  else for (let i = 0; i < mask.length; i++) n += mask[i] ? 1 : 0;
-  return n;
-}
-
 /**
  * Values of ranks `ranks` (0-based, ascending; each below the number selected) among the selected pixels'
  * values, as a sort of those values would give them; `ranks` may be a function of the number selected (counted
