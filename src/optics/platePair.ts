@@ -263,12 +263,18 @@ class PairSearch {
     const ra = this.rowsA.of(ca, a0, a1, a2), oa = this.rowsA.offset(ca);
     const rb = this.rowsB.of(cb, b0, b1, b2), ob = this.rowsB.offset(cb);
     let best = this.cost(bj, bk, a0, a1, a2, b0, b1, b2);
+    const A = this.lutA.coords, B = this.lutB.coords;
     for (let r = 0; r < nRows; r++) {
-      const j = r * ROW_STRIDE;
-      const ka = ra[oa + r], da = this.cost(j, ka, a0, a1, a2, b0, b1, b2);
+      const j = r * ROW_STRIDE, ka = ra[oa + r], kb = rb[ob + r];
+      // cost(j, ka) and cost(j, kb), written out.
+      let o = 3 * (j * nR + ka);
+      let x = A[o] - a0, y = A[o + 1] - a1, z = A[o + 2] - a2, u = B[o] - b0, v = B[o + 1] - b1, w = B[o + 2] - b2;
+      const da = x * x + y * y + z * z + u * u + v * v + w * w;
       costA[r] = da;
       if (da < best) { best = da; bj = j; bk = ka; }
-      const kb = rb[ob + r], db = this.cost(j, kb, a0, a1, a2, b0, b1, b2);
+      o = 3 * (j * nR + kb);
+      x = A[o] - a0; y = A[o + 1] - a1; z = A[o + 2] - a2; u = B[o] - b0; v = B[o + 1] - b1; w = B[o + 2] - b2;
+      const db = x * x + y * y + z * z + u * u + v * v + w * w;
       costB[r] = db;
       if (db < best) { best = db; bj = j; bk = kb; }
     }
@@ -276,10 +282,12 @@ class PairSearch {
     const aStep = this.lutA.anglesDeg[1] - this.lutA.anglesDeg[0], rStep = this.lutA.retardancesNm[1] - this.lutA.retardancesNm[0];
     const wa = Math.max(1, Math.round(3 / aStep)), wr = Math.max(1, Math.round(8 / rStep));
     let fine = Infinity, fj = bj, fk = bk;
+    const kLo = Math.max(0, bk - wr), kHi = Math.min(nR - 1, bk + wr);
     for (let dj = -wa; dj <= wa; dj++) {
       const j = (((bj + dj) % nA) + nA) % nA;
-      for (let k = Math.max(0, bk - wr); k <= Math.min(nR - 1, bk + wr); k++) {
-        const d = this.cost(j, k, a0, a1, a2, b0, b1, b2);
+      for (let k = kLo, o = 3 * (j * nR + kLo); k <= kHi; k++, o += 3) {
+        const x = A[o] - a0, y = A[o + 1] - a1, z = A[o + 2] - a2, u = B[o] - b0, v = B[o + 1] - b1, w = B[o + 2] - b2;
+        const d = x * x + y * y + z * z + u * u + v * v + w * w;
         if (d < fine) { fine = d; fj = j; fk = k; }
       }
     }
