@@ -115,6 +115,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const pairs = new PairReadings(floorNm);
   const out = { angleRad, retardanceNm, confidence, cos2, sin2 };
   const qa = new Int32Array(Math.min(n, PAIR_BLOCK_PX)), qb = new Int32Array(qa.length);
+  let lastA = -1, lastB = -1, lastHit = -1;
   for (let i0 = 0; i0 < n; i0 += PAIR_BLOCK_PX) {
     const len = Math.min(PAIR_BLOCK_PX, n - i0);
     quantiseInto(imgA, bits, i0, qa.subarray(0, len), clipped);
@@ -122,7 +123,8 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     for (let t = 0; t < len; t++) {
       const i = i0 + t, ca = qa[t], cb = qb[t];
       if (ca < 0 || cb < 0) { masked++; continue; }
-      let hit = pairs.find(ca, cb);
+      // Neighbouring pixels often share their pair of cells: the last pair's entry first.
+      let hit = ca === lastA && cb === lastB ? lastHit : pairs.find(ca, cb);
       if (hit < 0) {
         cellsA.ensure(ca); cellsB.ensure(cb);
         // Candidates: the closed-form first-order reading, and along every angle row the retardance that best explains either image.
@@ -136,6 +138,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
         // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
         hit = pairs.add(ca, cb, wrapAxialDeg(fine.angleDeg) * DEG, ret, Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400));
       }
+      lastA = ca; lastB = cb; lastHit = hit;
       if (pairs.write(hit, i, out)) belowFloor++; else mask[i] = 1;
     }
   }
