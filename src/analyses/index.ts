@@ -1,7 +1,7 @@
 export { SCHEMA_VERSION, NOT_DETERMINED, upgradeResult, upgradeCommandLine } from './schema.ts';
 export type { ResultHead } from './schema.ts';
 export type { OrientOptions, OrientResult } from './orient.ts';
-export { analyseOrientation, analyseOrientationStreamed, orientResult, HELD_FIELD_MAX_PIXELS } from './orient.ts';
+export { analyseOrientation, analyseOrientationRows, analyseOrientationStreamed, orientResult, HELD_FIELD_MAX_PIXELS } from './orient.ts';
 export type { ProfileRequest, ProfileResult } from './profile.ts';
 export { analyseProfile, resolveChannel } from './profile.ts';
 export type {

@@ -1,5 +1,5 @@
 import { toGrey, type Image } from '../image/index.ts';
-import { orientationField, type OrientationField, type OrientationFieldOptions, type TileHelper } from '../orientation/index.ts';
+import { orientationField, type OrientationField, type OrientationFieldOptions, type PlaneRows, type TileHelper } from '../orientation/index.ts';
 import { orderParameters, streamedOrderParameters, type OrderOptions, type OrderSummary } from '../order/index.ts';
 import { rectMask, type Rect } from '../common/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
@@ -53,12 +53,23 @@ export const HELD_FIELD_MAX_PIXELS = 24_000_000;
  * images larger than HELD_FIELD_MAX_PIXELS.
  */
 export async function analyseOrientationStreamed(img: Image, o: OrientOptions = {}): Promise<OrientResult> {
-  const region = o.region ? rectMask(o.region, img.width, img.height) : undefined;
-  const { summary, field } = await streamedOrderParameters(toGrey(img), { ...o, region });
-  return orientResult(img, field, summary, o);
+  return analyseOrientationRows(img, toGrey(img), o);
 }
 
-export function orientResult(img: Image, field: Pick<OrientationField, 'options' | 'warnings' | 'method'>, s: OrderSummary, o: OrientOptions): OrientResult {
+/**
+ * analyseOrientationStreamed of an image given by its facts and its grey plane or rows read on demand
+ * (src/image greyTiffRows: no plane held at all).
+ */
+export async function analyseOrientationRows(head: ResultImage, grey: PlaneRows, o: OrientOptions = {}): Promise<OrientResult> {
+  const region = o.region ? rectMask(o.region, head.width, head.height) : undefined;
+  const { summary, field } = await streamedOrderParameters(grey, { ...o, region });
+  return orientResult(head, field, summary, o);
+}
+
+/** The facts of an image a result reports. */
+type ResultImage = Pick<Image, 'width' | 'height' | 'source' | 'pixelSizeUmPerPx'>;
+
+export function orientResult(img: ResultImage, field: Pick<OrientationField, 'options' | 'warnings' | 'method'>, s: OrderSummary, o: OrientOptions): OrientResult {
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'orient', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,

@@ -1,7 +1,7 @@
 import { readFileSync, statSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { InputError } from '../common/index.ts';
-import { decodeImage, decodeImagePages, MAX_DECODE_BYTES, usePlatformCodecs, type Image } from '../image/index.ts';
+import { decodeImage, decodeImagePages, detectFormat, greyTiffRows, MAX_DECODE_BYTES, usePlatformCodecs, type GreyRows, type Image, type ImageHead } from '../image/index.ts';
 import { NODE_CODECS } from './platform.ts';
 
 /** Node's readFile refuses files over 2 GiB; a 250 MP 16-bit RGB TIFF is 1.5 GB. */
@@ -64,6 +64,22 @@ export async function loadImageFiles(paths: string[], options: { grey?: boolean 
     images.push(img);
   }
   return images;
+}
+
+/**
+ * One image file for an analysis that can stream its grey rows: a plain grey TIFF (greyTiffRows) of more than
+ * `rowsAbove` pixels comes as rows read from the file on demand (no plane of 4 bytes a pixel), anything else
+ * decoded as loadImageFiles does with `grey` (the same values either way).
+ * @throws InputError as loadImageFiles
+ */
+export async function loadGreyImageOrRows(path: string, rowsAbove: number): Promise<{ img: Image } | { head: ImageHead; rows: GreyRows }> {
+  usePlatformCodecs(NODE_CODECS);
+  const bytes = await readImageBytes(path);
+  if (detectFormat(bytes, path) === 'tiff') {
+    const found = greyTiffRows(bytes, path);
+    if (found && found.head.width * found.head.height > rowsAbove) return found;
+  }
+  return { img: decodeImage(bytes, path, 0, MAX_DECODE_BYTES, { grey: true }) };
 }
 
 /**

@@ -6,3 +6,4 @@ export { detectFormat, type ImageFormat } from './format.ts';
 export { ACCEPTED_FORMATS } from './checks.ts';
 export { planTiles, cropPlane, pasteInner, checkTileInside, type Tile } from './tiles.ts';
 export { usePlatformCodecs, ZlibProblem, type PlatformCodecs } from './inflate.ts';
+export { greyTiffRows, type GreyRows, type ImageHead } from './tiffRows.ts';

@@ -65,7 +65,7 @@ function decompressedBlockBytes(h: TiffPageHeader): number {
 type SampleMap = (v: number) => number;
 
 /** Plane values of every code of an unsigned integer sample of at most 16 bits (see decodeTiffPages), or null. */
-function codeTable(h: TiffPageHeader): Float32Array | null {
+export function codeTable(h: TiffPageHeader): Float32Array | null {
   if (h.sampleFormat === 3 || h.bitsPerSample > 16) return null;
   const max = 2 ** h.bitsPerSample - 1;
   const table = new Float32Array(max + 1);
@@ -110,7 +110,7 @@ function readCodesRow(data: Uint8Array, start: number, columns: number, spp: num
 }
 
 /** Whether this machine stores numbers little-endian (typed arrays use its order). */
-const NATIVE_LITTLE = new Uint8Array(Uint16Array.of(1).buffer)[0] === 1;
+export const NATIVE_LITTLE = new Uint8Array(Uint16Array.of(1).buffer)[0] === 1;
 
 function decodePage(bytes: Uint8Array, littleEndian: boolean, h: TiffPageHeader, what: string, name: string,
   stackDescription?: string): Image {

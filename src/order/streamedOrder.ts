@@ -1,5 +1,5 @@
-import { InputError, AXIS_DEG_LIMIT, checkLimit, degToRad, type Plane } from '../common/index.ts';
-import { resolveMaskOptions, resolveTensorOptions, streamMaskedRows, surveyTexture, type OrientationFieldOptions } from '../orientation/index.ts';
+import { InputError, AXIS_DEG_LIMIT, checkLimit, degToRad } from '../common/index.ts';
+import { resolveMaskOptions, resolveTensorOptions, streamMaskedRows, surveyTexture, type OrientationFieldOptions, type PlaneRows } from '../orientation/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import { BlockList, BlockRowSums, weightingFits, type BlockTarget } from './accumulate.ts';
 import { correlationLengthOf, correlationPlan } from './correlation.ts';
@@ -9,7 +9,8 @@ import { BLOCK_PX_LIMIT, blockPxFor, checkWeighting, DEFAULT_WEIGHTING, orderSum
 export interface FieldRecord { width: number; height: number; method: 'texture'; options: Record<string, unknown>; warnings: string[] }
 
 /**
- * orderParameters(orientationField(plane, options), options) without holding the field: the plane streams
+ * orderParameters(orientationField(plane, options), options) without holding the field: the plane (or its rows
+ * read on demand) streams
  * through the tensor kernel twice (src/orientation/streamedField.ts). The first pass keeps what the mask and the
  * block size need (the strength floor's sample, the correlation length's lines and grid); the second masks each
  * row and adds it to the block sums as it comes (BlockRowSums, cut into the same groups of rows as
@@ -17,7 +18,7 @@ export interface FieldRecord { width: number; height: number; method: 'texture';
  * (tests/order/streamed-order.test.ts), in the memory of the plane and a few rows, at the cost of a second pass
  * through the kernel.
  */
-export async function streamedOrderParameters(plane: Plane, options: OrientationFieldOptions & OrderOptions = {}): Promise<{ summary: OrderSummary; field: FieldRecord }> {
+export async function streamedOrderParameters(plane: PlaneRows, options: OrientationFieldOptions & OrderOptions = {}): Promise<{ summary: OrderSummary; field: FieldRecord }> {
   const { width, height } = plane;
   // Checked in the order orientationField, then orderParameters, check them.
   resolveTensorOptions(options);

@@ -13,3 +13,4 @@ export { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from '.
 export { surveyTexture, streamMaskedRows } from './streamedField.ts';
 export type { SurveyPlan, MaskedLine, TextureSurvey, MaskSlot, MaskedRowSink } from './streamedField.ts';
 export { orientationColours } from './derivedLayers.ts';
+export type { RowSource, PlaneRows } from './tensorStream.ts';

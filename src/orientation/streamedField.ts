@@ -1,6 +1,6 @@
-import type { Plane } from '../common/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import { resolveTensorOptions, streamTileRows, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
+import type { PlaneRows } from './tensorStream.ts';
 import {
   float32Above, float32Below, maskWarnings, quantileStep, resolveMaskOptions, sampleQuantile, strengthFloorOf, type MaskOptions,
 } from './fieldFromTensor.ts';
@@ -24,8 +24,8 @@ export interface MaskedLine { mask: Uint8Array; cos2: Float32Array; sin2: Float3
 
 /** What the first pass found. */
 export interface TextureSurvey {
-  /** The plane the rows come from (non-finite pixels filled, when there were any). */
-  plane: Plane;
+  /** The plane or rows the field comes from (non-finite pixels filled, when there were any). */
+  plane: PlaneRows;
   tensor: Required<StructureTensorOptions>;
   /** Masking thresholds as the kernel compares them (float32): strength > strengthAbove and coherency >= coherencyFrom. */
   strengthAbove: number;
@@ -50,7 +50,7 @@ const rawLine = (n: number): RawLine => ({ strength: new Float32Array(n), confid
  * grid, then sets the thresholds as finishTextureField does and masks the kept pixels. A plane with values that
  * are not finite is filled and streamed again, as orientationField does.
  */
-export async function surveyTexture(input: Plane, options: StructureTensorOptions & MaskOptions, plan: SurveyPlan): Promise<TextureSurvey> {
+export async function surveyTexture(input: PlaneRows, options: StructureTensorOptions & MaskOptions, plan: SurveyPlan): Promise<TextureSurvey> {
   const t = resolveTensorOptions(options);
   const mo = resolveMaskOptions(options);
   const { width: w, height: h } = input;
@@ -69,7 +69,7 @@ export async function surveyTexture(input: Plane, options: StructureTensorOption
       return 16 * count < w ? starts.subarray(0, count) : null;
     },
   };
-  const pass = async (plane: Plane) => {
+  const pass = async (plane: PlaneRows) => {
     const sample = new Float32Array(Math.ceil(n / qStep));
     const grid = rawLine(gx * gy), rows = plan.rows.map(() => rawLine(w)), columns = plan.columns.map(() => rawLine(h));
     let kept = 0;
@@ -93,8 +93,9 @@ export async function surveyTexture(input: Plane, options: StructureTensorOption
     }, { windows });
     return { largest, sample: sample.subarray(0, kept), grid, rows, columns };
   };
-  let found = await pass(input), plane = input, reach: Uint8Array | null = null, nonFinite = 0, largest = found.largest;
+  let found = await pass(input), plane: PlaneRows = input, reach: Uint8Array | null = null, nonFinite = 0, largest = found.largest;
   if (!(largest < Infinity)) {
+    if (!('data' in input)) throw new Error('rows read on demand held a value that is not finite');
     const filled = fillNonFinite(input);
     found = await pass(filled.plane);
     plane = filled.plane;

@@ -5,7 +5,7 @@ import { checkTileInside, planTiles, type Tile } from '../image/index.ts';
 import type { Plane } from '../common/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import { gaussianRadius } from './kernels.ts';
-import { streamTensorRows, type RowKind, type RowSink, type StreamExtras } from './tensorStream.ts';
+import { streamTensorRows, type PlaneRows, type RowKind, type RowSink, type StreamExtras } from './tensorStream.ts';
 
 /** The three smoothed components of the gradient structure tensor, per pixel. */
 export interface TensorField {
@@ -84,10 +84,10 @@ export const innerRect = (t: Tile): TileRect => ({ x0: t.innerX, y0: t.innerY, x
  * Jxx, Jxy, Jyy). The views start at the tile's left edge (`tile.x`), valid only during the call. Returns the
  * largest |value| read (NaN or infinity when one is not finite). `extra`: as streamTensorRows (rows and pixels in the crop).
  */
-export async function streamTileRows(plane: Plane, tile: Tile | null, o: Required<StructureTensorOptions>, kind: RowKind, sink: RowSink, extra?: StreamExtras): Promise<number> {
+export async function streamTileRows(plane: PlaneRows, tile: Tile | null, o: Required<StructureTensorOptions>, kind: RowKind, sink: RowSink, extra?: StreamExtras): Promise<number> {
   const k = await loadTensorKernel();
   const t = tile ?? { x: 0, y: 0, w: plane.width, h: plane.height, innerX: 0, innerY: 0, innerW: plane.width, innerH: plane.height };
-  if (tile && !(tile.w === plane.width && tile.h === plane.height)) checkTileInside(plane, tile);
+  if (tile && !(tile.w === plane.width && tile.h === plane.height)) checkTileInside({ width: plane.width, height: plane.height, data: new Float32Array(0) }, tile);
   const from = t.innerY - t.y;
   return streamTensorRows(k, plane, { x: t.x, y: t.y, w: t.w, h: t.h }, o, kind, from, from + t.innerH, (y, a, b, c, d) => sink(t.y + y, a, b, c, d), extra);
 }

@@ -6,6 +6,15 @@ import { gaussianDerivativeKernel, gaussianKernel } from './kernels.ts';
 /** The scales of the tensor (StructureTensorOptions, resolved). */
 export interface TensorScales { sigmaPx: number; sigmaDerivPx: number; derivative: 'gaussian' | 'sobel' }
 
+/**
+ * An image's grey rows read on demand (e.g. a file's samples decoded row by row) instead of a plane held whole:
+ * `readRow` writes `w` values of row y from column x into `out`, the values the decoded plane would hold.
+ */
+export interface RowSource { width: number; height: number; readRow(y: number, x: number, w: number, out: Float32Array): void }
+
+/** A plane held whole, or its rows read on demand. */
+export type PlaneRows = Plane | RowSource;
+
 /** A rectangle of a plane: top-left pixel and size. */
 export interface CropRect { x: number; y: number; w: number; h: number }
 
@@ -64,7 +73,7 @@ function checkSymmetry(k: Float32Array, sign: 1 | -1): void {
  * stage's cost), or null for the whole row. Only those pixels of the views are then valid.
  */
 export function streamTensorRows(
-  k: KernelExports, plane: Plane, crop: CropRect, o: TensorScales, kind: RowKind,
+  k: KernelExports, plane: PlaneRows, crop: CropRect, o: TensorScales, kind: RowKind,
   rowFrom: number, rowTo: number, sink: RowSink, extra: StreamExtras = {},
 ): number {
   const { w: width, h: height } = crop;
@@ -101,8 +110,10 @@ export function streamTensorRows(
   const gradFrom = Math.max(0, rowFrom - rg), inFrom = Math.max(0, gradFrom - rd);
   let nextIn = inFrom, nextGrad = gradFrom, largest = 0;
   const pushInput = (i: number) => {
-    const from = (crop.y + i) * plane.width + crop.x;
-    inView.set(plane.data.subarray(from, from + width));
+    if ('data' in plane) {
+      const from = (crop.y + i) * plane.width + crop.x;
+      inView.set(plane.data.subarray(from, from + width));
+    } else plane.readRow(crop.y + i, crop.x, width, inView);
     const slot = (i % L) * rowBytes;
     largest = Math.max(largest, k.inputRow(lineIn, width, stride, kd, ks, L, ringD + slot, ringS + slot));
   };

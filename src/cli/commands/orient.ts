@@ -1,4 +1,4 @@
-import { analyseOrientation, analyseOrientationStreamed, HELD_FIELD_MAX_PIXELS, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
+import { analyseOrientation, analyseOrientationRows, analyseOrientationStreamed, HELD_FIELD_MAX_PIXELS, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
 import { giveBack } from '../../common/index.ts';
 import { recycleTextureField } from '../../orientation/index.ts';
 import { parseRect } from '../../common/index.ts';
@@ -7,7 +7,7 @@ import { ORIENT_OPTIONS } from '../../options/index.ts';
 import type { Command } from '../command.ts';
 import { formatTable } from '../format.ts';
 import { orientCsvRow } from '../../report/rows.ts';
-import { loadImageFiles } from '../io.ts';
+import { loadGreyImageOrRows, loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import type { OrientOptions } from '../../analyses/orient.ts';
 import { InputError } from '../../common/errors.ts';
@@ -54,8 +54,14 @@ export const orientCommand: Command = {
     // One image at a time: each is read, analysed and let go (its arrays kept for the next image of its size,
     // so a batch touches fresh memory once), so a batch needs the memory of one image.
     for (const path of a.positionals) {
-      // The structure tensor reads grey (toGrey): a colour PNG is decoded straight to luma, the same bits.
-      const [img] = await loadImageFiles([path], { grey: true });
+      // The structure tensor reads grey (toGrey): a colour PNG is decoded straight to luma, the same bits. For
+      // numbers only, a large plain grey TIFF's rows are read from the file as the field streams past.
+      const loaded = fieldOut ? { img: (await loadImageFiles([path], { grey: true }))[0] } : await loadGreyImageOrRows(path, HELD_FIELD_MAX_PIXELS);
+      if ('rows' in loaded) {
+        results.push(await analyseOrientationRows(loaded.head, loaded.rows, opts));
+        continue;
+      }
+      const { img } = loaded;
       if (fieldOut) checkAnalysisPixels(img, ANALYSIS_MAX_PIXELS.fieldOut);
       if (!fieldOut && img.width * img.height > HELD_FIELD_MAX_PIXELS) {
         // Numbers only, from a large image: the field is streamed, never held (the same numbers).
