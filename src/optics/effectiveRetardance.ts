@@ -1,8 +1,7 @@
 import { DEG } from '../common/index.ts';
-import type { Image } from '../image/index.ts';
 import { colourModel, interferenceColour, matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
 import { cameraToModel, type CameraCalibration } from './camera.ts';
-import { cellLinearRgb, quantiseToCells } from './pixels.ts';
+import { cellLinearRgb } from './pixels.ts';
 import type { Vec3 } from './colorimetry.ts';
 
 /**
@@ -56,16 +55,4 @@ export class CellColours {
     this.done[c] = 1;
     return true;
   }
-}
-
-/** Per colour-cube cell of an image: Lab (camera calibration removed) and, optionally, the effective retardance. */
-export function readCells(img: Image, camera: CameraCalibration, bits: number, reader?: EffectiveRetardanceReader) {
-  const { cells, saturated, invalid } = quantiseToCells(img, bits);
-  const table = new CellColours(camera, bits, reader);
-  const used: number[] = [];
-  for (let i = 0; i < cells.length; i++) {
-    const c = cells[i];
-    if (c >= 0 && table.ensure(c)) used.push(c);
-  }
-  return { cells, lab: table.lab, eff: table.eff, saturated, invalid, used };
 }

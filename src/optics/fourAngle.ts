@@ -1,15 +1,15 @@
 import { checkNumber, InputError } from '../common/index.ts';
 import { DEG } from '../common/index.ts';
-import type { Image } from '../image/index.ts';
+import { makeImage, type Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { foldMod90, mod90Axis } from '../orientation/index.ts';
 import { srgbDecode } from './colorimetry.ts';
 import { calibrateFromBackground } from './calibration.ts';
 import { colourModel } from './colourModel.ts';
 import { NEUTRAL_CAMERA } from './camera.ts';
-import { readCells } from './effectiveRetardance.ts';
+import { CellColours } from './effectiveRetardance.ts';
 import { buildPlateLookup } from './lookupTable.ts';
-import { checkColourImage, FULL_SCALE_LEVEL, type Rect } from './pixels.ts';
+import { checkColourImage, FULL_SCALE_LEVEL, quantiseInto, type Rect } from './pixels.ts';
 import { valuesOfRanks } from './ranks.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
@@ -37,14 +37,16 @@ function plateOrientationChooser(img: Image, o: PlateSignOptions) {
   if (cal) train.compensator = { ...train.compensator, retardanceNm: cal.compensatorNm };
   const lut = buildPlateLookup(colourModel(train), { retardanceMaxNm: o.retardanceMaxNm, fullRange: true });
   const margin = checkNumber('plate margin', o.marginDeltaE ?? 3, 0, 100);
-  const r = readCells(img, cal?.camera ?? o.camera ?? NEUTRAL_CAMERA, 6);
+  // Colour cells (6 bits per channel) made a block at a time by the caller, each cell's Lab when first met.
+  const colours = new CellColours(cal?.camera ?? o.camera ?? NEUTRAL_CAMERA, PLATE_CELL_BITS);
+  const lab = colours.lab;
   const nA = lut.anglesDeg.length, nR = lut.retardancesNm.length, step = lut.anglesDeg[1] - lut.anglesDeg[0], C = lut.coords;
   const rowBest = new Map<number, number>();
   const bestOnRow = (cell: number, j: number) => {
     const key = cell * nA + j;
     const hit = rowBest.get(key);
     if (hit !== undefined) return hit;
-    const l0 = r.lab[3 * cell], l1 = r.lab[3 * cell + 1], l2 = r.lab[3 * cell + 2];
+    const l0 = lab[3 * cell], l1 = lab[3 * cell + 1], l2 = lab[3 * cell + 2];
     let best = Infinity;
     for (let k = 0; k < nR; k++) {
       const o3 = 3 * (j * nR + k), a = C[o3] - l0, b = C[o3 + 1] - l1, c = C[o3 + 2] - l2;
@@ -57,16 +59,20 @@ function plateOrientationChooser(img: Image, o: PlateSignOptions) {
   };
   const rowOf = (thetaRad: number) => ((Math.round((thetaRad / DEG - lut.anglesDeg[0]) / step) % nA) + nA) % nA;
   return {
-    choose(i: number, thetaRad: number): number {
-      const cell = r.cells[i];
-      if (cell < 0) return 0;
+    /** The colour cells of pixels [i0, i0 + out.length) of the compensator image (-1: clipped or invalid, not usable). */
+    cellsInto: (i0: number, out: Int32Array) => { quantiseInto(img, PLATE_CELL_BITS, i0, out); },
+    /** +1 (keep theta), -1 (add 90 deg) or 0 (undecided) for a pixel of colour cell `cell` (>= 0) read at theta. */
+    choose(cell: number, thetaRad: number): number {
+      colours.ensure(cell);
       const keep = bestOnRow(cell, rowOf(thetaRad)), flip = bestOnRow(cell, rowOf(thetaRad + Math.PI / 2));
       if (Math.abs(keep - flip) < margin) return 0;
       return keep < flip ? 1 : -1;
     },
-    usable: (i: number) => r.cells[i] >= 0,
   };
 }
+
+/** Colour-cube bits per channel of the compensator image that decides the 90-deg choice. */
+const PLATE_CELL_BITS = 6;
 
 /** Per-pixel Fourier coefficients of I(alpha) = a0 + a4c cos 4 alpha + a4s sin 4 alpha. */
 export interface FourierFit {
@@ -200,11 +206,27 @@ export function linearIntensityInto(img: Image, i0: number, out: Float32Array, c
   }
 }
 
-/** Linear intensity plane of a whole image (linearIntensityInto over every pixel). */
+/** Linear intensity plane of a whole image (linearIntensityInto over every pixel; a linear grey image's own plane). */
 function linearIntensity(img: Image): Float32Array {
+  if (img.channels === 1 && img.encoding === 'linear') return img.planes[0];
   const out = new Float32Array(img.width * img.height);
   linearIntensityInto(img, 0, out, null);
   return out;
+}
+
+/**
+ * An image of an angle series reduced to what fourAngleAnalysis reads of it: one plane of linear intensity
+ * (encoding 'linear', 32-bit), a third of an RGB image's memory. With `markClipped` (the series' own images),
+ * pixels with a plane at full scale are set to 1 so they still count as clipped (every other pixel's intensity is
+ * below FULL_SCALE_LEVEL); without it (flat field, dark image) every value is kept. fourAngleAnalysis gives the same
+ * reading from the reduced images as from the images themselves.
+ */
+export function seriesIntensityImage(img: Image, markClipped = true): Image {
+  if (img.channels === 1 && img.encoding === 'linear') return img;
+  const n = img.width * img.height, plane = new Float32Array(n), clipped = markClipped ? new Uint8Array(n) : null;
+  linearIntensityInto(img, 0, plane, clipped);
+  if (clipped) for (let i = 0; i < n; i++) if (clipped[i]) plane[i] = 1;
+  return makeImage({ ...img, channels: 1, planes: [plane], bitDepth: 32, encoding: 'linear' });
 }
 
 /** Pixels per block of the angle series: the images' intensities are made a block at a time, not as whole planes. */
@@ -273,14 +295,20 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     const plate = plateOrientationChooser(options.plate, options.plateOptions ?? {});
     let usable = 0, resolved = 0;
     ambiguous = new Uint8Array(n).fill(1);
-    for (let i = 0; i < n; i++) {
-      if (!mask[i] || !plate.usable(i)) continue;
-      usable++;
-      const c = plate.choose(i, angleRad[i]);
-      if (c === 0) continue;
-      if (c < 0) angleRad[i] += 90 * DEG;
-      resolved++;
-      ambiguous[i] = 0;
+    const cells = new Int32Array(Math.min(n, SERIES_BLOCK_PX));
+    for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
+      const len = Math.min(SERIES_BLOCK_PX, n - i0);
+      plate.cellsInto(i0, cells.subarray(0, len));
+      for (let t = 0; t < len; t++) {
+        const i = i0 + t, cell = cells[t];
+        if (!mask[i] || cell < 0) continue;
+        usable++;
+        const c = plate.choose(cell, angleRad[i]);
+        if (c === 0) continue;
+        if (c < 0) angleRad[i] += 90 * DEG;
+        resolved++;
+        ambiguous[i] = 0;
+      }
     }
     resolvedFraction = usable ? resolved / usable : 0;
     if (usable > 0 && resolved === usable) ambiguity = 'none';

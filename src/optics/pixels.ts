@@ -33,34 +33,18 @@ export function medianLinearRgb(img: Image, r: Rect): Vec3 {
 }
 
 /**
- * Maps stored channel values to colour-cube cells of `bits` per channel, on the sRGB-encoded scale (a roughly
- * perceptual spacing). Returns the cell index per pixel and -1 for pixels that are not finite or are saturated.
- */
-/**
  * Level (0-1 of full scale, as decoded) at or above which a colour plane counts as clipped: the camera
  * recorded its ceiling, not the light.
  */
 export const FULL_SCALE_LEVEL = 0.999;
 
-/** 1 where any plane of any of the images is at full scale (clipped), so the pixel's colour or intensity is not known. */
-export function clippedPixels(images: Image[]): Uint8Array {
-  const n = images[0].width * images[0].height;
-  const out = new Uint8Array(n);
-  for (const img of images) for (const p of img.planes) for (let i = 0; i < n; i++) if (p[i] >= FULL_SCALE_LEVEL) out[i] = 1;
-  return out;
-}
-
-export function quantiseToCells(img: Image, bits: number): { cells: Int32Array; saturated: number; invalid: number } {
-  const cells = new Int32Array(img.width * img.height);
-  return { cells, ...quantiseInto(img, bits, 0, cells) };
-}
-
 /** Linear value -> encoded level table of linear images (4096 entries), per number of bits. */
 const levelTables = new Map<number, Int32Array>();
 
 /**
- * quantiseToCells for the pixels [i0, i0 + out.length) into `out`; with `clipped`, also marks pixels with a plane
- * at full scale there (clippedPixels' rule).
+ * Maps stored channel values of the pixels [i0, i0 + out.length) to colour-cube cells of `bits` per channel, on the
+ * sRGB-encoded scale (a roughly perceptual spacing), into `out`: the cell index per pixel, -1 for pixels that are not
+ * finite or are saturated (counted). With `clipped`, also marks pixels with any plane at or above FULL_SCALE_LEVEL.
  */
 export function quantiseInto(img: Image, bits: number, i0: number, out: Int32Array, clipped?: Uint8Array): { saturated: number; invalid: number } {
   const len = out.length, levels = (1 << bits) - 1;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { fitFourAngle, fourAngleAnalysis, renderSampleImage, type CameraCalibration } from '../../src/optics/index.ts';
+import { fitFourAngle, fourAngleAnalysis, renderSampleImage, seriesIntensityImage, type CameraCalibration } from '../../src/optics/index.ts';
 import { DEG, axialDiffDeg } from '../../src/common/angles.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { makeImage, type Image } from '../../src/image/types.ts';
@@ -102,6 +102,22 @@ describe('fourAngleAnalysis on rendered images', () => {
     // Rows of one retardance at 45 deg: corrected amplitude equals the even one times the flat's mean.
     const y = rets.indexOf(300) * B + 2, x0 = angles.indexOf(-60) * B + 2, x1 = angles.indexOf(60) * B + 2;
     for (const x of [x0, x1]) expect(corrected[y * W + x]).toBeCloseTo(even[y * W + x] * mean, 3);
+  });
+
+  it('reads the same from the images reduced to their linear intensity (seriesIntensityImage), clipped pixels included', () => {
+    // Some pixels at full scale in one channel of one image, and a NaN: they must stay clipped and not read.
+    const withClip = quads.map((img, k) => makeImage({ ...img, planes: img.planes.map((p, c) => p.map((v, i) => (k === 1 && c === 2 && i % 17 === 0 ? 1 : k === 2 && c === 0 && i === 5 ? NaN : v))) }));
+    const shadeFlat = makeImage({ ...quads[0], planes: quads[0].planes.map((p) => p.map((_, i) => 0.6 + 0.3 * ((i % W) / W))) });
+    const options = { flatField: shadeFlat, dark: quads[3], plate, plateOptions: { camera: cam } };
+    const whole = fourAngleAnalysis(withClip, options);
+    const reduced = fourAngleAnalysis([withClip[0], ...withClip.slice(1).map((img) => seriesIntensityImage(img))], {
+      ...options, flatField: seriesIntensityImage(shadeFlat, false), dark: seriesIntensityImage(quads[3], false),
+    });
+    expect(reduced.field.clipped!.reduce((a, b) => a + b, 0)).toBeGreaterThan(0);
+    for (const key of ['angleRad', 'confidence', 'mask', 'clipped'] as const) expect(reduced.field[key]).toEqual(whole.field[key]);
+    expect(reduced.amplitude).toEqual(whole.amplitude);
+    expect(reduced.residual).toEqual(whole.residual);
+    expect(reduced.field.warnings).toEqual(whole.field.warnings);
   });
 
   it('rejects too few images, mismatched angles and mismatched sizes', () => {

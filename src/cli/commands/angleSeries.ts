@@ -1,5 +1,6 @@
 import { InputError } from '../../common/errors.ts';
-import { analyseAngleSeries, DEFAULT_ANGLES_DEG } from '../../analyses/index.ts';
+import { analyseAngleSeries, checkReadingSize, DEFAULT_ANGLES_DEG } from '../../analyses/index.ts';
+import { seriesIntensityImage } from '../../optics/index.ts';
 import { parseRect } from '../../common/index.ts';
 import { ANGLE_SERIES_OPTIONS, type AngleSeriesFiles, type AngleSeriesSettings } from '../../options/index.ts';
 import { numberList, numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
@@ -32,10 +33,19 @@ export const angleSeriesCommand: Command = {
     if (a.positionals.length !== options.anglesDeg.length) {
       throw new InputError(`${a.positionals.length} images for ${options.anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
     }
-    const images = await loadImageFiles(a.positionals);
-    const one = async (name: string | undefined) => (name ? (await loadImageFiles([name]))[0] : undefined);
+    // One file at a time, each refused at once when too large to read, and held as the linear intensity the reading
+    // takes of it (a third of an RGB image's memory, the same reading); the first as it is when walls are to be found on it.
+    const one = async (name: string) => {
+      const [img] = await loadImageFiles([name]);
+      checkReadingSize('angle-series', img);
+      return img;
+    };
+    const images = [];
+    for (const [k, name] of a.positionals.entries()) images.push(k === 0 && options.profile?.autoWalls ? await one(name) : seriesIntensityImage(await one(name)));
     const { result, field } = await analyseAngleSeries(images, {
-      ...options, plate: await one(files.plate), flatField: await one(files.flat), dark: await one(files.dark),
+      ...options, plate: files.plate ? await one(files.plate) : undefined,
+      flatField: files.flat ? seriesIntensityImage(await one(files.flat), false) : undefined,
+      dark: files.dark ? seriesIntensityImage(await one(files.dark), false) : undefined,
     });
     const fieldOut = stringOpt(a, 'field-out');
     if (fieldOut) await writeFieldTiff(fieldOut, field, `retarda angle-series ${images.map((i) => i.source.name).join(' ')}`);
