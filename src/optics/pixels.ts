@@ -60,9 +60,8 @@ export function quantiseInto(img: Image, bits: number, i0: number, out: Int32Arr
   for (let t = 0; t < len; t++) {
     const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
     if (vr >= 0 && vg >= 0 && vb >= 0 && vr < sat && vg < sat && vb < sat) {
-      out[t] = table
-        ? (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0]
-        : (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
+      if (table) out[t] = (table[(vr * 4096 + 0.5) | 0] << s2) | (table[(vg * 4096 + 0.5) | 0] << bits) | table[(vb * 4096 + 0.5) | 0];
+      else out[t] = (((vr * levels + 0.5) | 0) << s2) | (((vg * levels + 0.5) | 0) << bits) | ((vb * levels + 0.5) | 0);
       continue;
     }
     if (vr >= sat || vg >= sat || vb >= sat) {
