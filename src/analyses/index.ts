@@ -19,3 +19,5 @@ export type { SamplingCheck, MicrometerAnalysisOptions, MicrometerDocument, Opti
 export { analyseMicrometer, analyseOpticsCalibration, MICROMETER_METHOD } from './micrometer.ts';
 export type { FibreNumbersRequest, FibreNumbersResult, LinearDensityUnit, TenacityUnit } from './fibreNumbers.ts';
 export { fibreNumbersResult } from './fibreNumbers.ts';
+export type { SeriesFrame, SeriesOptions, SeriesPoint, SeriesResult } from './series.ts';
+export { analyseSeries, SERIES_MODELS, FRAME_TIME_LIMIT } from './series.ts';

@@ -42,6 +42,7 @@ export const ANALYSIS_MAX_PIXELS = {
   profileFieldOut: { pixels: 12_000_000, what: 'a channel profile with --field-out' },
   diameter: { pixels: 24_000_000, what: 'fibre diameters' },
   micrometer: { pixels: 64_000_000, what: 'a micrometer reading' },
+  series: { pixels: 16_000_000, what: 'a frame of a series (its field is held, as with --field-out)' },
 } as const satisfies Record<string, { pixels: number; what: string }>;
 
 /**

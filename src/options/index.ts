@@ -18,3 +18,5 @@ export { PROFILE_OPTIONS, profileArgs } from './profile.ts';
 export { DIAMETER_OPTIONS, CALIBRATE_OPTIONS, FIBRE_OPTIONS, TENACITY_OPTION, diameterArgs, micrometerArgs, fibreArgs } from './measure.ts';
 export type { ChartRequest } from './chart.ts';
 export { CHART_OPTIONS, chartArgs } from './chart.ts';
+export type { SeriesTimes } from './series.ts';
+export { SERIES_OPTIONS, seriesArgs } from './series.ts';

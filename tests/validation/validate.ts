@@ -13,6 +13,7 @@ const areas: Record<string, () => Promise<{ default: ValidationArea }>> = {
   'channel': () => import('./channel.ts'),
   'fibre': () => import('./fibre.ts'),
   'micrometer': () => import('./micrometer.ts'),
+  'series': () => import('./series.ts'),
 };
 
 const rows: ValidationRow[] = [];

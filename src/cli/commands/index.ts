@@ -8,6 +8,7 @@ import { chartCommand } from './chart.ts';
 import { diameterCommand } from './diameter.ts';
 import { calibrateCommand } from './calibrate.ts';
 import { fibreCommand } from './fibre.ts';
+import { seriesCommand } from './series.ts';
 
 /** Every subcommand, in the order `retarda --help` lists them. */
-export const COMMANDS: Command[] = [orientCommand, profileCommand, plateCommand, platePairCommand, angleSeriesCommand, chartCommand, diameterCommand, calibrateCommand, fibreCommand];
+export const COMMANDS: Command[] = [orientCommand, profileCommand, plateCommand, platePairCommand, angleSeriesCommand, chartCommand, diameterCommand, calibrateCommand, fibreCommand, seriesCommand];
