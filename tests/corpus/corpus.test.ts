@@ -30,6 +30,7 @@ const COMMANDS: [string, (f: string) => string[]][] = [
   ['angle-series', (f) => ['angle-series', f, f, f, f]],
   ['diameter', (f) => ['diameter', f]],
   ['calibrate', (f) => ['calibrate', f, '--division-um', '10']],
+  ['series', (f) => ['series', f, f, f, f, '--interval-s', '1']],
 ];
 
 /** JavaScript error names, engine messages and stack lines that must never reach a user. */
