@@ -90,15 +90,17 @@ export function accumulateBlocks(f: OrientationField, o: AccumulateOptions): Blo
   const kernel = groups ? null : loadedTensorKernel();
   if (kernel) {
     const bands = new BlockRowSums(kernel, width, height, B, { region: region !== null, weights: weights === null ? 'none' : weights === confidence ? 'coherency' : 'own' });
-    for (let y = 0; y < height; y++) {
-      const v = bands.row(y), from = y * width, to = from + width;
+    // A group of rows at a time: each layer copied in one piece.
+    for (let y = 0; y < height;) {
+      const end = bands.groupEnd(y), v = bands.rows(y, end), from = y * width, to = end * width;
       v.mask.set(mask.subarray(from, to));
       if (v.region && region) v.region.set(region.subarray(from, to));
       if (v.weights && weights) v.weights.set(weights.subarray(from, to));
       v.coherency.set(confidence.subarray(from, to));
       v.c2.set(c2.subarray(from, to));
       v.s2.set(s2.subarray(from, to));
-      if (bands.endRow(y)) bands.flush([{ list: lists[0], cr, sr }]);
+      if (bands.endRow(end - 1)) bands.flush([{ list: lists[0], cr, sr }]);
+      y = end;
     }
     [usable, confidenceSum] = bands.tally();
   } else {
@@ -229,7 +231,17 @@ export class BlockRowSums {
 
   /** Where row y's layers go (each `width` long), valid until the kernel's memory grows. */
   row(y: number): BlockRowViews {
-    const v = this.views(), w = this.width, from = (y - this.groupFrom) * w, to = from + w;
+    return this.rows(y, y + 1);
+  }
+
+  /** The row after the last of the group that row y (the next row to write) starts: rows y to it go in together. */
+  groupEnd(y: number): number {
+    return Math.min(this.groupFrom + this.bandRows, this.height, (Math.floor(y / this.B) + 1) * this.B);
+  }
+
+  /** Where rows y0 <= y < y1 of one group go, each layer's rows one after another (see row). */
+  rows(y0: number, y1: number): BlockRowViews {
+    const v = this.views(), w = this.width, from = (y0 - this.groupFrom) * w, to = (y1 - this.groupFrom) * w;
     return {
       mask: v.mask.subarray(from, to), region: v.region?.subarray(from, to) ?? null, weights: v.weights?.subarray(from, to) ?? null,
       coherency: v.coherency.subarray(from, to), c2: v.c2.subarray(from, to), s2: v.s2.subarray(from, to),

@@ -37,14 +37,19 @@ export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
   // arrays rather than accessor functions: quick enough for every frame of the live readout.
   const { cos2: cv, sin2: sv } = doubledAngles(f);
   const plan = correlationPlan(width, height, maxLag);
-  const gather = (at: number[]): FieldLine => ({
-    mask: Uint8Array.from(at, (i) => mask[i]), cos2: Float32Array.from(at, (i) => cv[i]), sin2: Float32Array.from(at, (i) => sv[i]),
-  });
-  const grid: number[] = [];
-  for (let y = 0; y < height; y += plan.gridStep) for (let x = 0; x < width; x += plan.gridStep) grid.push(y * width + x);
+  // Plain loops: a typed array's `from` with a mapping function took twenty times longer here.
+  const line = (n: number): FieldLine => ({ mask: new Uint8Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n) });
+  const g = plan.gridStep, gx = Math.ceil(width / g), grid = line(gx * Math.ceil(height / g));
+  for (let y = 0, j = 0; y < height; y += g) {
+    for (let x = 0, i = y * width; x < width; x += g, i += g, j++) { grid.mask[j] = mask[i]; grid.cos2[j] = cv[i]; grid.sin2[j] = sv[i]; }
+  }
   const rows = plan.rows.map((y) => ({ mask: mask.subarray(y * width, (y + 1) * width), cos2: cv.subarray(y * width, (y + 1) * width), sin2: sv.subarray(y * width, (y + 1) * width) }));
-  const columns = plan.columns.map((x) => gather(Array.from({ length: height }, (_, y) => y * width + x)));
-  return correlationLengthOf(width, height, { grid: gather(grid), rows, columns }, maxLag);
+  const columns = plan.columns.map((x) => {
+    const c = line(height);
+    for (let y = 0, i = x; y < height; y++, i += width) { c.mask[y] = mask[i]; c.cos2[y] = cv[i]; c.sin2[y] = sv[i]; }
+    return c;
+  });
+  return correlationLengthOf(width, height, { grid, rows, columns }, maxLag);
 }
 
 /**
