@@ -162,6 +162,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   }
   let matched = 0, belowFloor = 0, saturated = 0, invalid = 0;
   const block = new Int32Array(Math.min(n, PLATE_BLOCK_PX));
+  let lastSub = -1, lastK = -1;
   for (let i0 = 0; i0 < n; i0 += PLATE_BLOCK_PX) {
     const len = Math.min(PLATE_BLOCK_PX, n - i0), subs = block.subarray(0, len);
     const counts = quantiseInto(img, subBits, i0, subs, clipped);
@@ -169,7 +170,8 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     for (let t = 0; t < len; t++) {
       const i = i0 + t, sub = subs[t];
       if (sub < 0) continue;
-      let k = subIndex[sub];
+      // Neighbouring pixels often share their sub-cell: the last one's reading first.
+      let k = sub === lastSub ? lastK : subIndex[sub];
       if (k < 0) {
         const r = parentLevel[(sub >> (2 * subBits)) & subMask], g = parentLevel[(sub >> subBits) & subMask], b = parentLevel[sub & subMask];
         const cell = (r << (2 * bits)) | (g << bits) | b;
@@ -201,6 +203,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
         // Masked: sample-free (with a known retardance band) or read below the floor (the float32 retardance, as stored).
         subReadings[o + 3] = (band ? floorNm > 0 && dZero <= Math.max(dPick, freeRadius) : subReadings[o + 1] < floorNm) ? 1 : 0;
       }
+      lastSub = sub; lastK = k;
       const o = 4 * k;
       angleRad[i] = subReadings[o];
       retardanceNm[i] = subReadings[o + 1];
