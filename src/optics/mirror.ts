@@ -67,7 +67,7 @@ export function resolveMirrorWithTexture(plate: OrientationField, texture: Orien
   const fraction = usable ? count / usable : 0;
   const all = usable > 0 && count === usable;
   const field: OrientationField = {
-    ...plate, angleRad: angle,
+    ...plate, angleRad: angle, cos2: undefined, sin2: undefined,
     ambiguity: all ? 'none' : plate.ambiguity,
     ambiguityAxisDeg: all ? undefined : plate.ambiguityAxisDeg,
     options: { ...plate.options, mirrorResolvedBy: 'structure-tensor direction', mirrorCoherencyMin: cMin, mirrorMarginDeg: margin / DEG },
