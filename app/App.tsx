@@ -22,6 +22,7 @@ import { SessionsPanel } from './components/SessionsPanel.tsx';
 import { ScreenGuard } from './components/ScreenGuard.tsx';
 import { CameraView } from './camera/CameraView.tsx';
 import { CompareView } from './compare/CompareView.tsx';
+import { SeriesView } from './series/SeriesView.tsx';
 import { SetupsPanel } from './setups/SetupsPanel.tsx';
 import { ReportView } from './export/ReportView.tsx';
 import { applied } from './setups/setup.ts';
@@ -109,6 +110,10 @@ export function App() {
       {screen === 'compare' ? (
         <ScreenGuard key="compare" screen="comparison" onBack={() => setScreen('images')}>
           <CompareView store={sessions.store} current={session} onError={(m) => say('error', m)} onClose={() => setScreen('images')} />
+        </ScreenGuard>
+      ) : screen === 'series' ? (
+        <ScreenGuard key="series" screen="over time" onBack={() => setScreen('images')}>
+          <SeriesView w={w} onClose={() => setScreen('images')} />
         </ScreenGuard>
       ) : screen === 'camera' ? (
         <ScreenGuard key="camera" screen="camera" onBack={() => setScreen('images')}>

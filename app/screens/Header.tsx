@@ -6,7 +6,7 @@ import type { Message } from '../messages.ts';
 import type { OfflineState } from '../useServiceWorker.ts';
 import type { Workspace } from './workspace.ts';
 
-export type ScreenName = 'images' | 'camera' | 'compare';
+export type ScreenName = 'images' | 'camera' | 'compare' | 'series';
 
 interface HeaderProps {
   w: Workspace;
@@ -39,6 +39,8 @@ export function Header({ w, offline, update, messages, dismiss, screen, toggleSc
         <button onClick={w.intake.chooseFiles} title="Shortcut: I">Add images…</button>
         <button className={screen === 'camera' ? 'on' : ''} aria-pressed={screen === 'camera'} onClick={() => toggleScreen('camera')}>Camera</button>
         <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void keeping.flush(); toggleScreen('compare'); }}>Compare</button>
+        <button className={screen === 'series' ? 'on' : ''} aria-pressed={screen === 'series'} onClick={() => toggleScreen('series')}
+          title="Order of each frame against time, and its relaxation time">Over time</button>
         <button onClick={toggleSetups} data-testid="setup-button" title={`The microscope's optical train, pixel size and sample sign. Lengths: ${calibrationWords(calibration)}`}>
           Set-up: {session?.setup?.name ?? 'none'}{session && <> · <span className={`calibration-state ${calibration.origin}`} data-testid="calibration-state">{calibrationShort(calibration)}</span></>}</button>
         <button onClick={w.sessions.openPanel} title="Shortcut: S">Sessions</button>

@@ -6,13 +6,13 @@
 /// <reference lib="webworker" />
 import {
   analyseOrientation, analyseProfile, analysePlate, analysePlateProfile, analysePlatePair, analyseAngleSeries, analyseDiameter, analyseMicrometer,
-  fibreNumbersResult, readPlateField, type OrientOptions, type OpticsAnalysis,
+  fibreNumbersResult, readPlateField, analyseSeries, type OrientOptions, type OpticsAnalysis, type SeriesFrame,
 } from '../../src/analyses/index.ts';
 import { findWalls } from '../../src/channel/index.ts';
 import { fieldTiffBytes } from '../../src/report/index.ts';
 import { giveBack, isInputError } from '../../src/common/index.ts';
 import { loadTensorKernel } from '../../src/wasm/index.ts';
-import { decodeImage, type Image } from '../../src/image/index.ts';
+import { decodeImage, checkAnalysisPixels, ANALYSIS_MAX_PIXELS, type Image } from '../../src/image/index.ts';
 import { recycleTextureField, type OrientationField, type TileHelper } from '../../src/orientation/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
 import { coherencyPicture, directionLines, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
@@ -252,6 +252,21 @@ const handlers: { [K in CommandName]: Handler<K> } = {
 
   async fibreNumbers({ request }) {
     return { value: fibreNumbersResult(request), transfer: [] };
+  },
+
+  // What `retarda series` runs: one frame at a time, each checked against the same pixel limit.
+  async series({ keys, tSeconds, options }, progress) {
+    if (keys.length !== tSeconds.length) throw new Error(`${tSeconds.length} times for ${keys.length} frames`);
+    function* frames(): Generator<SeriesFrame> {
+      for (let k = 0; k < keys.length; k++) {
+        progress(`frame ${k + 1} of ${keys.length}`, 0.05 + (0.85 * k) / keys.length);
+        const image = imageOf(keys[k]);
+        checkAnalysisPixels(image, ANALYSIS_MAX_PIXELS.series);
+        yield { image, tSeconds: tSeconds[k] };
+      }
+      progress('fitting the relaxation', 0.92);
+    }
+    return { value: await analyseSeries(frames(), options), transfer: [] };
   },
 
   async fieldTiff({ key, options, description }, progress) {

@@ -5,7 +5,7 @@
 import type {
   OrientOptions, OrientResult, ProfileRequest, ProfileResult, PlateOptions, PlatePairAnalysisOptions, AngleSeriesAnalysisOptions,
   OpticsResult, DiameterAnalysisOptions, DiameterDocument, MicrometerAnalysisOptions, MicrometerDocument, FibreNumbersRequest,
-  FibreNumbersResult, PlateReadingOptions,
+  FibreNumbersResult, PlateReadingOptions, SeriesOptions, SeriesResult,
 } from '../../src/analyses/index.ts';
 import type { MatchSpace } from '../../src/optics/index.ts';
 import type { FoundWalls } from '../../src/channel/index.ts';
@@ -104,6 +104,8 @@ export interface CommandTable {
   diameter: { args: ImageRef & { options: DiameterAnalysisOptions }; reply: DiameterDocument };
   micrometer: { args: ImageRef & { options: MicrometerAnalysisOptions }; reply: MicrometerDocument };
   fibreNumbers: { args: { request: FibreNumbersRequest }; reply: FibreNumbersResult };
+  /** Order over time (`retarda series`): the frames by key in time order, each frame's time in seconds. */
+  series: { args: { keys: string[]; tSeconds: number[]; options: SeriesOptions }; reply: SeriesResult };
   findWalls: { args: ImageRef; reply: FoundWalls };
   /** The texture field of the image (the cached one when the options match) as the bytes --field-out writes. */
   fieldTiff: { args: ImageRef & { options: OrientOptions; description: string }; reply: { bytes: ArrayBuffer } };
