@@ -22,7 +22,7 @@ import { SessionsPanel } from './components/SessionsPanel.tsx';
 import { ScreenGuard } from './components/ScreenGuard.tsx';
 import { CameraView } from './camera/CameraView.tsx';
 import { CompareView } from './compare/CompareView.tsx';
-import { SeriesView } from './series/SeriesView.tsx';
+import { SeriesView, type SeriesKept } from './series/SeriesView.tsx';
 import { SetupsPanel } from './setups/SetupsPanel.tsx';
 import { ReportView } from './export/ReportView.tsx';
 import { applied } from './setups/setup.ts';
@@ -50,6 +50,8 @@ export function App() {
   const viewer = useRef<ViewerHandle>(null);
   const more = useRef<MoreAnalysesHandle>(null);
   const [screen, setScreen] = useState<ScreenName>('images');
+  /** The Over time screen's form and last run per session, kept while the page is open. */
+  const seriesKept = useRef(new Map<string, SeriesKept>());
   const [showSetups, setShowSetups] = useState(false);
   const [help, setHelp] = useState(false);
 
@@ -113,7 +115,7 @@ export function App() {
         </ScreenGuard>
       ) : screen === 'series' ? (
         <ScreenGuard key="series" screen="over time" onBack={() => setScreen('images')}>
-          <SeriesView w={w} onClose={() => setScreen('images')} />
+          <SeriesView key={session?.id ?? 'none'} w={w} kept={seriesKept.current} onClose={() => setScreen('images')} />
         </ScreenGuard>
       ) : screen === 'camera' ? (
         <ScreenGuard key="camera" screen="camera" onBack={() => setScreen('images')}>

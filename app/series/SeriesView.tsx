@@ -3,7 +3,7 @@
  * each frame's S_axis with its 95 % interval against one axis, and the relaxation fit with tau and beta and their
  * 95 % intervals (`retarda series`, docs/methods.md §17). The analysis runs in the worker.
  */
-import { useState } from 'react';
+import { useEffect, useState } from 'react';
 import { NOT_DETERMINED, SERIES_MODELS, type SeriesResult } from '../../src/analyses/index.ts';
 import { formatCell } from '../../src/report/index.ts';
 import { CancelledError } from '../worker/client.ts';
@@ -32,6 +32,10 @@ function FitTable({ r }: { r: SeriesResult }) {
     );
   }
   const stretched = fit.model === 'stretched';
+  // The ends of the curve are extrapolations through tau: with tau open above, the series does not show where the
+  // order ends up (S_inf); with tau open below, it had relaxed before the second frame, so S_0 is not seen either.
+  const infinityWhy = nd.tauSeconds && !Number.isFinite(fit.tauCi[1]) ? 'the series ends before the order settles (tau not determined); record for longer after the flow stops' : undefined;
+  const zeroWhy = nd.tauSeconds && fit.tauCi[0] === 0 && Number.isFinite(fit.tauCi[1]) ? 'the order had relaxed before the second frame (tau not determined); record faster frames just after the flow stops' : undefined;
   // The mean relaxation time needs both tau and beta.
   const meanWhy = nd.tauSeconds ?? nd.beta;
   const chosen = r.options.model === 'auto' ? ', chosen by AIC' : '';
@@ -45,8 +49,10 @@ function FitTable({ r }: { r: SeriesResult }) {
           {stretched
             ? <><Undetermined why={nd.beta} testId="series-beta">{f(fit.beta)}</Undetermined>{!nd.beta && fit.betaCi && <td>95 %: {f(fit.betaCi[0])} – {f(fit.betaCi[1])}</td>}</>
             : <><td data-testid="series-beta">1 (exponential)</td><td>model{chosen}</td></>}</tr>
-        <tr><th scope="row">S_0 (fitted, t = 0)</th><td data-testid="series-order-zero">{f(fit.orderZero)}</td><td>S_axis when the flow stopped</td></tr>
-        <tr><th scope="row">S_inf (fitted, long after)</th><td data-testid="series-order-infinity">{f(fit.orderInfinity)}</td><td>S_axis it relaxes to</td></tr>
+        <tr><th scope="row">S_0 (fitted, t = 0)</th>
+          <Undetermined why={zeroWhy} testId="series-order-zero">{f(fit.orderZero)}</Undetermined>{!zeroWhy && <td>S_axis when the flow stopped</td>}</tr>
+        <tr><th scope="row">S_inf (fitted, long after)</th>
+          <Undetermined why={infinityWhy} testId="series-order-infinity">{f(fit.orderInfinity)}</Undetermined>{!infinityWhy && <td>S_axis it relaxes to</td>}</tr>
         <tr><th scope="row">Mean relaxation time</th>
           <Undetermined why={meanWhy && `needs tau and beta: ${meanWhy}`} testId="series-mean-tau">{f(fit.meanTauSeconds)} s</Undetermined>
           {!meanWhy && <td>{stretched ? '(tau / beta) Γ(1 / beta)' : 'equals tau for the exponential'}</td>}</tr>
@@ -56,14 +62,20 @@ function FitTable({ r }: { r: SeriesResult }) {
   );
 }
 
-export function SeriesView({ w, onClose }: { w: Workspace; onClose(): void }) {
+/** What the screen holds for a session while the page is open (not saved with the session): the form and the last run. */
+export interface SeriesKept { form: SeriesForm; run: { request: SeriesRequest; result: SeriesResult } | null }
+
+/** `kept`: the screen's form and last run per session id, held by the page so leaving the screen keeps them. */
+export function SeriesView({ w, kept, onClose }: { w: Workspace; kept: Map<string, SeriesKept>; onClose(): void }) {
   const { session } = w.sessions;
+  const here = session ? kept.get(session.id) : undefined;
   const { client, sourceOf, progress, setBusy } = w.analysis;
   const images = session?.images ?? [];
   const settings = session?.settings ?? DEFAULT_SETTINGS;
-  const [form, setForm] = useState<SeriesForm>(EMPTY_SERIES_FORM);
+  const [form, setForm] = useState<SeriesForm>(here?.form ?? EMPTY_SERIES_FORM);
   const [problem, setProblem] = useState<string | null>(null);
-  const [run, setRun] = useState<{ request: SeriesRequest; result: SeriesResult } | null>(null);
+  const [run, setRun] = useState<SeriesKept['run']>(here?.run ?? null);
+  useEffect(() => { if (session) kept.set(session.id, { form, run }); }, [session?.id, form, run]); // eslint-disable-line react-hooks/exhaustive-deps
   const set = (p: Partial<SeriesForm>) => setForm((s) => ({ ...s, ...p }));
   const frames = framesOf(form, images);
   const ticked = new Set(frames.map((i) => i.id));
