@@ -11,14 +11,14 @@ export function niceTicks(lo: number, hi: number, count = 5): number[] {
   const raw = span / count, p = 10 ** Math.floor(Math.log10(raw));
   const step = [1, 2, 5, 10].map((m) => m * p).find((s) => s >= raw) ?? 10 * p;
   const out: number[] = [];
-  for (let v = Math.ceil(lo / step) * step; v <= hi + step * 1e-9; v += step) out.push(Math.round(v / step) * step);
+  for (let v = Math.ceil(lo / step) * step; v <= hi + step * 1e-9; v += step) out.push(Number((Math.round(v / step) * step).toPrecision(12)));
   return out;
 }
 
 export function SeriesPlot({ r }: { r: SeriesResult }) {
   const pts = r.points.filter((p) => Number.isFinite(p.order));
   const ts = pts.map((p) => p.tSeconds);
-  const t0 = Math.min(0, ...ts), t1 = Math.max(...ts, t0 + 1);
+  const t0 = Math.min(0, ...ts), tLast = Math.max(...ts), t1 = tLast > t0 ? tLast : t0 + 1;
   const tMax = t1 + 0.04 * (t1 - t0);
   const lows = pts.map((p) => (Number.isFinite(p.ciLow) ? p.ciLow : p.order)), highs = pts.map((p) => (Number.isFinite(p.ciHigh) ? p.ciHigh : p.order));
   const yMin = Math.min(0, Math.floor(Math.min(...lows, 0) * 5) / 5), yMax = Math.max(0.2, Math.ceil(Math.max(...highs, 0) * 5) / 5);

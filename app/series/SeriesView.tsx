@@ -17,7 +17,8 @@ import {
 } from './seriesForm.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
-const seconds = (v: number) => (Number.isFinite(v) ? `${f(v)} s` : 'open');
+/** An end of tau's interval; an end the data do not reach is 0 (below) or Infinity (above) and reads "open". */
+const seconds = (v: number) => (Number.isFinite(v) && v > 0 ? `${f(v)} s` : 'open');
 const MODEL_WORDS: Record<SeriesModelChoice, string> = { auto: 'auto (the better by AIC)', exponential: 'exponential', stretched: 'stretched exponential' };
 
 /** The fit's numbers, each with its interval or, beside it, "not determined", why and what would determine it. */
@@ -56,7 +57,7 @@ function FitTable({ r }: { r: SeriesResult }) {
         <tr><th scope="row">Mean relaxation time</th>
           <Undetermined why={meanWhy && `needs tau and beta: ${meanWhy}`} testId="series-mean-tau">{f(fit.meanTauSeconds)} s</Undetermined>
           {!meanWhy && <td>{stretched ? '(tau / beta) Γ(1 / beta)' : 'equals tau for the exponential'}</td>}</tr>
-        <tr><th scope="row">Model</th><td colSpan={2}>{stretched ? 'stretched exponential' : 'exponential'}{stretched ? chosen : ''}; χ² {f(fit.chiSquare)} on {fit.dof} degrees of freedom</td></tr>
+        <tr><th scope="row">Model</th><td colSpan={2}>{stretched ? 'stretched exponential' : 'exponential'}{stretched ? chosen : ''}; χ² {f(fit.chiSquare)} on {fit.dof} degree{fit.dof === 1 ? '' : 's'} of freedom</td></tr>
       </tbody>
     </table>
   );
