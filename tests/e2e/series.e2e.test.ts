@@ -72,7 +72,7 @@ describe.runIf(haveBrowser)('the Over time screen in chromium', () => {
     await page.getByTestId('file-input').setInputFiles(files);
     await expect.poll(() => page.locator('.images li').count(), { timeout: 60_000 }).toBe(FRAMES);
     await idle();
-    await page.getByRole('button', { name: 'Over time' }).click();
+    await page.getByRole('button', { name: 'Over time', exact: true }).click();
     await page.getByTestId('series-empty').waitFor({ timeout: 10_000 });
 
     // Bad input: one plain line each, nothing run.
@@ -142,7 +142,7 @@ describe.runIf(haveBrowser)('the Over time screen in chromium', () => {
     await shot('800');
     // Leaving the screen and coming back keeps the frames, times and fit (while the page is open).
     await page.getByRole('button', { name: 'Back to the images' }).click();
-    await page.getByRole('button', { name: 'Over time' }).click();
+    await page.getByRole('button', { name: 'Over time', exact: true }).click();
     expect(await text('series-tau')).toBe(`${formatCell(fit.tauSeconds)} s`);
     expect(await page.getByTestId('series-interval').inputValue()).toBe(String(INTERVAL_S));
 
