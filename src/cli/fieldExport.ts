@@ -1,6 +1,6 @@
 import type { OrientationField } from '../orientation/index.ts';
-import { fieldTiffBytes } from '../report/index.ts';
-import { writeBytes } from './io.ts';
+import { fieldTiffChunks } from '../report/index.ts';
+import { writeChunks } from './io.ts';
 
 /** FILE.tif for one image; FILE-<image>.tif for each of several. */
 export function fieldOutPath(template: string, imageName: string, count: number): string {
@@ -10,7 +10,10 @@ export function fieldOutPath(template: string, imageName: string, count: number)
   return `${template.slice(0, dot)}-${base}${template.slice(dot) || '.tif'}`;
 }
 
-/** Writes the field as a float TIFF, one quantity per page (angles in degrees). */
+/**
+ * Writes the field as a float TIFF, one quantity per page (angles in degrees), a strip at a time: the file is
+ * never held whole, and each derived page (angle in degrees, mask) is made only while it is written.
+ */
 export async function writeFieldTiff(path: string, field: OrientationField, description: string): Promise<void> {
-  await writeBytes(path, fieldTiffBytes(field, description));
+  await writeChunks(path, fieldTiffChunks(field, description));
 }

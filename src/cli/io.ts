@@ -1,5 +1,5 @@
 import { readFileSync, statSync } from 'node:fs';
-import { writeFile } from 'node:fs/promises';
+import { open, writeFile, type FileHandle } from 'node:fs/promises';
 import { InputError } from '../common/index.ts';
 import { decodeImage, decodeImagePages, detectFormat, greyTiffRows, MAX_DECODE_BYTES, usePlatformCodecs, type GreyRows, type Image, type ImageHead } from '../image/index.ts';
 import { NODE_CODECS } from './platform.ts';
@@ -89,6 +89,33 @@ export async function loadGreyImageOrRows(path: string, rowsAbove: number): Prom
 export async function loadImagePages(path: string): Promise<Image[]> {
   usePlatformCodecs(NODE_CODECS);
   return decodeImagePages(await readImageBytes(path), path);
+}
+
+/** Chunks gathered into one write of about this many bytes. */
+const WRITE_BATCH_BYTES = 4 * 2 ** 20;
+
+/**
+ * Writes chunks to a file in order, replacing it, holding about WRITE_BATCH_BYTES at a time.
+ * @throws InputError naming the path when the folder is missing, not writable, or the disk is full
+ */
+export async function writeChunks(path: string, chunks: Iterable<Uint8Array>): Promise<void> {
+  let file: FileHandle | undefined;
+  try {
+    file = await open(path, 'w');
+    // Strips are small: gather them into writes of about 4 MB.
+    const batch: Uint8Array[] = [];
+    let size = 0;
+    for (const c of chunks) {
+      batch.push(c); size += c.length;
+      if (size >= WRITE_BATCH_BYTES) { await file.writev(batch); batch.length = 0; size = 0; }
+    }
+    if (batch.length) await file.writev(batch);
+  } catch (e) {
+    if (e instanceof InputError) throw e;
+    throw fsProblem(path, e, 'write the file');
+  } finally {
+    await file?.close();
+  }
 }
 
 /**

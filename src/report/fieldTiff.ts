@@ -1,6 +1,6 @@
 import type { OrientationField } from '../orientation/index.ts';
 import { fieldPages } from './fields.ts';
-import { encodeFloatTiff } from './tiff.ts';
+import { encodeFloatTiff, floatTiffChunks } from './tiff.ts';
 
 /**
  * A field as the float TIFF the command line's --field-out writes: fieldPages (angleDeg, coherency
@@ -10,4 +10,9 @@ import { encodeFloatTiff } from './tiff.ts';
  */
 export function fieldTiffBytes(field: OrientationField, description: string): Uint8Array {
   return encodeFloatTiff(fieldPages(field), { pixelSizeUmPerPx: field.pixelSizeUmPerPx, description });
+}
+
+/** The same bytes as fieldTiffBytes in file order, a strip at a time (for writing a file without holding it). */
+export function fieldTiffChunks(field: OrientationField, description: string): Generator<Uint8Array> {
+  return floatTiffChunks(fieldPages(field), { pixelSizeUmPerPx: field.pixelSizeUmPerPx, description });
 }

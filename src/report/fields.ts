@@ -1,7 +1,8 @@
 import { radToDeg } from '../common/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 
-export interface FieldPage { width: number; height: number; data: Float32Array; name: string }
+/** One quantity as a float page; `data` may be made only when the page is written (FloatTiffPage). */
+export interface FieldPage { width: number; height: number; data: Float32Array | (() => Float32Array); name: string }
 
 /**
  * The quantities of a field as float pages for TIFF export: angleDeg (NaN where masked), confidence,
@@ -9,14 +10,18 @@ export interface FieldPage { width: number; height: number; data: Float32Array; 
  */
 export function fieldPages(f: OrientationField): FieldPage[] {
   const { width, height } = f;
-  const angle = new Float32Array(width * height);
-  for (let i = 0; i < angle.length; i++) angle[i] = f.mask[i] ? radToDeg(f.angleRad[i]) : NaN;
+  // The angle in degrees and the mask as floats are made when their page is written, one at a time.
+  const angle = () => {
+    const a = new Float32Array(width * height);
+    for (let i = 0; i < a.length; i++) a[i] = f.mask[i] ? radToDeg(f.angleRad[i]) : NaN;
+    return a;
+  };
   const pages: FieldPage[] = [
     { width, height, data: angle, name: 'angleDeg' },
     { width, height, data: f.confidence, name: f.method === 'texture' ? 'coherency' : 'confidence' },
   ];
   if (f.retardanceNm) pages.push({ width, height, data: f.retardanceNm, name: 'retardanceNm' });
   if (f.strength) pages.push({ width, height, data: f.strength, name: 'strength' });
-  pages.push({ width, height, data: Float32Array.from(f.mask), name: 'mask' });
+  pages.push({ width, height, data: () => Float32Array.from(f.mask), name: 'mask' });
   return pages;
 }

@@ -10,7 +10,7 @@ export {
 export { retardanceColourTable, retardanceIndex, retardanceRange } from './retardanceColours.ts';
 export type { CsvValue } from './csv.ts';
 export { csvField, toCsv } from './csv.ts';
-export { fieldTiffBytes } from './fieldTiff.ts';
+export { fieldTiffBytes, fieldTiffChunks } from './fieldTiff.ts';
 export type { FieldPage } from './fields.ts';
 export { fieldPages } from './fields.ts';
 export type { PngPixels } from './png.ts';
@@ -19,5 +19,5 @@ export { orientCsvRow, profileCsvRow, profileBinRows } from './rows.ts';
 export type { ScaleBar } from './scaleBar.ts';
 export { chooseScaleBar } from './scaleBar.ts';
 export type { FloatTiffPage, FloatTiffOptions } from './tiff.ts';
-export { encodeFloatTiff } from './tiff.ts';
+export { encodeFloatTiff, floatTiffChunks } from './tiff.ts';
 export { formatCell } from './format.ts';

@@ -13,8 +13,11 @@ import { checkNumber, InputError } from '../common/index.ts';
 export interface FloatTiffPage {
   width: number;
   height: number;
-  /** Row-major, x right, y down; width * height values. */
-  data: Float32Array;
+  /**
+   * Row-major, x right, y down; width * height values. A function is called when the page is written, so a
+   * streamed file holds one computed page at a time.
+   */
+  data: Float32Array | (() => Float32Array);
   /** Stored in PageName (tag 285), e.g. "orientationDeg". 7-bit ASCII. */
   name?: string;
 }
@@ -53,6 +56,18 @@ interface Field {
  *   4 GiB (classic TIFF offsets are 32-bit)
  */
 export function encodeFloatTiff(pages: FloatTiffPage[], opts: FloatTiffOptions = {}): Uint8Array {
+  const chunks = [...floatTiffChunks(pages, opts)];
+  const out = new Uint8Array(chunks.reduce((n, c) => n + c.length, 0));
+  let at = 0;
+  for (const c of chunks) { out.set(c, at); at += c.length; }
+  return out;
+}
+
+/**
+ * The bytes of encodeFloatTiff in file order, a strip or an IFD at a time, each page's data made (when it is
+ * a function) only as its turn comes: what a file writer needs to hold at once is one page and one strip.
+ */
+export function* floatTiffChunks(pages: FloatTiffPage[], opts: FloatTiffOptions = {}): Generator<Uint8Array> {
   if (!Array.isArray(pages) || pages.length === 0) {
     throw new InputError('a float TIFF needs at least one page', 'Give one page per quantity');
   }
@@ -91,7 +106,7 @@ export function encodeFloatTiff(pages: FloatTiffPage[], opts: FloatTiffOptions =
     const pixelBytes = 4 * page.width * page.height;
     const extraBytes = fields.reduce((sum, f) => sum + pad4(outOfLineBytes(f)), 0);
     const ifdBytes = 2 + 12 * fields.length + 4;
-    return { page, fields, pixelBytes, ifdBytes, extraBytes };
+    return { page, fields, pixelBytes, ifdBytes, extraBytes, rowsPerStrip, byteCounts };
   });
 
   const total = 8 + layouts.reduce((sum, l) => sum + l.pixelBytes + l.ifdBytes + l.extraBytes, 0);
@@ -99,52 +114,66 @@ export function encodeFloatTiff(pages: FloatTiffPage[], opts: FloatTiffOptions =
     throw new InputError(`the float TIFF would be ${(total / 2 ** 30).toFixed(1)} GiB, over the 4 GiB a classic TIFF can address`,
       'Export fewer quantities per file, or a cropped region');
   }
-  const out = new Uint8Array(total);
-  const view = new DataView(out.buffer);
-  out.set([0x49, 0x49], 0); // "II": little-endian
-  view.setUint16(2, 42, true);
-
+  // Every page's data start and IFD start, known before any byte is written.
   let pos = 8;
-  let previousNextPointer = 4; // where the offset of this page's IFD must be written
-  for (const { page, fields, pixelBytes, ifdBytes } of layouts) {
-    const dataStart = pos;
-    writeFloats(view, dataStart, page.data);
-    pos += pixelBytes;
+  const starts = layouts.map((l) => {
+    const dataStart = pos, ifdStart = pos + l.pixelBytes;
+    pos = ifdStart + l.ifdBytes + l.extraBytes;
+    return { dataStart, ifdStart };
+  });
+  const header = new Uint8Array(8);
+  const hv = new DataView(header.buffer);
+  header.set([0x49, 0x49], 0); // "II": little-endian
+  hv.setUint16(2, 42, true);
+  hv.setUint32(4, starts[0].ifdStart, true);
+  yield header;
+
+  for (const [i, { page, fields, ifdBytes, extraBytes, rowsPerStrip, byteCounts }] of layouts.entries()) {
+    const { dataStart, ifdStart } = starts[i];
+    const data = typeof page.data === 'function' ? page.data() : page.data;
+    checkData(page, data, i);
+    for (let s = 0; s < byteCounts.length; s++) {
+      const strip = new Uint8Array(byteCounts[s]);
+      writeFloats(new DataView(strip.buffer), 0, data.subarray(s * rowsPerStrip * page.width, s * rowsPerStrip * page.width + byteCounts[s] / 4));
+      yield strip;
+    }
     const stripOffsets = fields.find((f) => f.tag === 273) as Field;
-    const rowsPerStrip = (fields.find((f) => f.tag === 278) as Field).values[0];
     stripOffsets.values = stripOffsets.values.map((_, s) => dataStart + 4 * page.width * rowsPerStrip * s);
 
-    const ifdStart = pos;
-    view.setUint32(previousNextPointer, ifdStart, true);
-    view.setUint16(ifdStart, fields.length, true);
-    let extra = ifdStart + ifdBytes;
+    const block = new Uint8Array(ifdBytes + extraBytes);
+    const view = new DataView(block.buffer);
+    view.setUint16(0, fields.length, true);
+    let extra = ifdBytes;
     fields.forEach((field, k) => {
-      const entry = ifdStart + 2 + 12 * k;
+      const entry = 2 + 12 * k;
       view.setUint16(entry, field.tag, true);
       view.setUint16(entry + 2, field.type, true);
       view.setUint32(entry + 4, valueCount(field), true);
       const bytes = outOfLineBytes(field);
       const at = bytes > 0 ? extra : entry + 8;
       if (bytes > 0) {
-        view.setUint32(entry + 8, extra, true);
+        view.setUint32(entry + 8, ifdStart + extra, true);
         extra += pad4(bytes);
       }
-      writeValues(view, out, at, field);
+      writeValues(view, block, at, field);
     });
-    previousNextPointer = ifdStart + 2 + 12 * fields.length;
-    view.setUint32(previousNextPointer, 0, true); // last page unless the next one overwrites it
-    pos = extra;
+    // Offset of the next page's IFD, 0 after the last.
+    view.setUint32(2 + 12 * fields.length, i + 1 < layouts.length ? starts[i + 1].ifdStart : 0, true);
+    yield block;
   }
-  return out;
 }
 
 function checkPage(page: FloatTiffPage, i: number): void {
-  const { width, height, data } = page;
+  const { width, height } = page;
   if (!Number.isInteger(width) || !Number.isInteger(height) || width < 1 || height < 1) {
     throw new InputError(`float TIFF page ${i + 1}: size ${width}x${height} is not a positive whole number of pixels`);
   }
-  if (!(data instanceof Float32Array) || data.length !== width * height) {
-    throw new InputError(`float TIFF page ${i + 1}: data must be a Float32Array of ${width * height} values`,
+  if (typeof page.data !== 'function') checkData(page, page.data, i);
+}
+
+function checkData(page: FloatTiffPage, data: unknown, i: number): asserts data is Float32Array {
+  if (!(data instanceof Float32Array) || data.length !== page.width * page.height) {
+    throw new InputError(`float TIFF page ${i + 1}: data must be a Float32Array of ${page.width * page.height} values`,
       'Pass the plane the page was computed for');
   }
 }
