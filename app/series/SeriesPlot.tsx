@@ -26,7 +26,7 @@ export function SeriesPlot({ r }: { r: SeriesResult }) {
   const y = (v: number) => M.t + (1 - (v - yMin) / (yMax - yMin)) * (H - M.t - M.b);
   const f = r.fit;
   const open = !!r.notDetermined?.tauSeconds;
-  const curve = f ? Array.from({ length: 121 }, (_, k) => t0 + (k / 120) * (tMax - t0)).map((t) => `${x(t).toFixed(1)},${y(relaxationAt(f, t)).toFixed(1)}`).join(' ') : '';
+  const curve = f ? Array.from({ length: 121 }, (_, k) => t0 + (k / 120) * (tMax - t0)).map((t) => `${x(t).toFixed(1)},${y(relaxationAt(f.curve, t)).toFixed(1)}`).join(' ') : '';
   const fitLabel = f ? `${open ? 'best fit, tau not determined' : 'fit'}: ${f.model === 'stretched' ? 'stretched exponential' : 'exponential'}` : 'no fit';
   return (
     <svg className="plot series-plot" viewBox={`0 0 ${W} ${H}`} role="img" data-testid="series-plot"

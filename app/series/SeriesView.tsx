@@ -33,12 +33,9 @@ function FitTable({ r }: { r: SeriesResult }) {
     );
   }
   const stretched = fit.model === 'stretched';
-  // The ends of the curve are extrapolations through tau: with tau open above, the series does not show where the
-  // order ends up (S_inf); with tau open below, it had relaxed before the second frame, so S_0 is not seen either.
-  const infinityWhy = nd.tauSeconds && !Number.isFinite(fit.tauCi[1]) ? 'the series ends before the order settles (tau not determined); record for longer after the flow stops' : undefined;
-  const zeroWhy = nd.tauSeconds && fit.tauCi[0] === 0 && Number.isFinite(fit.tauCi[1]) ? 'the order had relaxed before the second frame (tau not determined); record faster frames just after the flow stops' : undefined;
-  // The mean relaxation time needs both tau and beta.
-  const meanWhy = nd.tauSeconds ?? nd.beta;
+  // What the data do not determine, and why, comes from the analysis (the ends of the curve and the mean time
+  // follow tau and beta there).
+  const infinityWhy = nd.orderInfinity, zeroWhy = nd.orderZero, meanWhy = nd.meanTauSeconds;
   const chosen = r.options.model === 'auto' ? ', chosen by AIC' : '';
   return (
     <table className="results" data-testid="series-results">
@@ -55,7 +52,7 @@ function FitTable({ r }: { r: SeriesResult }) {
         <tr><th scope="row">S_inf (fitted, long after)</th>
           <Undetermined why={infinityWhy} testId="series-order-infinity">{f(fit.orderInfinity)}</Undetermined>{!infinityWhy && <td>S_axis it relaxes to</td>}</tr>
         <tr><th scope="row">Mean relaxation time</th>
-          <Undetermined why={meanWhy && `needs tau and beta: ${meanWhy}`} testId="series-mean-tau">{f(fit.meanTauSeconds)} s</Undetermined>
+          <Undetermined why={meanWhy} testId="series-mean-tau">{f(fit.meanTauSeconds)} s</Undetermined>
           {!meanWhy && <td>{stretched ? '(tau / beta) Γ(1 / beta)' : 'equals tau for the exponential'}</td>}</tr>
         <tr><th scope="row">Model</th><td colSpan={2}>{stretched ? 'stretched exponential' : 'exponential'}{stretched ? chosen : ''}; χ² {f(fit.chiSquare)} on {fit.dof} degree{fit.dof === 1 ? '' : 's'} of freedom</td></tr>
       </tbody>

@@ -24,6 +24,7 @@ export interface RelaxationPoint { tSeconds: number; order: number; se: number }
 
 export interface RelaxationFit {
   model: RelaxationModel;
+  /** NaN (null in JSON) when not determined; `curve` keeps the best fit for drawing. */
   tauSeconds: number;
   /** 95 % interval of tau; the high end is Infinity when the series ends before the order has relaxed. */
   tauCi: [number, number];
@@ -39,8 +40,14 @@ export interface RelaxationFit {
   chiSquare: number;
   dof: number;
   aic: number;
-  /** Why tau or beta is not determined (their interval reaches a limit the data do not rule out). */
-  notDetermined?: Partial<Record<'tauSeconds' | 'beta', string>>;
+  /** The best-fit curve's parameters, for drawing it even where some of them are not determined. */
+  curve: { tauSeconds: number; beta: number; orderZero: number; orderInfinity: number };
+  /**
+   * Values the data do not determine (NaN above), with why and what would: tau and beta when their interval
+   * reaches a limit the data do not rule out; then the ends the curve reaches only through them (S_inf when tau
+   * is open above, S_0 when it is open below) and the mean relaxation time.
+   */
+  notDetermined?: Partial<Record<'tauSeconds' | 'beta' | 'orderZero' | 'orderInfinity' | 'meanTauSeconds', string>>;
 }
 
 /** Least points for a fit: one more than the parameters. */
@@ -165,9 +172,11 @@ export function fitRelaxation(points: readonly RelaxationPoint[], model: Relaxat
   const tauCi: [number, number] = [tauLow === null ? 0 : Math.exp(tauLow), tauHigh === null ? Infinity : Math.exp(tauHigh)];
   const notDetermined: RelaxationFit['notDetermined'] = {};
   if (tauHigh === null) {
-    notDetermined.tauSeconds = `the order has not clearly relaxed by the last frame (tau could be longer than any time the series can tell, ${fmtS(Math.exp(hi))}); record for longer after the flow stops`;
+    notDetermined.tauSeconds = `the order has not clearly relaxed by the last frame: tau's 95 % interval has no upper end short of ${fmtS(Math.exp(hi))}, a thousand times the series' length; record for longer after the flow stops`;
+    notDetermined.orderInfinity = 'the series ends before the order settles (tau not determined), so where it ends up is not seen; record for longer after the flow stops';
   } else if (tauLow === null) {
-    notDetermined.tauSeconds = `the order had relaxed before the second frame (tau could be shorter than ${fmtS(Math.exp(lo))}); record faster frames just after the flow stops`;
+    notDetermined.tauSeconds = `the order had relaxed before the second frame: tau's 95 % interval reaches down to ${fmtS(Math.exp(lo))}, a twentieth of the closest frame spacing; record faster frames just after the flow stops`;
+    notDetermined.orderZero = 'the order had relaxed before the second frame (tau not determined), so its value when the flow stopped is not seen; record faster frames just after the flow stops';
   }
   let betaCi: [number, number] | null = null;
   if (model === 'stretched') {
@@ -176,9 +185,13 @@ export function fitRelaxation(points: readonly RelaxationPoint[], model: Relaxat
     betaCi = [bl ?? BETA_MIN, bh ?? 1];
     if (bl === null) notDetermined.beta = `the decay's stretch is not determined (beta could be below ${BETA_MIN}); more frames over a longer time would determine it`;
   }
+  if (notDetermined.tauSeconds || notDetermined.beta) notDetermined.meanTauSeconds = `it needs tau and beta: ${notDetermined.tauSeconds ?? notDetermined.beta}`;
+  const curve = { tauSeconds: tau, beta, orderZero: lin.a + lin.b, orderInfinity: lin.a };
+  const shown = (key: keyof NonNullable<RelaxationFit['notDetermined']>, v: number) => (notDetermined[key] ? NaN : v);
   return {
-    model, tauSeconds: tau, tauCi, beta, betaCi, orderZero: lin.a + lin.b, orderInfinity: lin.a,
-    meanTauSeconds: (tau / beta) * gamma(1 / beta), chiSquare: best.f, dof, aic: best.f + 2 * k,
+    model, tauSeconds: shown('tauSeconds', tau), tauCi, beta: shown('beta', beta), betaCi,
+    orderZero: shown('orderZero', curve.orderZero), orderInfinity: shown('orderInfinity', curve.orderInfinity),
+    meanTauSeconds: shown('meanTauSeconds', (tau / beta) * gamma(1 / beta)), chiSquare: best.f, dof, aic: best.f + 2 * k, curve,
     ...(Object.keys(notDetermined).length ? { notDetermined } : {}),
   };
 }

@@ -69,9 +69,9 @@ function coverage(model: 'exponential' | 'stretched', n: number, beta: number) {
       return { tSeconds: t, order: 0.1 + 0.6 * Math.exp(-Math.pow(t / tau, beta)) + se * g(), se };
     });
     const f = fitRelaxation(pts, model);
-    if (inside(f.tauCi, f.tauSeconds, 1)) counts.hit++;
-    if (inside(f.tauCi, f.tauSeconds, 0.8)) counts.narrow++;
-    if (inside(f.tauCi, f.tauSeconds, 1.2)) counts.wide++;
+    if (inside(f.tauCi, f.curve.tauSeconds, 1)) counts.hit++;
+    if (inside(f.tauCi, f.curve.tauSeconds, 0.8)) counts.narrow++;
+    if (inside(f.tauCi, f.curve.tauSeconds, 1.2)) counts.wide++;
     if (f.betaCi && f.betaCi[0] <= beta && beta <= f.betaCi[1]) counts.betaHit++;
   }
   return counts;
@@ -102,6 +102,13 @@ describe('what a series cannot tell', () => {
     const f = fitRelaxation(pts, 'exponential');
     expect(f.tauCi[1]).toBe(Infinity);
     expect(f.notDetermined?.tauSeconds).toMatch(/record for longer/);
+    // Not determined means no number: tau, where the order ends up and the mean time are withheld; the curve keeps the best fit.
+    expect(f.tauSeconds).toBeNaN();
+    expect(f.orderInfinity).toBeNaN();
+    expect(f.meanTauSeconds).toBeNaN();
+    expect(f.notDetermined?.orderInfinity).toMatch(/record for longer/);
+    expect(Number.isFinite(f.orderZero)).toBe(true);
+    expect(f.curve.tauSeconds).toBeGreaterThanOrEqual(f.tauCi[0]);
   });
   it('refuses too few points in one plain line', () => {
     const pts = [0, 1, 2].map((t) => ({ tSeconds: t, order: 0.5, se: 0.01 }));

@@ -44,11 +44,11 @@ async function modelRows(model: 'exponential' | 'stretched', beta: number, n: nu
     // An interval that reaches a limit the data do not rule out is reported "not determined"; counted apart.
     if (res.notDetermined?.tauSeconds) tauOpen++;
     if (res.notDetermined?.beta) betaOpen++;
-    if (inside(f.tauCi, f.tauSeconds, 1)) hit++;
-    if (inside(f.tauCi, f.tauSeconds, 0.8)) narrow++;
-    if (inside(f.tauCi, f.tauSeconds, 1.2)) wide++;
+    if (inside(f.tauCi, f.curve.tauSeconds, 1)) hit++;
+    if (inside(f.tauCi, f.curve.tauSeconds, 0.8)) narrow++;
+    if (inside(f.tauCi, f.curve.tauSeconds, 1.2)) wide++;
     if (f.betaCi && f.betaCi[0] <= beta && beta <= f.betaCi[1]) betaHit++;
-    logErr.push(Math.abs(Math.log(f.tauSeconds / TAU)));
+    logErr.push(Math.abs(Math.log(f.curve.tauSeconds / TAU)));
     halfWidth.push((Math.log(f.tauCi[1]) - Math.log(Math.max(f.tauCi[0], 1e-300))) / 2);
   }
   // Quick: what chance allows an exact 95 % interval at n (three binomial standard deviations).

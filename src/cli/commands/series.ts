@@ -59,13 +59,16 @@ export const seriesCommand: Command = {
     }
     const r = await analyseSeries(frames(), options);
     const f = r.fit;
-    const tauText = (v: number) => (Number.isFinite(v) ? v.toPrecision(3) : 'open');
+    const tauText = (v: number) => (Number.isFinite(v) && v > 0 ? v.toPrecision(3) : 'open');
+    const nd: Record<string, string> = r.notDetermined ?? {};
+    const shown = (key: string, v: number) => (nd[key] ? NOT_DETERMINED : v);
     const table = [
       `S_axis against ${r.axisDeg.toFixed(1)} deg (${r.axisFrom})`,
       formatTable(['frame', 't s', 'S_axis', 'ci low', 'ci high', 'n'], r.points.map((p) => [p.source, p.tSeconds, p.order, p.ciLow, p.ciHigh, p.n])),
       f ? formatTable(['model', 'tau s', 'tau ci low', 'tau ci high', 'beta', 'S_0', 'S_inf', 'mean tau s'], [[
-        f.model, r.notDetermined?.tauSeconds ? NOT_DETERMINED : f.tauSeconds, tauText(f.tauCi[0]), tauText(f.tauCi[1]), f.betaCi ? `${f.beta.toFixed(2)} (${f.betaCi[0].toFixed(2)}-${f.betaCi[1].toFixed(2)})` : '1 (exponential)',
-        f.orderZero, f.orderInfinity, r.notDetermined?.tauSeconds ? NOT_DETERMINED : f.meanTauSeconds,
+        f.model, shown('tauSeconds', f.tauSeconds), tauText(f.tauCi[0]), tauText(f.tauCi[1]),
+        f.betaCi ? (nd.beta ? NOT_DETERMINED : `${f.beta.toFixed(2)} (${f.betaCi[0].toFixed(2)}-${f.betaCi[1].toFixed(2)})`) : '1 (exponential)',
+        shown('orderZero', f.orderZero), shown('orderInfinity', f.orderInfinity), shown('meanTauSeconds', f.meanTauSeconds),
       ]]) : `fit: ${NOT_DETERMINED}`,
     ].join('\n');
     return {
