@@ -14,10 +14,10 @@ export interface FloatTiffPage {
   width: number;
   height: number;
   /**
-   * Row-major, x right, y down; width * height values. A function is called when the page is written, so a
-   * streamed file holds one computed page at a time.
+   * Row-major, x right, y down; width * height values. Or a function giving `count` values from index `start`
+   * on, called strip by strip as the page is written, so a page derived from others is never held whole.
    */
-  data: Float32Array | (() => Float32Array);
+  data: Float32Array | ((start: number, count: number) => Float32Array);
   /** Stored in PageName (tag 285), e.g. "orientationDeg". 7-bit ASCII. */
   name?: string;
 }
@@ -130,11 +130,15 @@ export function* floatTiffChunks(pages: FloatTiffPage[], opts: FloatTiffOptions 
 
   for (const [i, { page, fields, ifdBytes, extraBytes, rowsPerStrip, byteCounts }] of layouts.entries()) {
     const { dataStart, ifdStart } = starts[i];
-    const data = typeof page.data === 'function' ? page.data() : page.data;
-    checkData(page, data, i);
+    const { data } = page;
     for (let s = 0; s < byteCounts.length; s++) {
+      const start = s * rowsPerStrip * page.width, count = byteCounts[s] / 4;
+      const values = typeof data === 'function' ? data(start, count) : data.subarray(start, start + count);
+      if (!(values instanceof Float32Array) || values.length !== count) {
+        throw new InputError(`float TIFF page ${i + 1}: its data gave ${values?.length} values for a strip of ${count}`, 'Pass the plane the page was computed for');
+      }
       const strip = new Uint8Array(byteCounts[s]);
-      writeFloats(new DataView(strip.buffer), 0, data.subarray(s * rowsPerStrip * page.width, s * rowsPerStrip * page.width + byteCounts[s] / 4));
+      writeFloats(new DataView(strip.buffer), 0, values);
       yield strip;
     }
     const stripOffsets = fields.find((f) => f.tag === 273) as Field;
@@ -171,7 +175,7 @@ function checkPage(page: FloatTiffPage, i: number): void {
   if (typeof page.data !== 'function') checkData(page, page.data, i);
 }
 
-function checkData(page: FloatTiffPage, data: unknown, i: number): asserts data is Float32Array {
+function checkData(page: FloatTiffPage, data: unknown, i: number): void {
   if (!(data instanceof Float32Array) || data.length !== page.width * page.height) {
     throw new InputError(`float TIFF page ${i + 1}: data must be a Float32Array of ${page.width * page.height} values`,
       'Pass the plane the page was computed for');

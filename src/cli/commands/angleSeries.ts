@@ -1,3 +1,5 @@
+import { giveBack } from '../../common/index.ts';
+import type { Image } from '../../image/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { analyseAngleSeries, checkReadingSize, DEFAULT_ANGLES_DEG } from '../../analyses/index.ts';
 import { seriesIntensityImage } from '../../optics/index.ts';
@@ -40,15 +42,22 @@ export const angleSeriesCommand: Command = {
       checkReadingSize('angle-series', img);
       return img;
     };
+    // The decoded colour planes go back to the pool once the intensity is made, so the next file's decode reuses them.
+    const intensity = (img: Image, markClipped?: boolean) => {
+      const out = seriesIntensityImage(img, markClipped);
+      if (out !== img) giveBack(...img.planes);
+      return out;
+    };
     const images = [];
-    for (const [k, name] of a.positionals.entries()) images.push(k === 0 && options.profile?.autoWalls ? await one(name) : seriesIntensityImage(await one(name)));
-    const { result, field } = await analyseAngleSeries(images, {
-      ...options, plate: files.plate ? await one(files.plate) : undefined,
-      flatField: files.flat ? seriesIntensityImage(await one(files.flat), false) : undefined,
-      dark: files.dark ? seriesIntensityImage(await one(files.dark), false) : undefined,
-    });
+    for (const [k, name] of a.positionals.entries()) images.push(k === 0 && options.profile?.autoWalls ? await one(name) : intensity(await one(name)));
+    const plate = files.plate ? await one(files.plate) : undefined;
+    const flatField = files.flat ? intensity(await one(files.flat), false) : undefined;
+    const dark = files.dark ? intensity(await one(files.dark), false) : undefined;
+    const { result, field } = await analyseAngleSeries(images, { ...options, plate, flatField, dark });
     const fieldOut = stringOpt(a, 'field-out');
-    if (fieldOut) await writeFieldTiff(fieldOut, field, `retarda angle-series ${images.map((i) => i.source.name).join(' ')}`);
+    const description = `retarda angle-series ${images.map((i) => i.source.name).join(' ')}`;
+    images.length = 0; // the images are read; let them go before the field's pages are written
+    if (fieldOut) await writeFieldTiff(fieldOut, field, description);
     return opticsOutput('angle-series', [result]);
   },
 };
