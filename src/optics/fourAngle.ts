@@ -2,7 +2,7 @@ import { checkNumber, InputError } from '../common/index.ts';
 import { DEG } from '../common/index.ts';
 import { makeImage, type Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
-import { foldMod90, mod90Axis } from '../orientation/index.ts';
+import { foldMod90, mod90AxisOfSums } from '../orientation/index.ts';
 import { srgbDecode } from './colorimetry.ts';
 import { calibrateFromBackground } from './calibration.ts';
 import { colourModel } from './colourModel.ts';
@@ -264,9 +264,9 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   }
   const n = width * height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), mask = new Uint8Array(n);
-  const amplitude = new Float32Array(n), residual = new Float32Array(n);
+  const amplitude = new Float32Array(n), residual = new Float32Array(n), cos2 = new Float32Array(n), sin2 = new Float32Array(n);
   const background = options.keepBackground === false ? null : new Float32Array(n);
-  const out = { angleRad, confidence, mask, amplitude, background, residual };
+  const out = { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2, sumCos4: 0, sumSin4: 0 };
   const fit = { P, cos4: anglesRad.map((a) => Math.cos(4 * a)), sin4: anglesRad.map((a) => Math.sin(4 * a)), dark, flat, flatMean };
   const counts = { flatBad: 0, nonFinite: 0, clipped: 0 };
   // A clipped image value would pull the fit: such pixels are not read.
@@ -282,7 +282,14 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // The 99th percentile by radix selection in place (valuesOfRanks), not a sort or a copy: the same value.
   const ampRef = valuesOfRanks(amplitude, { mask }, (k) => (k ? [Math.min(k - 1, Math.floor(0.99 * (k - 1)))] : []))[0] ?? 0;
   let lowAmp = 0;
-  for (let i = 0; i < n; i++) if (mask[i] && amplitude[i] <= floor * ampRef) { mask[i] = 0; lowAmp++; }
+  // The pixels masked here leave the confidence-weighted sums of cos 4 theta and sin 4 theta the fit made.
+  let { sumCos4, sumSin4 } = out;
+  for (let i = 0; i < n; i++) {
+    if (!mask[i] || !(amplitude[i] <= floor * ampRef)) continue;
+    mask[i] = 0; lowAmp++;
+    const w = confidence[i];
+    if (w !== 0) { sumCos4 -= w * Math.cos(4 * angleRad[i]); sumSin4 -= w * Math.sin(4 * angleRad[i]); }
+  }
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
   if (clippedCount) warnings.push(`${clippedCount} pixels at full scale (clipped) in an image were masked (${((100 * clippedCount) / n).toFixed(2)} %)`);
@@ -305,7 +312,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
         usable++;
         const c = plate.choose(cell, angleRad[i]);
         if (c === 0) continue;
-        if (c < 0) angleRad[i] += 90 * DEG;
+        if (c < 0) { angleRad[i] += 90 * DEG; cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
         resolved++;
         ambiguous[i] = 0;
       }
@@ -316,14 +323,15 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   }
   for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
   let field: OrientationField = {
-    width, height, angleRad, confidence, mask, clipped, method: 'angle-series', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
+    width, height, angleRad, cos2, sin2, confidence, mask, clipped, method: 'angle-series', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
     pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
     options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate },
     warnings,
   };
   // Unresolved pixels: show them within 45 deg of the axis the field is concentrated about, so the
-  // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning).
-  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90Axis(field));
+  // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning). The axis
+  // is mod90Axis's, from the sums the fit made (cos 4 theta and sin 4 theta are the fit's own components).
+  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90AxisOfSums(sumCos4, sumSin4), true);
   return { field, amplitude, background, residual, resolvedFraction };
 }
 
@@ -334,6 +342,26 @@ interface SeriesFit {
 interface SeriesOut {
   angleRad: Float32Array; confidence: Float32Array; mask: Uint8Array;
   amplitude: Float32Array; background: Float32Array | null; residual: Float32Array;
+  /** cos 2 theta and sin 2 theta of the fit's angle (1 and 0 where a pixel is not read). */
+  cos2: Float32Array; sin2: Float32Array;
+  /** Sums over the read pixels of confidence x cos 4 theta and confidence x sin 4 theta (for mod90Axis). */
+  sumCos4: number; sumSin4: number;
+}
+
+/**
+ * cos 2 theta and sin 2 theta for the fit's theta = 1/4 atan2(sin 4 theta, cos 4 theta) in [0, 90) deg, by the
+ * half-angle formulas without trigonometry: 2 theta lies in [0, 180) deg, so sin 2 theta = sqrt((1 - cos 4 theta) / 2)
+ * >= 0 and cos 2 theta takes the sign of sin 4 theta = 2 sin 2 theta cos 2 theta; each is taken from the square
+ * root whose argument is the larger, the other as sin 4 theta / (2 times it). Written into cos2[i] and sin2[i].
+ */
+function doubledAngleInto(cos4: number, sin4: number, cos2: Float32Array, sin2: Float32Array, i: number): void {
+  if (cos4 >= 0) {
+    const c = Math.sqrt(0.5 + 0.5 * cos4);
+    cos2[i] = sin4 < 0 ? -c : c; sin2[i] = Math.abs(sin4) / (2 * c);
+  } else {
+    const s = Math.sqrt(0.5 - 0.5 * cos4);
+    sin2[i] = s; cos2[i] = sin4 / (2 * s);
+  }
 }
 
 /**
@@ -345,9 +373,11 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
   const nImg = I.length, len = I[0].length, { dark, flat, flatMean } = fit;
   const P0 = Float64Array.from(fit.P[0]), P1 = Float64Array.from(fit.P[1]), P2 = Float64Array.from(fit.P[2]);
   const cos4 = Float64Array.from(fit.cos4), sin4 = Float64Array.from(fit.sin4), v = new Float64Array(nImg);
-  const { angleRad, confidence, mask, amplitude, background, residual } = out;
+  const { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2 } = out;
+  let sumCos4 = 0, sumSin4 = 0;
   for (let t = 0; t < len; t++) {
     const i = i0 + t;
+    cos2[i] = 1;
     if (clipped[i]) { counts.clipped++; continue; }
     let f = 1;
     const d = dark ? dark[i] : 0;
@@ -365,16 +395,29 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
     if (!Number.isFinite(a0 + a4c + a4s)) { counts.nonFinite++; continue; }
     let ss = 0;
     for (let k = 0; k < nImg; k++) { const r = v[k] - (a0 + a4c * cos4[k] + a4s * sin4[k]); ss += r * r; }
-    const amp = 2 * Math.sqrt(a4c * a4c + a4s * a4s), res = nImg > 3 ? Math.sqrt(ss / (nImg - 3)) : 0;
+    const h = Math.sqrt(a4c * a4c + a4s * a4s), amp = 2 * h, res = nImg > 3 ? Math.sqrt(ss / (nImg - 3)) : 0;
     let th = 0.25 * Math.atan2(-a4s, -a4c);
     if (th < 0) th += Math.PI / 2;
-    if (th >= Math.PI / 2) th -= Math.PI / 2;
+    // Rounded up to 90 deg, theta is taken as 0: 2 theta turns by 180 deg (below).
+    const turned = th >= Math.PI / 2;
+    if (turned) th -= Math.PI / 2;
     angleRad[i] = th;
     amplitude[i] = amp; residual[i] = res;
     if (background) background[i] = a0 - amp / 2;
-    confidence[i] = amp / (amp + 3 * res + 1e-12);
+    const w = Math.fround(amp / (amp + 3 * res + 1e-12));
+    confidence[i] = w;
     mask[i] = 1;
+    if (h > 0) {
+      // (cos 4 theta, sin 4 theta) = -(a4c, a4s) / h.
+      const c4 = -a4c / h, s4 = -a4s / h;
+      doubledAngleInto(c4, s4, cos2, sin2, i);
+      if (turned) { cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
+      sumCos4 += w * c4; sumSin4 += w * s4;
+    } else {
+      cos2[i] = Math.cos(2 * angleRad[i]); sin2[i] = Math.sin(2 * angleRad[i]);
+    }
   }
+  out.sumCos4 += sumCos4; out.sumSin4 += sumSin4;
 }
 
 /** fitBlock for four images (the usual series), written out: the same operations in the same order, faster. */
@@ -383,10 +426,11 @@ function fitBlockOfFour(I: Float32Array[], i0: number, clipped: Uint8Array, fit:
   const [I0, I1, I2, I3] = I;
   const [p00, p01, p02, p03] = fit.P[0], [p10, p11, p12, p13] = fit.P[1], [p20, p21, p22, p23] = fit.P[2];
   const [c0, c1, c2, c3] = fit.cos4, [s0, s1, s2, s3] = fit.sin4;
-  const { angleRad, confidence, mask, amplitude, background, residual } = out;
-  let nClipped = 0, nFlatBad = 0, nNonFinite = 0;
+  const { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2 } = out;
+  let nClipped = 0, nFlatBad = 0, nNonFinite = 0, sumCos4 = 0, sumSin4 = 0;
   for (let t = 0; t < len; t++) {
     const i = i0 + t;
+    cos2[i] = 1;
     if (clipped[i]) { nClipped++; continue; }
     let f = 1;
     const d = dark ? dark[i] : 0;
@@ -402,15 +446,28 @@ function fitBlockOfFour(I: Float32Array[], i0: number, clipped: Uint8Array, fit:
     if (!Number.isFinite(a0 + a4c + a4s)) { nNonFinite++; continue; }
     const r0 = x0 - (a0 + a4c * c0 + a4s * s0), r1 = x1 - (a0 + a4c * c1 + a4s * s1), r2 = x2 - (a0 + a4c * c2 + a4s * s2), r3 = x3 - (a0 + a4c * c3 + a4s * s3);
     const ss = 0 + r0 * r0 + r1 * r1 + r2 * r2 + r3 * r3;
-    const amp = 2 * Math.sqrt(a4c * a4c + a4s * a4s), res = Math.sqrt(ss / 1);
+    const h = Math.sqrt(a4c * a4c + a4s * a4s), amp = 2 * h, res = Math.sqrt(ss / 1);
     let th = 0.25 * Math.atan2(-a4s, -a4c);
     if (th < 0) th += Math.PI / 2;
-    if (th >= Math.PI / 2) th -= Math.PI / 2;
+    // Rounded up to 90 deg, theta is taken as 0: 2 theta turns by 180 deg (below).
+    const turned = th >= Math.PI / 2;
+    if (turned) th -= Math.PI / 2;
     angleRad[i] = th;
     amplitude[i] = amp; residual[i] = res;
     if (background) background[i] = a0 - amp / 2;
-    confidence[i] = amp / (amp + 3 * res + 1e-12);
+    const w = Math.fround(amp / (amp + 3 * res + 1e-12));
+    confidence[i] = w;
     mask[i] = 1;
+    if (h > 0) {
+      // (cos 4 theta, sin 4 theta) = -(a4c, a4s) / h.
+      const c4 = -a4c / h, s4 = -a4s / h;
+      doubledAngleInto(c4, s4, cos2, sin2, i);
+      if (turned) { cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
+      sumCos4 += w * c4; sumSin4 += w * s4;
+    } else {
+      cos2[i] = Math.cos(2 * angleRad[i]); sin2[i] = Math.sin(2 * angleRad[i]);
+    }
   }
+  out.sumCos4 += sumCos4; out.sumSin4 += sumSin4;
   counts.clipped += nClipped; counts.flatBad += nFlatBad; counts.nonFinite += nNonFinite;
 }

@@ -9,8 +9,11 @@
 
 const HALF = 1 << 16;
 
-/** Unsigned sort key of a float32 bit pattern. */
-const keyOf = (u: number): number => (u & 0x80000000 ? ~u : u | 0x80000000) >>> 0;
+/**
+ * Unsigned sort key of a float32 bit pattern: every bit flipped for a negative value, the sign bit for a positive
+ * one; without a branch, u XOR ((u >> 31) | 0x80000000), as u >> 31 is all ones for a negative value and 0 else.
+ */
+const keyOf = (u: number): number => (u ^ ((u >> 31) | 0x80000000)) >>> 0;
 
 /** The float32 value of a sort key. */
 function valueOfKey(key: number): number {
@@ -36,10 +39,18 @@ export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranksOf:
   const n = values.length;
   const high = new Int32Array(HALF);
   let count = 0;
-  for (let i = 0; i < n; i++) {
-    if (!mask[i] || (minOf && !(minOf[i] >= min))) continue;
-    high[keyOf(bits[i]) >>> 16]++;
-    count++;
+  if (minOf) {
+    for (let i = 0; i < n; i++) {
+      if (!mask[i] || !(minOf[i] >= min)) continue;
+      high[keyOf(bits[i]) >>> 16]++;
+      count++;
+    }
+  } else {
+    for (let i = 0; i < n; i++) {
+      if (!mask[i]) continue;
+      high[keyOf(bits[i]) >>> 16]++;
+      count++;
+    }
   }
   const ranks = typeof ranksOf === 'function' ? ranksOf(count) : ranksOf;
   if (ranks.length === 0) return [];
@@ -53,10 +64,18 @@ export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranksOf:
   const low = wanted.map(() => new Int32Array(HALF));
   const slot = new Int32Array(HALF).fill(-1);
   wanted.forEach((b, k) => { slot[b] = k; });
-  for (let i = 0; i < n; i++) {
-    if (!mask[i] || (minOf && !(minOf[i] >= min))) continue;
-    const key = keyOf(bits[i]), k = slot[key >>> 16];
-    if (k >= 0) low[k][key & 0xffff]++;
+  if (minOf) {
+    for (let i = 0; i < n; i++) {
+      if (!mask[i] || !(minOf[i] >= min)) continue;
+      const key = keyOf(bits[i]), k = slot[key >>> 16];
+      if (k >= 0) low[k][key & 0xffff]++;
+    }
+  } else {
+    for (let i = 0; i < n; i++) {
+      if (!mask[i]) continue;
+      const key = keyOf(bits[i]), k = slot[key >>> 16];
+      if (k >= 0) low[k][key & 0xffff]++;
+    }
   }
   return buckets.map(({ bucket, rank }) => {
     const h = low[slot[bucket]];

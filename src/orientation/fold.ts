@@ -1,4 +1,4 @@
-import { degToRad, radToDeg, wrapAxialDeg, wrapAxialRad } from '../common/index.ts';
+import { degToRad, radToDeg, wrapAxialDeg } from '../common/index.ts';
 import type { OrientationField } from './types.ts';
 
 /**
@@ -6,30 +6,52 @@ import type { OrientationField } from './types.ts';
  * one), picks for every pixel the representative within 45 deg of `centreDeg`: the stated assumption
  * "orientations lie within 45 deg of this axis". Then S_axis against that axis is <|cos 2(theta - axis)|>.
  * Only pixels still ambiguous (field.ambiguous, when present) are moved. Fields with another (or no)
- * ambiguity are returned unchanged.
+ * ambiguity are returned unchanged. A field's cos 2 theta and sin 2 theta, when it has them, are carried
+ * over: both change sign where the angle moves by 90 deg. With `inPlace` (for a reader folding the field it
+ * has just made, that nothing else holds) the field's own arrays are changed rather than copied.
  */
-export function foldMod90(f: OrientationField, centreDeg: number): OrientationField {
+export function foldMod90(f: OrientationField, centreDeg: number, inPlace = false): OrientationField {
   if (f.ambiguity !== 'mod-90') return f;
-  const c = degToRad(centreDeg), q = Math.PI / 4, n = f.angleRad.length;
-  const angleRad = new Float32Array(n);
+  const c = degToRad(centreDeg), q = Math.PI / 4, h = Math.PI / 2, n = f.angleRad.length;
+  const from = f.angleRad, angleRad = inPlace ? from : new Float32Array(n);
+  const both = f.cos2 && f.sin2;
+  const cos2 = both ? (inPlace ? f.cos2! : Float32Array.from(f.cos2!)) : undefined;
+  const sin2 = both ? (inPlace ? f.sin2! : Float32Array.from(f.sin2!)) : undefined;
   const only = f.ambiguous;
   for (let i = 0; i < n; i++) {
-    if (only && !only[i]) { angleRad[i] = f.angleRad[i]; continue; }
-    let d = f.angleRad[i] - c;
-    d -= (Math.PI / 2) * Math.round(d / (Math.PI / 2)); // into [-45, 45] deg
-    if (d <= -q) d += Math.PI / 2;
-    angleRad[i] = wrapAxialRad(c + d);
+    if (only && !only[i]) { angleRad[i] = from[i]; continue; }
+    let d = from[i] - c;
+    let k = Math.round(d / h);
+    d -= h * k; // into [-45, 45] deg
+    if (d <= -q) { d += h; k--; }
+    // wrapAxialRad(c + d), whose remainder is the value itself below pi in size.
+    const x = c + d;
+    let a = x < Math.PI && x > -Math.PI ? x : x % Math.PI;
+    if (a <= -h) a += Math.PI;
+    if (a > h) a -= Math.PI;
+    angleRad[i] = a;
+    // The angle moved by k * 90 deg (mod 180): an odd k turns 2 theta by 180 deg.
+    if (cos2 && k & 1) { cos2[i] = -cos2[i]; sin2![i] = -sin2![i]; }
   }
   return {
-    ...f, angleRad, cos2: undefined, sin2: undefined,
+    ...f, angleRad, cos2, sin2,
     options: { ...f.options, mod90FoldedAboutDeg: wrapAxialDeg(centreDeg) },
     warnings: [...f.warnings, `orientation known only modulo 90 deg: taken within 45 deg of ${wrapAxialDeg(centreDeg).toFixed(1)} deg`],
   };
 }
 
 /**
+ * The axis, deg in [0, 90), of sums C = sum w cos 4 theta and S = sum w sin 4 theta: 1/4 atan2(S, C).
+ */
+export function mod90AxisOfSums(c: number, s: number): number {
+  let a = radToDeg(0.25 * Math.atan2(s, c));
+  if (a < 0) a += 90;
+  return a;
+}
+
+/**
  * The axis a mod-90 field is most concentrated about: 1/4 arg <exp(4 i theta)> over usable pixels,
- * which is defined modulo 90 deg like the data; returned in [0, 90).
+ * weighted by confidence, which is defined modulo 90 deg like the data; returned in [0, 90).
  */
 export function mod90Axis(f: OrientationField): number {
   let c = 0, s = 0;
@@ -38,7 +60,5 @@ export function mod90Axis(f: OrientationField): number {
     const w = f.confidence[i];
     c += w * Math.cos(4 * f.angleRad[i]); s += w * Math.sin(4 * f.angleRad[i]);
   }
-  let a = radToDeg(0.25 * Math.atan2(s, c));
-  if (a < 0) a += 90;
-  return a;
+  return mod90AxisOfSums(c, s);
 }

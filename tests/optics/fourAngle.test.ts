@@ -3,6 +3,7 @@ import { fitFourAngle, fourAngleAnalysis, renderSampleImage, seriesIntensityImag
 import { DEG, axialDiffDeg } from '../../src/common/angles.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { makeImage, type Image } from '../../src/image/types.ts';
+import { mod90Axis } from '../../src/orientation/index.ts';
 
 const QUAD = [0, 22.5, 45, 67.5];
 
@@ -69,6 +70,29 @@ describe('fourAngleAnalysis on rendered images', () => {
       if (rets[j] < 50) continue;
       const d = axialDiffDeg(r.field.angleRad[k] / DEG, angles[i]);
       expect(Math.min(d, 90 - d)).toBeLessThanOrEqual(1);
+    }
+  });
+
+  it('gives cos 2 theta and sin 2 theta of its own angles, and folds about the axis mod90Axis finds', () => {
+    // Closed form: cos2 and sin2 are the cosine and sine of twice the angle the field reports (the fit's half-angle
+    // values; float32 rounding of the angle, within 2^-22 rad, and of the values, hence 1e-6), with the plate's and the
+    // fold's 90-deg moves (both change sign); the fold's axis is mod90Axis of the angles before the fold (the fit's own
+    // sums in place of per-pixel cos 4 theta and sin 4 theta, hence 1e-4 deg).
+    for (const options of [{}, { plate, plateOptions: { camera: cam } }, { anglesDeg: [0, 30, 60, 90, 120, 150] }]) {
+      const imgs = options.anglesDeg ? options.anglesDeg.map((a, k) => renderSampleImage(W, H, at, { polariserDeg: a, analyserDeg: a + 90, compensator: null }, { noiseSd: 0.003, seed: 30 + k, camera: cam })) : quads;
+      const f = fourAngleAnalysis(imgs, options).field;
+      let worst = 0, n = 0;
+      for (let k = 0; k < W * H; k++) {
+        if (!f.mask[k]) continue;
+        n++;
+        worst = Math.max(worst, Math.abs(f.cos2![k] - Math.cos(2 * f.angleRad[k])), Math.abs(f.sin2![k] - Math.sin(2 * f.angleRad[k])));
+      }
+      expect(n).toBeGreaterThan(W * H / 2);
+      expect(worst).toBeLessThan(1e-6);
+      if (f.ambiguity !== 'mod-90') continue;
+      const before = fourAngleAnalysis(imgs, { ...options, referenceAxisDeg: 0 }).field;
+      // Folding about 0 deg keeps each angle within 45 deg of it, so its mod-90 class; mod90Axis reads only that class.
+      expect(axialDiffDeg(f.options.mod90FoldedAboutDeg as number, mod90Axis(before))).toBeLessThan(1e-4);
     }
   });
 

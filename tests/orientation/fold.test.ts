@@ -23,6 +23,27 @@ describe('foldMod90', () => {
     expect(Math.abs(mod90Axis(f) - 20)).toBeLessThan(1e-3);
   });
 
+  it('carries cos 2 theta and sin 2 theta over, changed in sign where the angle moved by 90 deg', () => {
+    // Closed form: the folded field's cos2 and sin2 are the cosine and sine of twice its own angles (float32, hence 1e-6);
+    // given the input's cos 2 theta and sin 2 theta, half the pixels (those reported 90 deg away) change sign.
+    const withDoubled = { ...f, cos2: f.angleRad.map((a) => Math.cos(2 * a)), sin2: f.angleRad.map((a) => Math.sin(2 * a)) };
+    const folded = foldMod90(withDoubled, 20);
+    let worst = 0, turned = 0;
+    for (let i = 0; i < f.angleRad.length; i++) {
+      worst = Math.max(worst, Math.abs(folded.cos2![i] - Math.cos(2 * folded.angleRad[i])), Math.abs(folded.sin2![i] - Math.sin(2 * folded.angleRad[i])));
+      if (Math.sign(folded.cos2![i]) !== Math.sign(withDoubled.cos2[i])) turned++;
+    }
+    expect(worst).toBeLessThan(1e-6);
+    expect(Math.abs(turned - N / 2)).toBeLessThan(N / 20);
+    // The input's arrays are left as they were; in place, the field's own arrays are changed.
+    expect(withDoubled.cos2[1]).toBe(Math.fround(Math.cos(2 * f.angleRad[1])));
+    const own = { ...withDoubled, angleRad: Float32Array.from(f.angleRad), cos2: Float32Array.from(withDoubled.cos2), sin2: Float32Array.from(withDoubled.sin2) };
+    const inPlace = foldMod90(own, 20, true);
+    expect(inPlace.angleRad).toBe(own.angleRad);
+    expect(inPlace.angleRad).toEqual(folded.angleRad);
+    expect(inPlace.cos2).toEqual(folded.cos2);
+  });
+
   it('leaves resolved pixels and unambiguous fields alone', () => {
     const ambiguous = new Uint8Array(f.angleRad.length);
     ambiguous[1] = 1;
