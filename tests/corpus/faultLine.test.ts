@@ -6,6 +6,7 @@ const thrown = vi.hoisted(() => ({ error: new Error('unset') as Error }));
 vi.mock('../../src/cli/io.ts', async (original) => ({
   ...(await original<typeof import('../../src/cli/io.ts')>()),
   loadImageFiles: async () => { throw thrown.error; },
+  loadGreyImageOrRows: async () => { throw thrown.error; },
 }));
 const { main, FAULT_LINE } = await import('../../src/cli/main.ts');
 
