@@ -35,9 +35,39 @@ export interface RankSelection {
  */
 export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranksOf: number[] | ((count: number) => number[])): number[] {
   const bits = new Uint32Array(values.buffer, values.byteOffset, values.length);
-  const { mask, minOf } = sel, min = sel.min ?? -Infinity;
-  const n = values.length;
+  const mask = sel.mask, minOf = sel.minOf ?? null, min = sel.min ?? -Infinity;
   const high = new Int32Array(HALF);
+  const count = highCounts(bits, mask, minOf, min, high);
+  const ranks = typeof ranksOf === 'function' ? ranksOf(count) : ranksOf;
+  if (ranks.length === 0) return [];
+  // The bucket of each rank, and the rank within it.
+  const buckets = ranks.map((r) => {
+    let b = 0, below = 0;
+    while (below + high[b] <= r) below += high[b++];
+    return { bucket: b, rank: r - below };
+  });
+  const wanted = [...new Set(buckets.map((b) => b.bucket))];
+  // The wanted buckets' low-half counts side by side; slot: a bucket's offset among them, -1 if not wanted.
+  const low = new Int32Array(wanted.length * HALF);
+  const slot = new Int32Array(HALF).fill(-1);
+  wanted.forEach((b, k) => { slot[b] = k * HALF; });
+  lowCounts(bits, mask, minOf, min, slot, low);
+  return buckets.map(({ bucket, rank }) => {
+    const o = slot[bucket];
+    let b = 0, below = 0;
+    while (below + low[o + b] <= rank) below += low[o + b++];
+    return valueOfKey(((bucket << 16) | b) >>> 0);
+  });
+}
+
+/*
+ * The two passes over the pixels are small functions of their own, so that each is optimised once and kept across
+ * calls (a pass inside the caller ran from code compiled for the loop alone, dropped after it at each call).
+ */
+
+/** Counts of the selected pixels' keys by their upper 16 bits into `high`; returns the number selected. */
+function highCounts(bits: Uint32Array, mask: Uint8Array, minOf: Float32Array | null, min: number, high: Int32Array): number {
+  const n = bits.length;
   let count = 0;
   if (minOf) {
     for (let i = 0; i < n; i++) {
@@ -52,35 +82,23 @@ export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranksOf:
       count++;
     }
   }
-  const ranks = typeof ranksOf === 'function' ? ranksOf(count) : ranksOf;
-  if (ranks.length === 0) return [];
-  // The bucket of each rank, and the rank within it.
-  const buckets = ranks.map((r) => {
-    let b = 0, below = 0;
-    while (below + high[b] <= r) below += high[b++];
-    return { bucket: b, rank: r - below };
-  });
-  const wanted = [...new Set(buckets.map((b) => b.bucket))];
-  const low = wanted.map(() => new Int32Array(HALF));
-  const slot = new Int32Array(HALF).fill(-1);
-  wanted.forEach((b, k) => { slot[b] = k; });
+  return count;
+}
+
+/** Counts of the selected pixels' keys in the wanted buckets by their lower 16 bits, at low[slot[bucket] + lower]. */
+function lowCounts(bits: Uint32Array, mask: Uint8Array, minOf: Float32Array | null, min: number, slot: Int32Array, low: Int32Array): void {
+  const n = bits.length;
   if (minOf) {
     for (let i = 0; i < n; i++) {
       if (!mask[i] || !(minOf[i] >= min)) continue;
-      const key = keyOf(bits[i]), k = slot[key >>> 16];
-      if (k >= 0) low[k][key & 0xffff]++;
+      const key = keyOf(bits[i]), o = slot[key >>> 16];
+      if (o >= 0) low[o + (key & 0xffff)]++;
     }
   } else {
     for (let i = 0; i < n; i++) {
       if (!mask[i]) continue;
-      const key = keyOf(bits[i]), k = slot[key >>> 16];
-      if (k >= 0) low[k][key & 0xffff]++;
+      const key = keyOf(bits[i]), o = slot[key >>> 16];
+      if (o >= 0) low[o + (key & 0xffff)]++;
     }
   }
-  return buckets.map(({ bucket, rank }) => {
-    const h = low[slot[bucket]];
-    let b = 0, below = 0;
-    while (below + h[b] <= rank) below += h[b++];
-    return valueOfKey(((bucket << 16) | b) >>> 0);
-  });
 }
