@@ -376,7 +376,7 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
   const P0 = Float64Array.from(fit.P[0]), P1 = Float64Array.from(fit.P[1]), P2 = Float64Array.from(fit.P[2]);
   const cos4 = Float64Array.from(fit.cos4), sin4 = Float64Array.from(fit.sin4), v = new Float64Array(nImg);
   const { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2 } = out;
-  let sumCos4 = 0, sumSin4 = 0;
+  const sums = new Float64Array(2); // (not boxed: see fitSeriesOfFour)
   for (let t = 0; t < len; t++) {
     const i = i0 + t;
     cos2[i] = 1;
@@ -414,12 +414,12 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
       const c4 = -a4c / h, s4 = -a4s / h;
       doubledAngleInto(c4, s4, cos2, sin2, i);
       if (turned) { cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
-      sumCos4 += w * c4; sumSin4 += w * s4;
+      sums[0] += w * c4; sums[1] += w * s4;
     } else {
       cos2[i] = Math.cos(2 * angleRad[i]); sin2[i] = Math.sin(2 * angleRad[i]);
     }
   }
-  out.sumCos4 += sumCos4; out.sumSin4 += sumSin4;
+  out.sumCos4 += sums[0]; out.sumSin4 += sums[1];
 }
 
 /**
@@ -434,7 +434,9 @@ function fitSeriesOfFour(images: Image[], clipped: Uint8Array, fit: SeriesFit, o
   const [p00, p01, p02, p03] = fit.P[0], [p10, p11, p12, p13] = fit.P[1], [p20, p21, p22, p23] = fit.P[2];
   const [c0, c1, c2, c3] = fit.cos4, [s0, s1, s2, s3] = fit.sin4;
   const { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2 } = out;
-  let nClipped = 0, nFlatBad = 0, nNonFinite = 0, sumCos4 = 0, sumSin4 = 0;
+  let nClipped = 0, nFlatBad = 0, nNonFinite = 0;
+  // The sums in an array: as local variables the optimised loop (entered mid-run) kept them boxed, a new number per pixel.
+  const sums = new Float64Array(2);
   for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
     const len = Math.min(SERIES_BLOCK_PX, n - i0);
     const I = len === blocks[0].length ? blocks : blocks.map((b) => b.subarray(0, len));
@@ -472,15 +474,21 @@ function fitSeriesOfFour(images: Image[], clipped: Uint8Array, fit: SeriesFit, o
       mask[i] = 1;
       if (h > 0) {
         // (cos 4 theta, sin 4 theta) = -(a4c, a4s) / h.
-        const c4 = -a4c / h, s4 = -a4s / h;
-        doubledAngleInto(c4, s4, cos2, sin2, i);
-        if (turned) { cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
-        sumCos4 += w * c4; sumSin4 += w * s4;
+        const c4 = -a4c / h, s4 = -a4s / h, sign = turned ? -1 : 1;
+        // doubledAngleInto written out: a call here would box its arguments (two allocations per pixel).
+        if (c4 >= 0) {
+          const c = Math.sqrt(0.5 + 0.5 * c4);
+          cos2[i] = sign * (s4 < 0 ? -c : c); sin2[i] = sign * (Math.abs(s4) / (2 * c));
+        } else {
+          const q = Math.sqrt(0.5 - 0.5 * c4);
+          sin2[i] = sign * q; cos2[i] = sign * (s4 / (2 * q));
+        }
+        sums[0] += w * c4; sums[1] += w * s4;
       } else {
         cos2[i] = Math.cos(2 * angleRad[i]); sin2[i] = Math.sin(2 * angleRad[i]);
       }
     }
   }
-  out.sumCos4 += sumCos4; out.sumSin4 += sumSin4;
+  out.sumCos4 += sums[0]; out.sumSin4 += sums[1];
   counts.clipped += nClipped; counts.flatBad += nFlatBad; counts.nonFinite += nNonFinite;
 }
