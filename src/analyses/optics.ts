@@ -203,12 +203,15 @@ const calibrationOf = (o: TrainOptions) => ({ fitCompensator: o.compensatorNm ==
 /** Distribution of a field's confidence over its usable pixels. */
 export function confidenceStats(f: OrientationField): ConfidenceStats {
   const c = f.confidence, m = f.mask;
-  let n = 0, sum = 0, above = 0;
+  let n = 0, above = 0;
+  // The sum in an array: as a local variable the optimised loop (entered mid-run) kept it boxed, a new number per pixel.
+  const total = new Float64Array(1);
   for (let i = 0; i < m.length; i++) {
     if (!m[i]) continue;
-    n++; sum += c[i];
+    n++; total[0] += c[i];
     if (c[i] >= 0.5) above++;
   }
+  const sum = total[0];
   if (n === 0) return { mean: null, median: null, p10: null, p90: null, fractionAbove05: null, n: 0 };
   // Ranks by radix selection on the values in place (valuesOfRanks), not a sort or a copy: the same values.
   const rank = (p: number) => Math.min(n - 1, Math.floor(p * (n - 1)));

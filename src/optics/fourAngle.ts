@@ -286,12 +286,12 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   const ampRef = valuesOfRanks(amplitude, { mask }, (k) => (k ? [Math.min(k - 1, Math.floor(0.99 * (k - 1)))] : []))[0] ?? 0;
   let lowAmp = 0;
   // The pixels masked here leave the confidence-weighted sums of cos 4 theta and sin 4 theta the fit made.
-  let { sumCos4, sumSin4 } = out;
+  const sums = Float64Array.of(out.sumCos4, out.sumSin4), limit = floor * ampRef;
   for (let i = 0; i < n; i++) {
-    if (!mask[i] || !(amplitude[i] <= floor * ampRef)) continue;
+    if (!mask[i] || !(amplitude[i] <= limit)) continue;
     mask[i] = 0; lowAmp++;
     const w = confidence[i];
-    if (w !== 0) { sumCos4 -= w * Math.cos(4 * angleRad[i]); sumSin4 -= w * Math.sin(4 * angleRad[i]); }
+    if (w !== 0) { sums[0] -= w * Math.cos(4 * angleRad[i]); sums[1] -= w * Math.sin(4 * angleRad[i]); }
   }
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
@@ -334,7 +334,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // Unresolved pixels: show them within 45 deg of the axis the field is concentrated about, so the
   // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning). The axis
   // is mod90Axis's, from the sums the fit made (cos 4 theta and sin 4 theta are the fit's own components).
-  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90AxisOfSums(sumCos4, sumSin4), true);
+  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90AxisOfSums(sums[0], sums[1]), true);
   return { field, amplitude, background, residual, resolvedFraction };
 }
 
@@ -431,6 +431,7 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
 function fitSeriesOfFour(images: Image[], clipped: Uint8Array, fit: SeriesFit, out: SeriesOut, counts: { flatBad: number; nonFinite: number; clipped: number }): void {
   const n = clipped.length, { dark, flat, flatMean } = fit;
   const blocks = images.map(() => new Float32Array(Math.min(n, SERIES_BLOCK_PX)));
+  const [I0, I1, I2, I3] = blocks;
   const [p00, p01, p02, p03] = fit.P[0], [p10, p11, p12, p13] = fit.P[1], [p20, p21, p22, p23] = fit.P[2];
   const [c0, c1, c2, c3] = fit.cos4, [s0, s1, s2, s3] = fit.sin4;
   const { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2 } = out;
@@ -439,9 +440,8 @@ function fitSeriesOfFour(images: Image[], clipped: Uint8Array, fit: SeriesFit, o
   const sums = new Float64Array(2);
   for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
     const len = Math.min(SERIES_BLOCK_PX, n - i0);
-    const I = len === blocks[0].length ? blocks : blocks.map((b) => b.subarray(0, len));
-    for (let k = 0; k < 4; k++) linearIntensityInto(images[k], i0, I[k], clipped);
-    const [I0, I1, I2, I3] = I;
+    // The loop reads the same four arrays in every block (a shorter last block only through their first len values).
+    for (let k = 0; k < 4; k++) linearIntensityInto(images[k], i0, len === blocks[k].length ? blocks[k] : blocks[k].subarray(0, len), clipped);
     for (let t = 0; t < len; t++) {
       const i = i0 + t;
       cos2[i] = 1;
