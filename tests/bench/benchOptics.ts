@@ -1,5 +1,5 @@
 import { benchPlateRead } from '../optics/benchPlate.ts';
-import { analyseAngleSeries, analysePlatePair } from '../../src/analyses/index.ts';
+import { analyseAngleSeries, analysePlatePair, OPTICS_MAX_PIXELS } from '../../src/analyses/index.ts';
 import { makeImage, type Image } from '../../src/image/index.ts';
 import { renderSampleImage, resolveTrain, turnedTrain, type SampleRetarder } from '../../src/optics/index.ts';
 
@@ -17,14 +17,18 @@ const BW = 500, BH = 375;
 const sample = (x: number, y: number): SampleRetarder =>
   x < 40 ? { angleRad: 0, retardanceNm: 0 } : { angleRad: ((x / BW) * 160 - 80) * (Math.PI / 180), retardanceNm: 50 + Math.round((400 * y) / BH) };
 
-/** A rendered image repeated over W x H (noise included in the rendered block). */
-function tiled(block: Image): Image {
+/** The angle series at 12 MP, or at its pixel limit when that is smaller (the same 4:3 shape). */
+const SERIES_SCALE = Math.min(1, Math.sqrt(OPTICS_MAX_PIXELS['angle-series'] / (W * H)));
+const SW = Math.floor(W * SERIES_SCALE), SH = Math.floor(H * SERIES_SCALE);
+
+/** A rendered image repeated over width x height (noise included in the rendered block). */
+function tiled(block: Image, width = W, height = H): Image {
   const planes = block.planes.map((p) => {
-    const out = new Float32Array(W * H);
-    for (let y = 0; y < H; y++) for (let x = 0; x < W; x += BW) out.set(p.subarray((y % BH) * BW, (y % BH) * BW + Math.min(BW, W - x)), y * W + x);
+    const out = new Float32Array(width * height);
+    for (let y = 0; y < height; y++) for (let x = 0; x < width; x += BW) out.set(p.subarray((y % BH) * BW, (y % BH) * BW + Math.min(BW, width - x)), y * width + x);
     return out;
   });
-  return makeImage({ ...block, width: W, height: H, planes });
+  return makeImage({ ...block, width, height, planes });
 }
 
 const best = async (n: number, run: () => Promise<unknown>) => {
@@ -48,15 +52,16 @@ export async function benchOptics(): Promise<GoalRow[]> {
   const train = resolveTrain();
   const render = (t: Parameters<typeof renderSampleImage>[3], seed: number) => tiled(renderSampleImage(BW, BH, sample, t, { noiseSd: 0.003, seed, camera }));
   const a = render(train, 1), b = render(turnedTrain(train, 45), 2);
-  const series = [0, 22.5, 45, 67.5].map((d, k) => render({ polariserDeg: d, analyserDeg: d + 90, compensator: null }, 5 + k));
+  const series = [0, 22.5, 45, 67.5].map((d, k) => tiled(renderSampleImage(BW, BH, sample, { polariserDeg: d, analyserDeg: d + 90, compensator: null }, { noiseSd: 0.003, seed: 5 + k, camera }), SW, SH));
+  const seriesMp = ((SW * SH) / 1e6).toFixed(1);
   const pair = await best(2, () => analysePlatePair(a, b, {}));
   const angles = await best(2, () => analyseAngleSeries(series, {}));
   console.log(`\noptical readings of ${(plate.pixels / 1e6).toFixed(1)} MP images, in this process (best of 2)`);
   const line = (what: string, s: number, goal: number, note = '') => console.log(`  ${what.padEnd(34)} ${s.toFixed(2)} s${note}   goal <= ${goal} s`);
   line('one compensator image (plate)', plate.seconds, GOALS_S.plate, `  (${plate.cells} colour cells searched)`);
   line('two images (plate-pair)', pair, GOALS_S.pair);
-  line('angle series of four (angle-series)', angles, GOALS_S.series);
+  line(`angle series of four (angle-series), ${seriesMp} MP`, angles, GOALS_S.series, SERIES_SCALE < 1 ? ' (its pixel limit; the goal is for 12 MP)' : '');
   const row = (what: string, s: number, goal: number): GoalRow => ({ what, value: `${s.toFixed(2)} s`, goal: `<= ${goal} s`, met: s <= goal });
   return [row('one-image reading (plate), 12 MP', plate.seconds, GOALS_S.plate), row('two-image reading (plate-pair), 12 MP', pair, GOALS_S.pair),
-    row('angle series (four images), 12 MP', angles, GOALS_S.series)];
+    row(`angle series (four images), ${seriesMp} MP${SERIES_SCALE < 1 ? ' (its limit)' : ''}`, angles, GOALS_S.series)];
 }

@@ -48,7 +48,9 @@ describe('optical readings refuse images beyond their memory limit', () => {
       expect(() => checkReadingSize(kind, header(max / 1000 + 1, 1000))).toThrow(InputError);
     }
   });
-  it('the limits keep a 12 MP camera image readable by every reading (4000 x 3000, common practice, no source)', () => {
-    for (const kind of ['plate', 'plate-pair', 'angle-series'] as const) expect(() => checkReadingSize(kind, header(4032, 3024))).not.toThrow();
+  it('the limits keep a 12 MP camera image readable by the compensator readings (4000 x 3000, common practice, no source) and an 8 MP one by the angle series', () => {
+    for (const kind of ['plate', 'plate-pair'] as const) expect(() => checkReadingSize(kind, header(4032, 3024))).not.toThrow();
+    expect(() => checkReadingSize('angle-series', header(3264, 2448))).not.toThrow();
+    expect(() => checkReadingSize('angle-series', header(4032, 3024))).toThrow(InputError);
   });
 });
