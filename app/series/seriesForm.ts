@@ -7,7 +7,7 @@ import { FRAME_TIME_LIMIT, type SeriesOptions, type SeriesResult } from '../../s
 import { AXIS_DEG_LIMIT, checkLimit, isInputError } from '../../src/common/index.ts';
 import { commandLine, seriesArgs, SERIES_OPTIONS, type SeriesTimes } from '../../src/options/index.ts';
 import { toCsv } from '../../src/report/index.ts';
-import { MIN_POINTS, type RelaxationFit } from '../../src/series/index.ts';
+import { MIN_POINTS } from '../../src/series/index.ts';
 import type { AnalysisSettings } from '../storage/records.ts';
 import { formNumber } from '../analysis/requests.ts';
 
@@ -86,10 +86,8 @@ export function seriesRequestOf(form: SeriesForm, images: readonly { id: string;
 /** `retarda series` with the frames' names and the request's options (the same numbers as the screen). */
 export const seriesCommandLine = (r: SeriesRequest): string => commandLine('series', [...r.names, ...seriesArgs(r.options, r.times)]);
 
-/** The fitted relaxation at time t, s: S_inf + (S_0 - S_inf) exp(-(t / tau)^beta), t below 0 taken as 0 (docs/methods.md §17.2). */
-export function relaxationAt(f: Pick<RelaxationFit, 'tauSeconds' | 'beta' | 'orderZero' | 'orderInfinity'>, tSeconds: number): number {
-  return f.orderInfinity + (f.orderZero - f.orderInfinity) * Math.exp(-Math.pow(Math.max(0, tSeconds) / f.tauSeconds, f.beta));
-}
+/** The fitted curve at time t (the analysis's own formula). */
+export { relaxationAt } from '../../src/series/index.ts';
 
 /** The series' points as the CSV rows `retarda series --csv` writes (same columns). */
 export const seriesPointsCsv = (r: SeriesResult): string =>

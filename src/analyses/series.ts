@@ -1,6 +1,6 @@
 import { InputError, checkLimit, rectMask, AXIS_DEG_LIMIT, type Limit } from '../common/index.ts';
 import { toGrey, type Image } from '../image/index.ts';
-import { orientationField } from '../orientation/index.ts';
+import { orientationField, recycleTextureField } from '../orientation/index.ts';
 import { orderParameters } from '../order/index.ts';
 import { fitBestRelaxation, MIN_POINTS, type RelaxationFit, type RelaxationModel } from '../series/index.ts';
 import type { OrientOptions } from './orient.ts';
@@ -45,12 +45,13 @@ export async function analyseSeries(frames: Iterable<SeriesFrame> | AsyncIterabl
   let axisDeg = o.axisDeg;
   const points: SeriesPoint[] = [];
   const ses: number[] = [];
-  let head: Image | null = null, k = 0;
+  // The first frame's size and pixel size head the result; its image is not kept.
+  let head: Pick<Image, 'width' | 'height' | 'pixelSizeUmPerPx'> | null = null, k = 0;
   // Frames are read one at a time (a lazy iterable keeps one image in memory).
   for await (const frame of frames) {
     checkLimit(FRAME_TIME_LIMIT, frame.tSeconds);
     const img = frame.image;
-    head ??= img;
+    head ??= { width: img.width, height: img.height, pixelSizeUmPerPx: img.pixelSizeUmPerPx };
     k++;
     const field = await orientationField(toGrey(img), o);
     const region = o.region ? rectMask(o.region, img.width, img.height) : undefined;
@@ -66,6 +67,7 @@ export async function analyseSeries(frames: Iterable<SeriesFrame> | AsyncIterabl
     if (!(a.se > 0)) warnings.push(`frame ${k} (${img.source.name}): too few usable blocks for an interval, left out of the fit`);
     points.push({ source: img.source.name, tSeconds: frame.tSeconds, order: a.order, ciLow: a.ciLow, ciHigh: a.ciHigh, n: s.n });
     ses.push(a.se);
+    recycleTextureField(field);
   }
   if (!head) throw new InputError('no frames given', 'Name the frames, in order, with their times');
   const usable = points.map((p, i) => ({ tSeconds: p.tSeconds, order: p.order, se: ses[i] })).filter((p) => p.se > 0 && Number.isFinite(p.order));

@@ -59,13 +59,21 @@ const LEVEL = 0.95;
 
 interface Weighted { t: Float64Array; y: Float64Array; w: Float64Array }
 
-/** chi^2 of the best S_inf, S_0 - S_inf for the decay shape g(t) = exp(-(t/tau)^beta). */
+/** The decay shape g(t) = exp(-(t / tau)^beta), t below 0 taken as 0. */
+const decay = (tSeconds: number, tau: number, beta: number) => Math.exp(-Math.pow(Math.max(0, tSeconds) / tau, beta));
+
+/** A fitted relaxation at time t, s: S_inf + (S_0 - S_inf) g(t) (docs/methods.md §17.2). */
+export function relaxationAt(c: RelaxationFit['curve'], tSeconds: number): number {
+  return c.orderInfinity + (c.orderZero - c.orderInfinity) * decay(tSeconds, c.tauSeconds, c.beta);
+}
+
+/** chi^2 of the best S_inf, S_0 - S_inf for the decay shape g(t). */
 function linearPart(d: Weighted, tau: number, beta: number): { chi2: number; a: number; b: number } {
   const n = d.t.length;
   let W = 0, G = 0, Y = 0;
   const g = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    g[i] = Math.exp(-Math.pow(Math.max(0, d.t[i]) / tau, beta));
+    g[i] = decay(d.t[i], tau, beta);
     W += d.w[i]; G += d.w[i] * g[i]; Y += d.w[i] * d.y[i];
   }
   const gm = G / W, ym = Y / W;

@@ -1,9 +1,8 @@
-import { giveBack } from '../../common/index.ts';
 import type { Image } from '../../image/index.ts';
 import { InputError } from '../../common/errors.ts';
 import { analyseAngleSeries, checkReadingSize, DEFAULT_ANGLES_DEG } from '../../analyses/index.ts';
 import { seriesIntensityImage } from '../../optics/index.ts';
-import { parseRect } from '../../common/index.ts';
+import { giveBack, parseRect } from '../../common/index.ts';
 import { ANGLE_SERIES_OPTIONS, type AngleSeriesFiles, type AngleSeriesSettings } from '../../options/index.ts';
 import { numberList, numberOpt, stringOpt, type ParsedArgs } from '../args.ts';
 import type { Command } from '../command.ts';
