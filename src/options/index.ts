@@ -20,3 +20,5 @@ export type { ChartRequest } from './chart.ts';
 export { CHART_OPTIONS, chartArgs } from './chart.ts';
 export type { SeriesTimes } from './series.ts';
 export { SERIES_OPTIONS, seriesArgs } from './series.ts';
+export type { TrendSettings, TrendValues } from './trend.ts';
+export { TREND_OPTIONS, trendArgs } from './trend.ts';

@@ -9,6 +9,7 @@ import { diameterCommand } from './diameter.ts';
 import { calibrateCommand } from './calibrate.ts';
 import { fibreCommand } from './fibre.ts';
 import { seriesCommand } from './series.ts';
+import { trendCommand } from './trend.ts';
 
 /** Every subcommand, in the order `retarda --help` lists them. */
-export const COMMANDS: Command[] = [orientCommand, profileCommand, plateCommand, platePairCommand, angleSeriesCommand, chartCommand, diameterCommand, calibrateCommand, fibreCommand, seriesCommand];
+export const COMMANDS: Command[] = [orientCommand, profileCommand, plateCommand, platePairCommand, angleSeriesCommand, chartCommand, diameterCommand, calibrateCommand, fibreCommand, seriesCommand, trendCommand];
