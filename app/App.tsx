@@ -23,6 +23,7 @@ import { ScreenGuard } from './components/ScreenGuard.tsx';
 import { CameraView } from './camera/CameraView.tsx';
 import { CompareView } from './compare/CompareView.tsx';
 import { SeriesView, type SeriesKept } from './series/SeriesView.tsx';
+import { TrendView } from './trend/TrendView.tsx';
 import { SetupsPanel } from './setups/SetupsPanel.tsx';
 import { ReportView } from './export/ReportView.tsx';
 import { applied } from './setups/setup.ts';
@@ -116,6 +117,10 @@ export function App() {
       ) : screen === 'series' ? (
         <ScreenGuard key="series" screen="over time" onBack={() => setScreen('images')}>
           <SeriesView key={session?.id ?? 'none'} w={w} kept={seriesKept.current} onClose={() => setScreen('images')} />
+        </ScreenGuard>
+      ) : screen === 'trend' ? (
+        <ScreenGuard key="trend" screen="against a variable" onBack={() => setScreen('images')}>
+          <TrendView key={session?.id ?? 'none'} w={w} onClose={() => setScreen('images')} />
         </ScreenGuard>
       ) : screen === 'camera' ? (
         <ScreenGuard key="camera" screen="camera" onBack={() => setScreen('images')}>

@@ -6,7 +6,7 @@ import type { Message } from '../messages.ts';
 import type { OfflineState } from '../useServiceWorker.ts';
 import type { Workspace } from './workspace.ts';
 
-export type ScreenName = 'images' | 'camera' | 'compare' | 'series';
+export type ScreenName = 'images' | 'camera' | 'compare' | 'series' | 'trend';
 
 interface HeaderProps {
   w: Workspace;
@@ -41,6 +41,8 @@ export function Header({ w, offline, update, messages, dismiss, screen, toggleSc
         <button className={screen === 'compare' ? 'on' : ''} aria-pressed={screen === 'compare'} onClick={() => { void keeping.flush(); toggleScreen('compare'); }}>Compare</button>
         <button className={screen === 'series' ? 'on' : ''} aria-pressed={screen === 'series'} onClick={() => toggleScreen('series')}
           title="Order of each frame against time, and its relaxation time">Over time</button>
+        <button className={screen === 'trend' ? 'on' : ''} aria-pressed={screen === 'trend'} onClick={() => toggleScreen('trend')}
+          title="One reading of each image against a process variable (draw ratio, bath temperature, ...), with a fitted line">Against a variable</button>
         <button onClick={toggleSetups} data-testid="setup-button" title={`The microscope's optical train, pixel size and sample sign. Lengths: ${calibrationWords(calibration)}`}>
           Set-up: {session?.setup?.name ?? 'none'}{session && <> · <span className={`calibration-state ${calibration.origin}`} data-testid="calibration-state">{calibrationShort(calibration)}</span></>}</button>
         <button onClick={w.sessions.openPanel} title="Shortcut: S">Sessions</button>

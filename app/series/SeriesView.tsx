@@ -60,20 +60,28 @@ function FitTable({ r }: { r: SeriesResult }) {
   );
 }
 
-/** What the screen holds for a session while the page is open (not saved with the session): the form and the last run. */
+/** What the screen holds for a session: the form and the last run, kept with the session (StoredSeries). */
 export interface SeriesKept { form: SeriesForm; run: { request: SeriesRequest; result: SeriesResult } | null }
 
-/** `kept`: the screen's form and last run per session id, held by the page so leaving the screen keeps them. */
+/**
+ * `kept`: the screen's form and last run per session id, held by the page so leaving the screen keeps them at once;
+ * they are also kept with the session (written after the usual pause), so they come back after a reload.
+ */
 export function SeriesView({ w, kept, onClose }: { w: Workspace; kept: Map<string, SeriesKept>; onClose(): void }) {
-  const { session } = w.sessions;
-  const here = session ? kept.get(session.id) : undefined;
+  const { session, change } = w.sessions;
+  const here = session ? kept.get(session.id) ?? session.series ?? undefined : undefined;
   const { client, sourceOf, progress, setBusy } = w.analysis;
   const images = session?.images ?? [];
   const settings = session?.settings ?? DEFAULT_SETTINGS;
   const [form, setForm] = useState<SeriesForm>(here?.form ?? EMPTY_SERIES_FORM);
   const [problem, setProblem] = useState<string | null>(null);
   const [run, setRun] = useState<SeriesKept['run']>(here?.run ?? null);
-  useEffect(() => { if (session) kept.set(session.id, { form, run }); }, [session?.id, form, run]); // eslint-disable-line react-hooks/exhaustive-deps
+  useEffect(() => {
+    if (!session) return;
+    kept.set(session.id, { form, run });
+    const untouched = !session.series && !run && JSON.stringify(form) === JSON.stringify(EMPTY_SERIES_FORM);
+    if (!untouched && JSON.stringify(session.series ?? null) !== JSON.stringify({ form, run })) change({ type: 'screenState', series: { form, run } });
+  }, [session?.id, form, run]); // eslint-disable-line react-hooks/exhaustive-deps
   const set = (p: Partial<SeriesForm>) => setForm((s) => ({ ...s, ...p }));
   const frames = framesOf(form, images);
   const ticked = new Set(frames.map((i) => i.id));

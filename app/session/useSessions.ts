@@ -48,10 +48,10 @@ export function useSessions(say: Say, onShow: () => void) {
     if (next === cur) return;
     sessionRef.current = next;
     setSession(next);
-    // Dragging wall ends and typing settings change the session many times a second: those wait for
-    // the debounce. Everything else (images, results, names) is written at once, so a reload right
+    // Dragging wall ends and typing settings or a screen's form change the session many times a second: those
+    // wait for the debounce. Everything else (images, results, names) is written at once, so a reload right
     // after it loses nothing.
-    keeping.changed(next, a.type !== 'walls' && a.type !== 'settings');
+    keeping.changed(next, a.type !== 'walls' && a.type !== 'settings' && a.type !== 'screenState');
   }, [keeping.changed]);
 
   const refreshList = useCallback(async () => {

@@ -6,7 +6,9 @@ import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import type { Channel, WallFit } from '../../src/channel/index.ts';
 import {
   EMPTY_WORK, type AnalysisSettings, type ImageMeta, type StoredDiameterRun, type ImageWork, type SessionPixelSize, type SessionRecord, type StoredMicrometer, type StoredOptics,
+  type StoredSeries,
 } from '../storage/records.ts';
+import type { TrendForm } from '../trend/trendForm.ts';
 import type { AppliedSetup } from '../setups/setup.ts';
 import { setupCalibration } from '../setups/calibration.ts';
 import type { DiameterDocument } from '../../src/analyses/index.ts';
@@ -33,7 +35,9 @@ export type SessionAction =
   /** Keeps the micrometer calibration made on this image. */
   | { type: 'micrometer'; id: string; calibration: StoredMicrometer | null }
   /** The pixel size the session's lengths use (chosen from a micrometer calibration); null = none. */
-  | { type: 'pixelSize'; pixelSize: SessionPixelSize | null };
+  | { type: 'pixelSize'; pixelSize: SessionPixelSize | null }
+  /** A screen's state kept with the session: the Over time screen (form and last fit) or the Against a variable screen (form). */
+  | { type: 'screenState'; series?: StoredSeries | null; trend?: TrendForm | null };
 
 function withWork(s: SessionRecord, id: string, change: Partial<ImageWork>): SessionRecord {
   if (!s.images.some((i) => i.id === id)) return s;
@@ -68,6 +72,7 @@ function apply(s: SessionRecord, a: SessionAction): SessionRecord {
     case 'optics': return withWork(s, a.id, { optics: a.reading });
     case 'micrometer': return withWork(s, a.id, { micrometer: a.calibration });
     case 'pixelSize': return { ...s, pixelSize: a.pixelSize };
+    case 'screenState': return { ...s, ...(a.series !== undefined ? { series: a.series } : {}), ...(a.trend !== undefined ? { trend: a.trend } : {}) };
   }
 }
 

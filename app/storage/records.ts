@@ -19,6 +19,9 @@ import { TENSOR_LIMITS } from '../../src/orientation/index.ts';
 import { PROFILE_LIMITS } from '../../src/channel/index.ts';
 import { DIAMETER_LIMITS } from '../../src/fibre/index.ts';
 import { restoreApplied, type AppliedSetup } from '../setups/setup.ts';
+import { SERIES_MODELS, TREND_READINGS, type SeriesResult, type TrendReading } from '../../src/analyses/index.ts';
+import type { SeriesForm, SeriesRequest } from '../series/seriesForm.ts';
+import type { TrendForm } from '../trend/trendForm.ts';
 import { keySet, unknownKeys, withUnknown } from './unknownKeys.ts';
 
 /**
@@ -145,13 +148,23 @@ export interface SessionRecord {
    * writes a session only over the revision it last read or wrote, so a tab never overwrites another tab's save.
    */
   revision?: number;
+  /** The Over time screen's form and last fit (app/series); absent in older records. */
+  series?: StoredSeries | null;
+  /** The "Against a variable" screen's form (app/trend): the reading, the variable and each image's value; absent in older records. */
+  trend?: TrendForm | null;
 }
+
+/** The Over time screen as kept with the session: its form and the last run (request and result), or none. */
+export interface StoredSeries { form: SeriesForm; run: { request: SeriesRequest; result: SeriesResult } | null }
 
 /** The keys this version reads on each level of a session record; restore keeps any other key as it was. */
 const SESSION_KEYS = keySet<SessionRecord>({
   schemaVersion: true, kind: true, id: true, name: true, createdAt: true, updatedAt: true, images: true, activeImageId: true,
-  settings: true, work: true, setup: true, pixelSize: true, revision: true,
+  settings: true, work: true, setup: true, pixelSize: true, revision: true, series: true, trend: true,
 });
+const SERIES_FORM_KEYS = keySet<SeriesForm>({ chosen: true, timing: true, intervalS: true, startS: true, timesS: true, axisDeg: true, model: true });
+const STORED_SERIES_KEYS = keySet<StoredSeries>({ form: true, run: true });
+const TREND_FORM_KEYS = keySet<TrendForm>({ reading: true, variable: true, unit: true, values: true });
 const SETTINGS_KEYS = keySet<AnalysisSettings>({ sigmaPx: true, weighting: true, axisDeg: true, bins: true, stations: true, coreMax: true, skinMin: true });
 const IMAGE_META_KEYS = keySet<ImageMeta>({ id: true, name: true, type: true, size: true, page: true, addedAt: true });
 const IMAGE_RECORD_KEYS = keySet<ImageRecord>({ id: true, name: true, type: true, size: true, page: true, addedAt: true, schemaVersion: true, kind: true, blob: true });
@@ -334,6 +347,10 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
   if (raw.setup != null && !setup) { notes.push('the applied set-up was unreadable'); lossy = true; }
   const pixelSize = raw.pixelSize == null ? null : restorePixelSize(raw.pixelSize);
   if (raw.pixelSize != null && !pixelSize) { notes.push('the session\'s pixel size was unreadable'); lossy = true; }
+  const series = raw.series == null ? null : restoreSeries(raw.series);
+  if (raw.series != null && !series) { notes.push('the Over time screen\'s form was unreadable'); lossy = true; }
+  const trend = raw.trend == null ? null : restoreTrendForm(raw.trend);
+  if (raw.trend != null && !trend) { notes.push('the Against a variable screen\'s form was unreadable'); lossy = true; }
   const now = new Date().toISOString();
   return {
     ok: true, notes, lossy,
@@ -341,6 +358,7 @@ export function restoreSession(raw: unknown): Restored<SessionRecord> {
       ...unknownKeys(raw, SESSION_KEYS), schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session', id: raw.id, name: str(raw.name, 'Untitled session').slice(0, 200) || 'Untitled session',
       createdAt: str(raw.createdAt, now), updatedAt: str(raw.updatedAt, now), images, activeImageId: active,
       settings: restoreSettings(raw.settings, notes), work, setup, pixelSize,
+      ...(series ? { series } : {}), ...(trend ? { trend } : {}),
       ...(raw.revision !== undefined ? { revision: revisionOf(raw) } : {}),
     },
   };
@@ -374,4 +392,38 @@ export function newSession(id: string, name: string, now = new Date()): SessionR
 /** A stored pair of wall fits (display only): two objects with finite numbers, else dropped. */
 function isWallFit(v: unknown): v is [WallFit, WallFit] {
   return Array.isArray(v) && v.length === 2 && v.every((f) => isObj(f) && ['residualPx', 'points', 'strips'].every((k) => Number.isFinite((f as Record<string, unknown>)[k])));
+}
+
+const isStrings = (v: unknown): v is string[] => Array.isArray(v) && v.every((x) => typeof x === 'string');
+const isTextRecord = (v: unknown): v is Record<string, string> => isObj(v) && Object.values(v).every((x) => typeof x === 'string');
+
+/** The Over time form: every field of its type and a known model and timing; else unreadable (null). */
+function restoreSeriesForm(v: unknown): SeriesForm | null {
+  if (!isObj(v)) return null;
+  if (!(v.chosen === null || isStrings(v.chosen)) || (v.timing !== 'interval' && v.timing !== 'each') || !isTextRecord(v.timesS)) return null;
+  if (![v.intervalS, v.startS, v.axisDeg].every((x) => typeof x === 'string') || !(SERIES_MODELS as readonly unknown[]).includes(v.model)) return null;
+  return withUnknown<SeriesForm>(v, SERIES_FORM_KEYS, {
+    chosen: v.chosen === null ? null : [...(v.chosen as string[])], timing: v.timing, intervalS: v.intervalS as string, startS: v.startS as string,
+    timesS: { ...v.timesS }, axisDeg: v.axisDeg as string, model: v.model as SeriesForm['model'],
+  });
+}
+
+/** The Over time screen kept with a session: its form (needed) and its last run (a series result and the request that made it; left out when unreadable). */
+function restoreSeries(v: unknown): StoredSeries | null {
+  if (!isObj(v)) return null;
+  const form = restoreSeriesForm(v.form);
+  if (!form) return null;
+  let run: StoredSeries['run'] = null;
+  if (isObj(v.run) && isObj(v.run.request)) {
+    const q = v.run.request, result = restoreResult<SeriesResult>(v.run.result, 'series');
+    const ok = result && isStrings(q.keys) && isStrings(q.names) && Array.isArray(q.tSeconds) && q.tSeconds.every(num) && isObj(q.times) && isObj(q.options);
+    if (ok) run = { request: q as unknown as SeriesRequest, result };
+  }
+  return withUnknown<StoredSeries>(v, STORED_SERIES_KEYS, { form, run });
+}
+
+/** The Against a variable form: a known reading, text name and unit, and text values by image id; else unreadable (null). */
+function restoreTrendForm(v: unknown): TrendForm | null {
+  if (!isObj(v) || !(TREND_READINGS as readonly unknown[]).includes(v.reading) || typeof v.variable !== 'string' || typeof v.unit !== 'string' || !isTextRecord(v.values)) return null;
+  return withUnknown<TrendForm>(v, TREND_FORM_KEYS, { reading: v.reading as TrendReading, variable: v.variable, unit: v.unit, values: { ...v.values } });
 }

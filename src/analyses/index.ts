@@ -22,4 +22,4 @@ export { fibreNumbersResult } from './fibreNumbers.ts';
 export type { SeriesFrame, SeriesOptions, SeriesPoint, SeriesResult } from './series.ts';
 export { analyseSeries, SERIES_MODELS, FRAME_TIME_LIMIT } from './series.ts';
 export type { TrendPoint, TrendReading, TrendReadingValue, TrendResult, TrendVariable } from './trend.ts';
-export { readingOf, trendResult, trendVariable, TREND_READINGS, TREND_READING_WORDS, TREND_SOURCE, TREND_VALUE_LIMIT, TREND_NAME_MAX, TREND_MAX_PIXELS } from './trend.ts';
+export { readingOf, trendResult, trendCsvRows, trendVariable, TREND_READINGS, TREND_READING_WORDS, TREND_SOURCE, TREND_VALUE_LIMIT, TREND_NAME_MAX, TREND_MAX_PIXELS } from './trend.ts';

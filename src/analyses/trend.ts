@@ -139,3 +139,18 @@ export const TREND_MAX_PIXELS = {
   profile: ANALYSIS_MAX_PIXELS.profile,
   diameter: ANALYSIS_MAX_PIXELS.diameter,
 } as const;
+
+/**
+ * The trend as CSV rows (`retarda trend --csv` and the app's export): one `point` row per image (value, reading,
+ * interval, standard error, whether it is in the fit, why not), then a `slope` and an `intercept` row with their
+ * intervals; empty cells where a value is not determined (notDetermined says why).
+ */
+export function trendCsvRows(r: TrendResult): Record<string, string | number | null>[] {
+  const f = r.fit, nd = r.notDetermined ?? {};
+  const n = (v: number) => (Number.isFinite(v) ? v : null);
+  return [
+    ...r.points.map((p) => ({ kind: 'point', image: p.source, value: p.value, reading: n(p.reading), ciLow: n(p.ciLow), ciHigh: n(p.ciHigh), se: n(p.se), used: p.used ? 1 : 0, notDetermined: p.why ?? null })),
+    { kind: 'slope', image: null, value: null, reading: n(f.slope), ciLow: n(f.slopeCiLow), ciHigh: n(f.slopeCiHigh), se: n(f.slopeSe), used: null, notDetermined: nd.slope ?? null },
+    { kind: 'intercept', image: null, value: null, reading: n(f.intercept), ciLow: n(f.interceptCiLow), ciHigh: n(f.interceptCiHigh), se: n(f.interceptSe), used: null, notDetermined: nd.intercept ?? null },
+  ];
+}

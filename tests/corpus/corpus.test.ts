@@ -31,6 +31,7 @@ const COMMANDS: [string, (f: string) => string[]][] = [
   ['diameter', (f) => ['diameter', f]],
   ['calibrate', (f) => ['calibrate', f, '--division-um', '10']],
   ['series', (f) => ['series', f, f, f, f, '--interval-s', '1']],
+  ['trend', (f) => ['trend', f, f, f, '--values', '1,2,3']],
 ];
 
 /** JavaScript error names, engine messages and stack lines that must never reach a user. */

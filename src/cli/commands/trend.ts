@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
 import {
-  analyseDiameter, analyseOrientation, analyseProfile, NOT_DETERMINED, TREND_MAX_PIXELS, TREND_READINGS, TREND_READING_WORDS, TREND_SOURCE, trendResult, trendVariable,
+  analyseDiameter, analyseOrientation, analyseProfile, NOT_DETERMINED, TREND_MAX_PIXELS, trendCsvRows, TREND_READINGS, TREND_READING_WORDS, TREND_SOURCE, trendResult, trendVariable,
   type DiameterDocument, type OrientResult, type ProfileResult, type TrendReading, type TrendResult,
 } from '../../analyses/index.ts';
 import { parseWalls } from '../../channel/index.ts';
@@ -69,7 +69,7 @@ async function documentOf(row: TrendTableRow, s: TrendSettings): Promise<OrientR
     if (source === 'orient') { recycleTextureField(field); return result; }
     const request = row.walls ? { ...s.profile, channel: parseWalls(row.walls), autoWalls: undefined } : s.profile ?? {};
     if (!request.channel && !request.autoWalls) throw new InputError(`${img.source.name}: a channel profile needs walls`, 'Give --walls or --auto-walls, or a walls column in the table');
-    const p = await analyseProfile(img, field, request, { sigmaPx: s.orient.sigmaPx });
+    const p = await analyseProfile(img, field, request);
     recycleTextureField(field);
     return p;
   } finally { giveBack(...img.planes); }
@@ -124,14 +124,9 @@ export const trendCommand: Command = {
         r.points.map((p) => [p.source, p.value, cell(p.reading), cell(p.ciLow), cell(p.ciHigh), cell(p.se), p.used ? 'yes' : `no: ${p.why}`])),
       fitTable(r),
     ].join('\n');
-    const f = r.fit;
     return {
       json: r, table,
-      csvRows: [
-        ...r.points.map((p) => ({ kind: 'point', image: p.source, value: p.value, reading: p.reading, ciLow: p.ciLow, ciHigh: p.ciHigh, se: p.se, used: p.used ? 1 : 0, notDetermined: p.why ?? null })),
-        { kind: 'slope', image: null, value: null, reading: f.slope, ciLow: f.slopeCiLow, ciHigh: f.slopeCiHigh, se: f.slopeSe, used: null, notDetermined: r.notDetermined?.slope ?? null },
-        { kind: 'intercept', image: null, value: null, reading: f.intercept, ciLow: f.interceptCiLow, ciHigh: f.interceptCiHigh, se: f.interceptSe, used: null, notDetermined: r.notDetermined?.intercept ?? null },
-      ],
+      csvRows: trendCsvRows(r),
       warnings: [...Object.entries(r.notDetermined ?? {}).map(([key, why]) => `${key} ${NOT_DETERMINED}: ${why}`), ...r.warnings],
     };
   },
