@@ -1,5 +1,5 @@
 /**
- * A reading against a process variable (docs/methods.md §18): each image's reading (whole-image S, core S, skin S,
+ * A reading against a process variable (docs/methods.md §19): each image's reading (whole-image S, core S, skin S,
  * core/skin or the fibre diameter, from the same result documents `orient`, `profile` and `diameter` make) at the
  * variable's value for that image, and the weighted straight line through them (src/trend). Pure: the command line
  * makes the documents from image files, the app takes the ones kept with the session; both end here.

@@ -2,9 +2,9 @@ import { InputError, normalQuantile, studentTQuantile } from '../common/index.ts
 
 /**
  * A reading against a process variable (draw ratio, dope concentration, bath temperature, ...): the straight line
- * y = a + b x fitted by weighted least squares, each point weighted by 1 / se^2 (docs/methods.md §18 "Order
+ * y = a + b x fitted by weighted least squares, each point weighted by 1 / se^2 (docs/methods.md §19 "Order
  * against a process variable"; Bevington & Robinson, "Data Reduction and Error Analysis for the Physical
- * Sciences", 3rd ed., §6.3; Taylor, "An Introduction to Error Analysis", 2nd ed., §8.3):
+ * Sciences", 3rd ed., §6.3; Taylor, "An Introduction to Error Analysis", 2nd ed., ch. 8):
  *
  *   W = sum w, xbar = sum w x / W, Sxx = sum w (x - xbar)^2
  *   b = sum w (x - xbar)(y - ybar) / Sxx,  a = ybar - b xbar
