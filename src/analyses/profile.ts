@@ -49,7 +49,7 @@ export async function analyseProfile(img: Image, field: OrientationField, req: P
     schemaVersion: SCHEMA_VERSION, analysis: 'profile', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
     ...rest, fieldMethod: field.method, walls: channel.walls, wallsFound: found,
-    options: { ...fieldOptions, ...read.options, ...options, ...(near ? { nearWalls: `normalised convolution: gradients within ${near.clearancePx} px of a wall left out` } : {}) },
+    options: { ...fieldOptions, ...read.options, ...options, ...(near ? { nearWalls: `normalised convolution: intensities within ${near.clearancePx} px of a wall left out, gradients fitted up to them` } : {}) },
     warnings: [...warnings, ...ambiguityWarning(read, p.axisDeg)],
     ...(Object.keys(reasons).length ? { notDetermined: reasons } : {}),
   };

@@ -4,23 +4,23 @@ import { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from '.
 import { channelFrame, transverseLinear, type Channel } from './geometry.ts';
 
 /**
- * Extra distance from a wall, beyond the derivative filter's reach, whose gradients are left out: the
- * optics' blur spreads the wall's own edge over a pixel or two, and a wall placed by hand or found may
- * be a pixel off.
+ * Distance from a wall within which intensities are left out: the optics' blur spreads the wall's own
+ * edge over a pixel or two, and a wall placed by hand or found may be a pixel off.
  */
 export const WALL_CLEARANCE_PX = 2;
 
 /**
- * The texture field inside a channel with the walls' own edges kept out of it. Pixels whose derivative
- * filter reaches within WALL_CLEARANCE_PX of a wall carry the wall's edge gradient (which runs along the
- * wall, so it would read as order along the axis); their gradients get certainty 0, and every pixel
- * whose integration window reaches them is recomputed by normalised convolution from the interior's
- * gradients only (recomputeWithCertainty; Knutsson & Westin 1993). Pixels farther in are unchanged.
+ * The texture field inside a channel with the walls' own edges kept out of it. Intensities within
+ * WALL_CLEARANCE_PX of a wall (or outside the channel) get certainty 0: a derivative filter reaching them
+ * would read the wall's edge gradient, which runs along the wall and so would read as order along the
+ * axis. Every pixel whose derivative or integration window reaches them is recomputed by normalised
+ * (differential) convolution from the material's intensities only (recomputeWithCertainty; Knutsson &
+ * Westin 1993), so gradients are read up to the clearance. Pixels farther in are unchanged.
  * Returns the new field and the clearance used, for the result's options.
  */
 export function wallFreeTextureField(plane: Plane, field: OrientationField, channel: Channel): { field: OrientationField; clearancePx: number } {
-  const clearance = derivativeReachPx(field) + WALL_CLEARANCE_PX;
-  const reach = clearance + integrationReachPx(field) + 1;
+  const clearance = WALL_CLEARANCE_PX;
+  const reach = clearance + derivativeReachPx(field) + integrationReachPx(field) + 1;
   const frame = channelFrame(channel);
   const L = transverseLinear(frame, channel);
   const { width, height } = plane;
