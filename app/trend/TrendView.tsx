@@ -2,7 +2,7 @@
  * Against a variable: the session's images spun under different conditions, each with the variable's value (draw
  * ratio, dope concentration, bath temperature, ...) and its reading (whole-image S, core S, skin S, core/skin or the
  * fibre diameter, as kept with the image), plotted with 95 % intervals and a weighted straight line whose slope and
- * intercept carry 95 % intervals, or "not determined" with why (`retarda trend`, docs/methods.md §18). The form is
+ * intercept carry 95 % intervals, or "not determined" with why (`retarda trend`, docs/methods.md §19). The form is
  * kept with the session; the numbers are remade from it at once (no worker: the readings are already there).
  */
 import { useEffect, useMemo, useState } from 'react';
@@ -16,7 +16,7 @@ import { documentOf, emptyTrendForm, readingTitle, trendCsv, trendLine, trendOf,
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 const READING_HINT: Record<string, string> = {
-  whole: 'from "Orientation" on each image', core: 'from "Profile across the channel"', skin: 'from "Profile across the channel"',
+  whole: 'from "Analyse orientation" on each image', core: 'from "Profile across the channel"', skin: 'from "Profile across the channel"',
   'core-skin': 'from "Profile across the channel"', diameter: 'from "Fibre diameters"',
 };
 
@@ -29,7 +29,7 @@ function Verdict({ r }: { r: TrendResult }) {
     : fit.direction === 'no clear trend'
       ? `No clear trend: ${what} neither rises nor falls with ${r.variable.name} beyond its 95 % interval (slope ${f(fit.slope)} ${per}, 95 %: ${f(fit.slopeCiLow)} to ${f(fit.slopeCiHigh)}).`
       : `${what[0].toUpperCase()}${what.slice(1)} ${fit.direction} with ${r.variable.name}: ${f(fit.slope)} ${r.readingUnit === 'um' ? 'µm ' : r.readingUnit === 'px' ? 'px ' : ''}${per} (95 %: ${f(fit.slopeCiLow)} to ${f(fit.slopeCiHigh)}).`;
-  return <p className={`trend-verdict${nd.slope ? ' not-determined' : ''}`} data-testid="trend-verdict">{text}</p>;
+  return <p className={`trend-verdict${nd.slope ? ' open' : ''}`} data-testid="trend-verdict">{text}</p>;
 }
 
 /** Slope and intercept with their intervals, or "not determined" with why beside them; the fit's chi-square. */
@@ -42,11 +42,11 @@ function FitTable({ r }: { r: TrendResult }) {
         <tr><th scope="row">Slope</th>
           <Undetermined why={nd.slope} testId="trend-slope">{f(fit.slope)}</Undetermined>
           {!nd.slope && <td data-testid="trend-slope-ci">95 %: {f(fit.slopeCiLow)} – {f(fit.slopeCiHigh)} {unit ? `${unit} ` : ''}per {r.variable.unit || 'unit'}</td>}</tr>
-        <tr><th scope="row">Intercept (at {r.variable.name} = 0)</th>
-          <Undetermined why={nd.intercept} testId="trend-intercept">{f(fit.intercept)}</Undetermined>
-          {!nd.intercept && <td>95 %: {f(fit.interceptCiLow)} – {f(fit.interceptCiHigh)}{unit ? ` ${unit}` : ''}</td>}</tr>
+        <tr><th scope="row">Intercept</th>
+          <Undetermined why={nd.intercept && (nd.intercept === nd.slope ? 'as for the slope' : nd.intercept)} testId="trend-intercept">{f(fit.intercept)}</Undetermined>
+          {!nd.intercept && <td>95 %: {f(fit.interceptCiLow)} – {f(fit.interceptCiHigh)}{unit ? ` ${unit}` : ''}; the line at {r.variable.name} = 0</td>}</tr>
         <tr><th scope="row">Points in the line</th><td data-testid="trend-n">{fit.n}</td><td>at {fit.distinctX} different value{fit.distinctX === 1 ? '' : 's'} of {r.variable.name}</td></tr>
-        {!nd.slope && <tr><th scope="row">Scatter</th><td colSpan={2}>χ² {f(fit.chiSquare)} on {fit.dof} degree{fit.dof === 1 ? '' : 's'} of freedom{fit.birgeRatio > 1 ? `: more than the points' intervals allow, so the line's intervals are ${f(fit.birgeRatio)} times wider` : ': within the points\' intervals'}</td></tr>}
+        {!nd.slope && <tr><th scope="row">Scatter</th><td data-testid="trend-chi2">χ² {f(fit.chiSquare)}, {fit.dof} dof</td><td>{fit.birgeRatio > 1 ? `more than the points' intervals allow: the line's intervals are ${f(fit.birgeRatio)} times wider` : 'within the points\' intervals'}</td></tr>}
       </tbody>
     </table>
   );

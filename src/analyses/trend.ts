@@ -85,7 +85,7 @@ export interface TrendResult extends ResultHead {
 export function trendVariable(name: string | undefined, unit: string | undefined): TrendVariable {
   const n = (name ?? '').trim() || 'value', u = (unit ?? '').trim();
   for (const [what, v] of [['name', n], ['unit', u]] as const) {
-    if (v.length > TREND_NAME_MAX || /[\u0000-\u001f]/.test(v)) throw new InputError(`the variable's ${what} must be one line of at most ${TREND_NAME_MAX} characters`, 'Shorten it');
+    if (v.length > TREND_NAME_MAX || [...v].some((c) => c.charCodeAt(0) < 32)) throw new InputError(`the variable's ${what} must be one line of at most ${TREND_NAME_MAX} characters`, 'Shorten it');
   }
   return { name: n, unit: u };
 }

@@ -16,7 +16,8 @@ export const TREND_OPTIONS: OptionSpec[] = [
   { name: 'variable', kind: 'string', help: 'the variable\'s name, e.g. "draw ratio" (tables and JSON)', defaultText: 'value' },
   { name: 'unit', kind: 'string', help: 'the variable\'s unit, e.g. "deg C"', defaultText: 'none' },
   ...TEXTURE_OPTIONS.filter((o) => o.name !== 'field-out'),
-  ...CHANNEL_OPTIONS,
+  // --axis-deg serves whole (S_axis against it, else S_2D) as well as the channel readings.
+  ...CHANNEL_OPTIONS.map((o) => (o.name === 'axis-deg' ? { ...o, help: 'reference axis, degrees CCW from +x: whole gives S_axis against it (S_2D without it); core, skin, core-skin take it for S', defaultText: 'none for whole; the channel axis for core, skin, core-skin' } : o)),
   { name: 'region', kind: 'string', help: 'whole: only pixels in this rectangle "x,y,w,h" count' },
   ...DIAMETER_OPTIONS,
 ];
