@@ -427,3 +427,22 @@ function restoreTrendForm(v: unknown): TrendForm | null {
   if (!isObj(v) || !(TREND_READINGS as readonly unknown[]).includes(v.reading) || typeof v.variable !== 'string' || typeof v.unit !== 'string' || !isTextRecord(v.values)) return null;
   return withUnknown<TrendForm>(v, TREND_FORM_KEYS, { reading: v.reading as TrendReading, variable: v.variable, unit: v.unit, values: { ...v.values } });
 }
+
+/**
+ * The screens' kept state with image ids renamed (a session copied under new image ids): the Against a variable
+ * values and the Over time frames, times and last run follow their images; an id not in `ids` is dropped.
+ */
+export function screensWithIds(s: Pick<SessionRecord, 'series' | 'trend'>, ids: ReadonlyMap<string, string>): Pick<SessionRecord, 'series' | 'trend'> {
+  const keyed = (r: Record<string, string>) => Object.fromEntries(Object.entries(r).filter(([k]) => ids.has(k)).map(([k, v]) => [ids.get(k)!, v]));
+  const out: Pick<SessionRecord, 'series' | 'trend'> = {};
+  if (s.trend) out.trend = { ...s.trend, values: keyed(s.trend.values) };
+  if (s.series) {
+    const f = s.series.form, run = s.series.run;
+    out.series = {
+      ...s.series,
+      form: { ...f, chosen: f.chosen === null ? null : f.chosen.filter((k) => ids.has(k)).map((k) => ids.get(k)!), timesS: keyed(f.timesS) },
+      run: run && run.request.keys.every((k) => ids.has(k)) ? { ...run, request: { ...run.request, keys: run.request.keys.map((k) => ids.get(k)!) } } : null,
+    };
+  }
+  return out;
+}

@@ -17,7 +17,7 @@
  * overwriting that tab's work.
  */
 import {
-  STORAGE_SCHEMA_VERSION, newSession, restoreImage, restoreSession, revisionOf,
+  STORAGE_SCHEMA_VERSION, newSession, restoreImage, restoreSession, revisionOf, screensWithIds,
   type ImageMeta, type ImageRecord, type SessionRecord,
 } from './records.ts';
 
@@ -150,6 +150,7 @@ export function createSessionStore(kv: KeyValue, makeId: () => string = randomId
       ...structuredClone(src), id: makeId(), name, createdAt: t, updatedAt: t, revision: 0, images,
       activeImageId: (src.activeImageId ? ids.get(src.activeImageId) : undefined) ?? images[0]?.id ?? null,
       work: Object.fromEntries(Object.entries(src.work).filter(([k]) => ids.has(k)).map(([k, w]) => [ids.get(k)!, structuredClone(w)])),
+      ...screensWithIds(structuredClone({ series: src.series, trend: src.trend }), ids),
     };
     await kv.set(SESSION_PREFIX + copy.id, { ...copy, schemaVersion: STORAGE_SCHEMA_VERSION, kind: 'session' });
     seen.set(copy.id, 0);

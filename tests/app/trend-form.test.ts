@@ -15,7 +15,7 @@ import { encodePng } from '../../src/report/png.ts';
 import { decodeImage, type Image } from '../../src/image/index.ts';
 import { orientOptionsOf, profileRequestOf } from '../../app/analysis/requests.ts';
 import { EMPTY_SERIES_FORM } from '../../app/series/seriesForm.ts';
-import { DEFAULT_SETTINGS, EMPTY_WORK, newSession, restoreSession, type SessionRecord } from '../../app/storage/records.ts';
+import { DEFAULT_SETTINGS, EMPTY_WORK, newSession, restoreSession, screensWithIds, type SessionRecord } from '../../app/storage/records.ts';
 import { lineSeAt } from '../../app/trend/TrendPlot.tsx';
 import { trendLine, trendOf, type TrendForm } from '../../app/trend/trendForm.ts';
 import { renderScene, scene } from '../validation/render/index.ts';
@@ -146,6 +146,15 @@ describe('kept with the session', () => {
     expect(bad.value.series).toBeUndefined();
     expect(bad.value.trend).toBeUndefined();
     expect(bad.notes).toEqual(expect.arrayContaining(['the Over time screen\'s form was unreadable', 'the Against a variable screen\'s form was unreadable']));
+  });
+  it('a session copied under new image ids takes both screens\' state with it, under the new ids', () => {
+    const ids = new Map([['i0', 'n0'], ['i1', 'n1']]);
+    const run = { request: { keys: ['i0', 'i1'], names: ['a', 'b'], tSeconds: [0, 1], times: { intervalS: 1 }, options: {} }, result: {} as never };
+    const out = screensWithIds({ trend: formOf({ values: { i0: '1', i1: '2', gone: '3' } }), series: { form: { ...EMPTY_SERIES_FORM, chosen: ['i1', 'gone'], timesS: { i0: '5' } }, run } }, ids);
+    expect(out.trend?.values).toEqual({ n0: '1', n1: '2' });
+    expect(out.series?.form.chosen).toEqual(['n1']);
+    expect(out.series?.form.timesS).toEqual({ n0: '5' });
+    expect(out.series?.run?.request.keys).toEqual(['n0', 'n1']);
   });
   it('a kept Over time run comes back with its result', () => {
     const result = { schemaVersion: 2, analysis: 'series', source: 'a', width: 1, height: 1, pixelSizeUmPerPx: null, axisDeg: 0, axisFrom: 'given', points: [], fit: null, options: {}, warnings: [] };
