@@ -14,6 +14,7 @@ const areas: Record<string, () => Promise<{ default: ValidationArea }>> = {
   'fibre': () => import('./fibre.ts'),
   'micrometer': () => import('./micrometer.ts'),
   'series': () => import('./series.ts'),
+  'trend': () => import('./trend.ts'),
 };
 
 const rows: ValidationRow[] = [];
