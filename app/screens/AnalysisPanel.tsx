@@ -2,6 +2,7 @@
  * The analyses of the image shown: the texture orientation, the other analyses (MoreAnalyses) and the profile
  * across the channel, each with its numbers, its `retarda` command line and its files.
  */
+import { useEffect, useRef } from 'react';
 import { WallsEditor } from '../components/WallsEditor.tsx';
 import { ColourKey } from '../components/ColourKey.tsx';
 import { ProfilePlot } from '../components/ProfilePlot.tsx';
@@ -32,6 +33,18 @@ export function AnalysisPanel({ w }: { w: Workspace }) {
   const { session, change } = w.sessions;
   const a = w.analysis;
   const { active, busy, engine, shown, drawing, setDrawing, opticalHere, showOptical } = a;
+  const profileNow = (active && session?.work[active.id]?.profile) ?? null;
+  const profileView = useRef<HTMLDivElement>(null);
+  const seen = useRef<{ id: string | null; profile: unknown }>({ id: null, profile: null });
+  useEffect(() => {
+    // A new profile of the image already shown (not another image's, brought up by switching) is scrolled into
+    // view: it appears below the button, often under the panel's fold.
+    const id = active?.id ?? null;
+    if (profileNow && id === seen.current.id && profileNow !== seen.current.profile) {
+      requestAnimationFrame(() => profileView.current?.scrollIntoView?.({ block: 'start', behavior: 'smooth' }));
+    }
+    seen.current = { id, profile: profileNow };
+  }, [active?.id, profileNow]);
   if (!session || !active) return null;
   const settings = session.settings;
   const work = session.work[active.id] ?? null;
@@ -106,6 +119,7 @@ export function AnalysisPanel({ w }: { w: Workspace }) {
         {numberField('Core: position |s| below', 'coreMax', 0.05)}
         {numberField('Skin: position |s| above', 'skinMin', 0.05)}
         <button className="primary" disabled={!!busy || !walls} onClick={() => void a.runProfile()} title="Shortcut: P">Profile across the channel</button>
+        <div ref={profileView} />
         {profile && <ProfilePlot r={profile} />}
         {profile && <ProfileTable r={profile} stale={profileIsStale(profile, settings)} onRemedy={profile.fieldMethod === 'plate' ? (r) => w.more.current?.remedy(r) : undefined} />}
         {profile && walls && <p className="cli"><code data-testid="profile-cli">{profileCommand(w, profile, active.name)}</code></p>}
