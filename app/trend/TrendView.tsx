@@ -17,7 +17,7 @@ import { documentOf, emptyTrendForm, readingTitle, trendCsv, trendLine, trendOf,
 const f = (v: number | null | undefined) => formatCell(v ?? null);
 const READING_HINT: Record<string, string> = {
   whole: 'from "Analyse orientation" on each image', core: 'from "Profile across the channel"', skin: 'from "Profile across the channel"',
-  'core-skin': 'from "Profile across the channel"', diameter: 'from "Fibre diameters"',
+  'core-skin': 'from "Profile across the channel"', diameter: 'from More analyses, "Fibre diameter"',
 };
 
 /** The answer in one sentence: the direction with the slope and its interval, or why there is no line. */

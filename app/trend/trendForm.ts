@@ -36,9 +36,9 @@ export const emptyTrendForm = (s: Pick<SessionRecord, 'work'>): TrendForm => ({ 
 
 /** What to do on the image screen to get a reading that is missing. */
 const MISSING: Record<'orient' | 'profile' | 'diameter', string> = {
-  orient: 'no orientation result yet: run "Orientation" on this image',
+  orient: 'no orientation result yet: run "Analyse orientation" on this image',
   profile: 'no channel profile yet: run "Profile across the channel" on this image',
-  diameter: 'no fibre diameters yet: measure them on this image',
+  diameter: 'no fibre diameters yet: measure them on this image (More analyses, "Fibre diameter")',
 };
 
 /** The result document a reading comes from, kept with the image, or null. */
