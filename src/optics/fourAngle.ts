@@ -11,6 +11,7 @@ import { CellColours } from './effectiveRetardance.ts';
 import { buildPlateLookup } from './lookupTable.ts';
 import { checkColourImage, FULL_SCALE_LEVEL, quantiseInto, type Rect } from './pixels.ts';
 import { valuesOfRanks } from './ranks.ts';
+import { decodeTableIn, opticsKernel, OpticsLayout, type OpticsKernelExports } from '../wasm/index.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
 
@@ -163,46 +164,51 @@ export interface FourAngleResult {
 let srgbTable: Float32Array | null = null;
 const decodeTable = (): Float32Array => (srgbTable ??= Float32Array.from({ length: 65536 }, (_, k) => srgbDecode(k / 65535)));
 
+/** Pixels per call of the optics kernel (a multiple of 4): a block's inputs and results stay in the caches. */
+const KERNEL_BLOCK_PX = 1 << 13;
+
+/** A block's colour planes in the kernel's memory (3 x KERNEL_BLOCK_PX floats). */
+interface IntensityStage { k: OpticsKernelExports; rgbAt: number; rgb: Float32Array[] }
+
+function intensityStage(mem: OpticsLayout): IntensityStage {
+  const rgbAt = mem.reserve(3 * 4 * KERNEL_BLOCK_PX);
+  return { k: mem.k, rgbAt, rgb: [] };
+}
+
 /**
- * Decoded value of a stored float32 value v: the table entry at round(65535 clamp(v, 0, 1)), NaN for NaN. For
- * float32 v the product v * 65535 is exact in float64 (24 + 16 bits), so adding 0.5 and truncating rounds as
- * Math.round does.
+ * The linear intensity of pixels [i0, i0 + len) of an image (len <= KERNEL_BLOCK_PX), made by the kernel at byte
+ * offset `at` of its memory (intensityRgb or intensityGrey: Rec. 709 luminance of linear RGB, or the grey channel,
+ * decoded through decodeTable when sRGB; float32 arithmetic); pixels with a plane at full scale get a 1 at
+ * clipAt + t. Returns whether any did. The stage's views are made after the layout's commit.
  */
-const decoded = (table: Float32Array, v: number): number => (v > 0 ? table[v < 1 ? (v * 65535 + 0.5) | 0 : 65535] : v === v ? table[0] : NaN);
+function intensityOfBlock(s: IntensityStage, img: Image, i0: number, len: number, at: number, clipAt: number): boolean {
+  const { k } = s, i1 = i0 + len, table = img.encoding === 'srgb' ? decodeTableIn(k, decodeTable) : 0;
+  if (img.channels === 3) {
+    if (s.rgb.length === 0 || s.rgb[0].buffer !== k.memory.buffer) s.rgb = [0, 1, 2].map((c) => new Float32Array(k.memory.buffer, s.rgbAt + 4 * KERNEL_BLOCK_PX * c, KERNEL_BLOCK_PX));
+    for (let c = 0; c < 3; c++) s.rgb[c].set(img.planes[c].subarray(i0, i1));
+    return k.intensityRgb(s.rgbAt, s.rgbAt + 4 * KERNEL_BLOCK_PX, s.rgbAt + 8 * KERNEL_BLOCK_PX, len, FULL_SCALE_LEVEL, table, at, clipAt) > 0;
+  }
+  // In place: the grey plane's values become its intensities.
+  new Float32Array(k.memory.buffer, at, len).set(img.planes[0].subarray(i0, i1));
+  return k.intensityGrey(at, len, FULL_SCALE_LEVEL, table, at, clipAt) > 0;
+}
 
 /**
  * Linear intensity of pixels [i0, i0 + out.length) of an image into `out`: luminance of linear RGB (Rec. 709
- * weights), or the grey channel, decoded when sRGB. With `clipped`, marks pixels with a plane at full scale.
+ * weights), or the grey channel, decoded when sRGB (in the optics kernel, float32 arithmetic). With `clipped`,
+ * marks pixels with a plane at full scale.
  */
 export function linearIntensityInto(img: Image, i0: number, out: Float32Array, clipped: Uint8Array | null): void {
-  const len = out.length, table = img.encoding === 'srgb' ? decodeTable() : null, F = FULL_SCALE_LEVEL;
-  if (img.channels === 1) {
-    const p = img.planes[0];
-    for (let t = 0; t < len; t++) {
-      const v = p[i0 + t];
-      if (clipped && v >= F) clipped[i0 + t] = 1;
-      out[t] = table ? decoded(table, v) : v;
-    }
-    return;
-  }
-  const [r, g, b] = img.planes;
-  if (!table) {
-    for (let t = 0; t < len; t++) {
-      const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
-      if (clipped && (vr >= F || vg >= F || vb >= F)) clipped[i] = 1;
-      out[t] = 0.2126 * vr + 0.7152 * vg + 0.0722 * vb;
-    }
-    return;
-  }
-  for (let t = 0; t < len; t++) {
-    const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];
-    // Every value below full scale (so finite, below 1): the table index is round(65535 max(v, 0)) (see decoded).
-    if (vr < F && vg < F && vb < F) {
-      out[t] = 0.2126 * table[vr > 0 ? (vr * 65535 + 0.5) | 0 : 0] + 0.7152 * table[vg > 0 ? (vg * 65535 + 0.5) | 0 : 0] + 0.0722 * table[vb > 0 ? (vb * 65535 + 0.5) | 0 : 0];
-      continue;
-    }
-    if (clipped && (vr >= F || vg >= F || vb >= F)) clipped[i] = 1;
-    out[t] = 0.2126 * decoded(table, vr) + 0.7152 * decoded(table, vg) + 0.0722 * decoded(table, vb);
+  const mem = new OpticsLayout(opticsKernel()), stage = intensityStage(mem);
+  const at = mem.reserve(4 * KERNEL_BLOCK_PX), clipAt = mem.reserve(KERNEL_BLOCK_PX);
+  mem.commit();
+  const view = mem.f32(at, KERNEL_BLOCK_PX), clip = mem.u8(clipAt, KERNEL_BLOCK_PX);
+  for (let s = 0; s < out.length; s += KERNEL_BLOCK_PX) {
+    const len = Math.min(KERNEL_BLOCK_PX, out.length - s);
+    clip.fill(0);
+    const any = intensityOfBlock(stage, img, i0 + s, len, at, clipped ? clipAt : 0);
+    out.set(len === KERNEL_BLOCK_PX ? view : view.subarray(0, len), s);
+    if (any) for (let t = 0; t < len; t++) if (clip[t]) clipped![i0 + s + t] = 1;
   }
 }
 
@@ -423,72 +429,45 @@ function fitBlock(I: Float32Array[], i0: number, clipped: Uint8Array, fit: Serie
 }
 
 /**
- * fitBlock for four images (the usual series) over every block of the images, written out: the same operations in
- * the same order, faster. The blocks are read here, not by the caller, so that the pixel loop stays in one
- * optimised call (a call per block left it several hundred times a run through code compiled before the lines
- * after the loop had run).
+ * fitBlock for four images (the usual series) over every block of the images, in the optics kernel
+ * (src/wasm/opticsKernel.as.ts: fitFour, after intensityRgb or intensityGrey), four pixels at a time in float32
+ * arithmetic (the readings are float32: they differ from fitBlock's float64 evaluation by a few units in the last
+ * place). Each block's image values are copied into the kernel's memory and its results copied out.
  */
 function fitSeriesOfFour(images: Image[], clipped: Uint8Array, fit: SeriesFit, out: SeriesOut, counts: { flatBad: number; nonFinite: number; clipped: number }): void {
-  const n = clipped.length, { dark, flat, flatMean } = fit;
-  const blocks = images.map(() => new Float32Array(Math.min(n, SERIES_BLOCK_PX)));
-  const [I0, I1, I2, I3] = blocks;
-  const [p00, p01, p02, p03] = fit.P[0], [p10, p11, p12, p13] = fit.P[1], [p20, p21, p22, p23] = fit.P[2];
-  const [c0, c1, c2, c3] = fit.cos4, [s0, s1, s2, s3] = fit.sin4;
-  const { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2 } = out;
-  let nClipped = 0, nFlatBad = 0, nNonFinite = 0;
-  // The sums in an array: as local variables the optimised loop (entered mid-run) kept them boxed, a new number per pixel.
-  const sums = new Float64Array(2);
-  for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
-    const len = Math.min(SERIES_BLOCK_PX, n - i0);
-    // The loop reads the same four arrays in every block (a shorter last block only through their first len values).
-    for (let k = 0; k < 4; k++) linearIntensityInto(images[k], i0, len === blocks[k].length ? blocks[k] : blocks[k].subarray(0, len), clipped);
-    for (let t = 0; t < len; t++) {
-      const i = i0 + t;
-      cos2[i] = 1;
-      if (clipped[i]) { nClipped++; continue; }
-      let f = 1;
-      const d = dark ? dark[i] : 0;
-      if (flat) {
-        const fv = flat[i] - d;
-        if (!(fv > 1e-6)) { nFlatBad++; continue; }
-        f = flatMean / fv;
-      }
-      const x0 = (I0[t] - d) * f, x1 = (I1[t] - d) * f, x2 = (I2[t] - d) * f, x3 = (I3[t] - d) * f;
-      const a0 = 0 + p00 * x0 + p01 * x1 + p02 * x2 + p03 * x3;
-      const a4c = 0 + p10 * x0 + p11 * x1 + p12 * x2 + p13 * x3;
-      const a4s = 0 + p20 * x0 + p21 * x1 + p22 * x2 + p23 * x3;
-      if (!Number.isFinite(a0 + a4c + a4s)) { nNonFinite++; continue; }
-      const r0 = x0 - (a0 + a4c * c0 + a4s * s0), r1 = x1 - (a0 + a4c * c1 + a4s * s1), r2 = x2 - (a0 + a4c * c2 + a4s * s2), r3 = x3 - (a0 + a4c * c3 + a4s * s3);
-      const ss = 0 + r0 * r0 + r1 * r1 + r2 * r2 + r3 * r3;
-      const h = Math.sqrt(a4c * a4c + a4s * a4s), amp = 2 * h, res = Math.sqrt(ss / 1);
-      let th = 0.25 * Math.atan2(-a4s, -a4c);
-      if (th < 0) th += Math.PI / 2;
-      // Rounded up to 90 deg, theta is taken as 0: 2 theta turns by 180 deg (below).
-      const turned = th >= Math.PI / 2;
-      if (turned) th -= Math.PI / 2;
-      angleRad[i] = th;
-      amplitude[i] = amp; residual[i] = res;
-      if (background) background[i] = a0 - amp / 2;
-      const w = Math.fround(amp / (amp + 3 * res + 1e-12));
-      confidence[i] = w;
-      mask[i] = 1;
-      if (h > 0) {
-        // (cos 4 theta, sin 4 theta) = -(a4c, a4s) / h.
-        const c4 = -a4c / h, s4 = -a4s / h, sign = turned ? -1 : 1;
-        // doubledAngleInto written out: a call here would box its arguments (two allocations per pixel).
-        if (c4 >= 0) {
-          const c = Math.sqrt(0.5 + 0.5 * c4);
-          cos2[i] = sign * (s4 < 0 ? -c : c); sin2[i] = sign * (Math.abs(s4) / (2 * c));
-        } else {
-          const q = Math.sqrt(0.5 - 0.5 * c4);
-          sin2[i] = sign * q; cos2[i] = sign * (s4 / (2 * q));
-        }
-        sums[0] += w * c4; sums[1] += w * s4;
-      } else {
-        cos2[i] = Math.cos(2 * angleRad[i]); sin2[i] = Math.sin(2 * angleRad[i]);
-      }
+  const n = clipped.length, { dark, flat, flatMean } = fit, B = KERNEL_BLOCK_PX;
+  const k = opticsKernel(), mem = new OpticsLayout(k), stage = intensityStage(mem);
+  const intensityAt = [0, 1, 2, 3].map(() => mem.reserve(4 * B));
+  const darkAt = dark ? mem.reserve(4 * B) : 0, flatAt = flat ? mem.reserve(4 * B) : 0, clipAt = mem.reserve(B);
+  const names = ['angleRad', 'amplitude', 'residual', 'background', 'confidence', 'cos2', 'sin2'] as const;
+  const outAt = names.map((name) => (name === 'background' && !out.background ? 0 : mem.reserve(4 * B)));
+  const maskAt = mem.reserve(B), coeffAt = mem.reserve(20 * 4), sumsAt = mem.reserve(16), countsAt = mem.reserve(16);
+  mem.commit();
+  mem.f32(coeffAt, 20).set([...fit.P[0], ...fit.P[1], ...fit.P[2], ...fit.cos4, ...fit.sin4]);
+  mem.f64(sumsAt, 2).fill(0);
+  const kCounts = mem.i32(countsAt, 4);
+  kCounts.fill(0);
+  const clip = mem.u8(clipAt, B), mask = mem.u8(maskAt, B);
+  const outViews = outAt.map((at) => (at ? mem.f32(at, B) : null));
+  const darkView = dark ? mem.f32(darkAt, B) : null, flatView = flat ? mem.f32(flatAt, B) : null;
+  for (let i0 = 0; i0 < n; i0 += B) {
+    const len = Math.min(B, n - i0), i1 = i0 + len;
+    clip.fill(0);
+    images.forEach((img, j) => intensityOfBlock(stage, img, i0, len, intensityAt[j], clipAt));
+    if (darkView) darkView.set(dark!.subarray(i0, i1));
+    if (flatView) flatView.set(flat!.subarray(i0, i1));
+    const zeroBefore = kCounts[3];
+    k.fitFour(intensityAt[0], intensityAt[1], intensityAt[2], intensityAt[3], darkAt, flatAt, flatMean, clipAt, len, coeffAt,
+      outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], outAt[5], outAt[6], maskAt, sumsAt, countsAt);
+    names.forEach((name, j) => { const v = outViews[j]; if (v) out[name]!.set(len === B ? v : v.subarray(0, len), i0); });
+    out.mask.set(len === B ? mask : mask.subarray(0, len), i0);
+    clipped.set(len === B ? clip : clip.subarray(0, len), i0);
+    // Zero amplitude (rare): cos 2 theta and sin 2 theta of the angle itself, as fitBlock makes them.
+    if (kCounts[3] !== zeroBefore) {
+      for (let i = i0; i < i1; i++) if (Number.isNaN(out.cos2[i])) { out.cos2[i] = Math.cos(2 * out.angleRad[i]); out.sin2[i] = Math.sin(2 * out.angleRad[i]); }
     }
   }
+  const sums = mem.f64(sumsAt, 2);
   out.sumCos4 += sums[0]; out.sumSin4 += sums[1];
-  counts.clipped += nClipped; counts.flatBad += nFlatBad; counts.nonFinite += nNonFinite;
+  counts.clipped += kCounts[0]; counts.flatBad += kCounts[1]; counts.nonFinite += kCounts[2];
 }

@@ -1,0 +1,209 @@
+// AssemblyScript source of the optical readings' kernel (compiled by `npm run wasm` into opticsKernel.wasm.ts).
+// The angle series' per-pixel loops, a block of pixels at a time, four pixels per WebAssembly SIMD instruction: the
+// caller copies a block's image values into the module's memory, calls the kernel and copies the block's results out (src/optics/fourAngle.ts). Intensities and fit are float32 arithmetic: the readings differ from a
+// float64 evaluation of the same formulas by a few units in the last place (tests/wasm/optics-kernel.test.ts).
+// All arrays are at byte offsets the caller chooses (src/wasm/opticsKernel.ts lays them out); counts of pixels
+// need not be multiples of four (the lanes past the end are computed and neither stored as read nor counted).
+
+/** Lane index offsets 0, 1, 2, 3. */
+// @ts-ignore: decorator
+@inline
+function laneIndex(): v128 {
+  return i32x4(0, 1, 2, 3);
+}
+
+/** Lanes t..t+3 that are below n (all bits set), as a mask. */
+// @ts-ignore: decorator
+@inline
+function validLanes(t: i32, n: i32): v128 {
+  return i32x4.lt_s(i32x4.add(i32x4.splat(t), laneIndex()), i32x4.splat(n));
+}
+
+/**
+ * The 65536-entry decode table's values (sRGB to linear, fourAngle.ts's decodeTable) of four stored values: entry
+ * round(65535 clamp(v, 0, 1)); NaN where v is NaN.
+ */
+// @ts-ignore: decorator
+@inline
+function decode4(table: usize, v: v128): v128 {
+  const c = f32x4.min(f32x4.max(v, f32x4.splat(0)), f32x4.splat(1));
+  const k = i32x4.trunc_sat_f32x4_s(f32x4.add(f32x4.mul(c, f32x4.splat(65535)), f32x4.splat(0.5)));
+  let out = f32x4.splat(load<f32>(table + (<usize>i32x4.extract_lane(k, 0) << 2)));
+  out = f32x4.replace_lane(out, 1, load<f32>(table + (<usize>i32x4.extract_lane(k, 1) << 2)));
+  out = f32x4.replace_lane(out, 2, load<f32>(table + (<usize>i32x4.extract_lane(k, 2) << 2)));
+  out = f32x4.replace_lane(out, 3, load<f32>(table + (<usize>i32x4.extract_lane(k, 3) << 2)));
+  return v128.bitselect(out, v, f32x4.eq(v, v));
+}
+
+/** Sets clip[t + lane] = 1 for the lanes of `over` that are set; 1 when any is, else 0. */
+// @ts-ignore: decorator
+@inline
+function markClipped(clip: usize, t: i32, over: v128): i32 {
+  if (!clip || !v128.any_true(over)) return 0;
+  const at = clip + <usize>t;
+  if (i32x4.extract_lane(over, 0)) store<u8>(at, 1);
+  if (i32x4.extract_lane(over, 1)) store<u8>(at, 1, 1);
+  if (i32x4.extract_lane(over, 2)) store<u8>(at, 1, 2);
+  if (i32x4.extract_lane(over, 3)) store<u8>(at, 1, 3);
+  return 1;
+}
+
+/**
+ * Linear intensity of n pixels of an RGB image (planes r, g, b) into out: Rec. 709 luminance
+ * 0.2126 R + 0.7152 G + 0.0722 B of the linear values (ITU-R BT.709), with table != 0 decoded from sRGB through the
+ * 65536-entry table. Pixels with a plane at or above `full` (FULL_SCALE_LEVEL of src/optics/pixels.ts) get
+ * clip[t] = 1 (clip != 0). Returns how many groups of four pixels held a clipped one (0: none did).
+ */
+export function intensityRgb(r: usize, g: usize, b: usize, n: i32, full: f32, table: usize, out: usize, clip: usize): i32 {
+  let marked = 0;
+  const wr = f32x4.splat(0.2126), wg = f32x4.splat(0.7152), wb = f32x4.splat(0.0722), F = f32x4.splat(full);
+  for (let t = 0; t < n; t += 4) {
+    const o = <usize>t << 2;
+    let vr = v128.load(r + o), vg = v128.load(g + o), vb = v128.load(b + o);
+    marked += markClipped(clip, t, v128.and(v128.or(v128.or(f32x4.ge(vr, F), f32x4.ge(vg, F)), f32x4.ge(vb, F)), validLanes(t, n)));
+    if (table) { vr = decode4(table, vr); vg = decode4(table, vg); vb = decode4(table, vb); }
+    v128.store(out + o, f32x4.add(f32x4.add(f32x4.mul(wr, vr), f32x4.mul(wg, vg)), f32x4.mul(wb, vb)));
+  }
+  return marked;
+}
+
+/** intensityRgb for a grey image: the plane's value, decoded through the table when sRGB (table != 0); p may be out. */
+export function intensityGrey(p: usize, n: i32, full: f32, table: usize, out: usize, clip: usize): i32 {
+  const F = f32x4.splat(full);
+  let marked = 0;
+  for (let t = 0; t < n; t += 4) {
+    const o = <usize>t << 2, v = v128.load(p + o);
+    marked += markClipped(clip, t, v128.and(f32x4.ge(v, F), validLanes(t, n)));
+    v128.store(out + o, table ? decode4(table, v) : v);
+  }
+  return marked;
+}
+
+/**
+ * atan2(y, x) of four lanes in float32: the octant reduction to t = min / max of |x|, |y|
+ * in [0, 1], t > tan(pi/8) mapped to (t - 1) / (t + 1) (plus pi/4), and Cephes' atanf polynomial there (S. L.
+ * Moshier, Cephes Math Library, atanf.c: relative error about 2e-7), then the octant undone.
+ */
+// @ts-ignore: decorator
+@inline
+function atan2x4(y: v128, x: v128): v128 {
+  const ax = f32x4.abs(x), ay = f32x4.abs(y);
+  const swap = f32x4.gt(ay, ax);
+  const most = f32x4.max(ax, ay);
+  // Both zero: t = 0, so that the result is +-0 or +-pi by the signs of the zeros, as atan2's.
+  const t = v128.andnot(f32x4.div(f32x4.min(ax, ay), most), f32x4.eq(most, f32x4.splat(0)));
+  const big = f32x4.gt(t, f32x4.splat(0.4142135623730950));
+  const u = v128.bitselect(f32x4.div(f32x4.sub(t, f32x4.splat(1)), f32x4.add(t, f32x4.splat(1))), t, big);
+  const z = f32x4.mul(u, u);
+  let p = f32x4.sub(f32x4.mul(f32x4.splat(8.05374449538e-2), z), f32x4.splat(1.38776856032e-1));
+  p = f32x4.add(f32x4.mul(p, z), f32x4.splat(1.99777106478e-1));
+  p = f32x4.sub(f32x4.mul(p, z), f32x4.splat(3.33329491539e-1));
+  let a = f32x4.add(f32x4.mul(f32x4.mul(p, z), u), u);
+  a = f32x4.add(a, v128.and(big, f32x4.splat(<f32>(Math.PI / 4))));
+  a = v128.bitselect(f32x4.sub(f32x4.splat(<f32>(Math.PI / 2)), a), a, swap);
+  a = v128.bitselect(f32x4.sub(f32x4.splat(<f32>Math.PI), a), a, i32x4.lt_s(x, i32x4.splat(0)));
+  // The sign of y (negative zero included), as atan2's.
+  return v128.or(a, v128.and(y, f32x4.splat(-0.0)));
+}
+
+/**
+ * The angle series' per-pixel fit for four images (docs/methods.md §6.1): n pixels whose intensities are in
+ * i0..i3, dark values in dark and flat-field values in flat (0: none; flatMean their mean), clipped pixels marked
+ * in clip. c holds 20 float32s: the fit's pseudo-inverse rows P0, P1, P2 (4 each), then cos 4 alpha and sin 4 alpha
+ * of the four angles. With x_k = (I_k - dark) flatMean / (flat - dark): a = P x gives
+ * I(alpha) = a0 + a4c cos 4 alpha + a4s sin 4 alpha; theta = 1/4 atan2(-a4s, -a4c) in [0, 90) deg, amplitude
+ * 2 sqrt(a4c^2 + a4s^2), residual the root of the summed squared residuals over 4 - 3 degrees of freedom, background
+ * a0 - amplitude / 2 (bg != 0), confidence amplitude / (amplitude + 3 residual + 1e-12); cos 2 theta and sin 2 theta
+ * from (cos 4 theta, sin 4 theta) = -(a4c, a4s) / (amplitude / 2) by the half-angle formulas. Pixels not read keep 0
+ * everywhere but cos2 (1). sums (2 float64s) gain confidence x cos 4 theta and x sin 4 theta over the pixels read;
+ * counts (4 int32s) gain the clipped pixels, those with a dark flat field (flat - dark <= 1e-6), those with a value
+ * that is not finite, and those with zero amplitude (read, with cos2 NaN: the caller makes cos 2 theta and
+ * sin 2 theta of the angle).
+ */
+export function fitFour(i0: usize, i1: usize, i2: usize, i3: usize, dark: usize, flat: usize, flatMean: f32, clip: usize, n: i32, c: usize,
+  angle: usize, amplitude: usize, residual: usize, bg: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize, sums: usize, counts: usize): void {
+  const p00 = v128.load32_splat(c), p01 = v128.load32_splat(c, 4), p02 = v128.load32_splat(c, 8), p03 = v128.load32_splat(c, 12);
+  const p10 = v128.load32_splat(c, 16), p11 = v128.load32_splat(c, 20), p12 = v128.load32_splat(c, 24), p13 = v128.load32_splat(c, 28);
+  const p20 = v128.load32_splat(c, 32), p21 = v128.load32_splat(c, 36), p22 = v128.load32_splat(c, 40), p23 = v128.load32_splat(c, 44);
+  const c0 = v128.load32_splat(c, 48), c1 = v128.load32_splat(c, 52), c2 = v128.load32_splat(c, 56), c3 = v128.load32_splat(c, 60);
+  const s0 = v128.load32_splat(c, 64), s1 = v128.load32_splat(c, 68), s2 = v128.load32_splat(c, 72), s3 = v128.load32_splat(c, 76);
+  const zero = f32x4.splat(0), one = f32x4.splat(1), half = f32x4.splat(0.5), halfPi = f32x4.splat(<f32>(Math.PI / 2)), fm = f32x4.splat(flatMean);
+  let sumC0 = f64x2.splat(0), sumC1 = sumC0, sumS0 = sumC0, sumS1 = sumC0;
+  let nClipped = i32x4.splat(0), nFlatBad = nClipped, nNonFinite = nClipped, nZero = nClipped;
+  for (let t = 0; t < n; t += 4) {
+    const o = <usize>t << 2;
+    const valid = validLanes(t, n);
+    // Clipped: any of the four bytes at clip + t set (as four lanes).
+    const cb = i32x4.extend_low_i16x8_u(i16x8.extend_low_i8x16_u(v128.load32_zero(clip + <usize>t)));
+    const clipped = v128.and(i32x4.ne(cb, i32x4.splat(0)), valid);
+    let open = v128.andnot(valid, clipped);
+    const d = dark ? v128.load(dark + o) : zero;
+    let f = one;
+    if (flat) {
+      const fv = f32x4.sub(v128.load(flat + o), d);
+      const bad = v128.andnot(open, f32x4.gt(fv, f32x4.splat(1e-6)));
+      nFlatBad = i32x4.sub(nFlatBad, bad);
+      open = v128.andnot(open, bad);
+      f = f32x4.div(fm, fv);
+    }
+    const x0 = f32x4.mul(f32x4.sub(v128.load(i0 + o), d), f), x1 = f32x4.mul(f32x4.sub(v128.load(i1 + o), d), f);
+    const x2 = f32x4.mul(f32x4.sub(v128.load(i2 + o), d), f), x3 = f32x4.mul(f32x4.sub(v128.load(i3 + o), d), f);
+    const a0 = f32x4.add(f32x4.add(f32x4.add(f32x4.mul(p00, x0), f32x4.mul(p01, x1)), f32x4.mul(p02, x2)), f32x4.mul(p03, x3));
+    const a4c = f32x4.add(f32x4.add(f32x4.add(f32x4.mul(p10, x0), f32x4.mul(p11, x1)), f32x4.mul(p12, x2)), f32x4.mul(p13, x3));
+    const a4s = f32x4.add(f32x4.add(f32x4.add(f32x4.mul(p20, x0), f32x4.mul(p21, x1)), f32x4.mul(p22, x2)), f32x4.mul(p23, x3));
+    const all = f32x4.add(f32x4.add(a0, a4c), a4s);
+    const nonFinite = v128.andnot(open, f32x4.eq(f32x4.sub(all, all), zero));
+    nNonFinite = i32x4.sub(nNonFinite, nonFinite);
+    const read = v128.andnot(open, nonFinite);
+    const r0 = f32x4.sub(x0, f32x4.add(f32x4.add(a0, f32x4.mul(a4c, c0)), f32x4.mul(a4s, s0)));
+    const r1 = f32x4.sub(x1, f32x4.add(f32x4.add(a0, f32x4.mul(a4c, c1)), f32x4.mul(a4s, s1)));
+    const r2 = f32x4.sub(x2, f32x4.add(f32x4.add(a0, f32x4.mul(a4c, c2)), f32x4.mul(a4s, s2)));
+    const r3 = f32x4.sub(x3, f32x4.add(f32x4.add(a0, f32x4.mul(a4c, c3)), f32x4.mul(a4s, s3)));
+    const ss = f32x4.add(f32x4.add(f32x4.add(f32x4.mul(r0, r0), f32x4.mul(r1, r1)), f32x4.mul(r2, r2)), f32x4.mul(r3, r3));
+    const h = f32x4.sqrt(f32x4.add(f32x4.mul(a4c, a4c), f32x4.mul(a4s, a4s)));
+    const amp = f32x4.add(h, h), res = f32x4.sqrt(ss);
+    const zeroAmp = v128.and(read, f32x4.eq(h, zero));
+    nZero = i32x4.sub(nZero, zeroAmp);
+    const na4c = f32x4.neg(a4c), na4s = f32x4.neg(a4s);
+    let th = f32x4.mul(f32x4.splat(0.25), atan2x4(na4s, na4c));
+    th = f32x4.add(th, v128.and(f32x4.lt(th, zero), halfPi));
+    // Rounded up to 90 deg, theta is taken as 0: 2 theta turns by 180 deg (below).
+    const turned = f32x4.ge(th, halfPi);
+    th = f32x4.sub(th, v128.and(turned, halfPi));
+    const w = f32x4.div(amp, f32x4.add(f32x4.add(amp, f32x4.mul(f32x4.splat(3), res)), f32x4.splat(1e-12)));
+    // (cos 4 theta, sin 4 theta) = -(a4c, a4s) / h; cos 2 theta and sin 2 theta by the half-angle formulas, each from
+    // the square root whose argument is the larger (2 theta in [0, 180) deg: sin 2 theta >= 0, cos 2 theta the sign
+    // of sin 4 theta = 2 sin 2 theta cos 2 theta), turned by 180 deg where theta was.
+    const c4 = f32x4.div(na4c, h), s4 = f32x4.div(na4s, h);
+    const pos = f32x4.ge(c4, zero);
+    const q = f32x4.sqrt(f32x4.add(half, f32x4.mul(half, v128.bitselect(c4, f32x4.neg(c4), pos))));
+    const other = f32x4.div(v128.bitselect(f32x4.abs(s4), s4, pos), f32x4.add(q, q));
+    let cosT = v128.bitselect(v128.bitselect(f32x4.neg(q), q, f32x4.lt(s4, zero)), other, pos);
+    let sinT = v128.bitselect(other, q, pos);
+    const flip = v128.and(turned, f32x4.splat(-0.0));
+    cosT = v128.xor(cosT, flip); sinT = v128.xor(sinT, flip);
+    cosT = v128.bitselect(f32x4.splat(NaN), cosT, zeroAmp);
+    v128.store(angle + o, v128.and(th, read));
+    v128.store(amplitude + o, v128.and(amp, read));
+    v128.store(residual + o, v128.and(res, read));
+    if (bg) v128.store(bg + o, v128.and(f32x4.sub(a0, f32x4.mul(amp, half)), read));
+    v128.store(confidence + o, v128.and(w, read));
+    v128.store(cos2 + o, v128.bitselect(cosT, one, read));
+    v128.store(sin2 + o, v128.and(sinT, read));
+    // The mask's four bytes: 1 where read.
+    const m8 = i8x16.narrow_i16x8_u(i16x8.narrow_i32x4_u(v128.and(read, i32x4.splat(1)), zero), zero);
+    store<i32>(mask + <usize>t, i32x4.extract_lane(m8, 0));
+    nClipped = i32x4.sub(nClipped, clipped);
+    // Sums over the pixels read with a non-zero amplitude, in float64.
+    const use = v128.andnot(read, zeroAmp);
+    const wc = v128.and(f32x4.mul(w, c4), use), ws = v128.and(f32x4.mul(w, s4), use);
+    sumC0 = f64x2.add(sumC0, f64x2.promote_low_f32x4(wc)); sumC1 = f64x2.add(sumC1, f64x2.promote_low_f32x4(i32x4.shuffle(wc, wc, 2, 3, 0, 1)));
+    sumS0 = f64x2.add(sumS0, f64x2.promote_low_f32x4(ws)); sumS1 = f64x2.add(sumS1, f64x2.promote_low_f32x4(i32x4.shuffle(ws, ws, 2, 3, 0, 1)));
+  }
+  const sc = f64x2.add(sumC0, sumC1), sn = f64x2.add(sumS0, sumS1);
+  store<f64>(sums, load<f64>(sums) + f64x2.extract_lane(sc, 0) + f64x2.extract_lane(sc, 1));
+  store<f64>(sums, load<f64>(sums, 8) + f64x2.extract_lane(sn, 0) + f64x2.extract_lane(sn, 1), 8);
+  const lanes = (v: v128): i32 => i32x4.extract_lane(v, 0) + i32x4.extract_lane(v, 1) + i32x4.extract_lane(v, 2) + i32x4.extract_lane(v, 3);
+  store<i32>(counts, load<i32>(counts) + lanes(nClipped)); store<i32>(counts, load<i32>(counts, 4) + lanes(nFlatBad), 4);
+  store<i32>(counts, load<i32>(counts, 8) + lanes(nNonFinite), 8); store<i32>(counts, load<i32>(counts, 12) + lanes(nZero), 12);
+}

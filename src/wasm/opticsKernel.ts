@@ -1,0 +1,80 @@
+import { InputError } from '../common/index.ts';
+import { OPTICS_KERNEL_WASM } from './opticsKernel.wasm.ts';
+
+/** The optical readings' kernel exports (src/wasm/opticsKernel.as.ts; pointers are byte offsets, counts in elements). */
+export interface OpticsKernelExports {
+  memory: WebAssembly.Memory;
+  intensityRgb(r: number, g: number, b: number, n: number, full: number, table: number, out: number, clip: number): number;
+  intensityGrey(p: number, n: number, full: number, table: number, out: number, clip: number): number;
+  fitFour(i0: number, i1: number, i2: number, i3: number, dark: number, flat: number, flatMean: number, clip: number, n: number, c: number,
+    angle: number, amplitude: number, residual: number, bg: number, confidence: number, cos2: number, sin2: number, mask: number, sums: number, counts: number): void;
+}
+
+let instance: OpticsKernelExports | null = null;
+
+/** Where the sRGB decode table lives in the kernel's memory (written once per thread by decodeTableIn), and its size. */
+const DECODE_TABLE_AT = 65_536, DECODE_TABLE_ENTRIES = 65_536;
+let decodeTableWritten = false;
+
+/**
+ * The byte offset of the 65536-entry sRGB decode table in the kernel's memory, written there from `make()` the first
+ * time (OpticsLayout keeps its arrays after it).
+ */
+export function decodeTableIn(k: OpticsKernelExports, make: () => Float32Array): number {
+  if (!decodeTableWritten) {
+    new Float32Array(k.memory.buffer, DECODE_TABLE_AT, DECODE_TABLE_ENTRIES).set(make());
+    decodeTableWritten = true;
+  }
+  return DECODE_TABLE_AT;
+}
+
+/**
+ * The kernel, compiled on first use in this thread. Synchronously (the readers are synchronous functions): Node.js,
+ * the CLI and the app's Web Worker allow that for a module of any size (a browser's main thread only for small ones,
+ * and no reading runs there).
+ */
+export function opticsKernel(): OpticsKernelExports {
+  if (instance) return instance;
+  if (typeof WebAssembly !== 'object' || typeof WebAssembly.Module !== 'function') {
+    throw new InputError('this browser or Node.js has no WebAssembly', 'Use a current Chromium, Firefox, Safari or Node.js 20');
+  }
+  const bytes = Uint8Array.from(atob(OPTICS_KERNEL_WASM), (c) => c.charCodeAt(0));
+  const k = new WebAssembly.Instance(new WebAssembly.Module(bytes), {}).exports as unknown as OpticsKernelExports;
+  const need = DECODE_TABLE_AT + 4 * DECODE_TABLE_ENTRIES - k.memory.buffer.byteLength;
+  if (need > 0) k.memory.grow(Math.ceil(need / 65_536));
+  instance = k;
+  return k;
+}
+
+/**
+ * Arrays laid out one after another in the optics kernel's memory (after page 0, the module's own, and the decode
+ * table), each 16-byte aligned. Reserve everything, then `commit` (grows the memory), then take views: a view stays valid
+ * until the memory next grows, so a reading lays out all it needs before it starts.
+ */
+export class OpticsLayout {
+  private next = DECODE_TABLE_AT + 4 * DECODE_TABLE_ENTRIES;
+  constructor(readonly k: OpticsKernelExports) {}
+
+  /** Reserves `bytes` bytes and returns their byte offset. */
+  reserve(bytes: number): number {
+    const offset = this.next;
+    this.next += Math.ceil(bytes / 16) * 16;
+    return offset;
+  }
+
+  /** Grows the memory to hold everything reserved. */
+  commit(): void {
+    const need = this.next - this.k.memory.buffer.byteLength;
+    if (need <= 0) return;
+    try {
+      this.k.memory.grow(Math.ceil(need / 65_536));
+    } catch {
+      throw new InputError(`the optical reading needs ${(this.next / 2 ** 20).toFixed(0)} MiB of working memory and it could not grow`, 'Close other programs or tabs, or read a smaller image');
+    }
+  }
+
+  f32(offset: number, count: number): Float32Array { return new Float32Array(this.k.memory.buffer, offset, count); }
+  f64(offset: number, count: number): Float64Array { return new Float64Array(this.k.memory.buffer, offset, count); }
+  i32(offset: number, count: number): Int32Array { return new Int32Array(this.k.memory.buffer, offset, count); }
+  u8(offset: number, count: number): Uint8Array { return new Uint8Array(this.k.memory.buffer, offset, count); }
+}

@@ -1,0 +1,119 @@
+import { describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
+import { opticsKernel, OpticsLayout } from '../../src/wasm/index.ts';
+
+const DEG = Math.PI / 180;
+const ANGLES_DEG = [0, 22.5, 45, 67.5];
+
+/**
+ * The fit's pseudo-inverse for the angles 0, 22.5, 45 and 67.5 deg, written out: the design columns 1, cos 4a = (1, 0, -1, 0)
+ * and sin 4a = (0, 1, 0, -1) are orthogonal, so a0 = mean, a4c = (I0 - I2) / 2, a4s = (I1 - I3) / 2 (least squares
+ * by hand), and the fourth direction (1, -1, 1, -1) / 2 is the residual's.
+ */
+const P = [[0.25, 0.25, 0.25, 0.25], [0.5, 0, -0.5, 0], [0, 0.5, 0, -0.5]];
+const COS4 = ANGLES_DEG.map((a) => Math.cos(4 * a * DEG)), SIN4 = ANGLES_DEG.map((a) => Math.sin(4 * a * DEG));
+
+/** Runs fitFour on per-pixel intensities (four per pixel), optional clip flags and flat/dark values. */
+function fit(pixels: number[][], o: { clip?: number[]; flat?: number[]; dark?: number[]; flatMean?: number } = {}) {
+  const k = opticsKernel(), mem = new OpticsLayout(k), n = pixels.length, B = Math.ceil(n / 4) * 4 + 4;
+  const I = [0, 1, 2, 3].map(() => mem.reserve(4 * B)), clipAt = mem.reserve(B), darkAt = o.dark ? mem.reserve(4 * B) : 0, flatAt = o.flat ? mem.reserve(4 * B) : 0;
+  const outs = [0, 1, 2, 3, 4, 5, 6].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B), c = mem.reserve(80), sums = mem.reserve(16), counts = mem.reserve(16);
+  mem.commit();
+  // Values past the end that would be read if the tail were not excluded: a clipped flag and NaNs.
+  I.forEach((at, j) => { const v = mem.f32(at, B); v.fill(NaN); pixels.forEach((p, t) => { v[t] = p[j]; }); });
+  const clip = mem.u8(clipAt, B); clip.fill(1); clip.fill(0, 0, n); (o.clip ?? []).forEach((v, t) => { clip[t] = v; });
+  if (o.dark) mem.f32(darkAt, B).set(o.dark);
+  if (o.flat) mem.f32(flatAt, B).set(o.flat);
+  mem.f32(c, 20).set([...P[0], ...P[1], ...P[2], ...COS4, ...SIN4]);
+  mem.f64(sums, 2).fill(0); mem.i32(counts, 4).fill(0);
+  k.fitFour(I[0], I[1], I[2], I[3], darkAt, flatAt, o.flatMean ?? 1, clipAt, n, c, outs[0], outs[1], outs[2], 0, outs[4], outs[5], outs[6], maskAt, sums, counts);
+  const [angle, amplitude, residual, , confidence, cos2, sin2] = outs.map((at) => Array.from(mem.f32(at, n)));
+  return { angle, amplitude, residual, confidence, cos2, sin2, mask: Array.from(mem.u8(maskAt, n)), sums: Array.from(mem.f64(sums, 2)), counts: Array.from(mem.i32(counts, 4)) };
+}
+
+/** I(alpha) = b + A sin^2 2(theta - alpha) (crossed polars, docs/methods.md §6.1), plus e (1, -1, 1, -1). */
+const series = (thetaDeg: number, A: number, b: number, e = 0) => ANGLES_DEG.map((a, k) => b + A * Math.sin(2 * (thetaDeg - a) * DEG) ** 2 + (k % 2 ? -e : e));
+
+const axialDiffDeg = (a: number, b: number) => { const d = Math.abs(a - b) % 180; return Math.min(d, 180 - d); };
+
+describe('the optics kernel: the angle series fit (fitFour)', () => {
+  it('gives the constructed angle, amplitude and residual, and cos 2 theta, sin 2 theta, over every angle', () => {
+    // Angles over [0, 90) deg in 0.37-deg steps (every octant of atan2, and 0 itself), amplitude 0.4, background 0.1,
+    // and a residual component e: the least-squares residual is |e| (1, -1, 1, -1) with 4 - 3 = 1 degree of freedom,
+    // sqrt(4 e^2 / 1) = 2 |e| (closed form).
+    const thetas = Array.from({ length: 244 }, (_, i) => i * 0.37), e = 0.01;
+    const r = fit(thetas.map((t) => series(t, 0.4, 0.1, e)));
+    thetas.forEach((t, i) => {
+      // float32 arithmetic: angles within 1e-4 deg (a float32 unit near 1.5 rad is 7e-6 deg).
+      expect(axialDiffDeg(r.angle[i] / DEG, t) % 90, `theta ${t}`).toBeLessThan(1e-4);
+      expect(r.angle[i]).toBeGreaterThanOrEqual(0);
+      expect(r.angle[i]).toBeLessThan(Math.PI / 2);
+      expect(r.amplitude[i]).toBeCloseTo(0.4, 6);
+      expect(r.residual[i]).toBeCloseTo(2 * e, 6);
+      // Confidence A / (A + 3 residual + 1e-12).
+      expect(r.confidence[i]).toBeCloseTo(0.4 / (0.4 + 6 * e), 6);
+      // cos 2 theta and sin 2 theta of the angle the kernel gives (theta and theta + 90 deg differ in their sign).
+      expect(r.cos2[i]).toBeCloseTo(Math.cos(2 * r.angle[i]), 6);
+      expect(r.sin2[i]).toBeCloseTo(Math.sin(2 * r.angle[i]), 6);
+      expect(r.mask[i]).toBe(1);
+    });
+    // Confidence-weighted sums of cos 4 theta and sin 4 theta, against the constructed angles.
+    const w = 0.4 / (0.4 + 6 * e);
+    expect(r.sums[0]).toBeCloseTo(thetas.reduce((s, t) => s + w * Math.cos(4 * t * DEG), 0), 4);
+    expect(r.sums[1]).toBeCloseTo(thetas.reduce((s, t) => s + w * Math.sin(4 * t * DEG), 0), 4);
+    expect(r.counts).toEqual([0, 0, 0, 0]);
+  });
+
+  it('does not read clipped pixels, dark flat fields or values that are not finite, and counts each; the lanes past n are not counted', () => {
+    const good = series(30, 0.3, 0.05);
+    const pixels = [good, good, [NaN, 0.1, 0.1, 0.1], good, good, [0.2, 0.2, 0.2, 0.2]];
+    const r = fit(pixels, { clip: [0, 1, 0, 0, 0, 0], flat: [1, 1, 1, 1e-7, 1, 1], dark: [0, 0, 0, 0, 0, 0], flatMean: 1 });
+    expect(r.mask).toEqual([1, 0, 0, 0, 1, 1]);
+    // Clipped 1 (pixel 1), dark flat 1 (pixel 3), not finite 1 (pixel 2), zero amplitude 1 (pixel 5: equal intensities).
+    expect(r.counts).toEqual([1, 1, 1, 1]);
+    // Pixels not read: 0 everywhere but cos 2 theta (1); zero amplitude: cos2 NaN for the caller to make.
+    for (const i of [1, 2, 3]) expect([r.angle[i], r.amplitude[i], r.confidence[i], r.cos2[i], r.sin2[i]]).toEqual([0, 0, 0, 1, 0]);
+    expect(r.cos2[5]).toBeNaN();
+    expect(r.amplitude[5]).toBe(0);
+    expect(axialDiffDeg(r.angle[0] / DEG, 30)).toBeLessThan(1e-4);
+  });
+
+  it('divides by the flat field and scales by its mean after subtracting the dark value', () => {
+    // x = (I - dark) flatMean / (flat - dark): the amplitude scales by flatMean / (flat - dark) = 0.8 / 0.4 = 2.
+    const dark = 0.02, flat = 0.42, I = series(50, 0.2, 0.1).map((v) => v * 0.5 + dark);
+    const r = fit([I], { dark: [dark], flat: [flat], flatMean: 0.8 });
+    expect(r.amplitude[0]).toBeCloseTo(0.2, 6);
+    expect(axialDiffDeg(r.angle[0] / DEG, 50)).toBeLessThan(1e-4);
+  });
+});
+
+describe('the optics kernel: linear intensity', () => {
+  /** IEC 61966-2-1 sRGB decoding (closed form). */
+  const srgbDecode = (v: number) => (v <= 0.04045 ? v / 12.92 : ((v + 0.055) / 1.055) ** 2.4);
+
+  it('is the Rec. 709 luminance of the decoded sRGB values, marks planes at full scale, and keeps NaN', () => {
+    const k = opticsKernel(), mem = new OpticsLayout(k), n = 7;
+    const r = mem.reserve(64), g = mem.reserve(64), b = mem.reserve(64), out = mem.reserve(64), clip = mem.reserve(16), table = mem.reserve(4 * 65536);
+    mem.commit();
+    mem.f32(table, 65536).set(Float32Array.from({ length: 65536 }, (_, i) => srgbDecode(i / 65535)));
+    const R = [0, 0.2, 0.5, 1, 0.999, NaN, 0.7], G = [0, 0.4, 0.5, 0.3, 0.1, 0.2, 0.7], B = [0, 0.6, 0.5, 0.3, 0.1, 0.2, -0.1];
+    mem.f32(r, n).set(R); mem.f32(g, n).set(G); mem.f32(b, n).set(B); mem.u8(clip, 16).fill(0);
+    expect(k.intensityRgb(r, g, b, n, 0.999, table, out, clip)).toBeGreaterThan(0);
+    const lum = mem.f32(out, n);
+    for (let t = 0; t < n; t++) {
+      // ITU-R BT.709 weights; values clamped to [0, 1] before decoding (the table's ends).
+      const want = 0.2126 * srgbDecode(Math.min(1, Math.max(0, R[t]))) + 0.7152 * srgbDecode(Math.min(1, Math.max(0, G[t]))) + 0.0722 * srgbDecode(Math.min(1, Math.max(0, B[t])));
+      if (Number.isNaN(R[t])) expect(lum[t]).toBeNaN();
+      else expect(Math.abs(lum[t] - want), `pixel ${t}`).toBeLessThan(2e-5); // the table's step near 1: 2.4 / 65535 / 2
+    }
+    expect(Array.from(mem.u8(clip, 8))).toEqual([0, 0, 0, 1, 1, 0, 0, 0]);
+  });
+});
+
+describe('the committed optics kernel binary', () => {
+  it('is what the AssemblyScript source compiles to (run npm run wasm after editing it)', async () => {
+    const build = await import('../../bin/build-wasm.ts');
+    const text = build.moduleText(await build.compileKernel('optics'), 'optics');
+    expect(text === readFileSync(new URL('../../src/wasm/opticsKernel.wasm.ts', import.meta.url), 'utf8')).toBe(true);
+  }, 60_000);
+});
