@@ -59,6 +59,20 @@ const LINE_SHARE = 0.3;
 const MAX_RESIDUAL_PX = 0.3;
 /** ... and at least this share of the strips that cross the wall must place a point on it (a wall runs the whole way). */
 const MIN_KEPT_SHARE = 0.2;
+/**
+ * A brightness step found more than this far beyond the end of the material's texture is the outer side of a
+ * line along the wall, not the material's edge, px. On our renderings (validation area 'channel') the
+ * texture's end (textureEnd) lies -0.6..+0.8 px from the true inner edge and a band's brightness step within
+ * 0.45 px of it, while the outer side of a line 1-4 px wide is placed 1.4-4.3 px beyond it.
+ */
+const TEXTURE_END_GAP_PX = 0.5;
+/**
+ * The material's texture (its variance about the wall's mean profile) must be at least this many times the
+ * variance just outside the wall for textureEnd to place anything: on our renderings 23-170 for grey
+ * textures and 13-1200 for compensator colours (the least against a dark band of the sample-free colour,
+ * whose camera noise in three channels is a large part of it).
+ */
+const TEXTURE_CONTRAST = 4;
 /** How far from the consensus line a strip may place the wall, px. */
 const NEAR_LINE_PX = 4;
 
@@ -116,6 +130,23 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
     return f.fit;
   });
   const sides = found as SideResult[];
+  // The material ends where its texture ends. A wall whose brightness step lies more than TEXTURE_END_GAP_PX
+  // beyond that is marked by a line (bright or dark) too thin or too faint for its inner side to be seen
+  // in the strips: the wall goes to the texture's end, along the line through the strips' strongest changes
+  // (the line's outer side, one sharp step in every strip) when it has one, else along the wall found.
+  for (const i of [0, 1]) {
+    const line = fits[i].line, other = fits[1 - i].line;
+    let nx = -line.uy, ny = line.ux;
+    if ((other.px - line.px) * nx + (other.py - line.py) * ny > 0) { nx = -nx; ny = -ny; }
+    const strong = sides[i].strongFit;
+    for (const f of [strong && strong.rms <= MAX_RESIDUAL_PX ? strong : null, fits[i]]) {
+      if (!f) continue;
+      const end = textureEnd(features.slice(0, intensities), f.line, nx, ny);
+      if (end === null || end >= -TEXTURE_END_GAP_PX) continue;
+      fits[i] = { ...f, line: { ...f.line, px: f.line.px + end * nx, py: f.line.py + end * ny } };
+      break;
+    }
+  }
   const segs = fits.map((f) => clipLine(f.line, width, height));
   if (!segs[0] || !segs[1]) throw new InputError('a found wall lies outside the image', 'Give the walls by hand');
   // The coarse lines were at least minSeparation apart; walls that close in to much less than that have both
@@ -161,7 +192,17 @@ function wallsAlong(features: Plane[], intensities: number, phi: number, ox: num
     for (const side of [0, 1] as const) {
       if (found[side]) continue;
       const r = sideWall(strips, side === 0 ? -1 : 1, fr);
-      if (r && r.fit.rms <= MAX_RESIDUAL_PX && r.fit.kept >= MIN_KEPT_SHARE * r.strips) found[side] = r;
+      if (!r) continue;
+      const agrees = (f: FitLine | null): f is FitLine => f !== null && f.rms <= MAX_RESIDUAL_PX && f.kept >= MIN_KEPT_SHARE * r.strips;
+      if (agrees(r.fit)) found[side] = r;
+      else if (agrees(r.strongFit)) {
+        // Strips placing some points at a line's inner side and some at its outer side scatter; their
+        // strongest changes (the line's outer side) lie on one line. Kept only when the material's texture
+        // ends inside it, i.e. it is a line's outer side; findWalls then moves it to the texture's end.
+        const sg = side === 0 ? -1 : 1;
+        const end = textureEnd(features.slice(0, intensities), r.strongFit.line, sg * fr.nx, sg * fr.ny);
+        if (end !== null && end < -TEXTURE_END_GAP_PX) found[side] = { ...r, fit: r.strongFit };
+      }
     }
   }
   return found;
@@ -182,8 +223,12 @@ function cutStrips(features: Plane[], intensities: number, fr: Frame, aMin: numb
   return strips;
 }
 
+interface FitLine { line: Line; rms: number; kept: number }
+
 interface SideResult {
-  fit: { line: Line; rms: number; kept: number };
+  fit: FitLine;
+  /** The line through each strip's strongest change near the wall (a line's outer side where there is one). */
+  strongFit: FitLine | null;
   contrast: number[];
   strips: number;
   stripPx: number;
@@ -239,7 +284,8 @@ function sideWall(strips: Strip[], dir: -1 | 1, fr: Frame): SideResult | null {
     }
   }
   const fit = robustLine(pts);
-  return fit ? { fit, contrast, strips: crossed, stripPx: strips[0]?.length ?? 0 } : null;
+  const strongFit = robustLine(edges.map(({ along, edge }) => ({ x: fr.ox + along * fr.ux + edge.strong * fr.nx, y: fr.oy + along * fr.uy + edge.strong * fr.ny })));
+  return fit ? { fit, strongFit, contrast, strips: crossed, stripPx: strips[0]?.length ?? 0 } : null;
 }
 
 /** The largest two-sided step within NEAR_LINE_PX of `predicted`, sub-pixel by a parabola; null off the profile. */
@@ -573,7 +619,7 @@ function stepProfile(strip: Strip, dir: -1 | 1): StepProfile | null {
  * feature space (sub-pixel, parabola). Brightness alone sets the place when it carries the step, since
  * texture strength peaks on the edge itself rather than stepping at it. null when no step is clear enough.
  */
-function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number): { t: number; contrast: number; line: { t: number; clear: boolean } | null } | null {
+function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number): { t: number; contrast: number; line: { t: number; clear: boolean } | null; strong: number } | null {
   const { values, scale } = strip;
   const { rows, z } = p;
   const W = STEP_WINDOW_PX;
@@ -624,7 +670,92 @@ function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number)
     if (dot(D[d], D[bestD]) < 0 && isPeak(d) && (lineD < 0 || norm(D[d]) > norm(D[lineD]))) lineD = d;
   }
   const line = lineD < 0 ? null : { t: dir * subPixel(D, lineD), clear: norm(D[lineD]) >= Math.max(LINE_RATE_FRACTION * rMax, floor) };
-  return { t: dir * subPixel(D, bestD), contrast: z[pick], line };
+  // The strongest change near the line (a thin line's outer side, where there is one), for sideWall's strongFit.
+  let strongD = bestD;
+  for (let d = lo; d <= hi; d++) if (norm(D[d]) > norm(D[strongD]) && isPeak(d)) strongD = d;
+  return { t: dir * subPixel(D, bestD), contrast: z[pick], line, strong: dir * subPixel(D, strongD) };
+}
+
+/** Offsets across a wall over which textureEnd looks, px (outward positive), and its bin widths. */
+const TEXTURE_END_FROM_PX = -16, TEXTURE_END_TO_PX = 4, PROFILE_BIN_PX = 0.1, VARIANCE_BIN_PX = 0.5;
+
+/**
+ * Where the material's texture ends across a wall: the offset t (px along the outward normal (nx, ny) from
+ * `line`) at which the texture's amplitude has fallen to half of the interior's.
+ *
+ * Every pixel within the wall's visible length and -16 <= t <= 4 is binned by its distance t from the line.
+ * The mean profile across the wall, P(t) (bins of 0.1 px, linearly interpolated), is what the wall itself
+ * looks like: for a straight wall, a pixel's value is a function of its distance alone, whatever the wall's
+ * bands or lines and however the pixel grid cuts them. What is left, V(t) = mean over the pixels in a
+ * 0.5 px bin of sum over brightness features of (I - P(t_pixel))^2, is the texture's variance (and the
+ * camera's noise). V_in is its median at t <= -6, V_out its least value at t >= -2, the amplitude
+ * sqrt(V - V_out); walking in from the outside, the first crossing of half of sqrt(V_in - V_out), linearly
+ * interpolated. For texture much finer across than the blur, the amplitude falls as the blurred share of
+ * material, Phi(-t / sigma), which is half at the edge itself (derived). On our renderings this lies within
+ * -0.3..+0.5 px of the inner edge for grey textures and -0.6..+0.8 px for compensator colours.
+ * null when V_in is not TEXTURE_CONTRAST times V_out (no texture to see, or as much on both sides).
+ */
+function textureEnd(planes: Plane[], line: Line, nx: number, ny: number): number | null {
+  const { width: w, height: h } = planes[0];
+  const seg = clipLine(line, w, h);
+  if (!seg) return null;
+  const len = Math.hypot(seg.x2 - seg.x1, seg.y2 - seg.y1);
+  const ux = (seg.x2 - seg.x1) / len, uy = (seg.y2 - seg.y1) / len;
+  const T0 = TEXTURE_END_FROM_PX, T1 = TEXTURE_END_TO_PX, F = planes.length;
+  const nFine = Math.round((T1 - T0) / PROFILE_BIN_PX) + 1, nBins = Math.round((T1 - T0) / VARIANCE_BIN_PX) + 1;
+  const xs = [seg.x1 + T0 * nx, seg.x1 + T1 * nx, seg.x2 + T0 * nx, seg.x2 + T1 * nx];
+  const ys = [seg.y1 + T0 * ny, seg.y1 + T1 * ny, seg.y2 + T0 * ny, seg.y2 + T1 * ny];
+  const x0 = Math.max(0, Math.floor(Math.min(...xs))), x1 = Math.min(w - 1, Math.ceil(Math.max(...xs)));
+  const y0 = Math.max(0, Math.floor(Math.min(...ys))), y1 = Math.min(h - 1, Math.ceil(Math.max(...ys)));
+  /** Calls fn for every pixel near the wall's visible length, with its distance t from the line. */
+  const eachPixel = (fn: (i: number, t: number) => void) => {
+    for (let y = y0; y <= y1; y++) {
+      for (let x = x0; x <= x1; x++) {
+        const dx = x - seg.x1, dy = y - seg.y1, a = dx * ux + dy * uy, t = dx * nx + dy * ny;
+        if (a >= 2 && a <= len - 2 && t >= T0 && t <= T1) fn(y * w + x, t);
+      }
+    }
+  };
+  const sums = new Float64Array(nFine * F), counts = new Float64Array(nFine);
+  eachPixel((i, t) => {
+    const k = Math.round((t - T0) / PROFILE_BIN_PX);
+    counts[k]++;
+    for (let f = 0; f < F; f++) sums[k * F + f] += planes[f].data[i];
+  });
+  // The mean profile; bins no pixel fell in (a wall along the pixel grid) interpolated from their neighbours.
+  const filled: number[] = [];
+  for (let k = 0; k < nFine; k++) if (counts[k] > 0) filled.push(k);
+  if (filled.length < 2) return null;
+  const profile = new Float64Array(nFine * F);
+  for (let k = 0, j = 0; k < nFine; k++) {
+    while (j + 1 < filled.length && filled[j + 1] <= k) j++;
+    const lo = filled[j] <= k ? filled[j] : filled[0], hi = filled[Math.min(j + 1, filled.length - 1)];
+    const r = hi > lo && k > lo ? Math.min(1, (k - lo) / (hi - lo)) : 0;
+    for (let f = 0; f < F; f++) profile[k * F + f] = (sums[lo * F + f] / counts[lo]) * (1 - r) + (sums[hi * F + f] / counts[hi]) * r;
+  }
+  const vSum = new Float64Array(nBins), vCount = new Float64Array(nBins);
+  eachPixel((i, t) => {
+    const u = (t - T0) / PROFILE_BIN_PX, k = Math.min(nFine - 2, Math.floor(u)), r = u - k;
+    let s2 = 0;
+    for (let f = 0; f < F; f++) s2 += (planes[f].data[i] - profile[k * F + f] * (1 - r) - profile[(k + 1) * F + f] * r) ** 2;
+    const b = Math.round((t - T0) / VARIANCE_BIN_PX);
+    vSum[b] += s2;
+    vCount[b]++;
+  });
+  const ts: number[] = [], V: number[] = [];
+  for (let b = 0; b < nBins; b++) { ts.push(T0 + b * VARIANCE_BIN_PX); V.push(vCount[b] >= 16 ? vSum[b] / vCount[b] : NaN); }
+  const vIn = median(V.filter((_, j) => ts[j] <= -6));
+  const near = V.filter((v, j) => ts[j] >= -2 && Number.isFinite(v));
+  if (near.length < 3 || !Number.isFinite(vIn)) return null;
+  const vOut = Math.min(...near);
+  if (!(vIn > TEXTURE_CONTRAST * vOut)) return null;
+  const half = 0.5 * Math.sqrt(vIn - vOut);
+  const amp = V.map((v) => Math.sqrt(Math.max(0, v - vOut)));
+  for (let j = ts.length - 1; j > 0; j--) {
+    if (!(amp[j] < half)) continue;
+    if (amp[j - 1] >= half) return ts[j - 1] + ((ts[j] - ts[j - 1]) * (amp[j - 1] - half)) / (amp[j - 1] - amp[j]);
+  }
+  return null;
 }
 
 /** Sub-pixel place of a peak of change at row d: a parabola through the change along its own direction at d - 1, d, d + 1. */
