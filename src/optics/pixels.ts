@@ -41,6 +41,17 @@ export const FULL_SCALE_LEVEL = 0.999;
 /** Linear value -> encoded level table of linear images (4096 entries), per number of bits. */
 const levelTables = new Map<number, Int32Array>();
 
+/** The encoded level (of 2^bits - 1) of linear value i / 4096, for i = 0..4096: round((2^bits - 1) srgbEncode(i / 4096)). */
+export function linearLevelTable(bits: number): Int32Array {
+  const levels = (1 << bits) - 1;
+  let table = levelTables.get(bits);
+  if (!table) {
+    table = Int32Array.from({ length: 4097 }, (_, i) => Math.round(levels * srgbEncode(i / 4096)));
+    levelTables.set(bits, table);
+  }
+  return table;
+}
+
 /**
  * Maps stored channel values of the pixels [i0, i0 + out.length) to colour-cube cells of `bits` per channel, on the
  * sRGB-encoded scale (a roughly perceptual spacing), into `out`: the cell index per pixel, -1 for pixels that are not
@@ -51,11 +62,7 @@ export function quantiseInto(img: Image, bits: number, i0: number, out: Int32Arr
   const [r, g, b] = img.planes;
   let saturated = 0, invalid = 0;
   // Linear data: a 4096-entry table from linear value to encoded level.
-  let table: Int32Array | null = null;
-  if (img.encoding === 'linear') {
-    table = levelTables.get(bits) ?? Int32Array.from({ length: 4097 }, (_, i) => Math.round(levels * srgbEncode(i / 4096)));
-    levelTables.set(bits, table);
-  }
+  const table = img.encoding === 'linear' ? linearLevelTable(bits) : null;
   const sat = FULL_SCALE_LEVEL, s2 = 2 * bits;
   for (let t = 0; t < len; t++) {
     const i = i0 + t, vr = r[i], vg = g[i], vb = b[i];

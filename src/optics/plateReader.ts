@@ -6,7 +6,8 @@ import { colourModel, matchLabOfLinearRgb } from './colourModel.ts';
 import { cameraToModel, NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';
 import { buildPlateLookup, LookupSearcher, matchConfidence, matchCoords, type LookupMatch, type MatchSpace, type PlateLookup, type SearchOptions } from './lookupTable.ts';
-import { cellLinearRgb, checkColourImage, quantiseInto, type Rect } from './pixels.ts';
+import { cellLinearRgb, checkColourImage, FULL_SCALE_LEVEL, linearLevelTable, quantiseInto, type Rect } from './pixels.ts';
+import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
 
 /** Pixels per block: colour cells are made a block at a time, not as a whole plane. */
 const PLATE_BLOCK_PX = 1 << 15;
@@ -123,9 +124,6 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   const subMask = (1 << subBits) - 1;
   const nCells = 1 << (3 * bits), nSub = 1 << (3 * subBits);
   const cBest = new Int32Array(nCells).fill(-1), cAlt = new Int32Array(nCells), cNear = new Int32Array(nCells);
-  // Each sub-cell met gets a reading (its index in subReadings: angle, retardance, confidence, below the floor).
-  const subIndex = new Int32Array(nSub).fill(-1);
-  let subReadings = new Float32Array(4 * 4096), nRead = 0;
   const n = img.width * img.height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n), clipped = new Uint8Array(n);
   const axis = train.compensator.axisDeg;
@@ -160,58 +158,70 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     dz.sort((a, b) => a - b);
     if (dz.length) freeRadius = dz[Math.min(dz.length - 1, Math.floor(0.99 * dz.length))];
   }
-  let matched = 0, belowFloor = 0, saturated = 0, invalid = 0;
-  const block = new Int32Array(Math.min(n, PLATE_BLOCK_PX));
-  let lastSub = -1, lastK = -1;
-  for (let i0 = 0; i0 < n; i0 += PLATE_BLOCK_PX) {
-    const len = Math.min(PLATE_BLOCK_PX, n - i0), subs = block.subarray(0, len);
-    const counts = quantiseInto(img, subBits, i0, subs, clipped);
-    saturated += counts.saturated; invalid += counts.invalid;
-    for (let t = 0; t < len; t++) {
-      const i = i0 + t, sub = subs[t];
-      if (sub < 0) continue;
-      // Neighbouring pixels often share their sub-cell: the last one's reading first.
-      let k = sub === lastSub ? lastK : subIndex[sub];
-      if (k < 0) {
-        const r = parentLevel[(sub >> (2 * subBits)) & subMask], g = parentLevel[(sub >> subBits) & subMask], b = parentLevel[sub & subMask];
-        const cell = (r << (2 * bits)) | (g << bits) | b;
-        if (cBest[cell] < 0) {
-          const m = searcher.match(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(cell, bits))), space));
-          cBest[cell] = m.bestIndex; cAlt[cell] = m.alternativeIndex; cNear[cell] = m.nearAlternativeIndex;
-          matched++;
-        }
-        const q = matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space);
-        // Of the parent's best, alternative and nearest alternative, the one nearest this sub-cell's colour (the first on ties).
-        const d0 = dist(cBest[cell], q), d1 = dist(cAlt[cell], q), d2 = dist(cNear[cell], q);
-        let pick = 0, dPick = d0;
-        if (d1 < dPick) { pick = 1; dPick = d1; }
-        if (d2 < dPick) { pick = 2; dPick = d2; }
-        const dOther = pick === 0 ? Math.min(d1, d2) : pick === 1 ? Math.min(d0, d2) : Math.min(d0, d1);
-        const dZero = distanceToZero(q);
-        const e = pick === 0 ? cBest[cell] : pick === 1 ? cAlt[cell] : cNear[cell], j = Math.floor(e / nR);
-        if (4 * (nRead + 1) > subReadings.length) {
-          const grown = new Float32Array(2 * subReadings.length);
-          grown.set(subReadings);
-          subReadings = grown;
-        }
-        k = nRead++;
-        subIndex[sub] = k;
-        const o = 4 * k;
-        subReadings[o] = rowAngleRad[j];
-        subReadings[o + 1] = lookup.retardancesNm[e - j * nR];
-        subReadings[o + 2] = matchConfidence({ distance: dPick, alternativeDistance: Math.min(dZero, dOther) } as LookupMatch);
-        // Masked: sample-free (with a known retardance band) or read below the floor (the float32 retardance, as stored).
-        subReadings[o + 3] = (band ? floorNm > 0 && dZero <= Math.max(dPick, freeRadius) : subReadings[o + 1] < floorNm) ? 1 : 0;
-      }
-      lastSub = sub; lastK = k;
-      const o = 4 * k;
-      angleRad[i] = subReadings[o];
-      retardanceNm[i] = subReadings[o + 1];
-      confidence[i] = subReadings[o + 2];
-      if (subReadings[o + 3] === 1) { belowFloor++; continue; }
-      mask[i] = 1;
+  let matched = 0, belowFloor = 0;
+  // The reading of a sub-cell met for the first time, into entry k of the kernel's readings.
+  const readSub = (sub: number, readings: Float32Array, k: number) => {
+    const r = parentLevel[(sub >> (2 * subBits)) & subMask], g = parentLevel[(sub >> subBits) & subMask], b = parentLevel[sub & subMask];
+    const cell = (r << (2 * bits)) | (g << bits) | b;
+    if (cBest[cell] < 0) {
+      const m = searcher.match(matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(cell, bits))), space));
+      cBest[cell] = m.bestIndex; cAlt[cell] = m.alternativeIndex; cNear[cell] = m.nearAlternativeIndex;
+      matched++;
     }
+    const q = matchCoords(matchLabOfLinearRgb(cameraToModel(camera, cellLinearRgb(sub, subBits))), space);
+    // Of the parent's best, alternative and nearest alternative, the one nearest this sub-cell's colour (the first on ties).
+    const d0 = dist(cBest[cell], q), d1 = dist(cAlt[cell], q), d2 = dist(cNear[cell], q);
+    let pick = 0, dPick = d0;
+    if (d1 < dPick) { pick = 1; dPick = d1; }
+    if (d2 < dPick) { pick = 2; dPick = d2; }
+    const dOther = pick === 0 ? Math.min(d1, d2) : pick === 1 ? Math.min(d0, d2) : Math.min(d0, d1);
+    const dZero = distanceToZero(q);
+    const e = pick === 0 ? cBest[cell] : pick === 1 ? cAlt[cell] : cNear[cell], j = Math.floor(e / nR);
+    const o = 4 * k;
+    readings[o] = rowAngleRad[j];
+    readings[o + 1] = lookup.retardancesNm[e - j * nR];
+    readings[o + 2] = matchConfidence({ distance: dPick, alternativeDistance: Math.min(dZero, dOther) } as LookupMatch);
+    // Masked: sample-free (with a known retardance band) or read below the floor (the float32 retardance, as stored).
+    readings[o + 3] = (band ? floorNm > 0 && dZero <= Math.max(dPick, freeRadius) : readings[o + 1] < floorNm) ? 1 : 0;
+  };
+  // The pixels a block at a time in the optics kernel (src/wasm/opticsKernel.as.ts): plateCells gives each pixel's
+  // sub-cell and lists those met for the first time, which are read here; plateWrite gives every pixel its sub-cell's reading.
+  const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PLATE_BLOCK_PX);
+  const rgbAt = mem.reserve(12 * B), subsAt = mem.reserve(4 * B), clipAt = mem.reserve(B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(8);
+  const outAt = [0, 1, 2].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
+  const levelsAt = img.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, indexAt = mem.reserve(4 * nSub);
+  let capacity = 4096;
+  const readingsAt = mem.reserve(16 * capacity);
+  mem.commit();
+  if (levelsAt) mem.i32(levelsAt, 4097).set(linearLevelTable(subBits));
+  mem.i32(indexAt, nSub).fill(-1);
+  mem.i32(countsAt, 2).fill(0);
+  let nRead = 0;
+  for (let i0 = 0; i0 < n; i0 += B) {
+    const len = Math.min(B, n - i0), i1 = i0 + len;
+    for (let c = 0; c < 3; c++) mem.f32(rgbAt + 4 * B * c, B).set(img.planes[c].subarray(i0, i1));
+    const clip = mem.u8(clipAt, B);
+    clip.fill(0);
+    const nFresh = k.plateCells(rgbAt, rgbAt + 4 * B, rgbAt + 8 * B, len, subBits, FULL_SCALE_LEVEL, levelsAt, subsAt, clipAt, indexAt, freshAt, countsAt);
+    if (nFresh > 0) {
+      if (nRead + nFresh > capacity) {
+        // The readings are laid out last: they grow in place.
+        const more = Math.max(capacity, nRead + nFresh - capacity);
+        mem.reserve(16 * more);
+        capacity += more;
+        mem.commit();
+      }
+      const fresh = mem.i32(freshAt, nFresh), index = mem.i32(indexAt, nSub), readings = mem.f32(readingsAt, 4 * capacity);
+      for (let f = 0; f < nFresh; f++) {
+        readSub(fresh[f], readings, nRead);
+        index[fresh[f]] = nRead++;
+      }
+    }
+    belowFloor += k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], maskAt);
+    angleRad.set(mem.f32(outAt[0], len), i0); retardanceNm.set(mem.f32(outAt[1], len), i0); confidence.set(mem.f32(outAt[2], len), i0);
+    mask.set(mem.u8(maskAt, len), i0); clipped.set(mem.u8(clipAt, len), i0);
   }
+  const [saturated, invalid] = mem.i32(countsAt, 2);
   if (belowFloor > 0) {
     const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
     warnings.push(`${belowFloor} pixels ${why} were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);

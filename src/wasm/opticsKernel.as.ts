@@ -1,7 +1,9 @@
 // AssemblyScript source of the optical readings' kernel (compiled by `npm run wasm` into opticsKernel.wasm.ts).
-// The angle series' per-pixel loops, a block of pixels at a time, four pixels per WebAssembly SIMD instruction: the
-// caller copies a block's image values into the module's memory, calls the kernel and copies the block's results out (src/optics/fourAngle.ts). Intensities and fit are float32 arithmetic: the readings differ from a
-// float64 evaluation of the same formulas by a few units in the last place (tests/wasm/optics-kernel.test.ts).
+// The optical readings' per-pixel loops, a block of pixels at a time: the caller copies a block's image values into
+// the module's memory, calls the kernel and copies the block's results out. The angle series (src/optics/fourAngle.ts)
+// runs four pixels per WebAssembly SIMD instruction in float32 arithmetic: its readings differ from a float64
+// evaluation of the same formulas by a few units in the last place (tests/wasm/optics-kernel.test.ts). The plate
+// reading's colour cells (src/optics/plateReader.ts) are the same float64 operations as the TypeScript's before.
 // All arrays are at byte offsets the caller chooses (src/wasm/opticsKernel.ts lays them out); counts of pixels
 // need not be multiples of four (the lanes past the end are computed and neither stored as read nor counted).
 
@@ -206,4 +208,62 @@ export function fitFour(i0: usize, i1: usize, i2: usize, i3: usize, dark: usize,
   const lanes = (v: v128): i32 => i32x4.extract_lane(v, 0) + i32x4.extract_lane(v, 1) + i32x4.extract_lane(v, 2) + i32x4.extract_lane(v, 3);
   store<i32>(counts, load<i32>(counts) + lanes(nClipped)); store<i32>(counts, load<i32>(counts, 4) + lanes(nFlatBad), 4);
   store<i32>(counts, load<i32>(counts, 8) + lanes(nNonFinite), 8); store<i32>(counts, load<i32>(counts, 12) + lanes(nZero), 12);
+}
+
+/**
+ * The plate reading's first pass over n pixels (src/optics/plateReader.ts): each pixel's colour-cube sub-cell of
+ * `bits` per channel on the sRGB-encoded scale (src/optics/pixels.ts, quantiseInto: round(v (2^bits - 1)) per
+ * channel, or for linear data, levels != 0, the encoded level from the 4097-entry table at round(4096 v)) into subs,
+ * -1 for a pixel not usable: a plane at or above `full` (clipped: clip[t] = 1, counts[0] + 1) or a value not finite or
+ * below 0 (counts[1] + 1). Sub-cells met for the first time (index[sub] == -1) are set to -2 and listed in fresh;
+ * returns how many were. float64 arithmetic, as quantiseInto's.
+ */
+export function plateCells(r: usize, g: usize, b: usize, n: i32, bits: i32, full: f64, levels: usize, subs: usize, clip: usize, index: usize, fresh: usize, counts: usize): i32 {
+  const top = <f64>((1 << bits) - 1), s2 = 2 * bits;
+  let saturated = 0, invalid = 0, nFresh = 0;
+  for (let t = 0; t < n; t++) {
+    const o = <usize>t << 2;
+    const vr = <f64>load<f32>(r + o), vg = <f64>load<f32>(g + o), vb = <f64>load<f32>(b + o);
+    let sub = -1;
+    if (vr >= 0 && vg >= 0 && vb >= 0 && vr < full && vg < full && vb < full) {
+      if (levels) {
+        sub = (load<i32>(levels + (<usize>(<i32>(vr * 4096 + 0.5)) << 2)) << s2) | (load<i32>(levels + (<usize>(<i32>(vg * 4096 + 0.5)) << 2)) << bits)
+          | load<i32>(levels + (<usize>(<i32>(vb * 4096 + 0.5)) << 2));
+      } else sub = (<i32>(vr * top + 0.5) << s2) | (<i32>(vg * top + 0.5) << bits) | <i32>(vb * top + 0.5);
+      const at = index + (<usize>sub << 2);
+      if (load<i32>(at) == -1) {
+        store<i32>(at, -2);
+        store<i32>(fresh + (<usize>nFresh << 2), sub);
+        nFresh++;
+      }
+    } else if (vr >= full || vg >= full || vb >= full) {
+      saturated++;
+      store<u8>(clip + <usize>t, 1);
+    } else invalid++;
+    store<i32>(subs + o, sub);
+  }
+  store<i32>(counts, load<i32>(counts) + saturated); store<i32>(counts, load<i32>(counts, 4) + invalid, 4);
+  return nFresh;
+}
+
+/**
+ * The plate reading's second pass: each usable pixel's reading from its sub-cell's entry k = index[sub] in readings
+ * (4 float32s: angle, retardance, confidence, 1 when masked) into angle, retardance, confidence, and mask 1 unless
+ * the entry is masked; pixels not usable get 0 everywhere. Returns how many usable pixels were masked.
+ */
+export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, angle: usize, retardance: usize, confidence: usize, mask: usize): i32 {
+  let masked = 0;
+  for (let t = 0; t < n; t++) {
+    const o = <usize>t << 2, sub = load<i32>(subs + o);
+    if (sub < 0) {
+      store<f32>(angle + o, 0); store<f32>(retardance + o, 0); store<f32>(confidence + o, 0); store<u8>(mask + <usize>t, 0);
+      continue;
+    }
+    const e = readings + (<usize>load<i32>(index + (<usize>sub << 2)) << 4);
+    store<f32>(angle + o, load<f32>(e)); store<f32>(retardance + o, load<f32>(e, 4)); store<f32>(confidence + o, load<f32>(e, 8));
+    const off = load<f32>(e, 12) == 1;
+    masked += <i32>off;
+    store<u8>(mask + <usize>t, off ? 0 : 1);
+  }
+  return masked;
 }

@@ -8,6 +8,8 @@ export interface OpticsKernelExports {
   intensityGrey(p: number, n: number, full: number, table: number, out: number, clip: number): number;
   fitFour(i0: number, i1: number, i2: number, i3: number, dark: number, flat: number, flatMean: number, clip: number, n: number, c: number,
     angle: number, amplitude: number, residual: number, bg: number, confidence: number, cos2: number, sin2: number, mask: number, sums: number, counts: number): void;
+  plateCells(r: number, g: number, b: number, n: number, bits: number, full: number, levels: number, subs: number, clip: number, index: number, fresh: number, counts: number): number;
+  plateWrite(subs: number, n: number, index: number, readings: number, angle: number, retardance: number, confidence: number, mask: number): number;
 }
 
 let instance: OpticsKernelExports | null = null;
