@@ -11,8 +11,8 @@
  * blocks several correlation lengths across are nearly, not fully, independent, and the pixels either
  * side of a shared edge are correlated (a spatial version of the heteroscedasticity-and-autocorrelation-consistent
  * variance; Conley 1999, J. Econometrics 92:1). The neighbour term never lowers the variance below the
- * independent-blocks value. The interval is S +- t(0.975, n - 1) sqrt(var(S)), Student's t for the few
- * blocks a narrow bin holds; it is centred on the estimate, so the estimate always lies inside it. See
+ * independent-blocks value. The interval is S +- t(0.975, dof) sqrt(var(S)), Student's t for the few
+ * blocks a narrow bin holds, drawn on the atanh scale (stabilisedInterval), so it always holds the estimate. See
  * docs/methods.md, "Intervals for order parameters".
  */
 import type { BlockSums } from './blocks.ts';
@@ -87,7 +87,26 @@ export function fQuantile2(p: number, nu: number): number {
   return (nu / 2) * (Math.pow(1 - p, -2 / nu) - 1);
 }
 
-/** Ratio sum y / sum w over the blocks with its linearised variance and Student's t, clipped to [lo, hi]. */
+/**
+ * The interval est +- t se drawn on the scale z = atanh(S) and mapped back: [tanh(z - h), tanh(z + h)] with
+ * h = t se / (1 - S^2) (the delta method). An order parameter's spread shrinks as it nears 1 (for small
+ * Gaussian director fluctuations of variance sigma^2, S = <cos 2 delta> ~ 1 - 2 sigma^2 and the variance of
+ * cos 2 delta is ~ 2 (1 - S)^2), so a rendering that happens to be more ordered than its material also shows
+ * less scatter, and an interval symmetric about S undercovers on its low side; on the atanh scale that
+ * spread is nearly constant (the same reasoning as Fisher's z for a correlation coefficient; Fisher 1921,
+ * Metron 1:3). Near S = 0 the two intervals agree; the mapped one stays inside (-1, 1). See
+ * docs/methods.md, "Intervals for order parameters".
+ */
+export function stabilisedInterval(est: number, se: number, t: number): [number, number] {
+  if (!(Math.abs(est) < 1) || !(se > 0)) return [est - t * se, est + t * se];
+  const z = Math.atanh(est), h = (t * se) / (1 - est * est);
+  return [Math.tanh(z - h), Math.tanh(z + h)];
+}
+
+/**
+ * Ratio sum y / sum w over the blocks with its linearised variance and Student's t, the interval drawn on
+ * the atanh scale (stabilisedInterval) and clipped to [lo, hi].
+ */
 export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>, lo: number, hi: number, design?: BlockDesign): OrderStat {
   const n = b.n;
   let sy = 0, sw = 0, pixels = 0, units = 0;
@@ -101,10 +120,10 @@ export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<Bl
   const e = residuals(y, w, n, est);
   const { pairs, factor, dof } = design ?? blockDesign(w, b);
   const se = Math.sqrt(quadraticForm(e, e, pairs) / factor) / sw;
-  const half = studentQuantile(0.5 + INTERVAL_LEVEL / 2, dof) * se;
+  const [ciLow, ciHigh] = stabilisedInterval(est, se, studentQuantile(0.5 + INTERVAL_LEVEL / 2, dof));
   // Clipped to the statistic's range, never past the estimate itself (float rounding can put an S of
   // exactly 1 a hair above 1).
-  return { order: est, ciLow: Math.min(est, Math.max(lo, est - half)), ciHigh: Math.max(est, Math.min(hi, est + half)), n: pixels, se, blocks: units, dof };
+  return { order: est, ciLow: Math.min(est, Math.max(lo, ciLow)), ciHigh: Math.max(est, Math.min(hi, ciHigh)), n: pixels, se, blocks: units, dof };
 }
 
 /** What the variance of every ratio over the same blocks and weights shares: the neighbour pairs, bias factor and dof. */

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { fiellerInterval, fQuantile2 } from '../../src/order/index.ts';
+import { fiellerInterval, fQuantile2, stabilisedInterval } from '../../src/order/index.ts';
 import { normalQuantile, studentTQuantile as studentQuantile } from '../../src/common/distributions.ts';
 
 describe('distribution quantiles behind the intervals', () => {
@@ -38,5 +38,33 @@ describe('fiellerInterval', () => {
 
   it('gives no interval when the denominator is not clearly away from 0', () => {
     expect(fiellerInterval(0.6, 0.05, 0.05, 0.04, 12)).toBeNull();
+  });
+});
+
+describe('stabilisedInterval', () => {
+  it('maps S +- t se from the atanh scale: [tanh(atanh S - h), tanh(atanh S + h)], h = t se / (1 - S^2)', () => {
+    // Expected values from Python's math.tanh / math.atanh (CPython 3, double precision).
+    const [lo, hi] = stabilisedInterval(0.8, 0.05, 2);
+    expect(lo).toBeCloseTo(0.6755238271393413, 12);
+    expect(hi).toBeCloseTo(0.8801403387944708, 12);
+    const [lo2, hi2] = stabilisedInterval(-0.3, 0.1, 2.5);
+    expect(lo2).toBeCloseTo(-0.5257438477640315, 12);
+    expect(hi2).toBeCloseTo(-0.03478029507618143, 12);
+  });
+
+  it('holds the estimate, stays inside (-1, 1) and agrees with S +- t se for a small se', () => {
+    for (const S of [-0.99, -0.5, 0, 0.3, 0.9, 0.999]) for (const se of [1e-6, 0.01, 0.2, 3]) {
+      const [lo, hi] = stabilisedInterval(S, se, 2.2);
+      expect(lo <= S && S <= hi, `S ${S} se ${se}`).toBe(true);
+      expect(lo > -1 && hi < 1 || se >= 0.2, `S ${S} se ${se}`).toBe(true);
+      expect(lo >= -1 && hi <= 1, `S ${S} se ${se}`).toBe(true);
+    }
+    // First order (delta method): the half-widths tend to t se as se -> 0.
+    const [lo, hi] = stabilisedInterval(0.6, 1e-6, 2);
+    expect((0.6 - lo) / 2e-6).toBeCloseTo(1, 4);
+    expect((hi - 0.6) / 2e-6).toBeCloseTo(1, 4);
+    // Near S = 1 the low side reaches farther than the high side (the spread shrinks toward 1).
+    const [l9, h9] = stabilisedInterval(0.9, 0.03, 2);
+    expect(0.9 - l9).toBeGreaterThan(h9 - 0.9);
   });
 });
