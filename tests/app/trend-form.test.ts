@@ -20,21 +20,7 @@ import { lineSeAt } from '../../app/trend/TrendPlot.tsx';
 import { trendLine, trendOf, type TrendForm } from '../../app/trend/trendForm.ts';
 import { renderScene, scene } from '../validation/render/index.ts';
 import { runCli } from '../support/cliRun.ts';
-
-/** A line split into words as a POSIX shell splits it (double quotes with \ escaping $ ` " \; POSIX.1-2017, 2.2.3). */
-function shellWords(line: string): string[] {
-  const words: string[] = [];
-  let word: string | null = null;
-  for (let i = 0; i < line.length; i++) {
-    const c = line[i];
-    if (c === ' ') { if (word !== null) words.push(word); word = null; continue; }
-    word ??= '';
-    if (c === '"') { for (i++; line[i] !== '"'; i++) { if (line[i] === '\\' && '$`"\\'.includes(line[i + 1])) i++; word += line[i]; } continue; }
-    word += c;
-  }
-  if (word !== null) words.push(word);
-  return words;
-}
+import { shellWords } from '../support/shellWords.ts';
 
 let dir = '';
 let session: SessionRecord;

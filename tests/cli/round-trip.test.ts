@@ -41,32 +41,7 @@ import { DEFAULT_DIAMETER_FORM, DEFAULT_OPTICAL_FORM, DEFAULT_SETTINGS, type Ana
 import { grating } from '../support/synthetic.ts';
 import { renderFibres } from '../fibre/render.ts';
 import { renderRuler } from '../calibrate/render.ts';
-
-/**
- * A line split into words as a POSIX shell splits it (POSIX.1-2017, Shell Command Language 2.2 and 2.6.5): blanks
- * separate words; inside double quotes a backslash escapes only $ ` " \ and newline; inside single quotes nothing.
- */
-function shellWords(line: string): string[] {
-  const words: string[] = [];
-  let word: string | null = null;
-  for (let i = 0; i < line.length; i++) {
-    const c = line[i];
-    if (c === ' ' || c === '\t') { if (word !== null) words.push(word); word = null; continue; }
-    word ??= '';
-    if (c === "'") { const end = line.indexOf("'", i + 1); word += line.slice(i + 1, end); i = end; continue; }
-    if (c === '"') {
-      for (i++; line[i] !== '"'; i++) {
-        if (line[i] === '\\' && '$`"\\\n'.includes(line[i + 1])) i++;
-        word += line[i];
-      }
-      continue;
-    }
-    if (c === '\\') { word += line[++i]; continue; }
-    word += c;
-  }
-  if (word !== null) words.push(word);
-  return words;
-}
+import { shellWords } from '../support/shellWords.ts';
 
 /** The line parsed as `retarda` parses it: its command, its file names and its options (no former names). */
 function parsed(line: string): { command: string; files: string[]; a: ParsedArgs } {

@@ -17,25 +17,11 @@ import { formatCell } from '../../src/report/index.ts';
 import { renderScene, scene, writeRenderingPngs } from '../validation/render/index.ts';
 import { runCli } from '../support/cliRun.ts';
 import { CHROMIUM, OUT, SHOTS, buildAndServe, haveBrowser, openBrowser } from './support.ts';
+import { shellWords } from '../support/shellWords.ts';
 
 const X = [2, 4, 6, 8];
 const SLOPE = 0.06;
 const CORE = (x: number) => 0.35 + SLOPE * x;
-
-/** A line split into words as a POSIX shell splits it (double quotes with \ escaping $ ` " \; POSIX.1-2017, 2.2.3). */
-function shellWords(line: string): string[] {
-  const words: string[] = [];
-  let word: string | null = null;
-  for (let i = 0; i < line.length; i++) {
-    const c = line[i];
-    if (c === ' ') { if (word !== null) words.push(word); word = null; continue; }
-    word ??= '';
-    if (c === '"') { for (i++; line[i] !== '"'; i++) { if (line[i] === '\\' && '$`"\\'.includes(line[i + 1])) i++; word += line[i]; } continue; }
-    word += c;
-  }
-  if (word !== null) words.push(word);
-  return words;
-}
 
 describe.runIf(!haveBrowser)('against a variable end-to-end (no browser)', () => {
   it('is allowed to be left out only outside CI', () => {
