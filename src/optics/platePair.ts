@@ -7,7 +7,8 @@ import { CellColours, EffectiveRetardanceReader } from './effectiveRetardance.ts
 import { NEUTRAL_CAMERA, type CameraCalibration } from './camera.ts';
 import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration } from './calibration.ts';
 import { buildPlateLookup, type PlateLookup } from './lookupTable.ts';
-import { checkColourImage, quantiseInto, type Rect } from './pixels.ts';
+import { checkColourImage, FULL_SCALE_LEVEL, linearLevelTable, type Rect } from './pixels.ts';
+import { opticsKernel, OpticsLayout, type OpticsKernelExports } from '../wasm/index.ts';
 import { registrationCheckOfImages, registrationShown, type RegistrationCheck } from './registration.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
@@ -103,45 +104,67 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const cellsB = new CellColours(calB?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerB);
   const lutA = buildPlateLookup(modelA, { retardanceMaxNm: gmax, birefringenceSign: sign, fullRange: true });
   const lutB = buildPlateLookup(modelB, { retardanceMaxNm: gmax, birefringenceSign: sign, fullRange: true });
-  const search = new PairSearch(lutA, lutB, 1 << (3 * bits));
   const n = imgA.width * imgA.height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n), clipped = new Uint8Array(n);
   // cos 2 theta and sin 2 theta per pixel, made once per distinct reading (the order statistics read these).
   const cos2 = new Float32Array(n), sin2 = new Float32Array(n);
   const axis = trainA.compensator.axisDeg;
   const nA = lutA.anglesDeg.length, nR = lutA.retardancesNm.length, aStep = lutA.anglesDeg[1] - lutA.anglesDeg[0], rStep = lutA.retardancesNm[1] - lutA.retardancesNm[0];
-  let masked = 0, belowFloor = 0;
-  // Pixels with the same pair of colour cells get the same reading.
-  const pairs = new PairReadings(floorNm);
-  const out = { angleRad, retardanceNm, confidence, cos2, sin2 };
-  const qa = new Int32Array(Math.min(n, PAIR_BLOCK_PX)), qb = new Int32Array(qa.length);
-  let lastA = -1, lastB = -1, lastHit = -1;
-  for (let i0 = 0; i0 < n; i0 += PAIR_BLOCK_PX) {
-    const len = Math.min(PAIR_BLOCK_PX, n - i0);
-    quantiseInto(imgA, bits, i0, qa.subarray(0, len), clipped);
-    quantiseInto(imgB, bits, i0, qb.subarray(0, len), clipped);
-    for (let t = 0; t < len; t++) {
-      const i = i0 + t, ca = qa[t], cb = qb[t];
-      if (ca < 0 || cb < 0) { masked++; continue; }
-      // Neighbouring pixels often share their pair of cells: the last pair's entry first.
-      let hit = ca === lastA && cb === lastB ? lastHit : pairs.find(ca, cb);
-      if (hit < 0) {
-        cellsA.ensure(ca); cellsB.ensure(cb);
-        // Candidates: the closed-form first-order reading, and along every angle row the retardance that best explains either image.
-        const est = combinePlatePair(cellsA.eff[ca] - gpA, cellsB.eff[cb] - gpB, axis, turn);
-        const estDeg = sign === -1 ? wrapAxialDeg(est.angleDeg - 90) : est.angleDeg;
-        const bj = Math.round((wrapAxialDeg(estDeg) - lutA.anglesDeg[0]) / aStep) % nA;
-        const bk = Math.min(nR - 1, Math.round(est.retardanceNm / rStep));
-        const fine = search.read(cellsA.lab, ca, cellsB.lab, cb, bj, bk);
-        const ret = fine.retardanceNm;
-        const margin = Math.sqrt(fine.alternative / 2) - fine.residual;
-        // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
-        hit = pairs.add(ca, cb, wrapAxialDeg(fine.angleDeg) * DEG, ret, Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400));
-      }
-      lastA = ca; lastB = cb; lastHit = hit;
-      if (pairs.write(hit, i, out)) belowFloor++; else mask[i] = 1;
+  // The pixels a block at a time in the optics kernel (src/wasm/opticsKernel.as.ts): pairCells gives each pixel the
+  // entry of its pair of colour cells in a table of readings, listing the pairs met for the first time, which are read
+  // here; pairWrite gives every pixel its entry's reading. Pixels with the same pair of cells get the same reading.
+  const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PAIR_BLOCK_PX);
+  const search = new PairSearch(lutA, lutB, 1 << (3 * bits), mem);
+  const rgbAt = mem.reserve(24 * B), clipAt = mem.reserve(B), hitsAt = mem.reserve(4 * B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(4);
+  const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
+  const levelsAAt = imgA.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, levelsBAt = imgB.encoding === 'linear' ? mem.reserve(4 * 4097) : 0;
+  // The table is laid out last; when it would be more than half full it moves to a table twice the size after it.
+  let shift = 32 - 12, tableAt = mem.reserve(PAIR_ENTRY_BYTES << (32 - shift)), entries = 0;
+  mem.commit();
+  search.load();
+  if (levelsAAt) mem.i32(levelsAAt, 4097).set(linearLevelTable(bits));
+  if (levelsBAt) mem.i32(levelsBAt, 4097).set(linearLevelTable(bits));
+  mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)).fill(-1);
+  mem.i32(countsAt, 1).fill(0);
+  let belowFloor = 0;
+  for (let i0 = 0; i0 < n; i0 += B) {
+    const len = Math.min(B, n - i0), i1 = i0 + len;
+    while (2 * (entries + len) > 1 << (32 - shift)) {
+      const to = mem.reserve(PAIR_ENTRY_BYTES << (33 - shift));
+      mem.commit();
+      mem.i32(to, (PAIR_ENTRY_BYTES / 4) << (33 - shift)).fill(-1);
+      k.pairRehash(tableAt, shift, to, shift - 1);
+      tableAt = to; shift--;
     }
+    [imgA, imgB].forEach((img, j) => { for (let c = 0; c < 3; c++) mem.f32(rgbAt + 4 * B * (3 * j + c), B).set(img.planes[c].subarray(i0, i1)); });
+    mem.u8(clipAt, B).fill(0);
+    const nFresh = k.pairCells(rgbAt, rgbAt + 4 * B, rgbAt + 8 * B, rgbAt + 12 * B, rgbAt + 16 * B, rgbAt + 20 * B, len, bits, FULL_SCALE_LEVEL, levelsAAt, levelsBAt,
+      clipAt, tableAt, shift, hitsAt, freshAt, countsAt);
+    entries += nFresh;
+    const fresh = mem.i32(freshAt, nFresh), ints = mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)), floats = mem.f32(tableAt, ints.length);
+    for (let f = 0; f < nFresh; f++) {
+      const o = fresh[f] >> 2, ca = ints[o], cb = ints[o + 1];
+      cellsA.ensure(ca); cellsB.ensure(cb);
+      // Candidates: the closed-form first-order reading, and along every angle row the retardance that best explains either image.
+      const est = combinePlatePair(cellsA.eff[ca] - gpA, cellsB.eff[cb] - gpB, axis, turn);
+      const estDeg = sign === -1 ? wrapAxialDeg(est.angleDeg - 90) : est.angleDeg;
+      const bj = Math.round((wrapAxialDeg(estDeg) - lutA.anglesDeg[0]) / aStep) % nA;
+      const bk = Math.min(nR - 1, Math.round(est.retardanceNm / rStep));
+      const fine = search.read(cellsA.lab, ca, cellsB.lab, cb, bj, bk);
+      const ret = fine.retardanceNm;
+      const margin = Math.sqrt(fine.alternative / 2) - fine.residual;
+      // The angle is undefined as the retardance goes to zero; residual and margin say how well and how uniquely both colours fit.
+      floats[o + 2] = wrapAxialDeg(fine.angleDeg) * DEG; floats[o + 3] = ret;
+      floats[o + 4] = Math.exp(-fine.residual / 10) * (1 - Math.exp(-margin / 4)) * (ret * ret) / (ret * ret + 400);
+      // Of the float32 angle, as the order statistics would make them from the field's angles.
+      floats[o + 5] = Math.cos(2 * floats[o + 2]); floats[o + 6] = Math.sin(2 * floats[o + 2]);
+      ints[o + 7] = ret < floorNm ? 1 : 0;
+    }
+    belowFloor += k.pairWrite(hitsAt, len, tableAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt);
+    [angleRad, retardanceNm, confidence, cos2, sin2].forEach((a, j) => a.set(mem.f32(outAt[j], len), i0));
+    mask.set(mem.u8(maskAt, len), i0); clipped.set(mem.u8(clipAt, len), i0);
   }
+  const masked = mem.i32(countsAt, 1)[0];
   if (masked > 0) warnings.push(`${masked} pixels at full scale (clipped) or invalid in one of the images were masked`);
   if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   const registration = registrationCheckOfImages(imgA, imgB);
@@ -167,74 +190,15 @@ const ROW_STRIDE = 2;
 /** Pixels per block: both images' colour cells are made a block at a time, not as whole planes. */
 const PAIR_BLOCK_PX = 1 << 15;
 
-/**
- * The reading of each distinct pair of colour cells, in an open-addressing table keyed by both cells whose entries
- * hold the reading itself (one cache line per look-up): cell A, cell B, then as float32 the angle, retardance,
- * confidence, cos 2 theta and sin 2 theta, and whether the retardance is below the floor.
- */
-class PairReadings {
-  private table = new ArrayBuffer(ENTRY_BYTES << 12);
-  private ints = new Int32Array(this.table).fill(-1);
-  private floats = new Float32Array(this.table);
-  private count = 0;
-  private shift = 32 - 12;
-
-  constructor(private readonly floorNm: number) {}
-
-  /** First slot tried for a pair: the high bits of a multiplicative (Fibonacci) hash of both cells. */
-  private home(a: number, b: number): number {
-    return Math.imul(a ^ Math.imul(b, 0x85ebca77), 0x9e3779b1) >>> this.shift;
-  }
-
-  /** Offset (in 4-byte words) of the pair's entry, or -1. */
-  find(a: number, b: number): number {
-    const t = this.ints, m = (t.length >> ENTRY_SHIFT) - 1;
-    for (let h = this.home(a, b); ; h = (h + 1) & m) {
-      const o = h << ENTRY_SHIFT, k = t[o];
-      if (k < 0) return -1;
-      if (k === a && t[o + 1] === b) return o;
-    }
-  }
-
-  /** Writes the entry's reading into pixel i of the field's arrays; true when the retardance is below the floor. */
-  write(o: number, i: number, f: { angleRad: Float32Array; retardanceNm: Float32Array; confidence: Float32Array; cos2: Float32Array; sin2: Float32Array }): boolean {
-    const v = this.floats;
-    f.angleRad[i] = v[o + 2]; f.retardanceNm[i] = v[o + 3]; f.confidence[i] = v[o + 4]; f.cos2[i] = v[o + 5]; f.sin2[i] = v[o + 6];
-    return this.ints[o + 7] === 1;
-  }
-
-  /** Stores a new pair's reading; returns its entry's offset. */
-  add(a: number, b: number, angleRad: number, retardanceNm: number, confidence: number): number {
-    if (2 * ++this.count > this.ints.length >> ENTRY_SHIFT) {
-      const old = this.ints;
-      this.table = new ArrayBuffer(2 * this.table.byteLength);
-      this.ints = new Int32Array(this.table).fill(-1); this.floats = new Float32Array(this.table);
-      this.shift--;
-      for (let o = 0; o < old.length; o += ENTRY_WORDS) if (old[o] >= 0) this.ints.set(old.subarray(o, o + ENTRY_WORDS), this.slotFor(old[o], old[o + 1]));
-    }
-    const o = this.slotFor(a, b), v = this.floats;
-    this.ints[o] = a; this.ints[o + 1] = b;
-    v[o + 2] = angleRad; v[o + 3] = retardanceNm; v[o + 4] = confidence;
-    // Of the float32 angle, as the order statistics would make them from the field's angles.
-    v[o + 5] = Math.cos(2 * v[o + 2]); v[o + 6] = Math.sin(2 * v[o + 2]);
-    this.ints[o + 7] = retardanceNm < this.floorNm ? 1 : 0;
-    return o;
-  }
-
-  /** Offset of the first free entry on the pair's probe sequence. */
-  private slotFor(a: number, b: number): number {
-    const t = this.ints, m = (t.length >> ENTRY_SHIFT) - 1;
-    let h = this.home(a, b);
-    while (t[h << ENTRY_SHIFT] >= 0) h = (h + 1) & m;
-    return h << ENTRY_SHIFT;
-  }
-}
-const ENTRY_SHIFT = 3, ENTRY_WORDS = 1 << ENTRY_SHIFT, ENTRY_BYTES = 4 * ENTRY_WORDS;
+/** Bytes per entry of the table of pair readings (src/wasm/opticsKernel.as.ts, PAIR_ENTRY_BYTES): cell A, cell B, then as
+ * float32 the angle, retardance, confidence, cos 2 theta and sin 2 theta, and whether the retardance is below the floor. */
+const PAIR_ENTRY_BYTES = 32;
 
 /**
  * The search of both images' lookups for one pair of colours: candidates along every ROW_STRIDE-th angle row (each
  * image's best retardance on the row, made once per colour cell), the best of them and the first-order estimate
- * refined locally, and the best candidate that differs by more than 3 deg or 30 nm.
+ * refined locally, and the best candidate that differs by more than 3 deg or 30 nm. Run by the optics kernel
+ * (src/wasm/opticsKernel.as.ts: cellRows, pairRead) on copies of both lookups in its memory.
  */
 class PairSearch {
   private readonly nA: number;
@@ -242,70 +206,42 @@ class PairSearch {
   private readonly nRows: number;
   private readonly rowsA: CellRows;
   private readonly rowsB: CellRows;
-  private readonly costA: Float64Array;
-  private readonly costB: Float64Array;
+  private readonly k: OpticsKernelExports;
+  /** Byte offsets in the kernel's memory: both lookups' Lab, angles and retardances, each image's two rows, costs, result. */
+  private readonly at: { C: number; D: number; angles: number; rets: number; ra: number; rb: number; costs: number; out: number };
 
-  constructor(private readonly lutA: PlateLookup, private readonly lutB: PlateLookup, nCells: number) {
+  constructor(private readonly lutA: PlateLookup, private readonly lutB: PlateLookup, nCells: number, private readonly mem: OpticsLayout) {
     this.nA = lutA.anglesDeg.length; this.nR = lutA.retardancesNm.length;
     this.nRows = Math.ceil(this.nA / ROW_STRIDE);
-    this.rowsA = new CellRows(lutA, nCells, this.nRows); this.rowsB = new CellRows(lutB, nCells, this.nRows);
-    this.costA = new Float64Array(this.nRows); this.costB = new Float64Array(this.nRows);
+    this.k = mem.k;
+    const C = mem.reserve(4 * lutA.coords.length), D = mem.reserve(4 * lutB.coords.length);
+    this.at = {
+      C, D, angles: mem.reserve(8 * this.nA), rets: mem.reserve(8 * this.nR), ra: mem.reserve(2 * this.nRows), rb: mem.reserve(2 * this.nRows),
+      costs: mem.reserve(16 * this.nRows), out: mem.reserve(24),
+    };
+    this.rowsA = new CellRows(lutA, nCells, this.nRows, mem, C, this.at.ra); this.rowsB = new CellRows(lutB, nCells, this.nRows, mem, D, this.at.rb);
   }
 
-  /** Sum of squared Lab distances of both images to the lookup entry (j, k). */
-  private cost(j: number, k: number, a0: number, a1: number, a2: number, b0: number, b1: number, b2: number): number {
-    const o = 3 * (j * this.nR + k), A = this.lutA.coords, B = this.lutB.coords;
-    const x = A[o] - a0, y = A[o + 1] - a1, z = A[o + 2] - a2, u = B[o] - b0, v = B[o + 1] - b1, w = B[o + 2] - b2;
-    return x * x + y * y + z * z + u * u + v * v + w * w;
+  /** Writes the lookups into the kernel's memory (after the layout's commit). */
+  load(): void {
+    const { mem, at } = this;
+    mem.f32(at.C, this.lutA.coords.length).set(this.lutA.coords); mem.f32(at.D, this.lutB.coords.length).set(this.lutB.coords);
+    mem.f64(at.angles, this.nA).set(this.lutA.anglesDeg); mem.f64(at.rets, this.nR).set(this.lutA.retardancesNm);
+    this.rowsA.load(); this.rowsB.load();
   }
 
   /** Reading of colour cells ca (Lab in labA) and cb (in labB), starting from the estimate (bj, bk). */
   read(labA: Float32Array, ca: number, labB: Float32Array, cb: number, bj: number, bk: number) {
     const a0 = labA[3 * ca], a1 = labA[3 * ca + 1], a2 = labA[3 * ca + 2], b0 = labB[3 * cb], b1 = labB[3 * cb + 1], b2 = labB[3 * cb + 2];
-    const { nA, nR, nRows, costA, costB } = this;
+    const { at, nRows, mem } = this;
+    // Each image's rows for its cell, where pairRead reads them.
     const ra = this.rowsA.of(ca, a0, a1, a2), oa = this.rowsA.offset(ca);
     const rb = this.rowsB.of(cb, b0, b1, b2), ob = this.rowsB.offset(cb);
-    let best = this.cost(bj, bk, a0, a1, a2, b0, b1, b2);
-    const A = this.lutA.coords, B = this.lutB.coords;
-    for (let r = 0; r < nRows; r++) {
-      const j = r * ROW_STRIDE, ka = ra[oa + r], kb = rb[ob + r];
-      // cost(j, ka) and cost(j, kb), written out.
-      let o = 3 * (j * nR + ka);
-      let x = A[o] - a0, y = A[o + 1] - a1, z = A[o + 2] - a2, u = B[o] - b0, v = B[o + 1] - b1, w = B[o + 2] - b2;
-      const da = x * x + y * y + z * z + u * u + v * v + w * w;
-      costA[r] = da;
-      if (da < best) { best = da; bj = j; bk = ka; }
-      o = 3 * (j * nR + kb);
-      x = A[o] - a0; y = A[o + 1] - a1; z = A[o + 2] - a2; u = B[o] - b0; v = B[o + 1] - b1; w = B[o + 2] - b2;
-      const db = x * x + y * y + z * z + u * u + v * v + w * w;
-      costB[r] = db;
-      if (db < best) { best = db; bj = j; bk = kb; }
-    }
-    // Local search (+-3 deg, +-8 nm) minimising the summed squared Lab distance of both images.
+    mem.u16(at.ra, nRows).set(ra.subarray(oa, oa + nRows)); mem.u16(at.rb, nRows).set(rb.subarray(ob, ob + nRows));
     const aStep = this.lutA.anglesDeg[1] - this.lutA.anglesDeg[0], rStep = this.lutA.retardancesNm[1] - this.lutA.retardancesNm[0];
-    const wa = Math.max(1, Math.round(3 / aStep)), wr = Math.max(1, Math.round(8 / rStep));
-    let fine = Infinity, fj = bj, fk = bk;
-    const kLo = Math.max(0, bk - wr), kHi = Math.min(nR - 1, bk + wr);
-    for (let dj = -wa; dj <= wa; dj++) {
-      const j = (((bj + dj) % nA) + nA) % nA;
-      for (let k = kLo, o = 3 * (j * nR + kLo); k <= kHi; k++, o += 3) {
-        const x = A[o] - a0, y = A[o + 1] - a1, z = A[o + 2] - a2, u = B[o] - b0, v = B[o + 1] - b1, w = B[o + 2] - b2;
-        const d = x * x + y * y + z * z + u * u + v * v + w * w;
-        if (d < fine) { fine = d; fj = j; fk = k; }
-      }
-    }
-    const angleDeg = this.lutA.anglesDeg[fj], retardanceNm = this.lutA.retardancesNm[fk];
-    // Best candidate that differs by more than 3 deg or 30 nm: how far the reading stands out.
-    const gj = Math.round((angleDeg - this.lutA.anglesDeg[0]) / aStep), gk = Math.round(retardanceNm / rStep);
-    let alternative = Infinity;
-    for (let r = 0; r < nRows; r++) {
-      let dj = Math.abs(r * ROW_STRIDE - gj) * aStep;
-      if (dj > 90) dj = 180 - dj;
-      const near = dj <= 3;
-      if (!(near && Math.abs(ra[oa + r] - gk) * rStep <= 30)) alternative = Math.min(alternative, costA[r]);
-      if (!(near && Math.abs(rb[ob + r] - gk) * rStep <= 30)) alternative = Math.min(alternative, costB[r]);
-    }
-    return { angleDeg, retardanceNm, residual: Math.sqrt(fine / 2), alternative };
+    this.k.pairRead(at.C, at.D, this.nA, this.nR, ROW_STRIDE, nRows, at.angles, at.rets, aStep, rStep, a0, a1, a2, b0, b1, b2, at.ra, at.rb, bj, bk, at.costs, at.out);
+    const [fj, fk] = mem.i32(at.out, 2), [fine, alternative] = mem.f64(at.out + 8, 2);
+    return { angleDeg: this.lutA.anglesDeg[fj], retardanceNm: this.lutA.retardancesNm[fk], residual: Math.sqrt(fine / 2), alternative };
   }
 }
 
@@ -314,9 +250,10 @@ const BOX_ENTRIES = 8;
 
 /**
  * For each colour cell met: on every ROW_STRIDE-th angle row, the retardance index nearest in Lab (coarse scan over
- * every 4th entry, then +-4 entries). The coarse scan skips runs of BOX_ENTRIES entries whose Lab bounding box lies
- * farther than the best entry found so far (starting from the previous row's): the same first nearest entry as a
- * full scan, since no entry in a box is nearer than the box (the bound is computed with the same monotone roundings).
+ * every 4th entry, then +-4 entries; the optics kernel's cellRows). The coarse scan skips runs of BOX_ENTRIES entries
+ * whose Lab bounding box lies farther than the best entry found so far (starting from the previous row's): the same
+ * first nearest entry as a full scan, since no entry in a box is nearer than the box (the bound is computed with the
+ * same monotone roundings).
  */
 class CellRows {
   private readonly slot: Int32Array;
@@ -325,8 +262,12 @@ class CellRows {
   /** Per row and box: Lab minimum and maximum (6 numbers). */
   private readonly boxes: Float64Array;
   private readonly nBoxes: number;
+  /** Byte offset of the boxes in the kernel's memory. */
+  private readonly boxesAt: number;
 
-  constructor(private readonly lut: PlateLookup, nCells: number, private readonly nRows: number) {
+  /** `coordsAt`: where the lookup's Lab lies in the kernel's memory; `scratchAt`: nRows uint16s the kernel writes a cell's rows to. */
+  constructor(private readonly lut: PlateLookup, nCells: number, private readonly nRows: number, private readonly mem: OpticsLayout,
+    private readonly coordsAt: number, private readonly scratchAt: number) {
     this.slot = new Int32Array(nCells).fill(-1);
     this.pool = new Uint16Array(256 * nRows);
     const nR = lut.retardancesNm.length, C = lut.coords, nCoarse = Math.ceil(nR / 4);
@@ -343,6 +284,12 @@ class CellRows {
         }
       }
     }
+    this.boxesAt = mem.reserve(8 * this.boxes.length);
+  }
+
+  /** Writes the boxes into the kernel's memory (after the layout's commit). */
+  load(): void {
+    this.mem.f64(this.boxesAt, this.boxes.length).set(this.boxes);
   }
 
   /** Where the cell's rows start in the array `of` returns (valid after `of`). */
@@ -360,34 +307,8 @@ class CellRows {
       this.pool = p;
     }
     this.slot[cell] = s;
-    const nR = this.lut.retardancesNm.length, C = this.lut.coords, rows = this.pool, o = s * this.nRows;
-    const B = this.boxes, nBoxes = this.nBoxes;
-    let guess = 0;
-    for (let r = 0; r < this.nRows; r++) {
-      const base = 3 * r * ROW_STRIDE * nR;
-      // The first nearest coarse entry: (distance, index) smallest in that order, starting from the previous row's.
-      let bk = guess, bd = 0;
-      {
-        const q = base + 3 * guess, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2;
-        bd = a * a + b * b + c * c;
-      }
-      for (let g = 0, ob = 6 * r * nBoxes; g < nBoxes; g++, ob += 6) {
-        const x = Math.max(B[ob] - l0, l0 - B[ob + 3], 0), y = Math.max(B[ob + 1] - l1, l1 - B[ob + 4], 0), z = Math.max(B[ob + 2] - l2, l2 - B[ob + 5], 0);
-        if (x * x + y * y + z * z > bd) continue;
-        const kEnd = Math.min(nR, 4 * BOX_ENTRIES * (g + 1));
-        for (let k = 4 * BOX_ENTRIES * g; k < kEnd; k += 4) {
-          const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;
-          if (v < bd || (v === bd && k < bk)) { bd = v; bk = k; }
-        }
-      }
-      guess = bk;
-      // The window's upper end follows the best found so far (as it always has: the same rows as before).
-      for (let k = Math.max(0, bk - 4); k <= Math.min(nR - 1, bk + 4); k++) {
-        const q = base + 3 * k, a = C[q] - l0, b = C[q + 1] - l1, c = C[q + 2] - l2, v = a * a + b * b + c * c;
-        if (v < bd) { bd = v; bk = k; }
-      }
-      rows[o + r] = bk;
-    }
-    return rows;
+    this.mem.k.cellRows(this.coordsAt, this.lut.retardancesNm.length, this.nRows, ROW_STRIDE, this.boxesAt, this.nBoxes, BOX_ENTRIES, l0, l1, l2, this.scratchAt);
+    this.pool.set(this.mem.u16(this.scratchAt, this.nRows), s * this.nRows);
+    return this.pool;
   }
 }

@@ -3,7 +3,8 @@
 // the module's memory, calls the kernel and copies the block's results out. The angle series (src/optics/fourAngle.ts)
 // runs four pixels per WebAssembly SIMD instruction in float32 arithmetic: its readings differ from a float64
 // evaluation of the same formulas by a few units in the last place (tests/wasm/optics-kernel.test.ts). The plate
-// reading's colour cells (src/optics/plateReader.ts) are the same float64 operations as the TypeScript's before.
+// reading's and the plate pair's colour cells (src/optics/plateReader.ts, platePair.ts) are the same float64 operations
+// as the TypeScript's before.
 // All arrays are at byte offsets the caller chooses (src/wasm/opticsKernel.ts lays them out); counts of pixels
 // need not be multiples of four (the lanes past the end are computed and neither stored as read nor counted).
 
@@ -266,4 +267,210 @@ export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, a
     store<u8>(mask + <usize>t, off ? 0 : 1);
   }
   return masked;
+}
+
+/** quantiseInto's colour-cube cell of one pixel (see plateCells), or -1 (with the pixel's clip flag set at full scale). */
+// @ts-ignore: decorator
+@inline
+function cellOf(r: usize, g: usize, b: usize, o: usize, top: f64, bits: i32, full: f64, levels: usize, clipAt: usize): i32 {
+  const vr = <f64>load<f32>(r + o), vg = <f64>load<f32>(g + o), vb = <f64>load<f32>(b + o), s2 = 2 * bits;
+  if (vr >= 0 && vg >= 0 && vb >= 0 && vr < full && vg < full && vb < full) {
+    if (levels) {
+      return (load<i32>(levels + (<usize>(<i32>(vr * 4096 + 0.5)) << 2)) << s2) | (load<i32>(levels + (<usize>(<i32>(vg * 4096 + 0.5)) << 2)) << bits)
+        | load<i32>(levels + (<usize>(<i32>(vb * 4096 + 0.5)) << 2));
+    }
+    return (<i32>(vr * top + 0.5) << s2) | (<i32>(vg * top + 0.5) << bits) | <i32>(vb * top + 0.5);
+  }
+  if (vr >= full || vg >= full || vb >= full) store<u8>(clipAt, 1);
+  return -1;
+}
+
+/** Bytes per entry of the plate pair's table: cells A and B, angle, retardance, confidence, cos 2 theta, sin 2 theta, masked. */
+const PAIR_ENTRY_BYTES = 32;
+
+/** The plate pair's first slot for cells a and b: the high bits of a multiplicative (Fibonacci) hash of both. */
+// @ts-ignore: decorator
+@inline
+function pairHome(a: i32, b: i32, shift: i32): i32 {
+  return <i32>(<u32>((a ^ (b * <i32>0x85ebca77)) * <i32>0x9e3779b1) >>> shift);
+}
+
+/**
+ * The plate pair's first pass over n pixels (src/optics/platePair.ts): both images' colour cells (as plateCells; planes
+ * at a* and b*, each image's linear level table or 0), then for pixels usable in both, the entry of their pair of cells
+ * in the open-addressing table (2^(32 - shift) entries of PAIR_ENTRY_BYTES, cell A -1 when free): its byte offset in
+ * hits, -1 for pixels not usable (counted in counts[0]). Pairs met for the first time get an entry (cells set, the
+ * reading for the caller to write) listed in fresh by offset; returns how many. The caller keeps the table at most half full.
+ */
+export function pairCells(ra: usize, ga: usize, ba: usize, rb: usize, gb: usize, bb: usize, n: i32, bits: i32, full: f64, levelsA: usize, levelsB: usize,
+  clip: usize, table: usize, shift: i32, hits: usize, fresh: usize, counts: usize): i32 {
+  const top = <f64>((1 << bits) - 1), m = (1 << (32 - shift)) - 1;
+  let masked = 0, nFresh = 0, lastA = -1, lastB = -1, lastHit = -1;
+  for (let t = 0; t < n; t++) {
+    const o = <usize>t << 2, c = clip + <usize>t;
+    const ca = cellOf(ra, ga, ba, o, top, bits, full, levelsA, c), cb = cellOf(rb, gb, bb, o, top, bits, full, levelsB, c);
+    if (ca < 0 || cb < 0) { masked++; store<i32>(hits + o, -1); continue; }
+    if (ca != lastA || cb != lastB) {
+      let h = pairHome(ca, cb, shift);
+      while (true) {
+        const e = table + (<usize>h) * PAIR_ENTRY_BYTES, k = load<i32>(e);
+        if (k == -1) {
+          store<i32>(e, ca); store<i32>(e, cb, 4);
+          store<i32>(fresh + (<usize>nFresh << 2), <i32>(e - table));
+          nFresh++;
+          lastHit = <i32>(e - table);
+          break;
+        }
+        if (k == ca && load<i32>(e, 4) == cb) { lastHit = <i32>(e - table); break; }
+        h = (h + 1) & m;
+      }
+      lastA = ca; lastB = cb;
+    }
+    store<i32>(hits + o, lastHit);
+  }
+  store<i32>(counts, load<i32>(counts) + masked);
+  return nFresh;
+}
+
+/** Moves the plate pair's entries from a table of 2^(32 - fromShift) entries into an empty one of 2^(32 - toShift). */
+export function pairRehash(from: usize, fromShift: i32, to: usize, toShift: i32): void {
+  const size = 1 << (32 - fromShift), m = (1 << (32 - toShift)) - 1;
+  for (let s = 0; s < size; s++) {
+    const e = from + (<usize>s) * PAIR_ENTRY_BYTES, a = load<i32>(e);
+    if (a == -1) continue;
+    let h = pairHome(a, load<i32>(e, 4), toShift);
+    while (load<i32>(to + (<usize>h) * PAIR_ENTRY_BYTES) != -1) h = (h + 1) & m;
+    memory.copy(to + (<usize>h) * PAIR_ENTRY_BYTES, e, PAIR_ENTRY_BYTES);
+  }
+}
+
+/**
+ * The plate pair's second pass: each usable pixel's reading from its table entry (offset in hits) into angle,
+ * retardance, confidence, cos2 and sin2, mask 1 unless the entry is masked; pixels not usable get 0 (cos2 0 too, as the
+ * reading's arrays start). Returns how many usable pixels were masked (below the retardance floor).
+ */
+export function pairWrite(hits: usize, n: i32, table: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize): i32 {
+  let masked = 0;
+  for (let t = 0; t < n; t++) {
+    const o = <usize>t << 2, hit = load<i32>(hits + o);
+    if (hit < 0) {
+      store<f32>(angle + o, 0); store<f32>(retardance + o, 0); store<f32>(confidence + o, 0); store<f32>(cos2 + o, 0); store<f32>(sin2 + o, 0);
+      store<u8>(mask + <usize>t, 0);
+      continue;
+    }
+    const e = table + <usize>hit;
+    store<f32>(angle + o, load<f32>(e, 8)); store<f32>(retardance + o, load<f32>(e, 12)); store<f32>(confidence + o, load<f32>(e, 16));
+    store<f32>(cos2 + o, load<f32>(e, 20)); store<f32>(sin2 + o, load<f32>(e, 24));
+    const off = load<i32>(e, 28) == 1;
+    masked += <i32>off;
+    store<u8>(mask + <usize>t, off ? 0 : 1);
+  }
+  return masked;
+}
+
+/** JavaScript's Math.round: the nearest integer, halves up. */
+// @ts-ignore: decorator
+@inline
+function roundHalfUp(x: f64): f64 {
+  const f = Math.floor(x);
+  return x - f >= 0.5 ? f + 1 : f;
+}
+
+/** Squared Lab distance of lookup entry o (float index of its first coordinate in C) to (l0, l1, l2). */
+// @ts-ignore: decorator
+@inline
+function dist2(C: usize, o: i32, l0: f64, l1: f64, l2: f64): f64 {
+  const p = C + (<usize>o << 2);
+  const a = <f64>load<f32>(p) - l0, b = <f64>load<f32>(p, 4) - l1, c = <f64>load<f32>(p, 8) - l2;
+  return a * a + b * b + c * c;
+}
+
+/**
+ * For one colour cell of the plate pair (src/optics/platePair.ts, CellRows): on every `stride`-th angle row of the lookup
+ * C (Lab float32s, nR retardances a row), the retardance index nearest in Lab to (l0, l1, l2), into rows (nRows uint16s):
+ * a coarse scan over every 4th entry that skips runs of `boxEntries` coarse entries whose Lab bounding box (boxes:
+ * per row and run, 6 float64s, minimum then maximum) lies farther than the best found so far (starting from the previous
+ * row's), then +-4 entries around it. The same float64 operations in the same order as CellRows.of.
+ */
+export function cellRows(C: usize, nR: i32, nRows: i32, stride: i32, boxes: usize, nBoxes: i32, boxEntries: i32, l0: f64, l1: f64, l2: f64, rows: usize): void {
+  let guess = 0;
+  for (let r = 0; r < nRows; r++) {
+    const base = 3 * r * stride * nR;
+    let bk = guess, bd = dist2(C, base + 3 * guess, l0, l1, l2);
+    for (let g = 0; g < nBoxes; g++) {
+      const ob = boxes + <usize>(6 * (r * nBoxes + g)) * 8;
+      const x = max(max(load<f64>(ob) - l0, l0 - load<f64>(ob, 24)), 0.0);
+      const y = max(max(load<f64>(ob, 8) - l1, l1 - load<f64>(ob, 32)), 0.0);
+      const z = max(max(load<f64>(ob, 16) - l2, l2 - load<f64>(ob, 40)), 0.0);
+      if (x * x + y * y + z * z > bd) continue;
+      const kEnd = min(nR, 4 * boxEntries * (g + 1));
+      for (let k = 4 * boxEntries * g; k < kEnd; k += 4) {
+        const v = dist2(C, base + 3 * k, l0, l1, l2);
+        if (v < bd || (v == bd && k < bk)) { bd = v; bk = k; }
+      }
+    }
+    guess = bk;
+    // The window's upper end follows the best found so far.
+    for (let k = max(0, bk - 4); k <= min(nR - 1, bk + 4); k++) {
+      const v = dist2(C, base + 3 * k, l0, l1, l2);
+      if (v < bd) { bd = v; bk = k; }
+    }
+    store<u16>(rows + (<usize>r << 1), <u16>bk);
+  }
+}
+
+/** The summed squared Lab distance of both images' colours to lookup entry (j, k) of A (C) and B (D). */
+// @ts-ignore: decorator
+@inline
+function pairCost(C: usize, D: usize, o: i32, a0: f64, a1: f64, a2: f64, b0: f64, b1: f64, b2: f64): f64 {
+  const p = C + (<usize>o << 2), q = D + (<usize>o << 2);
+  const x = <f64>load<f32>(p) - a0, y = <f64>load<f32>(p, 4) - a1, z = <f64>load<f32>(p, 8) - a2;
+  const u = <f64>load<f32>(q) - b0, v = <f64>load<f32>(q, 4) - b1, w = <f64>load<f32>(q, 8) - b2;
+  return x * x + y * y + z * z + u * u + v * v + w * w;
+}
+
+/**
+ * The plate pair's search for one pair of colours (src/optics/platePair.ts, PairSearch.read): lookups C (image A) and
+ * D (image B), nA angle rows of nR retardances (angles and rets: their values, float64s), steps aStep (deg) and rStep
+ * (nm); colours
+ * (a0..a2) and (b0..b2); each image's best retardance on every `stride`-th row in ra and rb (nRows uint16s); the
+ * first-order estimate (bj, bk). costs: 2 nRows float64s of scratch. Writes to out: the best entry's row and column
+ * (two int32s at out, out + 4) and then as float64s at out + 8 the summed squared distance there and that of the best
+ * candidate more than 3 deg or 30 nm from it. The same float64 operations in the same order as PairSearch.read.
+ */
+export function pairRead(C: usize, D: usize, nA: i32, nR: i32, stride: i32, nRows: i32, angles: usize, rets: usize, aStep: f64, rStep: f64,
+  a0: f64, a1: f64, a2: f64, b0: f64, b1: f64, b2: f64, ra: usize, rb: usize, bj: i32, bk: i32, costs: usize, out: usize): void {
+  const costA = costs, costB = costs + (<usize>nRows << 3);
+  let best = pairCost(C, D, 3 * (bj * nR + bk), a0, a1, a2, b0, b1, b2);
+  for (let r = 0; r < nRows; r++) {
+    const j = r * stride, ka = <i32>load<u16>(ra + (<usize>r << 1)), kb = <i32>load<u16>(rb + (<usize>r << 1));
+    const da = pairCost(C, D, 3 * (j * nR + ka), a0, a1, a2, b0, b1, b2);
+    store<f64>(costA + (<usize>r << 3), da);
+    if (da < best) { best = da; bj = j; bk = ka; }
+    const db = pairCost(C, D, 3 * (j * nR + kb), a0, a1, a2, b0, b1, b2);
+    store<f64>(costB + (<usize>r << 3), db);
+    if (db < best) { best = db; bj = j; bk = kb; }
+  }
+  // Local search (+-3 deg, +-8 nm) minimising the summed squared Lab distance of both images.
+  const wa = max(1, <i32>roundHalfUp(3 / aStep)), wr = max(1, <i32>roundHalfUp(8 / rStep));
+  let fine = Infinity, fj = bj, fk = bk;
+  const kLo = max(0, bk - wr), kHi = min(nR - 1, bk + wr);
+  for (let dj = -wa; dj <= wa; dj++) {
+    const j = (((bj + dj) % nA) + nA) % nA;
+    for (let k = kLo; k <= kHi; k++) {
+      const d = pairCost(C, D, 3 * (j * nR + k), a0, a1, a2, b0, b1, b2);
+      if (d < fine) { fine = d; fj = j; fk = k; }
+    }
+  }
+  // Best candidate that differs by more than 3 deg or 30 nm: how far the reading stands out.
+  const gj = roundHalfUp((load<f64>(angles + (<usize>fj << 3)) - load<f64>(angles)) / aStep), gk = roundHalfUp(load<f64>(rets + (<usize>fk << 3)) / rStep);
+  let alternative = Infinity;
+  for (let r = 0; r < nRows; r++) {
+    let dj = Math.abs(<f64>(r * stride) - gj) * aStep;
+    if (dj > 90) dj = 180 - dj;
+    const near = dj <= 3;
+    if (!(near && Math.abs(<f64>load<u16>(ra + (<usize>r << 1)) - gk) * rStep <= 30)) alternative = min(alternative, load<f64>(costA + (<usize>r << 3)));
+    if (!(near && Math.abs(<f64>load<u16>(rb + (<usize>r << 1)) - gk) * rStep <= 30)) alternative = min(alternative, load<f64>(costB + (<usize>r << 3)));
+  }
+  store<i32>(out, fj); store<i32>(out, fk, 4); store<f64>(out, fine, 8); store<f64>(out, alternative, 16);
 }

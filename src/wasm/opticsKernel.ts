@@ -10,6 +10,13 @@ export interface OpticsKernelExports {
     angle: number, amplitude: number, residual: number, bg: number, confidence: number, cos2: number, sin2: number, mask: number, sums: number, counts: number): void;
   plateCells(r: number, g: number, b: number, n: number, bits: number, full: number, levels: number, subs: number, clip: number, index: number, fresh: number, counts: number): number;
   plateWrite(subs: number, n: number, index: number, readings: number, angle: number, retardance: number, confidence: number, mask: number): number;
+  pairCells(ra: number, ga: number, ba: number, rb: number, gb: number, bb: number, n: number, bits: number, full: number, levelsA: number, levelsB: number,
+    clip: number, table: number, shift: number, hits: number, fresh: number, counts: number): number;
+  pairRehash(from: number, fromShift: number, to: number, toShift: number): void;
+  pairWrite(hits: number, n: number, table: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
+  cellRows(C: number, nR: number, nRows: number, stride: number, boxes: number, nBoxes: number, boxEntries: number, l0: number, l1: number, l2: number, rows: number): void;
+  pairRead(C: number, D: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,
+    a0: number, a1: number, a2: number, b0: number, b1: number, b2: number, ra: number, rb: number, bj: number, bk: number, costs: number, out: number): void;
 }
 
 let instance: OpticsKernelExports | null = null;
@@ -79,4 +86,5 @@ export class OpticsLayout {
   f64(offset: number, count: number): Float64Array { return new Float64Array(this.k.memory.buffer, offset, count); }
   i32(offset: number, count: number): Int32Array { return new Int32Array(this.k.memory.buffer, offset, count); }
   u8(offset: number, count: number): Uint8Array { return new Uint8Array(this.k.memory.buffer, offset, count); }
+  u16(offset: number, count: number): Uint16Array { return new Uint16Array(this.k.memory.buffer, offset, count); }
 }

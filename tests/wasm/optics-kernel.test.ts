@@ -137,6 +137,72 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
   });
 });
 
+describe('the optics kernel: the plate pair', () => {
+  it('gives pixels with the same pair of colour cells the same table entry, lists each new pair once, and keeps entries through a rehash', () => {
+    const k = opticsKernel(), mem = new OpticsLayout(k), n = 5, bits = 2;
+    const planes = [0, 1, 2, 3, 4, 5].map(() => mem.reserve(32)), clip = mem.reserve(16), hits = mem.reserve(32), fresh = mem.reserve(32), counts = mem.reserve(4);
+    const out = [0, 1, 2, 3, 4].map(() => mem.reserve(32)), mask = mem.reserve(16), small = mem.reserve(32 * 16), big = mem.reserve(32 * 32);
+    mem.commit();
+    // Image A: pixels 0, 1, 3 one colour, pixel 2 another, pixel 4 at full scale; image B: one colour, pixel 3 another.
+    const A = [[0, 0, 1, 0, 1], [0, 0, 0, 0, 0.2], [0, 0, 0, 0, 0.2]], Bi = [[0.9, 0.9, 0.9, 0, 0.5], [0.34, 0.34, 0.34, 0.34, 0.34], [0, 0, 0, 0, 0]];
+    [...A, ...Bi].forEach((p, j) => mem.f32(planes[j], n).set(p));
+    // Values just below full scale are usable: 0.998 in image A's first plane of pixel 2.
+    mem.f32(planes[0], n)[2] = 0.998;
+    mem.u8(clip, 16).fill(0); mem.i32(counts, 1).fill(0); mem.i32(small, 8 * 16).fill(-1);
+    const shift = 32 - 4; // 16 entries
+    const nFresh = k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, small, shift, hits, fresh, counts);
+    const h = Array.from(mem.i32(hits, n));
+    expect(h[0]).toBe(h[1]);
+    expect(new Set([h[0], h[2], h[3]]).size).toBe(3);
+    expect(h[4]).toBe(-1);
+    expect(nFresh).toBe(3);
+    expect(Array.from(mem.i32(counts, 1))).toEqual([1]);
+    expect(Array.from(mem.u8(clip, n))).toEqual([0, 0, 0, 0, 1]);
+    // Cells: 3 levels a channel, round(3 v): A pixel 0 = (0, 0, 0) = 0, pixel 2 = (3, 0, 0) = 48; B pixel 0 = (3, 1, 0) = 52, pixel 3 = (0, 1, 0) = 4.
+    const ints = mem.i32(small, 8 * 16);
+    expect([ints[h[0] / 4], ints[h[0] / 4 + 1], ints[h[2] / 4], ints[h[2] / 4 + 1], ints[h[3] / 4], ints[h[3] / 4 + 1]]).toEqual([0, 52, 48, 52, 0, 4]);
+    // Readings written by the caller, then moved into a table twice the size: the same pairs find the same readings.
+    const floats = mem.f32(small, 8 * 16);
+    [h[0], h[2], h[3]].forEach((o, j) => { floats.set([0.1 * (j + 1), 100 * (j + 1), 0.5, 1, 0], o / 4 + 2); ints[o / 4 + 7] = j === 1 ? 1 : 0; });
+    mem.i32(big, 8 * 32).fill(-1);
+    k.pairRehash(small, shift, big, shift - 1);
+    expect(k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, big, shift - 1, hits, fresh, counts)).toBe(0);
+    expect(k.pairWrite(hits, n, big, out[0], out[1], out[2], out[3], out[4], mask)).toBe(1);
+    expect(Array.from(mem.f32(out[1], n))).toEqual([100, 100, 200, 300, 0]);
+    expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 1, 0]);
+  });
+
+  it('finds on every row the retardance a scan of every 4th entry and then +-4 entries around the best finds (cellRows)', () => {
+    // A made-up lookup: 6 rows of 40 retardances, Lab along a helix; boxes as CellRows makes them (8 coarse entries each).
+    const nR = 40, nRows = 3, stride = 2, boxEntries = 8, nBoxes = Math.ceil(Math.ceil(nR / 4) / boxEntries);
+    const C = Float32Array.from({ length: 6 * nR * 3 }, (_, i) => { const e = Math.floor(i / 3), d = i % 3; return d === 0 ? 50 + 0.5 * (e % nR) : 30 * Math.cos(0.3 * e + d); });
+    const boxes = new Float64Array(nRows * nBoxes * 6);
+    for (let r = 0; r < nRows; r++) for (let g = 0; g < nBoxes; g++) {
+      const o = 6 * (r * nBoxes + g);
+      boxes.fill(Infinity, o, o + 3); boxes.fill(-Infinity, o + 3, o + 6);
+      for (let kk = 4 * boxEntries * g; kk < Math.min(nR, 4 * boxEntries * (g + 1)); kk += 4) for (let d = 0; d < 3; d++) {
+        boxes[o + d] = Math.min(boxes[o + d], C[3 * (r * stride * nR + kk) + d]); boxes[o + 3 + d] = Math.max(boxes[o + 3 + d], C[3 * (r * stride * nR + kk) + d]);
+      }
+    }
+    const k = opticsKernel(), mem = new OpticsLayout(k);
+    const cAt = mem.reserve(4 * C.length), bAt = mem.reserve(8 * boxes.length), rowsAt = mem.reserve(2 * nRows);
+    mem.commit();
+    mem.f32(cAt, C.length).set(C); mem.f64(bAt, boxes.length).set(boxes);
+    const d2 = (r: number, kk: number, q: number[]) => [0, 1, 2].reduce((s, d) => s + (C[3 * (r * stride * nR + kk) + d] - q[d]) ** 2, 0);
+    for (const q of [[55, 10, -20], [62, -25, 5], [50, 0, 0], [70, 29, 29]]) {
+      k.cellRows(cAt, nR, nRows, stride, bAt, nBoxes, boxEntries, q[0], q[1], q[2], rowsAt);
+      // The scan without boxes: the first nearest of every 4th entry, then each of +-4 entries nearer than the best so far.
+      const want = [0, 1, 2].map((r) => {
+        let bk = 0, bd = Infinity;
+        for (let kk = 0; kk < nR; kk += 4) if (d2(r, kk, q) < bd) { bd = d2(r, kk, q); bk = kk; }
+        for (let kk = Math.max(0, bk - 4); kk <= Math.min(nR - 1, bk + 4); kk++) if (d2(r, kk, q) < bd) { bd = d2(r, kk, q); bk = kk; }
+        return bk;
+      });
+      expect(Array.from(mem.u16(rowsAt, nRows)), `colour ${q}`).toEqual(want);
+    }
+  });
+});
+
 describe('the committed optics kernel binary', () => {
   it('is what the AssemblyScript source compiles to (run npm run wasm after editing it)', async () => {
     const build = await import('../../bin/build-wasm.ts');
