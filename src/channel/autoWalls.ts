@@ -67,12 +67,15 @@ const MIN_KEPT_SHARE = 0.2;
  */
 const TEXTURE_END_GAP_PX = 0.5;
 /**
- * The material's texture (its variance about the wall's mean profile) must be at least this many times the
- * variance just outside the wall for textureEnd to place anything: on our renderings 23-170 for grey
- * textures and 13-1200 for compensator colours (the least against a dark band of the sample-free colour,
- * whose camera noise in three channels is a large part of it).
+ * The material's texture (its variance about the wall's mean profile, textureAcross) must be at least this
+ * many times the variance just outside each wall, for textureEnd to place anything and for the walls to be
+ * kept at all. On our renderings of every wall kind (validation area 'channel', 95 renderings) the lesser
+ * of a rendering's two walls was 15.7-45 for grey textures and 6.7-90 for compensator colours (the least
+ * against a dark band of the sample-free colour, whose camera noise in three channels is a large part of
+ * it); walls picked out of scikit-image's photographs with no channel were refused at 0.55-3.7 (phantom,
+ * hubble_deep_field, bw_text, ihc, text, coins). 5 lies between, about as far from either in ratio.
  */
-const TEXTURE_CONTRAST = 4;
+const TEXTURE_CONTRAST = 5;
 /** How far from the consensus line a strip may place the wall, px. */
 const NEAR_LINE_PX = 4;
 
@@ -95,8 +98,15 @@ const NEAR_LINE_PX = 4;
  * 3. Each wall is the total-least-squares line through the points most of them agree with (robustLine);
  *    the strips are cut again along the walls' bisector and the search repeated. Each wall's RMS residual is
  *    returned so the user can judge it.
+ * 4. The material ends where its texture ends (textureAcross: the variance about the wall's mean profile,
+ *    which a straight wall's own bands and lines do not add to). A wall found more than 0.5 px beyond that
+ *    is a line's outer side, a line too thin or too faint for its inner side to show in the strips: it is
+ *    moved to the texture's end, along the line through the strips' strongest changes.
+ * 5. A wall whose inside has under TEXTURE_CONTRAST times the texture of its outside bounds no channel's
+ *    material: refused.
  *
- * @throws InputError when the image is flat or no two walls can be told apart on either side
+ * @throws InputError when the image is flat, no two walls can be told apart on either side, or the walls
+ *   found do not bound textured material
  */
 export async function findWalls(input: Image | Plane, options: AutoWallOptions = {}): Promise<FoundWalls> {
   const maxTaper = ((options.maxTaperDeg ?? AUTO_WALL_DEFAULTS.maxTaperDeg) * Math.PI) / 180;
@@ -145,6 +155,21 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
       if (end === null || end >= -TEXTURE_END_GAP_PX) continue;
       fits[i] = { ...f, line: { ...f.line, px: f.line.px + end * nx, py: f.line.py + end * ny } };
       break;
+    }
+  }
+  // A channel's walls bound its material: inside each wall the material's texture, beyond it none (glass,
+  // a band, an empty background). Edges picked out of a photograph with no channel have as much texture on
+  // both sides.
+  for (const i of [0, 1]) {
+    const line = fits[i].line, other = fits[1 - i].line;
+    let nx = -line.uy, ny = line.ux;
+    if ((other.px - line.px) * nx + (other.py - line.py) * ny > 0) { nx = -nx; ny = -ny; }
+    const across = textureAcross(features.slice(0, intensities), line, nx, ny);
+    if (across && !(across.contrast >= TEXTURE_CONTRAST)) {
+      throw new InputError(
+        `the material inside the ${i === 0 ? 'first' : 'second'} wall found has only ${across.contrast.toFixed(1)} times the texture of what lies beyond it (a channel's material has at least ${TEXTURE_CONTRAST} times): no channel could be told apart`,
+        'Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel',
+      );
     }
   }
   const segs = fits.map((f) => clipLine(f.line, width, height));
@@ -678,6 +703,8 @@ function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number)
 
 /** Offsets across a wall over which textureEnd looks, px (outward positive), and its bin widths. */
 const TEXTURE_END_FROM_PX = -16, TEXTURE_END_TO_PX = 4, PROFILE_BIN_PX = 0.1, VARIANCE_BIN_PX = 0.5;
+/** Length along the wall over which textureAcross takes the material's local mean, px. */
+const TEXTURE_SEGMENT_PX = 64;
 
 /**
  * Where the material's texture ends across a wall: the offset t (px along the outward normal (nx, ny) from
@@ -686,16 +713,19 @@ const TEXTURE_END_FROM_PX = -16, TEXTURE_END_TO_PX = 4, PROFILE_BIN_PX = 0.1, VA
  * Every pixel within the wall's visible length and -16 <= t <= 4 is binned by its distance t from the line.
  * The mean profile across the wall, P(t) (bins of 0.1 px, linearly interpolated), is what the wall itself
  * looks like: for a straight wall, a pixel's value is a function of its distance alone, whatever the wall's
- * bands or lines and however the pixel grid cuts them. What is left, V(t) = mean over the pixels in a
- * 0.5 px bin of sum over brightness features of (I - P(t_pixel))^2, is the texture's variance (and the
- * camera's noise). V_in is its median at t <= -6, V_out its least value at t >= -2, the amplitude
+ * bands or lines and however the pixel grid cuts them. What is left, r = I - P(t_pixel) in each brightness
+ * feature, is the texture (and the camera's noise); its variance V(t) is pooled over cells of a 0.5 px bin
+ * by 64 px along the wall, each about its own least-squares straight line in the along-wall position, so a
+ * brightness that changes slowly along the wall (uneven light, a line fading out) does not count:
+ * V(t) = sum over cells and features of the residual sum of squares / sum (n_cell - 2). V_in is its median at t <= -6, V_out its least value at t >= -2, the amplitude
  * sqrt(V - V_out); walking in from the outside, the first crossing of half of sqrt(V_in - V_out), linearly
  * interpolated. For texture much finer across than the blur, the amplitude falls as the blurred share of
  * material, Phi(-t / sigma), which is half at the edge itself (derived). On our renderings this lies within
  * -0.3..+0.5 px of the inner edge for grey textures and -0.6..+0.8 px for compensator colours.
- * null when V_in is not TEXTURE_CONTRAST times V_out (no texture to see, or as much on both sides).
+ * Returns the end (null when V_in is not TEXTURE_CONTRAST times V_out: no texture to see, or as much on
+ * both sides) and the texture contrast V_in / V_out; null when the wall's pixels do not fill the bins.
  */
-function textureEnd(planes: Plane[], line: Line, nx: number, ny: number): number | null {
+function textureAcross(planes: Plane[], line: Line, nx: number, ny: number): { endPx: number | null; contrast: number } | null {
   const { width: w, height: h } = planes[0];
   const seg = clipLine(line, w, h);
   if (!seg) return null;
@@ -707,12 +737,12 @@ function textureEnd(planes: Plane[], line: Line, nx: number, ny: number): number
   const ys = [seg.y1 + T0 * ny, seg.y1 + T1 * ny, seg.y2 + T0 * ny, seg.y2 + T1 * ny];
   const x0 = Math.max(0, Math.floor(Math.min(...xs))), x1 = Math.min(w - 1, Math.ceil(Math.max(...xs)));
   const y0 = Math.max(0, Math.floor(Math.min(...ys))), y1 = Math.min(h - 1, Math.ceil(Math.max(...ys)));
-  /** Calls fn for every pixel near the wall's visible length, with its distance t from the line. */
-  const eachPixel = (fn: (i: number, t: number) => void) => {
+  /** Calls fn for every pixel near the wall's visible length, with its distance t from the line and along it a. */
+  const eachPixel = (fn: (i: number, t: number, a: number) => void) => {
     for (let y = y0; y <= y1; y++) {
       for (let x = x0; x <= x1; x++) {
         const dx = x - seg.x1, dy = y - seg.y1, a = dx * ux + dy * uy, t = dx * nx + dy * ny;
-        if (a >= 2 && a <= len - 2 && t >= T0 && t <= T1) fn(y * w + x, t);
+        if (a >= 2 && a <= len - 2 && t >= T0 && t <= T1) fn(y * w + x, t, a);
       }
     }
   };
@@ -733,29 +763,58 @@ function textureEnd(planes: Plane[], line: Line, nx: number, ny: number): number
     const r = hi > lo && k > lo ? Math.min(1, (k - lo) / (hi - lo)) : 0;
     for (let f = 0; f < F; f++) profile[k * F + f] = (sums[lo * F + f] / counts[lo]) * (1 - r) + (sums[hi * F + f] / counts[hi]) * r;
   }
-  const vSum = new Float64Array(nBins), vCount = new Float64Array(nBins);
-  eachPixel((i, t) => {
+  // The residuals' variance about a straight line in a (least squares) within cells of one 0.5 px bin by
+  // TEXTURE_SEGMENT_PX along the wall, pooled: a brightness that changes slowly along the wall (uneven
+  // light, a line fading out) is not texture.
+  const nSeg = Math.max(1, Math.ceil(len / TEXTURE_SEGMENT_PX)), nCells = nSeg * nBins;
+  const n = new Float64Array(nCells), sa = new Float64Array(nCells), saa = new Float64Array(nCells), srr = new Float64Array(nCells);
+  const sr = new Float64Array(nCells * F), sar = new Float64Array(nCells * F);
+  eachPixel((i, t, a) => {
     const u = (t - T0) / PROFILE_BIN_PX, k = Math.min(nFine - 2, Math.floor(u)), r = u - k;
-    let s2 = 0;
-    for (let f = 0; f < F; f++) s2 += (planes[f].data[i] - profile[k * F + f] * (1 - r) - profile[(k + 1) * F + f] * r) ** 2;
-    const b = Math.round((t - T0) / VARIANCE_BIN_PX);
-    vSum[b] += s2;
-    vCount[b]++;
+    const g = Math.min(nSeg - 1, Math.floor(a / TEXTURE_SEGMENT_PX)), cell = g * nBins + Math.round((t - T0) / VARIANCE_BIN_PX);
+    const al = a - g * TEXTURE_SEGMENT_PX;
+    n[cell]++; sa[cell] += al; saa[cell] += al * al;
+    for (let f = 0; f < F; f++) {
+      const d = planes[f].data[i] - profile[k * F + f] * (1 - r) - profile[(k + 1) * F + f] * r;
+      sr[cell * F + f] += d; sar[cell * F + f] += al * d; srr[cell] += d * d;
+    }
   });
   const ts: number[] = [], V: number[] = [];
-  for (let b = 0; b < nBins; b++) { ts.push(T0 + b * VARIANCE_BIN_PX); V.push(vCount[b] >= 16 ? vSum[b] / vCount[b] : NaN); }
+  for (let b = 0; b < nBins; b++) {
+    let ss = 0, dof = 0;
+    for (let g = 0; g < nSeg; g++) {
+      const c = g * nBins + b, m = n[c];
+      if (m < 3) continue;
+      const aa = saa[c] - (sa[c] * sa[c]) / m;
+      let rest = srr[c];
+      for (let f = 0; f < F; f++) {
+        const ar = sar[c * F + f] - (sa[c] * sr[c * F + f]) / m;
+        rest -= (sr[c * F + f] ** 2) / m + (aa > 0 ? (ar * ar) / aa : 0);
+      }
+      ss += rest;
+      dof += m - 2;
+    }
+    ts.push(T0 + b * VARIANCE_BIN_PX);
+    V.push(dof >= 16 ? ss / dof : NaN);
+  }
   const vIn = median(V.filter((_, j) => ts[j] <= -6));
   const near = V.filter((v, j) => ts[j] >= -2 && Number.isFinite(v));
   if (near.length < 3 || !Number.isFinite(vIn)) return null;
   const vOut = Math.min(...near);
-  if (!(vIn > TEXTURE_CONTRAST * vOut)) return null;
+  const contrast = vOut > 0 ? vIn / vOut : vIn > 0 ? Infinity : 0;
+  if (!(contrast > TEXTURE_CONTRAST)) return { endPx: null, contrast };
   const half = 0.5 * Math.sqrt(vIn - vOut);
   const amp = V.map((v) => Math.sqrt(Math.max(0, v - vOut)));
   for (let j = ts.length - 1; j > 0; j--) {
     if (!(amp[j] < half)) continue;
-    if (amp[j - 1] >= half) return ts[j - 1] + ((ts[j] - ts[j - 1]) * (amp[j - 1] - half)) / (amp[j - 1] - amp[j]);
+    if (amp[j - 1] >= half) return { endPx: ts[j - 1] + ((ts[j] - ts[j - 1]) * (amp[j - 1] - half)) / (amp[j - 1] - amp[j]), contrast };
   }
-  return null;
+  return { endPx: null, contrast };
+}
+
+/** textureAcross's end of the texture alone (null where it places none). */
+function textureEnd(planes: Plane[], line: Line, nx: number, ny: number): number | null {
+  return textureAcross(planes, line, nx, ny)?.endPx ?? null;
 }
 
 /** Sub-pixel place of a peak of change at row d: a parabola through the change along its own direction at d - 1, d, d + 1. */

@@ -16,8 +16,14 @@ const dataDir = existsSync(PY)
 
 describe.skipIf(!dataDir)('findWalls on photographs with no channel', () => {
   // camera: a man with a tripod; chessboard: squares; astronaut: a portrait; cell: a cell in phase contrast;
-  // rocket: a launch; clock_motion: a motion-blurred clock; moon: a lunar surface.
-  for (const name of ['camera.png', 'chessboard_GRAY.png', 'astronaut.png', 'cell.png', 'rocket.jpg', 'clock_motion.png', 'moon.png']) {
+  // rocket: a launch; clock_motion: a motion-blurred clock; moon: a lunar surface; text: handwritten text on a
+  // street sign; coins: old coins on a plain ground; hubble_deep_field: galaxies on a dark sky; ihc: a stained
+  // tissue section; bw_text: printed black text; phantom: a simulated head cross-section. The last six have
+  // straight, parallel edges the strips agree on, but as much texture beyond them as between them.
+  for (const name of [
+    'camera.png', 'chessboard_GRAY.png', 'astronaut.png', 'cell.png', 'rocket.jpg', 'clock_motion.png', 'moon.png',
+    'text.png', 'coins.png', 'hubble_deep_field.jpg', 'ihc.png', 'bw_text.png', 'phantom.png',
+  ]) {
     it(`refuses ${name} in one plain line`, async () => {
       const [img] = await loadImageFiles([join(dataDir, name)]);
       const err = await findWalls(img).then(() => null, (e: unknown) => e);
