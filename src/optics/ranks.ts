@@ -4,16 +4,14 @@
  * selection). Mapped to unsigned keys (sign bit flipped for positive values, every bit for negative ones) the
  * IEEE 754 bit patterns sort as the values do, so a histogram of the upper 16 bits finds the bucket that holds
  * each wanted rank and a second histogram of the lower 16 bits inside it finds the exact value: the same value a
- * sort would put at that rank, in two passes over the pixels and 0.5 MB of counts, whatever their number.
+ * sort would put at that rank, in two passes over the pixels and 0.5 MB of counts, whatever their number. The
+ * passes run in the optics kernel (src/wasm/opticsKernel.as.ts: rankHigh, rankLow, with the sort key u XOR ((u >> 31) |
+ * 0x80000000): every bit flipped for a negative value, the sign bit for a positive one).
  */
+
+import { opticsKernel, OpticsLayout, type OpticsKernelExports } from '../wasm/index.ts';
 
 const HALF = 1 << 16;
-
-/**
- * Unsigned sort key of a float32 bit pattern: every bit flipped for a negative value, the sign bit for a positive
- * one; without a branch, u XOR ((u >> 31) | 0x80000000), as u >> 31 is all ones for a negative value and 0 else.
- */
-const keyOf = (u: number): number => (u ^ ((u >> 31) | 0x80000000)) >>> 0;
 
 /** The float32 value of a sort key. */
 function valueOfKey(key: number): number {
@@ -60,45 +58,39 @@ export function valuesOfRanks(values: Float32Array, sel: RankSelection, ranksOf:
   });
 }
 
-/*
- * The two passes over the pixels are small functions of their own, so that each is optimised once and kept across
- * calls (a pass inside the caller ran from code compiled for the loop alone, dropped after it at each call).
+/** Pixels per call of the optics kernel's counting passes. */
+const RANK_BLOCK_PX = 1 << 15;
+
+/**
+ * One counting pass of the optics kernel (src/wasm/opticsKernel.as.ts: rankHigh, rankLow) over every pixel, a block at a
+ * time: the values' bits, the mask and minOf copied into its memory, the counts made there (`counts` int32s, starting
+ * from 0) and copied into `out`. `extra`: int32s the pass reads besides (the wanted buckets' slots), or null.
  */
+function countPass(bits: Uint32Array, mask: Uint8Array, minOf: Float32Array | null, extra: Int32Array | null, out: Int32Array,
+  run: (k: OpticsKernelExports, at: { bits: number; mask: number; minOf: number; extra: number; counts: number }, len: number) => number): number {
+  const k = opticsKernel(), mem = new OpticsLayout(k), n = bits.length, B = Math.min(Math.max(n, 1), RANK_BLOCK_PX);
+  const at = { bits: mem.reserve(4 * B), mask: mem.reserve(B), minOf: minOf ? mem.reserve(4 * B) : 0, extra: extra ? mem.reserve(4 * extra.length) : 0, counts: mem.reserve(4 * out.length) };
+  mem.commit();
+  if (extra) mem.i32(at.extra, extra.length).set(extra);
+  mem.i32(at.counts, out.length).fill(0);
+  let total = 0;
+  for (let i0 = 0; i0 < n; i0 += B) {
+    const len = Math.min(B, n - i0), i1 = i0 + len;
+    new Uint32Array(k.memory.buffer, at.bits, len).set(bits.subarray(i0, i1));
+    mem.u8(at.mask, len).set(mask.subarray(i0, i1));
+    if (minOf) mem.f32(at.minOf, len).set(minOf.subarray(i0, i1));
+    total += run(k, at, len);
+  }
+  out.set(mem.i32(at.counts, out.length));
+  return total;
+}
 
 /** Counts of the selected pixels' keys by their upper 16 bits into `high`; returns the number selected. */
 function highCounts(bits: Uint32Array, mask: Uint8Array, minOf: Float32Array | null, min: number, high: Int32Array): number {
-  const n = bits.length;
-  let count = 0;
-  if (minOf) {
-    for (let i = 0; i < n; i++) {
-      if (!mask[i] || !(minOf[i] >= min)) continue;
-      high[keyOf(bits[i]) >>> 16]++;
-      count++;
-    }
-  } else {
-    for (let i = 0; i < n; i++) {
-      if (!mask[i]) continue;
-      high[keyOf(bits[i]) >>> 16]++;
-      count++;
-    }
-  }
-  return count;
+  return countPass(bits, mask, minOf, null, high, (k, at, len) => k.rankHigh(at.bits, at.mask, at.minOf, min, len, at.counts));
 }
 
 /** Counts of the selected pixels' keys in the wanted buckets by their lower 16 bits, at low[slot[bucket] + lower]. */
 function lowCounts(bits: Uint32Array, mask: Uint8Array, minOf: Float32Array | null, min: number, slot: Int32Array, low: Int32Array): void {
-  const n = bits.length;
-  if (minOf) {
-    for (let i = 0; i < n; i++) {
-      if (!mask[i] || !(minOf[i] >= min)) continue;
-      const key = keyOf(bits[i]), o = slot[key >>> 16];
-      if (o >= 0) low[o + (key & 0xffff)]++;
-    }
-  } else {
-    for (let i = 0; i < n; i++) {
-      if (!mask[i]) continue;
-      const key = keyOf(bits[i]), o = slot[key >>> 16];
-      if (o >= 0) low[o + (key & 0xffff)]++;
-    }
-  }
+  countPass(bits, mask, minOf, slot, low, (k, at, len) => { k.rankLow(at.bits, at.mask, at.minOf, min, len, at.extra, at.counts); return 0; });
 }

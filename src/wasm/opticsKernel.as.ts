@@ -4,7 +4,7 @@
 // runs four pixels per WebAssembly SIMD instruction in float32 arithmetic: its readings differ from a float64
 // evaluation of the same formulas by a few units in the last place (tests/wasm/optics-kernel.test.ts). The plate
 // reading's and the plate pair's colour cells (src/optics/plateReader.ts, platePair.ts) are the same float64 operations
-// as the TypeScript's before.
+// as the TypeScript's before, and so are the rank selection's counts (src/optics/ranks.ts).
 // All arrays are at byte offsets the caller chooses (src/wasm/opticsKernel.ts lays them out); counts of pixels
 // need not be multiples of four (the lanes past the end are computed and neither stored as read nor counted).
 
@@ -473,4 +473,50 @@ export function pairRead(C: usize, D: usize, nA: i32, nR: i32, stride: i32, nRow
     if (!(near && Math.abs(<f64>load<u16>(rb + (<usize>r << 1)) - gk) * rStep <= 30)) alternative = min(alternative, load<f64>(costB + (<usize>r << 3)));
   }
   store<i32>(out, fj); store<i32>(out, fk, 4); store<f64>(out, fine, 8); store<f64>(out, alternative, 16);
+}
+
+/**
+ * Unsigned sort key of a float32 bit pattern (src/optics/ranks.ts, keyOf): every bit flipped for a negative value,
+ * the sign bit for a positive one, so that keys sort as the values do.
+ */
+// @ts-ignore: decorator
+@inline
+function sortKey(u: u32): u32 {
+  return u ^ (<u32>(<i32>u >> 31) | 0x80000000);
+}
+
+/** Whether pixel t counts: mask[t] set and, with minOf != 0, minOf[t] >= min (src/optics/ranks.ts, RankSelection). */
+// @ts-ignore: decorator
+@inline
+function selected(mask: usize, minOf: usize, min: f64, t: i32): bool {
+  return load<u8>(mask + <usize>t) != 0 && (!minOf || <f64>load<f32>(minOf + (<usize>t << 2)) >= min);
+}
+
+/**
+ * The rank selection's first pass over n pixels (src/optics/ranks.ts, highCounts): counts of the selected pixels'
+ * sort keys by their upper 16 bits into high (65536 int32s, added to); returns the number selected.
+ */
+export function rankHigh(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, high: usize): i32 {
+  let count = 0;
+  for (let t = 0; t < n; t++) {
+    if (!selected(mask, minOf, min, t)) continue;
+    const at = high + (<usize>(sortKey(load<u32>(bits + (<usize>t << 2))) >>> 16) << 2);
+    store<i32>(at, load<i32>(at) + 1);
+    count++;
+  }
+  return count;
+}
+
+/**
+ * The rank selection's second pass (src/optics/ranks.ts, lowCounts): counts of the selected pixels' keys in the wanted
+ * buckets by their lower 16 bits, at low[slot[bucket] + lower] (slot: 65536 int32s, -1 for buckets not wanted).
+ */
+export function rankLow(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, slot: usize, low: usize): void {
+  for (let t = 0; t < n; t++) {
+    if (!selected(mask, minOf, min, t)) continue;
+    const key = sortKey(load<u32>(bits + (<usize>t << 2))), o = load<i32>(slot + (<usize>(key >>> 16) << 2));
+    if (o < 0) continue;
+    const at = low + (<usize>(o + <i32>(key & 0xffff)) << 2);
+    store<i32>(at, load<i32>(at) + 1);
+  }
 }

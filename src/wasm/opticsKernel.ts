@@ -14,6 +14,8 @@ export interface OpticsKernelExports {
     clip: number, table: number, shift: number, hits: number, fresh: number, counts: number): number;
   pairRehash(from: number, fromShift: number, to: number, toShift: number): void;
   pairWrite(hits: number, n: number, table: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
+  rankHigh(bits: number, mask: number, minOf: number, min: number, n: number, high: number): number;
+  rankLow(bits: number, mask: number, minOf: number, min: number, n: number, slot: number, low: number): void;
   cellRows(C: number, nR: number, nRows: number, stride: number, boxes: number, nBoxes: number, boxEntries: number, l0: number, l1: number, l2: number, rows: number): void;
   pairRead(C: number, D: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,
     a0: number, a1: number, a2: number, b0: number, b1: number, b2: number, ra: number, rb: number, bj: number, bk: number, costs: number, out: number): void;
@@ -48,6 +50,9 @@ export function opticsKernel(): OpticsKernelExports {
     throw new InputError('this browser or Node.js has no WebAssembly', 'Use a current Chromium, Firefox, Safari or Node.js 20');
   }
   const bytes = Uint8Array.from(atob(OPTICS_KERNEL_WASM), (c) => c.charCodeAt(0));
+  if (!WebAssembly.validate(bytes)) {
+    throw new InputError('this browser or Node.js cannot run WebAssembly SIMD, which the optical readings need', 'Use Chromium 91, Firefox 89, Safari 16.4, Node.js 16.4 or newer');
+  }
   const k = new WebAssembly.Instance(new WebAssembly.Module(bytes), {}).exports as unknown as OpticsKernelExports;
   const need = DECODE_TABLE_AT + 4 * DECODE_TABLE_ENTRIES - k.memory.buffer.byteLength;
   if (need > 0) k.memory.grow(Math.ceil(need / 65_536));
