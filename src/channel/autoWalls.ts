@@ -703,6 +703,11 @@ function placeEdge(strip: Strip, p: StepProfile, dir: -1 | 1, predicted: number)
 
 /** Offsets across a wall over which textureEnd looks, px (outward positive), and its bin widths. */
 const TEXTURE_END_FROM_PX = -16, TEXTURE_END_TO_PX = 4, PROFILE_BIN_PX = 0.1, VARIANCE_BIN_PX = 0.5;
+/**
+ * Least texture variance textureAcross counts, in squared units of full scale: 1e-12 is below the rounding of a
+ * 16-bit camera (step^2 / 12 = 1.9e-11), so only images with no noise at all reach it.
+ */
+const TEXTURE_VARIANCE_FLOOR = 1e-12;
 /** Length along the wall over which textureAcross takes the material's local mean, px. */
 const TEXTURE_SEGMENT_PX = 64;
 
@@ -800,8 +805,9 @@ function textureAcross(planes: Plane[], line: Line, nx: number, ny: number): { e
   const vIn = median(V.filter((_, j) => ts[j] <= -6));
   const near = V.filter((v, j) => ts[j] >= -2 && Number.isFinite(v));
   if (near.length < 3 || !Number.isFinite(vIn)) return null;
-  const vOut = Math.min(...near);
-  const contrast = vOut > 0 ? vIn / vOut : vIn > 0 ? Infinity : 0;
+  // Variances below the floor are rounding, not light (an image with no noise at all).
+  const vOut = Math.max(Math.min(...near), TEXTURE_VARIANCE_FLOOR);
+  const contrast = vIn / vOut;
   if (!(contrast > TEXTURE_CONTRAST)) return { endPx: null, contrast };
   const half = 0.5 * Math.sqrt(vIn - vOut);
   const amp = V.map((v) => Math.sqrt(Math.max(0, v - vOut)));

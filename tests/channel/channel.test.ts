@@ -243,6 +243,16 @@ describe('findWalls', () => {
     expect((err as InputError).message).toMatch(/texture/);
   });
 
+  it('refuses a channel whose stripes run exactly along its walls, with or without camera noise', async () => {
+    // Stripes 0.55 +- 0.35 of period 9 px parallel to the walls between y = 40 and 160, dark 0.1 outside: nothing
+    // changes along a wall, so no texture tells where the material ends (a step of the stripes looks like a wall).
+    const W = 240, H = 200, data = new Float32Array(W * H);
+    for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) data[y * W + x] = y > 40 && y < 160 ? 0.55 + 0.35 * Math.sin((2 * Math.PI * y) / 9) : 0.1;
+    for (const img of [{ width: W, height: H, data }, addNoise({ width: W, height: H, data }, 0.01, 3)]) {
+      await expect(findWalls(img)).rejects.toThrow(/texture/);
+    }
+  });
+
   it('says when there is no channel to find', async () => {
     const flat = { width: 100, height: 80, data: new Float32Array(8000).fill(0.3) };
     await expect(findWalls(flat)).rejects.toThrow(/flat/);
