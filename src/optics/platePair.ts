@@ -116,6 +116,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PAIR_BLOCK_PX);
   const search = new PairSearch(lutA, lutB, 1 << (3 * bits), mem);
   const rgbAt = mem.reserve(24 * B), clipAt = mem.reserve(B), hitsAt = mem.reserve(4 * B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(4);
+  const cacheAt = mem.reserve(12 * PAIR_CACHE_ENTRIES);
   const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
   const levelsAAt = imgA.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, levelsBAt = imgB.encoding === 'linear' ? mem.reserve(4 * 4097) : 0;
   // The table is laid out last; when it would be more than half full it moves to a table twice the size after it.
@@ -125,6 +126,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   if (levelsAAt) mem.i32(levelsAAt, 4097).set(linearLevelTable(bits));
   if (levelsBAt) mem.i32(levelsBAt, 4097).set(linearLevelTable(bits));
   mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)).fill(-1);
+  mem.i32(cacheAt, 3 * PAIR_CACHE_ENTRIES).fill(-1);
   mem.i32(countsAt, 1).fill(0);
   let belowFloor = 0;
   for (let i0 = 0; i0 < n; i0 += B) {
@@ -135,11 +137,13 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
       mem.i32(to, (PAIR_ENTRY_BYTES / 4) << (33 - shift)).fill(-1);
       k.pairRehash(tableAt, shift, to, shift - 1);
       tableAt = to; shift--;
+      // The cache holds entry offsets of the old table.
+      mem.i32(cacheAt, 3 * PAIR_CACHE_ENTRIES).fill(-1);
     }
     [imgA, imgB].forEach((img, j) => { for (let c = 0; c < 3; c++) mem.f32(rgbAt + 4 * B * (3 * j + c), B).set(img.planes[c].subarray(i0, i1)); });
     mem.u8(clipAt, B).fill(0);
     const nFresh = k.pairCells(rgbAt, rgbAt + 4 * B, rgbAt + 8 * B, rgbAt + 12 * B, rgbAt + 16 * B, rgbAt + 20 * B, len, bits, FULL_SCALE_LEVEL, levelsAAt, levelsBAt,
-      clipAt, tableAt, shift, hitsAt, freshAt, countsAt);
+      clipAt, tableAt, shift, cacheAt, hitsAt, freshAt, countsAt);
     entries += nFresh;
     const fresh = mem.i32(freshAt, nFresh), ints = mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)), floats = mem.f32(tableAt, ints.length);
     for (let f = 0; f < nFresh; f++) {
@@ -193,6 +197,8 @@ const PAIR_BLOCK_PX = 1 << 15;
 /** Bytes per entry of the table of pair readings (src/wasm/opticsKernel.as.ts, PAIR_ENTRY_BYTES): cell A, cell B, then as
  * float32 the angle, retardance, confidence, cos 2 theta and sin 2 theta, and whether the retardance is below the floor. */
 const PAIR_ENTRY_BYTES = 32;
+/** Entries of the kernel's cache of recent pairs (its PAIR_CACHE_BITS). */
+const PAIR_CACHE_ENTRIES = 1 << 12;
 
 /**
  * The search of both images' lookups for one pair of colours: candidates along every ROW_STRIDE-th angle row (each

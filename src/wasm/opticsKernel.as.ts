@@ -285,6 +285,9 @@ function cellOf(r: usize, g: usize, b: usize, o: usize, top: f64, bits: i32, ful
   return -1;
 }
 
+/** log2 of the entries of the plate pair's cache of recent pairs (12 bytes each). */
+const PAIR_CACHE_BITS = 12;
+
 /** Bytes per entry of the plate pair's table: cells A and B, angle, retardance, confidence, cos 2 theta, sin 2 theta, masked. */
 const PAIR_ENTRY_BYTES = 32;
 
@@ -301,9 +304,11 @@ function pairHome(a: i32, b: i32, shift: i32): i32 {
  * in the open-addressing table (2^(32 - shift) entries of PAIR_ENTRY_BYTES, cell A -1 when free): its byte offset in
  * hits, -1 for pixels not usable (counted in counts[0]). Pairs met for the first time get an entry (cells set, the
  * reading for the caller to write) listed in fresh by offset; returns how many. The caller keeps the table at most half full.
+ * cache: 2^PAIR_CACHE_BITS entries of 3 int32s (cell A, cell B, entry offset) of pairs met lately, -1 when empty (the
+ * caller empties it when the table moves).
  */
 export function pairCells(ra: usize, ga: usize, ba: usize, rb: usize, gb: usize, bb: usize, n: i32, bits: i32, full: f64, levelsA: usize, levelsB: usize,
-  clip: usize, table: usize, shift: i32, hits: usize, fresh: usize, counts: usize): i32 {
+  clip: usize, table: usize, shift: i32, cache: usize, hits: usize, fresh: usize, counts: usize): i32 {
   const top = <f64>((1 << bits) - 1), m = (1 << (32 - shift)) - 1;
   let masked = 0, nFresh = 0, lastA = -1, lastB = -1, lastHit = -1;
   for (let t = 0; t < n; t++) {
@@ -311,6 +316,14 @@ export function pairCells(ra: usize, ga: usize, ba: usize, rb: usize, gb: usize,
     const ca = cellOf(ra, ga, ba, o, top, bits, full, levelsA, c), cb = cellOf(rb, gb, bb, o, top, bits, full, levelsB, c);
     if (ca < 0 || cb < 0) { masked++; store<i32>(hits + o, -1); continue; }
     if (ca != lastA || cb != lastB) {
+      lastA = ca; lastB = cb;
+      // The recent pairs first: a direct-mapped cache of PAIR_CACHE entries (cell A, cell B, entry offset) by the hash's top bits.
+      const c = cache + (<usize>pairHome(ca, cb, 32 - PAIR_CACHE_BITS)) * 12;
+      if (load<i32>(c) == ca && load<i32>(c, 4) == cb) {
+        lastHit = load<i32>(c, 8);
+        store<i32>(hits + o, lastHit);
+        continue;
+      }
       let h = pairHome(ca, cb, shift);
       while (true) {
         const e = table + (<usize>h) * PAIR_ENTRY_BYTES, k = load<i32>(e);
@@ -324,7 +337,7 @@ export function pairCells(ra: usize, ga: usize, ba: usize, rb: usize, gb: usize,
         if (k == ca && load<i32>(e, 4) == cb) { lastHit = <i32>(e - table); break; }
         h = (h + 1) & m;
       }
-      lastA = ca; lastB = cb;
+      store<i32>(c, ca); store<i32>(c, cb, 4); store<i32>(c, lastHit, 8);
     }
     store<i32>(hits + o, lastHit);
   }
