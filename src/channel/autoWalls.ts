@@ -61,9 +61,10 @@ const MAX_RESIDUAL_PX = 0.3;
 const MIN_KEPT_SHARE = 0.2;
 /**
  * A brightness step found more than this far beyond the end of the material's texture is the outer side of a
- * line along the wall, not the material's edge, px. On our renderings (validation area 'channel') the
- * texture's end (textureEnd) lies -0.6..+0.8 px from the true inner edge and a band's brightness step within
- * 0.45 px of it, while the outer side of a line 1-4 px wide is placed 1.4-4.3 px beyond it.
+ * line along the wall, not the material's edge, px. On our renderings (validation area 'channel', measured
+ * from the true walls) the texture's end (textureEnd) lies -0.65..+1.0 px from the inner edge (outward
+ * positive; only an end inside the wall found moves it) and a band's brightness step within 0.45 px of it,
+ * while the outer side of a line 1-4 px wide was placed 1.4-4.3 px beyond it.
  */
 const TEXTURE_END_GAP_PX = 0.5;
 /**
@@ -722,11 +723,13 @@ const TEXTURE_SEGMENT_PX = 64;
  * feature, is the texture (and the camera's noise); its variance V(t) is pooled over cells of a 0.5 px bin
  * by 64 px along the wall, each about its own least-squares straight line in the along-wall position, so a
  * brightness that changes slowly along the wall (uneven light, a line fading out) does not count:
- * V(t) = sum over cells and features of the residual sum of squares / sum (n_cell - 2). V_in is its median at t <= -6, V_out its least value at t >= -2, the amplitude
+ * V(t) = sum over cells and features of the residual sum of squares / sum (n_cell - 2). V_in is its median
+ * at t <= -6, V_out its least value at t >= -2 (at least TEXTURE_VARIANCE_FLOOR), the amplitude
  * sqrt(V - V_out); walking in from the outside, the first crossing of half of sqrt(V_in - V_out), linearly
  * interpolated. For texture much finer across than the blur, the amplitude falls as the blurred share of
- * material, Phi(-t / sigma), which is half at the edge itself (derived). On our renderings this lies within
- * -0.3..+0.5 px of the inner edge for grey textures and -0.6..+0.8 px for compensator colours.
+ * material, Phi(-t / sigma), which is half at the edge itself (derived). On our renderings, from the true
+ * walls, this lies -0.35..+1.0 px from the inner edge for grey textures (within +0.4 but for one band) and
+ * -0.65..+0.9 px for compensator colours.
  * Returns the end (null when V_in is not TEXTURE_CONTRAST times V_out: no texture to see, or as much on
  * both sides) and the texture contrast V_in / V_out; null when the wall's pixels do not fill the bins.
  */
