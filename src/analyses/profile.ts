@@ -1,7 +1,7 @@
 import { toGrey, type Image } from '../image/index.ts';
 import { InputError } from '../common/index.ts';
-import type { OrientationField } from '../orientation/index.ts';
-import { channelProfile, findWalls, localAxisRadAt, wallFreeTextureField, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
+import { withFieldPatch, type OrientationField } from '../orientation/index.ts';
+import { channelProfile, findWalls, localAxisRadAt, wallFreeTexturePatch, type Channel, type ChannelProfile, type ProfileOptions } from '../channel/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
 import { chooseMirrorByAxis } from '../optics/index.ts';
 
@@ -32,13 +32,13 @@ export async function resolveChannel(img: Image, req: ProfileRequest): Promise<{
 export async function analyseProfile(img: Image, field: OrientationField, req: ProfileRequest, fieldOptions: Record<string, unknown> = {}): Promise<ProfileResult> {
   const { channel, found } = await resolveChannel(img, req);
   // A texture field next to a wall reads the wall's own edge: recompute those pixels from the interior only.
-  const near = field.method === 'texture' ? wallFreeTextureField(toGrey(img), field, channel) : null;
+  const near = field.method === 'texture' ? wallFreeTexturePatch(toGrey(img), field, channel) : null;
   // One compensator image cannot tell a rod from its mirror image about the compensator axis: take, pixel
   // by pixel, the one nearer the channel's local axis (or the axis the user gave).
-  const read = near ? near.field : req.axisDeg !== undefined
+  const read = near ? field : req.axisDeg !== undefined
     ? chooseMirrorByAxis(field, () => (req.axisDeg! * Math.PI) / 180, `${req.axisDeg} deg`)
     : chooseMirrorByAxis(field, localAxisRadAt(channel), "the channel's local axis");
-  const p = channelProfile(read, channel, req);
+  const p = near ? withFieldPatch(field, near.patch, (patched) => channelProfile(patched, channel, req)) : channelProfile(read, channel, req);
   const { warnings, options, notDetermined, ...rest } = p;
   const ratioUndetermined = !Number.isFinite(p.coreSkinRatio) && Number.isFinite(p.core.order) && Number.isFinite(p.skin.order) && p.skin.n > 0;
   const reasons = {

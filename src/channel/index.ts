@@ -4,4 +4,4 @@ export type { ProfileOptions, ProfileBin, BandStats, StationProfile, ChannelProf
 export { channelProfile, PROFILE_DEFAULTS, PROFILE_LIMITS, CLIPPED_SHARE_LIMIT } from './profile.ts';
 export type { AutoWallOptions, FoundWalls, WallFit } from './autoWalls.ts';
 export { findWalls, AUTO_WALL_DEFAULTS } from './autoWalls.ts';
-export { wallFreeTextureField, WALL_CLEARANCE_PX } from './wallFree.ts';
+export { wallFreeTexturePatch, WALL_CLEARANCE_PX } from './wallFree.ts';

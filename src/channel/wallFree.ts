@@ -1,6 +1,5 @@
 import type { Plane } from '../common/index.ts';
-import type { OrientationField } from '../orientation/index.ts';
-import { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from '../orientation/index.ts';
+import { derivativeReachPx, integrationReachPx, recomputeWithCertainty, type FieldPatch, type OrientationField } from '../orientation/index.ts';
 import { channelFrame, transverseLinear, type Channel } from './geometry.ts';
 
 /**
@@ -16,9 +15,10 @@ export const WALL_CLEARANCE_PX = 2;
  * axis. Every pixel whose derivative or integration window reaches them is recomputed by normalised
  * (differential) convolution from the material's intensities only (recomputeWithCertainty; Knutsson &
  * Westin 1993), so gradients are read up to the clearance. Pixels farther in are unchanged.
- * Returns the new field and the clearance used, for the result's options.
+ * Returns the recomputed pixels (read the field with them through withFieldPatch) and the clearance used,
+ * for the result's options.
  */
-export function wallFreeTextureField(plane: Plane, field: OrientationField, channel: Channel): { field: OrientationField; clearancePx: number } {
+export function wallFreeTexturePatch(plane: Plane, field: OrientationField, channel: Channel): { patch: FieldPatch; clearancePx: number } {
   const clearance = WALL_CLEARANCE_PX;
   const reach = clearance + derivativeReachPx(field) + integrationReachPx(field) + 1;
   const frame = channelFrame(channel);
@@ -37,5 +37,5 @@ export function wallFreeTextureField(plane: Plane, field: OrientationField, chan
       if (d < reach) pixels.push(i);
     }
   }
-  return { field: recomputeWithCertainty(plane, field, certainty, pixels), clearancePx: clearance };
+  return { patch: recomputeWithCertainty(plane, field, certainty, pixels), clearancePx: clearance };
 }

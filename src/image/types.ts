@@ -32,14 +32,15 @@ export const MAX_DECODE_BYTES = 750_000_000;
  * The most pixels each command line analysis takes, so that the whole command stays within 1 GB as reading
  * does (issue 12): what an analysis holds beyond the decoded image grows with its pixels. From the peaks of whole
  * processes on 16-bit grey TIFFs of 12, 24 and 50 MP (bytes per pixel, the file's own included): a held texture
- * field written as a float TIFF (--field-out) 48, a channel profile from the texture 52 (with --field-out about
- * 60), fibre diameters 33, a micrometer reading 10. `retarda orient` without --field-out holds no field and takes
+ * field written as a float TIFF (--field-out) 48, fibre diameters 33, a micrometer reading 10; a channel profile
+ * from the texture (the field lent to the wall-free recomputation, not copied) 41 on grey TIFFs and 50 on RGB
+ * PNGs of 18 and 20 MP (859 MiB at 18 MP), 51 with --field-out (RGB, 772 MiB at 16 MP). `retarda orient` without --field-out holds no field and takes
  * anything that can be read.
  */
 export const ANALYSIS_MAX_PIXELS = {
   fieldOut: { pixels: 16_000_000, what: 'an orientation field written with --field-out' },
-  profile: { pixels: 15_000_000, what: 'a channel profile' },
-  profileFieldOut: { pixels: 12_000_000, what: 'a channel profile with --field-out' },
+  profile: { pixels: 18_000_000, what: 'a channel profile' },
+  profileFieldOut: { pixels: 16_000_000, what: 'a channel profile with --field-out' },
   diameter: { pixels: 24_000_000, what: 'fibre diameters' },
   micrometer: { pixels: 64_000_000, what: 'a micrometer reading' },
   series: { pixels: 16_000_000, what: 'a frame of a series (its field is held, as with --field-out)' },

@@ -9,7 +9,7 @@ export type { OrientationFieldOptions } from './orientationField.ts';
 export { foldMod90, mod90Axis, mod90AxisOfSums } from './fold.ts';
 export { tilePixels, writeTexturePixels } from './tileShare.ts';
 export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';
-export { derivativeReachPx, integrationReachPx, recomputeWithCertainty } from './maskedTensor.ts';
+export { derivativeReachPx, integrationReachPx, recomputeWithCertainty, withFieldPatch, type FieldPatch } from './maskedTensor.ts';
 export { surveyTexture, streamMaskedRows } from './streamedField.ts';
 export type { SurveyPlan, MaskedLine, TextureSurvey, MaskSlot, MaskedRowSink } from './streamedField.ts';
 export { orientationColours } from './derivedLayers.ts';

@@ -29,9 +29,10 @@ export function integrationReachPx(field: OrientationField): number {
  * pixel whose window holds no usable gradient is masked. Far from any c = 0 pixel this is the ordinary
  * structure tensor, so only pixels within the derivative and integration reach of the excluded ones
  * need recomputing. The angle, coherency, strength and doubled-angle components follow the same
- * formulas as the field's (fieldFromTensor.ts). Returns a copy of the field; the input is not changed.
+ * formulas as the field's (fieldFromTensor.ts). Returns the listed pixels' new values (FieldPatch; read the
+ * field with them through withFieldPatch); the input is not changed.
  */
-export function recomputeWithCertainty(plane: Plane, field: OrientationField, certainty: Uint8Array, pixels: ArrayLike<number>): OrientationField {
+export function recomputeWithCertainty(plane: Plane, field: OrientationField, certainty: Uint8Array, pixels: ArrayLike<number>): FieldPatch {
   const { width: w, height: h } = plane;
   const o = field.options as { sigmaPx?: number; sigmaDerivPx?: number | null; derivative?: string };
   const G = gaussianKernel(o.sigmaPx ?? 2);
@@ -98,17 +99,25 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
     return [sx, sy];
   };
   const n = w * h;
-  const out: OrientationField = {
-    ...field,
-    angleRad: Float32Array.from(field.angleRad), confidence: Float32Array.from(field.confidence), mask: Uint8Array.from(field.mask),
-    strength: field.strength ? Float32Array.from(field.strength) : undefined,
-    cos2: field.cos2 ? Float32Array.from(field.cos2) : undefined, sin2: field.sin2 ? Float32Array.from(field.sin2) : undefined,
+  // The new values of the listed pixels only (a whole copy of the field would double what a large image holds).
+  const m0 = pixels.length;
+  const out: FieldPatch = {
+    pixels: Int32Array.from(pixels), angleRad: new Float32Array(m0), confidence: new Float32Array(m0), mask: new Uint8Array(m0),
+    strength: field.strength ? new Float32Array(m0) : undefined, cos2: field.cos2 ? new Float32Array(m0) : undefined, sin2: field.sin2 ? new Float32Array(m0) : undefined,
   };
+  for (let m = 0; m < m0; m++) {
+    const p = out.pixels[m];
+    if (p < 0 || p >= n) { out.pixels[m] = -1; continue; }
+    out.angleRad[m] = field.angleRad[p]; out.confidence[m] = field.confidence[p]; out.mask[m] = field.mask[p];
+    if (out.strength) out.strength[m] = field.strength![p];
+    if (out.cos2) out.cos2[m] = field.cos2![p];
+    if (out.sin2) out.sin2[m] = field.sin2![p];
+  }
   const mo = resolveMaskOptions(field.options as object);
   const floor = field.strength ? mo.strengthFloor * quantile(field.strength, 0.99) : 0;
-  for (let m = 0; m < pixels.length; m++) {
-    const p = pixels[m];
-    if (p < 0 || p >= n) continue;
+  for (let m = 0; m < m0; m++) {
+    const p = out.pixels[m];
+    if (p < 0) continue;
     const px = p % w, py = (p - px) / w;
     let jxx = 0, jxy = 0, jyy = 0, cw = 0;
     for (let j = -ri; j <= ri; j++) {
@@ -123,18 +132,50 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
         jxx += g * ax * ax; jxy += g * ax * ay; jyy += g * ay * ay; cw += g;
       }
     }
-    if (!(cw > 1e-3)) { out.mask[p] = 0; continue; }
+    if (!(cw > 1e-3)) { out.mask[m] = 0; continue; }
     jxx /= cw; jxy /= cw; jyy /= cw;
     const strength = jxx + jyy;
     const c = jyy - jxx, s = 2 * jxy;
     const root = Math.hypot(c, s);
-    out.angleRad[p] = root > 0 ? 0.5 * Math.atan2(s, c) : 0;
-    if (out.angleRad[p] <= -Math.PI / 2) out.angleRad[p] += Math.PI;
-    out.confidence[p] = strength > 0 ? root / strength : 0;
-    if (out.strength) out.strength[p] = strength;
-    if (out.cos2) out.cos2[p] = root > 0 ? c / root : 1;
-    if (out.sin2) out.sin2[p] = root > 0 ? s / root : 0;
-    out.mask[p] = strength > floor && out.confidence[p] >= mo.coherencyMin ? 1 : 0;
+    out.angleRad[m] = root > 0 ? 0.5 * Math.atan2(s, c) : 0;
+    if (out.angleRad[m] <= -Math.PI / 2) out.angleRad[m] += Math.PI;
+    out.confidence[m] = strength > 0 ? root / strength : 0;
+    if (out.strength) out.strength[m] = strength;
+    if (out.cos2) out.cos2[m] = root > 0 ? c / root : 1;
+    if (out.sin2) out.sin2[m] = root > 0 ? s / root : 0;
+    out.mask[m] = strength > floor && out.confidence[m] >= mo.coherencyMin ? 1 : 0;
   }
   return out;
+}
+
+/** New values for some pixels of a field (pixel index -1: none), as recomputeWithCertainty gives them. */
+export interface FieldPatch {
+  pixels: Int32Array;
+  angleRad: Float32Array; confidence: Float32Array; mask: Uint8Array;
+  strength?: Float32Array; cos2?: Float32Array; sin2?: Float32Array;
+}
+
+/** Swaps the patch's values with the field's (twice restores the field). */
+function swapPatch(field: OrientationField, patch: FieldPatch): void {
+  const pairs: [Float32Array | Uint8Array | undefined, Float32Array | Uint8Array | undefined][] = [
+    [field.angleRad, patch.angleRad], [field.confidence, patch.confidence], [field.mask, patch.mask],
+    [field.strength, patch.strength], [field.cos2, patch.cos2], [field.sin2, patch.sin2],
+  ];
+  for (const [f, q] of pairs) {
+    if (!f || !q) continue;
+    for (let m = 0; m < patch.pixels.length; m++) {
+      const p = patch.pixels[m];
+      if (p < 0) continue;
+      const v = f[p]; f[p] = q[m]; q[m] = v;
+    }
+  }
+}
+
+/**
+ * Runs `use` on the field with the patch applied, then puts the field back as it was: the field is lent,
+ * not copied, so `use` must be synchronous and must not keep the field's arrays.
+ */
+export function withFieldPatch<T>(field: OrientationField, patch: FieldPatch, use: (patched: OrientationField) => T): T {
+  swapPatch(field, patch);
+  try { return use(field); } finally { swapPatch(field, patch); }
 }

@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import { analyseOrientation } from '../../src/analyses/index.ts';
-import { recomputeWithCertainty } from '../../src/orientation/index.ts';
+import { recomputeWithCertainty, withFieldPatch } from '../../src/orientation/index.ts';
 import type { Image } from '../../src/image/types.ts';
 
 /**
@@ -31,7 +31,8 @@ describe('recomputeWithCertainty', () => {
         if (x < wallX) certainty[y * W + x] = 1;
         if (x < wallX && x >= wallX - 20) pixels.push(y * W + x);
       }
-      const out = recomputeWithCertainty(plane, field, certainty, pixels);
+      const patch = recomputeWithCertainty(plane, field, certainty, pixels);
+      const before = { strength: Float32Array.from(field.strength!), angle: Float32Array.from(field.angleRad) };
       // Reference: the ordinary field far from the wall and from the frame's edges (x 20, y 32).
       const ref = 32 * W + 20;
       const refStrength = field.strength![ref];
@@ -40,17 +41,22 @@ describe('recomputeWithCertainty', () => {
       const perpendicular = Math.atan2(a, b);
       const wrap = (d: number) => Math.abs(Math.atan2(Math.sin(2 * d), Math.cos(2 * d)) / 2);
       expect(wrap(field.angleRad[ref] - perpendicular)).toBeLessThan(1e-3);
-      let worstStrength = 0, worstAngle = 0, before = 0;
-      for (let y = 16; y < 48; y++) for (let x = wallX - 12; x < wallX; x++) {
-        const i = y * W + x;
-        worstStrength = Math.max(worstStrength, Math.abs(out.strength![i] / refStrength - 1));
-        worstAngle = Math.max(worstAngle, wrap(out.angleRad[i] - perpendicular));
-        before = Math.max(before, Math.abs(field.strength![i] / refStrength - 1));
-      }
+      let worstStrength = 0, worstAngle = 0, unpatched = 0;
+      withFieldPatch(field, patch, (out) => {
+        for (let y = 16; y < 48; y++) for (let x = wallX - 12; x < wallX; x++) {
+          const i = y * W + x;
+          worstStrength = Math.max(worstStrength, Math.abs(out.strength![i] / refStrength - 1));
+          worstAngle = Math.max(worstAngle, wrap(out.angleRad[i] - perpendicular));
+        }
+      });
+      for (let y = 16; y < 48; y++) for (let x = wallX - 12; x < wallX; x++) unpatched = Math.max(unpatched, Math.abs(field.strength![y * W + x] / refStrength - 1));
+      // The field is lent, not changed: every value is back after the patch's use.
+      expect(field.strength!.every((v, i) => Object.is(v, before.strength[i]))).toBe(true);
+      expect(field.angleRad.every((v, i) => Object.is(v, before.angle[i]))).toBe(true);
       expect(worstStrength).toBeLessThan(1e-3);
       expect(worstAngle).toBeLessThan(1e-3);
       // The ordinary field reads the step there (many times the plane's strength): the check can fail.
-      expect(before).toBeGreaterThan(1);
+      expect(unpatched).toBeGreaterThan(1);
     });
   }
 });
