@@ -392,7 +392,7 @@ export function withholdOrder(r: OpticsResult, gaps: string[]): OpticsResult {
   const profile = r.profile && withholdProfile(r.profile, why);
   const axis = r.axisOrder === null ? null : NaN;
   return {
-    ...r, directorDeg: NaN, order2D: NaN, order2DCiLow: NaN, order2DCiHigh: NaN, axisOrder: axis, axisOrderCiLow: axis, axisOrderCiHigh: axis,
+    ...r, directorDeg: NaN, order2D: NaN, order2DCiLow: NaN, order2DCiHigh: NaN, order2DSe: NaN, axisOrder: axis, axisOrderCiLow: axis, axisOrderCiHigh: axis, axisOrderSe: axis,
     profile, notDetermined: { ...r.notDetermined, order: why },
   };
 }

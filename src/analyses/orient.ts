@@ -16,10 +16,13 @@ export interface OrientResult extends ResultHead {
   /** 95 % interval of order2D. */
   order2DCiLow: number;
   order2DCiHigh: number;
+  /** Standard error of order2D (linearised, on the S scale; the interval is drawn on the atanh scale). */
+  order2DSe: number;
   /** S_axis against axisDeg, when given. */
   axisOrder: number | null;
   axisOrderCiLow: number | null;
   axisOrderCiHigh: number | null;
+  axisOrderSe: number | null;
   axisDeg: number | null;
   coherencyMean: number;
   isotropicBias: number;
@@ -73,8 +76,9 @@ export function orientResult(img: ResultImage, field: Pick<OrientationField, 'op
   return {
     schemaVersion: SCHEMA_VERSION, analysis: 'orient', source: img.source.name, width: img.width, height: img.height,
     pixelSizeUmPerPx: img.pixelSizeUmPerPx ?? null,
-    directorDeg: s.directorDetermined ? s.directorDeg : NaN, order2D: s.order2D.order, order2DCiLow: s.order2D.ciLow, order2DCiHigh: s.order2D.ciHigh,
+    directorDeg: s.directorDetermined ? s.directorDeg : NaN, order2D: s.order2D.order, order2DCiLow: s.order2D.ciLow, order2DCiHigh: s.order2D.ciHigh, order2DSe: s.order2D.se,
     axisOrder: s.axisOrder?.order ?? null, axisOrderCiLow: s.axisOrder ? s.axisOrder.ciLow : null, axisOrderCiHigh: s.axisOrder ? s.axisOrder.ciHigh : null,
+    axisOrderSe: s.axisOrder ? s.axisOrder.se : null,
     axisDeg: s.axisDeg, coherencyMean: s.coherencyMean, isotropicBias: s.isotropicBias, n: s.n, blocks: s.blocks,
     options: { ...field.options, weighting: s.weighting, blockPx: s.blockPx, region: o.region ?? null, method: field.method },
     warnings: [...field.warnings, ...(s.n === 0 ? ['no usable pixels: every pixel was masked'] : [])],

@@ -50,8 +50,8 @@ export function readingOf(kind: TrendReading, doc: OrientResult | ProfileResult 
   if (kind === 'whole') {
     const o = doc as OrientResult;
     return o.axisOrder !== null && o.axisOrder !== undefined
-      ? out(num(o.axisOrder), num(o.axisOrderCiLow), num(o.axisOrderCiHigh), NaN, '', nd.axisOrder)
-      : out(num(o.order2D), num(o.order2DCiLow), num(o.order2DCiHigh), NaN, '', nd.order2D);
+      ? out(num(o.axisOrder), num(o.axisOrderCiLow), num(o.axisOrderCiHigh), num(o.axisOrderSe), '', nd.axisOrder)
+      : out(num(o.order2D), num(o.order2DCiLow), num(o.order2DCiHigh), num(o.order2DSe), '', nd.order2D);
   }
   if (kind === 'diameter') {
     const d = doc as DiameterDocument;
