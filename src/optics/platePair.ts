@@ -119,8 +119,10 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const cacheAt = mem.reserve(12 * PAIR_CACHE_ENTRIES);
   const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
   const levelsAAt = imgA.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, levelsBAt = imgB.encoding === 'linear' ? mem.reserve(4 * 4097) : 0;
-  // The table is laid out last; when it would be more than half full it moves to a table twice the size after it.
-  let shift = 32 - 12, tableAt = mem.reserve(PAIR_ENTRY_BYTES << (32 - shift)), entries = 0;
+  // The table is laid out last; when it would be more than half full its entries move to a table twice the size laid
+  // out after it, which is then copied down to where the table starts.
+  let shift = 32 - 12, entries = 0;
+  const tableAt = mem.reserve(PAIR_ENTRY_BYTES << (32 - shift));
   mem.commit();
   search.load();
   if (levelsAAt) mem.i32(levelsAAt, 4097).set(linearLevelTable(bits));
@@ -132,11 +134,13 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   for (let i0 = 0; i0 < n; i0 += B) {
     const len = Math.min(B, n - i0), i1 = i0 + len;
     while (2 * (entries + len) > 1 << (32 - shift)) {
-      const to = mem.reserve(PAIR_ENTRY_BYTES << (33 - shift));
+      const size = PAIR_ENTRY_BYTES << (33 - shift), to = mem.reserve(size);
       mem.commit();
-      mem.i32(to, (PAIR_ENTRY_BYTES / 4) << (33 - shift)).fill(-1);
+      mem.i32(to, size / 4).fill(-1);
       k.pairRehash(tableAt, shift, to, shift - 1);
-      tableAt = to; shift--;
+      new Uint8Array(k.memory.buffer).copyWithin(tableAt, to, to + size);
+      mem.release(tableAt + size);
+      shift--;
       // The cache holds entry offsets of the old table.
       mem.i32(cacheAt, 3 * PAIR_CACHE_ENTRIES).fill(-1);
     }

@@ -76,6 +76,11 @@ export class OpticsLayout {
     return offset;
   }
 
+  /** Gives back everything reserved from byte `offset` on (to lay out again from there). */
+  release(offset: number): void {
+    this.next = Math.min(this.next, Math.ceil(offset / 16) * 16);
+  }
+
   /** Grows the memory to hold everything reserved. */
   commit(): void {
     const need = this.next - this.k.memory.buffer.byteLength;
