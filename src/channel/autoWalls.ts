@@ -145,10 +145,14 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
   // beyond that is marked by a line (bright or dark) too thin or too faint for its inner side to be seen
   // in the strips: the wall goes to the texture's end, along the line through the strips' strongest changes
   // (the line's outer side, one sharp step in every strip) when it has one, else along the wall found.
-  for (const i of [0, 1]) {
+  // Each wall's normal pointing away from the other wall (outward, as textureAcross takes it).
+  const outward = (i: number) => {
     const line = fits[i].line, other = fits[1 - i].line;
-    let nx = -line.uy, ny = line.ux;
-    if ((other.px - line.px) * nx + (other.py - line.py) * ny > 0) { nx = -nx; ny = -ny; }
+    const nx = -line.uy, ny = line.ux;
+    return (other.px - line.px) * nx + (other.py - line.py) * ny > 0 ? { nx: -nx, ny: -ny } : { nx, ny };
+  };
+  for (const i of [0, 1]) {
+    const { nx, ny } = outward(i);
     const strong = sides[i].strongFit;
     for (const f of [strong && strong.rms <= MAX_RESIDUAL_PX ? strong : null, fits[i]]) {
       if (!f) continue;
@@ -162,10 +166,8 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
   // a band, an empty background). Edges picked out of a photograph with no channel have as much texture on
   // both sides.
   for (const i of [0, 1]) {
-    const line = fits[i].line, other = fits[1 - i].line;
-    let nx = -line.uy, ny = line.ux;
-    if ((other.px - line.px) * nx + (other.py - line.py) * ny > 0) { nx = -nx; ny = -ny; }
-    const across = textureAcross(features.slice(0, intensities), line, nx, ny);
+    const { nx, ny } = outward(i);
+    const across = textureAcross(features.slice(0, intensities), fits[i].line, nx, ny);
     if (across && !(across.contrast >= TEXTURE_CONTRAST)) {
       throw new InputError(
         `the material inside the ${i === 0 ? 'first' : 'second'} wall found has only ${across.contrast.toFixed(1)} times the texture of what lies beyond it (a channel's material has at least ${TEXTURE_CONTRAST} times): no channel could be told apart`,
