@@ -456,12 +456,13 @@ function fitSeriesOfFour(images: Image[], clipped: Uint8Array, fit: SeriesFit, o
     images.forEach((img, j) => intensityOfBlock(stage, img, i0, len, intensityAt[j], clipAt));
     if (darkView) darkView.set(dark!.subarray(i0, i1));
     if (flatView) flatView.set(flat!.subarray(i0, i1));
-    const zeroBefore = kCounts[3];
+    const zeroBefore = kCounts[3], clippedBefore = kCounts[0], notReadBefore = kCounts[0] + kCounts[1] + kCounts[2];
     k.fitFour(intensityAt[0], intensityAt[1], intensityAt[2], intensityAt[3], darkAt, flatAt, flatMean, clipAt, len, coeffAt,
       outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], outAt[5], outAt[6], maskAt, sumsAt, countsAt);
     names.forEach((name, j) => { const v = outViews[j]; if (v) out[name]!.set(len === B ? v : v.subarray(0, len), i0); });
-    out.mask.set(len === B ? mask : mask.subarray(0, len), i0);
-    clipped.set(len === B ? clip : clip.subarray(0, len), i0);
+    // Mask and clipped flags only where the block has some (the arrays' untouched pages take no memory).
+    if (kCounts[0] + kCounts[1] + kCounts[2] - notReadBefore < len) out.mask.set(len === B ? mask : mask.subarray(0, len), i0);
+    if (kCounts[0] > clippedBefore) clipped.set(len === B ? clip : clip.subarray(0, len), i0);
     // Zero amplitude (rare): cos 2 theta and sin 2 theta of the angle itself, as fitBlock makes them.
     if (kCounts[3] !== zeroBefore) {
       for (let i = i0; i < i1; i++) if (Number.isNaN(out.cos2[i])) { out.cos2[i] = Math.cos(2 * out.angleRad[i]); out.sin2[i] = Math.sin(2 * out.angleRad[i]); }

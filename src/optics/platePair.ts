@@ -130,7 +130,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)).fill(-1);
   mem.i32(cacheAt, 3 * PAIR_CACHE_ENTRIES).fill(-1);
   mem.i32(countsAt, 1).fill(0);
-  let belowFloor = 0;
+  let belowFloor = 0, masked = 0;
   for (let i0 = 0; i0 < n; i0 += B) {
     const len = Math.min(B, n - i0), i1 = i0 + len;
     while (2 * (entries + len) > 1 << (32 - shift)) {
@@ -168,11 +168,15 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
       floats[o + 5] = Math.cos(2 * floats[o + 2]); floats[o + 6] = Math.sin(2 * floats[o + 2]);
       ints[o + 7] = ret < floorNm ? 1 : 0;
     }
-    belowFloor += k.pairWrite(hitsAt, len, tableAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt);
+    const below = k.pairWrite(hitsAt, len, tableAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt);
+    belowFloor += below;
+    const unusable = mem.i32(countsAt, 1)[0] - masked;
+    masked += unusable;
     [angleRad, retardanceNm, confidence, cos2, sin2].forEach((a, j) => a.set(mem.f32(outAt[j], len), i0));
-    mask.set(mem.u8(maskAt, len), i0); clipped.set(mem.u8(clipAt, len), i0);
+    // Mask and clipped flags only where the block has some (the arrays' untouched pages take no memory).
+    if (below + unusable < len) mask.set(mem.u8(maskAt, len), i0);
+    if (unusable > 0) clipped.set(mem.u8(clipAt, len), i0);
   }
-  const masked = mem.i32(countsAt, 1)[0];
   if (masked > 0) warnings.push(`${masked} pixels at full scale (clipped) or invalid in one of the images were masked`);
   if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   const registration = registrationCheckOfImages(imgA, imgB);

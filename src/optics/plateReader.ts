@@ -197,6 +197,8 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   mem.i32(indexAt, nSub).fill(-1);
   mem.i32(countsAt, 2).fill(0);
   let nRead = 0;
+  // Pixels at full scale and with values not usable so far (the kernel's counts).
+  const counts = new Int32Array(2);
   for (let i0 = 0; i0 < n; i0 += B) {
     const len = Math.min(B, n - i0), i1 = i0 + len;
     for (let c = 0; c < 3; c++) mem.f32(rgbAt + 4 * B * c, B).set(img.planes[c].subarray(i0, i1));
@@ -217,11 +219,16 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
         index[fresh[f]] = nRead++;
       }
     }
-    belowFloor += k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], maskAt);
+    const [satBefore, invBefore] = counts;
+    counts.set(mem.i32(countsAt, 2));
+    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], maskAt), unusable = counts[0] - satBefore + counts[1] - invBefore;
+    belowFloor += masked;
     angleRad.set(mem.f32(outAt[0], len), i0); retardanceNm.set(mem.f32(outAt[1], len), i0); confidence.set(mem.f32(outAt[2], len), i0);
-    mask.set(mem.u8(maskAt, len), i0); clipped.set(mem.u8(clipAt, len), i0);
+    // Mask and clipped flags only where the block has some (the arrays' untouched pages take no memory).
+    if (masked + unusable < len) mask.set(mem.u8(maskAt, len), i0);
+    if (counts[0] > satBefore) clipped.set(mem.u8(clipAt, len), i0);
   }
-  const [saturated, invalid] = mem.i32(countsAt, 2);
+  const [saturated, invalid] = counts;
   if (belowFloor > 0) {
     const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
     warnings.push(`${belowFloor} pixels ${why} were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
