@@ -10,6 +10,7 @@ import { checkLimit, type Limit, type Rect } from '../common/index.ts';
 import { toGrey, type Image } from '../image/index.ts';
 import { orientationField, type OrientationField } from '../orientation/index.ts';
 import { orderParameters, type Weighting } from '../order/index.ts';
+import { loadTensorKernel } from '../wasm/index.ts';
 import {
   readPlate, readPlatePair, fourAngleAnalysis, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
   compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, type RankSelection,
@@ -234,6 +235,9 @@ export function retardanceMedian(f: OrientationField): number | null {
 
 /** The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. */
 export async function opticsResult(analysis: string, img: Image, field: OrientationField, o: OpticsSummaryOptions, reading: Record<string, unknown>): Promise<OpticsResult> {
+  // The block sums run in the tensor kernel once it is loaded (the app's worker loads it at start): load it
+  // here too, so the command line sums as the app does, and faster.
+  await loadTensorKernel();
   const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx });
   const base = orientResult(img, field, s, {});
   const profile = o.profile ? await analyseProfile(img, field, o.profile, field.options) : null;

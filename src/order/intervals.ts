@@ -157,24 +157,39 @@ export interface BlockPairs { a: Int32Array; b: Int32Array }
  * touch at an edge or a corner.
  */
 export function neighbourPairs(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): BlockPairs {
-  const at = new Map<number, number[]>();
-  const key = (x: number, y: number) => y * 1_000_003 + x;
-  for (let k = 0; k < b.n.length; k++) {
+  const m = b.n.length;
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  for (let k = 0; k < m; k++) {
     if (!(b.n[k] > 0)) continue;
-    const kk = key(b.bx[k], b.by[k]);
-    const list = at.get(kk);
-    if (list) list.push(k); else at.set(kk, [k]);
+    x0 = Math.min(x0, b.bx[k]); x1 = Math.max(x1, b.bx[k]); y0 = Math.min(y0, b.by[k]); y1 = Math.max(y1, b.by[k]);
   }
-  const pa: number[] = [], pb: number[] = [];
-  for (let k = 0; k < b.n.length; k++) {
+  if (!(x1 >= x0)) return { a: new Int32Array(0), b: new Int32Array(0) };
+  // The live blocks of each grid cell as a list in increasing index (head per cell, next per block), on a grid
+  // with a margin of one cell so that every neighbour's cell exists.
+  const gw = x1 - x0 + 3, cell = (k: number) => (b.by[k] - y0 + 1) * gw + (b.bx[k] - x0 + 1);
+  const head = new Int32Array(gw * (y1 - y0 + 3)).fill(-1), next = new Int32Array(m).fill(-1);
+  for (let k = m - 1; k >= 0; k--) {
     if (!(b.n[k] > 0)) continue;
-    const x = b.bx[k], y = b.by[k];
-    // Pieces of the same block with a later index, then the neighbours right, below-left, below and
-    // below-right.
-    for (const j of at.get(key(x, y)) ?? []) if (j > k) { pa.push(k); pb.push(j); }
-    for (const [dx, dy] of NEIGHBOURS) for (const j of at.get(key(x + dx, y + dy)) ?? []) { pa.push(k); pb.push(j); }
+    const c = cell(k);
+    next[k] = head[c]; head[c] = k;
   }
-  return { a: Int32Array.from(pa), b: Int32Array.from(pb) };
+  const offsets = NEIGHBOURS.map(([dx, dy]) => dy * gw + dx);
+  // Pieces of the same block with a later index, then the neighbours right, below-left, below and
+  // below-right; counted first, then written.
+  const visit = (emit: (k: number, j: number) => void) => {
+    for (let k = 0; k < m; k++) {
+      if (!(b.n[k] > 0)) continue;
+      const c = cell(k);
+      for (let j = next[k]; j >= 0; j = next[j]) emit(k, j);
+      for (const o of offsets) for (let j = head[c + o]; j >= 0; j = next[j]) emit(k, j);
+    }
+  };
+  let count = 0;
+  visit(() => { count++; });
+  const pa = new Int32Array(count), pb = new Int32Array(count);
+  let i = 0;
+  visit((k, j) => { pa[i] = k; pb[i] = j; i++; });
+  return { a: pa, b: pb };
 }
 
 /**
