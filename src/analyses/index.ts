@@ -11,7 +11,7 @@ export type {
 export {
   analysePlate, analysePlatePair, analyseAngleSeries, readPlateField, opticsResult, confidenceStats, retardanceMedian,
   calibrationJson, trainOf, DEFAULT_ANGLES_DEG, READING_NAMES, OPTICS_LIMITS, COMPENSATOR_OFFSET_DEG, DEFAULT_ILLUMINANT, analysePlateProfile, oneImageGaps, withholdOrder, withholdProfile,
-  ONE_IMAGE_MIN_RETARDANCE_NM, ONE_IMAGE_MEASURED, ONE_IMAGE_AXIS_TOLERANCE_DEG, OPTICS_MAX_PIXELS, checkReadingSize,
+  ONE_IMAGE_MIN_RETARDANCE_NM, ONE_IMAGE_MEASURED, ONE_IMAGE_AXIS_TOLERANCE_DEG, OPTICS_MAX_PIXELS, ANGLE_SERIES_WITH_PLATE_MAX_PIXELS, checkReadingSize,
 } from './optics.ts';
 export type { DiameterAnalysisOptions, DiameterDocument } from './diameter.ts';
 export { analyseDiameter } from './diameter.ts';

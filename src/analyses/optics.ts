@@ -143,18 +143,27 @@ export type ReadingKind = keyof typeof READING_NAMES;
  * per-pixel layers and the summary) stays within 1 GB (10^9 bytes) for any input file of 100 MB or less (issue 12).
  * From measured peaks of whole `retarda` runs on RGB PNGs (tests/bench/maxrss.mjs), about 33 MB per megapixel for the
  * plate reading, 46 for the plate pair (two images) and 70 for the angle series (four images), over 80-110 MB for the
- * program; a design choice from those measurements. The angle series' peak depends on when the garbage collector
- * runs: on tiled sample images with --plate, --flat and --field-out it reached 1.09 GB at 10.5 MP and 1.06 GB at
- * 9.4 MP, 0.97 GB at 8.5 MP, so its limit is 8.5 MP. Larger images are refused before the reading takes its memory.
+ * program; a design choice from those measurements. The angle series holds each image as its linear intensity
+ * (one plane): at 12 MP, tiled sample images peaked at 0.69 GiB, and 0.76 GiB with --flat and --field-out, so it
+ * takes 12.5 MP (a 4032 x 3024 camera). With a compensator image (--plate) it also holds that image's colour
+ * planes and their look-up: with --plate, --flat and --field-out the peak reached 1.09 GB at 10.5 MP, 1.06 GB at
+ * 9.4 MP and 0.97 GB at 8.5 MP, so then its limit is 8.5 MP (ANGLE_SERIES_WITH_PLATE_MAX_PIXELS). Larger images are
+ * refused before the reading takes its memory.
  */
-export const OPTICS_MAX_PIXELS: Record<ReadingKind, number> = { plate: 24e6, 'plate-pair': 16e6, 'angle-series': 8.5e6 };
+export const OPTICS_MAX_PIXELS: Record<ReadingKind, number> = { plate: 24e6, 'plate-pair': 16e6, 'angle-series': 12.5e6 };
+/** The angle series' limit per image when a compensator image is read with it (OPTICS_MAX_PIXELS says why). */
+export const ANGLE_SERIES_WITH_PLATE_MAX_PIXELS = 8.5e6;
 
-/** Refuses an image larger than the reading takes within its memory limit (OPTICS_MAX_PIXELS), naming both. */
-export function checkReadingSize(kind: ReadingKind, img: Image): void {
-  const px = img.width * img.height, max = OPTICS_MAX_PIXELS[kind];
+/**
+ * Refuses an image larger than the reading takes within its memory limit (OPTICS_MAX_PIXELS, or
+ * ANGLE_SERIES_WITH_PLATE_MAX_PIXELS for an angle series read with a compensator image), naming both.
+ */
+export function checkReadingSize(kind: ReadingKind, img: Image, withPlate = false): void {
+  const plateToo = kind === 'angle-series' && withPlate;
+  const px = img.width * img.height, max = plateToo ? ANGLE_SERIES_WITH_PLATE_MAX_PIXELS : OPTICS_MAX_PIXELS[kind];
   if (px <= max) return;
   throw new InputError(
-    `${img.source.name}: ${img.width} x ${img.height} pixels (${(px / 1e6).toFixed(1)} MP) is more than the ${READING_NAMES[kind]} reads within this program's 1 GB memory limit (${(max / 1e6).toFixed(1)} MP per image)`,
+    `${img.source.name}: ${img.width} x ${img.height} pixels (${(px / 1e6).toFixed(1)} MP) is more than the ${READING_NAMES[kind]}${plateToo ? ' with a compensator image' : ''} reads within this program's 1 GB memory limit (${(max / 1e6).toFixed(1)} MP per image)`,
     'Crop the region of interest or bin the image (e.g. 2x2) and read it again');
 }
 
@@ -426,7 +435,7 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
   if (images.length !== anglesDeg.length) {
     throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
   }
-  for (const img of images) checkReadingSize('angle-series', img);
+  for (const img of [...images, ...(o.plate ? [o.plate] : [])]) checkReadingSize('angle-series', img, !!o.plate);
   const r = fourAngleAnalysis(images, {
     anglesDeg, flatField: o.flatField, dark: o.dark, amplitudeFloor: checkLimit(OPTICS_LIMITS.amplitudeFloor, o.amplitudeFloor),
     plate: o.plate, plateOptions: { train: trainOf(o), background: o.plateSampleFree }, keepBackground: false,

@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { analyseAngleSeries, analysePlate, analysePlatePair } from '../../src/analyses/index.ts';
-import { checkReadingSize, OPTICS_MAX_PIXELS } from '../../src/analyses/optics.ts';
+import { ANGLE_SERIES_WITH_PLATE_MAX_PIXELS, checkReadingSize, OPTICS_MAX_PIXELS } from '../../src/analyses/optics.ts';
 import { InputError } from '../../src/common/errors.ts';
 import type { Image } from '../../src/image/index.ts';
 
@@ -48,9 +48,13 @@ describe('optical readings refuse images beyond their memory limit', () => {
       expect(() => checkReadingSize(kind, header(max / 1000 + 1, 1000))).toThrow(InputError);
     }
   });
-  it('the limits keep a 12 MP camera image readable by the compensator readings (4000 x 3000, common practice, no source) and an 8 MP one by the angle series', () => {
-    for (const kind of ['plate', 'plate-pair'] as const) expect(() => checkReadingSize(kind, header(4032, 3024))).not.toThrow();
-    expect(() => checkReadingSize('angle-series', header(3264, 2448))).not.toThrow();
-    expect(() => checkReadingSize('angle-series', header(4032, 3024))).toThrow(InputError);
+  it('the limits keep a 12 MP camera image readable (4032 x 3024, common practice, no source), and an 8 MP one by the angle series with a compensator image', () => {
+    for (const kind of ['plate', 'plate-pair', 'angle-series'] as const) expect(() => checkReadingSize(kind, header(4032, 3024))).not.toThrow();
+    expect(() => checkReadingSize('angle-series', header(3264, 2448), true)).not.toThrow();
+    expect(() => checkReadingSize('angle-series', header(4032, 3024), true)).toThrow(InputError);
+  });
+  it('angle series with a compensator image: images over its lower limit are refused, naming it', async () => {
+    const max = ANGLE_SERIES_WITH_PLATE_MAX_PIXELS, big = overLimit(max);
+    await refusal(() => analyseAngleSeries([big, big, big, big], { plate: big }), max);
   });
 });

@@ -38,7 +38,7 @@ export const angleSeriesCommand: Command = {
     // takes of it (a third of an RGB image's memory, the same reading); the first as it is when walls are to be found on it.
     const one = async (name: string) => {
       const [img] = await loadImageFiles([name]);
-      checkReadingSize('angle-series', img);
+      checkReadingSize('angle-series', img, !!files.plate);
       return img;
     };
     // The decoded colour planes go back to the pool once the intensity is made, so the next file's decode reuses them.
