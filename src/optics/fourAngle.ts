@@ -307,9 +307,12 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   let ambiguity: OrientationField['ambiguity'] = 'mod-90';
   let resolvedFraction = 0;
   let ambiguous: Uint8Array | undefined;
+  let decidedAxisDeg: number | null = null;
   if (options.plate) {
     const plate = plateOrientationChooser(options.plate, options.plateOptions ?? {});
     let usable = 0, resolved = 0;
+    // Confidence-weighted sums of cos 2 theta and sin 2 theta over the pixels the plate decided (their axis mod 180 deg).
+    const decided = new Float64Array(2);
     ambiguous = new Uint8Array(n).fill(1);
     const cells = new Int32Array(Math.min(n, SERIES_BLOCK_PX));
     for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
@@ -324,8 +327,10 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
         if (c < 0) { angleRad[i] += 90 * DEG; cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
         resolved++;
         ambiguous[i] = 0;
+        decided[0] += confidence[i] * cos2[i]; decided[1] += confidence[i] * sin2[i];
       }
     }
+    if (resolved > 0 && (decided[0] !== 0 || decided[1] !== 0)) decidedAxisDeg = (0.5 * Math.atan2(decided[1], decided[0])) / DEG;
     resolvedFraction = usable ? resolved / usable : 0;
     if (usable > 0 && resolved === usable) ambiguity = 'none';
     warnings.push(`the plate image decided the 90-deg choice in ${(100 * resolvedFraction).toFixed(1)} % of pixels; the rest (slow axis near the polars, or too little retardance) keep the fit's value in [0, 90)`);
@@ -338,9 +343,12 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     warnings,
   };
   // Unresolved pixels: show them within 45 deg of the axis the field is concentrated about, so the
-  // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning). The axis
-  // is mod90Axis's, from the sums the fit made (cos 4 theta and sin 4 theta are the fit's own components).
-  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? mod90AxisOfSums(sums[0], sums[1]), true);
+  // picture and S_2D are not split between theta and theta + 90 (the assumption is stated in a warning). Without a
+  // plate the axis is mod90Axis's, from the sums the fit made (cos 4 theta and sin 4 theta are the fit's own
+  // components), known itself only modulo 90 deg; with one, the pixels it decided fix the axis modulo 180 deg
+  // (1/2 atan2 of their sums of sin 2 theta and cos 2 theta), and the rest are folded about that: about the
+  // mod-90 axis, a field about 90 deg (or any axis in (90, 180) deg) had its undecided pixels put 90 deg off.
+  if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? decidedAxisDeg ?? mod90AxisOfSums(sums[0], sums[1]), true);
   return { field, amplitude, background, residual, resolvedFraction };
 }
 

@@ -73,11 +73,12 @@ describe('fourAngleAnalysis on rendered images', () => {
     }
   });
 
-  it('gives cos 2 theta and sin 2 theta of its own angles, and folds about the axis mod90Axis finds', () => {
+  it('gives cos 2 theta and sin 2 theta of its own angles, and folds about the axis mod90Axis finds (with a plate: its decided pixels\' axis)', () => {
     // Closed form: cos2 and sin2 are the cosine and sine of twice the angle the field reports (the fit's half-angle
     // values; float32 rounding of the angle, within 2^-22 rad, and of the values, hence 1e-6), with the plate's and the
     // fold's 90-deg moves (both change sign); the fold's axis is mod90Axis of the angles before the fold (the fit's own
-    // sums in place of per-pixel cos 4 theta and sin 4 theta, hence 1e-4 deg).
+    // sums in place of per-pixel cos 4 theta and sin 4 theta, hence 1e-4 deg); with a plate, the axis mod 180 deg of the
+    // pixels it decided, 1/2 atan2(sum w sin 2 theta, sum w cos 2 theta) (the fold leaves those pixels as they are).
     for (const options of [{}, { plate, plateOptions: { camera: cam } }, { anglesDeg: [0, 30, 60, 90, 120, 150] }]) {
       const imgs = options.anglesDeg ? options.anglesDeg.map((a, k) => renderSampleImage(W, H, at, { polariserDeg: a, analyserDeg: a + 90, compensator: null }, { noiseSd: 0.003, seed: 30 + k, camera: cam })) : quads;
       const f = fourAngleAnalysis(imgs, options).field;
@@ -90,6 +91,12 @@ describe('fourAngleAnalysis on rendered images', () => {
       expect(n).toBeGreaterThan(W * H / 2);
       expect(worst).toBeLessThan(1e-6);
       if (f.ambiguity !== 'mod-90') continue;
+      if (options.plate) {
+        let c = 0, s = 0;
+        for (let k = 0; k < W * H; k++) if (f.mask[k] && !f.ambiguous![k]) { c += f.confidence[k] * f.cos2![k]; s += f.confidence[k] * f.sin2![k]; }
+        expect(axialDiffDeg(f.options.mod90FoldedAboutDeg as number, (0.5 * Math.atan2(s, c)) / DEG)).toBeLessThan(1e-4);
+        continue;
+      }
       const before = fourAngleAnalysis(imgs, { ...options, referenceAxisDeg: 0 }).field;
       // Folding about 0 deg keeps each angle within 45 deg of it, so its mod-90 class; mod90Axis reads only that class.
       expect(axialDiffDeg(f.options.mod90FoldedAboutDeg as number, mod90Axis(before))).toBeLessThan(1e-4);
@@ -112,6 +119,27 @@ describe('fourAngleAnalysis on rendered images', () => {
     expect(resolvedWrong).toBe(0);
     expect(r.resolvedFraction).toBeGreaterThan(0.5);
     expect(r.resolvedFraction).toBeLessThan(1);
+  });
+
+  it('with a plate, folds the pixels it leaves undecided about the axis of those it decided, not 90 deg off it', () => {
+    // A field about 120 deg with a stripe along the analyser (90 deg), which the plate at +45 deg cannot decide (its
+    // first-order effect, Gamma sin 2 theta, is 0 there). The fit's 4-theta sums fix the axis only modulo 90 deg:
+    // 4 x (90, 105, 120, 135, 150) deg gives 120 deg, so 30 deg, about which 90 deg folds to 0 deg. The decided pixels
+    // lie about 120 deg, within 45 deg of 90: the undecided stripe must stay at 90 deg.
+    const ang = [90, 105, 120, 135, 150], S = 6, w = ang.length * S, h = 2 * S;
+    const at2 = (x: number, y: number) => ({ angleRad: ang[Math.floor(x / S)] * DEG, retardanceNm: y < S ? 200 : 300 });
+    const imgs = QUAD.map((a, k) => renderSampleImage(w, h, at2, { polariserDeg: a, analyserDeg: a + 90, compensator: null }, { noiseSd: 0.003, seed: 50 + k, camera: cam }));
+    const plate2 = renderSampleImage(w, h, at2, {}, { noiseSd: 0.003, seed: 60, camera: cam });
+    const f = fourAngleAnalysis(imgs, { plate: plate2, plateOptions: { camera: cam } }).field;
+    expect(f.ambiguity).toBe('mod-90');
+    let undecided = 0, worst = 0;
+    for (let k = 0; k < w * h; k++) {
+      if (!f.mask[k]) continue;
+      if (f.ambiguous![k]) undecided++;
+      worst = Math.max(worst, axialDiffDeg(f.angleRad[k] / DEG, ang[Math.floor((k % w) / S)]));
+    }
+    expect(undecided).toBeGreaterThan(0);
+    expect(worst).toBeLessThanOrEqual(2);
   });
 
   it('flat-field division removes uneven illumination from the amplitude', () => {
