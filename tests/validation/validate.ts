@@ -15,6 +15,7 @@ const areas: Record<string, () => Promise<{ default: ValidationArea }>> = {
   'micrometer': () => import('./micrometer.ts'),
   'series': () => import('./series.ts'),
   'trend': () => import('./trend.ts'),
+  'angles': () => import('./angles.ts'),
 };
 
 const rows: ValidationRow[] = [];

@@ -12,10 +12,11 @@ function pngOf(img: Image): Uint8Array {
   return encodePng({ width: img.width, height: img.height, channels: c, data });
 }
 
-/** Writes DIR/NAME.png (and NAME-B.png for a pair); returns the paths. */
+/** Writes DIR/NAME.png (and NAME-B.png for a pair, NAME-S0.png ... for an angle series); returns the paths. */
 export function writeRenderingPngs(r: Rendering, dir: string, name: string): string[] {
   const out = [join(dir, `${name}.png`)];
   writeFileSync(out[0], pngOf(r.image));
   if (r.imageB) { out.push(join(dir, `${name}-B.png`)); writeFileSync(out[1], pngOf(r.imageB)); }
+  r.series?.forEach((img, k) => { const f = join(dir, `${name}-S${k}.png`); out.push(f); writeFileSync(f, pngOf(img)); });
   return out;
 }

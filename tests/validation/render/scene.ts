@@ -16,7 +16,7 @@ import { Rng, streamSeed } from './rng.ts';
 import { correlatedField, gaussBlur } from './filters.ts';
 import { lineIntegralConvolution } from './texture.ts';
 import { channelGeometry, clipLine, outsideDistance, transverseS, wallFrame, type Segment } from './geometry.ts';
-import { ColourRenderer, crossedWithCompensator, srgbEncode, turnedTrain } from './spectral.ts';
+import { ColourRenderer, crossedWithCompensator, srgbEncode, turnedTrain, type OpticalTrain } from './spectral.ts';
 
 /** What lies just outside one inner wall. Grey images: levels are brightnesses in [0, 1]. Colour images:
  * `level` multiplies the sample-free compensator colour and `edgeLevel` is a grey (white light) level. */
@@ -88,6 +88,12 @@ export interface SceneSpec {
     streakContrast: number;
     /** Also render the second image of a pair, the polariser-compensator-analyser assembly turned by this (deg); null = none. */
     turnDeg: number | null;
+    /**
+     * Also render an angle series: one image per angle (deg) between crossed polarisers with no compensator,
+     * polariser at the angle and analyser at the angle + 90 (turned together); null = none. Image A (the
+     * compensator image) is then the series' compensator image.
+     */
+    seriesDeg: number[] | null;
   };
   imaging: {
     psfSigmaPx: number;
@@ -117,7 +123,7 @@ export const SCENE_DEFAULTS: SceneSpec = {
   corrLengthPx: 16,
   source: 'texture',
   texture: { mean: 0.5, contrast: 0.12, streakHalfLengthPx: 30, grainPx: 0.6 },
-  optics: { retardanceNm: 250, retardanceSpread: 0, compensatorNm: 550, lampK: 3200, exposure: 0.8, streakContrast: 0, turnDeg: null },
+  optics: { retardanceNm: 250, retardanceSpread: 0, compensatorNm: 550, lampK: 3200, exposure: 0.8, streakContrast: 0, turnDeg: null, seriesDeg: null },
   imaging: { psfSigmaPx: 0.8, noiseSigma: 0.01, fullWellElectrons: 0, gradient: [0, 0], vignetting: 0, bitDepth: 8 },
   wallsDistinct: true,
 };
@@ -164,6 +170,8 @@ export interface Rendering {
   image: Image;
   /** Second image of a pair (assembly turned by spec.optics.turnDeg), or null. */
   imageB: Image | null;
+  /** The angle series' crossed-polariser images, one per spec.optics.seriesDeg angle, or null. */
+  series: Image[] | null;
   truth: SceneTruth;
 }
 
@@ -233,11 +241,13 @@ export function renderScene(spec: SceneSpec): Rendering {
   }
 
   const planes = spec.source === 'texture' ? [greyScene(spec, rng, thetaRad, bgTheta, dist)] : null;
-  let colour: { a: Float32Array[]; b: Float32Array[] | null; retardance: Float32Array } | null = null;
+  let colour: { a: Float32Array[]; b: Float32Array[] | null; series: Float32Array[][] | null; retardance: Float32Array } | null = null;
   if (spec.source === 'colour') colour = colourScenes(spec, rng, thetaRad, bgTheta, dist);
 
   const image = capture(spec, planes ?? colour!.a, rng('noise A'), `${spec.name}#${spec.seed}`);
   const imageB = colour?.b ? capture(spec, colour.b, rng('noise B'), `${spec.name}#${spec.seed}-B`) : null;
+  // Each series image its own noise stream (the streams of A and B are untouched, so their images are the same as without a series).
+  const series = colour?.series ? colour.series.map((planes, k) => capture(spec, planes, rng(`noise series ${k}`), `${spec.name}#${spec.seed}-series${k}`)) : null;
 
   let walls: [Segment, Segment] | null = null;
   if (geo) {
@@ -246,7 +256,7 @@ export function renderScene(spec: SceneSpec): Rendering {
   }
   const backgroundRect = spec.source === 'colour' && geo && spec.background.kind === 'sample-free' ? sampleFreeRect(spec, dist!) : null;
   return {
-    spec, image, imageB,
+    spec, image, imageB, series,
     truth: {
       walls, thetaRad, meanRad, orderS, interior, axisDeg: geo ? frame!.axisDeg : spec.directorDeg, backgroundRect,
       retardanceNm: colour ? colour.retardance : null,
@@ -314,7 +324,9 @@ function colourScenes(spec: SceneSpec, rng: (l: string) => Rng, thetaRad: Float3
     : null;
   const trainA = crossedWithCompensator(o.compensatorNm, o.lampK);
   const trains = [trainA, ...(o.turnDeg !== null ? [turnedTrain(trainA, o.turnDeg)] : [])];
-  const result = trains.map((train) => {
+  // The angle series: crossed polarisers at each angle, no compensator (sample-free areas and bands are then dark).
+  const seriesTrains = (o.seriesDeg ?? []).map((a): OpticalTrain => ({ polariserDeg: a, analyserDeg: a + 90, compensator: null, lampK: o.lampK }));
+  const result = [...trains, ...seriesTrains].map((train) => {
     const r = new ColourRenderer(train);
     const planes = [new Float32Array(n), new Float32Array(n), new Float32Array(n)];
     const free = r.linearRgb(0, 0);
@@ -353,7 +365,7 @@ function colourScenes(spec: SceneSpec, rng: (l: string) => Rng, thetaRad: Float3
     }
     return planes;
   });
-  return { a: result[0], b: result[1] ?? null, retardance };
+  return { a: result[0], b: o.turnDeg !== null ? result[1] : null, series: o.seriesDeg ? result.slice(trains.length) : null, retardance };
 }
 
 /**

@@ -87,3 +87,40 @@ export function wholeImageTruth(t: SceneTruth, axisDeg: number): { order2D: Trut
     axisOrder: { realised: (rc * c2 + rs * s2) / n, ensemble: (ec * c2 + es * s2) / n, n },
   };
 }
+
+/**
+ * The truth a reading known only modulo 90 deg determines when every rod is taken within 45 deg of `axisDeg`
+ * (crossed polarisers alone cannot tell an axis from the one at 90 deg to it): each director folded into
+ * (axis - 45, axis + 45] deg, so cos 2(folded - axis) = |cos 2(theta - axis)|. Realised: the rendered directors
+ * folded. Ensemble: E|cos 2(m + sigma z)| over a standard normal z (m = mean director - axis, sigma from the
+ * pixel's S by exp(-2 sigma^2) = S, as the scene draws it), by the midpoint rule on z in [-8, 8] (400 steps;
+ * the tails beyond hold < 1e-15). Returned as a SceneTruth whose mean director is the axis and whose S is that
+ * expectation, so profileTruth reads both truths of the folded field.
+ */
+export function mod90Truth(t: SceneTruth, axisDeg: number): SceneTruth {
+  const ref = (axisDeg * Math.PI) / 180, n = t.thetaRad.length, q = Math.PI / 4;
+  const thetaRad = new Float32Array(n), meanRad = new Float32Array(n).fill(ref), orderS = new Float32Array(n);
+  const cache = new Map<string, number>();
+  const STEPS = 400, Z = 8, dz = (2 * Z) / STEPS;
+  const expectation = (m: number, S: number) => {
+    const key = `${m.toFixed(5)} ${S.toFixed(6)}`;
+    const hit = cache.get(key);
+    if (hit !== undefined) return hit;
+    const sigma = Math.sqrt(-Math.log(Math.max(S, 1e-12)) / 2);
+    let sum = 0, wsum = 0;
+    for (let k = 0; k < STEPS; k++) {
+      const z = -Z + (k + 0.5) * dz, w = Math.exp(-0.5 * z * z);
+      sum += w * Math.abs(Math.cos(2 * (m + sigma * z))); wsum += w;
+    }
+    cache.set(key, sum / wsum);
+    return sum / wsum;
+  };
+  for (let i = 0; i < n; i++) {
+    let d = t.thetaRad[i] - ref;
+    d -= (Math.PI / 2) * Math.round(d / (Math.PI / 2));
+    if (d <= -q) d += Math.PI / 2;
+    thetaRad[i] = ref + d;
+    orderS[i] = expectation(t.meanRad[i] - ref, t.orderS[i]);
+  }
+  return { ...t, thetaRad, meanRad, orderS };
+}
