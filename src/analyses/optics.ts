@@ -8,7 +8,7 @@
 import { InputError } from '../common/index.ts';
 import { checkLimit, type Limit, type Rect } from '../common/index.ts';
 import { toGrey, type Image } from '../image/index.ts';
-import { orientationField, type OrientationField } from '../orientation/index.ts';
+import { foldEdgeShare, orientationField, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE, type OrientationField } from '../orientation/index.ts';
 import { orderParameters, type Weighting } from '../order/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import {
@@ -444,5 +444,22 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
   const result = await opticsResult('angle-series', images[0], r.field, o, {
     anglesDeg, amplitudeMedian: middleValue(r.amplitude, usable), residualMedian: middleValue(r.residual, usable), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
   });
-  return { result, field: r.field, amplitude: r.amplitude, residual: r.residual };
+  // The whole image's numbers by the share over the whole field; a profile's bins and bands were judged each on
+  // their own pixels (channelProfile), so they stay as they are.
+  const gap = foldGap(r.field, !!o.plate);
+  return { result: gap ? { ...withholdOrder(result, [gap]), profile: result.profile } : result, field: r.field, amplitude: r.amplitude, residual: r.residual };
 }
+
+/**
+ * Why an angle series' order numbers are withheld, or null: crossed polarisers fix a slow axis only up to 90 deg,
+ * and the field was folded to within 45 deg of one axis; with more than FOLD_EDGE_MAX_SHARE of its pixels, still
+ * undecided, near 45 deg from that axis, some lie beyond it and read too high (foldEdgeShare).
+ */
+function foldGap(field: OrientationField, plate: boolean): string | null {
+  const share = foldEdgeShare(field);
+  if (!(share > FOLD_EDGE_MAX_SHARE)) return null;
+  const axis = Number((field.options as { mod90FoldedAboutDeg?: number }).mod90FoldedAboutDeg).toFixed(1);
+  return `${(100 * share).toFixed(1)} % of the pixels${plate ? ' the compensator image leaves undecided' : ''} lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis their 90-deg choice was made about (${axis} deg); crossed polarisers cannot tell such a slow axis from the one at 90 deg to it, so some are read on the wrong side and S would read high by more than 0.03 (at most ${100 * FOLD_EDGE_MAX_SHARE} % allowed). ${
+    plate ? 'Give the compensator image its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)' : 'Add an image with the compensator in (--plate) to decide the 90-deg choice, or read the sample with two compensator images (plate-pair)'}`;
+}
+

@@ -3,7 +3,7 @@ import { AXIS_DEG_LIMIT, checkLimit, type Limit } from '../common/index.ts';
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/index.ts';
 import { combineUncertainties } from '../common/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
-import { foldMod90 } from '../orientation/index.ts';
+import { foldEdgeMap, foldMod90, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE } from '../orientation/index.ts';
 import {
   accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
   type BlockSums, type OrderStat, type Weighting,
@@ -77,8 +77,12 @@ export interface StationProfile extends BandStats {
   widthPx: number;
 }
 
-/** Pixels between the walls, and how many of them are clipped, per bin and per band (core, skin). */
-interface ClipCounts { bins: { total: number; clipped: number }[]; core: { total: number; clipped: number }; skin: { total: number; clipped: number } }
+/**
+ * Per bin and per band (core, skin): pixels between the walls and how many of them are clipped; usable pixels and
+ * how many of them a mod-90 fold leaves near its boundary (foldEdge).
+ */
+interface GroupCount { total: number; clipped: number; usable: number; foldEdge: number }
+interface ClipCounts { bins: GroupCount[]; core: GroupCount; skin: GroupCount }
 
 export interface ChannelProfile extends BandStats {
   axisDeg: number;
@@ -116,7 +120,12 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   const L = transverseLinear(frame, ch);
   const sBins = bins / 2, sStations = stations / span;
   const clippedMap = field.clipped ?? null;
-  const newCounts = (): ClipCounts => ({ bins: Array.from({ length: bins }, () => ({ total: 0, clipped: 0 })), core: { total: 0, clipped: 0 }, skin: { total: 0, clipped: 0 } });
+  // Pixels a mod-90 fold may have put on the wrong side of the axis (foldEdgeMap): too many of them in a group and
+  // its S is not determined.
+  const edgeMap = foldEdgeMap(f);
+  const counted = clippedMap !== null || edgeMap !== null;
+  const zero = (): GroupCount => ({ total: 0, clipped: 0, usable: 0, foldEdge: 0 });
+  const newCounts = (): ClipCounts => ({ bins: Array.from({ length: bins }, zero), core: zero(), skin: zero() });
   const clipCounts = Array.from({ length: stations }, newCounts);
   for (let y = 0; y < height; y++) {
     let t0 = L.t0.c + L.t0.cy * y, t1 = L.t1.c + L.t1.cy * y, al = L.along.c + L.along.cy * y;
@@ -128,10 +137,11 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
       const b = Math.min(bins - 1, Math.floor((s + 1) * sBins));
       const a = Math.abs(s);
       const band = a < coreMax ? 0 : a > skinMin ? 1 : -1;
-      if (clippedMap) {
-        const c = clipCounts[st], hit = clippedMap[i];
-        c.bins[b].total++; c.bins[b].clipped += hit;
-        if (band === 0) { c.core.total++; c.core.clipped += hit; } else if (band === 1) { c.skin.total++; c.skin.clipped += hit; }
+      if (counted) {
+        const c = clipCounts[st], hit = clippedMap ? clippedMap[i] : 0, live = f.mask[i] ? 1 : 0, edge = edgeMap ? edgeMap[i] : 0;
+        for (const g of band === 0 ? [c.bins[b], c.core] : band === 1 ? [c.bins[b], c.skin] : [c.bins[b]]) {
+          g.total++; g.clipped += hit; g.usable += live; g.foldEdge += edge;
+        }
       }
       if (!f.mask[i]) continue;
       binGroups[i] = st * bins + b;
@@ -143,14 +153,14 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   const bandSums = accumulateBlocks(f, { groups: bandGroups, groupCount: stations * 2, refRad, blockPx, weighting });
 
   const stationList: StationProfile[] = [];
-  const withheld: string[] = [];
+  const withheld: Withheld = { clipped: [], foldEdge: [] };
   for (let st = 0; st < stations; st++) {
     const from = frame.alongMin + (span * st) / stations, to = frame.alongMin + (span * (st + 1)) / stations;
     const mid = (from + to) / 2;
     const w = transverse(frame, ch, frame.ox + mid * frame.ux, frame.oy + mid * frame.uy).width;
     stationList.push({
       station: st, alongFromPx: from, alongToPx: to, widthPx: w,
-      ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg, clippedMap ? clipCounts[st] : null, stations > 1 ? `station ${st} ` : '', withheld),
+      ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg, counted ? clipCounts[st] : null, stations > 1 ? `station ${st} ` : '', withheld),
     });
   }
   const pooledBins = Array.from({ length: bins }, (_, b) => merge(Array.from({ length: stations }, (_, st) => binSums[st * bins + b])));
@@ -158,7 +168,7 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
     pooledBins,
     merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2])),
     merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + 1])),
-    bins, axisDeg, clippedMap ? pooledCounts(clipCounts) : null, '', withheld,
+    bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld,
   );
   if (pooled.core.n === 0 && pooled.skin.n === 0 && pooled.bins.every((b) => b.n === 0)) {
     throw new InputError('no usable pixel lies between the walls', 'Check that the walls are inside the image and that the channel has texture or colour to read');
@@ -172,37 +182,54 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   return {
     ...pooled, axisDeg, channelAxisDeg: frame.axisDeg, taperDeg: frame.taperDeg, stations: stationList,
     options: { bins, stations, coreMax, skinMin, weighting, blockPx, axisDeg }, warnings,
-    ...(withheld.length ? { notDetermined: { clipped: clippedReason(withheld) } } : {}),
+    ...(withheld.clipped.length || withheld.foldEdge.length ? {
+      notDetermined: {
+        ...(withheld.clipped.length ? { clipped: clippedReason(withheld.clipped) } : {}),
+        ...(withheld.foldEdge.length ? { mod90: foldEdgeReason(withheld.foldEdge, axisDeg) } : {}),
+      },
+    } : {}),
   };
 }
 
-/** The three counts summed over stations. */
+/** Groups whose S is withheld, with their shares, by cause. */
+interface Withheld { clipped: string[]; foldEdge: string[] }
+
+const someOf = (list: string[]) => (list.length > 6 ? `${list.slice(0, 6).join(', ')} and ${list.length - 6} more` : list.join(', '));
+
 /** Why clipped groups have no S, naming them (the first few) with their clipped shares. */
 function clippedReason(withheld: string[]): string {
-  const shown = withheld.length > 6 ? `${withheld.slice(0, 6).join(', ')} and ${withheld.length - 6} more` : withheld.join(', ');
-  return `S not given where more than ${100 * CLIPPED_SHARE_LIMIT} % of the pixels are at full scale in an image (${shown} clipped): which pixels clip depends on their angle, so the rest would give a biased S. Lower the exposure or the lamp so that no colour reaches full scale, and take the images again`;
+  return `S not given where more than ${100 * CLIPPED_SHARE_LIMIT} % of the pixels are at full scale in an image (${someOf(withheld)} clipped): which pixels clip depends on their angle, so the rest would give a biased S. Lower the exposure or the lamp so that no colour reaches full scale, and take the images again`;
+}
+
+/** Why groups of a mod-90 field have no S, naming them (the first few) with their shares near the fold's boundary. */
+function foldEdgeReason(withheld: string[], axisDeg: number): string {
+  return `S not given where more than ${100 * FOLD_EDGE_MAX_SHARE} % of the usable pixels, still undecided between a slow axis and the one at 90 deg to it, lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis (${axisDeg.toFixed(1)} deg) (${someOf(withheld)}): some of them lie beyond it and are read on the wrong side, so S would read high. Add an image with the compensator in (--plate) to decide them, give it its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)`;
 }
 
 function pooledCounts(list: ClipCounts[]): ClipCounts {
-  const add = (a: { total: number; clipped: number }, b: { total: number; clipped: number }) => ({ total: a.total + b.total, clipped: a.clipped + b.clipped });
+  const add = (a: GroupCount, b: GroupCount): GroupCount => ({ total: a.total + b.total, clipped: a.clipped + b.clipped, usable: a.usable + b.usable, foldEdge: a.foldEdge + b.foldEdge });
   return list.reduce((p, c) => ({ bins: p.bins.map((b, k) => add(b, c.bins[k])), core: add(p.core, c.core), skin: add(p.skin, c.skin) }));
 }
 
 /**
- * A statistic withheld (order and interval NaN) when more than CLIPPED_SHARE_LIMIT of its pixels are clipped;
- * the group's name and share go to `withheld`.
+ * A statistic withheld (order and interval NaN) when more than CLIPPED_SHARE_LIMIT of its pixels are clipped, or
+ * more than FOLD_EDGE_MAX_SHARE of its usable pixels lie near a mod-90 fold's boundary; the group's name and share
+ * go to `withheld` under the cause.
  */
-function unlessClipped<T extends OrderStat>(stat: T, count: { total: number; clipped: number } | undefined, name: string, withheld: string[]): T {
-  if (!count || !(count.total > 0) || count.clipped <= CLIPPED_SHARE_LIMIT * count.total) return stat;
-  withheld.push(`${name} ${((100 * count.clipped) / count.total).toFixed(0)} %`);
-  return { ...stat, order: NaN, ciLow: NaN, ciHigh: NaN };
+function unlessUnread<T extends OrderStat>(stat: T, count: GroupCount | undefined, name: string, withheld: Withheld): T {
+  if (!count) return stat;
+  const clipped = count.total > 0 && count.clipped > CLIPPED_SHARE_LIMIT * count.total;
+  const edge = count.usable > 0 && count.foldEdge > FOLD_EDGE_MAX_SHARE * count.usable;
+  if (clipped) withheld.clipped.push(`${name} ${((100 * count.clipped) / count.total).toFixed(0)} %`);
+  if (edge) withheld.foldEdge.push(`${name} ${((100 * count.foldEdge) / count.usable).toFixed(0)} %`);
+  return clipped || edge ? { ...stat, order: NaN, ciLow: NaN, ciHigh: NaN } : stat;
 }
 
-function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number, clip: ClipCounts | null, where: string, withheld: string[]): BandStats {
+function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number, clip: ClipCounts | null, where: string, withheld: Withheld): BandStats {
   const list: ProfileBin[] = binSums.map((b, k) => {
     const m = totalMoments(b);
     const sLow = -1 + (2 * k) / bins, sHigh = -1 + (2 * (k + 1)) / bins;
-    const stat = unlessClipped(axisOrderStat(b), clip?.bins[k], `${where}bin ${k}`, withheld);
+    const stat = unlessUnread(axisOrderStat(b), clip?.bins[k], `${where}bin ${k}`, withheld);
     const given = Number.isFinite(stat.order) && m.w > 0;
     return {
       s: (sLow + sHigh) / 2, sLow, sHigh, ...stat,
@@ -210,8 +237,8 @@ function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins:
       directorDeg: given ? wrapAxialDeg(axisDeg + radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN,
     };
   });
-  const c = unlessClipped(axisOrderStat(core), clip?.core, `${where}core`, withheld);
-  const s = unlessClipped(axisOrderStat(skin), clip?.skin, `${where}skin`, withheld);
+  const c = unlessUnread(axisOrderStat(core), clip?.core, `${where}core`, withheld);
+  const s = unlessUnread(axisOrderStat(skin), clip?.skin, `${where}skin`, withheld);
   // Core and skin are different pixels, blocks apart: their estimates are taken as independent. The
   // degrees of freedom of a - R b at the estimated ratio by Welch-Satterthwaite (GUM G.4.1).
   const ratio = c.order / s.order;

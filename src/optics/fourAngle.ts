@@ -332,8 +332,9 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     }
     if (resolved > 0 && (decided[0] !== 0 || decided[1] !== 0)) decidedAxisDeg = (0.5 * Math.atan2(decided[1], decided[0])) / DEG;
     resolvedFraction = usable ? resolved / usable : 0;
-    if (usable > 0 && resolved === usable) ambiguity = 'none';
-    warnings.push(`the plate image decided the 90-deg choice in ${(100 * resolvedFraction).toFixed(1)} % of pixels; the rest (slow axis near the polars, or too little retardance) keep the fit's value in [0, 90)`);
+    const byNeighbours = resolved > 0 && resolved < usable ? decideByNeighbours(width, height, mask, ambiguous, angleRad, cos2, sin2, confidence) : 0;
+    if (usable > 0 && resolved + byNeighbours === usable) ambiguity = 'none';
+    warnings.push(`the plate image decided the 90-deg choice in ${(100 * resolvedFraction).toFixed(1)} % of pixels${byNeighbours ? `, their neighbours' director in ${((100 * byNeighbours) / usable).toFixed(1)} % more` : ''}; the rest (slow axis near the polars, or too little retardance) keep the fit's value in [0, 90)`);
   }
   for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
   let field: OrientationField = {
@@ -350,6 +351,55 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // mod-90 axis, a field about 90 deg (or any axis in (90, 180) deg) had its undecided pixels put 90 deg off.
   if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? decidedAxisDeg ?? mod90AxisOfSums(sums[0], sums[1]), true);
   return { field, amplitude, background, residual, resolvedFraction };
+}
+
+/** Side of the blocks whose decided pixels give an undecided pixel its neighbours' director (3 x 3 blocks around it), px. */
+const NEIGHBOUR_BLOCK_PX = 8;
+/**
+ * Least length of the neighbours' mean doubled-angle vector (confidence-weighted) for it to decide a pixel: their
+ * directors must agree (for a wrapped-normal spread, 0.3 is a spread of about 45 deg, derived); our own choice.
+ */
+const NEIGHBOUR_MIN_ORDER = 0.3;
+
+/**
+ * Decides the 90-deg choice of pixels the compensator image left undecided (slow axis near a polariser, or too
+ * little retardance) by director continuity: of theta and theta + 90 deg, the one nearer the confidence-weighted
+ * mean director of the decided pixels in the 3 x 3 blocks of NEIGHBOUR_BLOCK_PX around it, when those agree
+ * (NEIGHBOUR_MIN_ORDER). A director field is continuous over its correlation length (tens of pixels in these
+ * textures), while theta and theta + 90 deg are as far apart as axes can be. Changes the arrays in place and marks
+ * the pixels decided; returns how many it decided.
+ */
+function decideByNeighbours(width: number, height: number, mask: Uint8Array, ambiguous: Uint8Array, angleRad: Float32Array, cos2: Float32Array, sin2: Float32Array, confidence: Float32Array): number {
+  const B = NEIGHBOUR_BLOCK_PX, bw = Math.ceil(width / B), bh = Math.ceil(height / B);
+  const sc = new Float64Array(bw * bh), ss = new Float64Array(bw * bh), sw = new Float64Array(bw * bh);
+  for (let y = 0; y < height; y++) {
+    const row = ((y / B) | 0) * bw;
+    for (let x = 0; x < width; x++) {
+      const i = y * width + x;
+      if (!mask[i] || ambiguous[i]) continue;
+      const b = row + ((x / B) | 0), w = confidence[i];
+      sc[b] += w * cos2[i]; ss[b] += w * sin2[i]; sw[b] += w;
+    }
+  }
+  let decided = 0;
+  for (let y = 0; y < height; y++) {
+    const by = (y / B) | 0;
+    for (let x = 0; x < width; x++) {
+      const i = y * width + x;
+      if (!mask[i] || !ambiguous[i]) continue;
+      const bx = (x / B) | 0;
+      let c = 0, s = 0, w = 0;
+      for (let j = Math.max(0, by - 1); j <= Math.min(bh - 1, by + 1); j++) {
+        for (let k = Math.max(0, bx - 1); k <= Math.min(bw - 1, bx + 1); k++) { const b = j * bw + k; c += sc[b]; s += ss[b]; w += sw[b]; }
+      }
+      if (!(w > 0) || Math.hypot(c, s) < NEIGHBOUR_MIN_ORDER * w) continue;
+      // theta + 90 deg turns 2 theta by 180 deg: the choice is the sign of the doubled-angle vector's projection.
+      if (c * cos2[i] + s * sin2[i] < 0) { angleRad[i] += Math.PI / 2; cos2[i] = -cos2[i]; sin2[i] = -sin2[i]; }
+      ambiguous[i] = 0;
+      decided++;
+    }
+  }
+  return decided;
 }
 
 interface SeriesFit {

@@ -62,3 +62,45 @@ export function mod90Axis(f: OrientationField): number {
   }
   return mod90AxisOfSums(c, s);
 }
+
+/** Distance from the fold's boundary (45 deg from its axis) within which foldEdgeShare counts a pixel, deg. */
+export const FOLD_EDGE_DEG = 10;
+/**
+ * Largest share of a folded field's usable pixels that may lie, still ambiguous, within FOLD_EDGE_DEG of the fold's
+ * boundary for its order numbers to be given. A pixel beyond the boundary is folded back inside it and reads
+ * cos 2(theta - axis) too high. How many lie beyond cannot be seen; how many lie just inside can, and for any smooth
+ * spread of directors the two go together. For the worst case of a smooth spread, a share p of isotropic pixels
+ * among aligned ones, the folded S reads 2/pi p = 0.64 p too high while 10/45 p = 0.22 p lie within 10 deg of the
+ * boundary (derived): 1 % there means about 0.03 of bias, the channel goal. For a wrapped-normal spread of directors
+ * it withholds below S of about 0.88, where the bias is still under 0.005 (derived): a cautious rule, our own choice.
+ */
+export const FOLD_EDGE_MAX_SHARE = 0.01;
+
+/**
+ * The usable pixels (mask) of a folded mod-90 field that are still ambiguous (field.ambiguous, when present) and lie
+ * within FOLD_EDGE_DEG of 45 deg from the axis they were folded about (options.mod90FoldedAboutDeg): 1 there, else
+ * 0. null for a field with no mod-90 ambiguity or not folded.
+ */
+export function foldEdgeMap(f: OrientationField): Uint8Array | null {
+  const centre = (f.options as { mod90FoldedAboutDeg?: number }).mod90FoldedAboutDeg;
+  if (f.ambiguity !== 'mod-90' || typeof centre !== 'number') return null;
+  const c = degToRad(centre), edge = degToRad(45 - FOLD_EDGE_DEG), only = f.ambiguous;
+  const out = new Uint8Array(f.angleRad.length);
+  for (let i = 0; i < out.length; i++) {
+    if (!f.mask[i] || (only && !only[i])) continue;
+    // Distance from the axis, folded into [0, 45] deg: the field's angles are axial and known modulo 90 deg.
+    let d = Math.abs(f.angleRad[i] - c) % (Math.PI / 2);
+    if (d > Math.PI / 4) d = Math.PI / 2 - d;
+    if (d >= edge) out[i] = 1;
+  }
+  return out;
+}
+
+/** Share of a folded mod-90 field's usable pixels that foldEdgeMap marks; NaN where it gives no map or no pixel is usable. */
+export function foldEdgeShare(f: OrientationField): number {
+  const map = foldEdgeMap(f);
+  if (!map) return NaN;
+  let usable = 0, near = 0;
+  for (let i = 0; i < map.length; i++) if (f.mask[i]) { usable++; near += map[i]; }
+  return usable ? near / usable : NaN;
+}

@@ -6,7 +6,7 @@ export type { MaskOptions } from './fieldFromTensor.ts';
 export { resolveMaskOptions, recycleTextureField, MASK_DEFAULTS, MASK_LIMITS } from './fieldFromTensor.ts';
 export { orientationField } from './orientationField.ts';
 export type { OrientationFieldOptions } from './orientationField.ts';
-export { foldMod90, mod90Axis, mod90AxisOfSums } from './fold.ts';
+export { foldMod90, foldEdgeMap, foldEdgeShare, mod90Axis, mod90AxisOfSums, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE } from './fold.ts';
 export { tilePixels, writeTexturePixels } from './tileShare.ts';
 export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';
 export { derivativeReachPx, integrationReachPx, recomputeWithCertainty, withFieldPatch, type FieldPatch } from './maskedTensor.ts';
