@@ -226,8 +226,12 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     await idle();
     await shot('26-angle-series');
     const r = await analyseAngleSeries(last.set!.map(load), { anglesDeg: [0, 22.5, 45, 67.5], compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', profile: null });
-    expect(await text('optics-director')).toBe(formatCell(r.result.directorDeg));
-    expect(await text('optics-order2d')).toBe(formatCell(r.result.order2D));
+    // Withheld numbers read "not determined" in the page, with why beside them (here: without a compensator image
+    // too many pixels of the demo lie near 45 deg from the axis the 90-deg choice is made about).
+    const shownAs = (v: number) => (Number.isFinite(v) ? formatCell(v) : NOT_DETERMINED);
+    expect(await text('optics-director')).toBe(shownAs(r.result.directorDeg));
+    expect(await text('optics-order2d')).toBe(shownAs(r.result.order2D));
+    if (r.result.notDetermined?.order) expect(await page.getByTestId('optics-results').textContent()).toContain('45 deg from the axis');
     expect(await text('optics-n')).toBe(formatCell(r.result.n));
     expect(await text('optics-ambiguity')).toContain('the one at 90° to it');
     expect(await text('optics-cli')).toBe(`retarda angle-series ${last.set!.join(' ')}`);
