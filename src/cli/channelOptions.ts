@@ -48,6 +48,8 @@ export async function channelProfileOutput(img: Image, field: OrientationField, 
 }
 
 const ci = (lo: number, hi: number) => `${lo.toFixed(3)}..${hi.toFixed(3)}`;
+const shown = (v: number): number | string => (Number.isFinite(v) ? v : NOT_DETERMINED);
+const band = (b: ProfileResult['core']) => (Number.isFinite(b.order) ? `${b.order.toFixed(3)} (${ci(b.ciLow, b.ciHigh)}) n=${b.n}` : `${NOT_DETERMINED} n=${b.n}`);
 
 export function profileTable(r: ProfileResult): string {
   const nd = r.notDetermined?.order;
@@ -59,14 +61,15 @@ export function profileTable(r: ProfileResult): string {
     ['walls', walls],
     ['axis deg', r.axisDeg],
     ['taper deg', r.taperDeg],
-    ['core S (95% CI)', `${r.core.order.toFixed(3)} (${ci(r.core.ciLow, r.core.ciHigh)}) n=${r.core.n}`],
-    ['skin S (95% CI)', `${r.skin.order.toFixed(3)} (${ci(r.skin.ciLow, r.skin.ciHigh)}) n=${r.skin.n}`],
-    ['core/skin', r.notDetermined?.coreSkinRatio ? `${NOT_DETERMINED}: ${r.notDetermined.coreSkinRatio}` : `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCiLow, r.coreSkinRatioCiHigh)})`],
+    ['core S (95% CI)', band(r.core)],
+    ['skin S (95% CI)', band(r.skin)],
+    ['core/skin', r.notDetermined?.coreSkinRatio ? `${NOT_DETERMINED}: ${r.notDetermined.coreSkinRatio}` : Number.isFinite(r.coreSkinRatio) ? `${r.coreSkinRatio.toFixed(3)} (${ci(r.coreSkinRatioCiLow, r.coreSkinRatioCiHigh)})` : NOT_DETERMINED],
   ]);
-  const rows = r.bins.map((b) => [b.s, b.order, b.ciLow, b.ciHigh, b.n, b.directorDeg]);
+  // A bin or band withheld (clipped pixels, an unsettled 90-deg choice) reads "not determined"; why is in the warnings.
+  const rows = r.bins.map((b) => (Number.isFinite(b.order) ? [b.s, b.order, b.ciLow, b.ciHigh, b.n, b.directorDeg] : [b.s, NOT_DETERMINED, '', '', b.n, '']));
   const stationLines = r.stations.length > 1
     ? '\n\n' + formatTable(['station', 'from px', 'to px', 'width px', 'core S', 'skin S', 'core/skin'],
-      r.stations.map((s) => [s.station, s.alongFromPx, s.alongToPx, s.widthPx, s.core.order, s.skin.order, s.coreSkinRatio]))
+      r.stations.map((s) => [s.station, s.alongFromPx, s.alongToPx, s.widthPx, shown(s.core.order), shown(s.skin.order), shown(s.coreSkinRatio)]))
     : '';
   return `${head}\n\n${formatTable(['position s', 'S_axis', 'ci low', 'ci high', 'n', 'director deg'], rows)}${stationLines}`;
 }

@@ -101,6 +101,8 @@ export function opticsOutput(analysis: string, results: OpticsResult[]): Command
     csvRows: results.map(opticsCsvRow),
     warnings: results.flatMap((r) => [
       ...Object.entries(r.notDetermined ?? {}).map(([k, why]) => `${r.source}: ${k === 'order' ? 'order numbers' : k} ${NOT_DETERMINED}: ${why}`),
+      // The profile's own withheld groups (clipped pixels, an unsettled 90-deg choice); its `order` is the result's.
+      ...Object.entries(r.profile?.notDetermined ?? {}).filter(([k]) => k !== 'order').map(([k, why]) => `${r.source}: profile ${k} ${NOT_DETERMINED}: ${why}`),
       ...r.warnings.map((w) => `${r.source}: ${w}`),
     ]),
   };
