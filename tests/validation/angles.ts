@@ -28,7 +28,7 @@ import { analyseAngleSeries } from '../../src/analyses/optics.ts';
 import type { ProfileResult } from '../../src/analyses/profile.ts';
 import { seriesIntensityImage } from '../../src/optics/fourAngle.ts';
 import { binomialBand } from './channel.ts';
-import { atMost, within, type ValidationArea, type ValidationRow } from './goals.ts';
+import { atMost, within, type ValidationArea, type ValidationRow, InsideCheck, runParts } from './goals.ts';
 import { mod90Truth, profileTruth, renderScene, scene, type Rendering, type SceneSpec, type WallStyle } from './render/index.ts';
 
 const BIN_GOAL = 0.03;
@@ -65,15 +65,8 @@ const truthFor = (_reader: Reader, t: ReturnType<typeof truths>) => t.raw;
 
 const num = (v: unknown): number => (typeof v === 'number' ? v : NaN);
 
-const outside = { count: 0, total: 0, examples: [] as string[] };
-function checkInside(what: string, v: number, lo: number, hi: number) {
-  if (![v, lo, hi].every(Number.isFinite)) return;
-  outside.total++;
-  if (v < lo - 1e-12 || v > hi + 1e-12) {
-    outside.count++;
-    if (outside.examples.length < 3) outside.examples.push(`${what}: ${v.toFixed(3)} not in ${lo.toFixed(3)}..${hi.toFixed(3)}`);
-  }
-}
+/** Point estimates outside their own interval, over every interval the rows looked at. */
+const ownInterval = new InsideCheck();
 
 // ---------------------------------------------------------------------------------------------------------
 // 1. Given walls: every bin against the rendered truth.
@@ -127,7 +120,7 @@ async function profileRows(quick: boolean): Promise<ValidationRow[]> {
       let withheld = 0, otherWorst = 0;
       p.bins.forEach((b, k) => {
         const v = num(b.order);
-        checkInside(`${name} bin ${k}`, v, num(b.ciLow), num(b.ciHigh));
+        ownInterval.check(`${name} bin ${k}`, v, num(b.ciLow), num(b.ciHigh));
         if (!Number.isFinite(v)) { withheld++; return; }
         errs.push({ e: Math.abs(v - truth.bins[k].realised), where: `bin ${k} (s ${b.s.toFixed(2)}): ${v.toFixed(3)} vs ${truth.bins[k].realised.toFixed(3)}, n ${b.n}` });
         otherWorst = Math.max(otherWorst, Math.abs(v - other.bins[k].realised));
@@ -212,11 +205,11 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
       }
       const t = truths(r, c.bins), truth = truthFor(c.reader, t), other = truth === t.raw ? t.folded : t.raw;
       p.bins.forEach((b, j) => {
-        checkInside(`${name} seed ${seed0 + k} bin ${j}`, num(b.order), num(b.ciLow), num(b.ciHigh));
+        ownInterval.check(`${name} seed ${seed0 + k} bin ${j}`, num(b.order), num(b.ciLow), num(b.ciHigh));
         count(groups.bins, num(b.ciLow), num(b.ciHigh), truth.bins[j].ensemble, other.bins[j].ensemble);
       });
       for (const g of ['core', 'skin'] as const) {
-        checkInside(`${name} seed ${seed0 + k} ${g}`, num(p[g].order), num(p[g].ciLow), num(p[g].ciHigh));
+        ownInterval.check(`${name} seed ${seed0 + k} ${g}`, num(p[g].order), num(p[g].ciLow), num(p[g].ciHigh));
         count(groups[g], num(p[g].ciLow), num(p[g].ciHigh), truth[g].ensemble, other[g].ensemble);
       }
     }
@@ -235,17 +228,9 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
 // ---------------------------------------------------------------------------------------------------------
 
 const anglesArea: ValidationArea = async ({ quick }) => {
-  outside.count = 0; outside.total = 0; outside.examples = [];
-  const rows: ValidationRow[] = [];
-  const parts = process.env.RETARDA_VALIDATE_PARTS?.split(',');
-  for (const [what, part] of [['profiles', profileRows], ['coverage', coverageRows]] as const) {
-    if (parts && !parts.includes(what)) continue;
-    const t0 = performance.now();
-    rows.push(...await part(quick));
-    process.stderr.write(`angles ${what}: ${((performance.now() - t0) / 1000).toFixed(1)} s\n`);
-  }
-  rows.push(atMost('angle series coverage', 'every interval above', 'point estimates outside their own interval (count)', outside.count, 0, '',
-    `${outside.total} intervals checked${outside.examples.length ? '; e.g. ' + outside.examples.join('; ') : ''}`));
+  ownInterval.count = 0; ownInterval.total = 0; ownInterval.examples = [];
+  const rows = await runParts('angles', [['profiles', () => profileRows(quick)], ['coverage', () => coverageRows(quick)]]);
+  rows.push(ownInterval.row('angle series coverage'));
   return rows;
 };
 

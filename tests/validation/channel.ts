@@ -30,7 +30,7 @@ import { InputError } from '../../src/common/errors.ts';
 import { analyseOrientation } from '../../src/analyses/orient.ts';
 import { analyseProfile, type ProfileResult } from '../../src/analyses/profile.ts';
 import { analysePlate, analysePlatePair } from '../../src/analyses/optics.ts';
-import { atMost, within, type ValidationArea, type ValidationRow } from './goals.ts';
+import { atMost, within, type ValidationArea, type ValidationRow, InsideCheck, runParts } from './goals.ts';
 import {
   Rng, largestLineDistance, profileTruth, renderScene, scene, wholeImageTruth, writeRenderingPngs,
   type Rendering, type SceneSpec, type Segment, type WallStyle,
@@ -303,16 +303,8 @@ function withheldReason(p: ProfileResult): string {
   return nd ? Object.values(nd).join('; ') : p.warnings.join('; ') || 'no reason given';
 }
 
-/** Counts point estimates outside their own interval, over every interval any row looked at. */
-const outside = { count: 0, total: 0, examples: [] as string[] };
-function checkInside(what: string, v: number, lo: number, hi: number) {
-  if (![v, lo, hi].every(Number.isFinite)) return;
-  outside.total++;
-  if (v < lo - 1e-12 || v > hi + 1e-12) {
-    outside.count++;
-    if (outside.examples.length < 3) outside.examples.push(`${what}: ${v.toFixed(3)} not in ${lo.toFixed(3)}..${hi.toFixed(3)}`);
-  }
-}
+/** Point estimates outside their own interval, over every interval the rows looked at. */
+const ownInterval = new InsideCheck();
 
 async function profileRows(quick: boolean): Promise<ValidationRow[]> {
   const rows: ValidationRow[] = [];
@@ -334,7 +326,7 @@ async function profileRows(quick: boolean): Promise<ValidationRow[]> {
       let withheld = 0;
       const compare = (bins: ProfileResult['bins'], tb: typeof truth.bins, where: string) => bins.forEach((b, k) => {
         const v = num(b.order);
-        checkInside(`${name} bin ${k}`, v, num(b.ciLow), num(b.ciHigh));
+        ownInterval.check(`${name} bin ${k}`, v, num(b.ciLow), num(b.ciHigh));
         if (!Number.isFinite(v)) { withheld++; return; }
         errs.push({ e: Math.abs(v - tb[k].realised), where: `${where}bin ${k} (s ${b.s.toFixed(2)}): ${v.toFixed(3)} vs ${tb[k].realised.toFixed(3)}, n ${b.n}` });
       });
@@ -572,7 +564,7 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
     for (const r of mine.flatMap((m) => m.records)) {
       if (!tallies.has(r.group)) tallies.set(r.group, tally());
       count(tallies.get(r.group)!, r);
-      checkInside(`${name} ${r.group}`, r.estimate, r.lo, r.hi);
+      ownInterval.check(`${name} ${r.group}`, r.estimate, r.lo, r.hi);
     }
     const refused = mine.filter((m) => m.refused !== null);
     const ref = refused.length ? `; ${refused.length} renderings refused (${refused[0].refused})` : '';
@@ -604,18 +596,9 @@ async function coverageRows(quick: boolean): Promise<ValidationRow[]> {
 // ---------------------------------------------------------------------------------------------------------
 
 const channelArea: ValidationArea = async ({ quick }) => {
-  outside.count = 0; outside.total = 0; outside.examples = [];
-  const rows: ValidationRow[] = [];
-  // RETARDA_VALIDATE_PARTS=walls,profiles,coverage runs only those parts (all by default).
-  const parts = process.env.RETARDA_VALIDATE_PARTS?.split(',');
-  for (const [what, part] of [['walls', autoWallRows], ['profiles', profileRows], ['coverage', coverageRows]] as const) {
-    if (parts && !parts.includes(what)) continue;
-    const t0 = performance.now();
-    rows.push(...await part(quick));
-    process.stderr.write(`channel ${what}: ${((performance.now() - t0) / 1000).toFixed(1)} s\n`);
-  }
-  rows.push(atMost('channel coverage', 'every interval above', 'point estimates outside their own interval (count)', outside.count, 0, '',
-    `${outside.total} intervals checked${outside.examples.length ? '; e.g. ' + outside.examples.join('; ') : ''}`));
+  ownInterval.count = 0; ownInterval.total = 0; ownInterval.examples = [];
+  const rows = await runParts('channel', [['walls', () => autoWallRows(quick)], ['profiles', () => profileRows(quick)], ['coverage', () => coverageRows(quick)]]);
+  rows.push(ownInterval.row('channel coverage'));
   return rows;
 };
 
