@@ -146,9 +146,9 @@ export type ReadingKind = keyof typeof READING_NAMES;
  * program; a design choice from those measurements. The angle series holds each image as its linear intensity
  * (one plane): at 12 MP, tiled sample images peaked at 0.69 GiB, and 0.76 GiB with --flat and --field-out, so it
  * takes 12.5 MP (a 4032 x 3024 camera). With a compensator image (--plate) it also holds that image's colour
- * planes and their look-up: with --plate, --flat and --field-out the peak reached 1.09 GB at 10.5 MP, 1.06 GB at
- * 9.4 MP and 0.97 GB at 8.5 MP, so then its limit is 8.5 MP (ANGLE_SERIES_WITH_PLATE_MAX_PIXELS). Larger images are
- * refused before the reading takes its memory.
+ * planes and their look-up: with --plate, --flat and --field-out the peak reached 0.98-1.02 GB at 12 MP (0.75 GB
+ * at 8.5 MP), so then its limit is 8.5 MP (ANGLE_SERIES_WITH_PLATE_MAX_PIXELS). Larger images are refused before
+ * the reading takes its memory.
  */
 export const OPTICS_MAX_PIXELS: Record<ReadingKind, number> = { plate: 24e6, 'plate-pair': 16e6, 'angle-series': 12.5e6 };
 /** The angle series' limit per image when a compensator image is read with it (OPTICS_MAX_PIXELS says why). */

@@ -139,9 +139,8 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
       const band = a < coreMax ? 0 : a > skinMin ? 1 : -1;
       if (counted) {
         const c = clipCounts[st], hit = clippedMap ? clippedMap[i] : 0, live = f.mask[i] ? 1 : 0, edge = edgeMap ? edgeMap[i] : 0;
-        for (const g of band === 0 ? [c.bins[b], c.core] : band === 1 ? [c.bins[b], c.skin] : [c.bins[b]]) {
-          g.total++; g.clipped += hit; g.usable += live; g.foldEdge += edge;
-        }
+        tally(c.bins[b], hit, live, edge);
+        if (band === 0) tally(c.core, hit, live, edge); else if (band === 1) tally(c.skin, hit, live, edge);
       }
       if (!f.mask[i]) continue;
       binGroups[i] = st * bins + b;
@@ -189,6 +188,11 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
       },
     } : {}),
   };
+}
+
+/** Adds one pixel between the walls to a group's counts (no array per pixel: this runs for every pixel of the channel). */
+function tally(g: GroupCount, clipped: number, usable: number, foldEdge: number): void {
+  g.total++; g.clipped += clipped; g.usable += usable; g.foldEdge += foldEdge;
 }
 
 /** Groups whose S is withheld, with their shares, by cause. */
