@@ -75,9 +75,33 @@ function retardanceGrid(maxNm: number, stepNm: number, range: [number, number] |
   return Float64Array.from({ length: nR }, (_, k) => (nR > 1 ? lo + ((hi - lo) * k) / (nR - 1) : lo));
 }
 
-/** Builds the lookup from the spectral Jones model (one pass over wavelengths per entry). */
+/** Lookups built lately, by everything they are made from (at most LOOKUP_CACHE_SIZE, the least recently used dropped). */
+const lookupCache = new Map<string, PlateLookup>();
+/** Lookups kept: both images' of a plate pair and a one-image reading's two, about 2 MB each at the default grid. */
+const LOOKUP_CACHE_SIZE = 4;
+
+/**
+ * Builds the lookup from the spectral Jones model (one pass over wavelengths per entry), or gives the one built
+ * lately from the same model and options (the app and a run over several files read with the same train): the
+ * same arrays, which callers read and never change.
+ */
 export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}): PlateLookup {
   const o = { ...LOOKUP_DEFAULTS, ...definedOnly(options) };
+  const key = JSON.stringify([model.train, Array.from(model.wavelengthsNm), Array.from(model.wx), Array.from(model.wy), Array.from(model.wz), model.whiteXyz, model.xyzToCamera, o]);
+  const cached = lookupCache.get(key);
+  if (cached) {
+    lookupCache.delete(key);
+    lookupCache.set(key, cached);
+    return cached;
+  }
+  const lookup = buildLookup(model, o, options.retardanceRangeNm);
+  lookupCache.set(key, lookup);
+  if (lookupCache.size > LOOKUP_CACHE_SIZE) lookupCache.delete(lookupCache.keys().next().value!);
+  return lookup;
+}
+
+/** buildPlateLookup's work: the lookup of the model for options `o` (defaults filled in). */
+function buildLookup(model: ColourModel, o: typeof LOOKUP_DEFAULTS & LookupOptions, range: [number, number] | undefined): PlateLookup {
   checkNumber('maximum retardance', o.retardanceMaxNm, 10, 5000, 'nm');
   checkNumber('angle step', o.angleStepDeg, 0.05, 15, 'deg');
   checkNumber('retardance step', o.retardanceStepNm, 0.1, 100, 'nm');
@@ -88,7 +112,7 @@ export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}
   const a0 = mirror !== null ? mirror - 90 : -90;
   const nA = Math.round((mirror !== null ? 90 : 180 - o.angleStepDeg) / o.angleStepDeg) + 1;
   const anglesDeg = Float64Array.from({ length: nA }, (_, j) => a0 + j * o.angleStepDeg);
-  const retardancesNm = retardanceGrid(o.retardanceMaxNm, o.retardanceStepNm, options.retardanceRangeNm);
+  const retardancesNm = retardanceGrid(o.retardanceMaxNm, o.retardanceStepNm, range);
   const nR = retardancesNm.length;
   const lam = model.wavelengthsNm, nL = lam.length;
   // Half-phase cos/sin of every (retardance, wavelength) pair and of the compensator.

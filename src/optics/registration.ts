@@ -2,41 +2,89 @@ import type { Plane } from '../common/index.ts';
 import { InputError } from '../common/index.ts';
 import { toGrey, type Image } from '../image/index.ts';
 
-/** In-place radix-2 complex FFT (inverse when `inverse`), length a power of two. */
-function fft(re: Float64Array, im: Float64Array, inverse: boolean): void {
-  const n = re.length;
+/**
+ * Twiddle factors of a radix-2 FFT of length n, per stage (len = 2, 4, ..., n) the len/2 values
+ * (cos, sin)(+-2 pi k / len) made by the recurrence w_{k+1} = w_k w_1 from w_0 = 1 (as a stage's butterflies use
+ * them), stage after stage: at offset len/2 - 1 for the stage of length len. Cached per (n, direction).
+ */
+const twiddleCache = new Map<string, { re: Float64Array; im: Float64Array; rev: Int32Array }>();
+function twiddles(n: number, inverse: boolean) {
+  const key = `${n}${inverse ? 'i' : 'f'}`;
+  let t = twiddleCache.get(key);
+  if (t) return t;
+  const re = new Float64Array(n), im = new Float64Array(n), rev = new Int32Array(n);
+  for (let len = 2; len <= n; len <<= 1) {
+    const ang = ((inverse ? 2 : -2) * Math.PI) / len;
+    const wr = Math.cos(ang), wi = Math.sin(ang);
+    let cr = 1, ci = 0;
+    for (let k = 0; k < len / 2; k++) {
+      re[len / 2 - 1 + k] = cr; im[len / 2 - 1 + k] = ci;
+      const ncr = cr * wr - ci * wi; ci = cr * wi + ci * wr; cr = ncr;
+    }
+  }
   for (let i = 1, j = 0; i < n; i++) {
     let bit = n >> 1;
     for (; j & bit; bit >>= 1) j ^= bit;
     j ^= bit;
-    if (i < j) { [re[i], re[j]] = [re[j], re[i]]; [im[i], im[j]] = [im[j], im[i]]; }
+    rev[i] = j;
+  }
+  t = { re, im, rev };
+  twiddleCache.set(key, t);
+  return t;
+}
+
+/**
+ * In-place radix-2 decimation-in-time complex FFT (inverse when `inverse`, unscaled; Cooley & Tukey 1965) of re, im,
+ * length a power of two: bit-reversal permutation, then per stage the butterflies with the stage's twiddles.
+ */
+function fft(re: Float64Array, im: Float64Array, inverse: boolean): void {
+  const n = re.length;
+  const { re: twr, im: twi, rev } = twiddles(n, inverse);
+  for (let i = 1; i < n; i++) {
+    const j = rev[i];
+    if (i < j) {
+      const r = re[i]; re[i] = re[j]; re[j] = r;
+      const m = im[i]; im[i] = im[j]; im[j] = m;
+    }
   }
   for (let len = 2; len <= n; len <<= 1) {
-    const ang = ((inverse ? 2 : -2) * Math.PI) / len;
-    const wr = Math.cos(ang), wi = Math.sin(ang);
+    const half = len >> 1, tw = half - 1;
     for (let i = 0; i < n; i += len) {
-      let cr = 1, ci = 0;
-      for (let k = 0; k < len / 2; k++) {
-        const a = i + k, b = a + len / 2;
+      for (let k = 0; k < half; k++) {
+        const cr = twr[tw + k], ci = twi[tw + k];
+        const a = i + k, b = a + half;
         const tr = re[b] * cr - im[b] * ci, ti = re[b] * ci + im[b] * cr;
         re[b] = re[a] - tr; im[b] = im[a] - ti; re[a] += tr; im[a] += ti;
-        const ncr = cr * wr - ci * wi; ci = cr * wi + ci * wr; cr = ncr;
       }
     }
   }
 }
 
+/**
+ * 2-D FFT of an n x n array in place: each row by fft, then every column at once (the same butterflies, run along
+ * whole rows so that the memory is read in order).
+ */
 function fft2(re: Float64Array, im: Float64Array, n: number, inverse: boolean): void {
-  const rr = new Float64Array(n), ri = new Float64Array(n);
-  for (let y = 0; y < n; y++) {
-    rr.set(re.subarray(y * n, y * n + n)); ri.set(im.subarray(y * n, y * n + n));
-    fft(rr, ri, inverse);
-    re.set(rr, y * n); im.set(ri, y * n);
+  for (let y = 0; y < n; y++) fft(re.subarray(y * n, y * n + n), im.subarray(y * n, y * n + n), inverse);
+  const { re: twr, im: twi, rev } = twiddles(n, inverse);
+  for (let i = 1; i < n; i++) {
+    const j = rev[i];
+    if (i < j) for (let x = 0, p = i * n, q = j * n; x < n; x++, p++, q++) {
+      const r = re[p]; re[p] = re[q]; re[q] = r;
+      const m = im[p]; im[p] = im[q]; im[q] = m;
+    }
   }
-  for (let x = 0; x < n; x++) {
-    for (let y = 0; y < n; y++) { rr[y] = re[y * n + x]; ri[y] = im[y * n + x]; }
-    fft(rr, ri, inverse);
-    for (let y = 0; y < n; y++) { re[y * n + x] = rr[y]; im[y * n + x] = ri[y]; }
+  for (let len = 2; len <= n; len <<= 1) {
+    const half = len >> 1, tw = half - 1;
+    for (let i = 0; i < n; i += len) {
+      for (let k = 0; k < half; k++) {
+        const cr = twr[tw + k], ci = twi[tw + k];
+        for (let a = (i + k) * n, b = a + half * n, end = a + n; a < end; a++, b++) {
+          const tr = re[b] * cr - im[b] * ci, ti = re[b] * ci + im[b] * cr;
+          re[b] = re[a] - tr; im[b] = im[a] - ti; re[a] += tr; im[a] += ti;
+        }
+      }
+    }
   }
 }
 
@@ -62,6 +110,27 @@ export interface RegistrationCheck {
 }
 
 /**
+ * phaseCorrelation's tables for an n x n window, made once per n: the Hann factor 0.5 - 0.5 cos(2 pi (x + 0.5) / n)
+ * per row or column, the Gaussian low-pass exp(-(u^2 + v^2) / (2 (n/6)^2)) per frequency (u, v signed) and its sum.
+ */
+const windowCache = new Map<number, { hann: Float64Array; weight: Float64Array; weightSum: number }>();
+function windowTables(n: number) {
+  let t = windowCache.get(n);
+  if (t) return t;
+  const hann = Float64Array.from({ length: n }, (_, x) => 0.5 - 0.5 * Math.cos((2 * Math.PI * (x + 0.5)) / n));
+  const sf2 = 2 * (n / 6) ** 2, weight = new Float64Array(n * n);
+  let weightSum = 0;
+  for (let i = 0; i < n * n; i++) {
+    const fy = Math.floor(i / n), fx = i - fy * n, u = fx > n / 2 ? fx - n : fx, v = fy > n / 2 ? fy - n : fy;
+    weight[i] = Math.exp(-(u * u + v * v) / sf2);
+    weightSum += weight[i];
+  }
+  t = { hann, weight, weightSum };
+  windowCache.set(n, t);
+  return t;
+}
+
+/**
  * Phase correlation (Kuglin & Hines 1975) of the central square (largest power of two up to 512 px, Hann
  * window) of two grey planes, the whitened cross-power spectrum low-passed by a Gaussian (sigma n/6); sub-pixel
  * peak by a 3-point parabola per axis. Positive dx: B is shifted right.
@@ -73,15 +142,13 @@ export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
   const n = windowSide(a.width, a.height);
   if (n < 16) throw new InputError('images smaller than 16 px cannot be checked for registration', 'Use larger images');
   const x0 = Math.floor((a.width - n) / 2), y0 = Math.floor((a.height - n) / 2);
+  const { hann, weight, weightSum: wsum } = windowTables(n);
   const load = (p: Plane) => {
     const re = new Float64Array(n * n);
     let mean = 0;
     for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) mean += p.data[(y + y0) * p.width + x + x0];
     mean /= n * n;
-    for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) {
-      const w = (0.5 - 0.5 * Math.cos((2 * Math.PI * (x + 0.5)) / n)) * (0.5 - 0.5 * Math.cos((2 * Math.PI * (y + 0.5)) / n));
-      re[y * n + x] = (p.data[(y + y0) * p.width + x + x0] - mean) * w;
-    }
+    for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) re[y * n + x] = (p.data[(y + y0) * p.width + x + x0] - mean) * (hann[x] * hann[y]);
     return re;
   };
   const ar = load(a), ai = new Float64Array(n * n), br = load(b), bi = new Float64Array(n * n);
@@ -89,12 +156,10 @@ export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
   fft2(br, bi, n, false);
   // Cross-power spectrum B * conj(A) / |.|: its inverse peaks at the shift of B against A.
   // A Gaussian low-pass on the whitened spectrum keeps sensor noise at high frequencies from burying the peak.
-  const sf2 = 2 * (n / 6) ** 2;
   for (let i = 0; i < n * n; i++) {
     const r = br[i] * ar[i] + bi[i] * ai[i], im = bi[i] * ar[i] - br[i] * ai[i];
     const m = Math.hypot(r, im) || 1;
-    const fy = Math.floor(i / n), fx = i - fy * n, u = fx > n / 2 ? fx - n : fx, v = fy > n / 2 ? fy - n : fy;
-    const w = Math.exp(-(u * u + v * v) / sf2);
+    const w = weight[i];
     ar[i] = (w * r) / m; ai[i] = (w * im) / m;
   }
   fft2(ar, ai, n, true);
@@ -107,14 +172,15 @@ export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
   let dy = by + sub(at(bx, by - 1), at(bx, by), at(bx, by + 1));
   if (dx > n / 2) dx -= n;
   if (dy > n / 2) dy -= n;
-  let wsum = 0;
-  for (let i = 0; i < n * n; i++) { const fy = Math.floor(i / n), fx = i - fy * n, u = fx > n / 2 ? fx - n : fx, v = fy > n / 2 ? fy - n : fy; wsum += Math.exp(-(u * u + v * v) / sf2); }
   let runnerUp = -Infinity;
-  for (let i = 0; i < n * n; i++) {
-    const y = Math.floor(i / n), x = i - y * n;
-    let ddx = Math.abs(x - bx), ddy = Math.abs(y - by);
-    ddx = Math.min(ddx, n - ddx); ddy = Math.min(ddy, n - ddy);
-    if (ddx * ddx + ddy * ddy > 9 && ar[i] > runnerUp) runnerUp = ar[i];
+  for (let y = 0, i = 0; y < n; y++) {
+    let ddy = Math.abs(y - by);
+    ddy = Math.min(ddy, n - ddy);
+    for (let x = 0; x < n; x++, i++) {
+      let ddx = Math.abs(x - bx);
+      ddx = Math.min(ddx, n - ddx);
+      if (ddx * ddx + ddy * ddy > 9 && ar[i] > runnerUp) runnerUp = ar[i];
+    }
   }
   return {
     dxPx: dx, dyPx: dy, shiftPx: Math.hypot(dx, dy), peak: ar[best] / wsum, zeroShiftRatio: ar[best] > 0 ? ar[0] / ar[best] : 1,
