@@ -47,6 +47,12 @@ export interface ChannelShape {
 export interface SceneSpec {
   name: string;
   seed: number;
+  /**
+   * Seed of the random streak pattern (grain) and of the camera noise; the seed's own when absent. Renderings
+   * that share `seed` and differ here show one director field through different streak patterns, which
+   * separates what a texture reading gets wrong on average from the scatter of one pattern.
+   */
+  patternSeed?: number;
   width: number;
   height: number;
   /** null: the whole frame is interior (no walls), with the mean director at `directorDeg`. */
@@ -202,7 +208,8 @@ const overlap = (lo: number, hi: number, d: number) => Math.max(0, Math.min(hi, 
 export function renderScene(spec: SceneSpec): Rendering {
   const { width: w, height: h } = spec;
   const n = w * h;
-  const rng = (label: string) => new Rng(streamSeed(spec.seed, label));
+  const PATTERN = new Set(['grain', 'background grain', 'noise A', 'noise B']);
+  const rng = (label: string) => new Rng(streamSeed(PATTERN.has(label) || label.startsWith('noise series') ? spec.patternSeed ?? spec.seed : spec.seed, label));
   const ch = spec.channel;
   const geo = ch ? channelGeometry(w, h, ch.axisDeg, ch.widthPx, ch.taperDeg, ch.offsetPx) : null;
 
