@@ -273,33 +273,34 @@ export class LookupSearcher {
     return d;
   }
 
-  private distinct(ja: number, ka: number, jb: number, kb: number): boolean {
-    let dj = Math.abs(ja - jb);
-    if (dj > this.periodJ / 2) dj = this.periodJ - dj;
-    return dj > this.distinctJ || Math.abs(ka - kb) > this.distinctK;
-  }
-
-  private dist(idx: number, q0: number, q1: number, q2: number): number {
-    const c = this.c;
-    if (this.dims === 3) {
-      const o = 3 * idx, a = c[o] - q0, b = c[o + 1] - q1, d = c[o + 2] - q2;
-      return a * a + b * b + d * d;
-    }
-    const o = 2 * idx, a = c[o] - q0, b = c[o + 1] - q1;
-    return a * a + b * b;
-  }
-
-  /** Best full-resolution entry in the window around (j0, k0); with avoidJ >= 0 only entries distinct from it. */
+  /**
+   * Best full-resolution entry in the window around (j0, k0); with avoidJ >= 0 only entries distinct from it (as
+   * `distinct`: rows farther than distinctJ, or within them entries farther than distinctK).
+   */
   private refine(j0: number, k0: number, q0: number, q1: number, q2: number, avoidJ: number, avoidK: number, widen = 0): [number, number] {
     let best = -1, bestD = Infinity;
     const wa = this.strideA + Math.ceil(widen * this.distinctJ), wr = this.strideR + Math.ceil(widen * this.distinctK);
     const jLo = Math.max(0, j0 - wa), jHi = Math.min(this.nA - 1, j0 + wa);
     const kLo = Math.max(0, k0 - wr), kHi = Math.min(this.nR - 1, k0 + wr);
+    const c = this.c, nR = this.nR, three = this.dims === 3, dK = this.distinctK;
     for (let j = jLo; j <= jHi; j++) {
+      let rowDistinct = true;
+      if (avoidJ >= 0) {
+        let dj = Math.abs(j - avoidJ);
+        if (dj > this.periodJ / 2) dj = this.periodJ - dj;
+        rowDistinct = dj > this.distinctJ;
+      }
       for (let k = kLo; k <= kHi; k++) {
-        if (avoidJ >= 0 && !this.distinct(j, k, avoidJ, avoidK)) continue;
-        const idx = j * this.nR + k;
-        const d = this.dist(idx, q0, q1, q2);
+        if (!rowDistinct && !(Math.abs(k - avoidK) > dK)) continue;
+        const idx = j * nR + k;
+        let d: number;
+        if (three) {
+          const o = 3 * idx, a = c[o] - q0, b = c[o + 1] - q1, e = c[o + 2] - q2;
+          d = a * a + b * b + e * e;
+        } else {
+          const o = 2 * idx, a = c[o] - q0, b = c[o + 1] - q1;
+          d = a * a + b * b;
+        }
         if (d < bestD) { bestD = d; best = idx; }
       }
     }

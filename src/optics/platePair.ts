@@ -150,9 +150,15 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
       clipAt, tableAt, shift, cacheAt, hitsAt, freshAt, countsAt);
     entries += nFresh;
     const fresh = mem.i32(freshAt, nFresh), ints = mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)), floats = mem.f32(tableAt, ints.length);
+    // Each new cell's colour and its best retardance per angle row, all the block's new cells at once.
     for (let f = 0; f < nFresh; f++) {
       const o = fresh[f] >> 2, ca = ints[o], cb = ints[o + 1];
       cellsA.ensure(ca); cellsB.ensure(cb);
+      search.need(ca, cellsA.lab, cb, cellsB.lab);
+    }
+    search.makeRows();
+    for (let f = 0; f < nFresh; f++) {
+      const o = fresh[f] >> 2, ca = ints[o], cb = ints[o + 1];
       // Candidates: the closed-form first-order reading, and along every angle row the retardance that best explains either image.
       const est = combinePlatePair(cellsA.eff[ca] - gpA, cellsB.eff[cb] - gpB, axis, turn);
       const estDeg = sign === -1 ? wrapAxialDeg(est.angleDeg - 90) : est.angleDeg;
@@ -223,6 +229,8 @@ class PairSearch {
   private readonly k: OpticsKernelExports;
   /** Byte offsets in the kernel's memory: both lookups' Lab, angles and retardances, each image's two rows, costs, result. */
   private readonly at: { C: number; D: number; angles: number; rets: number; ra: number; rb: number; costs: number; out: number };
+  /** Views of the kernel's memory at `at` (remade when the memory grows). */
+  private views: { buffer: ArrayBuffer; ra: Uint16Array; rb: Uint16Array; outI: Int32Array; outF: Float64Array } | null = null;
 
   constructor(private readonly lutA: PlateLookup, private readonly lutB: PlateLookup, nCells: number, private readonly mem: OpticsLayout) {
     this.nA = lutA.anglesDeg.length; this.nR = lutA.retardancesNm.length;
@@ -233,7 +241,8 @@ class PairSearch {
       C, D, angles: mem.reserve(8 * this.nA), rets: mem.reserve(8 * this.nR), ra: mem.reserve(2 * this.nRows), rb: mem.reserve(2 * this.nRows),
       costs: mem.reserve(16 * this.nRows), out: mem.reserve(24),
     };
-    this.rowsA = new CellRows(lutA, nCells, this.nRows, mem, C, this.at.ra); this.rowsB = new CellRows(lutB, nCells, this.nRows, mem, D, this.at.rb);
+    const batch = new CellBatch(this.nRows, mem);
+    this.rowsA = new CellRows(lutA, nCells, this.nRows, mem, C, batch); this.rowsB = new CellRows(lutB, nCells, this.nRows, mem, D, batch);
   }
 
   /** Writes the lookups into the kernel's memory (after the layout's commit). */
@@ -244,23 +253,48 @@ class PairSearch {
     this.rowsA.load(); this.rowsB.load();
   }
 
-  /** Reading of colour cells ca (Lab in labA) and cb (in labB), starting from the estimate (bj, bk). */
+  /** Notes that the rows of cells ca (Lab in labA) and cb (in labB) will be read (made by makeRows unless made). */
+  need(ca: number, labA: Float32Array, cb: number, labB: Float32Array): void {
+    this.rowsA.need(ca, labA); this.rowsB.need(cb, labB);
+  }
+
+  /** Makes the rows of the cells noted since the last call. */
+  makeRows(): void {
+    this.rowsA.make(); this.rowsB.make();
+  }
+
+  /** Reading of colour cells ca (Lab in labA) and cb (in labB), starting from the estimate (bj, bk); their rows made. */
   read(labA: Float32Array, ca: number, labB: Float32Array, cb: number, bj: number, bk: number) {
     const a0 = labA[3 * ca], a1 = labA[3 * ca + 1], a2 = labA[3 * ca + 2], b0 = labB[3 * cb], b1 = labB[3 * cb + 1], b2 = labB[3 * cb + 2];
-    const { at, nRows, mem } = this;
+    const { at, nRows } = this;
+    const buffer = this.k.memory.buffer;
+    if (this.views?.buffer !== buffer) {
+      this.views = { buffer, ra: new Uint16Array(buffer, at.ra, nRows), rb: new Uint16Array(buffer, at.rb, nRows), outI: new Int32Array(buffer, at.out, 2), outF: new Float64Array(buffer, at.out + 8, 2) };
+    }
+    const v = this.views;
     // Each image's rows for its cell, where pairRead reads them.
-    const ra = this.rowsA.of(ca, a0, a1, a2), oa = this.rowsA.offset(ca);
-    const rb = this.rowsB.of(cb, b0, b1, b2), ob = this.rowsB.offset(cb);
-    mem.u16(at.ra, nRows).set(ra.subarray(oa, oa + nRows)); mem.u16(at.rb, nRows).set(rb.subarray(ob, ob + nRows));
+    const oa = this.rowsA.offset(ca), ob = this.rowsB.offset(cb);
+    v.ra.set(this.rowsA.pool.subarray(oa, oa + nRows)); v.rb.set(this.rowsB.pool.subarray(ob, ob + nRows));
     const aStep = this.lutA.anglesDeg[1] - this.lutA.anglesDeg[0], rStep = this.lutA.retardancesNm[1] - this.lutA.retardancesNm[0];
     this.k.pairRead(at.C, at.D, this.nA, this.nR, ROW_STRIDE, nRows, at.angles, at.rets, aStep, rStep, a0, a1, a2, b0, b1, b2, at.ra, at.rb, bj, bk, at.costs, at.out);
-    const [fj, fk] = mem.i32(at.out, 2), [fine, alternative] = mem.f64(at.out + 8, 2);
+    const fj = v.outI[0], fk = v.outI[1], fine = v.outF[0], alternative = v.outF[1];
     return { angleDeg: this.lutA.anglesDeg[fj], retardanceNm: this.lutA.retardancesNm[fk], residual: Math.sqrt(fine / 2), alternative };
   }
 }
 
-/** Coarse entries (every 4th retardance) per bounding box of the row scan. */
+/** Coarse entries (every 4th retardance) per bounding box of the row scan (even: the kernel takes two at a time). */
 const BOX_ENTRIES = 8;
+/** Cells per call of the kernel's cellRows. */
+const CELL_BATCH = 4096;
+
+/** The kernel's memory for one call of cellRows: the cells' Lab, their guesses, their rows and the kernel's scratch. */
+class CellBatch {
+  /** Byte offsets in the kernel's memory. */
+  readonly at: { labs: number; guesses: number; rows: number; bounds: number; dists: number };
+  constructor(nRows: number, mem: OpticsLayout) {
+    this.at = { labs: mem.reserve(24 * CELL_BATCH), guesses: mem.reserve(4 * CELL_BATCH), rows: mem.reserve(2 * nRows * CELL_BATCH), bounds: mem.reserve(8 * 64), dists: mem.reserve(8 * BOX_ENTRIES) };
+  }
+}
 
 /**
  * For each colour cell met: on every ROW_STRIDE-th angle row, the retardance index nearest in Lab (coarse scan over
@@ -270,59 +304,95 @@ const BOX_ENTRIES = 8;
  * same monotone roundings).
  */
 class CellRows {
+  /** Per cell: its slot in the pool, -1 while not made. */
   private readonly slot: Int32Array;
-  private pool: Uint16Array;
+  /** The cells' rows, nRows uint16s a slot. */
+  pool: Uint16Array;
   private count = 0;
-  /** Per row and box: Lab minimum and maximum (6 numbers). */
-  private readonly boxes: Float64Array;
+  /** Cells noted by `need`, with their Lab, for the next `make`. */
+  private pending: number[] = [];
+  private pendingLab: number[] = [];
   private readonly nBoxes: number;
-  /** Byte offset of the boxes in the kernel's memory. */
-  private readonly boxesAt: number;
+  /** Boxes per row as laid out (nBoxes made even) and coarse entries per row (nBoxes x BOX_ENTRIES). */
+  private readonly nBp: number;
+  private readonly nCp: number;
+  /** Per row: the coarse entries' L, a, b (nCp each), float64. */
+  private readonly coarse: Float64Array;
+  /** Per row: the boxes' minima of L, a, b, then maxima (nBp each), float64. */
+  private readonly boxes: Float64Array;
+  /** Byte offsets in the kernel's memory of the coarse entries and the boxes. */
+  private readonly at: { coarse: number; boxes: number };
 
-  /** `coordsAt`: where the lookup's Lab lies in the kernel's memory; `scratchAt`: nRows uint16s the kernel writes a cell's rows to. */
+  /** `coordsAt`: where the lookup's Lab lies in the kernel's memory; `batch`: the memory of a cellRows call. */
   constructor(private readonly lut: PlateLookup, nCells: number, private readonly nRows: number, private readonly mem: OpticsLayout,
-    private readonly coordsAt: number, private readonly scratchAt: number) {
+    private readonly coordsAt: number, private readonly batch: CellBatch) {
     this.slot = new Int32Array(nCells).fill(-1);
     this.pool = new Uint16Array(256 * nRows);
     const nR = lut.retardancesNm.length, C = lut.coords, nCoarse = Math.ceil(nR / 4);
     this.nBoxes = Math.ceil(nCoarse / BOX_ENTRIES);
-    this.boxes = new Float64Array(nRows * this.nBoxes * 6);
-    for (let r = 0; r < nRows; r++) for (let g = 0; g < this.nBoxes; g++) {
-      const o = 6 * (r * this.nBoxes + g);
-      this.boxes.fill(Infinity, o, o + 3); this.boxes.fill(-Infinity, o + 3, o + 6);
-      for (let k = 4 * BOX_ENTRIES * g; k < Math.min(nR, 4 * BOX_ENTRIES * (g + 1)); k += 4) {
-        const q = 3 * (r * ROW_STRIDE * nR + k);
-        for (let d = 0; d < 3; d++) {
-          this.boxes[o + d] = Math.min(this.boxes[o + d], C[q + d]);
-          this.boxes[o + 3 + d] = Math.max(this.boxes[o + 3 + d], C[q + d]);
+    this.nBp = this.nBoxes + (this.nBoxes % 2);
+    // The kernel marks the boxes to read in 64 bits: at most 64 boxes (2048 coarse entries, far above the largest lookup).
+    if (this.nBp > 64) throw new Error(`a lookup of ${nR} retardances has more boxes than the row scan takes`);
+    this.nCp = this.nBoxes * BOX_ENTRIES;
+    const { nBoxes, nBp, nCp } = this;
+    this.coarse = new Float64Array(nRows * 3 * nCp);
+    this.boxes = new Float64Array(nRows * 6 * nBp);
+    for (let r = 0; r < nRows; r++) {
+      const co = 3 * nCp * r, bo = 6 * nBp * r;
+      for (let d = 0; d < 3; d++) {
+        this.boxes.fill(Infinity, bo + d * nBp, bo + (d + 1) * nBp);
+        this.boxes.fill(-Infinity, bo + (3 + d) * nBp, bo + (4 + d) * nBp);
+      }
+      for (let g = 0; g < nBoxes; g++) {
+        for (let k = 4 * BOX_ENTRIES * g; k < Math.min(nR, 4 * BOX_ENTRIES * (g + 1)); k += 4) {
+          const q = 3 * (r * ROW_STRIDE * nR + k);
+          for (let d = 0; d < 3; d++) {
+            this.coarse[co + d * nCp + k / 4] = C[q + d];
+            this.boxes[bo + d * nBp + g] = Math.min(this.boxes[bo + d * nBp + g], C[q + d]);
+            this.boxes[bo + (3 + d) * nBp + g] = Math.max(this.boxes[bo + (3 + d) * nBp + g], C[q + d]);
+          }
         }
       }
     }
-    this.boxesAt = mem.reserve(8 * this.boxes.length);
+    this.at = { coarse: mem.reserve(8 * this.coarse.length), boxes: mem.reserve(8 * this.boxes.length) };
   }
 
-  /** Writes the boxes into the kernel's memory (after the layout's commit). */
+  /** Writes the coarse entries and boxes into the kernel's memory (after the layout's commit). */
   load(): void {
-    this.mem.f64(this.boxesAt, this.boxes.length).set(this.boxes);
+    this.mem.f64(this.at.coarse, this.coarse.length).set(this.coarse);
+    this.mem.f64(this.at.boxes, this.boxes.length).set(this.boxes);
   }
 
-  /** Where the cell's rows start in the array `of` returns (valid after `of`). */
+  /** Where the cell's rows start in `pool` (after `make`). */
   offset(cell: number): number {
     return this.slot[cell] * this.nRows;
   }
 
-  /** The array holding the cell's rows (made now if the cell is new; colour l0, l1, l2). */
-  of(cell: number, l0: number, l1: number, l2: number): Uint16Array {
-    if (this.slot[cell] >= 0) return this.pool;
-    const s = this.count++;
-    if ((s + 1) * this.nRows > this.pool.length) {
+  /** Notes the cell (Lab in `lab`) for the next `make` unless its rows are made or noted. */
+  need(cell: number, lab: Float32Array): void {
+    if (this.slot[cell] !== -1) return;
+    this.slot[cell] = -2;
+    this.pending.push(cell);
+    this.pendingLab.push(lab[3 * cell], lab[3 * cell + 1], lab[3 * cell + 2]);
+  }
+
+  /** Makes the rows of the cells noted, CELL_BATCH at a time, into the pool. */
+  make(): void {
+    const { at } = this.batch, nRows = this.nRows, cells = this.pending;
+    if (cells.length === 0) return;
+    while ((this.count + cells.length) * nRows > this.pool.length) {
       const p = new Uint16Array(2 * this.pool.length);
       p.set(this.pool);
       this.pool = p;
     }
-    this.slot[cell] = s;
-    this.mem.k.cellRows(this.coordsAt, this.lut.retardancesNm.length, this.nRows, ROW_STRIDE, this.boxesAt, this.nBoxes, BOX_ENTRIES, l0, l1, l2, this.scratchAt);
-    this.pool.set(this.mem.u16(this.scratchAt, this.nRows), s * this.nRows);
-    return this.pool;
+    for (let c0 = 0; c0 < cells.length; c0 += CELL_BATCH) {
+      const n = Math.min(CELL_BATCH, cells.length - c0);
+      this.mem.f64(at.labs, 3 * n).set(this.pendingLab.slice(3 * c0, 3 * (c0 + n)));
+      this.mem.k.cellRows(this.coordsAt, this.lut.retardancesNm.length, nRows, ROW_STRIDE, this.at.coarse, this.nCp, this.at.boxes, this.nBoxes, this.nBp, BOX_ENTRIES,
+        at.labs, n, at.guesses, at.bounds, at.dists, at.rows);
+      this.pool.set(this.mem.u16(at.rows, n * nRows), this.count * nRows);
+      for (let c = 0; c < n; c++) this.slot[cells[c0 + c]] = this.count++;
+    }
+    this.pending = []; this.pendingLab = [];
   }
 }

@@ -399,36 +399,67 @@ function dist2(C: usize, o: i32, l0: f64, l1: f64, l2: f64): f64 {
 }
 
 /**
- * For one colour cell of the plate pair (src/optics/platePair.ts, CellRows): on every `stride`-th angle row of the lookup
- * C (Lab float32s, nR retardances a row), the retardance index nearest in Lab to (l0, l1, l2), into rows (nRows uint16s):
- * a coarse scan over every 4th entry that skips runs of `boxEntries` coarse entries whose Lab bounding box (boxes:
- * per row and run, 6 float64s, minimum then maximum) lies farther than the best found so far (starting from the previous
- * row's), then +-4 entries around it. The same float64 operations in the same order as CellRows.of.
+ * For nCells colour cells of the plate pair (src/optics/platePair.ts, CellRows; Lab as 3 float64s each at labs): on every
+ * `stride`-th angle row of the lookup C (Lab float32s, nR retardances a row), the retardance index nearest in Lab, into
+ * rows (nRows uint16s per cell, cell after cell): a coarse scan over every 4th entry that skips runs of `boxEntries`
+ * (even) coarse entries whose Lab bounding box lies farther than the best found so far (starting from the cell's
+ * previous row's, kept in guesses: nCells int32s), then +-4 entries around it. coarse: per row the coarse entries' L, a
+ * and b as float64s, nCp (a multiple of boxEntries) each; boxes: per row the runs' minima of L, a, b, then maxima, as
+ * float64s, nBp (even, at most 64) each; bounds (nBp float64s) and dists (boxEntries float64s): scratch. Row by row for
+ * all the cells (a row's entries stay in the cache), the bounds and a run's distances two lanes at a time: the same
+ * float64 operations in the same order as CellRows.of.
  */
-export function cellRows(C: usize, nR: i32, nRows: i32, stride: i32, boxes: usize, nBoxes: i32, boxEntries: i32, l0: f64, l1: f64, l2: f64, rows: usize): void {
-  let guess = 0;
+export function cellRows(C: usize, nR: i32, nRows: i32, stride: i32, coarse: usize, nCp: i32, boxes: usize, nBoxes: i32, nBp: i32, boxEntries: i32,
+  labs: usize, nCells: i32, guesses: usize, bounds: usize, dists: usize, rows: usize): void {
+  const zero = f64x2.splat(0);
+  const cp = <usize>nCp << 3, bp = <usize>nBp << 3;
+  for (let c = 0; c < nCells; c++) store<i32>(guesses + (<usize>c << 2), 0);
   for (let r = 0; r < nRows; r++) {
     const base = 3 * r * stride * nR;
-    let bk = guess, bd = dist2(C, base + 3 * guess, l0, l1, l2);
-    for (let g = 0; g < nBoxes; g++) {
-      const ob = boxes + <usize>(6 * (r * nBoxes + g)) * 8;
-      const x = max(max(load<f64>(ob) - l0, l0 - load<f64>(ob, 24)), 0.0);
-      const y = max(max(load<f64>(ob, 8) - l1, l1 - load<f64>(ob, 32)), 0.0);
-      const z = max(max(load<f64>(ob, 16) - l2, l2 - load<f64>(ob, 40)), 0.0);
-      if (x * x + y * y + z * z > bd) continue;
-      const kEnd = min(nR, 4 * boxEntries * (g + 1));
-      for (let k = 4 * boxEntries * g; k < kEnd; k += 4) {
-        const v = dist2(C, base + 3 * k, l0, l1, l2);
-        if (v < bd || (v == bd && k < bk)) { bd = v; bk = k; }
+    const X = coarse + <usize>r * 3 * cp, Y = X + cp, Z = Y + cp;
+    const lo = boxes + <usize>r * 6 * bp;
+    for (let c = 0; c < nCells; c++) {
+      const lab = labs + <usize>c * 24, l0 = load<f64>(lab), l1 = load<f64>(lab, 8), l2 = load<f64>(lab, 16);
+      const L0 = f64x2.splat(l0), L1 = f64x2.splat(l1), L2 = f64x2.splat(l2);
+      const guess = load<i32>(guesses + (<usize>c << 2));
+      let bk = guess, bd = dist2(C, base + 3 * guess, l0, l1, l2);
+      // The boxes not beyond the guess's distance (bit g of `near`; the best only gets nearer, so no other box is read).
+      const BD = f64x2.splat(bd);
+      let near: u64 = 0;
+      for (let g = 0; g < nBp; g += 2) {
+        const o = <usize>g << 3;
+        const x = f64x2.max(f64x2.max(f64x2.sub(v128.load(lo + o), L0), f64x2.sub(L0, v128.load(lo + 3 * bp + o))), zero);
+        const y = f64x2.max(f64x2.max(f64x2.sub(v128.load(lo + bp + o), L1), f64x2.sub(L1, v128.load(lo + 4 * bp + o))), zero);
+        const z = f64x2.max(f64x2.max(f64x2.sub(v128.load(lo + 2 * bp + o), L2), f64x2.sub(L2, v128.load(lo + 5 * bp + o))), zero);
+        const bound = f64x2.add(f64x2.add(f64x2.mul(x, x), f64x2.mul(y, y)), f64x2.mul(z, z));
+        v128.store(bounds + o, bound);
+        near |= (<u64>i64x2.bitmask(v128.not(f64x2.gt(bound, BD)))) << <u64>g;
       }
+      near &= (<u64>1 << <u64>nBoxes) - 1;
+      while (near != 0) {
+        const g = <i32>ctz(near);
+        near &= near - 1;
+        if (load<f64>(bounds + (<usize>g << 3)) > bd) continue;
+        const m0 = g * boxEntries;
+        for (let m = 0; m < boxEntries; m += 2) {
+          const o = <usize>(m0 + m) << 3;
+          const a = f64x2.sub(v128.load(X + o), L0), b = f64x2.sub(v128.load(Y + o), L1), cc = f64x2.sub(v128.load(Z + o), L2);
+          v128.store(dists + (<usize>m << 3), f64x2.add(f64x2.add(f64x2.mul(a, a), f64x2.mul(b, b)), f64x2.mul(cc, cc)));
+        }
+        const kEnd = min(nR, 4 * (m0 + boxEntries));
+        for (let k = 4 * m0; k < kEnd; k += 4) {
+          const v = load<f64>(dists + (<usize>((k >> 2) - m0) << 3));
+          if (v < bd || (v == bd && k < bk)) { bd = v; bk = k; }
+        }
+      }
+      store<i32>(guesses + (<usize>c << 2), bk);
+      // The window's upper end follows the best found so far.
+      for (let k = max(0, bk - 4); k <= min(nR - 1, bk + 4); k++) {
+        const v = dist2(C, base + 3 * k, l0, l1, l2);
+        if (v < bd) { bd = v; bk = k; }
+      }
+      store<u16>(rows + ((<usize>c * nRows + r) << 1), <u16>bk);
     }
-    guess = bk;
-    // The window's upper end follows the best found so far.
-    for (let k = max(0, bk - 4); k <= min(nR - 1, bk + 4); k++) {
-      const v = dist2(C, base + 3 * k, l0, l1, l2);
-      if (v < bd) { bd = v; bk = k; }
-    }
-    store<u16>(rows + (<usize>r << 1), <u16>bk);
   }
 }
 

@@ -174,24 +174,33 @@ describe('the optics kernel: the plate pair', () => {
   });
 
   it('finds on every row the retardance a scan of every 4th entry and then +-4 entries around the best finds (cellRows)', () => {
-    // A made-up lookup: 6 rows of 40 retardances, Lab along a helix; boxes as CellRows makes them (8 coarse entries each).
-    const nR = 40, nRows = 3, stride = 2, boxEntries = 8, nBoxes = Math.ceil(Math.ceil(nR / 4) / boxEntries);
+    // A made-up lookup: 6 rows of 40 retardances, Lab along a helix; coarse entries and boxes as CellRows lays them out
+    // (per row L, a, b of every 4th entry, nCp each; boxes of 8 coarse entries: minima then maxima, nBp each).
+    const nR = 40, nRows = 3, stride = 2, boxEntries = 8, nBoxes = Math.ceil(Math.ceil(nR / 4) / boxEntries), nBp = nBoxes + (nBoxes % 2), nCp = nBoxes * boxEntries;
     const C = Float32Array.from({ length: 6 * nR * 3 }, (_, i) => { const e = Math.floor(i / 3), d = i % 3; return d === 0 ? 50 + 0.5 * (e % nR) : 30 * Math.cos(0.3 * e + d); });
-    const boxes = new Float64Array(nRows * nBoxes * 6);
-    for (let r = 0; r < nRows; r++) for (let g = 0; g < nBoxes; g++) {
-      const o = 6 * (r * nBoxes + g);
-      boxes.fill(Infinity, o, o + 3); boxes.fill(-Infinity, o + 3, o + 6);
-      for (let kk = 4 * boxEntries * g; kk < Math.min(nR, 4 * boxEntries * (g + 1)); kk += 4) for (let d = 0; d < 3; d++) {
-        boxes[o + d] = Math.min(boxes[o + d], C[3 * (r * stride * nR + kk) + d]); boxes[o + 3 + d] = Math.max(boxes[o + 3 + d], C[3 * (r * stride * nR + kk) + d]);
+    const coarse = new Float64Array(nRows * 3 * nCp), boxes = new Float64Array(nRows * 6 * nBp);
+    for (let r = 0; r < nRows; r++) for (let d = 0; d < 3; d++) {
+      boxes.fill(Infinity, 6 * nBp * r + d * nBp, 6 * nBp * r + (d + 1) * nBp); boxes.fill(-Infinity, 6 * nBp * r + (3 + d) * nBp, 6 * nBp * r + (4 + d) * nBp);
+      for (let g = 0; g < nBoxes; g++) for (let kk = 4 * boxEntries * g; kk < Math.min(nR, 4 * boxEntries * (g + 1)); kk += 4) {
+        const v = C[3 * (r * stride * nR + kk) + d], lo = 6 * nBp * r + d * nBp + g, hi = lo + 3 * nBp;
+        coarse[3 * nCp * r + d * nCp + kk / 4] = v;
+        boxes[lo] = Math.min(boxes[lo], v); boxes[hi] = Math.max(boxes[hi], v);
       }
     }
     const k = opticsKernel(), mem = new OpticsLayout(k);
-    const cAt = mem.reserve(4 * C.length), bAt = mem.reserve(8 * boxes.length), rowsAt = mem.reserve(2 * nRows);
+    const cAt = mem.reserve(4 * C.length), coAt = mem.reserve(8 * coarse.length), bAt = mem.reserve(8 * boxes.length), rowsAt = mem.reserve(2 * nRows);
+    const colours = [[55, 10, -20], [62, -25, 5], [50, 0, 0], [70, 29, 29]];
+    const boundsAt = mem.reserve(8 * nBp), distsAt = mem.reserve(8 * boxEntries), labsAt = mem.reserve(24 * colours.length), guessesAt = mem.reserve(4 * colours.length), allAt = mem.reserve(2 * nRows * colours.length);
     mem.commit();
-    mem.f32(cAt, C.length).set(C); mem.f64(bAt, boxes.length).set(boxes);
+    mem.f32(cAt, C.length).set(C); mem.f64(coAt, coarse.length).set(coarse); mem.f64(bAt, boxes.length).set(boxes);
+    // All the colours in one call (row by row for all), and each on its own: the same rows.
+    mem.f64(labsAt, 3 * colours.length).set(colours.flat());
+    k.cellRows(cAt, nR, nRows, stride, coAt, nCp, bAt, nBoxes, nBp, boxEntries, labsAt, colours.length, guessesAt, boundsAt, distsAt, allAt);
+    const together = Array.from(mem.u16(allAt, nRows * colours.length));
     const d2 = (r: number, kk: number, q: number[]) => [0, 1, 2].reduce((s, d) => s + (C[3 * (r * stride * nR + kk) + d] - q[d]) ** 2, 0);
-    for (const q of [[55, 10, -20], [62, -25, 5], [50, 0, 0], [70, 29, 29]]) {
-      k.cellRows(cAt, nR, nRows, stride, bAt, nBoxes, boxEntries, q[0], q[1], q[2], rowsAt);
+    for (const [ci, q] of colours.entries()) {
+      mem.f64(labsAt, 3).set(q);
+      k.cellRows(cAt, nR, nRows, stride, coAt, nCp, bAt, nBoxes, nBp, boxEntries, labsAt, 1, guessesAt, boundsAt, distsAt, rowsAt);
       // The scan without boxes: the first nearest of every 4th entry, then each of +-4 entries nearer than the best so far.
       const want = [0, 1, 2].map((r) => {
         let bk = 0, bd = Infinity;
@@ -200,6 +209,7 @@ describe('the optics kernel: the plate pair', () => {
         return bk;
       });
       expect(Array.from(mem.u16(rowsAt, nRows)), `colour ${q}`).toEqual(want);
+      expect(together.slice(ci * nRows, (ci + 1) * nRows), `colour ${q} with the others`).toEqual(want);
     }
   });
 });
