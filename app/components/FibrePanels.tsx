@@ -3,6 +3,7 @@
  * The numbers are the worker's `diameter` / `fibreNumbers` results: what `retarda diameter` and
  * `retarda fibre` print for the same file and settings (the command line is shown with them).
  */
+import { Warnings } from './Results.tsx';
 import { useEffect, useImperativeHandle, useState, type Ref } from 'react';
 import { NOT_DETERMINED, type DiameterAnalysisOptions, type DiameterDocument, type FibreNumbersRequest, type FibreNumbersResult, type LinearDensityUnit, type TenacityUnit } from '../../src/analyses/index.ts';
 import { DROP_REASON_TEXT, type DropReason } from '../../src/fibre/index.ts';
@@ -177,7 +178,7 @@ export function DiameterPanel({ ctx, pixelSize, pixelSizeUncertainty: givenU, st
             </p>
           )}
           {/* Next to the table: a warning often explains a wide interval in it. */}
-          {d.warnings.length > 0 && <ul className="warnings">{d.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+          <Warnings list={d.warnings} />
           <Histogram values={d.stations.map((st) => (um ? st.diameterUm! : st.diameterPx))} unit={unit} label="diameter at each station" />
           {dropped.length > 0 && (
             <details data-testid="diameter-dropped">
@@ -294,7 +295,7 @@ export function FibreNumbersPanel({ ctx, measuredDiameterUm, measuredDiameter, m
             })}</tbody>
           </table>
           {anyInterval && <p className="note">95 % intervals by the law of propagation from the uncertainties given (GUM); a number without one has no uncertain input given.</p>}
-          {r.warnings.length > 0 && <ul className="warnings">{r.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+          <Warnings list={r.warnings} />
           <p className="cli"><code data-testid="fibre-cli">{shown!.cli}</code></p>
         </div>
       )}

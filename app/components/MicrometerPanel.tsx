@@ -3,6 +3,8 @@
  * prints for the same file and settings (the command line is shown with it). The pixel size stands with
  * its standard uncertainty, its interval, the method and any warning beside it.
  */
+import { Warnings } from './Results.tsx';
+import { screenWords } from '../screenWords.ts';
 import { useImperativeHandle, useState, type Ref } from 'react';
 import type { MicrometerAnalysisOptions, MicrometerDocument } from '../../src/analyses/index.ts';
 import { roundWithUncertainty } from '../../src/calibrate/index.ts';
@@ -96,7 +98,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, 
             <tbody>
               <tr><th scope="row">Pixel size</th><td data-testid="um-per-px">{f(c.umPerPx)}</td><td>µm/px, ± <span data-testid="um-per-px-u">{f(c.uncertaintyUmPerPx)}</span> (standard uncertainty, k = 1; {(100 * c.uncertainty).toPrecision(2)} %)</td></tr>
               {loud.length > 0 && (
-                <tr><td colSpan={3}><ul className="warnings" role="alert" data-testid="micrometer-loud-warning">{loud.map((w) => <li key={w}><strong>{w}</strong></li>)}</ul></td></tr>
+                <tr><td colSpan={3}><ul className="warnings" role="alert" data-testid="micrometer-loud-warning">{loud.map((w) => <li key={w}><strong>{screenWords(w)}</strong></li>)}</ul></td></tr>
               )}
               <IntervalRows c={c} />
               {c.methodDescription && <tr><th scope="row">Method</th><td colSpan={2} data-testid="micrometer-method">{c.methodDescription}</td></tr>}
@@ -105,7 +107,7 @@ export function MicrometerPanel({ ctx, pixelSize, stored, onUse, onCalibration, 
               <tr><th scope="row">Tick direction</th><td>{f(c.linesDeg)}</td><td>deg CCW from +x; {c.polarity} lines</td></tr>
             </tbody>
           </table>
-          {other.length > 0 && <ul className="warnings" data-testid="micrometer-warnings">{other.map((w) => <li key={w}>{w}</li>)}</ul>}
+          <Warnings list={other} testId="micrometer-warnings" />
           <p className="cli"><code data-testid="micrometer-cli">{stored!.commandLine}</code></p>
           <button onClick={() => onUse({ umPerPx: c.umPerPx, from: `micrometer ${active?.name ?? c.source}`, uncertainty: c.uncertainty })} data-testid="use-pixel-size">Use this pixel size for the session's images</button>
         </div>

@@ -4,6 +4,7 @@
  * retardance, read a plate pair instead). Shown in one cell beside every withheld number of a table.
  */
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
+import { screenWords } from '../screenWords.ts';
 
 /** What the user can do about a one-image reading's withheld numbers. */
 export type Remedy = 'background' | 'retardance' | 'axis' | 'platePair';
@@ -66,7 +67,7 @@ export function WithheldWhy({ why, rows, testId }: { why: string; rows: number; 
   const parts = reasonParts(why);
   return (
     <td rowSpan={rows} className="not-determined-why" data-testid={testId}>
-      {parts.length === 1 ? headline(parts[0]) : <ul>{parts.map((p) => <li key={p}>{headline(p)}</li>)}</ul>}
+      {parts.length === 1 ? screenWords(headline(parts[0])) : <ul>{parts.map((p) => <li key={p}>{screenWords(headline(p))}</li>)}</ul>}
     </td>
   );
 }
@@ -85,7 +86,7 @@ export function WithheldRemedies({ why, onRemedy }: { why: string; onRemedy?: (r
         )}
         <details>
           <summary>Why, in full</summary>
-          <ul>{parts.map((p) => <li key={p}>{p}</li>)}</ul>
+          <ul>{parts.map((p) => <li key={p}>{screenWords(p)}</li>)}</ul>
         </details>
       </td>
     </tr>

@@ -4,6 +4,7 @@
  * (crossed polarisers at several angles). The numbers are the worker's `plate` / `platePair` / `angleSeries`
  * results, which are what `retarda plate`, `plate-pair` and `angle-series` print; the command line is shown with them.
  */
+import { screenWords } from '../screenWords.ts';
 import { useEffect, useImperativeHandle, useRef, useState, type Ref } from 'react';
 import {
   COMPENSATOR_OFFSET_DEG, ONE_IMAGE_AXIS_TOLERANCE_DEG, ONE_IMAGE_MIN_RETARDANCE_NM, OPTICS_LIMITS, oneImageGaps, READING_NAMES, type OpticsResult, type ReadingKind,
@@ -17,7 +18,7 @@ import type { Layer } from './Viewer.tsx';
 import { DEFAULT_OPTICAL_FORM, type OpticalForm, type StoredOptics } from '../storage/records.ts';
 import { ColourKey } from './ColourKey.tsx';
 import { RetardanceBar } from './RetardanceBar.tsx';
-import { Undetermined } from './Results.tsx';
+import { Undetermined, Warnings } from './Results.tsx';
 import { headline, WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
 import type { OrientationField } from '../../src/orientation/index.ts';
 import type { ViewerBox } from './imageRectangles.ts';
@@ -398,13 +399,13 @@ function OpticsTable({ r, rangeNm, onRemedy }: { r: OpticsResult; rangeNm: [numb
           {cal && <tr><th scope="row">Compensator</th><td>{f(cal.compensatorNm)}</td><td>nm{cal.fitted ? ', fitted to the sample-free area' : ''}</td></tr>}
         </tbody>
       </table>
-      {typeof x.advice === 'string' && !r.warnings.includes(x.advice) && <p className="note">{x.advice}</p>}
+      {typeof x.advice === 'string' && !r.warnings.includes(x.advice) && <p className="note">{screenWords(x.advice)}</p>}
       <p className="note">Map colours are at full strength on every usable pixel; “confidence” above the image shows how well each pixel's colour matched.</p>
       <div className="legends">
         <ColourKey size={110} faint={null} />
         {rangeNm && <RetardanceBar rangeNm={rangeNm} />}
       </div>
-      {r.warnings.length > 0 && <ul className="warnings" data-testid="optics-warnings">{r.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+      <Warnings list={r.warnings} testId="optics-warnings" />
     </div>
   );
 }

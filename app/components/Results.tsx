@@ -1,4 +1,5 @@
 /** The numbers of the current image, formatted exactly as the command line's table prints them. */
+import { screenWords } from '../screenWords.ts';
 import type { OrientResult, ProfileResult } from '../../src/analyses/index.ts';
 import { formatCell } from '../../src/report/index.ts';
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
@@ -64,7 +65,7 @@ export function ProfileTable({ r, stale, onRemedy }: { r: ProfileResult; stale: 
           <tbody>{r.stations.map((s) => <tr key={s.station}><td>{s.station}</td><td>{f(s.widthPx)}</td><td>{g(s.core.order)}</td><td>{g(s.skin.order)}</td><td>{g(s.coreSkinRatio)}</td></tr>)}</tbody>
         </table>
       )}
-      {r.notDetermined?.clipped && !withheld && <p className="not-determined-why" data-testid="clipped-why">{r.notDetermined.clipped}</p>}
+      {r.notDetermined?.clipped && !withheld && <p className="not-determined-why" data-testid="clipped-why">{screenWords(r.notDetermined.clipped)}</p>}
       <details>
         <summary>S in each bin ({r.bins.length})</summary>
         <table className="results compact">
@@ -86,12 +87,13 @@ export function Undetermined({ why, testId, children }: { why: string | undefine
   return (
     <>
       <td data-testid={testId} className="not-determined">{NOT_DETERMINED}</td>
-      <td className="not-determined-why">{why}</td>
+      <td className="not-determined-why">{screenWords(why)}</td>
     </>
   );
 }
 
-function Warnings({ list }: { list: string[] }) {
+/** An analysis's warnings in screen words (app/screenWords.ts), beside the numbers they qualify. */
+export function Warnings({ list, testId }: { list: readonly string[]; testId?: string }) {
   if (!list.length) return null;
-  return <ul className="warnings">{list.map((w) => <li key={w}>{w}</li>)}</ul>;
+  return <ul className="warnings" data-testid={testId}>{list.map((w) => <li key={w}>{screenWords(w)}</li>)}</ul>;
 }

@@ -3,6 +3,7 @@
  * lines and calibration state, laid out for paper by the print rules in styles.css. "Print" opens
  * the browser's print dialogue (which also saves as PDF).
  */
+import { Warnings } from '../components/Results.tsx';
 import { useEffect, useState } from 'react';
 import { formatCell } from '../../src/report/index.ts';
 import { NOT_DETERMINED } from '../../src/analyses/index.ts';
@@ -76,7 +77,7 @@ export function ReportView({ content, picture, view, onClose }: Props) {
                 </table>
                 <p className="note">Settings: {s.settings.join('; ')}.</p>
                 {s.commandLine && <p className="cli"><code>{s.commandLine}</code></p>}
-                {s.warnings.length > 0 && <ul className="warnings">{s.warnings.map((w) => <li key={w}>{w}</li>)}</ul>}
+                <Warnings list={s.warnings} />
               </div>
             ))}
           </section>

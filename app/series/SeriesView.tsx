@@ -8,7 +8,7 @@ import { NOT_DETERMINED, SERIES_MODELS, type SeriesResult } from '../../src/anal
 import { formatCell } from '../../src/report/index.ts';
 import { CancelledError } from '../worker/client.ts';
 import { download } from '../export/rows.ts';
-import { Undetermined } from '../components/Results.tsx';
+import { Undetermined, Warnings } from '../components/Results.tsx';
 import { DEFAULT_SETTINGS } from '../storage/index.ts';
 import type { Workspace } from '../screens/workspace.ts';
 import { SeriesPlot } from './SeriesPlot.tsx';
@@ -168,7 +168,7 @@ export function SeriesView({ w, kept, onClose }: { w: Workspace; kept: Map<strin
                 <p className="note" data-testid="series-axis-used">S_axis against {f(r.axisDeg)}° ({r.axisFrom === 'given' ? 'the flow axis given' : "the first frame's director"}), {r.points.length} frames; intervals are 95 %.</p>
               </div>
             </div>
-            {r.warnings.length > 0 && <ul className="warnings">{r.warnings.map((x) => <li key={x}>{x}</li>)}</ul>}
+            <Warnings list={r.warnings} />
             <p className="cli" title="Run this to get the same numbers from the command line"><code data-testid="series-cli">{seriesCommandLine(run!.request)}</code></p>
             <details>
               <summary>S_axis of each frame ({r.points.length})</summary>

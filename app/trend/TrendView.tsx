@@ -9,7 +9,7 @@ import { useEffect, useMemo, useState } from 'react';
 import { NOT_DETERMINED, TREND_READINGS, TREND_READING_WORDS, TREND_SOURCE, readingOf, type TrendResult } from '../../src/analyses/index.ts';
 import { formatCell } from '../../src/report/index.ts';
 import { download } from '../export/rows.ts';
-import { Undetermined } from '../components/Results.tsx';
+import { Undetermined, Warnings } from '../components/Results.tsx';
 import type { Workspace } from '../screens/workspace.ts';
 import { TrendPlot } from './TrendPlot.tsx';
 import { documentOf, emptyTrendForm, readingTitle, trendCsv, trendLine, trendOf, type TrendForm, type TrendLine } from './trendForm.ts';
@@ -114,7 +114,7 @@ export function TrendView({ w, onClose }: { w: Workspace; onClose(): void }) {
               <TrendPlot r={r} />
               <div><FitTable r={r} /></div>
             </div>
-            {r.warnings.length > 0 && <ul className="warnings">{r.warnings.map((x) => <li key={x}>{x}</li>)}</ul>}
+            <Warnings list={r.warnings} />
             {line && <>
               <p className="cli" title="Run this to get the same numbers from the command line"><code data-testid="trend-cli">{line.line}</code></p>
               {line.table && <p className="note">The walls of some profiles were drawn by hand, so the line reads them from a table: <button className="quiet" data-testid="trend-table" onClick={() => download(line.table!.name, line.table!.text, 'text/csv')}>Save {line.table.name}</button> beside the images.</p>}

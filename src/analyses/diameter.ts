@@ -98,7 +98,7 @@ export function analyseDiameter(img: Image, o: DiameterAnalysisOptions = {}): Di
   });
   if (pixelSizeFrom === null) {
     r.warnings = r.warnings.map((w) => (w.startsWith('no pixel size')
-      ? 'no pixel size (no --um-per-px and none in the file): diameters are in px only, um fields are null' : w));
+      ? 'no pixel size, given or in the file (--um-per-px): diameters are in px only, um fields are null' : w));
   }
   return documentFor(img.source.name, img.width, img.height, pixelSizeFrom, r);
 }

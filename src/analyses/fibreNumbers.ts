@@ -54,7 +54,7 @@ const N_PER_TEX_FROM: Record<TenacityUnit, (v: number) => number> = { 'N/tex': (
  */
 export function fibreNumbersResult(o: FibreNumbersRequest): FibreNumbersResult {
   if (o.diameterUm === undefined || o.densityGPerCm3 === undefined) {
-    throw new InputError('the diameter and the density are both needed', 'e.g. retarda fibre --diameter-um 7 --density 1.8');
+    throw new InputError('the diameter and the density are both needed', 'Give both (for example --diameter-um 7 --density 1.8)');
   }
   const unitOf = <U extends string>(table: Record<U, unknown>, unit: string, what: string): U => {
     if (!(unit in table)) throw new InputError(`unknown ${what} unit "${unit}"`, `Use one of ${Object.keys(table).join(', ')}`);

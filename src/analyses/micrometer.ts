@@ -68,7 +68,7 @@ export function analyseOpticsCalibration(o: OpticsInput & SamplingCheck) {
  */
 export function analyseMicrometer(img: Image, o: MicrometerAnalysisOptions) {
   if (o.divisionUm === undefined) {
-    throw new InputError('the division spacing is needed with a micrometer image', 'Give the division spacing, e.g. --division-um 10');
+    throw new InputError('the division spacing is needed with a micrometer image', 'Give the division spacing (--division-um 10 for 10 um)');
   }
   const p = o.polarity;
   if (p !== undefined && p !== 'auto' && p !== 'dark' && p !== 'bright') {

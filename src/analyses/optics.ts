@@ -185,7 +185,7 @@ function retardanceRange(o: PlateReadingOptions) {
 /** The known sample retardance and its tolerance, checked (both undefined when none is known). */
 function knownRetardance(o: KnownRetardanceOptions) {
   if (o.sampleRetardanceNm === undefined) {
-    if (o.sampleRetardanceToleranceNm !== undefined) throw new InputError('a sample retardance tolerance was given without the sample retardance', 'Give --sample-retardance-nm as well');
+    if (o.sampleRetardanceToleranceNm !== undefined) throw new InputError('a sample retardance tolerance was given without the sample retardance', 'Give the sample retardance as well (--sample-retardance-nm)');
     return { sampleRetardanceNm: undefined, sampleRetardanceToleranceNm: undefined };
   }
   return {
@@ -433,7 +433,7 @@ export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAna
 export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysisOptions = {}): Promise<OpticsAnalysis & { amplitude: Float32Array; residual: Float32Array }> {
   const anglesDeg = o.anglesDeg ?? DEFAULT_ANGLES_DEG;
   if (images.length !== anglesDeg.length) {
-    throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per angle (and --angles for other sets)');
+    throw new InputError(`${images.length} images for ${anglesDeg.length} angles`, 'Give one image per polariser angle (--angles for other sets)');
   }
   for (const img of [...images, ...(o.plate ? [o.plate] : [])]) checkReadingSize('angle-series', img, !!o.plate);
   const r = fourAngleAnalysis(images, {

@@ -83,7 +83,7 @@ export function orientResult(img: ResultImage, field: Pick<OrientationField, 'op
     options: { ...field.options, weighting: s.weighting, blockPx: s.blockPx, region: o.region ?? null, method: field.method },
     warnings: [...field.warnings, ...(s.n === 0 ? ['no usable pixels: every pixel was masked'] : [])],
     ...(s.n === 0 ? { notDetermined: {
-      order2D: 'no usable pixels: every pixel was masked as having no texture above the strength floor; choose a region with texture, or lower --strength-floor',
+      order2D: 'no usable pixels: every pixel was masked as having no texture above the strength floor; choose a region with texture, or lower the strength floor (--strength-floor)',
       directorDeg: 'no usable pixels (see order2D)',
     } } : !s.directorDetermined ? { notDetermined: {
       directorDeg: 'the orientations do not differ clearly from no preferred direction (S_2D\'s interval reaches 0); a larger region, or one with more aligned texture, would determine it',

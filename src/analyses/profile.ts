@@ -25,7 +25,7 @@ export async function resolveChannel(img: Image, req: ProfileRequest): Promise<{
   if (req.channel && req.autoWalls) throw new InputError('give walls or ask for them to be found, not both');
   if (req.channel) return { channel: req.channel, found: false };
   if (req.autoWalls) return { channel: (await findWalls(img)).channel, found: true };
-  throw new InputError('a channel profile needs walls', 'Give --walls "x1,y1,x2,y2;x3,y3,x4,y4" or --auto-walls');
+  throw new InputError('a channel profile needs walls', 'Give the walls (--walls "x1,y1,x2,y2;x3,y3,x4,y4") or have them found (--auto-walls)');
 }
 
 /** S across a channel from any orientation field (texture, plate reading, plate pair, angle series). */

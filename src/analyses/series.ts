@@ -58,7 +58,7 @@ export async function analyseSeries(frames: Iterable<SeriesFrame> | AsyncIterabl
     if (axisDeg === undefined) {
       const first = orderParameters(field, { weighting: o.weighting, blockPx: o.blockPx, region });
       if (!first.directorDetermined) {
-        throw new InputError(`the first frame (${img.source.name}) shows no clear director to follow the order along`, 'Give the flow direction with --axis-deg');
+        throw new InputError(`the first frame (${img.source.name}) shows no clear director to follow the order along`, 'Give the flow direction (--axis-deg)');
       }
       axisDeg = first.directorDeg;
     }

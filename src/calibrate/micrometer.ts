@@ -113,7 +113,7 @@ export function calibrateFromMicrometer(grey: Plane, options: MicrometerOptions)
   if (residualFraction > L.refuseResidualFraction) {
     throw new InputError(`the ticks were not found consistently: their positions scatter by ${(100 * residualFraction).toFixed(0)} % ` +
       `of a division around the fitted grid (a ruler in focus scatters by under ${100 * L.warnResidualFraction} %)`,
-    'Check the focus, clean the micrometer or crop the image to the ruler, and give --polarity if the lines are bright on dark');
+    'Check the focus, clean the micrometer or crop the image to the ruler, and say so if the ruler lines are bright on dark (--polarity bright)');
   }
   const umPerPx = divisionUm / P;
   const budget: UncertaintyBudget = {

@@ -38,12 +38,12 @@ export const MAX_DECODE_BYTES = 750_000_000;
  * anything that can be read.
  */
 export const ANALYSIS_MAX_PIXELS = {
-  fieldOut: { pixels: 16_000_000, what: 'an orientation field written with --field-out' },
+  fieldOut: { pixels: 16_000_000, what: 'an orientation field written out (--field-out)' },
   profile: { pixels: 18_000_000, what: 'a channel profile' },
-  profileFieldOut: { pixels: 16_000_000, what: 'a channel profile with --field-out' },
+  profileFieldOut: { pixels: 16_000_000, what: 'a channel profile with its field written out (--field-out)' },
   diameter: { pixels: 24_000_000, what: 'fibre diameters' },
   micrometer: { pixels: 64_000_000, what: 'a micrometer reading' },
-  series: { pixels: 16_000_000, what: 'a frame of a series (its field is held, as with --field-out)' },
+  series: { pixels: 16_000_000, what: 'a frame of a series (its field is held, as when written out)' },
 } as const satisfies Record<string, { pixels: number; what: string }>;
 
 /**

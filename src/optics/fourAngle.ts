@@ -248,7 +248,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   const angles = options.anglesDeg ?? [0, 22.5, 45, 67.5];
   if (images.length < 3) throw new InputError(`the angle analysis needs at least 3 images, got ${images.length}`, 'Give one image per polariser angle');
   if (angles.length !== images.length) {
-    throw new InputError(`${images.length} images but ${angles.length} angles`, 'Give one angle per image with --angles');
+    throw new InputError(`${images.length} images but ${angles.length} angles`, 'Give one polariser angle per image (--angles)');
   }
   angles.forEach((a) => checkNumber('polariser angle', a, -360, 360, 'deg'));
   const { width, height } = images[0];
