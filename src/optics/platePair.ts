@@ -236,7 +236,8 @@ class PairSearch {
     this.nA = lutA.anglesDeg.length; this.nR = lutA.retardancesNm.length;
     this.nRows = Math.ceil(this.nA / ROW_STRIDE);
     this.k = mem.k;
-    const C = mem.reserve(4 * lutA.coords.length), D = mem.reserve(4 * lutB.coords.length);
+    // Both lookups' Lab interleaved, A's then B's for each entry: a candidate's two colours lie side by side.
+    const C = mem.reserve(8 * lutA.coords.length), D = C + 12;
     this.at = {
       C, D, angles: mem.reserve(8 * this.nA), rets: mem.reserve(8 * this.nR), ra: mem.reserve(2 * this.nRows), rb: mem.reserve(2 * this.nRows),
       costs: mem.reserve(16 * this.nRows), out: mem.reserve(24),
@@ -248,7 +249,8 @@ class PairSearch {
   /** Writes the lookups into the kernel's memory (after the layout's commit). */
   load(): void {
     const { mem, at } = this;
-    mem.f32(at.C, this.lutA.coords.length).set(this.lutA.coords); mem.f32(at.D, this.lutB.coords.length).set(this.lutB.coords);
+    const ab = mem.f32(at.C, 2 * this.lutA.coords.length), A = this.lutA.coords, B = this.lutB.coords;
+    for (let e = 0; e < A.length / 3; e++) for (let d = 0; d < 3; d++) { ab[6 * e + d] = A[3 * e + d]; ab[6 * e + 3 + d] = B[3 * e + d]; }
     mem.f64(at.angles, this.nA).set(this.lutA.anglesDeg); mem.f64(at.rets, this.nR).set(this.lutA.retardancesNm);
     this.rowsA.load(); this.rowsB.load();
   }
@@ -276,11 +278,14 @@ class PairSearch {
     const oa = this.rowsA.offset(ca), ob = this.rowsB.offset(cb);
     v.ra.set(this.rowsA.pool.subarray(oa, oa + nRows)); v.rb.set(this.rowsB.pool.subarray(ob, ob + nRows));
     const aStep = this.lutA.anglesDeg[1] - this.lutA.anglesDeg[0], rStep = this.lutA.retardancesNm[1] - this.lutA.retardancesNm[0];
-    this.k.pairRead(at.C, at.D, this.nA, this.nR, ROW_STRIDE, nRows, at.angles, at.rets, aStep, rStep, a0, a1, a2, b0, b1, b2, at.ra, at.rb, bj, bk, at.costs, at.out);
+    this.k.pairRead(at.C, at.D, LAB_PAIR_FLOATS, this.nA, this.nR, ROW_STRIDE, nRows, at.angles, at.rets, aStep, rStep, a0, a1, a2, b0, b1, b2, at.ra, at.rb, bj, bk, at.costs, at.out);
     const fj = v.outI[0], fk = v.outI[1], fine = v.outF[0], alternative = v.outF[1];
     return { angleDeg: this.lutA.anglesDeg[fj], retardanceNm: this.lutA.retardancesNm[fk], residual: Math.sqrt(fine / 2), alternative };
   }
 }
+
+/** Float32s per entry of both lookups in the kernel's memory: image A's Lab, then image B's. */
+const LAB_PAIR_FLOATS = 6;
 
 /** Coarse entries (every 4th retardance) per bounding box of the row scan (even: the kernel takes two at a time). */
 const BOX_ENTRIES = 8;
@@ -323,7 +328,7 @@ class CellRows {
   /** Byte offsets in the kernel's memory of the coarse entries and the boxes. */
   private readonly at: { coarse: number; boxes: number };
 
-  /** `coordsAt`: where the lookup's Lab lies in the kernel's memory; `batch`: the memory of a cellRows call. */
+  /** `coordsAt`: where the lookup's Lab lies in the kernel's memory (LAB_PAIR_FLOATS float32s an entry); `batch`: the memory of a cellRows call. */
   constructor(private readonly lut: PlateLookup, nCells: number, private readonly nRows: number, private readonly mem: OpticsLayout,
     private readonly coordsAt: number, private readonly batch: CellBatch) {
     this.slot = new Int32Array(nCells).fill(-1);
@@ -388,7 +393,7 @@ class CellRows {
     for (let c0 = 0; c0 < cells.length; c0 += CELL_BATCH) {
       const n = Math.min(CELL_BATCH, cells.length - c0);
       this.mem.f64(at.labs, 3 * n).set(this.pendingLab.slice(3 * c0, 3 * (c0 + n)));
-      this.mem.k.cellRows(this.coordsAt, this.lut.retardancesNm.length, nRows, ROW_STRIDE, this.at.coarse, this.nCp, this.at.boxes, this.nBoxes, this.nBp, BOX_ENTRIES,
+      this.mem.k.cellRows(this.coordsAt, LAB_PAIR_FLOATS, this.lut.retardancesNm.length, nRows, ROW_STRIDE, this.at.coarse, this.nCp, this.at.boxes, this.nBoxes, this.nBp, BOX_ENTRIES,
         at.labs, n, at.guesses, at.bounds, at.dists, at.rows);
       this.pool.set(this.mem.u16(at.rows, n * nRows), this.count * nRows);
       for (let c = 0; c < n; c++) this.slot[cells[c0 + c]] = this.count++;

@@ -400,7 +400,7 @@ function dist2(C: usize, o: i32, l0: f64, l1: f64, l2: f64): f64 {
 
 /**
  * For nCells colour cells of the plate pair (src/optics/platePair.ts, CellRows; Lab as 3 float64s each at labs): on every
- * `stride`-th angle row of the lookup C (Lab float32s, nR retardances a row), the retardance index nearest in Lab, into
+ * `stride`-th angle row of the lookup C (Lab float32s, es float32s an entry, nR retardances a row), the retardance index nearest in Lab, into
  * rows (nRows uint16s per cell, cell after cell): a coarse scan over every 4th entry that skips runs of `boxEntries`
  * (even) coarse entries whose Lab bounding box lies farther than the best found so far (starting from the cell's
  * previous row's, kept in guesses: nCells int32s), then +-4 entries around it. coarse: per row the coarse entries' L, a
@@ -409,20 +409,20 @@ function dist2(C: usize, o: i32, l0: f64, l1: f64, l2: f64): f64 {
  * all the cells (a row's entries stay in the cache), the bounds and a run's distances two lanes at a time: the same
  * float64 operations in the same order as CellRows.of.
  */
-export function cellRows(C: usize, nR: i32, nRows: i32, stride: i32, coarse: usize, nCp: i32, boxes: usize, nBoxes: i32, nBp: i32, boxEntries: i32,
+export function cellRows(C: usize, es: i32, nR: i32, nRows: i32, stride: i32, coarse: usize, nCp: i32, boxes: usize, nBoxes: i32, nBp: i32, boxEntries: i32,
   labs: usize, nCells: i32, guesses: usize, bounds: usize, dists: usize, rows: usize): void {
   const zero = f64x2.splat(0);
   const cp = <usize>nCp << 3, bp = <usize>nBp << 3;
   for (let c = 0; c < nCells; c++) store<i32>(guesses + (<usize>c << 2), 0);
   for (let r = 0; r < nRows; r++) {
-    const base = 3 * r * stride * nR;
+    const base = es * r * stride * nR;
     const X = coarse + <usize>r * 3 * cp, Y = X + cp, Z = Y + cp;
     const lo = boxes + <usize>r * 6 * bp;
     for (let c = 0; c < nCells; c++) {
       const lab = labs + <usize>c * 24, l0 = load<f64>(lab), l1 = load<f64>(lab, 8), l2 = load<f64>(lab, 16);
       const L0 = f64x2.splat(l0), L1 = f64x2.splat(l1), L2 = f64x2.splat(l2);
       const guess = load<i32>(guesses + (<usize>c << 2));
-      let bk = guess, bd = dist2(C, base + 3 * guess, l0, l1, l2);
+      let bk = guess, bd = dist2(C, base + es * guess, l0, l1, l2);
       // The boxes not beyond the guess's distance (bit g of `near`; the best only gets nearer, so no other box is read).
       const BD = f64x2.splat(bd);
       let near: u64 = 0;
@@ -455,7 +455,7 @@ export function cellRows(C: usize, nR: i32, nRows: i32, stride: i32, coarse: usi
       store<i32>(guesses + (<usize>c << 2), bk);
       // The window's upper end follows the best found so far.
       for (let k = max(0, bk - 4); k <= min(nR - 1, bk + 4); k++) {
-        const v = dist2(C, base + 3 * k, l0, l1, l2);
+        const v = dist2(C, base + es * k, l0, l1, l2);
         if (v < bd) { bd = v; bk = k; }
       }
       store<u16>(rows + ((<usize>c * nRows + r) << 1), <u16>bk);
@@ -475,23 +475,23 @@ function pairCost(C: usize, D: usize, o: i32, a0: f64, a1: f64, a2: f64, b0: f64
 
 /**
  * The plate pair's search for one pair of colours (src/optics/platePair.ts, PairSearch.read): lookups C (image A) and
- * D (image B), nA angle rows of nR retardances (angles and rets: their values, float64s), steps aStep (deg) and rStep
+ * D (image B), es float32s an entry (both interleaved in one array: 6, D = C + 12 bytes), nA angle rows of nR retardances (angles and rets: their values, float64s), steps aStep (deg) and rStep
  * (nm); colours
  * (a0..a2) and (b0..b2); each image's best retardance on every `stride`-th row in ra and rb (nRows uint16s); the
  * first-order estimate (bj, bk). costs: 2 nRows float64s of scratch. Writes to out: the best entry's row and column
  * (two int32s at out, out + 4) and then as float64s at out + 8 the summed squared distance there and that of the best
  * candidate more than 3 deg or 30 nm from it. The same float64 operations in the same order as PairSearch.read.
  */
-export function pairRead(C: usize, D: usize, nA: i32, nR: i32, stride: i32, nRows: i32, angles: usize, rets: usize, aStep: f64, rStep: f64,
+export function pairRead(C: usize, D: usize, es: i32, nA: i32, nR: i32, stride: i32, nRows: i32, angles: usize, rets: usize, aStep: f64, rStep: f64,
   a0: f64, a1: f64, a2: f64, b0: f64, b1: f64, b2: f64, ra: usize, rb: usize, bj: i32, bk: i32, costs: usize, out: usize): void {
   const costA = costs, costB = costs + (<usize>nRows << 3);
-  let best = pairCost(C, D, 3 * (bj * nR + bk), a0, a1, a2, b0, b1, b2);
+  let best = pairCost(C, D, es * (bj * nR + bk), a0, a1, a2, b0, b1, b2);
   for (let r = 0; r < nRows; r++) {
     const j = r * stride, ka = <i32>load<u16>(ra + (<usize>r << 1)), kb = <i32>load<u16>(rb + (<usize>r << 1));
-    const da = pairCost(C, D, 3 * (j * nR + ka), a0, a1, a2, b0, b1, b2);
+    const da = pairCost(C, D, es * (j * nR + ka), a0, a1, a2, b0, b1, b2);
     store<f64>(costA + (<usize>r << 3), da);
     if (da < best) { best = da; bj = j; bk = ka; }
-    const db = pairCost(C, D, 3 * (j * nR + kb), a0, a1, a2, b0, b1, b2);
+    const db = pairCost(C, D, es * (j * nR + kb), a0, a1, a2, b0, b1, b2);
     store<f64>(costB + (<usize>r << 3), db);
     if (db < best) { best = db; bj = j; bk = kb; }
   }
@@ -502,7 +502,7 @@ export function pairRead(C: usize, D: usize, nA: i32, nR: i32, stride: i32, nRow
   for (let dj = -wa; dj <= wa; dj++) {
     const j = (((bj + dj) % nA) + nA) % nA;
     for (let k = kLo; k <= kHi; k++) {
-      const d = pairCost(C, D, 3 * (j * nR + k), a0, a1, a2, b0, b1, b2);
+      const d = pairCost(C, D, es * (j * nR + k), a0, a1, a2, b0, b1, b2);
       if (d < fine) { fine = d; fj = j; fk = k; }
     }
   }

@@ -16,9 +16,9 @@ export interface OpticsKernelExports {
   pairWrite(hits: number, n: number, table: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
   rankHigh(bits: number, mask: number, minOf: number, min: number, n: number, high: number): number;
   rankLow(bits: number, mask: number, minOf: number, min: number, n: number, slot: number, low: number): void;
-  cellRows(C: number, nR: number, nRows: number, stride: number, coarse: number, nCp: number, boxes: number, nBoxes: number, nBp: number, boxEntries: number,
+  cellRows(C: number, es: number, nR: number, nRows: number, stride: number, coarse: number, nCp: number, boxes: number, nBoxes: number, nBp: number, boxEntries: number,
     labs: number, nCells: number, guesses: number, bounds: number, dists: number, rows: number): void;
-  pairRead(C: number, D: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,
+  pairRead(C: number, D: number, es: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,
     a0: number, a1: number, a2: number, b0: number, b1: number, b2: number, ra: number, rb: number, bj: number, bk: number, costs: number, out: number): void;
 }
 

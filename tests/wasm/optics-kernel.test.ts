@@ -195,12 +195,12 @@ describe('the optics kernel: the plate pair', () => {
     mem.f32(cAt, C.length).set(C); mem.f64(coAt, coarse.length).set(coarse); mem.f64(bAt, boxes.length).set(boxes);
     // All the colours in one call (row by row for all), and each on its own: the same rows.
     mem.f64(labsAt, 3 * colours.length).set(colours.flat());
-    k.cellRows(cAt, nR, nRows, stride, coAt, nCp, bAt, nBoxes, nBp, boxEntries, labsAt, colours.length, guessesAt, boundsAt, distsAt, allAt);
+    k.cellRows(cAt, 3, nR, nRows, stride, coAt, nCp, bAt, nBoxes, nBp, boxEntries, labsAt, colours.length, guessesAt, boundsAt, distsAt, allAt);
     const together = Array.from(mem.u16(allAt, nRows * colours.length));
     const d2 = (r: number, kk: number, q: number[]) => [0, 1, 2].reduce((s, d) => s + (C[3 * (r * stride * nR + kk) + d] - q[d]) ** 2, 0);
     for (const [ci, q] of colours.entries()) {
       mem.f64(labsAt, 3).set(q);
-      k.cellRows(cAt, nR, nRows, stride, coAt, nCp, bAt, nBoxes, nBp, boxEntries, labsAt, 1, guessesAt, boundsAt, distsAt, rowsAt);
+      k.cellRows(cAt, 3, nR, nRows, stride, coAt, nCp, bAt, nBoxes, nBp, boxEntries, labsAt, 1, guessesAt, boundsAt, distsAt, rowsAt);
       // The scan without boxes: the first nearest of every 4th entry, then each of +-4 entries nearer than the best so far.
       const want = [0, 1, 2].map((r) => {
         let bk = 0, bd = Infinity;
