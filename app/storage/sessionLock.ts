@@ -27,17 +27,25 @@ export interface SessionLocks {
 export function sessionLocks(locks: LockManagerLike | undefined | null): SessionLocks {
   /** The sessions this tab holds, each with the function that lets its lock go. */
   const mine = new Map<string, () => void>();
+  /** Claims under way: a second claim of the same session while the first waits for the lock shares its answer
+   * (React's development mode runs the opening effect twice, and the second claim found the first one's lock). */
+  const pending = new Map<string, Promise<boolean>>();
+  const take = (id: string) => new Promise<boolean>((resolve, reject) => {
+    if (!locks) { resolve(true); return; }
+    locks.request(sessionLockName(id), { ifAvailable: true, mode: 'exclusive' }, (lock) => {
+      if (!lock) { resolve(false); return undefined; }
+      // Held until release: the lock lasts as long as the promise returned here is pending.
+      return new Promise<void>((free) => { mine.set(id, free); resolve(true); });
+    }).catch(reject);
+  });
   return {
     claim(id) {
       if (mine.has(id)) return Promise.resolve(true);
-      if (!locks) return Promise.resolve(true);
-      return new Promise<boolean>((resolve, reject) => {
-        locks.request(sessionLockName(id), { ifAvailable: true, mode: 'exclusive' }, (lock) => {
-          if (!lock) { resolve(false); return undefined; }
-          // Held until release: the lock lasts as long as the promise returned here is pending.
-          return new Promise<void>((free) => { mine.set(id, free); resolve(true); });
-        }).catch(reject);
-      });
+      const under = pending.get(id);
+      if (under) return under;
+      const p = take(id).finally(() => pending.delete(id));
+      pending.set(id, p);
+      return p;
     },
     release(id) {
       const free = mine.get(id);

@@ -386,6 +386,16 @@ describe('session locks: one tab writes a session at a time', () => {
     expect((await manager.query!()).held!.map((l) => l.name).sort()).toEqual([sessionLockName('s1'), sessionLockName('s2')]);
   });
 
+  it('two claims of one session at once in one tab both hold it (an effect run twice)', async () => {
+    const manager = fakeLocks();
+    const tab = sessionLocks(manager), other = sessionLocks(manager);
+    expect(await Promise.all([tab.claim('s1'), tab.claim('s1')])).toEqual([true, true]);
+    expect(await other.claim('s1')).toBe(false);
+    tab.release('s1');
+    await new Promise((r) => setTimeout(r, 0));
+    expect(await other.claim('s1')).toBe(true);
+  });
+
   it('without Web Locks every claim succeeds (the store\'s revision check still stops overwrites)', async () => {
     const none = sessionLocks(undefined);
     expect(await none.claim('s1')).toBe(true);
