@@ -135,7 +135,7 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
     if (!f) {
       throw new InputError(
         `the ${i === 0 ? 'first' : 'second'} channel wall could not be told apart from its surroundings`,
-        'Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel',
+        'Give the walls by hand (draw them on the image, or --walls), or crop the image to the channel',
       );
     }
     return f.fit;
@@ -171,7 +171,7 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
     if (across && !(across.contrast >= TEXTURE_CONTRAST)) {
       throw new InputError(
         `the material inside the ${i === 0 ? 'first' : 'second'} wall found has only ${across.contrast.toFixed(1)} times the texture of what lies beyond it (a channel's material has at least ${TEXTURE_CONTRAST} times): no channel could be told apart`,
-        'Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel',
+        'Give the walls by hand (draw them on the image, or --walls), or crop the image to the channel',
       );
     }
   }
@@ -185,7 +185,7 @@ export async function findWalls(input: Image | Plane, options: AutoWallOptions =
   if (apart < 0.5 * minSep) {
     throw new InputError(
       `the two walls found are only ${apart.toFixed(0)} px apart, much less than a channel's width here: no channel could be told apart`,
-      'Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel',
+      'Give the walls by hand (draw them on the image, or --walls), or crop the image to the channel',
     );
   }
   const cont = sides.map((s) => median(s.contrast));

@@ -9,8 +9,8 @@ import { screenWords } from '../../app/screenWords.ts';
  */
 describe('screen words', () => {
   it('cuts an option after the words inside parentheses, and parentheses naming only options', () => {
-    expect(screenWords('the first channel wall could not be told apart from its surroundings. Give the walls by hand (drag them on the image, or --walls), or crop the image to the channel'))
-      .toBe('the first channel wall could not be told apart from its surroundings. Give the walls by hand (drag them on the image), or crop the image to the channel');
+    expect(screenWords('the first channel wall could not be told apart from its surroundings. Give the walls by hand (draw them on the image, or --walls), or crop the image to the channel'))
+      .toBe('the first channel wall could not be told apart from its surroundings. Give the walls by hand (draw them on the image), or crop the image to the channel');
     expect(screenWords('no sample-free area: exposure and white balance were taken as they are; give one (--sample-free x,y,w,h) for a calibrated reading'))
       .toBe('no sample-free area: exposure and white balance were taken as they are; give one for a calibrated reading');
     expect(screenWords('a channel profile needs walls. Give the walls (--walls "x1,y1,x2,y2;x3,y3,x4,y4") or have them found (--auto-walls)'))
