@@ -115,7 +115,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   // here; pairWrite gives every pixel its entry's reading. Pixels with the same pair of cells get the same reading.
   const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PAIR_BLOCK_PX);
   const search = new PairSearch(lutA, lutB, 1 << (3 * bits), mem);
-  const rgbAt = mem.reserve(24 * B), clipAt = mem.reserve(B), hitsAt = mem.reserve(4 * B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(4);
+  const rgbAt = mem.reserve(24 * B), clipAt = mem.reserve(B), hitsAt = mem.reserve(4 * B), cellsBAt = mem.reserve(4 * B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(4);
   const cacheAt = mem.reserve(12 * PAIR_CACHE_ENTRIES);
   const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
   const levelsAAt = imgA.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, levelsBAt = imgB.encoding === 'linear' ? mem.reserve(4 * 4097) : 0;
@@ -147,7 +147,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     [imgA, imgB].forEach((img, j) => { for (let c = 0; c < 3; c++) mem.f32(rgbAt + 4 * B * (3 * j + c), B).set(img.planes[c].subarray(i0, i1)); });
     mem.u8(clipAt, B).fill(0);
     const nFresh = k.pairCells(rgbAt, rgbAt + 4 * B, rgbAt + 8 * B, rgbAt + 12 * B, rgbAt + 16 * B, rgbAt + 20 * B, len, bits, FULL_SCALE_LEVEL, levelsAAt, levelsBAt,
-      clipAt, tableAt, shift, cacheAt, hitsAt, freshAt, countsAt);
+      clipAt, tableAt, shift, cacheAt, hitsAt, cellsBAt, freshAt, countsAt);
     entries += nFresh;
     const fresh = mem.i32(freshAt, nFresh), ints = mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)), floats = mem.f32(tableAt, ints.length);
     // Each new cell's colour and its best retardance per angle row, all the block's new cells at once.

@@ -298,9 +298,53 @@ function pairHome(a: i32, b: i32, shift: i32): i32 {
   return <i32>(<u32>((a ^ (b * <i32>0x85ebca77)) * <i32>0x9e3779b1) >>> shift);
 }
 
+/** The levels <i32>(v top + 0.5) of four values given as two float64 pairs (T: top, H: 0.5), as four int32 lanes. */
+// @ts-ignore: decorator
+@inline
+function level4(v0: v128, v1: v128, T: v128, H: v128): v128 {
+  return i32x4.shuffle(i32x4.trunc_sat_f64x2_s_zero(f64x2.add(f64x2.mul(v0, T), H)), i32x4.trunc_sat_f64x2_s_zero(f64x2.add(f64x2.mul(v1, T), H)), 0, 1, 4, 5);
+}
+
+/** The two low lanes of three float32 planes' values, as float64: any at or above F (64-bit lane masks). */
+// @ts-ignore: decorator
+@inline
+function overHalf(v: v128, w: v128, x: v128, F: v128): v128 {
+  return v128.or(v128.or(f64x2.ge(f64x2.promote_low_f32x4(v), F), f64x2.ge(f64x2.promote_low_f32x4(w), F)), f64x2.ge(f64x2.promote_low_f32x4(x), F));
+}
+
+/**
+ * quantiseInto's colour-cube cells (see plateCells) of four pixels of an sRGB-scale image (planes r, g, b; byte offset o),
+ * in float64 two lanes at a time as cellOf: -1 where not usable; `over` gains the lanes with a plane at or above full.
+ */
+// @ts-ignore: decorator
+@inline
+function cells4(r: usize, g: usize, b: usize, o: usize, top: f64, bits: i32, full: f64): v128 {
+  const vr = v128.load(r + o), vg = v128.load(g + o), vb = v128.load(b + o);
+  const Z = f64x2.splat(0), F = f64x2.splat(full), T = f64x2.splat(top), H = f64x2.splat(0.5);
+  const r0 = f64x2.promote_low_f32x4(vr), r1 = f64x2.promote_low_f32x4(i32x4.shuffle(vr, vr, 2, 3, 0, 1));
+  const g0 = f64x2.promote_low_f32x4(vg), g1 = f64x2.promote_low_f32x4(i32x4.shuffle(vg, vg, 2, 3, 0, 1));
+  const b0 = f64x2.promote_low_f32x4(vb), b1 = f64x2.promote_low_f32x4(i32x4.shuffle(vb, vb, 2, 3, 0, 1));
+  const ok0 = v128.and(v128.and(v128.and(f64x2.ge(r0, Z), f64x2.ge(g0, Z)), v128.and(f64x2.ge(b0, Z), f64x2.lt(r0, F))), v128.and(f64x2.lt(g0, F), f64x2.lt(b0, F)));
+  const ok1 = v128.and(v128.and(v128.and(f64x2.ge(r1, Z), f64x2.ge(g1, Z)), v128.and(f64x2.ge(b1, Z), f64x2.lt(r1, F))), v128.and(f64x2.lt(g1, F), f64x2.lt(b1, F)));
+  const cell = v128.or(v128.or(i32x4.shl(level4(r0, r1, T, H), 2 * bits), i32x4.shl(level4(g0, g1, T, H), bits)), level4(b0, b1, T, H));
+  // The four lanes' "usable" from the two halves' 64-bit masks.
+  const ok = i32x4.shuffle(ok0, ok1, 0, 2, 4, 6);
+  return v128.bitselect(cell, i32x4.splat(-1), ok);
+}
+
+/** The lanes (all bits set) of four pixels with a plane at or above full (float64 comparisons, as cellOf's). */
+// @ts-ignore: decorator
+@inline
+function over4(r: usize, g: usize, b: usize, o: usize, full: f64): v128 {
+  const vr = v128.load(r + o), vg = v128.load(g + o), vb = v128.load(b + o), F = f64x2.splat(full);
+  const lo = overHalf(vr, vg, vb, F), hi = overHalf(i32x4.shuffle(vr, vr, 2, 3, 0, 1), i32x4.shuffle(vg, vg, 2, 3, 0, 1), i32x4.shuffle(vb, vb, 2, 3, 0, 1), F);
+  return i32x4.shuffle(lo, hi, 0, 2, 4, 6);
+}
+
 /**
  * The plate pair's first pass over n pixels (src/optics/platePair.ts): both images' colour cells (as plateCells; planes
- * at a* and b*, each image's linear level table or 0), then for pixels usable in both, the entry of their pair of cells
+ * at a* and b*, each image's linear level table or 0; without tables four pixels at a time by cells4, with cellsB: n
+ * int32s of scratch), then for pixels usable in both, the entry of their pair of cells
  * in the open-addressing table (2^(32 - shift) entries of PAIR_ENTRY_BYTES, cell A -1 when free): its byte offset in
  * hits, -1 for pixels not usable (counted in counts[0]). Pairs met for the first time get an entry (cells set, the
  * reading for the caller to write) listed in fresh by offset; returns how many. The caller keeps the table at most half full.
@@ -308,12 +352,24 @@ function pairHome(a: i32, b: i32, shift: i32): i32 {
  * caller empties it when the table moves).
  */
 export function pairCells(ra: usize, ga: usize, ba: usize, rb: usize, gb: usize, bb: usize, n: i32, bits: i32, full: f64, levelsA: usize, levelsB: usize,
-  clip: usize, table: usize, shift: i32, cache: usize, hits: usize, fresh: usize, counts: usize): i32 {
+  clip: usize, table: usize, shift: i32, cache: usize, hits: usize, cellsB: usize, fresh: usize, counts: usize): i32 {
   const top = <f64>((1 << bits) - 1), m = (1 << (32 - shift)) - 1;
+  // Without level tables, both images' cells four pixels at a time first (A's into hits, B's into cellsB; clipped marked).
+  const lanes = !levelsA && !levelsB;
+  if (lanes) {
+    for (let t = 0; t < n; t += 4) {
+      const o = <usize>t << 2;
+      v128.store(hits + o, cells4(ra, ga, ba, o, top, bits, full));
+      v128.store(cellsB + o, cells4(rb, gb, bb, o, top, bits, full));
+      markClipped(clip, t, v128.and(v128.or(over4(ra, ga, ba, o, full), over4(rb, gb, bb, o, full)), validLanes(t, n)));
+    }
+  }
   let masked = 0, nFresh = 0, lastA = -1, lastB = -1, lastHit = -1;
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2, c = clip + <usize>t;
-    const ca = cellOf(ra, ga, ba, o, top, bits, full, levelsA, c), cb = cellOf(rb, gb, bb, o, top, bits, full, levelsB, c);
+    let ca: i32, cb: i32;
+    if (lanes) { ca = load<i32>(hits + o); cb = load<i32>(cellsB + o); }
+    else { ca = cellOf(ra, ga, ba, o, top, bits, full, levelsA, c); cb = cellOf(rb, gb, bb, o, top, bits, full, levelsB, c); }
     if (ca < 0 || cb < 0) { masked++; store<i32>(hits + o, -1); continue; }
     if (ca != lastA || cb != lastB) {
       lastA = ca; lastB = cb;

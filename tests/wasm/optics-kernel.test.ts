@@ -140,7 +140,7 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
 describe('the optics kernel: the plate pair', () => {
   it('gives pixels with the same pair of colour cells the same table entry, lists each new pair once, and keeps entries through a rehash', () => {
     const k = opticsKernel(), mem = new OpticsLayout(k), n = 5, bits = 2;
-    const planes = [0, 1, 2, 3, 4, 5].map(() => mem.reserve(32)), clip = mem.reserve(16), hits = mem.reserve(32), fresh = mem.reserve(32), counts = mem.reserve(4);
+    const planes = [0, 1, 2, 3, 4, 5].map(() => mem.reserve(32)), clip = mem.reserve(16), hits = mem.reserve(32), cellsB = mem.reserve(32), fresh = mem.reserve(32), counts = mem.reserve(4);
     const out = [0, 1, 2, 3, 4].map(() => mem.reserve(32)), mask = mem.reserve(16), small = mem.reserve(32 * 16), big = mem.reserve(32 * 32), cache = mem.reserve(12 * 4096);
     mem.commit();
     // Image A: pixels 0, 1, 3 one colour, pixel 2 another, pixel 4 at full scale; image B: one colour, pixel 3 another.
@@ -150,7 +150,7 @@ describe('the optics kernel: the plate pair', () => {
     mem.f32(planes[0], n)[2] = 0.998;
     mem.u8(clip, 16).fill(0); mem.i32(counts, 1).fill(0); mem.i32(small, 8 * 16).fill(-1); mem.i32(cache, 3 * 4096).fill(-1);
     const shift = 32 - 4; // 16 entries
-    const nFresh = k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, small, shift, cache, hits, fresh, counts);
+    const nFresh = k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, small, shift, cache, hits, cellsB, fresh, counts);
     const h = Array.from(mem.i32(hits, n));
     expect(h[0]).toBe(h[1]);
     expect(new Set([h[0], h[2], h[3]]).size).toBe(3);
@@ -167,7 +167,7 @@ describe('the optics kernel: the plate pair', () => {
     mem.i32(big, 8 * 32).fill(-1);
     k.pairRehash(small, shift, big, shift - 1);
     mem.i32(cache, 3 * 4096).fill(-1);
-    expect(k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, big, shift - 1, cache, hits, fresh, counts)).toBe(0);
+    expect(k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, big, shift - 1, cache, hits, cellsB, fresh, counts)).toBe(0);
     expect(k.pairWrite(hits, n, big, out[0], out[1], out[2], out[3], out[4], mask)).toBe(1);
     expect(Array.from(mem.f32(out[1], n))).toEqual([100, 100, 200, 300, 0]);
     expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 1, 0]);
