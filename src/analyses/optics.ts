@@ -12,10 +12,11 @@ import { foldEdgeShare, orientationField, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE, ty
 import { orderParameters, type Weighting } from '../order/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import {
-  readPlate, readPlatePair, fourAngleAnalysis, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
+  readPlate, readPlatePair, fourAngleAnalysis, angleNoiseFactor, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
   compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, type RankSelection,
   type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
+import { ANGLE_NOISE_MAX_LOSS } from '../channel/index.ts';
 import { orientResult, type OrientResult } from './orient.ts';
 import { analyseProfile, type ProfileRequest, type ProfileResult } from './profile.ts';
 
@@ -444,22 +445,49 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
   const result = await opticsResult('angle-series', images[0], r.field, o, {
     anglesDeg, amplitudeMedian: middleValue(r.amplitude, usable), residualMedian: middleValue(r.residual, usable), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
   });
-  // The whole image's numbers by the share over the whole field; a profile's bins and bands were judged each on
-  // their own pixels (channelProfile), so they stay as they are.
-  const gap = foldGap(r.field, !!o.plate);
-  return { result: gap ? { ...withholdOrder(result, [gap]), profile: result.profile } : result, field: r.field, amplitude: r.amplitude, residual: r.residual };
+  // Without a compensator image no order number is given (NO_PLATE_GAP), the profile's included. With one, the whole
+  // image's numbers by the fold's share and the angle noise over the whole field; a profile's bins and bands were
+  // judged each on their own pixels (channelProfile), so they stay as they are.
+  if (!o.plate) return { result: withholdOrder(result, [NO_PLATE_GAP]), field: r.field, amplitude: r.amplitude, residual: r.residual };
+  const gaps = [foldGap(r.field), angleNoiseGap(r.field)].filter((g): g is string => g !== null);
+  return { result: gaps.length ? { ...withholdOrder(result, gaps), profile: result.profile } : result, field: r.field, amplitude: r.amplitude, residual: r.residual };
 }
 
 /**
- * Why an angle series' order numbers are withheld, or null: crossed polarisers fix a slow axis only up to 90 deg,
- * and the field was folded to within 45 deg of one axis; with more than FOLD_EDGE_MAX_SHARE of its pixels, still
- * undecided, near 45 deg from that axis, some lie beyond it and read too high (foldEdgeShare).
+ * Why an angle series without a compensator image gives no order number (docs/methods.md §6.3): crossed polarisers
+ * fix a slow axis only up to 90 deg, so S rests on taking every rod within 45 deg of an axis, and whether rods lie
+ * beyond it cannot be seen in these images. A rule on the images' own spread near the fold's boundary gave S only
+ * where a field of view happened to be more ordered than its material: on independent validation renderings those
+ * numbers' 95 % intervals covered the material's order in 54-84 % of renderings.
  */
-function foldGap(field: OrientationField, plate: boolean): string | null {
+export const NO_PLATE_GAP = 'crossed polarisers alone do not tell a slow axis from the one at 90 deg to it, and whether rods lie beyond 45 deg from the axis cannot be seen in these images, so S would rest on that assumption (on independent test renderings the numbers such a reading gave covered the material\'s order in 54-84 % of cases, not 95 %). Add an image with the compensator in (--plate, with its sample-free area --plate-sample-free) to decide the 90-deg choice, or read the sample with two compensator images (plate-pair)';
+
+/**
+ * Why an angle series' whole-image order numbers are withheld for angle noise, or null: the mean over the usable
+ * pixels of angleNoiseFactor (src/optics/fourAngle.ts) takes more than ANGLE_NOISE_MAX_LOSS of S (as for a profile's
+ * bins, src/channel/profile.ts).
+ */
+function angleNoiseGap(field: OrientationField): string | null {
+  const gain = (field.options as { angleNoiseGain?: number | null }).angleNoiseGain;
+  if (typeof gain !== 'number') return null;
+  let n = 0;
+  const sum = new Float64Array(1);
+  for (let i = 0; i < field.mask.length; i++) if (field.mask[i]) { n++; sum[0] += angleNoiseFactor(field.confidence[i], gain); }
+  const loss = n ? 1 - sum[0] / n : 0;
+  if (!(loss > ANGLE_NOISE_MAX_LOSS)) return null;
+  return `the angle noise (the images' noise against the amplitude of their modulation) reads S ${(100 * loss).toFixed(1)} % low (at most ${100 * ANGLE_NOISE_MAX_LOSS} % allowed): average more frames per polariser angle or expose longer (below full scale), or read a sample of higher retardance`;
+}
+
+/**
+ * Why an angle series' order numbers are withheld with a compensator image, or null: crossed polarisers fix a slow axis
+ * only up to 90 deg, and the pixels the compensator image left undecided were folded to within 45 deg of one axis;
+ * with more than FOLD_EDGE_MAX_SHARE of the usable pixels, still undecided, near 45 deg from that axis, some lie
+ * beyond it and read too high (foldEdgeShare).
+ */
+function foldGap(field: OrientationField): string | null {
   const share = foldEdgeShare(field);
   if (!(share > FOLD_EDGE_MAX_SHARE)) return null;
   const axis = Number((field.options as { mod90FoldedAboutDeg?: number }).mod90FoldedAboutDeg).toFixed(1);
-  return `${(100 * share).toFixed(1)} % of the pixels${plate ? ' the compensator image leaves undecided' : ''} lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis their 90-deg choice was made about (${axis} deg); crossed polarisers cannot tell such a slow axis from the one at 90 deg to it, so some are read on the wrong side and S would read high by more than 0.03 (at most ${100 * FOLD_EDGE_MAX_SHARE} % allowed). ${
-    plate ? 'Give the compensator image its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)' : 'Add an image with the compensator in (--plate) to decide the 90-deg choice, or read the sample with two compensator images (plate-pair)'}`;
+  return `${(100 * share).toFixed(1)} % of the pixels the compensator image leaves undecided lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis their 90-deg choice was made about (${axis} deg); crossed polarisers cannot tell such a slow axis from the one at 90 deg to it, so some are read on the wrong side and S would read high by more than 0.03 (at most ${100 * FOLD_EDGE_MAX_SHARE} % allowed). Give the compensator image its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)`;
 }
 

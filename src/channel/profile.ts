@@ -4,6 +4,7 @@ import { degToRad, radToDeg, wrapAxialDeg } from '../common/index.ts';
 import { combineUncertainties } from '../common/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
 import { foldEdgeMap, foldMod90, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE } from '../orientation/index.ts';
+import { angleNoiseFactor } from '../optics/index.ts';
 import {
   accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
   type BlockSums, type OrderStat, type Weighting,
@@ -45,6 +46,15 @@ export const PROFILE_DEFAULTS = {
  */
 export const CLIPPED_SHARE_LIMIT = 0.01;
 
+/**
+ * Largest loss of S from an angle series' angle noise for a bin's or band's S to be given: 1 - the mean over its
+ * usable pixels of angleNoiseFactor (src/optics/fourAngle.ts), the share by which noise shrinks cos 2(theta - axis),
+ * so S read low by at most this for any S up to 1 (the channel goal, 0.03). On the independent validation renderings
+ * at 30 nm sample retardance (amplitude about 3 % of full scale) the mean factor was 0.96 and bins read up to 0.064
+ * low; at 60 nm it is above 0.99.
+ */
+export const ANGLE_NOISE_MAX_LOSS = 0.03;
+
 export interface ProfileBin extends OrderStat {
   /** Bin centre and edges in s. */
   s: number;
@@ -81,7 +91,7 @@ export interface StationProfile extends BandStats {
  * Per bin and per band (core, skin): pixels between the walls and how many of them are clipped; usable pixels and
  * how many of them a mod-90 fold leaves near its boundary (foldEdge).
  */
-interface GroupCount { total: number; clipped: number; usable: number; foldEdge: number }
+interface GroupCount { total: number; clipped: number; usable: number; foldEdge: number; noiseFactor: number }
 interface ClipCounts { bins: GroupCount[]; core: GroupCount; skin: GroupCount }
 
 export interface ChannelProfile extends BandStats {
@@ -123,8 +133,11 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   // Pixels a mod-90 fold may have put on the wrong side of the axis (foldEdgeMap): too many of them in a group and
   // its S is not determined.
   const edgeMap = foldEdgeMap(f);
-  const counted = clippedMap !== null || edgeMap !== null;
-  const zero = (): GroupCount => ({ total: 0, clipped: 0, usable: 0, foldEdge: 0 });
+  // An angle series' angle noise (angleNoiseFactor): summed over each group's usable pixels.
+  const noiseGain = (f.options as { angleNoiseGain?: number | null }).angleNoiseGain;
+  const gain = f.method === 'angle-series' && typeof noiseGain === 'number' ? noiseGain : null;
+  const counted = clippedMap !== null || edgeMap !== null || gain !== null;
+  const zero = (): GroupCount => ({ total: 0, clipped: 0, usable: 0, foldEdge: 0, noiseFactor: 0 });
   const newCounts = (): ClipCounts => ({ bins: Array.from({ length: bins }, zero), core: zero(), skin: zero() });
   const clipCounts = Array.from({ length: stations }, newCounts);
   for (let y = 0; y < height; y++) {
@@ -139,8 +152,9 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
       const band = a < coreMax ? 0 : a > skinMin ? 1 : -1;
       if (counted) {
         const c = clipCounts[st], hit = clippedMap ? clippedMap[i] : 0, live = f.mask[i] ? 1 : 0, edge = edgeMap ? edgeMap[i] : 0;
-        tally(c.bins[b], hit, live, edge);
-        if (band === 0) tally(c.core, hit, live, edge); else if (band === 1) tally(c.skin, hit, live, edge);
+        const kept = live && gain !== null ? angleNoiseFactor(f.confidence[i], gain) : live;
+        tally(c.bins[b], hit, live, edge, kept);
+        if (band === 0) tally(c.core, hit, live, edge, kept); else if (band === 1) tally(c.skin, hit, live, edge, kept);
       }
       if (!f.mask[i]) continue;
       binGroups[i] = st * bins + b;
@@ -152,7 +166,7 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   const bandSums = accumulateBlocks(f, { groups: bandGroups, groupCount: stations * 2, refRad, blockPx, weighting });
 
   const stationList: StationProfile[] = [];
-  const withheld: Withheld = { clipped: [], foldEdge: [] };
+  const withheld: Withheld = { clipped: [], foldEdge: [], noise: [] };
   for (let st = 0; st < stations; st++) {
     const from = frame.alongMin + (span * st) / stations, to = frame.alongMin + (span * (st + 1)) / stations;
     const mid = (from + to) / 2;
@@ -181,22 +195,23 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   return {
     ...pooled, axisDeg, channelAxisDeg: frame.axisDeg, taperDeg: frame.taperDeg, stations: stationList,
     options: { bins, stations, coreMax, skinMin, weighting, blockPx, axisDeg }, warnings,
-    ...(withheld.clipped.length || withheld.foldEdge.length ? {
+    ...(withheld.clipped.length || withheld.foldEdge.length || withheld.noise.length ? {
       notDetermined: {
         ...(withheld.clipped.length ? { clipped: clippedReason(withheld.clipped) } : {}),
         ...(withheld.foldEdge.length ? { mod90: foldEdgeReason(withheld.foldEdge, axisDeg) } : {}),
+        ...(withheld.noise.length ? { angleNoise: angleNoiseReason(withheld.noise) } : {}),
       },
     } : {}),
   };
 }
 
 /** Adds one pixel between the walls to a group's counts (no array per pixel: this runs for every pixel of the channel). */
-function tally(g: GroupCount, clipped: number, usable: number, foldEdge: number): void {
-  g.total++; g.clipped += clipped; g.usable += usable; g.foldEdge += foldEdge;
+function tally(g: GroupCount, clipped: number, usable: number, foldEdge: number, noiseFactor: number): void {
+  g.total++; g.clipped += clipped; g.usable += usable; g.foldEdge += foldEdge; g.noiseFactor += noiseFactor;
 }
 
 /** Groups whose S is withheld, with their shares, by cause. */
-interface Withheld { clipped: string[]; foldEdge: string[] }
+interface Withheld { clipped: string[]; foldEdge: string[]; noise: string[] }
 
 const someOf = (list: string[]) => (list.length > 6 ? `${list.slice(0, 6).join(', ')} and ${list.length - 6} more` : list.join(', '));
 
@@ -210,23 +225,30 @@ function foldEdgeReason(withheld: string[], axisDeg: number): string {
   return `S not given where more than ${100 * FOLD_EDGE_MAX_SHARE} % of the usable pixels, still undecided between a slow axis and the one at 90 deg to it, lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis (${axisDeg.toFixed(1)} deg) (${someOf(withheld)}): some of them lie beyond it and are read on the wrong side, so S would read high. Add an image with the compensator in (--plate) to decide them, give it its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)`;
 }
 
+/** Why groups of an angle series have no S, naming them (the first few) with the share of S their angle noise takes. */
+function angleNoiseReason(withheld: string[]): string {
+  return `S not given where the angle series' angle noise (the images' noise against the amplitude of their modulation) reads S low by more than ${ANGLE_NOISE_MAX_LOSS} (${someOf(withheld)} of S lost): the sample's retardance gives too little modulation for this noise. Average more frames per polariser angle or expose longer (below full scale), or read a sample of higher retardance`;
+}
+
 function pooledCounts(list: ClipCounts[]): ClipCounts {
-  const add = (a: GroupCount, b: GroupCount): GroupCount => ({ total: a.total + b.total, clipped: a.clipped + b.clipped, usable: a.usable + b.usable, foldEdge: a.foldEdge + b.foldEdge });
+  const add = (a: GroupCount, b: GroupCount): GroupCount => ({ total: a.total + b.total, clipped: a.clipped + b.clipped, usable: a.usable + b.usable, foldEdge: a.foldEdge + b.foldEdge, noiseFactor: a.noiseFactor + b.noiseFactor });
   return list.reduce((p, c) => ({ bins: p.bins.map((b, k) => add(b, c.bins[k])), core: add(p.core, c.core), skin: add(p.skin, c.skin) }));
 }
 
 /**
- * A statistic withheld (order and interval NaN) when more than CLIPPED_SHARE_LIMIT of its pixels are clipped, or
- * more than FOLD_EDGE_MAX_SHARE of its usable pixels lie near a mod-90 fold's boundary; the group's name and share
- * go to `withheld` under the cause.
+ * A statistic withheld (order and interval NaN) when more than CLIPPED_SHARE_LIMIT of its pixels are clipped, more
+ * than FOLD_EDGE_MAX_SHARE of its usable pixels lie near a mod-90 fold's boundary, or an angle series' angle noise takes
+ * more than ANGLE_NOISE_MAX_LOSS of S; the group's name and share go to `withheld` under the cause.
  */
 function unlessUnread<T extends OrderStat>(stat: T, count: GroupCount | undefined, name: string, withheld: Withheld): T {
   if (!count) return stat;
   const clipped = count.total > 0 && count.clipped > CLIPPED_SHARE_LIMIT * count.total;
   const edge = count.usable > 0 && count.foldEdge > FOLD_EDGE_MAX_SHARE * count.usable;
+  const loss = count.usable > 0 ? 1 - count.noiseFactor / count.usable : 0, noisy = loss > ANGLE_NOISE_MAX_LOSS;
   if (clipped) withheld.clipped.push(`${name} ${((100 * count.clipped) / count.total).toFixed(0)} %`);
   if (edge) withheld.foldEdge.push(`${name} ${((100 * count.foldEdge) / count.usable).toFixed(0)} %`);
-  return clipped || edge ? { ...stat, order: NaN, ciLow: NaN, ciHigh: NaN } : stat;
+  if (noisy) withheld.noise.push(`${name} ${(100 * loss).toFixed(1)} %`);
+  return clipped || edge || noisy ? { ...stat, order: NaN, ciLow: NaN, ciHigh: NaN } : stat;
 }
 
 function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number, clip: ClipCounts | null, where: string, withheld: Withheld): BandStats {

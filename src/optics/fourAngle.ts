@@ -72,6 +72,31 @@ function plateOrientationChooser(img: Image, o: PlateSignOptions) {
   };
 }
 
+/**
+ * Noise gain g of an angle series' design: with independent image noise of standard deviation sigma, the fit's a4c and
+ * a4s scatter by sigma^2 sum_k P1k^2 and sigma^2 sum_k P2k^2 (P the least-squares pseudo-inverse, rows 1 and 2), and
+ * g = sum_k P1k^2 + sum_k P2k^2; 1 for 0, 22.5, 45 and 67.5 deg (2 / N x 2 for N equally spaced angles, derived).
+ */
+function angleNoiseGain(P: number[][]): number {
+  let g = 0;
+  for (let k = 0; k < P[1].length; k++) g += P[1][k] * P[1][k] + P[2][k] * P[2][k];
+  return g;
+}
+
+/**
+ * The factor by which an angle series' angle noise shrinks one pixel's cos 2(theta - axis) on average, from the pixel's
+ * confidence c = A / (A + 3 residual) and the design's noise gain g (field.options.angleNoiseGain):
+ * exp(-g (residual / A)^2 / 4), residual / A = (1 - c) / (3 c). The fitted vector (a4c, a4s) of length A / 2 scatters
+ * by sigma^2 g / 2 across its direction, so its phase 4 theta by 2 sigma^2 g / A^2 and 2 theta by sigma^2 g / (2 A^2);
+ * for a normal angle error E cos 2 epsilon = exp(-var(2 epsilon) / 2) (the characteristic function of the normal
+ * distribution), and the residual estimates sigma (N - 3 degrees of freedom per pixel; docs/methods.md §6.5, "Angle noise").
+ */
+export function angleNoiseFactor(confidence: number, gain: number): number {
+  if (!(confidence > 0)) return 0;
+  const r = (1 - confidence) / (3 * confidence);
+  return Math.exp(-gain * r * r / 4);
+}
+
 /** Colour-cube bits per channel of the compensator image that decides the 90-deg choice. */
 const PLATE_CELL_BITS = 6;
 
@@ -340,7 +365,8 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   let field: OrientationField = {
     width, height, angleRad, cos2, sin2, confidence, mask, clipped, method: 'angle-series', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
     pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
-    options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate },
+    // The noise gain only where the residual estimates the noise (more than 3 angles).
+    options: { anglesDeg: angles, flatField: !!flat, dark: !!dark, amplitudeFloor: floor, plate: !!options.plate, angleNoiseGain: images.length > 3 ? angleNoiseGain(P) : null },
     warnings,
   };
   // Unresolved pixels: show them within 45 deg of the axis the field is concentrated about, so the
