@@ -11,6 +11,8 @@ import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
 
 /** Pixels per block: colour cells are made a block at a time, not as a whole plane. */
 const PLATE_BLOCK_PX = 1 << 15;
+/** Float32s per sub-cell reading in the kernel's memory: angle, retardance, confidence, masked, cos 2 theta, sin 2 theta. */
+const READING_FLOATS = 6;
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlateReadOptions extends SearchOptions {
@@ -126,6 +128,8 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   const cBest = new Int32Array(nCells).fill(-1), cAlt = new Int32Array(nCells), cNear = new Int32Array(nCells);
   const n = img.width * img.height;
   const angleRad = new Float32Array(n), confidence = new Float32Array(n), retardanceNm = new Float32Array(n), mask = new Uint8Array(n), clipped = new Uint8Array(n);
+  // cos 2 theta and sin 2 theta per pixel, made once per sub-cell (the order statistics read these).
+  const cos2 = new Float32Array(n), sin2 = new Float32Array(n);
   const axis = train.compensator.axisDeg;
   const ref = options.referenceAxisDeg ?? axis - 45;
   checkNumber('reference axis', ref, -360, 360, 'deg');
@@ -177,21 +181,23 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     const dOther = pick === 0 ? Math.min(d1, d2) : pick === 1 ? Math.min(d0, d2) : Math.min(d0, d1);
     const dZero = distanceToZero(q);
     const e = pick === 0 ? cBest[cell] : pick === 1 ? cAlt[cell] : cNear[cell], j = Math.floor(e / nR);
-    const o = 4 * k;
+    const o = READING_FLOATS * k;
     readings[o] = rowAngleRad[j];
     readings[o + 1] = lookup.retardancesNm[e - j * nR];
     readings[o + 2] = matchConfidence({ distance: dPick, alternativeDistance: Math.min(dZero, dOther) } as LookupMatch);
     // Masked: sample-free (with a known retardance band) or read below the floor (the float32 retardance, as stored).
     readings[o + 3] = (band ? floorNm > 0 && dZero <= Math.max(dPick, freeRadius) : readings[o + 1] < floorNm) ? 1 : 0;
+    // Of the float32 angle, as the order statistics would make them from the field's angles.
+    readings[o + 4] = Math.cos(2 * readings[o]); readings[o + 5] = Math.sin(2 * readings[o]);
   };
   // The pixels a block at a time in the optics kernel (src/wasm/opticsKernel.as.ts): plateCells gives each pixel's
   // sub-cell and lists those met for the first time, which are read here; plateWrite gives every pixel its sub-cell's reading.
   const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PLATE_BLOCK_PX);
   const rgbAt = mem.reserve(12 * B), subsAt = mem.reserve(4 * B), clipAt = mem.reserve(B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(8);
-  const outAt = [0, 1, 2].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
+  const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
   const levelsAt = img.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, indexAt = mem.reserve(4 * nSub);
   let capacity = 4096;
-  const readingsAt = mem.reserve(16 * capacity);
+  const readingsAt = mem.reserve(4 * READING_FLOATS * capacity);
   mem.commit();
   if (levelsAt) mem.i32(levelsAt, 4097).set(linearLevelTable(subBits));
   mem.i32(indexAt, nSub).fill(-1);
@@ -209,11 +215,11 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
       if (nRead + nFresh > capacity) {
         // The readings are laid out last: they grow in place.
         const more = Math.max(capacity, nRead + nFresh - capacity);
-        mem.reserve(16 * more);
+        mem.reserve(4 * READING_FLOATS * more);
         capacity += more;
         mem.commit();
       }
-      const fresh = mem.i32(freshAt, nFresh), index = mem.i32(indexAt, nSub), readings = mem.f32(readingsAt, 4 * capacity);
+      const fresh = mem.i32(freshAt, nFresh), index = mem.i32(indexAt, nSub), readings = mem.f32(readingsAt, READING_FLOATS * capacity);
       for (let f = 0; f < nFresh; f++) {
         readSub(fresh[f], readings, nRead);
         index[fresh[f]] = nRead++;
@@ -221,9 +227,9 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     }
     const [satBefore, invBefore] = counts;
     counts.set(mem.i32(countsAt, 2));
-    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], maskAt), unusable = counts[0] - satBefore + counts[1] - invBefore;
+    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt), unusable = counts[0] - satBefore + counts[1] - invBefore;
     belowFloor += masked;
-    angleRad.set(mem.f32(outAt[0], len), i0); retardanceNm.set(mem.f32(outAt[1], len), i0); confidence.set(mem.f32(outAt[2], len), i0);
+    [angleRad, retardanceNm, confidence, cos2, sin2].forEach((a, j) => a.set(mem.f32(outAt[j], len), i0));
     // Mask and clipped flags only where the block has some (the arrays' untouched pages take no memory).
     if (masked + unusable < len) mask.set(mem.u8(maskAt, len), i0);
     if (counts[0] > satBefore) clipped.set(mem.u8(clipAt, len), i0);
@@ -236,7 +242,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   if (saturated > 0) warnings.push(`${saturated} pixels at full scale (clipped) were masked (${((100 * saturated) / n).toFixed(2)} %)`);
   if (invalid > 0) warnings.push(`${invalid} pixels with values outside [0, 1] were masked`);
   const field: OrientationField = {
-    width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm, clipped,
+    width: img.width, height: img.height, angleRad, confidence, mask, retardanceNm, clipped, cos2, sin2,
     method: 'plate',
     ambiguity: mirror !== null ? 'mirror-about-compensator' : 'none',
     ambiguityAxisDeg: mirror !== null ? mirror : undefined,

@@ -249,19 +249,22 @@ export function plateCells(r: usize, g: usize, b: usize, n: i32, bits: i32, full
 
 /**
  * The plate reading's second pass: each usable pixel's reading from its sub-cell's entry k = index[sub] in readings
- * (4 float32s: angle, retardance, confidence, 1 when masked) into angle, retardance, confidence, and mask 1 unless
- * the entry is masked; pixels not usable get 0 everywhere. Returns how many usable pixels were masked.
+ * (6 float32s: angle, retardance, confidence, 1 when masked, cos 2 theta, sin 2 theta) into angle, retardance,
+ * confidence, cos2, sin2, and mask 1 unless the entry is masked; pixels not usable get 0 everywhere but cos2 (1: the
+ * doubled angle of angle 0). Returns how many usable pixels were masked.
  */
-export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, angle: usize, retardance: usize, confidence: usize, mask: usize): i32 {
+export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize): i32 {
   let masked = 0;
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2, sub = load<i32>(subs + o);
     if (sub < 0) {
-      store<f32>(angle + o, 0); store<f32>(retardance + o, 0); store<f32>(confidence + o, 0); store<u8>(mask + <usize>t, 0);
+      store<f32>(angle + o, 0); store<f32>(retardance + o, 0); store<f32>(confidence + o, 0); store<f32>(cos2 + o, 1); store<f32>(sin2 + o, 0);
+      store<u8>(mask + <usize>t, 0);
       continue;
     }
-    const e = readings + (<usize>load<i32>(index + (<usize>sub << 2)) << 4);
+    const e = readings + <usize>load<i32>(index + (<usize>sub << 2)) * 24;
     store<f32>(angle + o, load<f32>(e)); store<f32>(retardance + o, load<f32>(e, 4)); store<f32>(confidence + o, load<f32>(e, 8));
+    store<f32>(cos2 + o, load<f32>(e, 16)); store<f32>(sin2 + o, load<f32>(e, 20));
     const off = load<f32>(e, 12) == 1;
     masked += <i32>off;
     store<u8>(mask + <usize>t, off ? 0 : 1);

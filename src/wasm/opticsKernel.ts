@@ -9,7 +9,7 @@ export interface OpticsKernelExports {
   fitFour(i0: number, i1: number, i2: number, i3: number, dark: number, flat: number, flatMean: number, clip: number, n: number, c: number,
     angle: number, amplitude: number, residual: number, bg: number, confidence: number, cos2: number, sin2: number, mask: number, sums: number, counts: number): void;
   plateCells(r: number, g: number, b: number, n: number, bits: number, full: number, levels: number, subs: number, clip: number, index: number, fresh: number, counts: number): number;
-  plateWrite(subs: number, n: number, index: number, readings: number, angle: number, retardance: number, confidence: number, mask: number): number;
+  plateWrite(subs: number, n: number, index: number, readings: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
   pairCells(ra: number, ga: number, ba: number, rb: number, gb: number, bb: number, n: number, bits: number, full: number, levelsA: number, levelsB: number,
     clip: number, table: number, shift: number, cache: number, hits: number, cellsB: number, fresh: number, counts: number): number;
   pairRehash(from: number, fromShift: number, to: number, toShift: number): void;

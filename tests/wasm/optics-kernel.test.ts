@@ -114,7 +114,7 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
   it('gives each pixel its cell round((2^bits - 1) v) per sRGB-encoded channel, lists new cells once, and writes their readings', () => {
     const k = opticsKernel(), mem = new OpticsLayout(k), n = 6, bits = 3, nSub = 1 << (3 * bits);
     const r = mem.reserve(32), g = mem.reserve(32), b = mem.reserve(32), subs = mem.reserve(32), clip = mem.reserve(16), index = mem.reserve(4 * nSub);
-    const fresh = mem.reserve(32), counts = mem.reserve(8), readings = mem.reserve(64), out = [0, 1, 2].map(() => mem.reserve(32)), mask = mem.reserve(16);
+    const fresh = mem.reserve(32), counts = mem.reserve(8), readings = mem.reserve(64), out = [0, 1, 2, 3, 4].map(() => mem.reserve(32)), mask = mem.reserve(16);
     mem.commit();
     // Pixels: two of one colour, one other, one at full scale, one NaN, one negative.
     mem.f32(r, n).set([0.5, 0.5, 0.1, 0.9995, NaN, -0.1]); mem.f32(g, n).set([0.2, 0.2, 1 / 7, 0.2, 0.2, 0.2]); mem.f32(b, n).set([0.9, 0.9, 0, 0.2, 0.2, 0.2]);
@@ -127,13 +127,16 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
     expect(Array.from(mem.i32(fresh, 2))).toEqual([cellA, cellB]);
     expect(Array.from(mem.i32(counts, 2))).toEqual([1, 2]); // one at full scale, two not usable otherwise
     expect(Array.from(mem.u8(clip, n))).toEqual([0, 0, 0, 1, 0, 0]);
-    // Readings: entry 0 for cell A (angle 0.5, 300 nm, confidence 0.8, kept), entry 1 for cell B (masked).
+    // Readings: entry 0 for cell A (angle 0.5, 300 nm, confidence 0.8, kept, cos and sin of 1), entry 1 for cell B (masked).
     const ix = mem.i32(index, nSub); ix[cellA] = 0; ix[cellB] = 1;
-    mem.f32(readings, 8).set([0.5, 300, 0.8, 0, -0.25, 10, 0.1, 1]);
-    expect(k.plateWrite(subs, n, index, readings, out[0], out[1], out[2], mask)).toBe(1);
+    mem.f32(readings, 12).set([0.5, 300, 0.8, 0, 0.54, 0.84, -0.25, 10, 0.1, 1, 0.88, -0.48]);
+    expect(k.plateWrite(subs, n, index, readings, out[0], out[1], out[2], out[3], out[4], mask)).toBe(1);
     expect(Array.from(mem.f32(out[0], n))).toEqual([0.5, 0.5, -0.25, 0, 0, 0]);
     expect(Array.from(mem.f32(out[1], n))).toEqual([300, 300, 10, 0, 0, 0]);
     expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 0, 0, 0]);
+    // cos 2 theta and sin 2 theta from the entries; the doubled angle of angle 0 (1, 0) where not usable.
+    expect(Array.from(mem.f32(out[3], n))).toEqual([0.54, 0.54, 0.88, 1, 1, 1].map(Math.fround));
+    expect(Array.from(mem.f32(out[4], n))).toEqual([0.84, 0.84, -0.48, 0, 0, 0].map(Math.fround));
   });
 });
 
