@@ -215,13 +215,37 @@ export function fitFour(i0: usize, i1: usize, i2: usize, i3: usize, dark: usize,
  * The plate reading's first pass over n pixels (src/optics/plateReader.ts): each pixel's colour-cube sub-cell of
  * `bits` per channel on the sRGB-encoded scale (src/optics/pixels.ts, quantiseInto: round(v (2^bits - 1)) per
  * channel, or for linear data, levels != 0, the encoded level from the 4097-entry table at round(4096 v)) into subs,
- * -1 for a pixel not usable: a plane at or above `full` (clipped: clip[t] = 1, counts[0] + 1) or a value not finite or
- * below 0 (counts[1] + 1). Sub-cells met for the first time (index[sub] == -1) are set to -2 and listed in fresh;
+ * -1 for a pixel not usable: a plane at or above `full` (clipped: clip[t] = 1, counts[0] + 1; clip starts at 0) or a
+ * value not finite or below 0 (counts[1] + 1); without a level table four pixels at a time (cells4). Sub-cells met for the first time (index[sub] == -1) are set to -2 and listed in fresh;
  * returns how many were. float64 arithmetic, as quantiseInto's.
  */
 export function plateCells(r: usize, g: usize, b: usize, n: i32, bits: i32, full: f64, levels: usize, subs: usize, clip: usize, index: usize, fresh: usize, counts: usize): i32 {
   const top = <f64>((1 << bits) - 1), s2 = 2 * bits;
   let saturated = 0, invalid = 0, nFresh = 0;
+  if (!levels) {
+    // Without a level table: the sub-cells four pixels at a time (cells4, into subs; clip marked), then the new ones listed.
+    for (let t = 0; t < n; t += 4) {
+      const o = <usize>t << 2;
+      v128.store(subs + o, cells4(r, g, b, o, top, bits, full));
+      markClipped(clip, t, v128.and(over4(r, g, b, o, full), validLanes(t, n)));
+    }
+    for (let t = 0; t < n; t++) {
+      const sub = load<i32>(subs + (<usize>t << 2));
+      if (sub < 0) {
+        if (load<u8>(clip + <usize>t)) saturated++;
+        else invalid++;
+        continue;
+      }
+      const at = index + (<usize>sub << 2);
+      if (load<i32>(at) == -1) {
+        store<i32>(at, -2);
+        store<i32>(fresh + (<usize>nFresh << 2), sub);
+        nFresh++;
+      }
+    }
+    store<i32>(counts, load<i32>(counts) + saturated); store<i32>(counts, load<i32>(counts, 4) + invalid, 4);
+    return nFresh;
+  }
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2;
     const vr = <f64>load<f32>(r + o), vg = <f64>load<f32>(g + o), vb = <f64>load<f32>(b + o);
