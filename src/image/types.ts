@@ -22,7 +22,7 @@ export interface Image {
 /**
  * Most memory, in bytes, that decoding may take: the float planes (4 bytes per pixel and channel)
  * plus the decoder's own buffers, estimated from the header before any pixel buffer is allocated. It
- * keeps the whole decode of any file under 1 GB (goal of issue 12): 750 MB, plus the file itself (up
+ * keeps the whole decode of any file under 1 GB (README, "Speed"): 750 MB, plus the file itself (up
  * to 100 MB) and the program's own 80 MB or so. At 4 bytes per sample that is 187 MP of grey or
  * 62 MP of RGB (PNG, TIFF); JPEG needs about 27 bytes per RGB pixel while decoding, so 27 MP.
  */
@@ -30,7 +30,7 @@ export const MAX_DECODE_BYTES = 750_000_000;
 
 /**
  * The most pixels each command line analysis takes, so that the whole command stays within 1 GB as reading
- * does (issue 12): what an analysis holds beyond the decoded image grows with its pixels. From the peaks of whole
+ * does (1 GB for any file of 100 MB or less): what an analysis holds beyond the decoded image grows with its pixels. From the peaks of whole
  * processes on 16-bit grey TIFFs of 12, 24 and 50 MP (bytes per pixel, the file's own included): a held texture
  * field written as a float TIFF (--field-out) 48, fibre diameters 33, a micrometer reading 10; a channel profile
  * from the texture (the field lent to the wall-free recomputation, not copied) 41 on grey TIFFs and 50 on RGB

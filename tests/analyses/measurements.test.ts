@@ -51,8 +51,8 @@ describe('analyseMicrometer', () => {
 
   it('gives um/px with its uncertainty from the ruler period', () => {
     const c = analyseMicrometer(ruler, { divisionUm: 10 });
-    // Rendered period 18.7 px (fact of the rendering), 10 um divisions -> 10 / 18.7 = 0.534759 um/px; within 0.2 %, the
-    // calibration goal of issue 2
+    // Rendered period 18.7 px (fact of the rendering), 10 um divisions -> 10 / 18.7 = 0.534759 um/px; within 0.2 %, a
+    // calibration goal of this project (common practice, no source)
     expect(Math.abs(c.umPerPx / (10 / 18.7) - 1)).toBeLessThan(0.002);
     expect(c.uncertaintyUmPerPx).toBeCloseTo(c.uncertainty * c.umPerPx, 12);
     // lines rendered at 95 deg, reported wrapped to (-90, 90] as -85 (axial angles, src/common/angles.ts)

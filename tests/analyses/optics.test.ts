@@ -52,7 +52,7 @@ describe('analysePlate', () => {
   });
 
   it('warns, and says for how many pixels the mirror choice mattered, when the axis is away from the compensator', async () => {
-    // A retarder at +20 deg and its mirror +70 deg give the same colour (issue 3); against 0 deg they give
+    // A retarder at +20 deg and its mirror +70 deg give the same colour; against 0 deg they give
     // cos 40 = +0.77 and cos 140 = -0.77, so the choice matters for every sample pixel (x >= 10: 30 of 40 columns).
     const at20 = renderSampleImage(W, H, uniform(20, 200), resolveTrain(), { noiseSd: 0.002, seed: 6, camera: cam, name: 'at20.png' });
     const { result } = await analysePlate(at20, { sampleFree: background, compensatorNm: 550, axisDeg: 0, ...sampleOnly });
@@ -114,7 +114,7 @@ describe('analysePlate', () => {
 });
 
 describe('analysePlatePair', () => {
-  // -60 deg is the mirror of +150 = -30 deg about the +45 deg compensator axis: one image cannot tell them apart (issue 3).
+  // -60 deg is the mirror of +150 = -30 deg about the +45 deg compensator axis: one image cannot tell them apart.
   const t = resolveTrain();
   const a = renderSampleImage(W, H, uniform(-60, 250), t, { noiseSd: 0.002, seed: 4, camera: cam, name: 'a.png' });
   const b = renderSampleImage(W, H, uniform(-60, 250), turnedTrain(t, 45), { noiseSd: 0.002, seed: 5, camera: cam, name: 'b.png' });

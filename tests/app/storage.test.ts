@@ -271,8 +271,8 @@ describe('optical readings, micrometer calibrations and the session pixel size a
 
   it('a saved session gives back the same reading, calibration and pixel size', async () => {
     const { store, s, a, b, optics } = await sessionWithReadings();
-    // Rendered ruler period 16 px with 10 um divisions: 10 / 16 = 0.625 um/px (fact of the rendering); within 0.2 %, the
-    // calibration goal of issue 2
+    // Rendered ruler period 16 px with 10 um divisions: 10 / 16 = 0.625 um/px (fact of the rendering); within 0.2 %, a
+    // calibration goal of this project (common practice, no source)
     expect(Math.abs(micrometer.doc.umPerPx / 0.625 - 1)).toBeLessThan(0.002);
     const back = await store.load(s.id);
     expect(back?.work[a.id].micrometer).toEqual(micrometer);

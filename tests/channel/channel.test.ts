@@ -212,7 +212,7 @@ describe('findWalls', () => {
   it('puts a wall marked by a bright line 1 px wide, narrower than the blur, where the material\'s texture ends', async () => {
     // Outside each wall a 1 px line at 0.9, then dark 0.12; light falling by 30 % across the image. Blurred by
     // sigma 1 px the line's inner side (0.5 up to 0.9) and its outer side (0.9 down to 0.12) merge into one fall
-    // about 1.5 px beyond the inner edge, where the strips place the wall; the goal is within 1 px (issue 9).
+    // about 1.5 px beyond the inner edge, where the strips place the wall; the goal is within 1 px (npm run validate, "channel walls").
     const img = channelImage((p) => (p < 1 ? 0.9 : 0.12), (x) => 1.15 - (0.3 * x) / CW);
     const found = await findWalls(img);
     for (const e of edgeErrors(found.channel.walls)) expect(e).toBeLessThan(1);

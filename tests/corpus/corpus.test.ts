@@ -13,7 +13,7 @@ import { makeCorpus, type CorpusCase } from './makeCorpus.ts';
  * The hostile corpus (makeCorpus.ts) through every subcommand that reads images, in-process through
  * the CLI's main entry in a worker thread (captured stdout / stderr / exit status; the worker is
  * stopped when a run hangs), and the decompression bombs and a 100 MB file as whole processes with
- * their peak memory measured. The contract (README, "Command line"; goal of issue 12): exit 0 or 2,
+ * their peak memory measured. The contract (README, "Command line" and "Speed"): exit 0 or 2,
  * never 1 or a crash; a refusal is one plain line on stderr naming the file, with no JavaScript
  * error text; a damaged file is never analysed (exit 0 on a 'refuse' case fails); no run hangs; no
  * file takes the process past 1 GB.
@@ -37,7 +37,7 @@ const COMMANDS: [string, (f: string) => string[]][] = [
 /** JavaScript error names, engine messages and stack lines that must never reach a user. */
 const JS_TEXT = /RangeError|TypeError|ReferenceError|SyntaxError|EvalError|URIError|InternalError|Invalid typed array|Invalid array length|Cannot read prop|Cannot set prop|is not a function|is not defined|is not iterable|Maximum call stack|out of bounds|undefined|\[object |\bat .*:\d+:\d+|\n\s+at /;
 
-/** Peak memory allowed for one whole run on any file of 100 MB or less (goal of issue 12): 1 GB. */
+/** Peak memory allowed for one whole run on any file of 100 MB or less (README, "Speed"): 1 GB. */
 const MAX_RSS_BYTES = 1e9;
 /** A run that takes longer than this in the worker is a hang (the largest corpus file is 23 x 17 to 40 x 120 pixels). */
 const HANG_MS = 60_000;

@@ -6,7 +6,7 @@ import { fibreCoverage, renderFibres, trueWidthAt } from './render.ts';
 import type { RenderedFibre } from './render.ts';
 
 /**
- * Tolerance: max(0.3 px, 1 %) for each station and the mean. Issue 10's goal for the mean is max(0.2 px, 1 %), met by
+ * Tolerance: max(0.3 px, 1 %) for each station and the mean. The validation goal for the mean is max(0.2 px, 1 %), met by
  * the validation table (tests/validation/fibre.ts); here a single noisy station is allowed 0.1 px more (common
  * practice, no source).
  */

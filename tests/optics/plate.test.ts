@@ -42,7 +42,7 @@ describe('readPlate round trip (one compensator image, 3200 K, plate 550 nm at +
   };
 
   it('every pixel with confidence >= 0.5 is within 2 deg of the true orientation (mirror-reduced)', () => {
-    // Issue 3 round-trip requirement: within 2 deg where the physics allows; the confidence says where.
+    // Round trip: within 2 deg where the physics allows; the confidence says where.
     for (const { field } of runs) for (let i = 0; i < angles.length; i++) for (let j = 0; j < rets.length; j++) {
       expect(blockStats(field, i, j).worstHigh).toBeLessThanOrEqual(2 + 1e-4); // 1e-4: Float32 storage of the angle
     }
@@ -162,7 +162,7 @@ describe('mirror choice', () => {
   });
 
   it('mirrorChoiceStats: free of the mirror choice against the compensator axis, matters elsewhere', () => {
-    // Issue 3: cos 2 delta is even, so S against the compensator axis is the same for a rod and its mirror; against 0 deg, theta = 10 vs 80 differ.
+    // cos 2 delta is even, so S against the compensator axis is the same for a rod and its mirror; against 0 deg, theta = 10 vs 80 differ.
     const f = field([10, 20, 44.5, -30]);
     expect(mirrorChoiceStats(f, 45)).toEqual({ mattersFraction: 0, mirrorFree: true, n: 4 });
     expect(mirrorChoiceStats(f, -45).mirrorFree).toBe(true);
@@ -220,7 +220,7 @@ describe('readPlate with a known sample retardance (sampleRetardanceNm)', () => 
   const cos2 = (a: number) => Math.abs(Math.cos(2 * a * DEG));
 
   it('reads every pixel within 2 deg (mirror-reduced) where the angle is defined: exact band, and the default 10 % band', () => {
-    // Issue 3 round-trip requirement: within 2 deg where the physics allows (1e-4: Float32 storage of the angle). Known exactly:
+    // Round trip: within 2 deg where the physics allows (1e-4: Float32 storage of the angle). Known exactly:
     // wherever |cos 2 theta| >= 0.5. A band of +-t Gamma itself leaves sin 2 theta uncertain by t sin 2 theta, i.e. the angle by
     // (t / 2) |tan 2 theta| rad (first order, differentiating the closed form): required only where that is at most 2 deg.
     for (const { tol, R, stats } of cases) for (const b of stats) {

@@ -51,7 +51,7 @@ describe('readPlatePair round trip', () => {
   };
 
   it('reads the full orientation within 2 deg for 50-600 nm', () => {
-    // Issue 3 round trip (our own renderer; outside images: tests/optics/reference-readers.test.ts); two images give
+    // Round trip (our own renderer; outside images: tests/optics/reference-readers.test.ts); two images give
     // theta over 180 deg (the closed form above has no mirror ambiguity).
     for (let i = 0; i < angles.length; i++) for (let j = 0; j < rets.length; j++) {
       if (rets[j] >= 50) expect(block(i, j).maxAngleErr).toBeLessThanOrEqual(2 + 1e-4); // 1e-4: Float32 storage of the angle

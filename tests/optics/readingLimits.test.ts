@@ -1,5 +1,5 @@
 /**
- * The optical readings refuse an image larger than they read within the program's memory limit (issue 12) with one
+ * The optical readings refuse an image larger than they read within the program's memory limit (1 GB for any file of 100 MB or less) with one
  * plain InputError naming the image's size and the limit, before they take any memory for the reading: the images
  * here are headers only (no pixel planes), so a reading that went on would fail on the missing planes instead.
  */

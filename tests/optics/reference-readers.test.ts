@@ -45,7 +45,7 @@ describe('readPlatePair on numpy-rendered image pairs', () => {
   })));
 
   it('reads the full orientation within 2 deg wherever the two colours determine it to 2 deg', () => {
-    // Requirement (issue 3): within 2 deg where the physics allows. "Allows" is the script's map: the largest angle
+    // Requirement: within 2 deg where the physics allows. "Allows" is the script's map: the largest angle
     // error among all readings that fit both colours within twice the pixel noise (CIE76). Median pixel of each block.
     const determined = blocks.filter((b) => b.undetermined <= 2);
     expect(determined.length).toBeGreaterThan(blocks.length / 2);

@@ -7,7 +7,7 @@
  *
  * Rows:
  * 1. width error per case: |mean width - truth| (truth = the rendered width at the fibre's stations), goal
- *    max(0.2 px, 1 % of the width) (issue 10 asks it from 6 px wide upward; a width the tool gives below 6 px
+ *    max(0.2 px, 1 % of the width) (the goal holds from 6 px wide upward; a width the tool gives below 6 px
  *    is held to it too). Below the resolvable width (D < 2 sigma) the tool must say "not determined" with an
  *    upper bound at or above the truth; "not determined" for a fibre of 2.5 sigma or more is a miss.
  * 2. coverage over seeded renderings of the 95 % intervals of the mean width in px, in um (with the pixel
@@ -29,7 +29,7 @@ import {
 } from './render/fibre.ts';
 
 const AREA = 'fibre';
-/** Goal of issue 10 for widths of 6 px and more. */
+/** The diameter goal for widths of 6 px and more. */
 export const widthGoalPx = (widthPx: number) => Math.max(0.2, 0.01 * widthPx);
 const COVERAGE_LO = 90;
 const COVERAGE_HI = 99;
