@@ -2,6 +2,7 @@ import { checkNumber, InputError } from '../common/index.ts';
 import { DEG, axialDiffDeg } from '../common/index.ts';
 import { mulMat3, type Vec3 } from './colorimetry.ts';
 import { matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
+import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
 
 /** Colour space of the match: CIELAB, or brightness-independent chroma (a*, b*) / (L* + 16). */
 export type MatchSpace = 'lab' | 'chroma';
@@ -83,7 +84,8 @@ const LOOKUP_CACHE_SIZE = 4;
 /**
  * Builds the lookup from the spectral Jones model (one pass over wavelengths per entry), or gives the one built
  * lately from the same model and options (the app and a run over several files read with the same train): the
- * same arrays, which callers read and never change.
+ * same arrays, which callers read and never change. A lamp's spectrum is summed in the optics kernel, whose memory it
+ * lays out afresh: build lookups before a reading lays out its own arrays there, never in the middle of one.
  */
 export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}): PlateLookup {
   const o = { ...LOOKUP_DEFAULTS, ...definedOnly(options) };
@@ -98,6 +100,36 @@ export function buildPlateLookup(model: ColourModel, options: LookupOptions = {}
   lookupCache.set(key, lookup);
   if (lookupCache.size > LOOKUP_CACHE_SIZE) lookupCache.delete(lookupCache.keys().next().value!);
   return lookup;
+}
+
+/**
+ * X, Y, Z of every lookup entry of a polychromatic train, by the optics kernel's lookupXyz (src/wasm/opticsKernel.as.ts),
+ * at 3 (j nRp + k) for angle row j and retardance k (nRp: nR made even). ch, sh: half-phase cos and sin per retardance
+ * and wavelength (k nL + i); the angle rows' axis from anglesDeg + slowOffset; polariser (px, py), compensator (when
+ * `comp`: axis cC, sC and half-phase cpH, spH), analyser (ax, ay).
+ */
+function kernelXyz(model: ColourModel, ch: Float64Array, sh: Float64Array, nR: number, nL: number, nA: number, anglesDeg: Float64Array, slowOffset: number,
+  px: number, py: number, comp: boolean, cC: number, sC: number, cpH: Float64Array, spH: Float64Array, ax: number, ay: number): Float64Array {
+  const nRp = nR + (nR % 2), k = opticsKernel(), mem = new OpticsLayout(k);
+  const at = {
+    ch: mem.reserve(8 * nL * nRp), sh: mem.reserve(8 * nL * nRp), rows: mem.reserve(32 * nA), cpH: mem.reserve(8 * nL), spH: mem.reserve(8 * nL),
+    wx: mem.reserve(8 * nL), wy: mem.reserve(8 * nL), wz: mem.reserve(8 * nL), out: mem.reserve(24 * nA * nRp),
+  };
+  mem.commit();
+  // Wavelength-major, so that two retardances sit side by side (the padding retardance's entries are not read).
+  const cT = mem.f64(at.ch, nL * nRp), sT = mem.f64(at.sh, nL * nRp);
+  cT.fill(0); sT.fill(0);
+  for (let kk = 0; kk < nR; kk++) for (let i = 0; i < nL; i++) { cT[i * nRp + kk] = ch[kk * nL + i]; sT[i * nRp + kk] = sh[kk * nL + i]; }
+  const rows = mem.f64(at.rows, 4 * nA);
+  for (let j = 0; j < nA; j++) {
+    const th = (anglesDeg[j] + slowOffset) * DEG;
+    const c = Math.cos(th), s = Math.sin(th);
+    rows.set([c, s, c * px + s * py, -s * px + c * py], 4 * j);
+  }
+  mem.f64(at.cpH, nL).set(cpH); mem.f64(at.spH, nL).set(spH);
+  mem.f64(at.wx, nL).set(model.wx); mem.f64(at.wy, nL).set(model.wy); mem.f64(at.wz, nL).set(model.wz);
+  k.lookupXyz(at.ch, at.sh, nRp, nL, nA, at.rows, comp ? 1 : 0, cC, sC, at.cpH, at.spH, ax, ay, at.wx, at.wy, at.wz, at.out);
+  return mem.f64(at.out, 3 * nA * nRp).slice();
 }
 
 /** buildPlateLookup's work: the lookup of the model for options `o` (defaults filled in). */
@@ -131,13 +163,19 @@ function buildLookup(model: ColourModel, o: typeof LOOKUP_DEFAULTS & LookupOptio
   const coords = new Float32Array(nA * nR * dims), linearRgb = new Float32Array(nA * nR * 3);
   const slowOffset = o.birefringenceSign === -1 ? 90 : 0;
   const mono = t.monochromeNm !== undefined;
+  // X, Y, Z of every entry: for a lamp's spectrum in the optics kernel (lookupXyz, the same operations as below).
+  const xyz = mono ? null : kernelXyz(model, ch, sh, nR, nL, nA, anglesDeg, slowOffset, px, py, comp !== null, cC, sC, cpH, spH, ax, ay);
+  const nRp = nR + (nR % 2);
   for (let j = 0; j < nA; j++) {
     const th = (anglesDeg[j] + slowOffset) * DEG;
     const c = Math.cos(th), s = Math.sin(th);
     const e1 = c * px + s * py, e2 = -s * px + c * py; // polarised light in the sample's axes (real)
     for (let k = 0; k < nR; k++) {
       let X = 0, Y = 0, Z = 0;
-      for (let i = 0; i < nL; i++) {
+      if (xyz) {
+        const q = 3 * (j * nRp + k);
+        X = xyz[q]; Y = xyz[q + 1]; Z = xyz[q + 2];
+      } else for (let i = 0; i < nL; i++) {
         const hc = ch[k * nL + i], hs = sh[k * nL + i];
         // Sample: axis 1 * (hc + i hs), axis 2 * (hc - i hs), back to x/y.
         const p1r = e1 * hc, p1i = e1 * hs, p2r = e2 * hc, p2i = -e2 * hs;
@@ -150,8 +188,7 @@ function buildLookup(model: ColourModel, o: typeof LOOKUP_DEFAULTS & LookupOptio
         }
         const re = ax * xr + ay * yr, im = ax * xi + ay * yi;
         const tr = re * re + im * im;
-        if (mono) { X = model.whiteXyz[0] * tr; Y = model.whiteXyz[1] * tr; Z = model.whiteXyz[2] * tr; }
-        else { X += model.wx[i] * tr; Y += model.wy[i] * tr; Z += model.wz[i] * tr; }
+        X = model.whiteXyz[0] * tr; Y = model.whiteXyz[1] * tr; Z = model.whiteXyz[2] * tr;
       }
       const rgb = mulMat3(model.xyzToCamera, [X, Y, Z]);
       const idx = j * nR + k;

@@ -603,6 +603,52 @@ export function pairRead(C: usize, D: usize, es: i32, nA: i32, nR: i32, stride: 
 }
 
 /**
+ * X, Y, Z of the plate lookup's entries (src/optics/lookupTable.ts, buildPlateLookup) for a polychromatic train, two
+ * retardances at a time in float64 lanes: the same float64 operations in the same order as the TypeScript's loop.
+ * ch, sh: the sample's half-phase cos and sin, nL rows (wavelengths) of nRp (even) retardances; rows: per angle row
+ * c, s (the sample axis) and e1, e2 (the polarised light in its axes), 4 float64s; comp != 0 with a compensator of
+ * axis (cC, sC) and half-phase cos, sin cpH, spH (nL each); analyser (ax, ay); weights wx, wy, wz (nL each). Writes
+ * X, Y, Z of entry (j, k) at out + 24 (j nRp + k).
+ */
+export function lookupXyz(ch: usize, sh: usize, nRp: i32, nL: i32, nA: i32, rows: usize, comp: i32, cC: f64, sC: f64, cpH: usize, spH: usize,
+  ax: f64, ay: f64, wx: usize, wy: usize, wz: usize, out: usize): void {
+  const CC = f64x2.splat(cC), SC = f64x2.splat(sC), NSC = f64x2.splat(-sC), AX = f64x2.splat(ax), AY = f64x2.splat(ay);
+  for (let j = 0; j < nA; j++) {
+    const rj = rows + (<usize>j << 5);
+    const c = f64x2.splat(load<f64>(rj)), s = f64x2.splat(load<f64>(rj, 8)), e1 = f64x2.splat(load<f64>(rj, 16)), e2 = f64x2.splat(load<f64>(rj, 24));
+    const ne2 = f64x2.splat(-load<f64>(rj, 24));
+    for (let k = 0; k < nRp; k += 2) {
+      let X = f64x2.splat(0), Y = X, Z = X;
+      for (let i = 0; i < nL; i++) {
+        const at = (<usize>(i * nRp + k)) << 3;
+        const hc = v128.load(ch + at), hs = v128.load(sh + at);
+        const p1r = f64x2.mul(e1, hc), p1i = f64x2.mul(e1, hs), p2r = f64x2.mul(e2, hc), p2i = f64x2.mul(ne2, hs);
+        let xr = f64x2.sub(f64x2.mul(c, p1r), f64x2.mul(s, p2r)), xi = f64x2.sub(f64x2.mul(c, p1i), f64x2.mul(s, p2i));
+        let yr = f64x2.add(f64x2.mul(s, p1r), f64x2.mul(c, p2r)), yi = f64x2.add(f64x2.mul(s, p1i), f64x2.mul(c, p2i));
+        if (comp) {
+          const r1 = f64x2.add(f64x2.mul(CC, xr), f64x2.mul(SC, yr)), i1 = f64x2.add(f64x2.mul(CC, xi), f64x2.mul(SC, yi));
+          const r2 = f64x2.add(f64x2.mul(NSC, xr), f64x2.mul(CC, yr)), i2 = f64x2.add(f64x2.mul(NSC, xi), f64x2.mul(CC, yi));
+          const pc = f64x2.splat(load<f64>(cpH + (<usize>i << 3))), ps = f64x2.splat(load<f64>(spH + (<usize>i << 3)));
+          const q1r = f64x2.sub(f64x2.mul(r1, pc), f64x2.mul(i1, ps)), q1i = f64x2.add(f64x2.mul(r1, ps), f64x2.mul(i1, pc));
+          const q2r = f64x2.add(f64x2.mul(r2, pc), f64x2.mul(i2, ps)), q2i = f64x2.sub(f64x2.mul(i2, pc), f64x2.mul(r2, ps));
+          xr = f64x2.sub(f64x2.mul(CC, q1r), f64x2.mul(SC, q2r)); xi = f64x2.sub(f64x2.mul(CC, q1i), f64x2.mul(SC, q2i));
+          yr = f64x2.add(f64x2.mul(SC, q1r), f64x2.mul(CC, q2r)); yi = f64x2.add(f64x2.mul(SC, q1i), f64x2.mul(CC, q2i));
+        }
+        const re = f64x2.add(f64x2.mul(AX, xr), f64x2.mul(AY, yr)), im = f64x2.add(f64x2.mul(AX, xi), f64x2.mul(AY, yi));
+        const tr = f64x2.add(f64x2.mul(re, re), f64x2.mul(im, im));
+        const w = <usize>i << 3;
+        X = f64x2.add(X, f64x2.mul(f64x2.splat(load<f64>(wx + w)), tr));
+        Y = f64x2.add(Y, f64x2.mul(f64x2.splat(load<f64>(wy + w)), tr));
+        Z = f64x2.add(Z, f64x2.mul(f64x2.splat(load<f64>(wz + w)), tr));
+      }
+      const o = out + (<usize>(j * nRp + k)) * 24;
+      store<f64>(o, f64x2.extract_lane(X, 0)); store<f64>(o, f64x2.extract_lane(Y, 0), 8); store<f64>(o, f64x2.extract_lane(Z, 0), 16);
+      store<f64>(o, f64x2.extract_lane(X, 1), 24); store<f64>(o, f64x2.extract_lane(Y, 1), 32); store<f64>(o, f64x2.extract_lane(Z, 1), 40);
+    }
+  }
+}
+
+/**
  * Unsigned sort key of a float32 bit pattern (src/optics/ranks.ts, keyOf): every bit flipped for a negative value,
  * the sign bit for a positive one, so that keys sort as the values do.
  */

@@ -14,6 +14,8 @@ export interface OpticsKernelExports {
     clip: number, table: number, shift: number, cache: number, hits: number, cellsB: number, fresh: number, counts: number): number;
   pairRehash(from: number, fromShift: number, to: number, toShift: number): void;
   pairWrite(hits: number, n: number, table: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
+  lookupXyz(ch: number, sh: number, nRp: number, nL: number, nA: number, rows: number, comp: number, cC: number, sC: number, cpH: number, spH: number,
+    ax: number, ay: number, wx: number, wy: number, wz: number, out: number): void;
   rankHigh(bits: number, mask: number, minOf: number, min: number, n: number, high: number): number;
   rankLow(bits: number, mask: number, minOf: number, min: number, n: number, slot: number, low: number): void;
   cellRows(C: number, es: number, nR: number, nRows: number, stride: number, coarse: number, nCp: number, boxes: number, nBoxes: number, nBp: number, boxEntries: number,
