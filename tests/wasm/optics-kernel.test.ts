@@ -217,6 +217,50 @@ describe('the optics kernel: the plate pair', () => {
   });
 });
 
+describe('the optics kernel: the lookup\'s spectral sums', () => {
+  /**
+   * Runs lookupXyz for polariser 0 deg and analyser 90 deg (crossed), sample axes `thetasDeg`, retardances `retsNm`,
+   * wavelengths `lamNm` with weights (wx, wy, wz), and a compensator of `compNm` at 45 deg (or none): X, Y, Z per entry.
+   */
+  const run = (thetasDeg: number[], retsNm: number[], lamNm: number[], w: number[][], compNm: number | null) => {
+    const k = opticsKernel(), mem = new OpticsLayout(k), nR = retsNm.length, nRp = nR + (nR % 2), nL = lamNm.length, nA = thetasDeg.length;
+    const at = { ch: mem.reserve(8 * nL * nRp), sh: mem.reserve(8 * nL * nRp), rows: mem.reserve(32 * nA), cp: mem.reserve(8 * nL), sp: mem.reserve(8 * nL),
+      wx: mem.reserve(8 * nL), wy: mem.reserve(8 * nL), wz: mem.reserve(8 * nL), out: mem.reserve(24 * nA * nRp) };
+    mem.commit();
+    const ch = mem.f64(at.ch, nL * nRp), sh = mem.f64(at.sh, nL * nRp);
+    retsNm.forEach((g, kk) => lamNm.forEach((l, i) => { ch[i * nRp + kk] = Math.cos((Math.PI * g) / l); sh[i * nRp + kk] = Math.sin((Math.PI * g) / l); }));
+    // Polarised light along x: in the sample's axes (cos theta, -sin theta).
+    mem.f64(at.rows, 4 * nA).set(thetasDeg.flatMap((t) => [Math.cos(t * DEG), Math.sin(t * DEG), Math.cos(t * DEG), -Math.sin(t * DEG)]));
+    mem.f64(at.cp, nL).set(lamNm.map((l) => (compNm === null ? 1 : Math.cos((Math.PI * compNm) / l))));
+    mem.f64(at.sp, nL).set(lamNm.map((l) => (compNm === null ? 0 : Math.sin((Math.PI * compNm) / l))));
+    [at.wx, at.wy, at.wz].forEach((a, d) => mem.f64(a, nL).set(w[d]));
+    k.lookupXyz(at.ch, at.sh, nRp, nL, nA, at.rows, compNm === null ? 0 : 1, Math.SQRT1_2, Math.SQRT1_2, at.cp, at.sp, 0, 1, at.wx, at.wy, at.wz, at.out);
+    const out = mem.f64(at.out, 3 * nA * nRp);
+    return (j: number, kk: number) => [0, 1, 2].map((d) => out[3 * (j * nRp + kk) + d]);
+  };
+  const lam = [450, 550, 650], w = [[0.2, 0.3, 0.5], [0.1, 0.8, 0.1], [0.7, 0.2, 0.1]];
+
+  it('gives the crossed-polariser transmission sin^2(2 theta) sin^2(pi Gamma / lambda) summed with the weights (no compensator)', () => {
+    // Closed form for a linear retarder between crossed polarisers (Hecht, Optics, chapter 8, polarisation; section from memory).
+    const thetas = [0, 10, 30, 45, 80], rets = [0, 100, 275, 540, 801];
+    const xyz = run(thetas, rets, lam, w, null);
+    thetas.forEach((t, j) => rets.forEach((g, kk) => {
+      const want = [0, 1, 2].map((d) => lam.reduce((s, l, i) => s + w[d][i] * Math.sin(2 * t * DEG) ** 2 * Math.sin((Math.PI * g) / l) ** 2, 0));
+      xyz(j, kk).forEach((v, d) => expect(v, `theta ${t}, ${g} nm`).toBeCloseTo(want[d], 12));
+    }));
+  });
+
+  it('gives the compensator\'s own transmission sin^2(pi Gamma_c / lambda) where the sample lies along the polariser', () => {
+    // A retarder along the polariser leaves the light unchanged; the compensator at 45 deg between crossed
+    // polarisers then passes sin^2(pi Gamma_c / lambda) (the same closed form at 45 deg).
+    const xyz = run([0], [0, 120, 333], lam, w, 550);
+    [0, 1, 2].forEach((kk) => {
+      const want = [0, 1, 2].map((d) => lam.reduce((s, l, i) => s + w[d][i] * Math.sin((Math.PI * 550) / l) ** 2, 0));
+      xyz(0, kk).forEach((v, d) => expect(v).toBeCloseTo(want[d], 12));
+    });
+  });
+});
+
 describe('the committed optics kernel binary', () => {
   it('is what the AssemblyScript source compiles to (run npm run wasm after editing it)', async () => {
     const build = await import('../../bin/build-wasm.ts');
