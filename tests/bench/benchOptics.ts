@@ -6,7 +6,7 @@ import { renderSampleImage, resolveTrain, turnedTrain, type SampleRetarder } fro
 /** One line of the bench's closing table: a figure beside its goal. */
 export interface GoalRow { what: string; value: string; goal: string; met: boolean }
 
-/** Goals of issue 14 for reading 12 MP images: one compensator image, the two-image reading, an angle series. */
+/** Goals for reading 12 MP images (README, "Speed"): one compensator image, the two-image reading, an angle series. */
 const GOALS_S = { plate: 0.6, pair: 1.5, series: 1.0 };
 
 const W = 4000, H = 3000;
