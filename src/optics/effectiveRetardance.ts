@@ -7,6 +7,10 @@ import type { Vec3 } from './colorimetry.ts';
 /** Entries per run whose Lab bounding box lets EffectiveRetardanceReader.read skip the run. */
 const READER_BOX_ENTRIES = 16;
 
+/** Readers kept by EffectiveRetardanceReader.of: both images' of a plate pair, twice. */
+const READER_CACHE_SIZE = 4;
+const readerCache = new Map<string, EffectiveRetardanceReader>();
+
 /**
  * First-order plate reading, Gamma_eff = Gamma_p + Gamma cos 2(theta - axis): the nearest colour (CIELAB) in the
  * sequence of one retarder at 45 deg between the train's polars, for Gamma_eff from loNm to hiNm.
@@ -17,6 +21,20 @@ export class EffectiveRetardanceReader {
   private readonly boxes: Float32Array;
   /** Scratch: each run's squared distance bound for the colour being read. */
   private readonly bounds: Float64Array;
+  /**
+   * The reader for the model's train and range, made once and kept for the next reading with the same optics (the
+   * readers made lately, at most READER_CACHE_SIZE; a reader holds no state between reads).
+   */
+  static of(model: ColourModel, loNm: number, hiNm: number): EffectiveRetardanceReader {
+    const key = JSON.stringify([model.train, loNm, hiNm]);
+    let r = readerCache.get(key);
+    if (r) readerCache.delete(key);
+    else r = new EffectiveRetardanceReader(model, loNm, hiNm);
+    readerCache.set(key, r);
+    if (readerCache.size > READER_CACHE_SIZE) readerCache.delete(readerCache.keys().next().value!);
+    return r;
+  }
+
   constructor(model: ColourModel, private readonly loNm: number, hiNm: number, private readonly stepNm = 1) {
     const t = model.train;
     const plain = colourModel({ ...t, compensator: null });

@@ -98,8 +98,8 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   if (!calA && !options.camera) warnings.push('no sample-free area: exposure and white balance were taken as they are; give one (--sample-free x,y,w,h) for a calibrated reading');
   const gpA = trainA.compensator.retardanceNm, gpB = trainB.compensator!.retardanceNm;
   const modelA = colourModel(trainA), modelB = colourModel(trainB);
-  const readerA = new EffectiveRetardanceReader(modelA, Math.max(0, gpA - gmax), gpA + gmax);
-  const readerB = new EffectiveRetardanceReader(modelB, Math.max(0, gpB - gmax), gpB + gmax);
+  const readerA = EffectiveRetardanceReader.of(modelA, Math.max(0, gpA - gmax), gpA + gmax);
+  const readerB = EffectiveRetardanceReader.of(modelB, Math.max(0, gpB - gmax), gpB + gmax);
   const cellsA = new CellColours(calA?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerA);
   const cellsB = new CellColours(calB?.camera ?? options.camera ?? NEUTRAL_CAMERA, bits, readerB);
   const lutA = buildPlateLookup(modelA, { retardanceMaxNm: gmax, birefringenceSign: sign, fullRange: true });
