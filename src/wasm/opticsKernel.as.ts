@@ -22,19 +22,27 @@ function validLanes(t: i32, n: i32): v128 {
   return i32x4.lt_s(i32x4.add(i32x4.splat(t), laneIndex()), i32x4.splat(n));
 }
 
+/** 48 bytes of static memory where decode4 puts the table offsets of four values (16 bytes per slot 0, 1, 2). */
+const DECODE_SCRATCH: usize = memory.data(48, 16);
+
 /**
  * The 65536-entry decode table's values (sRGB to linear, fourAngle.ts's decodeTable) of four stored values: entry
- * round(65535 clamp(v, 0, 1)); NaN where v is NaN.
+ * round(65535 clamp(v, 0, 1)); NaN where v is NaN. The clamp by pseudo-minimum and pseudo-maximum (a NaN goes to 0;
+ * its entry is replaced by the NaN), and the entry floor(65535 c + 0.5) (c + 0.5 >= 0.5: the same as truncation) as
+ * the low bits of that float32 plus 2^23 (exact below 2^23); the four offsets go through DECODE_SCRATCH at `slot`
+ * and are read one lane at a time.
  */
 // @ts-ignore: decorator
 @inline
-function decode4(table: usize, v: v128): v128 {
-  const c = f32x4.min(f32x4.max(v, f32x4.splat(0)), f32x4.splat(1));
-  const k = i32x4.trunc_sat_f32x4_s(f32x4.add(f32x4.mul(c, f32x4.splat(65535)), f32x4.splat(0.5)));
-  let out = f32x4.splat(load<f32>(table + (<usize>i32x4.extract_lane(k, 0) << 2)));
-  out = f32x4.replace_lane(out, 1, load<f32>(table + (<usize>i32x4.extract_lane(k, 1) << 2)));
-  out = f32x4.replace_lane(out, 2, load<f32>(table + (<usize>i32x4.extract_lane(k, 2) << 2)));
-  out = f32x4.replace_lane(out, 3, load<f32>(table + (<usize>i32x4.extract_lane(k, 3) << 2)));
+function decode4(table: usize, v: v128, slot: usize): v128 {
+  const c = f32x4.pmin(f32x4.splat(1), f32x4.pmax(f32x4.splat(0), v));
+  const s = f32x4.floor(f32x4.add(f32x4.mul(c, f32x4.splat(65535)), f32x4.splat(0.5)));
+  const at = DECODE_SCRATCH + (slot << 4);
+  v128.store(at, i32x4.shl(i32x4.sub(f32x4.add(s, f32x4.splat(8388608)), f32x4.splat(8388608)), 2));
+  let out = v128.load32_zero(table + <usize>load<i32>(at));
+  out = v128.load32_lane(table + <usize>load<i32>(at, 4), out, 1);
+  out = v128.load32_lane(table + <usize>load<i32>(at, 8), out, 2);
+  out = v128.load32_lane(table + <usize>load<i32>(at, 12), out, 3);
   return v128.bitselect(out, v, f32x4.eq(v, v));
 }
 
@@ -64,7 +72,7 @@ export function intensityRgb(r: usize, g: usize, b: usize, n: i32, full: f32, ta
     const o = <usize>t << 2;
     let vr = v128.load(r + o), vg = v128.load(g + o), vb = v128.load(b + o);
     marked += markClipped(clip, t, v128.and(v128.or(v128.or(f32x4.ge(vr, F), f32x4.ge(vg, F)), f32x4.ge(vb, F)), validLanes(t, n)));
-    if (table) { vr = decode4(table, vr); vg = decode4(table, vg); vb = decode4(table, vb); }
+    if (table) { vr = decode4(table, vr, 0); vg = decode4(table, vg, 1); vb = decode4(table, vb, 2); }
     v128.store(out + o, f32x4.add(f32x4.add(f32x4.mul(wr, vr), f32x4.mul(wg, vg)), f32x4.mul(wb, vb)));
   }
   return marked;
@@ -77,7 +85,7 @@ export function intensityGrey(p: usize, n: i32, full: f32, table: usize, out: us
   for (let t = 0; t < n; t += 4) {
     const o = <usize>t << 2, v = v128.load(p + o);
     marked += markClipped(clip, t, v128.and(f32x4.ge(v, F), validLanes(t, n)));
-    v128.store(out + o, table ? decode4(table, v) : v);
+    v128.store(out + o, table ? decode4(table, v, 0) : v);
   }
   return marked;
 }
