@@ -318,12 +318,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   let lowAmp = 0;
   // The pixels masked here leave the confidence-weighted sums of cos 4 theta and sin 4 theta the fit made.
   const sums = Float64Array.of(out.sumCos4, out.sumSin4), limit = floor * ampRef;
-  for (let i = 0; i < n; i++) {
-    if (!mask[i] || !(amplitude[i] <= limit)) continue;
-    mask[i] = 0; lowAmp++;
-    const w = confidence[i];
-    if (w !== 0) { sums[0] -= w * Math.cos(4 * angleRad[i]); sums[1] -= w * Math.sin(4 * angleRad[i]); }
-  }
+  for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) lowAmp += maskLowAmplitude(mask, amplitude, confidence, angleRad, limit, sums, i0, Math.min(n, i0 + SERIES_BLOCK_PX));
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
   if (clippedCount) warnings.push(`${clippedCount} pixels at full scale (clipped) in an image were masked (${((100 * clippedCount) / n).toFixed(2)} %)`);
@@ -361,7 +356,9 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     if (usable > 0 && resolved + byNeighbours === usable) ambiguity = 'none';
     warnings.push(`the plate image decided the 90-deg choice in ${(100 * resolvedFraction).toFixed(1)} % of pixels${byNeighbours ? `, their neighbours' director in ${((100 * byNeighbours) / usable).toFixed(1)} % more` : ''}; the rest (slow axis near the polars, or too little retardance) keep the fit's value in [0, 90)`);
   }
-  for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
+  // Angles above 90 deg come from the plate's and the neighbours' turns by 90 deg, or from fitBlock's float64 angle
+  // just below 90 deg rounded up to float32; the kernel's (fitFour, four images) are float32 below 90 deg already.
+  if (options.plate || images.length !== 4) for (let i = 0; i < n; i++) if (angleRad[i] > Math.PI / 2) angleRad[i] -= Math.PI;
   let field: OrientationField = {
     width, height, angleRad, cos2, sin2, confidence, mask, clipped, method: 'angle-series', ambiguity, ambiguous: ambiguity === 'mod-90' ? ambiguous : undefined,
     pixelSizeUmPerPx: images[0].pixelSizeUmPerPx,
@@ -377,6 +374,22 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // mod-90 axis, a field about 90 deg (or any axis in (90, 180) deg) had its undecided pixels put 90 deg off.
   if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? decidedAxisDeg ?? mod90AxisOfSums(sums[0], sums[1]), true);
   return { field, amplitude, background, residual, resolvedFraction };
+}
+
+/**
+ * Masks the usable pixels in [i0, i1) whose amplitude is at most `limit` and takes their confidence x cos 4 theta and
+ * x sin 4 theta from sums[0] and sums[1], in pixel order; returns how many it masked. A run of pixels per call: a
+ * short loop the engine optimises whole.
+ */
+function maskLowAmplitude(mask: Uint8Array, amplitude: Float32Array, confidence: Float32Array, angleRad: Float32Array, limit: number, sums: Float64Array, i0: number, i1: number): number {
+  let masked = 0;
+  for (let i = i0; i < i1; i++) {
+    if (!mask[i] || !(amplitude[i] <= limit)) continue;
+    mask[i] = 0; masked++;
+    const w = confidence[i];
+    if (w !== 0) { sums[0] -= w * Math.cos(4 * angleRad[i]); sums[1] -= w * Math.sin(4 * angleRad[i]); }
+  }
+  return masked;
 }
 
 /** Side of the blocks whose decided pixels give an undecided pixel its neighbours' director (3 x 3 blocks around it), px. */

@@ -93,16 +93,17 @@ export function intensityGrey(p: usize, n: i32, full: f32, table: usize, out: us
 /**
  * atan2(y, x) of four lanes in float32: the octant reduction to t = min / max of |x|, |y|
  * in [0, 1], t > tan(pi/8) mapped to (t - 1) / (t + 1) (plus pi/4), and Cephes' atanf polynomial there (S. L.
- * Moshier, Cephes Math Library, atanf.c: relative error about 2e-7), then the octant undone.
+ * Moshier, Cephes Math Library, atanf.c: relative error about 2e-7), then the octant undone. x and y must be finite
+ * (|x| and |y| then order as numbers: their pseudo-minimum and pseudo-maximum are the minimum and maximum).
  */
 // @ts-ignore: decorator
 @inline
 function atan2x4(y: v128, x: v128): v128 {
   const ax = f32x4.abs(x), ay = f32x4.abs(y);
   const swap = f32x4.gt(ay, ax);
-  const most = f32x4.max(ax, ay);
+  const most = f32x4.pmax(ax, ay);
   // Both zero: t = 0, so that the result is +-0 or +-pi by the signs of the zeros, as atan2's.
-  const t = v128.andnot(f32x4.div(f32x4.min(ax, ay), most), f32x4.eq(most, f32x4.splat(0)));
+  const t = v128.andnot(f32x4.div(f32x4.pmin(ax, ay), most), f32x4.eq(most, f32x4.splat(0)));
   const big = f32x4.gt(t, f32x4.splat(0.4142135623730950));
   const u = v128.bitselect(f32x4.div(f32x4.sub(t, f32x4.splat(1)), f32x4.add(t, f32x4.splat(1))), t, big);
   const z = f32x4.mul(u, u);
@@ -176,6 +177,7 @@ export function fitFour(i0: usize, i1: usize, i2: usize, i3: usize, dark: usize,
     const zeroAmp = v128.and(read, f32x4.eq(h, zero));
     nZero = i32x4.sub(nZero, zeroAmp);
     const na4c = f32x4.neg(a4c), na4s = f32x4.neg(a4s);
+    // (Lanes not read, whose a4c or a4s may not be finite, are discarded below.)
     let th = f32x4.mul(f32x4.splat(0.25), atan2x4(na4s, na4c));
     th = f32x4.add(th, v128.and(f32x4.lt(th, zero), halfPi));
     // Rounded up to 90 deg, theta is taken as 0: 2 theta turns by 180 deg (below).
