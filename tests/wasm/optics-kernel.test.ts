@@ -108,6 +108,30 @@ describe('the optics kernel: linear intensity', () => {
     }
     expect(Array.from(mem.u8(clip, 8))).toEqual([0, 0, 0, 1, 1, 0, 0, 0]);
   });
+
+  it('reads the table entry round(65535 clamp(v, 0, 1)) of each value, also at the halfway points and ends, and keeps NaN', () => {
+    const k = opticsKernel(), mem = new OpticsLayout(k), n = 4096;
+    const p = mem.reserve(4 * n), clip = mem.reserve(n), table = mem.reserve(4 * 65536);
+    mem.commit();
+    // A table whose entry is its own index shows which entry each value read.
+    mem.f32(table, 65536).set(Float32Array.from({ length: 65536 }, (_, i) => i));
+    const v = new Float32Array(n);
+    const specials = [0, -0, -1e-30, -5, 1, 1.5, Infinity, -Infinity, NaN, 1e-45];
+    specials.forEach((x, t) => { v[t] = x; });
+    // Float32 values next to halfway points (j + 1/2) / 65535 between entries, and random values in [0, 1].
+    const up = (x: number, by: number) => { const f = new Float32Array([x]), u = new Int32Array(f.buffer); u[0] += by; return f[0]; };
+    for (let t = specials.length; t < 3000; t++) { const j = (t * 7919) % 65535; v[t] = up(Math.fround((j + 0.5) / 65535), (t % 5) - 2); }
+    for (let t = 3000; t < n; t++) v[t] = Math.random();
+    mem.f32(p, n).set(v); mem.u8(clip, n).fill(0);
+    k.intensityGrey(p, n, 2, table, p, clip);
+    const got = mem.f32(p, n);
+    for (let t = 0; t < n; t++) {
+      if (Number.isNaN(v[t])) { expect(got[t]).toBeNaN(); continue; }
+      // The entry by its definition: clamp to [0, 1], then 65535 c + 1/2 in float32 arithmetic, rounded down (derived).
+      const c = Math.min(1, Math.max(0, v[t]));
+      expect(got[t], `value ${v[t]}`).toBe(Math.floor(Math.fround(Math.fround(c * 65535) + 0.5)));
+    }
+  });
 });
 
 describe('the optics kernel: the plate reading\'s colour cells', () => {
