@@ -1,4 +1,4 @@
-import { checkNumber, InputError } from '../common/index.ts';
+import { checkNumber, InputError, takeFloat32 } from '../common/index.ts';
 import { DEG } from '../common/index.ts';
 import { makeImage, type Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
@@ -240,7 +240,7 @@ export function linearIntensityInto(img: Image, i0: number, out: Float32Array, c
 /** Linear intensity plane of a whole image (linearIntensityInto over every pixel; a linear grey image's own plane). */
 function linearIntensity(img: Image): Float32Array {
   if (img.channels === 1 && img.encoding === 'linear') return img.planes[0];
-  const out = new Float32Array(img.width * img.height);
+  const out = takeFloat32(img.width * img.height, false); // every value written
   linearIntensityInto(img, 0, out, null);
   return out;
 }
@@ -254,7 +254,7 @@ function linearIntensity(img: Image): Float32Array {
  */
 export function seriesIntensityImage(img: Image, markClipped = true): Image {
   if (img.channels === 1 && img.encoding === 'linear') return img;
-  const n = img.width * img.height, plane = new Float32Array(n), clipped = markClipped ? new Uint8Array(n) : null;
+  const n = img.width * img.height, plane = takeFloat32(n, false), clipped = markClipped ? new Uint8Array(n) : null;
   linearIntensityInto(img, 0, plane, clipped);
   if (clipped) for (let i = 0; i < n; i++) if (clipped[i]) plane[i] = 1;
   return makeImage({ ...img, channels: 1, planes: [plane], bitDepth: 32, encoding: 'linear' });
@@ -294,9 +294,12 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     flatMean = s / flat.length;
   }
   const n = width * height;
-  const angleRad = new Float32Array(n), confidence = new Float32Array(n), mask = new Uint8Array(n);
-  const amplitude = new Float32Array(n), residual = new Float32Array(n), cos2 = new Float32Array(n), sin2 = new Float32Array(n);
-  const background = options.keepBackground === false ? null : new Float32Array(n);
+  // The kernel's fit (four images) writes every pixel of these: arrays from the pool (their pages already touched)
+  // need not be zeroed first; fitBlock writes only the pixels it reads.
+  const take = () => takeFloat32(n, images.length !== 4);
+  const angleRad = take(), confidence = take(), mask = new Uint8Array(n);
+  const amplitude = take(), residual = take(), cos2 = take(), sin2 = take();
+  const background = options.keepBackground === false ? null : take();
   const out = { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2, sumCos4: 0, sumSin4: 0 };
   const fit = { P, cos4: anglesRad.map((a) => Math.cos(4 * a)), sin4: anglesRad.map((a) => Math.sin(4 * a)), dark, flat, flatMean };
   const counts = { flatBad: 0, nonFinite: 0, clipped: 0 };
