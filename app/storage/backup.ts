@@ -22,8 +22,13 @@ export function base64ToBytes(b64: string): Uint8Array {
   return out;
 }
 
-/** Deep copy with every Blob replaced by { $blob: { type, base64 } }. */
+/**
+ * Deep copy with every Blob replaced by { $blob: { type, base64 } } and every number JSON cannot hold (NaN, the
+ * infinities: a withheld number is NaN in a stored result) by { $number: 'NaN' | 'Infinity' | '-Infinity' }, which
+ * JSON.stringify would otherwise write as null.
+ */
 async function toJsonSafe(v: unknown): Promise<unknown> {
+  if (typeof v === 'number' && !Number.isFinite(v)) return { $number: String(v) };
   if (v instanceof Blob) return { $blob: { type: v.type, base64: bytesToBase64(new Uint8Array(await v.arrayBuffer())) } };
   if (Array.isArray(v)) return Promise.all(v.map(toJsonSafe));
   if (typeof v === 'object' && v !== null) {
@@ -37,6 +42,8 @@ async function toJsonSafe(v: unknown): Promise<unknown> {
 function fromJsonSafe(v: unknown): unknown {
   if (Array.isArray(v)) return v.map(fromJsonSafe);
   if (typeof v === 'object' && v !== null) {
+    const num = (v as { $number?: unknown }).$number;
+    if (num === 'NaN' || num === 'Infinity' || num === '-Infinity') return Number(num);
     const b = (v as { $blob?: { type?: unknown; base64?: unknown } }).$blob;
     if (b && typeof b.base64 === 'string') return new Blob([base64ToBytes(b.base64) as Uint8Array<ArrayBuffer>], { type: typeof b.type === 'string' ? b.type : '' });
     return Object.fromEntries(Object.entries(v).map(([k, x]) => [k, fromJsonSafe(x)]));

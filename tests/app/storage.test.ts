@@ -283,6 +283,22 @@ describe('optical readings, micrometer calibrations and the session pixel size a
     expect(await store.aside()).toEqual([]);
   });
 
+  it('a backup keeps withheld numbers (NaN) and infinities as they were, not as null', async () => {
+    const { store, s, optics } = await sessionWithReadings();
+    const first = Object.keys((await store.load(s.id))!.work)[0];
+    const odd = { ...optics, result: { ...optics.result, order2D: NaN, order2DCiLow: -Infinity, order2DCiHigh: Infinity } };
+    const saved = (await store.load(s.id))!;
+    await store.save({ ...saved, work: { ...saved.work, [first]: { ...saved.work[first], optics: odd } } });
+    const text = await exportBackup(store);
+    expect(text).not.toMatch(/"order2D":null/);
+    const store2 = createSessionStore(memoryKv(), counter());
+    await importBackup(store2, text, (() => { let n = 0; return () => `c${++n}`; })());
+    const back = (await store2.load((await store2.list()).sessions[0].id))!;
+    const r = Object.values(back.work).map((w) => w.optics?.result).find((x) => x && Number.isNaN(x.order2D));
+    expect(r?.order2DCiLow).toBe(-Infinity);
+    expect(r?.order2DCiHigh).toBe(Infinity);
+  });
+
   it('a backup carries them into another store', async () => {
     const { store, optics } = await sessionWithReadings();
     const store2 = createSessionStore(memoryKv(), counter());
