@@ -16,7 +16,7 @@ import {
   compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, type RankSelection,
   type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
-import { ANGLE_NOISE_MAX_LOSS } from '../channel/index.ts';
+import { ANGLE_NOISE_MAX_LOSS, ANGLE_NOISE_REMEDY, FOLD_EDGE_REMEDY } from '../channel/index.ts';
 import { orientResult, type OrientResult } from './orient.ts';
 import { analyseProfile, type ProfileRequest, type ProfileResult } from './profile.ts';
 
@@ -485,7 +485,7 @@ function angleNoiseGap(field: OrientationField): string | null {
   for (let i = 0; i < field.mask.length; i++) if (field.mask[i]) { n++; sum[0] += angleNoiseFactor(field.confidence[i], gain); }
   const loss = n ? 1 - sum[0] / n : 0;
   if (!(loss > ANGLE_NOISE_MAX_LOSS)) return null;
-  return `the angle noise (the images' noise against the amplitude of their modulation) reads S ${(100 * loss).toFixed(1)} % low (at most ${100 * ANGLE_NOISE_MAX_LOSS} % allowed): average more frames per polariser angle or expose longer (below full scale), or read a sample of higher retardance`;
+  return `the angle noise (the images' noise against the amplitude of their modulation) reads S ${(100 * loss).toFixed(1)} % low (at most ${100 * ANGLE_NOISE_MAX_LOSS} % allowed): ${ANGLE_NOISE_REMEDY}`;
 }
 
 /**
@@ -498,6 +498,6 @@ function foldGap(field: OrientationField): string | null {
   const share = foldEdgeShare(field);
   if (!(share > FOLD_EDGE_MAX_SHARE)) return null;
   const axis = Number((field.options as { mod90FoldedAboutDeg?: number }).mod90FoldedAboutDeg).toFixed(1);
-  return `${(100 * share).toFixed(1)} % of the pixels the compensator image leaves undecided lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis their 90-deg choice was made about (${axis} deg); crossed polarisers cannot tell such a slow axis from the one at 90 deg to it, so some are read on the wrong side and S would read high by more than 0.03 (at most ${100 * FOLD_EDGE_MAX_SHARE} % allowed). Give the compensator image its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)`;
+  return `${(100 * share).toFixed(1)} % of the pixels the compensator image leaves undecided lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis their 90-deg choice was made about (${axis} deg); crossed polarisers cannot tell such a slow axis from the one at 90 deg to it, so some are read on the wrong side and S would read high by more than 0.03 (at most ${100 * FOLD_EDGE_MAX_SHARE} % allowed). To decide them, ${FOLD_EDGE_REMEDY}`;
 }
 

@@ -55,6 +55,15 @@ export const CLIPPED_SHARE_LIMIT = 0.01;
  */
 export const ANGLE_NOISE_MAX_LOSS = 0.03;
 
+/** What would give S where an angle series' angle noise withholds it (bins, bands and the whole image alike). */
+export const ANGLE_NOISE_REMEDY = 'average more frames per polariser angle or expose longer (below full scale), or read a sample of higher retardance';
+/**
+ * What would give S where an angle series' 90-deg choice is unsettled near the fold's boundary. Only an angle series
+ * with a compensator image gets that far (without one it gives no S at all), so the remedy is to let that image decide
+ * more pixels, or to read two compensator images.
+ */
+export const FOLD_EDGE_REMEDY = 'give the compensator image its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)';
+
 export interface ProfileBin extends OrderStat {
   /** Bin centre and edges in s. */
   s: number;
@@ -222,12 +231,12 @@ function clippedReason(withheld: string[]): string {
 
 /** Why groups of a mod-90 field have no S, naming them (the first few) with their shares near the fold's boundary. */
 function foldEdgeReason(withheld: string[], axisDeg: number): string {
-  return `S not given where more than ${100 * FOLD_EDGE_MAX_SHARE} % of the usable pixels, still undecided between a slow axis and the one at 90 deg to it, lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis (${axisDeg.toFixed(1)} deg) (${someOf(withheld)}): some of them lie beyond it and are read on the wrong side, so S would read high. Add an image with the compensator in (--plate) to decide them, give it its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)`;
+  return `S not given where more than ${100 * FOLD_EDGE_MAX_SHARE} % of the usable pixels, still undecided between a slow axis and the one at 90 deg to it, lie within ${FOLD_EDGE_DEG} deg of 45 deg from the axis (${axisDeg.toFixed(1)} deg) (${someOf(withheld)}): some of them lie beyond it and are read on the wrong side, so S would read high. To decide them, ${FOLD_EDGE_REMEDY}`;
 }
 
 /** Why groups of an angle series have no S, naming them (the first few) with the share of S their angle noise takes. */
 function angleNoiseReason(withheld: string[]): string {
-  return `S not given where the angle series' angle noise (the images' noise against the amplitude of their modulation) reads S low by more than ${ANGLE_NOISE_MAX_LOSS} (${someOf(withheld)} of S lost): the sample's retardance gives too little modulation for this noise. Average more frames per polariser angle or expose longer (below full scale), or read a sample of higher retardance`;
+  return `S not given where the angle series' angle noise (the images' noise against the amplitude of their modulation) reads S low by more than ${ANGLE_NOISE_MAX_LOSS} (${someOf(withheld)} of S lost): the sample's retardance gives too little modulation for this noise. To read it, ${ANGLE_NOISE_REMEDY}`;
 }
 
 function pooledCounts(list: ClipCounts[]): ClipCounts {
