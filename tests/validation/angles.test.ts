@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import anglesArea from './angles.ts';
+import { rowText } from './goals.ts';
 import { ColourRenderer, renderScene, scene, type OpticalTrain } from './render/index.ts';
 
 /**
@@ -62,6 +63,6 @@ describe('angle series validation, quick subset', () => {
   it('meets the per-bin, coverage and interval goals', async () => {
     const rows = await anglesArea({ quick: true });
     expect(rows.length).toBeGreaterThanOrEqual(6);
-    for (const r of rows) expect(r.pass, `${r.area} / ${r.case} / ${r.quantity} = ${r.value} (goal ${r.goal}) ${r.note ?? ''}`).toBe(true);
+    for (const r of rows) expect(r.pass, rowText(r)).toBe(true);
   }, 120_000);
 });

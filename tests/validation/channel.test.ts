@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import channelArea from './channel.ts';
+import { rowText } from './goals.ts';
 
 /**
  * The quick subset of the channel validation (`npm run validate -- --area=channel --quick`), rendered by the
@@ -11,6 +12,6 @@ describe('channel validation, quick subset', () => {
   it('meets every goal of the quick subset', async () => {
     const rows = await channelArea({ quick: true });
     expect(rows.length).toBeGreaterThan(15);
-    for (const r of rows) expect(r.pass, `${r.area} / ${r.case} / ${r.quantity} = ${r.value} (goal ${r.goal}) ${r.note ?? ''}`).toBe(true);
+    for (const r of rows) expect(r.pass, rowText(r)).toBe(true);
   }, 300_000);
 });

@@ -22,6 +22,9 @@ export interface ValidationRow {
 
 export type ValidationArea = (options: { quick: boolean }) => Promise<ValidationRow[]>;
 
+/** One row in words, for an assertion's message in an area's quick test. */
+export const rowText = (r: ValidationRow): string => `${r.area} / ${r.case} / ${r.quantity} = ${r.value} (goal ${r.goal}) ${r.note ?? ''}`;
+
 /** A row for "value at most limit". */
 export function atMost(area: string, kase: string, quantity: string, value: number, limit: number, unit = '', note?: string): ValidationRow {
   return { area, case: kase, quantity, value, goal: `<= ${limit}${unit ? ' ' + unit : ''}`, pass: Number.isFinite(value) && value <= limit, note };
