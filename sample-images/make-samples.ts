@@ -7,7 +7,7 @@ import { fileURLToPath } from 'node:url';
 import { CHANNEL, FIBRES, MICROMETER, PIXEL_SIZE_UM } from './scenario.ts';
 import { blur, lic, smoothNoise, writePng } from './render.ts';
 import { normalRandom as normal, seededRandom as seeded } from '../src/order/index.ts';
-import { renderPlateImages } from './plateScene.ts';
+import { angleSetRetardanceNm, renderAngleSetPlate, renderPlateImages } from './plateScene.ts';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const DEG = Math.PI / 180;
@@ -67,7 +67,7 @@ function angleImages(scene: ReturnType<typeof channelScene>): Float32Array[] {
     const out = new Float32Array(W * H);
     for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) {
       const p = scene.at(x, y);
-      const gamma = p.retardanceNm * (0.8 + 0.8 * (p.texture - 0.5));
+      const gamma = angleSetRetardanceNm(p);
       const a = p.inside ? 0.9 * Math.sin(2 * (p.directorRad - alphaDeg * DEG)) ** 2 * Math.sin((Math.PI * gamma) / lambda) ** 2 : 0;
       out[y * W + x] = 0.04 + a + (p.wall ? 0.05 : 0) + 0.004 * g();
     }
@@ -123,6 +123,7 @@ async function main() {
   writePng(join(here, 'kestrel-channel-texture.png'), W, H, [textureImage(scene)], 8);
   angleImages(scene).forEach((img, k) => writePng(join(here, `kestrel-angle-${['00.0', '22.5', '45.0', '67.5'][k]}deg.png`), W, H, [img], 16));
   await renderPlateImages(scene, here);
+  renderAngleSetPlate(scene, here);
   writePng(join(here, 'kestrel-fibres.png'), FIBRES.width, FIBRES.height, [fibreImage()], 16);
   writePng(join(here, 'kestrel-micrometer.png'), MICROMETER.width, MICROMETER.height, [micrometerImage()], 16);
   console.log(`demo images written to ${here}`);

@@ -1,6 +1,6 @@
 import { join } from 'node:path';
 import { renderSampleImage, colourModel, type SampleRetarder } from '../src/optics/index.ts';
-import type { channelScene } from './make-samples.ts';
+import type { ChannelPixel, channelScene } from './make-samples.ts';
 import { writePng } from './render.ts';
 
 const DEG = Math.PI / 180;
@@ -33,4 +33,27 @@ export async function renderPlateImages(scene: ReturnType<typeof channelScene>, 
     }, model, { noiseSd: 0.01, seed, name, camera: { gains: [1, 1, 1], exposure: 0.8 } });
     writePng(join(dir, name), N, N, img.planes, 8);
   }
+}
+
+/** The retardance a pixel of the angle series' framing shows (the layer's, varied with the rod texture), nm. */
+export function angleSetRetardanceNm(p: ChannelPixel): number {
+  return p.retardanceNm * (0.8 + 0.8 * (p.texture - 0.5));
+}
+
+/** The compensator image of the angle series' framing (make-samples.ts): its file name, apart from the angle images'. */
+export const ANGLE_SET_PLATE_FILE = 'kestrel-angles-plate.png';
+
+/**
+ * The angle series' own framing (the channel in its own frame, axis near 0 deg, 960 x 640 px) seen with the
+ * full-wave plate in, with the optics of kestrel-channel-plate.png (the same colour model, camera, noise and 8 bits)
+ * and, at every pixel, the retardance the angle images show there; outside the channel no sample (the plate's colour).
+ * The compensator image that decides the angle series' 90-deg choice.
+ */
+export function renderAngleSetPlate(scene: ReturnType<typeof channelScene>, dir: string): void {
+  const { width: W, height: H } = scene;
+  const img = renderSampleImage(W, H, (x, y) => {
+    const p = scene.at(x, y);
+    return p.inside ? { angleRad: p.directorRad, retardanceNm: angleSetRetardanceNm(p) } : { angleRad: 0, retardanceNm: 0 };
+  }, colourModel({}), { noiseSd: 0.01, seed: 63, name: ANGLE_SET_PLATE_FILE, camera: { gains: [1, 1, 1], exposure: 0.8 } });
+  writePng(join(dir, ANGLE_SET_PLATE_FILE), W, H, img.planes, 8);
 }

@@ -55,8 +55,20 @@ export type OpticalRequest =
   | { kind: 'plate-pair'; keys: [string, string]; names: [string, string]; options: PlatePairAnalysisOptions }
   | { kind: 'angle-series'; keys: string[]; names: string[]; plateKey?: string; plateName?: string; options: AngleSeriesSettings & Pick<AngleSeriesAnalysisOptions, 'anglesDeg'> };
 
-/** The images of the session, and the one shown (the reading's first image). */
-export interface ImageChoice { images: { id: string; name: string }[]; activeId: string }
+/**
+ * A compensator image that goes with a set of angle images (a demo's, app/build/demoImages.ts): the files by name,
+ * and the compensator image's sample-free area as typed ("x,y,w,h").
+ */
+export interface PlateSuggestion { angles: string[]; plate: string; sampleFree?: string }
+
+/** The angle-series form's compensator image when "none" was chosen (blank: not chosen yet, a suggestion may apply). */
+export const NO_PLATE = 'none';
+
+/**
+ * The images of the session, and the one shown (the reading's first image); `plates`, the compensator images that go
+ * with sets of angle images.
+ */
+export interface ImageChoice { images: { id: string; name: string }[]; activeId: string; plates?: PlateSuggestion[] }
 
 /** The one-image reading's sample retardance; a tolerance alone is refused as the command line refuses it. */
 function knownOf(f: OpticalForm) {
@@ -77,13 +89,21 @@ const readingOf = (f: OpticalForm) => ({
 
 /**
  * The images of a reading as the form chooses them: until chosen, the images after the shown one in the session's
- * list (how a set brought in together is ordered).
+ * list (how a set brought in together is ordered); and the angle series' compensator image with its sample-free area:
+ * until one (or "none", NO_PLATE) is chosen, the one a suggestion (`c.plates`) names for the angle images chosen, when
+ * it is in the session.
  */
-export function opticalImages(f: OpticalForm, c: ImageChoice): { imageB: string; angleKeys: string[] } {
+export function opticalImages(f: OpticalForm, c: ImageChoice): { imageB: string; angleKeys: string[]; plateKey: string; plateSampleFree: string } {
   const after = c.images.slice(c.images.findIndex((i) => i.id === c.activeId) + 1);
+  const angleKeys = f.quadImages.map((id, k) => id || (k === 0 ? c.activeId : after[k - 1]?.id ?? ''));
+  const chosen = { plateKey: f.quadPlate === NO_PLATE ? '' : f.quadPlate, plateSampleFree: f.quadPlateBackground };
+  const names = angleKeys.map((id) => c.images.find((i) => i.id === id)?.name);
+  const suggested = f.quadPlate ? undefined : c.plates?.find((p) => p.angles.length === names.length && p.angles.every((a, k) => a === names[k]));
+  const plateId = suggested && c.images.find((i) => i.name === suggested.plate)?.id;
   return {
     imageB: f.imageB || after[0]?.id || '',
-    angleKeys: f.quadImages.map((id, k) => id || (k === 0 ? c.activeId : after[k - 1]?.id ?? '')),
+    angleKeys,
+    ...(plateId ? { plateKey: plateId, plateSampleFree: suggested.sampleFree ?? '' } : chosen),
   };
 }
 
@@ -93,7 +113,7 @@ export function opticalRequestOf(kind: ReadingKind, f: OpticalForm, c: ImageChoi
   const active = c.activeId;
   const axisDeg = formNumber(f.axisDeg, 'Reference axis');
   const summary = axisDeg === undefined ? {} : { axisDeg };
-  const { imageB, angleKeys } = opticalImages(f, c);
+  const { imageB, angleKeys, plateKey, plateSampleFree } = opticalImages(f, c);
   if (kind === 'plate') {
     const options: PlateOptions = { ...readingOf(f), ...knownOf(f), ...summary, match: f.match, resolveMirror: f.resolveMirror || undefined };
     return { kind, keys: [active], names: [nameOf(active)], options };
@@ -105,10 +125,9 @@ export function opticalRequestOf(kind: ReadingKind, f: OpticalForm, c: ImageChoi
   if (angleKeys.some((k) => !k)) throw new Error('Choose an image for every angle');
   const anglesDeg = f.quadAngles.map((a, k) => formNumber(a, `Angle ${k + 1}`) ?? NaN);
   if (anglesDeg.some((a) => !Number.isFinite(a))) throw new Error('Give an angle for every image');
-  const plateKey = f.quadPlate || undefined;
   return {
     kind, keys: angleKeys, names: angleKeys.map(nameOf), ...(plateKey ? { plateKey, plateName: nameOf(plateKey) } : {}),
-    options: { ...trainOf(f), ...summary, anglesDeg, plateSampleFree: formRect(f.quadPlateBackground, 'Sample-free area of the compensator image') },
+    options: { ...trainOf(f), ...summary, anglesDeg, plateSampleFree: formRect(plateSampleFree, 'Sample-free area of the compensator image') },
   };
 }
 

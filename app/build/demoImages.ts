@@ -10,9 +10,11 @@ import type { Plugin } from 'vite';
 
 /**
  * One offered demo image. `set` lists the images that go together for its analysis (the four angles of an angle
- * series; a turned compensator image with the unturned one before it, a plate pair), in order.
+ * series, then its compensator image; a turned compensator image with the unturned one before it, a plate pair), in
+ * order. `plate` is the compensator image of an angle series' set, with its sample-free area `plateSampleFree`
+ * ("x,y,w,h"): the angle-series form takes them until another is chosen.
  */
-export interface DemoEntry { file: string; title: string; about: string; analyses: string[]; set?: string[] }
+export interface DemoEntry { file: string; title: string; about: string; analyses: string[]; set?: string[]; plate?: string; plateSampleFree?: string }
 
 /** Where each analysis is in the app, in the words of its screens. */
 const WHERE: Record<string, string> = {
@@ -34,8 +36,19 @@ export function demoEntries(sampleDir: string, offered: string[]): DemoEntry[] {
     if (analyses.length === 0) continue;
     const title = what.charAt(0).toUpperCase() + what.slice(1);
     const about = `invented demo scene; try ${analyses.map((a) => WHERE[a] ?? a).join('; ')} (retarda ${analyses.join(', ')})`;
+    // The compensator image of an angle series (its analysis cell names `--plate`) joins the set of the row before,
+    // with the sample-free area the cell gives.
+    const before = out[out.length - 1];
+    if (analyses.includes('angle-series') && /`--plate`/.test(analysis) && files.length === 1 && before?.set && before.analyses.includes('angle-series')) {
+      const plate = files[0], plateSampleFree = /`--plate-sample-free ([^`]+)`/.exec(analysis)?.[1];
+      const set = [...before.set, plate];
+      for (const e of out) if (e.set === before.set) Object.assign(e, { set, plate, ...(plateSampleFree ? { plateSampleFree } : {}) });
+      const plateAbout = `invented demo scene; the compensator image of the angle series above: open the ${set.length} together and try ${WHERE['angle-series']} (retarda angle-series --plate)`;
+      out.push({ file: plate, title, about: plateAbout, analyses, set, plate, ...(plateSampleFree ? { plateSampleFree } : {}) });
+      continue;
+    }
     // A plate pair needs the unturned image of the row before; an angle series needs all its files.
-    const set = analyses.includes('plate-pair') && out.length ? [out[out.length - 1].file, ...files] : files.length > 1 ? files : undefined;
+    const set = analyses.includes('plate-pair') && out.length ? [before.file, ...files] : files.length > 1 ? files : undefined;
     for (const file of files) {
       out.push({ file, title: files.length > 1 ? `${title}: ${file}` : title, about, analyses, ...(set ? { set } : {}) });
     }

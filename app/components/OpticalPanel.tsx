@@ -22,7 +22,7 @@ import { Undetermined, Warnings } from './Results.tsx';
 import { headline, WithheldCell, WithheldRemedies, WithheldWhy, type Remedy } from './NotDetermined.tsx';
 import type { OrientationField } from '../../src/orientation/index.ts';
 import type { ViewerBox } from './imageRectangles.ts';
-import { formNumber, formRect, opticalCommandLine, opticalImages, opticalRequestOf, type OpticalRequest } from '../analysis/requests.ts';
+import { formNumber, formRect, NO_PLATE, opticalCommandLine, opticalImages, opticalRequestOf, type OpticalRequest, type PlateSuggestion } from '../analysis/requests.ts';
 import { readingKeys, readOptical } from '../analysis/calls.ts';
 
 const f = (v: number | null | undefined) => formatCell(v ?? null);
@@ -56,6 +56,8 @@ export interface PanelContext {
   client: AnalysisClient;
   images: { id: string; name: string }[];
   activeId: string;
+  /** Compensator images that go with sets of angle images (the demo's): the angle-series form takes them until one is chosen. */
+  plates?: PlateSuggestion[];
   sourceOf(id: string): ImageSource | null;
   /** Runs a job with the app's progress bar and Stop button; errors are shown to the user and give null. */
   runJob<T>(what: string, job: (progress: ProgressFn) => Promise<T>): Promise<T | null>;
@@ -150,7 +152,8 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
   }, [stored]);
   const active = ctx.images.find((i) => i.id === ctx.activeId);
   const others = ctx.images.filter((i) => i.id !== ctx.activeId);
-  const { imageB, angleKeys: quadKeys } = opticalImages(s, { images: ctx.images, activeId: ctx.activeId });
+  const choice = { images: ctx.images, activeId: ctx.activeId, plates: ctx.plates };
+  const { imageB, angleKeys: quadKeys, plateKey, plateSampleFree } = opticalImages(s, choice);
 
   // The compensator axis the reading will use: the one typed, else the polariser's + 45 deg (trainOf in src/analyses).
   const defaultCompDeg = (Number(s.polariserDeg) || OPTICS_LIMITS.polariserDeg.default) + COMPENSATOR_OFFSET_DEG;
@@ -177,7 +180,7 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     setFormError(null);
     if (!active) return;
     let request: OpticalRequest;
-    try { request = opticalRequestOf(kind, s, { images: ctx.images, activeId: ctx.activeId }); } catch (e) { setFormError((e as Error).message); return; }
+    try { request = opticalRequestOf(kind, s, choice); } catch (e) { setFormError((e as Error).message); return; }
     const job = async (p: ProgressFn) => { await ensure(readingKeys(request), p); return readOptical(ctx.client, request, p); };
     const what = READING_NAMES[kind][0].toUpperCase() + READING_NAMES[kind].slice(1);
     const reply = await ctx.runJob(what, job);
@@ -202,11 +205,11 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
       {unit && <span className="unit">{unit}</span>}
     </label>
   );
-  const imageSelect = (label: string, value: string, onChange: (v: string) => void, list: { id: string; name: string }[], none: string, testId?: string, ref?: Ref<HTMLSelectElement>) => (
+  const imageSelect = (label: string, value: string, onChange: (v: string) => void, list: { id: string; name: string }[], none: string, testId?: string, ref?: Ref<HTMLSelectElement>, noneValue = '') => (
     <label className="field">
       <span>{label}</span>
       <select ref={ref} value={value} onChange={(e) => onChange(e.target.value)} data-testid={testId}>
-        <option value="">{none}</option>
+        <option value={noneValue}>{none}</option>
         {list.map((i) => <option key={i.id} value={i.id}>{i.name}</option>)}
       </select>
       <span />
@@ -320,8 +323,15 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
               <span className="unit">deg</span>
             </div>
           ))}
-          {imageSelect('Compensator image', s.quadPlate, (v) => set({ quadPlate: v }), ctx.images, 'none')}
-          {s.quadPlate && field('Its sample-free area', 'quadPlateBackground', 'px', 'x,y,w,h')}
+          {/* A suggested compensator image (a demo set's) is shown chosen; choosing here, or typing its area, keeps the choice. */}
+          {imageSelect('Compensator image', plateKey || NO_PLATE, (v) => set({ quadPlate: v, quadPlateBackground: v === plateKey ? plateSampleFree : s.quadPlateBackground }), ctx.images, 'none', 'quad-plate', undefined, NO_PLATE)}
+          {plateKey && (
+            <label className="field">
+              <span>Its sample-free area</span>
+              <input value={plateSampleFree} placeholder="x,y,w,h" data-testid="quad-plate-sample-free" onChange={(e) => set({ quadPlate: plateKey, quadPlateBackground: e.target.value })} />
+              <span className="unit">px</span>
+            </label>
+          )}
         </>
       )}
 

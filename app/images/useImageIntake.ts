@@ -2,13 +2,21 @@
  * Bringing images in: files chosen, dropped or pasted, and the demo images. A file is decoded first, and only a
  * file the analysis can read is added to the session (a new session is started when none is open).
  */
-import { useCallback, useEffect, useRef, useState } from 'react';
+import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { Sessions } from '../session/useSessions.ts';
 import { sessionName } from '../session/useSessions.ts';
 import type { Analysis } from '../analysis/useAnalysis.ts';
 import type { Say } from '../messages.ts';
+import type { PlateSuggestion } from '../analysis/requests.ts';
 
-export interface DemoEntry { file: string; title: string; about: string; set?: string[] }
+/** A demo image as app/build/demoImages.ts offers it (`plate`: an angle series' compensator image, the last of its set). */
+export interface DemoEntry { file: string; title: string; about: string; set?: string[]; plate?: string; plateSampleFree?: string }
+
+/** The compensator images the demo sets name, for the angle-series form. */
+export function demoPlates(demos: DemoEntry[]): PlateSuggestion[] {
+  return demos.filter((d) => d.plate && d.file === d.plate && d.set)
+    .map((d) => ({ angles: d.set!.filter((f) => f !== d.plate), plate: d.plate!, ...(d.plateSampleFree ? { sampleFree: d.plateSampleFree } : {}) }));
+}
 
 /** The files the file chooser offers. */
 export const ACCEPT = '.png,.jpg,.jpeg,.tif,.tiff,image/png,image/jpeg,image/tiff';
@@ -102,7 +110,9 @@ export function useImageIntake(sessions: Sessions, analysis: Analysis, say: Say)
     onDrop: (e: React.DragEvent) => { e.preventDefault(); setDragOver(false); void addFiles([...e.dataTransfer.files]); },
   };
 
-  return { demos, addFiles, openDemo, fileInput, chooseFiles: () => fileInput.current?.click(), dragOver, dropHandlers };
+  const plates = useMemo(() => demoPlates(demos), [demos]);
+
+  return { demos, plates, addFiles, openDemo, fileInput, chooseFiles: () => fileInput.current?.click(), dragOver, dropHandlers };
 }
 
 export type ImageIntake = ReturnType<typeof useImageIntake>;

@@ -95,7 +95,7 @@ export function AnalysisPanel({ w }: { w: Workspace }) {
 
       <MoreAnalyses
         handle={w.more}
-        ctx={{ client: a.client, images: session.images, activeId: active.id, sourceOf: a.sourceOf, runJob: a.runJob, disabled, drawRect: w.rects.drawRect, showBoxes: w.rects.showBoxes }}
+        ctx={{ client: a.client, images: session.images, activeId: active.id, plates: w.intake.plates, sourceOf: a.sourceOf, runJob: a.runJob, disabled, drawRect: w.rects.drawRect, showBoxes: w.rects.showBoxes }}
         work={work} pixelSize={session.pixelSize ?? null} opticalMapShown={opticalHere !== null}
         onField={a.chooseOptical}
         onMarks={(imageId, m) => a.setMarks({ imageId, marks: m })}

@@ -13,6 +13,7 @@ import {
   NOT_DETERMINED, type OpticsResult, type ProfileResult,
 } from '../../src/analyses/index.ts';
 import { decodeImage, type Image } from '../../src/image/index.ts';
+import { parseRect } from '../../src/common/index.ts';
 import { formatCell } from '../../src/cli/format.ts';
 import { demoEntries } from '../../app/build/demoImages.ts';
 import { DEMO_ANALYSES } from '../../vite.config.ts';
@@ -211,31 +212,50 @@ describe.runIf(haveBrowser)('the analysis panels in chromium', () => {
     expect(await text('profile-cli')).toBe(`retarda plate-pair ${turned.set![0]} ${turned.file} --auto-walls`);
   }, 240_000);
 
-  it('the angle series takes four images and their angles', async () => {
+  it('the angle series takes four images and their angles, with the demo\'s compensator image preselected', async () => {
     await newSession();
-    const last = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-angle-67.5deg.png')!;
-    await page.getByRole('button', { name: `Open these ${last.set!.length} together` }).click();
-    await page.locator('.images li', { hasText: last.file }).waitFor({ timeout: 30_000 });
+    // The compensator image of the demo angle series comes last in its set, and the form takes it with its sample-free area.
+    const plateDemo = demoEntries(SAMPLES, DEMO_ANALYSES).find((d) => d.file === 'kestrel-angles-plate.png')!;
+    const angles = plateDemo.set!.filter((f) => f !== plateDemo.plate);
+    expect(angles).toHaveLength(4);
+    await page.getByRole('button', { name: `Open these ${plateDemo.set!.length} together` }).click();
+    await page.locator('.images li', { hasText: plateDemo.file }).waitFor({ timeout: 30_000 });
     await page.getByTestId('image-facts').waitFor({ timeout: 30_000 });
     await idle();
     await tab('Polarised colours');
     await page.getByLabel('angle series: crossed polarisers at 3 or more angles').check();
-    for (let k = 0; k < 4; k++) expect(await page.getByTestId(`quad-image-${k}`).locator('option:checked').textContent()).toBe(last.set![k]);
+    for (let k = 0; k < 4; k++) expect(await page.getByTestId(`quad-image-${k}`).locator('option:checked').textContent()).toBe(angles[k]);
+    expect(await page.getByTestId('quad-plate').locator('option:checked').textContent()).toBe(plateDemo.plate);
+    expect(await page.getByTestId('quad-plate-sample-free').inputValue()).toBe(plateDemo.plateSampleFree);
     await page.getByRole('button', { name: 'Read orientation and retardance' }).click();
     await page.getByTestId('optics-results').waitFor({ timeout: 120_000 });
     await idle();
     await shot('26-angle-series');
-    const r = await analyseAngleSeries(last.set!.map(load), { anglesDeg: [0, 22.5, 45, 67.5], compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K', profile: null });
-    // Withheld numbers read "not determined" in the page, with why beside them (here: without a compensator image
-    // too many pixels of the demo lie near 45 deg from the axis the 90-deg choice is made about).
-    const shownAs = (v: number) => (Number.isFinite(v) ? formatCell(v) : NOT_DETERMINED);
-    expect(await text('optics-director')).toBe(shownAs(r.result.directorDeg));
-    expect(await text('optics-order2d')).toBe(shownAs(r.result.order2D));
-    if (r.result.notDetermined?.order) expect(await page.getByTestId('optics-results').textContent()).toContain('45 deg from the axis');
+    const reading = {
+      anglesDeg: [0, 22.5, 45, 67.5], compensatorDeg: 45, polariserDeg: 0, illuminant: '3200K',
+      plate: load(plateDemo.plate!), plateSampleFree: parseRect(plateDemo.plateSampleFree!, 'sample-free'),
+    };
+    const r = await analyseAngleSeries(angles.map(load), { ...reading, profile: null });
+    // With the compensator image the demo's order numbers are determined: the page shows the numbers Node gives.
+    expect(r.result.notDetermined).toBeUndefined();
+    expect(await text('optics-director')).toBe(formatCell(r.result.directorDeg));
+    expect(await text('optics-order2d')).toBe(formatCell(r.result.order2D));
+    expect(await page.getByTestId('optics-results').textContent()).toContain(`95 %: ${formatCell(r.result.order2DCiLow)} – ${formatCell(r.result.order2DCiHigh)}`);
     expect(await text('optics-n')).toBe(formatCell(r.result.n));
     expect(await text('optics-ambiguity')).toContain('the one at 90° to it');
-    expect(await text('optics-cli')).toBe(`retarda angle-series ${last.set!.join(' ')}`);
-  }, 180_000);
+    expect(await text('optics-cli')).toBe(`retarda angle-series ${angles.join(' ')} --plate ${plateDemo.plate} --plate-sample-free ${plateDemo.plateSampleFree}`);
+
+    // The channel profile on this field is the one `retarda angle-series ... --plate ... --auto-walls` prints.
+    expect(await text('profile-field')).toContain('angle series');
+    await profileWithFoundWalls('26b-angle-series-profile');
+    const request = { autoWalls: true, bins: 20, stations: 1, coreMax: 0.5, skinMin: 0.8 };
+    const p = (await analyseAngleSeries(angles.map(load), { ...reading, profile: request })).result.profile!;
+    expect(p.fieldMethod).toBe('angle-series');
+    expect(await text('core')).toBe(expected(p, 'core', p.core.order));
+    expect(await text('skin')).toBe(expected(p, 'skin', p.skin.order));
+    expect(await text('ratio')).toBe(expected(p, 'coreSkinRatio', p.coreSkinRatio));
+    expect(await text('profile-cli')).toBe(`retarda angle-series ${angles.join(' ')} --plate ${plateDemo.plate} --plate-sample-free ${plateDemo.plateSampleFree} --auto-walls`);
+  }, 240_000);
 
   let umPerPx = 0;
   /**
