@@ -130,30 +130,41 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
     el?.scrollIntoView?.({ block: 'center' });
     el?.focus();
   }, [focusNext]); // eslint-disable-line react-hooks/exhaustive-deps
-  const [drawingBox, setDrawingBox] = useState(false);
+  const [drawingBox, setDrawingBox] = useState<'background' | 'plate' | false>(false);
   const resultsRef = useRef<HTMLDivElement>(null);
   /** Draws the sample-free area on the image; the field gets the rectangle. */
   async function drawBackground() {
-    setDrawingBox(true);
+    setDrawingBox('background');
     const r = await ctx.drawRect('Drag a rectangle over a part of the image with no sample in it (it calibrates the lamp, camera and compensator). Esc cancels.');
     setDrawingBox(false);
     if (r) { set({ background: rectText(r) }); setFocusNext('background'); }
   }
-  // The sample-free area is shown on the image while this panel is.
-  const bgRect = kind !== 'angle-series' ? parses(() => formRect(s.background, '')) : undefined;
-  const bgKey = bgRect ? rectText(bgRect) : '';
+  /**
+   * Draws the angle series' compensator image's sample-free area on the image shown (an image of the series, of the
+   * compensator image's size and, as taken, its framing); the field gets the rectangle and the compensator image stays chosen.
+   */
+  async function drawPlateSampleFree() {
+    const plate = plateKey;
+    setDrawingBox('plate');
+    const r = await ctx.drawRect('Drag a rectangle over a part of the image with no sample in it: the same area of the compensator image calibrates its colours. Esc cancels.');
+    setDrawingBox(false);
+    if (r) set({ quadPlate: plate, quadPlateBackground: rectText(r) });
+  }
+  const active = ctx.images.find((i) => i.id === ctx.activeId);
+  const others = ctx.images.filter((i) => i.id !== ctx.activeId);
+  const choice = { images: ctx.images, activeId: ctx.activeId, plates: ctx.plates };
+  const { imageB, angleKeys: quadKeys, plateKey, plateSampleFree } = opticalImages(s, choice);
+  // The sample-free area (the angle series' compensator image's) is shown on the image while this panel is.
+  const bgRect = kind !== 'angle-series' ? parses(() => formRect(s.background, '')) : plateKey ? parses(() => formRect(plateSampleFree, '')) : undefined;
+  const bgKey = bgRect ? `${kind === 'angle-series'} ${rectText(bgRect)}` : '';
   useEffect(() => {
-    ctx.showBoxes(visible && bgRect ? [{ rect: bgRect, label: 'sample-free area' }] : []);
+    ctx.showBoxes(visible && bgRect ? [{ rect: bgRect, label: kind === 'angle-series' ? "compensator image's sample-free area" : 'sample-free area' }] : []);
   }, [visible, bgKey]); // eslint-disable-line react-hooks/exhaustive-deps
   useEffect(() => () => ctx.showBoxes([]), []); // eslint-disable-line react-hooks/exhaustive-deps
   // A kept reading brings back the form that made it (after a reload, or on going back to its image).
   useEffect(() => {
     if (stored?.form) { setKind(stored.kind); setS(stored.form); }
   }, [stored]);
-  const active = ctx.images.find((i) => i.id === ctx.activeId);
-  const others = ctx.images.filter((i) => i.id !== ctx.activeId);
-  const choice = { images: ctx.images, activeId: ctx.activeId, plates: ctx.plates };
-  const { imageB, angleKeys: quadKeys, plateKey, plateSampleFree } = opticalImages(s, choice);
 
   // The compensator axis the reading will use: the one typed, else the polariser's + 45 deg (trainOf in src/analyses).
   const defaultCompDeg = (Number(s.polariserDeg) || OPTICS_LIMITS.polariserDeg.default) + COMPENSATOR_OFFSET_DEG;
@@ -221,8 +232,8 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
       <label htmlFor="plate-background">Sample-free area</label>
       <input id="plate-background" ref={inputs.background} value={s.background} placeholder="x,y,w,h" data-testid="plate-background" onChange={(e) => set({ background: e.target.value })} />
       <span className="unit">px</span>
-      <button className={drawingBox ? 'small on' : 'small'} aria-pressed={drawingBox} data-testid="draw-background" disabled={!active || drawingBox}
-        onClick={() => void drawBackground()}>{drawingBox ? 'drag on the image…' : 'Draw'}</button>
+      <button className={drawingBox === 'background' ? 'small on' : 'small'} aria-pressed={drawingBox === 'background'} data-testid="draw-background" disabled={!active || !!drawingBox}
+        onClick={() => void drawBackground()}>{drawingBox === 'background' ? 'drag on the image…' : 'Draw'}</button>
     </div>
   );
 
@@ -326,11 +337,19 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
           {/* A suggested compensator image (a demo set's) is shown chosen; choosing here, or typing its area, keeps the choice. */}
           {imageSelect('Compensator image', plateKey || NO_PLATE, (v) => set({ quadPlate: v, quadPlateBackground: v === plateKey ? plateSampleFree : s.quadPlateBackground }), ctx.images, 'none', 'quad-plate', undefined, NO_PLATE)}
           {plateKey && (
-            <label className="field">
-              <span>Its sample-free area</span>
-              <input value={plateSampleFree} placeholder="x,y,w,h" data-testid="quad-plate-sample-free" onChange={(e) => set({ quadPlate: plateKey, quadPlateBackground: e.target.value })} />
+            <div className="field field4">
+              <label htmlFor="quad-plate-sample-free">Its sample-free area</label>
+              <input id="quad-plate-sample-free" value={plateSampleFree} placeholder="x,y,w,h" data-testid="quad-plate-sample-free" onChange={(e) => set({ quadPlate: plateKey, quadPlateBackground: e.target.value })} />
               <span className="unit">px</span>
-            </label>
+              <button className={drawingBox === 'plate' ? 'small on' : 'small'} aria-pressed={drawingBox === 'plate'} data-testid="draw-quad-plate-sample-free" disabled={!active || !!drawingBox}
+                onClick={() => void drawPlateSampleFree()}>{drawingBox === 'plate' ? 'drag on the image…' : 'Draw'}</button>
+            </div>
+          )}
+          {/* The analysis withholds S without it (PLATE_SAMPLE_FREE_GAP in src/analyses/optics.ts): said before the run. */}
+          {plateKey && !plateSampleFree.trim() && (
+            <p className="note warn" data-testid="quad-plate-needs"><strong>S will be “not determined”</strong> until the compensator image has its sample-free
+              area: without it the compensator image's colours are not calibrated, and its choice between a direction and the one at 90° to
+              it rests on them. Draw it on the image (the compensator image is read pixel by pixel with the angle images, so it has their framing), or type x,y,w,h.</p>
           )}
         </>
       )}

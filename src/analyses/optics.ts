@@ -459,6 +459,12 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
   // image's numbers by the fold's share and the angle noise over the whole field; a profile's bins and bands were
   // judged each on their own pixels (channelProfile), so they stay as they are.
   if (!o.plate) return { result: withholdOrder(result, [NO_PLATE_GAP]), field: r.field, amplitude: r.amplitude, residual: r.residual };
+  // Without its sample-free area the compensator image's 90-deg choice is made on colours nothing calibrated
+  // (PLATE_SAMPLE_FREE_GAP): every order number is withheld, the profile's included; the maps stay.
+  if (!o.plateSampleFree) {
+    const gaps = [PLATE_SAMPLE_FREE_GAP, angleNoiseGap(r.field)].filter((g): g is string => g !== null);
+    return { result: withholdOrder(result, gaps), field: r.field, amplitude: r.amplitude, residual: r.residual };
+  }
   const gaps = [foldGap(r.field), angleNoiseGap(r.field)].filter((g): g is string => g !== null);
   return { result: gaps.length ? { ...withholdOrder(result, gaps), profile: result.profile } : result, field: r.field, amplitude: r.amplitude, residual: r.residual };
 }
@@ -471,6 +477,17 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
  * numbers' 95 % intervals covered the material's order in 54-84 % of renderings.
  */
 export const NO_PLATE_GAP = 'crossed polarisers alone do not tell a slow axis from the one at 90 deg to it, and whether rods lie beyond 45 deg from the axis cannot be seen in these images, so S would rest on that assumption (on independent test renderings the numbers such a reading gave covered the material\'s order in 54-84 % of cases, not 95 %). Add an image with the compensator in (--plate, with its sample-free area --plate-sample-free) to decide the 90-deg choice, or read the sample with two compensator images (plate-pair)';
+
+/**
+ * Why an angle series' order numbers are withheld when its compensator image has no sample-free area
+ * (docs/methods.md §6.3): the 90-deg choice compares the compensator image's colours with the model's, and only a
+ * sample-free area calibrates the camera's exposure and white balance and the compensator's retardance for that
+ * (§3.4). Taken as they are (exposure 1, neutral gains, 550 nm), the choice went wrong for pixels a few degrees from
+ * the polars: on the independent validation renderings at exposures 0.6-0.8 (tests/validation/angles.ts) bins read
+ * 0.055-0.15 off; on the demo (exposure 0.8) the core read 0.574 and its 95 % interval (0.556-0.591) missed the
+ * rendered 0.621-0.625. The same missing calibration withholds one compensator image's numbers (oneImageGaps).
+ */
+export const PLATE_SAMPLE_FREE_GAP = 'the compensator image has no sample-free area, so its exposure, white balance and compensator retardance are not calibrated, and the 90-deg choice it makes rests on them (on independent test renderings at exposures 0.6-0.8 bins read up to 0.15 off); draw the compensator image\'s sample-free area on the image (--plate-sample-free x,y,w,h), or read the sample with two compensator images (plate-pair)';
 
 /**
  * Why an angle series' whole-image order numbers are withheld for angle noise, or null: the mean over the usable
