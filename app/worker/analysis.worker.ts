@@ -14,6 +14,7 @@ import { giveBack, isInputError } from '../../src/common/index.ts';
 import { loadTensorKernel } from '../../src/wasm/index.ts';
 import { decodeImage, checkAnalysisPixels, ANALYSIS_MAX_PIXELS, type Image } from '../../src/image/index.ts';
 import { recycleTextureField, type OrientationField, type TileHelper } from '../../src/orientation/index.ts';
+import { recycleAngleSeries } from '../../src/optics/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
 import { coherencyPicture, directionLines, imagePicture, orientationPicture, retardancePicture } from './pictures.ts';
 import { retardanceRange } from '../../src/report/index.ts';
@@ -218,9 +219,19 @@ const handlers: { [K in CommandName]: Handler<K> } = {
   },
 
   async angleSeries({ keys, plateKey, options }, progress) {
+    // The angle series this replaces hands its arrays back for the new one when no other command is running (none
+    // can hold it then, and the next that asks finds it gone): no fresh memory for a second run on the same images.
+    const old = opticalFields.get(keys[0]);
+    if (old?.method === 'angle-series' && running === 1) {
+      opticalFields.delete(keys[0]);
+      recycleAngleSeries({ field: old });
+    }
     progress('fitting the angle series', 0.1);
     const a = await analyseAngleSeries(keys.map(imageOf), { ...options, plate: plateKey ? imageOf(plateKey) : undefined });
-    return opticsReply(keys[0], a, progress);
+    const reply = await opticsReply(keys[0], a, progress);
+    // Nothing here keeps the amplitude and residual planes: they serve the next reading.
+    giveBack(a.amplitude, a.residual);
+    return reply;
   },
 
   async opticalView({ key, view }, progress) {

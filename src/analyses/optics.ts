@@ -13,7 +13,7 @@ import { orderParameters, type Weighting } from '../order/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import {
   readPlate, readPlatePair, fourAngleAnalysis, angleNoiseFactor, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
-  compensatorAxisAdvice, resolveMirrorWithTexture, valuesOfRanks, type RankSelection,
+  compensatorAxisAdvice, resolveMirrorWithTexture, rankCounts, valuesOfCountedRanks, valuesOfRanks, type RankSelection,
   type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
 import { ANGLE_NOISE_MAX_LOSS, ANGLE_NOISE_REMEDY, FOLD_EDGE_REMEDY } from '../channel/index.ts';
@@ -215,31 +215,14 @@ const calibrationOf = (o: TrainOptions) => ({ fitCompensator: o.compensatorNm ==
 
 /** Distribution of a field's confidence over its usable pixels. */
 export function confidenceStats(f: OrientationField): ConfidenceStats {
-  const c = f.confidence, m = f.mask;
-  // Count, sum (in pixel order) and count at 0.5 or more, a run of pixels per call: a short loop the engine optimises
-  // whole keeps its sum unboxed (one loop over every pixel, entered mid-run, kept it boxed: a new number per pixel).
-  const acc = new Float64Array(3);
-  for (let i0 = 0; i0 < m.length; i0 += CONFIDENCE_RUN_PX) confidenceRun(c, m, i0, Math.min(m.length, i0 + CONFIDENCE_RUN_PX), acc);
-  const [sum, n, above] = acc;
+  // Ranks by radix selection on the values in place (src/optics/ranks.ts), not a sort or a copy: the same values. Its
+  // first pass also counts the usable pixels, sums their confidence (float64, in pixel order) and counts those at 0.5 or more.
+  const sums = { sum: 0, atLeast: 0.5, countAtLeast: 0 };
+  const counts = rankCounts(f.confidence, { mask: f.mask }, sums), n = counts.count;
   if (n === 0) return { mean: null, median: null, p10: null, p90: null, fractionAbove05: null, n: 0 };
-  // Ranks by radix selection on the values in place (valuesOfRanks), not a sort or a copy: the same values.
   const rank = (p: number) => Math.min(n - 1, Math.floor(p * (n - 1)));
-  const [median, p10, p90] = valuesOfRanks(c, { mask: m }, [rank(0.5), rank(0.1), rank(0.9)]);
-  return { mean: sum / n, median, p10, p90, fractionAbove05: above / n, n };
-}
-
-/** Pixels per call of confidenceRun. */
-const CONFIDENCE_RUN_PX = 1 << 16;
-
-/** Adds pixels i0..i1-1 with mask 1 to acc: their confidence to acc[0], 1 to acc[1], and 1 to acc[2] where it is at least 0.5. */
-function confidenceRun(c: Float32Array, m: Uint8Array, i0: number, i1: number, acc: Float64Array): void {
-  let sum = acc[0], n = acc[1], above = acc[2];
-  for (let i = i0; i < i1; i++) {
-    if (!m[i]) continue;
-    n++; sum += c[i];
-    if (c[i] >= 0.5) above++;
-  }
-  acc[0] = sum; acc[1] = n; acc[2] = above;
+  const [median, p10, p90] = valuesOfCountedRanks(counts, [rank(0.5), rank(0.1), rank(0.9)]);
+  return { mean: sums.sum / n, median, p10, p90, fractionAbove05: sums.countAtLeast / n, n };
 }
 
 /** The middle value (rank n/2 of n, as the readings have always given it) of the selected pixels' values; null for none. */
@@ -453,7 +436,7 @@ export async function analyseAngleSeries(images: Image[], o: AngleSeriesAnalysis
   });
   const usable = { mask: r.field.mask };
   const result = await opticsResult('angle-series', images[0], r.field, o, {
-    anglesDeg, amplitudeMedian: middleValue(r.amplitude, usable), residualMedian: middleValue(r.residual, usable), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
+    anglesDeg, amplitudeMedian: r.amplitudeMedian, residualMedian: middleValue(r.residual, usable), plateResolvedFraction: o.plate ? r.resolvedFraction : null,
   });
   // Without a compensator image no order number is given (NO_PLATE_GAP), the profile's included. With one, the whole
   // image's numbers by the fold's share and the angle noise over the whole field; a profile's bins and bands were

@@ -1,4 +1,4 @@
-import { checkNumber, InputError, takeFloat32 } from '../common/index.ts';
+import { checkNumber, giveBack, InputError, takeFloat32, takeUint8 } from '../common/index.ts';
 import { DEG } from '../common/index.ts';
 import { makeImage, type Image } from '../image/index.ts';
 import type { OrientationField } from '../orientation/index.ts';
@@ -10,7 +10,7 @@ import { NEUTRAL_CAMERA } from './camera.ts';
 import { CellColours } from './effectiveRetardance.ts';
 import { buildPlateLookup } from './lookupTable.ts';
 import { checkColourImage, FULL_SCALE_LEVEL, quantiseInto, type Rect } from './pixels.ts';
-import { valuesOfRanks } from './ranks.ts';
+import { rankCounts, uncount, valuesOfCountedRanks, type RankCounts } from './ranks.ts';
 import { decodeTableIn, opticsKernel, OpticsLayout, type OpticsKernelExports } from '../wasm/index.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
 import type { CameraCalibration } from './camera.ts';
@@ -183,6 +183,8 @@ export interface FourAngleResult {
   residual: Float32Array;
   /** Fraction of usable pixels whose 90-deg choice the plate image decided (0 without a plate). */
   resolvedFraction: number;
+  /** The middle amplitude (rank n/2 of the n usable pixels' amplitudes), or null when no pixel is usable. */
+  amplitudeMedian: number | null;
 }
 
 /** sRGB decoding of stored values through a 65536-entry table (exact for 8- and 16-bit data), built on first use. */
@@ -297,14 +299,14 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // The kernel's fit (four images) writes every pixel of these: arrays from the pool (their pages already touched)
   // need not be zeroed first; fitBlock writes only the pixels it reads.
   const take = () => takeFloat32(n, images.length !== 4);
-  const angleRad = take(), confidence = take(), mask = new Uint8Array(n);
+  const angleRad = take(), confidence = take(), mask = takeUint8(n);
   const amplitude = take(), residual = take(), cos2 = take(), sin2 = take();
   const background = options.keepBackground === false ? null : take();
   const out = { angleRad, confidence, mask, amplitude, background, residual, cos2, sin2, sumCos4: 0, sumSin4: 0 };
   const fit = { P, cos4: anglesRad.map((a) => Math.cos(4 * a)), sin4: anglesRad.map((a) => Math.sin(4 * a)), dark, flat, flatMean };
   const counts = { flatBad: 0, nonFinite: 0, clipped: 0 };
   // A clipped image value would pull the fit: such pixels are not read.
-  const clipped = new Uint8Array(n);
+  const clipped = takeUint8(n);
   if (images.length === 4) fitSeriesOfFour(images, clipped, fit, out, counts);
   else {
     const block = images.map(() => new Float32Array(Math.min(n, SERIES_BLOCK_PX)));
@@ -316,12 +318,15 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     }
   }
   const { flatBad, nonFinite, clipped: clippedCount } = counts;
-  // The 99th percentile by radix selection in place (valuesOfRanks), not a sort or a copy: the same value.
-  const ampRef = valuesOfRanks(amplitude, { mask }, (k) => (k ? [Math.min(k - 1, Math.floor(0.99 * (k - 1)))] : []))[0] ?? 0;
+  // The 99th percentile by radix selection in place (src/optics/ranks.ts), not a sort or a copy: the same value. Its
+  // counts, less the pixels masked below, give the usable pixels' middle amplitude with one more pass.
+  const ampCounts = rankCounts(amplitude, { mask }), k = ampCounts.count;
+  const ampRef = k ? valuesOfCountedRanks(ampCounts, [Math.min(k - 1, Math.floor(0.99 * (k - 1)))])[0] : 0;
   let lowAmp = 0;
   // The pixels masked here leave the confidence-weighted sums of cos 4 theta and sin 4 theta the fit made.
   const sums = Float64Array.of(out.sumCos4, out.sumSin4), limit = floor * ampRef;
-  for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) lowAmp += maskLowAmplitude(mask, amplitude, confidence, angleRad, limit, sums, i0, Math.min(n, i0 + SERIES_BLOCK_PX));
+  for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) lowAmp += maskLowAmplitude(mask, amplitude, confidence, angleRad, limit, sums, ampCounts, i0, Math.min(n, i0 + SERIES_BLOCK_PX));
+  const amplitudeMedian = ampCounts.count ? valuesOfCountedRanks(ampCounts, [ampCounts.count >> 1])[0] : null;
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
   if (clippedCount) warnings.push(`${clippedCount} pixels at full scale (clipped) in an image were masked (${((100 * clippedCount) / n).toFixed(2)} %)`);
@@ -336,7 +341,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
     let usable = 0, resolved = 0;
     // Confidence-weighted sums of cos 2 theta and sin 2 theta over the pixels the plate decided (their axis mod 180 deg).
     const decided = new Float64Array(2);
-    ambiguous = new Uint8Array(n).fill(1);
+    ambiguous = takeUint8(n, false).fill(1);
     const cells = new Int32Array(Math.min(n, SERIES_BLOCK_PX));
     for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) {
       const len = Math.min(SERIES_BLOCK_PX, n - i0);
@@ -376,19 +381,30 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   // (1/2 atan2 of their sums of sin 2 theta and cos 2 theta), and the rest are folded about that: about the
   // mod-90 axis, a field about 90 deg (or any axis in (90, 180) deg) had its undecided pixels put 90 deg off.
   if (ambiguity === 'mod-90') field = foldMod90(field, options.referenceAxisDeg ?? decidedAxisDeg ?? mod90AxisOfSums(sums[0], sums[1]), true);
-  return { field, amplitude, background, residual, resolvedFraction };
+  return { field, amplitude, background, residual, resolvedFraction, amplitudeMedian };
 }
 
 /**
- * Masks the usable pixels in [i0, i1) whose amplitude is at most `limit` and takes their confidence x cos 4 theta and
- * x sin 4 theta from sums[0] and sums[1], in pixel order; returns how many it masked. A run of pixels per call: a
- * short loop the engine optimises whole.
+ * Hands an angle series' per-pixel arrays (its field's, and the amplitude, background and residual planes) back to
+ * the array pool (src/common/arrayPool.ts) for the next reading of the same size, which then writes its own into
+ * pages already touched. For the one who holds the reading and is done with it: nothing may read it afterwards.
  */
-function maskLowAmplitude(mask: Uint8Array, amplitude: Float32Array, confidence: Float32Array, angleRad: Float32Array, limit: number, sums: Float64Array, i0: number, i1: number): number {
+export function recycleAngleSeries(r: { field: OrientationField; amplitude?: Float32Array | null; background?: Float32Array | null; residual?: Float32Array | null }): void {
+  const f = r.field;
+  giveBack(f.angleRad, f.cos2, f.sin2, f.confidence, f.mask, f.clipped, f.ambiguous, r.amplitude, r.background, r.residual);
+}
+
+/**
+ * Masks the usable pixels in [i0, i1) whose amplitude is at most `limit`, takes them out of the amplitudes' rank
+ * counts and takes their confidence x cos 4 theta and x sin 4 theta from sums[0] and sums[1], in pixel order; returns
+ * how many it masked. A run of pixels per call: a short loop the engine optimises whole.
+ */
+function maskLowAmplitude(mask: Uint8Array, amplitude: Float32Array, confidence: Float32Array, angleRad: Float32Array, limit: number, sums: Float64Array, counts: RankCounts, i0: number, i1: number): number {
   let masked = 0;
   for (let i = i0; i < i1; i++) {
     if (!mask[i] || !(amplitude[i] <= limit)) continue;
     mask[i] = 0; masked++;
+    uncount(counts, i);
     const w = confidence[i];
     if (w !== 0) { sums[0] -= w * Math.cos(4 * angleRad[i]); sums[1] -= w * Math.sin(4 * angleRad[i]); }
   }

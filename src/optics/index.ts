@@ -37,7 +37,7 @@ export { phaseCorrelation, gradientMagnitude, registrationCheck } from './regist
 export type { PlatePairOptions, PlatePairReading } from './platePair.ts';
 export { readPlatePair, combinePlatePair, turnedTrain } from './platePair.ts';
 export type { FourierFit, FourAngleOptions, FourAngleResult, PlateSignOptions } from './fourAngle.ts';
-export { angleNoiseFactor, fitFourAngle, fourAngleAnalysis, seriesIntensityImage } from './fourAngle.ts';
+export { angleNoiseFactor, fitFourAngle, fourAngleAnalysis, recycleAngleSeries, seriesIntensityImage } from './fourAngle.ts';
 export type { RenderOptions } from './render.ts';
 export { renderSampleImage } from './render.ts';
-export { valuesOfRanks, type RankSelection } from './ranks.ts';
+export { rankCounts, uncount, valuesOfCountedRanks, valuesOfRanks, type RankCounts, type RankSelection, type SelectionSums } from './ranks.ts';

@@ -677,10 +677,27 @@ function selected(mask: usize, minOf: usize, min: f64, t: i32): bool {
 
 /**
  * The rank selection's first pass over n pixels (src/optics/ranks.ts, highCounts): counts of the selected pixels'
- * sort keys by their upper 16 bits into high (65536 int32s, added to); returns the number selected.
+ * sort keys by their upper 16 bits into high (65536 int32s, added to); returns the number selected. With stats != 0,
+ * also the sum of the selected values in pixel order in float64 (stats + 0, added to) and how many are at least
+ * `atLeast` (int32 at stats + 8, added to).
  */
-export function rankHigh(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, high: usize): i32 {
+export function rankHigh(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, high: usize, stats: usize, atLeast: f64): i32 {
   let count = 0;
+  if (stats) {
+    let sum = load<f64>(stats), above = load<i32>(stats, 8);
+    for (let t = 0; t < n; t++) {
+      if (!selected(mask, minOf, min, t)) continue;
+      const u = load<u32>(bits + (<usize>t << 2)), at = high + (<usize>(sortKey(u) >>> 16) << 2);
+      store<i32>(at, load<i32>(at) + 1);
+      count++;
+      const v = <f64>reinterpret<f32>(u);
+      sum += v;
+      if (v >= atLeast) above++;
+    }
+    store<f64>(stats, sum);
+    store<i32>(stats, above, 8);
+    return count;
+  }
   for (let t = 0; t < n; t++) {
     if (!selected(mask, minOf, min, t)) continue;
     const at = high + (<usize>(sortKey(load<u32>(bits + (<usize>t << 2))) >>> 16) << 2);
@@ -693,13 +710,25 @@ export function rankHigh(bits: usize, mask: usize, minOf: usize, min: f64, n: i3
 /**
  * The rank selection's second pass (src/optics/ranks.ts, lowCounts): counts of the selected pixels' keys in the wanted
  * buckets by their lower 16 bits, at low[slot[bucket] + lower] (slot: 65536 int32s, -1 for buckets not wanted).
+ * With at most four wanted buckets (w0..w3, -1 for none; any: false), four keys at a time are first compared with
+ * them and only groups holding one are looked at pixel by pixel; with any (more buckets wanted), every pixel is.
  */
-export function rankLow(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, slot: usize, low: usize): void {
-  for (let t = 0; t < n; t++) {
-    if (!selected(mask, minOf, min, t)) continue;
-    const key = sortKey(load<u32>(bits + (<usize>t << 2))), o = load<i32>(slot + (<usize>(key >>> 16) << 2));
-    if (o < 0) continue;
-    const at = low + (<usize>(o + <i32>(key & 0xffff)) << 2);
-    store<i32>(at, load<i32>(at) + 1);
+export function rankLow(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, slot: usize, low: usize, any: bool, w0: i32, w1: i32, w2: i32, w3: i32): void {
+  const sign = i32x4.splat(0x80000000), b0 = i32x4.splat(w0), b1 = i32x4.splat(w1), b2 = i32x4.splat(w2), b3 = i32x4.splat(w3);
+  for (let t = 0; t < n; t += 4) {
+    if (!any) {
+      // The four keys' upper halves (the lanes past n are never counted below).
+      const u = v128.load(bits + (<usize>t << 2));
+      const b = i32x4.shr_u(v128.xor(u, v128.or(i32x4.shr_s(u, 31), sign)), 16);
+      if (!v128.any_true(v128.or(v128.or(i32x4.eq(b, b0), i32x4.eq(b, b1)), v128.or(i32x4.eq(b, b2), i32x4.eq(b, b3))))) continue;
+    }
+    const end = t + 4 < n ? t + 4 : n;
+    for (let p = t; p < end; p++) {
+      if (!selected(mask, minOf, min, p)) continue;
+      const key = sortKey(load<u32>(bits + (<usize>p << 2))), o = load<i32>(slot + (<usize>(key >>> 16) << 2));
+      if (o < 0) continue;
+      const at = low + (<usize>(o + <i32>(key & 0xffff)) << 2);
+      store<i32>(at, load<i32>(at) + 1);
+    }
   }
 }

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { valuesOfRanks } from '../../src/optics/index.ts';
+import { rankCounts, uncount, valuesOfCountedRanks, valuesOfRanks } from '../../src/optics/index.ts';
 import { seededRandom } from '../../src/order/random.ts';
 
 /** The reference: the selected values sorted ascending (Float64Array sort is numeric), read at the rank. */
@@ -33,4 +33,34 @@ describe('valuesOfRanks: order statistics by radix selection', () => {
       }
     });
   }
+
+  it('gives the same values across the kernel\'s blocks, with the pass\'s sum and count, and after pixels leave the selection', () => {
+    // 70001 values (more than two of the kernel's blocks of 32768, not a multiple of 4), most in a few buckets of
+    // the upper 16 bits (values near 0.5 and 0.9), so the second pass finds many in the wanted buckets.
+    const n = 70001;
+    const values = Float32Array.from({ length: n }, () => (rand() < 0.7 ? 0.5 + 1e-3 * rand() : rand() < 0.5 ? 0.9 + 1e-4 * rand() : rand()));
+    const mask = Uint8Array.from({ length: n }, () => (rand() < 0.9 ? 1 : 0));
+    const sums = { sum: 0, atLeast: 0.5, countAtLeast: 0 };
+    const counts = rankCounts(values, { mask }, sums);
+    // The reference sum: float64, pixel by pixel in order (the definition), and the count at or above 0.5.
+    let sum = 0, above = 0, count = 0;
+    for (let i = 0; i < n; i++) if (mask[i]) { sum += values[i]; count++; if (values[i] >= 0.5) above++; }
+    expect(counts.count).toBe(count);
+    expect(sums.sum).toBe(sum);
+    expect(sums.countAtLeast).toBe(above);
+    const check = () => {
+      const ref = sortedSelection(values, mask);
+      // Three ranks (at most four buckets: the quick second pass) and seven (every pixel looked at).
+      const few = [Math.floor(0.1 * (ref.length - 1)), ref.length >> 1, Math.floor(0.9 * (ref.length - 1))];
+      const many = [0, 1, few[0], few[1], few[2], Math.floor(0.99 * (ref.length - 1)), ref.length - 1];
+      for (const ranks of [few, many]) expect(valuesOfCountedRanks(counts, ranks)).toEqual(ranks.map((r) => ref[r] + 0));
+    };
+    check();
+    // Pixels leave the selection (the lowest third of those near 0.5, and every tenth pixel): their counts go with them.
+    for (let i = 0; i < n; i++) {
+      if (mask[i] && ((values[i] >= 0.5 && values[i] < 0.5 + 3e-4) || i % 10 === 0)) { mask[i] = 0; uncount(counts, i); }
+    }
+    expect(counts.count).toBe(sortedSelection(values, mask).length);
+    check();
+  });
 });
