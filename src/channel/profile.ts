@@ -6,8 +6,8 @@ import type { OrientationField } from '../orientation/index.ts';
 import { foldEdgeMap, foldMod90, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE } from '../orientation/index.ts';
 import { angleNoiseFactor } from '../optics/index.ts';
 import {
-  accumulateBlocks, axisOrderStat, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
-  type BlockSums, type OrderStat, type Weighting,
+  accumulateBlocks, axisOrderStat, blockCorrelation, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
+  type BlockCorrelation, type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
 import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
 
@@ -172,7 +172,9 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   }
   const refRad = degToRad(axisDeg);
   const binSums = accumulateBlocks(f, { groups: binGroups, groupCount: stations * bins, refRad, blockPx, weighting });
-  const bandSums = accumulateBlocks(f, { groups: bandGroups, groupCount: stations * 2, refRad, blockPx, weighting });
+  const bandSums = accumulateBlocks(f, { groups: bandGroups, groupCount: stations * 2, refRad, blockPx, weighting }).map((b) => withStrata(b, L, blockPx, bins));
+  // One correlation of the block errors for the whole profile, from every bin's blocks (docs/methods.md §9.3).
+  const rho = blockCorrelation(binSums.map((b) => ({ ys: [b.wc], b })));
 
   const stationList: StationProfile[] = [];
   const withheld: Withheld = { clipped: [], foldEdge: [], noise: [] };
@@ -182,16 +184,12 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
     const w = transverse(frame, ch, frame.ox + mid * frame.ux, frame.oy + mid * frame.uy).width;
     stationList.push({
       station: st, alongFromPx: from, alongToPx: to, widthPx: w,
-      ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg, counted ? clipCounts[st] : null, stations > 1 ? `station ${st} ` : '', withheld),
+      ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg, counted ? clipCounts[st] : null, stations > 1 ? `station ${st} ` : '', withheld, rho),
     });
   }
   const pooledBins = Array.from({ length: bins }, (_, b) => merge(Array.from({ length: stations }, (_, st) => binSums[st * bins + b])));
-  const pooled = bandStats(
-    pooledBins,
-    merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2])),
-    merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + 1])),
-    bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld,
-  );
+  const bandOf = (band: number) => merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + band]));
+  const pooled = bandStats(pooledBins, bandOf(0), bandOf(1), bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld, rho);
   if (pooled.core.n === 0 && pooled.skin.n === 0 && pooled.bins.every((b) => b.n === 0)) {
     throw new InputError('no usable pixel lies between the walls', 'Check that the walls are inside the image and that the channel has texture or colour to read');
   }
@@ -260,11 +258,11 @@ function unlessUnread<T extends OrderStat>(stat: T, count: GroupCount | undefine
   return clipped || edge || noisy ? { ...stat, order: NaN, ciLow: NaN, ciHigh: NaN } : stat;
 }
 
-function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number, clip: ClipCounts | null, where: string, withheld: Withheld): BandStats {
+function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins: number, axisDeg: number, clip: ClipCounts | null, where: string, withheld: Withheld, rho: BlockCorrelation): BandStats {
   const list: ProfileBin[] = binSums.map((b, k) => {
     const m = totalMoments(b);
     const sLow = -1 + (2 * k) / bins, sHigh = -1 + (2 * (k + 1)) / bins;
-    const stat = unlessUnread(axisOrderStat(b), clip?.bins[k], `${where}bin ${k}`, withheld);
+    const stat = unlessUnread(axisOrderStat(b, rho), clip?.bins[k], `${where}bin ${k}`, withheld);
     const given = Number.isFinite(stat.order) && m.w > 0;
     return {
       s: (sLow + sHigh) / 2, sLow, sHigh, ...stat,
@@ -272,8 +270,8 @@ function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins:
       directorDeg: given ? wrapAxialDeg(axisDeg + radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN,
     };
   });
-  const c = unlessUnread(axisOrderStat(core), clip?.core, `${where}core`, withheld);
-  const s = unlessUnread(axisOrderStat(skin), clip?.skin, `${where}skin`, withheld);
+  const c = unlessUnread(axisOrderStat(core, rho), clip?.core, `${where}core`, withheld);
+  const s = unlessUnread(axisOrderStat(skin, rho), clip?.skin, `${where}skin`, withheld);
   // Core and skin are different pixels, blocks apart: their estimates are taken as independent. The
   // degrees of freedom of a - R b at the estimated ratio by Welch-Satterthwaite (GUM G.4.1).
   const ratio = c.order / s.order;
@@ -284,6 +282,33 @@ function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins:
     coreSkinRatio: ratioCi ? ratio : NaN,
     coreSkinRatioCiLow: ratioCi ? ratioCi[0] : NaN, coreSkinRatioCiHigh: ratioCi ? ratioCi[1] : NaN,
   };
+}
+
+/** Most strata a band's variance keeps apart (neighbouring bins share one beyond that): its cost grows as their square. */
+const MAX_STRATA = 16;
+
+/**
+ * A band's blocks with their strata: each block in the bin of its cell's centre (kept within the band's bins), so that
+ * the band's variance takes residuals about each bin's own ratio and does not count the order's change across the
+ * band as noise (src/order/intervals.ts); neighbouring bins share a stratum beyond MAX_STRATA.
+ */
+function withStrata(b: BlockSums, L: ReturnType<typeof transverseLinear>, blockPx: number, bins: number): BlockSums {
+  const m = b.n.length, binOf = new Int32Array(m);
+  for (let k = 0; k < m; k++) {
+    const x = (b.bx[k] + 0.5) * blockPx - 0.5, y = (b.by[k] + 0.5) * blockPx - 0.5;
+    const t0 = L.t0.c + L.t0.cx * x + L.t0.cy * y, t1 = L.t1.c + L.t1.cx * x + L.t1.cy * y;
+    const s = -1 - (2 * t0) / (t1 - t0);
+    binOf[k] = Math.max(0, Math.min(bins - 1, Math.floor(((s + 1) * bins) / 2)));
+  }
+  // The band's own bins: those its blocks' pixels lie in (a cell centre just outside the band belongs to its nearest).
+  const used = new Uint8Array(bins);
+  for (let k = 0; k < m; k++) if (b.n[k] > 0) used[binOf[k]] = 1;
+  const rank = new Int32Array(bins);
+  let count = 0;
+  for (let i = 0; i < bins; i++) { rank[i] = count; count += used[i]; }
+  const H = Math.min(MAX_STRATA, Math.max(1, count));
+  const strata = Int32Array.from(binOf, (bin) => Math.floor((rank[bin] * H) / Math.max(1, count)));
+  return { ...b, strata };
 }
 
 function merge(parts: BlockSums[]): BlockSums {
@@ -297,6 +322,7 @@ function merge(parts: BlockSums[]): BlockSums {
     w: cat((b) => b.w, (n) => new Float64Array(n)), wc: cat((b) => b.wc, (n) => new Float64Array(n)),
     ws: cat((b) => b.ws, (n) => new Float64Array(n)), n: cat((b) => b.n, (n) => new Uint32Array(n)),
     bx: cat((b) => b.bx, (n) => new Int32Array(n)), by: cat((b) => b.by, (n) => new Int32Array(n)),
+    ...(parts.every((p) => p.strata) ? { strata: cat((b) => b.strata!, (n) => new Int32Array(n)) } : {}),
   };
 }
 

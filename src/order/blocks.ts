@@ -11,6 +11,11 @@ export interface BlockSums {
   /** Block column and row on the image's block grid: neighbouring blocks are correlated near their shared edge. */
   bx: Int32Array;
   by: Int32Array;
+  /**
+   * Stratum of each block where a region is the union of strata (a profile's band: the pieces of its bins, numbered
+   * from 0); the variance then takes residuals about each stratum's own ratio (src/order/intervals.ts).
+   */
+  strata?: Int32Array;
 }
 
 export interface Moments { w: number; wc: number; ws: number; n: number }

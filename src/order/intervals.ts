@@ -2,18 +2,20 @@
  * Intervals for order parameters from block sums. Each block of neighbouring pixels is one unit of a
  * cluster sample, and an order parameter is a ratio of sums over units, S = sum y_k / sum w_k. Its
  * variance by linearisation (the ratio estimator of cluster sampling; Cochran 1977, Sampling
- * Techniques, 3rd ed., section 6.11, with the finite-population factor dropped and the n / (n - 1)
- * small-sample factor kept), with residuals e_k = y_k - S w_k:
+ * Techniques, 3rd ed., section 6.11, finite-population factor dropped), with residuals e_k = y_k - S w_k:
  *
- *   var(S) = n / (n - 1) * (sum_k e_k^2 + 2 sum_{k~j} e_k e_j) / (sum_k w_k)^2,
+ *   var(S) = e'e / (factor (sum_k w_k)^2),
  *
- * where k~j runs over pairs of blocks that touch (at an edge or a corner) or are pieces of one block:
- * blocks several correlation lengths across are nearly, not fully, independent, and the pixels either
- * side of a shared edge are correlated (a spatial version of the heteroscedasticity-and-autocorrelation-consistent
- * variance; Conley 1999, J. Econometrics 92:1). The neighbour term never lowers the variance below the
- * independent-blocks value. The interval is S +- t(0.975, dof) sqrt(var(S)), Student's t for the few
- * blocks a narrow bin holds, drawn on the atanh scale (stabilisedInterval), so it always holds the estimate. See
- * docs/methods.md, "Intervals for order parameters".
+ * where the factor (workingModel) undoes the bias of e'e under a working covariance of the block sums in which
+ * neighbouring blocks (sharing an edge, touching at a corner, or one block apart: PAIR_CLASSES) are correlated:
+ * blocks a correlation length or two across are nearly, not fully, independent. That correlation is estimated once
+ * from many blocks (blockCorrelation: every bin of a profile), not from each interval's own few cross products, whose
+ * noise gave a narrow bin 1-2 degrees of freedom. Where a region is the union of strata (a profile's band, each block
+ * in the bin of its centre), the residuals are taken about each stratum's own ratio, e_k = y_k - S_h w_k, so that the
+ * order's change across the band is not counted as noise (the variance of a stratified sample; Cochran 1977, section
+ * 5A). The interval is S +- t(0.975, dof) sqrt(var(S)), Student's t at the Satterthwaite dof of e'e under the same
+ * model (fewer where the correlation's own jackknife spread says so: blockDesign), drawn on the atanh scale
+ * (stabilisedInterval), so it always holds the estimate. See docs/methods.md, "Intervals for order parameters".
  */
 import type { BlockSums } from './blocks.ts';
 import { studentTQuantile as studentQuantile } from '../common/index.ts';
@@ -37,21 +39,22 @@ export const INTERVAL_LEVEL = 0.95;
 
 /**
  * S_axis = sum w cos 2(theta - axis) / sum w over the blocks, with its interval, clipped to [-1, 1].
- * (The block sums' wc are already taken relative to the axis.)
+ * (The block sums' wc are already taken relative to the axis.) `correlation`: the block errors' correlation
+ * estimated over more blocks (blockCorrelation over a profile's bins); by default from these blocks' own wc.
  */
-export function axisOrderStat(b: BlockSums): OrderStat {
-  return ratioStat(b.wc, b.w, b, -1, 1);
+export function axisOrderStat(b: BlockSums, correlation?: BlockCorrelation): OrderStat {
+  return ratioStat(b.wc, b.w, b, -1, 1, blockDesign(b.w, b, correlation ?? blockCorrelation([{ ys: [b.wc], b }])));
 }
 
 /**
  * S_2D = |sum w exp(2 i theta)| / sum w with its interval: the linearised variance of the projection of
  * each block's sums on the estimated director (the modulus's own first-order variance). Whether the
  * data fix a director at all is Hotelling's T^2 test of the mean doubled-angle vector against 0 (with
- * the same block residuals, neighbour terms included): T^2 <= 2 (m - 1) / (m - 2) F(0.95; 2, m - 2),
+ * the same block residuals and bias factor): T^2 <= 2 (m - 1) / (m - 2) F(0.95; 2, m - 2),
  * m = degrees of freedom + 1 (Hotelling 1931; Mardia & Jupp 2000, Directional Statistics, section 6.3.1
  * for its use on axial data). Where it does not, the lower limit is 0; the upper limit still bounds S_2D.
  */
-export function freeOrderStat(b: BlockSums): OrderStat & { directorDetermined: boolean } {
+export function freeOrderStat(b: BlockSums, correlation?: BlockCorrelation): OrderStat & { directorDetermined: boolean } {
   let c = 0, s = 0, sw = 0;
   for (let k = 0; k < b.w.length; k++) { c += b.wc[k]; s += b.ws[k]; sw += b.w[k]; }
   const r = Math.hypot(c, s);
@@ -61,14 +64,14 @@ export function freeOrderStat(b: BlockSums): OrderStat & { directorDetermined: b
     along[k] = b.wc[k] * cu + b.ws[k] * su;
     across[k] = -b.wc[k] * su + b.ws[k] * cu;
   }
-  const design = blockDesign(b.w, b);
+  const design = blockDesign(b.w, b, correlation ?? blockCorrelation([{ ys: [along], b }]));
   const st = ratioStat(along, b.w, b, 0, 1, design);
   if (!Number.isFinite(st.se) || !(sw > 0)) return { ...st, directorDetermined: false };
   // The across component's estimate is 0 by construction; its spread and its covariance with the along
   // component complete the 2 x 2 covariance (same residual quadratic form and bias factor).
-  const { pairs, factor } = design;
-  const ea = residuals(along, b.w, b.n, st.order), ex = residuals(across, b.w, b.n, 0);
-  const sx2 = quadraticForm(ex, ex, pairs) / factor / (sw * sw), cov = quadraticForm(ea, ex, pairs) / factor / (sw * sw);
+  const { factor } = design;
+  const ea = residuals(along, b.w, b.n, b.strata), ex = residuals(across, b.w, b.n, b.strata);
+  const sx2 = dotProduct(ex, ex) / factor / (sw * sw), cov = dotProduct(ea, ex) / factor / (sw * sw);
   const sa = st.se;
   const det = sa * sa * sx2 - cov * cov;
   const t2 = det > 0 ? (st.order * st.order * sx2) / det : Infinity;
@@ -107,7 +110,7 @@ export function stabilisedInterval(est: number, se: number, t: number): [number,
  * Ratio sum y / sum w over the blocks with its linearised variance and Student's t, the interval drawn on
  * the atanh scale (stabilisedInterval) and clipped to [lo, hi].
  */
-export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>, lo: number, hi: number, design?: BlockDesign): OrderStat {
+export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'>, lo: number, hi: number, design?: BlockDesign): OrderStat {
   const n = b.n;
   let sy = 0, sw = 0, pixels = 0, units = 0;
   for (let k = 0; k < w.length; k++) {
@@ -117,139 +120,291 @@ export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<Bl
   if (!(sw > 0)) return { order: NaN, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units, dof: 0 };
   const est = sy / sw;
   if (units < 2) return { order: est, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units, dof: 0 };
-  const e = residuals(y, w, n, est);
-  const { pairs, factor, dof } = design ?? blockDesign(w, b);
-  const se = Math.sqrt(quadraticForm(e, e, pairs) / factor) / sw;
+  const e = residuals(y, w, n, b.strata);
+  const { factor, dof } = design ?? blockDesign(w, b, blockCorrelation([{ ys: [y], b: { w, n, bx: b.bx, by: b.by, strata: b.strata } }]));
+  const se = Math.sqrt(dotProduct(e, e) / factor) / sw;
   const [ciLow, ciHigh] = stabilisedInterval(est, se, studentQuantile(0.5 + INTERVAL_LEVEL / 2, dof));
   // Clipped to the statistic's range, never past the estimate itself (float rounding can put an S of
   // exactly 1 a hair above 1).
   return { order: est, ciLow: Math.min(est, Math.max(lo, ciLow)), ciHigh: Math.max(est, Math.min(hi, ciHigh)), n: pixels, se, blocks: units, dof };
 }
 
-/** What the variance of every ratio over the same blocks and weights shares: the neighbour pairs, bias factor and dof. */
-interface BlockDesign { pairs: BlockPairs; factor: number; dof: number }
+/** What the variance of every ratio over the same blocks and weights shares: the bias factor and the dof. */
+interface BlockDesign { factor: number; dof: number }
 
-function blockDesign(w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by'>): BlockDesign {
-  const pairs = neighbourPairs(b);
-  return { pairs, ...varianceCorrection(w, b.n, pairs) };
+/**
+ * Bias factor and dof of one group's variance under the pooled correlation (workingModel); when the correlation came
+ * from several groups, its own error enters the dof: var(log var S) = 2 / dof + var(log factor), the second term by
+ * the jackknife over those groups (Efron & Stein 1981, Ann. Stat. 9:586), dof' = 2 / (2 / dof + var(log factor)).
+ */
+function blockDesign(w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'>, rho: BlockCorrelation): BlockDesign {
+  const pairs = laggedPairs(b);
+  const { factor, dof } = workingModel(w, b.n, pairs, rho, b.strata);
+  const loo = rho.leaveOneOut;
+  if (!loo || loo.length < 3) return { factor, dof };
+  // Jackknife variance (G - 1) / G sum (x_(i) - mean)^2 of x = log factor.
+  const logs = loo.map((r) => Math.log(workingModel(w, b.n, pairs, { rho: r }, b.strata, false).factor));
+  const mean = logs.reduce((a, x) => a + x, 0) / logs.length;
+  const varLog = ((logs.length - 1) / logs.length) * logs.reduce((a, x) => a + (x - mean) ** 2, 0);
+  return { factor, dof: Math.max(1, 2 / (2 / dof + varLog)) };
 }
 
-/** Linearised residuals y_k - est w_k of the live blocks (0 elsewhere). */
-function residuals(y: ArrayLike<number>, w: ArrayLike<number>, n: ArrayLike<number>, est: number): Float64Array {
+/** sum_k e_k f_k. */
+function dotProduct(e: Float64Array, f: Float64Array): number {
+  let s = 0;
+  for (let k = 0; k < e.length; k++) s += e[k] * f[k];
+  return s;
+}
+
+/** Stratum of each block (all 0 without strata) and the number of strata. */
+function strataOf(m: number, strata: ArrayLike<number> | undefined): { h: Int32Array; count: number } {
+  const h = new Int32Array(m);
+  let count = 1;
+  if (strata) for (let k = 0; k < m; k++) { h[k] = strata[k]; count = Math.max(count, strata[k] + 1); }
+  return { h, count };
+}
+
+/**
+ * Linearised residuals y_k - S_h w_k of the live blocks (0 elsewhere), S_h = sum y / sum w over the blocks of
+ * the block's stratum (one stratum, the whole group, without `strata`).
+ */
+function residuals(y: ArrayLike<number>, w: ArrayLike<number>, n: ArrayLike<number>, strata?: ArrayLike<number>): Float64Array {
+  const { h, count } = strataOf(w.length, strata);
+  const sy = new Float64Array(count), sw = new Float64Array(count);
+  for (let k = 0; k < w.length; k++) if (n[k] > 0) { sy[h[k]] += y[k]; sw[h[k]] += w[k]; }
   const e = new Float64Array(w.length);
-  for (let k = 0; k < w.length; k++) if (n[k] > 0) e[k] = y[k] - est * w[k];
+  for (let k = 0; k < w.length; k++) if (n[k] > 0) e[k] = y[k] - (sw[h[k]] > 0 ? sy[h[k]] / sw[h[k]] : 0) * w[k];
   return e;
 }
 
-/** Offsets (dx, dy) to the blocks after a block within Chebyshev distance `m` (each pair once). */
-function neighbourOffsets(m: number): [number, number][] {
-  const out: [number, number][] = [];
-  for (let dy = 0; dy <= m; dy++) for (let dx = -m; dx <= m; dx++) if (dy > 0 || dx > 0) out.push([dx, dy]);
-  return out;
+/**
+ * Correlation of two blocks' errors (each block sum's error scaled by sqrt(v_k), v_k = w_k^2 / n_k) by the pair's
+ * class (PAIR_CLASSES): `rho[c - 1]` for class c; 0 beyond the classes.
+ */
+export interface BlockCorrelation {
+  rho: readonly number[];
+  /** The same estimate with each group left out in turn (jackknife), when it came from three or more groups. */
+  leaveOneOut?: (readonly number[])[];
 }
-const NEIGHBOURS = neighbourOffsets(1);
-
-/** Pairs of live blocks (each pair once, as two parallel index arrays). */
-export interface BlockPairs { a: Int32Array; b: Int32Array }
 
 /**
- * Pairs of live blocks whose residuals are taken as correlated: pieces of one block, and blocks that
- * touch at an edge or a corner.
+ * Classes of block pairs taken as correlated, by where the two blocks lie on the block grid: 1, sharing an edge (or
+ * pieces of one block, as when a bin's edge cuts a block: they share the cut); 2, touching at a corner only; 3, one
+ * block between (Chebyshev distance 2). A corner pair shares far fewer nearby pixels than an edge pair, so their
+ * correlations differ: one value for both overstated the variance of wide regions, whose blocks have as many corner
+ * as edge neighbours, where thin bins (from which the value is estimated) have few.
  */
-export function neighbourPairs(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): BlockPairs {
-  const m = b.n.length;
-  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-  for (let k = 0; k < m; k++) {
+export const PAIR_CLASSES = 3;
+const pairClass = (dx: number, dy: number): number => {
+  const ax = Math.abs(dx), ay = Math.abs(dy);
+  return Math.max(ax, ay) === 2 ? 3 : ax + ay === 2 ? 2 : 1;
+};
+
+/** Pairs of live blocks within Chebyshev distance 2 (each pair once), with their class (pairClass). */
+export interface LaggedPairs { a: Int32Array; b: Int32Array; lag: Uint8Array }
+
+export function laggedPairs(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): LaggedPairs {
+  const cells = new Map<number, number[]>();
+  const key = (x: number, y: number) => (x + 32768) * 65536 + (y + 32768);
+  for (let k = 0; k < b.n.length; k++) {
     if (!(b.n[k] > 0)) continue;
-    x0 = Math.min(x0, b.bx[k]); x1 = Math.max(x1, b.bx[k]); y0 = Math.min(y0, b.by[k]); y1 = Math.max(y1, b.by[k]);
+    const c = key(b.bx[k], b.by[k]), list = cells.get(c);
+    if (list) list.push(k); else cells.set(c, [k]);
   }
-  if (!(x1 >= x0)) return { a: new Int32Array(0), b: new Int32Array(0) };
-  // The live blocks of each grid cell as a list in increasing index (head per cell, next per block), on a grid
-  // with a margin of one cell so that every neighbour's cell exists.
-  const gw = x1 - x0 + 3, cell = (k: number) => (b.by[k] - y0 + 1) * gw + (b.bx[k] - x0 + 1);
-  const head = new Int32Array(gw * (y1 - y0 + 3)).fill(-1), next = new Int32Array(m).fill(-1);
-  for (let k = m - 1; k >= 0; k--) {
+  const a: number[] = [], c: number[] = [], lag: number[] = [];
+  for (let k = 0; k < b.n.length; k++) {
     if (!(b.n[k] > 0)) continue;
-    const c = cell(k);
-    next[k] = head[c]; head[c] = k;
-  }
-  const offsets = NEIGHBOURS.map(([dx, dy]) => dy * gw + dx);
-  // Pieces of the same block with a later index, then the neighbours right, below-left, below and
-  // below-right; counted first, then written.
-  const visit = (emit: (k: number, j: number) => void) => {
-    for (let k = 0; k < m; k++) {
-      if (!(b.n[k] > 0)) continue;
-      const c = cell(k);
-      for (let j = next[k]; j >= 0; j = next[j]) emit(k, j);
-      for (const o of offsets) for (let j = head[c + o]; j >= 0; j = next[j]) emit(k, j);
+    for (let dy = -2; dy <= 2; dy++) for (let dx = -2; dx <= 2; dx++) {
+      for (const j of cells.get(key(b.bx[k] + dx, b.by[k] + dy)) ?? []) {
+        if (j > k) { a.push(k); c.push(j); lag.push(pairClass(dx, dy)); }
+      }
     }
-  };
-  let count = 0;
-  visit(() => { count++; });
-  const pa = new Int32Array(count), pb = new Int32Array(count);
-  let i = 0;
-  visit((k, j) => { pa[i] = k; pb[i] = j; i++; });
-  return { a: pa, b: pb };
-}
-
-/**
- * e' A f with A = 1 on the diagonal and on both orders of every pair (symmetrised for e != f), never
- * below the diagonal part sum e f when e = f: the neighbour terms only ever add variance.
- */
-function quadraticForm(e: Float64Array, f: Float64Array, pairs: BlockPairs): number {
-  let diag = 0, cross = 0;
-  for (let k = 0; k < e.length; k++) diag += e[k] * f[k];
-  for (let i = 0; i < pairs.a.length; i++) {
-    const k = pairs.a[i], j = pairs.b[i];
-    cross += e[k] * f[j] + e[j] * f[k];
   }
-  return e === f ? Math.max(diag, diag + cross) : diag + cross;
+  return { a: Int32Array.from(a), b: Int32Array.from(c), lag: Uint8Array.from(lag) };
 }
 
 /**
- * Bias factor and degrees of freedom of the neighbour-pair variance estimator V = e' A e (A = 1 on the
- * diagonal and on neighbour pairs; e = M y the residuals, M = I - w 1' / sum w). Under a working model
- * of independent blocks with var y_k = v_k (v_k = w_k^2 / n_k: pixels of equal variance and weight),
- * E[V] = tr(A P) with P = M diag(v) M', while the ratio's numerator has variance sum v. The factor
- * tr(A P) / sum v is below 1 (residuals about an estimated mean are smaller than the errors, and their
- * neighbour products are negative on average) and V / factor undoes that bias: the small-sample
- * correction of Bell & McCaffrey (2002, Survey Methodology 28:169) for a quadratic-form variance, here
- * with a scalar factor. Degrees of freedom by Satterthwaite's approximation under the same model
- * (Satterthwaite 1946, Biometrics Bulletin 2:110): nu = tr(A P)^2 / tr((A P)^2). P is diag(v) plus two
- * rank-one terms, so both traces take a few passes over the pairs. See docs/methods.md, "Intervals for
- * order parameters".
+ * The moments of one group's residuals under the working covariance cov(y) = sum_L theta_L S_L, S_0 = diag(v)
+ * (v_k = w_k^2 / n_k: pixels of equal variance and weight) and S_L = sqrt(v_k v_j) on the pairs of class L
+ * (PAIR_CLASSES). With residuals e = M y, M = I - sum_h w_h 1_h' / W_h (per stratum h; one without `strata`),
+ * E[e' B_a e] = sum_b theta_b c[a][b] with B_0 = I, B_L the pairs' adjacency, and
+ * c[a][b] = tr(B_a M S_b M') = tr(B_a S_b) - 2 sum_h (B_a w_h)'(S_b 1_h) / W_h
+ *           + sum_{h,g} (w_g' B_a w_h)(1_h' S_b 1_g) / (W_h W_g).
  */
-export function varianceCorrection(w: ArrayLike<number>, n: ArrayLike<number>, pairs: BlockPairs): { factor: number; dof: number } {
+function groupMoments(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs, strata?: ArrayLike<number>) {
   const m = w.length;
-  const v = new Float64Array(m), wl = new Float64Array(m);
-  let V = 0, W = 0;
-  for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { wl[k] = w[k]; v[k] = (w[k] * w[k]) / n[k]; V += v[k]; W += w[k]; }
-  if (!(V > 0) || !(W > 0)) return { factor: 1, dof: 1 };
-  const mulA = (x: Float64Array) => {
-    const out = Float64Array.from(x);
-    for (let i = 0; i < pairs.a.length; i++) { const k = pairs.a[i], j = pairs.b[i]; out[k] += x[j]; out[j] += x[k]; }
+  const { h: hOf, count: H } = strataOf(m, strata);
+  const v = new Float64Array(m), Wh = new Float64Array(H);
+  for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { v[k] = (w[k] * w[k]) / n[k]; Wh[hOf[k]] += w[k]; }
+  const d = PAIR_CLASSES + 1;
+  /** S_L x or B_L x (unit weights on the pairs, identity for L = 0). */
+  const mul = (L: number, x: Float64Array, unit: boolean) => {
+    const out = new Float64Array(m);
+    if (L === 0) { for (let k = 0; k < m; k++) out[k] = (unit ? 1 : v[k]) * x[k]; return out; }
+    for (let i = 0; i < pairs.a.length; i++) {
+      if (pairs.lag[i] !== L) continue;
+      const k = pairs.a[i], j = pairs.b[i], s = unit ? 1 : Math.sqrt(v[k] * v[j]);
+      out[k] += s * x[j]; out[j] += s * x[k];
+    }
+    return out;
+  };
+  const c = Array.from({ length: d }, () => new Array<number>(d).fill(0));
+  // tr(B_a S_b) is sum v for a = b = 0, 2 sum sqrt(v_k v_j) over the class-L pairs for a = b = L, else 0.
+  for (let k = 0; k < m; k++) c[0][0] += v[k];
+  for (let i = 0; i < pairs.a.length; i++) c[pairs.lag[i]][pairs.lag[i]] += 2 * Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]);
+  // Per stratum h: B_a w_h and S_b 1_h, and their sums over each stratum g (R_a[g][h] = w_g' B_a w_h, T_b[g][h] = 1_g' S_b 1_h).
+  const R = Array.from({ length: d }, () => Array.from({ length: H }, () => new Float64Array(H)));
+  const T = Array.from({ length: d }, () => Array.from({ length: H }, () => new Float64Array(H)));
+  for (let h = 0; h < H; h++) {
+    if (!(Wh[h] > 0)) continue;
+    const wh = new Float64Array(m), oh = new Float64Array(m);
+    for (let k = 0; k < m; k++) if (hOf[k] === h && v[k] > 0) { wh[k] = w[k]; oh[k] = 1; }
+    const Bw = Array.from({ length: d }, (_, L) => mul(L, wh, true)), S1 = Array.from({ length: d }, (_, L) => mul(L, oh, false));
+    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
+      let s = 0;
+      for (let k = 0; k < m; k++) s += Bw[a][k] * S1[b][k];
+      c[a][b] -= (2 * s) / Wh[h];
+    }
+    for (let L = 0; L < d; L++) for (let k = 0; k < m; k++) {
+      if (!(v[k] > 0)) continue;
+      R[L][hOf[k]][h] += w[k] * Bw[L][k];
+      T[L][hOf[k]][h] += S1[L][k];
+    }
+  }
+  for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
+    let s = 0;
+    for (let h = 0; h < H; h++) for (let g = 0; g < H; g++) if (Wh[h] > 0 && Wh[g] > 0) s += (R[a][g][h] * T[b][h][g]) / (Wh[h] * Wh[g]);
+    c[a][b] += s;
+  }
+  return { c };
+}
+
+/**
+ * Correlation of the block errors by pair class, estimated once from many blocks (every bin of a profile, or the
+ * blocks of one region) by the method of moments, instead of from each interval's own few cross products: in each
+ * group (its blocks b, and one or more components ys sharing them, each with residuals e about its own ratio, or its
+ * strata's), E[e' B_a e] = sum_b theta_b c[a][b] (groupMoments); the sums over all groups and components of e'e and
+ * e' B_L e are solved for theta, and rho_L = theta_L / theta_0, kept in [0, 1]. With three groups or more, the
+ * estimate with each group left out in turn goes along (the jackknife behind blockDesign's dof).
+ * Taking the pooled correlation in place of each bin's cross products is the variance of a mean of autocorrelated
+ * data from an estimated correlation function (Bayley & Hammersley 1946, J. R. Stat. Soc. Suppl. 8:184); the moment
+ * equations are those of a quadratic form's expectation (Searle 1971, Linear Models, ch. 2). See docs/methods.md,
+ * "Intervals for order parameters" (also for which components a profile and a region use, and why).
+ */
+export function blockCorrelation(groups: { ys: ArrayLike<number>[]; b: { w: ArrayLike<number> } & Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'> }[]): BlockCorrelation {
+  const parts: { C: number[][]; q: number[] }[] = [];
+  const memo = new Map<object, { c: number[][]; pairs: LaggedPairs }>();
+  for (const { ys, b } of groups) {
+    let sw = 0, units = 0;
+    for (let k = 0; k < b.w.length; k++) if (b.n[k] > 0) { sw += b.w[k]; units++; }
+    if (!(sw > 0) || units < 2) continue;
+    let g = memo.get(b);
+    if (!g) { const pairs = laggedPairs(b); g = { c: groupMoments(b.w, b.n, pairs, b.strata).c, pairs }; memo.set(b, g); }
+    const q = new Array<number>(PAIR_CLASSES + 1).fill(0);
+    for (const y of ys) {
+      const e = residuals(y, b.w, b.n, b.strata);
+      for (let k = 0; k < e.length; k++) q[0] += e[k] * e[k];
+      for (let i = 0; i < g.pairs.a.length; i++) q[g.pairs.lag[i]] += 2 * e[g.pairs.a[i]] * e[g.pairs.b[i]];
+    }
+    parts.push({ C: g.c.map((row) => row.map((x) => ys.length * x)), q });
+  }
+  const d = PAIR_CLASSES + 1;
+  const fit = (skip: number): number[] => {
+    const C = Array.from({ length: d }, () => new Array<number>(d).fill(0)), q = new Array<number>(d).fill(0);
+    parts.forEach((p, i) => { if (i === skip) return; for (let a = 0; a < d; a++) { q[a] += p.q[a]; for (let c = 0; c < d; c++) C[a][c] += p.C[a][c]; } });
+    const theta = solveMoments(C, q);
+    return Array.from({ length: PAIR_CLASSES }, (_, c) => (theta && theta[0] > 0 ? Math.min(1, Math.max(0, theta[c + 1] / theta[0])) : 0));
+  };
+  const rho = fit(-1);
+  return parts.length >= 3 ? { rho, leaveOneOut: parts.map((_, i) => fit(i)) } : { rho };
+}
+
+/** Solves C theta = q by Gaussian elimination with partial pivoting, leaving out lags without pairs (theta 0); null if singular. */
+function solveMoments(C: number[][], q: number[]): number[] | null {
+  const keep = C.map((_, i) => i).filter((i) => Math.abs(C[i][i]) > 1e-12 * Math.abs(C[0][0]));
+  const M = keep.map((i) => [...keep.map((j) => C[i][j]), q[i]]), n = keep.length;
+  for (let col = 0; col < n; col++) {
+    let p = col;
+    for (let r = col + 1; r < n; r++) if (Math.abs(M[r][col]) > Math.abs(M[p][col])) p = r;
+    [M[col], M[p]] = [M[p], M[col]];
+    if (!(Math.abs(M[col][col]) > 0)) return null;
+    for (let r = 0; r < n; r++) {
+      if (r === col) continue;
+      const f = M[r][col] / M[col][col];
+      for (let k = col; k <= n; k++) M[r][k] -= f * M[col][k];
+    }
+  }
+  const theta = new Array<number>(C.length).fill(0);
+  keep.forEach((i, r) => { theta[i] = M[r][n] / M[r][r]; });
+  return theta;
+}
+
+/**
+ * Bias factor and degrees of freedom of the variance e'e of one group under the working covariance
+ * S = S_0 + rho_1 S_1 + rho_2 S_2 (groupMoments) with the pooled correlation (blockCorrelation). The residuals are
+ * e = M y with M = I - sum_h w_h 1_h' / W_h (w_h, 1_h: w and 1 on the blocks of stratum h, W_h = sum w over them;
+ * one stratum without `strata`), so E[e'e] = theta_0 tr(P), P = M S M', while the numerator sum y has variance
+ * theta_0 1'S1, and var(S) = e'e / (factor W^2) with factor = tr(P) / 1'S1 (the small-sample correction of Bell &
+ * McCaffrey 2002, Survey Methodology 28:169, in its scalar form, here with correlated blocks). Degrees of freedom by
+ * Satterthwaite's approximation under the same model (Satterthwaite 1946, Biometrics Bulletin 2:110):
+ * dof = tr(P)^2 / tr(P^2). With a_h = S 1_h and U = [w_1 .. w_H, a_1 .. a_H], P = S + U K U' with
+ * K = [[D, -diag(1 / W_h)], [-diag(1 / W_h), 0]], D_hg = 1_h' S 1_g / (W_h W_g), so tr(P) = tr(S) + tr(K U'U) and
+ * tr(P^2) = tr(S^2) + 2 tr(K U'SU) + tr((K U'U)^2): a few passes over the pairs per stratum, no n x n matrix.
+ * `withDof` false skips the dof (the jackknife needs only the factor). See docs/methods.md, "Intervals for order
+ * parameters".
+ */
+export function workingModel(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs, rho: BlockCorrelation,
+  strata?: ArrayLike<number>, withDof = true): { factor: number; dof: number } {
+  const m = w.length, r = [1, ...rho.rho];
+  const { h, count: H } = strataOf(m, strata);
+  const v = new Float64Array(m), wl = new Float64Array(m), Wh = new Float64Array(H);
+  for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { wl[k] = w[k]; v[k] = (w[k] * w[k]) / n[k]; Wh[h[k]] += w[k]; }
+  let W = 0;
+  for (let g = 0; g < H; g++) W += Wh[g];
+  if (!(W > 0)) return { factor: 1, dof: 1 };
+  // The working covariance's entries on the pairs, r_L sqrt(v_k v_j).
+  const sPair = new Float64Array(pairs.a.length);
+  for (let i = 0; i < sPair.length; i++) sPair[i] = r[pairs.lag[i]] * Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]);
+  const mulS = (x: Float64Array) => {
+    const out = new Float64Array(m);
+    for (let k = 0; k < m; k++) out[k] = v[k] * x[k];
+    for (let i = 0; i < sPair.length; i++) { const k = pairs.a[i], j = pairs.b[i]; out[k] += sPair[i] * x[j]; out[j] += sPair[i] * x[k]; }
     return out;
   };
   const dot = (x: Float64Array, z: Float64Array) => { let s = 0; for (let k = 0; k < m; k++) s += x[k] * z[k]; return s; };
-  // P = diag(v) + w p' + v q' with p = -v / W + V w / W^2 and q = -w / W.
-  const p = new Float64Array(m), q = new Float64Array(m);
-  for (let k = 0; k < m; k++) { p[k] = -v[k] / W + (V * wl[k]) / (W * W); q[k] = -wl[k] / W; }
-  const as = [mulA(wl), mulA(v)], bs = [p, q];
-  // tr(A P) = sum v + sum_r b_r' (A a_r).
-  const trAP = V + dot(as[0], bs[0]) + dot(as[1], bs[1]);
-  // tr((A P)^2) with A P = A D + sum_r (A a_r) b_r': tr(A D A D) = sum v^2 + 2 sum_pairs v_k v_j, plus
-  // 2 sum_r b_r' A (v o A a_r), plus sum_{r,s} (b_r' A a_s)(b_s' A a_r).
-  let tr2 = 0;
-  for (let k = 0; k < m; k++) tr2 += v[k] * v[k];
-  for (let i = 0; i < pairs.a.length; i++) tr2 += 2 * v[pairs.a[i]] * v[pairs.b[i]];
-  for (let r = 0; r < 2; r++) {
-    const va = new Float64Array(m);
-    for (let k = 0; k < m; k++) va[k] = v[k] * as[r][k];
-    tr2 += 2 * dot(bs[r], mulA(va));
-    for (let s = 0; s < 2; s++) tr2 += dot(bs[r], as[s]) * dot(bs[s], as[r]);
-  }
-  const factor = trAP / V;
-  return { factor: factor > 0 ? factor : 1, dof: tr2 > 0 ? Math.max(1, (trAP * trAP) / tr2) : 1 };
+  // a_h = S 1_h, stored by stratum; 1'S1 = sum of all a.
+  const a = Array.from({ length: H }, () => new Float64Array(m));
+  for (let k = 0; k < m; k++) if (wl[k] > 0) a[h[k]][k] += v[k];
+  for (let i = 0; i < sPair.length; i++) { const k = pairs.a[i], j = pairs.b[i]; a[h[j]][k] += sPair[i]; a[h[k]][j] += sPair[i]; }
+  let trS = 0, total = 0;
+  for (let k = 0; k < m; k++) trS += v[k];
+  for (let g = 0; g < H; g++) for (let k = 0; k < m; k++) total += a[g][k];
+  // D_hg = 1_h' S 1_g / (W_h W_g); the w columns of U.
+  const inH = (g: number, x: Float64Array) => { let s = 0; for (let k = 0; k < m; k++) if (h[k] === g) s += x[k]; return s; };
+  const D = Array.from({ length: H }, (_, p) => Array.from({ length: H }, (_, q) => (Wh[p] > 0 && Wh[q] > 0 ? inH(p, a[q]) / (Wh[p] * Wh[q]) : 0)));
+  const wCols = Array.from({ length: H }, (_, g) => { const x = new Float64Array(m); for (let k = 0; k < m; k++) if (h[k] === g) x[k] = wl[k]; return x; });
+  const U = [...wCols, ...a], d = 2 * H;
+  const K = Array.from({ length: d }, (_, p) => Array.from({ length: d }, (_, q) => {
+    if (p < H && q < H) return D[p][q];
+    if (p < H && q === p + H) return Wh[p] > 0 ? -1 / Wh[p] : 0;
+    if (q < H && p === q + H) return Wh[q] > 0 ? -1 / Wh[q] : 0;
+    return 0;
+  }));
+  // G = U'U; only the entries K touches are needed for tr(K G), all of them for (K G)^2.
+  const G = U.map((x, p) => U.map((z, q) => (q < p ? NaN : dot(x, z))));
+  for (let p = 0; p < d; p++) for (let q = 0; q < p; q++) G[p][q] = G[q][p];
+  const traceOf = (A: number[][], B: number[][]) => { let s = 0; for (let p = 0; p < d; p++) for (let q = 0; q < d; q++) s += A[p][q] * B[q][p]; return s; };
+  const trP = trS + traceOf(K, G);
+  const factor = trP / total;
+  if (!withDof) return { factor: factor > 0 ? factor : 1, dof: 1 };
+  let trS2 = 0;
+  for (let k = 0; k < m; k++) trS2 += v[k] * v[k];
+  for (let i = 0; i < sPair.length; i++) trS2 += 2 * sPair[i] * sPair[i];
+  const SU = U.map(mulS);
+  const USU = U.map((x) => SU.map((z) => dot(x, z)));
+  const KG = K.map((row) => G[0].map((_, q) => row.reduce((s, kp, t) => s + kp * G[t][q], 0)));
+  const trP2 = trS2 + 2 * traceOf(K, USU) + traceOf(KG, KG);
+  return { factor: factor > 0 ? factor : 1, dof: trP2 > 0 && trP > 0 ? Math.max(1, (trP * trP) / trP2) : 1 };
 }
 
 /**
