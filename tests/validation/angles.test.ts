@@ -6,8 +6,8 @@ import { ColourRenderer, renderScene, scene, type OpticalTrain } from './render/
 /**
  * The renderer's angle series (tests/validation/render/, optics.seriesDeg) against closed forms of crossed
  * polarisers, then the quick subset of the angle-series validation (`npm run validate -- --area=angles --quick`):
- * one small channel read with and without the compensator image, and 20 seeded renderings of interval coverage,
- * every row held to its goal.
+ * one small channel read with and without the compensator image (and with it but not its sample-free area), and 20
+ * seeded renderings of interval coverage, every row held to its goal.
  */
 const SERIES = [0, 22.5, 45, 67.5];
 const crossed = (a: number): OpticalTrain => ({ polariserDeg: a, analyserDeg: a + 90, compensator: null, lampK: 3200 });

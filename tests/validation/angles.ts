@@ -12,7 +12,9 @@
  * rendered directors (realised) and of E[cos 2(theta - axis)] (ensemble). Pixels the plate and their neighbours leave
  * undecided are taken within 45 deg of the channel axis; the notes give the folded truth too, |cos 2(theta - axis)|
  * (render/truth.ts mod90Truth). Without --plate the reading gives no order number at all (docs/methods.md §6.3): its
- * profile rows count the numbers given (goal 0), and its coverage rows the intervals given (none).
+ * profile rows count the numbers given (goal 0), and its coverage rows the intervals given (none). With --plate but
+ * without --plate-sample-free (camera exposures 0.6-1, nothing calibrating the compensator image) the rows count the
+ * numbers given: goal none, or every bin within the goal.
  *
  * Rows, as in the channel area (tests/validation/channel.ts), with its goals:
  * 1. given walls (the true inner walls): the largest |bin S - truth| over every bin (goal <= 0.03); an
