@@ -59,7 +59,7 @@ export const PLATE_PAIR_OPTIONS: OptionSpec[] = [
 export const ANGLE_SERIES_OPTIONS: OptionSpec[] = [
   { name: 'angles', kind: 'string', help: 'angles of the crossed polarisers for the images, degrees, one per image', defaultText: numberListText(DEFAULT_ANGLES_DEG) },
   { name: 'plate', kind: 'string', help: 'compensator image that decides the 90-deg choice (its train: the options below)' },
-  { name: 'plate-sample-free', formerName: 'plate-background', kind: 'string', help: 'sample-free area "x,y,w,h" of the compensator image' },
+  { name: 'plate-sample-free', formerName: 'plate-background', kind: 'string', help: 'sample-free area "x,y,w,h" of the compensator image: calibrates it for the 90-deg choice (without it no order number is given)' },
   { name: 'flat', kind: 'string', help: 'open-beam or blank-slide image for flat-field division' },
   { name: 'dark', kind: 'string', help: 'dark image subtracted first' },
   { name: 'amplitude-floor', kind: 'number', help: 'mask pixels below this fraction of the 99th-percentile amplitude', limit: OPTICS_LIMITS.amplitudeFloor },
