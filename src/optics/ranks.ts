@@ -83,8 +83,9 @@ export function valuesOfCountedRanks(c: RankCounts, ranks: number[]): number[] {
     return { bucket: b, rank: r - below };
   });
   const wanted = [...new Set(buckets.map((b) => b.bucket))];
-  // The wanted buckets' low-half counts side by side; slot: a bucket's offset among them, -1 if not wanted.
-  const low = new Int32Array(wanted.length * HALF);
+  // The wanted buckets' low-half counts side by side (and four int32s the kernel adds its uncounted lanes to); slot: a
+  // bucket's offset among them, -1 if not wanted.
+  const low = new Int32Array(wanted.length * HALF + 4);
   const slot = new Int32Array(HALF).fill(-1);
   wanted.forEach((b, k) => { slot[b] = k * HALF; });
   lowCounts(bits, sel.mask, sel.minOf ?? null, sel.min ?? -Infinity, slot, wanted, low);

@@ -710,17 +710,35 @@ export function rankHigh(bits: usize, mask: usize, minOf: usize, min: f64, n: i3
 /**
  * The rank selection's second pass (src/optics/ranks.ts, lowCounts): counts of the selected pixels' keys in the wanted
  * buckets by their lower 16 bits, at low[slot[bucket] + lower] (slot: 65536 int32s, -1 for buckets not wanted).
- * With at most four wanted buckets (w0..w3, -1 for none; any: false), four keys at a time are first compared with
- * them and only groups holding one are looked at pixel by pixel; with any (more buckets wanted), every pixel is.
+ * With at most four wanted buckets (w0..w3, -1 for none; any: false), the k-th at low[65536 k], four keys at a time
+ * are first compared with them and only groups holding one are counted; without minOf, a group's four counts are
+ * made without a branch, the lanes not counted adding to the four int32s just past the wanted buckets' counts (one
+ * sink per lane). With
+ * any (more buckets wanted), every pixel is looked at.
  */
 export function rankLow(bits: usize, mask: usize, minOf: usize, min: f64, n: i32, slot: usize, low: usize, any: bool, w0: i32, w1: i32, w2: i32, w3: i32): void {
   const sign = i32x4.splat(0x80000000), b0 = i32x4.splat(w0), b1 = i32x4.splat(w1), b2 = i32x4.splat(w2), b3 = i32x4.splat(w3);
+  const lowBits = i32x4.splat(0xffff), sink = i32x4.add(i32x4.splat((w1 < 0 ? 1 : w2 < 0 ? 2 : w3 < 0 ? 3 : 4) << 16), laneIndex());
   for (let t = 0; t < n; t += 4) {
     if (!any) {
-      // The four keys' upper halves (the lanes past n are never counted below).
+      // The four keys' upper halves, and which wanted bucket each is in (the lanes past n are never counted).
       const u = v128.load(bits + (<usize>t << 2));
-      const b = i32x4.shr_u(v128.xor(u, v128.or(i32x4.shr_s(u, 31), sign)), 16);
-      if (!v128.any_true(v128.or(v128.or(i32x4.eq(b, b0), i32x4.eq(b, b1)), v128.or(i32x4.eq(b, b2), i32x4.eq(b, b3))))) continue;
+      const key = v128.xor(u, v128.or(i32x4.shr_s(u, 31), sign)), b = i32x4.shr_u(key, 16);
+      const e0 = i32x4.eq(b, b0), e1 = i32x4.eq(b, b1), e2 = i32x4.eq(b, b2), e3 = i32x4.eq(b, b3);
+      const hit = v128.or(v128.or(e0, e1), v128.or(e2, e3));
+      if (!v128.any_true(hit)) continue;
+      if (!minOf) {
+        const m = i32x4.extend_low_i16x8_u(i16x8.extend_low_i8x16_u(v128.load32_zero(mask + <usize>t)));
+        const counted = v128.and(v128.and(hit, i32x4.ne(m, i32x4.splat(0))), validLanes(t, n));
+        // The bucket's offset (65536 k for w_k) plus the key's lower half; the sink where not counted.
+        const at = v128.or(v128.or(v128.and(e1, i32x4.splat(1 << 16)), v128.and(e2, i32x4.splat(2 << 16))), v128.and(e3, i32x4.splat(3 << 16)));
+        const index = v128.bitselect(i32x4.add(at, v128.and(key, lowBits)), sink, counted);
+        const a0 = low + (<usize>i32x4.extract_lane(index, 0) << 2), a1 = low + (<usize>i32x4.extract_lane(index, 1) << 2);
+        const a2 = low + (<usize>i32x4.extract_lane(index, 2) << 2), a3 = low + (<usize>i32x4.extract_lane(index, 3) << 2);
+        store<i32>(a0, load<i32>(a0) + 1); store<i32>(a1, load<i32>(a1) + 1);
+        store<i32>(a2, load<i32>(a2) + 1); store<i32>(a3, load<i32>(a3) + 1);
+        continue;
+      }
     }
     const end = t + 4 < n ? t + 4 : n;
     for (let p = t; p < end; p++) {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { fitFourAngle, fourAngleAnalysis, renderSampleImage, seriesIntensityImage, type CameraCalibration } from '../../src/optics/index.ts';
+import { fitFourAngle, fourAngleAnalysis, recycleAngleSeries, renderSampleImage, seriesIntensityImage, type CameraCalibration } from '../../src/optics/index.ts';
 import { DEG, axialDiffDeg } from '../../src/common/angles.ts';
 import { InputError } from '../../src/common/errors.ts';
 import { makeImage, type Image } from '../../src/image/types.ts';
@@ -199,5 +199,38 @@ describe('fourAngleAnalysis on rendered images', () => {
     expect(() => fourAngleAnalysis(quads, { anglesDeg: [0, 45, 90] })).toThrow(InputError);
     const small = renderSampleImage(4, 4, () => ({ angleRad: 0, retardanceNm: 0 }));
     expect(() => fourAngleAnalysis([...quads.slice(0, 3), small])).toThrow(InputError);
+  });
+});
+
+describe('fourAngleAnalysis: its middle amplitude, and a reading after the one before was handed back', () => {
+  // 640 x 480 (arrays of 1.2 MB, above the pool's least size): the slow axis turns across the frame, the retardance
+  // rises down it, and a sample-free strip on the left gives pixels masked for low amplitude.
+  const W = 640, H = 480, cam: CameraCalibration = { gains: [1, 1, 1], exposure: 0.75 };
+  const at = (x: number, y: number) => (x < 30 ? { angleRad: 0, retardanceNm: 0 } : { angleRad: ((x / W) * 160 - 80) * DEG, retardanceNm: 50 + (400 * y) / H });
+  const quads = QUAD.map((a, k) => renderSampleImage(W, H, at, { polariserDeg: a, analyserDeg: a + 90, compensator: null }, { noiseSd: 0.003, seed: 30 + k, camera: cam }));
+  const copy = (r: ReturnType<typeof fourAngleAnalysis>) => ({
+    angleRad: Float32Array.from(r.field.angleRad), cos2: Float32Array.from(r.field.cos2!), sin2: Float32Array.from(r.field.sin2!),
+    confidence: Float32Array.from(r.field.confidence), mask: Uint8Array.from(r.field.mask), amplitude: Float32Array.from(r.amplitude), residual: Float32Array.from(r.residual),
+  });
+
+  it('gives the value a sort of the usable amplitudes puts at rank n/2', () => {
+    const r = fourAngleAnalysis(quads);
+    // The reference: the usable pixels' amplitudes sorted ascending (Float64Array sort is numeric).
+    const usable = Float64Array.from([...r.amplitude].filter((_, i) => r.field.mask[i])).sort();
+    const masked = r.field.mask.length - usable.length;
+    expect(masked).toBeGreaterThan(30 * H * 0.9); // the sample-free strip (and clipped pixels, if any) left out
+    expect(r.amplitudeMedian).toBe(usable[usable.length >> 1]);
+  });
+
+  it('takes the arrays handed back and gives the same reading in them', () => {
+    const first = fourAngleAnalysis(quads), before = copy(first);
+    const held = new Set<ArrayBufferView | null>([first.field.angleRad, first.field.cos2!, first.field.sin2!, first.field.confidence, first.amplitude, first.background, first.residual]);
+    recycleAngleSeries(first);
+    const again = fourAngleAnalysis(quads);
+    // Its planes are the ones handed back (from the pool), and every value is the first reading's.
+    for (const a of [again.field.angleRad, again.field.cos2!, again.field.sin2!, again.field.confidence, again.amplitude, again.residual]) expect(held.has(a)).toBe(true);
+    const after = copy(again);
+    for (const k of Object.keys(before) as (keyof typeof before)[]) expect(after[k]).toEqual(before[k]);
+    expect(again.amplitudeMedian).toBe(first.amplitudeMedian);
   });
 });
