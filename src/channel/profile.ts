@@ -189,7 +189,11 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
   }
   const pooledBins = Array.from({ length: bins }, (_, b) => merge(Array.from({ length: stations }, (_, st) => binSums[st * bins + b])));
   const bandOf = (band: number) => merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + band]));
-  const pooled = bandStats(pooledBins, bandOf(0), bandOf(1), bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld, rho);
+  // One station is the whole channel: its numbers are the profile's.
+  const only = stations === 1 ? stationList[0] : null;
+  const pooled: BandStats = only
+    ? { bins: only.bins, core: only.core, skin: only.skin, coreSkinRatio: only.coreSkinRatio, coreSkinRatioCiLow: only.coreSkinRatioCiLow, coreSkinRatioCiHigh: only.coreSkinRatioCiHigh }
+    : bandStats(pooledBins, bandOf(0), bandOf(1), bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld, rho);
   if (pooled.core.n === 0 && pooled.skin.n === 0 && pooled.bins.every((b) => b.n === 0)) {
     throw new InputError('no usable pixel lies between the walls', 'Check that the walls are inside the image and that the channel has texture or colour to read');
   }

@@ -138,12 +138,13 @@ interface BlockDesign { factor: number; dof: number }
  * the jackknife over those groups (Efron & Stein 1981, Ann. Stat. 9:586), dof' = 2 / (2 / dof + var(log factor)).
  */
 function blockDesign(w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'>, rho: BlockCorrelation): BlockDesign {
-  const pairs = laggedPairs(b);
-  const { factor, dof } = workingModel(w, b.n, pairs, rho, b.strata);
+  const pairs = pairsOf(b);
+  const sums = factorSums(w, b.n, pairs, b.strata);
+  const { factor, dof } = workingModel(w, b.n, pairs, rho, b.strata, true, sums);
   const loo = rho.leaveOneOut;
   if (!loo || loo.length < 3) return { factor, dof };
   // Jackknife variance (G - 1) / G sum (x_(i) - mean)^2 of x = log factor.
-  const logs = loo.map((r) => Math.log(workingModel(w, b.n, pairs, { rho: r }, b.strata, false).factor));
+  const logs = loo.map((r) => Math.log(factorOf(sums, r)));
   const mean = logs.reduce((a, x) => a + x, 0) / logs.length;
   const varLog = ((logs.length - 1) / logs.length) * logs.reduce((a, x) => a + (x - mean) ** 2, 0);
   return { factor, dof: Math.max(1, 2 / (2 / dof + varLog)) };
@@ -200,27 +201,50 @@ const pairClass = (dx: number, dy: number): number => {
   return Math.max(ax, ay) === 2 ? 3 : ax + ay === 2 ? 2 : 1;
 };
 
+/** The pairs of a group's blocks, found once per group (its block counts' array is the key) for its correlation and its variance. */
+const pairsCache = new WeakMap<object, LaggedPairs>();
+function pairsOf(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): LaggedPairs {
+  let p = pairsCache.get(b.n);
+  if (!p) { p = laggedPairs(b); pairsCache.set(b.n, p); }
+  return p;
+}
+
 /** Pairs of live blocks within Chebyshev distance 2 (each pair once), with their class (pairClass). */
 export interface LaggedPairs { a: Int32Array; b: Int32Array; lag: Uint8Array }
 
 export function laggedPairs(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): LaggedPairs {
-  const cells = new Map<number, number[]>();
-  const key = (x: number, y: number) => (x + 32768) * 65536 + (y + 32768);
-  for (let k = 0; k < b.n.length; k++) {
+  const m = b.n.length;
+  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  for (let k = 0; k < m; k++) {
     if (!(b.n[k] > 0)) continue;
-    const c = key(b.bx[k], b.by[k]), list = cells.get(c);
-    if (list) list.push(k); else cells.set(c, [k]);
+    x0 = Math.min(x0, b.bx[k]); x1 = Math.max(x1, b.bx[k]); y0 = Math.min(y0, b.by[k]); y1 = Math.max(y1, b.by[k]);
   }
-  const a: number[] = [], c: number[] = [], lag: number[] = [];
-  for (let k = 0; k < b.n.length; k++) {
+  if (!(x1 >= x0)) return { a: new Int32Array(0), b: new Int32Array(0), lag: new Uint8Array(0) };
+  // The live blocks of each grid cell as a list in increasing index (head per cell, next per block), on a grid with a
+  // margin of two cells so that every neighbour's cell exists.
+  const gw = x1 - x0 + 5, cell = (k: number) => (b.by[k] - y0 + 2) * gw + (b.bx[k] - x0 + 2);
+  const head = new Int32Array(gw * (y1 - y0 + 5)).fill(-1), next = new Int32Array(m).fill(-1);
+  for (let k = m - 1; k >= 0; k--) {
     if (!(b.n[k] > 0)) continue;
-    for (let dy = -2; dy <= 2; dy++) for (let dx = -2; dx <= 2; dx++) {
-      for (const j of cells.get(key(b.bx[k] + dx, b.by[k] + dy)) ?? []) {
-        if (j > k) { a.push(k); c.push(j); lag.push(pairClass(dx, dy)); }
-      }
+    const c = cell(k);
+    next[k] = head[c]; head[c] = k;
+  }
+  const offsets: [number, number][] = [];
+  for (let dy = -2; dy <= 2; dy++) for (let dx = -2; dx <= 2; dx++) offsets.push([dy * gw + dx, pairClass(dx, dy)]);
+  // Each pair once (j > k); counted first, then written.
+  const visit = (emit: (k: number, j: number, c: number) => void) => {
+    for (let k = 0; k < m; k++) {
+      if (!(b.n[k] > 0)) continue;
+      const c = cell(k);
+      for (const [o, cls] of offsets) for (let j = head[c + o]; j >= 0; j = next[j]) if (j > k) emit(k, j, cls);
     }
-  }
-  return { a: Int32Array.from(a), b: Int32Array.from(c), lag: Uint8Array.from(lag) };
+  };
+  let count = 0;
+  visit(() => { count++; });
+  const pa = new Int32Array(count), pb = new Int32Array(count), lag = new Uint8Array(count);
+  let i = 0;
+  visit((k, j, c) => { pa[i] = k; pb[i] = j; lag[i] = c; i++; });
+  return { a: pa, b: pb, lag };
 }
 
 /**
@@ -299,7 +323,7 @@ export function blockCorrelation(groups: { ys: ArrayLike<number>[]; b: { w: Arra
     for (let k = 0; k < b.w.length; k++) if (b.n[k] > 0) { sw += b.w[k]; units++; }
     if (!(sw > 0) || units < 2) continue;
     let g = memo.get(b);
-    if (!g) { const pairs = laggedPairs(b); g = { c: groupMoments(b.w, b.n, pairs, b.strata).c, pairs }; memo.set(b, g); }
+    if (!g) { const pairs = pairsOf(b); g = { c: groupMoments(b.w, b.n, pairs, b.strata).c, pairs }; memo.set(b, g); }
     const q = new Array<number>(PAIR_CLASSES + 1).fill(0);
     for (const y of ys) {
       const e = residuals(y, b.w, b.n, b.strata);
@@ -340,6 +364,45 @@ function solveMoments(C: number[][], q: number[]): number[] | null {
 }
 
 /**
+ * The parts of the bias factor tr(P) / 1'S1 (workingModel) that do not depend on the correlation, by pair class L
+ * (class 0: the diagonal): 1'S1 = sum_L rho_L total_L; per stratum h, 1_h'S1_h = sum_L rho_L dd_L[h] and
+ * w_h'S1_h = sum_L rho_L wa_L[h]; tr(P) = tr(S) + sum_h (1_h'S1_h) (w_h'w_h) / W_h^2 - 2 (w_h'S1_h) / W_h. The
+ * factor under any correlation then costs a few sums (the jackknife's many evaluations).
+ */
+interface FactorSums { trS: number; ww: Float64Array; inv: Float64Array; dd: Float64Array[]; wa: Float64Array[]; total: Float64Array }
+
+function factorSums(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs, strata?: ArrayLike<number>): FactorSums {
+  const m = w.length, C = PAIR_CLASSES + 1;
+  const { h, count: H } = strataOf(m, strata);
+  const v = new Float64Array(m), wl = new Float64Array(m), Wh = new Float64Array(H);
+  for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { wl[k] = w[k]; v[k] = (w[k] * w[k]) / n[k]; Wh[h[k]] += w[k]; }
+  const dd = Array.from({ length: C }, () => new Float64Array(H)), wa = Array.from({ length: C }, () => new Float64Array(H));
+  const ww = new Float64Array(H), total = new Float64Array(C);
+  let trS = 0;
+  for (let k = 0; k < m; k++) { const g = h[k]; trS += v[k]; dd[0][g] += v[k]; ww[g] += wl[k] * wl[k]; wa[0][g] += wl[k] * v[k]; }
+  total[0] = trS;
+  for (let i = 0; i < pairs.a.length; i++) {
+    const k = pairs.a[i], j = pairs.b[i], L = pairs.lag[i], q = Math.sqrt(v[k] * v[j]);
+    total[L] += 2 * q;
+    if (h[k] === h[j]) { dd[L][h[k]] += 2 * q; wa[L][h[k]] += q * (wl[k] + wl[j]); }
+  }
+  return { trS, ww, inv: Float64Array.from(Wh, (x) => (x > 0 ? 1 / x : 0)), dd, wa, total };
+}
+
+/** The bias factor tr(P) / 1'S1 under the correlation `rho` (by pair class) from its parts (factorSums). */
+function factorOf(f: FactorSums, rho: readonly number[]): number {
+  const r = [1, ...rho];
+  let trP = f.trS, total = 0;
+  for (let L = 0; L < r.length; L++) total += r[L] * f.total[L];
+  for (let g = 0; g < f.ww.length; g++) {
+    let dd = 0, wa = 0;
+    for (let L = 0; L < r.length; L++) { dd += r[L] * f.dd[L][g]; wa += r[L] * f.wa[L][g]; }
+    trP += dd * f.ww[g] * f.inv[g] * f.inv[g] - 2 * wa * f.inv[g];
+  }
+  return trP / total;
+}
+
+/**
  * Bias factor and degrees of freedom of the variance e'e of one group under the working covariance
  * S = S_0 + rho_1 S_1 + rho_2 S_2 (groupMoments) with the pooled correlation (blockCorrelation). The residuals are
  * e = M y with M = I - sum_h w_h 1_h' / W_h (w_h, 1_h: w and 1 on the blocks of stratum h, W_h = sum w over them;
@@ -354,8 +417,8 @@ function solveMoments(C: number[][], q: number[]): number[] | null {
  * parameters".
  */
 export function workingModel(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs, rho: BlockCorrelation,
-  strata?: ArrayLike<number>, withDof = true): { factor: number; dof: number } {
-  const m = w.length, r = [1, ...rho.rho];
+  strata?: ArrayLike<number>, withDof = true, given?: FactorSums): { factor: number; dof: number } {
+  const m = w.length, r = [1, ...rho.rho], np = pairs.a.length;
   const { h, count: H } = strataOf(m, strata);
   const v = new Float64Array(m), wl = new Float64Array(m), Wh = new Float64Array(H);
   for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { wl[k] = w[k]; v[k] = (w[k] * w[k]) / n[k]; Wh[h[k]] += w[k]; }
@@ -363,47 +426,58 @@ export function workingModel(w: ArrayLike<number>, n: ArrayLike<number>, pairs: 
   for (let g = 0; g < H; g++) W += Wh[g];
   if (!(W > 0)) return { factor: 1, dof: 1 };
   // The working covariance's entries on the pairs, r_L sqrt(v_k v_j).
-  const sPair = new Float64Array(pairs.a.length);
-  for (let i = 0; i < sPair.length; i++) sPair[i] = r[pairs.lag[i]] * Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]);
-  const mulS = (x: Float64Array) => {
-    const out = new Float64Array(m);
-    for (let k = 0; k < m; k++) out[k] = v[k] * x[k];
-    for (let i = 0; i < sPair.length; i++) { const k = pairs.a[i], j = pairs.b[i]; out[k] += sPair[i] * x[j]; out[j] += sPair[i] * x[k]; }
-    return out;
-  };
-  const dot = (x: Float64Array, z: Float64Array) => { let s = 0; for (let k = 0; k < m; k++) s += x[k] * z[k]; return s; };
-  // a_h = S 1_h, stored by stratum; 1'S1 = sum of all a.
-  const a = Array.from({ length: H }, () => new Float64Array(m));
-  for (let k = 0; k < m; k++) if (wl[k] > 0) a[h[k]][k] += v[k];
-  for (let i = 0; i < sPair.length; i++) { const k = pairs.a[i], j = pairs.b[i]; a[h[j]][k] += sPair[i]; a[h[k]][j] += sPair[i]; }
-  let trS = 0, total = 0;
-  for (let k = 0; k < m; k++) trS += v[k];
-  for (let g = 0; g < H; g++) for (let k = 0; k < m; k++) total += a[g][k];
-  // D_hg = 1_h' S 1_g / (W_h W_g); the w columns of U.
-  const inH = (g: number, x: Float64Array) => { let s = 0; for (let k = 0; k < m; k++) if (h[k] === g) s += x[k]; return s; };
-  const D = Array.from({ length: H }, (_, p) => Array.from({ length: H }, (_, q) => (Wh[p] > 0 && Wh[q] > 0 ? inH(p, a[q]) / (Wh[p] * Wh[q]) : 0)));
-  const wCols = Array.from({ length: H }, (_, g) => { const x = new Float64Array(m); for (let k = 0; k < m; k++) if (h[k] === g) x[k] = wl[k]; return x; });
-  const U = [...wCols, ...a], d = 2 * H;
-  const K = Array.from({ length: d }, (_, p) => Array.from({ length: d }, (_, q) => {
-    if (p < H && q < H) return D[p][q];
-    if (p < H && q === p + H) return Wh[p] > 0 ? -1 / Wh[p] : 0;
-    if (q < H && p === q + H) return Wh[q] > 0 ? -1 / Wh[q] : 0;
-    return 0;
-  }));
-  // G = U'U; only the entries K touches are needed for tr(K G), all of them for (K G)^2.
-  const G = U.map((x, p) => U.map((z, q) => (q < p ? NaN : dot(x, z))));
-  for (let p = 0; p < d; p++) for (let q = 0; q < p; q++) G[p][q] = G[q][p];
-  const traceOf = (A: number[][], B: number[][]) => { let s = 0; for (let p = 0; p < d; p++) for (let q = 0; q < d; q++) s += A[p][q] * B[q][p]; return s; };
-  const trP = trS + traceOf(K, G);
-  const factor = trP / total;
+  const sPair = new Float64Array(np);
+  for (let i = 0; i < np; i++) sPair[i] = r[pairs.lag[i]] * Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]);
+  const inv = (g: number) => (Wh[g] > 0 ? 1 / Wh[g] : 0);
+  const sums = given ?? factorSums(w, n, pairs, strata);
+  const { ww } = sums;
+  const factor = factorOf(sums, rho.rho);
+  const trP = factor * sums.total.reduce((t, x, L) => t + r[L] * x, 0);
   if (!withDof) return { factor: factor > 0 ? factor : 1, dof: 1 };
+  // a_h = S 1_h, by stratum (H x m).
+  const a = Array.from({ length: H }, () => new Float64Array(m));
+  for (let k = 0; k < m; k++) a[h[k]][k] += v[k];
+  for (let i = 0; i < np; i++) { const k = pairs.a[i], j = pairs.b[i]; a[h[j]][k] += sPair[i]; a[h[k]][j] += sPair[i]; }
+  // G = U'U, U = [w_1 .. w_H, a_1 .. a_H]: w_p'w_q = delta_pq ww_p, w_p'a_q, a_p'a_q, one pass over the blocks.
+  const d = 2 * H, G = Array.from({ length: d }, () => new Float64Array(d));
+  const D = Array.from({ length: H }, () => new Float64Array(H));
+  for (let k = 0; k < m; k++) {
+    const p = h[k];
+    for (let q = 0; q < H; q++) {
+      const aq = a[q][k];
+      if (aq === 0) continue;
+      D[p][q] += aq;
+      G[p][H + q] += wl[k] * aq;
+      for (let t = q; t < H; t++) G[H + q][H + t] += aq * a[t][k];
+    }
+  }
+  for (let p = 0; p < H; p++) {
+    G[p][p] = ww[p];
+    for (let q = 0; q < H; q++) { D[p][q] *= inv(p) * inv(q); G[H + q][p] = G[p][H + q]; }
+    for (let q = p + 1; q < H; q++) G[H + q][H + p] = G[H + p][H + q];
+  }
+  // K = [[D, -diag(1 / W_h)], [-diag(1 / W_h), 0]].
+  const K = Array.from({ length: d }, () => new Float64Array(d));
+  for (let p = 0; p < H; p++) { for (let q = 0; q < H; q++) K[p][q] = D[p][q]; K[p][H + p] = -inv(p); K[H + p][p] = -inv(p); }
+  // tr(K U'SU) needs w_p'S w_q (the D block) and a_h'S w_h (the cross blocks' diagonals).
+  const wSw = Array.from({ length: H }, () => new Float64Array(H)), aSw = new Float64Array(H);
+  for (let k = 0; k < m; k++) { const g = h[k]; wSw[g][g] += v[k] * wl[k] * wl[k]; aSw[g] += a[g][k] * v[k] * wl[k]; }
+  for (let i = 0; i < np; i++) {
+    const k = pairs.a[i], j = pairs.b[i], s = sPair[i], hk = h[k], hj = h[j];
+    wSw[hk][hj] += s * wl[k] * wl[j]; wSw[hj][hk] += s * wl[k] * wl[j];
+    // (S w_h)[k] holds s_kj w_j for h = h(j): a_h' S w_h gains a_{h(j)}[k] s w_j, and likewise for j.
+    aSw[hj] += a[hj][k] * s * wl[j]; aSw[hk] += a[hk][j] * s * wl[k];
+  }
+  let trKUSU = 0;
+  for (let p = 0; p < H; p++) { for (let q = 0; q < H; q++) trKUSU += D[p][q] * wSw[q][p]; trKUSU -= 2 * inv(p) * aSw[p]; }
   let trS2 = 0;
   for (let k = 0; k < m; k++) trS2 += v[k] * v[k];
-  for (let i = 0; i < sPair.length; i++) trS2 += 2 * sPair[i] * sPair[i];
-  const SU = U.map(mulS);
-  const USU = U.map((x) => SU.map((z) => dot(x, z)));
-  const KG = K.map((row) => G[0].map((_, q) => row.reduce((s, kp, t) => s + kp * G[t][q], 0)));
-  const trP2 = trS2 + 2 * traceOf(K, USU) + traceOf(KG, KG);
+  for (let i = 0; i < np; i++) trS2 += 2 * sPair[i] * sPair[i];
+  // tr((K G)^2).
+  const KG = K.map((row) => { const out = new Float64Array(d); for (let t = 0; t < d; t++) if (row[t] !== 0) for (let q = 0; q < d; q++) out[q] += row[t] * G[t][q]; return out; });
+  let trKG2 = 0;
+  for (let p = 0; p < d; p++) for (let q = 0; q < d; q++) trKG2 += KG[p][q] * KG[q][p];
+  const trP2 = trS2 + 2 * trKUSU + trKG2;
   return { factor: factor > 0 ? factor : 1, dof: trP2 > 0 && trP > 0 ? Math.max(1, (trP * trP) / trP2) : 1 };
 }
 
