@@ -59,10 +59,10 @@ export const ANGLE_NOISE_MAX_LOSS = 0.03;
 export const ANGLE_NOISE_REMEDY = 'average more frames per polariser angle or expose longer (below full scale), or read a sample of higher retardance';
 /**
  * What would give S where an angle series' 90-deg choice is unsettled near the fold's boundary. Only an angle series
- * with a compensator image gets that far (without one it gives no S at all), so the remedy is to let that image decide
- * more pixels, or to read two compensator images.
+ * with a compensator image and its sample-free area gets that far (without either it gives no S at all), so the
+ * remedy is a reading whose colours settle the slow axis everywhere.
  */
-export const FOLD_EDGE_REMEDY = 'give the compensator image its sample-free area (--plate-sample-free), or read the sample with two compensator images (plate-pair)';
+export const FOLD_EDGE_REMEDY = 'read the sample with two compensator images (plate-pair), whose colours settle the slow axis at every angle';
 
 export interface ProfileBin extends OrderStat {
   /** Bin centre and edges in s. */
