@@ -165,6 +165,12 @@ export function OpticalPanel({ ctx, stored, mapShown, onField, onReading, visibl
   useEffect(() => {
     if (stored?.form) { setKind(stored.kind); setS(stored.form); }
   }, [stored]);
+  // The first image of a set of angle images that goes with a compensator image (the demo's) opens the angle-series form.
+  const activeName = ctx.images.find((i) => i.id === ctx.activeId)?.name;
+  const startsAngleSet = !!activeName && !!ctx.plates?.some((p) => p.angles[0] === activeName);
+  useEffect(() => {
+    if (!stored?.form && startsAngleSet) setKind('angle-series');
+  }, [ctx.activeId, startsAngleSet]); // eslint-disable-line react-hooks/exhaustive-deps
 
   // The compensator axis the reading will use: the one typed, else the polariser's + 45 deg (trainOf in src/analyses).
   const defaultCompDeg = (Number(s.polariserDeg) || OPTICS_LIMITS.polariserDeg.default) + COMPENSATOR_OFFSET_DEG;

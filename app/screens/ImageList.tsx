@@ -18,7 +18,7 @@ export function ImageList({ w }: { w: Workspace }) {
       <ul>
         {session.images.map((m) => (
           <li key={m.id} className={m.id === session.activeImageId ? 'current' : ''}>
-            <button onClick={() => change({ type: 'select', id: m.id })} title={m.name}>{m.name}</button>
+            <button onClick={() => change({ type: 'select', id: m.id })} title={m.name}><NameParts name={m.name} /></button>
             <span className="marks">{session.work[m.id]?.orient ? 'O' : ''}{session.work[m.id]?.profile ? 'P' : ''}</span>
             <button className="quiet small" aria-label={`Remove ${m.name} from the session`} onClick={() => remove(m.id)}>×</button>
           </li>
@@ -27,5 +27,19 @@ export function ImageList({ w }: { w: Workspace }) {
       <button onClick={w.intake.chooseFiles}>Add images…</button>
       <LampCaution />
     </aside>
+  );
+}
+
+/** Characters always shown at a name's end: where a set's names differ (kestrel-angle-00.0deg.png, ...-22.5deg.png). */
+const NAME_TAIL = 10;
+
+/** A file name cut in the middle when the list is narrow: its start may give way to an ellipsis, its end never does. */
+function NameParts({ name }: { name: string }) {
+  if (name.length <= NAME_TAIL + 4) return <>{name}</>;
+  return (
+    <span className="name-parts">
+      <span className="name-head">{name.slice(0, -NAME_TAIL)}</span>
+      <span className="name-tail">{name.slice(-NAME_TAIL)}</span>
+    </span>
   );
 }
