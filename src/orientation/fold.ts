@@ -1,5 +1,6 @@
 import { degToRad, radToDeg, wrapAxialDeg } from '../common/index.ts';
 import type { OrientationField } from './types.ts';
+import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
 
 /**
  * For a field known only modulo 90 deg (crossed polars alone cannot tell the slow axis from the fast
@@ -12,32 +13,68 @@ import type { OrientationField } from './types.ts';
  */
 export function foldMod90(f: OrientationField, centreDeg: number, inPlace = false): OrientationField {
   if (f.ambiguity !== 'mod-90') return f;
-  const c = degToRad(centreDeg), q = Math.PI / 4, h = Math.PI / 2, n = f.angleRad.length;
+  const c = degToRad(centreDeg), n = f.angleRad.length;
   const from = f.angleRad, angleRad = inPlace ? from : new Float32Array(n);
   const both = f.cos2 && f.sin2;
   const cos2 = both ? (inPlace ? f.cos2! : Float32Array.from(f.cos2!)) : undefined;
   const sin2 = both ? (inPlace ? f.sin2! : Float32Array.from(f.sin2!)) : undefined;
-  const only = f.ambiguous;
-  for (let i = 0; i < n; i++) {
-    if (only && !only[i]) { angleRad[i] = from[i]; continue; }
-    let d = from[i] - c;
-    let k = Math.round(d / h);
-    d -= h * k; // into [-45, 45] deg
-    if (d <= -q) { d += h; k--; }
-    // wrapAxialRad(c + d), whose remainder is the value itself below pi in size.
-    const x = c + d;
-    let a = x < Math.PI && x > -Math.PI ? x : x % Math.PI;
-    if (a <= -h) a += Math.PI;
-    if (a > h) a -= Math.PI;
-    angleRad[i] = a;
-    // The angle moved by k * 90 deg (mod 180): an odd k turns 2 theta by 180 deg.
-    if (cos2 && k & 1) { cos2[i] = -cos2[i]; sin2![i] = -sin2![i]; }
-  }
+  foldInKernel(from, angleRad, cos2 ?? null, sin2 ?? null, f.ambiguous ?? null, c);
   return {
     ...f, angleRad, cos2, sin2,
     options: { ...f.options, mod90FoldedAboutDeg: wrapAxialDeg(centreDeg) },
     warnings: [...f.warnings, `orientation known only modulo 90 deg: taken within 45 deg of ${wrapAxialDeg(centreDeg).toFixed(1)} deg`],
   };
+}
+
+/** Pixels per call of the optics kernel's fold. */
+const FOLD_BLOCK_PX = 1 << 14;
+
+/**
+ * The fold of every pixel, a block at a time in the optics kernel (src/wasm/opticsKernel.as.ts: foldMod90, the same
+ * float64 operations as foldPixel's, two pixels per instruction): each block's angles, cos 2 theta, sin 2 theta and
+ * ambiguous flags copied into its memory and the results copied out into angleRad, cos2 and sin2; the few pixels it
+ * leaves (see there) are folded by foldPixel.
+ */
+function foldInKernel(from: Float32Array, angleRad: Float32Array, cos2: Float32Array | null, sin2: Float32Array | null, only: Uint8Array | null, c: number): void {
+  const k = opticsKernel(), mem = new OpticsLayout(k), n = from.length, B = Math.min(Math.max(n, 1), FOLD_BLOCK_PX);
+  const at = { angle: mem.reserve(4 * B), cos2: cos2 ? mem.reserve(4 * B) : 0, sin2: cos2 ? mem.reserve(4 * B) : 0, only: only ? mem.reserve(B) : 0, slow: mem.reserve(B) };
+  mem.commit();
+  const angleView = mem.f32(at.angle, B), cos2View = cos2 ? mem.f32(at.cos2, B) : null, sin2View = cos2 ? mem.f32(at.sin2, B) : null;
+  const onlyView = only ? mem.u8(at.only, B) : null, slowView = mem.u8(at.slow, B);
+  slowView.fill(0);
+  const whole = (v: Float32Array, len: number) => (len === B ? v : v.subarray(0, len));
+  for (let i0 = 0; i0 < n; i0 += B) {
+    const len = Math.min(B, n - i0), i1 = i0 + len;
+    angleView.set(from.subarray(i0, i1));
+    if (cos2) { cos2View!.set(cos2.subarray(i0, i1)); sin2View!.set(sin2!.subarray(i0, i1)); }
+    if (onlyView) onlyView.set(only!.subarray(i0, i1));
+    const slow = k.foldMod90(at.angle, at.cos2, at.sin2, at.only, len, c, at.slow);
+    angleRad.set(whole(angleView, len), i0);
+    if (cos2) { cos2.set(whole(cos2View!, len), i0); sin2!.set(whole(sin2View!, len), i0); }
+    if (slow === 0) continue;
+    for (let t = 0; t < len; t++) if (slowView[t]) foldPixel(from, angleRad, cos2, sin2, c, i0 + t);
+    slowView.fill(0);
+  }
+}
+
+/**
+ * Pixel i's representative within 45 deg of c (radians), into angleRad[i]; cos2[i] and sin2[i] change sign where the
+ * angle moves by an odd multiple of 90 deg.
+ */
+function foldPixel(from: Float32Array, angleRad: Float32Array, cos2: Float32Array | null, sin2: Float32Array | null, c: number, i: number): void {
+  const q = Math.PI / 4, h = Math.PI / 2;
+  let d = from[i] - c;
+  let k = Math.round(d / h);
+  d -= h * k; // into [-45, 45] deg
+  if (d <= -q) { d += h; k--; }
+  // wrapAxialRad(c + d), whose remainder is the value itself below pi in size.
+  const x = c + d;
+  let a = x < Math.PI && x > -Math.PI ? x : x % Math.PI;
+  if (a <= -h) a += Math.PI;
+  if (a > h) a -= Math.PI;
+  angleRad[i] = a;
+  // The angle moved by k * 90 deg (mod 180): an odd k turns 2 theta by 180 deg.
+  if (cos2 && k & 1) { cos2[i] = -cos2[i]; sin2![i] = -sin2![i]; }
 }
 
 /**

@@ -18,6 +18,7 @@ export interface OpticsKernelExports {
     ax: number, ay: number, wx: number, wy: number, wz: number, out: number): void;
   rankHigh(bits: number, mask: number, minOf: number, min: number, n: number, high: number, stats: number, atLeast: number): number;
   rankLow(bits: number, mask: number, minOf: number, min: number, n: number, slot: number, low: number, any: number, w0: number, w1: number, w2: number, w3: number): void;
+  foldMod90(angle: number, cos2: number, sin2: number, only: number, n: number, c: number, slow: number): number;
   cellRows(C: number, es: number, nR: number, nRows: number, stride: number, coarse: number, nCp: number, boxes: number, nBoxes: number, nBp: number, boxEntries: number,
     labs: number, nCells: number, guesses: number, bounds: number, dists: number, rows: number): void;
   pairRead(C: number, D: number, es: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,
