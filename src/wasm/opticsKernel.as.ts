@@ -802,4 +802,3 @@ export function foldMod90(angle: usize, cos2: usize, sin2: usize, only: usize, n
   }
   return slowCount;
 }
-

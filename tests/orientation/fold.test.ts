@@ -53,4 +53,36 @@ describe('foldMod90', () => {
     const plain = { ...f, ambiguity: 'none' as const };
     expect(foldMod90(plain, 20)).toBe(plain);
   });
+
+  it('takes every angle to within 45 deg of the centre, whatever the centre, near the fold\'s edge included', () => {
+    // From the definition: the folded angle lies in (-90, 90] deg, within 45 deg of the centre modulo 180 deg, and
+    // differs from the input by a multiple of 90 deg, so its cos 2 theta and sin 2 theta (carried over, changed in sign
+    // where it moved by an odd multiple) are those of twice its own angle (float32, hence 1e-5). Centres far beyond a
+    // turn (1e8 deg) included; a third of the angles lie within a few float32 steps of 45 deg from the centre.
+    const n = 30001;
+    for (const centreDeg of [20, -1000, 720.5, 44.99, 1e8]) {
+      const c = (centreDeg * Math.PI) / 180;
+      const angleRad = Float32Array.from({ length: n }, (_, i) => {
+        if (i % 3) return (((i * 7919) % 18000) / 100 - 90) * (Math.PI / 180);
+        const edge = Math.fround(c + ((i % 2 ? 1 : -1) * Math.PI) / 4) + ((i % 11) - 5) * 1e-7;
+        return Math.fround(edge - Math.PI * Math.round(edge / Math.PI));
+      });
+      const g = { ...fieldOf(n, 1, () => 0), angleRad, cos2: angleRad.map((a) => Math.cos(2 * a)), sin2: angleRad.map((a) => Math.sin(2 * a)), ambiguity: 'mod-90' as const };
+      const folded = foldMod90(g, centreDeg);
+      let worst = 0, outside = 0;
+      for (let i = 0; i < n; i++) {
+        const a = folded.angleRad[i];
+        if (!(a > -Math.PI / 2 - 1e-6 && a <= Math.PI / 2 + 1e-6)) outside++;
+        let d = (a - c) % Math.PI;
+        if (d < 0) d += Math.PI;
+        if (Math.min(d, Math.PI - d) > Math.PI / 4 + 1e-5) outside++;
+        const steps = (a - angleRad[i]) / (Math.PI / 2);
+        if (Math.abs(steps - Math.round(steps)) > 1e-5) outside++;
+        worst = Math.max(worst, Math.abs(folded.cos2![i] - Math.cos(2 * a)), Math.abs(folded.sin2![i] - Math.sin(2 * a)));
+      }
+      expect(outside).toBe(0);
+      expect(worst).toBeLessThan(1e-5);
+    }
+  });
 });
+
