@@ -138,9 +138,8 @@ interface BlockDesign { factor: number; dof: number }
  * the jackknife over those groups (Efron & Stein 1981, Ann. Stat. 9:586), dof' = 2 / (2 / dof + var(log factor)).
  */
 function blockDesign(w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'>, rho: BlockCorrelation): BlockDesign {
-  const pairs = pairsOf(b);
-  const sums = factorSums(w, b.n, pairs, b.strata);
-  const { factor, dof } = workingModel(w, b.n, pairs, rho, b.strata, true, sums);
+  const design = weightedDesignOf(b, w), pairs = design.pairs, sums = design.sums();
+  const { factor, dof } = design.single ? singleModel(design.single(), rho) : workingModel(w, b.n, pairs, rho, b.strata, true, sums);
   const loo = rho.leaveOneOut;
   if (!loo || loo.length < 3) return { factor, dof };
   // Jackknife variance (G - 1) / G sum (x_(i) - mean)^2 of x = log factor.
@@ -201,12 +200,29 @@ const pairClass = (dx: number, dy: number): number => {
   return Math.max(ax, ay) === 2 ? 3 : ax + ay === 2 ? 2 : 1;
 };
 
-/** The pairs of a group's blocks, found once per group (its block counts' array is the key) for its correlation and its variance. */
-const pairsCache = new WeakMap<object, LaggedPairs>();
-function pairsOf(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): LaggedPairs {
-  let p = pairsCache.get(b.n);
-  if (!p) { p = laggedPairs(b); pairsCache.set(b.n, p); }
-  return p;
+/**
+ * What a group's blocks give whatever the statistic (its pairs; with its weights, the correlation's moment matrix
+ * and the bias factor's parts), found once per group: a profile's bins serve their correlation and their variance,
+ * and a region's S_2D and S_axis share their blocks. Keyed by the block counts' array, checked against the weights'.
+ */
+const designCache = new WeakMap<object, { pairs: LaggedPairs; w?: ArrayLike<number>; strata?: ArrayLike<number>; moments?: number[][]; sums?: FactorSums; single?: ClassSums }>();
+function designOf(b: Pick<BlockSums, 'n' | 'bx' | 'by'>) {
+  let d = designCache.get(b.n);
+  if (!d) { d = { pairs: laggedPairs(b) }; designCache.set(b.n, d); }
+  return d;
+}
+/** The group's moment matrix (groupMoments) and bias factor parts (factorSums) for weights `w`, kept for the next statistic. */
+function weightedDesignOf(b: Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'>, w: ArrayLike<number>) {
+  const d = designOf(b);
+  if (d.w !== w || d.strata !== b.strata) { d.w = w; d.strata = b.strata; d.moments = undefined; d.sums = undefined; d.single = undefined; }
+  // One stratum: everything from one pass over the pairs (classSums).
+  const single = () => (d.single ??= classSums(w, b.n, d.pairs));
+  return {
+    pairs: d.pairs,
+    single: b.strata ? undefined : single,
+    moments: () => (d.moments ??= b.strata ? groupMoments(w, b.n, d.pairs, b.strata).c : singleMoments(single())),
+    sums: () => (d.sums ??= b.strata ? factorSums(w, b.n, d.pairs, b.strata) : singleFactorSums(single())),
+  };
 }
 
 /** Pairs of live blocks within Chebyshev distance 2 (each pair once), with their class (pairClass). */
@@ -229,21 +245,26 @@ export function laggedPairs(b: Pick<BlockSums, 'n' | 'bx' | 'by'>): LaggedPairs 
     const c = cell(k);
     next[k] = head[c]; head[c] = k;
   }
-  const offsets: [number, number][] = [];
-  for (let dy = -2; dy <= 2; dy++) for (let dx = -2; dx <= 2; dx++) offsets.push([dy * gw + dx, pairClass(dx, dy)]);
-  // Each pair once (j > k); counted first, then written.
-  const visit = (emit: (k: number, j: number, c: number) => void) => {
-    for (let k = 0; k < m; k++) {
-      if (!(b.n[k] > 0)) continue;
-      const c = cell(k);
-      for (const [o, cls] of offsets) for (let j = head[c + o]; j >= 0; j = next[j]) if (j > k) emit(k, j, cls);
+  const offsets = new Int32Array(25), classes = new Uint8Array(25);
+  let no = 0;
+  for (let dy = -2; dy <= 2; dy++) for (let dx = -2; dx <= 2; dx++) { offsets[no] = dy * gw + dx; classes[no] = pairClass(dx, dy); no++; }
+  // Each pair once (j > k), into arrays that grow as needed.
+  let cap = 13 * m + 16, count = 0;
+  let pa = new Int32Array(cap), pb = new Int32Array(cap), lag = new Uint8Array(cap);
+  for (let k = 0; k < m; k++) {
+    if (!(b.n[k] > 0)) continue;
+    const c = cell(k);
+    for (let o = 0; o < no; o++) for (let j = head[c + offsets[o]]; j >= 0; j = next[j]) {
+      if (j <= k) continue;
+      if (count === cap) {
+        cap *= 2;
+        const na = new Int32Array(cap), nb = new Int32Array(cap), nl = new Uint8Array(cap);
+        na.set(pa); nb.set(pb); nl.set(lag); pa = na; pb = nb; lag = nl;
+      }
+      pa[count] = k; pb[count] = j; lag[count] = classes[o]; count++;
     }
-  };
-  let count = 0;
-  visit(() => { count++; });
-  const pa = new Int32Array(count), pb = new Int32Array(count), lag = new Uint8Array(count);
-  let i = 0;
-  visit((k, j, c) => { pa[i] = k; pb[i] = j; lag[i] = c; i++; });
+  }
+  pa = pa.slice(0, count); pb = pb.slice(0, count); lag = lag.slice(0, count);
   return { a: pa, b: pb, lag };
 }
 
@@ -261,29 +282,26 @@ function groupMoments(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedP
   const v = new Float64Array(m), Wh = new Float64Array(H);
   for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { v[k] = (w[k] * w[k]) / n[k]; Wh[hOf[k]] += w[k]; }
   const d = PAIR_CLASSES + 1;
-  /** S_L x or B_L x (unit weights on the pairs, identity for L = 0). */
-  const mul = (L: number, x: Float64Array, unit: boolean) => {
-    const out = new Float64Array(m);
-    if (L === 0) { for (let k = 0; k < m; k++) out[k] = (unit ? 1 : v[k]) * x[k]; return out; }
-    for (let i = 0; i < pairs.a.length; i++) {
-      if (pairs.lag[i] !== L) continue;
-      const k = pairs.a[i], j = pairs.b[i], s = unit ? 1 : Math.sqrt(v[k] * v[j]);
-      out[k] += s * x[j]; out[j] += s * x[k];
-    }
-    return out;
-  };
   const c = Array.from({ length: d }, () => new Array<number>(d).fill(0));
   // tr(B_a S_b) is sum v for a = b = 0, 2 sum sqrt(v_k v_j) over the class-L pairs for a = b = L, else 0.
+  const q = new Float64Array(pairs.a.length);
   for (let k = 0; k < m; k++) c[0][0] += v[k];
-  for (let i = 0; i < pairs.a.length; i++) c[pairs.lag[i]][pairs.lag[i]] += 2 * Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]);
-  // Per stratum h: B_a w_h and S_b 1_h, and their sums over each stratum g (R_a[g][h] = w_g' B_a w_h, T_b[g][h] = 1_g' S_b 1_h).
+  for (let i = 0; i < pairs.a.length; i++) { q[i] = Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]); c[pairs.lag[i]][pairs.lag[i]] += 2 * q[i]; }
+  // Per stratum h: B_a w_h and S_b 1_h for every class in one pass over the pairs, and their sums over each stratum g
+  // (R_a[g][h] = w_g' B_a w_h, T_b[g][h] = 1_g' S_b 1_h).
   const R = Array.from({ length: d }, () => Array.from({ length: H }, () => new Float64Array(H)));
   const T = Array.from({ length: d }, () => Array.from({ length: H }, () => new Float64Array(H)));
+  const Bw = Array.from({ length: d }, () => new Float64Array(m)), S1 = Array.from({ length: d }, () => new Float64Array(m));
   for (let h = 0; h < H; h++) {
     if (!(Wh[h] > 0)) continue;
-    const wh = new Float64Array(m), oh = new Float64Array(m);
-    for (let k = 0; k < m; k++) if (hOf[k] === h && v[k] > 0) { wh[k] = w[k]; oh[k] = 1; }
-    const Bw = Array.from({ length: d }, (_, L) => mul(L, wh, true)), S1 = Array.from({ length: d }, (_, L) => mul(L, oh, false));
+    for (let L = 0; L < d; L++) { Bw[L].fill(0); S1[L].fill(0); }
+    for (let k = 0; k < m; k++) if (hOf[k] === h && v[k] > 0) { Bw[0][k] = w[k]; S1[0][k] = v[k]; }
+    for (let i = 0; i < pairs.a.length; i++) {
+      const k = pairs.a[i], j = pairs.b[i], L = pairs.lag[i];
+      const inK = hOf[k] === h && v[k] > 0, inJ = hOf[j] === h && v[j] > 0;
+      if (inJ) { Bw[L][k] += w[j]; S1[L][k] += q[i]; }
+      if (inK) { Bw[L][j] += w[k]; S1[L][j] += q[i]; }
+    }
     for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) {
       let s = 0;
       for (let k = 0; k < m; k++) s += Bw[a][k] * S1[b][k];
@@ -323,7 +341,7 @@ export function blockCorrelation(groups: { ys: ArrayLike<number>[]; b: { w: Arra
     for (let k = 0; k < b.w.length; k++) if (b.n[k] > 0) { sw += b.w[k]; units++; }
     if (!(sw > 0) || units < 2) continue;
     let g = memo.get(b);
-    if (!g) { const pairs = pairsOf(b); g = { c: groupMoments(b.w, b.n, pairs, b.strata).c, pairs }; memo.set(b, g); }
+    if (!g) { const d = weightedDesignOf(b, b.w); g = { c: d.moments(), pairs: d.pairs }; memo.set(b, g); }
     const q = new Array<number>(PAIR_CLASSES + 1).fill(0);
     for (const y of ys) {
       const e = residuals(y, b.w, b.n, b.strata);
@@ -369,7 +387,7 @@ function solveMoments(C: number[][], q: number[]): number[] | null {
  * w_h'S1_h = sum_L rho_L wa_L[h]; tr(P) = tr(S) + sum_h (1_h'S1_h) (w_h'w_h) / W_h^2 - 2 (w_h'S1_h) / W_h. The
  * factor under any correlation then costs a few sums (the jackknife's many evaluations).
  */
-interface FactorSums { trS: number; ww: Float64Array; inv: Float64Array; dd: Float64Array[]; wa: Float64Array[]; total: Float64Array }
+interface FactorSums { trS: number; ww: Float64Array; inv: Float64Array; dd: Float64Array[]; wa: Float64Array[]; total: Float64Array; /** sqrt(v_k v_j) per pair. */ q: Float64Array }
 
 function factorSums(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs, strata?: ArrayLike<number>): FactorSums {
   const m = w.length, C = PAIR_CLASSES + 1;
@@ -381,12 +399,14 @@ function factorSums(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPai
   let trS = 0;
   for (let k = 0; k < m; k++) { const g = h[k]; trS += v[k]; dd[0][g] += v[k]; ww[g] += wl[k] * wl[k]; wa[0][g] += wl[k] * v[k]; }
   total[0] = trS;
-  for (let i = 0; i < pairs.a.length; i++) {
-    const k = pairs.a[i], j = pairs.b[i], L = pairs.lag[i], q = Math.sqrt(v[k] * v[j]);
-    total[L] += 2 * q;
-    if (h[k] === h[j]) { dd[L][h[k]] += 2 * q; wa[L][h[k]] += q * (wl[k] + wl[j]); }
+  const q = new Float64Array(pairs.a.length);
+  for (let i = 0; i < q.length; i++) {
+    const k = pairs.a[i], j = pairs.b[i], L = pairs.lag[i], qi = Math.sqrt(v[k] * v[j]);
+    q[i] = qi;
+    total[L] += 2 * qi;
+    if (h[k] === h[j]) { dd[L][h[k]] += 2 * qi; wa[L][h[k]] += qi * (wl[k] + wl[j]); }
   }
-  return { trS, ww, inv: Float64Array.from(Wh, (x) => (x > 0 ? 1 / x : 0)), dd, wa, total };
+  return { trS, ww, inv: Float64Array.from(Wh, (x) => (x > 0 ? 1 / x : 0)), dd, wa, total, q };
 }
 
 /** The bias factor tr(P) / 1'S1 under the correlation `rho` (by pair class) from its parts (factorSums). */
@@ -400,6 +420,85 @@ function factorOf(f: FactorSums, rho: readonly number[]): number {
     trP += dd * f.ww[g] * f.inv[g] * f.inv[g] - 2 * wa * f.inv[g];
   }
   return trP / total;
+}
+
+/**
+ * A group of one stratum (a bin, a region) by pair class L (0: the diagonal), from one pass over its pairs, with
+ * q = sqrt(v_k v_j) per pair: Bw[L] = B_L w, S1[L] = S_L 1 and Sw[L] = S_L w (vectors over the blocks; B_0 = I,
+ * S_0 = diag(v)); trS[L] = 1'S_L 1 ... as tr(B_L S_L) (sum v, 2 sum q); sq[L] = tr(S_L^2) (sum v^2, 2 sum q^2);
+ * wSw[L] = w'S_L w. Everything the correlation's moments, the bias factor and the dof need (singleMoments,
+ * singleFactorSums, singleModel) is a few sums over these, so the pairs are read once.
+ */
+interface ClassSums { m: number; W: number; w: Float64Array; v: Float64Array; Bw: Float64Array[]; S1: Float64Array[]; Sw: Float64Array[]; trS: Float64Array; sq: Float64Array; wSw: Float64Array; q: Float64Array }
+
+function classSums(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs): ClassSums {
+  const m = w.length, C = PAIR_CLASSES + 1, np = pairs.a.length;
+  const wl = new Float64Array(m), v = new Float64Array(m);
+  let W = 0;
+  for (let k = 0; k < m; k++) if (n[k] > 0 && w[k] > 0) { wl[k] = w[k]; v[k] = (w[k] * w[k]) / n[k]; W += w[k]; }
+  // Class L's vectors at [L m, (L + 1) m) of one array each.
+  const bw = new Float64Array(C * m), s1 = new Float64Array(C * m), sw = new Float64Array(C * m);
+  bw.set(wl); s1.set(v);
+  for (let k = 0; k < m; k++) sw[k] = v[k] * wl[k];
+  const trS = new Float64Array(C), sq = new Float64Array(C), wSw = new Float64Array(C), q = new Float64Array(np);
+  for (let k = 0; k < m; k++) { trS[0] += v[k]; sq[0] += v[k] * v[k]; wSw[0] += v[k] * wl[k] * wl[k]; }
+  const pa = pairs.a, pb = pairs.b, lag = pairs.lag;
+  for (let i = 0; i < np; i++) {
+    const k = pa[i], j = pb[i], L = lag[i], qi = Math.sqrt(v[k] * v[j]), wk = wl[k], wj = wl[j], ok = L * m + k, oj = L * m + j;
+    q[i] = qi;
+    bw[ok] += wj; bw[oj] += wk; s1[ok] += qi; s1[oj] += qi; sw[ok] += qi * wj; sw[oj] += qi * wk;
+    trS[L] += 2 * qi; sq[L] += 2 * qi * qi; wSw[L] += 2 * qi * wk * wj;
+  }
+  const part = (x: Float64Array) => Array.from({ length: C }, (_, L) => x.subarray(L * m, (L + 1) * m));
+  const Bw = part(bw), S1 = part(s1), Sw = part(sw);
+  return { m, W, w: wl, v, Bw, S1, Sw, trS, sq, wSw, q };
+}
+
+const dotOf = (x: Float64Array, z: Float64Array) => { let s = 0; for (let k = 0; k < x.length; k++) s += x[k] * z[k]; return s; };
+const sumOf = (x: Float64Array) => { let s = 0; for (let k = 0; k < x.length; k++) s += x[k]; return s; };
+
+/** groupMoments for one stratum: c[a][b] = tr(B_a S_b) - 2 (B_a w)'(S_b 1) / W + (w'B_a w)(1'S_b 1) / W^2. */
+function singleMoments(c: ClassSums): number[][] {
+  const C = PAIR_CLASSES + 1, W = c.W;
+  const wBw = c.Bw.map((x) => dotOf(c.w, x)), oneS1 = c.S1.map(sumOf);
+  return Array.from({ length: C }, (_, a) => Array.from({ length: C }, (_, b) => (W > 0 ? (a === b ? c.trS[a] : 0) - (2 * dotOf(c.Bw[a], c.S1[b])) / W + (wBw[a] * oneS1[b]) / (W * W) : 0)));
+}
+
+/** factorSums for one stratum. */
+function singleFactorSums(c: ClassSums): FactorSums {
+  const C = PAIR_CLASSES + 1;
+  return {
+    trS: c.trS[0], ww: Float64Array.of(dotOf(c.w, c.w)), inv: Float64Array.of(c.W > 0 ? 1 / c.W : 0),
+    dd: Array.from({ length: C }, (_, L) => Float64Array.of(c.trS[L])), wa: Array.from({ length: C }, (_, L) => Float64Array.of(dotOf(c.w, c.S1[L]))),
+    total: Float64Array.from(c.trS), q: c.q,
+  };
+}
+
+/**
+ * workingModel for one stratum from its class sums, with no pass over the pairs: S = sum_L r_L S_L (r_0 = 1),
+ * a = S 1, and the same traces (tr(P), tr(P^2) with U = [w, a], K = [[1'S1 / W^2, -1 / W], [-1 / W, 0]]).
+ */
+function singleModel(c: ClassSums, rho: BlockCorrelation): { factor: number; dof: number } {
+  if (!(c.W > 0)) return { factor: 1, dof: 1 };
+  const r = [1, ...rho.rho], W = c.W, m = c.m;
+  const a = new Float64Array(m), Sw = new Float64Array(m);
+  let trS = 0, trS2 = 0, wSw = 0;
+  for (let L = 0; L < r.length; L++) {
+    const x = c.S1[L], y = c.Sw[L], rl = r[L];
+    for (let k = 0; k < m; k++) { a[k] += rl * x[k]; Sw[k] += rl * y[k]; }
+    trS2 += rl * rl * c.sq[L]; wSw += rl * c.wSw[L];
+  }
+  trS = c.trS[0];
+  const total = sumOf(a), ww = dotOf(c.w, c.w), wa = dotOf(c.w, a), aa = dotOf(a, a), aSw = dotOf(a, Sw);
+  const D = total / (W * W), iW = 1 / W;
+  const trP = trS + D * ww - 2 * iW * wa;
+  const factor = trP / total;
+  // tr(K U'SU) = D w'Sw - 2 a'Sw / W; K G with G = [[ww, wa], [wa, aa]].
+  const trKUSU = D * wSw - 2 * iW * aSw;
+  const kg = [[D * ww - iW * wa, D * wa - iW * aa], [-iW * ww, -iW * wa]];
+  const trKG2 = kg[0][0] * kg[0][0] + 2 * kg[0][1] * kg[1][0] + kg[1][1] * kg[1][1];
+  const trP2 = trS2 + 2 * trKUSU + trKG2;
+  return { factor: factor > 0 ? factor : 1, dof: trP2 > 0 && trP > 0 ? Math.max(1, (trP * trP) / trP2) : 1 };
 }
 
 /**
@@ -418,6 +517,7 @@ function factorOf(f: FactorSums, rho: readonly number[]): number {
  */
 export function workingModel(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPairs, rho: BlockCorrelation,
   strata?: ArrayLike<number>, withDof = true, given?: FactorSums): { factor: number; dof: number } {
+  if (!strata) return singleModel(classSums(w, n, pairs), rho);
   const m = w.length, r = [1, ...rho.rho], np = pairs.a.length;
   const { h, count: H } = strataOf(m, strata);
   const v = new Float64Array(m), wl = new Float64Array(m), Wh = new Float64Array(H);
@@ -425,30 +525,43 @@ export function workingModel(w: ArrayLike<number>, n: ArrayLike<number>, pairs: 
   let W = 0;
   for (let g = 0; g < H; g++) W += Wh[g];
   if (!(W > 0)) return { factor: 1, dof: 1 };
-  // The working covariance's entries on the pairs, r_L sqrt(v_k v_j).
-  const sPair = new Float64Array(np);
-  for (let i = 0; i < np; i++) sPair[i] = r[pairs.lag[i]] * Math.sqrt(v[pairs.a[i]] * v[pairs.b[i]]);
   const inv = (g: number) => (Wh[g] > 0 ? 1 / Wh[g] : 0);
   const sums = given ?? factorSums(w, n, pairs, strata);
   const { ww } = sums;
   const factor = factorOf(sums, rho.rho);
   const trP = factor * sums.total.reduce((t, x, L) => t + r[L] * x, 0);
   if (!withDof) return { factor: factor > 0 ? factor : 1, dof: 1 };
-  // a_h = S 1_h, by stratum (H x m).
-  const a = Array.from({ length: H }, () => new Float64Array(m));
-  for (let k = 0; k < m; k++) a[h[k]][k] += v[k];
-  for (let i = 0; i < np; i++) { const k = pairs.a[i], j = pairs.b[i]; a[h[j]][k] += sPair[i]; a[h[k]][j] += sPair[i]; }
+  // One pass over the pairs: their working covariance s = r_L sqrt(v_k v_j); a_h = S 1_h by stratum (flat, H x m);
+  // w_p'S w_q; tr(S^2).
+  const sPair = new Float64Array(np), a = new Float64Array(H * m), wSw = new Float64Array(H * H);
+  let trS2 = 0;
+  for (let k = 0; k < m; k++) { const g = h[k]; a[g * m + k] += v[k]; wSw[g * H + g] += v[k] * wl[k] * wl[k]; trS2 += v[k] * v[k]; }
+  for (let i = 0; i < np; i++) {
+    const k = pairs.a[i], j = pairs.b[i], hk = h[k], hj = h[j], s = r[pairs.lag[i]] * sums.q[i];
+    sPair[i] = s;
+    a[hj * m + k] += s; a[hk * m + j] += s;
+    const sw = s * wl[k] * wl[j];
+    wSw[hk * H + hj] += sw; wSw[hj * H + hk] += sw;
+    trS2 += 2 * s * s;
+  }
+  // a_h'S w_h (the cross blocks' diagonals of U'SU): (S w_h)[k] holds v_k w_k for k in h and s_kj w_j for j in h.
+  const aSw = new Float64Array(H);
+  for (let k = 0; k < m; k++) { const g = h[k]; aSw[g] += a[g * m + k] * v[k] * wl[k]; }
+  for (let i = 0; i < np; i++) {
+    const k = pairs.a[i], j = pairs.b[i], s = sPair[i], hk = h[k], hj = h[j];
+    aSw[hj] += a[hj * m + k] * s * wl[j]; aSw[hk] += a[hk * m + j] * s * wl[k];
+  }
   // G = U'U, U = [w_1 .. w_H, a_1 .. a_H]: w_p'w_q = delta_pq ww_p, w_p'a_q, a_p'a_q, one pass over the blocks.
   const d = 2 * H, G = Array.from({ length: d }, () => new Float64Array(d));
   const D = Array.from({ length: H }, () => new Float64Array(H));
   for (let k = 0; k < m; k++) {
     const p = h[k];
     for (let q = 0; q < H; q++) {
-      const aq = a[q][k];
+      const aq = a[q * m + k];
       if (aq === 0) continue;
       D[p][q] += aq;
       G[p][H + q] += wl[k] * aq;
-      for (let t = q; t < H; t++) G[H + q][H + t] += aq * a[t][k];
+      for (let t = q; t < H; t++) G[H + q][H + t] += aq * a[t * m + k];
     }
   }
   for (let p = 0; p < H; p++) {
@@ -456,23 +569,11 @@ export function workingModel(w: ArrayLike<number>, n: ArrayLike<number>, pairs: 
     for (let q = 0; q < H; q++) { D[p][q] *= inv(p) * inv(q); G[H + q][p] = G[p][H + q]; }
     for (let q = p + 1; q < H; q++) G[H + q][H + p] = G[H + p][H + q];
   }
-  // K = [[D, -diag(1 / W_h)], [-diag(1 / W_h), 0]].
+  // K = [[D, -diag(1 / W_h)], [-diag(1 / W_h), 0]]; tr(K U'SU) from w_p'S w_q (the D block) and a_h'S w_h.
   const K = Array.from({ length: d }, () => new Float64Array(d));
   for (let p = 0; p < H; p++) { for (let q = 0; q < H; q++) K[p][q] = D[p][q]; K[p][H + p] = -inv(p); K[H + p][p] = -inv(p); }
-  // tr(K U'SU) needs w_p'S w_q (the D block) and a_h'S w_h (the cross blocks' diagonals).
-  const wSw = Array.from({ length: H }, () => new Float64Array(H)), aSw = new Float64Array(H);
-  for (let k = 0; k < m; k++) { const g = h[k]; wSw[g][g] += v[k] * wl[k] * wl[k]; aSw[g] += a[g][k] * v[k] * wl[k]; }
-  for (let i = 0; i < np; i++) {
-    const k = pairs.a[i], j = pairs.b[i], s = sPair[i], hk = h[k], hj = h[j];
-    wSw[hk][hj] += s * wl[k] * wl[j]; wSw[hj][hk] += s * wl[k] * wl[j];
-    // (S w_h)[k] holds s_kj w_j for h = h(j): a_h' S w_h gains a_{h(j)}[k] s w_j, and likewise for j.
-    aSw[hj] += a[hj][k] * s * wl[j]; aSw[hk] += a[hk][j] * s * wl[k];
-  }
   let trKUSU = 0;
-  for (let p = 0; p < H; p++) { for (let q = 0; q < H; q++) trKUSU += D[p][q] * wSw[q][p]; trKUSU -= 2 * inv(p) * aSw[p]; }
-  let trS2 = 0;
-  for (let k = 0; k < m; k++) trS2 += v[k] * v[k];
-  for (let i = 0; i < np; i++) trS2 += 2 * sPair[i] * sPair[i];
+  for (let p = 0; p < H; p++) { for (let q = 0; q < H; q++) trKUSU += D[p][q] * wSw[q * H + p]; trKUSU -= 2 * inv(p) * aSw[p]; }
   // tr((K G)^2).
   const KG = K.map((row) => { const out = new Float64Array(d); for (let t = 0; t < d; t++) if (row[t] !== 0) for (let q = 0; q < d; q++) out[q] += row[t] * G[t][q]; return out; });
   let trKG2 = 0;

@@ -120,7 +120,7 @@ export function orderSummary(free: BlockSums, ref: BlockSums | null, tally: { us
   const m = totalMoments(free);
   const { directorDetermined, ...order2D } = freeOrderStat(free);
   const directorDeg = m.w > 0 ? wrapAxialDeg(radToDeg(0.5 * Math.atan2(m.ws, m.wc))) : NaN;
-  const axisOrder: OrderStat | null = ref ? axisOrderStat(ref) : null;
+  const axisOrder: OrderStat | null = ref ? axisOrderStat(sameBlocks(ref, free)) : null;
   const blocks = liveBlocks(free);
   const nEff = Math.max(1, effectiveSamples(free));
   return {
@@ -136,4 +136,15 @@ function effectiveSamples(b: BlockSums): number {
   let s = 0, s2 = 0;
   for (let i = 0; i < b.w.length; i++) { s += b.w[i]; s2 += b.w[i] * b.w[i]; }
   return s2 > 0 ? (s * s) / s2 : 0;
+}
+
+/**
+ * `b` with the block grid and weights of `like` where they hold the same values (S_axis's blocks are S_2D's when the
+ * reference changes no pixel's weight or mask), so that the interval's work on the blocks is done once for both.
+ */
+function sameBlocks(b: BlockSums, like: BlockSums): BlockSums {
+  const m = b.n.length;
+  if (like.n.length !== m) return b;
+  for (let k = 0; k < m; k++) if (b.n[k] !== like.n[k] || b.bx[k] !== like.bx[k] || b.by[k] !== like.by[k] || b.w[k] !== like.w[k]) return b;
+  return { ...b, n: like.n, bx: like.bx, by: like.by, w: like.w };
 }

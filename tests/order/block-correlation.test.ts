@@ -104,6 +104,22 @@ describe('working model of the block variance', () => {
   });
 });
 
+describe('one stratum', () => {
+  it('gives the same factor, dof and correlation by the one-pass path as by the strata path with every block in one stratum', () => {
+    // The one-pass path (no strata) and the general one (strata given, all 0) compute the same traces differently.
+    for (const [pieces, seed, rho] of [[11, 31, { rho: [0.3, 0.2, 0.1] }], [40, 32, { rho: [0.6, 0.4, 0.25] }]] as const) {
+      const b = strip(pieces, seed), zeros = new Int32Array(pieces), model = { rho: [...rho.rho] };
+      const one = workingModel(b.w, b.n, laggedPairs(b), model), all = workingModel(b.w, b.n, laggedPairs(b), model, zeros);
+      expect(one.factor).toBeCloseTo(all.factor, 12);
+      expect(one.dof).toBeCloseTo(all.dof, 9);
+      const normal = normalRandom(seededRandom(seed));
+      const y = Float64Array.from(b.w, (w, k) => 0.5 * w + (normal() * w) / Math.sqrt(b.n[k]));
+      const c1 = blockCorrelation([{ ys: [y], b }]), c2 = blockCorrelation([{ ys: [y], b: { ...b, strata: zeros } }]);
+      c1.rho.forEach((x, i) => expect(x).toBeCloseTo(c2.rho[i], 12));
+    }
+  });
+});
+
 describe('pooled block correlation', () => {
   it('recovers the edge, corner and two-apart correlations of simulated strips (method of moments)', () => {
     const rho = { rho: [0.3, 0.18, 0.1] }, normal = normalRandom(seededRandom(11));
