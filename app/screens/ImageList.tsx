@@ -19,7 +19,7 @@ export function ImageList({ w }: { w: Workspace }) {
         {session.images.map((m) => (
           <li key={m.id} className={m.id === session.activeImageId ? 'current' : ''}>
             <button onClick={() => change({ type: 'select', id: m.id })} title={m.name}><NameParts name={m.name} /></button>
-            <span className="marks">{session.work[m.id]?.orient ? 'O' : ''}{session.work[m.id]?.profile ? 'P' : ''}</span>
+            <WorkMarks orient={!!session.work[m.id]?.orient} profile={!!session.work[m.id]?.profile} />
             <button className="quiet small" aria-label={`Remove ${m.name} from the session`} onClick={() => remove(m.id)}>×</button>
           </li>
         ))}
@@ -42,4 +42,10 @@ function NameParts({ name }: { name: string }) {
       <span className="name-tail">{name.slice(-NAME_TAIL)}</span>
     </span>
   );
+}
+
+/** What the image's kept work holds, as short marks with their meaning on hover and for screen readers. */
+function WorkMarks({ orient, profile }: { orient: boolean; profile: boolean }) {
+  const said = [orient && 'orientation analysed', profile && 'channel profiled'].filter(Boolean).join(', ');
+  return <span className="marks" title={said || undefined} aria-label={said || undefined}>{orient ? 'O' : ''}{profile ? 'P' : ''}</span>;
 }
