@@ -11,16 +11,18 @@ import { fileURLToPath } from 'node:url';
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 export const CLI_OUT = resolve(ROOT, 'dist/retarda.mjs');
 
-/** Bundles src/cli/main.ts and a two-line entry into CLI_OUT (about 0.2 s). */
-export async function buildCli() {
+/** Bundles src/cli/main.ts and a short entry into `outfile`, CLI_OUT by default (about 0.2 s). */
+export async function buildCli(outfile = CLI_OUT) {
   await build({
     stdin: {
-      contents: "import { main } from './src/cli/main.ts';\nprocess.exitCode = await main(process.argv.slice(2));\n",
+      // The same file runs as the command's worker threads (src/cli/threads.ts).
+      contents: "import { main } from './src/cli/main.ts';\nimport { isStripWorker, serveStrips } from './src/cli/threads.ts';\n"
+        + "if (isStripWorker()) serveStrips();\nelse process.exitCode = await main(process.argv.slice(2));\n",
       resolveDir: ROOT,
       sourcefile: 'retarda-entry.ts',
       loader: 'ts',
     },
-    outfile: CLI_OUT,
+    outfile,
     bundle: true,
     platform: 'node',
     format: 'esm',
@@ -29,7 +31,7 @@ export async function buildCli() {
     logLevel: 'warning',
     legalComments: 'none',
   });
-  chmodSync(CLI_OUT, 0o755);
+  chmodSync(outfile, 0o755);
 }
 
 /**

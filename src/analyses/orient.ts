@@ -1,6 +1,6 @@
 import { toGrey, type Image } from '../image/index.ts';
 import { orientationField, type OrientationField, type OrientationFieldOptions, type PlaneRows, type TileHelper } from '../orientation/index.ts';
-import { orderParameters, streamedOrderParameters, type OrderOptions, type OrderSummary } from '../order/index.ts';
+import { orderParameters, streamedOrderParameters, type OrderOptions, type OrderSummary, type StripSharing } from '../order/index.ts';
 import { rectMask, type Rect } from '../common/index.ts';
 import { SCHEMA_VERSION, type ResultHead } from './schema.ts';
 
@@ -61,11 +61,11 @@ export async function analyseOrientationStreamed(img: Image, o: OrientOptions = 
 
 /**
  * analyseOrientationStreamed of an image given by its facts and its grey plane or rows read on demand
- * (src/image greyTiffRows: no plane held at all).
+ * (src/image greyTiffRows: no plane held at all); `sharing`: strips computed by helpers too (the same numbers).
  */
-export async function analyseOrientationRows(head: ResultImage, grey: PlaneRows, o: OrientOptions = {}): Promise<OrientResult> {
+export async function analyseOrientationRows(head: ResultImage, grey: PlaneRows, o: OrientOptions = {}, sharing?: StripSharing): Promise<OrientResult> {
   const region = o.region ? rectMask(o.region, head.width, head.height) : undefined;
-  const { summary, field } = await streamedOrderParameters(grey, { ...o, region });
+  const { summary, field } = await streamedOrderParameters(grey, { ...o, region }, sharing);
   return orientResult(head, field, summary, o);
 }
 

@@ -1,4 +1,4 @@
-import { readFileSync, statSync } from 'node:fs';
+import { closeSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { open, writeFile, type FileHandle } from 'node:fs/promises';
 import { InputError } from '../common/index.ts';
 import { decodeImage, decodeImagePages, detectFormat, greyTiffRows, MAX_DECODE_BYTES, usePlatformCodecs, type GreyRows, type Image, type ImageHead } from '../image/index.ts';
@@ -18,8 +18,11 @@ function fsProblem(path: string, e: unknown, doing: string): InputError {
   return new InputError(`${path}: cannot ${doing} (${why})`, 'Check the path and its permissions');
 }
 
-/** Reads a whole file, with file-system problems as InputError naming the path. */
-async function readImageBytes(path: string): Promise<Uint8Array> {
+/**
+ * Reads a whole file, with file-system problems as InputError naming the path. A file of `sharedFrom` bytes or
+ * more is read into a SharedArrayBuffer, which worker threads can read without a copy.
+ */
+async function readImageBytes(path: string, sharedFrom = Infinity): Promise<Uint8Array> {
   // Read in one call on this thread: the command does one thing at a time, and the asynchronous read's
   // hand-offs cost a millisecond or two per file.
   let info;
@@ -36,11 +39,27 @@ async function readImageBytes(path: string): Promise<Uint8Array> {
       'Crop or bin the image, or split the stack into smaller files');
   }
   try {
+    if (info.size >= sharedFrom) return readShared(path, info.size);
     const buf = readFileSync(path);
     return new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength);
   } catch (e) {
     throw fsProblem(path, e, 'read the image');
   }
+}
+
+/** The file's `size` bytes in a SharedArrayBuffer. */
+function readShared(path: string, size: number): Uint8Array {
+  const out = new Uint8Array(new SharedArrayBuffer(size)), fd = openSync(path, 'r');
+  try {
+    for (let at = 0; at < size;) {
+      const got = readSync(fd, out, at, Math.min(size - at, 2 ** 30), at);
+      if (got === 0) throw new Error(`${path}: the file ended early`);
+      at += got;
+    }
+  } finally {
+    closeSync(fd);
+  }
+  return out;
 }
 
 /** Bytes an image's planes hold (4 per float sample). */
@@ -69,17 +88,21 @@ export async function loadImageFiles(paths: string[], options: { grey?: boolean 
 /**
  * One image file for an analysis that can stream its grey rows: a plain grey TIFF (greyTiffRows) of more than
  * `rowsAbove` pixels comes as rows read from the file on demand (no plane of 4 bytes a pixel), anything else
- * decoded as loadImageFiles does with `grey` (the same values either way).
+ * decoded as loadImageFiles does with `grey` (the same values either way). With `shared`, a file that may
+ * come as rows (at least `rowsAbove` bytes) is read into a SharedArrayBuffer, and the rows' file bytes are
+ * returned too (`bytes`: worker threads read the rows from them).
  * @throws InputError as loadImageFiles
  */
-export async function loadGreyImageOrRows(path: string, rowsAbove: number): Promise<{ img: Image } | { head: ImageHead; rows: GreyRows }> {
+export async function loadGreyImageOrRows(path: string, rowsAbove: number, shared = false): Promise<{ img: Image } | { head: ImageHead; rows: GreyRows; bytes: Uint8Array }> {
   usePlatformCodecs(NODE_CODECS);
-  const bytes = await readImageBytes(path);
+  const bytes = await readImageBytes(path, shared ? rowsAbove : Infinity);
   if (detectFormat(bytes, path) === 'tiff') {
     const found = greyTiffRows(bytes, path);
-    if (found && found.head.width * found.head.height > rowsAbove) return found;
+    if (found && found.head.width * found.head.height > rowsAbove) return { ...found, bytes };
   }
-  return { img: decodeImage(bytes, path, 0, MAX_DECODE_BYTES, { grey: true }) };
+  // The decoders take plain buffers.
+  const plain = bytes.buffer instanceof SharedArrayBuffer ? bytes.slice() : bytes;
+  return { img: decodeImage(plain, path, 0, MAX_DECODE_BYTES, { grey: true }) };
 }
 
 /**

@@ -272,6 +272,17 @@ export class BlockRowSums {
     const t = this.views().tally;
     return [t[0], t[1]];
   }
+
+  /**
+   * The tally since it was last taken, then cleared. Each group of rows adds its own sums to the tally once
+   * (the kernel's blockRows), so taking it after every row and adding the values in the same order gives
+   * tally()'s numbers to the bit, also when the rows were summed in strips (src/order/streamedOrder.ts).
+   */
+  takeTally(): [number, number] {
+    const t = this.views().tally, taken: [number, number] = [t[0], t[1]];
+    t.fill(0);
+    return taken;
+  }
 }
 
 /** Block sums as they are found: typed arrays grown by doubling. */

@@ -10,5 +10,5 @@ export { seededRandom, normalRandom } from './random.ts';
 export type { CellOrder } from './cells.ts';
 export { cellOrders } from './cells.ts';
 export { correlationLengthPx } from './correlation.ts';
-export { streamedOrderParameters } from './streamedOrder.ts';
-export type { FieldRecord } from './streamedOrder.ts';
+export { streamedOrderParameters, sumsStrip } from './streamedOrder.ts';
+export type { FieldRecord, StripHelper, StripSharing, SumsJob, SumsPart, SurveyJob } from './streamedOrder.ts';

@@ -10,7 +10,7 @@ export { foldMod90, foldEdgeMap, foldEdgeShare, mod90Axis, mod90AxisOfSums, FOLD
 export { tilePixels, writeTexturePixels } from './tileShare.ts';
 export type { TileHelper, TileJob, TilePixels } from './tileShare.ts';
 export { derivativeReachPx, integrationReachPx, recomputeWithCertainty, withFieldPatch, type FieldPatch } from './maskedTensor.ts';
-export { surveyTexture, streamMaskedRows } from './streamedField.ts';
-export type { SurveyPlan, MaskedLine, TextureSurvey, MaskSlot, MaskedRowSink } from './streamedField.ts';
+export { surveyTexture, surveyStrip, streamMaskedRows, streamMaskedStrip, maskedWarnings } from './streamedField.ts';
+export type { SurveyPlan, SurveyPart, SurveyShare, MaskedLine, MaskingSurvey, TextureSurvey, MaskSlot, MaskedRowSink } from './streamedField.ts';
 export { orientationColours } from './derivedLayers.ts';
 export type { RowSource, PlaneRows } from './tensorStream.ts';

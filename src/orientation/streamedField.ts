@@ -1,5 +1,6 @@
 import { loadTensorKernel } from '../wasm/index.ts';
 import { resolveTensorOptions, streamTileRows, tensorHaloPx, type StructureTensorOptions } from './structureTensor.ts';
+import type { Tile } from '../image/index.ts';
 import type { PlaneRows } from './tensorStream.ts';
 import {
   float32Above, float32Below, maskWarnings, quantileStep, resolveMaskOptions, sampleQuantile, strengthFloorOf, type MaskOptions,
@@ -41,27 +42,44 @@ export interface TextureSurvey {
 }
 
 /** Raw layers of kept pixels before the mask is known. */
-interface RawLine { strength: Float32Array; confidence: Float32Array; cos2: Float32Array; sin2: Float32Array }
+export interface RawLine { strength: Float32Array; confidence: Float32Array; cos2: Float32Array; sin2: Float32Array }
 
 const rawLine = (n: number): RawLine => ({ strength: new Float32Array(n), confidence: new Float32Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n) });
 
 /**
- * First pass: streams `input` through the kernel keeping quantile's strength sample, the planned lines and the
- * grid, then sets the thresholds as finishTextureField does and masks the kept pixels. A plane with values that
- * are not finite is filled and streamed again, as orientationField does.
+ * What the first pass kept from rows y0 <= y < y1: the strength sample of those rows (in the order of the
+ * pixels), the largest |value| the kernel read for them, and the grid, planned rows and columns as arrays of
+ * the whole image's size with only those rows' pixels set.
  */
-export async function surveyTexture(input: PlaneRows, options: StructureTensorOptions & MaskOptions, plan: SurveyPlan): Promise<TextureSurvey> {
-  const t = resolveTensorOptions(options);
-  const mo = resolveMaskOptions(options);
-  const { width: w, height: h } = input;
+export interface SurveyPart { y0: number; y1: number; largest: number; sample: Float32Array; grid: RawLine; rows: RawLine[]; columns: RawLine[] }
+
+/**
+ * The horizontal strip of rows y0 <= y < y1 with the tensor's halo above and below (tensorHaloPx): its rows
+ * are the whole image's, to the bit (tests/orientation/tile-share.test.ts). Null for the whole plane.
+ */
+export function stripTile(width: number, height: number, y0: number, y1: number, halo: number): Tile | null {
+  if (y0 === 0 && y1 === height) return null;
+  const top = Math.max(0, y0 - halo), bottom = Math.min(height, y1 + halo);
+  return { x: 0, y: top, w: width, h: bottom - top, innerX: 0, innerY: y0, innerW: width, innerH: y1 - y0 };
+}
+
+/**
+ * The first pass over rows y0 <= y < y1 of `plane` (all of it by default): what surveyTexture keeps of them.
+ * Any cut of the rows into strips gives the same parts, to the bit (mergeSurveyParts puts them together).
+ */
+export async function surveyStrip(plane: PlaneRows, t: Required<StructureTensorOptions>, plan: SurveyPlan, y0 = 0, y1 = plane.height): Promise<SurveyPart> {
+  const { width: w, height: h } = plane;
   const n = w * h, qStep = quantileStep(n), g = plan.gridStep;
   const gx = Math.ceil(w / g), gy = Math.ceil(h / g);
   const rowSlot = new Map(plan.rows.map((y, k) => [y, k]));
+  const tile = stripTile(w, h, y0, y1, tensorHaloPx(t));
+  const top = tile ? tile.y : 0;
   // Rows read in part get only the windows of the pixels read (the kernel's last stage is four tenths of its work).
   const most = plan.columns.length + Math.ceil(w / qStep) + 1, starts = new Int32Array(most);
   const windows = {
     most,
-    of: (y: number): Int32Array | null => {
+    of: (yc: number): Int32Array | null => {
+      const y = yc + top;
       if (y % g === 0 || rowSlot.has(y)) return null;
       let count = 0;
       for (const x of plan.columns) starts[count++] = x;
@@ -69,35 +87,70 @@ export async function surveyTexture(input: PlaneRows, options: StructureTensorOp
       return 16 * count < w ? starts.subarray(0, count) : null;
     },
   };
-  const pass = async (plane: PlaneRows) => {
-    const sample = new Float32Array(Math.ceil(n / qStep));
-    const grid = rawLine(gx * gy), rows = plan.rows.map(() => rawLine(w)), columns = plan.columns.map(() => rawLine(h));
-    let kept = 0;
-    const largest = await streamTileRows(plane, null, t, 'lean', (y, a, b, c, d) => {
-      const at = y * w;
-      for (let i = Math.ceil(at / qStep) * qStep; i < at + w; i += qStep) if (Number.isFinite(a[i - at])) sample[kept++] = a[i - at];
-      if (y % g === 0) {
-        for (let x = 0, j = (y / g) * gx; x < w; x += g, j++) {
-          grid.strength[j] = a[x]; grid.confidence[j] = b[x]; grid.cos2[j] = c[x]; grid.sin2[j] = d[x];
-        }
+  const sample = new Float32Array(Math.ceil((y1 - y0) * w / qStep) + 1);
+  const grid = rawLine(gx * gy), rows = plan.rows.map(() => rawLine(w)), columns = plan.columns.map(() => rawLine(h));
+  let kept = 0;
+  const largest = await streamTileRows(plane, tile, t, 'lean', (y, a, b, c, d) => {
+    const at = y * w;
+    for (let i = Math.ceil(at / qStep) * qStep; i < at + w; i += qStep) if (Number.isFinite(a[i - at])) sample[kept++] = a[i - at];
+    if (y % g === 0) {
+      for (let x = 0, j = (y / g) * gx; x < w; x += g, j++) {
+        grid.strength[j] = a[x]; grid.confidence[j] = b[x]; grid.cos2[j] = c[x]; grid.sin2[j] = d[x];
       }
-      const r = rowSlot.get(y);
-      if (r !== undefined) {
-        const line = rows[r];
-        line.strength.set(a.subarray(0, w)); line.confidence.set(b.subarray(0, w)); line.cos2.set(c.subarray(0, w)); line.sin2.set(d.subarray(0, w));
-      }
-      plan.columns.forEach((x, k) => {
-        const line = columns[k];
-        line.strength[y] = a[x]; line.confidence[y] = b[x]; line.cos2[y] = c[x]; line.sin2[y] = d[x];
-      });
-    }, { windows });
-    return { largest, sample: sample.subarray(0, kept), grid, rows, columns };
-  };
-  let found = await pass(input), plane: PlaneRows = input, reach: Uint8Array | null = null, nonFinite = 0, largest = found.largest;
+    }
+    const r = rowSlot.get(y);
+    if (r !== undefined) {
+      const line = rows[r];
+      line.strength.set(a.subarray(0, w)); line.confidence.set(b.subarray(0, w)); line.cos2.set(c.subarray(0, w)); line.sin2.set(d.subarray(0, w));
+    }
+    plan.columns.forEach((x, k) => {
+      const line = columns[k];
+      line.strength[y] = a[x]; line.confidence[y] = b[x]; line.cos2[y] = c[x]; line.sin2[y] = d[x];
+    });
+  }, { windows });
+  return { y0, y1, largest, sample: sample.slice(0, kept), grid, rows, columns };
+}
+
+/** The parts of strips that cover the rows from the top, one after another, as one part of the whole plane. */
+export function mergeSurveyParts(parts: SurveyPart[], width: number, plan: SurveyPlan): SurveyPart {
+  if (parts.length === 1) return parts[0];
+  const g = plan.gridStep, gx = Math.ceil(width / g);
+  const sample = new Float32Array(parts.reduce((s, p) => s + p.sample.length, 0));
+  const first = parts[0], keys = ['strength', 'confidence', 'cos2', 'sin2'] as const;
+  let at = 0, largest = 0;
+  for (const p of parts) {
+    sample.set(p.sample, at);
+    at += p.sample.length;
+    largest = p.largest > largest || Number.isNaN(p.largest) ? p.largest : largest;
+    if (p === first) continue;
+    const j0 = Math.ceil(p.y0 / g) * gx, j1 = Math.ceil(p.y1 / g) * gx;
+    for (const k of keys) first.grid[k].set(p.grid[k].subarray(j0, j1), j0);
+    plan.rows.forEach((y, r) => { if (y >= p.y0 && y < p.y1) for (const k of keys) first.rows[r][k].set(p.rows[r][k]); });
+    plan.columns.forEach((_x, c) => { for (const k of keys) first.columns[c][k].set(p.columns[c][k].subarray(p.y0, p.y1), p.y0); });
+  }
+  return { ...first, y1: parts[parts.length - 1].y1, largest, sample };
+}
+
+/** Strips of rows [y0, y1) and who computes their SurveyParts (here and elsewhere, any of them). */
+export interface SurveyShare { ranges: Array<[number, number]>; run: (ranges: Array<[number, number]>) => Promise<SurveyPart[]> }
+
+/**
+ * First pass: streams `input` through the kernel keeping quantile's strength sample, the planned lines and the
+ * grid, then sets the thresholds as finishTextureField does and masks the kept pixels. A plane with values that
+ * are not finite is filled and streamed again (here, in one pass), as orientationField does. With `share` the
+ * rows are cut into its strips, which it computes (surveyStrip, here or elsewhere): the same survey to the bit.
+ */
+export async function surveyTexture(input: PlaneRows, options: StructureTensorOptions & MaskOptions, plan: SurveyPlan, share?: SurveyShare): Promise<TextureSurvey> {
+  const t = resolveTensorOptions(options);
+  const mo = resolveMaskOptions(options);
+  const { width: w, height: h } = input;
+  const g = plan.gridStep, gx = Math.ceil(w / g);
+  let found = share && share.ranges.length > 1 ? mergeSurveyParts(await share.run(share.ranges), w, plan) : await surveyStrip(input, t, plan);
+  let plane: PlaneRows = input, reach: Uint8Array | null = null, nonFinite = 0, largest = found.largest;
   if (!(largest < Infinity)) {
     if (!('data' in input)) throw new Error('rows read on demand held a value that is not finite');
     const filled = fillNonFinite(input);
-    found = await pass(filled.plane);
+    found = await surveyStrip(filled.plane, t, plan);
     plane = filled.plane;
     largest = filled.largest;
     nonFinite = filled.count;
@@ -139,17 +192,36 @@ export type MaskedRowSink = (y: number, mask: Uint8Array, strength: Float32Array
  * memory starts at `arenaStart`, above the caller's slots. Returns the field's warnings, as orientationField's.
  */
 export async function streamMaskedRows(s: TextureSurvey, arenaStart: number, slot: (y: number) => MaskSlot, sink: MaskedRowSink): Promise<string[]> {
+  const { width: w, height: h } = s.plane;
+  const { kept, lost } = await streamMaskedStrip(s, arenaStart, slot, sink);
+  return maskedWarnings(s, w * h - kept, lost);
+}
+
+/** The field's warnings, as orientationField's, from the pixels masked and those lost to the non-finite reach. */
+export function maskedWarnings(s: Pick<TextureSurvey, 'plane' | 'reach' | 'nonFinite'>, masked: number, lost: number): string[] {
+  const n = s.plane.width * s.plane.height;
+  const warnings = maskWarnings(masked, n);
+  if (s.reach) warnings.push(nonFiniteWarning(s.nonFinite, lost));
+  return warnings;
+}
+
+/** What streamMaskedRows needs of the survey to mask rows (a strip's worth can be sent to another worker). */
+export type MaskingSurvey = Pick<TextureSurvey, 'plane' | 'tensor' | 'strengthAbove' | 'coherencyFrom' | 'reach'>;
+
+/**
+ * streamMaskedRows over rows y0 <= y < y1 (a strip with the tensor's halo: the same rows, to the bit).
+ * Returns how many pixels the kernel kept and how many of them the non-finite reach then masked.
+ */
+export async function streamMaskedStrip(s: MaskingSurvey, arenaStart: number, slot: (y: number) => MaskSlot, sink: MaskedRowSink, y0 = 0, y1 = s.plane.height): Promise<{ kept: number; lost: number }> {
   const k = await loadTensorKernel();
   const { width: w, height: h } = s.plane;
   const reach = s.reach;
   let kept = 0, lost = 0;
-  await streamTileRows(s.plane, null, s.tensor, 'lean', (y, a, b, c, d) => {
+  await streamTileRows(s.plane, stripTile(w, h, y0, y1, tensorHaloPx(s.tensor)), s.tensor, 'lean', (y, a, b, c, d) => {
     const { mask, maskAt } = slot(y);
     kept += k.maskPixels(a.byteOffset, b.byteOffset, w, s.strengthAbove, s.coherencyFrom, maskAt);
     if (reach) for (let x = 0, i = y * w; x < w; x++, i++) if (reach[i] && mask[x]) { mask[x] = 0; lost++; }
     sink(y, mask, a, b, c, d);
   }, { arenaStart });
-  const warnings = maskWarnings(w * h - kept, w * h);
-  if (reach) warnings.push(nonFiniteWarning(s.nonFinite, lost));
-  return warnings;
+  return { kept, lost };
 }

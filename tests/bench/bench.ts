@@ -152,9 +152,9 @@ function orientPerImage(dir: string, native: boolean): void {
 }
 
 /** Seconds and peak resident memory (KiB) of one whole `retarda ARGS` process (tests/bench/maxrss.mjs). */
-function measuredRun(dir: string, args: string[]): { s: number; kib: number } {
+function measuredRun(dir: string, args: string[], env: NodeJS.ProcessEnv = {}): { s: number; kib: number } {
   const file = join(dir, 'maxrss.txt');
-  const s = timedRun(process.execPath, [join(ROOT, 'tests/bench/maxrss.mjs'), CLI, ...args], { ...process.env, RETARDA_MAXRSS_FILE: file });
+  const s = timedRun(process.execPath, [join(ROOT, 'tests/bench/maxrss.mjs'), CLI, ...args], { ...process.env, ...env, RETARDA_MAXRSS_FILE: file });
   return { s, kib: Number(readFileSync(file, 'utf8')) };
 }
 
@@ -190,10 +190,17 @@ function largeTiffs(dir: string): void {
   console.log(`  7071x7071 (100 MB file): peak ${mb(small.kib).toFixed(0)} MB   goal <= ${GOALS.peakMb100MbFile} MB   (${fmt(small.s)})`);
   rows.push({ what: 'peak memory, orient on a 100 MB 16-bit TIFF', value: `${mb(small.kib).toFixed(0)} MB`, goal: `<= ${GOALS.peakMb100MbFile} MB`, met: mb(small.kib) <= GOALS.peakMb100MbFile });
   writeSceneTiff16(file100Mp, 10000, 10000);
-  const runs = Array.from({ length: REPEATS }, () => measuredRun(dir, ['orient', file100Mp]));
+  // Taking turns with one thread (RETARDA_THREADS=1; src/cli/threads.ts): the command shares the strips with a
+  // worker thread when a core was free while the file was read.
+  const runs: Array<{ s: number; kib: number }> = [], alone: Array<{ s: number; kib: number }> = [];
+  for (let k = 0; k < REPEATS; k++) {
+    runs.push(measuredRun(dir, ['orient', file100Mp]));
+    alone.push(measuredRun(dir, ['orient', file100Mp], { RETARDA_THREADS: '1' }));
+  }
   rmSync(file100Mp);
   const s = Math.min(...runs.map((r) => r.s)), kib = Math.max(...runs.map((r) => r.kib));
   console.log(`  10000x10000 (100 MP): ${fmt(s)} (best of ${REPEATS}; ${runs.map((r) => r.s.toFixed(2)).join(', ')} s)   goal <= ${fmt(GOALS.orient100MpS)}; peak ${mb(kib).toFixed(0)} MB   goal <= ${GOALS.peakMb100Mp} MB`);
+  console.log(`    one thread in turns: ${alone.map((r) => r.s.toFixed(2)).join(', ')} s, peak ${mb(Math.max(...alone.map((r) => r.kib))).toFixed(0)} MB`);
   rows.push({ what: 'orient on a 100 MP 16-bit TIFF (whole process)', value: fmt(s), goal: `<= ${fmt(GOALS.orient100MpS)}`, met: s <= GOALS.orient100MpS });
   rows.push({ what: 'peak memory, orient on a 100 MP 16-bit TIFF', value: `${mb(kib).toFixed(0)} MB`, goal: `<= ${GOALS.peakMb100Mp} MB`, met: mb(kib) <= GOALS.peakMb100Mp });
 }

@@ -1,4 +1,4 @@
-import { analyseOrientation, analyseOrientationRows, analyseOrientationStreamed, HELD_FIELD_MAX_PIXELS, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
+import { analyseOrientation, analyseOrientationRows, HELD_FIELD_MAX_PIXELS, NOT_DETERMINED, type OrientResult } from '../../analyses/index.ts';
 import { giveBack } from '../../common/index.ts';
 import { recycleTextureField } from '../../orientation/index.ts';
 import { parseRect } from '../../common/index.ts';
@@ -11,7 +11,8 @@ import { loadGreyImageOrRows, loadImageFiles } from '../io.ts';
 import { fieldOutPath, writeFieldTiff } from '../fieldExport.ts';
 import type { OrientOptions } from '../../analyses/orient.ts';
 import { InputError } from '../../common/errors.ts';
-import { ANALYSIS_MAX_PIXELS, checkAnalysisPixels } from '../../image/index.ts';
+import { ANALYSIS_MAX_PIXELS, checkAnalysisPixels, toGrey } from '../../image/index.ts';
+import { startStripSharing, threadCount, watchIdleCores } from '../threads.ts';
 import { weightingFrom } from '../channelOptions.ts';
 
 /** The texture field's options (TEXTURE_OPTIONS) as the analyses take them. */
@@ -56,16 +57,30 @@ export const orientCommand: Command = {
     for (const path of a.positionals) {
       // The structure tensor reads grey (toGrey): a colour PNG is decoded straight to luma, the same bits. For
       // numbers only, a large plain grey TIFF's rows are read from the file as the field streams past.
-      const loaded = fieldOut ? { img: (await loadImageFiles([path], { grey: true }))[0] } : await loadGreyImageOrRows(path, HELD_FIELD_MAX_PIXELS);
+      // Whether a core is free to share a large image's strips with (src/cli/threads.ts), seen while it is read.
+      const idle = watchIdleCores();
+      const loaded = fieldOut ? { img: (await loadImageFiles([path], { grey: true }))[0] } : await loadGreyImageOrRows(path, HELD_FIELD_MAX_PIXELS, threadCount() > 1);
       if ('rows' in loaded) {
-        results.push(await analyseOrientationRows(loaded.head, loaded.rows, opts));
+        // Its strips shared with worker threads reading the same file bytes (src/cli/threads.ts).
+        const share = startStripSharing({ tiff: loaded.bytes, name: path }, idle);
+        try {
+          results.push(await analyseOrientationRows(loaded.head, loaded.rows, opts, share?.sharing));
+        } finally {
+          share?.close();
+        }
         continue;
       }
       const { img } = loaded;
       if (fieldOut) checkAnalysisPixels(img, ANALYSIS_MAX_PIXELS.fieldOut);
       if (!fieldOut && img.width * img.height > HELD_FIELD_MAX_PIXELS) {
-        // Numbers only, from a large image: the field is streamed, never held (the same numbers).
-        results.push(await analyseOrientationStreamed(img, opts));
+        // Numbers only, from a large image: the field is streamed, never held (the same numbers), its strips
+        // shared with worker threads.
+        const grey = toGrey(img), share = startStripSharing({ plane: grey }, idle);
+        try {
+          results.push(await analyseOrientationRows(img, grey, opts, share?.sharing));
+        } finally {
+          share?.close();
+        }
       } else {
         const { result, field } = await analyseOrientation(img, opts);
         if (fieldOut) await writeFieldTiff(fieldOutPath(fieldOut, img.source.name, a.positionals.length), field, `retarda orient ${img.source.name}`);
