@@ -14,7 +14,7 @@ import { dilate, fillNonFinite, nonFiniteWarning } from './nonFinite.ts';
  * and grid points the caller names (for the correlation length); the second (streamMaskedRows) hands out each
  * row with its mask. The kernel gives the same bits on both passes, and the mask is the same comparison in the
  * same kernel, so everything read from the rows equals what orientationField's held field gives, to the bit
- * (tests/orientation/streamed-field.test.ts). Memory: the rows the caller keeps, not 17 bytes per pixel.
+ * (tests/order/streamed-order.test.ts, tests/order/streamed-share.test.ts). Memory: the rows the caller keeps, not 17 bytes per pixel.
  */
 
 /** Rows, columns and a grid (every `gridStep` px from the top-left pixel) to keep in the first pass. */
