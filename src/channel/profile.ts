@@ -6,7 +6,7 @@ import type { OrientationField } from '../orientation/index.ts';
 import { foldEdgeMap, foldMod90, FOLD_EDGE_DEG, FOLD_EDGE_MAX_SHARE } from '../orientation/index.ts';
 import { angleNoiseFactor } from '../optics/index.ts';
 import {
-  accumulateBlocks, axisOrderStat, blockCorrelation, checkWeighting, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
+  accumulateBlocks, axisOrderStat, blockCorrelation, checkWeighting, concatBlocks, defaultBlockPx, defaultWeighting, fiellerInterval, totalMoments, BLOCK_PX_LIMIT,
   type BlockCorrelation, type BlockSums, type OrderStat, type Weighting,
 } from '../order/index.ts';
 import { channelFrame, transverse, transverseLinear, type Channel, type ChannelFrame } from './geometry.ts';
@@ -187,13 +187,13 @@ export function channelProfile(field: OrientationField, ch: Channel, options: Pr
       ...bandStats(binSums.slice(st * bins, st * bins + bins), bandSums[st * 2], bandSums[st * 2 + 1], bins, axisDeg, counted ? clipCounts[st] : null, stations > 1 ? `station ${st} ` : '', withheld, rho),
     });
   }
-  const pooledBins = Array.from({ length: bins }, (_, b) => merge(Array.from({ length: stations }, (_, st) => binSums[st * bins + b])));
-  const bandOf = (band: number) => merge(Array.from({ length: stations }, (_, st) => bandSums[st * 2 + band]));
-  // One station is the whole channel: its numbers are the profile's.
+  // One station is the whole channel: its numbers are the profile's. Several are pooled bin by bin and band by band.
   const only = stations === 1 ? stationList[0] : null;
+  const across = (pick: (st: number) => BlockSums) => concatBlocks(Array.from({ length: stations }, (_, st) => pick(st)));
   const pooled: BandStats = only
     ? { bins: only.bins, core: only.core, skin: only.skin, coreSkinRatio: only.coreSkinRatio, coreSkinRatioCiLow: only.coreSkinRatioCiLow, coreSkinRatioCiHigh: only.coreSkinRatioCiHigh }
-    : bandStats(pooledBins, bandOf(0), bandOf(1), bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld, rho);
+    : bandStats(Array.from({ length: bins }, (_, b) => across((st) => binSums[st * bins + b])), across((st) => bandSums[st * 2]), across((st) => bandSums[st * 2 + 1]),
+      bins, axisDeg, counted ? pooledCounts(clipCounts) : null, '', withheld, rho);
   if (pooled.core.n === 0 && pooled.skin.n === 0 && pooled.bins.every((b) => b.n === 0)) {
     throw new InputError('no usable pixel lies between the walls', 'Check that the walls are inside the image and that the channel has texture or colour to read');
   }
@@ -292,7 +292,7 @@ function bandStats(binSums: BlockSums[], core: BlockSums, skin: BlockSums, bins:
 const MAX_STRATA = 16;
 
 /**
- * A band's blocks with their strata: each block in the bin of its cell's centre (kept within the band's bins), so that
+ * A band's blocks with their strata: each block in the bin of its cell's centre, so that
  * the band's variance takes residuals about each bin's own ratio and does not count the order's change across the
  * band as noise (src/order/intervals.ts); neighbouring bins share a stratum beyond MAX_STRATA.
  */
@@ -304,7 +304,7 @@ function withStrata(b: BlockSums, L: ReturnType<typeof transverseLinear>, blockP
     const s = -1 - (2 * t0) / (t1 - t0);
     binOf[k] = Math.max(0, Math.min(bins - 1, Math.floor(((s + 1) * bins) / 2)));
   }
-  // The band's own bins: those its blocks' pixels lie in (a cell centre just outside the band belongs to its nearest).
+  // The strata are the bins the band's cell centres fall in, numbered in order across the channel.
   const used = new Uint8Array(bins);
   for (let k = 0; k < m; k++) if (b.n[k] > 0) used[binOf[k]] = 1;
   const rank = new Int32Array(bins);
@@ -313,21 +313,6 @@ function withStrata(b: BlockSums, L: ReturnType<typeof transverseLinear>, blockP
   const H = Math.min(MAX_STRATA, Math.max(1, count));
   const strata = Int32Array.from(binOf, (bin) => Math.floor((rank[bin] * H) / Math.max(1, count)));
   return { ...b, strata };
-}
-
-function merge(parts: BlockSums[]): BlockSums {
-  const cat = <T extends Float64Array | Uint32Array | Int32Array>(get: (b: BlockSums) => T, make: (n: number) => T): T => {
-    const out = make(parts.reduce((s, p) => s + get(p).length, 0));
-    let o = 0;
-    for (const p of parts) { out.set(get(p), o); o += get(p).length; }
-    return out;
-  };
-  return {
-    w: cat((b) => b.w, (n) => new Float64Array(n)), wc: cat((b) => b.wc, (n) => new Float64Array(n)),
-    ws: cat((b) => b.ws, (n) => new Float64Array(n)), n: cat((b) => b.n, (n) => new Uint32Array(n)),
-    bx: cat((b) => b.bx, (n) => new Int32Array(n)), by: cat((b) => b.by, (n) => new Int32Array(n)),
-    ...(parts.every((p) => p.strata) ? { strata: cat((b) => b.strata!, (n) => new Int32Array(n)) } : {}),
-  };
 }
 
 export type { ChannelFrame };

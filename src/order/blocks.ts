@@ -12,13 +12,30 @@ export interface BlockSums {
   bx: Int32Array;
   by: Int32Array;
   /**
-   * Stratum of each block where a region is the union of strata (a profile's band: the pieces of its bins, numbered
-   * from 0); the variance then takes residuals about each stratum's own ratio (src/order/intervals.ts).
+   * Stratum of each block where a region is the union of strata (a profile's band: each block in the bin of its
+   * cell's centre, numbered from 0); the variance then takes residuals about each stratum's own ratio
+   * (src/order/intervals.ts).
    */
   strata?: Int32Array;
 }
 
 export interface Moments { w: number; wc: number; ws: number; n: number }
+
+/** The blocks of several lists as one, in the lists' order (strata kept when every list has them). */
+export function concatBlocks(parts: BlockSums[]): BlockSums {
+  const cat = <T extends Float64Array | Uint32Array | Int32Array>(pick: (b: BlockSums) => T, make: (n: number) => T): T => {
+    const out = make(parts.reduce((s, b) => s + pick(b).length, 0));
+    let at = 0;
+    for (const b of parts) { out.set(pick(b), at); at += pick(b).length; }
+    return out;
+  };
+  return {
+    w: cat((b) => b.w, (n) => new Float64Array(n)), wc: cat((b) => b.wc, (n) => new Float64Array(n)),
+    ws: cat((b) => b.ws, (n) => new Float64Array(n)), n: cat((b) => b.n, (n) => new Uint32Array(n)),
+    bx: cat((b) => b.bx, (n) => new Int32Array(n)), by: cat((b) => b.by, (n) => new Int32Array(n)),
+    ...(parts.length > 0 && parts.every((b) => b.strata) ? { strata: cat((b) => b.strata!, (n) => new Int32Array(n)) } : {}),
+  };
+}
 
 export function totalMoments(b: BlockSums, pick?: ArrayLike<number>): Moments {
   let w = 0, wc = 0, ws = 0, n = 0;

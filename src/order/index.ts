@@ -1,7 +1,7 @@
 export type { Weighting } from './accumulate.ts';
 export { accumulateBlocks, WEIGHTINGS, TEXTURE_WEIGHTINGS, OPTICAL_WEIGHTINGS, formerWeighting } from './accumulate.ts';
 export type { BlockSums, Moments } from './blocks.ts';
-export { axisOrderOf, freeOrderOf, totalMoments, liveBlocks } from './blocks.ts';
+export { axisOrderOf, concatBlocks, freeOrderOf, totalMoments, liveBlocks } from './blocks.ts';
 export { axisOrderStat, blockCorrelation, freeOrderStat, ratioStat, fiellerInterval, fQuantile2, stabilisedInterval, INTERVAL_LEVEL } from './intervals.ts';
 export type { BlockCorrelation } from './intervals.ts';
 export type { OrderStat, OrderOptions, OrderSummary } from './orderParameters.ts';

@@ -71,7 +71,7 @@ export function freeOrderStat(b: BlockSums, correlation?: BlockCorrelation): Ord
   // component complete the 2 x 2 covariance (same residual quadratic form and bias factor).
   const { factor } = design;
   const ea = residuals(along, b.w, b.n, b.strata), ex = residuals(across, b.w, b.n, b.strata);
-  const sx2 = dotProduct(ex, ex) / factor / (sw * sw), cov = dotProduct(ea, ex) / factor / (sw * sw);
+  const sx2 = dotOf(ex, ex) / factor / (sw * sw), cov = dotOf(ea, ex) / factor / (sw * sw);
   const sa = st.se;
   const det = sa * sa * sx2 - cov * cov;
   const t2 = det > 0 ? (st.order * st.order * sx2) / det : Infinity;
@@ -122,7 +122,7 @@ export function ratioStat(y: ArrayLike<number>, w: ArrayLike<number>, b: Pick<Bl
   if (units < 2) return { order: est, ciLow: NaN, ciHigh: NaN, n: pixels, se: NaN, blocks: units, dof: 0 };
   const e = residuals(y, w, n, b.strata);
   const { factor, dof } = design ?? blockDesign(w, b, blockCorrelation([{ ys: [y], b: { w, n, bx: b.bx, by: b.by, strata: b.strata } }]));
-  const se = Math.sqrt(dotProduct(e, e) / factor) / sw;
+  const se = Math.sqrt(dotOf(e, e) / factor) / sw;
   const [ciLow, ciHigh] = stabilisedInterval(est, se, studentQuantile(0.5 + INTERVAL_LEVEL / 2, dof));
   // Clipped to the statistic's range, never past the estimate itself (float rounding can put an S of
   // exactly 1 a hair above 1).
@@ -138,21 +138,22 @@ interface BlockDesign { factor: number; dof: number }
  * the jackknife over those groups (Efron & Stein 1981, Ann. Stat. 9:586), dof' = 2 / (2 / dof + var(log factor)).
  */
 function blockDesign(w: ArrayLike<number>, b: Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'>, rho: BlockCorrelation): BlockDesign {
-  const design = weightedDesignOf(b, w), pairs = design.pairs, sums = design.sums();
-  const { factor, dof } = design.single ? singleModel(design.single(), rho) : workingModel(w, b.n, pairs, rho, b.strata, true, sums);
+  const design = weightedDesignOf(b, w);
+  const { factor, dof } = design.single ? singleModel(design.single(), rho) : workingModel(w, b.n, design.pairs, rho, b.strata, true, design.sums());
   const loo = rho.leaveOneOut;
   if (!loo || loo.length < 3) return { factor, dof };
   // Jackknife variance (G - 1) / G sum (x_(i) - mean)^2 of x = log factor.
+  const sums = design.sums();
   const logs = loo.map((r) => Math.log(factorOf(sums, r)));
   const mean = logs.reduce((a, x) => a + x, 0) / logs.length;
   const varLog = ((logs.length - 1) / logs.length) * logs.reduce((a, x) => a + (x - mean) ** 2, 0);
   return { factor, dof: Math.max(1, 2 / (2 / dof + varLog)) };
 }
 
-/** sum_k e_k f_k. */
-function dotProduct(e: Float64Array, f: Float64Array): number {
+/** sum_k x_k z_k. */
+function dotOf(x: Float64Array, z: Float64Array): number {
   let s = 0;
-  for (let k = 0; k < e.length; k++) s += e[k] * f[k];
+  for (let k = 0; k < x.length; k++) s += x[k] * z[k];
   return s;
 }
 
@@ -335,20 +336,18 @@ function groupMoments(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedP
  */
 export function blockCorrelation(groups: { ys: ArrayLike<number>[]; b: { w: ArrayLike<number> } & Pick<BlockSums, 'n' | 'bx' | 'by' | 'strata'> }[]): BlockCorrelation {
   const parts: { C: number[][]; q: number[] }[] = [];
-  const memo = new Map<object, { c: number[][]; pairs: LaggedPairs }>();
   for (const { ys, b } of groups) {
     let sw = 0, units = 0;
     for (let k = 0; k < b.w.length; k++) if (b.n[k] > 0) { sw += b.w[k]; units++; }
     if (!(sw > 0) || units < 2) continue;
-    let g = memo.get(b);
-    if (!g) { const d = weightedDesignOf(b, b.w); g = { c: d.moments(), pairs: d.pairs }; memo.set(b, g); }
+    const g = weightedDesignOf(b, b.w), c = g.moments();
     const q = new Array<number>(PAIR_CLASSES + 1).fill(0);
     for (const y of ys) {
       const e = residuals(y, b.w, b.n, b.strata);
       for (let k = 0; k < e.length; k++) q[0] += e[k] * e[k];
       for (let i = 0; i < g.pairs.a.length; i++) q[g.pairs.lag[i]] += 2 * e[g.pairs.a[i]] * e[g.pairs.b[i]];
     }
-    parts.push({ C: g.c.map((row) => row.map((x) => ys.length * x)), q });
+    parts.push({ C: c.map((row) => row.map((x) => ys.length * x)), q });
   }
   const d = PAIR_CLASSES + 1;
   const fit = (skip: number): number[] => {
@@ -454,7 +453,6 @@ function classSums(w: ArrayLike<number>, n: ArrayLike<number>, pairs: LaggedPair
   return { m, W, w: wl, v, Bw, S1, Sw, trS, sq, wSw, q };
 }
 
-const dotOf = (x: Float64Array, z: Float64Array) => { let s = 0; for (let k = 0; k < x.length; k++) s += x[k] * z[k]; return s; };
 const sumOf = (x: Float64Array) => { let s = 0; for (let k = 0; k < x.length; k++) s += x[k]; return s; };
 
 /** groupMoments for one stratum: c[a][b] = tr(B_a S_b) - 2 (B_a w)'(S_b 1) / W + (w'B_a w)(1'S_b 1) / W^2. */

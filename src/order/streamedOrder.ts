@@ -5,7 +5,7 @@ import {
 } from '../orientation/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import { BlockList, BlockRowSums, weightingFits, type BlockTarget, type Weighting } from './accumulate.ts';
-import type { BlockSums } from './blocks.ts';
+import { concatBlocks, type BlockSums } from './blocks.ts';
 import { correlationLengthOf, correlationPlan } from './correlation.ts';
 import { BLOCK_PX_LIMIT, blockPxFor, checkWeighting, DEFAULT_WEIGHTING, orderSummary, type OrderOptions, type OrderSummary } from './orderParameters.ts';
 
@@ -82,16 +82,7 @@ export function mergeSums(parts: SumsPart[]): { lists: BlockSums[]; usable: numb
     for (let i = 0; i < p.tallies.length; i += 2) { usable += p.tallies[i]; confidenceSum += p.tallies[i + 1]; }
     kept += p.kept; lost += p.lost;
   }
-  const lists = parts[0].lists.map((_l, t) => {
-    const all = parts.map((p) => p.lists[t]);
-    const join = <T extends Float64Array | Uint32Array | Int32Array>(pick: (b: BlockSums) => T): T => {
-      const out = new (pick(all[0]).constructor as new (n: number) => T)(all.reduce((s, b) => s + pick(b).length, 0));
-      let at = 0;
-      for (const b of all) { out.set(pick(b), at); at += pick(b).length; }
-      return out;
-    };
-    return { w: join((b) => b.w), wc: join((b) => b.wc), ws: join((b) => b.ws), n: join((b) => b.n), bx: join((b) => b.bx), by: join((b) => b.by) };
-  });
+  const lists = parts[0].lists.map((_l, t) => concatBlocks(parts.map((p) => p.lists[t])));
   return { lists, usable, confidenceSum, kept, lost };
 }
 
