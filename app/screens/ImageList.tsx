@@ -30,16 +30,26 @@ export function ImageList({ w }: { w: Workspace }) {
   );
 }
 
-/** Characters always shown at a name's end: where a set's names differ (kestrel-angle-00.0deg.png, ...-22.5deg.png). */
-const NAME_TAIL = 10;
+/** Longest end of a name always shown: where a set's names differ (kestrel-angle-00.0deg.png, ...-22.5deg.png). */
+const NAME_TAIL = 12;
+
+/**
+ * The end of a name kept in view: from its last word (after the last -, _ or space) when that is short enough,
+ * else its last NAME_TAIL characters.
+ */
+function nameTail(name: string): string {
+  const cut = Math.max(name.lastIndexOf('-'), name.lastIndexOf('_'), name.lastIndexOf(' ')) + 1;
+  return cut > 0 && name.length - cut <= NAME_TAIL ? name.slice(cut) : name.slice(-NAME_TAIL);
+}
 
 /** A file name cut in the middle when the list is narrow: its start may give way to an ellipsis, its end never does. */
 function NameParts({ name }: { name: string }) {
-  if (name.length <= NAME_TAIL + 4) return <>{name}</>;
+  const tail = nameTail(name);
+  if (name.length <= tail.length + 4) return <>{name}</>;
   return (
     <span className="name-parts">
-      <span className="name-head">{name.slice(0, -NAME_TAIL)}</span>
-      <span className="name-tail">{name.slice(-NAME_TAIL)}</span>
+      <span className="name-head">{name.slice(0, -tail.length)}</span>
+      <span className="name-tail">{tail}</span>
     </span>
   );
 }
