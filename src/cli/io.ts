@@ -1,6 +1,7 @@
 import { closeSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { open, writeFile, type FileHandle } from 'node:fs/promises';
 import { InputError } from '../common/index.ts';
+import { loadTensorKernel } from '../wasm/index.ts';
 import { decodeImage, decodeImagePages, detectFormat, greyTiffRows, MAX_DECODE_BYTES, usePlatformCodecs, type GreyRows, type Image, type ImageHead } from '../image/index.ts';
 import { NODE_CODECS } from './platform.ts';
 
@@ -66,6 +67,15 @@ function readShared(path: string, size: number): Uint8Array {
 const planeBytes = (img: Image) => img.planes.reduce((sum, p) => sum + p.byteLength, 0);
 
 /**
+ * The decoders' platform parts: node:zlib's inflater, and the tensor kernel, which unfilters PNG rows (the same
+ * bits as without it, only quicker; a Node.js without WebAssembly SIMD decodes without it).
+ */
+async function useNodeDecoders(): Promise<void> {
+  usePlatformCodecs(NODE_CODECS);
+  await loadTensorKernel().catch(() => null);
+}
+
+/**
  * Loads the first page of each image file (PNG, JPEG, TIFF; see decodeImage), in the order given.
  * All of them are held at once, so together they share one MAX_DECODE_BYTES: each file may take
  * what the ones before it left.
@@ -74,7 +84,7 @@ const planeBytes = (img: Image) => img.planes.reduce((sum, p) => sum + p.byteLen
  *   or one that does not fit in what is left of the limit
  */
 export async function loadImageFiles(paths: string[], options: { grey?: boolean } = {}): Promise<Image[]> {
-  usePlatformCodecs(NODE_CODECS);
+  await useNodeDecoders();
   const images: Image[] = [];
   let held = 0;
   for (const path of paths) {
@@ -94,7 +104,7 @@ export async function loadImageFiles(paths: string[], options: { grey?: boolean 
  * @throws InputError as loadImageFiles
  */
 export async function loadGreyImageOrRows(path: string, rowsAbove: number, shared = false): Promise<{ img: Image } | { head: ImageHead; rows: GreyRows; bytes: Uint8Array }> {
-  usePlatformCodecs(NODE_CODECS);
+  await useNodeDecoders();
   const bytes = await readImageBytes(path, shared ? rowsAbove : Infinity);
   if (detectFormat(bytes, path) === 'tiff') {
     const found = greyTiffRows(bytes, path);
@@ -110,7 +120,7 @@ export async function loadGreyImageOrRows(path: string, rowsAbove: number, share
  * @throws InputError as loadImageFiles
  */
 export async function loadImagePages(path: string): Promise<Image[]> {
-  usePlatformCodecs(NODE_CODECS);
+  await useNodeDecoders();
   return decodeImagePages(await readImageBytes(path), path);
 }
 

@@ -421,3 +421,147 @@ export function lagProducts(lc: usize, ls: usize, on: usize, len: i32, L: i32, s
     }
   }
 }
+
+/** The Paeth predictor (ISO 15948 section 9.4) of left a, above b and upper-left c. */
+// @ts-ignore: decorator
+@inline
+function paeth(a: i32, b: i32, c: i32): i32 {
+  const pa = abs(b - c), pb = abs(a - c), pc = abs(a + b - 2 * c);
+  return pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
+}
+
+/**
+ * Reverses one PNG row's filter in place (ISO 15948 section 9.2), as src/image/pngDecode.ts's unfilter: `n`
+ * bytes at `row`, the unfiltered row above at `prev`, `bpp` the filter's byte step. False for a filter type the
+ * standard does not define. Bytes past the row are never written (the next row's filter byte follows it).
+ */
+function unfilterRow(type: i32, row: usize, prev: usize, n: i32, bpp: i32): bool {
+  if (type === 0) return true;
+  if (type === 1) {
+    if (bpp === 1) {
+      // A running sum of bytes, sixteen at a time: prefix sums within the vector by shifts of 1, 2, 4 and 8
+      // lanes, plus the previous vector's last byte in every lane.
+      const zero = i8x16.splat(0);
+      let carry = zero, i = 0;
+      for (; i + 16 <= n; i += 16) {
+        let v = v128.load(row + <usize>i);
+        v = i8x16.add(v, i8x16.shuffle(zero, v, 0, 16, 17, 18, 19, 20, 21, 22, 23, 24, 25, 26, 27, 28, 29, 30));
+        v = i8x16.add(v, i8x16.shuffle(zero, v, 0, 1, 16, 17, 18, 19, 20, 21, 22, 23, 24, 25, 26, 27, 28, 29));
+        v = i8x16.add(v, i8x16.shuffle(zero, v, 0, 1, 2, 3, 16, 17, 18, 19, 20, 21, 22, 23, 24, 25, 26, 27));
+        v = i8x16.add(v, i8x16.shuffle(zero, v, 0, 1, 2, 3, 4, 5, 6, 7, 16, 17, 18, 19, 20, 21, 22, 23));
+        v = i8x16.add(v, carry);
+        v128.store(row + <usize>i, v);
+        carry = i8x16.shuffle(v, v, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15, 15);
+      }
+      let a = <i32>i8x16.extract_lane_u(carry, 0);
+      for (; i < n; i++) {
+        a = (a + <i32>load<u8>(row + <usize>i)) & 0xff;
+        store<u8>(row + <usize>i, a);
+      }
+      return true;
+    }
+    for (let i = bpp; i < n; i++) store<u8>(row + <usize>i, load<u8>(row + <usize>i) + load<u8>(row + <usize>(i - bpp)));
+    return true;
+  }
+  if (type === 2) {
+    let i = 0;
+    for (; i + 16 <= n; i += 16) v128.store(row + <usize>i, i8x16.add(v128.load(row + <usize>i), v128.load(prev + <usize>i)));
+    for (; i < n; i++) store<u8>(row + <usize>i, load<u8>(row + <usize>i) + load<u8>(prev + <usize>i));
+    return true;
+  }
+  if (type === 3) {
+    for (let i = 0; i < n; i++) {
+      const left: i32 = i >= bpp ? <i32>load<u8>(row + <usize>(i - bpp)) : 0;
+      store<u8>(row + <usize>i, <i32>load<u8>(row + <usize>i) + ((left + <i32>load<u8>(prev + <usize>i)) >> 1));
+    }
+    return true;
+  }
+  if (type === 4) {
+    const m = min(bpp, n);
+    for (let i = 0; i < m; i++) store<u8>(row + <usize>i, load<u8>(row + <usize>i) + load<u8>(prev + <usize>i));
+    for (let i = bpp; i < n; i++) {
+      const p = paeth(<i32>load<u8>(row + <usize>(i - bpp)), <i32>load<u8>(prev + <usize>i), <i32>load<u8>(prev + <usize>(i - bpp)));
+      store<u8>(row + <usize>i, <i32>load<u8>(row + <usize>i) + p);
+    }
+    return true;
+  }
+  return false;
+}
+
+/**
+ * PNG image rows of 8 or 16 bits per sample (not interlaced, no palette) made into float32 planes, as
+ * src/image/pngDecode.ts's rowWriter makes them: `rows` rows at `raw`, each a filter-type byte then `rowBytes`
+ * bytes, are unfiltered in place (the row above the first at `above`: zeros for the image's first row), and
+ * each row's `width` pixels of `samples` samples go through `table` (float32 code / (2^depth - 1), 256 or 65536
+ * entries) into `out0` (grey: the first sample; luma: Rec. 709 luma of the first three, in float64 as the
+ * TypeScript's lumaOf) or into `out0`, `out1`, `out2` (colour: the first three), `width` floats per row.
+ * `kind`: 0 grey, 1 luma, 2 colour. Returns -1, or the index of the first row whose filter type is undefined
+ * (its pixels and those after it are not written).
+ */
+export function pngRows(raw: usize, above: usize, rows: i32, rowBytes: i32, sixteen: i32, samples: i32, kind: i32, table: usize, width: i32,
+  out0: usize, out1: usize, out2: usize): i32 {
+  const bpp = max(1, samples << sixteen);
+  const step = <usize>bpp;
+  let prev = above;
+  for (let r = 0; r < rows; r++) {
+    const at = raw + <usize>r * <usize>(rowBytes + 1);
+    const row = at + 1;
+    if (!unfilterRow(<i32>load<u8>(at), row, prev, rowBytes, bpp)) return r;
+    prev = row;
+    const o = <usize>r * <usize>width * 4;
+    let j = row;
+    if (!sixteen) {
+      if (kind === 0) {
+        let x = 0;
+        if (samples === 1) {
+          // code / 255 in float32 division: the table's value for every code (tests/image/png-kernel.test.ts).
+          const m = f32x4.splat(255);
+          for (; x + 16 <= width; x += 16, j += 16) {
+            const v = v128.load(j), lo = i16x8.extend_low_i8x16_u(v), hi = i16x8.extend_high_i8x16_u(v), q = out0 + o + <usize>x * 4;
+            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_low_i16x8_u(lo)), m));
+            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_high_i16x8_u(lo)), m), 16);
+            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_low_i16x8_u(hi)), m), 32);
+            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_high_i16x8_u(hi)), m), 48);
+          }
+        }
+        for (; x < width; x++, j += step) store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j) << 2)));
+      } else if (kind === 1) {
+        for (let x = 0; x < width; x++, j += step) {
+          const l = 0.2126 * <f64>load<f32>(table + (<usize>load<u8>(j) << 2)) + 0.7152 * <f64>load<f32>(table + (<usize>load<u8>(j, 1) << 2))
+            + 0.0722 * <f64>load<f32>(table + (<usize>load<u8>(j, 2) << 2));
+          store<f32>(out0 + o + <usize>x * 4, <f32>l);
+        }
+      } else {
+        for (let x = 0; x < width; x++, j += step) {
+          store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j) << 2)));
+          store<f32>(out1 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j, 1) << 2)));
+          store<f32>(out2 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j, 2) << 2)));
+        }
+      }
+    } else {
+      if (kind === 0) {
+        for (let x = 0; x < width; x++, j += step) store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (code16(j) << 2)));
+      } else if (kind === 1) {
+        for (let x = 0; x < width; x++, j += step) {
+          const l = 0.2126 * <f64>load<f32>(table + (code16(j) << 2)) + 0.7152 * <f64>load<f32>(table + (code16(j + 2) << 2))
+            + 0.0722 * <f64>load<f32>(table + (code16(j + 4) << 2));
+          store<f32>(out0 + o + <usize>x * 4, <f32>l);
+        }
+      } else {
+        for (let x = 0; x < width; x++, j += step) {
+          store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (code16(j) << 2)));
+          store<f32>(out1 + o + <usize>x * 4, load<f32>(table + (code16(j + 2) << 2)));
+          store<f32>(out2 + o + <usize>x * 4, load<f32>(table + (code16(j + 4) << 2)));
+        }
+      }
+    }
+  }
+  return -1;
+}
+
+/** A big-endian 16-bit sample at `at`. */
+// @ts-ignore: decorator
+@inline
+function code16(at: usize): usize {
+  return (<usize>load<u8>(at) << 8) | <usize>load<u8>(at, 1);
+}

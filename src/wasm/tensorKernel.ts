@@ -17,6 +17,8 @@ export interface KernelExports {
   maskPixels(strength: number, coherency: number, n: number, floor: number, least: number, mask: number): number;
   blockRows(mask: number, region: number, weights: number, coherency: number, c2: number, s2: number, width: number, rows: number, B: number,
     sw: number, sc: number, ss: number, sn: number, tally: number): void;
+  pngRows(raw: number, above: number, rows: number, rowBytes: number, sixteen: number, samples: number, kind: number, table: number, width: number,
+    out0: number, out1: number, out2: number): number;
   lagProducts(lc: number, ls: number, on: number, len: number, L: number, step: number, num: number, cnt: number): void;
 }
 

@@ -1,4 +1,7 @@
-import { describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { usePlatformCodecs } from '../../src/image/index.ts';
+import { NODE_CODECS } from '../../src/cli/platform.ts';
+import { loadTensorKernel } from '../../src/wasm/index.ts';
 import { isInputError } from '../../src/common/errors.ts';
 import { decodeImage, decodeImagePages, type Image } from '../../src/image/index.ts';
 import { fixtureBytes, manifest, maxCode, rawSamples, type RawPage } from './fixtures.ts';
@@ -73,6 +76,22 @@ describe('decodeImagePages on reference files written by Pillow / tifffile / Ope
       }
     });
   }
+});
+
+describe('the command line\'s PNG path (node:zlib, rows unfiltered in the tensor kernel) on the files Pillow / OpenCV wrote', () => {
+  beforeAll(async () => {
+    await loadTensorKernel();
+    usePlatformCodecs(NODE_CODECS);
+  });
+  afterAll(() => usePlatformCodecs(null));
+  const pngs = manifest.readable.filter((fx) => /\.png$/i.test(fx.file));
+  it(`every PNG reads to the samples written (${pngs.length} files)`, () => {
+    expect(pngs.length).toBeGreaterThan(5);
+    for (const fx of pngs) {
+      const [img] = decodeImagePages(fixtureBytes(fx.file), fx.file);
+      expect(compare(img, fx.pages[0], fx.channels).exactMismatches, fx.file).toBe(0);
+    }
+  });
 });
 
 describe('multi-page TIFF', () => {

@@ -2,7 +2,8 @@ import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { deflateSync } from 'node:zlib';
-import { afterAll, afterEach, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { loadedTensorKernel, loadTensorKernel } from '../../src/wasm/index.ts';
 import { isInputError } from '../../src/common/errors.ts';
 import { decodeImagePages, usePlatformCodecs, type Image } from '../../src/image/index.ts';
 import { inflateZlib, oneZlibPiece, ZlibProblem } from '../../src/image/inflate.ts';
@@ -14,7 +15,8 @@ import { VARIANTS } from './fixtures.ts';
  * The command line inflates PNG and TIFF Deflate data with node:zlib (src/cli/platform.ts) instead of fflate.
  * Both must read every file to the same bits and refuse the same files: the variant fixtures (checked against
  * Pillow / tifffile / OpenCV in variants.test.ts) and the hostile corpus (tests/corpus/makeCorpus.ts, whose
- * cases say what must happen: 'refuse' files are damaged, cut short, bombs or over the limit).
+ * cases say what must happen: 'refuse' files are damaged, cut short, bombs or over the limit). With the tensor
+ * kernel loaded, node:zlib's path unfilters and converts PNG rows in the kernel: the same bits again.
  */
 
 type Outcome = { planes: Float32Array[][] } | { refused: string };
@@ -37,7 +39,13 @@ const sameBits = (a: Float32Array[][], b: Float32Array[][]) => a.length === b.le
 
 afterEach(() => usePlatformCodecs(null));
 
-describe('node:zlib and fflate read the same files to the same bits', () => {
+// node:zlib's path twice: unfiltering in TypeScript, then (the kernel loaded) in the tensor kernel (kernelRows).
+describe.each([['without', false], ['with', true]])('node:zlib (%s the tensor kernel) and fflate read the same files to the same bits', (_, kernel) => {
+  beforeAll(async () => {
+    if (kernel) await loadTensorKernel();
+    expect(loadedTensorKernel() !== null).toBe(kernel);
+  });
+
   const manifest: { file: string }[] = JSON.parse(readFileSync(VARIANTS + 'manifest.json', 'utf8')).readable;
   const files = manifest.map((v) => v.file).filter((f) => /\.(png|tiff?)$/i.test(f));
 
