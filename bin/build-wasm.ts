@@ -1,6 +1,7 @@
 // Compiles the AssemblyScript kernels (src/wasm/tensorKernel.as.ts, src/wasm/opticsKernel.as.ts) and writes each
 // binary into its src/wasm/<name>.wasm.ts as base64, so Node, the Web Worker and the CLI load the same bytes with no
-// file or network fetch. `npm run wasm -- --check` only reports whether the committed files are current (tests run it).
+// file or network fetch. `npm run wasm -- --check` only reports whether the committed files are current (tests run it);
+// `npm run wasm -- tensor` or `-- optics` builds one kernel.
 import asc from 'assemblyscript/asc';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { resolve } from 'node:path';
@@ -41,7 +42,9 @@ export function moduleText(binary: Uint8Array, name: KernelName = 'tensor'): str
 
 if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) {
   let stale = false;
-  for (const name of Object.keys(KERNELS) as KernelName[]) {
+  // `npm run wasm -- tensor` (or optics) builds or checks that kernel only.
+  const named = (Object.keys(KERNELS) as KernelName[]).filter((n) => process.argv.includes(n));
+  for (const name of named.length ? named : Object.keys(KERNELS) as KernelName[]) {
     const target = resolve(ROOT, KERNELS[name].target);
     const text = moduleText(await compileKernel(name), name);
     if (process.argv.includes('--check')) {
