@@ -3,11 +3,12 @@
  * orientation/retardance field rendered by the forward model (precomputed colour per lookup entry), with
  * sensor noise, read with the default options. Run: node bin/run-ts.mjs tests/optics/benchPlate.ts
  */
-import { makeImage } from '../../src/image/types.ts';
+import { makeImage, type Image } from '../../src/image/types.ts';
 import { buildPlateLookup, colourModel, readPlate, srgbEncode } from '../../src/optics/index.ts';
 import { seededRandom } from '../../src/order/random.ts';
 
-export async function benchPlateRead(width = 4000, height = 3000): Promise<{ pixels: number; seconds: number; cells: number }> {
+/** The bench's compensator image (8-bit sRGB codes), width x height. */
+export function benchPlateImage(width = 4000, height = 3000): Image {
   const model = colourModel({});
   const lut = buildPlateLookup(model, { fullRange: true });
   const nR = lut.retardancesNm.length, nA = lut.anglesDeg.length;
@@ -22,7 +23,11 @@ export async function benchPlateRead(width = 4000, height = 3000): Promise<{ pix
       planes[c][i] = Math.round(255 * Math.min(1, Math.max(0, v))) / 255;
     }
   }
-  const img = makeImage({ width, height, channels: 3, planes, bitDepth: 8, encoding: 'srgb', source: { name: 'bench-12MP' } });
+  return makeImage({ width, height, channels: 3, planes, bitDepth: 8, encoding: 'srgb', source: { name: 'bench-12MP' } });
+}
+
+export async function benchPlateRead(width = 4000, height = 3000): Promise<{ pixels: number; seconds: number; cells: number }> {
+  const img = benchPlateImage(width, height);
   const t0 = performance.now();
   const r = readPlate(img, { camera: { gains: [1, 1, 1], exposure: 0.75 } });
   const seconds = (performance.now() - t0) / 1000;
