@@ -1,4 +1,5 @@
 import { Inflate } from 'fflate';
+import { giveBack, takeUint8 } from '../common/index.ts';
 
 /**
  * zlib streams (RFC 1950: a 2-byte header, DEFLATE data (RFC 1951), an Adler-32 checksum of the
@@ -176,22 +177,27 @@ export function inflateZlib(source: ZlibSource, maxBytes: number, onData: (chunk
   return produced;
 }
 
-/** The stream's pieces as one array (a view of the one piece when there is only one). */
-function joined(source: ZlibSource): Uint8Array {
+/**
+ * The stream's pieces as one array: a view of the one piece when there is only one, else a pooled copy
+ * (`pooled`), to be handed back once inflated, so a batch of images touches no fresh pages here.
+ */
+function joined(source: ZlibSource): { bytes: Uint8Array; pooled: boolean } {
   const pieces = [...source.pieces()];
-  if (pieces.length === 1) return pieces[0];
-  const all = new Uint8Array(source.total);
+  if (pieces.length === 1) return { bytes: pieces[0], pooled: false };
+  const all = takeUint8(source.total, false);
   let at = 0;
   for (const p of pieces) {
     all.set(p, at);
     at += p.length;
   }
-  return all;
+  return { bytes: all, pooled: true };
 }
 
 /** inflateZlib through the platform's inflater: the whole stream at once (its header already checked). */
 function inflateWhole(codecs: PlatformCodecs, source: ZlibSource, maxBytes: number, onData: (chunk: Uint8Array) => void): number {
-  const { output, consumed } = codecs.inflate(joined(source), maxBytes);
+  const stream = joined(source);
+  const { output, consumed } = codecs.inflate(stream.bytes, maxBytes);
+  if (stream.pooled) giveBack(stream.bytes);
   if (consumed !== source.total) {
     throw new ZlibProblem(`the compressed data goes on for ${source.total - consumed} bytes after the end of its zlib stream`);
   }
