@@ -1,5 +1,6 @@
 import type { OrientationField } from '../orientation/index.ts';
 import { doubledAngles } from './doubledAngles.ts';
+import { giveBack, takeFloat32, takeUint8 } from '../common/index.ts';
 import { KernelArena, loadedTensorKernel, type KernelExports } from '../wasm/index.ts';
 
 /**
@@ -38,7 +39,8 @@ export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
   const { cos2: cv, sin2: sv } = doubledAngles(f);
   const plan = correlationPlan(width, height, maxLag);
   // Plain loops: a typed array's `from` with a mapping function took twenty times longer here.
-  const line = (n: number): FieldLine => ({ mask: new Uint8Array(n), cos2: new Float32Array(n), sin2: new Float32Array(n) });
+  // Pooled (every element is written below), and handed back once read: no fresh pages per image of a batch.
+  const line = (n: number): FieldLine => ({ mask: takeUint8(n, false), cos2: takeFloat32(n, false), sin2: takeFloat32(n, false) });
   const g = plan.gridStep, gx = Math.ceil(width / g), grid = line(gx * Math.ceil(height / g));
   for (let y = 0, j = 0; y < height; y += g) {
     for (let x = 0, i = y * width; x < width; x += g, i += g, j++) { grid.mask[j] = mask[i]; grid.cos2[j] = cv[i]; grid.sin2[j] = sv[i]; }
@@ -49,7 +51,9 @@ export function correlationLengthPx(f: OrientationField, maxLag = 64): number {
     for (let y = 0, i = x; y < height; y++, i += width) { c.mask[y] = mask[i]; c.cos2[y] = cv[i]; c.sin2[y] = sv[i]; }
     return c;
   });
-  return correlationLengthOf(width, height, { grid, rows, columns }, maxLag);
+  const length = correlationLengthOf(width, height, { grid, rows, columns }, maxLag);
+  for (const l of [grid, ...columns]) giveBack(l.mask, l.cos2, l.sin2);
+  return length;
 }
 
 /**
