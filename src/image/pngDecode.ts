@@ -15,8 +15,8 @@ import { KernelArena, loadedTensorKernel, type KernelExports } from '../wasm/ind
  * With the platform's inflater (node:zlib in the command line, usePlatformCodecs), when the filtered image
  * fits beside the planes in the memory limit, it is inflated at once (same cap and checks) and unfiltered
  * where it lies: the planes plus the filtered bytes, at most as large again. Rows of 8 or 16 bits per sample
- * (no palette, not interlaced) are then unfiltered and converted by the WebAssembly kernel when this thread has
- * loaded it (kernelRows: the same bits, four to five times quicker).
+ * (no palette, not interlaced) are unfiltered and converted by the WebAssembly kernel, as they are inflated, when
+ * this thread has loaded it (KernelRows: the same bits, four to ten times quicker).
  */
 
 const FORMAT = 'PNG';
@@ -300,12 +300,6 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
   // once and unfiltered where it lies, each row's previous row being the one before it.
   const takeAll = (raw: Uint8Array) => {
     if (raw.length !== expectedBytes) return; // refused below
-    const k = loadedTensorKernel();
-    if (k && !header.interlaced && bitDepth >= 8 && !palette) {
-      const bad = kernelRows(k, raw, planes, width, plan[0].bytes, bitDepth, kind.samples, !colour ? 0 : grey ? 1 : 2);
-      if (bad >= 0) throw corrupt(name, FORMAT, `row ${bad + 1} names filter type ${raw[bad * (plan[0].bytes + 1)]}, which the PNG standard does not define`);
-      return;
-    }
     const zeros = new Uint8Array(maxRow);
     let at = 0;
     for (const pass of plan) {
@@ -322,9 +316,13 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
     }
   };
   const whole = planeBytes + expectedBytes <= (maxBytes ?? MAX_DECODE_BYTES);
+  // Rows of 8 or 16 bits without a palette, not interlaced: unfiltered and converted by the kernel when loaded here.
+  const k = loadedTensorKernel();
+  const byKernel = k && !header.interlaced && bitDepth >= 8 && !palette
+    ? new KernelRows(k, planes, width, height, plan[0].bytes, bitDepth, kind.samples, !colour ? 0 : grey ? 1 : 2, name) : null;
   let produced: number;
   try {
-    produced = inflateZlib(idat, expectedBytes, whole && platformCodecs() ? takeAll : take, whole);
+    produced = inflateZlib(idat, expectedBytes, byKernel ? (piece) => byKernel.push(piece) : whole && platformCodecs() ? takeAll : take, whole);
   } catch (e) {
     if (e instanceof ZlibProblem) throw corrupt(name, FORMAT, `in its image data ${e.why}`);
     throw e;
@@ -349,38 +347,66 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
   });
 }
 
-/** Bytes of filtered rows kernelRows passes through the kernel's memory at a time. */
+/** Bytes of filtered rows KernelRows passes through the kernel's memory at a time. */
 const KERNEL_BAND_BYTES = 1 << 18;
 
 /**
- * Unfilters the rows of a non-interlaced PNG of 8 or 16 bits per sample without a palette (`raw`: each row's
- * filter-type byte and `rowBytes` bytes) and writes its samples into the planes, in the tensor kernel's pngRows,
- * a band of rows at a time: the same bits as unfilter and rowWriter (tests/image/png-kernel.test.ts). `kind` 0
- * grey, 1 luma, 2 colour (three planes). Returns -1, or the first row whose filter type is undefined.
+ * The rows of a non-interlaced PNG of 8 or 16 bits per sample without a palette, unfiltered and written into the
+ * planes by the tensor kernel's pngRows (the same bits as unfilter and rowWriter, tests/image/png-kernel.test.ts):
+ * the filtered stream (each row's filter-type byte, then `rowBytes` bytes) is pushed in pieces of any size as it is
+ * inflated, gathered in the kernel's memory and turned into samples a band of rows at a time. `kind` 0 grey,
+ * 1 luma, 2 colour (three planes). Bytes past the last row are ignored (the caller checks the byte count).
  */
-function kernelRows(k: KernelExports, raw: Uint8Array, planes: Float32Array[], width: number, rowBytes: number,
-  bitDepth: number, samples: number, kind: 0 | 1 | 2): number {
-  const height = raw.length / (rowBytes + 1);
-  const table = sampleTable(bitDepth);
-  const band = Math.max(1, Math.min(height, Math.floor(KERNEL_BAND_BYTES / (rowBytes + 1))));
-  const mem = new KernelArena(k);
-  const at = { table: mem.reserve(table.length), above: mem.reserve(rowBytes / 4), raw: mem.reserve((band * (rowBytes + 1)) / 4) };
-  const outs = planes.map(() => mem.reserve(band * width));
-  mem.commit();
-  const bytes = new Uint8Array(k.memory.buffer);
-  mem.view(at.table, table.length).set(table);
-  bytes.fill(0, at.above, at.above + rowBytes);
-  const [o0, o1 = 0, o2 = 0] = outs;
-  for (let y = 0; y < height; y += band) {
-    const rows = Math.min(band, height - y), from = y * (rowBytes + 1);
-    bytes.set(raw.subarray(from, from + rows * (rowBytes + 1)), at.raw);
-    const bad = k.pngRows(at.raw, at.above, rows, rowBytes, bitDepth === 16 ? 1 : 0, samples, kind, at.table, width, o0, o1, o2);
-    if (bad >= 0) return y + bad;
-    planes.forEach((p, c) => p.set(mem.view(outs[c], rows * width), y * width));
-    const last = at.raw + (rows - 1) * (rowBytes + 1) + 1;
-    bytes.copyWithin(at.above, last, last + rowBytes);
+class KernelRows {
+  private readonly band: number;
+  private readonly at: { table: number; above: number; raw: number };
+  private readonly outs: number[];
+  /** Rows done, and bytes of the band being gathered. */
+  private y = 0;
+  private filled = 0;
+
+  constructor(private readonly k: KernelExports, private readonly planes: Float32Array[], private readonly width: number, private readonly height: number,
+    private readonly rowBytes: number, private readonly bitDepth: number, private readonly samples: number, private readonly kind: 0 | 1 | 2,
+    private readonly what: string) {
+    const table = sampleTable(bitDepth);
+    this.band = Math.max(1, Math.min(height, Math.floor(KERNEL_BAND_BYTES / (rowBytes + 1))));
+    const mem = new KernelArena(k);
+    this.at = { table: mem.reserve(table.length), above: mem.reserve(rowBytes / 4), raw: mem.reserve((this.band * (rowBytes + 1)) / 4) };
+    this.outs = planes.map(() => mem.reserve(this.band * width));
+    mem.commit();
+    mem.view(this.at.table, table.length).set(table);
+    new Uint8Array(k.memory.buffer).fill(0, this.at.above, this.at.above + rowBytes);
   }
-  return -1;
+
+  /** Takes the next piece of the filtered stream. */
+  push(piece: Uint8Array): void {
+    const line = this.rowBytes + 1;
+    for (let i = 0; i < piece.length && this.y < this.height;) {
+      const room = Math.min(this.band, this.height - this.y) * line - this.filled;
+      const n = Math.min(room, piece.length - i);
+      new Uint8Array(this.k.memory.buffer, this.at.raw + this.filled, n).set(piece.subarray(i, i + n));
+      this.filled += n;
+      i += n;
+      if (n === room) this.flush();
+    }
+  }
+
+  /** Unfilters and writes the gathered rows (whole rows only: a cut-short stream is refused by its byte count). */
+  private flush(): void {
+    const { k, at, rowBytes, width } = this, line = rowBytes + 1, rows = Math.floor(this.filled / line);
+    if (rows === 0) return;
+    const [o0, o1 = 0, o2 = 0] = this.outs;
+    const bad = k.pngRows(at.raw, at.above, rows, rowBytes, this.bitDepth === 16 ? 1 : 0, this.samples, this.kind, at.table, width, o0, o1, o2);
+    const bytes = new Uint8Array(k.memory.buffer);
+    if (bad >= 0) {
+      throw corrupt(this.what, FORMAT, `row ${this.y + bad + 1} names filter type ${bytes[at.raw + bad * line]}, which the PNG standard does not define`);
+    }
+    this.planes.forEach((p, c) => p.set(new Float32Array(k.memory.buffer, this.outs[c], rows * width), this.y * width));
+    const last = at.raw + (rows - 1) * line + 1;
+    bytes.copyWithin(at.above, last, last + rowBytes);
+    this.y += rows;
+    this.filled = 0;
+  }
 }
 
 /** Sample value code / (2^depth - 1) as float32, by code: one table per bit depth, made once. */

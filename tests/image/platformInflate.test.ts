@@ -16,7 +16,7 @@ import { VARIANTS } from './fixtures.ts';
  * Both must read every file to the same bits and refuse the same files: the variant fixtures (checked against
  * Pillow / tifffile / OpenCV in variants.test.ts) and the hostile corpus (tests/corpus/makeCorpus.ts, whose
  * cases say what must happen: 'refuse' files are damaged, cut short, bombs or over the limit). With the tensor
- * kernel loaded, node:zlib's path unfilters and converts PNG rows in the kernel: the same bits again.
+ * kernel loaded, both paths unfilter and convert PNG rows in the kernel: the same bits again.
  */
 
 type Outcome = { planes: Float32Array[][] } | { refused: string };
@@ -39,7 +39,7 @@ const sameBits = (a: Float32Array[][], b: Float32Array[][]) => a.length === b.le
 
 afterEach(() => usePlatformCodecs(null));
 
-// node:zlib's path twice: unfiltering in TypeScript, then (the kernel loaded) in the tensor kernel (kernelRows).
+// Twice: unfiltering in TypeScript, then (the kernel loaded) in the tensor kernel (KernelRows), on both paths.
 describe.each([['without', false], ['with', true]])('node:zlib (%s the tensor kernel) and fflate read the same files to the same bits', (_, kernel) => {
   beforeAll(async () => {
     if (kernel) await loadTensorKernel();

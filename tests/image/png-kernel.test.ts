@@ -1,17 +1,18 @@
 import { crc32, deflateSync } from 'node:zlib';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { isInputError } from '../../src/common/errors.ts';
 import { decodePng } from '../../src/image/pngDecode.ts';
 import { toGrey, usePlatformCodecs } from '../../src/image/index.ts';
 import { NODE_CODECS } from '../../src/cli/platform.ts';
-import { loadTensorKernel } from '../../src/wasm/index.ts';
+import { loadedTensorKernel, loadTensorKernel } from '../../src/wasm/index.ts';
 
 /**
- * The command line unfilters and converts PNG rows in the tensor kernel (src/image/pngDecode.ts, kernelRows).
+ * PNG rows are unfiltered and converted in the tensor kernel once a thread has loaded it (src/image/pngDecode.ts,
+ * KernelRows), through node:zlib's inflater (the command line) and fflate's (the app).
  * Files are written here with every filter type of ISO 15948 section 9.2 chosen row by row (the writers of
  * decode.test.ts's fixtures use some of them only, on 23-pixel rows), wide enough for the kernel's 16-byte loops
  * and their tails, and tall enough for several of its bands. Each must read to its samples, code / (2^depth - 1)
- * as float32 (the standard's sample scaling), and to the same bits as the TypeScript path (fflate, row by row).
+ * as float32 (the standard's sample scaling), and to the same bits as the TypeScript path (read before the kernel is loaded).
  */
 
 /** A PNG chunk: length, type, data, CRC-32 (ISO 15948 section 5.3). */
@@ -76,52 +77,54 @@ const decodeWith = (codecs: typeof NODE_CODECS | null, png: Uint8Array, grey: bo
   }
 };
 
+// Colour types of ISO 15948 Table 11.1 with 8 and 16 bits: grey, RGB, grey + alpha, RGBA.
+const KINDS = [[0, 1], [2, 3], [4, 2], [6, 4]] as const;
+// Widths below, at and past the 16-byte loops; the tallest image spans several of the kernel's bands (256 KiB).
+const SIZES = [[1, 5], [15, 7], [17, 9], [33, 40], [1031, 70]] as const;
+
+interface Case { label: string; png: Uint8Array; colour: boolean; want: Float32Array[] }
+
+const CASES: Case[] = [8, 16].flatMap((depth) => KINDS.flatMap(([colourType, perPixel]) => SIZES.map(([width, height]): Case => {
+  const rowBytes = (width * perPixel * depth) / 8;
+  const bytes = bytesOf(rowBytes * height, width * 31 + colourType + depth);
+  // Every filter type on rows in turn, then runs of one type (the first row's "above" is zeros).
+  const filters = Array.from({ length: height }, (_, y) => (y < 10 ? y % 5 : Math.floor(y / 12) % 5));
+  const colour = colourType === 2 || colourType === 6, maxCode = 2 ** depth - 1;
+  const sample = (p: number, c: number) => depth === 8 ? bytes[p * perPixel + c] : (bytes[2 * (p * perPixel + c)] << 8) | bytes[2 * (p * perPixel + c) + 1];
+  return {
+    label: `${depth}-bit colour type ${colourType}, ${width} x ${height}`, colour,
+    png: pngOf(width, height, depth as 8 | 16, colourType, perPixel, bytes, filters),
+    want: Array.from({ length: colour ? 3 : 1 }, (_, c) => Float32Array.from({ length: width * height }, (_, p) => sample(p, c) / maxCode)),
+  };
+})));
+
+/** Each case decoded through both inflaters, as colour planes and as luma (colour images). */
+const decodeAll = (c: Case) => [NODE_CODECS, null].flatMap((codecs) => [false, ...(c.colour ? [true] : [])].map((grey) => decodeWith(codecs, c.png, grey).planes));
+
 describe('PNG rows unfiltered and converted in the tensor kernel', () => {
-  beforeAll(async () => {
-    await loadTensorKernel();
+  // The TypeScript path first (this thread has not loaded the kernel yet), kept to compare the kernel's with.
+  let plain: Float32Array[][][] = [];
+  it(`without the kernel: every filter type, 8 and 16 bits, grey / RGB / grey + alpha / RGBA, to the samples written (${CASES.length} files)`, () => {
+    expect(loadedTensorKernel()).toBeNull();
+    plain = CASES.map(decodeAll);
+    CASES.forEach((c, i) => c.want.forEach((want, p) => expect(sameBits(plain[i][0][p], want), `${c.label}, plane ${p}`).toBe(true)));
   });
-  afterAll(() => usePlatformCodecs(null));
 
-  // Colour types of ISO 15948 Table 11.1 with 8 and 16 bits: grey, RGB, grey + alpha, RGBA.
-  const kinds = [[0, 1], [2, 3], [4, 2], [6, 4]] as const;
-  // Widths below, at and past the 16-byte loops; the tallest image spans several of the kernel's bands (256 KiB).
-  const sizes = [[1, 5], [15, 7], [17, 9], [33, 40], [1031, 70]] as const;
-
-  for (const depth of [8, 16] as const) {
-    for (const [colourType, perPixel] of kinds) {
-      it(`${depth}-bit colour type ${colourType}: every filter type, every width, the samples written and the TypeScript path's bits`, () => {
-        for (const [width, height] of sizes) {
-          const rowBytes = (width * perPixel * depth) / 8;
-          const bytes = bytesOf(rowBytes * height, width * 31 + colourType);
-          // Every filter type on rows in turn, and runs of one type (the first row's "above" is zeros).
-          const filters = Array.from({ length: height }, (_, y) => (y < 10 ? y % 5 : Math.floor(y / 12) % 5));
-          const png = pngOf(width, height, depth, colourType, perPixel, bytes, filters);
-          const colour = colourType === 2 || colourType === 6;
-          const kernel = decodeWith(NODE_CODECS, png, false), plain = decodeWith(null, png, false);
-          const maxCode = 2 ** depth - 1;
-          const sample = (p: number, c: number) => depth === 8 ? bytes[p * perPixel + c] : (bytes[2 * (p * perPixel + c)] << 8) | bytes[2 * (p * perPixel + c) + 1];
-          for (let c = 0; c < (colour ? 3 : 1); c++) {
-            const want = Float32Array.from({ length: width * height }, (_, p) => sample(p, c) / maxCode);
-            expect(sameBits(kernel.planes[c], want), `${width} x ${height}, plane ${c}: the samples written`).toBe(true);
-            expect(sameBits(kernel.planes[c], plain.planes[c]), `${width} x ${height}, plane ${c}: the TypeScript path`).toBe(true);
-          }
-          if (colour) {
-            // Asked for grey: Rec. 709 luma, bit for bit what toGrey makes of the colour planes.
-            const luma = decodeWith(NODE_CODECS, png, true).planes[0];
-            expect(sameBits(luma, toGrey(kernel).data), `${width} x ${height}: luma`).toBe(true);
-            expect(sameBits(luma, decodeWith(null, png, true).planes[0]), `${width} x ${height}: luma, the TypeScript path`).toBe(true);
-          }
-        }
-      });
-    }
-  }
+  it('with the kernel: the same bits, planes and luma, through node:zlib and fflate', async () => {
+    await loadTensorKernel();
+    CASES.forEach((c, i) => {
+      const withKernel = decodeAll(c);
+      withKernel.forEach((planes, r) => planes.forEach((p, q) => expect(sameBits(p, plain[i][r][q]), `${c.label}, reading ${r}, plane ${q}`).toBe(true)));
+      c.want.forEach((want, p) => expect(sameBits(withKernel[0][p], want), `${c.label}, plane ${p}`).toBe(true));
+      // Asked for grey: Rec. 709 luma, bit for bit what toGrey makes of the colour planes.
+      if (c.colour) expect(sameBits(withKernel[1][0], toGrey(decodeWith(NODE_CODECS, c.png, false)).data), `${c.label}: luma`).toBe(true);
+    });
+  });
 
   it('refuses a row whose filter type the standard does not define, naming the row, as the TypeScript path does', () => {
     const width = 300, height = 400;
-    const png = pngOf(width, height, 8, 0, 1, bytesOf(width * height, 5), Array.from({ length: height }, () => 1));
-    // The filter byte of row 300 (past the first band) set to 5 after the fact: the file is re-made with it.
+    // Row 300 (past the first band) names filter type 5.
     const made = pngOf(width, height, 8, 0, 1, bytesOf(width * height, 5), Array.from({ length: height }, (_, y) => (y === 299 ? 5 : 1)));
-    expect(decodeWith(NODE_CODECS, png, false).width).toBe(width);
     const messages = [NODE_CODECS, null].map((codecs) => {
       try {
         decodeWith(codecs, made, false);
@@ -132,6 +135,6 @@ describe('PNG rows unfiltered and converted in the tensor kernel', () => {
       }
     });
     expect(messages[0]).toMatch(/row 300 names filter type 5/);
-    expect(messages[0]).toBe(messages[1]);
+    expect(messages[1]).toBe(messages[0]);
   });
 });
