@@ -3,7 +3,7 @@
  * frame's pixels as the image the analyses read, and the frame-rate / latency meter. No DOM here, so
  * the logic is unit-tested in Node.
  */
-import type { Image } from '../../src/image/index.ts';
+import { luma8, type Image } from '../../src/image/index.ts';
 import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
 import { takeFloat32, type Rect } from '../../src/common/index.ts';
 
@@ -66,20 +66,16 @@ export function readoutHaloPx(sigmaPx: number): number {
   return tensorHaloPx(resolveTensorOptions({ sigmaPx }));
 }
 
-/** code / 255 as the image decoder stores it (float32), so the luma matches toGrey exactly. */
-const CODE = Float32Array.from({ length: 256 }, (_, c) => c / 255);
-
 /**
- * RGBA pixels of a camera frame (as a canvas gives them) as the image the analyses read: the grey
- * plane is Rec. 709 luma of the stored codes / 255 (0.2126 R + 0.7152 G + 0.0722 B, what toGrey
- * computes for an 8-bit RGB image), so the numbers equal those of the texture analysis on the frame
+ * RGBA pixels of a camera frame (as a canvas or VideoFrame.copyTo gives them) as the image the analyses read:
+ * the grey plane is Rec. 709 luma of the stored codes / 255 (0.2126 R + 0.7152 G + 0.0722 B, what toGrey
+ * computes for an 8-bit RGB image: luma8), so the numbers equal those of the texture analysis on the frame
  * saved as an RGB file.
  */
 export function frameImage(rgba: Uint8Array | Uint8ClampedArray, width: number, height: number): Image {
   if (rgba.length !== width * height * 4) throw new Error(`frame has ${rgba.length} bytes, ${width}x${height} RGBA needs ${width * height * 4}`);
-  // Every element is written below: an array the last frame handed back serves (src/common/arrayPool.ts).
-  const grey = takeFloat32(width * height, false);
-  for (let i = 0, o = 0; i < grey.length; i++, o += 4) grey[i] = 0.2126 * CODE[rgba[o]] + 0.7152 * CODE[rgba[o + 1]] + 0.0722 * CODE[rgba[o + 2]];
+  // Every element is written: an array the last frame handed back serves (src/common/arrayPool.ts).
+  const grey = luma8(rgba, width * height, 4, takeFloat32(width * height, false));
   return { width, height, channels: 1, planes: [grey], bitDepth: 32, encoding: 'linear', source: { name: 'camera frame' } };
 }
 

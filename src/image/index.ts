@@ -7,3 +7,4 @@ export { ACCEPTED_FORMATS } from './checks.ts';
 export { planTiles, cropPlane, pasteInner, checkTileInside, type Tile } from './tiles.ts';
 export { usePlatformCodecs, ZlibProblem, type PlatformCodecs } from './inflate.ts';
 export { greyTiffRows, type GreyRows, type ImageHead } from './tiffRows.ts';
+export { luma8 } from './samples.ts';

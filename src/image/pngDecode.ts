@@ -2,6 +2,7 @@ import { takeFloat32 } from '../common/index.ts';
 import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords } from './checks.ts';
 import { inflateZlib, platformCodecs, ZlibProblem } from './inflate.ts';
 import { pngPixelSizeUm } from './pixelSize.ts';
+import { unitTable } from './samples.ts';
 import { makeImage, MAX_DECODE_BYTES, type Image } from './types.ts';
 import { KernelArena, loadedTensorKernel, type KernelExports } from '../wasm/index.ts';
 
@@ -368,7 +369,7 @@ class KernelRows {
   constructor(private readonly k: KernelExports, private readonly planes: Float32Array[], private readonly width: number, private readonly height: number,
     private readonly rowBytes: number, private readonly bitDepth: number, private readonly samples: number, private readonly kind: 0 | 1 | 2,
     private readonly what: string) {
-    const table = sampleTable(bitDepth);
+    const table = unitTable(2 ** bitDepth - 1);
     this.band = Math.max(1, Math.min(height, Math.floor(KERNEL_BAND_BYTES / (rowBytes + 1))));
     const mem = new KernelArena(k);
     this.at = { table: mem.reserve(table.length), above: mem.reserve(rowBytes / 4), raw: mem.reserve((this.band * (rowBytes + 1)) / 4) };
@@ -409,19 +410,6 @@ class KernelRows {
   }
 }
 
-/** Sample value code / (2^depth - 1) as float32, by code: one table per bit depth, made once. */
-const sampleTables = new Map<number, Float32Array>();
-function sampleTable(bitDepth: number): Float32Array {
-  let t = sampleTables.get(bitDepth);
-  if (!t) {
-    const maxCode = 2 ** bitDepth - 1;
-    t = new Float32Array(maxCode + 1);
-    for (let v = 0; v <= maxCode; v++) t[v] = v / maxCode;
-    sampleTables.set(bitDepth, t);
-  }
-  return t;
-}
-
 /**
  * A function writing one unfiltered row of a pass (w pixels, the first at image column x0, every dx-th
  * column after) into the planes.
@@ -429,8 +417,8 @@ function sampleTable(bitDepth: number): Float32Array {
 function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samples: number,
   palette: Uint8Array | undefined, what: string, luma: boolean) {
   const maxCode = 2 ** bitDepth - 1;
-  const scale = sampleTable(bitDepth);
-  const byte = sampleTable(8);
+  const scale = unitTable(2 ** bitDepth - 1);
+  const byte = unitTable(255);
   const colours = palette ? palette.length / 3 : 0;
   const keep = Math.min(samples, 3) === 2 ? 1 : Math.min(samples, 3); // grey + alpha keeps grey
   return (row: Uint8Array, y: number, x0: number, dx: number, w: number) => {

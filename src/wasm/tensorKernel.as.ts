@@ -491,17 +491,13 @@ function unfilterRow(type: i32, row: usize, prev: usize, n: i32, bpp: i32): bool
 /**
  * PNG image rows of 8 or 16 bits per sample (not interlaced, no palette) made into float32 planes, as
  * src/image/pngDecode.ts's rowWriter makes them: `rows` rows at `raw`, each a filter-type byte then `rowBytes`
- * bytes, are unfiltered in place (the row above the first at `above`: zeros for the image's first row), and
- * each row's `width` pixels of `samples` samples go through `table` (float32 code / (2^depth - 1), 256 or 65536
- * entries) into `out0` (grey: the first sample; luma: Rec. 709 luma of the first three, in float64 as the
- * TypeScript's lumaOf) or into `out0`, `out1`, `out2` (colour: the first three), `width` floats per row.
- * `kind`: 0 grey, 1 luma, 2 colour. Returns -1, or the index of the first row whose filter type is undefined
- * (its pixels and those after it are not written).
+ * bytes, are unfiltered in place (the row above the first at `above`: zeros for the image's first row), and each
+ * row's `width` pixels go through `samplePlanes`, `width` floats per row of each plane. Returns -1, or the index
+ * of the first row whose filter type is undefined (its pixels and those after it are not written).
  */
 export function pngRows(raw: usize, above: usize, rows: i32, rowBytes: i32, sixteen: i32, samples: i32, kind: i32, table: usize, width: i32,
   out0: usize, out1: usize, out2: usize): i32 {
   const bpp = max(1, samples << sixteen);
-  const step = <usize>bpp;
   let prev = above;
   for (let r = 0; r < rows; r++) {
     const at = raw + <usize>r * <usize>(rowBytes + 1);
@@ -509,54 +505,65 @@ export function pngRows(raw: usize, above: usize, rows: i32, rowBytes: i32, sixt
     if (!unfilterRow(<i32>load<u8>(at), row, prev, rowBytes, bpp)) return r;
     prev = row;
     const o = <usize>r * <usize>width * 4;
-    let j = row;
-    if (!sixteen) {
-      if (kind === 0) {
-        let x = 0;
-        if (samples === 1) {
-          // code / 255 in float32 division: the table's value for every code (tests/image/png-kernel.test.ts).
-          const m = f32x4.splat(255);
-          for (; x + 16 <= width; x += 16, j += 16) {
-            const v = v128.load(j), lo = i16x8.extend_low_i8x16_u(v), hi = i16x8.extend_high_i8x16_u(v), q = out0 + o + <usize>x * 4;
-            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_low_i16x8_u(lo)), m));
-            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_high_i16x8_u(lo)), m), 16);
-            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_low_i16x8_u(hi)), m), 32);
-            v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_high_i16x8_u(hi)), m), 48);
-          }
-        }
-        for (; x < width; x++, j += step) store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j) << 2)));
-      } else if (kind === 1) {
-        for (let x = 0; x < width; x++, j += step) {
-          const l = 0.2126 * <f64>load<f32>(table + (<usize>load<u8>(j) << 2)) + 0.7152 * <f64>load<f32>(table + (<usize>load<u8>(j, 1) << 2))
-            + 0.0722 * <f64>load<f32>(table + (<usize>load<u8>(j, 2) << 2));
-          store<f32>(out0 + o + <usize>x * 4, <f32>l);
-        }
-      } else {
-        for (let x = 0; x < width; x++, j += step) {
-          store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j) << 2)));
-          store<f32>(out1 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j, 1) << 2)));
-          store<f32>(out2 + o + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j, 2) << 2)));
+    samplePlanes(row, width, sixteen, samples, kind, table, out0 + o, out1 + o, out2 + o);
+  }
+  return -1;
+}
+
+/**
+ * `n` pixels of `samples` interleaved samples (8 or 16 bits, big-endian) at `src` into float32 planes through
+ * `table` (float32 code / (2^depth - 1), 256 or 65536 entries): `kind` 0 grey (the first sample into `out0`),
+ * 1 luma (Rec. 709 luma of the first three, in float64 as the TypeScript's lumaOf, into `out0`), 2 colour (the
+ * first three into `out0`, `out1`, `out2`).
+ */
+export function samplePlanes(src: usize, n: i32, sixteen: i32, samples: i32, kind: i32, table: usize, out0: usize, out1: usize, out2: usize): void {
+  const step = <usize>max(1, samples << sixteen);
+  let j = src;
+  if (!sixteen) {
+    if (kind === 0) {
+      let x = 0;
+      if (samples === 1) {
+        // code / 255 in float32 division: the table's value for every code (tests/image/png-kernel.test.ts).
+        const m = f32x4.splat(255);
+        for (; x + 16 <= n; x += 16, j += 16) {
+          const v = v128.load(j), lo = i16x8.extend_low_i8x16_u(v), hi = i16x8.extend_high_i8x16_u(v), q = out0 + <usize>x * 4;
+          v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_low_i16x8_u(lo)), m));
+          v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_high_i16x8_u(lo)), m), 16);
+          v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_low_i16x8_u(hi)), m), 32);
+          v128.store(q, f32x4.div(f32x4.convert_i32x4_u(i32x4.extend_high_i16x8_u(hi)), m), 48);
         }
       }
+      for (; x < n; x++, j += step) store<f32>(out0 + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j) << 2)));
+    } else if (kind === 1) {
+      for (let x = 0; x < n; x++, j += step) {
+        const l = 0.2126 * <f64>load<f32>(table + (<usize>load<u8>(j) << 2)) + 0.7152 * <f64>load<f32>(table + (<usize>load<u8>(j, 1) << 2))
+          + 0.0722 * <f64>load<f32>(table + (<usize>load<u8>(j, 2) << 2));
+        store<f32>(out0 + <usize>x * 4, <f32>l);
+      }
     } else {
-      if (kind === 0) {
-        for (let x = 0; x < width; x++, j += step) store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (code16(j) << 2)));
-      } else if (kind === 1) {
-        for (let x = 0; x < width; x++, j += step) {
-          const l = 0.2126 * <f64>load<f32>(table + (code16(j) << 2)) + 0.7152 * <f64>load<f32>(table + (code16(j + 2) << 2))
-            + 0.0722 * <f64>load<f32>(table + (code16(j + 4) << 2));
-          store<f32>(out0 + o + <usize>x * 4, <f32>l);
-        }
-      } else {
-        for (let x = 0; x < width; x++, j += step) {
-          store<f32>(out0 + o + <usize>x * 4, load<f32>(table + (code16(j) << 2)));
-          store<f32>(out1 + o + <usize>x * 4, load<f32>(table + (code16(j + 2) << 2)));
-          store<f32>(out2 + o + <usize>x * 4, load<f32>(table + (code16(j + 4) << 2)));
-        }
+      for (let x = 0; x < n; x++, j += step) {
+        store<f32>(out0 + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j) << 2)));
+        store<f32>(out1 + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j, 1) << 2)));
+        store<f32>(out2 + <usize>x * 4, load<f32>(table + (<usize>load<u8>(j, 2) << 2)));
+      }
+    }
+  } else {
+    if (kind === 0) {
+      for (let x = 0; x < n; x++, j += step) store<f32>(out0 + <usize>x * 4, load<f32>(table + (code16(j) << 2)));
+    } else if (kind === 1) {
+      for (let x = 0; x < n; x++, j += step) {
+        const l = 0.2126 * <f64>load<f32>(table + (code16(j) << 2)) + 0.7152 * <f64>load<f32>(table + (code16(j + 2) << 2))
+          + 0.0722 * <f64>load<f32>(table + (code16(j + 4) << 2));
+        store<f32>(out0 + <usize>x * 4, <f32>l);
+      }
+    } else {
+      for (let x = 0; x < n; x++, j += step) {
+        store<f32>(out0 + <usize>x * 4, load<f32>(table + (code16(j) << 2)));
+        store<f32>(out1 + <usize>x * 4, load<f32>(table + (code16(j + 2) << 2)));
+        store<f32>(out2 + <usize>x * 4, load<f32>(table + (code16(j + 4) << 2)));
       }
     }
   }
-  return -1;
 }
 
 /** A big-endian 16-bit sample at `at`. */

@@ -19,6 +19,7 @@ export interface KernelExports {
     sw: number, sc: number, ss: number, sn: number, tally: number): void;
   pngRows(raw: number, above: number, rows: number, rowBytes: number, sixteen: number, samples: number, kind: number, table: number, width: number,
     out0: number, out1: number, out2: number): number;
+  samplePlanes(src: number, n: number, sixteen: number, samples: number, kind: number, table: number, out0: number, out1: number, out2: number): void;
   lagProducts(lc: number, ls: number, on: number, len: number, L: number, step: number, num: number, cnt: number): void;
 }
 

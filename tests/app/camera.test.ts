@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { loadTensorKernel } from '../../src/wasm/index.ts';
 import { defaultStep, frameImage, planReadout, RateMeter, readoutHaloPx, sizeSteps } from '../../app/camera/frames.ts';
 import { LiveReadout, type ReadoutEngine } from '../../app/camera/liveReadout.ts';
 import { resolveTensorOptions, tensorHaloPx } from '../../src/orientation/index.ts';
@@ -70,6 +71,19 @@ describe('frameImage', () => {
 
   it('refuses pixels that do not match the size', () => {
     expect(() => frameImage(new Uint8ClampedArray(10), 2, 2)).toThrow(/needs 16/);
+  });
+
+  it('gives the same bits with the tensor kernel loaded (several of its bands, RGBA as VideoFrame.copyTo gives it)', async () => {
+    await loadTensorKernel();
+    const w = 400, h = 300, rgba = new Uint8Array(w * h * 4);
+    for (let i = 0; i < rgba.length; i++) rgba[i] = (i * 2654435761) >>> 24;
+    const grey = frameImage(rgba, w, h).planes[0];
+    // ITU-R BT.709 item 3.2 luma of code / 255 (each rounded to float32 as decoded), in float64, then float32.
+    const v = (c: number) => Math.fround(c / 255);
+    for (let i = 0; i < w * h; i += 997) {
+      expect(grey[i]).toBe(Math.fround(0.2126 * v(rgba[4 * i]) + 0.7152 * v(rgba[4 * i + 1]) + 0.0722 * v(rgba[4 * i + 2])));
+    }
+    expect(grey[w * h - 1]).toBe(Math.fround(0.2126 * v(rgba[4 * w * h - 4]) + 0.7152 * v(rgba[4 * w * h - 3]) + 0.0722 * v(rgba[4 * w * h - 2])));
   });
 });
 
