@@ -13,7 +13,7 @@ import { orderParameters, type Weighting } from '../order/index.ts';
 import { loadTensorKernel } from '../wasm/index.ts';
 import {
   readPlate, readPlatePair, fourAngleAnalysis, angleNoiseFactor, parseIlluminant, fullWavePlate, whiteReference, mirrorChoiceStats,
-  compensatorAxisAdvice, resolveMirrorWithTexture, rankCounts, valuesOfCountedRanks, valuesOfRanks, type RankSelection,
+  compensatorAxisAdvice, resolveMirrorWithTexture, rankCounts, valuesOfCountedRanks, valuesOfRanks, valuesOfRanksOfCounted, type RankSelection, type ReadingCounts,
   type OpticalTrain, type PlateCalibration, type MatchSpace, type CameraCalibration, type PlateReading,
 } from '../optics/index.ts';
 import { ANGLE_NOISE_MAX_LOSS, ANGLE_NOISE_REMEDY, FOLD_EDGE_REMEDY } from '../channel/index.ts';
@@ -213,8 +213,12 @@ function cameraOf(white: [number, number, number] | undefined): CameraCalibratio
 /** Calibration fits the compensator only when its retardance was not given. */
 const calibrationOf = (o: TrainOptions) => ({ fitCompensator: o.compensatorNm === undefined });
 
-/** Distribution of a field's confidence over its usable pixels. */
-export function confidenceStats(f: OrientationField): ConfidenceStats {
+/**
+ * Distribution of a field's confidence over its usable pixels. With `counts` (the field's usable pixels by their
+ * readings, as the plate reading and the plate pair count them) from those, without a pass over the pixels: the same numbers.
+ */
+export function confidenceStats(f: OrientationField, readingCounts?: ReadingCounts): ConfidenceStats {
+  if (readingCounts) return countedConfidenceStats(readingCounts);
   // Ranks by radix selection on the values in place (src/optics/ranks.ts), not a sort or a copy: the same values. Its
   // first pass also counts the usable pixels, sums their confidence (float64, in pixel order) and counts those at 0.5 or more.
   const sums = { sum: 0, atLeast: 0.5, countAtLeast: 0 };
@@ -225,26 +229,49 @@ export function confidenceStats(f: OrientationField): ConfidenceStats {
   return { mean: sums.sum / n, median, p10, p90, fractionAbove05: sums.countAtLeast / n, n };
 }
 
+/** confidenceStats from the usable pixels' readings and their counts. */
+function countedConfidenceStats(c: ReadingCounts): ConfidenceStats {
+  let n = 0, atLeast = 0;
+  for (let j = 0; j < c.pixels.length; j++) { n += c.pixels[j]; if (c.confidence[j] >= 0.5) atLeast += c.pixels[j]; }
+  if (n === 0) return { mean: null, median: null, p10: null, p90: null, fractionAbove05: null, n: 0 };
+  const rank = (p: number) => Math.min(n - 1, Math.floor(p * (n - 1)));
+  const [median, p10, p90] = valuesOfRanksOfCounted(c.confidence, c.pixels, [rank(0.5), rank(0.1), rank(0.9)]);
+  return { mean: c.confidenceSum / n, median, p10, p90, fractionAbove05: atLeast / n, n };
+}
+
 /** The middle value (rank n/2 of n, as the readings have always given it) of the selected pixels' values; null for none. */
 function middleValue(values: Float32Array, sel: RankSelection): number | null {
   return valuesOfRanks(values, sel, (n) => (n ? [n >> 1] : []))[0] ?? null;
 }
 
-/** Median retardance over usable pixels with confidence >= 0.5 (all usable pixels when none is), nm. */
-export function retardanceMedian(f: OrientationField): number | null {
+/** Median retardance over usable pixels with confidence >= 0.5 (all usable pixels when none is), nm; with `counts` as confidenceStats. */
+export function retardanceMedian(f: OrientationField, counts?: ReadingCounts): number | null {
   if (!f.retardanceNm) return null;
+  if (counts) {
+    const middle = (picked: (j: number) => boolean) => {
+      let n = 0;
+      for (let j = 0; j < counts.pixels.length; j++) if (picked(j)) n += counts.pixels[j];
+      return n ? valuesOfRanksOfCounted(counts.retardanceNm, counts.pixels, [n >> 1], picked)[0] : null;
+    };
+    return middle((j) => counts.confidence[j] >= 0.5) ?? middle(() => true);
+  }
   return middleValue(f.retardanceNm, { mask: f.mask, minOf: f.confidence, min: 0.5 }) ?? middleValue(f.retardanceNm, { mask: f.mask });
 }
 
-/** The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. */
-export async function opticsResult(analysis: string, img: Image, field: OrientationField, o: OpticsSummaryOptions, reading: Record<string, unknown>): Promise<OpticsResult> {
+/**
+ * The JSON of an optical reading: like orient (order parameters of the field), plus retardance and confidence. `counts`:
+ * the field's usable pixels by their readings, as the reader counted them (the field's mask, confidence and retardance
+ * as it left them), from which the confidence and retardance statistics are made.
+ */
+export async function opticsResult(analysis: string, img: Image, field: OrientationField, o: OpticsSummaryOptions, reading: Record<string, unknown>,
+  counts?: ReadingCounts): Promise<OpticsResult> {
   // The block sums run in the tensor kernel once it is loaded (the app's worker loads it at start): load it
   // here too, so the command line sums as the app does, and faster.
   await loadTensorKernel();
   const s = orderParameters(field, { weighting: o.weighting, axisDeg: o.axisDeg, blockPx: o.blockPx });
   const base = orientResult(img, field, s, {});
   const profile = o.profile ? await analyseProfile(img, field, o.profile, field.options) : null;
-  const confidence = confidenceStats(field);
+  const confidence = confidenceStats(field, counts);
   // Say it plainly when the colours do not pin the readings down, rather than let the averages look sure.
   // With the sample retardance given, each colour fixes the angle and the confidence measures something else.
   const constrained = field.options.sampleRetardanceNm !== undefined && field.options.sampleRetardanceNm !== null;
@@ -253,7 +280,7 @@ export async function opticsResult(analysis: string, img: Image, field: Orientat
       field.method === 'plate' ? 'Take a second image with the optics turned by 45 deg (plate-pair)' : 'Check the calibration (--sample-free) and the optical train'}`]
     : [];
   return {
-    ...base, analysis, retardanceNmMedian: retardanceMedian(field), confidence, ambiguity: field.ambiguity, reading, profile,
+    ...base, analysis, retardanceNmMedian: retardanceMedian(field, counts), confidence, ambiguity: field.ambiguity, reading, profile,
     warnings: [...base.warnings, ...unsure, ...(profile?.warnings ?? [])],
   };
 }
@@ -305,7 +332,7 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
     calibration: calibrationJson(reading.calibration), mirrorAssumption: field.options.mirrorAssumption,
     mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
     colourCellsSearched: reading.cellsMatched,
-  });
+  }, reading.counts);
   // The axis the numbers refer to: the one given, or the channel's. (The measured director is no guide: it is
   // itself folded by the mirror choice.)
   const axis = o.axisDeg ?? result.profile?.axisDeg ?? null;
@@ -415,7 +442,7 @@ export async function analysePlatePair(imgA: Image, imgB: Image, o: PlatePairAna
   const result = await opticsResult('plate-pair', imgA, r.field, o, {
     imageB: imgB.source.name, calibrationA: calibrationJson(r.calibrationA), calibrationB: calibrationJson(r.calibrationB),
     registration: r.registration,
-  });
+  }, r.counts);
   return { result, field: r.field };
 }
 

@@ -59,8 +59,15 @@ const labFInv = (f: number) => (f > 6 / 29 ? f * f * f : 3 * (6 / 29) ** 2 * (f 
  * L* = 116 f(Y/Yn) - 16, a* = 500 (f(X/Xn) - f(Y/Yn)), b* = 200 (f(Y/Yn) - f(Z/Zn)).
  */
 export function xyzToLab(xyz: Vec3, white: Vec3 = D65_WHITE): Vec3 {
-  const fx = labF(xyz[0] / white[0]), fy = labF(xyz[1] / white[1]), fz = labF(xyz[2] / white[2]);
-  return [116 * fy - 16, 500 * (fx - fy), 200 * (fy - fz)];
+  const out: Vec3 = [0, 0, 0];
+  xyzToLabInto(xyz[0], xyz[1], xyz[2], white, out, 0);
+  return out;
+}
+
+/** xyzToLab of (x, y, z) written to out[o], out[o + 1], out[o + 2] (no new array, for loops over many colours). */
+export function xyzToLabInto(x: number, y: number, z: number, white: Vec3, out: Vec3 | Float64Array | Float32Array, o: number): void {
+  const fx = labF(x / white[0]), fy = labF(y / white[1]), fz = labF(z / white[2]);
+  out[o] = 116 * fy - 16; out[o + 1] = 500 * (fx - fy); out[o + 2] = 200 * (fy - fz);
 }
 
 export function labToXyz(lab: Vec3, white: Vec3 = D65_WHITE): Vec3 {

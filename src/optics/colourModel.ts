@@ -1,8 +1,8 @@
 import { DEG } from '../common/index.ts';
-import { retard, polarised } from './jones.ts';
+import { retardInPlace, polarised } from './jones.ts';
 import { cmf1931, illuminantSpd, wavelengthGrid, type WavelengthGrid } from './spectrum.ts';
 import {
-  bradfordMatrix, D65_WHITE, linearSrgbTo8bit, matMul3, mulMat3, xyzToLab, XYZ_TO_SRGB, SRGB_TO_XYZ,
+  bradfordMatrix, D65_WHITE, linearSrgbTo8bit, matMul3, mulMat3, xyzToLab, xyzToLabInto, XYZ_TO_SRGB, SRGB_TO_XYZ,
   type Mat3, type Vec3,
 } from './colorimetry.ts';
 import { resolveTrain, slowAxisRad, type OpticalTrain, type SampleRetarder } from './train.ts';
@@ -62,14 +62,15 @@ export function transmission(model: ColourModel, sample: SampleRetarder, out = n
   const comp = t.compensator;
   const cC = comp ? Math.cos(comp.axisDeg * DEG) : 1, sC = comp ? Math.sin(comp.axisDeg * DEG) : 0;
   const ca = Math.cos(a), sAn = Math.sin(a);
-  const e0 = polarised(p);
+  const e0 = polarised(p), e = new Float64Array(4);
   for (let i = 0; i < out.length; i++) {
     const lam = model.wavelengthsNm[i];
     const hs = (Math.PI * sample.retardanceNm) / lam;
-    let e = retard(e0, cS, sS, Math.cos(hs), Math.sin(hs));
+    e.set(e0);
+    retardInPlace(e, cS, sS, Math.cos(hs), Math.sin(hs));
     if (comp) {
       const hp = (Math.PI * comp.retardanceNm) / lam;
-      e = retard(e, cC, sC, Math.cos(hp), Math.sin(hp));
+      retardInPlace(e, cC, sC, Math.cos(hp), Math.sin(hp));
     }
     const re = ca * e[0] + sAn * e[2], im = ca * e[1] + sAn * e[3];
     out[i] = re * re + im * im;
@@ -112,5 +113,13 @@ export function interferenceColour(model: ColourModel, sample: SampleRetarder): 
  * record them) back to XYZ with the sRGB matrix, then CIELAB against the D65 white.
  */
 export function matchLabOfLinearRgb(rgb: Vec3): Vec3 {
-  return xyzToLab(mulMat3(SRGB_TO_XYZ, [Math.max(0, rgb[0]), Math.max(0, rgb[1]), Math.max(0, rgb[2])]), D65_WHITE);
+  const out: Vec3 = [0, 0, 0];
+  matchLabInto(rgb[0], rgb[1], rgb[2], out, 0);
+  return out;
+}
+
+/** matchLabOfLinearRgb of (r, g, b) written to out[o], out[o + 1], out[o + 2] (no new array). */
+export function matchLabInto(r: number, g: number, b: number, out: Vec3 | Float64Array | Float32Array, o: number): void {
+  const x = Math.max(0, r), y = Math.max(0, g), z = Math.max(0, b), m = SRGB_TO_XYZ;
+  xyzToLabInto(m[0] * x + m[1] * y + m[2] * z, m[3] * x + m[4] * y + m[5] * z, m[6] * x + m[7] * y + m[8] * z, D65_WHITE, out, o);
 }

@@ -1,8 +1,8 @@
 import { DEG } from '../common/index.ts';
-import { colourModel, interferenceColour, matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
+import { colourModel, matchLabOfLinearRgb, transmission, xyzOfTransmission, type ColourModel } from './colourModel.ts';
 import { cameraToModel, type CameraCalibration } from './camera.ts';
 import { cellLinearRgb } from './pixels.ts';
-import type { Vec3 } from './colorimetry.ts';
+import { mulMat3, type Vec3 } from './colorimetry.ts';
 
 /** Entries per run whose Lab bounding box lets EffectiveRetardanceReader.read skip the run. */
 const READER_BOX_ENTRIES = 16;
@@ -40,9 +40,11 @@ export class EffectiveRetardanceReader {
     const plain = colourModel({ ...t, compensator: null });
     const n = Math.floor((hiNm - loNm) / stepNm) + 1;
     this.labs = new Float32Array(3 * n);
+    // interferenceColour's linear RGB, its spectrum written into one array.
+    const spectrum = new Float64Array(plain.wavelengthsNm.length);
     for (let k = 0; k < n; k++) {
-      const c = interferenceColour(plain, { angleRad: (t.polariserDeg + 45) * DEG, retardanceNm: loNm + k * stepNm });
-      this.labs.set(matchLabOfLinearRgb(c.linearRgb), 3 * k);
+      const xyz = xyzOfTransmission(plain, transmission(plain, { angleRad: (t.polariserDeg + 45) * DEG, retardanceNm: loNm + k * stepNm }, spectrum));
+      this.labs.set(matchLabOfLinearRgb(mulMat3(plain.xyzToCamera, xyz)), 3 * k);
     }
     const nBoxes = Math.ceil(n / READER_BOX_ENTRIES);
     this.boxes = new Float32Array(6 * nBoxes);

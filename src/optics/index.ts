@@ -40,4 +40,4 @@ export type { FourierFit, FourAngleOptions, FourAngleResult, PlateSignOptions } 
 export { angleNoiseFactor, fitFourAngle, fourAngleAnalysis, recycleAngleSeries, seriesIntensityImage } from './fourAngle.ts';
 export type { RenderOptions } from './render.ts';
 export { renderSampleImage } from './render.ts';
-export { rankCounts, uncount, valuesOfCountedRanks, valuesOfRanks, type RankCounts, type RankSelection, type SelectionSums } from './ranks.ts';
+export { rankCounts, uncount, valuesOfCountedRanks, valuesOfRanks, valuesOfRanksOfCounted, type RankCounts, type RankSelection, type SelectionSums, type ReadingCounts } from './ranks.ts';

@@ -25,6 +25,15 @@ export function retard(e: JonesVector, c: number, s: number, ch: number, sh: num
   return [c * p1r - s * p2r, c * p1i - s * p2i, s * p1r + c * p2r, s * p1i + c * p2i];
 }
 
+/** retard's result written over `e` (the same operations; no new array, for loops over many wavelengths). */
+export function retardInPlace(e: Float64Array, c: number, s: number, ch: number, sh: number): void {
+  const r1 = c * e[0] + s * e[2], i1 = c * e[1] + s * e[3];
+  const r2 = -s * e[0] + c * e[2], i2 = -s * e[1] + c * e[3];
+  const p1r = r1 * ch - i1 * sh, p1i = r1 * sh + i1 * ch;
+  const p2r = r2 * ch + i2 * sh, p2i = i2 * ch - r2 * sh;
+  e[0] = c * p1r - s * p2r; e[1] = c * p1i - s * p2i; e[2] = s * p1r + c * p2r; e[3] = s * p1i + c * p2i;
+}
+
 /** Light after a linear polariser at `angleRad` (unit amplitude). */
 export function polarised(angleRad: number): JonesVector {
   return [Math.cos(angleRad), 0, Math.sin(angleRad), 0];

@@ -1,7 +1,7 @@
 import { checkNumber, InputError } from '../common/index.ts';
 import { DEG, axialDiffDeg } from '../common/index.ts';
-import { mulMat3, type Vec3 } from './colorimetry.ts';
-import { matchLabOfLinearRgb, type ColourModel } from './colourModel.ts';
+import type { Vec3 } from './colorimetry.ts';
+import { matchLabInto, type ColourModel } from './colourModel.ts';
 import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
 
 /** Colour space of the match: CIELAB, or brightness-independent chroma (a*, b*) / (L* + 16). */
@@ -165,7 +165,7 @@ function buildLookup(model: ColourModel, o: typeof LOOKUP_DEFAULTS & LookupOptio
   const mono = t.monochromeNm !== undefined;
   // X, Y, Z of every entry: for a lamp's spectrum in the optics kernel (lookupXyz, the same operations as below).
   const xyz = mono ? null : kernelXyz(model, ch, sh, nR, nL, nA, anglesDeg, slowOffset, px, py, comp !== null, cC, sC, cpH, spH, ax, ay);
-  const nRp = nR + (nR % 2);
+  const nRp = nR + (nR % 2), M = model.xyzToCamera, lab = new Float64Array(3);
   for (let j = 0; j < nA; j++) {
     const th = (anglesDeg[j] + slowOffset) * DEG;
     const c = Math.cos(th), s = Math.sin(th);
@@ -190,11 +190,15 @@ function buildLookup(model: ColourModel, o: typeof LOOKUP_DEFAULTS & LookupOptio
         const tr = re * re + im * im;
         X = model.whiteXyz[0] * tr; Y = model.whiteXyz[1] * tr; Z = model.whiteXyz[2] * tr;
       }
-      const rgb = mulMat3(model.xyzToCamera, [X, Y, Z]);
+      // mulMat3(model.xyzToCamera, [X, Y, Z]), then matchCoords(matchLabOfLinearRgb(rgb)): the same operations, no arrays.
+      const r = M[0] * X + M[1] * Y + M[2] * Z, g = M[3] * X + M[4] * Y + M[5] * Z, b = M[6] * X + M[7] * Y + M[8] * Z;
       const idx = j * nR + k;
-      linearRgb[3 * idx] = rgb[0]; linearRgb[3 * idx + 1] = rgb[1]; linearRgb[3 * idx + 2] = rgb[2];
-      const m = matchCoords(matchLabOfLinearRgb(rgb), o.space);
-      for (let d = 0; d < dims; d++) coords[idx * dims + d] = m[d];
+      linearRgb[3 * idx] = r; linearRgb[3 * idx + 1] = g; linearRgb[3 * idx + 2] = b;
+      matchLabInto(r, g, b, lab, 0);
+      if (dims === 3) { coords[3 * idx] = lab[0]; coords[3 * idx + 1] = lab[1]; coords[3 * idx + 2] = lab[2]; } else {
+        const d = Math.max(1, lab[0] + 16);
+        coords[2 * idx] = (100 * lab[1]) / d; coords[2 * idx + 1] = (100 * lab[2]) / d;
+      }
     }
   }
   return { anglesDeg, retardancesNm, coords, dims, space: o.space, linearRgb, mirrorAxisDeg: symmetric, birefringenceSign: o.birefringenceSign };

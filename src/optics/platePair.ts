@@ -11,6 +11,7 @@ import { checkColourImage, FULL_SCALE_LEVEL, linearLevelTable, type Rect } from 
 import { opticsKernel, OpticsLayout, type OpticsKernelExports } from '../wasm/index.ts';
 import { registrationCheckOfImages, registrationShown, type RegistrationCheck } from './registration.ts';
 import { resolveTrain, type OpticalTrain } from './train.ts';
+import type { ReadingCounts } from './ranks.ts';
 
 export interface PlatePairOptions {
   train?: Partial<OpticalTrain>;
@@ -42,6 +43,8 @@ export interface PlatePairReading {
   calibrationA: PlateCalibration | null;
   calibrationB: PlateCalibration | null;
   registration: RegistrationCheck;
+  /** The field's usable pixels by their readings, for its statistics without another pass over the pixels. */
+  counts: ReadingCounts;
 }
 
 /** The train of image B: polariser, analyser and compensator all turned by turnDeg. */
@@ -116,7 +119,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PAIR_BLOCK_PX);
   const search = new PairSearch(lutA, lutB, 1 << (3 * bits), mem);
   const rgbAt = mem.reserve(24 * B), clipAt = mem.reserve(B), hitsAt = mem.reserve(4 * B), cellsBAt = mem.reserve(4 * B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(4);
-  const cacheAt = mem.reserve(12 * PAIR_CACHE_ENTRIES);
+  const cacheAt = mem.reserve(12 * PAIR_CACHE_ENTRIES), sumAt = mem.reserve(8);
   const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
   const levelsAAt = imgA.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, levelsBAt = imgB.encoding === 'linear' ? mem.reserve(4 * 4097) : 0;
   // The table is laid out last; when it would be more than half full its entries move to a table twice the size laid
@@ -130,6 +133,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
   mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)).fill(-1);
   mem.i32(cacheAt, 3 * PAIR_CACHE_ENTRIES).fill(-1);
   mem.i32(countsAt, 1).fill(0);
+  mem.f64(sumAt, 1).fill(0);
   let belowFloor = 0, masked = 0;
   for (let i0 = 0; i0 < n; i0 += B) {
     const len = Math.min(B, n - i0), i1 = i0 + len;
@@ -174,7 +178,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
       floats[o + 5] = Math.cos(2 * floats[o + 2]); floats[o + 6] = Math.sin(2 * floats[o + 2]);
       ints[o + 7] = ret < floorNm ? 1 : 0;
     }
-    const below = k.pairWrite(hitsAt, len, tableAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt);
+    const below = k.pairWrite(hitsAt, len, tableAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt, sumAt);
     belowFloor += below;
     const unusable = mem.i32(countsAt, 1)[0] - masked;
     masked += unusable;
@@ -183,6 +187,7 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     if (below + unusable < len) mask.set(mem.u8(maskAt, len), i0);
     if (unusable > 0) clipped.set(mem.u8(clipAt, len), i0);
   }
+  const counts = readingCountsOfTable(mem.i32(tableAt, (PAIR_ENTRY_BYTES / 4) << (32 - shift)), mem.f64(sumAt, 1)[0]);
   if (masked > 0) warnings.push(`${masked} pixels at full scale (clipped) or invalid in one of the images were masked`);
   if (belowFloor > 0) warnings.push(`${belowFloor} pixels read below ${floorNm} nm (no measurable sample) were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
   const registration = registrationCheckOfImages(imgA, imgB);
@@ -201,7 +206,23 @@ export function readPlatePair(imgA: Image, imgB: Image, options: PlatePairOption
     },
     warnings,
   };
-  return { field, calibrationA: calA, calibrationB: calB, registration };
+  return { field, calibrationA: calA, calibrationB: calB, registration, counts };
+}
+
+/**
+ * The usable pixels by their readings (ReadingCounts) from the table of pair readings as pairWrite left it: each
+ * entry's confidence, retardance and count (its last int32 is masked + 2 x the count of its pixels left usable).
+ */
+function readingCountsOfTable(ints: Int32Array, confidenceSum: number): ReadingCounts {
+  const floats = new Float32Array(ints.buffer, ints.byteOffset, ints.length), W = PAIR_ENTRY_BYTES / 4;
+  let m = 0;
+  for (let o = 0; o < ints.length; o += W) if (ints[o] !== -1 && ints[o + 7] >> 1 > 0) m++;
+  const confidence = new Float32Array(m), retardanceNm = new Float32Array(m), pixels = new Int32Array(m);
+  for (let o = 0, j = 0; o < ints.length; o += W) {
+    if (ints[o] === -1 || ints[o + 7] >> 1 === 0) continue;
+    retardanceNm[j] = floats[o + 3]; confidence[j] = floats[o + 4]; pixels[j++] = ints[o + 7] >> 1;
+  }
+  return { confidence, retardanceNm, pixels, confidenceSum };
 }
 
 const ROW_STRIDE = 2;

@@ -8,11 +8,15 @@ import { calibrateFromBackground, type CalibrationOptions, type PlateCalibration
 import { buildPlateLookup, LookupSearcher, matchConfidence, matchCoords, type LookupMatch, type MatchSpace, type PlateLookup, type SearchOptions } from './lookupTable.ts';
 import { cellLinearRgb, checkColourImage, FULL_SCALE_LEVEL, linearLevelTable, quantiseInto, type Rect } from './pixels.ts';
 import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
+import type { ReadingCounts } from './ranks.ts';
 
 /** Pixels per block: colour cells are made a block at a time, not as a whole plane. */
 const PLATE_BLOCK_PX = 1 << 15;
-/** Float32s per sub-cell reading in the kernel's memory: angle, retardance, confidence, masked, cos 2 theta, sin 2 theta. */
-const READING_FLOATS = 6;
+/**
+ * Float32s per sub-cell reading in the kernel's memory: angle, retardance, confidence, masked, cos 2 theta, sin 2 theta,
+ * then the int32 count of its pixels left usable (plateWrite counts them).
+ */
+const READING_FLOATS = 7;
 import { resolveTrain, type OpticalTrain } from './train.ts';
 
 export interface PlateReadOptions extends SearchOptions {
@@ -77,6 +81,8 @@ export interface PlateReading {
   lookup: PlateLookup;
   /** Distinct colour cells matched (each one lookup search). */
   cellsMatched: number;
+  /** The field's usable pixels by their readings, for its statistics without another pass over the pixels. */
+  counts: ReadingCounts;
 }
 
 /**
@@ -189,11 +195,12 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     readings[o + 3] = (band ? floorNm > 0 && dZero <= Math.max(dPick, freeRadius) : readings[o + 1] < floorNm) ? 1 : 0;
     // Of the float32 angle, as the order statistics would make them from the field's angles.
     readings[o + 4] = Math.cos(2 * readings[o]); readings[o + 5] = Math.sin(2 * readings[o]);
+    readings[o + 6] = 0; // no pixel counted yet (0 as int32 too)
   };
   // The pixels a block at a time in the optics kernel (src/wasm/opticsKernel.as.ts): plateCells gives each pixel's
   // sub-cell and lists those met for the first time, which are read here; plateWrite gives every pixel its sub-cell's reading.
   const k = opticsKernel(), mem = new OpticsLayout(k), B = Math.min(n, PLATE_BLOCK_PX);
-  const rgbAt = mem.reserve(12 * B), subsAt = mem.reserve(4 * B), clipAt = mem.reserve(B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(8);
+  const rgbAt = mem.reserve(12 * B), subsAt = mem.reserve(4 * B), clipAt = mem.reserve(B), freshAt = mem.reserve(4 * B), countsAt = mem.reserve(8), sumAt = mem.reserve(8);
   const outAt = [0, 1, 2, 3, 4].map(() => mem.reserve(4 * B)), maskAt = mem.reserve(B);
   const levelsAt = img.encoding === 'linear' ? mem.reserve(4 * 4097) : 0, indexAt = mem.reserve(4 * nSub);
   let capacity = 4096;
@@ -202,6 +209,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   if (levelsAt) mem.i32(levelsAt, 4097).set(linearLevelTable(subBits));
   mem.i32(indexAt, nSub).fill(-1);
   mem.i32(countsAt, 2).fill(0);
+  mem.f64(sumAt, 1).fill(0);
   let nRead = 0;
   // Pixels at full scale and with values not usable so far (the kernel's counts).
   const counts = new Int32Array(2);
@@ -227,7 +235,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     }
     const [satBefore, invBefore] = counts;
     counts.set(mem.i32(countsAt, 2));
-    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt), unusable = counts[0] - satBefore + counts[1] - invBefore;
+    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt, sumAt), unusable = counts[0] - satBefore + counts[1] - invBefore;
     belowFloor += masked;
     [angleRad, retardanceNm, confidence, cos2, sin2].forEach((a, j) => a.set(mem.f32(outAt[j], len), i0));
     // Mask and clipped flags only where the block has some (the arrays' untouched pages take no memory).
@@ -235,6 +243,16 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     if (counts[0] > satBefore) clipped.set(mem.u8(clipAt, len), i0);
   }
   const [saturated, invalid] = counts;
+  // The usable pixels by their sub-cells' readings (ReadingCounts).
+  const readings = mem.f32(readingsAt, READING_FLOATS * nRead), counted = mem.i32(readingsAt, READING_FLOATS * nRead);
+  let m = 0;
+  for (let j = 0; j < nRead; j++) if (counted[READING_FLOATS * j + 6] > 0) m++;
+  const pixelCounts: ReadingCounts = { confidence: new Float32Array(m), retardanceNm: new Float32Array(m), pixels: new Int32Array(m), confidenceSum: mem.f64(sumAt, 1)[0] };
+  for (let j = 0, q = 0; j < nRead; j++) {
+    const o = READING_FLOATS * j;
+    if (counted[o + 6] === 0) continue;
+    pixelCounts.retardanceNm[q] = readings[o + 1]; pixelCounts.confidence[q] = readings[o + 2]; pixelCounts.pixels[q++] = counted[o + 6];
+  }
   if (belowFloor > 0) {
     const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
     warnings.push(`${belowFloor} pixels ${why} were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
@@ -256,6 +274,6 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     },
     warnings,
   };
-  return { field, calibration, lookup, cellsMatched: matched };
+  return { field, calibration, lookup, cellsMatched: matched, counts: pixelCounts };
 }
 

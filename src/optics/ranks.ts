@@ -149,3 +149,44 @@ function lowCounts(bits: Uint32Array, mask: Uint8Array, minOf: Float32Array | nu
   const any = wanted.length > 4, w = [0, 1, 2, 3].map((j) => (j < wanted.length ? wanted[j] : -1));
   countPass(bits, mask, minOf, slot, low, null, (k, at, len) => { k.rankLow(at.bits, at.mask, at.minOf, min, len, at.extra, at.counts, any ? 1 : 0, w[0], w[1], w[2], w[3]); return 0; });
 }
+
+/**
+ * A reading's usable pixels (mask 1) by the readings they were given: the plate reading and the plate pair give every
+ * pixel of one colour cell (or pair of cells) the same reading, so their order statistics follow from each reading's
+ * values and how many pixels got it. `confidenceSum`: the usable pixels' confidence summed in pixel order (float64).
+ */
+export interface ReadingCounts {
+  confidence: Float32Array;
+  retardanceNm: Float32Array;
+  /** Usable pixels per reading (none listed with 0). */
+  pixels: Int32Array;
+  confidenceSum: number;
+}
+
+/**
+ * Values at ranks `ranks` (0-based, each below the sum of `counts`) of the multiset holding values[j] counts[j] times
+ * (not at all where picked(j) is false), as valuesOfRanks finds them among pixel values: the same two radix passes over
+ * the values' sort keys, each value counted counts[j] times.
+ */
+export function valuesOfRanksOfCounted(values: Float32Array, counts: Int32Array, ranks: number[], picked: (j: number) => boolean = () => true): number[] {
+  const bits = new Uint32Array(values.buffer, values.byteOffset, values.length), m = values.length;
+  const high = new Float64Array(HALF);
+  for (let j = 0; j < m; j++) if (picked(j)) high[keyOf(bits[j]) >>> 16] += counts[j];
+  const buckets = ranks.map((r) => {
+    let b = 0, below = 0;
+    while (below + high[b] <= r) below += high[b++];
+    return { bucket: b, rank: r - below };
+  });
+  const slot = new Map([...new Set(buckets.map((b) => b.bucket))].map((b, k) => [b, k * HALF]));
+  const low = new Float64Array(slot.size * HALF);
+  for (let j = 0; j < m; j++) {
+    const key = keyOf(bits[j]), o = slot.get(key >>> 16);
+    if (o !== undefined && picked(j)) low[o + (key & 0xffff)] += counts[j];
+  }
+  return buckets.map(({ bucket, rank }) => {
+    const o = slot.get(bucket)!;
+    let b = 0, below = 0;
+    while (below + low[o + b] <= rank) below += low[o + b++];
+    return valueOfKey(((bucket << 16) | b) >>> 0);
+  });
+}

@@ -1,6 +1,7 @@
 import type { Plane } from '../common/index.ts';
 import { InputError } from '../common/index.ts';
 import { toGrey, type Image } from '../image/index.ts';
+import { opticsKernel, OpticsLayout } from '../wasm/index.ts';
 
 /**
  * Twiddle factors of a radix-2 FFT of length n, per stage (len = 2, 4, ..., n) the len/2 values
@@ -31,61 +32,6 @@ function twiddles(n: number, inverse: boolean) {
   t = { re, im, rev };
   twiddleCache.set(key, t);
   return t;
-}
-
-/**
- * In-place radix-2 decimation-in-time complex FFT (inverse when `inverse`, unscaled; Cooley & Tukey 1965) of re, im,
- * length a power of two: bit-reversal permutation, then per stage the butterflies with the stage's twiddles.
- */
-function fft(re: Float64Array, im: Float64Array, inverse: boolean): void {
-  const n = re.length;
-  const { re: twr, im: twi, rev } = twiddles(n, inverse);
-  for (let i = 1; i < n; i++) {
-    const j = rev[i];
-    if (i < j) {
-      const r = re[i]; re[i] = re[j]; re[j] = r;
-      const m = im[i]; im[i] = im[j]; im[j] = m;
-    }
-  }
-  for (let len = 2; len <= n; len <<= 1) {
-    const half = len >> 1, tw = half - 1;
-    for (let i = 0; i < n; i += len) {
-      for (let k = 0; k < half; k++) {
-        const cr = twr[tw + k], ci = twi[tw + k];
-        const a = i + k, b = a + half;
-        const tr = re[b] * cr - im[b] * ci, ti = re[b] * ci + im[b] * cr;
-        re[b] = re[a] - tr; im[b] = im[a] - ti; re[a] += tr; im[a] += ti;
-      }
-    }
-  }
-}
-
-/**
- * 2-D FFT of an n x n array in place: each row by fft, then every column at once (the same butterflies, run along
- * whole rows so that the memory is read in order).
- */
-function fft2(re: Float64Array, im: Float64Array, n: number, inverse: boolean): void {
-  for (let y = 0; y < n; y++) fft(re.subarray(y * n, y * n + n), im.subarray(y * n, y * n + n), inverse);
-  const { re: twr, im: twi, rev } = twiddles(n, inverse);
-  for (let i = 1; i < n; i++) {
-    const j = rev[i];
-    if (i < j) for (let x = 0, p = i * n, q = j * n; x < n; x++, p++, q++) {
-      const r = re[p]; re[p] = re[q]; re[q] = r;
-      const m = im[p]; im[p] = im[q]; im[q] = m;
-    }
-  }
-  for (let len = 2; len <= n; len <<= 1) {
-    const half = len >> 1, tw = half - 1;
-    for (let i = 0; i < n; i += len) {
-      for (let k = 0; k < half; k++) {
-        const cr = twr[tw + k], ci = twi[tw + k];
-        for (let a = (i + k) * n, b = a + half * n, end = a + n; a < end; a++, b++) {
-          const tr = re[b] * cr - im[b] * ci, ti = re[b] * ci + im[b] * cr;
-          re[b] = re[a] - tr; im[b] = im[a] - ti; re[a] += tr; im[a] += ti;
-        }
-      }
-    }
-  }
 }
 
 /** Result of the registration check: how far image B is shifted against image A, px. */
@@ -119,10 +65,13 @@ function windowTables(n: number) {
   if (t) return t;
   const hann = Float64Array.from({ length: n }, (_, x) => 0.5 - 0.5 * Math.cos((2 * Math.PI * (x + 0.5)) / n));
   const sf2 = 2 * (n / 6) ** 2, weight = new Float64Array(n * n);
+  // The factor depends on u^2 + v^2 alone: made once per |u| <= |v| (the same value for every (u, v) of that sum).
+  const half = (n >> 1) + 1, byUV = new Float64Array(half * half);
+  for (let v = 0; v < half; v++) for (let u = 0; u <= v; u++) byUV[v * half + u] = byUV[u * half + v] = Math.exp(-(u * u + v * v) / sf2);
   let weightSum = 0;
   for (let i = 0; i < n * n; i++) {
     const fy = Math.floor(i / n), fx = i - fy * n, u = fx > n / 2 ? fx - n : fx, v = fy > n / 2 ? fy - n : fy;
-    weight[i] = Math.exp(-(u * u + v * v) / sf2);
+    weight[i] = byUV[Math.abs(v) * half + Math.abs(u)];
     weightSum += weight[i];
   }
   t = { hann, weight, weightSum };
@@ -143,17 +92,26 @@ export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
   if (n < 16) throw new InputError('images smaller than 16 px cannot be checked for registration', 'Use larger images');
   const x0 = Math.floor((a.width - n) / 2), y0 = Math.floor((a.height - n) / 2);
   const { hann, weight, weightSum: wsum } = windowTables(n);
-  const load = (p: Plane) => {
-    const re = new Float64Array(n * n);
+  // 2-D FFTs in the optics kernel (fft2: each row by a radix-2 decimation-in-time FFT, Cooley & Tukey 1965, then the
+  // columns), unscaled, on arrays in its memory.
+  const k = opticsKernel(), mem = new OpticsLayout(k), N = n * n, forward = twiddles(n, false), inverse = twiddles(n, true);
+  const pos = {
+    ar: mem.reserve(8 * N), ai: mem.reserve(8 * N), br: mem.reserve(8 * N), bi: mem.reserve(8 * N), rev: mem.reserve(4 * n),
+    fr: mem.reserve(8 * n), fi: mem.reserve(8 * n), ir: mem.reserve(8 * n), ii: mem.reserve(8 * n),
+  };
+  mem.commit();
+  mem.i32(pos.rev, n).set(forward.rev);
+  mem.f64(pos.fr, n).set(forward.re); mem.f64(pos.fi, n).set(forward.im); mem.f64(pos.ir, n).set(inverse.re); mem.f64(pos.ii, n).set(inverse.im);
+  const load = (p: Plane, re: Float64Array) => {
     let mean = 0;
     for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) mean += p.data[(y + y0) * p.width + x + x0];
     mean /= n * n;
     for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) re[y * n + x] = (p.data[(y + y0) * p.width + x + x0] - mean) * (hann[x] * hann[y]);
     return re;
   };
-  const ar = load(a), ai = new Float64Array(n * n), br = load(b), bi = new Float64Array(n * n);
-  fft2(ar, ai, n, false);
-  fft2(br, bi, n, false);
+  const ar = load(a, mem.f64(pos.ar, N)), ai = mem.f64(pos.ai, N).fill(0), br = load(b, mem.f64(pos.br, N)), bi = mem.f64(pos.bi, N).fill(0);
+  k.fft2(pos.ar, pos.ai, n, pos.fr, pos.fi, pos.rev);
+  k.fft2(pos.br, pos.bi, n, pos.fr, pos.fi, pos.rev);
   // Cross-power spectrum B * conj(A) / |.|: its inverse peaks at the shift of B against A.
   // A Gaussian low-pass on the whitened spectrum keeps sensor noise at high frequencies from burying the peak.
   for (let i = 0; i < n * n; i++) {
@@ -162,7 +120,7 @@ export function phaseCorrelation(a: Plane, b: Plane): RegistrationCheck {
     const w = weight[i];
     ar[i] = (w * r) / m; ai[i] = (w * im) / m;
   }
-  fft2(ar, ai, n, true);
+  k.fft2(pos.ar, pos.ai, n, pos.ir, pos.ii, pos.rev);
   let best = 0;
   for (let i = 1; i < n * n; i++) if (ar[i] > ar[best]) best = i;
   const by = Math.floor(best / n), bx = best - by * n;

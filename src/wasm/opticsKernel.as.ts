@@ -283,12 +283,13 @@ export function plateCells(r: usize, g: usize, b: usize, n: i32, bits: i32, full
 
 /**
  * The plate reading's second pass: each usable pixel's reading from its sub-cell's entry k = index[sub] in readings
- * (6 float32s: angle, retardance, confidence, 1 when masked, cos 2 theta, sin 2 theta) into angle, retardance,
- * confidence, cos2, sin2, and mask 1 unless the entry is masked; pixels not usable get 0 everywhere but cos2 (1: the
- * doubled angle of angle 0). Returns how many usable pixels were masked.
+ * (7 float32s: angle, retardance, confidence, 1 when masked, cos 2 theta, sin 2 theta, then an int32 count) into angle,
+ * retardance, confidence, cos2, sin2, and mask 1 unless the entry is masked; pixels not usable get 0 everywhere but cos2
+ * (1: the doubled angle of angle 0). Returns how many usable pixels were masked. The pixels left with mask 1 are
+ * counted in their entry's count and their confidence summed in pixel order in float64 at `sum` (added to).
  */
-export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize): i32 {
-  let masked = 0;
+export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize, sum: usize): i32 {
+  let masked = 0, total = load<f64>(sum);
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2, sub = load<i32>(subs + o);
     if (sub < 0) {
@@ -296,13 +297,15 @@ export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, a
       store<u8>(mask + <usize>t, 0);
       continue;
     }
-    const e = readings + <usize>load<i32>(index + (<usize>sub << 2)) * 24;
+    const e = readings + <usize>load<i32>(index + (<usize>sub << 2)) * 28;
     store<f32>(angle + o, load<f32>(e)); store<f32>(retardance + o, load<f32>(e, 4)); store<f32>(confidence + o, load<f32>(e, 8));
     store<f32>(cos2 + o, load<f32>(e, 16)); store<f32>(sin2 + o, load<f32>(e, 20));
     const off = load<f32>(e, 12) == 1;
     masked += <i32>off;
     store<u8>(mask + <usize>t, off ? 0 : 1);
+    if (!off) { store<i32>(e, load<i32>(e, 24) + 1, 24); total += <f64>load<f32>(e, 8); }
   }
+  store<f64>(sum, total);
   return masked;
 }
 
@@ -453,10 +456,12 @@ export function pairRehash(from: usize, fromShift: i32, to: usize, toShift: i32)
 /**
  * The plate pair's second pass: each usable pixel's reading from its table entry (offset in hits) into angle,
  * retardance, confidence, cos2 and sin2, mask 1 unless the entry is masked; pixels not usable get 0 (cos2 0 too, as the
- * reading's arrays start). Returns how many usable pixels were masked (below the retardance floor).
+ * reading's arrays start). Returns how many usable pixels were masked (below the retardance floor). The pixels left
+ * with mask 1 are counted in their entry (the entry's last int32 is masked + 2 x that count) and their confidence
+ * summed in pixel order in float64 at `sum` (added to): the statistics of the field's usable pixels come from these.
  */
-export function pairWrite(hits: usize, n: i32, table: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize): i32 {
-  let masked = 0;
+export function pairWrite(hits: usize, n: i32, table: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize, sum: usize): i32 {
+  let masked = 0, total = load<f64>(sum);
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2, hit = load<i32>(hits + o);
     if (hit < 0) {
@@ -467,10 +472,12 @@ export function pairWrite(hits: usize, n: i32, table: usize, angle: usize, retar
     const e = table + <usize>hit;
     store<f32>(angle + o, load<f32>(e, 8)); store<f32>(retardance + o, load<f32>(e, 12)); store<f32>(confidence + o, load<f32>(e, 16));
     store<f32>(cos2 + o, load<f32>(e, 20)); store<f32>(sin2 + o, load<f32>(e, 24));
-    const off = load<i32>(e, 28) == 1;
+    const flags = load<i32>(e, 28), off = (flags & 1) == 1;
     masked += <i32>off;
     store<u8>(mask + <usize>t, off ? 0 : 1);
+    if (!off) { store<i32>(e, flags + 2, 28); total += <f64>load<f32>(e, 16); }
   }
+  store<f64>(sum, total);
   return masked;
 }
 
@@ -801,4 +808,88 @@ export function foldMod90(angle: usize, cos2: usize, sin2: usize, only: usize, n
     }
   }
   return slowCount;
+}
+
+/**
+ * One butterfly stage of length 2 half over `count` complex values (re, im) at stride `step` elements between the values
+ * of a transform (1 along a row, n down the columns) and `lanes` transforms side by side (step 1: one; step n: n, two at a
+ * time): b = a + half, t = w x[b], x[b] = x[a] - t, x[a] = x[a] + t with w = (twr, twi)[tw + k], t = (xr cr - xi ci,
+ * xr ci + xi cr), the float64 operations of src/optics/registration.ts's fft and fft2.
+ */
+// @ts-ignore: decorator
+@inline
+function butterflies(re: usize, im: usize, n: i32, len: i32, twr: usize, twi: usize, columns: bool): void {
+  const half = len >> 1, tw = half - 1;
+  if (columns) {
+    // Whole rows at a time: row a = (i + k) with row b = a + half, two elements per instruction.
+    for (let i = 0; i < n; i += len) {
+      for (let k = 0; k < half; k++) {
+        const cr = f64x2.splat(load<f64>(twr + (<usize>(tw + k) << 3))), ci = f64x2.splat(load<f64>(twi + (<usize>(tw + k) << 3)));
+        const a0 = <usize>(i + k) * <usize>n << 3, b0 = a0 + (<usize>half * <usize>n << 3);
+        for (let x = 0; x < n; x += 2) {
+          const pa = a0 + (<usize>x << 3), pb = b0 + (<usize>x << 3);
+          const rb = v128.load(re + pb), ib = v128.load(im + pb), ra = v128.load(re + pa), ia = v128.load(im + pa);
+          const tr = f64x2.sub(f64x2.mul(rb, cr), f64x2.mul(ib, ci)), ti = f64x2.add(f64x2.mul(rb, ci), f64x2.mul(ib, cr));
+          v128.store(re + pb, f64x2.sub(ra, tr)); v128.store(im + pb, f64x2.sub(ia, ti));
+          v128.store(re + pa, f64x2.add(ra, tr)); v128.store(im + pa, f64x2.add(ia, ti));
+        }
+      }
+    }
+    return;
+  }
+  if (half == 1) {
+    const cr = load<f64>(twr + (<usize>tw << 3)), ci = load<f64>(twi + (<usize>tw << 3));
+    for (let i = 0; i < n; i += 2) {
+      const pa = <usize>i << 3, pb = pa + 8;
+      const rb = load<f64>(re + pb), ib = load<f64>(im + pb);
+      const tr = rb * cr - ib * ci, ti = rb * ci + ib * cr;
+      const ra = load<f64>(re + pa), ia = load<f64>(im + pa);
+      store<f64>(re + pb, ra - tr); store<f64>(im + pb, ia - ti); store<f64>(re + pa, ra + tr); store<f64>(im + pa, ia + ti);
+    }
+    return;
+  }
+  // Along a row: two neighbouring k (two twiddles) per instruction.
+  for (let i = 0; i < n; i += len) {
+    for (let k = 0; k < half; k += 2) {
+      const cr = v128.load(twr + (<usize>(tw + k) << 3)), ci = v128.load(twi + (<usize>(tw + k) << 3));
+      const pa = <usize>(i + k) << 3, pb = pa + (<usize>half << 3);
+      const rb = v128.load(re + pb), ib = v128.load(im + pb), ra = v128.load(re + pa), ia = v128.load(im + pa);
+      const tr = f64x2.sub(f64x2.mul(rb, cr), f64x2.mul(ib, ci)), ti = f64x2.add(f64x2.mul(rb, ci), f64x2.mul(ib, cr));
+      v128.store(re + pb, f64x2.sub(ra, tr)); v128.store(im + pb, f64x2.sub(ia, ti));
+      v128.store(re + pa, f64x2.add(ra, tr)); v128.store(im + pa, f64x2.add(ia, ti));
+    }
+  }
+}
+
+/**
+ * The 2-D FFT of src/optics/registration.ts (fft2) of an n x n array (re, im: float64, n a power of two, at least 4)
+ * in place, in the same float64 operations in the same order: each row by the radix-2 decimation-in-time FFT (bit-reversal
+ * permutation by rev, then per stage its butterflies with twiddles twr, twi at offset len/2 - 1 for the stage of length
+ * len), then the rows permuted by rev and the same stages run down the columns, whole rows at a time.
+ */
+export function fft2(re: usize, im: usize, n: i32, twr: usize, twi: usize, rev: usize): void {
+  for (let y = 0; y < n; y++) {
+    const r = re + (<usize>y * <usize>n << 3), m = im + (<usize>y * <usize>n << 3);
+    for (let i = 1; i < n; i++) {
+      const j = load<i32>(rev + (<usize>i << 2));
+      if (i < j) {
+        const pi = <usize>i << 3, pj = <usize>j << 3;
+        const a = load<f64>(r + pi); store<f64>(r + pi, load<f64>(r + pj)); store<f64>(r + pj, a);
+        const b = load<f64>(m + pi); store<f64>(m + pi, load<f64>(m + pj)); store<f64>(m + pj, b);
+      }
+    }
+    for (let len = 2; len <= n; len <<= 1) butterflies(r, m, n, len, twr, twi, false);
+  }
+  const rowBytes = <usize>n << 3;
+  for (let i = 1; i < n; i++) {
+    const j = load<i32>(rev + (<usize>i << 2));
+    if (i < j) {
+      const p = <usize>i * rowBytes, q = <usize>j * rowBytes;
+      for (let x: usize = 0; x < rowBytes; x += 16) {
+        const a = v128.load(re + p + x); v128.store(re + p + x, v128.load(re + q + x)); v128.store(re + q + x, a);
+        const b = v128.load(im + p + x); v128.store(im + p + x, v128.load(im + q + x)); v128.store(im + q + x, b);
+      }
+    }
+  }
+  for (let len = 2; len <= n; len <<= 1) butterflies(re, im, n, len, twr, twi, true);
 }

@@ -9,16 +9,17 @@ export interface OpticsKernelExports {
   fitFour(i0: number, i1: number, i2: number, i3: number, dark: number, flat: number, flatMean: number, clip: number, n: number, c: number,
     angle: number, amplitude: number, residual: number, bg: number, confidence: number, cos2: number, sin2: number, mask: number, sums: number, counts: number): void;
   plateCells(r: number, g: number, b: number, n: number, bits: number, full: number, levels: number, subs: number, clip: number, index: number, fresh: number, counts: number): number;
-  plateWrite(subs: number, n: number, index: number, readings: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
+  plateWrite(subs: number, n: number, index: number, readings: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number, sum: number): number;
   pairCells(ra: number, ga: number, ba: number, rb: number, gb: number, bb: number, n: number, bits: number, full: number, levelsA: number, levelsB: number,
     clip: number, table: number, shift: number, cache: number, hits: number, cellsB: number, fresh: number, counts: number): number;
   pairRehash(from: number, fromShift: number, to: number, toShift: number): void;
-  pairWrite(hits: number, n: number, table: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number): number;
+  pairWrite(hits: number, n: number, table: number, angle: number, retardance: number, confidence: number, cos2: number, sin2: number, mask: number, sum: number): number;
   lookupXyz(ch: number, sh: number, nRp: number, nL: number, nA: number, rows: number, comp: number, cC: number, sC: number, cpH: number, spH: number,
     ax: number, ay: number, wx: number, wy: number, wz: number, out: number): void;
   rankHigh(bits: number, mask: number, minOf: number, min: number, n: number, high: number, stats: number, atLeast: number): number;
   rankLow(bits: number, mask: number, minOf: number, min: number, n: number, slot: number, low: number, any: number, w0: number, w1: number, w2: number, w3: number): void;
   foldMod90(angle: number, cos2: number, sin2: number, only: number, n: number, c: number, slow: number): number;
+  fft2(re: number, im: number, n: number, twr: number, twi: number, rev: number): void;
   cellRows(C: number, es: number, nR: number, nRows: number, stride: number, coarse: number, nCp: number, boxes: number, nBoxes: number, nBp: number, boxEntries: number,
     labs: number, nCells: number, guesses: number, bounds: number, dists: number, rows: number): void;
   pairRead(C: number, D: number, es: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,

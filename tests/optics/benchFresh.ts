@@ -16,7 +16,7 @@ import { analyseAngleSeries, analysePlatePair, OPTICS_MAX_PIXELS } from '../../s
 import { readPlate, recycleAngleSeries, renderSampleImage, resolveTrain, turnedTrain, type SampleRetarder } from '../../src/optics/index.ts';
 
 /** What a child reports: the first reading in its process and the repeated one, seconds. */
-export interface FreshTimes { kind: BenchReading; firstS: number; againS: number; pixels: number; cells?: number }
+export interface FreshTimes { kind: BenchReading; firstS: number; againS: number; pixels: number; cells?: number; firstCpuS: number; againCpuS: number }
 export type BenchReading = 'plate' | 'pair' | 'series';
 
 /** The images of one reading, by the file names they are written under (BENCH_FILES). */
@@ -84,11 +84,12 @@ function readBenchImage(dir: string, name: string): Image {
 export async function timeReadings(dir: string, kind: BenchReading, repeats = 2): Promise<FreshTimes> {
   const images = BENCH_FILES[kind].map((f) => readBenchImage(dir, f));
   const pixels = images[0].width * images[0].height;
-  const times: number[] = [];
+  // Wall time, and the process's processor time (every thread's: on a shared machine the wall time also holds waits).
+  const times: number[] = [], cpu: number[] = [];
   let cells: number | undefined;
   let last: Awaited<ReturnType<typeof analyseAngleSeries>> | null = null;
   for (let r = 0; r < repeats; r++) {
-    const t0 = performance.now();
+    const t0 = performance.now(), c0 = process.cpuUsage();
     if (kind === 'plate') cells = readPlate(images[0], { camera: { gains: [1, 1, 1], exposure: 0.75 } }).cellsMatched;
     else if (kind === 'pair') await analysePlatePair(images[0], images[1], {});
     else {
@@ -98,8 +99,10 @@ export async function timeReadings(dir: string, kind: BenchReading, repeats = 2)
       last = await analyseAngleSeries(images, {});
     }
     times.push((performance.now() - t0) / 1000);
+    const c = process.cpuUsage(c0);
+    cpu.push((c.user + c.system) / 1e6);
   }
-  return { kind, firstS: times[0], againS: times[1] ?? NaN, pixels, cells };
+  return { kind, firstS: times[0], againS: times[1] ?? NaN, pixels, cells, firstCpuS: cpu[0], againCpuS: cpu[1] ?? NaN };
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {

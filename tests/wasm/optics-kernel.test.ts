@@ -138,7 +138,7 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
   it('gives each pixel its cell round((2^bits - 1) v) per sRGB-encoded channel, lists new cells once, and writes their readings', () => {
     const k = opticsKernel(), mem = new OpticsLayout(k), n = 6, bits = 3, nSub = 1 << (3 * bits);
     const r = mem.reserve(32), g = mem.reserve(32), b = mem.reserve(32), subs = mem.reserve(32), clip = mem.reserve(16), index = mem.reserve(4 * nSub);
-    const fresh = mem.reserve(32), counts = mem.reserve(8), readings = mem.reserve(64), out = [0, 1, 2, 3, 4].map(() => mem.reserve(32)), mask = mem.reserve(16);
+    const fresh = mem.reserve(32), counts = mem.reserve(8), readings = mem.reserve(64), out = [0, 1, 2, 3, 4].map(() => mem.reserve(32)), mask = mem.reserve(16), sum = mem.reserve(8);
     mem.commit();
     // Pixels: two of one colour, one other, one at full scale, one NaN, one negative.
     mem.f32(r, n).set([0.5, 0.5, 0.1, 0.9995, NaN, -0.1]); mem.f32(g, n).set([0.2, 0.2, 1 / 7, 0.2, 0.2, 0.2]); mem.f32(b, n).set([0.9, 0.9, 0, 0.2, 0.2, 0.2]);
@@ -153,8 +153,13 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
     expect(Array.from(mem.u8(clip, n))).toEqual([0, 0, 0, 1, 0, 0]);
     // Readings: entry 0 for cell A (angle 0.5, 300 nm, confidence 0.8, kept, cos and sin of 1), entry 1 for cell B (masked).
     const ix = mem.i32(index, nSub); ix[cellA] = 0; ix[cellB] = 1;
-    mem.f32(readings, 12).set([0.5, 300, 0.8, 0, 0.54, 0.84, -0.25, 10, 0.1, 1, 0.88, -0.48]);
-    expect(k.plateWrite(subs, n, index, readings, out[0], out[1], out[2], out[3], out[4], mask)).toBe(1);
+    mem.f32(readings, 14).set([0.5, 300, 0.8, 0, 0.54, 0.84, 0, -0.25, 10, 0.1, 1, 0.88, -0.48, 0]);
+    mem.f64(sum, 1)[0] = 2;
+    expect(k.plateWrite(subs, n, index, readings, out[0], out[1], out[2], out[3], out[4], mask, sum)).toBe(1);
+    // The pixels left usable counted in their entry (two of cell A, none of the masked cell B) and their confidence
+    // summed in float64 onto what the sum held: 2 + 0.8 + 0.8 with 0.8 as float32.
+    expect([mem.i32(readings, 14)[6], mem.i32(readings, 14)[13]]).toEqual([2, 0]);
+    expect(mem.f64(sum, 1)[0]).toBe(2 + Math.fround(0.8) + Math.fround(0.8));
     expect(Array.from(mem.f32(out[0], n))).toEqual([0.5, 0.5, -0.25, 0, 0, 0]);
     expect(Array.from(mem.f32(out[1], n))).toEqual([300, 300, 10, 0, 0, 0]);
     expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 0, 0, 0]);
@@ -169,6 +174,7 @@ describe('the optics kernel: the plate pair', () => {
     const k = opticsKernel(), mem = new OpticsLayout(k), n = 5, bits = 2;
     const planes = [0, 1, 2, 3, 4, 5].map(() => mem.reserve(32)), clip = mem.reserve(16), hits = mem.reserve(32), cellsB = mem.reserve(32), fresh = mem.reserve(32), counts = mem.reserve(4);
     const out = [0, 1, 2, 3, 4].map(() => mem.reserve(32)), mask = mem.reserve(16), small = mem.reserve(32 * 16), big = mem.reserve(32 * 32), cache = mem.reserve(12 * 4096);
+    const sum = mem.reserve(8);
     mem.commit();
     // Image A: pixels 0, 1, 3 one colour, pixel 2 another, pixel 4 at full scale; image B: one colour, pixel 3 another.
     const A = [[0, 0, 1, 0, 1], [0, 0, 0, 0, 0.2], [0, 0, 0, 0, 0.2]], Bi = [[0.9, 0.9, 0.9, 0, 0.5], [0.34, 0.34, 0.34, 0.34, 0.34], [0, 0, 0, 0, 0]];
@@ -195,9 +201,18 @@ describe('the optics kernel: the plate pair', () => {
     k.pairRehash(small, shift, big, shift - 1);
     mem.i32(cache, 3 * 4096).fill(-1);
     expect(k.pairCells(planes[0], planes[1], planes[2], planes[3], planes[4], planes[5], n, bits, 0.999, 0, 0, clip, big, shift - 1, cache, hits, cellsB, fresh, counts)).toBe(0);
-    expect(k.pairWrite(hits, n, big, out[0], out[1], out[2], out[3], out[4], mask)).toBe(1);
+    mem.f64(sum, 1)[0] = 0;
+    expect(k.pairWrite(hits, n, big, out[0], out[1], out[2], out[3], out[4], mask, sum)).toBe(1);
     expect(Array.from(mem.f32(out[1], n))).toEqual([100, 100, 200, 300, 0]);
     expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 1, 0]);
+    // Each entry's last int32: masked + 2 x its pixels left usable (pixels 0 and 1 share one entry, pixel 3 has its own,
+    // pixel 2's entry is masked); the usable pixels' confidence (0.5 each) summed: 1.5.
+    const moved = mem.i32(big, 8 * 32), flagsOf = (cellA: number, cellB: number) => {
+      for (let o = 0; o < moved.length; o += 8) if (moved[o] === cellA && moved[o + 1] === cellB) return moved[o + 7];
+      return NaN;
+    };
+    expect([flagsOf(0, 52), flagsOf(48, 52), flagsOf(0, 4)]).toEqual([4, 1, 2]);
+    expect(mem.f64(sum, 1)[0]).toBe(1.5);
   });
 
   it('finds on every row the retardance a scan of every 4th entry and then +-4 entries around the best finds (cellRows)', () => {
@@ -282,6 +297,88 @@ describe('the optics kernel: the lookup\'s spectral sums', () => {
       const want = [0, 1, 2].map((d) => lam.reduce((s, l, i) => s + w[d][i] * Math.sin((Math.PI * 550) / l) ** 2, 0));
       xyz(0, kk).forEach((v, d) => expect(v).toBeCloseTo(want[d], 12));
     });
+  });
+});
+
+/**
+ * A radix-2 decimation-in-time FFT written out (Cooley & Tukey 1965) as registration.ts ran it in TypeScript before the
+ * kernel took it over: twiddles per stage by the recurrence w_{k+1} = w_k w_1, bit-reversal permutation, butterflies; the
+ * 2-D transform as each row, then the rows permuted and the stages run down the columns. The kernel's fft2 must give
+ * these bits (the same float64 operations in the same order).
+ */
+function referenceFft2(re: Float64Array, im: Float64Array, n: number, inverse: boolean) {
+  const twr = new Float64Array(n), twi = new Float64Array(n), rev = new Int32Array(n);
+  for (let len = 2; len <= n; len <<= 1) {
+    const ang = ((inverse ? 2 : -2) * Math.PI) / len, wr = Math.cos(ang), wi = Math.sin(ang);
+    let cr = 1, ci = 0;
+    for (let k = 0; k < len / 2; k++) {
+      twr[len / 2 - 1 + k] = cr; twi[len / 2 - 1 + k] = ci;
+      const ncr = cr * wr - ci * wi; ci = cr * wi + ci * wr; cr = ncr;
+    }
+  }
+  for (let i = 1, j = 0; i < n; i++) {
+    let bit = n >> 1;
+    for (; j & bit; bit >>= 1) j ^= bit;
+    j ^= bit;
+    rev[i] = j;
+  }
+  const fly = (r: Float64Array, m: Float64Array, a: number, b: number, cr: number, ci: number) => {
+    const tr = r[b] * cr - m[b] * ci, ti = r[b] * ci + m[b] * cr;
+    r[b] = r[a] - tr; m[b] = m[a] - ti; r[a] += tr; m[a] += ti;
+  };
+  for (let y = 0; y < n; y++) {
+    const r = re.subarray(y * n, y * n + n), m = im.subarray(y * n, y * n + n);
+    for (let i = 1; i < n; i++) if (i < rev[i]) { const j = rev[i]; [r[i], r[j]] = [r[j], r[i]]; [m[i], m[j]] = [m[j], m[i]]; }
+    for (let len = 2; len <= n; len <<= 1) for (let i = 0; i < n; i += len) for (let k = 0; k < len / 2; k++) fly(r, m, i + k, i + k + len / 2, twr[len / 2 - 1 + k], twi[len / 2 - 1 + k]);
+  }
+  for (let i = 1; i < n; i++) if (i < rev[i]) for (let x = 0; x < n; x++) {
+    const p = i * n + x, q = rev[i] * n + x;
+    [re[p], re[q]] = [re[q], re[p]]; [im[p], im[q]] = [im[q], im[p]];
+  }
+  for (let len = 2; len <= n; len <<= 1) for (let i = 0; i < n; i += len) for (let k = 0; k < len / 2; k++) {
+    for (let x = 0; x < n; x++) fly(re, im, (i + k) * n + x, (i + k + len / 2) * n + x, twr[len / 2 - 1 + k], twi[len / 2 - 1 + k]);
+  }
+  return { twr, twi, rev };
+}
+
+/** The kernel's fft2 of (re, im), n x n, with the twiddles and permutation of referenceFft2. */
+function kernelFft2(re: Float64Array, im: Float64Array, n: number, inverse: boolean) {
+  const { twr, twi, rev } = referenceFft2(new Float64Array(n * n), new Float64Array(n * n), n, inverse);
+  const k = opticsKernel(), mem = new OpticsLayout(k);
+  const at = { re: mem.reserve(8 * n * n), im: mem.reserve(8 * n * n), twr: mem.reserve(8 * n), twi: mem.reserve(8 * n), rev: mem.reserve(4 * n) };
+  mem.commit();
+  mem.f64(at.re, n * n).set(re); mem.f64(at.im, n * n).set(im); mem.f64(at.twr, n).set(twr); mem.f64(at.twi, n).set(twi); mem.i32(at.rev, n).set(rev);
+  k.fft2(at.re, at.im, n, at.twr, at.twi, at.rev);
+  return { re: mem.f64(at.re, n * n).slice(), im: mem.f64(at.im, n * n).slice() };
+}
+
+describe('the optics kernel: the 2-D FFT of the registration check (fft2)', () => {
+  const data = (n: number, seed: number) => Float64Array.from({ length: n * n }, (_, i) => Math.sin(seed + 0.37 * i) * Math.cos(0.011 * i * i + seed));
+  it('is the 2-D discrete Fourier transform sum x[y, x] e^(-+2 pi i (u x + v y) / n) (unscaled), forward and inverse', () => {
+    const n = 16, re = data(n, 1), im = data(n, 2);
+    for (const inverse of [false, true]) {
+      const got = kernelFft2(re, im, n, inverse), s = inverse ? 1 : -1;
+      let worst = 0;
+      for (let v = 0; v < n; v++) for (let u = 0; u < n; u++) {
+        let xr = 0, xi = 0;
+        for (let y = 0; y < n; y++) for (let x = 0; x < n; x++) {
+          const a = (s * 2 * Math.PI * (u * x + v * y)) / n, c = Math.cos(a), si = Math.sin(a);
+          xr += re[y * n + x] * c - im[y * n + x] * si; xi += re[y * n + x] * si + im[y * n + x] * c;
+        }
+        worst = Math.max(worst, Math.abs(got.re[v * n + u] - xr), Math.abs(got.im[v * n + u] - xi));
+      }
+      // The values are of order 1 and sums of 256 terms: double rounding leaves errors near 1e-14.
+      expect(worst).toBeLessThan(1e-12);
+    }
+  });
+  it('gives the bits of the radix-2 transform written out in TypeScript (referenceFft2), for 16 to 512 points a side', () => {
+    for (const n of [16, 64, 512]) for (const inverse of [false, true]) {
+      const re = data(n, n), im = inverse ? data(n, 3) : new Float64Array(n * n);
+      const got = kernelFft2(re, im, n, inverse), want = { re: re.slice(), im: im.slice() };
+      referenceFft2(want.re, want.im, n, inverse);
+      expect(Buffer.from(got.re.buffer).equals(Buffer.from(want.re.buffer))).toBe(true);
+      expect(Buffer.from(got.im.buffer).equals(Buffer.from(want.im.buffer))).toBe(true);
+    }
   });
 });
 
