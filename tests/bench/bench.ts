@@ -22,7 +22,9 @@ import { join, resolve } from 'node:path';
 import { orientationField } from '../../src/orientation/index.ts';
 import { channelProfile, parseWalls } from '../../src/channel/index.ts';
 import { encodePng } from '../../src/report/png.ts';
-import { benchOptics, type GoalRow } from './benchOptics.ts';
+import { benchOptics } from './benchOptics.ts';
+import { appBench } from './app-bench.ts';
+import { printGoalTable, type GoalRow } from './goalTable.ts';
 
 const ROOT = resolve(import.meta.dirname, '../..');
 const CLI = join(ROOT, 'dist/retarda.mjs');
@@ -268,11 +270,12 @@ async function main() {
     largeTiffs(dir);
     await inProcess(dir, native);
     rows.push(...await benchOptics());
+    // The app in headless Chromium (tests/bench/app-bench.ts; RETARDA_BENCH_APP=0 leaves it out).
+    if (process.env.RETARDA_BENCH_APP !== '0') rows.push(...await appBench());
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
-  console.log('\nfigure                                              value                                   goal        met');
-  for (const r of rows) console.log(`  ${r.what.padEnd(50)} ${r.value.padEnd(39)} ${r.goal.padEnd(11)} ${r.met ? 'yes' : 'NO'}`);
+  printGoalTable(rows);
 }
 
 await main();
