@@ -110,6 +110,36 @@ describe.runIf(haveBrowser)('the bench tools in chromium', () => {
     await shot('20-camera-live');
   }, 120_000);
 
+  it('at full size a frame converts itself (VideoFrame.copyTo), to the bytes drawing it on a canvas gives', async () => {
+    // The worker reads a full-size frame with copyTo when its part lies on even pixels, else through a canvas
+    // (app/worker/analysis.worker.ts, framePixels): both must give the analysis the same RGBA bytes.
+    const diff = await page.evaluate(async () => {
+      const v = document.querySelector('video[aria-label="Live camera picture"]') as HTMLVideoElement;
+      const frame = new VideoFrame(v), w = frame.displayWidth, h = frame.displayHeight;
+      const counts: number[] = [];
+      for (const r of [{ x: 0, y: 0, width: w, height: h }, { x: 40, y: 22, width: w / 2, height: h / 2 }]) {
+        const c = new OffscreenCanvas(r.width, r.height), g = c.getContext('2d', { willReadFrequently: true })!;
+        g.drawImage(frame, r.x, r.y, r.width, r.height, 0, 0, r.width, r.height);
+        const drawn = g.getImageData(0, 0, r.width, r.height).data, copied = new Uint8Array(r.width * r.height * 4);
+        await frame.copyTo(copied, { format: 'RGBA', colorSpace: 'srgb', rect: r });
+        let n = 0;
+        for (let i = 0; i < copied.length; i++) if (copied[i] !== drawn[i]) n++;
+        counts.push(n);
+      }
+      frame.close();
+      return counts;
+    });
+    expect(diff).toEqual([0, 0]);
+    await page.getByLabel('Readout size').selectOption({ index: 0 });
+    await expect.poll(() => text('live-basis'), { timeout: 20_000 }).toMatch(/full size/);
+    const before = Number(await page.getByTestId('live-readout').getAttribute('data-readings'));
+    await expect.poll(async () => Number(await page.getByTestId('live-readout').getAttribute('data-readings')), { timeout: 20_000 }).toBeGreaterThan(before + 3);
+    const order = Number(await text('live-order'));
+    expect(order).toBeGreaterThanOrEqual(0);
+    expect(order).toBeLessThanOrEqual(1);
+    await page.getByLabel('Readout size').selectOption({ index: 1 });
+  }, 60_000);
+
   it('a rectangle drawn on the live picture is what the readout reads', async () => {
     await page.getByRole('button', { name: 'Read a rectangle' }).click();
     const box = (await page.getByLabel('Live picture overlay').boundingBox())!;
