@@ -244,7 +244,7 @@ function nativePipeline(dir: string, width: number, height: number, data: Float3
 }
 
 async function inProcess(dir: string, native: boolean): Promise<void> {
-  console.log('\ntexture pipeline in this process (field: tensor, coherency, strength, mask; then a 20-bin channel profile; best of 3)');
+  console.log('\ntexture pipeline in this process (field: tensor, coherency, strength, mask; then a 20-bin channel profile; best of 3;\n  native_pipeline.py\'s profile is the bins\' weighted means only, retarda\'s adds each bin\'s, the core\'s and the skin\'s interval)');
   for (const [w, h] of [[4000, 3000], [1280, 720], ...(process.env.RETARDA_BENCH_BIG ? [[10000, 10000]] : [])]) {
     const data = scene(w, h);
     const js = await jsPipeline(w, h, data);
