@@ -12,7 +12,7 @@ import { findWalls } from '../../src/channel/index.ts';
 import { fieldTiffBytes } from '../../src/report/index.ts';
 import { giveBack, isInputError, takeUint8 } from '../../src/common/index.ts';
 import { loadTensorKernel } from '../../src/wasm/index.ts';
-import { decodeImage, checkAnalysisPixels, ANALYSIS_MAX_PIXELS, type Image } from '../../src/image/index.ts';
+import { decodeImageAsync, checkAnalysisPixels, ANALYSIS_MAX_PIXELS, type Image } from '../../src/image/index.ts';
 import { recycleTextureField, type OrientationField, type TileHelper } from '../../src/orientation/index.ts';
 import { recycleAngleSeries } from '../../src/optics/index.ts';
 import { helperOverPort, serveTilesOn } from './tilePort.ts';
@@ -133,7 +133,7 @@ const retardanceRangeOf = (f: OrientationField) => (f.retardanceNm ? retardanceR
 const handlers: { [K in CommandName]: Handler<K> } = {
   async decode({ key, name, bytes, page }, progress) {
     progress('reading the file', 0.1);
-    const img = decodeImage(new Uint8Array(bytes), name, page ?? 0);
+    const img = await decodeImageAsync(new Uint8Array(bytes), name, page ?? 0);
     images.set(key, img);
     fields.delete(key);
     plateFields.delete(key);

@@ -1,7 +1,7 @@
 import { giveBack, InputError } from '../common/index.ts';
 import { detectFormat } from './format.ts';
 import { decodeJpeg } from './jpegDecode.ts';
-import { decodePng } from './pngDecode.ts';
+import { decodePng, inflatePng } from './pngDecode.ts';
 import { decodeTiffPages } from './tiffDecode.ts';
 import type { Image } from './types.ts';
 
@@ -77,4 +77,18 @@ function greyImage(img: Image): Image {
   for (let i = 0; i < r.length; i++) r[i] = 0.2126 * r[i] + 0.7152 * g[i] + 0.0722 * b[i];
   giveBack(g, b);
   return { ...img, channels: 1, planes: [r] };
+}
+
+/**
+ * decodeImage, with a PNG's image data inflated first by the platform's Compression Streams where it has them
+ * (inflatePng: about four times quicker than the JavaScript inflater in a browser), for callers that can wait
+ * (the app's worker). The same image, the same bits and the same refusals as decodeImage.
+ */
+export async function decodeImageAsync(bytes: Uint8Array, name: string, page = 0, maxBytes?: number, options: { grey?: boolean } = {}): Promise<Image> {
+  checkBytes(bytes, name);
+  if (page === 0 && detectFormat(bytes, name) === 'png') {
+    const inflated = await inflatePng(bytes, name, maxBytes, options.grey ?? false);
+    if (inflated) return decodePng(bytes, name, maxBytes, options.grey ?? false, inflated);
+  }
+  return decodeImage(bytes, name, page, maxBytes, options);
 }

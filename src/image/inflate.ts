@@ -204,3 +204,45 @@ function inflateWhole(codecs: PlatformCodecs, source: ZlibSource, maxBytes: numb
   onData(output);
   return output.length;
 }
+
+/**
+ * A zlib stream inflated by the platform's Compression Streams (DecompressionStream 'deflate': the zlib format
+ * of RFC 1950, whose Adler-32 it checks; data missing or left over after the stream's end are errors), where
+ * the platform has them, about four times quicker than fflate in a browser. Gives the output when it is exactly
+ * `bytes` long, else null: no Compression Streams here, damaged data, or another length, for the synchronous
+ * inflater (inflateZlib) to read and, when it is damaged, to say how. Reading stops once the output passes `bytes`.
+ */
+export async function inflateByStreams(source: ZlibSource, bytes: number): Promise<Uint8Array | null> {
+  if (typeof DecompressionStream !== 'function') return null;
+  const out = new Uint8Array(bytes);
+  let at = 0;
+  try {
+    const input = new ReadableStream<BufferSource>({
+      start(c) {
+        for (const p of source.pieces()) c.enqueue(p as Uint8Array<ArrayBuffer>);
+        c.close();
+      },
+    });
+    const reader = input.pipeThrough(new DecompressionStream('deflate')).getReader();
+    for (;;) {
+      const { done, value } = await reader.read();
+      if (done) break;
+      if (at + value.length > bytes) {
+        await reader.cancel();
+        return null;
+      }
+      out.set(value, at);
+      at += value.length;
+    }
+  } catch {
+    return null;
+  }
+  if (at !== bytes) return null;
+  // Data after the stream's end: the stream's own Adler-32 (checked by the platform) is then not the source's
+  // last four bytes. (Node.js's streams ignore such data, where inflateZlib refuses it.)
+  const adler = new Adler32();
+  adler.update(out);
+  let stored = 0; // the source's last four bytes, big-endian
+  for (const p of source.pieces()) for (let i = Math.max(0, p.length - 4); i < p.length; i++) stored = ((stored << 8) | p[i]) >>> 0;
+  return source.total >= 6 && stored === adler.value() ? out : null;
+}

@@ -1,6 +1,6 @@
 import { takeFloat32 } from '../common/index.ts';
 import { checkDecodeBytes, checkDecodedSize, corrupt, sizeWords } from './checks.ts';
-import { inflateZlib, platformCodecs, ZlibProblem } from './inflate.ts';
+import { inflateByStreams, inflateZlib, platformCodecs, ZlibProblem, type ZlibSource } from './inflate.ts';
 import { pngPixelSizeUm } from './pixelSize.ts';
 import { unitTable } from './samples.ts';
 import { makeImage, MAX_DECODE_BYTES, type Image } from './types.ts';
@@ -201,6 +201,51 @@ function unfilter(type: number, row: Uint8Array, prev: Uint8Array, bpp: number):
   }
 }
 
+/** The non-empty passes of an image in stream order (first column and row, steps, size, row bytes) and its filtered bytes. */
+function passPlan(header: PngHeader) {
+  const { width, height, bitDepth, colourType } = header;
+  const bitsPerPixel = COLOUR_TYPES[colourType].samples * bitDepth;
+  const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];
+  const plan = passes.map(([x0, y0, dx, dy]) => {
+    const w = Math.ceil((width - x0) / dx);
+    const h = Math.ceil((height - y0) / dy);
+    return { x0, y0, dx, dy, w, h, bytes: w > 0 && h > 0 ? rowBytes(w, bitsPerPixel) : 0 };
+  }).filter((p) => p.w > 0 && p.h > 0);
+  return { plan, expectedBytes: plan.reduce((n, p) => n + p.h * (p.bytes + 1), 0) };
+}
+
+/** The image data (IDAT chunks) as one zlib stream in pieces. */
+function idatSource(bytes: Uint8Array, chunks: PngChunks, name: string): ZlibSource {
+  if (chunks.idatCount === 0) throw corrupt(name, FORMAT, 'it has no image data (IDAT chunk)');
+  return {
+    total: idatBytes(chunks),
+    *pieces() {
+      for (let k = 0; k < chunks.idatCount; k++) {
+        const at = chunks.idat[2 * k];
+        yield bytes.subarray(at, at + chunks.idat[2 * k + 1]);
+      }
+    },
+  };
+}
+
+/**
+ * A PNG's image data inflated by the platform's Compression Streams (inflateByStreams), for decodePng, where
+ * they exist and the file's chunks and sizes pass decodePng's checks; else null (decodePng then inflates it
+ * and refuses whatever is wrong, in its own words).
+ */
+export async function inflatePng(bytes: Uint8Array, name: string, maxBytes?: number, grey = false): Promise<Uint8Array | null> {
+  try {
+    const header = readPngHeader(bytes, name);
+    const colour = header.colourType === 3 || COLOUR_TYPES[header.colourType].samples >= 3;
+    const planeBytes = header.width * header.height * (colour && !grey ? 3 : 1) * 4;
+    const { expectedBytes } = passPlan(header);
+    if (planeBytes + expectedBytes > (maxBytes ?? MAX_DECODE_BYTES)) return null;
+    return await inflateByStreams(idatSource(bytes, readChunks(bytes, name), name), expectedBytes);
+  } catch {
+    return null;
+  }
+}
+
 /**
  * Decodes a PNG: grey (1/2/4/8/16 bits), grey + alpha, RGB, RGBA (8/16 bits) and palette (1/2/4/8-bit
  * indices; tRNS is read past), interlaced or not. Alpha is dropped; a sample of bit depth d becomes
@@ -211,10 +256,11 @@ function unfilter(type: number, row: Uint8Array, prev: Uint8Array, bpp: number):
  *   pixel and channel, must fit
  * @param grey give a colour image as one plane of Rec. 709 luma, bit for bit what toGrey makes of its planes
  *   (for analyses that read grey only: a third of the memory and no second pass)
+ * @param inflated the image data already inflated (inflatePng), used when it has the length the header implies
  * @throws InputError for a damaged or cut-short file (bad CRC or Adler-32, broken chunks, wrong
  *   amount of image data, a palette index outside PLTE) and for sizes over the limit
  */
-export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, grey = false): Image {
+export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, grey = false, inflated?: Uint8Array | null): Image {
   const header = readPngHeader(bytes, name);
   const { width, height, bitDepth, colourType } = header;
   const kind = COLOUR_TYPES[colourType];
@@ -233,30 +279,13 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
     }
     palette = bytes.subarray(plte.at, plte.at + plte.length);
   }
-  if (chunks.idatCount === 0) throw corrupt(name, FORMAT, 'it has no image data (IDAT chunk)');
-  const idat = {
-    total: idatBytes(chunks),
-    *pieces() {
-      for (let k = 0; k < chunks.idatCount; k++) {
-        const at = chunks.idat[2 * k];
-        yield bytes.subarray(at, at + chunks.idat[2 * k + 1]);
-      }
-    },
-  };
+  const idat = idatSource(bytes, chunks, name);
 
   // Every sample is written before the image is returned (all rows, or all seven Adam7 passes; a file that
   // stops short is refused), so a reused array need not be cleared first.
   const planes = Array.from({ length: channels }, () => takeFloat32(width * height, false));
-  const bitsPerPixel = kind.samples * bitDepth;
-  const bpp = Math.max(1, bitsPerPixel >> 3);
-  const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];
-  // The non-empty passes in stream order: first column and row, steps, size and row bytes.
-  const plan = passes.map(([x0, y0, dx, dy]) => {
-    const w = Math.ceil((width - x0) / dx);
-    const h = Math.ceil((height - y0) / dy);
-    return { x0, y0, dx, dy, w, h, bytes: w > 0 && h > 0 ? rowBytes(w, bitsPerPixel) : 0 };
-  }).filter((p) => p.w > 0 && p.h > 0);
-  const expectedBytes = plan.reduce((n, p) => n + p.h * (p.bytes + 1), 0);
+  const bpp = Math.max(1, (kind.samples * bitDepth) >> 3);
+  const { plan, expectedBytes } = passPlan(header);
   const writeRow = rowWriter(planes, width, bitDepth, kind.samples, palette, name, colour && grey);
 
   const maxRow = Math.max(...plan.map((p) => p.bytes));
@@ -323,7 +352,11 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
     ? new KernelRows(k, planes, width, height, plan[0].bytes, bitDepth, kind.samples, !colour ? 0 : grey ? 1 : 2, name) : null;
   let produced: number;
   try {
-    produced = inflateZlib(idat, expectedBytes, byKernel ? (piece) => byKernel.push(piece) : whole && platformCodecs() ? takeAll : take, whole);
+    const onData = byKernel ? (piece: Uint8Array) => byKernel.push(piece) : (whole && platformCodecs()) || inflated ? takeAll : take;
+    if (inflated && whole && inflated.length === expectedBytes) {
+      onData(inflated);
+      produced = inflated.length;
+    } else produced = inflateZlib(idat, expectedBytes, onData, whole);
   } catch (e) {
     if (e instanceof ZlibProblem) throw corrupt(name, FORMAT, `in its image data ${e.why}`);
     throw e;

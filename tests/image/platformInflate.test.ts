@@ -5,7 +5,8 @@ import { deflateSync } from 'node:zlib';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { loadedTensorKernel, loadTensorKernel } from '../../src/wasm/index.ts';
 import { isInputError } from '../../src/common/errors.ts';
-import { decodeImagePages, usePlatformCodecs, type Image } from '../../src/image/index.ts';
+import { decodeImage, decodeImageAsync, decodeImagePages, usePlatformCodecs, type Image } from '../../src/image/index.ts';
+import { inflatePng } from '../../src/image/pngDecode.ts';
 import { inflateZlib, oneZlibPiece, ZlibProblem } from '../../src/image/inflate.ts';
 import { NODE_CODECS } from '../../src/cli/platform.ts';
 import { makeCorpus } from '../corpus/makeCorpus.ts';
@@ -81,6 +82,52 @@ describe.each([['without', false], ['with', true]])('node:zlib (%s the tensor ke
           expect('refused' in a, c.file).toBe('refused' in b);
         }
       }
+    }, 120_000);
+  });
+});
+
+describe('the app\'s reader: image data inflated by Compression Streams (decodeImageAsync)', () => {
+  const manifest: { file: string }[] = JSON.parse(readFileSync(VARIANTS + 'manifest.json', 'utf8')).readable;
+  const asyncOutcome = async (bytes: Uint8Array, name: string): Promise<Outcome> => {
+    try {
+      return { planes: [(await decodeImageAsync(bytes, name)).planes] };
+    } catch (e) {
+      if (isInputError(e)) return { refused: (e as Error).message };
+      throw e;
+    }
+  };
+  const syncOutcome = (bytes: Uint8Array, name: string): Outcome => {
+    try {
+      return { planes: [decodeImage(bytes, name).planes] };
+    } catch (e) {
+      if (isInputError(e)) return { refused: (e as Error).message };
+      throw e;
+    }
+  };
+
+  it('inflates a PNG\'s data by the platform\'s streams (Node.js has them too)', async () => {
+    const file = manifest.map((v) => v.file).find((f) => /\.png$/i.test(f))!;
+    const bytes = new Uint8Array(readFileSync(VARIANTS + file));
+    expect(await inflatePng(bytes, file)).toBeInstanceOf(Uint8Array);
+  });
+
+  describe('the hostile corpus', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'retarda-streams-'));
+    afterAll(() => rmSync(dir, { recursive: true, force: true }));
+    const cases = makeCorpus(dir).filter((c) => /\.png$/i.test(c.file));
+
+    it(`refuses what decodeImage refuses, in the same words, and reads the rest to the same bits (${cases.length} PNG files)`, async () => {
+      expect(cases.filter((c) => c.expect === 'refuse').length).toBeGreaterThan(20);
+      let fast = 0;
+      for (const c of cases) {
+        const bytes = new Uint8Array(readFileSync(join(dir, c.file)));
+        if (await inflatePng(bytes, c.file)) fast++;
+        const a = syncOutcome(bytes, c.file), b = await asyncOutcome(bytes, c.file);
+        if ('refused' in a) expect('refused' in b && b.refused, `${c.file} (${c.why})`).toBe(a.refused);
+        else expect('planes' in b && sameBits(a.planes, b.planes), `${c.file} (${c.why}) read alike`).toBe(true);
+      }
+      // The streams read the sound files (some corpus files are sound: 'read' cases).
+      expect(fast).toBeGreaterThan(0);
     }, 120_000);
   });
 });

@@ -2,7 +2,7 @@ import { crc32, deflateSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { isInputError } from '../../src/common/errors.ts';
 import { decodePng } from '../../src/image/pngDecode.ts';
-import { toGrey, usePlatformCodecs } from '../../src/image/index.ts';
+import { decodeImage, decodeImageAsync, toGrey, usePlatformCodecs } from '../../src/image/index.ts';
 import { NODE_CODECS } from '../../src/cli/platform.ts';
 import { loadedTensorKernel, loadTensorKernel } from '../../src/wasm/index.ts';
 
@@ -32,9 +32,10 @@ const paeth = (a: number, b: number, c: number) => {
 
 /**
  * A PNG of `samples` bytes (row-major, 8 or 16 bits per sample, big-endian) with row y filtered by filters[y],
- * each filter applied as ISO 15948 section 9.2 defines it (the filtered byte is the sample minus its predictor).
+ * each filter applied as ISO 15948 section 9.2 defines it (the filtered byte is the sample minus its predictor);
+ * `after`: bytes put in IDAT after the zlib stream (a damaged file).
  */
-function pngOf(width: number, height: number, depth: 8 | 16, colourType: number, perPixel: number, bytes: Uint8Array, filters: number[]): Uint8Array {
+function pngOf(width: number, height: number, depth: 8 | 16, colourType: number, perPixel: number, bytes: Uint8Array, filters: number[], after = new Uint8Array(0)): Uint8Array {
   const rowBytes = (width * perPixel * depth) / 8, bpp = (perPixel * depth) / 8;
   const raw = new Uint8Array(height * (rowBytes + 1));
   for (let y = 0; y < height; y++) {
@@ -51,7 +52,7 @@ function pngOf(width: number, height: number, depth: 8 | 16, colourType: number,
   v.setUint32(0, width);
   v.setUint32(4, height);
   ihdr.set([depth, colourType, 0, 0, 0], 8);
-  const parts = [Uint8Array.of(137, 80, 78, 71, 13, 10, 26, 10), chunk('IHDR', ihdr), chunk('IDAT', new Uint8Array(deflateSync(raw))), chunk('IEND', new Uint8Array(0))];
+  const parts = [Uint8Array.of(137, 80, 78, 71, 13, 10, 26, 10), chunk('IHDR', ihdr), chunk('IDAT', Uint8Array.from([...deflateSync(raw), ...after])), chunk('IEND', new Uint8Array(0))];
   return Uint8Array.from(parts.flatMap((p) => [...p]));
 }
 
@@ -136,5 +137,15 @@ describe('PNG rows unfiltered and converted in the tensor kernel', () => {
     });
     expect(messages[0]).toMatch(/row 300 names filter type 5/);
     expect(messages[1]).toBe(messages[0]);
+  });
+
+  it('the app\'s reader (Compression Streams first) refuses image data that goes on after its zlib stream, as decodeImage does', async () => {
+    const width = 64, height = 16, bytes = bytesOf(width * height, 9), filters = Array.from({ length: height }, () => 1);
+    const good = pngOf(width, height, 8, 0, 1, bytes, filters), bad = pngOf(width, height, 8, 0, 1, bytes, filters, Uint8Array.of(1, 2, 3));
+    expect(sameBits((await decodeImageAsync(good, 'good.png')).planes[0], decodePng(good, 'good.png').planes[0])).toBe(true);
+    const why = (run: () => unknown) => { try { run(); return 'read'; } catch (e) { return (e as Error).message; } };
+    const sync = why(() => decodeImage(bad, 'bad.png'));
+    expect(sync).toMatch(/after the end|image data/);
+    await expect(decodeImageAsync(bad, 'bad.png')).rejects.toThrow(sync);
   });
 });
