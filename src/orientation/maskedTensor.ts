@@ -50,12 +50,9 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
   let ramp = 0;
   for (let k = -rd; k <= rd; k++) ramp += dw[k + rd] * k;
   ramp *= sw.reduce((a, b) => a + b, 0);
-  // Gradients are needed at every certain pixel within the window of a listed pixel; computed once each.
-  const gx = new Map<number, number>(), gy = new Map<number, number>();
+  // Gradients are needed at every certain pixel within the window of a listed pixel: computed once each, into
+  // arrays laid out by the rows' runs of such pixels (neededRuns), so the windows read them without a lookup.
   const gradientAt = (x: number, y: number): [number, number] => {
-    const i = y * w + x;
-    const cached = gx.get(i);
-    if (cached !== undefined) return [cached, gy.get(i)!];
     let sx = 0, sy = 0, whole = true;
     for (let j = -rd; j <= rd && whole; j++) {
       const row = refl(y + j, h) * w;
@@ -70,33 +67,31 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
           sy += v * sw[k + rd] * dw[j + rd];
         }
       }
-    } else {
-      // Normalised differential convolution (Knutsson & Westin 1993; Westin 1994, thesis ch. 4): the
-      // plane a + b.(q - p) fitted to the certain intensities only, weighted by the filter's smoothing
-      // window; its slope b scaled by the filter's ramp response gives what the filter would read if the
-      // material went on past the wall. For a window of certain pixels the two agree.
-      let m0 = 0, mx = 0, my = 0, mxx = 0, mxy = 0, myy = 0, v0 = 0, vx = 0, vy = 0;
-      for (let j = -rd; j <= rd; j++) {
-        const yy = y + j;
-        if (yy < 0 || yy >= h) continue;
-        for (let k = -rd; k <= rd; k++) {
-          const xx = x + k;
-          if (xx < 0 || xx >= w || !certainty[yy * w + xx]) continue;
-          const a = sw[j + rd] * sw[k + rd], v = I[yy * w + xx];
-          m0 += a; mx += a * k; my += a * j; mxx += a * k * k; mxy += a * k * j; myy += a * j * j;
-          v0 += a * v; vx += a * k * v; vy += a * j * v;
-        }
-      }
-      // Solve [m0 mx my; mx mxx mxy; my mxy myy] [c bx by]^T = [v0 vx vy]^T (Cramer's rule).
-      const det = m0 * (mxx * myy - mxy * mxy) - mx * (mx * myy - mxy * my) + my * (mx * mxy - mxx * my);
-      // A window whose certain pixels (nearly) lie on one line does not determine a plane: no gradient.
-      if (!(det > 1e-6 * m0 * m0 * m0)) { gx.set(i, NaN); gy.set(i, NaN); return [NaN, NaN]; }
-      const bx = (m0 * (vx * myy - mxy * vy) - v0 * (mx * myy - mxy * my) + my * (mx * vy - vx * my)) / det;
-      const by = (m0 * (mxx * vy - vx * mxy) - mx * (mx * vy - vx * my) + v0 * (mx * mxy - mxx * my)) / det;
-      sx = ramp * bx; sy = ramp * by;
+      return [sx, sy];
     }
-    gx.set(i, sx); gy.set(i, sy);
-    return [sx, sy];
+    // Normalised differential convolution (Knutsson & Westin 1993; Westin 1994, thesis ch. 4): the
+    // plane a + b.(q - p) fitted to the certain intensities only, weighted by the filter's smoothing
+    // window; its slope b scaled by the filter's ramp response gives what the filter would read if the
+    // material went on past the wall. For a window of certain pixels the two agree.
+    let m0 = 0, mx = 0, my = 0, mxx = 0, mxy = 0, myy = 0, v0 = 0, vx = 0, vy = 0;
+    for (let j = -rd; j <= rd; j++) {
+      const yy = y + j;
+      if (yy < 0 || yy >= h) continue;
+      for (let k = -rd; k <= rd; k++) {
+        const xx = x + k;
+        if (xx < 0 || xx >= w || !certainty[yy * w + xx]) continue;
+        const a = sw[j + rd] * sw[k + rd], v = I[yy * w + xx];
+        m0 += a; mx += a * k; my += a * j; mxx += a * k * k; mxy += a * k * j; myy += a * j * j;
+        v0 += a * v; vx += a * k * v; vy += a * j * v;
+      }
+    }
+    // Solve [m0 mx my; mx mxx mxy; my mxy myy] [c bx by]^T = [v0 vx vy]^T (Cramer's rule).
+    const det = m0 * (mxx * myy - mxy * mxy) - mx * (mx * myy - mxy * my) + my * (mx * mxy - mxx * my);
+    // A window whose certain pixels (nearly) lie on one line does not determine a plane: no gradient.
+    if (!(det > 1e-6 * m0 * m0 * m0)) return [NaN, NaN];
+    const bx = (m0 * (vx * myy - mxy * vy) - v0 * (mx * myy - mxy * my) + my * (mx * vy - vx * my)) / det;
+    const by = (m0 * (mxx * vy - vx * mxy) - mx * (mx * vy - vx * my) + v0 * (mx * mxy - mxx * my)) / det;
+    return [ramp * bx, ramp * by];
   };
   const n = w * h;
   // The new values of the listed pixels only (a whole copy of the field would double what a large image holds).
@@ -115,6 +110,18 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
   }
   const mo = resolveMaskOptions(field.options as object);
   const floor = field.strength ? mo.strengthFloor * quantile(field.strength, 0.99) : 0;
+  const runs = neededRuns(out.pixels, w, h, ri);
+  const gxs = new Float64Array(runs.slots), gys = new Float64Array(runs.slots);
+  for (let y = 0; y < h; y++) {
+    const r = runs.byRow[y];
+    for (let q = 0; q < r.length; q += 3) {
+      for (let x = r[q]; x <= r[q + 1]; x++) {
+        if (!certainty[y * w + x]) continue;
+        const [ax, ay] = gradientAt(x, y);
+        gxs[r[q + 2] + x - r[q]] = ax; gys[r[q + 2] + x - r[q]] = ay;
+      }
+    }
+  }
   for (let m = 0; m < m0; m++) {
     const p = out.pixels[m];
     if (p < 0) continue;
@@ -123,11 +130,13 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
     for (let j = -ri; j <= ri; j++) {
       const y = py + j;
       if (y < 0 || y >= h) continue;
+      // The run of row y holding this window's columns: its gradients from slot `base` + x.
+      const base = runs.slotBase(y, Math.max(0, px - ri));
       for (let k = -ri; k <= ri; k++) {
         const x = px + k;
         if (x < 0 || x >= w || !certainty[y * w + x]) continue;
         const g = G[j + ri] * G[k + ri];
-        const [ax, ay] = gradientAt(x, y);
+        const ax = gxs[base + x], ay = gys[base + x];
         if (ax !== ax) continue;
         jxx += g * ax * ax; jxy += g * ax * ay; jyy += g * ay * ay; cw += g;
       }
@@ -146,6 +155,45 @@ export function recomputeWithCertainty(plane: Plane, field: OrientationField, ce
     out.mask[m] = strength > floor && out.confidence[m] >= mo.coherencyMin ? 1 : 0;
   }
   return out;
+}
+
+/**
+ * The pixels within `r` columns and rows of the listed ones (-1: none), row by row as runs of columns: byRow[y]
+ * holds [first, last, slot] triples in column order, slot being where the run's first pixel goes in arrays of
+ * `slots` entries; slotBase(y, x) is the slot of row y's pixel 0 in the run holding column x (which must be in one).
+ */
+function neededRuns(pixels: Int32Array, w: number, h: number, r: number): { byRow: Int32Array[]; slots: number; slotBase(y: number, x: number): number } {
+  const columns: number[][] = Array.from({ length: h }, () => []);
+  for (const p of pixels) if (p >= 0) columns[Math.floor(p / w)].push(p % w);
+  // Each listed row's columns widened by r and merged, then each row's runs from the listed rows within r of it.
+  const merge = (spans: number[][]): number[][] => {
+    spans.sort((a, b) => a[0] - b[0]);
+    const out: number[][] = [];
+    for (const s of spans) {
+      const last = out[out.length - 1];
+      if (last && s[0] <= last[1] + 1) last[1] = Math.max(last[1], s[1]);
+      else out.push([s[0], s[1]]);
+    }
+    return out;
+  };
+  const listed = columns.map((xs) => merge(xs.map((x) => [Math.max(0, x - r), Math.min(w - 1, x + r)])));
+  const byRow: Int32Array[] = [];
+  let slots = 0;
+  for (let y = 0; y < h; y++) {
+    const spans: number[][] = [];
+    for (let t = Math.max(0, y - r); t <= Math.min(h - 1, y + r); t++) for (const s of listed[t]) spans.push([s[0], s[1]]);
+    const row = merge(spans), flat = new Int32Array(3 * row.length);
+    row.forEach(([a, b], q) => { flat.set([a, b, slots], 3 * q); slots += b - a + 1; });
+    byRow.push(flat);
+  }
+  return {
+    byRow, slots,
+    slotBase(y, x) {
+      const row = byRow[y];
+      for (let q = 0; q < row.length; q += 3) if (x >= row[q] && x <= row[q + 1]) return row[q + 2] - row[q];
+      throw new Error(`column ${x} of row ${y} is not in a run`);
+    },
+  };
 }
 
 /** New values for some pixels of a field (pixel index -1: none), as recomputeWithCertainty gives them. */
