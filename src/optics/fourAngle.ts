@@ -223,9 +223,9 @@ function intensityOfBlock(s: IntensityStage, img: Image, i0: number, len: number
 /**
  * Linear intensity of pixels [i0, i0 + out.length) of an image into `out`: luminance of linear RGB (Rec. 709
  * weights), or the grey channel, decoded when sRGB (in the optics kernel, float32 arithmetic). With `clipped`,
- * marks pixels with a plane at full scale.
+ * marks pixels with a plane at full scale; with `clippedAsOne` instead, sets their intensity to 1.
  */
-export function linearIntensityInto(img: Image, i0: number, out: Float32Array, clipped: Uint8Array | null): void {
+export function linearIntensityInto(img: Image, i0: number, out: Float32Array, clipped: Uint8Array | null, clippedAsOne = false): void {
   const mem = new OpticsLayout(opticsKernel()), stage = intensityStage(mem);
   const at = mem.reserve(4 * KERNEL_BLOCK_PX), clipAt = mem.reserve(KERNEL_BLOCK_PX);
   mem.commit();
@@ -233,9 +233,10 @@ export function linearIntensityInto(img: Image, i0: number, out: Float32Array, c
   for (let s = 0; s < out.length; s += KERNEL_BLOCK_PX) {
     const len = Math.min(KERNEL_BLOCK_PX, out.length - s);
     clip.fill(0);
-    const any = intensityOfBlock(stage, img, i0 + s, len, at, clipped ? clipAt : 0);
+    const any = intensityOfBlock(stage, img, i0 + s, len, at, clipped || clippedAsOne ? clipAt : 0);
+    if (any && clippedAsOne) for (let t = 0; t < len; t++) { if (clip[t]) view[t] = 1; }
     out.set(len === KERNEL_BLOCK_PX ? view : view.subarray(0, len), s);
-    if (any) for (let t = 0; t < len; t++) if (clip[t]) clipped![i0 + s + t] = 1;
+    if (any && !clippedAsOne) for (let t = 0; t < len; t++) if (clip[t]) clipped![i0 + s + t] = 1;
   }
 }
 
@@ -256,9 +257,8 @@ function linearIntensity(img: Image): Float32Array {
  */
 export function seriesIntensityImage(img: Image, markClipped = true): Image {
   if (img.channels === 1 && img.encoding === 'linear') return img;
-  const n = img.width * img.height, plane = takeFloat32(n, false), clipped = markClipped ? new Uint8Array(n) : null;
-  linearIntensityInto(img, 0, plane, clipped);
-  if (clipped) for (let i = 0; i < n; i++) if (clipped[i]) plane[i] = 1;
+  const plane = takeFloat32(img.width * img.height, false);
+  linearIntensityInto(img, 0, plane, null, markClipped);
   return makeImage({ ...img, channels: 1, planes: [plane], bitDepth: 32, encoding: 'linear' });
 }
 

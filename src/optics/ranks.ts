@@ -177,14 +177,16 @@ export function valuesOfRanksOfCounted(values: Float32Array, counts: Int32Array,
     while (below + high[b] <= r) below += high[b++];
     return { bucket: b, rank: r - below };
   });
-  const slot = new Map([...new Set(buckets.map((b) => b.bucket))].map((b, k) => [b, k * HALF]));
-  const low = new Float64Array(slot.size * HALF);
+  // The wanted buckets' low-half counts side by side; slot: a bucket's offset among them, -1 if not wanted.
+  const wanted = [...new Set(buckets.map((b) => b.bucket))], slot = new Int32Array(HALF).fill(-1);
+  wanted.forEach((b, k) => { slot[b] = k * HALF; });
+  const low = new Float64Array(wanted.length * HALF);
   for (let j = 0; j < m; j++) {
-    const key = keyOf(bits[j]), o = slot.get(key >>> 16);
-    if (o !== undefined && picked(j)) low[o + (key & 0xffff)] += counts[j];
+    const key = keyOf(bits[j]), o = slot[key >>> 16];
+    if (o >= 0 && picked(j)) low[o + (key & 0xffff)] += counts[j];
   }
   return buckets.map(({ bucket, rank }) => {
-    const o = slot.get(bucket)!;
+    const o = slot[bucket];
     let b = 0, below = 0;
     while (below + low[o + b] <= rank) below += low[o + b++];
     return valueOfKey(((bucket << 16) | b) >>> 0);
