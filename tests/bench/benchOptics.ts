@@ -1,4 +1,5 @@
 import { spawnSync } from 'node:child_process';
+import { build } from 'esbuild';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
@@ -15,9 +16,23 @@ const PROCESSES = 2;
 
 const ROOT = resolve(import.meta.dirname, '../..');
 
-/** One fresh process reading `kind` from the images in `dir` (tests/optics/benchFresh.ts): its first and repeated reading. */
-function freshProcess(dir: string, kind: BenchReading): FreshTimes {
-  const r = spawnSync(process.execPath, [join(ROOT, 'bin/run-ts.mjs'), join(ROOT, 'tests/optics/benchFresh.ts'), dir, kind], { encoding: 'utf8', maxBuffer: 1 << 24 });
+/**
+ * tests/optics/benchFresh.ts's readings bundled into one JavaScript file, as bin/build-cli.mjs bundles the command (the
+ * code a user's `retarda` runs: run through tsx, module by module, the same readings took up to a tenth longer).
+ */
+async function bundleChild(outfile: string): Promise<void> {
+  await build({
+    stdin: {
+      contents: "import { timeReadings } from './tests/optics/benchFresh.ts';\nconst [dir, kind] = process.argv.slice(2);\nconsole.log(JSON.stringify(await timeReadings(dir, kind)));\n",
+      resolveDir: ROOT, sourcefile: 'bench-optics-entry.ts', loader: 'ts',
+    },
+    outfile, bundle: true, platform: 'node', format: 'esm', target: 'node20', logLevel: 'warning',
+  });
+}
+
+/** One fresh process (the bundle `child`) reading `kind` from the images in `dir`: its first and repeated reading. */
+function freshProcess(child: string, dir: string, kind: BenchReading): FreshTimes {
+  const r = spawnSync(process.execPath, [child, dir, kind], { encoding: 'utf8', maxBuffer: 1 << 24 });
   if (r.status !== 0) throw new Error(`benchFresh.ts ${kind} exited ${r.status}: ${r.stderr}`);
   return JSON.parse(r.stdout.trim().split('\n').pop()!) as FreshTimes;
 }
@@ -32,8 +47,10 @@ export async function benchOptics(): Promise<GoalRow[]> {
   const dir = mkdtempSync(join(tmpdir(), 'retarda-bench-optics-'));
   const runs: Record<BenchReading, FreshTimes[]> = { plate: [], pair: [], series: [] };
   try {
+    const child = join(dir, 'bench-optics.mjs');
+    await bundleChild(child);
     writeBenchImages(dir);
-    for (let p = 0; p < PROCESSES; p++) for (const kind of ['plate', 'pair', 'series'] as const) runs[kind].push(freshProcess(dir, kind));
+    for (let p = 0; p < PROCESSES; p++) for (const kind of ['plate', 'pair', 'series'] as const) runs[kind].push(freshProcess(child, dir, kind));
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }

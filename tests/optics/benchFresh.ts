@@ -4,7 +4,8 @@
  * kept). The images are written once as raw 8-bit planes (writeBenchImages, by the bench's own process) and read here
  * by a process that has run nothing of the optics before, so the first reading pays what a `retarda` command pays:
  * the kernel's compile, the look-up tables, fresh output arrays. (Its modules are loaded before the first reading, as
- * the command's are before it reads its files: nothing of the optics has run.)
+ * the command's are before it reads its files: nothing of the optics has run.) The bench runs timeReadings bundled
+ * into one file, as the command is (tests/bench/benchOptics.ts); directly:
  *
  *   node bin/run-ts.mjs tests/optics/benchFresh.ts DIR plate|pair|series   -> one JSON line of seconds
  */
@@ -105,7 +106,8 @@ export async function timeReadings(dir: string, kind: BenchReading, repeats = 2)
   return { kind, firstS: times[0], againS: times[1] ?? NaN, pixels, cells, firstCpuS: cpu[0], againCpuS: cpu[1] ?? NaN };
 }
 
-if (import.meta.url === `file://${process.argv[1]}`) {
+// Run directly (not when bundled, as the bench runs it).
+if (process.argv[1]?.endsWith('/benchFresh.ts')) {
   const [dir, kind] = process.argv.slice(2);
   if (!dir || !(kind in BENCH_FILES)) throw new Error('usage: benchFresh.ts DIR plate|pair|series');
   console.log(JSON.stringify(await timeReadings(dir, kind as BenchReading)));

@@ -34,7 +34,8 @@ export async function benchPlateRead(width = 4000, height = 3000): Promise<{ pix
   return { pixels: width * height, seconds, cells: r.cellsMatched };
 }
 
-if (import.meta.url === `file://${process.argv[1]}`) {
+// Run directly (not when bundled into another file, whose own name is then argv[1]).
+if (process.argv[1]?.endsWith('/benchPlate.ts')) {
   const r = await benchPlateRead();
   console.log(`plate read ${(r.pixels / 1e6).toFixed(1)} MP: ${r.seconds.toFixed(2)} s (${r.cells} colour cells searched)`);
 }
