@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { rankCounts, uncount, valuesOfCountedRanks, valuesOfRanks } from '../../src/optics/index.ts';
+import { rankCounts, uncount, valuesOfCountedRanks, valuesOfRanks, valuesOfRanksOfCounted } from '../../src/optics/index.ts';
 import { seededRandom } from '../../src/order/random.ts';
 
 /** The reference: the selected values sorted ascending (Float64Array sort is numeric), read at the rank. */
@@ -62,5 +62,26 @@ describe('valuesOfRanks: order statistics by radix selection', () => {
     }
     expect(counts.count).toBe(sortedSelection(values, mask).length);
     check();
+  });
+});
+
+describe('valuesOfRanksOfCounted: order statistics of values given with their counts', () => {
+  it('gives the value a sort of the values, each repeated its count times, puts at each rank (only those picked)', () => {
+    const rand = seededRandom(11);
+    for (let trial = 0; trial < 30; trial++) {
+      const m = 1 + Math.floor(rand() * 3000);
+      // Some values repeated among the entries, counts of 0 (an entry no pixel kept) up to a few hundred, both signs.
+      const values = Float32Array.from({ length: m }, () => (rand() < 0.3 ? Math.round(rand() * 5) : (rand() - 0.3) * 800));
+      const counts = Int32Array.from({ length: m }, () => (rand() < 0.1 ? 0 : Math.floor(rand() * 300)));
+      const conf = Float32Array.from({ length: m }, () => rand());
+      for (const picked of [() => true, (j: number) => conf[j] >= 0.5]) {
+        const ref: number[] = [];
+        for (let j = 0; j < m; j++) if (picked(j)) for (let c = 0; c < counts[j]; c++) ref.push(values[j]);
+        if (ref.length === 0) continue;
+        const sorted = Float64Array.from(ref).sort();
+        const ranks = [0, Math.floor(0.1 * (ref.length - 1)), ref.length >> 1, Math.floor(0.9 * (ref.length - 1)), ref.length - 1];
+        expect(valuesOfRanksOfCounted(values, counts, ranks, picked)).toEqual(ranks.map((r) => sorted[r]));
+      }
+    }
   });
 });
