@@ -325,7 +325,7 @@ export function fourAngleAnalysis(images: Image[], options: FourAngleOptions = {
   let lowAmp = 0;
   // The pixels masked here leave the confidence-weighted sums of cos 4 theta and sin 4 theta the fit made.
   const sums = Float64Array.of(out.sumCos4, out.sumSin4), limit = floor * ampRef;
-  for (let i0 = 0; i0 < n; i0 += SERIES_BLOCK_PX) lowAmp += maskLowAmplitude(mask, amplitude, confidence, angleRad, limit, sums, ampCounts, i0, Math.min(n, i0 + SERIES_BLOCK_PX));
+  lowAmp += maskLowAmplitude(mask, amplitude, confidence, angleRad, limit, sums, ampCounts);
   const amplitudeMedian = ampCounts.count ? valuesOfCountedRanks(ampCounts, [ampCounts.count >> 1])[0] : null;
   const warnings: string[] = [];
   if (flatBad) warnings.push(`${flatBad} pixels with a dark flat field were masked`);
@@ -395,18 +395,28 @@ export function recycleAngleSeries(r: { field: OrientationField; amplitude?: Flo
 }
 
 /**
- * Masks the usable pixels in [i0, i1) whose amplitude is at most `limit`, takes them out of the amplitudes' rank
- * counts and takes their confidence x cos 4 theta and x sin 4 theta from sums[0] and sums[1], in pixel order; returns
- * how many it masked. A run of pixels per call: a short loop the engine optimises whole.
+ * Masks the usable pixels whose amplitude is at most `limit`, takes them out of the amplitudes' rank counts and takes
+ * their confidence x cos 4 theta and x sin 4 theta from sums[0] and sums[1], in pixel order; returns how many it masked.
+ * The optics kernel (lowAmplitude) lists a block's such pixels (the block's mask and amplitudes copied into its memory).
  */
-function maskLowAmplitude(mask: Uint8Array, amplitude: Float32Array, confidence: Float32Array, angleRad: Float32Array, limit: number, sums: Float64Array, counts: RankCounts, i0: number, i1: number): number {
+function maskLowAmplitude(mask: Uint8Array, amplitude: Float32Array, confidence: Float32Array, angleRad: Float32Array, limit: number, sums: Float64Array, counts: RankCounts): number {
+  const k = opticsKernel(), mem = new OpticsLayout(k), n = mask.length, B = Math.min(Math.max(n, 1), SERIES_BLOCK_PX);
+  const at = { mask: mem.reserve(B), amplitude: mem.reserve(4 * B), listed: mem.reserve(4 * B) };
+  mem.commit();
+  const maskView = mem.u8(at.mask, B), amplitudeView = mem.f32(at.amplitude, B), listed = mem.i32(at.listed, B);
   let masked = 0;
-  for (let i = i0; i < i1; i++) {
-    if (!mask[i] || !(amplitude[i] <= limit)) continue;
-    mask[i] = 0; masked++;
-    uncount(counts, i);
-    const w = confidence[i];
-    if (w !== 0) { sums[0] -= w * Math.cos(4 * angleRad[i]); sums[1] -= w * Math.sin(4 * angleRad[i]); }
+  for (let i0 = 0; i0 < n; i0 += B) {
+    const len = Math.min(B, n - i0);
+    maskView.set(mask.subarray(i0, i0 + len)); amplitudeView.set(amplitude.subarray(i0, i0 + len));
+    const m = k.lowAmplitude(at.mask, at.amplitude, len, limit, at.listed);
+    masked += m;
+    for (let q = 0; q < m; q++) {
+      const i = i0 + listed[q];
+      mask[i] = 0;
+      uncount(counts, i);
+      const w = confidence[i];
+      if (w !== 0) { sums[0] -= w * Math.cos(4 * angleRad[i]); sums[1] -= w * Math.sin(4 * angleRad[i]); }
+    }
   }
   return masked;
 }

@@ -893,3 +893,24 @@ export function fft2(re: usize, im: usize, n: i32, twr: usize, twi: usize, rev: 
   }
   for (let len = 2; len <= n; len <<= 1) butterflies(re, im, n, len, twr, twi, true);
 }
+
+/**
+ * The angle series' low-amplitude pixels (src/optics/fourAngle.ts, maskLowAmplitude) among n: the offsets t, in order,
+ * of the pixels with mask[t] != 0 and amplitude[t] (float32, compared as float64) <= limit, into out (int32s); returns
+ * how many. Four pixels at a time; a NaN amplitude is never at or below the limit.
+ */
+export function lowAmplitude(mask: usize, amplitude: usize, n: i32, limit: f64, out: usize): i32 {
+  const L = f64x2.splat(limit);
+  let count = 0;
+  for (let t = 0; t < n; t += 4) {
+    const v = v128.load(amplitude + (<usize>t << 2));
+    const lo = f64x2.le(f64x2.promote_low_f32x4(v), L), hi = f64x2.le(f64x2.promote_low_f32x4(i32x4.shuffle(v, v, 2, 3, 0, 1)), L);
+    const low = i32x4.shuffle(lo, hi, 0, 2, 4, 6);
+    if (!v128.any_true(v128.and(low, validLanes(t, n)))) continue;
+    for (let j = 0; j < 4 && t + j < n; j++) {
+      const at = t + j;
+      if (load<u8>(mask + <usize>at) != 0 && <f64>load<f32>(amplitude + (<usize>at << 2)) <= limit) { store<i32>(out + (<usize>count << 2), at); count++; }
+    }
+  }
+  return count;
+}

@@ -20,6 +20,7 @@ export interface OpticsKernelExports {
   rankLow(bits: number, mask: number, minOf: number, min: number, n: number, slot: number, low: number, any: number, w0: number, w1: number, w2: number, w3: number): void;
   foldMod90(angle: number, cos2: number, sin2: number, only: number, n: number, c: number, slow: number): number;
   fft2(re: number, im: number, n: number, twr: number, twi: number, rev: number): void;
+  lowAmplitude(mask: number, amplitude: number, n: number, limit: number, out: number): number;
   cellRows(C: number, es: number, nR: number, nRows: number, stride: number, coarse: number, nCp: number, boxes: number, nBoxes: number, nBp: number, boxEntries: number,
     labs: number, nCells: number, guesses: number, bounds: number, dists: number, rows: number): void;
   pairRead(C: number, D: number, es: number, nA: number, nR: number, stride: number, nRows: number, angles: number, rets: number, aStep: number, rStep: number,

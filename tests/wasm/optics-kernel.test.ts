@@ -382,6 +382,22 @@ describe('the optics kernel: the 2-D FFT of the registration check (fft2)', () =
   });
 });
 
+describe('the optics kernel: the angle series\' low-amplitude pixels (lowAmplitude)', () => {
+  it('lists, in order, the pixels kept by the mask whose amplitude is at or below the limit, and no lane past n', () => {
+    const k = opticsKernel(), mem = new OpticsLayout(k), n = 11;
+    const mask = mem.reserve(16), amplitude = mem.reserve(64), out = mem.reserve(64);
+    mem.commit();
+    // The limit 0.1 is not a float32: fround(0.1) lies just above it, so that amplitude is not at or below it; the
+    // float32 just below 0.1 is. NaN never is. Pixel 3 is below the limit but masked out; past n (11) all are low.
+    const below = Math.fround(0.1) - 2 ** -27, limit = 0.1;
+    expect(below <= limit && Math.fround(below) === below && Math.fround(0.1) > limit).toBe(true);
+    mem.f32(amplitude, 16).set([0.05, 0.2, Math.fround(0.1), 0.01, below, NaN, 0, 0.3, -1, 0.5, 0.1, 0, 0, 0, 0, 0]);
+    mem.u8(mask, 16).set([1, 1, 1, 0, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1]);
+    const m = k.lowAmplitude(mask, amplitude, n, limit, out);
+    expect(Array.from(mem.i32(out, m))).toEqual([0, 4, 6, 8]);
+  });
+});
+
 describe('the committed optics kernel binary', () => {
   it('is what the AssemblyScript source compiles to (run npm run wasm after editing it)', async () => {
     const build = await import('../../bin/build-wasm.ts');
