@@ -298,14 +298,14 @@ export function calibrationJson(c: PlateCalibration | null) {
  * choice reports, of theta and its mirror about the compensator axis, the one nearer `axisDeg`
  * (default: compensator axis - 45 deg). With `sampleRetardanceNm` the lookup holds only that retardance band.
  */
-export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetardanceOptions & { match?: MatchSpace; axisDeg?: number }): PlateReading {
+export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetardanceOptions & { match?: MatchSpace; axisDeg?: number; countReadings?: boolean }): PlateReading {
   const match = o.match ?? 'lab';
   if (match !== 'lab' && match !== 'chroma') throw new InputError(`the colour match must be lab or chroma, got "${match}"`);
   checkReadingSize('plate', img);
   return readPlate(img, {
     train: trainOf(o), ...retardanceRange(o), match, birefringenceSign: signOf(o.sign),
     background: o.sampleFree, calibration: calibrationOf(o), referenceAxisDeg: o.axisDeg, camera: cameraOf(o.whiteRgb),
-    ...knownRetardance(o),
+    ...knownRetardance(o), countReadings: o.countReadings,
   });
 }
 
@@ -315,7 +315,8 @@ export function readPlateField(img: Image, o: PlateReadingOptions & KnownRetarda
  * added to the warnings and `reading.mirrorChoiceMatteredFraction` says for how many pixels the choice mattered.
  */
 export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<OpticsAnalysis> {
-  const reading = readPlateField(img, o);
+  // Each reading's usable pixels counted: the summary's confidence and retardance statistics come from them.
+  const reading = readPlateField(img, { ...o, countReadings: true });
   let field = reading.field;
   let resolvedFraction: number | null = null;
   if (o.resolveMirror) {
@@ -332,7 +333,7 @@ export async function analysePlate(img: Image, o: PlateOptions = {}): Promise<Op
     calibration: calibrationJson(reading.calibration), mirrorAssumption: field.options.mirrorAssumption,
     mirrorChoiceMatteredFraction: mirror?.mattersFraction ?? null, mirrorResolvedFraction: resolvedFraction, advice: advice.text,
     colourCellsSearched: reading.cellsMatched,
-  }, reading.counts);
+  }, reading.counts ?? undefined);
   // The axis the numbers refer to: the one given, or the channel's. (The measured director is no guide: it is
   // itself folded by the mirror choice.)
   const axis = o.axisDeg ?? result.profile?.axisDeg ?? null;

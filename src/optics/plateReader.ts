@@ -60,6 +60,8 @@ export interface PlateReadOptions extends SearchOptions {
    * than the sample's real spread. Measured: a 10 % band reads S_axis against the axis about 0.03 low for uniform 45 +- 30 deg.
    */
   sampleRetardanceToleranceNm?: number;
+  /** Count the usable pixels of each reading (PlateReading.counts), for the field's statistics (analysePlate's summary). */
+  countReadings?: boolean;
 }
 
 /** The retardance band of a constrained reading, nm, or null without one. */
@@ -81,8 +83,8 @@ export interface PlateReading {
   lookup: PlateLookup;
   /** Distinct colour cells matched (each one lookup search). */
   cellsMatched: number;
-  /** The field's usable pixels by their readings, for its statistics without another pass over the pixels. */
-  counts: ReadingCounts;
+  /** With countReadings, the field's usable pixels by their readings, for its statistics without another pass over the pixels; else null. */
+  counts: ReadingCounts | null;
 }
 
 /**
@@ -235,7 +237,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     }
     const [satBefore, invBefore] = counts;
     counts.set(mem.i32(countsAt, 2));
-    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt, sumAt), unusable = counts[0] - satBefore + counts[1] - invBefore;
+    const masked = k.plateWrite(subsAt, len, indexAt, readingsAt, outAt[0], outAt[1], outAt[2], outAt[3], outAt[4], maskAt, options.countReadings ? sumAt : 0), unusable = counts[0] - satBefore + counts[1] - invBefore;
     belowFloor += masked;
     [angleRad, retardanceNm, confidence, cos2, sin2].forEach((a, j) => a.set(mem.f32(outAt[j], len), i0));
     // Mask and clipped flags only where the block has some (the arrays' untouched pages take no memory).
@@ -243,16 +245,7 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
     if (counts[0] > satBefore) clipped.set(mem.u8(clipAt, len), i0);
   }
   const [saturated, invalid] = counts;
-  // The usable pixels by their sub-cells' readings (ReadingCounts).
-  const readings = mem.f32(readingsAt, READING_FLOATS * nRead), counted = mem.i32(readingsAt, READING_FLOATS * nRead);
-  let m = 0;
-  for (let j = 0; j < nRead; j++) if (counted[READING_FLOATS * j + 6] > 0) m++;
-  const pixelCounts: ReadingCounts = { confidence: new Float32Array(m), retardanceNm: new Float32Array(m), pixels: new Int32Array(m), confidenceSum: mem.f64(sumAt, 1)[0] };
-  for (let j = 0, q = 0; j < nRead; j++) {
-    const o = READING_FLOATS * j;
-    if (counted[o + 6] === 0) continue;
-    pixelCounts.retardanceNm[q] = readings[o + 1]; pixelCounts.confidence[q] = readings[o + 2]; pixelCounts.pixels[q++] = counted[o + 6];
-  }
+  const pixelCounts = options.countReadings ? readingCounts(mem.f32(readingsAt, READING_FLOATS * nRead), mem.f64(sumAt, 1)[0]) : null;
   if (belowFloor > 0) {
     const why = band ? 'matching the sample-free colour as well as any colour of the given retardance (no sample, or slow axis along a polariser)' : `read below ${floorNm} nm (no measurable sample)`;
     warnings.push(`${belowFloor} pixels ${why} were masked (${((100 * belowFloor) / n).toFixed(1)} %)`);
@@ -277,3 +270,16 @@ export function readPlate(img: Image, options: PlateReadOptions = {}): PlateRead
   return { field, calibration, lookup, cellsMatched: matched, counts: pixelCounts };
 }
 
+/** The usable pixels by their sub-cells' readings (ReadingCounts) from the readings as plateWrite counted them. */
+function readingCounts(readings: Float32Array, confidenceSum: number): ReadingCounts {
+  const counted = new Int32Array(readings.buffer, readings.byteOffset, readings.length), nRead = readings.length / READING_FLOATS;
+  let m = 0;
+  for (let j = 0; j < nRead; j++) if (counted[READING_FLOATS * j + 6] > 0) m++;
+  const c: ReadingCounts = { confidence: new Float32Array(m), retardanceNm: new Float32Array(m), pixels: new Int32Array(m), confidenceSum };
+  for (let j = 0, q = 0; j < nRead; j++) {
+    const o = READING_FLOATS * j;
+    if (counted[o + 6] === 0) continue;
+    c.retardanceNm[q] = readings[o + 1]; c.confidence[q] = readings[o + 2]; c.pixels[q++] = counted[o + 6];
+  }
+  return c;
+}

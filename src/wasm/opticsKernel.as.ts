@@ -285,11 +285,12 @@ export function plateCells(r: usize, g: usize, b: usize, n: i32, bits: i32, full
  * The plate reading's second pass: each usable pixel's reading from its sub-cell's entry k = index[sub] in readings
  * (7 float32s: angle, retardance, confidence, 1 when masked, cos 2 theta, sin 2 theta, then an int32 count) into angle,
  * retardance, confidence, cos2, sin2, and mask 1 unless the entry is masked; pixels not usable get 0 everywhere but cos2
- * (1: the doubled angle of angle 0). Returns how many usable pixels were masked. The pixels left with mask 1 are
- * counted in their entry's count and their confidence summed in pixel order in float64 at `sum` (added to).
+ * (1: the doubled angle of angle 0). Returns how many usable pixels were masked. With sum != 0 the pixels left with
+ * mask 1 are counted in their entry's count (a run of pixels of one entry added at once) and their confidence summed
+ * in pixel order in float64 at `sum` (added to).
  */
 export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize, sum: usize): i32 {
-  let masked = 0, total = load<f64>(sum);
+  let masked = 0, total = sum ? load<f64>(sum) : 0, runAt: usize = 0, run = 0;
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2, sub = load<i32>(subs + o);
     if (sub < 0) {
@@ -303,9 +304,17 @@ export function plateWrite(subs: usize, n: i32, index: usize, readings: usize, a
     const off = load<f32>(e, 12) == 1;
     masked += <i32>off;
     store<u8>(mask + <usize>t, off ? 0 : 1);
-    if (!off) { store<i32>(e, load<i32>(e, 24) + 1, 24); total += <f64>load<f32>(e, 8); }
+    if (sum && !off) {
+      if (e != runAt) {
+        if (run) store<i32>(runAt, load<i32>(runAt, 24) + run, 24);
+        runAt = e; run = 0;
+      }
+      run++;
+      total += <f64>load<f32>(e, 8);
+    }
   }
-  store<f64>(sum, total);
+  if (run) store<i32>(runAt, load<i32>(runAt, 24) + run, 24);
+  if (sum) store<f64>(sum, total);
   return masked;
 }
 
@@ -457,11 +466,12 @@ export function pairRehash(from: usize, fromShift: i32, to: usize, toShift: i32)
  * The plate pair's second pass: each usable pixel's reading from its table entry (offset in hits) into angle,
  * retardance, confidence, cos2 and sin2, mask 1 unless the entry is masked; pixels not usable get 0 (cos2 0 too, as the
  * reading's arrays start). Returns how many usable pixels were masked (below the retardance floor). The pixels left
- * with mask 1 are counted in their entry (the entry's last int32 is masked + 2 x that count) and their confidence
- * summed in pixel order in float64 at `sum` (added to): the statistics of the field's usable pixels come from these.
+ * with mask 1 are counted in their entry (the entry's last int32 is masked + 2 x that count; a run of pixels of one
+ * entry added at once) and their confidence summed in pixel order in float64 at `sum` (added to): the statistics of
+ * the field's usable pixels come from these.
  */
 export function pairWrite(hits: usize, n: i32, table: usize, angle: usize, retardance: usize, confidence: usize, cos2: usize, sin2: usize, mask: usize, sum: usize): i32 {
-  let masked = 0, total = load<f64>(sum);
+  let masked = 0, total = load<f64>(sum), runAt: usize = 0, run = 0;
   for (let t = 0; t < n; t++) {
     const o = <usize>t << 2, hit = load<i32>(hits + o);
     if (hit < 0) {
@@ -475,8 +485,17 @@ export function pairWrite(hits: usize, n: i32, table: usize, angle: usize, retar
     const flags = load<i32>(e, 28), off = (flags & 1) == 1;
     masked += <i32>off;
     store<u8>(mask + <usize>t, off ? 0 : 1);
-    if (!off) { store<i32>(e, flags + 2, 28); total += <f64>load<f32>(e, 16); }
+    if (!off) {
+      // A run of pixels of one entry is counted at once.
+      if (e != runAt) {
+        if (run) store<i32>(runAt, load<i32>(runAt, 28) + 2 * run, 28);
+        runAt = e; run = 0;
+      }
+      run++;
+      total += <f64>load<f32>(e, 16);
+    }
   }
+  if (run) store<i32>(runAt, load<i32>(runAt, 28) + 2 * run, 28);
   store<f64>(sum, total);
   return masked;
 }

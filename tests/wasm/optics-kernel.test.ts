@@ -160,6 +160,10 @@ describe('the optics kernel: the plate reading\'s colour cells', () => {
     // summed in float64 onto what the sum held: 2 + 0.8 + 0.8 with 0.8 as float32.
     expect([mem.i32(readings, 14)[6], mem.i32(readings, 14)[13]]).toEqual([2, 0]);
     expect(mem.f64(sum, 1)[0]).toBe(2 + Math.fround(0.8) + Math.fround(0.8));
+    // Without a sum (0) nothing is counted: the same outputs, the counts as they were.
+    expect(k.plateWrite(subs, n, index, readings, out[0], out[1], out[2], out[3], out[4], mask, 0)).toBe(1);
+    expect([mem.i32(readings, 14)[6], mem.i32(readings, 14)[13]]).toEqual([2, 0]);
+    expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 0, 0, 0]);
     expect(Array.from(mem.f32(out[0], n))).toEqual([0.5, 0.5, -0.25, 0, 0, 0]);
     expect(Array.from(mem.f32(out[1], n))).toEqual([300, 300, 10, 0, 0, 0]);
     expect(Array.from(mem.u8(mask, n))).toEqual([1, 1, 0, 0, 0, 0]);
