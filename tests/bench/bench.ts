@@ -19,7 +19,7 @@ import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
-import { orientationField } from '../../src/orientation/index.ts';
+import { orientationField, recycleTextureField } from '../../src/orientation/index.ts';
 import { channelProfile, parseWalls } from '../../src/channel/index.ts';
 import { encodePng } from '../../src/report/png.ts';
 import { benchOptics } from './benchOptics.ts';
@@ -136,12 +136,15 @@ function orientPerImage(dir: string, native: boolean): void {
       const repeats = [REPEATS, w * h > 5e6 ? 8 : REPEATS];
       const runs: Run[] = [(files) => timedRun(process.execPath, [CLI, 'orient', ...extra, ...files])];
       if (native) runs.push((files) => timedRun(PY, [NATIVE_ORIENT, ...extra, ...files], NATIVE_ENV));
-      const [ours, nat] = perImage(runs, file, n, repeats);
+      // Python's first touch of new memory can make its one-file run slower than its N-file run: measured again then.
+      let [ours, nat] = perImage(runs, file, n, repeats);
+      for (let again = 0; again < 2 && nat && !(nat.perImageS > 0); again++) [ours, nat] = perImage(runs, file, n, repeats);
       const label = `${w}x${h} ${derivative === 'sobel' ? '--derivative sobel' : derivative === 'rgb' ? 'RGB PNG' : '(default)'}`;
       let line = `  ${label.padEnd(30)} retarda ${fmt(ours.perImageS).padStart(8)}/image (1 file: ${fmt(ours.oneS)})`;
       if (nat) {
         if (!(nat.perImageS > 0) || !(ours.perImageS > 0)) {
           console.log(`${line}   native ${fmt(nat.perImageS)}/image: too noisy to compare (other work on the machine); run the bench again`);
+          rows.push({ what: `orient per image ${label}`, value: 'not compared: native times too noisy', goal: `<= ${GOALS.perImageRatio}x`, met: false });
           continue;
         }
         const ratio = ours.perImageS / nat.perImageS;
@@ -230,6 +233,8 @@ async function jsPipeline(width: number, height: number, data: Float32Array) {
     const t1 = performance.now();
     channelProfile(field, walls, { bins: 20 });
     const t2 = performance.now();
+    // Its arrays handed back for the next run, as the command line and the app's worker hand theirs back.
+    recycleTextureField(field);
     bestT = Math.min(bestT, (t1 - t0) / 1000);
     bestP = Math.min(bestP, (t2 - t1) / 1000);
   }
