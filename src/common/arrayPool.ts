@@ -6,7 +6,8 @@
  * array; only the one who gives arrays back must be sure nothing else still reads them.
  */
 
-type Kind = Float32ArrayConstructor | Uint8ArrayConstructor;
+type Kind = Float32ArrayConstructor | Uint8ArrayConstructor | Int32ArrayConstructor;
+type Pooled = Float32Array | Uint8Array | Int32Array;
 
 /** Bytes the pool keeps at most; arrays given back beyond this are left to the garbage collector. */
 const MAX_POOL_BYTES = 600_000_000;
@@ -16,10 +17,10 @@ const MAX_POOL_BYTES = 600_000_000;
  */
 const MIN_POOLED_BYTES = 1 << 17;
 
-const pool: (Float32Array | Uint8Array)[] = [];
+const pool: Pooled[] = [];
 let pooledBytes = 0;
 
-function take<T extends Float32Array | Uint8Array>(kind: Kind, length: number, zeroed: boolean): T {
+function take<T extends Pooled>(kind: Kind, length: number, zeroed: boolean): T {
   const k = pool.findIndex((a) => a.constructor === kind && a.length === length);
   if (k < 0) return new kind(length) as T;
   const [a] = pool.splice(k, 1);
@@ -37,13 +38,16 @@ export const takeFloat32 = (length: number, zeroed = true): Float32Array => take
 /** A Uint8Array of `length` bytes, as takeFloat32. */
 export const takeUint8 = (length: number, zeroed = true): Uint8Array => take<Uint8Array>(Uint8Array, length, zeroed);
 
+/** An Int32Array of `length` integers, as takeFloat32. */
+export const takeInt32 = (length: number, zeroed = true): Int32Array => take<Int32Array>(Int32Array, length, zeroed);
+
 /**
  * Gives arrays back for reuse. The caller promises that nothing reads or writes them any more. Views of part
  * of a buffer, arrays of other kinds and small arrays are ignored.
  */
 export function giveBack(...arrays: (ArrayBufferView | null | undefined)[]): void {
   for (const a of arrays) {
-    if (!(a instanceof Float32Array || a instanceof Uint8Array) || a.byteLength < MIN_POOLED_BYTES) continue;
+    if (!(a instanceof Float32Array || a instanceof Uint8Array || a instanceof Int32Array) || a.byteLength < MIN_POOLED_BYTES) continue;
     if (a.byteOffset !== 0 || a.byteLength !== a.buffer.byteLength || !(a.buffer instanceof ArrayBuffer)) continue;
     if (pool.includes(a) || pooledBytes + a.byteLength > MAX_POOL_BYTES) continue;
     pool.push(a);

@@ -10,4 +10,4 @@ export { parseRect, rectText, checkRectInside, rectMask } from './rect.ts';
 export { bilinear, clampedBilinear, median, valueOfRank } from './sampling.ts';
 export { combineUncertainties, coverageFactor, type UncertaintyComponent } from './gum.ts';
 export { erf, erfc, normalCdf, normalCdfFast, normalQuantile, studentTCdf, studentTQuantile, studentTwoSided } from './distributions.ts';
-export { takeFloat32, takeUint8, giveBack } from './arrayPool.ts';
+export { takeFloat32, takeInt32, takeUint8, giveBack } from './arrayPool.ts';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { giveBack, takeFloat32, takeUint8 } from '../../src/common/index.ts';
+import { giveBack, takeFloat32, takeInt32, takeUint8 } from '../../src/common/index.ts';
 
 /**
  * The array pool (src/common/arrayPool.ts) hands an array given back to the next taker of the same kind and
@@ -26,6 +26,10 @@ describe('array pool', () => {
     expect(takeFloat32(100_000)).not.toBe(a);
     expect(takeUint8(400_001)).not.toBe(a);
     expect(takeUint8(400_000)).toBe(a);
+    const b = takeInt32(100_000);
+    giveBack(b);
+    expect(takeFloat32(100_000)).not.toBe(b);
+    expect(takeInt32(100_000)).toBe(b);
   });
 
   it('never pools views of part of a buffer, nor small arrays', () => {
