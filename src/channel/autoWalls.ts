@@ -542,7 +542,12 @@ function stripProfiles(
   const values = Array.from({ length: F }, () => new Float64Array(n).fill(NaN));
   const along = Math.max(2, Math.round(len));
   const sums = new Float64Array(features.length), out = new Float64Array(F);
-  for (let j = 0; j < n; j++) {
+  // Rows whose distance t from the midline lies beyond every corner of the image hold no sample inside it
+  // (they stay NaN): only the rows between the corners' distances are walked.
+  const { width, height } = features[0];
+  const tc = [[0, 0], [width - 1, 0], [0, height - 1], [width - 1, height - 1]].map(([x, y]) => (x - fr.ox) * fr.nx + (y - fr.oy) * fr.ny);
+  const jFrom = Math.max(0, Math.floor(Math.min(...tc)) + R), jTo = Math.min(n - 1, Math.ceil(Math.max(...tc)) + R);
+  for (let j = jFrom; j <= jTo; j++) {
     const t = j - R;
     sums.fill(0);
     let inside = 0;
@@ -937,11 +942,16 @@ function blockAverage(p: Plane, k: number): Plane {
   if (k <= 1) return { width: p.width, height: p.height, data: Float32Array.from(p.data) };
   const w = Math.ceil(p.width / k), h = Math.ceil(p.height / k);
   const sum = new Float64Array(w * h), cnt = new Uint32Array(w * h);
+  // Each column's block worked out once, and a plain loop for the means: a division per pixel and a mapped copy
+  // took three times as long.
+  const block = Int32Array.from({ length: p.width }, (_, x) => (x / k) | 0);
   for (let y = 0; y < p.height; y++) {
-    const row = ((y / k) | 0) * w;
-    for (let x = 0; x < p.width; x++) { const j = row + ((x / k) | 0); sum[j] += p.data[y * p.width + x]; cnt[j]++; }
+    const row = ((y / k) | 0) * w, at = y * p.width;
+    for (let x = 0; x < p.width; x++) { const j = row + block[x]; sum[j] += p.data[at + x]; cnt[j]++; }
   }
-  return { width: w, height: h, data: Float32Array.from(sum, (v, j) => v / cnt[j]) };
+  const data = new Float32Array(w * h);
+  for (let j = 0; j < data.length; j++) data[j] = sum[j] / cnt[j];
+  return { width: w, height: h, data };
 }
 
 /** Separable Gaussian blur, edges reflected. */
