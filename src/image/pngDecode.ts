@@ -201,18 +201,32 @@ function unfilter(type: number, row: Uint8Array, prev: Uint8Array, bpp: number):
   }
 }
 
-/** The non-empty passes of an image in stream order (first column and row, steps, size, row bytes) and its filtered bytes. */
-function passPlan(header: PngHeader) {
+/**
+ * What a header implies: whether the image is in colour, the planes it is decoded into (a colour image asked for
+ * grey is one plane of luma, toGrey's weights, the same bits) and their bytes, the non-empty passes in stream order
+ * (first column and row, steps, size, row bytes) and the filtered bytes they hold.
+ */
+function pngLayout(header: PngHeader, grey: boolean) {
   const { width, height, bitDepth, colourType } = header;
-  const bitsPerPixel = COLOUR_TYPES[colourType].samples * bitDepth;
+  const samples = COLOUR_TYPES[colourType].samples;
+  const colour = colourType === 3 || samples >= 3;
+  const channels: 1 | 3 = colour && !grey ? 3 : 1;
+  const bitsPerPixel = samples * bitDepth;
   const passes = header.interlaced ? ADAM7 : [[0, 0, 1, 1] as [number, number, number, number]];
   const plan = passes.map(([x0, y0, dx, dy]) => {
     const w = Math.ceil((width - x0) / dx);
     const h = Math.ceil((height - y0) / dy);
     return { x0, y0, dx, dy, w, h, bytes: w > 0 && h > 0 ? rowBytes(w, bitsPerPixel) : 0 };
   }).filter((p) => p.w > 0 && p.h > 0);
-  return { plan, expectedBytes: plan.reduce((n, p) => n + p.h * (p.bytes + 1), 0) };
+  return {
+    colour, channels, planeBytes: width * height * channels * 4, plan,
+    expectedBytes: plan.reduce((n, p) => n + p.h * (p.bytes + 1), 0),
+  };
 }
+
+/** The refusal of a row whose filter type ISO 15948 section 9.2 does not define (`row` 0-based). */
+const badFilter = (name: string, row: number, type: number) =>
+  corrupt(name, FORMAT, `row ${row + 1} names filter type ${type}, which the PNG standard does not define`);
 
 /** The image data (IDAT chunks) as one zlib stream in pieces. */
 function idatSource(bytes: Uint8Array, chunks: PngChunks, name: string): ZlibSource {
@@ -235,10 +249,7 @@ function idatSource(bytes: Uint8Array, chunks: PngChunks, name: string): ZlibSou
  */
 export async function inflatePng(bytes: Uint8Array, name: string, maxBytes?: number, grey = false): Promise<Uint8Array | null> {
   try {
-    const header = readPngHeader(bytes, name);
-    const colour = header.colourType === 3 || COLOUR_TYPES[header.colourType].samples >= 3;
-    const planeBytes = header.width * header.height * (colour && !grey ? 3 : 1) * 4;
-    const { expectedBytes } = passPlan(header);
+    const { planeBytes, expectedBytes } = pngLayout(readPngHeader(bytes, name), grey);
     if (planeBytes + expectedBytes > (maxBytes ?? MAX_DECODE_BYTES)) return null;
     return await inflateByStreams(idatSource(bytes, readChunks(bytes, name), name), expectedBytes);
   } catch {
@@ -264,10 +275,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
   const header = readPngHeader(bytes, name);
   const { width, height, bitDepth, colourType } = header;
   const kind = COLOUR_TYPES[colourType];
-  const colour = colourType === 3 || kind.samples >= 3;
-  // Asked for grey, a colour image is written as one plane of luma (toGrey's weights, the same bits).
-  const channels: 1 | 3 = colour && !grey ? 3 : 1;
-  const planeBytes = width * height * channels * 4;
+  const { colour, channels, planeBytes, plan, expectedBytes } = pngLayout(header, grey);
   checkDecodeBytes(name, FORMAT, sizeWords(width, height), planeBytes, maxBytes);
   const chunks = readChunks(bytes, name);
 
@@ -285,7 +293,6 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
   // stops short is refused), so a reused array need not be cleared first.
   const planes = Array.from({ length: channels }, () => takeFloat32(width * height, false));
   const bpp = Math.max(1, (kind.samples * bitDepth) >> 3);
-  const { plan, expectedBytes } = passPlan(header);
   const writeRow = rowWriter(planes, width, bitDepth, kind.samples, palette, name, colour && grey);
 
   const maxRow = Math.max(...plan.map((p) => p.bytes));
@@ -314,7 +321,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
         const line = cur.subarray(0, pass.bytes);
         const y = pass.y0 + rowInPass * pass.dy;
         if (!unfilter(filter, line, prev.subarray(0, pass.bytes), bpp)) {
-          throw corrupt(name, FORMAT, `row ${y + 1} names filter type ${filter}, which the PNG standard does not define`);
+          throw badFilter(name, y, filter);
         }
         writeRow(line, y, pass.x0, pass.dx, pass.w);
         [cur, prev] = [prev, cur];
@@ -338,7 +345,7 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
         const line = raw.subarray(at + 1, at + 1 + pass.bytes);
         const y = pass.y0 + r * pass.dy;
         if (!unfilter(raw[at], line, above, bpp)) {
-          throw corrupt(name, FORMAT, `row ${y + 1} names filter type ${raw[at]}, which the PNG standard does not define`);
+          throw badFilter(name, y, raw[at]);
         }
         writeRow(line, y, pass.x0, pass.dx, pass.w);
         above = line;
@@ -352,10 +359,12 @@ export function decodePng(bytes: Uint8Array, name: string, maxBytes?: number, gr
     ? new KernelRows(k, planes, width, height, plan[0].bytes, bitDepth, kind.samples, !colour ? 0 : grey ? 1 : 2, name) : null;
   let produced: number;
   try {
-    const onData = byKernel ? (piece: Uint8Array) => byKernel.push(piece) : (whole && platformCodecs()) || inflated ? takeAll : take;
-    if (inflated && whole && inflated.length === expectedBytes) {
-      onData(inflated);
-      produced = inflated.length;
+    // Data inflated already, or inflated at once by the platform, come in one piece: unfiltered where they lie.
+    const given = inflated && whole && inflated.length === expectedBytes ? inflated : null;
+    const onData = byKernel ? (piece: Uint8Array) => byKernel.push(piece) : given || (whole && platformCodecs()) ? takeAll : take;
+    if (given) {
+      onData(given);
+      produced = given.length;
     } else produced = inflateZlib(idat, expectedBytes, onData, whole);
   } catch (e) {
     if (e instanceof ZlibProblem) throw corrupt(name, FORMAT, `in its image data ${e.why}`);
@@ -432,9 +441,7 @@ class KernelRows {
     const [o0, o1 = 0, o2 = 0] = this.outs;
     const bad = k.pngRows(at.raw, at.above, rows, rowBytes, this.bitDepth === 16 ? 1 : 0, this.samples, this.kind, at.table, width, o0, o1, o2);
     const bytes = new Uint8Array(k.memory.buffer);
-    if (bad >= 0) {
-      throw corrupt(this.what, FORMAT, `row ${this.y + bad + 1} names filter type ${bytes[at.raw + bad * line]}, which the PNG standard does not define`);
-    }
+    if (bad >= 0) throw badFilter(this.what, this.y + bad, bytes[at.raw + bad * line]);
     this.planes.forEach((p, c) => p.set(new Float32Array(k.memory.buffer, this.outs[c], rows * width), this.y * width));
     const last = at.raw + (rows - 1) * line + 1;
     bytes.copyWithin(at.above, last, last + rowBytes);
@@ -450,7 +457,7 @@ class KernelRows {
 function rowWriter(planes: Float32Array[], width: number, bitDepth: number, samples: number,
   palette: Uint8Array | undefined, what: string, luma: boolean) {
   const maxCode = 2 ** bitDepth - 1;
-  const scale = unitTable(2 ** bitDepth - 1);
+  const scale = unitTable(maxCode);
   const byte = unitTable(255);
   const colours = palette ? palette.length / 3 : 0;
   const keep = Math.min(samples, 3) === 2 ? 1 : Math.min(samples, 3); // grey + alpha keeps grey
