@@ -8,22 +8,9 @@
 import { describe, expect, it } from 'vitest';
 import { orderParameters, streamedOrderParameters, type OrderOptions } from '../../src/order/index.ts';
 import { orientationField, type OrientationFieldOptions } from '../../src/orientation/index.ts';
-import { correlatedNormalField, grating, addNoise } from '../support/synthetic.ts';
+import { addNoise, grating, swingingStripes as texture } from '../support/synthetic.ts';
 import type { Plane } from '../../src/common/plane.ts';
 import { InputError } from '../../src/common/errors.ts';
-
-/** Stripes whose angle follows a smooth random field (a few degrees to tens of degrees across the image), with noise. */
-function texture(width: number, height: number, seed: number): Plane {
-  const swing = correlatedNormalField(seed, width, height, 12);
-  const data = new Float32Array(width * height);
-  for (let y = 0; y < height; y++) {
-    for (let x = 0; x < width; x++) {
-      const a = 0.4 * swing[y * width + x] + 0.3;
-      data[y * width + x] = 0.5 + 0.3 * Math.sin((2 * Math.PI * (-x * Math.sin(a) + y * Math.cos(a))) / 6);
-    }
-  }
-  return addNoise({ width, height, data }, 0.05, seed + 1);
-}
 
 async function both(plane: Plane, o: OrientationFieldOptions & OrderOptions = {}) {
   const field = await orientationField(plane, o);

@@ -11,21 +11,8 @@
 import { describe, expect, it } from 'vitest';
 import { orderParameters, streamedOrderParameters, sumsStrip, type OrderOptions, type StripHelper } from '../../src/order/index.ts';
 import { orientationField, surveyStrip, tensorHaloPx, type OrientationFieldOptions, type PlaneRows, type StructureTensorOptions } from '../../src/orientation/index.ts';
-import { correlatedNormalField, grating, addNoise } from '../support/synthetic.ts';
+import { addNoise, grating, swingingStripes as texture } from '../support/synthetic.ts';
 import type { Plane } from '../../src/common/plane.ts';
-
-/** Stripes whose angle follows a smooth random field, with noise (as tests/order/streamed-order.test.ts). */
-function texture(width: number, height: number, seed: number): Plane {
-  const swing = correlatedNormalField(seed, width, height, 12);
-  const data = new Float32Array(width * height);
-  for (let y = 0; y < height; y++) {
-    for (let x = 0; x < width; x++) {
-      const a = 0.4 * swing[y * width + x] + 0.3;
-      data[y * width + x] = 0.5 + 0.3 * Math.sin((2 * Math.PI * (-x * Math.sin(a) + y * Math.cos(a))) / 6);
-    }
-  }
-  return addNoise({ width, height, data }, 0.05, seed + 1);
-}
 
 /** Rows y0 - halo to y1 + halo of `plane` copied, readable as rows of the whole image: any other row throws. */
 function stripRows(plane: Plane, y0: number, y1: number, tensor: Required<StructureTensorOptions>): PlaneRows {

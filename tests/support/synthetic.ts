@@ -77,3 +77,16 @@ export function correlatedNormalField(seed: number, width: number, height: numbe
   }
   return out;
 }
+
+/** Stripes of period 6 px whose angle follows a smooth random field (a few to tens of degrees across the image), with noise. */
+export function swingingStripes(width: number, height: number, seed: number): Plane {
+  const swing = correlatedNormalField(seed, width, height, 12);
+  const data = new Float32Array(width * height);
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      const a = 0.4 * swing[y * width + x] + 0.3;
+      data[y * width + x] = 0.5 + 0.3 * Math.sin((2 * Math.PI * (-x * Math.sin(a) + y * Math.cos(a))) / 6);
+    }
+  }
+  return addNoise({ width, height, data }, 0.05, seed + 1);
+}
